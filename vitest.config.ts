@@ -1,0 +1,13 @@
+import { defineConfig } from "vitest/config";
+
+export default defineConfig({
+  test: {
+    include: ["tests/unit/**/*.test.ts", "tests/integration/**/*.test.ts"],
+    setupFiles: ["tests/helpers/setup.ts"],
+    testTimeout: 30_000,
+    hookTimeout: 30_000,
+    pool: "forks",
+    reporters: ["default", "json"],
+    outputFile: { json: "test-results/unit.json" },
+  },
+});
