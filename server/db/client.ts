@@ -1,0 +1,31 @@
+import Database from "better-sqlite3";
+import { drizzle, type BetterSQLite3Database } from "drizzle-orm/better-sqlite3";
+import { migrate } from "drizzle-orm/better-sqlite3/migrator";
+import fs from "node:fs";
+import path from "node:path";
+import { fileURLToPath } from "node:url";
+import * as schema from "./schema/index";
+
+export type Db = BetterSQLite3Database<typeof schema> & { $client: Database.Database };
+
+const migrationsFolder = path.join(path.dirname(fileURLToPath(import.meta.url)), "migrations");
+
+/**
+ * Opens the SQLite file with the pragmas the product relies on: WAL journal, foreign keys,
+ * a busy timeout, and synchronous=FULL (every table here holds someone's work: cases, traces,
+ * annotations, money), then applies the committed migrations.
+ */
+export function openDatabase(url: string, opts: { migrate?: boolean } = {}): Db {
+  const file = url.replace(/^file:/, "");
+  if (file !== ":memory:") fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
+  const sqlite = new Database(file);
+  sqlite.pragma("journal_mode = WAL");
+  sqlite.pragma("foreign_keys = ON");
+  sqlite.pragma("busy_timeout = 5000");
+  sqlite.pragma("synchronous = FULL");
+  const db = drizzle(sqlite, { schema }) as Db;
+  if (opts.migrate !== false) migrate(db, { migrationsFolder });
+  return db;
+}
+
+export { schema };

@@ -1,0 +1,4 @@
+// One schema file per area; each is re-exported here for Drizzle and drizzle-kit.
+export * from "./auth";
+export * from "./shops";
+export * from "./cases";

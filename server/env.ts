@@ -1,0 +1,56 @@
+import { z } from "zod";
+import path from "node:path";
+
+const bool = z
+  .enum(["1", "0", "true", "false", "yes", "no"])
+  .transform((v) => v === "1" || v === "true" || v === "yes");
+
+/**
+ * Configuration from the environment, validated at start. Every value has a default that works
+ * on a fresh machine: a SQLite file under data/, the local SMTP catcher and the local Stripe fake.
+ */
+export const envSchema = z.object({
+  NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
+  PORT: z.coerce.number().int().min(0).max(65535).default(3000),
+  HOST: z.string().default("0.0.0.0"),
+  PUBLIC_URL: z.string().url().optional(),
+  DATABASE_URL: z.string().default("data/burnline.db"),
+  DATA_DIR: z.string().default("data"),
+  AUTH_SECRET: z.string().min(32).default("burnline-local-development-secret-change-me-0001"),
+  DEMO: bool.default(true),
+  LOG_LEVEL: z.enum(["fatal", "error", "warn", "info", "debug", "trace", "silent"]).default("info"),
+  SMTP_HOST: z.string().optional(),
+  SMTP_PORT: z.coerce.number().int().optional(),
+  SMTP_USER: z.string().optional(),
+  SMTP_PASS: z.string().optional(),
+  SMTP_SECURE: bool.default(false),
+  MAIL_FROM: z.string().default("Burnline <desk@burnline.test>"),
+  MAIL_CATCHER_PORT: z.coerce.number().int().min(0).default(3025),
+  STRIPE_SECRET_KEY: z.string().default("sk_test_burnline_local"),
+  STRIPE_WEBHOOK_SECRET: z.string().default("whsec_burnline_local"),
+  STRIPE_API_BASE: z.string().url().optional(),
+  FAKE_STRIPE_PORT: z.coerce.number().int().min(0).default(3012),
+  MAX_TRACE_BYTES: z.coerce.number().int().positive().default(200 * 1024 * 1024),
+  MAX_PHOTO_BYTES: z.coerce.number().int().positive().default(15 * 1024 * 1024),
+});
+
+export type Env = z.infer<typeof envSchema> & { publicUrl: string; dataDir: string; secureCookies: boolean };
+
+export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
+  const parsed = envSchema.safeParse(source);
+  if (!parsed.success) {
+    const lines = parsed.error.issues.map((i) => `  ${i.path.join(".")}: ${i.message}`).join("\n");
+    throw new Error(`Invalid configuration:\n${lines}`);
+  }
+  const e = parsed.data;
+  if (e.NODE_ENV === "production" && e.AUTH_SECRET.startsWith("burnline-local-")) {
+    throw new Error("Invalid configuration:\n  AUTH_SECRET: set a secret of your own in production");
+  }
+  const publicUrl = e.PUBLIC_URL ?? `http://localhost:${e.PORT}`;
+  return {
+    ...e,
+    publicUrl,
+    dataDir: path.resolve(e.DATA_DIR),
+    secureCookies: e.NODE_ENV === "production" && publicUrl.startsWith("https://"),
+  };
+}
