@@ -90,9 +90,13 @@ export const trace = sqliteTable(
     channels: text("channels", { mode: "json" }).$type<{ name: string; unit: string | null; min: number; max: number }[]>().notNull(),
     /** JSON analysis result computed once at upload (shared/analysis) */
     analysis: text("analysis", { mode: "json" }).$type<Record<string, unknown>>(),
+    /** the file name as uploaded (shown and used for the download; never a path on disk) */
+    originalName: text("original_name"),
+    /** JSON notes from the parser that did not stop it, each naming its line */
+    warnings: text("warnings", { mode: "json" }).$type<string[]>(),
     createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull(),
   },
-  (t) => [index("trace_case_idx").on(t.caseId)],
+  (t) => [index("trace_case_idx").on(t.caseId), index("trace_sha_idx").on(t.sha256)],
 );
 
 export const photo = sqliteTable(
@@ -110,5 +114,5 @@ export const photo = sqliteTable(
     path: text("path").notNull(),
     createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull(),
   },
-  (t) => [index("photo_case_idx").on(t.caseId)],
+  (t) => [index("photo_case_idx").on(t.caseId), index("photo_sha_idx").on(t.sha256)],
 );
