@@ -1,0 +1,83 @@
+import { describe, expect, it } from "vitest";
+import { assertCents, formatCents, parseCents, splitCents, sumCents } from "../../../shared/domain/money";
+
+describe("splitCents", () => {
+  it("desk + expert = total for every total and share (no rounding loss)", () => {
+    // Arithmetic: an integer split must conserve the total exactly.
+    const shares = [0, 1, 333, 1500, 2000, 2500, 3333, 5000, 6667, 9999, 10000];
+    for (let total = 0; total <= 2000; total += 7) {
+      for (const bps of shares) {
+        const { deskCents, expertCents } = splitCents(total, bps);
+        expect(deskCents + expertCents).toBe(total);
+        expect(Number.isInteger(deskCents) && Number.isInteger(expertCents)).toBe(true);
+        // desk rounded down: desk ≤ exact share < desk + 1
+        expect(deskCents * 10000).toBeLessThanOrEqual(total * bps);
+        expect((deskCents + 1) * 10000).toBeGreaterThan(total * bps);
+      }
+    }
+  });
+
+  it("examples: the odd cent goes to the expert", () => {
+    // Arithmetic: 20 % of $10.01 is 200.2 cents → desk 200, expert 801; 15 % of $49.00 is exact.
+    expect(splitCents(1001, 2000)).toEqual({ deskCents: 200, expertCents: 801 });
+    expect(splitCents(4900, 1500)).toEqual({ deskCents: 735, expertCents: 4165 });
+    expect(splitCents(1, 5000)).toEqual({ deskCents: 0, expertCents: 1 });
+    expect(splitCents(12345, 0)).toEqual({ deskCents: 0, expertCents: 12345 });
+    expect(splitCents(12345, 10000)).toEqual({ deskCents: 12345, expertCents: 0 });
+  });
+
+  it("stays exact at the largest safe integer", () => {
+    // Arithmetic: (2^53 − 1) · 2500 / 10000 = 2251799813685247.75 → 2251799813685247 (BigInt reference).
+    const total = Number.MAX_SAFE_INTEGER;
+    const { deskCents, expertCents } = splitCents(total, 2500);
+    expect(BigInt(deskCents)).toBe((BigInt(total) * 2500n) / 10000n);
+    expect(BigInt(deskCents) + BigInt(expertCents)).toBe(BigInt(total));
+  });
+
+  it("guards against non-integers and out-of-range shares", () => {
+    expect(() => splitCents(10.5, 2000)).toThrow(TypeError);
+    expect(() => splitCents(Number.NaN, 2000)).toThrow(TypeError);
+    expect(() => splitCents(-1, 2000)).toThrow(RangeError);
+    expect(() => splitCents(1000, 20.5)).toThrow(RangeError);
+    expect(() => splitCents(1000, 10001)).toThrow(RangeError);
+    expect(() => splitCents(1000, -1)).toThrow(RangeError);
+    expect(() => assertCents(2 ** 53)).toThrow(TypeError);
+    expect(() => sumCents([1, 2.5])).toThrow(TypeError);
+    expect(sumCents([100, 250, -50])).toBe(300);
+  });
+});
+
+describe("formatCents", () => {
+  it("matches Intl.NumberFormat's en-US currency format", () => {
+    // Reference: ECMA-402 Intl.NumberFormat (CLDR en-US): "$1,234.56".
+    expect(formatCents(123456)).toBe("$1,234.56");
+    expect(formatCents(123456)).toBe(new Intl.NumberFormat("en-US", { style: "currency", currency: "USD" }).format(1234.56));
+    expect(formatCents(5)).toBe("$0.05");
+    expect(formatCents(-5)).toBe(new Intl.NumberFormat("en-US", { style: "currency", currency: "USD" }).format(-0.05));
+    expect(formatCents(0)).toBe("$0.00");
+  });
+
+  it("is exact for large amounts and respects the currency's minor units", () => {
+    // Reference: Intl.NumberFormat — EUR has 2 minor digits, JPY none (ISO 4217).
+    expect(formatCents(900719925474099)).toBe("$9,007,199,254,740.99");
+    expect(formatCents(1234, "EUR", "en-US")).toBe(new Intl.NumberFormat("en-US", { style: "currency", currency: "EUR" }).format(12.34));
+    expect(formatCents(1234, "JPY", "en-US")).toBe(new Intl.NumberFormat("en-US", { style: "currency", currency: "JPY" }).format(1234));
+  });
+
+  it("refuses non-integers", () => {
+    expect(() => formatCents(12.5)).toThrow(TypeError);
+    expect(() => formatCents(Number.POSITIVE_INFINITY)).toThrow(TypeError);
+  });
+});
+
+describe("parseCents", () => {
+  it("parses typed amounts without floating point", () => {
+    // Arithmetic: "0.29" must be 29 cents exactly (0.29 * 100 in floating point is 28.999999999999996).
+    expect(parseCents("0.29")).toBe(29);
+    expect(parseCents("12")).toBe(1200);
+    expect(parseCents("12.5")).toBe(1250);
+    expect(parseCents("$1,234.56")).toBe(123456);
+    expect(parseCents("-3.10")).toBe(-310);
+    for (const bad of ["", "abc", "1.234", "1e3", "12.", ".5"]) expect(parseCents(bad), bad).toBeNull();
+  });
+});
