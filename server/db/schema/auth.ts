@@ -15,6 +15,8 @@ export const user = sqliteTable(
     shopId: text("shop_id"),
     /** a colour of the user's own for their marks on traces */
     color: text("color"),
+    /** set when an owner removes a technician: the account can no longer sign in; its history stays */
+    deactivatedAt: integer("deactivated_at", { mode: "timestamp_ms" }),
     createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull(),
     updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull(),
   },
