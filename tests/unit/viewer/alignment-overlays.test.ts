@@ -1,0 +1,168 @@
+import { describe, expect, it } from "vitest";
+import { alignmentTime, firstCrossing, midLevel, toDisplayTime, toTraceTime } from "../../../src/features/traces/lib/alignment";
+import {
+  analysisToPlot,
+  annotationShapes,
+  edgeMarker,
+  eventMarkers,
+  hitTestAnnotations,
+  hitTestCursors,
+  jumpWindow,
+  type PlotFrame,
+} from "../../../src/features/traces/lib/overlay-geometry";
+import { TRACE_PALETTE, traceColor, withAlpha } from "../../../src/features/traces/lib/palette";
+import type { Annotation, TraceInfo } from "../../../src/features/traces/types";
+
+const trace = (extra: Partial<TraceInfo> = {}): TraceInfo => ({
+  id: "a",
+  name: "Coil 1",
+  samples: 1000,
+  sampleRateHz: 1e5,
+  durationS: 0.01,
+  channels: [{ name: "A", unit: "V", min: 0, max: 10 }],
+  settings: { voltsPerDiv: 2, timePerDivS: 1e-3 },
+  ...extra,
+});
+
+describe("first crossing in min/max buckets (hand-built data)", () => {
+  const t = [0, 1, 2, 3, 4, 5];
+  it("finds the first rising crossing of 4 V at the bucket that reaches it", () => {
+    expect(firstCrossing(t, [0, 0, 0, 5, 5, 0], [0, 0, 1, 9, 6, 0], 4, "rising")).toBe(3);
+  });
+  it("needs the signal below the level first: starting above, the crossing is after the dip", () => {
+    expect(firstCrossing(t, [5, 5, 0, 0, 5, 5], [6, 6, 1, 1, 9, 9], 4, "rising")).toBe(4);
+  });
+  it("counts a bucket holding both sides of the level (a spike inside one bucket)", () => {
+    expect(firstCrossing(t, [0, 0, 0, 0, 0, 0], [1, 1, 9, 1, 1, 1], 4, "rising")).toBe(2);
+  });
+  it("finds falling crossings and returns null when there is none", () => {
+    expect(firstCrossing(t, [5, 5, 5, 1, 5, 5], [6, 6, 6, 6, 6, 6], 4, "falling")).toBe(3);
+    expect(firstCrossing(t, [0, 0, 0, 0, 0, 0], [1, 1, 1, 1, 1, 1], 4, "rising")).toBeNull();
+  });
+  it("takes the mid level of the data as the fallback level", () => {
+    expect(midLevel({ min: [0, -2, 1], max: [3, 8, 2] })).toBe(3);
+    expect(midLevel({ min: [1], max: [1] })).toBeNull();
+  });
+});
+
+describe("alignment for the overlay", () => {
+  it("uses the first analysis event when there is one", () => {
+    const tr = trace({ analysis: { kind: "secondary-ignition", unit: "kV", events: [{ timeS: 0.0042 }, { timeS: 0.02 }] } });
+    expect(alignmentTime(tr)).toEqual({ time: 0.0042, source: "event" });
+  });
+  it("else the first crossing of the recorded trigger level with its slope in the window data", () => {
+    const tr = trace({ settings: { voltsPerDiv: 2, timePerDivS: 1e-3, triggerLevel: 4, triggerSlope: "rising" } });
+    const data = { t: [0, 0.001, 0.002, 0.003], series: [{ name: "A", min: [0, 0, 0, 0], max: [1, 2, 7, 1] }] };
+    expect(alignmentTime(tr, data)).toEqual({ time: 0.002, source: "crossing" });
+  });
+  it("else the trace's start", () => {
+    expect(alignmentTime(trace({ t0: -0.001 }))).toEqual({ time: -0.001, source: "start" });
+  });
+  it("converts between display time and trace time", () => {
+    expect(toDisplayTime(0.005, 0.002)).toBeCloseTo(0.003, 15);
+    expect(toTraceTime(0.003, 0.002)).toBeCloseTo(0.005, 15);
+  });
+});
+
+describe("event markers", () => {
+  it("takes kV back to pickup volts with the kV-per-volt scale: 12 kV at 10 kV/V is 1.2 V (hand-computed)", () => {
+    const a = { unit: "kV", findings: [] };
+    expect(analysisToPlot(12, a, { kvPerVolt: 10 }, "V")).toBeCloseTo(1.2, 12);
+    expect(analysisToPlot(12, a, { kvPerVolt: 10 }, "mV")).toBeCloseTo(1200, 9);
+    expect(analysisToPlot(1.5, { unit: "V" }, undefined, "V")).toBe(1.5);
+    // inverted capture: magnitudes drawn below the baseline
+    expect(analysisToPlot(1.5, { unit: "V", findings: [{ code: "inverted" }] }, undefined, "V")).toBe(-1.5);
+  });
+
+  it("spans the burn time from the firing line: 1.5 ms from 20 ms ends at 21.5 ms, shifted by the overlay offset", () => {
+    const analysis = { kind: "secondary-ignition", unit: "V", events: [{ timeS: 0.02, peak: 9, burnTimeMs: 1.5, burnLevel: 1.2 }] };
+    const [m] = eventMarkers(analysis, { voltsPerDiv: 2, timePerDivS: 1e-3 }, "V");
+    expect(m.tFire).toBe(0.02);
+    expect(m.tEnd).toBeCloseTo(0.0215, 12);
+    expect(m.peakLevel).toBe(9);
+    expect(m.burnLevel).toBe(1.2);
+    const [s] = eventMarkers(analysis, { voltsPerDiv: 2, timePerDivS: 1e-3 }, "V", 0.02);
+    expect(s.tFire).toBe(0);
+    expect(s.tEnd).toBeCloseTo(0.0015, 12);
+  });
+
+  it("adds the peak to the baseline, on the negative side for an inverted capture", () => {
+    const analysis = { kind: "secondary-ignition", unit: "V", baseline: 0.5, findings: [{ code: "inverted" }], events: [{ timeS: 0, peak: 9 }] };
+    expect(eventMarkers(analysis, undefined, "V")[0].peakLevel).toBe(-8.5);
+    expect(eventMarkers(null, undefined, "V")).toEqual([]);
+  });
+});
+
+describe("annotation geometry and hit tests (pixel maths, hand-computed)", () => {
+  // 0…10 s over 500 px from x = 0; −10…+6 V over 320 px from y = 0 (top = +6 V)
+  const f: PlotFrame = { left: 0, top: 0, width: 500, height: 320, x: (t) => t * 50, y: (v) => ((6 - v) / 16) * 320 };
+  const ann = (a: Partial<Annotation> & Pick<Annotation, "id" | "kind" | "t0">): Annotation => ({ traceId: "a", color: "#000", ...a });
+  const list = [
+    ann({ id: "pin", kind: "pin", t0: 2, level: 0 }),
+    ann({ id: "span", kind: "span", t0: 6, t1: 8 }),
+    ann({ id: "lvl", kind: "level", t0: 0, level: -6 }),
+    ann({ id: "note", kind: "note", t0: 9 }),
+  ];
+  const shapes = annotationShapes(list, f);
+
+  it("places pins, spans, levels and notes", () => {
+    expect(shapes[0]).toMatchObject({ x0: 100, y: 120 });
+    expect(shapes[1]).toMatchObject({ x0: 300, x1: 400 });
+    expect(shapes[2]).toMatchObject({ y: 240 });
+    expect(shapes[3].flag).toMatchObject({ x: 450, y: 0 });
+  });
+
+  it("finds the mark under the pointer, lines before span areas", () => {
+    expect(hitTestAnnotations(shapes, 104, 300, f, 8)).toBe("pin");
+    expect(hitTestAnnotations(shapes, 350, 100, f, 8)).toBe("span");
+    expect(hitTestAnnotations(shapes, 350, 243, f, 8)).toBe("lvl");
+    expect(hitTestAnnotations(shapes, 455, 6, f, 8)).toBe("note");
+    expect(hitTestAnnotations(shapes, 200, 60, f, 8)).toBeNull();
+  });
+
+  it("finds the cursor line under the pointer", () => {
+    const c = { ta: 2, tb: 4, va: -2, vb: 2 };
+    expect(hitTestCursors(c, 98, 10, f, 10)).toBe("ta"); // 2 s is at x = 100
+    expect(hitTestCursors(c, 205, 10, f, 10)).toBe("tb"); // 4 s is at x = 200
+    expect(hitTestCursors(c, 330, 162, f, 10)).toBe("va"); // −2 V is at y = 160
+    expect(hitTestCursors(c, 330, 10, f, 10)).toBeNull();
+  });
+
+  it("jumps to a span with a quarter either side, to a point mark centred at the narrower of current and capture span", () => {
+    expect(jumpWindow({ kind: "span", t0: 1, t1: 3 }, 5, 10)).toEqual({ t0: 0.5, t1: 3.5 });
+    expect(jumpWindow({ kind: "pin", t0: 5 }, 2, 10)).toEqual({ t0: 4, t1: 6 });
+    expect(jumpWindow({ kind: "note", t0: 5 }, 40, 10)).toEqual({ t0: 0, t1: 10 });
+  });
+
+  it("says which edge to point at for a level off the screen", () => {
+    expect(edgeMarker(8, -10, 6)).toBe("above");
+    expect(edgeMarker(-12, -10, 6)).toBe("below");
+    expect(edgeMarker(0, -10, 6)).toBe("in");
+  });
+});
+
+describe("trace palette", () => {
+  // WCAG 2.1, definitions of relative luminance and contrast ratio (W3C Recommendation, 2018);
+  // success criterion 1.4.11 asks 3:1 for graphics, 1.4.3 asks 4.5:1 for text — we hold every colour to 4.5:1.
+  const lum = (hex: string) => {
+    const n = parseInt(hex.slice(1), 16);
+    const c = [(n >> 16) & 255, (n >> 8) & 255, n & 255].map((x) => {
+      const s = x / 255;
+      return s <= 0.03928 ? s / 12.92 : ((s + 0.055) / 1.055) ** 2.4;
+    });
+    return 0.2126 * c[0] + 0.7152 * c[1] + 0.0722 * c[2];
+  };
+  const contrast = (a: string, b: string) => {
+    const [x, y] = [lum(a), lum(b)].sort((p, q) => q - p);
+    return (x + 0.05) / (y + 0.05);
+  };
+  it("reads on the white plot area (≥ 4.5:1) and the reference pair checks out (black on white is 21:1)", () => {
+    expect(contrast("#000000", "#ffffff")).toBeCloseTo(21, 6);
+    for (const c of TRACE_PALETTE) expect(contrast(c, "#ffffff")).toBeGreaterThanOrEqual(4.5);
+  });
+  it("cycles and converts hex to rgba", () => {
+    expect(traceColor(TRACE_PALETTE.length)).toBe(TRACE_PALETTE[0]);
+    expect(new Set(TRACE_PALETTE).size).toBe(TRACE_PALETTE.length);
+    expect(withAlpha("#ff8000", 0.5)).toBe("rgba(255, 128, 0, 0.5)");
+  });
+});

@@ -1,0 +1,73 @@
+import { describe, expect, it } from "vitest";
+import { cursorReadout, defaultCursors, perDivText } from "../../../src/features/traces/lib/readout";
+import { formatFrequency, formatInUnit, formatSI, formatTime, parseUnit, probeScale } from "../../../src/features/traces/lib/units";
+
+describe("SI formatting (prefixes from the SI Brochure, 9th edition, BIPM 2019, Table 7)", () => {
+  it("chooses the prefix that puts the mantissa in [1, 1000)", () => {
+    expect(formatTime(0.0015)).toBe("1.5 ms");
+    expect(formatTime(2.5e-6)).toBe("2.5 µs");
+    expect(formatTime(40e-9)).toBe("40 ns");
+    expect(formatTime(2)).toBe("2 s");
+    expect(formatSI(20000, "V")).toBe("20 kV");
+    expect(formatSI(-0.25, "V")).toBe("-250 mV");
+    expect(formatSI(0, "V")).toBe("0 V");
+  });
+
+  it("carries a rounded 1000 into the next prefix", () => {
+    expect(formatSI(999.999, "V")).toBe("1 kV");
+    expect(formatTime(0.9999999)).toBe("1 s");
+  });
+
+  it("reads prefixed channel units: 1500 mV is 1.5 V, 'u' means micro", () => {
+    expect(parseUnit("mV")).toEqual({ base: "V", scale: 1e-3, si: true });
+    expect(parseUnit("uA")).toEqual({ base: "A", scale: 1e-6, si: true });
+    expect(parseUnit(null)).toEqual({ base: "V", scale: 1, si: true });
+    expect(parseUnit("psi")).toEqual({ base: "psi", scale: 1, si: false });
+    expect(formatInUnit(1500, "mV")).toBe("1.5 V");
+    expect(formatInUnit(12.5, "psi")).toBe("12.5 psi");
+  });
+});
+
+describe("cursor readout", () => {
+  it("Δt = 1.5 ms gives 1/Δt = 666.67 Hz (f = 1/T, hand-computed: 1/0.0015 = 666.666…)", () => {
+    const r = cursorReadout({ ta: 0.001, tb: 0.0025, va: 0, vb: 0 }, "V");
+    expect(r.dt).toBeCloseTo(0.0015, 15);
+    expect(r.freqHz).toBeCloseTo(666.6667, 3);
+    expect(r.text.dt).toBe("1.5 ms");
+    expect(r.text.freq).toBe("666.67 Hz");
+  });
+
+  it("gives the frequency of a reversed pair as positive and none for Δt = 0", () => {
+    const r = cursorReadout({ ta: 0.003, tb: 0.001, va: 0, vb: 0 }, "V");
+    expect(r.text.dt).toBe("-2 ms");
+    expect(r.text.freq).toBe("500 Hz");
+    expect(cursorReadout({ ta: 1, tb: 1, va: 0, vb: 0 }, "V").freqHz).toBeNull();
+  });
+
+  it("ΔV in the channel's unit with prefixes: −1.25 V … 2.5 V → 3.75 V; 250 mV … 1250 mV → 1 V", () => {
+    expect(cursorReadout({ ta: 0, tb: 1, va: -1.25, vb: 2.5 }, "V").text.dv).toBe("3.75 V");
+    expect(cursorReadout({ ta: 0, tb: 1, va: 250, vb: 1250 }, "mV").text.dv).toBe("1 V");
+  });
+
+  it("with a capacitive pickup at 10 kV per volt, ΔV = 1.2 V is 12 kV at the plug (scale × value, hand-computed)", () => {
+    const r = cursorReadout({ ta: 0, tb: 1, va: 0.3, vb: 1.5 }, "V", { probe: "capacitive-secondary", kvPerVolt: 10 });
+    expect(r.dScaled).toBeCloseTo(12, 12);
+    expect(r.text.scaled).toBe("12 kV at the plug");
+  });
+
+  it("with a current clamp at 100 mV per amp, 0.5 V is 5 A (0.5 V ÷ 0.1 V/A, hand-computed)", () => {
+    const s = probeScale({ probe: "current-clamp", mvPerAmp: 100 }, "V")!;
+    expect(s.factor * 0.5).toBeCloseTo(5, 12);
+    expect(s.unit).toBe("A");
+    expect(formatFrequency(5e6)).toBe("5 MHz");
+  });
+
+  it("puts default cursors at a third and two thirds of the view, and writes per-division labels", () => {
+    const c = defaultCursors(0, 0.009, -10, 6);
+    expect(c.ta).toBeCloseTo(0.003, 15);
+    expect(c.tb).toBeCloseTo(0.006, 15);
+    expect(c.va).toBeCloseTo(-10 + 16 / 3, 12);
+    expect(perDivText(0.0005, null, "time")).toBe("500 µs/div");
+    expect(perDivText(2, "V", "level")).toBe("2 V/div");
+  });
+});
