@@ -2,3 +2,4 @@
 export * from "./auth";
 export * from "./shops";
 export * from "./cases";
+export * from "./queue";
