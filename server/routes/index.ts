@@ -2,8 +2,14 @@ import type { Express } from "express";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { healthRoutes } from "./health";
+import { caseRoutes } from "./cases";
+import { photoRoutes } from "./photos";
+import { traceRoutes } from "./traces";
 
 /** Every resource's router, mounted under /api. Add one line per resource. */
 export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void {
   app.use("/api", healthRoutes(ctx, auth));
+  app.use("/api", caseRoutes(ctx, auth));
+  app.use("/api", photoRoutes(ctx, auth));
+  app.use("/api", traceRoutes(ctx, auth));
 }

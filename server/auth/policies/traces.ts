@@ -1,0 +1,27 @@
+import type { Actor } from "../session";
+import { assertCanReadCase, assertCaseAction, caseAbilities, type CaseForPolicy } from "./cases";
+
+/** A trace (and a photo) belongs to its case: whoever may see the case may see it. */
+export interface TraceAbilities {
+  read: boolean;
+  delete: boolean;
+  download: boolean;
+}
+
+export function traceAbilities(actor: Actor, c: CaseForPolicy): TraceAbilities {
+  const a = caseAbilities(actor, c);
+  return { read: a.read, delete: a.deleteTrace, download: a.read };
+}
+
+/** 404 for a trace whose case the actor may not see (or a missing one). */
+export function assertCanReadTrace<C extends CaseForPolicy>(actor: Actor, c: C | undefined | null): asserts c is C {
+  assertCanReadCase(actor, c, "Trace");
+}
+
+export function assertCanDeleteTrace<C extends CaseForPolicy>(actor: Actor, c: C | undefined | null): asserts c is C {
+  assertCaseAction(actor, c, "deleteTrace", "Trace");
+}
+
+export function assertCanAddTrace<C extends CaseForPolicy>(actor: Actor, c: C | undefined | null): asserts c is C {
+  assertCaseAction(actor, c, "addTrace");
+}

@@ -1,0 +1,224 @@
+import fs from "node:fs";
+import { asc, eq } from "drizzle-orm";
+import type { AppContext } from "../context";
+import { schema } from "../db/client";
+import type { Actor } from "../auth/session";
+import { assertCanAddTrace } from "../auth/policies/traces";
+import { badRequest, tooLarge } from "../http/errors";
+import { parseTraceFile } from "../traces/parse-file";
+import { openTraceData, writeTraceData, type TraceData } from "../traces/store";
+import { TraceParseError, type ParsedTrace, type TraceWindow } from "../../shared/trace/types";
+import type { CaptureSettings } from "../../shared/schemas/capture-settings";
+import type { TraceWindowQuery } from "../../shared/schemas/traces";
+import type { StoredUpload } from "../uploads/multer";
+import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "./cases";
+import { cleanFileName } from "./photos";
+import { contentInFlight, placeContentAddressed, relativeDataPath, removeStoredFile, resolveDataPath, storageLayout, type PlacedFile } from "./storage";
+
+export type TraceRow = typeof schema.trace.$inferSelect;
+const { trace } = schema;
+
+export function getTraceRow(ctx: AppContext, id: string): TraceRow | undefined {
+  return ctx.db.select().from(trace).where(eq(trace.id, id)).get();
+}
+
+export function listTraces(ctx: AppContext, caseId: string): TraceRow[] {
+  return ctx.db.select().from(trace).where(eq(trace.caseId, caseId)).orderBy(asc(trace.createdAt), asc(trace.id)).all();
+}
+
+/** The JSON of a trace: its metadata (never the samples; those come from the window endpoint). */
+export function presentTrace(t: TraceRow) {
+  return {
+    id: t.id,
+    caseId: t.caseId,
+    name: t.name,
+    originalName: t.originalName,
+    kind: t.kind,
+    samples: t.samples,
+    sampleRateHz: t.sampleRateHz,
+    t0: t.t0,
+    durationS: t.durationS,
+    channels: t.channels,
+    settings: t.settings,
+    analysis: t.analysis ?? null,
+    warnings: t.warnings ?? [],
+    bytes: t.originalBytes,
+    sha256: t.sha256,
+    uploadedBy: t.uploadedBy,
+    createdAt: t.createdAt,
+    windowUrl: `/api/traces/${t.id}/window`,
+    originalUrl: `/api/traces/${t.id}/original`,
+  };
+}
+
+export function originalFilePath(ctx: AppContext, t: TraceRow): string {
+  return resolveDataPath(ctx.env.dataDir, t.originalPath);
+}
+
+export function traceDataFilePath(ctx: AppContext, t: TraceRow): string {
+  return resolveDataPath(ctx.env.dataDir, t.dataPath);
+}
+
+function traceUsesContent(ctx: AppContext, sha256: string): boolean {
+  return ctx.db.select({ id: trace.id }).from(trace).where(eq(trace.sha256, sha256)).limit(1).get() !== undefined;
+}
+
+/** Removes a trace (draft only, checked by the policy): its row, its parsed data, and its original when no other trace uses it. */
+export async function deleteTrace(ctx: AppContext, actor: Actor, t: TraceRow): Promise<void> {
+  const now = ctx.now();
+  ctx.db.transaction((tx) => {
+    tx.delete(trace).where(eq(trace.id, t.id)).run();
+    recordCaseEvent(tx, { caseId: t.caseId, actorId: actor.id, type: "trace_deleted", at: now, data: { traceId: t.id, name: t.name } });
+    touchCase(tx, t.caseId, now);
+  });
+  forgetOpenTrace(traceDataFilePath(ctx, t));
+  await removeStoredFile(traceDataFilePath(ctx, t));
+  const original = originalFilePath(ctx, t);
+  if (contentInFlight(original) === 0 && !traceUsesContent(ctx, t.sha256)) await removeStoredFile(original);
+  announceCaseChange(ctx, t.caseId, now, "trace", t.id);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Upload
+
+/** A parser refusal as an HTTP error: 413 for size, else 400 naming the line and the reason. */
+export function parseRefusal(err: TraceParseError) {
+  if (err.code === "too-large") return tooLarge(`The trace file is too large: ${err.message}.`);
+  return badRequest("trace_unreadable", `The trace file was refused: ${err.message}.`, { reason: err.code, line: err.line });
+}
+
+/**
+ * ANALYSIS CALL SITE (upload): measures the parsed trace once; the result is stored in
+ * trace.analysis. Returns null until shared/analysis provides analyzeTrace; a failure of the
+ * analysis never refuses the upload (the trace is still worth reviewing by eye).
+ */
+function analyzeAtUpload(ctx: AppContext, _parsed: ParsedTrace, _settings: CaptureSettings): Record<string, unknown> | null {
+  try {
+    return null;
+  } catch (err) {
+    ctx.logger.warn({ err }, "trace analysis failed");
+    return null;
+  }
+}
+
+/**
+ * Adds a trace to a case, all or nothing: streamed parse of the temp file (never the whole text
+ * in memory; the parser yields between chunks) → analysis → parsed channels written under
+ * data/traces → original moved to data/originals/<sha[0..2]>/<sha> → row and "trace_added" event
+ * in one transaction (which checks the case again). Any failure removes what this upload created;
+ * the route's finally removes the temp file.
+ */
+export async function addTrace(
+  ctx: AppContext,
+  actor: Actor,
+  caseId: string,
+  upload: StoredUpload,
+  fields: { settings: CaptureSettings; name?: string },
+): Promise<TraceRow> {
+  const layout = storageLayout(ctx.env.dataDir);
+  const id = crypto.randomUUID();
+  const { settings } = fields;
+  let dataFile: string | null = null;
+  let placed: PlacedFile | null = null;
+  let committed = false;
+  try {
+    let parsed: ParsedTrace;
+    try {
+      parsed = await parseTraceFile(upload.path, { sampleRateHz: settings.sampleRateHz, maxBytes: ctx.env.MAX_TRACE_BYTES });
+    } catch (err) {
+      if (err instanceof TraceParseError) throw parseRefusal(err);
+      throw err;
+    }
+    const analysis = analyzeAtUpload(ctx, parsed, settings);
+    await fs.promises.mkdir(layout.tracesDir, { recursive: true });
+    dataFile = (await writeTraceData(layout.tracesDir, id, parsed)).path;
+    placed = await placeContentAddressed(layout, layout.originalsDir, upload.path, upload.sha256);
+    const originalName = cleanFileName(upload.originalname, "trace.csv");
+    const name = fields.name || originalName;
+    const now = ctx.now();
+    const row: TraceRow = {
+      id,
+      caseId,
+      uploadedBy: actor.id,
+      name,
+      kind: settings.kind,
+      settings: settings as Record<string, unknown>,
+      sha256: upload.sha256,
+      originalBytes: upload.size,
+      originalPath: placed.rel,
+      dataPath: relativeDataPath(layout.dataDir, dataFile),
+      samples: parsed.samples,
+      sampleRateHz: parsed.sampleRateHz,
+      t0: parsed.t0,
+      durationS: parsed.durationS,
+      channels: parsed.channels.map((c) => ({ name: c.name, unit: c.unit, min: c.min, max: c.max })),
+      analysis,
+      originalName,
+      warnings: parsed.warnings,
+      createdAt: now,
+    };
+    ctx.db.transaction((tx) => {
+      // The case may have moved on while the file was arriving and being parsed.
+      assertCanAddTrace(actor, getCaseRow(tx, caseId) as CaseRow | undefined);
+      tx.insert(trace).values(row).run();
+      recordCaseEvent(tx, { caseId, actorId: actor.id, type: "trace_added", at: now, data: { traceId: id, name, samples: row.samples } });
+      touchCase(tx, caseId, now);
+    });
+    committed = true;
+    announceCaseChange(ctx, caseId, now, "trace", id);
+    return getTraceRow(ctx, id)!;
+  } finally {
+    if (!committed) {
+      if (dataFile) await removeStoredFile(dataFile);
+      if (placed && contentInFlight(placed.abs) <= 1 && !traceUsesContent(ctx, upload.sha256)) await removeStoredFile(placed.abs);
+    }
+    placed?.release();
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Window
+
+/** Open trace data files, most recently used last (the pyramid is ~1/8 of the values' size). */
+const openCache = new Map<string, Promise<TraceData>>();
+const OPEN_CACHE_SIZE = 32;
+
+function openCached(abs: string): Promise<TraceData> {
+  let p = openCache.get(abs);
+  if (p) {
+    openCache.delete(abs);
+    openCache.set(abs, p);
+    return p;
+  }
+  p = openTraceData(abs);
+  p.catch(() => openCache.delete(abs));
+  openCache.set(abs, p);
+  while (openCache.size > OPEN_CACHE_SIZE) openCache.delete(openCache.keys().next().value!);
+  return p;
+}
+
+/** Drops a cached open handle of a trace's data. */
+export function forgetOpenTrace(abs: string): void {
+  openCache.delete(abs);
+}
+
+/**
+ * Min/max-decimated points over [t0, t1) in `width` buckets (bucket k covers its share of the
+ * window; empty buckets are left out). Defaults to the whole trace: [t0, t0 + durationS).
+ */
+export async function traceWindow(ctx: AppContext, t: TraceRow, q: TraceWindowQuery): Promise<TraceWindow & { t0: number; t1: number; width: number }> {
+  const t0 = q.t0 ?? t.t0;
+  const t1 = q.t1 ?? (q.t0 !== undefined && q.t0 >= t.t0 + t.durationS ? q.t0 + t.durationS : t.t0 + t.durationS);
+  if (!(t1 > t0)) throw badRequest("validation_failed", "Check the query: t1 must be later than t0.", { fields: [{ path: "t1", message: "t1 must be later than t0." }] });
+  const data = await openCached(traceDataFilePath(ctx, t));
+  const w = await data.window(t0, t1, q.width);
+  return { t0, t1, width: q.width, ...w };
+}
+
+/**
+ * The comparison across a case's traces (cylinder to cylinder), from the analyses stored at upload.
+ * ANALYSIS CALL SITE (comparison): wired to shared/analysis compareTraces once it lands.
+ */
+export function caseComparison(_traces: TraceRow[]): unknown | null {
+  return null;
+}
