@@ -9,6 +9,7 @@ import { toNodeHandler } from "better-auth/node";
 import { crossSiteGuard } from "./http/cross-site";
 import { errorHandler, notFoundHandler } from "./http/error-handler";
 import { registerRoutes } from "./routes/index";
+import { clientIpHeader } from "./auth/client-ip";
 
 export interface CreatedApp extends express.Express {
   locals: express.Express["locals"] & { ctx: AppContext; auth: Auth };
@@ -50,6 +51,7 @@ export function createApp(ctx: AppContext, opts: { clientDir?: string } = {}): C
   app.use("/api", crossSiteGuard(allowedOrigins(ctx), (p) => isWebhook("/api" + p)));
 
   // better-auth reads its own body, so it is mounted before the JSON parser.
+  app.use("/api/auth", clientIpHeader);
   app.all("/api/auth/{*splat}", toNodeHandler(auth));
   // Webhooks need the raw body for signature verification.
   app.use("/api/webhooks", express.raw({ type: "*/*", limit: "1mb" }));

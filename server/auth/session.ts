@@ -2,6 +2,7 @@ import type { Request } from "express";
 import { fromNodeHeaders } from "better-auth/node";
 import type { Auth } from "./auth";
 import type { Role } from "../../shared/domain/case-status";
+import { roles } from "../../shared/domain/case-status";
 import { unauthorized, forbidden } from "../http/errors";
 
 /** The signed-in user as every policy sees them. */
@@ -10,24 +11,40 @@ export interface Actor {
   email: string;
   name: string;
   role: Role;
+  /** the tenant of technicians and owners; null for experts and admins */
   shopId: string | null;
 }
 
+const ACTOR = Symbol("actor");
+
+/** Resolves the actor from a session cookie (or any header bag, e.g. a socket handshake's). */
+export async function actorFromHeaders(headers: Request["headers"] | Headers, auth: Auth): Promise<Actor | null> {
+  const s = await auth.api.getSession({ headers: headers instanceof Headers ? headers : fromNodeHeaders(headers) });
+  const u = s?.user as Record<string, unknown> | undefined;
+  if (!u || u.deactivatedAt) return null;
+  const role = (roles as readonly string[]).includes(String(u.role)) ? (u.role as Role) : "technician";
+  return {
+    id: String(u.id),
+    email: String(u.email),
+    name: String(u.name),
+    role,
+    shopId: role === "technician" || role === "owner" ? ((u.shopId as string | null | undefined) ?? null) : null,
+  };
+}
+
+/** The signed-in user of this request, or null. Cached on the request. */
 export async function getActor(req: Request, auth: Auth): Promise<Actor | null> {
-  const cached = (req as any)._actor as Actor | null | undefined;
-  if (cached !== undefined) return cached;
-  const s = await auth.api.getSession({ headers: fromNodeHeaders(req.headers) });
-  const u = s?.user as (typeof s extends null ? never : any) | undefined;
-  const actor: Actor | null = u
-    ? { id: u.id, email: u.email, name: u.name, role: (u.role ?? "technician") as Role, shopId: u.shopId ?? null }
-    : null;
-  (req as any)._actor = actor;
+  const r = req as Request & { [ACTOR]?: Actor | null };
+  if (r[ACTOR] !== undefined) return r[ACTOR];
+  const actor = await actorFromHeaders(req.headers, auth);
+  r[ACTOR] = actor;
   return actor;
 }
 
-export async function requireActor(req: Request, auth: Auth, roles?: readonly Role[]): Promise<Actor> {
+/** 401 when signed out; 403 when `roles` is given and the actor's role is not among them. */
+export async function requireActor(req: Request, auth: Auth, allowed?: readonly Role[]): Promise<Actor> {
   const actor = await getActor(req, auth);
   if (!actor) throw unauthorized();
-  if (roles && !roles.includes(actor.role)) throw forbidden();
+  if (allowed && !allowed.includes(actor.role)) throw forbidden();
   return actor;
 }

@@ -2,6 +2,11 @@ import type { Express } from "express";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { healthRoutes } from "./health";
+import { accountRoutes } from "./accounts";
+import { shopRoutes } from "./shops";
+import { expertRoutes } from "./experts";
+import { adminExpertRoutes } from "./admin-experts";
+import { devMailRoutes } from "./dev-mail";
 import { caseRoutes } from "./cases";
 import { photoRoutes } from "./photos";
 import { traceRoutes } from "./traces";
@@ -9,7 +14,12 @@ import { traceRoutes } from "./traces";
 /** Every resource's router, mounted under /api. Add one line per resource. */
 export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void {
   app.use("/api", healthRoutes(ctx, auth));
+  app.use("/api", accountRoutes(ctx, auth));
+  app.use("/api", shopRoutes(ctx, auth));
+  app.use("/api", expertRoutes(ctx, auth));
+  app.use("/api", adminExpertRoutes(ctx, auth));
   app.use("/api", caseRoutes(ctx, auth));
   app.use("/api", photoRoutes(ctx, auth));
   app.use("/api", traceRoutes(ctx, auth));
+  app.use(devMailRoutes(ctx));
 }

@@ -1,0 +1,97 @@
+import { and, asc, eq } from "drizzle-orm";
+import type { AppContext } from "../context";
+import { schema } from "../db/client";
+import type { Actor } from "../auth/session";
+import { conflict } from "../http/errors";
+import { mails, sendMail } from "../auth/mail";
+import type { ExpertApplicationInput, ExpertStatus } from "../../shared/schemas/auth";
+import { SIGN_UP_ACCEPTED, findUserByEmail, hashPassword, insertCredentialUser, mailOrUndo, sendAlreadyRegistered, sendVerification } from "./accounts";
+
+export type ExpertProfileRow = typeof schema.expertProfile.$inferSelect;
+
+/**
+ * An expert applies: user (role expert, unverified) and profile (status pending) in one
+ * transaction, then the confirmation mail. An admin approves or rejects later.
+ */
+export async function applyAsExpert(ctx: AppContext, input: ExpertApplicationInput): Promise<typeof SIGN_UP_ACCEPTED> {
+  const passwordHash = await hashPassword(input.password);
+  const existing = findUserByEmail(ctx, input.email);
+  if (existing) {
+    await sendAlreadyRegistered(ctx, existing).catch((err) => ctx.logger.warn({ err }, "could not send already-registered mail"));
+    return SIGN_UP_ACCEPTED;
+  }
+  const now = ctx.now();
+  const makes = [...new Set(input.makes.map((m) => m.trim()).filter(Boolean))];
+  let userId: string;
+  try {
+    userId = ctx.db.transaction((tx) => {
+      const id = insertCredentialUser(tx, { email: input.email, name: input.name, role: "expert", shopId: null, emailVerified: false, passwordHash, now });
+      tx.insert(schema.expertProfile)
+        .values({ userId: id, systems: [...new Set(input.systems)], makes, bio: input.bio, yearsExperience: input.yearsExperience ?? null, status: "pending", available: false, createdAt: now })
+        .run();
+      return id;
+    });
+  } catch (err) {
+    if (String((err as Error)?.message).includes("UNIQUE")) return SIGN_UP_ACCEPTED;
+    throw err;
+  }
+  await mailOrUndo(
+    ctx,
+    () => sendVerification(ctx, { id: userId, email: input.email, name: input.name }),
+    () => ctx.db.delete(schema.user).where(eq(schema.user.id, userId)).run(),
+  );
+  return SIGN_UP_ACCEPTED;
+}
+
+export function getExpertProfile(ctx: AppContext, userId: string): ExpertProfileRow | undefined {
+  return ctx.db.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, userId)).get();
+}
+
+export function listExperts(ctx: AppContext, status: ExpertStatus) {
+  return ctx.db
+    .select({ profile: schema.expertProfile, name: schema.user.name, email: schema.user.email, emailVerified: schema.user.emailVerified })
+    .from(schema.expertProfile)
+    .innerJoin(schema.user, eq(schema.user.id, schema.expertProfile.userId))
+    .where(eq(schema.expertProfile.status, status))
+    .orderBy(asc(schema.expertProfile.createdAt))
+    .all();
+}
+
+/** Approves or rejects a pending application (or re-decides one); mails the expert. */
+export async function decideExpert(ctx: AppContext, actor: Actor, userId: string, decision: "approved" | "rejected", note?: string): Promise<ExpertProfileRow> {
+  const now = ctx.now();
+  const profile = getExpertProfile(ctx, userId)!;
+  if (profile.status === decision) throw conflict("already_decided", `This application is already ${decision}.`);
+  ctx.db
+    .update(schema.expertProfile)
+    .set({ status: decision, decidedBy: actor.id, decidedAt: now, ...(decision === "rejected" ? { available: false } : {}) })
+    .where(and(eq(schema.expertProfile.userId, userId)))
+    .run();
+  const user = ctx.db.select().from(schema.user).where(eq(schema.user.id, userId)).get();
+  if (user) {
+    await sendMail(ctx, user.email, mails.expertDecision(user.name, decision === "approved", note, `${ctx.env.publicUrl}/`)).catch((err) =>
+      ctx.logger.warn({ err }, "could not send the expert decision mail"),
+    );
+  }
+  return getExpertProfile(ctx, userId)!;
+}
+
+export function setAvailability(ctx: AppContext, userId: string, available: boolean): ExpertProfileRow {
+  ctx.db.update(schema.expertProfile).set({ available }).where(eq(schema.expertProfile.userId, userId)).run();
+  return getExpertProfile(ctx, userId)!;
+}
+
+export function presentProfile(p: ExpertProfileRow) {
+  return {
+    userId: p.userId,
+    systems: p.systems,
+    makes: p.makes,
+    bio: p.bio,
+    yearsExperience: p.yearsExperience,
+    status: p.status as ExpertStatus,
+    available: p.available,
+    maxOpenCases: p.maxOpenCases,
+    decidedAt: p.decidedAt ? p.decidedAt.toISOString() : null,
+    createdAt: p.createdAt.toISOString(),
+  };
+}

@@ -1,0 +1,191 @@
+import { and, asc, eq, gt, isNull } from "drizzle-orm";
+import { createHash, randomBytes } from "node:crypto";
+import type { AppContext } from "../context";
+import { schema } from "../db/client";
+import type { Actor } from "../auth/session";
+import { HttpError, conflict, notFound } from "../http/errors";
+import { mails, sendMail } from "../auth/mail";
+import type { AcceptInviteInput, InviteTechnicianInput, ShopSignUpInput } from "../../shared/schemas/auth";
+import {
+  SIGN_UP_ACCEPTED,
+  deactivateUser,
+  findUserByEmail,
+  hashPassword,
+  insertCredentialUser,
+  mailOrUndo,
+  sendAlreadyRegistered,
+  sendVerification,
+} from "./accounts";
+
+export type ShopRow = typeof schema.shop.$inferSelect;
+export type InviteRow = typeof schema.invite.$inferSelect;
+
+/** days an invitation link stays valid */
+export const INVITE_TTL_DAYS = 7;
+
+/**
+ * A shop owner signs up: the shop, the owner's user and credential account are written in one
+ * transaction; then the confirmation mail goes out (if it cannot, all three are removed again).
+ * An address that already has an account gets a "you already have an account" mail instead and
+ * the same answer, so the form does not tell strangers who is registered.
+ */
+export async function signUpShopOwner(ctx: AppContext, input: ShopSignUpInput): Promise<typeof SIGN_UP_ACCEPTED> {
+  const passwordHash = await hashPassword(input.password);
+  const existing = findUserByEmail(ctx, input.email);
+  if (existing) {
+    await sendAlreadyRegistered(ctx, existing).catch((err) => ctx.logger.warn({ err }, "could not send already-registered mail"));
+    return SIGN_UP_ACCEPTED;
+  }
+  const now = ctx.now();
+  const shopId = crypto.randomUUID();
+  let userId: string;
+  try {
+    userId = ctx.db.transaction((tx) => {
+      tx.insert(schema.shop).values({ id: shopId, name: input.shopName, createdAt: now }).run();
+      return insertCredentialUser(tx, { email: input.email, name: input.name, role: "owner", shopId, emailVerified: false, passwordHash, now });
+    });
+  } catch (err) {
+    // a concurrent sign-up with the same address won the unique index: answer as for an existing one
+    if (String((err as Error)?.message).includes("UNIQUE")) return SIGN_UP_ACCEPTED;
+    throw err;
+  }
+  await mailOrUndo(
+    ctx,
+    () => sendVerification(ctx, { id: userId, email: input.email, name: input.name }),
+    () =>
+      ctx.db.transaction((tx) => {
+        tx.delete(schema.user).where(eq(schema.user.id, userId)).run();
+        tx.delete(schema.shop).where(eq(schema.shop.id, shopId)).run();
+      }),
+  );
+  return SIGN_UP_ACCEPTED;
+}
+
+export function getShop(ctx: AppContext, shopId: string): ShopRow | undefined {
+  return ctx.db.select().from(schema.shop).where(eq(schema.shop.id, shopId)).get();
+}
+
+export function listMembers(ctx: AppContext, shopId: string) {
+  return ctx.db
+    .select({ id: schema.user.id, name: schema.user.name, email: schema.user.email, role: schema.user.role, shopId: schema.user.shopId, createdAt: schema.user.createdAt, deactivatedAt: schema.user.deactivatedAt })
+    .from(schema.user)
+    .where(and(eq(schema.user.shopId, shopId), isNull(schema.user.deactivatedAt)))
+    .orderBy(asc(schema.user.createdAt))
+    .all();
+}
+
+export function listPendingInvites(ctx: AppContext, shopId: string) {
+  return ctx.db
+    .select({ id: schema.invite.id, email: schema.invite.email, name: schema.invite.name, expiresAt: schema.invite.expiresAt, createdAt: schema.invite.createdAt })
+    .from(schema.invite)
+    .where(and(eq(schema.invite.shopId, shopId), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, ctx.now())))
+    .orderBy(asc(schema.invite.createdAt))
+    .all();
+}
+
+export const hashToken = (token: string) => createHash("sha256").update(token).digest("hex");
+
+/**
+ * The owner invites a technician by e-mail. The mail carries a one-time token; only its SHA-256 is
+ * stored. A second invitation to the same address replaces the first.
+ */
+export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow, input: InviteTechnicianInput) {
+  const existing = findUserByEmail(ctx, input.email);
+  if (existing && !existing.deactivatedAt) {
+    throw conflict("already_registered", existing.shopId === shop.id ? "This person is already in your team." : "This e-mail address already has a Burnline account; it can't join a second shop. Ask them for another address.", { fields: [{ path: "email", message: "This address already has an account." }] });
+  }
+  const token = randomBytes(32).toString("base64url");
+  const now = ctx.now();
+  const row: InviteRow = {
+    id: crypto.randomUUID(),
+    shopId: shop.id,
+    email: input.email,
+    name: input.name || null,
+    tokenHash: hashToken(token),
+    invitedBy: actor.id,
+    expiresAt: new Date(now.getTime() + INVITE_TTL_DAYS * 24 * 3600 * 1000),
+    acceptedAt: null,
+    revokedAt: null,
+    createdAt: now,
+  };
+  ctx.db.transaction((tx) => {
+    tx.update(schema.invite)
+      .set({ revokedAt: now })
+      .where(and(eq(schema.invite.shopId, shop.id), eq(schema.invite.email, input.email), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt)))
+      .run();
+    tx.insert(schema.invite).values(row).run();
+  });
+  const url = `${ctx.env.publicUrl}/accept-invite?token=${token}`;
+  await mailOrUndo(
+    ctx,
+    () => sendMail(ctx, input.email, mails.invite(shop.name, actor.name, url)),
+    () => ctx.db.delete(schema.invite).where(eq(schema.invite.id, row.id)).run(),
+  );
+  return { invite: presentInvite(row), token };
+}
+
+export function presentInvite(i: Pick<InviteRow, "id" | "email" | "name" | "expiresAt" | "createdAt">) {
+  return { id: i.id, email: i.email, name: i.name, expiresAt: i.expiresAt.toISOString(), createdAt: i.createdAt.toISOString() };
+}
+
+export function revokeInvite(ctx: AppContext, shopId: string, inviteId: string): void {
+  const r = ctx.db
+    .update(schema.invite)
+    .set({ revokedAt: ctx.now() })
+    .where(and(eq(schema.invite.id, inviteId), eq(schema.invite.shopId, shopId), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt)))
+    .run();
+  if (r.changes === 0) throw notFound("Invitation");
+}
+
+/** The usable invitation behind a token, or undefined (unknown, used, revoked or expired). */
+export function findUsableInvite(ctx: AppContext, token: string) {
+  return ctx.db
+    .select({ invite: schema.invite, shopName: schema.shop.name })
+    .from(schema.invite)
+    .innerJoin(schema.shop, eq(schema.shop.id, schema.invite.shopId))
+    .where(and(eq(schema.invite.tokenHash, hashToken(token)), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, ctx.now())))
+    .get();
+}
+
+export const INVITE_GONE = "This invitation link is not valid any more: it has been used, replaced or has expired (links work for 7 days). Ask the shop's owner to send a new one.";
+
+/**
+ * Accepts an invitation: creates the technician's account in the inviting shop, already verified
+ * (the link proved the address), and uses the token up. All in one transaction.
+ */
+export async function acceptInvite(ctx: AppContext, input: AcceptInviteInput): Promise<{ email: string; shopId: string; userId: string }> {
+  const found = findUsableInvite(ctx, input.token);
+  if (!found) throw new HttpError(404, "invite_invalid", INVITE_GONE);
+  const passwordHash = await hashPassword(input.password);
+  const now = ctx.now();
+  const { invite } = found;
+  return ctx.db.transaction((tx) => {
+    const used = tx
+      .update(schema.invite)
+      .set({ acceptedAt: now })
+      .where(and(eq(schema.invite.id, invite.id), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, now)))
+      .run();
+    if (used.changes !== 1) throw new HttpError(404, "invite_invalid", INVITE_GONE);
+    const existing = tx.select().from(schema.user).where(eq(schema.user.email, invite.email)).get();
+    if (existing && !existing.deactivatedAt) throw conflict("already_registered", "This e-mail address already has an account: sign in instead.");
+    if (existing) {
+      // a technician removed earlier and invited again: same account, new password, back in a shop
+      tx.update(schema.user)
+        .set({ name: input.name, role: "technician", shopId: invite.shopId, emailVerified: true, deactivatedAt: null, updatedAt: now })
+        .where(eq(schema.user.id, existing.id))
+        .run();
+      tx.delete(schema.account).where(and(eq(schema.account.userId, existing.id), eq(schema.account.providerId, "credential"))).run();
+      tx.insert(schema.account)
+        .values({ id: crypto.randomUUID(), accountId: existing.id, providerId: "credential", userId: existing.id, password: passwordHash, createdAt: now, updatedAt: now })
+        .run();
+      return { email: invite.email, shopId: invite.shopId, userId: existing.id };
+    }
+    const userId = insertCredentialUser(tx, { email: invite.email, name: input.name, role: "technician", shopId: invite.shopId, emailVerified: true, passwordHash, now });
+    return { email: invite.email, shopId: invite.shopId, userId };
+  });
+}
+
+/** The owner removes a technician: the account is deactivated, its sessions and sockets closed. */
+export function removeMember(ctx: AppContext, userId: string): void {
+  deactivateUser(ctx, userId);
+}
