@@ -3,3 +3,4 @@ export * from "./auth";
 export * from "./shops";
 export * from "./cases";
 export * from "./queue";
+export * from "./live";
