@@ -4,3 +4,4 @@ export * from "./users";
 export * from "./shops";
 export * from "./experts";
 export * from "./sign-in";
+export * from "./mail";
