@@ -38,3 +38,14 @@ export class TraceParseError extends Error {
 export function sampleTime(trace: Pick<ParsedTrace, "time" | "t0" | "sampleRateHz">, i: number): number {
   return trace.time ? trace.time[i] : trace.t0 + i / trace.sampleRateHz;
 }
+
+/**
+ * Min/max-decimated points of a time window, as returned by `GET /api/traces/:id/window`.
+ * Bucket k covers [t0 + k·(t1−t0)/width, t0 + (k+1)·(t1−t0)/width); `t` holds the start of each
+ * bucket that has samples (empty buckets are left out, in `t` and in every series alike), and
+ * `min`/`max` are that bucket's extremes.
+ */
+export interface TraceWindow {
+  t: number[];
+  series: { name: string; min: number[]; max: number[] }[];
+}

@@ -1,0 +1,94 @@
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { openTraceData, readChannels, writeTraceData, TRACE_DATA_MAGIC } from "../../../server/traces/store";
+import { decimateMinMax } from "../../../shared/trace/decimate";
+import type { ParsedTrace } from "../../../shared/trace/types";
+import { bruteForceWindow } from "./reference";
+import { createRng, randomTrace, randomWindow } from "./helpers";
+
+let dir: string;
+beforeAll(() => {
+  dir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-trace-store-"));
+});
+afterAll(() => fs.rmSync(dir, { recursive: true, force: true }));
+
+function expectSameTrace(got: ParsedTrace, want: ParsedTrace) {
+  expect(got.samples).toBe(want.samples);
+  expect(got.sampleRateHz).toBe(want.sampleRateHz);
+  expect(got.t0).toBe(want.t0);
+  expect(got.durationS).toBe(want.durationS);
+  expect(got.warnings).toEqual(want.warnings);
+  if (want.time) expect(Array.from(got.time!)).toEqual(Array.from(want.time));
+  else expect(got.time).toBeNull();
+  expect(got.channels.map((c) => [c.name, c.unit, c.min, c.max])).toEqual(want.channels.map((c) => [c.name, c.unit, c.min, c.max]));
+  got.channels.forEach((c, i) => expect(Buffer.from(c.values.buffer, c.values.byteOffset, c.values.byteLength).equals(Buffer.from(want.channels[i].values.buffer, want.channels[i].values.byteOffset, want.channels[i].values.byteLength))).toBe(true));
+}
+
+describe("trace data store", () => {
+  it("round trip: readChannels gives back the input, window equals decimation in memory", async () => {
+    const rng = createRng(31337);
+    const sizes = [1, 2, 63, 64, 65, 4095, 4097, 20_000, 70_001];
+    for (let s = 0; s < sizes.length * 2; s++) {
+      const n = sizes[s % sizes.length];
+      const trace = randomTrace(rng, n, rng.int(1, 4), s >= sizes.length);
+      trace.warnings = s === 3 ? ["line 9: a note"] : [];
+      const { path: file, bytes } = await writeTraceData(dir, `t${s}`, trace);
+      expect(fs.statSync(file).size).toBe(bytes);
+      // the file starts with its magic
+      expect(fs.readFileSync(file).subarray(0, 8).toString("ascii")).toBe(TRACE_DATA_MAGIC);
+      expectSameTrace(await readChannels(file), trace);
+      const data = await openTraceData(file);
+      expect(data.header.samples).toBe(n);
+      expect(data.header.uniform).toBe(trace.time == null);
+      for (let w = 0; w < 8; w++) {
+        const [t0, t1] = w === 0 ? [trace.t0, trace.t0 + trace.durationS] : randomWindow(rng, trace);
+        const width = rng.pick([1, 5, 300, 2000, rng.int(1, 4000)]);
+        expect(await data.window(t0, t1, width)).toEqual(decimateMinMax(trace, t0, t1, width));
+      }
+    }
+  });
+
+  it("large traces: sparse block reads at the bucket edges give the brute-force result (uniform and uneven)", async () => {
+    const rng = createRng(99);
+    for (const uneven of [false, true]) {
+      const trace = randomTrace(rng, 800_000, 2, uneven);
+      const { path: file } = await writeTraceData(dir, `big-${uneven}`, trace);
+      const data = await openTraceData(file);
+      const windows: [number, number][] = [
+        [trace.t0, trace.t0 + trace.durationS],
+        [trace.t0 - trace.durationS * 0.3, trace.t0 + trace.durationS * 0.9],
+        [trace.t0 + trace.durationS * 0.1, trace.t0 + trace.durationS * 0.95],
+        randomWindow(rng, trace),
+      ];
+      for (const [t0, t1] of windows) {
+        expect(await data.window(t0, t1, 2000)).toEqual(bruteForceWindow(trace, t0, t1, 2000));
+      }
+    }
+  });
+
+  it("refuses a bad id and leaves no file behind when a write fails", async () => {
+    const trace = randomTrace(createRng(1), 1000, 2, false);
+    await expect(writeTraceData(dir, "../escape", trace)).rejects.toThrow(RangeError);
+    const failDir = path.join(dir, "fail");
+    // a channel whose data cannot be read part-way through the write
+    class Failing extends Float32Array {
+      calls = 0;
+      override subarray(begin?: number, end?: number): Float32Array<ArrayBuffer> {
+        if (++this.calls > 3) throw new Error("disk went away");
+        return super.subarray(begin, end);
+      }
+    }
+    const bad = new Failing(300_000);
+    const broken: ParsedTrace = { ...trace, samples: bad.length, channels: [{ ...trace.channels[0], values: bad }] };
+    await expect(writeTraceData(failDir, "x", broken)).rejects.toThrow("disk went away");
+    expect(fs.readdirSync(failDir)).toEqual([]);
+  });
+
+  it("refuses a file that is not trace data", async () => {
+    const file = path.join(dir, "not.trace");
+    fs.writeFileSync(file, "Time,A\n0,1\n");
+    await expect(openTraceData(file)).rejects.toThrow(/not a trace data file/);
+  });
+});
