@@ -9,7 +9,10 @@ export interface NavItem {
 }
 
 /** Navigation per role; features add their entries here. */
-export const navItems: NavItem[] = [{ to: "/", label: "Home" }];
+export const navItems: NavItem[] = [
+  { to: "/", label: "Home" },
+  { to: "/cases", label: "Cases", roles: ["technician", "owner"] },
+];
 
 export function AppShell() {
   const me = useMe();

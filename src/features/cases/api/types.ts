@@ -27,6 +27,21 @@ export interface TraceChannelMeta {
   max: number;
 }
 
+/** A trouble code as the server presents it (older answers may give the bare code). */
+export interface PresentedCode {
+  code: string;
+  description: string | null;
+  system?: string | null;
+  generic?: boolean | null;
+  group?: string;
+  misfireCylinder?: number;
+  coil?: string;
+}
+export type CaseCode = string | PresentedCode;
+
+/** The codes as plain strings, whichever form the server sent. */
+export const codeStrings = (codes: CaseCode[] | null | undefined): string[] => (codes ?? []).map((c) => (typeof c === "string" ? c : c.code));
+
 /** One trace as listed on its case (the plot fetches its points separately). */
 export interface CaseTrace {
   id: string;
@@ -40,6 +55,9 @@ export interface CaseTrace {
   kind: string;
   /** computed once at upload (shared/analysis); null while missing */
   analysis: unknown;
+  warnings?: string[];
+  bytes?: number;
+  originalUrl?: string;
   createdAt?: string | number;
 }
 
@@ -56,9 +74,11 @@ export interface CasePhoto {
 export interface CaseDetail {
   id: string;
   status: CaseStatus;
+  title?: string;
   vehicle: CaseVehicle;
+  vinWarnings?: { code: string; message: string; expected?: string }[];
   complaint: string | null;
-  codes: string[] | null;
+  codes: CaseCode[] | null;
   system: VehicleSystem | null;
   symptoms: string[] | null;
   conditions: CaseConditions | null;
@@ -69,8 +89,10 @@ export interface CaseDetail {
   updatedAt?: string | number;
   traces: CaseTrace[];
   photos: CasePhoto[];
+  /** what the complete-case schema still misses (server-computed) */
+  readiness?: { complete: boolean; issues: { path: string; message: string }[] };
   /** what the signed-in user may do here, computed by the server's policy */
-  abilities?: Record<string, boolean>;
+  abilities?: Partial<Record<"read" | "edit" | "addTrace" | "deleteTrace" | "addPhoto" | "deletePhoto", boolean>> & Record<string, boolean | undefined>;
   /** cross-trace comparison, when the server provides it */
   comparison?: unknown;
 }
@@ -79,10 +101,13 @@ export interface CaseDetail {
 export interface CaseListItem {
   id: string;
   status: CaseStatus;
+  title?: string;
   vehicle: Partial<CaseVehicle> | null;
   complaint: string | null;
-  codes: string[] | null;
+  codes: CaseCode[] | null;
+  system?: string | null;
   traceCount?: number;
+  photoCount?: number;
   createdAt?: string | number;
   updatedAt?: string | number;
 }

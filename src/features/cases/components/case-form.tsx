@@ -34,6 +34,7 @@ export interface CaseFormProps {
   initial?: CaseDetail | null;
   photos?: CasePhoto[];
   photoUrl?: (p: CasePhoto) => string | undefined;
+  onDeletePhoto?: (p: CasePhoto) => void;
   onCreated?: (id: string) => void;
   /** filled with a function that saves the draft (creating it if needed) and resolves with its id */
   saveRef?: RefObject<(() => Promise<string>) | null>;
@@ -74,7 +75,7 @@ const fieldLabels: Record<FormFieldPath, string> = {
   notes: "Notes",
 };
 
-export function CaseForm({ caseId, initial, photos = [], photoUrl, onCreated, saveRef, children }: CaseFormProps) {
+export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto, onCreated, saveRef, children }: CaseFormProps) {
   const defaults = useMemo(() => toFormValues(initial), [initial]);
   const form = useForm<CaseFormValues, unknown, CaseDraft>({ resolver, defaultValues: defaults, mode: "onTouched" });
   const { register, handleSubmit, control, formState, setError, reset, getValues } = form;
@@ -396,6 +397,7 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onCreated, sa
               ensureCaseId={() => saveRef?.current?.() ?? Promise.reject(new Error("Save the draft first."))}
               photos={photos}
               photoUrl={photoUrl}
+              onDelete={onDeletePhoto}
             />
           </Section>
         </form>

@@ -26,6 +26,7 @@ export function PhotoUploader({
   ensureCaseId,
   photos,
   photoUrl,
+  onDelete,
   disabled,
 }: {
   caseId: string | null;
@@ -33,6 +34,8 @@ export function PhotoUploader({
   ensureCaseId: () => Promise<string>;
   photos: CasePhoto[];
   photoUrl?: (p: CasePhoto) => string | undefined;
+  /** shown as a remove button on each photo when given (drafts) */
+  onDelete?: (p: CasePhoto) => void;
   disabled?: boolean;
 }) {
   const uploadPhoto = useUploadPhoto();
@@ -96,7 +99,7 @@ export function PhotoUploader({
           {photos.map((p) => {
             const url = photoUrl?.(p) ?? p.url;
             return (
-              <li key={p.id} className="overflow-hidden rounded-lg border border-ink-200 bg-ink-50">
+              <li key={p.id} className="relative overflow-hidden rounded-lg border border-ink-200 bg-ink-50">
                 {url ? (
                   <a href={url} target="_blank" rel="noreferrer">
                     <img src={url} alt={p.name} loading="lazy" className="aspect-[4/3] w-full object-cover" />
@@ -107,12 +110,23 @@ export function PhotoUploader({
                 <p className="truncate px-2 py-1 text-xs text-ink-600" title={p.name}>
                   {p.name}
                 </p>
+                {onDelete ? (
+                  <button
+                    type="button"
+                    onClick={() => onDelete(p)}
+                    className="absolute right-1 top-1 flex h-10 w-10 items-center justify-center rounded-full bg-ink-900/75 text-xl leading-none text-white hover:bg-ink-900"
+                    aria-label={`Remove photo ${p.name}`}
+                  >
+                    ×
+                  </button>
+                ) : null}
               </li>
             );
           })}
         </ul>
       ) : null}
 
+      {!disabled ? (
       <div
         {...getRootProps({
           className: `flex min-h-24 cursor-pointer flex-col items-center justify-center rounded-xl border-2 border-dashed px-4 py-5 text-center ${
@@ -125,6 +139,7 @@ export function PhotoUploader({
         <p className="font-semibold text-ink-800">{isDragActive ? "Drop the photos here" : "Add photos"}</p>
         <p className="text-sm text-ink-500">Tap to choose or take a picture, or drop files. JPEG, PNG or WebP, up to 15 MB.</p>
       </div>
+      ) : null}
 
       {refusals.length ? (
         <ul role="alert" className="space-y-1 text-sm font-semibold text-alarm-600">

@@ -1,6 +1,6 @@
 import type { CaseDraft } from "../../../../shared/schemas/case";
 import type { ApiError } from "../../../lib/api-client";
-import type { CaseDetail } from "../api/types";
+import { codeStrings, type CaseDetail } from "../api/types";
 
 /**
  * The case form's own values: what the inputs hold (text for numbers, "" for "not chosen").
@@ -48,7 +48,7 @@ export function toFormValues(c?: CaseDetail | null): CaseFormValues {
       transmission: s(v?.transmission),
     },
     complaint: s(c?.complaint),
-    codes: c?.codes ?? [],
+    codes: codeStrings(c?.codes),
     system: s(c?.system),
     symptoms: c?.symptoms ?? [],
     conditions: {

@@ -1,0 +1,128 @@
+import { useQueryClient } from "@tanstack/react-query";
+import { Link, useParams } from "react-router-dom";
+import { useDeleteAttachment } from "../../../features/cases/api/delete-attachment";
+import { caseKeys, casePages } from "../../../features/cases/api/paths";
+import { useCase } from "../../../features/cases/api/get-case";
+import { CaseFacts, VehicleSummary } from "../../../features/cases/components/case-summary";
+import { PhotoUploader } from "../../../features/cases/components/photo-uploader";
+import { StatusBadge } from "../../../features/cases/components/status-badge";
+import { buttonClass, Section } from "../../../features/cases/components/ui";
+import { formatDate, vehicleTitle } from "../../../features/cases/lib/labels";
+import { TraceUploader } from "../../../features/uploads/components/trace-uploader";
+import { ApiError } from "../../../lib/api-client";
+import { CaseTraces } from "./case-traces";
+
+/** /cases/:id — everything on a case: vehicle, complaint, photos, and each trace with its numbers. */
+export function CasePage() {
+  const { id = "" } = useParams();
+  const q = useCase(id);
+  const qc = useQueryClient();
+  const del = useDeleteAttachment();
+
+  if (q.isPending) {
+    return (
+      <div className="space-y-3" aria-busy="true" aria-label="Loading the case">
+        <div className="h-8 w-64 animate-pulse rounded bg-ink-100" />
+        <div className="h-40 animate-pulse rounded-xl bg-ink-100" />
+        <div className="h-64 animate-pulse rounded-xl bg-ink-100" />
+      </div>
+    );
+  }
+  if (q.isError) {
+    const e = q.error;
+    return (
+      <div role="alert" className="rounded-xl border border-alarm-500 bg-white p-5">
+        <p className="font-semibold text-alarm-600">
+          {e instanceof ApiError && e.status === 404
+            ? "This case does not exist, or it belongs to another shop."
+            : e instanceof ApiError && e.status === 401
+              ? "Sign in to see this case."
+              : `Could not load the case: ${e.message}`}
+        </p>
+        <Link to={casePages.list} className="mt-3 inline-block underline">
+          Back to the cases
+        </Link>
+      </div>
+    );
+  }
+
+  const c = q.data;
+  const can = c.abilities ?? {};
+  const refresh = () => qc.invalidateQueries({ queryKey: caseKeys.detail(c.id) });
+
+  return (
+    <div className="space-y-5">
+      <Link to={casePages.list} className="inline-flex min-h-11 items-center text-sm font-semibold text-ink-600 hover:text-ink-900">
+        ← Cases
+      </Link>
+      <header className="flex flex-wrap items-start gap-3">
+        <div className="min-w-0 flex-1">
+          <div className="flex flex-wrap items-center gap-3">
+            <h1 className="text-2xl font-bold">{vehicleTitle(c.vehicle)}</h1>
+            <StatusBadge status={c.status} />
+          </div>
+          <p className="text-sm text-ink-500">
+            Opened {formatDate(c.createdAt)} · updated {formatDate(c.updatedAt)}
+          </p>
+        </div>
+        {c.status === "draft" && can.edit ? (
+          <Link to={casePages.edit(c.id)} className={buttonClass.primary}>
+            Edit the draft
+          </Link>
+        ) : null}
+      </header>
+
+      {c.status === "draft" && c.readiness && !c.readiness.complete ? (
+        <div className="rounded-xl border border-kiln-300 bg-kiln-50 px-4 py-3 text-sm">
+          <p className="font-semibold text-kiln-700">Still a draft. Before it goes to the desk:</p>
+          <ul className="mt-1 list-disc pl-5 text-ink-800">
+            {c.readiness.issues.map((i) => (
+              <li key={i.path + i.message}>{i.message}</li>
+            ))}
+          </ul>
+        </div>
+      ) : null}
+
+      <div className="grid gap-5 lg:grid-cols-2">
+        <Section id="vehicle" title="Vehicle">
+          <VehicleSummary c={c} />
+        </Section>
+        <Section id="facts" title="Complaint and what was done">
+          <CaseFacts c={c} />
+        </Section>
+      </div>
+
+      {c.photos.length || can.addPhoto ? (
+        <Section id="photos" title="Photos">
+          {can.addPhoto ? (
+            <PhotoUploader
+              caseId={c.id}
+              ensureCaseId={() => Promise.resolve(c.id)}
+              photos={c.photos}
+              onDelete={can.deletePhoto ? (p) => del.mutate({ kind: "photo", id: p.id, caseId: c.id }) : undefined}
+            />
+          ) : (
+            <PhotoUploader caseId={c.id} ensureCaseId={() => Promise.resolve(c.id)} photos={c.photos} disabled />
+          )}
+        </Section>
+      ) : null}
+
+      <section aria-labelledby="traces-title" className="space-y-4">
+        <h2 id="traces-title" className="text-xl font-bold">
+          Traces <span className="font-normal text-ink-500">({c.traces.length})</span>
+        </h2>
+        {del.isError ? (
+          <p role="alert" className="text-sm font-semibold text-alarm-600">
+            Could not remove it: {del.error.message}
+          </p>
+        ) : null}
+        <CaseTraces c={c} onDeleteTrace={can.deleteTrace ? (t) => del.mutate({ kind: "trace", id: t.id, caseId: c.id }) : undefined} />
+        {can.addTrace ? (
+          <Section id="add-traces" title="Add traces" description="More captures for this case: each gets a preview and its capture settings.">
+            <TraceUploader caseId={c.id} onUploaded={() => void refresh()} />
+          </Section>
+        ) : null}
+      </section>
+    </div>
+  );
+}

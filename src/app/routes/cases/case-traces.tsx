@@ -1,0 +1,127 @@
+import { useMemo, useState } from "react";
+import type { CaseDetail, CaseTrace } from "../../../features/cases/api/types";
+import { traceKindName, traceLabel } from "../../../features/cases/components/trace-list";
+import { TraceSettingsSummary } from "../../../features/cases/components/trace-settings-summary";
+import { ComparisonTable } from "../../../features/analysis/components/comparison-table";
+import { FindingsList } from "../../../features/analysis/components/findings-list";
+import { MeasurementsTable } from "../../../features/analysis/components/measurements-table";
+import { comparisonFor } from "../../../features/analysis/lib/comparison";
+import { isAnalysisResult } from "../../../features/analysis/lib/metrics";
+import { TraceViewer } from "../../../features/traces/components/trace-viewer";
+import type { TraceInfo } from "../../../features/traces/types";
+
+/** A case's trace as the viewer takes it (the settings are checked by the server at upload). */
+function viewerInfo(t: CaseTrace): TraceInfo {
+  return {
+    id: t.id,
+    name: `${traceLabel(t)}${traceLabel(t) !== t.name ? ` · ${t.name}` : ""}`,
+    samples: t.samples,
+    sampleRateHz: t.sampleRateHz,
+    durationS: t.durationS,
+    t0: t.t0,
+    channels: t.channels,
+    settings: t.settings as unknown as TraceInfo["settings"],
+    analysis: (t.analysis as TraceInfo["analysis"]) ?? null,
+  };
+}
+
+function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
+  const analysis = isAnalysisResult(t.analysis) ? t.analysis : null;
+  const info = useMemo(() => [viewerInfo(t)], [t]);
+  const label = traceLabel(t);
+  const unit = t.channels[0]?.unit || "V";
+  return (
+    <article aria-labelledby={`trace-${t.id}`} className="space-y-4 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
+      <header className="flex flex-wrap items-start gap-x-3 gap-y-2">
+        <div className="min-w-0 flex-1">
+          <h3 id={`trace-${t.id}`} className="text-lg font-bold text-ink-900">
+            {label}
+            {label !== t.name ? <span className="ml-2 text-sm font-normal text-ink-500">{t.name}</span> : null}
+          </h3>
+          <p className="text-sm text-ink-600">
+            {traceKindName(t.kind)} · {t.samples.toLocaleString("en-US")} samples
+          </p>
+        </div>
+        {t.originalUrl ? (
+          <a href={t.originalUrl} className="min-h-11 content-center rounded-lg px-3 text-sm font-semibold text-ink-700 hover:bg-ink-100" download>
+            Original file
+          </a>
+        ) : null}
+        {onDelete ? (
+          <button type="button" onClick={onDelete} className="min-h-11 rounded-lg px-3 text-sm font-semibold text-alarm-600 hover:bg-alarm-500/10">
+            Remove
+          </button>
+        ) : null}
+      </header>
+      <TraceSettingsSummary settings={t.settings} unit={unit} />
+      {t.warnings?.length ? (
+        <ul className="text-sm text-kiln-700">
+          {t.warnings.slice(0, 3).map((w) => (
+            <li key={w}>{w.charAt(0).toUpperCase() + w.slice(1)}</li>
+          ))}
+        </ul>
+      ) : null}
+
+      <TraceViewer traces={info} />
+
+      {analysis ? (
+        <div className="grid gap-4 xl:grid-cols-2">
+          <section aria-label={`Findings for ${label}`} className="space-y-2">
+            <h4 className="font-bold text-ink-800">Capture review</h4>
+            <FindingsList findings={analysis.findings} ignition={analysis.kind === "secondary-ignition"} />
+          </section>
+          <section aria-label={`Measurements of ${label}`} className="space-y-2">
+            <h4 className="font-bold text-ink-800">Measurements</h4>
+            <MeasurementsTable analysis={analysis} traceName={label} />
+          </section>
+        </div>
+      ) : (
+        <p className="text-sm text-ink-600">No measurements stored for this trace.</p>
+      )}
+    </article>
+  );
+}
+
+/** The traces of a case: each with its viewer, review and measurements; then the overlay and the comparison. */
+export function CaseTraces({ c, onDeleteTrace }: { c: CaseDetail; onDeleteTrace?: (t: CaseTrace) => void }) {
+  const [overlay, setOverlay] = useState(false);
+  const comparison = useMemo(() => comparisonFor(c.comparison, c.traces), [c.comparison, c.traces]);
+  const overlayInfo = useMemo(() => c.traces.map(viewerInfo), [c.traces]);
+  const labels = c.traces.map((t) => ({ id: t.id, label: traceLabel(t) }));
+
+  if (!c.traces.length) return <p className="text-ink-600">No traces on this case yet.</p>;
+  return (
+    <div className="space-y-5">
+      {comparison ? (
+        <section aria-labelledby="comparison-title" className="space-y-3 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
+          <h3 id="comparison-title" className="text-lg font-bold">
+            Cylinder to cylinder
+          </h3>
+          <ComparisonTable comparison={comparison} traces={labels} />
+        </section>
+      ) : null}
+
+      {c.traces.length > 1 ? (
+        <section aria-label="All traces overlaid" className="space-y-3">
+          <button
+            type="button"
+            className="min-h-11 rounded-lg border border-ink-300 bg-white px-4 font-semibold text-ink-800 hover:bg-ink-50"
+            aria-expanded={overlay}
+            onClick={() => setOverlay((o) => !o)}
+          >
+            {overlay ? "Hide the overlay" : `Overlay all ${c.traces.length} traces`}
+          </button>
+          {overlay ? (
+            <div className="rounded-xl border border-ink-200 bg-white p-3 shadow-sm">
+              <TraceViewer traces={overlayInfo} mode="overlay" />
+            </div>
+          ) : null}
+        </section>
+      ) : null}
+
+      {c.traces.map((t) => (
+        <TraceCard key={t.id} t={t} onDelete={onDeleteTrace ? () => onDeleteTrace(t) : undefined} />
+      ))}
+    </div>
+  );
+}
