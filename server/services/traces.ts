@@ -11,6 +11,7 @@ import { TraceParseError, type ParsedTrace, type TraceWindow } from "../../share
 import type { CaptureSettings } from "../../shared/schemas/capture-settings";
 import type { TraceWindowQuery } from "../../shared/schemas/traces";
 import type { StoredUpload } from "../uploads/multer";
+import { analyzeStoredTrace } from "../uploads/analysis";
 import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "./cases";
 import { cleanFileName } from "./photos";
 import { contentInFlight, placeContentAddressed, relativeDataPath, removeStoredFile, resolveDataPath, storageLayout, type PlacedFile } from "./storage";
@@ -88,15 +89,16 @@ export function parseRefusal(err: TraceParseError) {
 }
 
 /**
- * ANALYSIS CALL SITE (upload): measures the parsed trace once; the result is stored in
- * trace.analysis. Returns null until shared/analysis provides analyzeTrace; a failure of the
- * analysis never refuses the upload (the trace is still worth reviewing by eye).
+ * ANALYSIS CALL SITE (upload): shared/analysis analyzeTrace on the stored channels, run in a
+ * worker thread (server/uploads/analysis.ts) so that seconds of measuring never stall other
+ * requests. A failure of the analysis never refuses the upload (the trace is still worth
+ * reviewing by eye): the trace is stored with analysis null and the failure is logged.
  */
-function analyzeAtUpload(ctx: AppContext, _parsed: ParsedTrace, _settings: CaptureSettings): Record<string, unknown> | null {
+async function analyzeAtUpload(ctx: AppContext, dataFile: string, settings: CaptureSettings): Promise<Record<string, unknown> | null> {
   try {
-    return null;
+    return await analyzeStoredTrace(dataFile, settings);
   } catch (err) {
-    ctx.logger.warn({ err }, "trace analysis failed");
+    ctx.logger.warn({ err }, "trace analysis failed; stored without analysis");
     return null;
   }
 }
@@ -122,16 +124,25 @@ export async function addTrace(
   let placed: PlacedFile | null = null;
   let committed = false;
   try {
-    let parsed: ParsedTrace;
+    let parsed: ParsedTrace | null;
     try {
       parsed = await parseTraceFile(upload.path, { sampleRateHz: settings.sampleRateHz, maxBytes: ctx.env.MAX_TRACE_BYTES });
     } catch (err) {
       if (err instanceof TraceParseError) throw parseRefusal(err);
       throw err;
     }
-    const analysis = analyzeAtUpload(ctx, parsed, settings);
     await fs.promises.mkdir(layout.tracesDir, { recursive: true });
     dataFile = (await writeTraceData(layout.tracesDir, id, parsed)).path;
+    const meta = {
+      samples: parsed.samples,
+      sampleRateHz: parsed.sampleRateHz,
+      t0: parsed.t0,
+      durationS: parsed.durationS,
+      channels: parsed.channels.map((c) => ({ name: c.name, unit: c.unit, min: c.min, max: c.max })),
+      warnings: parsed.warnings,
+    };
+    parsed = null; // the arrays are on disk now; let them go before the analysis reads them back
+    const analysis = await analyzeAtUpload(ctx, dataFile, settings);
     placed = await placeContentAddressed(layout, layout.originalsDir, upload.path, upload.sha256);
     const originalName = cleanFileName(upload.originalname, "trace.csv");
     const name = fields.name || originalName;
@@ -147,14 +158,9 @@ export async function addTrace(
       originalBytes: upload.size,
       originalPath: placed.rel,
       dataPath: relativeDataPath(layout.dataDir, dataFile),
-      samples: parsed.samples,
-      sampleRateHz: parsed.sampleRateHz,
-      t0: parsed.t0,
-      durationS: parsed.durationS,
-      channels: parsed.channels.map((c) => ({ name: c.name, unit: c.unit, min: c.min, max: c.max })),
+      ...meta,
       analysis,
       originalName,
-      warnings: parsed.warnings,
       createdAt: now,
     };
     ctx.db.transaction((tx) => {

@@ -110,6 +110,10 @@ function upload(agent: any, caseId: string, body: string | Buffer, filename = "c
     .attach("file", Buffer.isBuffer(body) ? body : Buffer.from(body), { filename, contentType: "text/csv" });
 }
 
+function storedAnalysis(id: string) {
+  return server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, id)).get()!.analysis;
+}
+
 function filesUnder(dir: string): string[] {
   if (!fs.existsSync(dir)) return [];
   return (fs.readdirSync(dir, { recursive: true }) as string[]).filter((p) => fs.statSync(path.join(dir, p)).isFile());
@@ -145,7 +149,9 @@ describe("POST /api/cases/:id/traces", () => {
     expect(t.channels[0].max).toBe(Math.fround(Math.max(...g.values[0])));
     expect(t.channels[1].min).toBe(Math.fround(Math.min(...g.values[1])));
     expect(t.settings).toMatchObject({ voltsPerDiv: 2, timePerDivS: 0.001, triggerLevel: 1.5, cylinder: 4, triggerMode: "auto", coupling: "dc" });
-    expect(t).toHaveProperty("analysis");
+    // measured once at upload (shared/analysis), stored with the trace: the kind from the settings
+    expect(t.analysis).toMatchObject({ kind: "secondary-ignition", channel: "A" });
+    expect(storedAnalysis(t.id)).toEqual(t.analysis);
 
     const sha = crypto.createHash("sha256").update(g.text).digest("hex");
     const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, t.id)).get()!;
