@@ -23,7 +23,11 @@ const queryNumber = (label: string) =>
       const x = queryValue(v);
       return typeof x === "string" ? Number(x) : x;
     },
-    z.number({ error: `${label} must be a number (seconds).` }).finite({ error: `${label} must be a finite number.` }).optional(),
+    z
+      .number({ error: `${label} must be a number (seconds).` })
+      .min(-1e9, { error: `${label} is out of range.` })
+      .max(1e9, { error: `${label} is out of range.` })
+      .optional(),
   );
 
 /**
