@@ -315,14 +315,19 @@ export async function openTraceData(file: string): Promise<TraceData> {
   try {
     ({ header, dataStart } = await readHeader(fh));
     const D = dataStart;
-    pyramids = [];
-    for (const c of header.channels) {
-      const levels: MinMaxLevel[] = [];
-      for (const l of c.levels) {
-        levels.push({ blockSize: l.blockSize, min: await readF32(fh, D + l.minOffset, l.blocks), max: await readF32(fh, D + l.maxOffset, l.blocks) });
-      }
-      pyramids.push(levels);
-    }
+    // the pyramid sections lie one after the other: read them in one piece
+    const all = header.channels.flatMap((c) => c.levels.flatMap((l) => [l.minOffset, l.maxOffset + l.blocks * 4]));
+    const from = all.length ? Math.min(...all) : 0;
+    const to = all.length ? Math.max(...all) : 0;
+    const region = new ArrayBuffer(to - from);
+    await readExact(fh, new Uint8Array(region), D + from);
+    pyramids = header.channels.map((c) =>
+      c.levels.map((l) => ({
+        blockSize: l.blockSize,
+        min: new Float32Array(region, l.minOffset - from, l.blocks),
+        max: new Float32Array(region, l.maxOffset - from, l.blocks),
+      })),
+    );
     if (header.time) timeIndex = await readF64(fh, D + header.time.indexOffset, header.time.indexLength);
   } finally {
     await fh.close();
@@ -416,6 +421,33 @@ export async function openTraceData(file: string): Promise<TraceData> {
   }
 
   return { path: file, header, window, readChannels: () => readChannels(file) };
+}
+
+const openCache = new Map<string, Promise<TraceData>>();
+const OPEN_CACHE_ENTRIES = 16;
+
+/**
+ * openTraceData with a small cache of the most recently used files (trace data files are written
+ * once and never change; remove a file's entry with forgetTraceData when deleting it).
+ */
+export function openTraceDataCached(file: string): Promise<TraceData> {
+  const key = path.resolve(file);
+  let p = openCache.get(key);
+  if (p) {
+    openCache.delete(key);
+    openCache.set(key, p);
+    return p;
+  }
+  p = openTraceData(key);
+  p.catch(() => openCache.delete(key));
+  openCache.set(key, p);
+  while (openCache.size > OPEN_CACHE_ENTRIES) openCache.delete(openCache.keys().next().value!);
+  return p;
+}
+
+/** Drops a file from the open cache (call when deleting its trace). */
+export function forgetTraceData(file: string): void {
+  openCache.delete(path.resolve(file));
 }
 
 /** Reads the full arrays of a trace data file back as a ParsedTrace. */

@@ -241,6 +241,9 @@ function isTimeLikeName(name: string): boolean {
   return ["seconds", "second", "secs", "sec", "timestamp", "elapsed", "zeit", "tiempo", "temps", "tempo"].includes(n);
 }
 
+/** Column names that number the samples rather than measure anything. */
+const SAMPLE_NUMBER_NAMES = new Set(["sample", "samples", "sample no", "sample no.", "sample #", "index", "idx", "no", "no.", "n", "#", "point", "pt"]);
+
 function looksLikeUnitsRow(row: string[], count: number): boolean {
   let units = 0;
   for (let i = 0; i < count; i++) {
@@ -589,7 +592,15 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
       );
     }
     valueIdx = [];
-    for (let i = 0; i < width; i++) if (i !== timeIdx) valueIdx.push(i);
+    for (let i = 0; i < width; i++) {
+      if (i === timeIdx) continue;
+      const head = heads[i];
+      if (head && head.unit == null && SAMPLE_NUMBER_NAMES.has(head.name.toLowerCase())) {
+        warnings.push(`${columnLabel(i)} (${quote(head.name)}) was read as a sample number, not a channel`);
+        continue;
+      }
+      valueIdx.push(i);
+    }
     if (valueIdx.length === 0) {
       throw new TraceParseError("no-value-columns", "the file has a time column but no value columns", where);
     }

@@ -98,6 +98,13 @@ describe("parseTraceText — accepted variants", () => {
     expect(values(t)).toEqual([5, 6, 7]);
   });
 
+  it("reads a sample-number column as such, not as a channel", () => {
+    const t = parseTraceText("Sample,Channel A (V)\n0,1.5\n1,2.5\n2,3.5\n", { sampleRateHz: 1000 });
+    expect(t.channels.map((c) => c.name)).toEqual(["Channel A"]);
+    expect(values(t)).toEqual([1.5, 2.5, 3.5]);
+    expect(t.warnings.join(" ")).toMatch(/column 1 \("Sample"\) was read as a sample number/);
+  });
+
   it("reads a units row under the names row", () => {
     const t = parseTraceText(fixture("units-row.csv"));
     // 1 ms apart → 1 kHz

@@ -2,7 +2,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { openTraceData, readChannels, writeTraceData, TRACE_DATA_MAGIC } from "../../../server/traces/store";
+import { forgetTraceData, openTraceData, openTraceDataCached, readChannels, writeTraceData, TRACE_DATA_MAGIC } from "../../../server/traces/store";
 import { decimateMinMax } from "../../../shared/trace/decimate";
 import type { ParsedTrace } from "../../../shared/trace/types";
 import { bruteForceWindow } from "./reference";
@@ -84,6 +84,17 @@ describe("trace data store", () => {
     const broken: ParsedTrace = { ...trace, samples: bad.length, channels: [{ ...trace.channels[0], values: bad }] };
     await expect(writeTraceData(failDir, "x", broken)).rejects.toThrow("disk went away");
     expect(fs.readdirSync(failDir)).toEqual([]);
+  });
+
+  it("the open cache hands back the same opened file until it is forgotten", async () => {
+    const trace = randomTrace(createRng(2), 5000, 1, false);
+    const { path: file } = await writeTraceData(dir, "cached", trace);
+    const a = await openTraceDataCached(file);
+    expect(await openTraceDataCached(file)).toBe(a);
+    forgetTraceData(file);
+    const b = await openTraceDataCached(file);
+    expect(b).not.toBe(a);
+    expect(await b.window(trace.t0, trace.t0 + trace.durationS, 100)).toEqual(decimateMinMax(trace, trace.t0, trace.t0 + trace.durationS, 100));
   });
 
   it("refuses a file that is not trace data", async () => {
