@@ -12,6 +12,8 @@ import type { CaptureSettings } from "../../shared/schemas/capture-settings";
 import type { TraceWindowQuery } from "../../shared/schemas/traces";
 import type { StoredUpload } from "../uploads/multer";
 import { analyzeStoredTrace } from "../uploads/analysis";
+import { compareTraces, type ComparableResult } from "../../shared/analysis/compare";
+import type { Comparison } from "../../shared/analysis/types";
 import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "./cases";
 import { cleanFileName } from "./photos";
 import { contentInFlight, placeContentAddressed, relativeDataPath, removeStoredFile, resolveDataPath, storageLayout, type PlacedFile } from "./storage";
@@ -222,9 +224,23 @@ export async function traceWindow(ctx: AppContext, t: TraceRow, q: TraceWindowQu
 }
 
 /**
- * The comparison across a case's traces (cylinder to cylinder), from the analyses stored at upload.
- * ANALYSIS CALL SITE (comparison): wired to shared/analysis compareTraces once it lands.
+ * The comparison across a case's traces (cylinder to cylinder), from the analyses stored at
+ * upload: shared/analysis compareTraces over the traces of the kind most of them share (the
+ * earliest such kind on a tie), or null while fewer than two of that kind have an analysis.
  */
-export function caseComparison(_traces: TraceRow[]): unknown | null {
-  return null;
+export function caseComparison(traces: TraceRow[]): (Comparison & { kind: string; traceIds: string[] }) | null {
+  const analysed = traces.filter((t) => isComparable(t.analysis));
+  const counts = new Map<string, number>();
+  for (const t of analysed) counts.set(String(t.analysis!.kind), (counts.get(String(t.analysis!.kind)) ?? 0) + 1);
+  let kind: string | null = null;
+  for (const [k, n] of counts) if (kind === null || n > counts.get(kind)!) kind = k;
+  if (kind === null) return null;
+  const same = analysed.filter((t) => t.analysis!.kind === kind);
+  if (same.length < 2) return null;
+  const results = same.map((t) => ({ ...(t.analysis as unknown as ComparableResult), traceId: t.id, file: undefined }));
+  return { kind, traceIds: same.map((t) => t.id), ...compareTraces(results) };
+}
+
+function isComparable(a: Record<string, unknown> | null): boolean {
+  return !!a && typeof a.kind === "string" && !!a.summary && typeof a.summary === "object";
 }

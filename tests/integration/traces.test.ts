@@ -7,6 +7,8 @@ import { eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createExpert, createShopTeam, signIn, type SignedInAgent, type ShopTeam } from "../factories";
 import { schema } from "../../server/db/client";
+import { generateSecondary } from "../generators/secondary";
+import { renderCsv } from "../generators/csv";
 
 /**
  * Traces API: upload, metadata, min/max windows, original download, removal, tenant isolation.
@@ -282,6 +284,37 @@ describe("GET /api/traces/:id/window", () => {
       expect(res.body.error.code).toBe("validation_failed");
     }
     expect((await techA.get(`/api/traces/${uniformId}/window?width=8000`)).status).toBe(200);
+  });
+});
+
+describe("comparison across a case's traces", () => {
+  it("compares the traces of one kind cylinder to cylinder and flags the odd one out", async () => {
+    const caseId = await newCase(techA);
+    expect((await techA.get(`/api/cases/${caseId}`)).body.comparison).toBeNull();
+    const ids: string[] = [];
+    // Four coils; cylinder 4's spark is generated with half the burn time (0.7 ms against 1.5 ms,
+    // the generator's truth). Outliers: modified z-score of Iglewicz and Hoaglin (1993), |M| > 3.5.
+    for (const cyl of [1, 2, 3, 4]) {
+      const g = generateSecondary({ seed: cyl, sampleRateHz: 200_000, events: 3, burnTimeMs: cyl === 4 ? 0.7 : 1.5 });
+      const res = await upload(techA, caseId, renderCsv(g.trace, { timeUnit: "ms" }), `cyl${cyl}.csv`, { ...g.settings, cylinder: cyl });
+      expect(res.status, JSON.stringify(res.body)).toBe(201);
+      expect(res.body.analysis.summary.burnTimeMs.median).toBeCloseTo(cyl === 4 ? 0.7 : 1.5, 0);
+      ids.push(res.body.id);
+      if (cyl === 1) expect((await techA.get(`/api/cases/${caseId}`)).body.comparison).toBeNull(); // one trace: nothing to compare
+    }
+    // a trace of another kind is left out of the comparison
+    const other = await upload(techA, caseId, generate(2000, { seed: 51 }).text, "sensor.csv", { voltsPerDiv: 1, timePerDivS: 0.002, kind: "generic" });
+    expect(other.status).toBe(201);
+
+    const c = (await techA.get(`/api/cases/${caseId}`)).body;
+    expect(c.comparison.kind).toBe("secondary-ignition");
+    expect(c.comparison.traceIds).toEqual(ids);
+    const burn = c.comparison.metrics.find((m: any) => m.metric === "burnTimeMs");
+    expect(burn.values.map((v: any) => v.traceId)).toEqual(ids);
+    expect(c.comparison.outliers.map((o: any) => [o.traceId, o.metric])).toEqual([[ids[3], "burnTimeMs"]]);
+    const again = await techA.get(`/api/cases/${caseId}/comparison`);
+    expect(again.status).toBe(200);
+    expect(again.body.comparison).toEqual(c.comparison);
   });
 });
 
