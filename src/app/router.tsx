@@ -1,21 +1,55 @@
 import { createBrowserRouter } from "react-router-dom";
 import { AppShell } from "../components/layout/app-shell";
-import { HomePage } from "./routes/home";
+import { RequireAuth, SignedOutOnly } from "../features/auth/components/require-auth";
+import { HomePage } from "./routes/home/home";
+import { NotFoundPage } from "./routes/home/not-found";
+import { SignInPage } from "./routes/auth/sign-in";
+import { SignUpPage } from "./routes/auth/sign-up";
+import { ApplyPage } from "./routes/auth/apply";
+import { AcceptInvitePage } from "./routes/auth/accept-invite";
+import { ForgotPasswordPage } from "./routes/auth/forgot-password";
+import { ResetPasswordPage } from "./routes/auth/reset-password";
+import { TeamPage } from "./routes/team/team";
+import { BillingPage } from "./routes/team/billing";
+import { AdminExpertsPage } from "./routes/admin/experts";
 import { CasePage } from "./routes/cases/case-page";
 import { CaseDraftPage } from "./routes/cases/draft";
 import { CasesListPage } from "./routes/cases/list";
 
-/** All client routes. Each area adds its pages here. */
+/**
+ * All client routes. Each area adds its pages here: signed-in pages go inside the RequireAuth
+ * route (signed-out visitors are sent to sign-in); `RequireAuth roles` narrows a group to roles.
+ */
 export const router = createBrowserRouter([
   {
     path: "/",
     element: <AppShell />,
     children: [
-      { index: true, element: <HomePage /> },
-      { path: "cases", element: <CasesListPage /> },
-      // one element for both addresses, so the first save of a new case keeps the page's state
-      { element: <CaseDraftPage />, children: [{ path: "cases/new" }, { path: "cases/:id/edit" }] },
-      { path: "cases/:id", element: <CasePage /> },
+      {
+        element: <SignedOutOnly />,
+        children: [
+          { path: "sign-in", element: <SignInPage /> },
+          { path: "sign-up", element: <SignUpPage /> },
+          { path: "apply", element: <ApplyPage /> },
+          { path: "forgot-password", element: <ForgotPasswordPage /> },
+        ],
+      },
+      { path: "accept-invite", element: <AcceptInvitePage /> },
+      { path: "reset-password", element: <ResetPasswordPage /> },
+      {
+        element: <RequireAuth />,
+        children: [
+          { index: true, element: <HomePage /> },
+          { path: "cases", element: <CasesListPage /> },
+          // one element for both addresses, so the first save of a new case keeps the page's state
+          { element: <CaseDraftPage />, children: [{ path: "cases/new" }, { path: "cases/:id/edit" }] },
+          { path: "cases/:id", element: <CasePage /> },
+          { element: <RequireAuth roles={["owner", "technician"]} />, children: [{ path: "team", element: <TeamPage /> }] },
+          { element: <RequireAuth roles={["owner"]} />, children: [{ path: "billing", element: <BillingPage /> }] },
+          { element: <RequireAuth roles={["admin"]} />, children: [{ path: "admin/experts", element: <AdminExpertsPage /> }] },
+        ],
+      },
+      { path: "*", element: <NotFoundPage /> },
     ],
   },
 ]);

@@ -1,6 +1,7 @@
 import { NavLink, Outlet, Link } from "react-router-dom";
 import { Wordmark } from "./logo";
 import { useMe } from "../../features/auth/api/get-me";
+import { SignOutButton } from "../../features/auth/components/sign-out-button";
 
 export interface NavItem {
   to: string;
@@ -12,6 +13,8 @@ export interface NavItem {
 export const navItems: NavItem[] = [
   { to: "/", label: "Home" },
   { to: "/cases", label: "Cases", roles: ["technician", "owner"] },
+  { to: "/team", label: "Team", roles: ["owner", "technician"] },
+  { to: "/admin/experts", label: "Experts", roles: ["admin"] },
 ];
 
 export function AppShell() {
@@ -38,7 +41,18 @@ export function AppShell() {
               </NavLink>
             ))}
           </nav>
-          <div className="ml-auto text-sm text-ink-200">{me.data ? `${me.data.name} · ${me.data.role}` : null}</div>
+          <div className="ml-auto flex items-center gap-2 text-sm text-ink-200">
+            {me.data ? (
+              <>
+                <span className="hidden sm:inline">{`${me.data.name} · ${me.data.role}`}</span>
+                <SignOutButton />
+              </>
+            ) : (
+              <Link to="/sign-in" className="rounded-md px-3 py-2 text-ink-200 hover:bg-ink-800">
+                Sign in
+              </Link>
+            )}
+          </div>
         </div>
       </header>
       <main className="flex-1 mx-auto w-full max-w-7xl px-4 py-6">

@@ -1,25 +1,23 @@
 import { queryOptions, useQuery } from "@tanstack/react-query";
 import { api, ApiError } from "../../../lib/api-client";
+import type { Me } from "../../../../shared/schemas/auth";
+import { authKeys, authPaths } from "./paths";
 
-export interface Me {
-  id: string;
-  email: string;
-  name: string;
-  role: "technician" | "owner" | "expert" | "admin";
-  shopId: string | null;
+export type { Me };
+
+export async function getMe(): Promise<Me | null> {
+  try {
+    return await api.get<Me>(authPaths.me);
+  } catch (e) {
+    if (e instanceof ApiError && e.status === 401) return null;
+    throw e;
+  }
 }
 
 /** The signed-in user, or null when signed out. */
 export const meQuery = queryOptions({
-  queryKey: ["me"],
-  queryFn: async (): Promise<Me | null> => {
-    try {
-      return await api.get<Me>("/api/me");
-    } catch (e) {
-      if (e instanceof ApiError && e.status === 401) return null;
-      throw e;
-    }
-  },
+  queryKey: authKeys.me,
+  queryFn: getMe,
   staleTime: 60_000,
 });
 

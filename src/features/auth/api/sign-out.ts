@@ -1,0 +1,16 @@
+import { useMutation, useQueryClient } from "@tanstack/react-query";
+import { api } from "../../../lib/api-client";
+import { authKeys, authPaths } from "./paths";
+
+export const signOut = () => api.post<{ success: boolean }>(authPaths.signOut, {});
+
+export function useSignOut() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: signOut,
+    onSettled: () => {
+      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== authKeys.config[0] });
+      qc.setQueryData(authKeys.me, null);
+    },
+  });
+}
