@@ -1,6 +1,7 @@
 import type { Actor } from "../session";
 import type { CaseStatus } from "../../../shared/domain/case-status";
 import { conflict, forbidden, notFound } from "../../http/errors";
+import { definePolicy } from "./policy";
 
 /** The columns of a case that the rules look at. */
 export interface CaseForPolicy {
@@ -104,3 +105,15 @@ export function caseListScope(actor: Actor): CaseListScope {
   if (actor.role === "admin") return { kind: "all" };
   return { kind: "none" };
 }
+
+/**
+ * The same rules in the shared Policy form (server/auth/policies/policy.ts), for callers that use
+ * that interface (e.g. socket handlers). `authorize` answers 404 / 403 only; routes that must tell
+ * a state refusal (409) from a role refusal (403) call assertCaseAction instead.
+ */
+export const caseActions = ["read", "edit", "addTrace", "deleteTrace", "addPhoto", "deletePhoto"] as const;
+export const casePolicy = definePolicy<(typeof caseActions)[number], CaseForPolicy>("Case", caseActions, (actor, action, c) => {
+  if (!canReadCase(actor, c)) return "hide";
+  if (action === "read") return "allow";
+  return allowed(actor, c, action) ? "allow" : "forbid";
+});

@@ -1,5 +1,6 @@
 import type { Actor } from "../session";
 import { assertCanReadCase, assertCaseAction, caseAbilities, type CaseForPolicy } from "./cases";
+import { definePolicy } from "./policy";
 
 /** A trace (and a photo) belongs to its case: whoever may see the case may see it. */
 export interface TraceAbilities {
@@ -25,3 +26,11 @@ export function assertCanDeleteTrace<C extends CaseForPolicy>(actor: Actor, c: C
 export function assertCanAddTrace<C extends CaseForPolicy>(actor: Actor, c: C | undefined | null): asserts c is C {
   assertCaseAction(actor, c, "addTrace");
 }
+
+/** Trace rules in the shared Policy form; the resource is the trace's case. */
+export const traceActions = ["read", "download", "delete"] as const;
+export const tracePolicy = definePolicy<(typeof traceActions)[number], CaseForPolicy>("Trace", traceActions, (actor, action, c) => {
+  const a = traceAbilities(actor, c);
+  if (!a.read) return "hide";
+  return a[action] ? "allow" : "forbid";
+});
