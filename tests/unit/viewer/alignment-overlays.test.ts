@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { alignmentTime, firstCrossing, midLevel, toDisplayTime, toTraceTime } from "../../../src/features/traces/lib/alignment";
+import { alignmentLevel, alignmentTime, firstCrossing, midLevel, refineWindow, toDisplayTime, toTraceTime } from "../../../src/features/traces/lib/alignment";
 import {
   analysisToPlot,
   annotationShapes,
@@ -164,5 +164,22 @@ describe("trace palette", () => {
     expect(traceColor(TRACE_PALETTE.length)).toBe(TRACE_PALETTE[0]);
     expect(new Set(TRACE_PALETTE).size).toBe(TRACE_PALETTE.length);
     expect(withAlpha("#ff8000", 0.5)).toBe("rgba(255, 128, 0, 0.5)");
+  });
+});
+
+describe("refining a coarse crossing", () => {
+  it("fetches two coarse buckets either side: 100 ms in 4000 buckets is 25 µs each → ±50 µs (hand-computed)", () => {
+    const w = refineWindow(0.0061, { t0: 0, t1: 0.1, width: 4000 }, { start: 0, end: 0.1 });
+    expect(w.t0).toBeCloseTo(0.00605, 12);
+    expect(w.t1).toBeCloseTo(0.00615, 12);
+    expect(refineWindow(0, { t0: 0, t1: 0.1, width: 4000 }, { start: 0, end: 0.1 }).t0).toBe(0);
+  });
+  it("keeps the coarse data's level for the fine search (a fine window's own mid level would differ)", () => {
+    const tr = trace();
+    const coarse = { t: [0, 1, 2, 3], series: [{ name: "A", min: [0, 0, 0, 0], max: [0, 0, 10, 0] }] };
+    expect(alignmentLevel(tr, coarse)).toBe(5);
+    // fine data spanning 1.9–2.1: values 0 → 3 → 7 → 10; level 5 first reached in the third bucket
+    const fine = { t: [1.9, 1.95, 2.0, 2.05], series: [{ name: "A", min: [0, 3, 7, 9], max: [1, 4, 8, 10] }] };
+    expect(alignmentTime(tr, fine, 5)).toEqual({ time: 2.0, source: "crossing" });
   });
 });

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { captureTimeWindow, captureView, fitRange, PRE_TRIGGER_FRACTION, traceBounds, unionRange } from "../../../src/features/traces/lib/capture-view";
-import { divisionStep, gridLines, labelEvery, niceStep } from "../../../src/features/traces/lib/grid";
+import { divisionStep, gridLines, labelEvery, niceStep, niceStepNear } from "../../../src/features/traces/lib/grid";
 import type { TraceInfo } from "../../../src/features/traces/types";
 
 const base: TraceInfo = {
@@ -87,6 +87,15 @@ describe("division grid", () => {
     expect(niceStep(2.5)).toBe(5);
     expect(niceStep(6)).toBe(10);
     expect(niceStep(0.07)).toBeCloseTo(0.1, 15);
+  });
+
+  it("picks the 1-2-5 step nearest on a log scale when zoomed", () => {
+    // hand-computed: |ln(200/217)| = 0.08 < |ln(500/217)| = 0.83
+    expect(niceStepNear(0.217e-3)).toBeCloseTo(0.2e-3, 15);
+    expect(niceStepNear(0.4e-3)).toBeCloseTo(0.5e-3, 15);
+    expect(niceStepNear(1.5)).toBe(2);
+    expect(niceStepNear(7.5)).toBe(10);
+    expect(niceStepNear(1)).toBe(1);
   });
 
   it("keeps the capture's own per-division value at the capture span, even when it is not a 1-2-5 value", () => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { cursorReadout, defaultCursors, perDivText } from "../../../src/features/traces/lib/readout";
-import { formatFrequency, formatInUnit, formatSI, formatTime, parseUnit, probeScale } from "../../../src/features/traces/lib/units";
+import { formatFrequency, formatInUnit, formatSI, formatTicks, formatTime, parseUnit, probeScale } from "../../../src/features/traces/lib/units";
 
 describe("SI formatting (prefixes from the SI Brochure, 9th edition, BIPM 2019, Table 7)", () => {
   it("chooses the prefix that puts the mantissa in [1, 1000)", () => {
@@ -69,5 +69,16 @@ describe("cursor readout", () => {
     expect(c.va).toBeCloseTo(-10 + 16 / 3, 12);
     expect(perDivText(0.0005, null, "time")).toBe("500 µs/div");
     expect(perDivText(2, "V", "level")).toBe("2 V/div");
+  });
+});
+
+describe("grid labels", () => {
+  it("shows each grid value with as few decimals as its step needs (hand-computed)", () => {
+    expect(formatTicks([0.0185, 0.0195, 0.0205], 1e-3, "s")).toEqual(["18.5 ms", "19.5 ms", "20.5 ms"]);
+    expect(formatTicks([-10, -8, 0, 6], 2, "V")).toEqual(["-10 V", "-8 V", "0 V", "6 V"]);
+    expect(formatTicks([-0.5, 0, 0.5], 0.5, "V")).toEqual(["-500 mV", "0 V", "500 mV"]);
+    // 1 µs steps 5 s from zero stay distinct
+    expect(formatTicks([5.000001, 5.000002], 1e-6, "s")).toEqual(["5.000001 s", "5.000002 s"]);
+    expect(formatTicks([250, 500], 250, "mV")).toEqual(["250 mV", "500 mV"]);
   });
 });

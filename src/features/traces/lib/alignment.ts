@@ -35,23 +35,40 @@ export function midLevel(series: { min: ArrayLike<number>; max: ArrayLike<number
   return Number.isFinite(lo) && Number.isFinite(hi) && hi > lo ? (lo + hi) / 2 : null;
 }
 
+/** The level the overlay aligns on: the recorded trigger level, else the mid level of the data. */
+export function alignmentLevel(trace: TraceInfo, data?: TraceWindowData | null): number | null {
+  const s = data?.series?.[0];
+  return trace.settings?.triggerLevel ?? (s ? midLevel(s) : null);
+}
+
 /**
  * The time in a trace's own base that the overlay puts at 0: its first analysis event, else the
- * first crossing of the recorded trigger level (or the mid level) with the recorded slope in the
- * given window data of its first channel, else the trace's start.
+ * first crossing of `level` (default: alignmentLevel) with the recorded slope in the given window
+ * data of its first channel, else the trace's start.
  */
-export function alignmentTime(trace: TraceInfo, data?: TraceWindowData | null): { time: number; source: "event" | "crossing" | "start" } {
+export function alignmentTime(
+  trace: TraceInfo,
+  data?: TraceWindowData | null,
+  level: number | null = alignmentLevel(trace, data),
+): { time: number; source: "event" | "crossing" | "start" } {
   const ev = trace.analysis?.events?.[0]?.timeS;
   if (typeof ev === "number" && Number.isFinite(ev)) return { time: ev, source: "event" };
   const s = data?.series?.[0];
-  if (data && s) {
-    const level = trace.settings?.triggerLevel ?? midLevel(s);
-    if (level != null) {
-      const c = firstCrossing(data.t, s.min, s.max, level, trace.settings?.triggerSlope ?? "rising");
-      if (c != null) return { time: c, source: "crossing" };
-    }
+  if (data && s && level != null) {
+    const c = firstCrossing(data.t, s.min, s.max, level, trace.settings?.triggerSlope ?? "rising");
+    if (c != null) return { time: c, source: "crossing" };
   }
   return { time: trace.t0 ?? 0, source: "start" };
+}
+
+/**
+ * A crossing found in coarse buckets is only as precise as one bucket; the window to fetch again,
+ * finely, spans two coarse buckets either side of it (the bucket before the crossing lies wholly on
+ * the far side of the level, so the fine data starts armed).
+ */
+export function refineWindow(crossing: number, coarse: { t0: number; t1: number; width: number }, bounds: { start: number; end: number }): { t0: number; t1: number } {
+  const bw = (coarse.t1 - coarse.t0) / Math.max(1, coarse.width);
+  return { t0: Math.max(bounds.start, crossing - 2 * bw), t1: Math.min(bounds.end, crossing + 2 * bw) };
 }
 
 /** Display time (aligned, 0 at the alignment point) ↔ the trace's own time. */

@@ -12,14 +12,25 @@ export function niceStep(x: number): number {
   return 10 * base;
 }
 
+/** The 1-2-5 step nearest to x on a log scale (x > 0): 217 µs → 200 µs, 400 µs → 500 µs. */
+export function niceStepNear(x: number): number {
+  if (!(x > 0) || !Number.isFinite(x)) return 1;
+  const exp = Math.floor(Math.log10(x));
+  const base = 10 ** exp;
+  let best = base;
+  for (const m of [1, 2, 5, 10]) if (Math.abs(Math.log(m * base / x)) < Math.abs(Math.log(best / x))) best = m * base;
+  return best;
+}
+
 /**
  * Step between grid lines for a visible span: the capture's own per-division value while the view
- * spans `divisions` of it, otherwise the 1-2-5 step nearest above span / divisions.
+ * spans `divisions` of it, otherwise the 1-2-5 step nearest to span / divisions (so a zoomed view
+ * keeps about as many divisions as the screen: 7 to 14 of them).
  */
 export function divisionStep(span: number, perDiv: number, divisions: number): number {
   const want = span / divisions;
   if (perDiv > 0 && Math.abs(want - perDiv) <= perDiv * 1e-6) return perDiv;
-  return niceStep(want);
+  return niceStepNear(want);
 }
 
 /** All values anchor + k·step inside [lo, hi] (inclusive, with float tolerance), ascending. */

@@ -108,3 +108,30 @@ export function probeScale(
 export function formatScaled(value: number, unit: string, opts?: FormatOptions): string {
   return formatInUnit(value, unit, opts);
 }
+
+/**
+ * Labels for evenly spaced grid values: the prefix follows each value, and the decimals are the
+ * fewest that show every value to a thousandth of the step (so 18.5 ms stays "18.5 ms" and deep
+ * zooms far from zero stay distinct). Values are in `unit` (e.g. "s", "V", "mV").
+ */
+export function formatTicks(values: number[], step: number, unit: string | null | undefined): string[] {
+  const u = parseUnit(unit);
+  const stepBase = Math.abs(step * u.scale);
+  return values.map((v) => {
+    const x = v * u.scale;
+    if (Math.abs(x) < stepBase * 1e-6) return `0 ${u.base}`;
+    if (!u.si) {
+      for (let d = 0; d <= 6; d++) if (Math.abs(Number(x.toFixed(d)) - x) <= stepBase * 1e-3) return `${trimZeros(x.toFixed(d))} ${u.base}`;
+      return `${x} ${u.base}`;
+    }
+    const abs = Math.abs(x);
+    let i = PREFIXES.findIndex((p) => abs >= p.f * 0.9999999);
+    if (i < 0) i = PREFIXES.length - 1;
+    const f = PREFIXES[i].f;
+    for (let d = 0; d <= 6; d++) {
+      const m = Number((x / f).toFixed(d));
+      if (Math.abs(m * f - x) <= stepBase * 1e-3) return `${trimZeros((x / f).toFixed(d))} ${PREFIXES[i].p}${u.base}`;
+    }
+    return `${trimZeros((x / f).toFixed(6))} ${PREFIXES[i].p}${u.base}`;
+  });
+}

@@ -1,0 +1,73 @@
+import type { Annotation, AnnotationKind } from "../types";
+import { formatInUnit, formatTime } from "../lib/units";
+
+export interface AnnotationListProps {
+  annotations: Annotation[];
+  /** click on an item: the viewer zooms to centre that mark */
+  onJump: (a: Annotation) => void;
+  selectedId?: string | null;
+  /** trace names by id, shown when the list spans several traces */
+  traceNames?: Record<string, string>;
+  /** channel unit by trace id, for level values (null = volts) */
+  units?: Record<string, string | null>;
+  className?: string;
+}
+
+const KIND_LABEL: Record<AnnotationKind, string> = { pin: "Pin", span: "Span", level: "Level", note: "Note" };
+
+function where(a: Annotation, unit: string | null | undefined): string {
+  if (a.kind === "span" && a.t1 != null) {
+    const lo = Math.min(a.t0, a.t1);
+    const hi = Math.max(a.t0, a.t1);
+    return `${formatTime(lo)} – ${formatTime(hi)} (${formatTime(hi - lo)})`;
+  }
+  if (a.kind === "level" && a.level != null) return formatInUnit(a.level, unit);
+  if (a.kind === "pin" && a.level != null) return `${formatTime(a.t0)} · ${formatInUnit(a.level, unit)}`;
+  return formatTime(a.t0);
+}
+
+/** The marks on the traces, in time order; each item jumps the viewer to its mark. */
+export function AnnotationList({ annotations, onJump, selectedId, traceNames, units, className }: AnnotationListProps) {
+  const several = new Set(annotations.map((a) => a.traceId)).size > 1;
+  const sorted = [...annotations].sort((a, b) => (a.traceId === b.traceId ? a.t0 - b.t0 : a.traceId < b.traceId ? -1 : 1));
+  return (
+    <div className={className}>
+      <h3 className="text-sm font-semibold text-ink-700 mb-1">Marks{annotations.length ? ` (${annotations.length})` : ""}</h3>
+      {sorted.length === 0 ? (
+        <p className="text-sm text-ink-500">No marks yet.</p>
+      ) : (
+        <ul className="flex flex-col gap-1 max-h-80 overflow-y-auto pr-1">
+          {sorted.map((a) => {
+            const selected = a.id === selectedId;
+            return (
+              <li key={a.id}>
+                <button
+                  type="button"
+                  onClick={() => onJump(a)}
+                  aria-current={selected ? "true" : undefined}
+                  className={`w-full min-h-10 text-left rounded-md border px-2 py-1.5 flex items-start gap-2 text-sm hover:bg-ink-50 ${
+                    selected ? "border-ink-500 bg-ink-50" : "border-ink-100 bg-white"
+                  } ${a.pending ? "border-dashed" : ""}`}
+                >
+                  <span className="mt-1 inline-block h-3 w-3 shrink-0 rounded-sm" style={{ background: a.color }} aria-hidden="true" />
+                  <span className="min-w-0 flex-1">
+                    <span className="block truncate text-ink-900">
+                      <span className="font-semibold">{KIND_LABEL[a.kind]}</span>
+                      {a.label ? ` · ${a.label}` : ""}
+                    </span>
+                    <span className="block text-xs text-ink-500">
+                      {where(a, units?.[a.traceId])}
+                      {several && traceNames?.[a.traceId] ? ` · ${traceNames[a.traceId]}` : ""}
+                      {a.authorName ? ` · ${a.authorName}` : ""}
+                      {a.pending ? " · sending…" : ""}
+                    </span>
+                  </span>
+                </button>
+              </li>
+            );
+          })}
+        </ul>
+      )}
+    </div>
+  );
+}
