@@ -10,6 +10,8 @@ import { devMailRoutes } from "./dev-mail";
 import { caseRoutes } from "./cases";
 import { photoRoutes } from "./photos";
 import { traceRoutes } from "./traces";
+import { annotationRoutes } from "./annotations";
+import { messageRoutes } from "./messages";
 import { webhookRoutes } from "./webhooks";
 import { submitRoutes } from "./submit";
 import { queueRoutes } from "./queue";
@@ -37,5 +39,7 @@ export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void 
   app.use("/api", caseRoutes(ctx, auth));
   app.use("/api", photoRoutes(ctx, auth));
   app.use("/api", traceRoutes(ctx, auth));
+  app.use("/api", annotationRoutes(ctx, auth));
+  app.use("/api", messageRoutes(ctx, auth));
   app.use(devMailRoutes(ctx));
 }
