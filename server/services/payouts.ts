@@ -97,7 +97,15 @@ async function sendPayout(ctx: AppContext, p: PayoutRow): Promise<PayoutRow> {
 /** Pay every expert with unpaid earnings (admin button and the daily sweep). Retries pending payouts. */
 export async function runPayouts(ctx: AppContext, actorId: string | null, onlyExpertId?: string): Promise<PayoutRow[]> {
   const out: PayoutRow[] = [];
-  const stuck = ctx.db.select().from(payout).where(eq(payout.status, "pending")).all().filter((p) => !onlyExpertId || p.expertId === onlyExpertId);
+  // A payout still pending after 10 minutes was interrupted (e.g. a restart): send it again with
+  // the same idempotency key, so Stripe answers with the transfer it may already have made.
+  const stuckBefore = ctx.now().getTime() - 10 * 60_000;
+  const stuck = ctx.db
+    .select()
+    .from(payout)
+    .where(eq(payout.status, "pending"))
+    .all()
+    .filter((p) => p.createdAt.getTime() < stuckBefore && (!onlyExpertId || p.expertId === onlyExpertId));
   for (const p of stuck) out.push(await sendPayout(ctx, p));
   const experts = onlyExpertId
     ? [onlyExpertId]
