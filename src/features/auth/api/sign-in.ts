@@ -2,7 +2,7 @@ import { useMutation, useQueryClient } from "@tanstack/react-query";
 import { api } from "../../../lib/api-client";
 import { signInSchema, type SignInInput } from "../../../../shared/schemas/auth";
 import { authKeys, authPages, authPaths } from "./paths";
-import { meQuery } from "./get-me";
+import { getMe } from "./get-me";
 
 export function signIn(input: SignInInput) {
   const body = signInSchema.parse({ ...input, callbackURL: `${authPages.signIn}?verified=1` });
@@ -15,8 +15,10 @@ export function useSignIn() {
   return useMutation({
     mutationFn: signIn,
     onSuccess: async () => {
-      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== authKeys.config[0] });
-      await qc.fetchQuery(meQuery);
+      const me = await getMe();
+      // keep the "me" query itself (the shell observes it); drop data fetched as someone else
+      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== authKeys.config[0] && q.queryKey[0] !== authKeys.me[0] });
+      qc.setQueryData(authKeys.me, me);
     },
   });
 }

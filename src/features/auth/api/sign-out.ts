@@ -9,8 +9,8 @@ export function useSignOut() {
   return useMutation({
     mutationFn: signOut,
     onSettled: () => {
-      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== authKeys.config[0] });
       qc.setQueryData(authKeys.me, null);
+      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== authKeys.config[0] && q.queryKey[0] !== authKeys.me[0] });
     },
   });
 }

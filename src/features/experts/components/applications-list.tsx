@@ -57,7 +57,7 @@ export function ApplicationsList({ status }: { status: ExpertStatus }) {
   const q = useExpertApplications(status);
   if (q.isPending) return <p className="text-ink-500">Loading applications…</p>;
   if (q.isError) return <Notice tone="error" title="Applications could not be loaded">{q.error.message}</Notice>;
-  if (q.data.experts.length === 0) return <p className="text-ink-600">{status === "pending" ? "No applications are waiting. " : ""}Nothing to show here.</p>;
+  if (q.data.experts.length === 0) return <p className="text-ink-600">{status === "pending" ? "No applications are waiting." : "No applications with this status."}</p>;
   return (
     <ul className="grid gap-3 lg:grid-cols-2">
       {q.data.experts.map((e) => (
