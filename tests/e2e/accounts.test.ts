@@ -76,7 +76,7 @@ test("sign up a shop, verify from /dev/mail, sign in, invite a technician who th
   await page.getByText("Invitation sent").waitFor();
   expect(await page.getByText("jo@millbrook.test").count()).toBeGreaterThan(0);
   // nothing wider than the phone's viewport
-  expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+  expect(await page.evaluate<number>("document.documentElement.scrollWidth")).toBeLessThanOrEqual(390);
 
   const techCtx = await browser.newContext({ viewport: { width: 820, height: 1180 } });
   const tech = await techCtx.newPage();
