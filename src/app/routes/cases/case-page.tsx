@@ -99,7 +99,7 @@ export function CasePage() {
               caseId={c.id}
               ensureCaseId={() => Promise.resolve(c.id)}
               photos={c.photos}
-              onDelete={can.deletePhoto ? (p) => del.mutate({ kind: "photo", id: p.id, caseId: c.id }) : undefined}
+              onDelete={can.deletePhoto ? (p) => confirm(`Remove the photo ${p.name}?`) && del.mutate({ kind: "photo", id: p.id, caseId: c.id }) : undefined}
             />
           ) : (
             <PhotoUploader caseId={c.id} ensureCaseId={() => Promise.resolve(c.id)} photos={c.photos} disabled />
@@ -116,7 +116,7 @@ export function CasePage() {
             Could not remove it: {del.error.message}
           </p>
         ) : null}
-        <CaseTraces c={c} onDeleteTrace={can.deleteTrace ? (t) => del.mutate({ kind: "trace", id: t.id, caseId: c.id }) : undefined} />
+        <CaseTraces c={c} onDeleteTrace={can.deleteTrace ? (t) => confirm(`Remove the trace ${t.name} from this case?`) && del.mutate({ kind: "trace", id: t.id, caseId: c.id }) : undefined} />
         {can.addTrace ? (
           <Section id="add-traces" title="Add traces" description="More captures for this case: each gets a preview and its capture settings.">
             <TraceUploader caseId={c.id} onUploaded={() => void refresh()} />

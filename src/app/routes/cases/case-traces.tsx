@@ -66,11 +66,11 @@ function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
 
       {analysis ? (
         <div className="grid gap-4 xl:grid-cols-2">
-          <section aria-label={`Findings for ${label}`} className="space-y-2">
+          <section aria-label={`Findings for ${label}`} className="min-w-0 space-y-2">
             <h4 className="font-bold text-ink-800">Capture review</h4>
             <FindingsList findings={analysis.findings} ignition={analysis.kind === "secondary-ignition"} />
           </section>
-          <section aria-label={`Measurements of ${label}`} className="space-y-2">
+          <section aria-label={`Measurements of ${label}`} className="min-w-0 space-y-2">
             <h4 className="font-bold text-ink-800">Measurements</h4>
             <MeasurementsTable analysis={analysis} traceName={label} />
           </section>

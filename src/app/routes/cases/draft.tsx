@@ -75,7 +75,7 @@ export function CaseDraftPage() {
         caseId={id}
         initial={loadForForm ? c : null}
         photos={c?.photos ?? []}
-        onDeletePhoto={abilities.deletePhoto && id ? (p) => del.mutate({ kind: "photo", id: p.id, caseId: id }) : undefined}
+        onDeletePhoto={abilities.deletePhoto && id ? (p) => confirm(`Remove the photo ${p.name}?`) && del.mutate({ kind: "photo", id: p.id, caseId: id }) : undefined}
         saveRef={saveRef}
         onCreated={(newId) => {
           setCreatedHere(newId);
@@ -88,7 +88,7 @@ export function CaseDraftPage() {
           description="Scope exports as CSV or TSV, one per cylinder or coil when you compare. Each gets a preview and its capture settings before it goes up."
         >
           {c?.traces.length ? (
-            <TraceList traces={c.traces} onDelete={abilities.deleteTrace && id ? (t) => del.mutate({ kind: "trace", id: t.id, caseId: id }) : undefined} />
+            <TraceList traces={c.traces} onDelete={abilities.deleteTrace && id ? (t) => confirm(`Remove the trace ${t.name} from this case?`) && del.mutate({ kind: "trace", id: t.id, caseId: id }) : undefined} />
           ) : null}
           {del.isError ? (
             <p role="alert" className="text-sm font-semibold text-alarm-600">

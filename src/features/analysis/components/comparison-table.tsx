@@ -10,8 +10,11 @@ export interface ComparedTrace {
 
 const outlierKey = (traceId: string | undefined, metric: string) => `${traceId}\u0000${metric}`;
 
+/** The unit to print ("count" is a plain number). */
+const shownUnit = (u: string | undefined) => (!u || u === "count" ? "" : u);
+
 function unitOf(c: Comparison, metric: string): string {
-  return c.metrics.find((m) => m.metric === metric)?.unit ?? "";
+  return shownUnit(c.metrics.find((m) => m.metric === metric)?.unit);
 }
 
 /** "Coil 3 burn time 0.62 ms vs median 1.48 ms (score −6.1)" */
@@ -57,13 +60,13 @@ export function ComparisonTable({ comparison, traces }: { comparison: Comparison
           <caption className="sr-only">Comparison across cylinders: each trace's median per metric; odd values highlighted</caption>
           <thead className="bg-ink-50">
             <tr>
-              <th scope="col" className="px-3 py-2 text-left font-semibold text-ink-600">
+              <th scope="col" className="sticky left-0 z-10 bg-ink-50 px-3 py-2 text-left font-semibold text-ink-600">
                 Trace
               </th>
               {metrics.map((m) => (
                 <th key={m.metric} scope="col" className="px-3 py-2 text-right font-semibold text-ink-600">
                   {metricLabel(m.metric)}
-                  {m.unit ? <span className="block text-xs font-normal text-ink-500">{m.unit}</span> : null}
+                  {shownUnit(m.unit) ? <span className="block text-xs font-normal text-ink-500">{shownUnit(m.unit)}</span> : null}
                 </th>
               ))}
             </tr>
@@ -73,9 +76,9 @@ export function ComparisonTable({ comparison, traces }: { comparison: Comparison
               const odd = metrics.some((m) => flagged.has(outlierKey(id, m.metric)));
               return (
                 <tr key={id} className={odd ? "bg-alarm-500/5" : undefined}>
-                  <th scope="row" className="px-3 py-2 text-left font-semibold text-ink-900">
-                    {labelOf(id)}
-                    {odd ? <span className="ml-2 rounded bg-alarm-500 px-1.5 py-0.5 text-xs font-bold text-white">odd one out</span> : null}
+                  <th scope="row" className={`sticky left-0 z-10 px-3 py-2 text-left font-semibold text-ink-900 ${odd ? "bg-[#fcf6f5]" : "bg-white"}`}>
+                    <span className="whitespace-nowrap">{labelOf(id)}</span>
+                    {odd ? <span className="mt-0.5 block w-fit whitespace-nowrap rounded bg-alarm-500 px-1.5 py-0.5 text-xs font-bold text-white">odd one out</span> : null}
                   </th>
                   {metrics.map((m) => {
                     const v = m.values.find((x) => x.traceId === id)?.value ?? null;
@@ -86,7 +89,7 @@ export function ComparisonTable({ comparison, traces }: { comparison: Comparison
                         className={`px-3 py-2 text-right tabular-nums ${o ? "font-bold text-alarm-600 ring-2 ring-inset ring-alarm-500" : "text-ink-800"}`}
                       >
                         {fmtNum(v)}
-                        {o ? <span className="block text-xs font-semibold">M = {fmtNum(o.score, 2)}</span> : null}
+                        {o ? <span className="block whitespace-nowrap text-xs font-semibold">M = {fmtNum(o.score, 2)}</span> : null}
                       </td>
                     );
                   })}
@@ -96,7 +99,7 @@ export function ComparisonTable({ comparison, traces }: { comparison: Comparison
           </tbody>
           <tfoot className="border-t-2 border-ink-200 bg-ink-50">
             <tr>
-              <th scope="row" className="px-3 py-2 text-left font-semibold text-ink-600">
+              <th scope="row" className="sticky left-0 z-10 bg-ink-50 px-3 py-2 text-left font-semibold text-ink-600">
                 Median
               </th>
               {metrics.map((m) => (

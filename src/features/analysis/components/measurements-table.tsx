@@ -3,8 +3,8 @@ import type { AnalysisResult, MetricStats } from "../../../../shared/analysis/ty
 import { fmtHz, fmtNum, fmtSeconds, fmtWithUnit } from "../lib/format";
 import { metricsByKind, resolveUnit } from "../lib/metrics";
 
-const th = "px-3 py-2 text-left font-semibold text-ink-600";
-const td = "px-3 py-2 tabular-nums";
+const th = "px-2 py-2 text-left font-semibold text-ink-600 sm:px-3";
+const td = "px-2 py-2 tabular-nums sm:px-3";
 
 function statsOf(summary: unknown, key: string): MetricStats | null {
   const v = (summary as Record<string, unknown>)[key];
@@ -76,7 +76,7 @@ export function MeasurementsTable({ analysis, traceName }: { analysis: AnalysisR
 
       {rows.length ? (
         <div className="overflow-x-auto rounded-lg border border-ink-200">
-          <table className="w-full min-w-[28rem] text-sm">
+          <table className="w-full text-sm">
             <caption className="sr-only">Measurements of {traceName}</caption>
             <thead className="bg-ink-50">
               <tr>

@@ -1,9 +1,10 @@
 /** Numbers for the measurement tables: a few significant digits, thin grouping, "—" for none. */
 export function fmtNum(x: number | null | undefined, digits = 3): string {
   if (x === null || x === undefined || !Number.isFinite(x)) return "—";
-  if (x === 0) return "0";
   const a = Math.abs(x);
-  if (a >= 1e5 || a < 1e-3) return x.toExponential(2);
+  // a residue of floating-point arithmetic (a baseline of 1e-9 V) reads as zero
+  if (a < 1e-7) return "0";
+  if (a >= 1e5 || a < 1e-4) return x.toExponential(2);
   if (Number.isInteger(x) && a < 1e5) return x.toLocaleString("en-US");
   return Number(x.toPrecision(digits)).toLocaleString("en-US", { maximumFractionDigits: 6 });
 }

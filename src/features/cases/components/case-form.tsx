@@ -23,7 +23,7 @@ import { fieldDomId, formFieldPaths, splitServerErrors, toFormValues, type CaseF
 import { loadLabels, occurrenceLabels, systemLabels, temperatureLabels } from "../lib/labels";
 import { CodeChips } from "./code-chips";
 import { PhotoUploader } from "./photo-uploader";
-import { buttonClass, ChoiceBox, FieldError, inputClass, Label, Section } from "./ui";
+import { buttonClass, ChoiceBox, FieldError, inputBase, inputClass, Label, Section } from "./ui";
 import { VinField } from "./vin-field";
 
 const resolver = zodResolver(caseDraftSchema) as unknown as Resolver<CaseFormValues, unknown, CaseDraft>;
@@ -272,6 +272,7 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
                 <div className="flex gap-2">
                   <input
                     id={fieldDomId("vehicle.mileage")}
+                    size={1}
                     {...register("vehicle.mileage")}
                     inputMode="numeric"
                     autoComplete="off"
@@ -280,7 +281,7 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
                     aria-invalid={errorAt(errs, "vehicle.mileage") ? true : undefined}
                     aria-describedby={errorAt(errs, "vehicle.mileage") ? `${fieldDomId("vehicle.mileage")}-error` : undefined}
                   />
-                  <select {...register("vehicle.mileageUnit")} aria-label="Mileage unit" className={`${inputClass} w-24 flex-none`}>
+                  <select {...register("vehicle.mileageUnit")} aria-label="Mileage unit" className={`${inputBase} w-24 flex-none`}>
                     <option value="mi">mi</option>
                     <option value="km">km</option>
                   </select>

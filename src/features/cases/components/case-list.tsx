@@ -14,7 +14,7 @@ import { casePages } from "../api/paths";
 import { codeStrings, type CaseListItem } from "../api/types";
 import { formatDate, statusLabels, vehicleTitle } from "../lib/labels";
 import { StatusBadge } from "./status-badge";
-import { buttonClass, inputClass } from "./ui";
+import { buttonClass, inputBase, inputClass } from "./ui";
 
 const col = createColumnHelper<CaseListItem>();
 
@@ -331,7 +331,7 @@ export function CaseList({ params, onChange }: { params: CaseListParams; onChang
               id={ids.size}
               value={params.pageSize}
               onChange={(e) => onChange({ ...params, pageSize: Number(e.target.value), page: 1 })}
-              className={`${inputClass} w-24`}
+              className={`${inputBase} w-24`}
             >
               {[10, 20, 50, 100].map((n) => (
                 <option key={n} value={n}>

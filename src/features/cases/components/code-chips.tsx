@@ -126,7 +126,7 @@ export function CodeChips({
               commit(text + pasted);
             }
           }}
-          className={`${inputClass} font-mono uppercase`}
+          className={`${inputClass} font-mono uppercase placeholder:normal-case placeholder:font-sans`}
           placeholder="e.g. P0304"
           autoCapitalize="characters"
           autoComplete="off"

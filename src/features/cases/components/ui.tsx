@@ -4,8 +4,11 @@
  */
 import type { ReactNode } from "react";
 
-export const inputClass =
-  "block w-full min-h-11 rounded-lg border border-ink-300 bg-white px-3 py-2 text-base text-ink-900 placeholder:text-ink-400 focus:border-kiln-500 focus:outline-none focus:ring-2 focus:ring-kiln-300 aria-[invalid=true]:border-alarm-500 disabled:bg-ink-50 disabled:text-ink-500";
+/** An input's look without its width (for boxes sized by their row, e.g. a unit next to a number). */
+export const inputBase =
+  "block min-h-11 rounded-lg border border-ink-300 bg-white px-3 py-2 text-base text-ink-900 placeholder:text-ink-400 focus:border-kiln-500 focus:outline-none focus:ring-2 focus:ring-kiln-300 aria-[invalid=true]:border-alarm-500 disabled:bg-ink-50 disabled:text-ink-500";
+
+export const inputClass = `${inputBase} w-full min-w-0`;
 
 export const buttonClass = {
   primary:
@@ -17,7 +20,7 @@ export const buttonClass = {
 
 export function Section({ title, children, description, id }: { title: string; description?: ReactNode; children: ReactNode; id?: string }) {
   return (
-    <section aria-labelledby={id ? `${id}-title` : undefined} className="rounded-xl border border-ink-200 bg-white p-4 sm:p-5 shadow-sm">
+    <section aria-labelledby={id ? `${id}-title` : undefined} className="min-w-0 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
       <h2 id={id ? `${id}-title` : undefined} className="text-lg font-bold text-ink-900">
         {title}
       </h2>

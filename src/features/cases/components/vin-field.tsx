@@ -57,7 +57,7 @@ export function VinField() {
       <input
         id="case-vehicle-vin"
         {...field}
-        className={`${inputClass} font-mono uppercase tracking-wider`}
+        className={`${inputClass} font-mono uppercase tracking-wider placeholder:normal-case placeholder:tracking-normal placeholder:font-sans`}
         autoCapitalize="characters"
         autoComplete="off"
         spellCheck={false}

@@ -3,8 +3,9 @@ import { probeKinds, traceKinds, type TraceKind } from "../../../../shared/schem
 import { kindLabels, probeLabels, rateUnits, timeUnits, withKind, type SettingsDraft, type SettingsErrors, type SettingsField } from "../lib/settings";
 import { SafetyCaution } from "./safety-caution";
 
-const input =
-  "block w-full min-h-11 rounded-lg border border-ink-300 bg-white px-3 py-2 text-base text-ink-900 placeholder:text-ink-400 focus:border-kiln-500 focus:outline-none focus:ring-2 focus:ring-kiln-300 aria-[invalid=true]:border-alarm-500 disabled:bg-ink-50";
+const inputBase =
+  "block min-h-11 rounded-lg border border-ink-300 bg-white px-3 py-2 text-base text-ink-900 placeholder:text-ink-400 focus:border-kiln-500 focus:outline-none focus:ring-2 focus:ring-kiln-300 aria-[invalid=true]:border-alarm-500 disabled:bg-ink-50";
+const input = `${inputBase} w-full min-w-0`;
 
 interface Props {
   idPrefix: string;
@@ -212,7 +213,7 @@ export function CaptureSettingsForm({ idPrefix, draft, onChange, errors, needsRa
               aria-invalid={errors.timePerDivS ? true : undefined}
               aria-describedby={[guessedHint("timePerDiv") ? `${id("timePerDiv")}-hint` : "", errors.timePerDivS ? `${id("timePerDiv")}-error` : ""].join(" ").trim() || undefined}
             />
-            <select aria-label="Time unit" className={`${input} w-20 flex-none`} value={draft.timeUnit} onChange={(e) => set("timeUnit", e.target.value as SettingsDraft["timeUnit"])}>
+            <select aria-label="Time unit" className={`${inputBase} w-20 flex-none`} value={draft.timeUnit} onChange={(e) => set("timeUnit", e.target.value as SettingsDraft["timeUnit"])}>
               {(Object.keys(timeUnits) as (keyof typeof timeUnits)[]).map((u) => (
                 <option key={u} value={u}>
                   {u === "us" ? "µs" : u}
@@ -311,7 +312,7 @@ export function CaptureSettingsForm({ idPrefix, draft, onChange, errors, needsRa
               aria-describedby={`${id("sampleRate")}-hint${errors.sampleRateHz ? ` ${id("sampleRate")}-error` : ""}`}
               aria-required={needsRate || undefined}
             />
-            <select aria-label="Sample rate unit" className={`${input} w-28 flex-none`} value={draft.rateUnit} onChange={(e) => set("rateUnit", e.target.value as SettingsDraft["rateUnit"])}>
+            <select aria-label="Sample rate unit" className={`${inputBase} w-28 flex-none`} value={draft.rateUnit} onChange={(e) => set("rateUnit", e.target.value as SettingsDraft["rateUnit"])}>
               {(Object.keys(rateUnits) as (keyof typeof rateUnits)[]).map((u) => (
                 <option key={u} value={u}>
                   {u}

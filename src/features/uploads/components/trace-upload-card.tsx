@@ -29,8 +29,11 @@ export function TraceUploadCard({
   onStart,
   onCancel,
   onRemove,
+  copySource,
 }: {
   item: UploadItem;
+  /** another file whose settings can be taken over with one tap */
+  copySource?: { name: string; onCopy: () => void };
   onDraft: (d: SettingsDraft) => void;
   onStart: () => void;
   onCancel: () => void;
@@ -74,7 +77,7 @@ export function TraceUploadCard({
           </p>
           <p className="text-sm text-ink-500">
             {formatSize(item.file.size)} · {kindLabels[item.draft.kind]} ·{" "}
-            <span className={item.status === "error" ? "font-semibold text-alarm-600" : ""}>{statusText[item.status]}</span>
+            <span className={item.status === "error" || blocked ? "font-semibold text-alarm-600" : ""}>{blocked ? "Cannot be read" : statusText[item.status]}</span>
           </p>
         </div>
         {!busy ? (
@@ -109,6 +112,15 @@ export function TraceUploadCard({
               {Object.keys(item.errors).length ? <span className="text-sm text-alarm-600">— {Object.keys(item.errors).length} to fix</span> : null}
             </button>
             <div id={`${item.key}-settings`} hidden={!open}>
+              {copySource && !busy ? (
+                <button
+                  type="button"
+                  className="mb-3 min-h-11 rounded-lg border border-ink-300 bg-white px-3 text-sm font-semibold text-ink-800 hover:bg-ink-50"
+                  onClick={copySource.onCopy}
+                >
+                  Same settings as {copySource.name}
+                </button>
+              ) : null}
               <CaptureSettingsForm
                 idPrefix={item.key}
                 draft={item.draft}

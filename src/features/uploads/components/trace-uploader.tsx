@@ -80,16 +80,22 @@ export function TraceUploader({
 
       {q.items.length ? (
         <ul className="space-y-4" aria-label="Traces to upload">
-          {q.items.map((it) => (
-            <TraceUploadCard
-              key={it.key}
-              item={it}
-              onDraft={(d) => q.setDraft(it.key, d)}
-              onStart={() => void q.start(it.key)}
-              onCancel={() => q.cancel(it.key)}
-              onRemove={() => q.remove(it.key)}
-            />
-          ))}
+          {q.items.map((it, i) => {
+            const source = q.items
+              .slice(0, i)
+              .find((x) => x.preview?.ok && (x.status === "ready" || x.status === "uploading" || x.status === "done" || x.status === "cancelled"));
+            return (
+              <TraceUploadCard
+                key={it.key}
+                item={it}
+                copySource={source ? { name: source.file.name, onCopy: () => q.copyFrom(source.key, it.key) } : undefined}
+                onDraft={(d) => q.setDraft(it.key, d)}
+                onStart={() => void q.start(it.key)}
+                onCancel={() => q.cancel(it.key)}
+                onRemove={() => q.remove(it.key)}
+              />
+            );
+          })}
         </ul>
       ) : null}
 

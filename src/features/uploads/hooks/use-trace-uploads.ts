@@ -4,7 +4,7 @@ import { ApiError } from "../../../lib/api-client";
 import { uploadTrace, type UploadedTrace } from "../api/upload-trace";
 import { guessKind } from "../lib/guess-kind";
 import { previewText, readHead, type TracePreview } from "../lib/preview";
-import { initialSettings, rateUnits, toCaptureSettings, type SettingsDraft, type SettingsErrors } from "../lib/settings";
+import { copySettings, framingTime, initialSettings, rateUnits, toCaptureSettings, type SettingsDraft, type SettingsErrors } from "../lib/settings";
 
 export type UploadStatus = "reading" | "ready" | "uploading" | "done" | "error" | "cancelled";
 
@@ -108,7 +108,15 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
         if (!noRateInFile) continue;
         const rate = statedRate(it.draft);
         const prev = it.preview.ok ? it.preview.trace.sampleRateHz : undefined;
-        if (rate && rate !== prev) patch(it.key, { preview: previewText(it.head, it.file.size, rate) });
+        if (!rate || rate === prev) continue;
+        const preview = previewText(it.head, it.file.size, rate);
+        patch(it.key, (cur) => {
+          // now the duration is known: frame it when the tech has not set a time base yet
+          const framing = preview.ok && cur.draft.timePerDiv.trim() === "" ? framingTime((preview.trace.durationS * preview.estimatedSamples) / preview.trace.samples) : null;
+          return framing
+            ? { preview, draft: { ...cur.draft, ...framing }, fromFile: [...cur.fromFile.filter((k) => k !== "timePerDiv"), "timePerDiv"] }
+            : { preview };
+        });
       }
     }, 300);
     return () => clearTimeout(t);
@@ -161,6 +169,20 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
     [patch],
   );
 
+  /** The settings of `fromKey` for `toKey` too (its cylinder, coil, circuit and sensor stay). */
+  const copyFrom = useCallback(
+    (fromKey: string, toKey: string) => {
+      const from = itemsRef.current.find((x) => x.key === fromKey);
+      if (!from) return;
+      patch(toKey, (to) => ({
+        draft: copySettings(from.draft, to.draft),
+        fromFile: to.fromFile.filter((k) => k === "cylinder" || k === "coil"),
+        errors: {},
+      }));
+    },
+    [patch],
+  );
+
   const cancel = useCallback((key: string) => aborts.current.get(key)?.abort(), []);
   const remove = useCallback((key: string) => {
     aborts.current.get(key)?.abort();
@@ -178,7 +200,7 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
     return () => m.forEach((a) => a.abort());
   }, []);
 
-  return { items, add, setDraft, start, startAll, cancel, remove };
+  return { items, add, setDraft, copyFrom, start, startAll, cancel, remove };
 }
 
 function recheck(draft: SettingsDraft, it: UploadItem): SettingsErrors {

@@ -9,7 +9,7 @@ import type { ParsedTrace } from "../../../../shared/trace/types";
  * both sides of zero many times; starter current is taken with a clamp over a second or more.
  */
 export function guessKind(trace: ParsedTrace | null, fileName: string, probe?: ProbeKind): { kind: TraceKind; reason: string } {
-  const words = fileName.toLowerCase().replace(/\.[a-z]+$/, "").split(/[^a-z0-9]+/).filter(Boolean);
+  const words = fileName.toLowerCase().replace(/\.[a-z]+$/, "").split(/[^a-z]+/).filter(Boolean);
   const has = (...ws: string[]) => words.some((w) => ws.some((x) => w === x || (x.length >= 5 && w.startsWith(x))));
   if (has("secondary", "spark", "coil", "cop", "ignition", "ign", "kv")) return { kind: "secondary-ignition", reason: "the file name mentions ignition" };
   if (has("injector", "inj")) return { kind: "injector", reason: "the file name mentions an injector" };
@@ -27,18 +27,30 @@ export function guessKind(trace: ParsedTrace | null, fileName: string, probe?: P
   if (unit === "a" || unit === "ma") return { kind: "relative-compression", reason: "the file is in amperes" };
   if (Math.max(hi, -lo) >= 1000) return { kind: "secondary-ignition", reason: "the signal reaches kilovolts" };
 
-  // Median of a sample of values, and zero crossings.
+  // A sample of the values: median, spread and swings either side of the median.
   const v = ch.values;
-  const stride = Math.max(1, Math.floor(v.length / 4000));
+  const stride = Math.max(1, Math.floor(v.length / 20000));
   const sample: number[] = [];
   for (let i = 0; i < v.length; i += stride) sample.push(v[i] * scale);
-  sample.sort((a, b) => a - b);
-  const med = sample[Math.floor(sample.length / 2)] ?? 0;
-  let crossings = 0;
-  for (let i = stride; i < v.length; i += stride) if (v[i - stride] < 0 !== v[i] < 0) crossings++;
+  const sorted = [...sample].sort((a, b) => a - b);
+  const med = sorted[Math.floor(sorted.length / 2)] ?? 0;
+  const devs = sample.map((x) => Math.abs(x - med)).sort((a, b) => a - b);
+  const p90 = devs[Math.floor(devs.length * 0.9)] ?? 0;
+  const maxDev = Math.max(hi - med, med - lo);
+  // swings through ±30 % of the largest excursion (hysteresis, so noise never counts)
+  const band = 0.3 * maxDev;
+  let swings = 0;
+  let side = 0;
+  for (const x of sample) {
+    const s = x > med + band ? 1 : x < med - band ? -1 : 0;
+    if (s !== 0 && s !== side) {
+      if (side !== 0) swings++;
+      side = s;
+    }
+  }
 
   if (med >= 9 && med <= 16 && hi >= 2.5 * med) return { kind: "injector", reason: "battery voltage at rest with a spike far above it" };
-  if (crossings >= 60 && Math.abs(med) < 0.2 * Math.max(hi, -lo)) return { kind: "crank", reason: "many swings either side of zero" };
-  if (hi >= 100) return { kind: "secondary-ignition", reason: "tall spikes over a low baseline" };
+  if (swings >= 40 && p90 > 0.2 * maxDev) return { kind: "crank", reason: "a steady run of swings either side of the middle" };
+  if (maxDev > 0 && maxDev > 8 * p90) return { kind: "secondary-ignition", reason: "short tall spikes over a flat baseline" };
   return { kind: "generic", reason: "no typical shape recognised" };
 }

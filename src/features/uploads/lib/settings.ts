@@ -61,6 +61,18 @@ const probeForKind: Record<TraceKind, ProbeKind> = {
 /** A number in scope-knob form for an input ("0.001" rather than "1e-3"). */
 const num = (x: number) => String(Number(x.toPrecision(6)));
 
+/** Time/division that puts `durationS` on the ten divisions of the screen, as the inputs hold it. */
+export function framingTime(durationS: number): { timePerDiv: string; timeUnit: TimeUnit } | null {
+  if (!(Number.isFinite(durationS) && durationS > 0)) return null;
+  const t = timeIn(step125(durationS / 10));
+  return { timePerDiv: t.value, timeUnit: t.unit };
+}
+
+/** Another file's settings for this one, keeping what this file was connected to. */
+export function copySettings(from: SettingsDraft, to: SettingsDraft): SettingsDraft {
+  return { ...from, cylinder: to.cylinder, coil: to.coil, circuit: to.circuit, sensor: to.sensor };
+}
+
 /** The best time unit to show `seconds` in. */
 function timeIn(seconds: number): { value: string; unit: TimeUnit } {
   if (seconds >= 1) return { value: num(seconds), unit: "s" };
