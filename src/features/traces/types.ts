@@ -22,9 +22,12 @@ export interface AnalysisEvent {
   peak?: number;
   /** spark duration from the firing line to the end of the spark line, ms */
   burnTimeMs?: number;
-  /** the spark line's voltage, in `analysis.unit` */
+  /** the spark line's level above the baseline (a magnitude, like peak), in `analysis.unit` */
   burnLevel?: number;
   oscillations?: number;
+  /** spark line start and end, seconds in the trace's time base (drawn as the burn bracket) */
+  sparkStartS?: number;
+  sparkEndS?: number;
   [metric: string]: unknown;
 }
 
@@ -33,8 +36,9 @@ export interface TraceAnalysis {
   /** unit of `peak` and `burnLevel`: "V" at the pickup, or "kV" when a kV-per-volt scale is set */
   unit: string;
   events: AnalysisEvent[];
-  /** baseline level in `unit`, when the analysis reports it (peaks are heights above it) */
+  /** baseline level in `unit` (peaks are heights above it); also read from summary.baseline */
   baseline?: number;
+  summary?: { baseline?: number; polarity?: "positive" | "negative"; [key: string]: unknown } | null;
   findings?: { code: string; severity?: string; message?: string; advice?: string }[];
   [key: string]: unknown;
 }

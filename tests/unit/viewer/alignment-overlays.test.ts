@@ -5,6 +5,7 @@ import {
   annotationShapes,
   edgeMarker,
   eventMarkers,
+  isInverted,
   hitTestAnnotations,
   hitTestCursors,
   jumpWindow,
@@ -65,19 +66,21 @@ describe("alignment for the overlay", () => {
 });
 
 describe("event markers", () => {
+  // The analysis reports value = raw × unit factor × kV-per-volt (shared/analysis/analyze.ts); the viewer undoes it.
   it("takes kV back to pickup volts with the kV-per-volt scale: 12 kV at 10 kV/V is 1.2 V (hand-computed)", () => {
-    const a = { unit: "kV", findings: [] };
+    const a = { unit: "kV" };
     expect(analysisToPlot(12, a, { kvPerVolt: 10 }, "V")).toBeCloseTo(1.2, 12);
     expect(analysisToPlot(12, a, { kvPerVolt: 10 }, "mV")).toBeCloseTo(1200, 9);
     expect(analysisToPlot(1.5, { unit: "V" }, undefined, "V")).toBe(1.5);
-    // inverted capture: magnitudes drawn below the baseline
-    expect(analysisToPlot(1.5, { unit: "V", findings: [{ code: "inverted" }] }, undefined, "V")).toBe(-1.5);
+    // a file recorded in kV without a pickup scale: reported in kV as it is
+    expect(analysisToPlot(8, { unit: "kV" }, undefined, "kV")).toBeCloseTo(8, 12);
   });
 
   it("spans the burn time from the firing line: 1.5 ms from 20 ms ends at 21.5 ms, shifted by the overlay offset", () => {
     const analysis = { kind: "secondary-ignition", unit: "V", events: [{ timeS: 0.02, peak: 9, burnTimeMs: 1.5, burnLevel: 1.2 }] };
     const [m] = eventMarkers(analysis, { voltsPerDiv: 2, timePerDivS: 1e-3 }, "V");
     expect(m.tFire).toBe(0.02);
+    expect(m.tStart).toBe(0.02);
     expect(m.tEnd).toBeCloseTo(0.0215, 12);
     expect(m.peakLevel).toBe(9);
     expect(m.burnLevel).toBe(1.2);
@@ -86,10 +89,31 @@ describe("event markers", () => {
     expect(s.tEnd).toBeCloseTo(0.0015, 12);
   });
 
-  it("adds the peak to the baseline, on the negative side for an inverted capture", () => {
-    const analysis = { kind: "secondary-ignition", unit: "V", baseline: 0.5, findings: [{ code: "inverted" }], events: [{ timeS: 0, peak: 9 }] };
-    expect(eventMarkers(analysis, undefined, "V")[0].peakLevel).toBe(-8.5);
+  it("draws the spark line where the analysis found it when it gives its start and end", () => {
+    const analysis = { kind: "secondary-ignition", unit: "V", events: [{ timeS: 0.01, burnTimeMs: 1.4, burnLevel: 1, sparkStartS: 0.01002, sparkEndS: 0.0114 }] };
+    const [m] = eventMarkers(analysis, undefined, "V");
+    expect(m.tStart).toBe(0.01002);
+    expect(m.tEnd).toBe(0.0114);
+  });
+
+  it("puts magnitudes on the firing line's side of the baseline: below it for an inverted capture", () => {
+    // baseline 0.5 V, inverted: peak 9 V → 0.5 − 9 = −8.5 V; burn level 1.2 V → −0.7 V (hand-computed)
+    const analysis = {
+      kind: "secondary-ignition",
+      unit: "V",
+      summary: { baseline: 0.5, polarity: "negative" as const },
+      events: [{ timeS: 0, peak: 9, burnLevel: 1.2, burnTimeMs: 1 }],
+    };
+    const [m] = eventMarkers(analysis, undefined, "V");
+    expect(m.peakLevel).toBe(-8.5);
+    expect(m.burnLevel).toBeCloseTo(-0.7, 12);
+    expect(isInverted({ findings: [{ code: "inverted" }] })).toBe(true);
     expect(eventMarkers(null, undefined, "V")).toEqual([]);
+  });
+
+  it("marks only the time of events of other kinds (their peaks are not heights above a baseline)", () => {
+    const [m] = eventMarkers({ kind: "relative-compression", unit: "A", events: [{ timeS: 0.15, peak: 40 }] }, undefined, "A");
+    expect(m).toEqual({ tFire: 0.15, peakLevel: null, tStart: null, tEnd: null, burnLevel: null, burnTimeMs: null });
   });
 });
 

@@ -1,7 +1,9 @@
 /** How much data to ask the server for. Pure. */
+import { MAX_WINDOW_WIDTH } from "../../../../shared/schemas/traces";
 
 export const BUCKETS_PER_PIXEL = 2;
-export const MAX_BUCKETS = 8000;
+/** the window endpoint's limit */
+export const MAX_BUCKETS = MAX_WINDOW_WIDTH;
 export const MIN_BUCKETS = 16;
 /** widths are rounded up to this many px so that small resizes reuse the cached window */
 export const WIDTH_QUANTUM_PX = 32;

@@ -4,24 +4,26 @@ import type { CursorPositions } from "./readout";
 import { parseUnit } from "./units";
 
 /**
- * A value of the analysis (in `analysis.unit`, a magnitude for an inverted capture) → the channel's
- * unit on the plot. kV with a kV-per-volt scale are taken back to volts at the pickup; an inverted
- * capture (finding `inverted`) is drawn below the baseline.
+ * A value of the analysis, in `analysis.unit` → the channel's unit on the plot. The analysis scales
+ * raw samples by the channel unit's factor to volts, times kV-per-volt when set (kV at the plug);
+ * this undoes that. (Sign and baseline are not applied here: see eventMarkers.)
  */
 export function analysisToPlot(
   value: number,
-  analysis: Pick<TraceAnalysis, "unit" | "findings">,
+  analysis: Pick<TraceAnalysis, "unit">,
   settings: Pick<TraceSettings, "kvPerVolt"> | undefined,
   channelUnit: string | null | undefined,
-  opts: { signed?: boolean } = {},
 ): number {
   const ch = parseUnit(channelUnit);
   let volts: number;
   if (analysis.unit === "kV" && settings?.kvPerVolt && settings.kvPerVolt > 0) volts = value / settings.kvPerVolt;
   else volts = value * parseUnit(analysis.unit).scale;
-  const inChannel = ch.si ? volts / ch.scale : volts;
-  const inverted = opts.signed !== false && (analysis.findings ?? []).some((f) => f.code === "inverted");
-  return inverted ? -inChannel : inChannel;
+  return ch.si ? volts / ch.scale : volts;
+}
+
+/** An inverted capture (firing lines below the baseline): summary.polarity or the `inverted` finding. */
+export function isInverted(analysis: Pick<TraceAnalysis, "summary" | "findings">): boolean {
+  return analysis.summary?.polarity === "negative" || (analysis.findings ?? []).some((f) => f.code === "inverted");
 }
 
 export interface EventMarker {
@@ -29,14 +31,21 @@ export interface EventMarker {
   tFire: number;
   /** top of the firing line in the channel unit, when the analysis gives the peak */
   peakLevel: number | null;
-  /** end of the spark line (firing + burn time), display time */
+  /** spark line start and end (display time) */
+  tStart: number | null;
   tEnd: number | null;
   /** spark line level in the channel unit */
   burnLevel: number | null;
   burnTimeMs: number | null;
 }
 
-/** Event markers of a trace, shifted by the overlay offset (display time = trace time − offset). */
+const finite = (x: unknown): x is number => typeof x === "number" && Number.isFinite(x);
+
+/**
+ * Event markers of a trace, shifted by the overlay offset (display time = trace time − offset).
+ * Secondary ignition reports peak and burn level as magnitudes above the baseline: on the plot they
+ * sit at baseline ± value (minus for an inverted capture). Other kinds get the time tick only.
+ */
 export function eventMarkers(
   analysis: TraceAnalysis | null | undefined,
   settings: TraceSettings | undefined,
@@ -44,18 +53,23 @@ export function eventMarkers(
   offset = 0,
 ): EventMarker[] {
   if (!analysis?.events?.length) return [];
-  const baseline = typeof analysis.baseline === "number" ? analysisToPlot(analysis.baseline, analysis, settings, channelUnit, { signed: false }) : 0;
-  const inverted = (analysis.findings ?? []).some((f) => f.code === "inverted");
+  const ignition = analysis.kind === "secondary-ignition";
+  const baseValue = finite(analysis.baseline) ? analysis.baseline : finite(analysis.summary?.baseline) ? analysis.summary.baseline : 0;
+  const baseline = analysisToPlot(baseValue, analysis, settings, channelUnit);
+  const sign = isInverted(analysis) ? -1 : 1;
+  const level = (v: unknown) => (ignition && finite(v) ? baseline + sign * analysisToPlot(v, analysis, settings, channelUnit) : null);
   return analysis.events
-    .filter((e) => typeof e.timeS === "number" && Number.isFinite(e.timeS))
+    .filter((e) => finite(e.timeS))
     .map((e) => {
-      const peak = typeof e.peak === "number" ? analysisToPlot(e.peak, analysis, settings, channelUnit, { signed: false }) : null;
-      const burnMs = typeof e.burnTimeMs === "number" && e.burnTimeMs > 0 ? e.burnTimeMs : null;
+      const burnMs = ignition && finite(e.burnTimeMs) && e.burnTimeMs > 0 ? e.burnTimeMs : null;
+      const start = ignition ? (finite(e.sparkStartS) ? e.sparkStartS : burnMs != null ? e.timeS : null) : null;
+      const end = ignition ? (finite(e.sparkEndS) ? e.sparkEndS : burnMs != null ? e.timeS + burnMs / 1000 : null) : null;
       return {
         tFire: e.timeS - offset,
-        peakLevel: peak == null ? null : baseline + (inverted ? -peak : peak),
-        tEnd: burnMs == null ? null : e.timeS + burnMs / 1000 - offset,
-        burnLevel: typeof e.burnLevel === "number" ? analysisToPlot(e.burnLevel, analysis, settings, channelUnit) : null,
+        peakLevel: level(e.peak),
+        tStart: start == null ? null : start - offset,
+        tEnd: end == null ? null : end - offset,
+        burnLevel: level(e.burnLevel),
         burnTimeMs: burnMs,
       };
     });

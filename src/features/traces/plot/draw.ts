@@ -251,25 +251,26 @@ export function drawModel(u: uPlot, m: DrawModel): void {
       }
     }
     // spark line: a bracket over the burn time at the burn level
-    if (e.tEnd != null && e.burnLevel != null) {
+    if (e.tStart != null && e.tEnd != null && e.burnLevel != null) {
+      const xs = X(e.tStart);
       const x1 = X(e.tEnd);
-      if (x1 < left || x > right) return;
+      if (x1 < left || xs > right) return;
       const y = Y(e.burnLevel);
       const cap = 5 * pr;
       const yb = y - 7 * pr;
       ctx.lineWidth = 1.5 * pr;
       ctx.beginPath();
-      ctx.moveTo(x, yb + cap);
-      ctx.lineTo(x, yb);
+      ctx.moveTo(xs, yb + cap);
+      ctx.lineTo(xs, yb);
       ctx.lineTo(x1, yb);
       ctx.lineTo(x1, yb + cap);
       ctx.stroke();
-      if (e.burnTimeMs != null && x1 - x > 56 * pr) {
+      if (e.burnTimeMs != null && x1 - xs > 56 * pr) {
         font(10, 600);
         ctx.textAlign = "center";
         ctx.textBaseline = "bottom";
         const label = formatTime(e.burnTimeMs / 1000);
-        const cx = (Math.max(x, left) + Math.min(x1, right)) / 2;
+        const cx = (Math.max(xs, left) + Math.min(x1, right)) / 2;
         ctx.fillStyle = "rgba(255,255,255,0.85)";
         const w = ctx.measureText(label).width + 6 * pr;
         ctx.fillRect(cx - w / 2, yb - 14 * pr, w, 13 * pr);
