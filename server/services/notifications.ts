@@ -44,7 +44,7 @@ export interface NotificationInput {
 
 const { notification } = schema;
 
-/** Record, push and mail one notification to each user. Resolves when the mails are handed to SMTP. */
+/** Record and push one notification to each user, and mail it (in the background; see whenMailSent). */
 export async function notify(ctx: AppContext, userIds: readonly string[], n: NotificationInput): Promise<void> {
   const ids = [...new Set(userIds.filter(Boolean))];
   if (ids.length === 0) return;
@@ -74,13 +74,24 @@ export async function notify(ctx: AppContext, userIds: readonly string[], n: Not
   if (n.mail === false) return;
   const action = n.link ? { label: n.actionLabel ?? "Open in Burnline", url: absoluteUrl(ctx, n.link) } : undefined;
   const { text, html } = renderMail(n.title, n.paragraphs, action);
-  await Promise.all(
-    users.map((u) =>
-      ctx.mailer.send({ to: u.email, subject: n.title, text, html }).catch((err: unknown) => {
-        ctx.logger.error({ err, kind: n.kind, to: u.id }, "notification mail failed");
-      }),
-    ),
-  );
+  // Mail goes out in the background: a slow SMTP server must not slow the request down.
+  for (const u of users) {
+    const sending: Promise<void> = ctx.mailer
+      .send({ to: u.email, subject: n.title, text, html })
+      .then(
+        () => undefined,
+        (err: unknown) => ctx.logger.error({ err, kind: n.kind, to: u.id }, "notification mail failed"),
+      )
+      .finally(() => inFlight.delete(sending));
+    inFlight.add(sending);
+  }
+}
+
+const inFlight = new Set<Promise<void>>();
+
+/** Resolves when every notification mail handed out so far has been accepted (or has failed). For tests and shutdown. */
+export async function whenMailSent(): Promise<void> {
+  while (inFlight.size > 0) await Promise.all([...inFlight]);
 }
 
 export function absoluteUrl(ctx: AppContext, path: string): string {

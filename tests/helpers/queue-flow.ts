@@ -11,6 +11,7 @@ import type { TestServer } from "./test-app";
 import type { SignedInAgent } from "../factories/sign-in";
 import { ledgerBalance } from "../../server/services/ledger";
 import type { CaughtMail } from "../../server/fakes/smtp";
+import { whenMailSent } from "../../server/services/notifications";
 
 /** Stripe's published test cards (docs.stripe.com/testing#cards and #declined-payments). */
 export const CARDS = {
@@ -127,10 +128,11 @@ export function mailsTo(server: TestServer, email: string, subject: RegExp): Cau
 }
 
 /**
- * Sends a marker mail and waits for it: mails handed to SMTP before it have been caught by then
- * (the app awaits its sends before answering a webhook).
+ * Waits until every notification mail the app handed out has been accepted by the catcher, then
+ * sends a marker mail and waits for it, so the catcher has parsed everything before it.
  */
 export async function flushMail(server: TestServer): Promise<void> {
+  await whenMailSent();
   const marker = `flush-${crypto.randomUUID()}@example.test`;
   await server.ctx.mailer.send({ to: marker, subject: "flush", text: "flush" });
   await server.mailCatcher!.waitFor((m) => m.to.includes(marker), 5000);
