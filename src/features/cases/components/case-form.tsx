@@ -125,10 +125,13 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
 
   const submit = handleSubmit((draft) => persist(draft).catch(() => undefined), onInvalid);
 
+  // One save at a time for uploads that need the case: two files dropped together make one draft.
+  const inflight = useRef<Promise<string> | null>(null);
   if (saveRef) {
-    saveRef.current = () =>
-      new Promise<string>((resolve, reject) => {
-        if (idRef.current && !formState.isDirty) return resolve(idRef.current);
+    saveRef.current = () => {
+      if (idRef.current && !formState.isDirty) return Promise.resolve(idRef.current);
+      if (inflight.current) return inflight.current;
+      const p = new Promise<string>((resolve, reject) => {
         void handleSubmit(
           (draft) => persist(draft).then(resolve, () => reject(new Error("Save the draft first: the server refused it (see above)."))),
           () => {
@@ -136,7 +139,12 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
             reject(new Error("Save the draft first: fix the marked fields in the case form."));
           },
         )();
+      }).finally(() => {
+        inflight.current = null;
       });
+      inflight.current = p;
+      return p;
+    };
   }
 
   // Warn before leaving with unsaved changes.
