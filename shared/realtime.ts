@@ -158,6 +158,8 @@ export interface ServerToClientEvents {
   view: (v: ViewPayload) => void;
   "case:status": (s: CaseStatusPayload) => void;
   "case:updated": (u: CaseUpdatedPayload) => void;
+  /** an in-app notification for this user (server/services/notifications.ts) */
+  notification: (n: { id: string | number; kind: string; caseId: string | null; title: string }) => void;
 }
 
 /** The socket.io room of a case. */

@@ -386,6 +386,12 @@ export function attachRealtime(server: http.Server, ctx: AppContext, auth: Auth,
     io,
     toCase(caseId, event, payload) {
       io.to(caseRoom(caseId)).emit(event as keyof ServerToClientEvents, payload as never);
+      // Services announce a changed case as `case:updated` (entity "case"); the room also gets
+      // the contract's `case:status` with the status as committed.
+      if (event === "case:updated" && (payload as { entity?: string } | null)?.entity === "case") {
+        const c = getCaseRow(ctx.db, caseId);
+        if (c) io.to(caseRoom(caseId)).emit("case:status", { caseId, status: c.status, updatedAt: c.updatedAt.toISOString() });
+      }
     },
     toUser(userId, event, payload) {
       io.to(userRoom(userId)).emit(event as keyof ServerToClientEvents, payload as never);
