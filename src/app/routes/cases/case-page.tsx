@@ -10,7 +10,11 @@ import { buttonClass, Section } from "../../../features/cases/components/ui";
 import { formatDate, vehicleTitle } from "../../../features/cases/lib/labels";
 import { TraceUploader } from "../../../features/uploads/components/trace-uploader";
 import { ApiError } from "../../../lib/api-client";
-import { CaseTraces } from "./case-traces";
+import { CaseTraces, viewerInfo } from "./case-traces";
+import { LiveReview } from "./live-review";
+
+/** The states in which the case has (or had) an expert on it: the live review is shown. */
+const LIVE_STATES = ["claimed", "needs_data", "answered", "resolved", "closed"];
 
 /** /cases/:id — everything on a case: vehicle, complaint, photos, and each trace with its numbers. */
 export function CasePage() {
@@ -106,6 +110,8 @@ export function CasePage() {
           )}
         </Section>
       ) : null}
+
+      {LIVE_STATES.includes(c.status) ? <LiveReview caseId={c.id} traces={c.traces.map(viewerInfo)} /> : null}
 
       <section aria-labelledby="traces-title" className="space-y-4">
         <h2 id="traces-title" className="text-xl font-bold">

@@ -11,7 +11,7 @@ import { TraceViewer } from "../../../features/traces/components/trace-viewer";
 import type { TraceInfo } from "../../../features/traces/types";
 
 /** A case's trace as the viewer takes it (the settings are checked by the server at upload). */
-function viewerInfo(t: CaseTrace): TraceInfo {
+export function viewerInfo(t: CaseTrace): TraceInfo {
   return {
     id: t.id,
     name: `${traceLabel(t)}${traceLabel(t) !== t.name ? ` · ${t.name}` : ""}`,
