@@ -1,0 +1,65 @@
+import type { CaptureSettings, TraceKind } from "../schemas/capture-settings";
+import { channelInput, type AnalyzableTrace } from "./analyze";
+import { measurePrepared } from "./measure";
+import { prepare } from "./signal";
+import { histogramQuantile, robustLevelAndNoise } from "./stats";
+
+export interface KindGuess {
+  kind: TraceKind;
+  /** what the guess rests on */
+  from: "settings" | "shape" | "default";
+  reason: string;
+}
+
+const WORDS: [RegExp, TraceKind, string][] = [
+  [/\b(crank|ckp|reluctor|60-2|flywheel)/i, "crank", "crank sensor"],
+  [/\binject/i, "injector", "injector"],
+  [/\b(starter|compression|cranking current|battery cable)/i, "relative-compression", "starter current"],
+  [/\b(spark|plug|secondary|ignition coil|coil[- ]on[- ]plug|cop\b|kv\b)/i, "secondary-ignition", "ignition secondary"],
+];
+
+/**
+ * A kind to offer the uploader: from what the channel was connected to (the settings' circuit or
+ * sensor text), else from the waveform's shape, else from the probe, else generic. The uploader
+ * still picks; settings.kind (their pick) is not looked at.
+ */
+export function guessKind(settings: Partial<CaptureSettings>, trace: AnalyzableTrace): KindGuess {
+  const text = `${settings.sensor ?? ""} ${settings.circuit ?? ""}`;
+  for (const [re, kind, what] of WORDS) {
+    if (re.test(text)) return { kind, from: "settings", reason: `the channel was connected to the ${what} ("${text.trim()}")` };
+  }
+  const input = channelInput(trace, 0);
+  const p = prepare(input);
+  if (p.n >= 16 && p.max > p.min) {
+    const { median: med, noise } = robustLevelAndNoise(p.v);
+    const q995 = histogramQuantile(p.v, 0.995, p.min, p.max);
+    const q005 = histogramQuantile(p.v, 0.005, p.min, p.max);
+    const q01 = histogramQuantile(p.v, 0.01, p.min, p.max);
+    const q99 = histogramQuantile(p.v, 0.99, p.min, p.max);
+    const k = p.toBase;
+    const medV = med * k;
+    const swing = q99 - q01;
+    const m = measurePrepared(p, k);
+    const duration = p.n / p.rate;
+    if (p.baseUnit === "V" && medV > 8 && medV < 18 && q01 * k < 0.25 * medV && p.max * k > 2 * medV) {
+      return { kind: "injector", from: "shape", reason: `rests at ${medV.toFixed(1)} V, drops to near 0 V and spikes to ${(p.max * k).toFixed(0)} V at turn-off` };
+    }
+    const up = p.max - med;
+    const down = med - p.min;
+    const ex = Math.max(up, down);
+    const exQ = up >= down ? q995 - med : med - q005;
+    if (ex > 4 * Math.max(exQ, 3 * noise) && ex > 20 * noise) {
+      return { kind: "secondary-ignition", from: "shape", reason: "short tall spikes over a quiet baseline, like firing lines" };
+    }
+    if (Math.abs(med) < 0.1 * swing && m.frequencyHz != null && m.frequencyHz > 50 && q99 > 0.3 * -q01 && q99 < 3 * -q01) {
+      return { kind: "crank", from: "shape", reason: `swings about 0 V ${Math.round(m.frequencyHz)} times a second, like a toothed wheel's sensor` };
+    }
+    const current = p.baseUnit === "A" || settings.probe === "current-clamp";
+    if (current && medV > 0 && duration > 0.4 && m.frequencyHz != null && m.frequencyHz > 1 && m.frequencyHz < 80) {
+      return { kind: "relative-compression", from: "shape", reason: `a current with about ${m.frequencyHz.toFixed(0)} peaks a second, like cranking` };
+    }
+  }
+  if (settings.probe === "capacitive-secondary") return { kind: "secondary-ignition", from: "settings", reason: "a capacitive secondary pickup was used" };
+  if (settings.probe === "current-clamp") return { kind: "relative-compression", from: "settings", reason: "a current clamp was used" };
+  return { kind: "generic", from: "default", reason: "nothing in the settings or the shape points to a kind" };
+}

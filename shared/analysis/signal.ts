@@ -1,0 +1,257 @@
+import type { SignalInput } from "./types";
+
+/** Factor from a file's value unit to the base unit (volts, or amperes for currents). */
+export function unitFactor(unit: string | null | undefined): { factor: number; base: string } {
+  const u = (unit ?? "").trim();
+  switch (u) {
+    case "":
+    case "V":
+    case "v":
+      return { factor: 1, base: "V" };
+    case "mV":
+    case "mv":
+      return { factor: 1e-3, base: "V" };
+    case "uV":
+    case "µV":
+    case "μV":
+      return { factor: 1e-6, base: "V" };
+    case "kV":
+    case "kv":
+      return { factor: 1e3, base: "V" };
+    case "A":
+    case "a":
+      return { factor: 1, base: "A" };
+    case "mA":
+      return { factor: 1e-3, base: "A" };
+    case "kA":
+      return { factor: 1e3, base: "A" };
+    default:
+      return { factor: 1, base: u };
+  }
+}
+
+/**
+ * A window of one channel, ready for analysis: values as stored (no copy for a Float32Array),
+ * `toBase` converts them to volts/amperes, times come from `timeAt`.
+ */
+export interface Prepared {
+  v: Float32Array;
+  n: number;
+  rate: number;
+  dt: number;
+  /** index of v[0] in the channel */
+  offset: number;
+  t0: number;
+  time: ArrayLike<number> | null;
+  toBase: number;
+  baseUnit: string;
+  name: string;
+  min: number;
+  max: number;
+  minIdx: number;
+  maxIdx: number;
+  mean: number;
+  rms: number;
+}
+
+export function timeAtOf(p: Pick<Prepared, "time" | "t0" | "rate" | "offset">, i: number): number {
+  const k = i + p.offset;
+  return p.time ? p.time[k] : p.t0 + k / p.rate;
+}
+
+/** Time of a fractional index (linear between samples). */
+export function timeAtFrac(p: Prepared, x: number): number {
+  const i = Math.max(0, Math.min(p.n - 1, Math.floor(x)));
+  const f = x - i;
+  const a = timeAtOf(p, i);
+  if (f <= 0 || i + 1 >= p.n) return a;
+  return a + f * (timeAtOf(p, i + 1) - a);
+}
+
+export function prepare(input: SignalInput, window?: { startS?: number; endS?: number }): Prepared {
+  const all = input.values instanceof Float32Array ? input.values : Float32Array.from(input.values);
+  const rate = input.sampleRateHz;
+  if (!(rate > 0) || !Number.isFinite(rate)) throw new RangeError("sampleRateHz must be a positive number");
+  const t0 = input.t0 ?? 0;
+  const time = input.time ?? null;
+  let start = 0;
+  let end = all.length;
+  if (window && (window.startS != null || window.endS != null)) {
+    const tOf = (i: number) => (time ? time[i] : t0 + i / rate);
+    if (window.startS != null) {
+      let lo = 0;
+      let hi = all.length;
+      while (lo < hi) {
+        const mid = (lo + hi) >> 1;
+        if (tOf(mid) < window.startS) lo = mid + 1;
+        else hi = mid;
+      }
+      start = lo;
+    }
+    if (window.endS != null) {
+      let lo = start;
+      let hi = all.length;
+      while (lo < hi) {
+        const mid = (lo + hi) >> 1;
+        if (tOf(mid) <= window.endS) lo = mid + 1;
+        else hi = mid;
+      }
+      end = lo;
+    }
+  }
+  const v = start === 0 && end === all.length ? all : all.subarray(start, end);
+  const n = v.length;
+  let min = Infinity;
+  let max = -Infinity;
+  let minIdx = 0;
+  let maxIdx = 0;
+  let sum = 0;
+  let sumSq = 0;
+  for (let i = 0; i < n; i++) {
+    const x = v[i];
+    if (x < min) {
+      min = x;
+      minIdx = i;
+    }
+    if (x > max) {
+      max = x;
+      maxIdx = i;
+    }
+    sum += x;
+    sumSq += x * x;
+  }
+  const { factor, base } = unitFactor(input.unit);
+  return {
+    v,
+    n,
+    rate,
+    dt: 1 / rate,
+    offset: start,
+    t0,
+    time,
+    toBase: factor,
+    baseUnit: base,
+    name: input.name ?? "A",
+    min: n ? min : 0,
+    max: n ? max : 0,
+    minIdx,
+    maxIdx,
+    mean: n ? sum / n : 0,
+    rms: n ? Math.sqrt(sumSq / n) : 0,
+  };
+}
+
+/**
+ * Centred moving average (boxcar of `w` samples) of sign·(v − base) over [a, b) into a new array;
+ * edges use the samples available. O(b − a) with a running sum.
+ */
+export function boxcar(v: ArrayLike<number>, a: number, b: number, w: number, sign = 1, base = 0): Float32Array {
+  const n = Math.max(0, b - a);
+  const out = new Float32Array(n);
+  if (n === 0) return out;
+  if (w <= 1) {
+    for (let i = 0; i < n; i++) out[i] = sign * (v[a + i] - base);
+    return out;
+  }
+  const h = w >> 1;
+  let lo = 0;
+  let hi = -1;
+  let s = 0;
+  for (let i = 0; i < n; i++) {
+    const wantLo = Math.max(0, i - h);
+    const wantHi = Math.min(n - 1, i + h);
+    while (hi < wantHi) {
+      hi++;
+      s += v[a + hi];
+    }
+    while (lo < wantLo) {
+      s -= v[a + lo];
+      lo++;
+    }
+    out[i] = sign * (s / (hi - lo + 1) - base);
+  }
+  return out;
+}
+
+export interface ClipInfo {
+  top: boolean;
+  bottom: boolean;
+}
+
+/**
+ * Did the signal sit flat against the top or bottom of the range? With the screen range known
+ * (volts/division and ground offset), any samples within 0.5 % of its edges count. Without it,
+ * the signal must run into a ceiling: at least three samples exactly at the extreme (in two runs,
+ * or one run of three), entered by a step of at least 2 % of the excursion, and at most a quarter
+ * of all samples (so a square wave's flat top is not mistaken for clipping).
+ */
+export function detectClipping(
+  p: Prepared,
+  reference: number,
+  screen?: { min: number; max: number } | null,
+): ClipInfo {
+  const { v, n, min, max } = p;
+  if (n < 3 || !(max > min)) return { top: false, bottom: false };
+  if (screen && screen.max > screen.min) {
+    const tol = 0.005 * (screen.max - screen.min);
+    let top = 0;
+    let bottom = 0;
+    for (let i = 0; i < n; i++) {
+      if (v[i] >= screen.max - tol) top++;
+      else if (v[i] <= screen.min + tol) bottom++;
+    }
+    return { top: top >= 2, bottom: bottom >= 2 };
+  }
+  const eps = 1e-7 * (max - min);
+  // one pass over both extremes: count, runs, longest run, and whether a run was entered by a step
+  let cTop = 0, rTop = 0, lTop = 0, runTop = 0, stepTop = false;
+  let cBot = 0, rBot = 0, lBot = 0, runBot = 0, stepBot = false;
+  const exTop = Math.abs(max - reference);
+  const exBot = Math.abs(min - reference);
+  const hiCut = max - eps;
+  const loCut = min + eps;
+  for (let i = 0; i < n; i++) {
+    const x = v[i];
+    if (x >= hiCut) {
+      if (runTop === 0) {
+        rTop++;
+        if (i > 0 && max - v[i - 1] >= 0.02 * exTop) stepTop = true;
+      }
+      runTop++;
+      cTop++;
+      if (runTop > lTop) lTop = runTop;
+    } else runTop = 0;
+    if (x <= loCut) {
+      if (runBot === 0) {
+        rBot++;
+        if (i > 0 && v[i - 1] - min >= 0.02 * exBot) stepBot = true;
+      }
+      runBot++;
+      cBot++;
+      if (runBot > lBot) lBot = runBot;
+    } else runBot = 0;
+  }
+  const ok = (count: number, runs: number, longest: number, stepped: boolean) =>
+    count >= 3 && (runs >= 2 || longest >= 3) && stepped && count <= n / 4;
+  return { top: ok(cTop, rTop, lTop, stepTop), bottom: ok(cBot, rBot, lBot, stepBot) };
+}
+
+/** Next value of the 1-2-5 sequence at or above x (volts/division, time/division). */
+export function niceCeil(x: number): number {
+  if (!(x > 0) || !Number.isFinite(x)) return x;
+  const e = Math.floor(Math.log10(x));
+  const base = 10 ** e;
+  for (const m of [1, 2, 5, 10]) {
+    const c = m * base;
+    if (c >= x * (1 - 1e-9)) return Number(c.toPrecision(3));
+  }
+  return 10 * base;
+}
+
+/** A round number near x (for suggested trigger levels). */
+export function roundNice(x: number): number {
+  if (x === 0 || !Number.isFinite(x)) return x;
+  const e = Math.floor(Math.log10(Math.abs(x)));
+  const step = 10 ** (e - 1) * 5;
+  return Number((Math.round(x / step) * step).toPrecision(3));
+}
