@@ -195,6 +195,15 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
     const off = dd !== 0 ? (0.5 * (y0 - y2)) / dd : 0;
     return dTime(start + pk + Math.max(-0.5, Math.min(0.5, off)));
   });
+  // a stroke with (almost) no hump has no peak to time: it sits midway between its neighbours
+  const medH = [...heights].sort((x, y) => x - y)[heights.length >> 1];
+  for (let k = 0; k < times.length; k++) {
+    if (heights[k] >= 0.3 * medH) continue;
+    const Ps = P / dRate;
+    if (k > 0 && k + 1 < times.length) times[k] = (times[k - 1] + times[k + 1]) / 2;
+    else if (k > 0) times[k] = times[k - 1] + Ps;
+    else if (k + 1 < times.length) times[k] = times[k + 1] - Ps;
+  }
   const events: CompressionEvent[] = peakIdx.map((_, k) => ({
     timeS: times[k],
     peak: heights[k],
