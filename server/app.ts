@@ -22,13 +22,13 @@ export function createApp(ctx: AppContext, opts: { clientDir?: string } = {}): C
   app.locals.ctx = ctx;
   app.locals.auth = auth;
   app.disable("x-powered-by");
-  app.set("trust proxy", "loopback");
+  app.set("trust proxy", trustProxySetting(ctx.env.TRUST_PROXY));
 
   app.use(
     pinoHttp({
       logger: ctx.logger,
       autoLogging: { ignore: (req) => req.url === "/api/health" },
-      serializers: { req: (req) => ({ id: req.id, method: req.method, url: req.url }), res: (res) => ({ statusCode: res.statusCode }) },
+      serializers: { req: (req) => ({ id: req.id, method: req.method, url: redactUrl(req.url) }), res: (res) => ({ statusCode: res.statusCode }) },
     }),
   );
   app.use(
@@ -81,4 +81,15 @@ export function allowedOrigins(ctx: AppContext): string[] {
     list.add("http://localhost:5173");
   }
   return [...list];
+}
+
+/** Query values that grant access (verification, reset and invitation tokens) never reach the logs. */
+export function redactUrl(url: string): string {
+  return url.replace(/([?&](?:token|code|secret|key|password|callbackURL)=)[^&#]*/gi, "$1[redacted]");
+}
+
+function trustProxySetting(v: string): string | number | boolean {
+  if (v === "true" || v === "false") return v === "true";
+  if (/^\d+$/.test(v)) return Number(v);
+  return v;
 }

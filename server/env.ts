@@ -17,7 +17,10 @@ export const envSchema = z.object({
   DATABASE_URL: z.string().default("data/burnline.db"),
   DATA_DIR: z.string().default("data"),
   AUTH_SECRET: z.string().min(32).default("burnline-local-development-secret-change-me-0001"),
-  DEMO: bool.default(true),
+  /** seed and show the demo scenario; defaults to on outside production, refused in production */
+  DEMO: bool.optional(),
+  /** Express "trust proxy": which proxies may tell us the client address (rate limits depend on it) */
+  TRUST_PROXY: z.string().default("loopback"),
   LOG_LEVEL: z.enum(["fatal", "error", "warn", "info", "debug", "trace", "silent"]).default("info"),
   SMTP_HOST: z.string().optional(),
   SMTP_PORT: z.coerce.number().int().optional(),
@@ -34,7 +37,7 @@ export const envSchema = z.object({
   MAX_PHOTO_BYTES: z.coerce.number().int().positive().default(15 * 1024 * 1024),
 });
 
-export type Env = z.infer<typeof envSchema> & { publicUrl: string; dataDir: string; secureCookies: boolean };
+export type Env = Omit<z.infer<typeof envSchema>, "DEMO"> & { DEMO: boolean; publicUrl: string; dataDir: string; secureCookies: boolean };
 
 export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
   const parsed = envSchema.safeParse(source);
@@ -43,12 +46,18 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
     throw new Error(`Invalid configuration:\n${lines}`);
   }
   const e = parsed.data;
-  if (e.NODE_ENV === "production" && e.AUTH_SECRET.startsWith("burnline-local-")) {
-    throw new Error("Invalid configuration:\n  AUTH_SECRET: set a secret of your own in production");
+  if (e.NODE_ENV === "production") {
+    const problems: string[] = [];
+    if (e.AUTH_SECRET.startsWith("burnline-local-")) problems.push("AUTH_SECRET: set a secret of your own in production");
+    if (e.STRIPE_WEBHOOK_SECRET === "whsec_burnline_local") problems.push("STRIPE_WEBHOOK_SECRET: set the webhook signing secret of your Stripe account");
+    if (e.STRIPE_SECRET_KEY.startsWith("sk_test_burnline")) problems.push("STRIPE_SECRET_KEY: set the secret key of your Stripe account");
+    if (e.DEMO) problems.push("DEMO: the demo accounts have a published password; they cannot be on in production");
+    if (problems.length) throw new Error(`Invalid configuration:\n${problems.map((p) => `  ${p}`).join("\n")}`);
   }
   const publicUrl = e.PUBLIC_URL ?? `http://localhost:${e.PORT}`;
   return {
     ...e,
+    DEMO: e.DEMO ?? e.NODE_ENV !== "production",
     publicUrl,
     dataDir: path.resolve(e.DATA_DIR),
     secureCookies: e.NODE_ENV === "production" && publicUrl.startsWith("https://"),

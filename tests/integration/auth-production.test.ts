@@ -5,7 +5,7 @@ import { baseUrl, createUser, nextTestIp } from "../factories/index";
 
 let s: TestServer;
 beforeAll(async () => {
-  s = await startTestServer({ NODE_ENV: "production", AUTH_SECRET: "production-like-test-secret-0123456789abcdef" });
+  s = await startTestServer({ NODE_ENV: "production", AUTH_SECRET: "production-like-test-secret-0123456789abcdef", STRIPE_SECRET_KEY: "sk_test_production_like_key", STRIPE_WEBHOOK_SECRET: "whsec_production_like_secret" });
 });
 afterAll(async () => {
   await s?.close();
