@@ -4,3 +4,4 @@ export * from "./shops";
 export * from "./cases";
 export * from "./queue";
 export * from "./live";
+export * from "./casebook";
