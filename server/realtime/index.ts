@@ -9,7 +9,8 @@
  *   the live policy, so signing out or losing access stops the next event; a sweep every
  *   `sweepMs` disconnects sockets whose session or access has gone even if they stay silent.
  * - Writes commit (with the case's next seq) before anything is sent: the sender gets the stored
- *   record in its acknowledgement, the others get it as an event.
+ *   record in its acknowledgement, the others get it as an event. Writes arriving together share
+ *   one commit (./group-commit.ts); their acks and broadcasts still leave in seq order.
  * - Handlers are synchronous from the database read to the room join / broadcast, so a join's
  *   replay and the live events after it neither overlap nor leave a gap.
  */
@@ -25,8 +26,9 @@ import { HttpError, notFound, unauthorized } from "../http/errors";
 import { parseWith } from "../http/validate";
 import { assertCanJoinCase, canJoinCase, liveAbilities } from "../auth/policies/live";
 import { getCaseRow, type CaseRow } from "../services/cases";
-import { createAnnotation, deleteAnnotation, headSeq, listAnnotations, updateAnnotation, type LiveActor } from "../services/annotations";
-import { listMessages, postMessage } from "../services/messages";
+import { createAnnotationIn, deleteAnnotationIn, headSeq, listAnnotations, updateAnnotationIn, type LiveActor } from "../services/annotations";
+import { listMessages, postMessageIn } from "../services/messages";
+import { groupCommit } from "./group-commit";
 import { PresenceRegistry } from "../services/presence";
 import { actorOfSession, actorsOfSessions, sessionIdFromHandshake } from "./session";
 import {
@@ -199,6 +201,33 @@ export function attachRealtime(server: http.Server, ctx: AppContext, auth: Auth,
     reply({ ok: true, ...result });
   }
 
+  const commits = groupCommit(ctx.db, { onError: (err) => ctx.logger.error({ err }, "realtime commit failed") });
+
+  /**
+   * Runs an acknowledged write: `prepare` validates and checks access now and returns the work to
+   * do in the group commit; `after` runs once it is committed (broadcast) and gives the ack's body.
+   */
+  function written<R, A extends object>(event: string, ack: unknown, prepare: () => { run: () => R; after: (r: R) => A }): void {
+    const reply = typeof ack === "function" ? (ack as (r: unknown) => void) : () => {};
+    let job: ReturnType<typeof prepare>;
+    try {
+      job = prepare();
+    } catch (err) {
+      reply({ ok: false, error: eventError(err, ctx, event) });
+      return;
+    }
+    commits.enqueue(job.run, (err, r) => {
+      if (err) return reply({ ok: false, error: eventError(err, ctx, event) });
+      let body: A;
+      try {
+        body = job.after(r as R);
+      } catch (e) {
+        return reply({ ok: false, error: eventError(e, ctx, event) });
+      }
+      reply({ ok: true, ...body });
+    });
+  }
+
   /** Runs an unacknowledged event; refusals are dropped (the sender learns through its next acked event). */
   function quiet(event: string, fn: () => void): void {
     try {
@@ -270,43 +299,63 @@ export function attachRealtime(server: http.Server, ctx: AppContext, auth: Auth,
     );
 
     socket.on("annotation:create", (raw, ack) =>
-      acked(socket, "annotation:create", ack, () => {
+      written("annotation:create", ack, () => {
         const p = parseWith(annotationCreateSchema, raw, "event");
         const { actor, caseId } = inRoom(socket);
-        const w = createAnnotation(ctx, actor, caseId, p);
-        if (w.changed) socket.to(caseRoom(caseId)).emit("annotation:created", w.record);
-        return { annotation: w.record };
+        const now = ctx.now();
+        return {
+          run: () => createAnnotationIn(ctx.db, now, actor, caseId, p),
+          after: (w) => {
+            if (w.changed) socket.to(caseRoom(caseId)).emit("annotation:created", w.record);
+            return { annotation: w.record };
+          },
+        };
       }),
     );
 
     socket.on("annotation:update", (raw, ack) =>
-      acked(socket, "annotation:update", ack, () => {
+      written("annotation:update", ack, () => {
         const p = parseWith(annotationUpdateSchema, raw, "event");
         const { actor, caseId } = inRoom(socket);
-        const w = updateAnnotation(ctx, actor, caseId, p);
-        socket.to(caseRoom(caseId)).emit("annotation:updated", w.record);
-        return { annotation: w.record };
+        const now = ctx.now();
+        return {
+          run: () => updateAnnotationIn(ctx.db, now, actor, caseId, p),
+          after: (w) => {
+            socket.to(caseRoom(caseId)).emit("annotation:updated", w.record);
+            return { annotation: w.record };
+          },
+        };
       }),
     );
 
     socket.on("annotation:delete", (raw, ack) =>
-      acked(socket, "annotation:delete", ack, () => {
+      written("annotation:delete", ack, () => {
         const p = parseWith(annotationDeleteSchema, raw, "event");
         const { actor, caseId } = inRoom(socket);
-        const w = deleteAnnotation(ctx, actor, caseId, p.id);
-        socket.to(caseRoom(caseId)).emit("annotation:deleted", w.record);
-        return { annotation: w.record };
+        const now = ctx.now();
+        return {
+          run: () => deleteAnnotationIn(ctx.db, now, actor, caseId, p.id),
+          after: (w) => {
+            socket.to(caseRoom(caseId)).emit("annotation:deleted", w.record);
+            return { annotation: w.record };
+          },
+        };
       }),
     );
 
     socket.on("chat:send", (raw, ack) =>
-      acked(socket, "chat:send", ack, () => {
+      written("chat:send", ack, () => {
         const p = parseWith(chatSendSchema, raw, "event");
         const { actor, caseId } = inRoom(socket);
-        const w = postMessage(ctx, actor, caseId, p);
-        if (w.changed) socket.to(caseRoom(caseId)).emit("chat:message", w.record);
-        if (presence.setTyping(caseId, actor.id, false)) io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId));
-        return { message: w.record };
+        const now = ctx.now();
+        return {
+          run: () => postMessageIn(ctx.db, now, actor, caseId, p),
+          after: (w) => {
+            if (w.changed) socket.to(caseRoom(caseId)).emit("chat:message", w.record);
+            if (presence.setTyping(caseId, actor.id, false)) io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId));
+            return { message: w.record };
+          },
+        };
       }),
     );
 
@@ -404,6 +453,7 @@ export function attachRealtime(server: http.Server, ctx: AppContext, auth: Auth,
     },
     async close() {
       clearInterval(sweepTimer);
+      commits.flush();
       io.disconnectSockets(true);
       presence.clear();
       // Not io.close(): that would also close the HTTP server, which startServer closes itself.

@@ -4,7 +4,7 @@
  * so a signed-out, expired or removed account stops at its next event.
  */
 import type { IncomingHttpHeaders } from "node:http";
-import { and, eq, gt, inArray } from "drizzle-orm";
+import { and, eq, gt, inArray, sql } from "drizzle-orm";
 import { fromNodeHeaders } from "better-auth/node";
 import type { Auth } from "../auth/auth";
 import type { Db } from "../db/client";
@@ -40,14 +40,21 @@ function toActor(u: UserRow): LiveActor | null {
 
 const userCols = { id: user.id, email: user.email, name: user.name, role: user.role, shopId: user.shopId, color: user.color, deactivatedAt: user.deactivatedAt };
 
-/** The actor of a live session, or null when the session is gone, expired, or its account removed. */
-export function actorOfSession(db: Db, sessionId: string, now: Date): LiveActor | null {
-  const r = db
+const prepared = new WeakMap<Db, ReturnType<typeof prepareLookup>>();
+function prepareLookup(db: Db) {
+  return db
     .select({ ...userCols })
     .from(session)
     .innerJoin(user, eq(user.id, session.userId))
-    .where(and(eq(session.id, sessionId), gt(session.expiresAt, now)))
-    .get();
+    .where(and(eq(session.id, sql.placeholder("id")), gt(session.expiresAt, sql.placeholder("now"))))
+    .prepare();
+}
+
+/** The actor of a live session, or null when the session is gone, expired, or its account removed. Runs on every event. */
+export function actorOfSession(db: Db, sessionId: string, now: Date): LiveActor | null {
+  let q = prepared.get(db);
+  if (!q) prepared.set(db, (q = prepareLookup(db)));
+  const r = q.get({ id: sessionId, now: now.getTime() });
   return r ? toActor(r) : null;
 }
 

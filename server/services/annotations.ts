@@ -19,7 +19,59 @@ type Tx = Parameters<Parameters<Db["transaction"]>[0]>[0];
 export type DbLike = Db | Tx;
 export type AnnotationRow = typeof schema.annotation.$inferSelect;
 
-const { annotation, caseSeq, user, trace } = schema;
+const { annotation, caseSeq, user, trace, caseTable } = schema;
+
+/** The statements of the hot write path, compiled once per database (drizzle prepared queries). */
+function prepareStatements(db: Db) {
+  const p = sql.placeholder;
+  return {
+    caseForPolicy: db
+      .select({ id: caseTable.id, shopId: caseTable.shopId, status: caseTable.status, expertId: caseTable.expertId })
+      .from(caseTable)
+      .where(eq(caseTable.id, p("id")))
+      .prepare(),
+    trace: db.select().from(trace).where(eq(trace.id, p("id"))).prepare(),
+    priorMark: db
+      .select()
+      .from(annotation)
+      .where(and(eq(annotation.authorId, p("authorId")), eq(annotation.clientId, p("clientId"))))
+      .prepare(),
+    nextSeq: db
+      .insert(caseSeq)
+      .values({ caseId: p("caseId"), seq: 1 })
+      .onConflictDoUpdate({ target: caseSeq.caseId, set: { seq: sql`${caseSeq.seq} + 1` } })
+      .returning({ seq: caseSeq.seq })
+      .prepare(),
+    insertMark: db
+      .insert(annotation)
+      .values({
+        id: p("id"),
+        caseId: p("caseId"),
+        traceId: p("traceId"),
+        authorId: p("authorId"),
+        clientId: p("clientId"),
+        kind: p("kind"),
+        t0: p("t0"),
+        t1: p("t1"),
+        level: p("level"),
+        label: p("label"),
+        channel: p("channel"),
+        color: p("color"),
+        seq: p("seq"),
+        createdAt: p("createdAt"),
+        updatedAt: p("updatedAt"),
+        // deleted_at stays NULL (a placeholder would pass null through the timestamp encoder)
+      })
+      .prepare(),
+  };
+}
+const prepared = new WeakMap<Db, ReturnType<typeof prepareStatements>>();
+/** The prepared statements of `db` (run them inside the caller's transaction: same connection). */
+export function liveStatements(db: Db): ReturnType<typeof prepareStatements> {
+  let s = prepared.get(db);
+  if (!s) prepared.set(db, (s = prepareStatements(db)));
+  return s;
+}
 
 /** An actor with the colour of their marks. */
 export type LiveActor = Actor & { color: string };
@@ -30,15 +82,12 @@ export function withColor(db: DbLike, actor: Actor): LiveActor {
   return { ...actor, color: authorColor({ id: actor.id, role: actor.role, color: row?.color }) };
 }
 
-/** Takes the case's next seq. Call inside the transaction that writes the record it numbers. */
-export function nextSeq(tx: DbLike, caseId: string): number {
-  const r = tx
-    .insert(caseSeq)
-    .values({ caseId, seq: 1 })
-    .onConflictDoUpdate({ target: caseSeq.caseId, set: { seq: sql`${caseSeq.seq} + 1` } })
-    .returning({ seq: caseSeq.seq })
-    .get();
-  return r.seq;
+/**
+ * Takes the case's next seq. Call inside the transaction that writes the record it numbers
+ * (`db` is the database whose transaction is open: the statement runs on its connection).
+ */
+export function nextSeq(db: Db, caseId: string): number {
+  return liveStatements(db).nextSeq.get({ caseId })!.seq;
 }
 
 /** The last seq handed out for the case (0 when none). */
@@ -111,52 +160,52 @@ export interface Written {
 
 /** A new mark on a trace of the case. 404 for a trace of another case; idempotent per (author, clientId). */
 export function createAnnotation(ctx: AppContext, actor: LiveActor, caseId: string, input: AnnotationCreate): Written {
-  const now = ctx.now();
-  return ctx.db.transaction(
-    (tx) => {
-      assertLiveWrite(actor, getCaseRow(tx, caseId) as CaseRow | undefined, "annotate");
-      if (input.clientId) {
-        const prior = tx
-          .select()
-          .from(annotation)
-          .where(and(eq(annotation.authorId, actor.id), eq(annotation.clientId, input.clientId)))
-          .get();
-        if (prior) {
-          if (prior.caseId !== caseId) throw badRequest("client_id_reused", "This clientId belongs to a mark on another case.");
-          return { record: presentAnnotation(prior, actor.name), changed: false };
-        }
-      }
-      const t = tx.select().from(trace).where(eq(trace.id, input.traceId)).get();
-      if (!t || t.caseId !== caseId) throw notFound("Trace");
-      checkOnTrace(t, input);
-      const row: AnnotationRow = {
-        id: crypto.randomUUID(),
-        caseId,
-        traceId: input.traceId,
-        authorId: actor.id,
-        clientId: input.clientId ?? null,
-        kind: input.kind,
-        t0: input.t0,
-        t1: input.t1 ?? null,
-        level: input.level ?? null,
-        label: input.label ? input.label : null,
-        channel: input.channel ?? null,
-        color: actor.color,
-        seq: nextSeq(tx, caseId),
-        createdAt: now,
-        updatedAt: now,
-        deletedAt: null,
-      };
-      tx.insert(annotation).values(row).run();
-      return { record: presentAnnotation(row, actor.name), changed: true };
-    },
-    { behavior: "immediate" },
-  );
+  return ctx.db.transaction(() => createAnnotationIn(ctx.db, ctx.now(), actor, caseId, input), { behavior: "immediate" });
 }
 
-function loadOwn(tx: DbLike, actor: LiveActor, caseId: string, id: string): AnnotationRow {
-  assertLiveWrite(actor, getCaseRow(tx, caseId) as CaseRow | undefined, "annotate");
-  const row = getRow(tx, id);
+/**
+ * createAnnotation inside a transaction the caller has open on `db` (server/realtime groups
+ * several writes in one commit, each in its own savepoint).
+ */
+export function createAnnotationIn(db: Db, now: Date, actor: LiveActor, caseId: string, input: AnnotationCreate): Written {
+  const st = liveStatements(db);
+  assertLiveWrite(actor, st.caseForPolicy.get({ id: caseId }), "annotate");
+  if (input.clientId) {
+    const prior = st.priorMark.get({ authorId: actor.id, clientId: input.clientId });
+    if (prior) {
+      if (prior.caseId !== caseId) throw badRequest("client_id_reused", "This clientId belongs to a mark on another case.");
+      return { record: presentAnnotation(prior, actor.name), changed: false };
+    }
+  }
+  const t = st.trace.get({ id: input.traceId });
+  if (!t || t.caseId !== caseId) throw notFound("Trace");
+  checkOnTrace(t, input);
+  const row: AnnotationRow = {
+    id: crypto.randomUUID(),
+    caseId,
+    traceId: input.traceId,
+    authorId: actor.id,
+    clientId: input.clientId ?? null,
+    kind: input.kind,
+    t0: input.t0,
+    t1: input.t1 ?? null,
+    level: input.level ?? null,
+    label: input.label ? input.label : null,
+    channel: input.channel ?? null,
+    color: actor.color,
+    seq: nextSeq(db, caseId),
+    createdAt: now,
+    updatedAt: now,
+    deletedAt: null,
+  };
+  const { deletedAt: _none, ...values } = row;
+  st.insertMark.run(values);
+  return { record: presentAnnotation(row, actor.name), changed: true };
+}
+
+function loadOwn(db: Db, actor: LiveActor, caseId: string, id: string): AnnotationRow {
+  assertLiveWrite(actor, liveStatements(db).caseForPolicy.get({ id: caseId }), "annotate");
+  const row = getRow(db, id);
   if (!row || row.caseId !== caseId || row.deletedAt) throw notFound("Annotation");
   assertOwnAnnotation(actor, row);
   return row;
@@ -164,37 +213,35 @@ function loadOwn(tx: DbLike, actor: LiveActor, caseId: string, id: string): Anno
 
 /** The author moves or relabels a mark; it gets a new seq. */
 export function updateAnnotation(ctx: AppContext, actor: LiveActor, caseId: string, input: AnnotationUpdate): Written {
-  const now = ctx.now();
-  return ctx.db.transaction(
-    (tx) => {
-      const cur = loadOwn(tx, actor, caseId, input.id);
-      const next = {
-        t0: input.t0 !== undefined ? input.t0 : cur.t0,
-        t1: input.t1 !== undefined ? input.t1 : cur.t1,
-        level: input.level !== undefined ? input.level : cur.level,
-        label: input.label !== undefined ? input.label || null : cur.label,
-      };
-      parseWith(annotationShapeSchema, { kind: cur.kind, ...next }, "annotation");
-      const t = tx.select().from(trace).where(eq(trace.id, cur.traceId)).get()!;
-      checkOnTrace(t, next);
-      const row: AnnotationRow = { ...cur, ...next, seq: nextSeq(tx, caseId), updatedAt: now };
-      tx.update(annotation).set({ ...next, seq: row.seq, updatedAt: now }).where(eq(annotation.id, cur.id)).run();
-      return { record: presentAnnotation(row, actor.name), changed: true };
-    },
-    { behavior: "immediate" },
-  );
+  return ctx.db.transaction(() => updateAnnotationIn(ctx.db, ctx.now(), actor, caseId, input), { behavior: "immediate" });
+}
+
+/** updateAnnotation inside a transaction the caller has open on `db`. */
+export function updateAnnotationIn(db: Db, now: Date, actor: LiveActor, caseId: string, input: AnnotationUpdate): Written {
+  const cur = loadOwn(db, actor, caseId, input.id);
+  const next = {
+    t0: input.t0 !== undefined ? input.t0 : cur.t0,
+    t1: input.t1 !== undefined ? input.t1 : cur.t1,
+    level: input.level !== undefined ? input.level : cur.level,
+    label: input.label !== undefined ? input.label || null : cur.label,
+  };
+  parseWith(annotationShapeSchema, { kind: cur.kind, ...next }, "annotation");
+  const t = db.select().from(trace).where(eq(trace.id, cur.traceId)).get()!;
+  checkOnTrace(t, next);
+  const row: AnnotationRow = { ...cur, ...next, seq: nextSeq(db, caseId), updatedAt: now };
+  db.update(annotation).set({ ...next, seq: row.seq, updatedAt: now }).where(eq(annotation.id, cur.id)).run();
+  return { record: presentAnnotation(row, actor.name), changed: true };
 }
 
 /** The author removes a mark: it stays as a tombstone with a new seq, so replays remove it too. */
 export function deleteAnnotation(ctx: AppContext, actor: LiveActor, caseId: string, id: string): Written {
-  const now = ctx.now();
-  return ctx.db.transaction(
-    (tx) => {
-      const cur = loadOwn(tx, actor, caseId, id);
-      const row: AnnotationRow = { ...cur, seq: nextSeq(tx, caseId), updatedAt: now, deletedAt: now };
-      tx.update(annotation).set({ seq: row.seq, updatedAt: now, deletedAt: now }).where(eq(annotation.id, cur.id)).run();
-      return { record: presentAnnotation(row, actor.name), changed: true };
-    },
-    { behavior: "immediate" },
-  );
+  return ctx.db.transaction(() => deleteAnnotationIn(ctx.db, ctx.now(), actor, caseId, id), { behavior: "immediate" });
+}
+
+/** deleteAnnotation inside a transaction the caller has open on `db`. */
+export function deleteAnnotationIn(db: Db, now: Date, actor: LiveActor, caseId: string, id: string): Written {
+  const cur = loadOwn(db, actor, caseId, id);
+  const row: AnnotationRow = { ...cur, seq: nextSeq(db, caseId), updatedAt: now, deletedAt: now };
+  db.update(annotation).set({ seq: row.seq, updatedAt: now, deletedAt: now }).where(eq(annotation.id, cur.id)).run();
+  return { record: presentAnnotation(row, actor.name), changed: true };
 }

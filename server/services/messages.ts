@@ -7,8 +7,8 @@ import type { AppContext } from "../context";
 import { schema } from "../db/client";
 import { assertLiveWrite } from "../auth/policies/live";
 import { badRequest } from "../http/errors";
-import { getCaseRow, type CaseRow } from "./cases";
-import { nextSeq, type DbLike, type LiveActor } from "./annotations";
+import { liveStatements, nextSeq, type DbLike, type LiveActor } from "./annotations";
+import type { Db } from "../db/client";
 import type { DataRequest, MessageKind } from "../../shared/schemas/realtime";
 import type { MessageRecord } from "../../shared/realtime";
 import type { Role } from "../../shared/domain/case-status";
@@ -57,37 +57,36 @@ export interface PostedMessage {
  * `POST /api/cases/:id/request-data`, which may call this with the same request.
  */
 export function postMessage(ctx: AppContext, actor: LiveActor, caseId: string, input: { text: string; request?: DataRequest; clientId?: string }): PostedMessage {
-  const now = ctx.now();
+  return ctx.db.transaction(() => postMessageIn(ctx.db, ctx.now(), actor, caseId, input), { behavior: "immediate" });
+}
+
+/** postMessage inside a transaction the caller has open on `db`. */
+export function postMessageIn(db: Db, now: Date, actor: LiveActor, caseId: string, input: { text: string; request?: DataRequest; clientId?: string }): PostedMessage {
   const kind: MessageKind = input.request ? "data_request" : "text";
-  return ctx.db.transaction(
-    (tx) => {
-      assertLiveWrite(actor, getCaseRow(tx, caseId) as CaseRow | undefined, kind === "data_request" ? "requestData" : "chat");
-      if (input.clientId) {
-        const prior = tx
-          .select()
-          .from(message)
-          .where(and(eq(message.authorId, actor.id), eq(message.clientId, input.clientId)))
-          .get();
-        if (prior) {
-          if (prior.caseId !== caseId) throw badRequest("client_id_reused", "This clientId belongs to a message on another case.");
-          return { record: presentMessage(prior, { name: actor.name, role: actor.role }), changed: false };
-        }
-      }
-      const row: MessageRow = {
-        id: crypto.randomUUID(),
-        caseId,
-        authorId: actor.id,
-        clientId: input.clientId ?? null,
-        kind,
-        text: input.text,
-        request: (input.request as Record<string, unknown> | undefined) ?? null,
-        color: actor.color,
-        seq: nextSeq(tx, caseId),
-        createdAt: now,
-      };
-      tx.insert(message).values(row).run();
-      return { record: presentMessage(row, { name: actor.name, role: actor.role }), changed: true };
-    },
-    { behavior: "immediate" },
-  );
+  assertLiveWrite(actor, liveStatements(db).caseForPolicy.get({ id: caseId }), kind === "data_request" ? "requestData" : "chat");
+  if (input.clientId) {
+    const prior = db
+      .select()
+      .from(message)
+      .where(and(eq(message.authorId, actor.id), eq(message.clientId, input.clientId)))
+      .get();
+    if (prior) {
+      if (prior.caseId !== caseId) throw badRequest("client_id_reused", "This clientId belongs to a message on another case.");
+      return { record: presentMessage(prior, { name: actor.name, role: actor.role }), changed: false };
+    }
+  }
+  const row: MessageRow = {
+    id: crypto.randomUUID(),
+    caseId,
+    authorId: actor.id,
+    clientId: input.clientId ?? null,
+    kind,
+    text: input.text,
+    request: (input.request as Record<string, unknown> | undefined) ?? null,
+    color: actor.color,
+    seq: nextSeq(db, caseId),
+    createdAt: now,
+  };
+  db.insert(message).values(row).run();
+  return { record: presentMessage(row, { name: actor.name, role: actor.role }), changed: true };
 }

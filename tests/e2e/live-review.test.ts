@@ -59,9 +59,11 @@ async function pixelsOf(page: Page, color: string): Promise<number> {
     const g = parseInt(hex.slice(3, 5), 16);
     const b = parseInt(hex.slice(5, 7), 16);
     let n = 0;
-    const section = document.querySelector('section[aria-labelledby="live-title"]');
-    for (const c of Array.from(section?.querySelectorAll("canvas") ?? [])) {
-      const ctx = (c as HTMLCanvasElement).getContext("2d");
+    // runs in the page (this file is type-checked without the DOM library)
+    const doc = (globalThis as any).document;
+    const section = doc.querySelector('section[aria-labelledby="live-title"]');
+    for (const c of Array.from((section?.querySelectorAll("canvas") ?? []) as ArrayLike<any>)) {
+      const ctx = c.getContext("2d");
       if (!ctx || !c.width || !c.height) continue;
       const d = ctx.getImageData(0, 0, c.width, c.height).data;
       for (let i = 0; i < d.length; i += 4) if (d[i + 3] > 200 && Math.abs(d[i] - r) <= 6 && Math.abs(d[i + 1] - g) <= 6 && Math.abs(d[i + 2] - b) <= 6) n++;
