@@ -197,17 +197,42 @@ const MESSAGES: Record<string, [code: string, message: string]> = {
 };
 
 /**
- * The session lives in an HttpOnly cookie; better-auth also echoes its token in the JSON body of a
- * sign-in, where page scripts could read it. Drop it there.
+ * The session lives in an HttpOnly cookie. better-auth also echoes the session token in JSON: at
+ * the top of a sign-in or change-password answer, as `session.token` in get-session and as `token`
+ * of every entry of list-sessions. Page scripts could read it there (and an XSS could carry it
+ * off), so every successful JSON answer of the auth handler goes out without those fields; the
+ * cookie is left as it is.
  */
-async function withoutSessionToken(request: Request, res: Response): Promise<Response> {
-  const path = new URL(request.url).pathname.slice(AUTH_BASE_PATH.length);
-  if (request.method !== "POST" || path !== "/sign-in/email" || !(res.headers.get("content-type") ?? "").includes("json")) return res;
-  const body = (await res.json()) as Record<string, unknown>;
-  delete body.token;
+export async function withoutSessionToken(_request: Request, res: Response): Promise<Response> {
+  if (!(res.headers.get("content-type") ?? "").includes("json")) return res;
+  const text = await res.clone().text();
+  let body: unknown;
+  try {
+    body = text ? JSON.parse(text) : null;
+  } catch {
+    return res;
+  }
+  if (!stripSessionTokens(body)) return res;
   const headers = new Headers(res.headers);
   headers.delete("content-length");
-  return new Response(JSON.stringify(body), { status: res.status, headers });
+  return new Response(JSON.stringify(body), { status: res.status, statusText: res.statusText, headers });
+}
+
+/** Removes `token` from the body, from its `session` and from each entry of a list; true if anything was removed. */
+export function stripSessionTokens(body: unknown): boolean {
+  let changed = false;
+  const drop = (o: unknown) => {
+    if (o && typeof o === "object" && !Array.isArray(o) && "token" in o) {
+      delete (o as Record<string, unknown>).token;
+      changed = true;
+    }
+  };
+  if (Array.isArray(body)) body.forEach(drop);
+  else if (body && typeof body === "object") {
+    drop(body);
+    drop((body as Record<string, unknown>).session);
+  }
+  return changed;
 }
 
 /** better-auth answers `{ code, message }`; the rest of the API answers `{ error: { code, message, details? } }`. */

@@ -1,18 +1,64 @@
-import { Router } from "express";
+import { Router, type Request, type RequestHandler } from "express";
 import path from "node:path";
 import type { AppContext } from "../context";
 import { listStoredMail, type CaughtMail } from "../fakes/smtp";
 import { notFound } from "../http/errors";
+import { notFoundHandler } from "../http/error-handler";
 import { devMailEnabled } from "./accounts";
+
+/** The paths of the development inbox; outside its conditions each answers 404 like any unknown path. */
+export const DEV_MAIL_PATHS = ["/api/dev/mail", "/dev/mail", "/dev/mail/:id"];
+
+/**
+ * A stored mail shown as sent runs in a sandbox (CSP Level 3 `sandbox` directive: a unique opaque
+ * origin, no script, no forms), so HTML in a caught mail cannot act on the app's origin.
+ */
+export const MAIL_VIEW_CSP = "sandbox; default-src 'none'; img-src data:; style-src 'unsafe-inline'";
+
+const LOOPBACK = new Set(["127.0.0.1", "::1", "::ffff:127.0.0.1"]);
+
+/**
+ * True when the request comes from this machine: the TCP peer is a loopback address and no proxy
+ * header names anyone else. The inbox holds password-reset, verification and invitation links, so
+ * it must not answer another machine on the network, signed in or not.
+ */
+export function fromLoopback(req: Request): boolean {
+  if (!LOOPBACK.has(req.socket.remoteAddress ?? "")) return false;
+  const named: string[] = [];
+  for (const v of ([] as string[]).concat(req.headers["x-forwarded-for"] ?? [])) named.push(...v.split(","));
+  // RFC 7239 §4: Forwarded: for=192.0.2.60;proto=http, for="[2001:db8:cafe::17]:4711"
+  for (const m of (req.headers.forwarded ?? "").matchAll(/for=("[^"]*"|[^;,\s]*)/gi)) named.push(m[1]);
+  const realIp = req.headers["x-real-ip"];
+  if (typeof realIp === "string") named.push(realIp);
+  return named.every((a) => LOOPBACK.has(bareAddress(a)));
+}
+
+/** `"[::1]:4711"` → `::1`, `127.0.0.1:80` → `127.0.0.1`; anything else trimmed as it is. */
+function bareAddress(a: string): string {
+  const v = a.trim().replace(/^"(.*)"$/, "$1");
+  const v6 = /^\[([^\]]+)\](?::\d+)?$/.exec(v);
+  if (v6) return v6[1];
+  const v4 = /^(\d{1,3}(?:\.\d{1,3}){3}):\d+$/.exec(v);
+  return v4 ? v4[1] : v;
+}
 
 /**
  * The development inbox: mails caught by the local SMTP catcher (stored under DATA_DIR/mail),
  * as JSON at GET /api/dev/mail and as a page at /dev/mail with clickable links. Only outside
- * production and only when no real SMTP server is configured; otherwise these paths do not exist.
+ * production, only when no real SMTP server is configured, and only to clients on this machine
+ * (loopback); otherwise these paths answer 404 as if they did not exist (also in front of the
+ * client's catch-all page).
  */
 export function devMailRoutes(ctx: AppContext): Router {
   const r = Router();
-  if (!devMailEnabled(ctx)) return r;
+  const enabled = devMailEnabled(ctx);
+  const gate: RequestHandler = (req, res, next) => {
+    if (!enabled || ctx.env.NODE_ENV === "production" || !fromLoopback(req)) return notFoundHandler(req, res, next);
+    res.set("Cache-Control", "no-store");
+    next();
+  };
+  r.all(DEV_MAIL_PATHS, gate);
+  if (!enabled) return r;
   const dir = path.join(ctx.env.dataDir, "mail");
   const newestFirst = () => listStoredMail(dir).reverse();
 
@@ -27,6 +73,7 @@ export function devMailRoutes(ctx: AppContext): Router {
   r.get("/dev/mail/:id", (req, res) => {
     const mail = listStoredMail(dir).find((m) => m.id === req.params.id);
     if (!mail) throw notFound("Mail");
+    res.set("Content-Security-Policy", MAIL_VIEW_CSP);
     if (mail.html) res.type("html").send(mail.html);
     else res.type("text").send(mail.text);
   });

@@ -29,9 +29,14 @@ test("in production the session cookie is Secure, HttpOnly, SameSite=Lax and car
 });
 
 test("the development inbox does not exist in production", async () => {
-  expect((await request(baseUrl(s)).get("/api/dev/mail")).status).toBe(404);
-  const page = await request(baseUrl(s)).get("/dev/mail");
-  expect(page.text).not.toContain("caught mail");
+  // Project rule: the inbox is a development tool; in production its paths answer 404 in the API's
+  // error format, even to this machine and even with a client build whose catch-all serves pages.
+  for (const p of ["/api/dev/mail", "/dev/mail", "/dev/mail/some-id"]) {
+    const res = await request(baseUrl(s)).get(p);
+    expect(res.status, p).toBe(404);
+    expect(res.headers["content-type"], p).toMatch(/application\/json/);
+    expect(res.body, p).toEqual({ error: { code: "not_found", message: expect.any(String) } });
+  }
   const cfg = await request(baseUrl(s)).get("/api/config");
   expect(cfg.body.devMail).toBe(false);
 });

@@ -1,10 +1,15 @@
-import { afterAll, beforeAll, describe, expect, test } from "vitest";
+import { afterAll, beforeAll, describe, expect, test, vi } from "vitest";
+import express from "express";
+import http from "node:http";
+import os from "node:os";
 import request from "supertest";
 import argon2 from "argon2";
 import { count, eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { baseUrl, createUser, linkParam, linkPath, signIn, waitForMail } from "../factories/index";
 import { schema } from "../../server/db/client";
+import { devMailRoutes } from "../../server/routes/dev-mail";
+import { errorHandler } from "../../server/http/error-handler";
 
 let s: TestServer;
 let base: string;
@@ -145,7 +150,17 @@ describe("password reset", () => {
     expect((await session.get("/api/me")).status).toBe(200);
 
     const since = new Date();
-    const known = await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: u.email });
+    // better-auth computes the link's expiry from Date.now() (better-auth/dist/utils/date.mjs
+    // getDate), not from ctx.now, so the clock the request runs on is fixed here: Date alone is
+    // faked (timers stay real) and stands still at `issuedAt` during the request.
+    const issuedAt = new Date(Math.ceil(Date.now() / 1000) * 1000 + 1000);
+    vi.useFakeTimers({ toFake: ["Date"], now: issuedAt });
+    let known: request.Response;
+    try {
+      known = await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: u.email });
+    } finally {
+      vi.useRealTimers();
+    }
     const unknown = await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: "ghost@example.test" });
     // OWASP Forgot Password Cheat Sheet: "Return a consistent message for both existent and non-existent accounts."
     expect(known.status).toBe(200);
@@ -158,8 +173,8 @@ describe("password reset", () => {
     const rows = s.ctx.db.select().from(schema.verification).where(eq(schema.verification.value, u.id)).all();
     expect(rows.length).toBe(1);
     expect(rows[0].identifier).not.toContain(token);
-    // ... and expires after 1 hour (requirement of the issue), give or take the test's own runtime.
-    expect(Math.abs(rows[0].expiresAt.getTime() - Date.now() - 3600_000)).toBeLessThan(60_000);
+    // ... and expires exactly 1 hour after it was issued (requirement of the issue).
+    expect(rows[0].expiresAt.getTime()).toBe(issuedAt.getTime() + 3600_000);
 
     const common = await request(base).post("/api/auth/reset-password").set("X-Forwarded-For", ip()).send({ token, newPassword: "password123" });
     // NIST SP 800-63B §5.1.1.2: refuse passwords found in lists of commonly used values.
@@ -295,5 +310,139 @@ describe("development inbox", () => {
     expect(page.text).toContain(`href="${mail.links[0].replace(/&/g, "&amp;")}"`);
     const cfg = await request(base).get("/api/config");
     expect(cfg.body).toMatchObject({ devMail: true, demo: false, demoSignIns: [] });
+  });
+});
+
+describe("session token stays in the cookie", () => {
+  test("get-session and list-sessions answer without the session token; the cookie still signs the requests", async () => {
+    const u = await createUser(s);
+    const agent = await signIn(s, u);
+    // better-auth's cookie value is "<token>.<signature>", URL-encoded.
+    const cookieValue = /burnline\.session_token=([^;]+)/.exec(agent.cookie)![1];
+    const token = decodeURIComponent(cookieValue).split(".")[0];
+    expect(token.length).toBeGreaterThan(16);
+
+    // OWASP Session Management Cheat Sheet, "Cookies" / HttpOnly: the session ID must not be
+    // readable by page scripts; project rule (the session lives only in the HttpOnly cookie).
+    const got = await agent.get("/api/auth/get-session");
+    expect(got.status).toBe(200);
+    expect(got.body.user.email).toBe(u.email);
+    expect(got.body.session.userId).toBe(u.id);
+    expect(got.body.session).not.toHaveProperty("token");
+    expect(got.text).not.toContain(token);
+
+    const list = await agent.get("/api/auth/list-sessions");
+    expect(list.status).toBe(200);
+    expect(Array.isArray(list.body)).toBe(true);
+    expect(list.body.length).toBeGreaterThanOrEqual(1);
+    for (const entry of list.body) expect(entry).not.toHaveProperty("token");
+    expect(list.text).not.toContain(token);
+
+    // the cookie is untouched and still the session
+    const me = await agent.get("/api/me");
+    expect(me.status).toBe(200);
+    expect(me.body.id).toBe(u.id);
+  });
+});
+
+describe("development inbox is for this machine only", () => {
+  const paths = ["/api/dev/mail", "/dev/mail"];
+
+  /** The real inbox router and error handler behind a socket whose peer address is `peer`. */
+  function appSeenFrom(peer: string) {
+    const app = express();
+    app.use((req, _res, next) => {
+      Object.defineProperty(req.socket, "remoteAddress", { value: peer, configurable: true });
+      next();
+    });
+    app.use(devMailRoutes(s.ctx));
+    app.use((_req, res) => void res.status(418).json({ fellThrough: true }));
+    app.use(errorHandler);
+    return app;
+  }
+
+  test("a client on another machine gets 404 with the error format, as for a path that does not exist", async () => {
+    const u = await createUser(s);
+    const since = new Date();
+    await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: u.email }).expect(200);
+    const mail = await waitForMail(s, u.email, "reset", since);
+    // 192.168.1.20: an RFC 1918 private address, i.e. a machine on the same LAN.
+    const lan = appSeenFrom("192.168.1.20");
+    for (const p of [...paths, `/dev/mail/${mail.id}`]) {
+      const res = await request(lan).get(p);
+      expect(res.status, p).toBe(404);
+      expect(res.body, p).toEqual({ error: { code: "not_found", message: expect.any(String) } });
+      expect(res.text, p).not.toContain("/reset-password?token=");
+    }
+    // the three loopback forms pass (RFC 1122 §3.2.1.3 127/8; RFC 4291 §2.5.3 ::1; §2.5.5.2 IPv4-mapped)
+    for (const peer of ["127.0.0.1", "::1", "::ffff:127.0.0.1"]) {
+      const res = await request(appSeenFrom(peer)).get("/api/dev/mail");
+      expect(res.status, peer).toBe(200);
+      expect(res.body.mails.some((m: { id: string }) => m.id === mail.id), peer).toBe(true);
+    }
+  });
+
+  test("a request relayed by a local proxy for another machine gets 404", async () => {
+    for (const [header, value] of [
+      ["X-Forwarded-For", "192.168.1.20"],
+      ["X-Forwarded-For", "127.0.0.1, 192.168.1.20"],
+      ["Forwarded", 'for="[fd00::20]:4711"'], // RFC 7239 §4 syntax
+      ["X-Real-IP", "192.168.1.20"],
+    ]) {
+      for (const p of paths) {
+        const res = await request(base).get(p).set(header, value);
+        expect(res.status, `${header}: ${value} ${p}`).toBe(404);
+        expect(res.body.error.code).toBe("not_found");
+      }
+    }
+    // a proxy on this machine relaying for this machine still passes
+    expect((await request(base).get("/api/dev/mail").set("X-Forwarded-For", "127.0.0.1")).status).toBe(200);
+  });
+
+  const lanAddress = Object.values(os.networkInterfaces())
+    .flat()
+    .find((i) => i && i.family === "IPv4" && !i.internal)?.address;
+  test.skipIf(!lanAddress)("over a real connection from this machine's network address (not loopback) the inbox answers 404", async () => {
+    const open = await startTestServer({ HOST: "0.0.0.0" });
+    try {
+      const get = (p: string) =>
+        new Promise<{ status: number; body: string }>((resolve, reject) => {
+          http
+            .get({ host: lanAddress, port: open.port, path: p, localAddress: lanAddress }, (res) => {
+              let body = "";
+              res.setEncoding("utf8");
+              res.on("data", (c) => (body += c));
+              res.on("end", () => resolve({ status: res.statusCode ?? 0, body }));
+            })
+            .on("error", reject);
+        });
+      for (const p of paths) {
+        const res = await get(p);
+        expect(res.status, p).toBe(404);
+        expect(JSON.parse(res.body).error.code).toBe("not_found");
+      }
+      // the same server answers its own machine over loopback
+      expect((await request(baseUrl(open)).get("/api/dev/mail")).status).toBe(200);
+    } finally {
+      await open.close();
+    }
+  });
+
+  test("a mail shown as sent is sandboxed, so script in it cannot run on the app's origin", async () => {
+    const to = "sandbox-check@example.test";
+    const since = new Date();
+    await s.ctx.mailer.send({ to, subject: "Script inside", text: "plain part", html: '<p>hello</p><script>fetch("/api/me")</script>' });
+    const mail = await waitForMail(s, to, "script inside", since);
+    const res = await request(base).get(`/dev/mail/${mail.id}`);
+    expect(res.status).toBe(200);
+    // CSP Level 3 §6.3.2 "sandbox": with no allow-scripts token, scripts do not run and the
+    // document gets an opaque origin (HTML Standard, sandboxed origin browsing context flag).
+    const csp = String(res.headers["content-security-policy"]);
+    const directives = csp.split(";").map((d) => d.trim().split(/\s+/));
+    const sandbox = directives.find((d) => d[0] === "sandbox");
+    expect(sandbox).toBeDefined();
+    expect(sandbox).not.toContain("allow-scripts");
+    expect(sandbox).not.toContain("allow-same-origin");
+    expect(directives.find((d) => d[0] === "default-src")).toEqual(["default-src", "'none'"]);
   });
 });
