@@ -17,12 +17,22 @@ export interface Actor {
 
 const ACTOR = Symbol("actor");
 
+/**
+ * The stored role if it is one the policies know, else null. An unknown value (a typo in a manual
+ * edit, a role from a newer version) grants nothing: the account is treated as signed out rather
+ * than given a role it never had.
+ */
+export function knownRole(value: unknown): Role | null {
+  return typeof value === "string" && (roles as readonly string[]).includes(value) ? (value as Role) : null;
+}
+
 /** Resolves the actor from a session cookie (or any header bag, e.g. a socket handshake's). */
 export async function actorFromHeaders(headers: Request["headers"] | Headers, auth: Auth): Promise<Actor | null> {
   const s = await auth.api.getSession({ headers: headers instanceof Headers ? headers : fromNodeHeaders(headers) });
   const u = s?.user as Record<string, unknown> | undefined;
   if (!u || u.deactivatedAt) return null;
-  const role = (roles as readonly string[]).includes(String(u.role)) ? (u.role as Role) : "technician";
+  const role = knownRole(u.role);
+  if (!role) return null;
   return {
     id: String(u.id),
     email: String(u.email),

@@ -43,6 +43,22 @@ test("GET /api/me gives each role its id, role and shop (null for experts and ad
   expect((await as.admin.get("/api/me")).body).toMatchObject({ role: "admin", shopId: null });
 });
 
+test("a user whose stored role is not one of the known roles is denied everything (treated as signed out)", async () => {
+  // Fail closed (OWASP Authorization Cheat Sheet, "Deny by default"): a role value the policies do
+  // not know grants no role at all, not the technician's.
+  const team = await createShopTeam(s, { technicians: 1 });
+  const ag = await signIn(s, team.technicians[0]);
+  expect((await ag.get("/api/me")).status).toBe(200);
+  s.ctx.db.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, team.technicians[0].id)).run();
+  const me = await ag.get("/api/me");
+  expect(me.status).toBe(401);
+  expect(me.body.error.code).toBe("unauthenticated");
+  const teamList = await ag.get(`/api/shops/${team.shop.id}/team`);
+  expect(teamList.status).toBe(401);
+  const cases = await ag.get("/api/cases");
+  expect(cases.status).toBe(401);
+});
+
 describe("each role reaches only its routes", () => {
   type Who = keyof typeof as;
   const cases: { name: string; run: (ag: SignedInAgent) => Promise<request.Response>; expect: Partial<Record<Who | "anon", number>> }[] = [
