@@ -173,10 +173,15 @@ export const POINTER_RATE_HZ = 20;
 export const TYPING_TIMEOUT_MS = 5000;
 
 /**
- * Author colours, each at least 4.5:1 against the white plot area. Experts and admins draw from the
- * first four, shop members from the last four, so the expert and the tech of a case never share one.
+ * Author colours, each at least 4.5:1 against the white plot area (WCAG 2 contrast ratio: 4.8–10)
+ * and in hues the trace palette does not use (src/features/traces/lib/palette.ts: browns, teal,
+ * slate and harbour blues, plum, olive, red), so a mark never reads as part of a trace. The desk
+ * (experts, admins) and the shop draw from separate lists: the expert and the tech of a case never
+ * share a colour.
  */
-export const AUTHOR_COLORS = ["#b4235a", "#6b3fb8", "#0b6e99", "#9a4a00", "#0f7a4a", "#1f5fb4", "#8a2f8f", "#5c6b00"] as const;
+export const DESK_COLORS = ["#c2185b", "#7b1fa2", "#4527a0"] as const;
+export const SHOP_COLORS = ["#2e7d32", "#8d6e00"] as const;
+export const AUTHOR_COLORS = [...DESK_COLORS, ...SHOP_COLORS] as const;
 
 /** 32-bit FNV-1a of a string. */
 function fnv1a(s: string): number {
@@ -191,7 +196,6 @@ function fnv1a(s: string): number {
 /** The colour of a user's marks: their own (user.color) when set, else derived from their id and role. */
 export function authorColor(user: { id: string; role: Role | string; color?: string | null }): string {
   if (user.color && /^#[0-9a-fA-F]{6}$/.test(user.color)) return user.color;
-  const desk = user.role === "expert" || user.role === "admin";
-  const half = AUTHOR_COLORS.length / 2;
-  return AUTHOR_COLORS[(desk ? 0 : half) + (fnv1a(user.id) % half)];
+  const list: readonly string[] = user.role === "expert" || user.role === "admin" ? DESK_COLORS : SHOP_COLORS;
+  return list[fnv1a(user.id) % list.length];
 }

@@ -8,13 +8,15 @@ import { build } from "vite";
 import { chromium, type Browser, type BrowserContext, type Page } from "playwright-core";
 import { pino } from "pino";
 import { startServer, type RunningServer } from "../../server/index";
+import type { RealtimeServer } from "../../server/realtime/index";
 import { schema } from "../../server/db/client";
 import { createExpert, createShopTeam, signIn, type SignedInAgent } from "../factories";
 import { authorColor } from "../../shared/realtime";
 
 // The issue's browser criterion, in headless Chromium with two contexts: the expert's pin appears
 // on the technician's plot (its colour is found in the plot's pixels, and the mark is listed beside
-// it), and the technician's reply appears in the expert's chat. Screenshots: test-results/e2e/.
+// it), and the technician's reply appears in the expert's chat; when the tech's connection drops the
+// page shows "Reconnecting…" and the mark made meanwhile arrives after it. Screenshots: test-results/e2e/.
 
 const executablePath = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
 const shots = path.resolve("test-results/e2e");
@@ -152,7 +154,8 @@ test("the expert's pin appears on the tech's plot and the tech's reply in the ex
   const before = await pixelsOf(techPage, expertColor);
 
   // the expert drops a pin with the viewer's pin tool and labels it
-  await live(expPage).getByRole("button", { name: /^Pin/ }).click();
+  const pinTool = live(expPage).getByRole("button", { name: "Pin (p)" });
+  await pinTool.click();
   const plot = live(expPage).locator('[role="img"]').first();
   const box = (await plot.boundingBox())!;
   await expPage.mouse.click(box.x + box.width * 0.5, box.y + box.height * 0.4);
@@ -172,10 +175,30 @@ test("the expert's pin appears on the tech's plot and the tech's reply in the ex
   await live(expPage).getByRole("list", { name: "Messages" }).getByText("Plug gap on 4 is 1.4 mm, capturing again now").waitFor({ timeout: 10_000 });
   await expPage.screenshot({ path: path.join(shots, "live-review-expert.png"), fullPage: true });
 
+  // the tech's connection drops (the network goes away, then the server loses the socket): the page
+  // says it is reconnecting; what the expert marks meanwhile arrives after the reconnect
+  await techCtx.setOffline(true);
+  const io = (server.ctx.realtime as unknown as RealtimeServer).io;
+  for (const sock of io.of("/").sockets.values()) if (sock.data.userId === team.technicians[0].id) sock.conn.close();
+  await live(techPage).locator('[data-connection="reconnecting"]').waitFor({ timeout: 10_000 });
+  expect(await live(techPage).locator('[data-connection="reconnecting"]').innerText()).toMatch(/^Reconnecting…/);
+  await live(techPage).screenshot({ path: path.join(shots, "live-review-tech-reconnecting.png") });
+  if ((await pinTool.getAttribute("aria-pressed")) !== "true") await pinTool.click(); // the tool stays chosen after a mark
+  await expPage.mouse.click(box.x + box.width * 0.3, box.y + box.height * 0.5);
+  await live(expPage).getByLabel(/Label for the new pin/).fill("Spark line short");
+  await live(expPage).getByLabel(/Label for the new pin/).press("Enter");
+  await live(expPage).getByRole("button", { name: /Pin · Spark line short/ }).waitFor();
+  expect(await live(techPage).getByRole("button", { name: /Pin · Spark line short/ }).count()).toBe(0);
+  await techCtx.setOffline(false);
+  await live(techPage).locator('[data-connection="live"]').waitFor({ timeout: 20_000 });
+  await live(techPage).getByRole("button", { name: /Pin · Spark line short/ }).waitFor({ timeout: 10_000 });
+  expect(await live(techPage).getByRole("button", { name: /Pin · / }).count()).toBe(2);
+
   // stored once each, with the case's seq
   const marks = await tech.get(`/api/cases/${caseId}/annotations`);
-  expect(marks.body.annotations).toHaveLength(1);
+  expect(marks.body.annotations).toHaveLength(2);
   expect(marks.body.annotations[0]).toMatchObject({ kind: "pin", label: "Firing line too high", authorId: e.id, color: expertColor, seq: 1 });
+  expect(marks.body.annotations[1]).toMatchObject({ kind: "pin", label: "Spark line short", seq: 3 });
   const msgs = await expert.get(`/api/cases/${caseId}/messages`);
   expect(msgs.body.messages.map((m: { text: string; seq: number }) => [m.text, m.seq])).toEqual([["Plug gap on 4 is 1.4 mm, capturing again now", 2]]);
   expect(pageErrors).toEqual([]);

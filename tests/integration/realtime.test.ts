@@ -300,6 +300,12 @@ describe("chat, data requests, presence, pointers, follow", () => {
     const rest = await expert.get(`/api/cases/${c.caseId}/messages?since=1`);
     expect(rest.status).toBe(200);
     expect(rest.body.messages.map((m: MessageRecord) => m.text)).toEqual(["Capturing now"]);
+    expect(rest.body.seq).toBe(2);
+    const bad = await expert.get(`/api/cases/${c.caseId}/messages?since=two`);
+    expect(bad.status).toBe(400);
+    expect(bad.body.error.code).toBe("validation_failed");
+    const anon = await fetch(`http://127.0.0.1:${server.port}/api/cases/${c.caseId}/annotations`);
+    expect(anon.status).toBe(401);
   });
 
   it("shares typing, pointers and the followed view", async () => {

@@ -110,7 +110,8 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
               rows={2}
               maxLength={MAX_MESSAGE}
               value={text}
-              placeholder="Write a message (Enter sends, Shift+Enter for a new line)"
+              placeholder="Write a message…"
+              aria-describedby="chat-input-hint"
               onChange={(e) => {
                 setText(e.target.value);
                 onTyping(e.target.value.trim().length > 0);
@@ -123,6 +124,9 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
               Send
             </button>
           </form>
+          <p id="chat-input-hint" className="text-xs text-ink-500">
+            Enter sends · Shift+Enter starts a new line
+          </p>
           {abilities.requestData && !asking ? (
             <button type="button" onClick={() => setAsking(true)} className="inline-flex min-h-11 items-center rounded-lg border border-kiln-500 px-3 text-sm font-semibold text-kiln-700 hover:bg-kiln-50">
               Ask for more data…
