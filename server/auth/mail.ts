@@ -56,6 +56,17 @@ export const mails = {
     action: { label: "Accept the invitation", url },
     footer: "The link works once, for 7 days. If you were not expecting this, ignore this mail.",
   }),
+  /** An invitation to an address that already has an account: no acceptance link, nothing changes. */
+  inviteExistingAccount: (shopName: string, inviterName: string, signInUrl: string): MailContent => ({
+    subject: `${inviterName} invited you to ${shopName} on Burnline`,
+    heading: `An invitation to ${shopName}`,
+    lines: [
+      `${inviterName} invited this e-mail address to join ${shopName} on Burnline as a technician.`,
+      "This address already has a Burnline account, and an account belongs to one shop only, so the invitation can't be used and nothing has changed on your account.",
+      `If you want to join ${shopName}, ask ${inviterName} to invite another e-mail address of yours. To use your account as it is, sign in at ${signInUrl}.`,
+    ],
+    footer: "If you were not expecting this, ignore this mail.",
+  }),
   expertDecision: (name: string, approved: boolean, note: string | undefined, url: string): MailContent => ({
     subject: approved ? "Your Burnline expert application is approved" : "Your Burnline expert application",
     heading: `Hello ${name},`,

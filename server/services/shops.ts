@@ -88,11 +88,20 @@ export const hashToken = (token: string) => createHash("sha256").update(token).d
 /**
  * The owner invites a technician by e-mail. The mail carries a one-time token; only its SHA-256 is
  * stored. A second invitation to the same address replaces the first.
+ *
+ * An address that already has an active account elsewhere (another shop, an expert, the desk) is
+ * answered exactly like a new one — same status, same body, the same pending entry in the team
+ * list, revocable the same way — so the invitation form does not tell any owner who is registered
+ * (OWASP Authentication Cheat Sheet, account enumeration). That address gets a mail saying it was
+ * invited but already has an account; the mail carries no acceptance link, and the stored token is
+ * never sent anywhere, so the entry can't be accepted and just expires after 7 days.
+ * Someone already in the owner's own team is refused with 409: the owner sees the team anyway.
  */
 export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow, input: InviteTechnicianInput) {
   const existing = findUserByEmail(ctx, input.email);
-  if (existing && !existing.deactivatedAt) {
-    throw conflict("already_registered", existing.shopId === shop.id ? "This person is already in your team." : "This e-mail address already has a Burnline account; it can't join a second shop. Ask them for another address.", { fields: [{ path: "email", message: "This address already has an account." }] });
+  const active = existing && !existing.deactivatedAt ? existing : undefined;
+  if (active && active.shopId === shop.id) {
+    throw conflict("already_in_team", "This person is already in your team.", { fields: [{ path: "email", message: "Already in your team." }] });
   }
   const token = randomBytes(32).toString("base64url");
   const now = ctx.now();
@@ -115,13 +124,15 @@ export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow,
       .run();
     tx.insert(schema.invite).values(row).run();
   });
-  const url = `${ctx.env.publicUrl}/accept-invite?token=${token}`;
+  const content = active
+    ? mails.inviteExistingAccount(shop.name, actor.name, `${ctx.env.publicUrl}/sign-in`)
+    : mails.invite(shop.name, actor.name, `${ctx.env.publicUrl}/accept-invite?token=${token}`);
   await mailOrUndo(
     ctx,
-    () => sendMail(ctx, input.email, mails.invite(shop.name, actor.name, url)),
+    () => sendMail(ctx, input.email, content),
     () => ctx.db.delete(schema.invite).where(eq(schema.invite.id, row.id)).run(),
   );
-  return { invite: presentInvite(row), token };
+  return { invite: presentInvite(row), token: active ? null : token };
 }
 
 export function presentInvite(i: Pick<InviteRow, "id" | "email" | "name" | "expiresAt" | "createdAt">) {
