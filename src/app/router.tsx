@@ -10,7 +10,11 @@ import { AcceptInvitePage } from "./routes/auth/accept-invite";
 import { ForgotPasswordPage } from "./routes/auth/forgot-password";
 import { ResetPasswordPage } from "./routes/auth/reset-password";
 import { TeamPage } from "./routes/team/team";
-import { BillingPage } from "./routes/team/billing";
+import { BillingPage } from "./routes/billing/billing-page";
+import { ReceiptPage } from "./routes/billing/receipt-page";
+import { QueuePage } from "./routes/queue/queue-page";
+import { EarningsPage } from "./routes/earnings/earnings-page";
+import { AdminPricingPage } from "./routes/admin-pricing/admin-pricing-page";
 import { AdminExpertsPage } from "./routes/admin/experts";
 import { CasePage } from "./routes/cases/case-page";
 import { CaseDraftPage } from "./routes/cases/draft";
@@ -45,7 +49,16 @@ export const router = createBrowserRouter([
           { element: <CaseDraftPage />, children: [{ path: "cases/new" }, { path: "cases/:id/edit" }] },
           { path: "cases/:id", element: <CasePage /> },
           { element: <RequireAuth roles={["owner", "technician"]} />, children: [{ path: "team", element: <TeamPage /> }] },
-          { element: <RequireAuth roles={["owner"]} />, children: [{ path: "billing", element: <BillingPage /> }] },
+          {
+            element: <RequireAuth roles={["owner"]} />,
+            children: [
+              { path: "billing", element: <BillingPage /> },
+              { path: "billing/receipts/:paymentId", element: <ReceiptPage /> },
+            ],
+          },
+          { element: <RequireAuth roles={["expert", "admin"]} />, children: [{ path: "queue", element: <QueuePage /> }] },
+          { element: <RequireAuth roles={["expert"]} />, children: [{ path: "earnings", element: <EarningsPage /> }] },
+          { element: <RequireAuth roles={["admin"]} />, children: [{ path: "admin/pricing", element: <AdminPricingPage /> }] },
           { element: <RequireAuth roles={["admin"]} />, children: [{ path: "admin/experts", element: <AdminExpertsPage /> }] },
         ],
       },

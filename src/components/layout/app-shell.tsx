@@ -2,6 +2,7 @@ import { NavLink, Outlet, Link } from "react-router-dom";
 import { Wordmark } from "./logo";
 import { useMe } from "../../features/auth/api/get-me";
 import { SignOutButton } from "../../features/auth/components/sign-out-button";
+import { NotificationsMenu } from "../../features/notifications/components/notifications-menu";
 
 export interface NavItem {
   to: string;
@@ -15,6 +16,10 @@ export const navItems: NavItem[] = [
   { to: "/cases", label: "Cases", roles: ["technician", "owner"] },
   { to: "/team", label: "Team", roles: ["owner", "technician"] },
   { to: "/admin/experts", label: "Experts", roles: ["admin"] },
+  { to: "/queue", label: "Queue", roles: ["expert", "admin"] },
+  { to: "/earnings", label: "Earnings", roles: ["expert"] },
+  { to: "/billing", label: "Billing", roles: ["owner"] },
+  { to: "/admin/pricing", label: "Pricing", roles: ["admin"] },
 ];
 
 export function AppShell() {
@@ -44,6 +49,7 @@ export function AppShell() {
           <div className="ml-auto flex items-center gap-2 text-sm text-ink-200">
             {me.data ? (
               <>
+                <NotificationsMenu signedIn />
                 <span className="hidden sm:inline">{`${me.data.name} · ${me.data.role}`}</span>
                 <SignOutButton />
               </>

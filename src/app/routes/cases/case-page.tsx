@@ -12,6 +12,7 @@ import { TraceUploader } from "../../../features/uploads/components/trace-upload
 import { ApiError } from "../../../lib/api-client";
 import { CaseTraces, viewerInfo } from "./case-traces";
 import { LiveReview } from "./live-review";
+import { CaseWorkflowPanel } from "../queue/case-workflow-panel";
 
 /** The states in which the case has (or had) an expert on it: the live review is shown. */
 const LIVE_STATES = ["claimed", "needs_data", "answered", "resolved", "closed"];
@@ -86,6 +87,8 @@ export function CasePage() {
           </ul>
         </div>
       ) : null}
+
+      <CaseWorkflowPanel caseId={c.id} status={c.status} />
 
       <div className="grid gap-5 lg:grid-cols-2">
         <Section id="vehicle" title="Vehicle">

@@ -1,0 +1,79 @@
+import { useEffect, useId, useRef, useState } from "react";
+import { useNavigate } from "react-router-dom";
+import { useMarkRead, useNotifications } from "../api/notifications";
+
+/** The header's notification menu: unread count, the latest notices, mark read. */
+export function NotificationsMenu({ signedIn }: { signedIn: boolean }) {
+  const q = useNotifications(signedIn);
+  const mark = useMarkRead();
+  const [open, setOpen] = useState(false);
+  const nav = useNavigate();
+  const panelId = useId();
+  const ref = useRef<HTMLDivElement>(null);
+  useEffect(() => {
+    if (!open) return;
+    const close = (e: MouseEvent | KeyboardEvent) => {
+      if (e instanceof KeyboardEvent ? e.key === "Escape" : !ref.current?.contains(e.target as Node)) setOpen(false);
+    };
+    document.addEventListener("mousedown", close);
+    document.addEventListener("keydown", close);
+    return () => {
+      document.removeEventListener("mousedown", close);
+      document.removeEventListener("keydown", close);
+    };
+  }, [open]);
+  if (!signedIn) return null;
+  const unread = q.data?.unread ?? 0;
+  return (
+    <div className="relative" ref={ref}>
+      <button
+        type="button"
+        aria-expanded={open}
+        aria-controls={panelId}
+        onClick={() => setOpen((v) => !v)}
+        className="inline-flex min-h-11 items-center gap-2 rounded-md px-3 py-2 text-sm text-ink-100 hover:bg-ink-800"
+      >
+        Notices
+        {unread > 0 ? (
+          <span className="rounded-full bg-kiln-500 px-2 py-0.5 text-xs font-bold text-ink-950" aria-label={`${unread} unread`}>
+            {unread}
+          </span>
+        ) : null}
+      </button>
+      {open ? (
+        <div id={panelId} className="absolute right-0 z-40 mt-2 w-[22rem] max-w-[90vw] rounded-xl border border-ink-200 bg-white p-2 text-ink-900 shadow-lg">
+          <div className="flex items-center justify-between px-2 py-1">
+            <p className="font-bold">Notices</p>
+            {unread > 0 ? (
+              <button type="button" className="min-h-11 px-2 text-sm font-semibold text-ink-600 hover:text-ink-900" onClick={() => mark.all.mutate()}>
+                Mark all read
+              </button>
+            ) : null}
+          </div>
+          {q.data?.items.length ? (
+            <ul className="max-h-96 overflow-y-auto">
+              {q.data.items.map((n) => (
+                <li key={n.id}>
+                  <button
+                    type="button"
+                    className={`block w-full rounded-lg px-2 py-2 text-left hover:bg-ink-50 ${n.read ? "text-ink-600" : "font-semibold"}`}
+                    onClick={() => {
+                      if (!n.read) mark.one.mutate(n.id);
+                      setOpen(false);
+                      if (n.link) nav(n.link);
+                    }}
+                  >
+                    <span className="block text-sm">{n.title}</span>
+                    <span className="block text-xs font-normal text-ink-500">{new Date(n.createdAt).toLocaleString(undefined, { dateStyle: "short", timeStyle: "short" })}</span>
+                  </button>
+                </li>
+              ))}
+            </ul>
+          ) : (
+            <p className="px-2 py-3 text-sm text-ink-600">Nothing yet.</p>
+          )}
+        </div>
+      ) : null}
+    </div>
+  );
+}

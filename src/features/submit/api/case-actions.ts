@@ -1,0 +1,19 @@
+import { useMutation, useQueryClient } from "@tanstack/react-query";
+import { api } from "../../../lib/api-client";
+import { confirmSchema, dataSentSchema, type ConfirmInput } from "../../../../shared/schemas/queue";
+import { submitPaths } from "./paths";
+
+export const withdrawCase = (id: string) => api.post<{ id: string; status: string }>(submitPaths.withdraw(id));
+export const confirmCase = (id: string, input: ConfirmInput) => api.post<{ id: string; status: string; outcome: string }>(submitPaths.confirm(id), confirmSchema.parse(input));
+export const markDataSent = (id: string, note?: string) => api.post<{ id: string; status: string }>(submitPaths.dataSent(id), dataSentSchema.parse({ note }));
+
+/** Mutations of the shop's side of a case; each refreshes everything under ["cases"]. */
+export function useShopCaseActions(id: string) {
+  const qc = useQueryClient();
+  const settle = () => qc.invalidateQueries({ queryKey: ["cases"] });
+  return {
+    withdraw: useMutation({ mutationFn: () => withdrawCase(id), onSettled: settle }),
+    confirm: useMutation({ mutationFn: (input: ConfirmInput) => confirmCase(id, input), onSettled: settle }),
+    dataSent: useMutation({ mutationFn: (note?: string) => markDataSent(id, note), onSettled: settle }),
+  };
+}
