@@ -16,7 +16,10 @@
  *   `_ns`; seconds when none. Time is returned in seconds;
  * - 1–8 value columns (names and units from the header, values kept in the file's unit);
  * - no time column: the stated sample rate (`sampleRateHz`) or, failing that, a metadata line giving
- *   the sample interval or sample rate;
+ *   the sample interval or sample rate (digit grouping read as in `1,000,000`, `1.000.000` or
+ *   `1 000 000`; an ambiguous number such as `1,000` is not used, so the rate must be stated);
+ * - numbers in decimal notation with an optional exponent (no hexadecimal, binary or octal);
+ *   values within ±3.4e38 (they are kept as single-precision floats);
  * - a file without any header: if no sample rate is stated and there are ≥ 2 columns, column 1 is
  *   taken as time in seconds (with a warning); otherwise all columns are values.
  *
@@ -25,7 +28,7 @@
  * otherwise `time` keeps every sample's time.
  *
  * Refusals are TraceParseError with a `code`, the 1-based `line` and a reason a tech can act on; see
- * TRACE_PARSE_ERROR_CODES.
+ * TRACE_PARSE_ERROR_CODES. More than MAX_TRACE_SAMPLES samples are refused with code "too-large".
  */
 import Papa from "papaparse";
 import { TraceParseError, type ParsedTrace, type TraceChannel } from "./types";
@@ -34,6 +37,11 @@ import { TraceParseError, type ParsedTrace, type TraceChannel } from "./types";
 export const MAX_TRACE_FILE_BYTES = 200 * 1024 * 1024;
 /** Most value columns a trace may have. */
 export const MAX_VALUE_COLUMNS = 8;
+/**
+ * Most samples (data rows) a trace may have: 50 million, e.g. 50 s at 1 MS/s. Without it, 200 MiB
+ * of "1\n" would be about 100 million samples of typed arrays in memory.
+ */
+export const MAX_TRACE_SAMPLES = 50_000_000;
 
 export const TRACE_PARSE_ERROR_CODES = [
   "empty-file",
@@ -47,6 +55,7 @@ export const TRACE_PARSE_ERROR_CODES = [
   "unknown-time-unit",
   "too-few-samples",
   "too-large",
+  "value-out-of-range",
 ] as const;
 export type TraceParseErrorCode = (typeof TRACE_PARSE_ERROR_CODES)[number];
 
@@ -57,6 +66,8 @@ export interface ParseTraceOptions {
   sampleRateHz?: number;
   /** most value columns accepted (default 8) */
   maxColumns?: number;
+  /** most samples accepted (default MAX_TRACE_SAMPLES); more are refused with code "too-large" */
+  maxSamples?: number;
   /** force the delimiter instead of detecting it */
   delimiter?: TraceDelimiter;
   /** largest deviation from an even time grid, as a fraction of a sample interval (default 0.05) */
@@ -91,14 +102,31 @@ const LIST_LINES = 10;
 
 const BLANK = /^\s*$/;
 const DECIMAL_COMMA = /^\s*[-+]?(\d+,\d*|,\d+)([eE][-+]?\d+)?\s*$/;
+/** A decimal number with an optional exponent (ECMA-262 StrDecimalLiteral without Infinity). */
+const DECIMAL = /^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$/;
 
-/** A field as a number: NaN when it is not one, undefined when it is empty. */
+/** Largest magnitude a value column holds: the largest finite float32, (2 − 2⁻²³)·2¹²⁷ (IEEE 754 binary32). */
+export const MAX_FLOAT32 = 3.4028234663852886e38;
+
+/**
+ * A field as a number: NaN when it is not one, undefined when it is empty.
+ *
+ * `+s` is the fast path, but it also reads hexadecimal, binary and octal literals ("0x1A" → 26,
+ * "0b101", "0o17"); those start with 0 and a letter (no sign, maybe after white space), so a field
+ * starting with "0" and a letter, or with white space, is checked against the decimal pattern.
+ */
 function fieldNumber(s: string): number | undefined {
   const v = +s;
   if (v - v === 0) {
     if (v === 0 && BLANK.test(s)) return undefined;
+    const c0 = s.charCodeAt(0);
+    if (c0 === 48 /* 0 */ ? s.length > 2 && (s.charCodeAt(1) | 32) >= 97 : c0 <= 32 || c0 >= 127) {
+      return DECIMAL.test(s) ? v : NaN;
+    }
     return v;
   }
+  // "1e400": a decimal number beyond double precision; the caller refuses it as out of range
+  if (v === Infinity || v === -Infinity) return DECIMAL.test(s) ? v : NaN;
   return slowNumber(s);
 }
 
@@ -283,10 +311,42 @@ const RATE_UNITS: Record<string, number> = {
   "gsa/s": 1e9,
 };
 
-const NUMBER_WITH_UNIT = /([-+]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][-+]?\d+)?)\s*([a-zA-Zµμ\uFFFD/]*)/;
+/**
+ * The number at the start of a metadata value: digits with `.` `,` and (only between digits)
+ * spaces, then an optional exponent; the unit follows.
+ */
+const METADATA_NUMBER = /^([-+]?)((?:\d|[.,](?=\d))(?:[\d.,]|[ \u00a0\u2009\u202f](?=\d))*)([eE][-+]?\d+)?\s*([a-zA-Zµμ\uFFFD/]*)/;
 
-/** The sample rate stated by a metadata line, if it states one (`Sample interval: 1e-6`, `Sample rate,1 MHz`). */
-export function sampleRateFromMetadata(line: string): number | undefined {
+/**
+ * Reads the mantissa of a metadata number, with digit grouping. Accepted: plain digits; one `.` or
+ * `,` as the decimal sign ("2,5", "0.001"); thousands groups of three digits separated by `,` with
+ * an optional `.` decimal part ("1,000,000", "1,000.5"), by `.` with an optional `,` decimal part
+ * ("1.000.000", "1.000,5"), or by a space ("1 000 000"; ISO 80000-1 §7.3.1 groups digits in threes
+ * with a space). One separator followed by exactly three digits ("1,000", "1.000") is ambiguous —
+ * a decimal sign or a thousands group — and is refused, as is anything else.
+ */
+function groupedNumber(mantissa: string, hasExponent: boolean): number | "ambiguous" | undefined {
+  if (/^\d+$/.test(mantissa)) return +mantissa;
+  const single = /^(\d*)([.,])(\d*)$/.exec(mantissa);
+  if (single) {
+    if (single[1] === "" && single[3] === "") return undefined;
+    if (!hasExponent && /^[1-9]\d{0,2}$/.test(single[1]) && single[3].length === 3) return "ambiguous";
+    return +`${single[1] || "0"}.${single[3] || "0"}`;
+  }
+  if (hasExponent) return undefined;
+  let m = /^(\d{1,3}(?:,\d{3})+)(?:\.(\d+))?$/.exec(mantissa);
+  if (m) return +`${m[1].replace(/,/g, "")}.${m[2] ?? "0"}`;
+  m = /^(\d{1,3}(?:\.\d{3})+)(?:,(\d+))?$/.exec(mantissa);
+  if (m) return +`${m[1].replace(/\./g, "")}.${m[2] ?? "0"}`;
+  m = /^(\d{1,3}(?:[ \u00a0\u2009\u202f]\d{3})+)(?:[.,](\d+))?$/.exec(mantissa);
+  if (m) return +`${m[1].replace(/[ \u00a0\u2009\u202f]/g, "")}.${m[2] ?? "0"}`;
+  return undefined;
+}
+
+/** What a metadata line says about the sample rate: nothing, a rate, or a rate it could not read safely. */
+type MetadataRate = { rate: number } | { unreadable: string } | undefined;
+
+function readMetadataRate(line: string): MetadataRate {
   const text = line.trim();
   const interval = /(sampl\w*\s*(interval|period|increment|step|time)|x\s*increment|\bxinc\b|^dt\b|^delta\s*t\b|^interval\b)/i.exec(text);
   const rate = /(sampl\w*\s*(rate|frequency|freq)|^fs\b)/i.exec(text);
@@ -295,20 +355,35 @@ export function sampleRateFromMetadata(line: string): number | undefined {
   const after = text.slice(m.index + m[0].length);
   // a unit may sit in the key: "Sample interval (us): 2"
   const keyUnit = /^\s*[([]\s*([^()[\]]+?)\s*[)\]]/.exec(after);
-  const rest = keyUnit ? after.slice(keyUnit[0].length) : after;
-  const num = NUMBER_WITH_UNIT.exec(rest.replace(/^[\s:=,;\t]+/, ""));
-  if (!num || num.index !== 0) return undefined;
-  const value = +num[1].replace(",", ".");
-  if (!(value > 0) || !Number.isFinite(value)) return undefined;
-  const unit = (num[2] || keyUnit?.[1] || "").toLowerCase();
+  const rest = (keyUnit ? after.slice(keyUnit[0].length) : after).replace(/^[\s:=,;\t]+/, "");
+  const num = METADATA_NUMBER.exec(rest);
+  if (!num) return undefined;
+  const shown = quote(rest);
+  // more digits after the number and its unit ("1 5 MHz", "1,5 MHz" split by a comma delimiter)
+  if (/^\s*[-+]?[\d.,]/.test(rest.slice(num[0].length)) && num[4] === "") return { unreadable: shown };
+  const mantissa = groupedNumber(num[2], num[3] !== undefined);
+  if (mantissa === undefined || mantissa === "ambiguous") return { unreadable: shown };
+  const value = +`${num[1]}${mantissa}${num[3] ?? ""}`;
+  if (!(value > 0) || !Number.isFinite(value)) return { unreadable: shown };
+  const unit = (num[4] || keyUnit?.[1] || "").toLowerCase();
   if (interval) {
     const scale = unit === "" ? 1 : TIME_UNITS[unit];
     if (scale === undefined) return undefined;
-    return 1 / (value * scale);
+    return { rate: 1 / (value * scale) };
   }
   const scale = unit === "" ? 1 : RATE_UNITS[unit];
   if (scale === undefined) return undefined;
-  return value * scale;
+  return { rate: value * scale };
+}
+
+/**
+ * The sample rate stated by a metadata line, if it states one that reads unambiguously
+ * (`Sample interval: 1e-6`, `Sample rate,1 MHz`, `Sample rate: 1,000,000 Hz`). A number whose
+ * grouping is ambiguous ("1,000 Hz", "1.000 Hz") gives undefined: the rate must then be stated.
+ */
+export function sampleRateFromMetadata(line: string): number | undefined {
+  const r = readMetadataRate(line);
+  return r && "rate" in r ? r.rate : undefined;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -342,6 +417,8 @@ function tidyRate(rate: number): number {
 
 export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccumulator {
   const maxColumns = opts.maxColumns ?? MAX_VALUE_COLUMNS;
+  const maxSamples = opts.maxSamples ?? MAX_TRACE_SAMPLES;
+  if (!(Number.isInteger(maxSamples) && maxSamples >= 2)) throw new RangeError("maxSamples must be a whole number ≥ 2");
   const tolerance = opts.uniformTolerance ?? 0.05;
   if (opts.sampleRateHz !== undefined && !(opts.sampleRateHz > 0 && Number.isFinite(opts.sampleRateHz))) {
     throw new RangeError("sampleRateHz must be a positive number");
@@ -351,6 +428,8 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
   let mode: "none" | "text" | "rows" = "none";
   let sniffBuffer = "";
   let parser: Papa.Parser | null = null;
+  /** the delimiter the rows were split at (rows fed by pushRows: the stated one, else a comma) */
+  let delimiter: TraceDelimiter = opts.delimiter ?? ",";
   let carry = "";
   let firstText = true;
   let charsSeen = 0;
@@ -365,6 +444,8 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
   let runWidth = -1;
   let metadataRate: number | undefined;
   let metadataRateLine: number | null = null;
+  /** the first metadata line stating a sample rate whose number could not be read unambiguously */
+  let unreadableRate: { line: number; text: string } | null = null;
 
   // ---- data state
   let ncol = 0;
@@ -386,8 +467,9 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
   function feedParsed(text: string, last: boolean) {
     if (!parser) {
       const sample = sniffBuffer.slice(0, SNIFF_CHARS);
+      delimiter = opts.delimiter ?? detectDelimiter(sample);
       parser = new Papa.Parser({
-        delimiter: opts.delimiter ?? detectDelimiter(sample),
+        delimiter,
         newline: detectNewline(sample),
         quoteChar: '"',
       } as Papa.ParseConfig);
@@ -469,10 +551,13 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
 
   function noteMetadata(b: BufferedRow) {
     if (b.count === 0 || b.numeric) return;
-    const rate = sampleRateFromMetadata(b.row.slice(0, b.count).join(" "));
-    if (rate !== undefined && metadataRate === undefined) {
-      metadataRate = rate;
+    // joined again with the delimiter, so that "1,000 Hz" split at a comma reads as it was written
+    const r = readMetadataRate(b.row.slice(0, b.count).join(delimiter));
+    if (r && "rate" in r && metadataRate === undefined) {
+      metadataRate = r.rate;
       metadataRateLine = b.line;
+    } else if (r && "unreadable" in r && unreadableRate === null) {
+      unreadableRate = { line: b.line, text: r.unreadable };
     }
   }
 
@@ -585,9 +670,12 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
       }
       timeScale = scale;
     } else if (stated === undefined && metadataRate === undefined) {
+      const unread = unreadableRate
+        ? ` (line ${unreadableRate.line} states a sample rate, ${unreadableRate.text}, but its number could be read more than one way, e.g. 1,000 as one thousand or as 1.000)`
+        : "";
       throw new TraceParseError(
         "no-sample-rate",
-        "the file has no time column (none is named time, t or seconds) and no sample rate was given; enter the sample rate in the capture settings",
+        `the file has no time column (none is named time, t or seconds) and no sample rate was given${unread}; enter the sample rate in the capture settings`,
         where,
       );
     }
@@ -621,13 +709,20 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
       return { name, unit: head?.unit ?? null };
     });
 
-    cap = 4096;
+    cap = Math.min(4096, maxSamples);
     time = timeIdx >= 0 ? new Float64Array(cap) : null;
     values = valueIdx.map(() => new Float32Array(cap));
   }
 
-  function grow() {
-    resize(cap * 2);
+  function grow(rowLine: number) {
+    if (cap >= maxSamples) {
+      throw new TraceParseError(
+        "too-large",
+        `the file has more than ${maxSamples.toLocaleString("en-US")} samples, the most a trace may have; export a shorter stretch of the capture or a lower sample rate`,
+        rowLine,
+      );
+    }
+    resize(Math.min(cap * 2, maxSamples));
   }
 
   /** Once the first chunk is through, size the arrays for the whole text (saves the doublings). */
@@ -635,7 +730,7 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
     estimated = true;
     const consumed = charsSeen - carry.length;
     if (!opts.totalChars || consumed <= 0 || n === 0) return;
-    const est = Math.ceil(((n * opts.totalChars) / consumed) * 1.02) + 1024;
+    const est = Math.min(maxSamples, Math.ceil(((n * opts.totalChars) / consumed) * 1.02) + 1024);
     if (est > cap) resize(est);
   }
 
@@ -659,11 +754,20 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
     if (!firstRaggedDetail) firstRaggedDetail = detail;
   }
 
+  function fieldLabel(col: number): string {
+    return col === timeIdx ? `the time column (${columnLabel(col)})` : `${columnLabel(col)} (${quote(channelInfo[valueIdx.indexOf(col)].name)})`;
+  }
+
   function textError(rowLine: number, col: number, s: string): never {
-    const label = col === timeIdx ? `the time column (${columnLabel(col)})` : `${columnLabel(col)} (${quote(channelInfo[valueIdx.indexOf(col)].name)})`;
+    const nonDecimal = /^\s*0[xXbBoO]/.test(s) ? " in decimal notation (hexadecimal, binary and octal values are not read)" : "";
+    throw new TraceParseError("text-in-numeric-column", `${fieldLabel(col)} has ${quote(s)}, which is not a number${nonDecimal}`, rowLine);
+  }
+
+  function rangeError(rowLine: number, col: number, s: string): never {
+    const limit = col === timeIdx ? "a time this reader can hold" : `the largest value a channel holds (±3.4e38, single precision)`;
     throw new TraceParseError(
-      "text-in-numeric-column",
-      `${label} has ${quote(s)}, which is not a number`,
+      "value-out-of-range",
+      `${fieldLabel(col)} has ${quote(s)}, which is beyond ${limit}; check the export's units or number format`,
       rowLine,
     );
   }
@@ -685,20 +789,18 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
           continue;
         }
       }
-      if (n === cap) grow();
+      if (n === cap) grow(rowLine);
       let tv = 0;
       if (tIdx >= 0) {
         const s = row[tIdx];
-        let v: number | undefined = +s;
-        if (!(v - v === 0) || (v === 0 && BLANK.test(s))) {
-          v = slowNumber(s);
-          if (v === undefined) {
-            ragged(rowLine, "has an empty time field");
-            continue;
-          }
-          if (v !== v) textError(rowLine, tIdx, s);
+        const v = fieldNumber(s);
+        if (v === undefined) {
+          ragged(rowLine, "has an empty time field");
+          continue;
         }
+        if (v !== v) textError(rowLine, tIdx, s);
         tv = v * timeScale;
+        if (!(tv - tv === 0)) rangeError(rowLine, tIdx, s);
         if (!(tv > lastTime)) {
           throw new TraceParseError(
             "time-not-increasing",
@@ -711,15 +813,13 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
       for (let j = 0; j < nv; j++) {
         const col = vIdx[j];
         const s = row[col];
-        let v: number | undefined = +s;
-        if (!(v - v === 0) || (v === 0 && BLANK.test(s))) {
-          v = slowNumber(s);
-          if (v === undefined) {
-            complete = false;
-            break;
-          }
-          if (v !== v) textError(rowLine, col, s);
+        const v = fieldNumber(s);
+        if (v === undefined) {
+          complete = false;
+          break;
         }
+        if (v !== v) textError(rowLine, col, s);
+        if (v > MAX_FLOAT32 || v < -MAX_FLOAT32) rangeError(rowLine, col, s);
         values[j][n] = v;
       }
       if (!complete) {
