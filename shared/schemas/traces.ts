@@ -4,7 +4,11 @@
 import { z } from "zod";
 import { captureSettingsSchema } from "./capture-settings";
 
-/** Most buckets a window query may ask for (about two points per pixel of a wide screen). */
+/**
+ * Most buckets a window query may ask for (about two points per pixel of a wide screen). The
+ * decimation itself accepts up to MAX_DECIMATE_WIDTH (shared/trace/decimate.ts), a separate and
+ * larger limit of the computation.
+ */
 export const MAX_WINDOW_WIDTH = 8000;
 export const DEFAULT_WINDOW_WIDTH = 2000;
 
@@ -54,7 +58,10 @@ export const traceWindowQuerySchema = z
   .refine((q) => q.t0 === undefined || q.t1 === undefined || q.t1 > q.t0, { error: "t1 must be later than t0.", path: ["t1"] });
 export type TraceWindowQuery = z.output<typeof traceWindowQuerySchema>;
 
-/** The answer of the window endpoint: bucket k covers [t0 + k·(t1−t0)/width, t0 + (k+1)·(t1−t0)/width). */
+/**
+ * The answer of the window endpoint: bucket k covers [t0 + k·(t1−t0)/width, t0 + (k+1)·(t1−t0)/width)
+ * (edges exactly as defined in shared/trace/decimate.ts, which absorbs rounding at the edges).
+ */
 export interface TraceWindowResponse {
   t: number[];
   series: { name: string; min: number[]; max: number[] }[];

@@ -27,7 +27,11 @@ function expectSameTrace(got: ParsedTrace, want: ParsedTrace) {
 }
 
 describe("trace data store", () => {
-  it("round trip: readChannels gives back the input, window equals decimation in memory", async () => {
+  // Reference for every window below: tests/unit/trace/reference.ts, a brute-force decimation that
+  // decides bucket membership by comparing each sample's time with the bucket edges (no code shared
+  // with shared/trace/decimate.ts or the store).
+
+  it("round trip: readChannels gives back the input, window equals the brute-force reference", async () => {
     const rng = createRng(31337);
     const sizes = [1, 2, 63, 64, 65, 4095, 4097, 20_000, 70_001];
     for (let s = 0; s < sizes.length * 2; s++) {
@@ -45,7 +49,7 @@ describe("trace data store", () => {
       for (let w = 0; w < 8; w++) {
         const [t0, t1] = w === 0 ? [trace.t0, trace.t0 + trace.durationS] : randomWindow(rng, trace);
         const width = rng.pick([1, 5, 300, 2000, rng.int(1, 4000)]);
-        expect(await data.window(t0, t1, width)).toEqual(decimateMinMax(trace, t0, t1, width));
+        expect(await data.window(t0, t1, width)).toEqual(bruteForceWindow(trace, t0, t1, width));
       }
     }
   });
@@ -94,7 +98,29 @@ describe("trace data store", () => {
     forgetTraceData(file);
     const b = await openTraceDataCached(file);
     expect(b).not.toBe(a);
-    expect(await b.window(trace.t0, trace.t0 + trace.durationS, 100)).toEqual(decimateMinMax(trace, trace.t0, trace.t0 + trace.durationS, 100));
+    expect(await b.window(trace.t0, trace.t0 + trace.durationS, 100)).toEqual(bruteForceWindow(trace, trace.t0, trace.t0 + trace.durationS, 100));
+  });
+
+  it("worked example at 1 MS/s from the stored file: 10 samples in each 10 µs bucket (uniform and time array)", async () => {
+    // By hand (as in decimate.test.ts): sample i at i µs with value i; [100 µs, 200 µs) in 10 buckets
+    // → bucket k holds samples 100 + 10k … 109 + 10k. 70,000 samples so the time-array file uses
+    // its coarse time index and sparse block reads.
+    const n = 70_000;
+    const values = Float32Array.from({ length: n }, (_, i) => i);
+    const uniform: ParsedTrace = { samples: n, sampleRateHz: 1e6, t0: 0, durationS: n / 1e6, time: null, channels: [{ name: "A", unit: "V", values, min: 0, max: n - 1 }], warnings: [] };
+    const withTime: ParsedTrace = { ...uniform, time: Float64Array.from({ length: n }, (_, i) => i / 1e6) };
+    for (const [id, trace] of [["ramp-uniform", uniform], ["ramp-time", withTime]] as const) {
+      const { path: file } = await writeTraceData(dir, id, trace);
+      const data = await openTraceData(file);
+      const w = await data.window(100e-6, 200e-6, 10);
+      expect(w.series).toEqual([{ name: "A", min: [100, 110, 120, 130, 140, 150, 160, 170, 180, 190], max: [109, 119, 129, 139, 149, 159, 169, 179, 189, 199] }]);
+      // [60 ms, 61 ms) in 100 buckets: bucket k holds samples 60,000 + 10k … 60,009 + 10k (by hand)
+      const late = await data.window(60e-3, 61e-3, 100);
+      expect(late.series[0].min).toEqual(Array.from({ length: 100 }, (_, k) => 60_000 + 10 * k));
+      expect(late.series[0].max).toEqual(Array.from({ length: 100 }, (_, k) => 60_009 + 10 * k));
+      // and the in-memory decimation gives the same answer as the store
+      expect(decimateMinMax(trace, 60e-3, 61e-3, 100)).toEqual(late);
+    }
   });
 
   it("refuses a file that is not trace data", async () => {
