@@ -6,7 +6,7 @@ import { analyzeGeneric } from "./generic";
 import { analyzeInjector } from "./injector";
 import { measurePrepared } from "./measure";
 import { analyzeSecondary } from "./secondary";
-import { prepare, type Prepared } from "./signal";
+import { prepare, unitFactor } from "./signal";
 import type { AnalysisResult, AnalyzeOptions, SignalInput } from "./types";
 
 export type AnalyzableTrace = ParsedTrace | SignalInput;
@@ -38,10 +38,10 @@ export function channelInput(trace: AnalyzableTrace, channel: number | string = 
 }
 
 /** Screen range in the channel's raw units, from volts/division and the ground offset. */
-function screenRaw(p: Prepared, settings: Partial<CaptureSettings>): { min: number; max: number } | null {
+function screenRaw(toBase: number, settings: Partial<CaptureSettings>): { min: number; max: number } | null {
   if (!(settings.voltsPerDiv && settings.voltsPerDiv > 0)) return null;
   const r = screenVoltageRange({ voltsPerDiv: settings.voltsPerDiv, groundOffsetDiv: settings.groundOffsetDiv ?? 0 });
-  return { min: r.min / p.toBase, max: r.max / p.toBase };
+  return { min: r.min / toBase, max: r.max / toBase };
 }
 
 const TIME_KEY = /S$/;
@@ -75,8 +75,8 @@ export function analyzeTrace(
 ): AnalysisResult {
   const kind: TraceKind = opts.kind ?? settings.kind ?? "secondary-ignition";
   const input = channelInput(trace, opts.channel ?? 0);
-  const p = prepare(input, opts.window);
-  const screen = screenRaw(p, settings);
+  const screen = screenRaw(unitFactor(input.unit).factor, settings);
+  const p = prepare(input, opts.window, screen);
   let result: AnalysisResult;
   switch (kind) {
     case "secondary-ignition": {

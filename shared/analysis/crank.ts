@@ -3,7 +3,7 @@ import { fmt, fmtRate } from "./format";
 import { measurePrepared } from "./measure";
 import { clippedFinding, triggerBeyondFinding } from "./review";
 import { niceCeil, timeAtFrac, type Prepared } from "./signal";
-import { histogramQuantile, linearSlope, median, metricStats, robustLevelAndNoise } from "./stats";
+import { blockSample, histogramQuantile, linearSlope, median, metricStats, robustLevelAndNoise } from "./stats";
 import type { CaptureSettings } from "../schemas/capture-settings";
 import type { CrankEvent, CrankSummary, Finding, Measurements, Suggestions } from "./types";
 
@@ -28,6 +28,90 @@ const GAP_RATIO_MIN = 2.4;
 /** A tooth below this fraction of its neighbours' amplitude is flagged (common practice, no source). */
 const DAMAGED_AMPLITUDE = 0.6;
 
+/** One pass over the signal: tooth crossings, their amplitudes, periods and gaps (see analyzeCrank). */
+function detectTeeth(p: Prepared, centre: number, h: number, sc: number, dir: 1 | -1) {
+  const { v, n } = p;
+  const teeth: number[] = [];
+  const amps: number[] = [];
+  let state = 0; // 0: not armed yet, 1: above +h seen, −1: after a tooth's crossing
+  let lastDown = -1;
+  let posMax = -Infinity;
+  let negMin = Infinity;
+  let pendingPos = 0;
+  let prev = dir * (v[0] - centre);
+  for (let i = 1; i < n; i++) {
+    const x = dir * (v[i] - centre);
+    if (prev >= 0 && x < 0) lastDown = i;
+    prev = x;
+    if (state >= 0) {
+      if (x > posMax) posMax = x;
+      if (x > h) state = 1;
+      if (state === 1 && x < -h && lastDown > 0) {
+        const a = dir * (v[lastDown - 1] - centre);
+        const b = dir * (v[lastDown] - centre);
+        teeth.push(timeAtFrac(p, lastDown - 1 + (a !== b ? a / (a - b) : 0)));
+        pendingPos = posMax;
+        negMin = x;
+        state = -1;
+      }
+    } else {
+      if (x < negMin) negMin = x;
+      if (x > h) {
+        amps.push((pendingPos - negMin) * sc);
+        state = 1;
+        posMax = x;
+      }
+    }
+  }
+  if (state === -1) amps.push((pendingPos - negMin) * sc);
+  // a tooth too weak to cross the hysteresis leaves a double period: put it back with amplitude 0
+  // (so the teeth after it keep their numbers, and it is flagged as damaged)
+  const scratch = new Float64Array(6);
+  // period k over the median of up to three periods either side of it
+  const localRatio = (per: number[], k: number) => {
+    let m = 0;
+    for (let q = k - 3; q <= k + 3; q++) {
+      if (q === k || q < 0 || q >= per.length) continue;
+      // insertion into the sorted scratch
+      let j = m++;
+      const x = per[q];
+      while (j > 0 && scratch[j - 1] > x) {
+        scratch[j] = scratch[j - 1];
+        j--;
+      }
+      scratch[j] = x;
+    }
+    if (m === 0) return 0;
+    const ref = m % 2 ? scratch[m >> 1] : (scratch[(m >> 1) - 1] + scratch[m >> 1]) / 2;
+    return ref > 0 ? per[k] / ref : 0;
+  };
+  {
+    const per: number[] = [];
+    for (let k = 1; k < teeth.length; k++) per.push(teeth[k] - teeth[k - 1]);
+    for (let k = per.length - 1; k >= 0; k--) {
+      const r = localRatio(per, k);
+      if (r > 1.6 && r < 2.4 && k < amps.length) {
+        teeth.splice(k + 1, 0, (teeth[k] + teeth[k + 1]) / 2);
+        amps.splice(k + 1, 0, 0);
+      }
+    }
+  }
+  const periods: number[] = [];
+  for (let k = 1; k < teeth.length; k++) periods.push(teeth[k] - teeth[k - 1]);
+  const gapIdx: number[] = []; // index k of the period teeth[k] → teeth[k+1] that is the gap
+  const ratios: number[] = [];
+  for (let k = 0; k < periods.length; k++) {
+    const r = localRatio(periods, k);
+    if (r > GAP_RATIO_MIN && r < 4.5) {
+      gapIdx.push(k);
+      ratios.push(r);
+    }
+  }
+  // how far the gaps are from 3 pitches (lower is cleaner)
+  const score = ratios.length ? ratios.reduce((acc, r) => acc + Math.abs(r - 3), 0) / ratios.length : Infinity;
+  return { teeth, amps, periods, gapIdx, score };
+}
+
 /**
  * Crank sensor on a 60-2 wheel: tooth times (falling zero crossings of a VR sensor, or the falling
  * edges of a Hall sensor about its mid level), tooth period, the missing-tooth gap, rpm = 1/T (T the
@@ -42,8 +126,9 @@ export function analyzeCrank(p: Prepared, ctx: CrankContext): CrankAnalysis {
   const measurements = measurePrepared(p, sc);
   const robust = n ? robustLevelAndNoise(v) : { median: 0, noise: 0 };
   // a VR sensor swings about zero; a Hall sensor between two levels: centre on the mid level
-  const hiQ = n ? histogramQuantile(v, 0.99, p.min, p.max) : 0;
-  const loQ = n ? histogramQuantile(v, 0.01, p.min, p.max) : 0;
+  const sampled = n ? blockSample(v) : v;
+  const hiQ = n ? histogramQuantile(sampled, 0.99, p.min, p.max) : 0;
+  const loQ = n ? histogramQuantile(sampled, 0.01, p.min, p.max) : 0;
   const centre = Math.abs(robust.median) < 0.2 * (hiQ - loQ) ? robust.median : (hiQ + loQ) / 2;
   // hysteresis: clear of the noise, but never above 40 % of the swing (with few samples per tooth
   // the difference-based noise estimate reads the tooth signal itself)
@@ -52,78 +137,12 @@ export function analyzeCrank(p: Prepared, ctx: CrankContext): CrankAnalysis {
 
   // teeth: falling crossings of the centre (for dir = −1, of the inverted signal), with
   // hysteresis ±h; each tooth's amplitude is its lobe before the crossing to its lobe after it
-  const detect = (dir: 1 | -1) => {
-    const teeth: number[] = [];
-    const amps: number[] = [];
-    let state = 0; // 0: not armed yet, 1: above +h seen, −1: after a tooth's crossing
-    let lastDown = -1;
-    let posMax = -Infinity;
-    let negMin = Infinity;
-    let pendingPos = 0;
-    let prev = dir * (v[0] - centre);
-    for (let i = 1; i < n; i++) {
-      const x = dir * (v[i] - centre);
-      if (prev >= 0 && x < 0) lastDown = i;
-      prev = x;
-      if (state >= 0) {
-        if (x > posMax) posMax = x;
-        if (x > h) state = 1;
-        if (state === 1 && x < -h && lastDown > 0) {
-          const a = dir * (v[lastDown - 1] - centre);
-          const b = dir * (v[lastDown] - centre);
-          teeth.push(timeAtFrac(p, lastDown - 1 + (a !== b ? a / (a - b) : 0)));
-          pendingPos = posMax;
-          negMin = x;
-          state = -1;
-        }
-      } else {
-        if (x < negMin) negMin = x;
-        if (x > h) {
-          amps.push((pendingPos - negMin) * sc);
-          state = 1;
-          posMax = x;
-        }
-      }
-    }
-    if (state === -1) amps.push((pendingPos - negMin) * sc);
-    // a tooth too weak to cross the hysteresis leaves a double period: put it back with amplitude 0
-    // (so the teeth after it keep their numbers, and it is flagged as damaged)
-    const localRatio = (per: number[], k: number) => {
-      const nb: number[] = [];
-      for (let q = k - 3; q <= k + 3; q++) if (q !== k && q >= 0 && q < per.length) nb.push(per[q]);
-      const ref = median(nb);
-      return ref ? per[k] / ref : 0;
-    };
-    {
-      const per: number[] = [];
-      for (let k = 1; k < teeth.length; k++) per.push(teeth[k] - teeth[k - 1]);
-      for (let k = per.length - 1; k >= 0; k--) {
-        const r = localRatio(per, k);
-        if (r > 1.6 && r < 2.4 && k < amps.length) {
-          teeth.splice(k + 1, 0, (teeth[k] + teeth[k + 1]) / 2);
-          amps.splice(k + 1, 0, 0);
-        }
-      }
-    }
-    const periods: number[] = [];
-    for (let k = 1; k < teeth.length; k++) periods.push(teeth[k] - teeth[k - 1]);
-    const gapIdx: number[] = []; // index k of the period teeth[k] → teeth[k+1] that is the gap
-    const ratios: number[] = [];
-    for (let k = 0; k < periods.length; k++) {
-      const r = localRatio(periods, k);
-      if (r > GAP_RATIO_MIN && r < 4.5) {
-        gapIdx.push(k);
-        ratios.push(r);
-      }
-    }
-    // how far the gaps are from 3 pitches (lower is cleaner)
-    const score = ratios.length ? ratios.reduce((acc, r) => acc + Math.abs(r - 3), 0) / ratios.length : Infinity;
-    return { teeth, amps, periods, gapIdx, score };
-  };
-  const fwd = detect(1);
-  const rev = detect(-1);
-  const inverted = rev.score < fwd.score - 0.05 || (fwd.gapIdx.length === 0 && rev.gapIdx.length > 0);
-  const { teeth, amps, periods, gapIdx } = inverted ? rev : fwd;
+  // the sensor's leads may be swapped: then the other crossing marks the teeth. The reverse pass
+  // runs only when the forward one does not give clean 3-pitch gaps.
+  const fwd = detectTeeth(p, centre, h, sc, 1);
+  const rev = fwd.score > 0.1 || fwd.gapIdx.length === 0 ? detectTeeth(p, centre, h, sc, -1) : null;
+  const inverted = rev != null && (rev.score < fwd.score - 0.05 || (fwd.gapIdx.length === 0 && rev.gapIdx.length > 0));
+  const { teeth, amps, periods, gapIdx } = inverted && rev ? rev : fwd;
   const events: CrankEvent[] = [];
 
   // tooth number of each crossing, counted from the gap (1 = first after it)

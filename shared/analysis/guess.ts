@@ -2,7 +2,7 @@ import type { CaptureSettings, TraceKind } from "../schemas/capture-settings";
 import { channelInput, type AnalyzableTrace } from "./analyze";
 import { measurePrepared } from "./measure";
 import { prepare } from "./signal";
-import { histogramQuantile, robustLevelAndNoise } from "./stats";
+import { blockSample, histogramQuantile, robustLevelAndNoise } from "./stats";
 
 export interface KindGuess {
   kind: TraceKind;
@@ -34,8 +34,9 @@ export function guessKind(settings: Partial<CaptureSettings>, trace: AnalyzableT
     const { median: med, noise } = robustLevelAndNoise(p.v);
     const q995 = histogramQuantile(p.v, 0.995, p.min, p.max);
     const q005 = histogramQuantile(p.v, 0.005, p.min, p.max);
-    const q01 = histogramQuantile(p.v, 0.01, p.min, p.max);
-    const q99 = histogramQuantile(p.v, 0.99, p.min, p.max);
+    const sampled = blockSample(p.v);
+    const q01 = histogramQuantile(sampled, 0.01, p.min, p.max);
+    const q99 = histogramQuantile(sampled, 0.99, p.min, p.max);
     const k = p.toBase;
     const medV = med * k;
     const swing = q99 - q01;
@@ -55,8 +56,14 @@ export function guessKind(settings: Partial<CaptureSettings>, trace: AnalyzableT
       return { kind: "crank", from: "shape", reason: `swings about 0 V ${Math.round(m.frequencyHz)} times a second, like a toothed wheel's sensor` };
     }
     const current = p.baseUnit === "A" || settings.probe === "current-clamp";
-    if (current && medV > 0 && duration > 0.4 && m.frequencyHz != null && m.frequencyHz > 1 && m.frequencyHz < 80) {
-      return { kind: "relative-compression", from: "shape", reason: `a current with about ${m.frequencyHz.toFixed(0)} peaks a second, like cranking` };
+    if (current && medV > 0 && duration > 0.4) {
+      // the later part of the capture, clear of the inrush at key-on
+      const t0 = input.t0 ?? 0;
+      const late = measurePrepared(prepare(input, { startS: t0 + 0.4 * duration }), k);
+      const f = late.frequencyHz;
+      if (f != null && f > 1 && f < 80) {
+        return { kind: "relative-compression", from: "shape", reason: `a current with about ${f.toFixed(0)} peaks a second, like cranking` };
+      }
     }
   }
   if (settings.probe === "capacitive-secondary") return { kind: "secondary-ignition", from: "settings", reason: "a capacitive secondary pickup was used" };

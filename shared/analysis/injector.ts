@@ -3,7 +3,7 @@ import { fmt, fmtRate } from "./format";
 import { measurePrepared } from "./measure";
 import { clippedFinding, triggerBeyondFinding } from "./review";
 import { boxcar, niceCeil, roundNice, timeAtFrac, timeAtOf, type Prepared } from "./signal";
-import { histogramQuantile, metricStats, robustLevelAndNoise } from "./stats";
+import { blockSample, histogramQuantile, metricStats, robustLevelAndNoise } from "./stats";
 import type { CaptureSettings } from "../schemas/capture-settings";
 import type { Finding, InjectorEvent, InjectorSummary, Measurements, Suggestions } from "./types";
 
@@ -65,8 +65,10 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
 
   // supply (off) level: median of the samples near the 95th percentile (the spike excluded);
   // on level: median of the samples below a quarter of it
-  const p95 = n ? histogramQuantile(v, 0.95, p.min, p.max) * sc : 0;
-  const supply = medianOf(v, 0, n, 0.5 * p95, 1.2 * p95, sc);
+  const sampled = n ? blockSample(v) : v;
+  const p95 = n ? histogramQuantile(sampled, 0.95, p.min, p.max) * sc : 0;
+  const supply = medianOf(sampled, 0, sampled.length, 0.5 * p95, 1.2 * p95, sc);
+  // the on level from every sample: at a low duty cycle the block sample may hold few of them
   const onLevel = medianOf(v, 0, n, Math.min(p.min * sc, 0), 0.25 * supply, sc);
   const events: InjectorEvent[] = [];
   if (Number.isFinite(supply) && Number.isFinite(onLevel) && supply - onLevel > 6 * noise) {

@@ -52,6 +52,16 @@ export interface Prepared {
   maxIdx: number;
   mean: number;
   rms: number;
+  /** samples at the screen's edges, counted when prepared with the screen (see detectClipping) */
+  extremes: { screen: { min: number; max: number; top: number; bottom: number } | null };
+}
+
+/** Samples exactly at an extreme: how many, in how many runs, the longest run, the largest step into one. */
+export interface ExtremeRuns {
+  count: number;
+  runs: number;
+  longest: number;
+  step: number;
 }
 
 export function timeAtOf(p: Pick<Prepared, "time" | "t0" | "rate" | "offset">, i: number): number {
@@ -68,7 +78,11 @@ export function timeAtFrac(p: Prepared, x: number): number {
   return a + f * (timeAtOf(p, i + 1) - a);
 }
 
-export function prepare(input: SignalInput, window?: { startS?: number; endS?: number }): Prepared {
+export function prepare(
+  input: SignalInput,
+  window?: { startS?: number; endS?: number },
+  screen?: { min: number; max: number } | null,
+): Prepared {
   const all = input.values instanceof Float32Array ? input.values : Float32Array.from(input.values);
   const rate = input.sampleRateHz;
   if (!(rate > 0) || !Number.isFinite(rate)) throw new RangeError("sampleRateHz must be a positive number");
@@ -120,6 +134,20 @@ export function prepare(input: SignalInput, window?: { startS?: number; endS?: n
     sum += x;
     sumSq += x * x;
   }
+  let screenCounts: Prepared["extremes"]["screen"] = null;
+  if (screen && screen.max > screen.min) {
+    // the screen's edges are in the file's unit here
+    const tol = 0.005 * (screen.max - screen.min);
+    let top = 0;
+    let bottom = 0;
+    if (max >= screen.max - tol || min <= screen.min + tol) {
+      for (let i = 0; i < n; i++) {
+        if (v[i] >= screen.max - tol) top++;
+        else if (v[i] <= screen.min + tol) bottom++;
+      }
+    }
+    screenCounts = { min: screen.min, max: screen.max, top, bottom };
+  }
   const { factor, base } = unitFactor(input.unit);
   return {
     v,
@@ -138,6 +166,7 @@ export function prepare(input: SignalInput, window?: { startS?: number; endS?: n
     maxIdx,
     mean: n ? sum / n : 0,
     rms: n ? Math.sqrt(sumSq / n) : 0,
+    extremes: { screen: screenCounts },
   };
 }
 
@@ -193,6 +222,8 @@ export function detectClipping(
   const { v, n, min, max } = p;
   if (n < 3 || !(max > min)) return { top: false, bottom: false };
   if (screen && screen.max > screen.min) {
+    const known = p.extremes.screen;
+    if (known && known.min === screen.min && known.max === screen.max) return { top: known.top >= 2, bottom: known.bottom >= 2 };
     const tol = 0.005 * (screen.max - screen.min);
     let top = 0;
     let bottom = 0;
@@ -202,38 +233,37 @@ export function detectClipping(
     }
     return { top: top >= 2, bottom: bottom >= 2 };
   }
-  const eps = 1e-7 * (max - min);
-  // one pass over both extremes: count, runs, longest run, and whether a run was entered by a step
-  let cTop = 0, rTop = 0, lTop = 0, runTop = 0, stepTop = false;
-  let cBot = 0, rBot = 0, lBot = 0, runBot = 0, stepBot = false;
-  const exTop = Math.abs(max - reference);
-  const exBot = Math.abs(min - reference);
-  const hiCut = max - eps;
-  const loCut = min + eps;
+  // samples exactly at the extremes (a saturated converter repeats its last code): count first,
+  // and look at their runs only when there are enough of them
+  let cTop = 0;
+  let cBot = 0;
   for (let i = 0; i < n; i++) {
     const x = v[i];
-    if (x >= hiCut) {
-      if (runTop === 0) {
-        rTop++;
-        if (i > 0 && max - v[i - 1] >= 0.02 * exTop) stepTop = true;
-      }
-      runTop++;
-      cTop++;
-      if (runTop > lTop) lTop = runTop;
-    } else runTop = 0;
-    if (x <= loCut) {
-      if (runBot === 0) {
-        rBot++;
-        if (i > 0 && v[i - 1] - min >= 0.02 * exBot) stepBot = true;
-      }
-      runBot++;
-      cBot++;
-      if (runBot > lBot) lBot = runBot;
-    } else runBot = 0;
+    if (x === max) cTop++;
+    else if (x === min) cBot++;
   }
-  const ok = (count: number, runs: number, longest: number, stepped: boolean) =>
-    count >= 3 && (runs >= 2 || longest >= 3) && stepped && count <= n / 4;
-  return { top: ok(cTop, rTop, lTop, stepTop), bottom: ok(cBot, rBot, lBot, stepBot) };
+  const runsAt = (extreme: number): ExtremeRuns => {
+    const r: ExtremeRuns = { count: 0, runs: 0, longest: 0, step: 0 };
+    let run = 0;
+    for (let i = 0; i < n; i++) {
+      if (v[i] === extreme) {
+        if (run === 0) {
+          r.runs++;
+          if (i > 0) r.step = Math.max(r.step, Math.abs(extreme - v[i - 1]));
+        }
+        run++;
+        r.count++;
+        if (run > r.longest) r.longest = run;
+      } else run = 0;
+    }
+    return r;
+  };
+  const ok = (r: ExtremeRuns, excursion: number) =>
+    r.count >= 3 && (r.runs >= 2 || r.longest >= 3) && r.step >= 0.02 * excursion && r.count <= n / 4;
+  return {
+    top: cTop >= 3 && ok(runsAt(max), Math.abs(max - reference)),
+    bottom: cBot >= 3 && ok(runsAt(min), Math.abs(min - reference)),
+  };
 }
 
 /** Next value of the 1-2-5 sequence at or above x (volts/division, time/division). */

@@ -118,6 +118,28 @@ export const ROBUST_SAMPLE_MAX = 1 << 16;
 const ROBUST_BLOCK = 4096;
 
 /**
+ * Evenly spread contiguous blocks of a long signal (at most `max` samples), for level and quantile
+ * estimates that need not read every sample; a short signal is returned as it is (no copy).
+ */
+export function blockSample(values: Float32Array, max = ROBUST_SAMPLE_MAX): Float32Array {
+  const n = values.length;
+  if (n <= max) return values;
+  const blocks = Math.floor(max / ROBUST_BLOCK);
+  const out = new Float32Array(blocks * ROBUST_BLOCK);
+  const stride = (n - ROBUST_BLOCK) / (blocks - 1);
+  for (let b = 0; b < blocks; b++) {
+    const from = Math.floor(b * stride);
+    out.set(values.subarray(from, from + ROBUST_BLOCK), b * ROBUST_BLOCK);
+  }
+  return out;
+}
+
+/** Quantile q of a (block-sampled) signal: see blockSample and histogramQuantile. */
+export function sampledQuantile(values: Float32Array, q: number, min: number, max: number): number {
+  return histogramQuantile(blockSample(values), q, min, max);
+}
+
+/**
  * Median level and noise RMS (see noiseRms) of values[start, end). Long signals are read in
  * evenly spread contiguous blocks (at most ROBUST_SAMPLE_MAX samples in all), which leaves both
  * robust estimates unchanged for a steady baseline and keeps the cost flat.

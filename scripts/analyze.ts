@@ -1,0 +1,196 @@
+/**
+ * `npm run -s analyze -- FILE... [--kind K] [--kv-per-volt N] [--waste-spark] [--volts-per-div V]
+ *   [--time-per-div S] [--trigger-level V] [--sample-rate HZ] [--cylinders N] --json`
+ *
+ * Analyses scope exports (CSV/TSV) and prints JSON on stdout (a public contract):
+ * - one file: { file, kind, unit, trace: { samples, sampleRateHz, durationS, channels }, events,
+ *   summary, findings, … } — the object analyzeTrace returns, with `file` and `trace` in front;
+ * - several files: { traces: [ one object per file ], comparison: { metrics, outliers } }.
+ * --kind defaults to secondary-ignition. Output is always JSON (--json is accepted for clarity).
+ * Exit codes: 0 done; 2 a file could not be read or parsed (one line on stderr naming the file,
+ * the line and the reason) or the command line is wrong; 1 anything else.
+ */
+import fs from "node:fs";
+import { analyzeTrace } from "../shared/analysis/analyze";
+import { compareTraces } from "../shared/analysis/compare";
+import { traceKinds, type CaptureSettings, type TraceKind } from "../shared/schemas/capture-settings";
+import { createTraceAccumulator } from "../shared/trace/parse";
+import { TraceParseError, type ParsedTrace } from "../shared/trace/types";
+
+const USAGE =
+  "usage: npm run -s analyze -- FILE... [--kind secondary-ignition|relative-compression|injector|crank|generic] [--kv-per-volt N] [--waste-spark] [--volts-per-div V] [--time-per-div S] [--trigger-level V] [--sample-rate HZ] [--cylinders N] --json";
+
+class UsageError extends Error {}
+class FileError extends Error {}
+
+interface Args {
+  files: string[];
+  kind: TraceKind;
+  settings: Partial<CaptureSettings>;
+  kvPerVolt?: number;
+  wasteSpark: boolean;
+  sampleRateHz?: number;
+  cylinders?: number;
+}
+
+function parseArgs(argv: string[]): Args {
+  const files: string[] = [];
+  const settings: Partial<CaptureSettings> = {};
+  let kind: TraceKind = "secondary-ignition";
+  let kvPerVolt: number | undefined;
+  let wasteSpark = false;
+  let sampleRateHz: number | undefined;
+  let cylinders: number | undefined;
+  const num = (flag: string, value: string | undefined, opts: { positive?: boolean; integer?: boolean } = {}) => {
+    if (value === undefined) throw new UsageError(`${flag} needs a value`);
+    const x = Number(value);
+    if (value.trim() === "" || !Number.isFinite(x)) throw new UsageError(`${flag} needs a number, not "${value}"`);
+    if (opts.positive && !(x > 0)) throw new UsageError(`${flag} must be greater than 0`);
+    if (opts.integer && !Number.isInteger(x)) throw new UsageError(`${flag} must be a whole number`);
+    return x;
+  };
+  for (let i = 0; i < argv.length; i++) {
+    const a = argv[i];
+    const [flag, inline] = a.startsWith("--") && a.includes("=") ? [a.slice(0, a.indexOf("=")), a.slice(a.indexOf("=") + 1)] : [a, undefined];
+    const value = () => (inline !== undefined ? inline : argv[++i]);
+    switch (flag) {
+      case "--json":
+        break;
+      case "--kind": {
+        const k = value();
+        if (!(traceKinds as readonly string[]).includes(k ?? "")) throw new UsageError(`--kind must be one of ${traceKinds.join(", ")}`);
+        kind = k as TraceKind;
+        break;
+      }
+      case "--kv-per-volt":
+        kvPerVolt = num(flag, value(), { positive: true });
+        break;
+      case "--waste-spark":
+        wasteSpark = true;
+        break;
+      case "--volts-per-div":
+        settings.voltsPerDiv = num(flag, value(), { positive: true });
+        break;
+      case "--time-per-div":
+        settings.timePerDivS = num(flag, value(), { positive: true });
+        break;
+      case "--trigger-level":
+        settings.triggerLevel = num(flag, value());
+        break;
+      case "--sample-rate":
+        sampleRateHz = num(flag, value(), { positive: true });
+        break;
+      case "--cylinders":
+        cylinders = num(flag, value(), { positive: true, integer: true });
+        break;
+      case "-h":
+      case "--help":
+        process.stdout.write(`${USAGE}\n`);
+        process.exit(0);
+        break;
+      default:
+        if (a.startsWith("-") && a !== "-") throw new UsageError(`unknown option ${a}`);
+        files.push(a);
+    }
+  }
+  if (files.length === 0) throw new UsageError("no files given");
+  return { files, kind, settings, kvPerVolt, wasteSpark, sampleRateHz, cylinders };
+}
+
+const FS_REASONS: Record<string, string> = {
+  ENOENT: "no such file",
+  EISDIR: "is a directory, not a file",
+  EACCES: "permission denied",
+  EPERM: "permission denied",
+};
+
+/** Streams a file through the trace parser (no whole-file string in memory). */
+async function readTrace(file: string, sampleRateHz?: number): Promise<ParsedTrace> {
+  let size: number | undefined;
+  try {
+    const st = fs.statSync(file);
+    if (st.isDirectory()) throw Object.assign(new Error("directory"), { code: "EISDIR" });
+    size = st.size;
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code ?? "";
+    throw new FileError(`${file}: cannot read the file: ${FS_REASONS[code] ?? (e as Error).message}`);
+  }
+  const acc = createTraceAccumulator({ sampleRateHz, totalChars: size });
+  try {
+    const stream = fs.createReadStream(file, { encoding: "utf8", highWaterMark: 1 << 20 });
+    for await (const chunk of stream) acc.pushText(chunk as string);
+    return acc.finish();
+  } catch (e) {
+    if (e instanceof TraceParseError) {
+      const reason = e.line != null ? e.message.replace(/^line \d+: /, "") : e.message;
+      throw new FileError(e.line != null ? `${file}: line ${e.line}: ${reason}` : `${file}: ${reason}`);
+    }
+    const code = (e as NodeJS.ErrnoException).code ?? "";
+    if (code) throw new FileError(`${file}: cannot read the file: ${FS_REASONS[code] ?? (e as Error).message}`);
+    throw e;
+  }
+}
+
+async function main(): Promise<number> {
+  let args: Args;
+  try {
+    args = parseArgs(process.argv.slice(2));
+  } catch (e) {
+    if (e instanceof UsageError) {
+      process.stderr.write(`analyze: ${e.message}\n${USAGE}\n`);
+      return 2;
+    }
+    throw e;
+  }
+  const settings: Partial<CaptureSettings> = { ...args.settings, kind: args.kind, wasteSpark: args.wasteSpark };
+  if (args.kvPerVolt) settings.kvPerVolt = args.kvPerVolt;
+  if (args.cylinders) settings.cylinders = args.cylinders;
+  const out: Record<string, unknown>[] = [];
+  for (const file of args.files) {
+    let trace: ParsedTrace;
+    try {
+      trace = await readTrace(file, args.sampleRateHz);
+    } catch (e) {
+      if (e instanceof FileError) {
+        process.stderr.write(`analyze: ${e.message.replace(/\s*\n\s*/g, " ")}\n`);
+        return 2;
+      }
+      throw e;
+    }
+    const result = analyzeTrace(trace, settings, {
+      kind: args.kind,
+      kvPerVolt: args.kvPerVolt,
+      wasteSpark: args.wasteSpark,
+      cylinders: args.cylinders,
+    });
+    const { kind, unit, ...rest } = result;
+    out.push({
+      file,
+      kind,
+      unit,
+      trace: {
+        samples: trace.samples,
+        sampleRateHz: trace.sampleRateHz,
+        durationS: trace.durationS,
+        channels: trace.channels.map((c) => ({ name: c.name, unit: c.unit, min: c.min, max: c.max })),
+      },
+      ...rest,
+    });
+  }
+  const doc =
+    out.length === 1
+      ? out[0]
+      : { traces: out, comparison: compareTraces(out as unknown as Parameters<typeof compareTraces>[0]) };
+  process.stdout.write(`${JSON.stringify(doc, null, 2)}\n`);
+  return 0;
+}
+
+main().then(
+  (code) => {
+    process.exitCode = code;
+  },
+  (e: unknown) => {
+    process.stderr.write(`analyze: internal error: ${e instanceof Error ? e.message : String(e)}\n`);
+    process.exitCode = 1;
+  },
+);

@@ -1,0 +1,98 @@
+import { spawnSync } from "node:child_process";
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { analyzeTrace } from "../../../shared/analysis/analyze";
+import { parseTraceText } from "../../../shared/trace/parse";
+import { renderCsv } from "../../generators/csv";
+import { generateSecondary } from "../../generators/secondary";
+
+// The CLI is a public contract (issue: command line): the shapes below are what outside tools rely on.
+const root = path.resolve(__dirname, "../../..");
+let dir: string;
+const files: string[] = [];
+
+function cli(args: string[]) {
+  // the same command as `npm run -s analyze -- …` (package.json: node --import tsx scripts/analyze.ts)
+  return spawnSync(process.execPath, ["--import", "tsx", path.join(root, "scripts/analyze.ts"), ...args], {
+    cwd: root,
+    encoding: "utf8",
+  });
+}
+
+beforeAll(() => {
+  dir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-analyze-"));
+  for (let i = 0; i < 4; i++) {
+    const g = generateSecondary({ seed: 90 + i, sampleRateHz: 1e6, events: 2, rpm: 3000, fault: i === 1 ? "fouled-plug" : "none" });
+    const f = path.join(dir, `coil${i + 1}.csv`);
+    fs.writeFileSync(f, renderCsv(g.trace, i === 3 ? { delimiter: ";", decimal: ",", valueUnit: "mV" } : {}));
+    files.push(f);
+  }
+  fs.writeFileSync(path.join(dir, "bad.csv"), "Time (s),A (V)\n0,0.01\n0.000001,0.02\n0.000002,n/a\n0.000003,0.01\n");
+  const one = generateSecondary({ seed: 99, sampleRateHz: 1e6, events: 1 });
+  fs.writeFileSync(path.join(dir, "one.csv"), renderCsv(one.trace));
+});
+
+afterAll(() => fs.rmSync(dir, { recursive: true, force: true }));
+
+describe("npm run analyze", () => {
+  it("one file: one object in the contract's shape, equal to analyzeTrace's result", () => {
+    const res = cli([files[0], "--kv-per-volt", "10", "--volts-per-div", "0.2", "--time-per-div", "0.005", "--trigger-level", "0.3", "--json"]);
+    expect(res.stderr).toBe("");
+    expect(res.status).toBe(0);
+    const doc = JSON.parse(res.stdout);
+    expect(Object.keys(doc).slice(0, 7)).toEqual(["file", "kind", "unit", "trace", "events", "summary", "findings"]);
+    expect(doc.file).toBe(files[0]);
+    expect(doc.kind).toBe("secondary-ignition");
+    expect(doc.unit).toBe("kV");
+    expect(Object.keys(doc.trace)).toEqual(["samples", "sampleRateHz", "durationS", "channels"]);
+    expect(doc.trace.sampleRateHz).toBe(1e6);
+    expect(doc.events.length).toBe(2);
+    for (const key of ["timeS", "peak", "burnTimeMs", "burnLevel", "oscillations"]) expect(typeof doc.events[0][key]).toBe("number");
+    expect(doc.summary.eventCount).toBe(2);
+    expect(Math.abs(doc.summary.rpm - 3000)).toBeLessThan(30);
+    for (const m of ["peak", "burnTimeMs", "burnLevel", "oscillations"]) expect(Object.keys(doc.summary[m])).toEqual(["median", "min", "max"]);
+    expect(doc.findings).toEqual([]);
+    // the per-file object minus file/trace is exactly what the server stores from analyzeTrace
+    const text = fs.readFileSync(files[0], "utf8");
+    const direct = analyzeTrace(parseTraceText(text), { kind: "secondary-ignition", wasteSpark: false, voltsPerDiv: 0.2, timePerDivS: 0.005, triggerLevel: 0.3, kvPerVolt: 10 }, { kind: "secondary-ignition", kvPerVolt: 10, wasteSpark: false });
+    const { file: _f, trace: _t, ...rest } = doc;
+    expect(rest).toEqual(JSON.parse(JSON.stringify(direct)));
+  });
+
+  it("several files: traces and a comparison that names the odd coil; rpm null with one event", () => {
+    const res = cli([...files, path.join(dir, "one.csv"), "--json"]);
+    expect(res.status).toBe(0);
+    const doc = JSON.parse(res.stdout);
+    expect(Object.keys(doc)).toEqual(["traces", "comparison"]);
+    expect(doc.traces.map((t: { file: string }) => t.file)).toEqual([...files, path.join(dir, "one.csv")]);
+    // the millivolt file reads in volts like the others
+    expect(doc.traces[3].unit).toBe("V");
+    expect(Math.abs(doc.traces[3].summary.peak.median - doc.traces[0].summary.peak.median) / doc.traces[0].summary.peak.median).toBeLessThan(0.1);
+    expect(doc.traces[4].summary.eventCount).toBe(1);
+    expect(doc.traces[4].summary.rpm).toBeNull();
+    expect(Object.keys(doc.comparison)).toEqual(["metrics", "outliers"]);
+    expect(doc.comparison.outliers.length).toBeGreaterThan(0);
+    for (const o of doc.comparison.outliers) {
+      expect(Object.keys(o)).toEqual(["file", "metric", "value", "median", "score"]);
+      expect(o.file).toBe(files[1]); // the fouled plug
+    }
+  });
+
+  it("an unreadable file: exit code 2 and one line on stderr naming the file, the line and the reason", () => {
+    const bad = path.join(dir, "bad.csv");
+    const res = cli([files[0], bad, "--json"]);
+    expect(res.status).toBe(2);
+    expect(res.stdout).toBe("");
+    const lines = res.stderr.split("\n").filter(Boolean);
+    expect(lines.length).toBe(1);
+    expect(lines[0]).toContain(bad);
+    expect(lines[0]).toContain("line 4");
+    expect(lines[0]).toContain('"n/a"');
+    expect(res.stderr).not.toMatch(/\bat .*\.ts:\d+/); // no stack trace
+    const missing = cli([path.join(dir, "missing.csv"), "--json"]);
+    expect(missing.status).toBe(2);
+    expect(missing.stderr.split("\n").filter(Boolean)).toEqual([`analyze: ${path.join(dir, "missing.csv")}: cannot read the file: no such file`]);
+  });
+});

@@ -1,0 +1,39 @@
+import { describe, expect, it } from "vitest";
+import { guessKind } from "../../../shared/analysis/guess";
+import { makeTrace } from "../../generators/common";
+import { generateCompression } from "../../generators/compression";
+import { generateCrank } from "../../generators/crank";
+import { generateInjector } from "../../generators/injector";
+import { generateSecondary } from "../../generators/secondary";
+
+describe("guessKind: a kind offered from the settings and the shape", () => {
+  it.each([
+    ["secondary ignition", generateSecondary({ seed: 1, events: 2, rpm: 3000 }).trace, "secondary-ignition"],
+    ["inverted secondary", generateSecondary({ seed: 2, events: 2, rpm: 3000, polarity: -1 }).trace, "secondary-ignition"],
+    ["injector", generateInjector({ seed: 3 }).trace, "injector"],
+    ["crank sensor", generateCrank({ seed: 4 }).trace, "crank"],
+    ["starter current", generateCompression({ seed: 5 }).trace, "relative-compression"],
+  ] as const)("from the shape: %s", (_n, trace, kind) => {
+    const g = guessKind({}, trace);
+    expect(g.kind).toBe(kind);
+    expect(g.from).toBe("shape");
+    expect(g.reason.length).toBeGreaterThan(10);
+  });
+
+  it("the settings' circuit or sensor text comes first", () => {
+    const sine = makeTrace(10_000, [
+      { name: "A", unit: "V", values: Float32Array.from({ length: 5000 }, (_, i) => Math.sin(i / 10)) },
+    ]);
+    expect(guessKind({ sensor: "crankshaft position (VR)" }, sine)).toMatchObject({ kind: "crank", from: "settings" });
+    expect(guessKind({ circuit: "injector 3 control" }, sine)).toMatchObject({ kind: "injector", from: "settings" });
+    expect(guessKind({ circuit: "starter cable" }, sine)).toMatchObject({ kind: "relative-compression", from: "settings" });
+    expect(guessKind({ circuit: "coil on plug, cylinder 2" }, sine)).toMatchObject({ kind: "secondary-ignition", from: "settings" });
+  });
+
+  it("falls back to the probe, then to generic", () => {
+    const flat = makeTrace(1000, [{ name: "A", unit: "V", values: new Float32Array(500).fill(1.2) }]);
+    expect(guessKind({ probe: "capacitive-secondary" }, flat)).toMatchObject({ kind: "secondary-ignition", from: "settings" });
+    expect(guessKind({ probe: "current-clamp" }, flat)).toMatchObject({ kind: "relative-compression", from: "settings" });
+    expect(guessKind({}, flat)).toMatchObject({ kind: "generic", from: "default" });
+  });
+});
