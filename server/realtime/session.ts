@@ -9,9 +9,9 @@ import { fromNodeHeaders } from "better-auth/node";
 import type { Auth } from "../auth/auth";
 import type { Db } from "../db/client";
 import { schema } from "../db/client";
-import type { Actor } from "../auth/session";
+import { knownRole, type Actor } from "../auth/session";
 import type { LiveActor } from "../services/annotations";
-import { roles, type Role } from "../../shared/domain/case-status";
+import type { Role } from "../../shared/domain/case-status";
 import { authorColor } from "../../shared/realtime";
 
 const { session, user } = schema;
@@ -27,7 +27,9 @@ type UserRow = Pick<typeof user.$inferSelect, "id" | "email" | "name" | "role" |
 /** The same rules as server/auth/session.ts actorFromHeaders, plus the mark colour. */
 function toActor(u: UserRow): LiveActor | null {
   if (u.deactivatedAt) return null;
-  const role: Role = (roles as readonly string[]).includes(u.role) ? (u.role as Role) : "technician";
+  // an unknown stored role grants nothing: treated as signed out (as actorFromHeaders does)
+  const role: Role | null = knownRole(u.role);
+  if (!role) return null;
   const actor: Actor = {
     id: u.id,
     email: u.email,

@@ -404,6 +404,20 @@ describe("the handshake and the session", () => {
     await until(() => gone.length > 0, 2000, "disconnectUser");
   });
 
+  it("drops a socket whose account gets an unknown role, as the HTTP API treats it as signed out", async () => {
+    const agent = await signIn(server, shopB.owner);
+    const s = await client(agent);
+    const reasons: string[] = [];
+    s.on("disconnect", (r) => reasons.push(r));
+    server.ctx.db.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, shopB.owner.id)).run();
+    try {
+      await until(() => reasons.length > 0, 4000, "disconnect after the role change");
+      expect(reasons[0]).toBe("io server disconnect");
+    } finally {
+      server.ctx.db.update(schema.user).set({ role: "owner" }).where(eq(schema.user.id, shopB.owner.id)).run();
+    }
+  });
+
   it("pushes messages from other services to the case room (ctx.realtime.toCase)", async () => {
     const c = newCase();
     const tech = await joined(techA, c.caseId);
