@@ -32,7 +32,7 @@ export type CaseResolvedHook = (ctx: AppContext, caseId: string) => Promise<void
  */
 export const onCaseResolved: CaseResolvedHook[] = [];
 
-async function runCaseResolvedHooks(ctx: AppContext, caseId: string): Promise<void> {
+export async function runCaseResolvedHooks(ctx: AppContext, caseId: string): Promise<void> {
   const hooks = [...onCaseResolved];
   if (hooks.length === 0) {
     const here = fileURLToPath(import.meta.url);
