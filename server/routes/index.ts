@@ -20,6 +20,7 @@ import { adminPricingRoutes } from "./admin-pricing";
 import { billingRoutes } from "./billing";
 import { earningsRoutes } from "./earnings";
 import { notificationRoutes } from "./notifications";
+import { casebookRoutes } from "./casebook";
 
 /** Every resource's router, mounted under /api. Add one line per resource. */
 export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void {
@@ -36,6 +37,8 @@ export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void 
   app.use("/api", shopRoutes(ctx, auth));
   app.use("/api", expertRoutes(ctx, auth));
   app.use("/api", adminExpertRoutes(ctx, auth));
+  // before traceRoutes: it answers trace windows for casebook readers and passes everything else on
+  app.use("/api", casebookRoutes(ctx, auth));
   app.use("/api", caseRoutes(ctx, auth));
   app.use("/api", photoRoutes(ctx, auth));
   app.use("/api", traceRoutes(ctx, auth));

@@ -1,0 +1,105 @@
+import { Router } from "express";
+import type { AppContext } from "../context";
+import type { Auth } from "../auth/auth";
+import { getActor, requireActor } from "../auth/session";
+import { canReadCase } from "../auth/policies/cases";
+import { assertCanSeeCase, expertProfileOf } from "../auth/policies/queue";
+import { parseBody, parseParams, parseQuery } from "../http/validate";
+import { notFound } from "../http/errors";
+import { idParamSchema, traceWindowQuerySchema } from "../../shared/schemas/traces";
+import { casebookEditSchema, casebookSearchQuerySchema, casebookVoteSchema, similarQuerySchema } from "../../shared/schemas/casebook";
+import { getCaseRow } from "../services/cases";
+import { getTraceRow, traceWindow } from "../services/traces";
+import { searchCasebook } from "../services/casebook-search";
+import { editEntry, entryOfTrace, entryTrace, expertRecord, listHiddenEntries, readEntry, similarForCase, voteEntry, withHelpfulCounts } from "../services/casebook";
+import { z } from "zod";
+
+const entryTraceParams = z.object({ id: idParamSchema.shape.id, traceId: idParamSchema.shape.id });
+
+/**
+ * The casebook: search, entries (read-only traces, measurements, annotations), helpful votes,
+ * moderation, an expert's record, and similar cases for a case. Every signed-in role may search
+ * and read; the rules are in server/auth/policies/casebook.ts.
+ */
+export function casebookRoutes(ctx: AppContext, auth: Auth): Router {
+  const r = Router();
+
+  r.get("/casebook/search", async (req, res) => {
+    const q = parseQuery(casebookSearchQuerySchema, req);
+    await requireActor(req, auth);
+    const out = await searchCasebook(ctx, q);
+    res.json({ ...out, results: withHelpfulCounts(ctx.db, out.results) });
+  });
+
+  r.get("/casebook/:id", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
+    const actor = await requireActor(req, auth);
+    res.json(readEntry(ctx, actor, id));
+  });
+
+  r.post("/casebook/:id/vote", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
+    const { helpful } = parseBody(casebookVoteSchema, req);
+    const actor = await requireActor(req, auth);
+    res.json(voteEntry(ctx, actor, id, helpful));
+  });
+
+  /** The min/max window of one of an entry's published traces (the samples only). */
+  r.get("/casebook/:id/traces/:traceId/window", async (req, res) => {
+    const { id, traceId } = parseParams(entryTraceParams, req);
+    const q = parseQuery(traceWindowQuerySchema, req);
+    const actor = await requireActor(req, auth);
+    entryTrace(ctx, actor, id, traceId);
+    const t = getTraceRow(ctx, traceId);
+    if (!t) throw notFound("Trace");
+    res.set("Cache-Control", "private, max-age=3600");
+    res.json(await traceWindow(ctx, t, q));
+  });
+
+  /**
+   * The trace viewer fetches windows from /api/traces/:id/window. For a reader of a casebook entry
+   * who may not see the case itself, answer here with the published trace's window; everybody
+   * else goes on to the traces routes (which answer for the case's own readers, or 404).
+   */
+  r.get("/traces/:id/window", async (req, res, next) => {
+    const actor = await getActor(req, auth);
+    const id = String(req.params.id ?? "");
+    const t = actor && id ? getTraceRow(ctx, id) : undefined;
+    if (!actor || !t) return next();
+    const c = getCaseRow(ctx.db, t.caseId);
+    if (c && canReadCase(actor, c)) return next();
+    if (!entryOfTrace(ctx, actor, t.id)) return next();
+    const q = parseQuery(traceWindowQuerySchema, req);
+    res.set("Cache-Control", "private, max-age=3600");
+    res.json(await traceWindow(ctx, t, q));
+  });
+
+  r.get("/cases/:id/similar", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
+    const { limit } = parseQuery(similarQuerySchema, req);
+    const actor = await requireActor(req, auth);
+    const c = getCaseRow(ctx.db, id);
+    assertCanSeeCase(actor, c, expertProfileOf(ctx.db, actor));
+    res.json(similarForCase(ctx, c.id, limit));
+  });
+
+  r.get("/admin/casebook/hidden", async (req, res) => {
+    const actor = await requireActor(req, auth);
+    res.json({ items: listHiddenEntries(ctx, actor) });
+  });
+
+  r.patch("/admin/casebook/:id", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
+    const patch = parseBody(casebookEditSchema, req);
+    const actor = await requireActor(req, auth);
+    res.json(editEntry(ctx, actor, id, patch));
+  });
+
+  r.get("/experts/:id/record", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
+    const actor = await requireActor(req, auth);
+    res.json(expertRecord(ctx, actor, id));
+  });
+
+  return r;
+}
