@@ -9,7 +9,7 @@
  */
 import { createServer, type IncomingMessage, type ServerResponse } from "node:http";
 import type { AddressInfo } from "node:net";
-import { mkdtempSync, rmSync } from "node:fs";
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { afterEach, beforeEach, describe, expect, it } from "vitest";
@@ -17,6 +17,7 @@ import Stripe from "stripe";
 import {
   AUTHORIZATION_VALIDITY_SECONDS,
   eventPayload,
+  sameKey,
   signPayload,
   startFakeStripe,
   type FakeStripe,
@@ -75,17 +76,24 @@ async function authorised(amount = 4900) {
 
 describe("customers", () => {
   it("creates and retrieves a customer with Stripe's object shape", async () => {
-    // Shape per docs.stripe.com/api/customers/object: id prefix cus_, object "customer", created in seconds, livemode false.
-    const before = Math.floor(Date.now() / 1000);
-    const c = await stripe.customers.create({ email: "owner@burnline.test", name: "Veltra Motors", metadata: { shop_id: "s1" } });
-    expect(c.id).toMatch(/^cus_/);
-    expect(c.object).toBe("customer");
-    expect(c.livemode).toBe(false);
-    expect(c.created).toBeGreaterThanOrEqual(before);
-    expect(c.created).toBeLessThan(before + 60);
-    expect(c.metadata).toEqual({ shop_id: "s1" });
-    const again = await stripe.customers.retrieve(c.id);
-    expect(again).toMatchObject({ id: c.id, email: "owner@burnline.test", name: "Veltra Motors" });
+    // Shape per docs.stripe.com/api/customers/object: id prefix cus_, object "customer", created in
+    // unix seconds (from the fake's clock, fixed here), livemode false.
+    const fixedNow = 1_900_000_000; // 2030-03-17T17:46:40Z
+    const own = await startFakes({ stripe: { now: () => fixedNow } });
+    try {
+      const c = await own.stripeClient.customers.create({ email: "owner@burnline.test", name: "Veltra Motors", metadata: { shop_id: "s1" } });
+      expect(c.id).toMatch(/^cus_/);
+      expect(c.object).toBe("customer");
+      expect(c.livemode).toBe(false);
+      expect(c.created).toBe(fixedNow);
+      expect(c.metadata).toEqual({ shop_id: "s1" });
+      const again = await own.stripeClient.customers.retrieve(c.id);
+      expect(again).toMatchObject({ id: c.id, email: "owner@burnline.test", name: "Veltra Motors", created: fixedNow });
+      own.stripe.advanceClock(90);
+      expect((await own.stripeClient.customers.create({ email: "later@burnline.test" })).created).toBe(fixedNow + 90);
+    } finally {
+      await own.stop();
+    }
   });
 
   it("answers an unknown id with 404 resource_missing (StripeInvalidRequestError in the SDK)", async () => {
@@ -311,7 +319,7 @@ describe("test cards", () => {
     expect(pi.amount_capturable).toBe(4900);
   });
 
-  it("refuses a Luhn-invalid number as incorrect and accepts another Luhn-valid one", async () => {
+  it("refuses a Luhn-invalid number as incorrect and accepts the Mastercard test card", async () => {
     const session = await manualCaptureSession(4900);
     // 4242 4242 4242 4241 fails the Luhn check (ISO/IEC 7812-1): refused before any charge.
     const bad = await testPay(fakes.stripe, session.id, "4242 4242 4242 4241");
@@ -324,6 +332,103 @@ describe("test cards", () => {
     const pi = await stripe.paymentIntents.retrieve(good.body.payment_intent!.id, { expand: ["payment_method"] });
     expect(pi.status).toBe("requires_capture");
     expect((pi.payment_method as Stripe.PaymentMethod).card).toMatchObject({ brand: "mastercard", last4: "4444" });
+  });
+});
+
+describe("only test cards", () => {
+  // 4111 1111 1111 1111 passes the Luhn check (ISO/IEC 7812-1 Annex B: digit sum with every second
+  // digit doubled from the right = 30, a multiple of 10) but is not on the fake's list.
+  const notListed = "4111 1111 1111 1111";
+
+  it("refuses a Luhn-valid number that is not a listed test card, before any intent or payment method exists", async () => {
+    const session = await manualCaptureSession(4900);
+    const res = await testPay(fakes.stripe, session.id, notListed);
+    expect(res.body.ok).toBe(false);
+    // docs.stripe.com/error-codes#card-declined: a refused card is a card_error with code card_declined.
+    expect(res.body.error).toMatchObject({ type: "card_error", code: "card_declined" });
+    expect(res.body.error!.message).toContain("Use one of the test cards listed on this page");
+    expect(res.body.payment_intent).toBeNull();
+    expect(Object.keys(fakes.stripe.state.paymentMethods)).toEqual([]);
+    expect(Object.keys(fakes.stripe.state.charges)).toEqual([]);
+    expect(JSON.stringify(fakes.stripe.state)).not.toContain("4111111111111111");
+    const s = await stripe.checkout.sessions.retrieve(session.id);
+    expect(s.status).toBe("open");
+    // a listed card still goes through on the same session
+    expect((await testPay(fakes.stripe, session.id, "4242 4242 4242 4242")).status).toBe(200);
+  });
+
+  it("the hosted page lists the accepted test cards and shows the refusal of another number", async () => {
+    const session = await manualCaptureSession(4900);
+    const html = await (await fetch(session.url!)).text();
+    // docs.stripe.com/testing: the test numbers and their outcomes.
+    for (const n of ["4242 4242 4242 4242", "4000 0000 0000 0002", "4000 0000 0000 9995", "4000 0000 0000 0069", "4000 0000 0000 0127", "5555 5555 5555 4444"]) {
+      expect(html).toContain(`<code>${n}</code>`);
+    }
+    const form = new URLSearchParams({ card_number: notListed, expiry: "12/40", cvc: "123" });
+    const res = await fetch(`${fakes.stripe.url}/checkout/${session.id}/pay`, { method: "POST", body: form, redirect: "manual" });
+    expect(res.status).toBe(400);
+    const page = await res.text();
+    expect(page).toContain('role="alert"');
+    expect(page).toContain("Use one of the test cards listed on this page");
+    expect(Object.keys(fakes.stripe.state.paymentMethods)).toEqual([]);
+  });
+
+  it("keeps brand and last 4 only: no card number in memory or in the state file, and a stored payment method still confirms after a restart", async () => {
+    const dir = mkdtempSync(join(tmpdir(), "fake-stripe-cards-"));
+    try {
+      const stateFile = join(dir, "state.json");
+      const first = await startFakeStripe({ webhookSecret: "whsec_x", stateFile });
+      const c1 = createStripeClient({ secretKey: TEST_STRIPE_KEY, apiBase: first.url, maxNetworkRetries: 0 });
+      const session = await c1.checkout.sessions.create({
+        mode: "payment",
+        line_items: [{ quantity: 1, price_data: { currency: "usd", unit_amount: 4900, product_data: { name: "Second opinion" } } }],
+        payment_intent_data: { capture_method: "manual" },
+        success_url: "http://127.0.0.1:9/ok",
+      });
+      expect(first.pay(session.id, "4000 0000 0000 0002").ok).toBe(false);
+      const paid = first.pay(session.id, "4242 4242 4242 4242");
+      expect(paid.ok).toBe(true);
+      const viaToken = await c1.paymentIntents.create({ amount: 4900, currency: "usd", capture_method: "manual", payment_method: "pm_card_mastercard" });
+      await first.close();
+
+      const saved = readFileSync(stateFile, "utf8");
+      for (const digits of ["4242424242424242", "4000000000000002", "5555555555554444"]) {
+        expect(saved).not.toContain(digits);
+        expect(JSON.stringify(first.state)).not.toContain(digits);
+      }
+      // docs.stripe.com/api/payment_methods/object: card.brand and card.last4 describe the card.
+      const pms = Object.values(first.state.paymentMethods).map((pm) => [pm.card.brand, pm.card.last4]).sort();
+      expect(pms).toEqual([["mastercard", "4444"], ["visa", "0002"], ["visa", "4242"]]);
+
+      const second = await startFakeStripe({ webhookSecret: "whsec_x", stateFile });
+      try {
+        const c2 = createStripeClient({ secretKey: TEST_STRIPE_KEY, apiBase: second.url, maxNetworkRetries: 0 });
+        const confirmed = await c2.paymentIntents.confirm(viaToken.id);
+        expect(confirmed.status).toBe("requires_capture");
+        expect(confirmed.amount_capturable).toBe(4900);
+      } finally {
+        await second.close();
+      }
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it("does not read back card numbers from a state file written by an earlier version", async () => {
+    const dir = mkdtempSync(join(tmpdir(), "fake-stripe-old-"));
+    try {
+      const stateFile = join(dir, "state.json");
+      const first = await startFakeStripe({ webhookSecret: "whsec_x", stateFile });
+      await first.close();
+      const old = JSON.parse(readFileSync(stateFile, "utf8")) as Record<string, unknown>;
+      writeFileSync(stateFile, JSON.stringify({ ...old, paymentMethodNumbers: { pm_old: "4242424242424242" } }));
+      const second = await startFakeStripe({ webhookSecret: "whsec_x", stateFile });
+      expect(JSON.stringify(second.state)).not.toContain("4242424242424242");
+      await second.close();
+      expect(readFileSync(stateFile, "utf8")).not.toContain("4242424242424242");
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   });
 });
 
@@ -612,6 +717,27 @@ describe("hosted checkout page", () => {
 describe("configuration", () => {
   it("refuses to send a live key to a custom apiBase", () => {
     expect(() => createStripeClient({ secretKey: "sk_live_abc", apiBase: fakes.stripe.url })).toThrow(/live secret key/);
+  });
+
+  it("with a configured secret key, accepts exactly that key and refuses others of the same or another length", async () => {
+    const own = await startFakes({ stripe: { secretKey: "sk_test_exactly_this_key" } });
+    try {
+      const call = (key: string) => fetch(`${own.stripe.url}/v1/balance`, { headers: { authorization: `Bearer ${key}` } });
+      expect((await call("sk_test_exactly_this_key")).status).toBe(200);
+      // docs.stripe.com/api/authentication: a wrong key answers 401.
+      for (const wrong of ["sk_test_exactly_this_kex", "sk_test_exactly_this_ke", "sk_test_exactly_this_key_", "sk_test_other"]) {
+        const res = await call(wrong);
+        expect(res.status, wrong).toBe(401);
+        expect(((await res.json()) as { error: { code: string } }).error.code, wrong).toBe("api_key_invalid");
+      }
+    } finally {
+      await own.stop();
+    }
+    // the comparison itself (constant-time after a length check; node:crypto timingSafeEqual)
+    expect(sameKey("sk_test_a", "sk_test_a")).toBe(true);
+    expect(sameKey("sk_test_a", "sk_test_b")).toBe(false);
+    expect(sameKey("sk_test_a", "sk_test_ab")).toBe(false);
+    expect(sameKey("", "sk_test_a")).toBe(false);
   });
 
   it("answers a request without a key with 401 (StripeAuthenticationError)", async () => {

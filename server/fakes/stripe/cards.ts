@@ -2,9 +2,47 @@
  * Test-card rules of the fake. The numbers are Stripe's published test cards
  * (docs.stripe.com/testing): 4242 4242 4242 4242 succeeds, 4000 0000 0000 0002 is a generic
  * decline, 4000 0000 0000 9995 declines for insufficient funds, 4000 0000 0000 0069 is an expired
- * card, 4000 0000 0000 0127 fails the CVC check. Any other Luhn-valid number is approved; a number
- * failing the Luhn check (ISO/IEC 7812-1 check digit) is refused as incorrect.
+ * card, 4000 0000 0000 0127 fails the CVC check, 5555 5555 5555 4444 (behind pm_card_mastercard)
+ * succeeds. Only these are accepted: any other number that passes the Luhn check is refused with
+ * card_declined before a payment method or a charge exists, so a real card typed by mistake is
+ * never approved nor recorded. A number failing the Luhn check (ISO/IEC 7812-1 check digit) is
+ * refused as incorrect.
+ *
+ * The fake keeps no card numbers: a payment method holds brand and last 4 digits, which identify
+ * its test card (see testCardNumber), as Stripe's own objects do.
  */
+
+export interface TestCard {
+  number: string;
+  brand: string;
+  /** what happens when it is used, as shown on the checkout page */
+  outcome: string;
+}
+
+export const TEST_CARDS: readonly TestCard[] = [
+  { number: "4242424242424242", brand: "visa", outcome: "approved" },
+  { number: "5555555555554444", brand: "mastercard", outcome: "approved" },
+  { number: "4000000000000002", brand: "visa", outcome: "declined" },
+  { number: "4000000000009995", brand: "visa", outcome: "declined, insufficient funds" },
+  { number: "4000000000000069", brand: "visa", outcome: "declined, expired card" },
+  { number: "4000000000000127", brand: "visa", outcome: "declined, incorrect CVC" },
+];
+
+/** The refusal of a number that is not one of TEST_CARDS. */
+export const NOT_A_TEST_CARD = {
+  code: "card_declined",
+  message: "Your card was declined. This is a test checkout. Use one of the test cards listed on this page.",
+} as const;
+
+/** The full test-card number behind a stored brand + last 4, or undefined. */
+export function testCardNumber(brand: string, last4: string): string | undefined {
+  return TEST_CARDS.find((c) => c.brand === brand && c.number.endsWith(last4))?.number;
+}
+
+/** "4242 4242 4242 4242" */
+export function groupedCardNumber(digits: string): string {
+  return digits.replace(/(\d{4})(?=\d)/g, "$1 ");
+}
 
 export type CardOutcome =
   | { ok: true }
@@ -89,6 +127,10 @@ export function evaluateCard(card: CardInput, nowSeconds: number): CardOutcome {
   const cvcLength = cardBrand(digits) === "amex" ? 4 : 3;
   if (!new RegExp(`^\\d{${cvcLength}}$`).test(card.cvc)) {
     return { ok: false, code: "invalid_cvc", message: "Your card's security code is invalid.", declined: false };
+  }
+  if (!TEST_CARDS.some((c) => c.number === digits)) {
+    // Refused before the "issuer": no payment method, no charge, nothing of the number is kept.
+    return { ok: false, ...NOT_A_TEST_CARD, declined: false };
   }
   const decline = DECLINES[digits];
   if (decline) return { ok: false, ...decline, declined: true };

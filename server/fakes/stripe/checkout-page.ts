@@ -2,6 +2,7 @@
  * The fake's hosted checkout page: a deliberately plain test page (no product styling), so nobody
  * mistakes it for a real payment form.
  */
+import { groupedCardNumber, TEST_CARDS } from "./cards";
 import type { CheckoutSessionObject, LineItemObject } from "./types";
 
 export function escapeHtml(value: string): string {
@@ -39,6 +40,7 @@ const STYLE = `
   .error { background: #fde2e0; border: 1px solid #b3261e; color: #7a1610; padding: .5rem .75rem; margin-top: 1rem; }
   .hint { font-size: .8rem; color: #555; margin-top: 1.25rem; }
   .hint code { background: #eee; padding: 0 .2rem; }
+  .hint ul { padding-left: 1.1rem; margin: .25rem 0; }
   a { color: #1d4ed8; }
 `;
 
@@ -119,9 +121,11 @@ ${session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Return to
 </form>
 ${error}
 ${session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Cancel and return to the site</a></p>` : ""}
-<div class="hint">
-  <p>Test cards: <code>4242 4242 4242 4242</code> is approved; <code>4000 0000 0000 0002</code> is declined;
-  <code>4000 0000 0000 9995</code> is declined for insufficient funds. Use any future expiry date and any 3-digit CVC.</p>
+<div class="hint" id="test-cards">
+  <p>Only these test cards are accepted (any other number is declined). Use any future expiry date and any 3-digit CVC.</p>
+  <ul>
+${TEST_CARDS.map((c) => `    <li><code>${groupedCardNumber(c.number)}</code> ${escapeHtml(c.brand)}: ${escapeHtml(c.outcome)}</li>`).join("\n")}
+  </ul>
 </div>`,
   );
 }

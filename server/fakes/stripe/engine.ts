@@ -17,7 +17,7 @@
  *   funds pending for a while unless a transfer names its `source_transaction`).
  */
 import { createHash, randomBytes } from "node:crypto";
-import { cardBrand, evaluateCard, normaliseCardNumber, TEST_PAYMENT_METHOD_TOKENS, type CardInput } from "./cards";
+import { cardBrand, evaluateCard, normaliseCardNumber, TEST_PAYMENT_METHOD_TOKENS, testCardNumber, type CardInput } from "./cards";
 import {
   arr,
   bool,
@@ -724,7 +724,7 @@ export class FakeStripeEngine {
       const pm = this.resolvePaymentMethod(pmParam, pi.customer);
       pi.payment_method = pm.id;
       pi.status = "requires_confirmation";
-      pmNumber = this.state.paymentMethodNumbers[pm.id];
+      pmNumber = this.cardNumberOf(pm);
     }
     this.emit("payment_intent.created", pi, ctx);
     if (bool(params, "confirm")) {
@@ -791,7 +791,9 @@ export class FakeStripeEngine {
     }
     const receipt = str(params, "receipt_email");
     if (receipt) pi.receipt_email = receipt;
-    this.confirmWithNumber(pi, this.state.paymentMethodNumbers[pi.payment_method], ctx);
+    const number = this.cardNumberOf(this.state.paymentMethods[pi.payment_method]);
+    if (!number) throw unexpectedState("This PaymentMethod is not one of the test cards the local fake accepts; attach a test card (docs.stripe.com/testing).");
+    this.confirmWithNumber(pi, number, ctx);
     return pi;
   }
 
@@ -823,21 +825,30 @@ export class FakeStripeEngine {
     return this.newPaymentMethod({ number, expMonth: 12, expYear: year, cvc: "123" }, customer, null);
   }
 
+  /** The test card behind a stored payment method (only brand and last 4 are kept), or null. */
+  private cardNumberOf(pm: PaymentMethodObject | undefined): string | null {
+    return pm ? (testCardNumber(pm.card.brand, pm.card.last4) ?? null) : null;
+  }
+
+  /** A payment method keeps brand, last 4 and expiry of the card; never the number. */
   private newPaymentMethod(card: CardInput, customer: string | null, email: string | null): PaymentMethodObject {
     const digits = normaliseCardNumber(card.number);
+    const brand = cardBrand(digits);
+    const last4 = digits.slice(-4);
     const pm: PaymentMethodObject = {
       id: randomId("pm_"),
       object: "payment_method",
       billing_details: { address: null, email, name: null, phone: null },
       card: {
-        brand: cardBrand(digits),
+        brand,
         checks: { address_line1_check: null, address_postal_code_check: null, cvc_check: "pass" },
         country: "US",
         exp_month: card.expMonth,
         exp_year: card.expYear < 100 ? 2000 + card.expYear : card.expYear,
-        fingerprint: createHash("sha256").update(digits).digest("base64url").slice(0, 16),
+        // stable per test card, derived from what is kept (Stripe's fingerprint identifies a card number)
+        fingerprint: createHash("sha256").update(`${brand}:${last4}`).digest("base64url").slice(0, 16),
         funding: "credit",
-        last4: digits.slice(-4),
+        last4,
       },
       created: this.now(),
       customer,
@@ -846,7 +857,6 @@ export class FakeStripeEngine {
       type: "card",
     };
     this.state.paymentMethods[pm.id] = pm;
-    this.state.paymentMethodNumbers[pm.id] = digits;
     return pm;
   }
 
@@ -862,9 +872,8 @@ export class FakeStripeEngine {
   ): { ok: true } | { ok: false; error: StripeErrorBody; paymentMethod?: PaymentMethodObject } {
     const now = this.now();
     const outcome = evaluateCard(card, now);
-    const pm = pi.payment_method && this.state.paymentMethodNumbers[pi.payment_method] === normaliseCardNumber(card.number)
-      ? this.state.paymentMethods[pi.payment_method]
-      : this.newPaymentMethod(card, pi.customer, email);
+    const attached = pi.payment_method ? this.state.paymentMethods[pi.payment_method] : undefined;
+    const pm = attached && this.cardNumberOf(attached) === normaliseCardNumber(card.number) ? attached : this.newPaymentMethod(card, pi.customer, email);
     if (!outcome.ok && !outcome.declined) {
       const error: StripeErrorBody = {
         type: "card_error",

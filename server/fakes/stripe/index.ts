@@ -22,7 +22,7 @@
  *   POST /_test/clock/advance            JSON { seconds } → { now }
  *   GET  /_test/events                   → { data: events (oldest first) }
  */
-import { randomBytes } from "node:crypto";
+import { randomBytes, timingSafeEqual } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from "node:fs";
 import { createServer, type IncomingMessage, type ServerResponse } from "node:http";
 import type { AddressInfo } from "node:net";
@@ -123,8 +123,11 @@ function readBody(req: IncomingMessage): Promise<string> {
 function loadState(file: string | undefined): FakeStripeState {
   if (!file || !existsSync(file)) return emptyState();
   try {
-    const parsed = JSON.parse(readFileSync(file, "utf8")) as FakeStripeState;
+    const parsed = JSON.parse(readFileSync(file, "utf8")) as FakeStripeState & { paymentMethodNumbers?: unknown };
     if (parsed.version !== 1) return emptyState();
+    // Files written by earlier versions held full card numbers; they are not read back (and the
+    // next save leaves them out).
+    delete parsed.paymentMethodNumbers;
     return { ...emptyState(), ...parsed };
   } catch {
     return emptyState();
@@ -139,6 +142,13 @@ function saveState(file: string, state: FakeStripeState): void {
 }
 
 type Handler = (ctx: RequestContext, params: FormObject, m: RegExpExecArray) => unknown;
+
+/** Compares an API key with the configured one in constant time (the lengths are compared first). */
+export function sameKey(given: string, expected: string): boolean {
+  const a = Buffer.from(given, "utf8");
+  const b = Buffer.from(expected, "utf8");
+  return a.length === b.length && timingSafeEqual(a, b);
+}
 
 export async function startFakeStripe(options: FakeStripeOptions): Promise<FakeStripe> {
   if (!options.webhookSecret) throw new Error("startFakeStripe: webhookSecret is required");
@@ -230,7 +240,7 @@ export async function startFakeStripe(options: FakeStripeOptions): Promise<FakeS
       });
     }
     const masked = `${key.slice(0, 8)}${"*".repeat(Math.max(0, key.length - 12))}${key.slice(-4)}`;
-    const acceptable = options.secretKey ? key === options.secretKey : /^(sk|rk)_test_\S+$/.test(key);
+    const acceptable = options.secretKey ? sameKey(key, options.secretKey) : /^(sk|rk)_test_\S+$/.test(key);
     if (!acceptable) {
       throw new FakeStripeError(401, {
         type: "invalid_request_error",

@@ -297,8 +297,6 @@ export interface FakeStripeState {
   intentSession: Record<string, string>;
   charges: Record<string, ChargeObject>;
   paymentMethods: Record<string, PaymentMethodObject>;
-  /** Full card numbers of stored payment methods (never returned by the API). */
-  paymentMethodNumbers: Record<string, string>;
   refunds: Record<string, RefundObject>;
   transfers: Record<string, TransferObject>;
   accounts: Record<string, AccountObject>;
@@ -320,7 +318,6 @@ export function emptyState(): FakeStripeState {
     intentSession: {},
     charges: {},
     paymentMethods: {},
-    paymentMethodNumbers: {},
     refunds: {},
     transfers: {},
     accounts: {},
