@@ -418,6 +418,25 @@ describe("the handshake and the session", () => {
     }
   });
 
+  it("a new upload by the tech reaches the expert in the room as case:updated (entity trace), its analysis stored", async () => {
+    const c = newCase();
+    const exp = await joined(expert, c.caseId);
+    const got: { entity: string; id: string }[] = [];
+    exp.s.on("case:updated", (u) => got.push(u));
+    // 2000 samples at 100 kS/s: one 8 V spike then a 1.5 V line (invented data, only its arrival matters)
+    const lines = ["Time (s),Channel A (V)"];
+    for (let i = 0; i < 2000; i++) lines.push(`${(i / 100_000).toFixed(6)},${i >= 500 && i < 502 ? 8 : i >= 502 && i < 650 ? 1.5 : 0}`);
+    const up = await techA
+      .post(`/api/cases/${c.caseId}/traces`)
+      .field("settings", JSON.stringify({ kind: "secondary-ignition", voltsPerDiv: 2, timePerDivS: 0.002, cylinder: 4 }))
+      .attach("file", Buffer.from(lines.join("\n") + "\n"), "cyl4-again.csv");
+    expect(up.status).toBe(201);
+    await until(() => got.some((u) => u.entity === "trace" && u.id === up.body.id), 3000, "case:updated for the trace");
+    const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()!;
+    expect(row.caseId).toBe(c.caseId);
+    expect(row.analysis).not.toBeNull(); // analysed before the commit that the event follows
+  });
+
   it("pushes messages from other services to the case room (ctx.realtime.toCase)", async () => {
     const c = newCase();
     const tech = await joined(techA, c.caseId);
