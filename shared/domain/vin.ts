@@ -6,7 +6,7 @@
  */
 
 export interface VinIssue {
-  /** machine-readable reason, e.g. "length", "character", "year-character", "check-digit" */
+  /** machine-readable reason, e.g. "length", "character", "check-digit-character", "year-character", "check-digit" */
   code: string;
   message: string;
   /** 1-based position in the VIN, when the issue concerns one character */
@@ -21,7 +21,7 @@ export interface VinValidation {
   vin: string;
   /** malformed: the VIN cannot be used */
   errors: VinIssue[];
-  /** well-formed but doubtful (wrong check digit): the technician may override */
+  /** well-formed but doubtful (wrong check digit; no year code outside North America): the technician may override */
   warnings: VinIssue[];
 }
 
@@ -159,9 +159,13 @@ export function vinModelYear(vin: string, options: DecodeVinOptions = {}): numbe
 
 /**
  * Structural check and check digit. Errors (the VIN cannot be used): length other than 17,
- * I/O/Q or any character outside A–Z/0–9, an invalid model-year character in position 10.
- * Warning (overridable, some imports don't use it): the check digit of position 9 is not the
- * one §565.15 calls for — code "check-digit", with `expected`.
+ * I/O/Q or any character outside A–Z/0–9, a letter other than X in position 9 (§565.15: the check
+ * digit is 0–9 or X; code "check-digit-character"), and for a North American WMI (first
+ * character 1–5) U, Z or 0 in position 10 (not a model-year code; code "year-character").
+ * Warnings (overridable): the check digit of position 9 is not the one §565.15 calls for — code
+ * "check-digit", with `expected` (some imports don't use it); U, Z or 0 in position 10 of a VIN
+ * from outside North America — code "year-character" (such VINs need not carry a year code, from
+ * memory).
  */
 export function validateVin(input: string): VinValidation {
   const vin = normalizeVin(input);
@@ -200,14 +204,34 @@ export function validateVin(input: string): VinValidation {
     });
   }
 
+  if (vin.length >= 9) {
+    const c = vin[8];
+    if (VIN_ALLOWED.test(c) && !(c === "X" || (c >= "0" && c <= "9"))) {
+      errors.push({
+        code: "check-digit-character",
+        position: 9,
+        message: `Position 9 is the check digit, a digit 0–9 or X; "${c}" cannot stand there.`,
+      });
+    }
+  }
+
   if (vin.length >= 10) {
     const y = vin[9];
     if (VIN_ALLOWED.test(y) && YEAR_BY_CODE[y] === undefined) {
-      errors.push({
-        code: "year-character",
-        position: 10,
-        message: `Position 10 is the model year; "${y}" is not a model-year code (U, Z and 0 are never used).`,
-      });
+      if (vinRegion(vin[0]) === "North America") {
+        errors.push({
+          code: "year-character",
+          position: 10,
+          message: `Position 10 is the model year; "${y}" is not a model-year code (U, Z and 0 are never used).`,
+        });
+      } else {
+        // From memory: vehicles built for markets outside North America need not carry a year code.
+        warnings.push({
+          code: "year-character",
+          position: 10,
+          message: `Position 10 is "${y}", which is not a model-year code (U, Z and 0 are never used), so the VIN gives no model year. Vehicles built for markets outside North America may not carry one; check the VIN for a typo, or keep it if it matches the vehicle.`,
+        });
+      }
     }
   }
 

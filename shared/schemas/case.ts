@@ -5,15 +5,17 @@
  * - Text is trimmed. Optional text may be "" (empty = nothing written).
  * - Optional numbers and choices accept "", null or NaN (an empty form field) and give null,
  *   so that a patch can clear them: a key left out means "unchanged", null means "cleared".
- * - The VIN is normalized and checked structurally only (length, characters, model-year code).
- *   A wrong check digit is a warning the technician may override (vinCheckOverride); it is NOT a
- *   schema error — see validateVin in shared/domain/vin.ts for the warning itself.
+ * - The VIN is normalized and checked structurally only (length, characters, the check-digit
+ *   character, the model-year code of a North American VIN). A wrong check digit, a missing year
+ *   code outside North America and a VIN year that differs from the year field are warnings the
+ *   technician may override (vinCheckOverride); they are NOT schema errors — see validateVin in
+ *   shared/domain/vin.ts and vehicleVinWarnings below.
  * - Trouble codes are normalized ("p0304" → "P0304"), checked against SAE J2012 and deduplicated.
  */
 import { z } from "zod";
 import { caseStatuses, systems } from "../domain/case-status";
 import { normalizeDtc, validateDtc } from "../domain/dtc";
-import { normalizeVin, validateVin } from "../domain/vin";
+import { decodeVin, normalizeVin, validateVin } from "../domain/vin";
 
 // ---------------------------------------------------------------------------------------------
 // Choices (with labels for the form)
@@ -199,7 +201,7 @@ const symptomsField = uniqueList(symptoms, "Choose symptoms from the checklist."
 
 const fields = {
   vin: vinField,
-  vinCheckOverride: z.boolean({ error: "Choose whether to keep a VIN whose check digit does not match." }),
+  vinCheckOverride: z.boolean({ error: "Choose whether to keep a VIN despite its warnings (e.g. a check digit that does not match)." }),
   year: wholeNumber("Year", LIMITS.yearMin, LIMITS.yearMax, `Enter a model year between ${LIMITS.yearMin} and ${LIMITS.yearMax}.`),
   make: text("Make", LIMITS.make),
   model: text("Model", LIMITS.model),
@@ -350,10 +352,31 @@ export type CaseListQueryInput = z.input<typeof caseListQuerySchema>;
 export type CaseListQuery = z.output<typeof caseListQuerySchema>;
 
 /**
- * The VIN warnings to show (or to record) for a parsed vehicle: the check-digit warning unless
- * the technician overrode it. Empty when there is no VIN.
+ * The VIN warnings to show (or to record) for a parsed vehicle, unless the technician overrode
+ * them (vinCheckOverride): those of validateVin ("check-digit", "year-character") and
+ * "year-mismatch" when the model year the VIN decodes to (position 10, the cycle chosen by
+ * position 7 — 49 CFR 565.15) differs from the year field. Empty when there is no VIN or the VIN is
+ * malformed (that is a schema error, not a warning). Pass `year` for the year check.
  */
-export function vehicleVinWarnings(vehicle: { vin?: string | null; vinCheckOverride?: boolean }): { code: string; message: string; expected?: string }[] {
+export function vehicleVinWarnings(vehicle: {
+  vin?: string | null;
+  vinCheckOverride?: boolean;
+  year?: number | null;
+}): { code: string; message: string; expected?: string }[] {
   if (!vehicle.vin || vehicle.vinCheckOverride) return [];
-  return validateVin(vehicle.vin).warnings.map(({ code, message, expected }) => ({ code, message, expected }));
+  const check = validateVin(vehicle.vin);
+  if (!check.ok) return [];
+  const out: { code: string; message: string; expected?: string }[] = check.warnings.map(({ code, message, expected }) => ({ code, message, expected }));
+  const year = vehicle.year;
+  if (typeof year === "number" && Number.isInteger(year)) {
+    const vinYear = decodeVin(check.vin).modelYear;
+    if (vinYear !== null && vinYear !== year) {
+      out.push({
+        code: "year-mismatch",
+        message: `The VIN gives model year ${vinYear} (position 10), but the year entered is ${year}. Check both; the model year can differ from the year the vehicle was built or sold.`,
+        expected: String(vinYear),
+      });
+    }
+  }
+  return out;
 }

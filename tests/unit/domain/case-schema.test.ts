@@ -10,8 +10,11 @@ import {
   vehicleVinWarnings,
 } from "../../../shared/schemas/case";
 
-// Field rules follow issue 3's case form; VIN and code rules are those of 49 CFR 565 and SAE J2012
-// (checked in vin.test.ts and dtc.test.ts). Makes and models here are invented names.
+// Field rules follow issue 3's case form ("Product rule (issue 3)" below: the fields, required vs
+// optional, draft at any point, PATCH while draft, the list's filters and paging); the limits
+// (text lengths, 30 codes, years 1950–2050, page size) are the project's own choice in
+// shared/schemas/case.ts LIMITS ("project rule" below). VIN and code rules are those of 49 CFR 565
+// and SAE J2012 (checked in vin.test.ts and dtc.test.ts). Makes and models here are invented names.
 
 function issuesOf(schema: z.ZodType, value: unknown): { path: string; message: string }[] {
   const r = schema.safeParse(value);
@@ -47,6 +50,7 @@ const goodCase = {
 
 describe("caseCreateSchema", () => {
   it("accepts a complete case and keeps its values", () => {
+    // Product rule (issue 3): vehicle, complaint, codes, system, symptoms, conditions, tests done, parts, notes.
     const r = caseCreateSchema.parse(goodCase);
     expect(r.vehicle).toEqual({ ...goodCase.vehicle, vinCheckOverride: false });
     expect(r.codes).toEqual(["P0304", "P0171"]);
@@ -54,6 +58,8 @@ describe("caseCreateSchema", () => {
   });
 
   it("fills defaults for a minimal case", () => {
+    // Product rule (issue 3: "required where the product needs it, sensible defaults otherwise");
+    // the default values themselves (mi, any temperature/load, no override) are the project's choice.
     const r = caseCreateSchema.parse({
       vehicle: { make: "Korrin", model: "Vale" },
       complaint: "No start",
@@ -73,6 +79,8 @@ describe("caseCreateSchema", () => {
   });
 
   it("normalizes, validates and deduplicates trouble codes (SAE J2012 form)", () => {
+    // Source: SAE J2012 form (trade reference) — P4300 has 4 after the letter, X123 no system letter;
+    // normalizing case/dashes and deduplicating: common practice, no source.
     const r = caseCreateSchema.parse({ ...goodCase, codes: ["p0304", " P0304", "p-0171", "U0100"] });
     expect(r.codes).toEqual(["P0304", "P0171", "U0100"]);
     // one text box: comma/space separated
@@ -84,6 +92,7 @@ describe("caseCreateSchema", () => {
   });
 
   it("allows up to 30 distinct codes (after deduplication)", () => {
+    // Project rule (LIMITS.codes = 30).
     const codes = (n: number) => Array.from({ length: n }, (_, i) => `P1${String(i).padStart(3, "0")}`);
     expect(caseCreateSchema.parse({ ...goodCase, codes: codes(30) }).codes).toHaveLength(30);
     expect(caseCreateSchema.parse({ ...goodCase, codes: [...codes(30), ...codes(30)] }).codes).toHaveLength(30);
@@ -92,6 +101,8 @@ describe("caseCreateSchema", () => {
   });
 
   it("refuses missing required fields with friendly messages at their paths", () => {
+    // Product rule (issue 3): make, model, complaint and system are needed to open a case; the
+    // messages are the product's wording.
     const issues = issuesOf(caseCreateSchema, { vehicle: { make: " ", model: "" }, complaint: "" });
     expect(issues).toEqual([
       { path: "vehicle.make", message: "Enter the make." },
@@ -103,6 +114,7 @@ describe("caseCreateSchema", () => {
   });
 
   it("refuses over-long text", () => {
+    // Project rule (LIMITS: complaint, tests done and notes 4000 characters, parts replaced 2000).
     expect(pathsOf(caseCreateSchema, { ...goodCase, complaint: "x".repeat(4001) })).toEqual(["complaint"]);
     expect(caseCreateSchema.parse({ ...goodCase, complaint: "x".repeat(4000) }).complaint).toHaveLength(4000);
     expect(pathsOf(caseCreateSchema, { ...goodCase, testsDone: "x".repeat(4001) })).toEqual(["testsDone"]);
@@ -111,6 +123,8 @@ describe("caseCreateSchema", () => {
   });
 
   it("refuses unknown choices and keys", () => {
+    // Product rule (issue 3): system, symptoms and conditions (cold/hot, idle/cruise/load,
+    // intermittent or constant) come from fixed lists; a case's status is not set by the form.
     expect(pathsOf(caseCreateSchema, { ...goodCase, system: "brakes" })).toEqual(["system"]);
     expect(pathsOf(caseCreateSchema, { ...goodCase, symptoms: ["misfire", "squeal"] })).toEqual(["symptoms.1"]);
     expect(pathsOf(caseCreateSchema, { ...goodCase, conditions: { temperature: "warm" } })).toEqual(["conditions.temperature"]);
@@ -126,11 +140,13 @@ describe("vehicleSchema", () => {
   const base = { make: "Astaro", model: "Lune" };
 
   it("normalizes the VIN", () => {
+    // Common practice, no source: VINs are written with spaces/dashes and in lower case; "" = no VIN.
     expect(vehicleSchema.parse({ ...base, vin: " 1m8gdm9a-xkp 042788" }).vin).toBe("1M8GDM9AXKP042788");
     expect(vehicleSchema.parse({ ...base, vin: "" }).vin).toBe("");
   });
 
   it("refuses a malformed VIN at vehicle.vin, naming the position (49 CFR 565.13)", () => {
+    // Source: 49 CFR 565.13 (O never used), 565.15 (17 characters; U never a year code) — trade reference.
     const issues = issuesOf(caseCreateSchema, { ...goodCase, vehicle: { ...goodCase.vehicle, vin: "1M8GDM9AXKP04278O" } });
     expect(issues.map((i) => i.path)).toEqual(["vehicle.vin"]);
     expect(issues[0].message).toMatch(/Position 17/);
@@ -150,7 +166,43 @@ describe("vehicleSchema", () => {
     expect(vehicleVinWarnings(vehicleSchema.parse({ ...base, vin: "5GZCZ43D13S812715" }))).toEqual([]);
   });
 
+  it("warns (never refuses) when the VIN's model year differs from the year field", () => {
+    // Source: 49 CFR 565.15 Table II and 565.15(b) (trade reference): 1M8GDM9AXKP042788 has K in
+    // position 10 and numeric position 7 → 1989; 1J9RP1A36A1644345 has A and alphabetic position 7 → 2010.
+    const v = vehicleSchema.parse({ ...base, vin: "1M8GDM9AXKP042788", year: 2019 });
+    expect(v.year).toBe(2019); // not a schema error
+    expect(vehicleVinWarnings(v)).toEqual([
+      {
+        code: "year-mismatch",
+        expected: "1989",
+        message: "The VIN gives model year 1989 (position 10), but the year entered is 2019. Check both; the model year can differ from the year the vehicle was built or sold.",
+      },
+    ]);
+    expect(vehicleVinWarnings(vehicleSchema.parse({ ...base, vin: "1M8GDM9AXKP042788", year: 1989 }))).toEqual([]);
+    expect(vehicleVinWarnings({ vin: "1J9RP1A36A1644345", year: 2009 }).map((w) => w.code)).toEqual(["year-mismatch"]);
+    expect(vehicleVinWarnings({ vin: "1J9RP1A36A1644345", year: 2010 })).toEqual([]);
+    // no year entered, or no VIN: nothing to compare (product rule, issue 3: year stays editable)
+    expect(vehicleVinWarnings({ vin: "1M8GDM9AXKP042788", year: null })).toEqual([]);
+    expect(vehicleVinWarnings({ vin: "", year: 2019 })).toEqual([]);
+    // the technician may override VIN warnings (product rule, issue 3)
+    expect(vehicleVinWarnings({ vin: "1M8GDM9AXKP042788", year: 2019, vinCheckOverride: true })).toEqual([]);
+    // with a wrong check digit too (SGZCZ43D13S812715 needs X, trade reference; '3' in position 10 → 2003,
+    // position 7 '3' numeric): both warnings
+    expect(vehicleVinWarnings({ vin: "SGZCZ43D13S812715", year: 2004 }).map((w) => w.code)).toEqual(["check-digit", "year-mismatch"]);
+  });
+
+  it("a VIN from outside North America without a year code is a warning, not a schema error", () => {
+    // From memory: such VINs need not carry a model-year code in position 10 (U here); the error
+    // stays for North American WMIs (49 CFR 565.15 Table II), see the malformed-VIN test above.
+    const vin = "WM8GDM9A2UP042788"; // check digit 2 by 49 CFR 565.15 (weighted sum 409, 409 mod 11 = 2)
+    const v = vehicleSchema.parse({ ...base, vin, year: 2019 });
+    expect(v.vin).toBe(vin);
+    expect(vehicleVinWarnings(v).map((w) => w.code)).toEqual(["year-character"]);
+    expect(vehicleVinWarnings({ ...v, vinCheckOverride: true })).toEqual([]);
+  });
+
   it("year: whole number 1950–2050, blank clears it", () => {
+    // Project rule (LIMITS.yearMin/yearMax; blank clears an optional field, shared/schemas/case.ts).
     expect(vehicleSchema.parse({ ...base, year: 1950 }).year).toBe(1950);
     expect(vehicleSchema.parse({ ...base, year: "2050" }).year).toBe(2050);
     expect(vehicleSchema.parse({ ...base, year: "" }).year).toBeNull();
@@ -162,6 +214,7 @@ describe("vehicleSchema", () => {
   });
 
   it("mileage: whole number ≥ 0 with unit km or mi", () => {
+    // Product rule (issue 3: mileage); whole numbers in km or mi: project rule.
     expect(vehicleSchema.parse({ ...base, mileage: 0, mileageUnit: "km" })).toMatchObject({ mileage: 0, mileageUnit: "km" });
     expect(vehicleSchema.parse({ ...base, mileage: "98765" }).mileage).toBe(98765);
     expect(pathsOf(vehicleSchema, { ...base, mileage: -1 })).toEqual(["mileage"]);
@@ -170,6 +223,7 @@ describe("vehicleSchema", () => {
   });
 
   it("fuel and transmission come from their lists; blank clears them", () => {
+    // Product rule (issue 3: fuel, transmission); the lists themselves are the project's choice.
     for (const fuel of ["gasoline", "diesel", "hybrid", "flex", "lpg-cng", "other"]) {
       expect(vehicleSchema.parse({ ...base, fuel }).fuel).toBe(fuel);
     }
@@ -183,18 +237,22 @@ describe("vehicleSchema", () => {
 
 describe("caseDraftSchema and casePatchSchema", () => {
   it("a draft may be saved at any point", () => {
+    // Product rule (issue 3: "Saved as a draft at any point").
     expect(caseDraftSchema.parse({})).toEqual({});
     expect(caseDraftSchema.parse({ vehicle: {} })).toEqual({ vehicle: {} });
     expect(caseDraftSchema.parse({ complaint: "", vehicle: { make: "" } })).toEqual({ complaint: "", vehicle: { make: "" } });
   });
 
   it("applies no defaults (a patch must not overwrite what it does not mention)", () => {
+    // Product rule (issue 3: PATCH /api/cases/:id, editable while draft); no defaults: project rule.
     expect(casePatchSchema.parse({ notes: "called customer" })).toEqual({ notes: "called customer" });
     expect(casePatchSchema.parse({ conditions: { temperature: "hot" } })).toEqual({ conditions: { temperature: "hot" } });
     expect(casePatchSchema.parse({ vehicle: { year: "" } })).toEqual({ vehicle: { year: null } });
   });
 
   it("values that are present must be well formed", () => {
+    // Product rule (issue 3): a malformed VIN is an error (49 CFR 565.13: no I); code form SAE J2012;
+    // year range and text limits: project rule.
     expect(pathsOf(caseDraftSchema, { vehicle: { vin: "1M8GDM9AXKP04278I" } })).toEqual(["vehicle.vin"]);
     expect(pathsOf(caseDraftSchema, { vehicle: { year: 1900 } })).toEqual(["vehicle.year"]);
     expect(pathsOf(caseDraftSchema, { codes: ["P0301", "P03"] })).toEqual(["codes.1"]);
@@ -208,10 +266,12 @@ describe("caseDraftSchema and casePatchSchema", () => {
 
 describe("caseListQuerySchema", () => {
   it("defaults page 1 and page size 20", () => {
+    // Product rule (issue 3: the case list is paginated); page size 20: project rule.
     expect(caseListQuerySchema.parse({})).toEqual({ page: 1, pageSize: 20 });
   });
 
   it("coerces query strings", () => {
+    // Product rule (issue 3: GET /api/cases?status=&q=&page=); the last of repeated keys: project rule.
     expect(
       caseListQuerySchema.parse({ status: "draft", q: "  misfire ", page: "3", pageSize: "50", sort: "updatedAt", dir: "asc" }),
     ).toEqual({ status: "draft", q: "misfire", page: 3, pageSize: 50, sort: "updatedAt", dir: "asc" });
@@ -220,6 +280,7 @@ describe("caseListQuerySchema", () => {
   });
 
   it("refuses bad values with their field paths", () => {
+    // Project rule (LIMITS.pageSizeMax = 100; pages from 1; fixed status, sort and direction lists).
     expect(pathsOf(caseListQuerySchema, { page: "0" })).toEqual(["page"]);
     expect(pathsOf(caseListQuerySchema, { page: "abc" })).toEqual(["page"]);
     expect(pathsOf(caseListQuerySchema, { page: "1.5" })).toEqual(["page"]);

@@ -124,13 +124,53 @@ describe("VIN refusals — 49 CFR 565.13 and 565.15", () => {
     }
   });
 
-  it.each(["U", "Z", "0"])("model-year code %s in position 10 is refused", (c) => {
+  it("a letter other than X in position 9 is an error, not an overridable warning", () => {
+    // Source: 49 CFR 565.15 (trade reference) — position 9 is the check digit, 0–9 or X.
+    // 1M8GDM9ABKP042788 is the worked example 1M8GDM9AXKP042788 with B in place of X.
+    const v = validateVin("1M8GDM9ABKP042788");
+    expect(v.ok).toBe(false);
+    expect(v.errors).toEqual([expect.objectContaining({ code: "check-digit-character", position: 9 })]);
+    expect(v.errors[0].message).toBe('Position 9 is the check digit, a digit 0–9 or X; "B" cannot stand there.');
+    expect(v.warnings).toEqual([]);
+    expect(() => decodeVin("1M8GDM9ABKP042788")).toThrow(/Position 9/);
+    expect(() => vinModelPart("1M8GDM9ABKP042788")).toThrow(RangeError);
+    // every allowed letter but X (49 CFR 565.13 character set, 565.15 check digit)
+    for (const c of "ABCDEFGHJKLMNPRSTUVWYZ") {
+      expect(validateVin(at("1M8GDM9AXKP042788", 9, c)).errors.map((e) => e.code), c).toEqual(["check-digit-character"]);
+    }
+    // X and the digits are allowed there; a wrong digit is only the overridable check-digit warning
+    expect(validateVin("1M8GDM9AXKP042788").ok).toBe(true);
+    const wrongDigit = validateVin("1M8GDM9A1KP042788");
+    expect(wrongDigit).toMatchObject({ ok: true, errors: [] });
+    expect(wrongDigit.warnings.map((w) => w.code)).toEqual(["check-digit"]);
+  });
+
+  it.each(["U", "Z", "0"])("model-year code %s in position 10 is refused for a North American WMI", (c) => {
     // Source: 49 CFR 565.15 Table II (trade reference) — never I O Q U Z 0 in position 10.
     const vin = withCheckDigit(at("1M8GDM9AXKP042788", 10, c));
     const v = validateVin(vin);
     expect(v.ok).toBe(false);
     expect(v.errors).toEqual([expect.objectContaining({ code: "year-character", position: 10 })]);
     expect(v.errors[0].message).toContain("Position 10");
+    // first characters 1–5 are North America (ISO 3779 region table, from memory): all refused
+    for (const first of ["1", "2", "3", "4", "5"]) {
+      expect(validateVin(withCheckDigit(at(vin, 1, first))).errors.map((e) => e.code), first).toEqual(["year-character"]);
+    }
+  });
+
+  it.each(["U", "Z", "0"])("model-year code %s in position 10 outside North America is an overridable warning", (c) => {
+    // From memory: VINs of vehicles built for markets outside North America need not carry a
+    // model-year code in position 10; the rule of 49 CFR 565.15 Table II applies to North America.
+    for (const first of ["W", "S", "J", "K", "9", "6", "A"]) {
+      const vin = withCheckDigit(at(at("1M8GDM9AXKP042788", 1, first), 10, c));
+      const v = validateVin(vin);
+      expect(v.ok, vin).toBe(true);
+      expect(v.errors).toEqual([]);
+      expect(v.warnings).toEqual([expect.objectContaining({ code: "year-character", position: 10 })]);
+      expect(v.warnings[0].message).toContain(`"${c}"`);
+      // no model year can be read from it
+      expect(decodeVin(vin)).toMatchObject({ modelYear: null, modelYearCandidates: [] });
+    }
   });
 
   it("U, Z and 0 are allowed outside position 10", () => {
