@@ -14,7 +14,10 @@ const SYSTEM_BY_LETTER: Readonly<Record<string, DtcSystem>> = {
   U: "network",
 };
 
-/** Subsystem groups of generic powertrain codes (third character of P0/P2 codes). */
+/**
+ * Subsystem groups of generic powertrain codes: the third character of P0 codes (SAE J2012 as
+ * given in the trade reference, which defines the groups for P0 only; P2 codes get no group).
+ */
 export const dtcGroups = [
   "fuel-air",
   "ignition-misfire",
@@ -51,7 +54,7 @@ export interface ParsedDtc {
   system: DtcSystem;
   /** true for SAE-defined (generic/standard) codes, false for manufacturer-specific ones */
   generic: boolean;
-  /** for P0 and P2 codes: the subsystem named by the third character */
+  /** for P0 codes only: the subsystem named by the third character */
   group?: DtcGroup;
   /** P0301–P0312: the cylinder the misfire code names */
   misfireCylinder?: number;
@@ -120,7 +123,8 @@ export function isDtc(code: string): boolean {
 /**
  * Generic (SAE-defined) or manufacturer-specific, from the second (and for P3 the third)
  * character, per SAE J2012: P0, P2 generic; P1 manufacturer; P30–P33 manufacturer, P34–P39
- * generic; B/C/U: 0 generic, 1–2 manufacturer, 3 reserved by J2012 (counted as generic).
+ * generic; B/C/U: 0 generic, 1–2 manufacturer. B3/C3/U3 are counted as generic — from memory
+ * (SAE J2012 reserves the 3 range for standard codes); the trade reference does not list them.
  * P3A–P3F are outside the reference's table and counted as generic (SAE-reserved), an assumption.
  */
 export function isGenericDtc(code: string): boolean {
@@ -134,11 +138,13 @@ export function isGenericDtc(code: string): boolean {
     const d3 = c[2];
     return !(d3 >= "0" && d3 <= "3");
   }
+  // B3/C3/U3: from memory (SAE J2012 reserves the 3 range for standard codes)
   return d2 === "0" || d2 === "3";
 }
 
 function groupOf(c: string): DtcGroup | undefined {
-  if (c[0] !== "P" || (c[1] !== "0" && c[1] !== "2")) return undefined;
+  // the reference defines the groups for P0 codes only
+  if (c[0] !== "P" || c[1] !== "0") return undefined;
   const d3 = c[2];
   if (d3 >= "0" && d3 <= "2") return "fuel-air";
   if (d3 === "3") return "ignition-misfire";
@@ -147,7 +153,7 @@ function groupOf(c: string): DtcGroup | undefined {
   if (d3 === "6") return "computer-outputs";
   if (d3 >= "7" && d3 <= "9") return "transmission";
   // P0A–P0C: hybrid propulsion (from memory; not in the trade reference's table)
-  if (c[1] === "0" && d3 >= "A" && d3 <= "C") return "hybrid-propulsion";
+  if (d3 >= "A" && d3 <= "C") return "hybrid-propulsion";
   return undefined;
 }
 
