@@ -73,14 +73,18 @@ export function formatCents(cents: number, currency = "USD", locale = "en-US"): 
 }
 
 /**
- * Parse a decimal amount typed by a person ("12", "12.5", "1,234.56") into cents.
- * Returns null for anything else (more than two decimals, letters, empty).
+ * Parse a decimal amount typed by a person into cents: "12", "12.5", "$1,234.56", "-3.10",
+ * "1,000,000". A comma is accepted only as a thousands separator between groups of three digits
+ * ("1,234"); anything else with a comma ("12,50", "1,2,3", ",123") is ambiguous or malformed and
+ * refused, as are more than two decimals, letters, spaces inside the number and empty input.
+ * Returns null when refused.
  */
 export function parseCents(text: string): number | null {
-  const t = String(text ?? "").trim().replace(/[,\s]/g, "").replace(/^\$/, "");
-  const m = /^(-)?(\d+)(?:\.(\d{1,2}))?$/.exec(t);
+  const t = String(text ?? "").trim();
+  const m = /^(-)?\s*\$?\s*([1-9]\d{0,2}(?:,\d{3})+|\d+)(?:\.(\d{1,2}))?$/.exec(t) ?? /^\$\s*(-)\s*([1-9]\d{0,2}(?:,\d{3})+|\d+)(?:\.(\d{1,2}))?$/.exec(t);
   if (!m) return null;
-  const cents = Number(m[2]) * 100 + Number((m[3] ?? "").padEnd(2, "0"));
-  if (!Number.isSafeInteger(cents)) return null;
+  const units = Number(m[2].replace(/,/g, ""));
+  const cents = units * 100 + Number((m[3] ?? "").padEnd(2, "0"));
+  if (!Number.isSafeInteger(units) || !Number.isSafeInteger(cents)) return null;
   return m[1] ? -cents : cents;
 }

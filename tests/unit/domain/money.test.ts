@@ -35,14 +35,18 @@ describe("splitCents", () => {
   });
 
   it("guards against non-integers and out-of-range shares", () => {
+    // Project rule (shared/domain/money.ts): amounts are whole cents (safe integers, ECMA-262
+    // Number.isSafeInteger: |x| ≤ 2^53 − 1), shares are basis points 0–10000 (1 bp = 0.01 %, definition).
     expect(() => splitCents(10.5, 2000)).toThrow(TypeError);
     expect(() => splitCents(Number.NaN, 2000)).toThrow(TypeError);
     expect(() => splitCents(-1, 2000)).toThrow(RangeError);
     expect(() => splitCents(1000, 20.5)).toThrow(RangeError);
     expect(() => splitCents(1000, 10001)).toThrow(RangeError);
     expect(() => splitCents(1000, -1)).toThrow(RangeError);
+    // 2^53 is the first integer above Number.MAX_SAFE_INTEGER (ECMA-262)
     expect(() => assertCents(2 ** 53)).toThrow(TypeError);
     expect(() => sumCents([1, 2.5])).toThrow(TypeError);
+    // arithmetic: 100 + 250 − 50 = 300
     expect(sumCents([100, 250, -50])).toBe(300);
   });
 });
@@ -65,6 +69,7 @@ describe("formatCents", () => {
   });
 
   it("refuses non-integers", () => {
+    // Project rule (shared/domain/money.ts): amounts are whole cents; 12.5 cents and Infinity are not.
     expect(() => formatCents(12.5)).toThrow(TypeError);
     expect(() => formatCents(Number.POSITIVE_INFINITY)).toThrow(TypeError);
   });
@@ -78,6 +83,31 @@ describe("parseCents", () => {
     expect(parseCents("12.5")).toBe(1250);
     expect(parseCents("$1,234.56")).toBe(123456);
     expect(parseCents("-3.10")).toBe(-310);
+    // Project rule: at most two decimals, no exponent, digits on both sides of the point.
     for (const bad of ["", "abc", "1.234", "1e3", "12.", ".5"]) expect(parseCents(bad), bad).toBeNull();
+  });
+
+  it("accepts a comma only as a thousands separator in groups of three", () => {
+    // Reference: ECMA-402 Intl.NumberFormat (CLDR en-US) groups thousands with commas in threes —
+    // the amounts below are formatted by Intl, not typed in.
+    const enUS = (x: number) => new Intl.NumberFormat("en-US", { minimumFractionDigits: 2 }).format(x);
+    expect(enUS(1234.56)).toBe("1,234.56");
+    expect(parseCents(enUS(1234.56))).toBe(123456);
+    expect(parseCents(enUS(1_000_000))).toBe(100_000_000); // "1,000,000.00"
+    expect(parseCents(enUS(987_654_321.09))).toBe(98_765_432_109);
+    expect(parseCents("1,000")).toBe(100_000);
+    expect(parseCents("$12,345")).toBe(1_234_500);
+  });
+
+  it("refuses commas that are not thousands groups (ambiguous or malformed)", () => {
+    // "12,50" is twelve and a half with a decimal comma (ISO 80000-1 §7.3.2) but 1250 if the comma
+    // were dropped: refused rather than guessed (project rule: never a factor of 100 off).
+    // "1,2,3", ",123", "1,23", "1,234,5": not groups of three after the first (CLDR en-US grouping).
+    for (const bad of ["12,50", "1,2,3", ",123", "1,23", "1,234,5", "1,,234", "01,234", "1,234.567"]) {
+      expect(parseCents(bad), bad).toBeNull();
+    }
+    // spaces inside the number are not read as grouping either ("1 2" is not 12)
+    expect(parseCents("1 2")).toBeNull();
+    expect(parseCents("  12.50 ")).toBe(1250);
   });
 });

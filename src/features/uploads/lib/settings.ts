@@ -162,7 +162,32 @@ export function withKind(d: SettingsDraft, kind: TraceKind): SettingsDraft {
   return { ...d, kind, probe, mvPerAmp };
 }
 
-const optNum = (s: string) => (s.trim() === "" ? undefined : Number(s.trim().replace(",", ".")));
+/**
+ * A number typed into a settings field: "" → undefined (not given); decimal point or decimal comma
+ * ("0.5", "0,5"); thousands commas in groups of three when unambiguous ("1,000,000", "1,000.5");
+ * an optional exponent ("1e6"). "1,000" alone is refused with a hint: it reads as one thousand
+ * with a thousands comma and as 1.000 with a decimal comma. Hexadecimal and other non-decimal
+ * forms that Number() would take ("0x10") are refused.
+ */
+export function parseNumberInput(raw: string): { ok: true; value: number | undefined } | { ok: false; message: string } {
+  const s = raw.trim();
+  if (s === "") return { ok: true, value: undefined };
+  const notNumber = { ok: false as const, message: "Enter a number." };
+  let text: string;
+  if (/^[-+]?[1-9]\d{0,2},\d{3}$/.test(s)) {
+    const [whole, frac] = s.replace(/^[-+]/, "").split(",");
+    return { ok: false, message: `“${s}” could be ${whole}${frac} or ${whole}.${frac}: write it without the comma (${whole}${frac}) or with a decimal point (${whole}.${frac}).` };
+  } else if (/^[-+]?[1-9]\d{0,2}(,\d{3})+(\.\d+)?$/.test(s)) {
+    text = s.replace(/,/g, ""); // thousands commas: "1,000,000", "1,000.5"
+  } else if (/^[-+]?\d*,\d+([eE][-+]?\d+)?$/.test(s)) {
+    text = s.replace(",", "."); // decimal comma: "0,5", "12,50", "1,5e3"
+  } else {
+    text = s;
+  }
+  if (!/^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/.test(text)) return notNumber;
+  const value = Number(text);
+  return Number.isFinite(value) ? { ok: true, value } : notNumber;
+}
 
 export type SettingsErrors = Partial<Record<SettingsField | "form", string>>;
 
@@ -174,9 +199,13 @@ export function toCaptureSettings(d: SettingsDraft, needsRate: boolean): { ok: t
   const errors: SettingsErrors = {};
   const numbers: Partial<Record<SettingsField, number | undefined>> = {};
   const read = (field: SettingsField, raw: string, scale = 1) => {
-    const v = optNum(raw);
-    if (v !== undefined && !Number.isFinite(v)) errors[field] = "Enter a number.";
-    numbers[field] = v === undefined ? undefined : v * scale;
+    const r = parseNumberInput(raw);
+    if (!r.ok) {
+      errors[field] = r.message;
+      numbers[field] = undefined;
+      return;
+    }
+    numbers[field] = r.value === undefined ? undefined : r.value * scale;
   };
   read("kvPerVolt", d.probe === "capacitive-secondary" ? d.kvPerVolt : "");
   read("mvPerAmp", d.probe === "current-clamp" ? d.mvPerAmp : "");
