@@ -41,7 +41,7 @@ export const temperatureLabels: Record<string, string> = { cold: "Cold engine", 
 export const loadLabels: Record<string, string> = { idle: "Idle", cruise: "Cruise", load: "Under load", any: "Any load" };
 export const occurrenceLabels: Record<string, string> = { intermittent: "Intermittent", constant: "Constant" };
 
-/** "2019 Veltra Corsa" from whatever parts are known. */
+/** "2019 Veltra Sorrel" (invented make and model) from whatever parts are known. */
 export function vehicleTitle(v: { year?: number | null; make?: string | null; model?: string | null } | null | undefined): string {
   const parts = [v?.year, v?.make, v?.model].filter((x) => x !== null && x !== undefined && String(x).trim() !== "");
   return parts.length ? parts.join(" ") : "Vehicle not entered yet";
