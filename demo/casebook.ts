@@ -9,6 +9,10 @@ import type { VehicleSystem } from "../shared/domain/case-status";
 import { createRng } from "../tests/helpers/prng";
 import { DEMO_MAKES } from "./people";
 import { DEMO_MODELS } from "./vehicles";
+import { insertCasebookEntries, type CasebookEntryInput } from "../server/services/casebook";
+import { symptomLabels, type Symptom } from "../shared/schemas/case";
+import { schema } from "../server/db/client";
+import { count } from "drizzle-orm";
 
 export interface DemoCasebookEntry {
   make: string;
@@ -334,11 +338,33 @@ export function demoCasebookEntries(n = 200, seed = 2718): DemoCasebookEntry[] {
   return out;
 }
 
+/** An entry as the casebook's bulk insert takes it (the text is already free of names). */
+export function toCasebookInput(e: DemoCasebookEntry, expertId: string | null, now: Date): CasebookEntryInput {
+  return {
+    expertId,
+    vehicle: { year: e.year, make: e.make, model: e.model, engine: e.engine, fuel: /hybrid/.test(e.engine) ? "hybrid" : "gasoline" },
+    complaint: e.complaint,
+    symptoms: e.symptoms.map((x) => symptomLabels[x as Symptom] ?? x),
+    codes: e.codes,
+    system: e.system,
+    diagnosis: e.diagnosis,
+    rootCause: e.rootCause,
+    fix: e.fix,
+    testsToConfirm: e.testsToConfirm,
+    rating: e.rating,
+    confirmed: true,
+    publishedAt: new Date(now.getTime() - e.resolvedDaysAgo * 86_400_000),
+  };
+}
+
 /**
- * Puts the entries into the casebook. Returns how many the casebook holds afterwards (the demo's
- * own resolved cases are published by the app itself when their fix is confirmed).
+ * Puts the demo entries into the casebook with its bulk insert (server/services/casebook.ts).
+ * Returns how many entries the casebook holds afterwards: these plus the demo's own resolved
+ * cases, which the app published itself when their fix was confirmed.
  */
-export async function seedCasebook(_ctx: AppContext, _users: Record<string, CreatedUser>): Promise<number> {
-  // The casebook service is not there yet; nothing to insert into.
-  return 0;
+export async function seedCasebook(ctx: AppContext, users: Record<string, CreatedUser>): Promise<number> {
+  const now = ctx.now();
+  const inputs = demoCasebookEntries().map((e) => toCasebookInput(e, users[e.expert]?.id ?? null, now));
+  insertCasebookEntries(ctx.db, inputs, { now });
+  return ctx.db.select({ n: count() }).from(schema.casebookEntry).get()?.n ?? 0;
 }

@@ -156,6 +156,23 @@ describe("the demo scenario", () => {
     expect(b.authorizedCents).toBe(b.capturedCents + b.releasedCents + b.heldCents);
   });
 
+  it("fills the casebook with about 200 entries across makes and systems, the demo's resolved cases among them", async () => {
+    const entries = server.ctx.db.select().from(schema.casebookEntry).all();
+    const published = entries.filter((e) => e.caseId).map((e) => e.caseId);
+    expect(published.sort()).toEqual([result.cases["resolved-reluctor"], result.cases["resolved-fouled"]].sort());
+    expect(entries.length).toBe(result.casebookEntries);
+    expect(entries.length).toBeGreaterThanOrEqual(200);
+    expect(new Set(entries.map((e) => e.make))).toEqual(new Set(["Veltra", "Korrin", "Astaro", "Meridane", "Tovak"]));
+    expect(new Set(entries.map((e) => e.system)).size).toBeGreaterThanOrEqual(6);
+    // found through the app's search by a code of the resolved demo case
+    const tech = await signIn(server, { email: "tech@burnline.test", password: DEMO_PASSWORD });
+    const res = await tech.get("/api/casebook/search?code=P0335");
+    expect(res.status, JSON.stringify(res.body)).toBe(200);
+    const expected = entries.filter((e) => !e.hidden && (e.codeList as string[]).includes("P0335")).length;
+    expect(res.body.total).toBe(expected);
+    expect(expected).toBeGreaterThan(1);
+  });
+
   it("lets the four demo accounts sign in with the demo password", async () => {
     const roles: Record<string, string> = {
       "tech@burnline.test": "technician",
