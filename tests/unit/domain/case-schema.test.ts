@@ -79,7 +79,7 @@ describe("caseCreateSchema", () => {
   });
 
   it("normalizes, validates and deduplicates trouble codes (SAE J2012 form)", () => {
-    // Source: SAE J2012 form (trade reference) — P4300 has 4 after the letter, X123 no system letter;
+    // Source: SAE J2012 form (docs/trade-reference.md) — P4300 has 4 after the letter, X123 no system letter;
     // normalizing case/dashes and deduplicating: common practice, no source.
     const r = caseCreateSchema.parse({ ...goodCase, codes: ["p0304", " P0304", "p-0171", "U0100"] });
     expect(r.codes).toEqual(["P0304", "P0171", "U0100"]);
@@ -146,7 +146,7 @@ describe("vehicleSchema", () => {
   });
 
   it("refuses a malformed VIN at vehicle.vin, naming the position (49 CFR 565.13)", () => {
-    // Source: 49 CFR 565.13 (O never used), 565.15 (17 characters; U never a year code) — trade reference.
+    // Source: 49 CFR 565.13 (O never used), 565.15 (17 characters; U never a year code) — docs/trade-reference.md.
     const issues = issuesOf(caseCreateSchema, { ...goodCase, vehicle: { ...goodCase.vehicle, vin: "1M8GDM9AXKP04278O" } });
     expect(issues.map((i) => i.path)).toEqual(["vehicle.vin"]);
     expect(issues[0].message).toMatch(/Position 17/);
@@ -155,19 +155,19 @@ describe("vehicleSchema", () => {
   });
 
   it("a wrong check digit is not a schema error; it is a warning the tech may override", () => {
-    // Source: trade reference — SGZCZ43D13S812715 would need check digit X (49 CFR 565.15).
+    // Source: docs/trade-reference.md — SGZCZ43D13S812715 would need check digit X (49 CFR 565.15).
     const v = vehicleSchema.parse({ ...base, vin: "SGZCZ43D13S812715" });
     expect(v.vin).toBe("SGZCZ43D13S812715");
     expect(vehicleVinWarnings(v)).toEqual([expect.objectContaining({ code: "check-digit", expected: "X" })]);
     const overridden = vehicleSchema.parse({ ...base, vin: "SGZCZ43D13S812715", vinCheckOverride: true });
     expect(overridden.vinCheckOverride).toBe(true);
     expect(vehicleVinWarnings(overridden)).toEqual([]);
-    // Source: 5GZCZ43D13S812715 is valid (trade reference) — no warning.
+    // Source: 5GZCZ43D13S812715 is valid (docs/trade-reference.md) — no warning.
     expect(vehicleVinWarnings(vehicleSchema.parse({ ...base, vin: "5GZCZ43D13S812715" }))).toEqual([]);
   });
 
   it("warns (never refuses) when the VIN's model year differs from the year field", () => {
-    // Source: 49 CFR 565.15 Table II and 565.15(b) (trade reference): 1M8GDM9AXKP042788 has K in
+    // Source: 49 CFR 565.15 Table II and 565.15(b) (docs/trade-reference.md): 1M8GDM9AXKP042788 has K in
     // position 10 and numeric position 7 → 1989; 1J9RP1A36A1644345 has A and alphabetic position 7 → 2010.
     const v = vehicleSchema.parse({ ...base, vin: "1M8GDM9AXKP042788", year: 2019 });
     expect(v.year).toBe(2019); // not a schema error
@@ -186,7 +186,7 @@ describe("vehicleSchema", () => {
     expect(vehicleVinWarnings({ vin: "", year: 2019 })).toEqual([]);
     // the technician may override VIN warnings (product rule, issue 3)
     expect(vehicleVinWarnings({ vin: "1M8GDM9AXKP042788", year: 2019, vinCheckOverride: true })).toEqual([]);
-    // with a wrong check digit too (SGZCZ43D13S812715 needs X, trade reference; '3' in position 10 → 2003,
+    // with a wrong check digit too (SGZCZ43D13S812715 needs X, docs/trade-reference.md; '3' in position 10 → 2003,
     // position 7 '3' numeric): both warnings
     expect(vehicleVinWarnings({ vin: "SGZCZ43D13S812715", year: 2004 }).map((w) => w.code)).toEqual(["check-digit", "year-mismatch"]);
   });

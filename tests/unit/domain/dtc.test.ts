@@ -21,7 +21,7 @@ function parsed(code: string): ParsedDtc {
 
 describe("DTC form — SAE J2012 / ISO 15031-6", () => {
   it("first letter names the system", () => {
-    // Source: SAE J2012 (trade reference) — P powertrain, C chassis, B body, U network.
+    // Source: SAE J2012 (docs/trade-reference.md) — P powertrain, C chassis, B body, U network.
     expect(parsed("P0300").system).toBe("powertrain");
     expect(parsed("C0123").system).toBe("chassis");
     expect(parsed("B0001").system).toBe("body");
@@ -46,7 +46,7 @@ describe("DTC form — SAE J2012 / ISO 15031-6", () => {
     ["B/C/U 1–2", "manufacturer", ["B1000", "B2999", "C1234", "C2000", "U1000", "U2FFF"]],
     ["B/C/U 3", "generic", ["B3000", "C3000", "U3000"]],
   ] as const)("%s codes are %s", (_label, kind, codes) => {
-    // Source: SAE J2012 (trade reference) — P0/P2 generic, P1 manufacturer, P30–33 manufacturer,
+    // Source: SAE J2012 (docs/trade-reference.md) — P0/P2 generic, P1 manufacturer, P30–33 manufacturer,
     // P34–39 generic; B/C/U: 0 generic, 1–2 manufacturer.
     // B/C/U 3: from memory (SAE J2012 reserves the 3 range for standard codes) — the trade
     // reference does not list it; counted as generic.
@@ -57,7 +57,7 @@ describe("DTC form — SAE J2012 / ISO 15031-6", () => {
   });
 
   it("third character of P0 codes names the subsystem", () => {
-    // Source: SAE J2012 (trade reference) — 0–2 fuel/air, 3 ignition/misfire, 4 emissions,
+    // Source: SAE J2012 (docs/trade-reference.md) — 0–2 fuel/air, 3 ignition/misfire, 4 emissions,
     // 5 idle and speed, 6 computer/outputs, 7–9 transmission.
     expect(parsed("P0000").group).toBe("fuel-air");
     expect(parsed("P0100").group).toBe("fuel-air");
@@ -69,7 +69,7 @@ describe("DTC form — SAE J2012 / ISO 15031-6", () => {
     expect(parsed("P0700").group).toBe("transmission");
     expect(parsed("P0800").group).toBe("transmission");
     expect(parsed("P0900").group).toBe("transmission");
-    // Source: the trade reference defines these groups for P0 codes only, so P2 codes (generic, SAE
+    // Source: docs/trade-reference.md defines these groups for P0 codes only, so P2 codes (generic, SAE
     // J2012) get no group — even P23xx, which are ignition coil codes (from memory).
     expect(parsed("P2300").group).toBeUndefined();
     expect(parsed("P2096").group).toBeUndefined();
@@ -81,7 +81,7 @@ describe("DTC form — SAE J2012 / ISO 15031-6", () => {
   });
 
   it("last characters may be hexadecimal", () => {
-    // Source: SAE J2012 (trade reference) — last two characters hexadecimal; the two-byte form
+    // Source: SAE J2012 (docs/trade-reference.md) — last two characters hexadecimal; the two-byte form
     // also gives the third character four bits (from memory).
     expect(validateDtc("P00AF").ok).toBe(true);
     expect(validateDtc("U0FFF").ok).toBe(true);
@@ -102,7 +102,7 @@ describe("DTC refusals", () => {
     ["P03Z0", "character", '"P03Z0": the last three characters must be digits 0–9 or letters A–F.'],
     ["P03.0", "character", '"P03.0": the last three characters must be digits 0–9 or letters A–F.'],
   ])("%j is refused (%s)", (code, reason, message) => {
-    // Source: SAE J2012 (trade reference) — P/C/B/U, then 0–3, then three hexadecimal characters.
+    // Source: SAE J2012 (docs/trade-reference.md) — P/C/B/U, then 0–3, then three hexadecimal characters.
     // The messages are the product's wording (project rule: a refusal says what to type).
     const v = validateDtc(code);
     expect(v).toEqual({ ok: false, code, error: { code: reason, message } });
@@ -114,7 +114,7 @@ describe("DTC refusals", () => {
 
 describe("Misfire and coil codes", () => {
   it("P0300 is random/multiple misfire and names no cylinder", () => {
-    // Source: public generic code lists (trade reference, from memory).
+    // Source: public generic code lists (docs/trade-reference.md, from memory).
     const p = parsed("P0300");
     expect(p.misfireCylinder).toBeUndefined();
     expect(p.description).toMatch(/random/i);
@@ -122,7 +122,7 @@ describe("Misfire and coil codes", () => {
   });
 
   it.each(Array.from({ length: 12 }, (_, i) => i + 1))("P03%s names cylinder %i", (cyl) => {
-    // Source: public generic code lists (trade reference, from memory) — P0301–P0312 misfire in cylinder 1–12.
+    // Source: public generic code lists (docs/trade-reference.md, from memory) — P0301–P0312 misfire in cylinder 1–12.
     const code = `P03${String(cyl).padStart(2, "0")}`;
     expect(misfireCode(cyl)).toBe(code);
     const p = parsed(code);
@@ -140,7 +140,7 @@ describe("Misfire and coil codes", () => {
   });
 
   it("P0350 and P0351–P0362 are coil circuits A–L; the letter-to-cylinder mapping is the maker's", () => {
-    // Source: public generic code lists (trade reference, from memory).
+    // Source: public generic code lists (docs/trade-reference.md, from memory).
     expect(parsed("P0350").description).toMatch(/coil/i);
     const letters = "ABCDEFGHIJKL";
     for (let i = 0; i < 12; i++) {
@@ -156,7 +156,7 @@ describe("Misfire and coil codes", () => {
 
 describe("Bundled descriptions", () => {
   it("lean/rich and catalyst codes name their bank", () => {
-    // Source: public generic code lists (trade reference, from memory) — P0171/P0174 lean bank 1/2;
+    // Source: public generic code lists (docs/trade-reference.md, from memory) — P0171/P0174 lean bank 1/2;
     // P0420 catalyst efficiency below threshold bank 1. P0172/P0175 rich and P0430 bank 2, from memory.
     expect(parsed("P0171").description).toMatch(/lean.*bank 1/i);
     expect(parsed("P0174").description).toMatch(/lean.*bank 2/i);
@@ -234,7 +234,7 @@ describe("Two-byte form (service 03), from memory", () => {
     [0xc1, 0x00, "U0100"],
     [0x41, 0x23, "C0123"],
   ])("%d %d → %s", (a, b, code) => {
-    // From memory (trade reference): bits 7–6 of byte A give the letter (00 P, 01 C, 10 B, 11 U).
+    // From memory (docs/trade-reference.md): bits 7–6 of byte A give the letter (00 P, 01 C, 10 B, 11 U).
     expect(decodeDtcBytes(a, b)).toBe(code);
     expect(encodeDtcBytes(code)).toEqual([a, b]);
   });
@@ -247,7 +247,7 @@ describe("Two-byte form (service 03), from memory", () => {
   });
 
   it("every byte pair decodes to a well-formed code and back", () => {
-    // Literal pairs first — from memory (trade reference): bits 7–6 of byte A give the letter
+    // Literal pairs first — from memory (docs/trade-reference.md): bits 7–6 of byte A give the letter
     // (00 P, 01 C, 10 B, 11 U); 03 00 → P0300, 01 71 → P0171, 04 20 → P0420, C1 00 → U0100, 41 23 → C0123.
     expect(decodeDtcBytes(0x03, 0x00)).toBe("P0300");
     expect(decodeDtcBytes(0x01, 0x71)).toBe("P0171");

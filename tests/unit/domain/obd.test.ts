@@ -16,7 +16,7 @@ describe("SAE J1979 service 01 PIDs", () => {
     [0xff, 0xff, 16383.75],
     [0x00, 0x00, 0],
   ])("PID 0C engine speed %d %d → %d rpm", (a, b, rpm) => {
-    // Source: SAE J1979 as tabulated publicly (trade reference) — rpm = (256·A + B)/4.
+    // Source: SAE J1979 as tabulated publicly (docs/trade-reference.md) — rpm = (256·A + B)/4.
     expect(engineRpm(a, b)).toBe(rpm);
     expect(decodePid(0x0c, [a, b])).toEqual({ pid: 0x0c, name: "Engine speed", unit: "rpm", value: rpm });
   });
@@ -26,7 +26,7 @@ describe("SAE J1979 service 01 PIDs", () => {
     [0x7b, 83],
     [0xff, 215],
   ])("PID 05 coolant %d → %d °C", (a, t) => {
-    // Source: SAE J1979 as tabulated publicly (trade reference) — A − 40 °C (FF → 215 follows from the formula).
+    // Source: SAE J1979 as tabulated publicly (docs/trade-reference.md) — A − 40 °C (FF → 215 follows from the formula).
     expect(coolantTempC(a)).toBe(t);
     expect(decodePid(0x05, [a]).value).toBe(t);
   });

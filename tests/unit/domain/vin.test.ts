@@ -23,35 +23,35 @@ function at(vin: string, position: number, c: string): string {
 
 describe("VIN check digit — 49 CFR 565.15, Tables IV and V", () => {
   it("1M8GDM9AXKP042788 → X, weighted sum 351", () => {
-    // Source: the worked example in Wikipedia's VIN article (trade reference).
+    // Source: the worked example in Wikipedia's VIN article (docs/trade-reference.md).
     expect(vinWeightedSum("1M8GDM9AXKP042788")).toBe(351);
     expect(vinCheckDigit("1M8GDM9AXKP042788")).toBe("X");
     expect(validateVin("1M8GDM9AXKP042788")).toEqual({ ok: true, vin: "1M8GDM9AXKP042788", errors: [], warnings: [] });
   });
 
   it("1G4AH59H?5G118341 → 4, weighted sum 411", () => {
-    // Source: the regulation's older sample table (49 CFR 565), via the trade reference. '?' marks the unknown digit.
+    // Source: the regulation's older sample table (49 CFR 565), via docs/trade-reference.md. '?' marks the unknown digit.
     expect(vinWeightedSum("1G4AH59H?5G118341")).toBe(411);
     expect(vinCheckDigit("1G4AH59H?5G118341")).toBe("4");
     expect(validateVin("1G4AH59H45G118341").warnings).toEqual([]);
   });
 
   it("1J9RP1A36A1644345 → 6, weighted sum 314", () => {
-    // Source: a government guide for new manufacturers (trade reference).
+    // Source: a government guide for new manufacturers (docs/trade-reference.md).
     expect(vinWeightedSum("1J9RP1A36A1644345")).toBe(314);
     expect(vinCheckDigit("1J9RP1A36A1644345")).toBe("6");
     expect(validateVin("1J9RP1A36A1644345").ok).toBe(true);
   });
 
   it("11111111111111111 → 1", () => {
-    // Source: trade reference (the all-ones VIN is its own check: sum of weights 89, 89 mod 11 = 1).
+    // Source: docs/trade-reference.md (the all-ones VIN is its own check: sum of weights 89, 89 mod 11 = 1).
     expect(vinWeightedSum("11111111111111111")).toBe(89);
     expect(vinCheckDigit("11111111111111111")).toBe("1");
     expect(validateVin("11111111111111111").warnings).toEqual([]);
   });
 
   it("5GZCZ43D13S812715 → 1; the variant starting with S would need X", () => {
-    // Source: trade reference (the S-variant is a widely copied invalid example).
+    // Source: docs/trade-reference.md (the S-variant is a widely copied invalid example).
     expect(vinCheckDigit("5GZCZ43D13S812715")).toBe("1");
     expect(validateVin("5GZCZ43D13S812715").warnings).toEqual([]);
     expect(vinCheckDigit("SGZCZ43D13S812715")).toBe("X");
@@ -125,7 +125,7 @@ describe("VIN refusals — 49 CFR 565.13 and 565.15", () => {
   });
 
   it("a letter other than X in position 9 is an error, not an overridable warning", () => {
-    // Source: 49 CFR 565.15 (trade reference) — position 9 is the check digit, 0–9 or X.
+    // Source: 49 CFR 565.15 (docs/trade-reference.md) — position 9 is the check digit, 0–9 or X.
     // 1M8GDM9ABKP042788 is the worked example 1M8GDM9AXKP042788 with B in place of X.
     const v = validateVin("1M8GDM9ABKP042788");
     expect(v.ok).toBe(false);
@@ -146,7 +146,7 @@ describe("VIN refusals — 49 CFR 565.13 and 565.15", () => {
   });
 
   it.each(["U", "Z", "0"])("model-year code %s in position 10 is refused for a North American WMI", (c) => {
-    // Source: 49 CFR 565.15 Table II (trade reference) — never I O Q U Z 0 in position 10.
+    // Source: 49 CFR 565.15 Table II (docs/trade-reference.md) — never I O Q U Z 0 in position 10.
     const vin = withCheckDigit(at("1M8GDM9AXKP042788", 10, c));
     const v = validateVin(vin);
     expect(v.ok).toBe(false);
@@ -187,7 +187,7 @@ describe("VIN refusals — 49 CFR 565.13 and 565.15", () => {
 });
 
 describe("VIN model year — position 10, 30-year cycle chosen by position 7 (49 CFR 565.15(b))", () => {
-  // Source: trade reference, 49 CFR 565.15 Table II: A=1980/2010 … H=1987/2017, J=1988/2018,
+  // Source: docs/trade-reference.md, 49 CFR 565.15 Table II: A=1980/2010 … H=1987/2017, J=1988/2018,
   // P=1993/2023, R=1994/2024, Y=2000/2030, 1–9 = 2001–2009 / 2031–2039.
   const table: [string, number][] = [
     ["A", 1980], ["H", 1987], ["J", 1988], ["K", 1989], ["N", 1992], ["P", 1993], ["R", 1994],
@@ -207,7 +207,7 @@ describe("VIN model year — position 10, 30-year cycle chosen by position 7 (49
   });
 
   it("the worked examples decode to their years", () => {
-    // Source: trade reference examples; position 7 '9' (numeric) with K → 1989; 'A' (alphabetic) with A → 2010.
+    // Source: docs/trade-reference.md examples; position 7 '9' (numeric) with K → 1989; 'A' (alphabetic) with A → 2010.
     expect(decodeVin("1M8GDM9AXKP042788").modelYear).toBe(1989);
     expect(decodeVin("1J9RP1A36A1644345").modelYear).toBe(2010);
     expect(decodeVin("1G4AH59H45G118341").modelYear).toBe(2005);
@@ -234,7 +234,7 @@ describe("VIN regions — first character (ISO 3779 region table, from memory)",
     ["6", "Oceania"], ["7", "Oceania"],
     ["8", "South America"], ["9", "South America"],
   ])("%s → %s", (c, region) => {
-    // From memory: ISO 3779 region table, as given in the trade brief.
+    // From memory: ISO 3779 region table, as given in docs/trade-reference.md.
     expect(vinRegion(c)).toBe(region);
     const vin = withCheckDigit(at("1M8GDM9AXKP042788", 1, c));
     expect(decodeVin(vin).region).toBe(region);
@@ -267,7 +267,7 @@ describe("VIN sections — 49 CFR 565.15", () => {
   });
 
   it("position 3 = 9 marks a small manufacturer whose code continues in positions 12–14", () => {
-    // Source: 49 CFR 565.15(a) (trade reference); example VIN from a government guide for new manufacturers.
+    // Source: 49 CFR 565.15(a) (docs/trade-reference.md); example VIN from a government guide for new manufacturers.
     const d = decodeVin("1J9RP1A36A1644345");
     expect(d.smallManufacturer).toBe(true);
     expect(d.manufacturerCode).toBe("1J9644");
