@@ -3,6 +3,7 @@ import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import type { Actor } from "../auth/session";
 import { requireActor } from "../auth/session";
+import { assertCanViewCase } from "../auth/policies/queue";
 import { assertCanCreateCase, assertCanReadCase, assertCaseAction, caseListScope } from "../auth/policies/cases";
 import { parseBody, parseParams, parseQuery } from "../http/validate";
 import { caseDraftSchema, caseListQuerySchema, casePatchSchema } from "../../shared/schemas/case";
@@ -46,7 +47,7 @@ export function caseRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
     const row = getCaseRow(ctx.db, id);
-    assertCanReadCase(actor, row);
+    assertCanViewCase(ctx.db, actor, row);
     res.json(caseDetail(ctx, actor, row));
   });
 
@@ -73,7 +74,7 @@ export function caseRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
     const row = getCaseRow(ctx.db, id);
-    assertCanReadCase(actor, row);
+    assertCanViewCase(ctx.db, actor, row);
     res.json({ comparison: caseComparison(listTraces(ctx, row.id)) });
   });
 

@@ -4,6 +4,7 @@ import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
 import { assertCanReadCase, assertCaseAction } from "../auth/policies/cases";
+import { noteNewMaterial } from "../services/queue";
 import { badRequest } from "../http/errors";
 import { parseParams } from "../http/validate";
 import { idParamSchema } from "../../shared/schemas/traces";
@@ -32,6 +33,7 @@ export function photoRoutes(ctx: AppContext, auth: Auth): Router {
       const file = uploadedFile(req);
       if (!file) throw badRequest("file_missing", 'Attach the photo in the field "file".');
       const row = await addPhoto(ctx, actor, id, file as typeof file & { detected: ImageMime });
+      await noteNewMaterial(ctx, id, actor.id);
       res.status(201).json(presentPhoto(row));
     } finally {
       await discardUpload(req);

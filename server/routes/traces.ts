@@ -8,6 +8,8 @@ import { badRequest, tooLarge } from "../http/errors";
 import { parseParams, parseQuery, parseWith } from "../http/validate";
 import { idParamSchema, traceUploadFieldsSchema, traceWindowQuerySchema } from "../../shared/schemas/traces";
 import { getCaseRow } from "../services/cases";
+import { noteNewMaterial } from "../services/queue";
+import { assertCanViewCase } from "../auth/policies/queue";
 import { addTrace, deleteTrace, getTraceRow, originalFilePath, presentTrace, traceWindow, type TraceRow } from "../services/traces";
 import { storageLayout } from "../services/storage";
 import { singleFileUpload, sweepStaleUploads, uploadedFile } from "../uploads/multer";
@@ -54,6 +56,8 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
       if (!file) throw badRequest("file_missing", 'Attach the scope export (CSV or TSV) in the field "file".');
       const fields = parseWith(traceUploadFieldsSchema, req.body ?? {}, "upload fields");
       const row = await addTrace(ctx, actor, id, file, fields);
+      // A capture the expert asked for moves the case from needs_data back to the expert.
+      await noteNewMaterial(ctx, id, actor.id);
       res.status(201).json(presentTrace(row));
     } finally {
       await discardUpload(req);
@@ -63,7 +67,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/traces/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const t = loadReadable((c) => assertCanReadTrace(actor, c), id);
+    const t = loadReadable((c) => assertCanViewCase(ctx.db, actor, c, "Trace"), id);
     res.json(presentTrace(t));
   });
 
@@ -71,7 +75,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const q = parseQuery(traceWindowQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const t = loadReadable((c) => assertCanReadTrace(actor, c), id);
+    const t = loadReadable((c) => assertCanViewCase(ctx.db, actor, c, "Trace"), id);
     const w = await traceWindow(ctx, t, q);
     res.set("Cache-Control", "private, max-age=3600");
     res.json(w);

@@ -44,7 +44,7 @@ export function insertDraftCase(server: TestServer, o: DraftCaseOptions): string
       title: o.title ?? null,
       year: 2016,
       make: o.make === undefined ? "Veltra" : o.make,
-      model: "Sabre",
+      model: "Quillon",
       engine: "2.0 I4",
       complaint: o.complaint === undefined ? "Intermittent misfire on cylinder 3 under load" : o.complaint,
       codes: ["P0303"],

@@ -75,15 +75,24 @@ function generate(n: number, opts: { rateHz?: number; uneven?: boolean; seed?: n
   return { text: lines.join("\n") + "\n", values: [a, b], times: opts.uneven ? times : null };
 }
 
-/** The window by brute force over every sample, straight from the definition. */
+/**
+ * The window by brute force over every sample, straight from the definition in docs/api.md: bucket
+ * k spans [edge(k), edge(k+1)) with edge(k) = t0 + k·(t1 − t0)/width, edge(width) = t1, each edge
+ * moved earlier by a rounding allowance δ (so a sample lying on an edge, like 130 µs at 1 MS/s,
+ * belongs to the bucket that starts there). Membership is decided by comparison with the edges.
+ */
 function bruteWindow(g: Generated, tr: { t0: number; sampleRateHz: number }, t0: number, t1: number, width: number, names: string[]) {
   const span = t1 - t0;
+  const edge = (k: number) => (k >= width ? t1 : t0 + (k * span) / width);
+  const delta = (1e-9 * span) / width + 8 * Number.EPSILON * Math.max(Math.abs(t0), Math.abs(t1));
   const buckets = new Map<number, { min: number[]; max: number[] }>();
   const n = g.values[0].length;
   for (let i = 0; i < n; i++) {
     const ti = g.times ? g.times[i] : tr.t0 + i / tr.sampleRateHz;
-    const k = Math.floor(((ti - t0) / span) * width);
-    if (k < 0 || k >= width) continue;
+    if (ti < edge(0) - delta || ti >= edge(width) - delta) continue;
+    let k = Math.min(width - 1, Math.max(0, Math.floor(((ti - t0) / span) * width)));
+    while (k > 0 && ti < edge(k) - delta) k--;
+    while (k < width - 1 && ti >= edge(k + 1) - delta) k++;
     let bk = buckets.get(k);
     if (!bk) buckets.set(k, (bk = { min: g.values.map(() => Infinity), max: g.values.map(() => -Infinity) }));
     for (let c = 0; c < g.values.length; c++) {

@@ -47,6 +47,14 @@ export function canSeeCaseInQueueArea(actor: Actor, c: CaseForPolicy, profile: E
   return canReadCase(actor, c) || canExpertSeeQueuedCase(actor, c, profile);
 }
 
+/**
+ * Read access for the case page and its traces: everyone canReadCase allows, plus approved experts
+ * looking at a queued case before they claim it. Anyone else gets 404, as for a missing case.
+ */
+export function assertCanViewCase<C extends CaseForPolicy>(db: DbLike, actor: Actor, c: C | undefined | null, what = "Case"): asserts c is C {
+  if (!c || !canSeeCaseInQueueArea(actor, c, expertProfileOf(db, actor))) throw notFound(what);
+}
+
 const isAssignedExpert = (a: Actor, c: CaseForPolicy) => a.role === "expert" && c.expertId != null && c.expertId === a.id;
 
 export type QueueAction = "submit" | "withdraw" | "claim" | "release" | "requestData" | "dataSent" | "answer" | "confirm" | "refund";
