@@ -246,7 +246,13 @@ export class CasebookSearchEngine {
   private phraseCache = new Map<string, Bitmap>();
   private stmts: ReturnType<CasebookSearchEngine["prepare"]>;
 
-  constructor(private readonly db: Database.Database) {
+  private readonly rankWindow: number;
+
+  constructor(
+    private readonly db: Database.Database,
+    opts: { rankWindow?: number } = {},
+  ) {
+    this.rankWindow = opts.rankWindow ?? RANK_WINDOW;
     this.stmts = this.prepare();
   }
 
@@ -466,7 +472,7 @@ export class CasebookSearchEngine {
         rankMatch = contentMatch(phrases);
         const tagExpr = this.filterTagExpression(input, fYear ? [yFrom, yTo] : null);
         const fullMatch = tagExpr ? `${rankMatch} AND tags : (${tagExpr})` : rankMatch;
-        const ranked = (this.stmts.rank.all(fullMatch, RANK_WINDOW) as [number, number][]).filter(([d]) => result.has(d));
+        const ranked = (this.stmts.rank.all(fullMatch, this.rankWindow) as [number, number][]).filter(([d]) => result.has(d));
         ranked.sort((a, b) => a[1] - b[1] || b[0] - a[0]);
         ranking = { method: "bm25", candidates: ranked.length, exact: ranked.length >= total };
         const inRanked = new Set(ranked.map((r) => r[0]));

@@ -83,7 +83,10 @@ const COMMON_WORDS = new Set(
     "coil plug spark gap lead boot wire fuel air oil cam crank valve pump belt chain gear sensor idle load burn fire line " +
     "auto autos car cars motor motors motorworks garage garages repair repairs service services shop works workshop center " +
     "centre automotive diagnostics diagnostic tyre tyres tire tires engine engines mechanic mechanics bay lane road ltd llc " +
-    "inc co company group brothers bros sons family north south east west city town county"
+    "inc co company group brothers bros sons family north south east west city town county " +
+    "ignition electric electrical electrics injection tuning performance precision express quick fast pro master " +
+    "expert experts solutions clinic doctor tech technik werks mobile care point house hub spares parts battery " +
+    "batteries exhaust brakes brake clutch transmission body paint diesel petrol gas station"
   ).split(/\s+/),
 );
 
