@@ -28,6 +28,16 @@ const GAP_RATIO_MIN = 2.4;
 /** A tooth below this fraction of its neighbours' amplitude is flagged (common practice, no source). */
 const DAMAGED_AMPLITUDE = 0.6;
 
+/** Median of |T(k) − T(k−1)| / T(k) over consecutive periods, the gaps and their neighbours left out. */
+function irregularity(periods: number[], gapIdx: number[]): number {
+  const xs: number[] = [];
+  for (let k = 1; k < periods.length; k++) {
+    if (gapIdx.includes(k) || gapIdx.includes(k - 1)) continue;
+    xs.push(Math.abs(periods[k] - periods[k - 1]) / periods[k]);
+  }
+  return xs.length ? (median(xs) ?? 0) : 0;
+}
+
 /** One pass over the signal: tooth crossings, their amplitudes, periods and gaps (see analyzeCrank). */
 function detectTeeth(p: Prepared, centre: number, h: number, sc: number, dir: 1 | -1) {
   const { v, n } = p;
@@ -142,7 +152,12 @@ export function analyzeCrank(p: Prepared, ctx: CrankContext): CrankAnalysis {
   const fwd = detectTeeth(p, centre, h, sc, 1);
   const rev = fwd.score > 0.1 || fwd.gapIdx.length === 0 ? detectTeeth(p, centre, h, sc, -1) : null;
   const inverted = rev != null && (rev.score < fwd.score - 0.05 || (fwd.gapIdx.length === 0 && rev.gapIdx.length > 0));
-  const { teeth, amps, periods, gapIdx } = inverted && rev ? rev : fwd;
+  const picked = inverted && rev ? rev : fwd;
+  // a toothed wheel's periods change smoothly from one tooth to the next (even while the engine
+  // speeds up and slows down); crossings of noise do not
+  const regular = irregularity(picked.periods, picked.gapIdx) <= 0.15;
+  const none: { teeth: number[]; amps: number[]; periods: number[]; gapIdx: number[] } = { teeth: [], amps: [], periods: [], gapIdx: [] };
+  const { teeth, amps, periods, gapIdx } = regular ? picked : none;
   const events: CrankEvent[] = [];
 
   // tooth number of each crossing, counted from the gap (1 = first after it)
@@ -243,7 +258,7 @@ export function analyzeCrank(p: Prepared, ctx: CrankContext): CrankAnalysis {
     findings.push({
       code: "no-events",
       severity: "problem",
-      message: "No crank teeth found: the signal does not swing about its middle often enough.",
+      message: "No crank teeth found: the signal does not swing about its middle often enough, or not at a regular pace.",
       advice: withSafety(
         "Probe the crank sensor's signal wire with the engine cranking or running, at a time/division that shows at least one revolution.",
         ENGINE_SAFETY,

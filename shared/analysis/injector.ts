@@ -236,7 +236,7 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
       ),
     });
   }
-  const sugTrigger = Number.isFinite(supply) ? roundNice(((supply + onLevel) / 2) / 1) : null;
+  const sugTrigger = Number.isFinite(supply) && Number.isFinite(onLevel) && supply > onLevel ? roundNice((supply + onLevel) / 2) : null;
   const t = triggerBeyondFinding(p, s, sugTrigger);
   if (t) findings.push(t);
 

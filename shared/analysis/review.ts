@@ -38,7 +38,8 @@ export function triggerBeyondFinding(
   if (settings.triggerLevel == null || p.n === 0) return null;
   const level = settings.triggerLevel / p.toBase;
   if (level <= p.max && level >= p.min) return null;
-  const sugg = suggestedLevelV != null ? ` A level of about ${fmt(suggestedLevelV)} V gives a stable display.` : "";
+  const sugg =
+    suggestedLevelV != null && Number.isFinite(suggestedLevelV) ? ` A level of about ${fmt(suggestedLevelV)} V gives a stable display.` : "";
   return {
     code: "trigger-above-signal",
     severity: "warning",
