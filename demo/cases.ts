@@ -104,7 +104,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "queued",
     openedAt: -50,
     draft: {
-      vehicle: { vin: demoVin("Astaro", "VN14T", 2018, 233), year: 2018, make: "Astaro", model: "Vennic", engine: "1.4 I4 turbo", fuel: "gasoline", mileage: 61870, mileageUnit: "mi", transmission: "manual" },
+      vehicle: { vin: demoVin("Astaro", "VN1T4", 2018, 233), year: 2018, make: "Astaro", model: "Vennic", engine: "1.4 I4 turbo", fuel: "gasoline", mileage: 61870, mileageUnit: "mi", transmission: "manual" },
       complaint: "Stumble under boost between 2500 and 3500 rpm; cylinder 2 misfire counter climbs.",
       codes: ["P0302"],
       system: "ignition",
@@ -127,7 +127,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "needs_data",
     openedAt: -5 * HOUR,
     draft: {
-      vehicle: { vin: demoVin("Meridane", "CS24A", 2013, 512), year: 2013, make: "Meridane", model: "Casselle", engine: "2.4 I4", fuel: "gasoline", mileage: 142300, mileageUnit: "km", transmission: "automatic" },
+      vehicle: { vin: demoVin("Meridane", "CS2A4", 2013, 512), year: 2013, make: "Meridane", model: "Casselle", engine: "2.4 I4", fuel: "gasoline", mileage: 142300, mileageUnit: "km", transmission: "automatic" },
       complaint: "Rough idle when warm and a fuel smell after shut-down; cylinder 4 misfire at idle only.",
       codes: ["P0304", "P0172"],
       system: "fuel",
@@ -162,7 +162,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "answered",
     openedAt: -1 * DAY - 6 * HOUR,
     draft: {
-      vehicle: { vin: demoVin("Tovak", "RG25A", 2012, 88), year: 2012, make: "Tovak", model: "Ridgan", engine: "2.5 I4", fuel: "gasoline", mileage: 198400, mileageUnit: "mi", transmission: "automatic" },
+      vehicle: { vin: demoVin("Tovak", "RG2A5", 2012, 88), year: 2012, make: "Tovak", model: "Ridgan", engine: "2.5 I4", fuel: "gasoline", mileage: 198400, mileageUnit: "mi", transmission: "automatic" },
       complaint: "Uneven cranking sound and a rough idle from cold that smooths out after a few minutes. No codes stored.",
       codes: [],
       system: "engine-mechanical",
@@ -200,7 +200,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "resolved",
     openedAt: -12 * DAY,
     draft: {
-      vehicle: { vin: demoVin("Korrin", "BR16K", 2015, 640), year: 2015, make: "Korrin", model: "Brisel", engine: "1.6 I4", fuel: "gasoline", mileage: 112950, mileageUnit: "mi", transmission: "manual" },
+      vehicle: { vin: demoVin("Korrin", "BR1K6", 2015, 640), year: 2015, make: "Korrin", model: "Brisel", engine: "1.6 I4", fuel: "gasoline", mileage: 112950, mileageUnit: "mi", transmission: "manual" },
       complaint: "Intermittent stall when hot and a long crank afterwards; the tachometer drops out just before it stalls.",
       codes: ["P0335", "P0336"],
       system: "sensors",
@@ -239,7 +239,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "resolved",
     openedAt: -9 * DAY,
     draft: {
-      vehicle: { vin: demoVin("Veltra", "VR18A", 2017, 905), year: 2017, make: "Veltra", model: "Orvane", engine: "1.8 I4", fuel: "gasoline", mileage: 73400, mileageUnit: "mi", transmission: "cvt" },
+      vehicle: { vin: demoVin("Veltra", "VR1A8", 2017, 905), year: 2017, make: "Veltra", model: "Orvane", engine: "1.8 I4", fuel: "gasoline", mileage: 73400, mileageUnit: "mi", transmission: "cvt" },
       complaint: "Misfire on cold start for the first minute, cylinder 1; fine once warm.",
       codes: ["P0301"],
       system: "ignition",
@@ -274,7 +274,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "closed",
     openedAt: -20 * DAY,
     draft: {
-      vehicle: { vin: demoVin("Astaro", "PL12C", 2014, 321), year: 2014, make: "Astaro", model: "Pellow", engine: "1.2 I3", fuel: "gasoline", mileage: 88100, mileageUnit: "km", transmission: "manual" },
+      vehicle: { vin: demoVin("Astaro", "PL1C2", 2014, 321), year: 2014, make: "Astaro", model: "Pellow", engine: "1.2 I3", fuel: "gasoline", mileage: 88100, mileageUnit: "km", transmission: "manual" },
       complaint: "Random misfire at idle, all three cylinders, about once a minute.",
       codes: ["P0300"],
       system: "ignition",
@@ -318,7 +318,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "withdrawn",
     openedAt: -3 * DAY,
     draft: {
-      vehicle: { vin: demoVin("Tovak", "KS20B", 2019, 77), year: 2019, make: "Tovak", model: "Kestrow", engine: "2.0 I4", fuel: "gasoline", mileage: 40210, mileageUnit: "mi", transmission: "automatic" },
+      vehicle: { vin: demoVin("Tovak", "KS2B0", 2019, 77), year: 2019, make: "Tovak", model: "Kestrow", engine: "2.0 I4", fuel: "gasoline", mileage: 40210, mileageUnit: "mi", transmission: "automatic" },
       complaint: "Intermittent no-start: cranks fine, no spark on any cylinder some mornings.",
       codes: ["P0335"],
       system: "ignition",
@@ -342,7 +342,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "refunded",
     openedAt: -5 * DAY,
     draft: {
-      vehicle: { vin: demoVin("Korrin", "ST24B", 2016, 150), year: 2016, make: "Korrin", model: "Stratten", engine: "2.4 I4", fuel: "gasoline", mileage: 96700, mileageUnit: "mi", transmission: "automatic" },
+      vehicle: { vin: demoVin("Korrin", "ST2B4", 2016, 150), year: 2016, make: "Korrin", model: "Stratten", engine: "2.4 I4", fuel: "gasoline", mileage: 96700, mileageUnit: "mi", transmission: "automatic" },
       complaint: "Battery light flickers at idle and the battery is flat after two days.",
       codes: [],
       system: "starting-charging",
@@ -367,7 +367,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "awaiting_payment",
     openedAt: -2 * HOUR,
     draft: {
-      vehicle: { vin: demoVin("Meridane", "SV20H", 2020, 402), year: 2020, make: "Meridane", model: "Solvane", engine: "2.0 I4 hybrid", fuel: "hybrid", mileage: 31500, mileageUnit: "mi", transmission: "cvt" },
+      vehicle: { vin: demoVin("Meridane", "SV2H0", 2020, 402), year: 2020, make: "Meridane", model: "Solvane", engine: "2.0 I4 hybrid", fuel: "hybrid", mileage: 31500, mileageUnit: "mi", transmission: "cvt" },
       complaint: "Engine hesitates when it starts up during acceleration in hybrid mode.",
       codes: ["P0016"],
       system: "sensors",
@@ -389,7 +389,7 @@ export const DEMO_CASES: DemoCase[] = [
     final: "draft",
     openedAt: -25,
     draft: {
-      vehicle: { vin: demoVin("Korrin", "LM15T", 2021, 19), year: 2021, make: "Korrin", model: "Lumeo", engine: "1.5 I3 turbo", fuel: "gasoline", mileage: 22800, mileageUnit: "mi", transmission: "dct" },
+      vehicle: { vin: demoVin("Korrin", "LM1T5", 2021, 19), year: 2021, make: "Korrin", model: "Lumeo", engine: "1.5 I3 turbo", fuel: "gasoline", mileage: 22800, mileageUnit: "mi", transmission: "dct" },
       complaint: "Long crank when hot, then starts and runs fine.",
       codes: ["P0016"],
       system: "sensors",

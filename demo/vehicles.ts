@@ -1,6 +1,6 @@
 /**
  * Invented vehicles for the demo and a VIN maker. The VINs are structurally valid (17 characters,
- * no I/O/Q, model-year code in position 10, check digit in position 9 computed by
+ * no I/O/Q, model-year code in position 10 with a letter in position 7 for the 2010s cycle, check digit in position 9 computed by
  * shared/domain/vin.ts); their manufacturer prefixes end in 9 (the small-manufacturer form) and
  * stand for nobody.
  */
@@ -23,6 +23,8 @@ export function demoVin(make: string, descriptor: string, year: number, serial: 
   const wmi = WMI[make];
   if (!wmi) throw new Error(`no demo prefix for make ${make}`);
   if (!/^[A-HJ-NPR-Z0-9]{5}$/.test(descriptor)) throw new Error(`descriptor must be 5 VIN characters: ${descriptor}`);
+  // position 7 (the descriptor's 4th character) is a letter for 2010 and later (49 CFR 565.15(b))
+  if (!/[A-Z]/.test(descriptor[3])) throw new Error(`descriptor's 4th character must be a letter for a model year from 2010: ${descriptor}`);
   const yc = YEAR_CODES[year];
   if (!yc) throw new Error(`no year code for ${year}`);
   const tail = `A${"BCD"[serial % 3]}${String(serial % 100).padStart(2, "0")}${String(serial % 1000).padStart(3, "0")}`.slice(0, 7);

@@ -5,6 +5,7 @@ import { startTestServer, type TestServer } from "../helpers/test-app";
 import { signIn } from "../factories";
 import { schema } from "../../server/db/client";
 import { caseStatuses } from "../../shared/domain/case-status";
+import { validateVin, vinModelYear } from "../../shared/domain/vin";
 import { ledgerBalance } from "../../server/services/ledger";
 import { whenMailSent } from "../../server/services/notifications";
 import { seedDemo, seedDemoIfEmpty, DEMO_PASSWORD, DEMO_SIGN_INS, type DemoSeedResult } from "../../demo/seed";
@@ -65,6 +66,15 @@ describe("the demo scenario", () => {
       expect(row.status, c.key).toBe(c.final);
     }
     expect(result.skipped).toEqual([]);
+  });
+
+  it("gives every case a valid VIN that decodes to the case's model year", () => {
+    for (const c of DEMO_CASES) {
+      const vin = c.draft.vehicle!.vin!;
+      // check digit and model year by 49 CFR 565.15 (shared/domain/vin.ts implements it)
+      expect(validateVin(vin), `${c.key} ${vin}`).toMatchObject({ ok: true, warnings: [] });
+      expect(vinModelYear(vin), `${c.key} ${vin}`).toBe(c.draft.vehicle!.year);
+    }
   });
 
   it("stores every generated capture byte for byte, each with an analysis", () => {
