@@ -338,7 +338,7 @@ export function presentCase<T, P, X>(c: CaseRow, actor: Actor, extra: { traces: 
     expertId: c.expertId,
     vehicle: presentVehicle(c),
     vinDecoded: vinDecodedOf(c.vin),
-    vinWarnings: vehicleVinWarnings({ vin: c.vin, vinCheckOverride: c.vinCheckOverride }),
+    vinWarnings: vehicleVinWarnings({ vin: c.vin, vinCheckOverride: c.vinCheckOverride, year: c.year }),
     complaint: c.complaint,
     codes: presentCodes(c.codes),
     system: c.system,

@@ -25,7 +25,7 @@ let expertId: string;
 let admin: SignedInAgent;
 
 const draft = (over: Record<string, unknown> = {}) => ({
-  vehicle: { vin: VALID_VIN.toLowerCase(), year: 2019, make: "Veltra", model: "Sorrel", engine: "2.0 I4", mileage: 84210, mileageUnit: "km" },
+  vehicle: { vin: VALID_VIN.toLowerCase(), year: 1989, make: "Veltra", model: "Sorrel", engine: "2.0 I4", mileage: 84210, mileageUnit: "km" },
   complaint: "Intermittent misfire under load when warm",
   codes: ["p0304", "P0171"],
   system: "ignition",
@@ -60,7 +60,7 @@ describe("POST /api/cases", () => {
     expect(c.status).toBe("draft");
     expect(c.shopId).toBe(shopA.shop.id);
     expect(c.vehicle.vin).toBe(VALID_VIN); // normalized to capitals
-    expect(c.vehicle).toMatchObject({ year: 2019, make: "Veltra", model: "Sorrel", mileage: 84210, mileageUnit: "km" });
+    expect(c.vehicle).toMatchObject({ year: 1989, make: "Veltra", model: "Sorrel", mileage: 84210, mileageUnit: "km" });
     // 49 CFR 565.15: position 10 "K" with a digit in position 7 → the 1980–2009 cycle → 1989;
     // first character 1 → North America (WMI regions, from memory).
     expect(c.vinDecoded).toMatchObject({ wmi: "1M8", region: "North America", modelYear: 1989, checkDigit: "X", checkDigitValid: true });
@@ -88,6 +88,13 @@ describe("POST /api/cases", () => {
     expect(res.body.readiness.complete).toBe(false);
     const paths = res.body.readiness.issues.map((i: any) => i.path);
     expect(paths).toEqual(expect.arrayContaining(["vehicle.make", "vehicle.model", "complaint", "system"]));
+  });
+
+  it("warns when the year typed differs from the VIN's model year", async () => {
+    // 49 CFR 565.15: 1M8GDM9AXKP042788 has K in position 10 and a digit in position 7 → 1989.
+    const res = await techA.post("/api/cases").send(draft({ vehicle: { vin: VALID_VIN, year: 2019, make: "Veltra", model: "Sorrel" } }));
+    expect(res.status).toBe(201);
+    expect(res.body.vinWarnings).toEqual([expect.objectContaining({ code: "year-mismatch", expected: "1989" })]);
   });
 
   it("keeps a VIN whose check digit is wrong as a warning the tech can override", async () => {

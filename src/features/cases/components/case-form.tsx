@@ -165,8 +165,10 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
         if (!out.some((o) => o.path === path)) out.push({ path, message: i.message });
       }
     }
-    const vinWarn = vehicleVinWarnings({ vin: values.vehicle?.vin, vinCheckOverride: values.vehicle?.vinCheckOverride });
-    if (vinWarn.length) out.push({ path: "vehicle.vin", message: "Confirm the VIN: its check digit does not match." });
+    const vinWarn = vehicleVinWarnings({ vin: values.vehicle?.vin, vinCheckOverride: values.vehicle?.vinCheckOverride, year: typeof values.vehicle?.year === "number" ? values.vehicle.year : null });
+    for (const w of vinWarn) {
+      out.push({ path: w.code === "year-mismatch" ? "vehicle.year" : "vehicle.vin", message: w.code === "year-mismatch" ? w.message : "Confirm the VIN: its check digit does not match." });
+    }
     return out;
   }, [values]);
 
