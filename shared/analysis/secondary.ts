@@ -159,6 +159,8 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
     }
     let endLocal: number; // fractional index (local) of the spark line's end
     if (dep < 0) {
+      // the capture ends during the spark line: an incomplete event, not measured
+      if (b === n && burnLimit === len) break;
       endLocal = burnLimit - 1;
     } else {
       // walk back to where the departure began

@@ -266,6 +266,16 @@ describe("secondary ignition: capture review from the settings", () => {
     expect(f.advice).toContain(SECONDARY_SAFETY);
   });
 
+  it("an event cut off by the end of the capture is left out, not measured short", () => {
+    const cut = generateSecondary({ seed: 52, sampleRateHz: 1e6, events: 2, rpm: 3000, durationS: 0.0448 });
+    // the second firing line is in the capture, its spark line runs past the end
+    expect(cut.truth.events[1].timeS).toBeLessThan(0.0448);
+    expect(cut.truth.events[1].timeS + cut.truth.events[1].burnTimeMs / 1e3).toBeGreaterThan(0.0448);
+    const r = analyzeTrace(cut.trace) as SecondaryResult;
+    expect(r.summary.eventCount).toBe(1);
+    expect(Math.abs(r.events[0].burnTimeMs - cut.truth.events[0].burnTimeMs)).toBeLessThan(0.1);
+  });
+
   it("the result is plain JSON: it survives a round trip unchanged", () => {
     const r = analyzeTrace(g.trace, base);
     expect(JSON.parse(JSON.stringify(r))).toEqual(r);
