@@ -71,7 +71,6 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
   const neg = base - p.min;
   const sign: 1 | -1 = pos >= neg ? 1 : -1;
   // y = sign·(v − base): the signal as magnitudes on the firing line's side of the baseline
-  const Y = (k: number) => sign * (v[k] - base);
   const ymax = sign > 0 ? p.max - base : base - p.min;
   const ymin = sign > 0 ? p.min - base : base - p.max;
 

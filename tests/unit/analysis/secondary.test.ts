@@ -21,7 +21,7 @@ interface Case {
  * or under 100 kS/s (problem), inverted when the firing lines point down, clipped when the
  * generator clipped the signal, noisy when the noise is 15 % of the spark line or more.
  */
-function expectedFindings(c: Case, truth: SecondaryTruth): FindingCode[] {
+function expectedFindings(truth: SecondaryTruth): FindingCode[] {
   const codes: FindingCode[] = [];
   if (truth.clipped) codes.push("clipped");
   if (truth.polarity < 0) codes.push("inverted");
@@ -142,7 +142,7 @@ describe("secondary ignition: generated captures with known truth", () => {
     else expect(within(r.summary.rpm!, t.rpm, 0.01 * t.rpm), `rpm ${r.summary.rpm} vs ${t.rpm}`).toBe(true);
     // the expected findings and no false ones
     const codes = r.findings.map((f) => f.code).filter((code) => !(c.allow ?? []).includes(code)).sort();
-    expect(codes).toEqual(expectedFindings(c, t));
+    expect(codes).toEqual(expectedFindings(t));
     if (t.sampleRateHz < 100e3) expect(r.findings.find((f) => f.code === "undersampled")!.severity).toBe("problem");
     // every piece of advice about the secondary carries the safety caution
     for (const f of r.findings) expect(f.advice).toContain(SECONDARY_SAFETY);
