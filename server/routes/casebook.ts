@@ -10,7 +10,7 @@ import { idParamSchema, traceWindowQuerySchema } from "../../shared/schemas/trac
 import { casebookEditSchema, casebookSearchQuerySchema, casebookVoteSchema, similarQuerySchema } from "../../shared/schemas/casebook";
 import { getCaseRow } from "../services/cases";
 import { getTraceRow, traceWindow } from "../services/traces";
-import { searchCasebook } from "../services/casebook-search";
+import { searchCasebook, warmCasebookSearch } from "../services/casebook-search";
 import { editEntry, entryOfTrace, entryTrace, expertRecord, listHiddenEntries, readEntry, similarForCase, voteEntry, withHelpfulCounts } from "../services/casebook";
 import { z } from "zod";
 
@@ -23,6 +23,10 @@ const entryTraceParams = z.object({ id: idParamSchema.shape.id, traceId: idParam
  */
 export function casebookRoutes(ctx: AppContext, auth: Auth): Router {
   const r = Router();
+  if (ctx.env.NODE_ENV !== "test") {
+    // load the search worker's arrays before the first search needs them
+    setTimeout(() => void warmCasebookSearch(ctx).catch((err) => ctx.logger.warn({ err }, "casebook search warm-up failed")), 2000).unref();
+  }
 
   r.get("/casebook/search", async (req, res) => {
     const q = parseQuery(casebookSearchQuerySchema, req);

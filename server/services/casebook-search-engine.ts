@@ -16,18 +16,25 @@
  *    model year, engine, system, codes, confirmed), loaded once and updated by `rev`. Facets are
  *    counted the usual way for filter chips: each facet's counts apply every other filter but not
  *    its own, so the alternatives stay visible.
- * 4. Ranking: bm25 (with column weights) over a bounded candidate set — the newest
+ * 4. Ranking: bm25 (FTS5's, with column weights) over a bounded candidate set — the newest
  *    RANK_WINDOW entries of the result set, read with `ORDER BY rowid DESC LIMIT` (FTS5 walks its
- *    doclists in rowid order and stops there; the filters are in the MATCH expression as facet
- *    tokens of the `tags` column, weight 0, so the candidates are exactly the newest results). When
- *    a search has at most RANK_WINDOW results the ranking is the full bm25 order; beyond that the
- *    older results follow the ranked ones newest first. bm25 over every match of a very common word
- *    costs ~1–2 µs per matching row (65–110 ms over 100,000 entries); this is bounded.
+ *    doclists in rowid order and stops there). Filters reach that query exactly through the
+ *    casebook_keep(rowid) function (the result bitmap), helped by the most selective filter as a
+ *    facet token of the `tags` column (weight 0) so FTS5 can skip through its doclist. Two
+ *    refinements keep the cost bounded (see rankPlan): the last word is ranked as the complete
+ *    word when it is one (entries where it only starts a longer word follow), and words in more
+ *    than half of the entries are left out of bm25 (FTS5 gives them its idf floor anyway). When a
+ *    search has at most RANK_WINDOW results the order is the full bm25 order; beyond, the older
+ *    results follow the ranked ones newest first. The plain query — bm25 over every match of a
+ *    common word — costs 1–2 µs per matching row, 65–110 ms over 100,000 entries.
+ * 5. Snippets: FTS5 snippet() for the page's rows only, with the words as complete words (a
+ *    prefix phrase would make FTS5 rebuild the prefix's doclist for each row), marked with U+0002
+ *    … U+0003 (stored text never contains those characters: shared/domain/anonymise.ts
+ *    stripControls); a row that matched only through a prefix gets a snippet marked in JavaScript.
+ *
  * Rowids are bound as BigInt: FTS5 uses a rowid constraint only when its value is an SQL
  * INTEGER, and better-sqlite3 binds a JS number as REAL — FTS5 then ignores `rowid = ?` (and
  * reports it handled, so every matching row comes back).
- * 5. Snippets: FTS5 snippet() for the page's rows only, marked with U+0002 … U+0003 (stored text
- *    never contains those characters: shared/domain/anonymise.ts stripControls).
  */
 import type Database from "better-sqlite3";
 import type { CasebookSearchHit, CasebookSearchResult, FacetCount, FacetDim } from "../../shared/schemas/casebook";
@@ -42,6 +49,8 @@ const BM25_CALL = `bm25(casebook_fts, ${BM25_WEIGHTS.join(", ")})`;
 
 /** How many of the newest results bm25 ranks. */
 export const RANK_WINDOW = 1000;
+/** A word in more than half of the entries and in more than this many is left out of bm25 (see rankPlan). */
+export const COMMON_DOCS = 5000;
 export const PAGE_SIZE = 20;
 export const MAX_TERMS = 12;
 const CACHE_SIZE = 256;
@@ -168,6 +177,180 @@ class Bitmap {
   has(bit: number): boolean {
     return bit < this.capacity && (this.words[bit >>> 5] & (1 << (bit & 31))) !== 0;
   }
+  count(): number {
+    let n = 0;
+    const w = this.words;
+    for (let i = 0; i < w.length; i++) {
+      let x = w[i];
+      x = x - ((x >>> 1) & 0x55555555);
+      x = (x & 0x33333333) + ((x >>> 2) & 0x33333333);
+      n += (((x + (x >>> 4)) & 0x0f0f0f0f) * 0x01010101) >>> 24;
+    }
+    return n;
+  }
+}
+
+/** The set bits of a bitmap, ascending. */
+function bitsToList(words: Uint32Array): Int32Array {
+  let n = 0;
+  for (let i = 0; i < words.length; i++) {
+    let x = words[i];
+    x = x - ((x >>> 1) & 0x55555555);
+    x = (x & 0x33333333) + ((x >>> 2) & 0x33333333);
+    n += (((x + (x >>> 4)) & 0x0f0f0f0f) * 0x01010101) >>> 24;
+  }
+  const out = new Int32Array(n);
+  let k = 0;
+  for (let i = 0; i < words.length; i++) {
+    let bits = words[i];
+    while (bits !== 0) {
+      const t = bits & -bits;
+      out[k++] = (i << 5) + (31 - Math.clz32(t));
+      bits ^= t;
+    }
+  }
+  return out;
+}
+
+interface ScanArrays {
+  visible: Uint8Array;
+  make: Int32Array;
+  model: Int32Array;
+  year: Int16Array;
+  engine: Int32Array;
+  system: Int32Array;
+  confirmed: Uint8Array;
+  code4: Int32Array;
+  codeMore: Map<number, Int32Array>;
+}
+interface ScanFilters {
+  unfiltered: boolean;
+  make: number;
+  model: number;
+  year: boolean;
+  yearLo: number;
+  yearHi: number;
+  engine: number;
+  system: number;
+  code: number;
+  confirmed: number;
+}
+interface ScanCounts {
+  make: Int32Array;
+  model: Int32Array;
+  engine: Int32Array;
+  system: Int32Array;
+  code: Int32Array;
+  year: Int32Array;
+  confirmed: Int32Array;
+}
+
+/**
+ * The one pass over the candidate documents: sets the result bits, returns the total, and
+ * counts each facet over the documents that pass every filter but that facet's own (a document
+ * failing two filters counts nowhere). Kept small and monomorphic so the JIT compiles it well.
+ */
+function scan(docs: Int32Array, a: ScanArrays, f: ScanFilters, c: ScanCounts, res: Uint32Array): number {
+  const { visible, make, model, year, engine, system, confirmed, code4, codeMore } = a;
+  const cMake = c.make;
+  const cModel = c.model;
+  const cEngine = c.engine;
+  const cSystem = c.system;
+  const cCode = c.code;
+  const cYear = c.year;
+  const cConf = c.confirmed;
+  const fMake = f.make;
+  const fModel = f.model;
+  const fEngine = f.engine;
+  const fSystem = f.system;
+  const fCode = f.code;
+  const fConf = f.confirmed;
+  const fYear = f.year;
+  const lo = f.yearLo;
+  const hi = f.yearHi;
+  const unfiltered = f.unfiltered;
+  const more = codeMore.size > 0;
+  let total = 0;
+  for (let k = 0; k < docs.length; k++) {
+    const d = docs[k];
+    if (visible[d] === 0) continue;
+    const mk = make[d];
+    const md = model[d];
+    const yr = year[d];
+    const en = engine[d];
+    const sy = system[d];
+    const cf = confirmed[d];
+    const cb = d * CODE_SLOTS;
+    let failed = 0;
+    if (!unfiltered) {
+      let fails = 0;
+      if (fMake !== -1 && mk !== fMake) {
+        fails++;
+        failed = 1;
+      }
+      if (fModel !== -1 && md !== fModel) {
+        fails++;
+        failed = 2;
+      }
+      if (fYear && (yr === 0 || yr < lo || yr > hi)) {
+        fails++;
+        failed = 3;
+      }
+      if (fEngine !== -1 && en !== fEngine) {
+        fails++;
+        failed = 4;
+      }
+      if (fSystem !== -1 && sy !== fSystem) {
+        fails++;
+        failed = 5;
+      }
+      if (fCode !== -1) {
+        let has = code4[cb] === fCode || code4[cb + 1] === fCode || code4[cb + 2] === fCode || code4[cb + 3] === fCode;
+        if (!has && more) {
+          const extra = codeMore.get(d);
+          if (extra !== undefined) has = extra.indexOf(fCode) >= 0;
+        }
+        if (!has) {
+          fails++;
+          failed = 6;
+        }
+      }
+      if (fConf !== -1 && cf !== fConf) {
+        fails++;
+        failed = 7;
+      }
+      if (fails > 1) continue;
+    }
+    if (failed === 0) {
+      total++;
+      res[d >>> 5] |= 1 << (d & 31);
+    }
+    if ((failed === 0 || failed === 1) && mk >= 0) cMake[mk]++;
+    if ((failed === 0 || failed === 2) && md >= 0) cModel[md]++;
+    if ((failed === 0 || failed === 3) && yr > 0) cYear[yr]++;
+    if ((failed === 0 || failed === 4) && en >= 0) cEngine[en]++;
+    if ((failed === 0 || failed === 5) && sy >= 0) cSystem[sy]++;
+    if (failed === 0 || failed === 6) {
+      for (let i = 0; i < CODE_SLOTS; i++) {
+        const x = code4[cb + i];
+        if (x < 0) break;
+        cCode[x]++;
+      }
+      if (more) {
+        const extra = codeMore.get(d);
+        if (extra !== undefined) for (let i = 0; i < extra.length; i++) cCode[extra[i]]++;
+      }
+    }
+    if (failed === 0 || failed === 7) cConf[cf]++;
+  }
+  return total;
+}
+
+const NO_FILTERS: ScanFilters = { unfiltered: true, make: -1, model: -1, year: false, yearLo: 0, yearHi: 0, engine: -1, system: -1, code: -1, confirmed: -1 };
+
+/** A phrase without its prefix star. */
+function exactForm(phrase: string): string {
+  return phrase.endsWith("*") ? phrase.slice(0, -1) : phrase;
 }
 
 /** a ∧ b (the result has the shorter length) */
@@ -215,6 +398,7 @@ interface EntryRow {
 }
 
 const YEAR_BASE = 1900;
+const CODE_SLOTS = 4;
 const YEAR_SLOTS = 256;
 
 export interface EngineStats {
@@ -234,7 +418,9 @@ export class CasebookSearchEngine {
   private system = new Int32Array(0);
   private year = new Int16Array(0);
   private confirmed = new Uint8Array(0);
-  private codes: (Int32Array | null)[] = [];
+  /** up to CODE_SLOTS code ids per entry inline (-1: none), more in codeMore */
+  private code4 = new Int32Array(0);
+  private codeMore = new Map<number, Int32Array>();
   private publicId: (string | undefined)[] = [];
   private dicts: Record<"make" | "model" | "engine" | "system" | "code", Dict> = {
     make: newDict(),
@@ -247,27 +433,37 @@ export class CasebookSearchEngine {
   private stmts: ReturnType<CasebookSearchEngine["prepare"]>;
 
   private readonly rankWindow: number;
+  private readonly commonDocs: number;
+  private keep: Uint32Array | null = null;
 
   constructor(
     private readonly db: Database.Database,
-    opts: { rankWindow?: number } = {},
+    opts: { rankWindow?: number; commonDocs?: number } = {},
   ) {
     this.rankWindow = opts.rankWindow ?? RANK_WINDOW;
+    this.commonDocs = opts.commonDocs ?? COMMON_DOCS;
+    // the filters of the ranking query: true for the documents of the current result set
+    db.function("casebook_keep", { deterministic: false }, (rowid: unknown) => {
+      const k = this.keep;
+      const d = Number(rowid);
+      return k !== null && (k[d >>> 5] & (1 << (d & 31))) !== 0 ? 1 : 0;
+    });
     this.stmts = this.prepare();
   }
 
   private prepare() {
     const db = this.db;
     return {
-      maxRev: db.prepare("SELECT coalesce(max(rev), 0) AS rev, count(*) AS n FROM casebook_entry"),
+      maxRev: db.prepare("SELECT coalesce(max(rev), 0) AS rev FROM casebook_entry"),
       changed: db.prepare(
         "SELECT doc_id, id, make, make_key, model, model_key, year, engine, engine_key, system, code_list, confirmed, hidden, rev FROM casebook_entry WHERE rev > ? ORDER BY rev",
       ),
       phraseRowids: db.prepare("SELECT rowid FROM casebook_fts WHERE casebook_fts MATCH ?").pluck(),
       phraseHas: db.prepare("SELECT 1 FROM casebook_fts WHERE casebook_fts MATCH ? AND rowid = ?").pluck(),
       rank: db.prepare(`SELECT rowid AS doc, ${BM25_CALL} AS s FROM casebook_fts WHERE casebook_fts MATCH ? ORDER BY rowid DESC LIMIT ?`).raw(),
+      rankKeep: db.prepare(`SELECT rowid AS doc, ${BM25_CALL} AS s FROM casebook_fts WHERE casebook_fts MATCH ? AND casebook_keep(rowid) ORDER BY rowid DESC LIMIT ?`).raw(),
       snippet: db.prepare(`SELECT snippet(casebook_fts, -1, char(2), char(3), '…', 18) FROM casebook_fts WHERE casebook_fts MATCH ? AND rowid = ?`).pluck(),
-      rows: db.prepare("SELECT doc_id, id, title, vehicle, code_list, root_cause, diagnosis, complaint, confirmed, published_at FROM casebook_entry WHERE doc_id = ?"),
+      rows: db.prepare("SELECT doc_id, id, title, vehicle, code_list, root_cause, diagnosis, complaint, fix, symptoms, confirmed, published_at FROM casebook_entry WHERE doc_id = ?"),
     };
   }
 
@@ -290,6 +486,9 @@ export class CasebookSearchEngine {
     };
     const y = new Int16Array(cap);
     y.set(this.year);
+    const c4 = new Int32Array(cap * CODE_SLOTS).fill(-1);
+    c4.set(this.code4);
+    this.code4 = c4;
     this.visible = g8(this.visible);
     this.confirmed = g8(this.confirmed);
     this.make = g32(this.make);
@@ -302,9 +501,10 @@ export class CasebookSearchEngine {
 
   /** Loads entries changed since the last call (all of them the first time) and patches the phrase cache. */
   refresh(): void {
-    const head = this.stmts.maxRev.get() as { rev: number; n: number };
+    // entries are hidden, never deleted; a rev that went backwards (a restored file) reloads all
+    const head = this.stmts.maxRev.get() as { rev: number };
     if (head.rev === this.rev) return;
-    if (head.rev < this.rev || (this.rev >= 0 && head.n < this.count)) this.reset();
+    if (head.rev < this.rev) this.reset();
     const rows = this.stmts.changed.all(this.rev < 0 ? -1 : this.rev) as EntryRow[];
     const patch = this.rev >= 0 && rows.length * this.phraseCache.size <= PATCH_LIMIT;
     if (!patch) this.phraseCache.clear();
@@ -327,7 +527,9 @@ export class CasebookSearchEngine {
         list = [];
       }
       const ids = [...new Set(list.map((c) => String(c).toUpperCase()))].map((c) => dictId(this.dicts.code, c, c));
-      this.codes[d] = ids.length ? Int32Array.from(ids) : null;
+      for (let i = 0; i < CODE_SLOTS; i++) this.code4[d * CODE_SLOTS + i] = i < ids.length ? ids[i] : -1;
+      if (ids.length > CODE_SLOTS) this.codeMore.set(d, Int32Array.from(ids.slice(CODE_SLOTS)));
+      else this.codeMore.delete(d);
       if (patch) {
         for (const [match, bm] of this.phraseCache) {
           if (r.hidden) bm.clear(d);
@@ -350,7 +552,8 @@ export class CasebookSearchEngine {
     this.system = new Int32Array(0);
     this.year = new Int16Array(0);
     this.confirmed = new Uint8Array(0);
-    this.codes = [];
+    this.code4 = new Int32Array(0);
+    this.codeMore.clear();
     this.publicId = [];
     this.dicts = { make: newDict(), model: newDict(), engine: newDict(), system: newDict(), code: newDict() };
     this.phraseCache.clear();
@@ -401,104 +604,85 @@ export class CasebookSearchEngine {
 
     // ---- the match set
     let match: Uint32Array | null = null;
-    if (phrases.length > 0) {
-      for (const p of phrases) {
-        const bm = this.phraseBitmap(p).words;
-        match = match ? intersect(match, bm) : bm;
-      }
+    const phraseDocs: number[] = [];
+    for (const p of phrases) {
+      const bm = this.phraseBitmap(p);
+      phraseDocs.push(bm.count());
+      match = match ? intersect(match, bm.words) : bm.words;
     }
 
     // ---- one pass: total, the result bitmap, facet counts (each dimension without its own filter)
-    const counts = {
-      make: new Int32Array(this.dicts.make.labels.length),
-      model: new Int32Array(this.dicts.model.labels.length),
-      engine: new Int32Array(this.dicts.engine.labels.length),
-      system: new Int32Array(this.dicts.system.labels.length),
-      code: new Int32Array(this.dicts.code.labels.length),
-      year: new Int32Array(YEAR_SLOTS),
-      confirmed: new Int32Array(2),
-    };
-    const result = new Bitmap(this.cap);
-    let total = 0;
-    const { visible, make, model, engine, system, year, confirmed, codes } = this;
-    const visit = (d: number) => {
-      if (!visible[d]) return;
-      let fails = 0;
-      let failed = 0;
-      if (fMake !== -1 && make[d] !== fMake) (fails++, (failed = 1));
-      if (fModel !== -1 && model[d] !== fModel) (fails++, (failed = 2));
-      if (fYear) {
-        const y = year[d];
-        if (y === 0 || (yFrom != null && y < yFrom) || (yTo != null && y > yTo)) (fails++, (failed = 3));
-      }
-      if (fEngine !== -1 && engine[d] !== fEngine) (fails++, (failed = 4));
-      if (fSystem !== -1 && system[d] !== fSystem) (fails++, (failed = 5));
-      const cs = codes[d];
-      if (fCode !== -1 && !(cs && cs.includes(fCode))) (fails++, (failed = 6));
-      if (fConfirmed !== -1 && confirmed[d] !== fConfirmed) (fails++, (failed = 7));
-      if (fails > 1) return;
-      if (fails === 0) {
-        total++;
-        result.set(d);
-      }
-      if (fails === 0 || failed === 1) if (make[d] >= 0) counts.make[make[d]]++;
-      if (fails === 0 || failed === 2) if (model[d] >= 0) counts.model[model[d]]++;
-      if (fails === 0 || failed === 3) if (year[d] > 0) counts.year[year[d]]++;
-      if (fails === 0 || failed === 4) if (engine[d] >= 0) counts.engine[engine[d]]++;
-      if (fails === 0 || failed === 5) if (system[d] >= 0) counts.system[system[d]]++;
-      if ((fails === 0 || failed === 6) && cs) for (let i = 0; i < cs.length; i++) counts.code[cs[i]]++;
-      if (fails === 0 || failed === 7) counts.confirmed[confirmed[d]]++;
-    };
-    if (match) {
-      for (let w = 0; w < match.length; w++) {
-        let bits = match[w];
-        while (bits !== 0) {
-          const t = bits & -bits;
-          visit((w << 5) + (31 - Math.clz32(t)));
-          bits ^= t;
-        }
-      }
+    const unfiltered = fMake === -1 && fModel === -1 && !fYear && fEngine === -1 && fSystem === -1 && fCode === -1 && fConfirmed === -1;
+    let counts: ScanCounts;
+    let result: Bitmap;
+    let total: number;
+    if (!match && unfiltered) {
+      // the whole casebook: counted once per change
+      const all = this.unfilteredAll();
+      counts = all.counts;
+      result = all.bitmap;
+      total = all.total;
     } else {
-      for (let d = 0; d < this.cap; d++) if (visible[d]) visit(d);
+      counts = this.newCounts();
+      result = new Bitmap(this.cap);
+      const docs = match ? bitsToList(match) : this.visibleDocs();
+      total = scan(
+        docs,
+        this.scanArrays(),
+        { unfiltered, make: fMake, model: fModel, year: fYear, yearLo: yFrom ?? 0, yearHi: yTo ?? YEAR_SLOTS, engine: fEngine, system: fSystem, code: fCode, confirmed: fConfirmed },
+        counts,
+        result.words,
+      );
     }
+    const res = result.words;
 
     // ---- order and page
     const start = (page - 1) * pageSize;
-    let pageDocs: { doc: number; score: number | null }[] = [];
+    const pageDocs: { doc: number; score: number | null }[] = [];
     let ranking: CasebookSearchResult["ranking"] = { method: "recent", candidates: total, exact: true };
-    let rankMatch: string | null = null;
-    if (total > 0 && start < total) {
-      if (sort === "relevance") {
-        rankMatch = contentMatch(phrases);
-        const tagExpr = this.filterTagExpression(input, fYear ? [yFrom, yTo] : null);
-        const fullMatch = tagExpr ? `${rankMatch} AND tags : (${tagExpr})` : rankMatch;
-        const ranked = (this.stmts.rank.all(fullMatch, this.rankWindow) as [number, number][]).filter(([d]) => result.has(d));
-        ranked.sort((a, b) => a[1] - b[1] || b[0] - a[0]);
-        ranking = { method: "bm25", candidates: ranked.length, exact: ranked.length >= total };
-        const inRanked = new Set(ranked.map((r) => r[0]));
-        const ordered: { doc: number; score: number | null }[] = ranked.slice(start, start + pageSize).map(([doc, s]) => ({ doc, score: Number((-s).toPrecision(6)) }));
-        if (ordered.length < pageSize && start + ordered.length < total) {
-          // beyond the ranked window: the remaining results, newest first
-          let skip = Math.max(0, start - ranked.length);
-          this.eachDesc(result, (d) => {
-            if (inRanked.has(d)) return true;
-            if (skip > 0) return (skip--, true);
-            ordered.push({ doc: d, score: null });
-            return ordered.length < pageSize;
-          });
+    const rankPlan = phrases.length ? this.rankPlan(phrases, phraseDocs) : null;
+    const rankMatch = rankPlan ? rankPlan.match : null;
+    let ranked: [number, number][] = [];
+    if (total > 0 && start < total && sort === "relevance") {
+      if (rankPlan && rankPlan.match) {
+        if (unfiltered) {
+          ranked = this.stmts.rank.all(rankPlan.match, this.rankWindow) as [number, number][];
+        } else {
+          // the most selective filter goes into the MATCH as a facet token (FTS5 then skips
+          // through its doclist); all filters are checked exactly by casebook_keep (the result set)
+          const tag = this.selectiveTag(input, fYear ? [yFrom, yTo] : null);
+          const fullMatch = tag ? `${rankPlan.match} AND tags : (${tag})` : rankPlan.match;
+          this.keep = res;
+          try {
+            ranked = this.stmts.rankKeep.all(fullMatch, this.rankWindow) as [number, number][];
+          } finally {
+            this.keep = null;
+          }
         }
-        pageDocs = ordered;
+        ranked.sort((a, b) => a[1] - b[1] || b[0] - a[0]);
+        ranking = { method: "bm25", candidates: ranked.length, exact: ranked.length >= total && rankPlan.complete };
       } else {
-        let skip = start;
-        this.eachDesc(result, (d) => {
-          if (skip > 0) return (skip--, true);
-          pageDocs.push({ doc: d, score: null });
-          return pageDocs.length < pageSize;
-        });
+        // every word is in more than half of the entries: bm25 tells them apart by nothing but
+        // FTS5's idf floor, so the newest come first
+        ranking = { method: "recent", candidates: total, exact: false };
       }
     }
+    const inRanked = new Set<number>();
+    for (const [doc, s] of ranked.slice(start, start + pageSize)) pageDocs.push({ doc, score: Number((-s).toPrecision(6)) });
+    if (total > 0 && pageDocs.length < pageSize && start + pageDocs.length < total) {
+      // past the ranked ones (or not ranked): the remaining results, newest first
+      for (const [doc] of ranked) inRanked.add(doc);
+      let skip = Math.max(0, start - ranked.length);
+      this.eachDesc(result, (d) => {
+        if (inRanked.has(d)) return true;
+        if (skip > 0) return (skip--, true);
+        pageDocs.push({ doc: d, score: null });
+        return pageDocs.length < pageSize;
+      });
+    }
 
-    const results = pageDocs.map(({ doc, score }) => this.hit(doc, score, rankMatch));
+    const snippetMatch = phrases.length ? contentMatch([phrases.map(exactForm).join(" OR ")]) : null;
+    const results = pageDocs.map(({ doc, score }) => this.hit(doc, score, snippetMatch, queryTokens(input.q)));
     return {
       total,
       page,
@@ -510,6 +694,51 @@ export class CasebookSearchEngine {
       ranking,
       match: rankMatch,
     };
+  }
+
+  /**
+   * The bm25 expression: the phrases as typed, but
+   * - the last word as a complete word when it is one (documents where it is only the start of a
+   *   longer word follow the ranked ones): a prefix phrase makes FTS5 merge the doclists of every
+   *   word with that prefix on each query, which costs tens of ms for a common prefix;
+   * - without words found in more than half of the entries (and in more than `commonDocs`): FTS5's
+   *   bm25 gives them its idf floor (1e-6), so they add nothing to the order but would cost a pass
+   *   over their whole doclist each time.
+   * `complete` is false when the expression leaves matches out of the ranking.
+   */
+  private rankPlan(phrases: string[], docs: number[]): { match: string | null; complete: boolean } {
+    const n = this.visibleCount();
+    const keep: string[] = [];
+    let complete = true;
+    phrases.forEach((p, i) => {
+      let phrase = p;
+      let df = docs[i];
+      if (p.endsWith("*")) {
+        const exact = exactForm(p);
+        const e = this.phraseBitmap(exact).count();
+        if (e > 0) {
+          if (e < df) complete = false;
+          phrase = exact;
+          df = e;
+        }
+      }
+      if (df > n / 2 && df > this.commonDocs) return;
+      keep.push(phrase);
+    });
+    return { match: keep.length ? contentMatch(keep) : null, complete };
+  }
+
+  private visibleCountCache = { rev: -2, n: 0, docs: new Int32Array(0) };
+  private visibleDocs(): Int32Array {
+    if (this.visibleCountCache.rev !== this.rev) {
+      const list: number[] = [];
+      for (let d = 0; d < this.cap; d++) if (this.visible[d]) list.push(d);
+      this.visibleCountCache = { rev: this.rev, n: list.length, docs: Int32Array.from(list) };
+    }
+    return this.visibleCountCache.docs;
+  }
+  private visibleCount(): number {
+    return this.visibleDocs().length;
   }
 
   /** Calls fn for each set bit from the highest down while it returns true. */
@@ -525,35 +754,80 @@ export class CasebookSearchEngine {
     }
   }
 
-  /** The filters as facet-token phrases for the ranking MATCH (null when there are none). */
-  private filterTagExpression(input: CasebookSearchQuery, years: [number | null, number | null] | null): string | null {
-    const parts: string[] = [];
-    const one = (dim: FacetDim, v: string | number | boolean | undefined) => {
-      if (v === undefined || v === "") return;
-      const t = facetTag(dim, v as string);
-      if (t) parts.push(`"${t}"`);
+  /**
+   * The facet token (or OR of tokens, for a year range) of the filter that keeps the fewest
+   * entries, when it keeps under half of them; null otherwise (the callback alone is cheaper than
+   * FTS5 walking a doclist that long).
+   */
+  private selectiveTag(input: CasebookSearchQuery, years: [number | null, number | null] | null): string | null {
+    const all = this.unfilteredCounts();
+    const n = this.visibleCount();
+    let best: { expr: string; df: number } | null = null;
+    const consider = (expr: string | null, df: number) => {
+      if (expr && (best === null || df < best.df)) best = { expr, df };
     };
-    one("make", input.make);
-    one("model", input.model);
-    one("engine", input.engine);
-    one("system", input.system);
-    one("code", input.code);
-    if (input.confirmed !== undefined) one("confirmed", input.confirmed);
+    const dimOf = (dim: "make" | "model" | "engine" | "system", v: string | undefined) => {
+      const k = facetKey(v);
+      if (k == null) return;
+      const id = this.dicts[dim].ids.get(k);
+      consider(`"${facetTag(dim, v!)}"`, id === undefined ? 0 : all[dim][id]);
+    };
+    dimOf("make", input.make);
+    dimOf("model", input.model);
+    dimOf("engine", input.engine);
+    dimOf("system", input.system);
+    if (input.code) {
+      const id = this.dicts.code.ids.get(input.code.trim().toUpperCase());
+      consider(`"${facetTag("code", input.code)}"`, id === undefined ? 0 : all.code[id]);
+    }
+    if (input.confirmed !== undefined) consider(`"${facetTag("confirmed", input.confirmed)}"`, all.confirmed[input.confirmed ? 1 : 0]);
     if (years) {
       const [lo, hi] = years;
-      const present: string[] = [];
-      const seen = new Set<number>();
-      for (let d = 0; d < this.cap; d++) {
-        const y = this.year[d];
-        if (y > 0 && !seen.has(y) && (lo == null || y >= lo) && (hi == null || y <= hi)) seen.add(y);
+      const tokens: string[] = [];
+      let df = 0;
+      for (let y = 1; y < YEAR_SLOTS; y++) {
+        if (all.year[y] > 0 && (lo == null || y >= lo) && (hi == null || y <= hi)) {
+          tokens.push(`"xyr${y + YEAR_BASE}q"`);
+          df += all.year[y];
+        }
       }
-      for (const y of [...seen].sort((a, b) => a - b)) present.push(`"xyr${y + YEAR_BASE}q"`);
-      parts.push(present.length ? `(${present.join(" OR ")})` : `"xyrnoneq"`);
+      if (tokens.length > 0 && tokens.length <= 12) consider(`(${tokens.join(" OR ")})`, df);
     }
-    return parts.length ? parts.join(" AND ") : null;
+    const b = best as { expr: string; df: number } | null;
+    return b && b.df < n / 2 ? b.expr : null;
   }
 
-  private hit(doc: number, score: number | null, rankMatch: string | null): CasebookSearchHit {
+  private unfilteredCache: { rev: number; counts: ScanCounts; bitmap: Bitmap; total: number } | null = null;
+  /** Every visible entry's facet values counted, and their bitmap (once per change). */
+  private unfilteredAll(): { counts: ScanCounts; bitmap: Bitmap; total: number } {
+    if (this.unfilteredCache?.rev === this.rev) return this.unfilteredCache;
+    const counts = this.newCounts();
+    const bitmap = new Bitmap(this.cap);
+    const total = scan(this.visibleDocs(), this.scanArrays(), NO_FILTERS, counts, bitmap.words);
+    this.unfilteredCache = { rev: this.rev, counts, bitmap, total };
+    return this.unfilteredCache;
+  }
+  private unfilteredCounts(): ScanCounts {
+    return this.unfilteredAll().counts;
+  }
+
+  private newCounts(): ScanCounts {
+    return {
+      make: new Int32Array(this.dicts.make.labels.length),
+      model: new Int32Array(this.dicts.model.labels.length),
+      engine: new Int32Array(this.dicts.engine.labels.length),
+      system: new Int32Array(this.dicts.system.labels.length),
+      code: new Int32Array(this.dicts.code.labels.length),
+      year: new Int32Array(YEAR_SLOTS),
+      confirmed: new Int32Array(2),
+    };
+  }
+
+  private scanArrays(): ScanArrays {
+    return { visible: this.visible, make: this.make, model: this.model, year: this.year, engine: this.engine, system: this.system, confirmed: this.confirmed, code4: this.code4, codeMore: this.codeMore };
+  }
+
+  private hit(doc: number, score: number | null, snippetMatch: string | null, tokens: string[]): CasebookSearchHit {
     const r = this.stmts.rows.get(doc) as {
       id: string;
       title: string;
@@ -562,11 +836,16 @@ export class CasebookSearchEngine {
       root_cause: string;
       diagnosis: string;
       complaint: string;
+      fix: string;
+      symptoms: string;
       confirmed: number;
       published_at: number;
     };
     let snippet = "";
-    if (rankMatch) snippet = (this.stmts.snippet.get(rankMatch, BigInt(doc)) as string | undefined) ?? "";
+    // snippet() of FTS5 with the words as complete words (cheap); a row that matched only through
+    // the start of a longer word gets its snippet here instead
+    if (snippetMatch) snippet = (this.stmts.snippet.get(snippetMatch, BigInt(doc)) as string | undefined) ?? "";
+    if (!snippet && tokens.length) snippet = prefixSnippet([r.diagnosis, r.complaint, r.root_cause, r.fix, r.symptoms, r.vehicle], tokens);
     if (!snippet) snippet = clip(r.diagnosis || r.complaint, 200);
     let codes: string[] = [];
     try {
@@ -611,6 +890,33 @@ export class CasebookSearchEngine {
     };
   }
 }
+
+/**
+ * A snippet marked in plain JavaScript: about 18 words around the first word that starts with the
+ * last search word (or equals another one), matches between the markers.
+ */
+export function prefixSnippet(texts: string[], tokens: string[]): string {
+  const last = tokens[tokens.length - 1];
+  const others = new Set(tokens.slice(0, -1));
+  const isHit = (w: string) => {
+    const lw = w.normalize("NFKC").toLowerCase();
+    return lw.startsWith(last) || others.has(lw);
+  };
+  for (const text of texts) {
+    if (!text) continue;
+    const parts = text.split(/(\s+)/);
+    const words = parts.filter((_, i) => i % 2 === 0);
+    const at = words.findIndex((w) => (w.match(/[\p{L}\p{N}]+/gu) ?? []).some(isHit));
+    if (at < 0) continue;
+    const from = Math.max(0, at - 6);
+    const to = Math.min(words.length, from + 18);
+    const out = words.slice(from, to).map((w) => w.replace(/[\p{L}\p{N}]+/gu, (m) => (isHit(m) ? `${SNIPPET_OPEN_CHAR}${m}${SNIPPET_CLOSE_CHAR}` : m)));
+    return `${from > 0 ? "…" : ""}${out.join(" ")}${to < words.length ? "…" : ""}`;
+  }
+  return "";
+}
+const SNIPPET_OPEN_CHAR = "\u0002";
+const SNIPPET_CLOSE_CHAR = "\u0003";
 
 function clip(s: string, n: number): string {
   const t = (s ?? "").replace(/\s+/g, " ").trim();

@@ -2,8 +2,8 @@
  * Casebook search from the server's side: hands each search to a worker thread that has its own
  * read-only connection to the same SQLite file (WAL lets it read while the server writes), so
  * ranking and counting never run on the event loop that serves other requests. One worker per
- * database file, started on first use, stopped after a minute without searches; it never keeps the
- * process alive. An in-memory database (no file to share) is searched in-thread instead.
+ * database file, started on first use (or warmed shortly after the server starts), stopped after ten
+ * minutes without searches; it never keeps the process alive. An in-memory database (no file to share) is searched in-thread instead.
  */
 import path from "node:path";
 import { Worker } from "node:worker_threads";
@@ -11,7 +11,8 @@ import type { AppContext } from "../context";
 import type { Db } from "../db/client";
 import { CasebookSearchEngine, type CasebookSearchQuery, type CasebookSearchResult, type EngineStats } from "./casebook-search-engine";
 
-const IDLE_MS = 60_000;
+/** a worker idle this long is stopped (its arrays are rebuilt on the next search) */
+const IDLE_MS = 10 * 60_000;
 const TIMEOUT_MS = 30_000;
 
 type Pending = { resolve: (r: unknown) => void; reject: (e: Error) => void; timer: NodeJS.Timeout };
