@@ -17,6 +17,8 @@ import { captureCasePayment } from "./payments-flow";
 import { getPricing } from "./pricing";
 import { assertQueueAction, expertProfileOf } from "../auth/policies/queue";
 import { ignitionSafetyNote, type AnswerInput } from "../../shared/schemas/queue";
+import type { AnswerView, ConfirmationView } from "../../shared/views/queue";
+export type { AnswerView, ConfirmationView };
 
 const { caseAnswer, caseConfirmation } = schema;
 
@@ -59,28 +61,7 @@ export async function runCaseResolvedHooks(ctx: AppContext, caseId: string): Pro
 // ---------------------------------------------------------------------------------------------
 // Answer
 
-export interface AnswerView {
-  id: string;
-  round: number;
-  expertId: string | null;
-  expertName: string | null;
-  diagnosis: string;
-  rootCause: string;
-  recommendedFix: string;
-  testsToConfirm: string;
-  safetyNote: string;
-  createdAt: string;
-}
 
-export interface ConfirmationView {
-  id: string;
-  answerId: string | null;
-  fixed: boolean;
-  note: string | null;
-  rating: number | null;
-  userName: string | null;
-  createdAt: string;
-}
 
 /** POST /api/cases/:id/answer */
 export async function answerCase(ctx: AppContext, actor: Actor, caseId: string, input: AnswerInput): Promise<{ case: CaseRow; answer: AnswerView; captured: boolean }> {

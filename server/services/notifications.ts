@@ -8,6 +8,8 @@ import type { AppContext } from "../context";
 import { schema } from "../db/client";
 import { renderMail } from "../integrations/mailer";
 import { notFound } from "../http/errors";
+import type { NotificationView } from "../../shared/views/queue";
+export type { NotificationView };
 
 export type NotificationKind =
   | "case_offered"
@@ -98,16 +100,6 @@ export function absoluteUrl(ctx: AppContext, path: string): string {
   return new URL(path, ctx.env.publicUrl.endsWith("/") ? ctx.env.publicUrl : ctx.env.publicUrl + "/").toString();
 }
 
-export interface NotificationView {
-  id: string;
-  kind: string;
-  caseId: string | null;
-  title: string;
-  body: string;
-  link: string | null;
-  read: boolean;
-  createdAt: string;
-}
 
 export function listNotifications(ctx: AppContext, userId: string, opts: { unreadOnly?: boolean; limit?: number } = {}): { unread: number; items: NotificationView[] } {
   const conds = [eq(notification.userId, userId)];

@@ -40,6 +40,8 @@ import {
 import { notify } from "./notifications";
 import { createOffers, notifyOffers } from "./queue";
 import { assertQueueAction, expertProfileOf } from "../auth/policies/queue";
+import type { PaymentView, ReceiptView } from "../../shared/views/queue";
+export type { PaymentView, ReceiptView };
 
 export type PaymentRow = typeof schema.payment.$inferSelect;
 export type PaymentStatus = "creating" | "pending" | "failed" | "expired" | "authorized" | "captured" | "released" | "refunded";
@@ -684,24 +686,6 @@ export function receiptNumber(p: Pick<PaymentRow, "id" | "createdAt">): string {
   return `BL-${p.createdAt.toISOString().slice(0, 10).replace(/-/g, "")}-${p.id.slice(0, 8).toUpperCase()}`;
 }
 
-export interface PaymentView {
-  id: string;
-  status: string;
-  tier: string;
-  tierLabel: string;
-  amountCents: number;
-  currency: string;
-  deadlineMinutes: number;
-  checkoutUrl: string | null;
-  message: string | null;
-  cardBrand: string | null;
-  cardLast4: string | null;
-  authorizedAt: string | null;
-  capturedAt: string | null;
-  releasedAt: string | null;
-  refundedAt: string | null;
-  receiptNumber: string | null;
-}
 
 export function presentPayment(p: PaymentRow): PaymentView {
   const iso = (d: Date | null) => (d ? d.toISOString() : null);
@@ -755,22 +739,6 @@ export function shopBilling(ctx: AppContext, shopId: string): BillingView {
   };
 }
 
-export interface ReceiptView {
-  receiptNumber: string;
-  shopName: string;
-  caseId: string;
-  caseLabel: string;
-  tierLabel: string;
-  amountCents: number;
-  refundedCents: number;
-  currency: string;
-  status: string;
-  cardBrand: string | null;
-  cardLast4: string | null;
-  authorizedAt: string | null;
-  capturedAt: string | null;
-  refundedAt: string | null;
-}
 
 export function receiptFor(ctx: AppContext, shopId: string | null, paymentId: string): ReceiptView {
   const p = getPayment(ctx.db, paymentId);

@@ -37,6 +37,8 @@ import { getPricing } from "./pricing";
 import { assertCanSeeQueue, assertQueueAction, expertProfileOf, isApprovedExpert, type ExpertProfileRow } from "../auth/policies/queue";
 import { captureCasePayment, currentPayment, returnCaseMoney, releaseStrayHolds } from "./payments-flow";
 import { sweeps } from "./background";
+import type { QueueItem, QueueView } from "../../shared/views/queue";
+export type { QueueItem, QueueView };
 
 const { caseTable, caseOffer, expertProfile } = schema;
 const OPEN_STATES = ["claimed", "needs_data"] as const;
@@ -201,32 +203,7 @@ export async function notifyOffers(ctx: AppContext, caseId: string, expertIds: s
 // ---------------------------------------------------------------------------------------------
 // The expert's queue
 
-export interface QueueItem {
-  id: string;
-  label: string;
-  vehicle: { year: number | null; make: string | null; model: string | null; engine: string | null };
-  system: string | null;
-  codes: string[];
-  complaint: string | null;
-  tier: string | null;
-  priceCents: number | null;
-  expertShareCents: number | null;
-  currency: string;
-  deadlineAt: string | null;
-  queuedAt: string | null;
-  status: string;
-  offered: boolean;
-  offerRank: number | null;
-  offerWave: number | null;
-  traceCount: number;
-}
 
-export interface QueueView {
-  offers: QueueItem[];
-  queue: QueueItem[];
-  mine: QueueItem[];
-  me: { available: boolean; openCases: number; maxOpenCases: number; status: string } | null;
-}
 
 function presentItem(db: DbLike, c: CaseRow, offer: { rank: number; wave: number } | undefined, traceCounts: Map<string, number>): QueueItem {
   const qs = db.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, c.id)).get();

@@ -1,3 +1,4 @@
+import type { PaymentStatus } from "../../../shared/views/queue";
 import { sqliteTable, text, integer, real, index, uniqueIndex } from "drizzle-orm/sqlite-core";
 import { user } from "./auth";
 import { shop } from "./shops";
@@ -63,7 +64,7 @@ export const payment = sqliteTable(
     /** snapshots taken at submit, so a later price change does not touch this case */
     deskShareBasisPoints: integer("desk_share_bp").notNull(),
     deadlineMinutes: integer("deadline_minutes").notNull(),
-    status: text("status").notNull(),
+    status: text("status").$type<PaymentStatus>().notNull(),
     checkoutSessionId: text("checkout_session_id").unique(),
     checkoutUrl: text("checkout_url"),
     paymentIntentId: text("payment_intent_id").unique(),

@@ -1,5 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { api } from "../../../lib/api-client";
+import type { NotificationView as NotificationItem } from "../../../../shared/views/queue";
+export type { NotificationItem };
 
 export const notificationPaths = {
   list: "/api/notifications",
@@ -8,16 +10,6 @@ export const notificationPaths = {
 };
 export const notificationKeys = { list: ["notifications"] as const };
 
-export interface NotificationItem {
-  id: string;
-  kind: string;
-  caseId: string | null;
-  title: string;
-  body: string;
-  link: string | null;
-  read: boolean;
-  createdAt: string;
-}
 
 export const listNotifications = () => api.get<{ unread: number; items: NotificationItem[] }>(`${notificationPaths.list}?limit=30`);
 export const notificationsQuery = queryOptions({ queryKey: notificationKeys.list, queryFn: listNotifications });

@@ -1,4 +1,6 @@
 import type { CaseStatus } from "../../../../shared/domain/case-status";
+import type { PaymentView, AnswerView, ConfirmationView } from "../../../../shared/views/queue";
+export type { PaymentView, AnswerView, ConfirmationView };
 
 export interface Tier {
   id: string;
@@ -14,45 +16,8 @@ export interface PublicPricing {
   tiers: Tier[];
 }
 
-export interface PaymentView {
-  id: string;
-  status: "creating" | "pending" | "failed" | "expired" | "authorized" | "captured" | "released" | "refunded";
-  tier: string;
-  tierLabel: string;
-  amountCents: number;
-  currency: string;
-  deadlineMinutes: number;
-  checkoutUrl: string | null;
-  message: string | null;
-  cardBrand: string | null;
-  cardLast4: string | null;
-  authorizedAt: string | null;
-  capturedAt: string | null;
-  releasedAt: string | null;
-  refundedAt: string | null;
-  receiptNumber: string | null;
-}
 
-export interface AnswerView {
-  id: string;
-  round: number;
-  expertName: string | null;
-  diagnosis: string;
-  rootCause: string;
-  recommendedFix: string;
-  testsToConfirm: string;
-  safetyNote: string;
-  createdAt: string;
-}
 
-export interface ConfirmationView {
-  id: string;
-  fixed: boolean;
-  note: string | null;
-  rating: number | null;
-  userName: string | null;
-  createdAt: string;
-}
 
 export type WorkflowAbilities = Record<
   "read" | "history" | "submit" | "withdraw" | "claim" | "release" | "requestData" | "dataSent" | "answer" | "confirm" | "refund",
