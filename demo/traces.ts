@@ -44,7 +44,7 @@ export function coilSet(opts: {
     const fault = opts.faults[cyl] ?? "none";
     const g = generateSecondary({ seed: opts.seed + cyl, sampleRateHz: opts.sampleRateHz, rpm: opts.rpm, events: opts.events, fault, kvPerVolt: 10 });
     out.push(
-      build(`Coil ${cyl} (cylinder ${cyl})`, `${opts.filePrefix}_cyl${cyl}.csv`, g, { cylinder: cyl, coil: cyl, kvPerVolt: 10, triggerLevel: 0.3, triggerSlope: "rising" }, fault === "none" ? null : fault),
+      build(`Coil ${cyl}`, `${opts.filePrefix}_cyl${cyl}.csv`, g, { cylinder: cyl, coil: cyl, kvPerVolt: 10, triggerLevel: 0.3, triggerSlope: "rising" }, fault === "none" ? null : fault),
     );
   }
   return out;
