@@ -175,7 +175,19 @@ export function PlotSurface(props: PlotSurfaceProps) {
     uRef.current?.redraw(false, true);
   }, [props.model, props.xGrid.step, props.xGrid.anchor, props.yGrid.step, props.yGrid.anchor, props.levelUnit]);
 
-  return <div ref={hostRef} className="select-none" role="img" aria-label={props.ariaLabel} />;
+  // the shown time window (s) and level range (channel unit), readable from the DOM for browser tests
+  return (
+    <div
+      ref={hostRef}
+      className="select-none"
+      role="img"
+      aria-label={props.ariaLabel}
+      data-window-t0={props.view.t0}
+      data-window-t1={props.view.t1}
+      data-vmin={props.yRange.vMin}
+      data-vmax={props.yRange.vMax}
+    />
+  );
 
   function selectionOf(g: Gesture | null, u: uPlot): DrawModel["selection"] {
     if (g?.type === "select" && Math.abs(g.x1 - g.x0) >= 2) return { x0: g.x0, x1: g.x1, kind: "zoom" };
