@@ -52,6 +52,13 @@ export function guessKind(settings: Partial<CaptureSettings>, trace: AnalyzableT
     if (ex > 4 * Math.max(exQ, 3 * noise) && ex > 20 * noise) {
       return { kind: "secondary-ignition", from: "shape", reason: "short tall spikes over a quiet baseline, like firing lines" };
     }
+    // One firing in a short capture: its spark line fills the upper percentiles, but the firing line
+    // still stands far above them (a square or sine wave's extreme is close to its 90th percentile).
+    const exQ90 = up >= down ? histogramQuantile(p.v, 0.9, p.min, p.max) - med : med - histogramQuantile(p.v, 0.1, p.min, p.max);
+    const inAmps = p.baseUnit === "A" || settings.probe === "current-clamp";
+    if (!inAmps && ex > 5 * Math.max(exQ90, 3 * noise) && ex > 20 * noise && shortSpike(p.v, med, up >= down ? 1 : -1, ex)) {
+      return { kind: "secondary-ignition", from: "shape", reason: "a tall, short spike standing far above a lower plateau, like a firing line and its spark line" };
+    }
     if (Math.abs(med) < 0.1 * swing && m.frequencyHz != null && m.frequencyHz > 50 && q99 > 0.3 * -q01 && q99 < 3 * -q01) {
       return { kind: "crank", from: "shape", reason: `swings about 0 V ${Math.round(m.frequencyHz)} times a second, like a toothed wheel's sensor` };
     }
@@ -69,4 +76,12 @@ export function guessKind(settings: Partial<CaptureSettings>, trace: AnalyzableT
   if (settings.probe === "capacitive-secondary") return { kind: "secondary-ignition", from: "settings", reason: "a capacitive secondary pickup was used" };
   if (settings.probe === "current-clamp") return { kind: "relative-compression", from: "settings", reason: "a current clamp was used" };
   return { kind: "generic", from: "default", reason: "nothing in the settings or the shape points to a kind" };
+}
+
+/** True when fewer than 1 % of the samples lie beyond half the spike's height: a spike, not a pulse train. */
+function shortSpike(v: ArrayLike<number>, base: number, sign: 1 | -1, height: number): boolean {
+  const half = height / 2;
+  let beyond = 0;
+  for (let i = 0; i < v.length; i++) if (sign * (v[i] - base) > half) beyond++;
+  return beyond < 0.01 * v.length;
 }

@@ -13,11 +13,22 @@ describe("guessKind: a kind offered from the settings and the shape", () => {
     ["injector", generateInjector({ seed: 3 }).trace, "injector"],
     ["crank sensor", generateCrank({ seed: 4 }).trace, "crank"],
     ["starter current", generateCompression({ seed: 5 }).trace, "relative-compression"],
+    // one firing in a short capture: its spark line fills the upper percentiles (common practice, no source)
+    ["one firing at 200 kS/s", generateSecondary({ seed: 6, events: 1, sampleRateHz: 200e3 }).trace, "secondary-ignition"],
+    ["one firing at 1 MS/s", generateSecondary({ seed: 7, events: 1, sampleRateHz: 1e6 }).trace, "secondary-ignition"],
   ] as const)("from the shape: %s", (_n, trace, kind) => {
     const g = guessKind({}, trace);
     expect(g.kind).toBe(kind);
     expect(g.from).toBe("shape");
     expect(g.reason.length).toBeGreaterThan(10);
+  });
+
+  it("a pulse train with a small duty cycle is not taken for firing lines", () => {
+    // 5 % duty square wave, 0–5 V: its high level holds for 5 % of the samples, so it is not a spike
+    const square = makeTrace(100_000, [
+      { name: "A", unit: "V", values: Float32Array.from({ length: 20_000 }, (_, i) => (i % 1000 < 50 ? 5 : 0)) },
+    ]);
+    expect(guessKind({}, square).kind).not.toBe("secondary-ignition");
   });
 
   it("the settings' circuit or sensor text comes first", () => {

@@ -36,7 +36,12 @@ function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
         <div className="min-w-0 flex-1">
           <h3 id={`trace-${t.id}`} className="text-lg font-bold text-ink-900">
             {label}
-            {label !== t.name ? <span className="ml-2 text-sm font-normal text-ink-500">{t.name}</span> : null}
+            {label !== t.name ? (
+              <>
+                <span className="sr-only"> · </span>
+                <span className="ml-2 text-sm font-normal text-ink-500">{t.name}</span>
+              </>
+            ) : null}
           </h3>
           <p className="text-sm text-ink-600">
             {traceKindName(t.kind)} · {t.samples.toLocaleString("en-US")} samples

@@ -128,6 +128,7 @@ export function CodeChips({
           }}
           className={`${inputClass} font-mono uppercase placeholder:normal-case placeholder:font-sans`}
           placeholder="e.g. P0304"
+          aria-label="Trouble code to add"
           autoCapitalize="characters"
           autoComplete="off"
           spellCheck={false}
