@@ -19,6 +19,9 @@ import { AdminExpertsPage } from "./routes/admin/experts";
 import { CasePage } from "./routes/cases/case-page";
 import { CaseDraftPage } from "./routes/cases/draft";
 import { CasesListPage } from "./routes/cases/list";
+import { CasebookSearchPage } from "./routes/casebook/search-page";
+import { CasebookEntryPage } from "./routes/casebook/entry-page";
+import { CaseReportPage } from "./routes/report/report-page";
 
 /**
  * All client routes. Each area adds its pages here: signed-in pages go inside the RequireAuth
@@ -48,6 +51,9 @@ export const router = createBrowserRouter([
           // one element for both addresses, so the first save of a new case keeps the page's state
           { element: <CaseDraftPage />, children: [{ path: "cases/new" }, { path: "cases/:id/edit" }] },
           { path: "cases/:id", element: <CasePage /> },
+          { path: "cases/:id/report", element: <CaseReportPage /> },
+          { path: "casebook", element: <CasebookSearchPage /> },
+          { path: "casebook/:id", element: <CasebookEntryPage /> },
           { element: <RequireAuth roles={["owner", "technician"]} />, children: [{ path: "team", element: <TeamPage /> }] },
           {
             element: <RequireAuth roles={["owner"]} />,

@@ -14,6 +14,7 @@ export interface NavItem {
 export const navItems: NavItem[] = [
   { to: "/", label: "Home" },
   { to: "/cases", label: "Cases", roles: ["technician", "owner"] },
+  { to: "/casebook", label: "Casebook", roles: ["technician", "owner", "expert", "admin"] },
   { to: "/team", label: "Team", roles: ["owner", "technician"] },
   { to: "/admin/experts", label: "Experts", roles: ["admin"] },
   { to: "/queue", label: "Queue", roles: ["expert", "admin"] },

@@ -13,6 +13,7 @@ import { ApiError } from "../../../lib/api-client";
 import { CaseTraces, viewerInfo } from "./case-traces";
 import { LiveReview } from "./live-review";
 import { CaseWorkflowPanel } from "../queue/case-workflow-panel";
+import { SimilarCases } from "../../../features/casebook/components/similar-cases";
 
 /** The states in which the case has (or had) an expert on it: the live review is shown. */
 const LIVE_STATES = ["claimed", "needs_data", "answered", "resolved", "closed"];
@@ -89,6 +90,12 @@ export function CasePage() {
       ) : null}
 
       <CaseWorkflowPanel caseId={c.id} status={c.status} />
+      {["answered", "resolved", "closed"].includes(c.status) ? (
+        <Link to={`/cases/${encodeURIComponent(c.id)}/report`} className={`${buttonClass.secondary} no-print`}>
+          Printable report for the owner
+        </Link>
+      ) : null}
+      {["draft", "awaiting_payment", "queued", "claimed", "needs_data"].includes(c.status) && c.traces.length ? <SimilarCases caseId={c.id} version={c.traces.length} /> : null}
 
       <div className="grid gap-5 lg:grid-cols-2">
         <Section id="vehicle" title="Vehicle">

@@ -1,0 +1,27 @@
+import type { FacetDim } from "../../../../shared/schemas/casebook";
+
+export const facetTitles: Record<FacetDim, string> = {
+  make: "Make",
+  model: "Model",
+  year: "Model year",
+  engine: "Engine",
+  system: "System",
+  code: "Trouble code",
+  confirmed: "Outcome",
+};
+
+export const systemNames: Record<string, string> = {
+  ignition: "Ignition",
+  fuel: "Fuel delivery",
+  "starting-charging": "Starting / charging",
+  sensors: "Sensors",
+  networks: "Networks / modules",
+  "engine-mechanical": "Engine mechanical",
+  other: "Other",
+};
+
+export function formatDay(iso: string | null | undefined): string {
+  if (!iso) return "—";
+  const d = new Date(iso);
+  return Number.isNaN(d.getTime()) ? "—" : d.toLocaleDateString(undefined, { dateStyle: "medium" });
+}
