@@ -462,8 +462,13 @@ export class CasebookSearchEngine {
       phraseHas: db.prepare("SELECT 1 FROM casebook_fts WHERE casebook_fts MATCH ? AND rowid = ?").pluck(),
       rank: db.prepare(`SELECT rowid AS doc, ${BM25_CALL} AS s FROM casebook_fts WHERE casebook_fts MATCH ? ORDER BY rowid DESC LIMIT ?`).raw(),
       rankKeep: db.prepare(`SELECT rowid AS doc, ${BM25_CALL} AS s FROM casebook_fts WHERE casebook_fts MATCH ? AND casebook_keep(rowid) ORDER BY rowid DESC LIMIT ?`).raw(),
-      snippet: db.prepare(`SELECT snippet(casebook_fts, -1, char(2), char(3), '…', 18) FROM casebook_fts WHERE casebook_fts MATCH ? AND rowid = ?`).pluck(),
-      rows: db.prepare("SELECT doc_id, id, title, vehicle, code_list, root_cause, diagnosis, complaint, fix, symptoms, confirmed, published_at FROM casebook_entry WHERE doc_id = ?"),
+      // diagnosis (4), complaint (1), root cause (5), fix (6), else the best column: the first with a match wins
+      snippet: db
+        .prepare(
+          `SELECT ${[4, 1, 5, 6, -1].map((c) => `snippet(casebook_fts, ${c}, char(2), char(3), '…', 18)`).join(", ")} FROM casebook_fts WHERE casebook_fts MATCH ? AND rowid = ?`,
+        )
+        .raw(),
+      rows: db.prepare("SELECT doc_id, id, title, vehicle, year, make, model, engine, code_list, root_cause, diagnosis, complaint, fix, symptoms, confirmed, published_at FROM casebook_entry WHERE doc_id = ?"),
     };
   }
 
@@ -832,6 +837,10 @@ export class CasebookSearchEngine {
       id: string;
       title: string;
       vehicle: string;
+      year: number | null;
+      make: string | null;
+      model: string | null;
+      engine: string | null;
       code_list: string;
       root_cause: string;
       diagnosis: string;
@@ -844,7 +853,10 @@ export class CasebookSearchEngine {
     let snippet = "";
     // snippet() of FTS5 with the words as complete words (cheap); a row that matched only through
     // the start of a longer word gets its snippet here instead
-    if (snippetMatch) snippet = (this.stmts.snippet.get(snippetMatch, BigInt(doc)) as string | undefined) ?? "";
+    if (snippetMatch) {
+      const cols = (this.stmts.snippet.get(snippetMatch, BigInt(doc)) as string[] | undefined) ?? [];
+      snippet = cols.find((x) => x && x.includes(SNIPPET_OPEN_CHAR)) ?? "";
+    }
     if (!snippet && tokens.length) snippet = prefixSnippet([r.diagnosis, r.complaint, r.root_cause, r.fix, r.symptoms, r.vehicle], tokens);
     if (!snippet) snippet = clip(r.diagnosis || r.complaint, 200);
     let codes: string[] = [];
@@ -856,7 +868,7 @@ export class CasebookSearchEngine {
     return {
       id: r.id,
       title: r.title,
-      vehicle: r.vehicle,
+      vehicle: vehicleLabel(r),
       codes,
       rootCause: r.root_cause,
       snippet,
@@ -917,6 +929,11 @@ export function prefixSnippet(texts: string[], tokens: string[]): string {
 }
 const SNIPPET_OPEN_CHAR = "\u0002";
 const SNIPPET_CLOSE_CHAR = "\u0003";
+
+/** "2016 Veltra Sabre 2.0 I4" from the entry's facet columns. */
+export function vehicleLabel(r: { year: number | null; make: string | null; model: string | null; engine: string | null }): string {
+  return [r.year, r.make, r.model, r.engine].filter((x) => x != null && String(x).trim() !== "").join(" ");
+}
 
 function clip(s: string, n: number): string {
   const t = (s ?? "").replace(/\s+/g, " ").trim();

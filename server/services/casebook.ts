@@ -26,7 +26,7 @@ import type {
   SimilarCasesResult,
 } from "../../shared/schemas/casebook";
 import { anonymiseCase, describeCodes, type CasebookEntryInput } from "./anonymise";
-import { facetKey, facetTags } from "./casebook-search-engine";
+import { facetKey, facetTags, vehicleLabel } from "./casebook-search-engine";
 import { casePattern, entryPattern, FEATURE_VERSION, hasWaveformFeatures, patternVector, similarIndex, similarityReasons, vectorToBlob } from "./similar";
 import { listTraces } from "./traces";
 
@@ -118,7 +118,7 @@ function buildRow(input: CasebookEntryInput, rev: number, now: Date, scrub: bool
     hidden: false,
     rev,
     publishedAt: input.publishedAt ?? now,
-    updatedAt: now,
+    updatedAt: input.publishedAt ?? now,
   };
   let vector: BuiltRow["vector"] = null;
   if (input.pattern) {
@@ -389,7 +389,7 @@ export function similarForCase(ctx: AppContext, caseId: string, limit = 5): Simi
   const matches = ix.nearest(v, limit, own ? new Set([own.id]) : undefined);
   if (matches.length === 0) return { caseId, note: "The casebook has no entries with measured traces yet.", results: [] };
   const rows = ctx.db
-    .select({ id: casebookEntry.id, title: casebookEntry.title, vehicle: casebookEntry.vehicle, codeList: casebookEntry.codeList, rootCause: casebookEntry.rootCause, hidden: casebookEntry.hidden })
+    .select({ id: casebookEntry.id, title: casebookEntry.title, year: casebookEntry.year, make: casebookEntry.make, model: casebookEntry.model, engine: casebookEntry.engine, codeList: casebookEntry.codeList, rootCause: casebookEntry.rootCause, hidden: casebookEntry.hidden })
     .from(casebookEntry)
     .where(inArray(casebookEntry.id, matches.map((m) => m.entryId)))
     .all();
@@ -403,7 +403,7 @@ export function similarForCase(ctx: AppContext, caseId: string, limit = 5): Simi
     results.push({
       id: r.id,
       title: r.title,
-      vehicle: r.vehicle,
+      vehicle: vehicleLabel(r),
       codes: r.codeList,
       rootCause: r.rootCause,
       similarity: m.similarity,

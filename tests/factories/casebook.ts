@@ -107,7 +107,7 @@ export function syntheticEntry(rng: Rng, i: number, opts: { dense?: boolean; bas
   const year = rng.int(1998, 2024);
   return {
     vehicle: { year, make, model, engine: rng.pick(CASEBOOK_ENGINES), fuel: rng.pick(["gasoline", "gasoline", "diesel", "hybrid"]), transmission: rng.pick(["automatic", "manual"]), mileage: rng.int(10, 300) * 1000, mileageUnit: "km" },
-    complaint: fill(story[0]) + (extra ? ` ${extra}` : ""),
+    complaint: fill(story[0]) + "." + (extra ? ` ${extra}` : ""),
     symptoms: system === "ignition" ? ["Misfire"] : [],
     codes,
     system,
