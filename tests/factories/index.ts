@@ -5,3 +5,4 @@ export * from "./shops";
 export * from "./experts";
 export * from "./sign-in";
 export * from "./mail";
+export * from "./casebook";

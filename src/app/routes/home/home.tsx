@@ -3,6 +3,7 @@ import { useMe, type Me } from "../../../features/auth/api/get-me";
 import { roleLabels } from "../../../features/auth/lib/labels";
 import { Card, buttonClass } from "../../../components/ui/form";
 import { ExpertStatusCard } from "../../../features/experts/components/expert-status";
+import { ExpertCasebookRecordCard } from "../../../features/casebook/components/expert-record";
 import { ApplicationsList } from "../../../features/experts/components/applications-list";
 import { expertPages } from "../../../features/experts/api/paths";
 import { teamPages } from "../../../features/team/api/paths";
@@ -79,6 +80,7 @@ export function HomePage() {
         </div>
       ) : null}
       {m.role === "expert" ? <ExpertStatusCard /> : null}
+      {m.role === "expert" ? <ExpertCasebookRecordCard expertId={m.id} /> : null}
       {m.role === "admin" ? (
         <section aria-labelledby="awaiting-title" className="space-y-3">
           <div className="flex flex-wrap items-center justify-between gap-2">
