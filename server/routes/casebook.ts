@@ -12,6 +12,7 @@ import { getCaseRow } from "../services/cases";
 import { getTraceRow, traceWindow } from "../services/traces";
 import { searchCasebook, warmCasebookSearch } from "../services/casebook-search";
 import { editEntry, entryOfTrace, entryTrace, expertRecord, listHiddenEntries, readEntry, similarForCase, voteEntry, withHelpfulCounts } from "../services/casebook";
+import { similarIndex } from "../services/similar";
 import { z } from "zod";
 
 const entryTraceParams = z.object({ id: idParamSchema.shape.id, traceId: idParamSchema.shape.id });
@@ -24,8 +25,15 @@ const entryTraceParams = z.object({ id: idParamSchema.shape.id, traceId: idParam
 export function casebookRoutes(ctx: AppContext, auth: Auth): Router {
   const r = Router();
   if (ctx.env.NODE_ENV !== "test") {
-    // load the search worker's arrays before the first search needs them
-    setTimeout(() => void warmCasebookSearch(ctx).catch((err) => ctx.logger.warn({ err }, "casebook search warm-up failed")), 2000).unref();
+    // load the search worker's arrays and the similar-case vectors before the first request needs them
+    setTimeout(() => {
+      void warmCasebookSearch(ctx).catch((err) => ctx.logger.warn({ err }, "casebook search warm-up failed"));
+      try {
+        similarIndex(ctx.db);
+      } catch (err) {
+        ctx.logger.warn({ err }, "similar-case index warm-up failed");
+      }
+    }, 2000).unref();
   }
 
   r.get("/casebook/search", async (req, res) => {
