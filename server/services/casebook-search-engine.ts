@@ -930,7 +930,7 @@ export function prefixSnippet(texts: string[], tokens: string[]): string {
 const SNIPPET_OPEN_CHAR = "\u0002";
 const SNIPPET_CLOSE_CHAR = "\u0003";
 
-/** "2016 Veltra Sabre 2.0 I4" from the entry's facet columns. */
+/** "2016 Veltra Quillon 2.0 I4" from the entry's facet columns. */
 export function vehicleLabel(r: { year: number | null; make: string | null; model: string | null; engine: string | null }): string {
   return [r.year, r.make, r.model, r.engine].filter((x) => x != null && String(x).trim() !== "").join(" ");
 }

@@ -10,11 +10,11 @@ import { createRng, type Rng } from "../helpers/prng";
 
 /** Invented vehicle makes and their models (no real brands). */
 export const CASEBOOK_MAKES: Record<string, string[]> = {
-  Veltra: ["Sabre", "Corsa", "Linden", "Ardent"],
+  Veltra: ["Quillon", "Lumen", "Linden", "Ardent"],
   Korrin: ["Dune", "Vale", "Ridge"],
-  Astaro: ["Pulse", "Meridian", "Fjord", "Tessel"],
-  Marlec: ["Brio", "Cinder"],
-  Oruna: ["Tide", "Sorrel", "Kestrel"],
+  Astaro: ["Talus", "Ostrel", "Fjord", "Tessel"],
+  Marlec: ["Caddow", "Cinder"],
+  Oruna: ["Tide", "Sorrel", "Wrenlow"],
   Pellan: ["Arc", "Nimbus"],
 };
 export const CASEBOOK_ENGINES = ["1.0 I3", "1.4 I4", "1.6 I4", "2.0 I4", "2.0 I4 turbo", "2.5 I5", "3.0 V6", "3.5 V6", "5.0 V8"];

@@ -82,7 +82,7 @@ beforeAll(async () => {
   adminAgent = await signIn(server, admin);
 
   caseId = await newCase(tech, {
-    vehicle: { vin: VIN, year: 2019, make: "Veltra", model: "Sabre", engine: "2.0 I4 turbo", mileage: 84_321, mileageUnit: "km" },
+    vehicle: { vin: VIN, year: 2019, make: "Veltra", model: "Quillon", engine: "2.0 I4 turbo", mileage: 84_321, mileageUnit: "km" },
     complaint: `Misfire under load on the motorway. Customer Mrs Feldhaus (call ${PLANTED.phones[0]} or ${PLANTED.phones[2]}) says it started after a wash. Ask ${TECH_NAME} at ${SHOP_NAME}, ${PLANTED.emails[0]}.`,
     codes: ["P0304"],
     system: "ignition",
@@ -124,7 +124,7 @@ const search = (agent: SignedInAgent, params: Record<string, string>) => agent.g
 
 describe("publishing and search", () => {
   it("finds the resolved case by a word of its diagnosis, a stemmed form, its code and its make", async () => {
-    for (const q of ["breakdown", "winding", "misfiring", "misfire", "misfires", "P0304", "Veltra", "veltra sabre", "insul"]) {
+    for (const q of ["breakdown", "winding", "misfiring", "misfire", "misfires", "P0304", "Veltra", "veltra quillon", "insul"]) {
       const res = await search(otherTech, { q });
       expect(res.status, q).toBe(200);
       expect(res.body.results.map((r: { id: string }) => r.id), q).toContain(entryId);
@@ -145,14 +145,14 @@ describe("publishing and search", () => {
     expect(Object.keys(hit)).toEqual(expect.arrayContaining(["id", "title", "vehicle", "codes", "rootCause", "snippet", "score"]));
     expect(hit.codes).toEqual(["P0304"]);
     expect(hit.snippet).toContain(`${SNIPPET_OPEN}winding${SNIPPET_CLOSE}`);
-    expect(hit.title).toMatch(/^2019 Veltra Sabre 2\.0 I4 turbo: Coil 4 secondary winding insulation breakdown/);
+    expect(hit.title).toMatch(/^2019 Veltra Quillon 2\.0 I4 turbo: Coil 4 secondary winding insulation breakdown/);
     const entry = await otherTech.get(`/api/casebook/${entryId}`);
     expect(entry.status).toBe(200);
     expect(entry.body.safetyNote).toMatch(/tens of kilovolts/);
     expect(entry.body.safetyNote).toMatch(/manufacturer's procedure, local codes and licensed practice/);
     expect(entry.body.answer.rootCause).toMatch(/insulation breakdown/);
     expect(entry.body.outcome).toMatchObject({ confirmed: true, rating: 5 });
-    expect(entry.body.vehicle).toMatchObject({ year: 2019, make: "Veltra", model: "Sabre", mileage: 84_000, vinModel: "1M8GDM9A*KP******" });
+    expect(entry.body.vehicle).toMatchObject({ year: 2019, make: "Veltra", model: "Quillon", mileage: 84_000, vinModel: "1M8GDM9A*KP******" });
     expect(entry.body.traces).toHaveLength(4);
     expect(entry.body.annotations).toEqual([expect.objectContaining({ traceId: traceIds[3], kind: "span", t0: 0.001, t1: 0.0016, label: "Short burn here — [name], [phone]" })]);
     expect(entry.body.comparison.outliers.map((o: { traceId: string; metric: string }) => [o.traceId, o.metric])).toContainEqual([traceIds[3], "burnTimeMs"]);

@@ -115,7 +115,7 @@ describe("invitations", () => {
     // Changed rule (security review): a 409 here told any owner — and anyone can sign up as one —
     // whether an address is registered. OWASP Authentication Cheat Sheet, "Authentication and
     // Error Messages" / account enumeration: answer the same for registered and unknown addresses.
-    const team = await createShopTeam(s, { technicians: 0, name: "Kestrel Yard" });
+    const team = await createShopTeam(s, { technicians: 0, name: "Wrenlow Yard" });
     const elsewhere = await createShopTeam(s, { technicians: 1 });
     const owner = await signIn(s, team.owner);
     const expert = await createUser(s, { role: "expert" });
@@ -152,7 +152,7 @@ describe("invitations", () => {
       const notice = await waitForMail(s, u.email, "invited you", since);
       expect(notice.subject).toBe(toFresh.subject);
       expect(notice.text).toContain("already has a Burnline account");
-      expect(notice.text).toContain("Kestrel Yard");
+      expect(notice.text).toContain("Wrenlow Yard");
       expect(notice.links.some((l) => new URL(l).pathname.startsWith("/accept-invite"))).toBe(false);
       expect(notice.links.some((l) => /token=/.test(l))).toBe(false);
     }

@@ -26,7 +26,7 @@ export const casebookEntry = sqliteTable(
     expertId: text("expert_id").references(() => user.id, { onDelete: "set null" }),
     title: text("title").notNull(),
     // ---- the indexed text (flattened, anonymised) ----
-    /** "2016 Veltra Sabre 2.0 I4 gasoline automatic" */
+    /** "2016 Veltra Quillon 2.0 I4 gasoline automatic" */
     vehicle: text("vehicle").notNull().default(""),
     complaint: text("complaint").notNull().default(""),
     /** symptom labels, conditions, tests already done and parts already replaced */

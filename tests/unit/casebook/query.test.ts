@@ -29,7 +29,7 @@ describe("facet tokens", () => {
   it("are single unicode61 tokens that the porter stemmer leaves as written", () => {
     const db = new Database(":memory:");
     db.exec("CREATE VIRTUAL TABLE t USING fts5(x, tokenize='porter unicode61'); CREATE VIRTUAL TABLE v USING fts5vocab(t, 'row');");
-    const tags = facetTags({ make: "Veltra", model: "Sabre ST", year: 2016, engine: "2.0 I4 turbo", system: "ignition", codes: ["P0303", "p0351"], confirmed: true });
+    const tags = facetTags({ make: "Veltra", model: "Quillon ST", year: 2016, engine: "2.0 I4 turbo", system: "ignition", codes: ["P0303", "p0351"], confirmed: true });
     db.prepare("INSERT INTO t(x) VALUES (?)").run(tags);
     const terms = db.prepare("SELECT term FROM v ORDER BY term").pluck().all();
     expect(terms).toEqual(tags.split(" ").sort());
