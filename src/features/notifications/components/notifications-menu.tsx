@@ -25,7 +25,8 @@ export function NotificationsMenu({ signedIn }: { signedIn: boolean }) {
   if (!signedIn) return null;
   const unread = q.data?.unread ?? 0;
   return (
-    <div className="relative" ref={ref}>
+    // On a phone the panel spans the screen (8 px margins) instead of hanging off its left edge.
+    <div className="sm:relative" ref={ref}>
       <button
         type="button"
         aria-expanded={open}
@@ -41,7 +42,7 @@ export function NotificationsMenu({ signedIn }: { signedIn: boolean }) {
         ) : null}
       </button>
       {open ? (
-        <div id={panelId} className="absolute right-0 z-40 mt-2 w-[22rem] max-w-[90vw] rounded-xl border border-ink-200 bg-white p-2 text-ink-900 shadow-lg">
+        <div id={panelId} className="absolute inset-x-2 z-40 mt-2 rounded-xl sm:inset-x-auto sm:right-0 sm:w-[22rem] sm:max-w-[90vw] border border-ink-200 bg-white p-2 text-ink-900 shadow-lg">
           <div className="flex items-center justify-between px-2 py-1">
             <p className="font-bold">Notices</p>
             {unread > 0 ? (
