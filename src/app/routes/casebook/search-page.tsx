@@ -16,6 +16,8 @@ export function CasebookSearchPage() {
   const q = useCasebookSearch(params);
   const [text, setText] = useState(params.q ?? "");
   const [years, setYears] = useState({ from: params.yearFrom ?? "", to: params.yearTo ?? "" });
+  // on a phone the filters fold away behind a button, so the results come right after the search
+  const [filtersOpen, setFiltersOpen] = useState(false);
   useEffect(() => setText(sp.get("q") ?? ""), [sp]);
 
   const update = (changes: Partial<Record<keyof CasebookSearchParams, string | undefined>>, keepPage = false) => {
@@ -57,7 +59,7 @@ export function CasebookSearchPage() {
         <input
           id="casebook-q"
           type="search"
-          className={`${inputClass} min-w-0 flex-1`}
+          className={`${inputClass} min-w-[12rem] flex-1`}
           placeholder="e.g. misfire coil 4, P0303, crank sensor hot"
           value={text}
           maxLength={200}
@@ -76,7 +78,16 @@ export function CasebookSearchPage() {
       </form>
 
       <div className="grid gap-5 lg:grid-cols-[minmax(0,18rem)_minmax(0,1fr)]">
-        <aside aria-label="Filters" className="space-y-4">
+        <button
+          type="button"
+          className={`${buttonClass.secondary} lg:hidden`}
+          aria-expanded={filtersOpen}
+          aria-controls="casebook-filters"
+          onClick={() => setFiltersOpen((o) => !o)}
+        >
+          {filtersOpen ? "Hide the filters" : "Filter by make, model, code…"}
+        </button>
+        <aside id="casebook-filters" aria-label="Filters" className={`space-y-4 ${filtersOpen ? "" : "hidden"} lg:block`}>
           {data ? (
             <>
               {FILTER_DIMS.map((d) => (
