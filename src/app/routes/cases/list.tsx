@@ -5,6 +5,7 @@ import { CaseList } from "../../../features/cases/components/case-list";
 import type { CaseListParams } from "../../../features/cases/api/list-cases";
 import { casePages } from "../../../features/cases/api/paths";
 import { buttonClass } from "../../../features/cases/components/ui";
+import { useMe } from "../../../features/auth/api/get-me";
 
 function readParams(sp: URLSearchParams): CaseListParams {
   const int = (k: string, d: number, max: number) => {
@@ -41,15 +42,20 @@ function writeParams(p: CaseListParams): URLSearchParams {
 export function CasesListPage() {
   const [sp, setSp] = useSearchParams();
   const params = readParams(sp);
+  const role = useMe().data?.role;
+  // cases are opened by a shop's technicians and owners; experts and admins only see them
+  const canOpen = role === "technician" || role === "owner";
   return (
     <div className="space-y-4">
       <div className="flex flex-wrap items-center justify-between gap-3">
         <h1 className="text-2xl font-bold">Cases</h1>
-        <Link to={casePages.new} className={buttonClass.primary}>
-          Open a case
-        </Link>
+        {canOpen ? (
+          <Link to={casePages.new} className={buttonClass.primary}>
+            Open a case
+          </Link>
+        ) : null}
       </div>
-      <CaseList params={params} onChange={(p) => setSp(writeParams(p), { replace: true })} />
+      <CaseList params={params} canOpen={canOpen} onChange={(p) => setSp(writeParams(p), { replace: true })} />
     </div>
   );
 }

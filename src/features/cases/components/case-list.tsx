@@ -95,7 +95,7 @@ function useDebounced<T>(value: T, ms = 300): T {
  * The shop's cases: filters, sortable columns and pages, all worked out by the server. On a
  * phone the rows become cards; the table itself scrolls sideways inside its box if it must.
  */
-export function CaseList({ params, onChange }: { params: CaseListParams; onChange: (p: CaseListParams) => void }) {
+export function CaseList({ params, onChange, canOpen = true }: { params: CaseListParams; onChange: (p: CaseListParams) => void; /** false for experts and admins, who do not open cases */ canOpen?: boolean }) {
   const list = useCaseList(params);
   const [q, setQ] = useState(params.q ?? "");
   const [vehicle, setVehicle] = useState(params.vehicle ?? "");
@@ -226,10 +226,16 @@ export function CaseList({ params, onChange }: { params: CaseListParams; onChang
           ) : (
             <>
               <p className="text-lg font-semibold">No cases yet.</p>
-              <p className="mt-1 text-ink-600">Open a case with the vehicle, the complaint and your scope captures; an expert answers it.</p>
-              <Link to={casePages.new} className={`${buttonClass.primary} mt-4`}>
-                Open your first case
-              </Link>
+              {canOpen ? (
+                <>
+                  <p className="mt-1 text-ink-600">Open a case with the vehicle, the complaint and your scope captures; an expert answers it.</p>
+                  <Link to={casePages.new} className={`${buttonClass.primary} mt-4`}>
+                    Open your first case
+                  </Link>
+                </>
+              ) : (
+                <p className="mt-1 text-ink-600">The cases you claim from the queue are listed here.</p>
+              )}
             </>
           )}
         </div>
