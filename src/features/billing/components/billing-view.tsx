@@ -36,7 +36,7 @@ export function BillingView() {
       <p className="text-sm text-ink-600">A payment is held on the card when a case is submitted and charged only when the expert answers; a missed deadline or a withdrawal releases it.</p>
       <Card title="Payments">
         {b.payments.length === 0 ? (
-          <p className="text-ink-600">No payments yet.</p>
+          <p className="text-ink-600">No payments yet. A payment appears here when one of the shop's cases is sent to the desk; it is charged only when the expert answers.</p>
         ) : (
           <div className="overflow-x-auto">
             <table className="w-full text-left text-sm">
