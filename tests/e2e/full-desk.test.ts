@@ -271,7 +271,7 @@ describe.sequential("the whole desk, two people in two browsers", () => {
         await page.locator("main").waitFor();
         await page.waitForLoadState("networkidle");
         // nothing wider than the screen: no sideways scrolling of the page itself
-        const scrollWidth = await page.evaluate(() => document.documentElement.scrollWidth);
+        const scrollWidth = await page.evaluate<number>("document.documentElement.scrollWidth");
         expect(scrollWidth, `${p} at ${width} px`).toBeLessThanOrEqual(width);
       }
       // the notices panel opens inside the screen
