@@ -62,7 +62,7 @@ export const DEMO_CASES: DemoCase[] = [
   // ---- claimed, live: four coils, cylinder 3's coil breaking down; expert and tech talking now
   {
     key: "live-coil",
-    shop: "copperfield",
+    shop: "cinderwick",
     by: "dana",
     final: "claimed",
     openedAt: -95,
@@ -99,7 +99,7 @@ export const DEMO_CASES: DemoCase[] = [
   // ---- queued: wide plug gap on cylinder 2, waiting for an expert (the demo expert may claim it)
   {
     key: "queued-gap",
-    shop: "copperfield",
+    shop: "cinderwick",
     by: "theo",
     final: "queued",
     openedAt: -50,
@@ -122,7 +122,7 @@ export const DEMO_CASES: DemoCase[] = [
   // ---- needs data: injector 4 closes late; the fuel expert asked for another capture
   {
     key: "needs-data-injector",
-    shop: "northgate",
+    shop: "harrowvale",
     by: "marcus",
     final: "needs_data",
     openedAt: -5 * HOUR,
@@ -195,7 +195,7 @@ export const DEMO_CASES: DemoCase[] = [
   // ---- resolved: damaged reluctor tooth, crank sensor codes, confirmed fixed
   {
     key: "resolved-reluctor",
-    shop: "copperfield",
+    shop: "cinderwick",
     by: "dana",
     final: "resolved",
     openedAt: -12 * DAY,
@@ -234,7 +234,7 @@ export const DEMO_CASES: DemoCase[] = [
   // ---- resolved: fouled plug on cylinder 1
   {
     key: "resolved-fouled",
-    shop: "northgate",
+    shop: "harrowvale",
     by: "marcus",
     final: "resolved",
     openedAt: -9 * DAY,
@@ -313,7 +313,7 @@ export const DEMO_CASES: DemoCase[] = [
   // ---- withdrawn: paid, then the shop found the fault itself before anyone claimed it
   {
     key: "withdrawn",
-    shop: "copperfield",
+    shop: "cinderwick",
     by: "theo",
     final: "withdrawn",
     openedAt: -3 * DAY,
@@ -337,7 +337,7 @@ export const DEMO_CASES: DemoCase[] = [
   // ---- refunded by the desk: sent twice by mistake
   {
     key: "refunded",
-    shop: "northgate",
+    shop: "harrowvale",
     by: "marcus",
     final: "refunded",
     openedAt: -5 * DAY,
@@ -384,7 +384,7 @@ export const DEMO_CASES: DemoCase[] = [
   // ---- draft: a healthy crank capture and most of the form filled in, not yet submitted
   {
     key: "draft",
-    shop: "copperfield",
+    shop: "cinderwick",
     by: "dana",
     final: "draft",
     openedAt: -25,

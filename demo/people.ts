@@ -31,25 +31,25 @@ export const DEMO_MAKES = ["Veltra", "Korrin", "Astaro", "Meridane", "Tovak"] as
 
 export const DEMO_SHOPS: DemoShop[] = [
   {
-    key: "copperfield",
-    name: "Copperfield Auto Works",
+    key: "cinderwick",
+    name: "Cinderwick Auto Works",
     owner: { key: "ravi", email: "owner@burnline.test", name: "Ravi Castellan", color: "#d4831f" },
     technicians: [
       { key: "dana", email: "tech@burnline.test", name: "Dana Whitlock", color: "#2f8f83" },
-      { key: "theo", email: "theo.varga@copperfield.test", name: "Theo Varga", color: "#3b7dd8" },
+      { key: "theo", email: "theo.varga@cinderwick.test", name: "Theo Varga", color: "#3b7dd8" },
     ],
   },
   {
-    key: "northgate",
-    name: "Northgate Motor Bay",
-    owner: { key: "priya", email: "priya.lund@northgate.test", name: "Priya Lund", color: "#b5485d" },
-    technicians: [{ key: "marcus", email: "marcus.obi@northgate.test", name: "Marcus Obi", color: "#5a8f29" }],
+    key: "harrowvale",
+    name: "Harrowvale Motor Bay",
+    owner: { key: "priya", email: "priya.lund@harrowvale.test", name: "Priya Lund", color: "#b5485d" },
+    technicians: [{ key: "marcus", email: "marcus.obi@harrowvale.test", name: "Marcus Obi", color: "#5a8f29" }],
   },
   {
     key: "lantern",
-    name: "Lantern Lane Repairs",
-    owner: { key: "hollis", email: "hollis.grey@lanternlane.test", name: "Hollis Grey", color: "#8a6d3b" },
-    technicians: [{ key: "sunita", email: "sunita.rao@lanternlane.test", name: "Sunita Rao", color: "#c2562f" }],
+    name: "Quillby Lane Repairs",
+    owner: { key: "hollis", email: "hollis.grey@quillbylane.test", name: "Hollis Grey", color: "#8a6d3b" },
+    technicians: [{ key: "sunita", email: "sunita.rao@quillbylane.test", name: "Sunita Rao", color: "#c2562f" }],
   },
 ];
 

@@ -2,8 +2,8 @@
 export const DEMO_PASSWORD = "burnline-demo";
 
 export const DEMO_SIGN_INS: { email: string; label: string }[] = [
-  { email: "tech@burnline.test", label: "Technician at Copperfield Auto Works" },
-  { email: "owner@burnline.test", label: "Owner of Copperfield Auto Works (same shop as the technician)" },
+  { email: "tech@burnline.test", label: "Technician at Cinderwick Auto Works" },
+  { email: "owner@burnline.test", label: "Owner of Cinderwick Auto Works (same shop as the technician)" },
   { email: "expert@burnline.test", label: "Expert, approved, ignition specialist" },
   { email: "admin@burnline.test", label: "Desk admin" },
 ];

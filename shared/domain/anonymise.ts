@@ -216,7 +216,7 @@ function namePatterns(ctx: ScrubContext): NamePattern[] {
   };
   const orgs = (ctx.organisations ?? []).map((s) => (s ?? "").trim()).filter(Boolean);
   const names = (ctx.names ?? []).map((s) => (s ?? "").trim()).filter(Boolean);
-  // longest first, so "Northgate Motor Bay" goes before "Northgate"
+  // longest first, so "Harrowvale Motor Bay" goes before "Harrowvale"
   for (const o of [...orgs].sort((a, b) => b.length - a.length)) full(o, REDACTED.shop);
   for (const n of [...names].sort((a, b) => b.length - a.length)) full(n, REDACTED.name);
   for (const o of orgs) for (const w of o.split(/[^A-Za-zÀ-ÖØ-öø-ÿĀ-ſ0-9'’]+/).filter(Boolean)) part(w, REDACTED.shop, GENERIC_BUSINESS_WORDS);

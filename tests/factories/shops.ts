@@ -5,7 +5,7 @@ import { createUser, type CreatedUser, type CreateUserOptions } from "./users";
 export type ShopRow = typeof schema.shop.$inferSelect;
 
 /** Invented shop names for tests and the demo (no real businesses). */
-const SHOP_NAMES = ["Copperfield Auto Works", "Northgate Motor Bay", "Ridgeway Service Garage", "Lantern Lane Repairs", "Harrow Street Motors"];
+const SHOP_NAMES = ["Cinderwick Auto Works", "Harrowvale Motor Bay", "Tollbright Service Garage", "Quillby Lane Repairs", "Emberlow Street Motors"];
 
 /** Inserts a shop (the tenant). */
 export async function createShop(on: HasCtx, opts: { name?: string; id?: string } = {}): Promise<ShopRow> {

@@ -94,7 +94,7 @@ describe("the demo scenario", () => {
 
   it("flags the planted faulty coil as the odd one out, and only it", async () => {
     const tech = await signIn(server, { email: "tech@burnline.test", password: DEMO_PASSWORD });
-    const theo = await signIn(server, { email: "theo.varga@copperfield.test", password: DEMO_PASSWORD });
+    const theo = await signIn(server, { email: "theo.varga@cinderwick.test", password: DEMO_PASSWORD });
     for (const [key, agent] of [["live-coil", tech], ["queued-gap", theo]] as const) {
       const gen = generated.get(key)!;
       const ids = result.traces[key];
