@@ -1,6 +1,7 @@
 import { Link } from "react-router-dom";
 import { formatCents } from "../../../../shared/domain/money";
 import { Card, Notice } from "../../../components/ui/form";
+import { LoadingBlock, MoneyTotals } from "../../../components/ui/money-totals";
 import { billingPages, useBilling } from "../api/get-billing";
 
 const words: Record<string, string> = {
@@ -15,24 +16,20 @@ const date = (iso: string | null) => (iso ? new Date(iso).toLocaleDateString(und
 /** The owner's billing: totals and every payment with its receipt. */
 export function BillingView() {
   const q = useBilling();
-  if (q.isPending) return <div className="h-40 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading billing" />;
+  if (q.isPending) return <LoadingBlock label="Loading billing" />;
   if (q.isError) return <Notice tone="error" title="Billing is not available">{q.error.message}</Notice>;
   const b = q.data;
   const m = (c: number) => formatCents(c, b.currency.toUpperCase());
   return (
     <div className="space-y-5">
-      <div className="grid gap-3 sm:grid-cols-3">
-        {[
+      <MoneyTotals
+        currency={b.currency}
+        items={[
           ["Charged", b.totals.chargedCents],
           ["Held now", b.totals.heldCents],
           ["Refunded", b.totals.refundedCents],
-        ].map(([k, v]) => (
-          <Card key={k as string}>
-            <p className="text-sm text-ink-500">{k}</p>
-            <p className="text-2xl font-bold text-ink-900">{m(v as number)}</p>
-          </Card>
-        ))}
-      </div>
+        ]}
+      />
       <p className="text-sm text-ink-600">A payment is held on the card when a case is submitted and charged only when the expert answers; a missed deadline or a withdrawal releases it.</p>
       <Card title="Payments">
         {b.payments.length === 0 ? (

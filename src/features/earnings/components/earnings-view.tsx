@@ -1,6 +1,7 @@
 import { Link } from "react-router-dom";
 import { formatCents } from "../../../../shared/domain/money";
 import { Card, Notice } from "../../../components/ui/form";
+import { LoadingBlock, MoneyTotals } from "../../../components/ui/money-totals";
 import { useEarnings } from "../api/get-earnings";
 
 const date = (iso: string | null) => (iso ? new Date(iso).toLocaleDateString(undefined, { dateStyle: "medium" }) : "—");
@@ -8,24 +9,20 @@ const date = (iso: string | null) => (iso ? new Date(iso).toLocaleDateString(und
 /** The expert's earnings: totals, each answered case's split, and payouts. */
 export function EarningsView() {
   const q = useEarnings();
-  if (q.isPending) return <div className="h-40 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading earnings" />;
+  if (q.isPending) return <LoadingBlock label="Loading earnings" />;
   if (q.isError) return <Notice tone="error" title="Earnings are not available">{q.error.message}</Notice>;
   const e = q.data;
   const m = (c: number) => formatCents(c, e.currency.toUpperCase());
   return (
     <div className="space-y-5">
-      <div className="grid gap-3 sm:grid-cols-3">
-        {[
+      <MoneyTotals
+        currency={e.currency}
+        items={[
           ["Earned", e.totals.earnedCents - e.totals.reversedCents],
           ["Paid out", e.totals.paidCents],
           ["Not paid out yet", e.totals.unpaidCents + e.totals.pendingPayoutCents],
-        ].map(([k, v]) => (
-          <Card key={k as string}>
-            <p className="text-sm text-ink-500">{k}</p>
-            <p className="text-2xl font-bold text-ink-900">{m(v as number)}</p>
-          </Card>
-        ))}
-      </div>
+        ]}
+      />
       <Card title="Answered cases">
         {e.cases.length === 0 ? (
           <p className="text-ink-600">No earnings yet. Your share is added when the shop's payment is charged, at your answer.</p>
