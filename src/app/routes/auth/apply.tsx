@@ -7,7 +7,7 @@ import { expertApplicationSchema, expertSystems } from "../../../../shared/schem
 import { useApplyExpert } from "../../../features/auth/api/apply-expert";
 import { authPages } from "../../../features/auth/api/paths";
 import { AuthLayout } from "../../../features/auth/components/auth-layout";
-import { DevMailHint } from "../../../features/auth/components/dev-mail-hint";
+import { LinkSent } from "../../../features/auth/components/link-sent";
 import { applyServerErrors } from "../../../features/auth/lib/form-errors";
 import { passwordHint } from "../../../features/auth/lib/password-hint";
 import { systemLabels } from "../../../features/auth/lib/labels";
@@ -69,17 +69,9 @@ export function ApplyPage() {
 
   if (sentTo) {
     return (
-      <AuthLayout title="Application received">
-        <Notice tone="success" title="Confirm your e-mail address">
-          We have sent a confirmation link to <strong>{sentTo}</strong>. After you confirm it, the desk reviews your application; you can sign in and see its status meanwhile.
-          <DevMailHint />
-        </Notice>
-        <p className="mt-4">
-          <Link className={buttonClass.secondary} to={authPages.signIn}>
-            Go to sign-in
-          </Link>
-        </p>
-      </AuthLayout>
+      <LinkSent title="Application received" noticeTitle="Confirm your e-mail address" email={sentTo}>
+        After you confirm it, the desk reviews your application; you can sign in and see its status meanwhile.
+      </LinkSent>
     );
   }
 

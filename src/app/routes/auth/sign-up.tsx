@@ -8,7 +8,7 @@ import { passwordHint } from "../../../features/auth/lib/password-hint";
 import { useSignUpShop } from "../../../features/auth/api/sign-up-shop";
 import { authPages } from "../../../features/auth/api/paths";
 import { AuthLayout } from "../../../features/auth/components/auth-layout";
-import { DevMailHint } from "../../../features/auth/components/dev-mail-hint";
+import { LinkSent } from "../../../features/auth/components/link-sent";
 import { applyServerErrors } from "../../../features/auth/lib/form-errors";
 import { Notice, PasswordField, TextField, buttonClass } from "../../../components/ui/form";
 
@@ -36,17 +36,9 @@ export function SignUpPage() {
 
   if (sentTo) {
     return (
-      <AuthLayout title="Check your e-mail">
-        <Notice tone="success" title="One more step">
-          We have sent a confirmation link to <strong>{sentTo}</strong>. Open it, then sign in.
-          <DevMailHint />
-        </Notice>
-        <p className="mt-4">
-          <Link className={buttonClass.secondary} to={authPages.signIn}>
-            Go to sign-in
-          </Link>
-        </p>
-      </AuthLayout>
+      <LinkSent title="Check your e-mail" noticeTitle="One more step" email={sentTo}>
+        Open it, then sign in.
+      </LinkSent>
     );
   }
 
