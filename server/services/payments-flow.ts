@@ -19,7 +19,7 @@ import type { AppContext } from "../context";
 import { schema } from "../db/client";
 import type { Actor } from "../auth/session";
 import { HttpError, conflict, notFound } from "../http/errors";
-import { formatCents, splitCents } from "../../shared/domain/money";
+import { formatCents, splitBetween, splitCents } from "../../shared/domain/money";
 import { ledgerBalance, recordLedger } from "./ledger";
 import { quoteTier } from "./pricing";
 import {
@@ -415,7 +415,8 @@ function recordRefundsInTx(tx: Tx, p: PaymentRow, charge: Stripe.Charge, effects
   const delta = charge.amount_refunded - already;
   if (delta <= 0) return;
   const c = loadCase(tx, p.caseId);
-  const { deskCents, expertCents } = splitCents(delta, p.deskShareBasisPoints);
+  // cumulative, so partial refunds reverse exactly the shares taken at capture, to the cent
+  const { deskCents, expertCents } = splitBetween(already, charge.amount_refunded, p.deskShareBasisPoints);
   const base = { currency: p.currency, caseId: p.caseId, paymentId: p.id, stripeId: charge.id, at: now };
   const upto = charge.amount_refunded;
   recordLedger(tx, { ...base, key: `refund:${p.id}:${upto}`, kind: "refund", amountCents: delta });

@@ -32,6 +32,18 @@ export function splitCents(totalCents: number, deskShareBasisPoints: number): { 
   return { deskCents: desk, expertCents: totalCents - desk };
 }
 
+/**
+ * The split of the part of a total between two running amounts (e.g. a refund taking the refunded
+ * total from `fromCents` to `toCents`), computed as split(to) − split(from), so that however a total
+ * is taken in pieces the pieces' shares add up to the share of the whole — no cent drifts.
+ */
+export function splitBetween(fromCents: number, toCents: number, deskShareBasisPoints: number): { deskCents: number; expertCents: number } {
+  if (toCents < fromCents) throw new RangeError(`toCents (${toCents}) must not be below fromCents (${fromCents}).`);
+  const a = splitCents(fromCents, deskShareBasisPoints);
+  const b = splitCents(toCents, deskShareBasisPoints);
+  return { deskCents: b.deskCents - a.deskCents, expertCents: b.expertCents - a.expertCents };
+}
+
 /** Sum of amounts in cents, checked. */
 export function sumCents(amounts: readonly number[]): number {
   let total = 0;

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { assertCents, formatCents, parseCents, splitCents, sumCents } from "../../../shared/domain/money";
+import { assertCents, formatCents, parseCents, splitBetween, splitCents, sumCents } from "../../../shared/domain/money";
 
 describe("splitCents", () => {
   it("desk + expert = total for every total and share (no rounding loss)", () => {
@@ -109,5 +109,31 @@ describe("parseCents", () => {
     // spaces inside the number are not read as grouping either ("1 2" is not 12)
     expect(parseCents("1 2")).toBeNull();
     expect(parseCents("  12.50 ")).toBe(1250);
+  });
+});
+
+describe("splitBetween", () => {
+  // Project rule (issue 5): every cent is accounted for. Worked by hand: 1001 ¢ at a 20 % desk share
+  // splits 200 / 801 (floor of 200.2 to the desk). Refunded as 334 + 334 + 333, the cumulative
+  // splits are split(334) = 66/268, split(668) = 133/535, split(1001) = 200/801, so the three
+  // reversals are 66/268, 67/267, 67/266 — adding up to 200/801 exactly. Splitting each piece on
+  // its own would give 66/268 three times less a cent: 198/803, two cents adrift.
+  it("pieces taken in turn add up to the split of the whole", () => {
+    const parts = [
+      splitBetween(0, 334, 2000),
+      splitBetween(334, 668, 2000),
+      splitBetween(668, 1001, 2000),
+    ];
+    expect(parts).toEqual([
+      { deskCents: 66, expertCents: 268 },
+      { deskCents: 67, expertCents: 267 },
+      { deskCents: 67, expertCents: 266 },
+    ]);
+    expect(parts.reduce((s, p) => s + p.deskCents, 0)).toBe(200);
+    expect(parts.reduce((s, p) => s + p.expertCents, 0)).toBe(801);
+  });
+
+  it("refuses a running amount that goes down", () => {
+    expect(() => splitBetween(500, 400, 2000)).toThrow(RangeError);
   });
 });
