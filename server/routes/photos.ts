@@ -3,8 +3,9 @@ import { Router } from "express";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
-import { assertCanReadCase, assertCaseAction } from "../auth/policies/cases";
+import { assertCaseAction } from "../auth/policies/cases";
 import { noteNewMaterial } from "../services/queue";
+import { assertCanViewCase } from "../auth/policies/queue";
 import { badRequest } from "../http/errors";
 import { parseParams } from "../http/validate";
 import { idParamSchema } from "../../shared/schemas/traces";
@@ -44,7 +45,7 @@ export function photoRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
     const p = getPhotoRow(ctx, id);
-    assertCanReadCase(actor, p ? getCaseRow(ctx.db, p.caseId) : undefined, "Photo");
+    assertCanViewCase(ctx.db, actor, p ? getCaseRow(ctx.db, p.caseId) : undefined, "Photo");
     const abs = photoFilePath(ctx, p!);
     const stat = await fs.promises.stat(abs);
     res.set({

@@ -26,6 +26,10 @@ describe("a queued case before and after the claim", () => {
     const caseId = insertDraftCase(server, { shopId: team.shop.id, createdBy: team.technicians[0].id });
     const up = await tech.post(`/api/cases/${caseId}/traces`).field("settings", settings).attach("file", Buffer.from(csv), "coil1.csv");
     expect(up.status, JSON.stringify(up.body)).toBe(201);
+    // a real 1×1 PNG (PNG signature, ISO/IEC 15948): the photo shown on the case page
+    const png = Buffer.from("89504e470d0a1a0a0000000d4948445200000001000000010806000000" + "1f15c4890000000d49444154789c6360000002000154a24f5d0000000049454e44ae426082", "hex");
+    const photo = await tech.post(`/api/cases/${caseId}/photos`).attach("file", png, "bay.png");
+    expect(photo.status, JSON.stringify(photo.body)).toBe(201);
     await submitAndPay(server, tech, caseId);
     expect(caseRow(server, caseId).status).toBe("queued");
 
@@ -39,7 +43,9 @@ describe("a queued case before and after the claim", () => {
 
     expect((await a.get(`/api/cases/${caseId}`)).status).toBe(200);
     expect((await a.get(`/api/traces/${up.body.id}/window?width=100`)).status).toBe(200);
+    expect((await a.get(`/api/photos/${photo.body.id}`)).status).toBe(200);
     expect((await p.get(`/api/cases/${caseId}`)).status).toBe(404);
+    expect((await p.get(`/api/photos/${photo.body.id}`)).status).toBe(404);
     expect((await p.get(`/api/traces/${up.body.id}/window?width=100`)).status).toBe(404);
     expect((await stranger.get(`/api/cases/${caseId}`)).status).toBe(404);
 
@@ -48,6 +54,7 @@ describe("a queued case before and after the claim", () => {
     expect((await a.get(`/api/cases/${caseId}`)).status).toBe(200);
     expect((await o.get(`/api/cases/${caseId}`)).status).toBe(404);
     expect((await o.get(`/api/traces/${up.body.id}/window?width=100`)).status).toBe(404);
+    expect((await o.get(`/api/photos/${photo.body.id}`)).status).toBe(404);
 
     // The expert asks for another capture; the tech's upload hands the case back.
     const ask = await a.post(`/api/cases/${caseId}/request-data`).set("Origin", server.url).send({ message: "Capture coil 2 at 1 ms/div, 2 kV/div" });
