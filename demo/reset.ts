@@ -8,7 +8,6 @@ import fs from "node:fs";
 import path from "node:path";
 import { loadEnv } from "../server/env";
 import { startServer } from "../server/index";
-import { stopAnalysisWorker } from "../server/uploads/analysis";
 import { storageLayout } from "../server/services/storage";
 import { whenMailSent } from "../server/services/notifications";
 import { seedDemo, DEMO_PASSWORD, DEMO_SIGN_INS } from "./seed";
@@ -57,7 +56,6 @@ async function main(): Promise<void> {
   } finally {
     await whenMailSent();
     await server.close();
-    await stopAnalysisWorker();
   }
   console.log(`\nDone in ${((performance.now() - started) / 1000).toFixed(1)} s. Start the app with \`npm start\`.`);
 }

@@ -12,6 +12,11 @@ import { startMailCatcher } from "./fakes/smtp";
 import { startFakeStripe } from "./fakes/stripe/index";
 import { attachRealtime } from "./realtime/index";
 import { startBackground } from "./services/background";
+import { stopAnalysisWorker } from "./uploads/analysis";
+import { stopCasebookSearch } from "./services/casebook-search";
+
+/** Servers running in this process; the analysis worker is shared by them and stops with the last. */
+let running = 0;
 
 export interface RunningServer {
   url: string;
@@ -74,6 +79,7 @@ export async function startServer(overrides: Partial<Record<keyof Env, string>> 
   const background = startBackground(ctx);
 
   const url = resolvedEnv.publicUrl;
+  running++;
   return {
     url,
     port,
@@ -87,6 +93,8 @@ export async function startServer(overrides: Partial<Record<keyof Env, string>> 
       server.closeAllConnections?.();
       await fakeStripe?.close();
       await mailCatcher?.close();
+      await stopCasebookSearch(ctx);
+      if (--running === 0) await stopAnalysisWorker();
       db.$client.close();
     },
   };
