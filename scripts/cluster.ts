@@ -181,6 +181,15 @@ async function main(): Promise<void> {
       void stop(0);
     });
   }
+  // `npm run cluster` puts npm and a shell above the launcher; a SIGTERM to npm ends both without
+  // reaching the launcher. Being orphaned (a new parent) is then the signal to stop.
+  const parent = process.ppid;
+  setInterval(() => {
+    if (process.ppid !== parent && !stopping) {
+      say("The process that started the cluster is gone: stopping the cluster…");
+      void stop(0);
+    }
+  }, 1000).unref();
   sup.onUnexpectedExit = (p) => {
     const how = p.exited?.signal ?? `code ${p.exited?.code}`;
     if (!p.critical) return p.name.startsWith("node-") && say(`${p.name} exited (${how}); the balancer sends its traffic to the others.`);
