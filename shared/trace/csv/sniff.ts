@@ -262,6 +262,8 @@ export class Preamble {
     if (p >= 0 && looksLikeUnitsRow(candidate.row, from, to) && usable(buf[p]) && buf[p].count >= to && !looksLikeUnitsRow(buf[p].row, from, to)) {
       return { header: buf[p], unitsRow: candidate };
     }
+    // a units row with no names row above it names no channel
+    if (looksLikeUnitsRow(candidate.row, from, to)) return { header: null, unitsRow: candidate };
     return { header: candidate, unitsRow: null };
   }
 
