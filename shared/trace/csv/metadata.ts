@@ -37,22 +37,23 @@ const METADATA_NUMBER = /^([-+]?)((?:\d|[.,](?=\d))(?:[\d.,]|[ \u00a0\u2009\u202
 /** Keys that give the time between samples. */
 const INTERVAL_KEY = new RegExp(
   [
-    "sampl\\w*\\s*(interval|period|increment|step|time)",
-    "x\\s*increment",
+    "sampl\\w*?[\\s_]*(interval|period|increment|step|time)",
+    "x[\\s_]*increment",
     "\\bxinc\\b",
-    "^dt\\b",
-    "^delta\\s*t\\b",
+    "^(dt|dx|ts)\\b",
+    "^delta[\\s_]*[tx]\\b",
     "^interval\\b",
     "^increment\\b",
-    "time\\s*(interval|step|increment|resolution)",
-    "^time\\s*per\\s*(sample|point)",
-    "^h(oriz\\w*)?\\s*resolution\\b",
-    "^(log(ging)?|scan|record(ing)?|measurement|measuring|acquisition|data)\\s*interval\\b",
+    "^clock\\b",
+    "time[\\s_]*(interval|step|increment|resolution)",
+    "^time[\\s_]*per[\\s_]*(sample|point)",
+    "^h(oriz\\w*)?[\\s_]*resolution\\b",
+    "^(log(ging)?|scan|record(ing)?|measurement|measuring|acquisition|data)[\\s_]*interval\\b",
   ].join("|"),
   "i",
 );
 /** Keys that give the number of samples per second. */
-const RATE_KEY = /(sampl\w*\s*(rate|frequency|freq)|^fs\b|^(scan|logging|acquisition|record(ing)?)\s*(rate|frequency)\b)/i;
+const RATE_KEY = /(sampl\w*?[\s_]*(rate|frequency|freq)|^fs\b|^(scan|logging|acquisition|record(ing)?)[\s_]*(rate|frequency)\b)/i;
 
 /** Comment marks and quotes at the start of a metadata line. */
 const LEAD = /^[\s#;%!*/"']+/;

@@ -170,6 +170,29 @@ describe("names and units", () => {
   });
 });
 
+describe("the sample interval as headers write it", () => {
+  it.each([
+    // interval in seconds unless a unit follows (SI prefixes, BIPM Table 7); rate = 1 / interval
+    ["#CLOCK=4.0000E-09", 2.5e8],
+    ["TIME_INTERVAL=0.001", 1000],
+    ["SAMPLE_RATE=1000", 1000],
+    ["DX=2e-6", 5e5],
+    ["Sampling Period,4.000E-06", 2.5e5],
+    ["Time interval\t\t  :,0.08uS", 1.25e7],
+    ["Sample Interval,Analog:1.00E-06", 1e6],
+  ])("%s → %d S/s", async (line, rate) => {
+    const { sampleRateFromMetadata } = await import("../../../shared/trace/parse");
+    expect(relErr(sampleRateFromMetadata(line)!, rate)).toBeLessThan(1e-9);
+  });
+
+  it("a clock time or a clock frequency is not a sample interval", async () => {
+    const { sampleRateFromMetadata } = await import("../../../shared/trace/parse");
+    expect(sampleRateFromMetadata("Clock: 12:30:00")).toBeUndefined();
+    expect(sampleRateFromMetadata("CLOCK=48MHz")).toBeUndefined();
+    expect(sampleRateFromMetadata("Sample time: 2022-06-06 18:43")).toBeUndefined();
+  });
+});
+
 describe("values and time as loggers and scopes write them", () => {
   it("whole numbers with a stated size per ADC code are multiplied by it", () => {
     const codes = Array.from({ length: 40 }, (_, k) => Math.round(50 * Math.sin(k / 4)));
