@@ -34,6 +34,8 @@ import { columnLabel, quote } from "./words";
 export const CONFIRM_RUN = 16;
 /** Rows buffered before the data start is decided anyway. */
 const PREAMBLE_CAP = 5000;
+/** Characters of rows buffered before the data start is decided anyway (long lines count too). */
+const PREAMBLE_CHARS = 2 * 1024 * 1024;
 
 export interface BufferedRow {
   line: number;
@@ -124,6 +126,7 @@ export class Preamble {
   private buffered: BufferedRow[] = [];
   private runCount = 0;
   private runShape = -1;
+  private chars = 0;
   sawContent = false;
 
   constructor(private readonly ctx: SniffContext) {}
@@ -137,6 +140,7 @@ export class Preamble {
       return null;
     }
     this.sawContent = true;
+    for (const f of row) this.chars += f.length + 1;
     const shape = shapeOf(row, count);
     const b = { line, row, count, shape };
     this.buffered.push(b);
@@ -149,11 +153,12 @@ export class Preamble {
       this.runShape = -1;
     }
     if (this.runCount >= CONFIRM_RUN) return this.decide(this.buffered.length - this.runCount);
-    if (this.buffered.length >= PREAMBLE_CAP) {
+    if (this.buffered.length >= PREAMBLE_CAP || this.chars >= PREAMBLE_CHARS) {
       if (this.buffered.some(runRow)) return this.decide(-1);
       // a very long preamble: keep its metadata and the last lines (header candidates)
       for (const x of this.buffered.slice(0, this.buffered.length - 32)) this.noteMetadata(x);
       this.buffered = this.buffered.slice(this.buffered.length - 32);
+      this.chars = this.buffered.reduce((a, x) => a + x.row.reduce((b, f) => b + f.length + 1, 0), 0);
     }
     return null;
   }

@@ -92,6 +92,19 @@ describe("a line longer than the bound", () => {
   });
 });
 
+describe("a long preamble of long lines", () => {
+  it("is read past the preamble's character budget, and its metadata is kept", () => {
+    // 60 comment lines of 60,000 characters (3.6 M characters, beyond the 2 MiB budget), a line
+    // stating the interval, then the data: 1 / 1e-4 s = 10 kS/s (definition)
+    const comments = Array.from({ length: 60 }, (_, i) => `# note ${i} ${"x".repeat(60_000)}`);
+    const data = Array.from({ length: 40 }, (_, i) => `${i % 7}`);
+    const t = parseTraceText([...comments, "Sample interval: 1e-4", "Channel A (V)", ...data].join("\n"));
+    expect(t.samples).toBe(40);
+    expect(t.sampleRateHz).toBe(10_000);
+    expect(t.channels[0]).toMatchObject({ name: "Channel A", unit: "V" });
+  });
+});
+
 describe("binary bytes anywhere in the file", () => {
   const rows = (n: number) => Array.from({ length: n }, (_, i) => `${i * 1e-3},${i % 10}`);
 
