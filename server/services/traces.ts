@@ -6,7 +6,7 @@ import type { Actor } from "../auth/session";
 import { assertCanAddTrace } from "../auth/policies/traces";
 import { badRequest, tooLarge } from "../http/errors";
 import { parseTraceFile } from "../traces/parse-file";
-import { openTraceData, writeTraceData, type TraceData } from "../traces/store";
+import { openTraceData, storedChannels, writeTraceData, type TraceData } from "../traces/store";
 import { TraceParseError, type ParsedTrace, type TraceWindow } from "../../shared/trace/types";
 import type { CaptureSettings } from "../../shared/schemas/capture-settings";
 import type { TraceWindowQuery } from "../../shared/schemas/traces";
@@ -140,7 +140,7 @@ export async function addTrace(
       sampleRateHz: parsed.sampleRateHz,
       t0: parsed.t0,
       durationS: parsed.durationS,
-      channels: parsed.channels.map((c) => ({ name: c.name, unit: c.unit, min: c.min, max: c.max })),
+      channels: storedChannels(parsed),
       warnings: parsed.warnings,
     };
     parsed = null; // the arrays are on disk now; let them go before the analysis reads them back

@@ -30,7 +30,7 @@ import fs from "node:fs";
 import fsp from "node:fs/promises";
 import path from "node:path";
 import { randomBytes } from "node:crypto";
-import type { ParsedTrace, TraceChannel, TraceWindow } from "../../shared/trace/types";
+import { channelMeta, type ParsedTrace, type TraceChannel, type TraceChannelMeta, type TraceWindow } from "../../shared/trace/types";
 import { buildPyramid, BlockScanner, PYRAMID_BASE_BLOCK, type MinMaxLevel } from "../../shared/trace/pyramid";
 import { assembleWindow, bucketBoundaries, bucketOf, checkWindow } from "../../shared/trace/decimate";
 
@@ -48,11 +48,8 @@ export interface TraceDataLevel {
   maxOffset: number;
 }
 
-export interface TraceDataChannel {
-  name: string;
-  unit: string | null;
-  min: number;
-  max: number;
+/** A channel in the file's header: its metadata (shared/trace/types TraceChannelMeta) and pyramid. */
+export interface TraceDataChannel extends TraceChannelMeta {
   levels: TraceDataLevel[];
 }
 
@@ -153,7 +150,7 @@ export async function writeTraceData(dir: string, id: string, trace: ParsedTrace
       minOffset: add(l.min),
       maxOffset: add(l.max),
     }));
-    return { name: c.name, unit: c.unit, min: c.min, max: c.max, levels };
+    return { ...channelMeta(c), levels };
   });
   let time: TraceDataHeader["time"] = null;
   if (trace.time) {
@@ -450,6 +447,14 @@ export function forgetTraceData(file: string): void {
   openCache.delete(path.resolve(file));
 }
 
+/**
+ * The channel metadata kept with a trace (the API's and the database's `channels`): name, unit as
+ * normalised by the parser, extremes, and where the unit came from (shared/trace/types channelMeta).
+ */
+export function storedChannels(trace: Pick<ParsedTrace, "channels">): TraceChannelMeta[] {
+  return trace.channels.map(channelMeta);
+}
+
 /** Reads the full arrays of a trace data file back as a ParsedTrace. */
 export async function readChannels(file: string): Promise<ParsedTrace> {
   assertLittleEndian();
@@ -474,7 +479,7 @@ export async function readChannels(file: string): Promise<ParsedTrace> {
         }
       }
     }
-    const channels: TraceChannel[] = header.channels.map((c, ci) => ({ name: c.name, unit: c.unit, min: c.min, max: c.max, values: out[ci] }));
+    const channels: TraceChannel[] = header.channels.map(({ levels: _levels, ...meta }, ci) => ({ ...meta, values: out[ci] }));
     const time = header.time ? await readF64(fh, dataStart + header.time.offset, n) : null;
     return {
       samples: n,

@@ -1,6 +1,7 @@
 import { sqliteTable, text, integer, real, index } from "drizzle-orm/sqlite-core";
 import { user } from "./auth";
 import { shop } from "./shops";
+import type { TraceChannelMeta } from "../../../shared/trace/types";
 
 export const caseTable = sqliteTable(
   "case",
@@ -87,7 +88,7 @@ export const trace = sqliteTable(
     t0: real("t0").notNull().default(0),
     durationS: real("duration_s").notNull(),
     /** JSON [{ name, unit, min, max }] */
-    channels: text("channels", { mode: "json" }).$type<{ name: string; unit: string | null; min: number; max: number }[]>().notNull(),
+    channels: text("channels", { mode: "json" }).$type<TraceChannelMeta[]>().notNull(),
     /** JSON analysis result computed once at upload (shared/analysis) */
     analysis: text("analysis", { mode: "json" }).$type<Record<string, unknown>>(),
     /** the file name as uploaded (shown and used for the download; never a path on disk) */

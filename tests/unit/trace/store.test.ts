@@ -129,3 +129,21 @@ describe("trace data store", () => {
     await expect(openTraceData(file)).rejects.toThrow(/not a trace data file/);
   });
 });
+
+describe("channel metadata kept with a trace", () => {
+  it("the file unit as normalised, where it came from and how values were derived survive the store", async () => {
+    // a units row of words ("Volt", the volt) and a stated size per ADC code (definition: value =
+    // code × size); what the parser found is what the stored file and the API give back
+    const { parseTraceText } = await import("../../../shared/trace/parse");
+    const { storedChannels } = await import("../../../server/traces/store");
+    const volts = parseTraceText("X,CH1\nSecond,Volt\n0,1\n1e-3,2\n2e-3,3\n");
+    const codes = parseTraceText(`Sample interval: 1e-6\nVoltage per ADC value: 40mV\nData\n${[1, -2, 3].join("\n")}\n`);
+    expect(storedChannels(volts)).toEqual([{ name: "CH1", unit: "V", min: 1, max: 3, unitWritten: "Volt", unitFrom: "header" }]);
+    expect(storedChannels(codes)[0]).toMatchObject({ unit: "mV", unitFrom: "metadata", min: -80, max: 120 });
+    const { path: file } = await writeTraceData(dir, "meta-1", codes);
+    const back = await readChannels(file);
+    expect(back.channels[0]).toMatchObject({ unit: "mV", unitFrom: "metadata", scaledFrom: "ADC codes × 40 mV per code (line 2)" });
+    const opened = await openTraceData(file);
+    expect(opened.header.channels[0]).toMatchObject({ name: "A", unit: "mV", unitFrom: "metadata" });
+  });
+});

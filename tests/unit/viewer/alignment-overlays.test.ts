@@ -12,6 +12,7 @@ import {
   type PlotFrame,
 } from "../../../src/features/traces/lib/overlay-geometry";
 import { TRACE_PALETTE, traceColor, withAlpha } from "../../../src/features/traces/lib/palette";
+import { channelUnits } from "../../../src/features/traces/lib/units";
 import type { Annotation, TraceInfo } from "../../../src/features/traces/types";
 
 const trace = (extra: Partial<TraceInfo> = {}): TraceInfo => ({
@@ -66,54 +67,75 @@ describe("alignment for the overlay", () => {
 });
 
 describe("event markers", () => {
-  // The analysis reports value = raw × unit factor × kV-per-volt (shared/analysis/analyze.ts); the viewer undoes it.
-  it("takes kV back to pickup volts with the kV-per-volt scale: 12 kV at 10 kV/V is 1.2 V (hand-computed)", () => {
-    const a = { unit: "kV" };
-    expect(analysisToPlot(12, a, { kvPerVolt: 10 }, "V")).toBeCloseTo(1.2, 12);
-    expect(analysisToPlot(12, a, { kvPerVolt: 10 }, "mV")).toBeCloseTo(1200, 9);
-    expect(analysisToPlot(1.5, { unit: "V" }, undefined, "V")).toBe(1.5);
-    // a file recorded in kV without a pickup scale: reported in kV as it is
-    expect(analysisToPlot(8, { unit: "kV" }, undefined, "kV")).toBeCloseTo(8, 12);
+  // Markers are drawn in the channel's physical unit (shared/trace/units channelUnits): kV at the
+  // plug for a pickup with a kV/V scale (volts at the scope × kV/V), amperes through a clamp
+  // (volts ÷ mV/A × 1000), a kV file as it is. Pickup scales in kV/V and clamp scales in mV/A are
+  // common practice, no source.
+  const volts = channelUnits("V");
+  const pickup = channelUnits("V", { probe: "capacitive-secondary", kvPerVolt: 10 });
+  const pickupMv = channelUnits("mV", { probe: "capacitive-secondary", kvPerVolt: 10 });
+  const kvFile = channelUnits("kV", { probe: "capacitive-secondary", kvPerVolt: 10 });
+  const clamp = channelUnits("V", { probe: "current-clamp", mvPerAmp: 100 });
+
+  it("puts the analysis's values in the physical unit: 12 kV stays 12 kV; 1.2 V at the scope × 10 kV/V is 12 kV", () => {
+    expect(analysisToPlot(12, { unit: "kV" }, pickup)).toBeCloseTo(12, 12);
+    expect(analysisToPlot(12, { unit: "kV" }, pickupMv)).toBeCloseTo(12, 12);
+    expect(analysisToPlot(1.2, { unit: "V" }, pickup)).toBeCloseTo(12, 12);
+    expect(analysisToPlot(1.5, { unit: "V" }, volts)).toBe(1.5);
+    // a file recorded in kV: reported in kV as it is, the pickup scale not applied again
+    expect(analysisToPlot(8, { unit: "kV" }, kvFile)).toBeCloseTo(8, 12);
+    // a clamp at 100 mV/A: 0.5 V at the scope ÷ 0.1 V/A = 5 A (hand-computed); 5 A stays 5 A
+    expect(analysisToPlot(0.5, { unit: "V" }, clamp)).toBeCloseTo(5, 12);
+    expect(analysisToPlot(5, { unit: "A" }, clamp)).toBeCloseTo(5, 12);
   });
 
   it("spans the burn time from the firing line: 1.5 ms from 20 ms ends at 21.5 ms, shifted by the overlay offset", () => {
     const analysis = { kind: "secondary-ignition", unit: "V", events: [{ timeS: 0.02, peak: 9, burnTimeMs: 1.5, burnLevel: 1.2 }] };
-    const [m] = eventMarkers(analysis, { voltsPerDiv: 2, timePerDivS: 1e-3 }, "V");
+    const [m] = eventMarkers(analysis, volts);
     expect(m.tFire).toBe(0.02);
     expect(m.tStart).toBe(0.02);
     expect(m.tEnd).toBeCloseTo(0.0215, 12);
     expect(m.peakLevel).toBe(9);
     expect(m.burnLevel).toBe(1.2);
-    const [s] = eventMarkers(analysis, { voltsPerDiv: 2, timePerDivS: 1e-3 }, "V", 0.02);
+    const [s] = eventMarkers(analysis, volts, 0.02);
     expect(s.tFire).toBe(0);
     expect(s.tEnd).toBeCloseTo(0.0015, 12);
   });
 
   it("draws the spark line where the analysis found it when it gives its start and end", () => {
     const analysis = { kind: "secondary-ignition", unit: "V", events: [{ timeS: 0.01, burnTimeMs: 1.4, burnLevel: 1, sparkStartS: 0.01002, sparkEndS: 0.0114 }] };
-    const [m] = eventMarkers(analysis, undefined, "V");
+    const [m] = eventMarkers(analysis, volts);
     expect(m.tStart).toBe(0.01002);
     expect(m.tEnd).toBe(0.0114);
   });
 
   it("puts magnitudes on the firing line's side of the baseline: below it for an inverted capture", () => {
-    // baseline 0.5 V, inverted: peak 9 V → 0.5 − 9 = −8.5 V; burn level 1.2 V → −0.7 V (hand-computed)
+    // baseline 0.5 kV, inverted: peak 9 kV → 0.5 − 9 = −8.5 kV; burn level 1.2 kV → −0.7 kV (hand-computed)
     const analysis = {
       kind: "secondary-ignition",
-      unit: "V",
+      unit: "kV",
       summary: { baseline: 0.5, polarity: "negative" as const },
       events: [{ timeS: 0, peak: 9, burnLevel: 1.2, burnTimeMs: 1 }],
     };
-    const [m] = eventMarkers(analysis, undefined, "V");
+    const [m] = eventMarkers(analysis, pickup);
     expect(m.peakLevel).toBe(-8.5);
     expect(m.burnLevel).toBeCloseTo(-0.7, 12);
     expect(isInverted({ findings: [{ code: "inverted" }] })).toBe(true);
-    expect(eventMarkers(null, undefined, "V")).toEqual([]);
+    expect(eventMarkers(null, volts)).toEqual([]);
   });
 
   it("marks only the time of events of other kinds (their peaks are not heights above a baseline)", () => {
-    const [m] = eventMarkers({ kind: "relative-compression", unit: "A", events: [{ timeS: 0.15, peak: 40 }] }, undefined, "A");
+    const [m] = eventMarkers({ kind: "relative-compression", unit: "A", events: [{ timeS: 0.15, peak: 40 }] }, clamp);
     expect(m).toEqual({ tFire: 0.15, peakLevel: null, tStart: null, tEnd: null, burnLevel: null, burnTimeMs: null });
+  });
+});
+
+describe("alignment level", () => {
+  it("takes the trigger level from the scope's unit into the file's: 300 mV typed for a file in mV is 300 mV", () => {
+    const tr = trace({ channels: [{ name: "A", unit: "mV", min: 0, max: 900 }], settings: { voltsPerDiv: 0.2, timePerDivS: 1e-3, triggerLevel: 0.3 } });
+    // scope unit V (shared/trace/units: a file in mV has its settings typed in volts); 0.3 V = 300 mV
+    const cu = channelUnits("mV");
+    expect(alignmentLevel(tr, null, 1 / cu.scopeFromFile)).toBeCloseTo(300, 9);
   });
 });
 

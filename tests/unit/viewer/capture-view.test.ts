@@ -60,6 +60,22 @@ describe("capture view", () => {
     expect(captureTimeWindow(1e-2, b, 0.02)).toEqual({ t0: 0, t1: 0.1 });
   });
 
+  it("scales the screen and the trigger level by the probe into the physical unit", () => {
+    // the settings are typed in the scope's unit (shared/trace/units): 0.5 V/div × 10 kV/V = 5 kV/div,
+    // ground at the centre → −20…+20 kV; a 0.3 V trigger is 3 kV at the plug (hand-computed)
+    const pickup = captureView({ ...base, settings: { voltsPerDiv: 0.5, timePerDivS: 1e-3, kvPerVolt: 10, triggerLevel: 0.3 } });
+    expect(pickup.voltsPerDiv).toBeCloseTo(5, 12);
+    expect(pickup.vMin).toBeCloseTo(-20, 12);
+    expect(pickup.vMax).toBeCloseTo(20, 12);
+    expect(pickup.triggerLevel).toBeCloseTo(3, 12);
+    // a file in kV: its volts/division are in kV already (not scaled again): 5 kV/div
+    const kv = captureView({ ...base, channels: [{ name: "A", unit: "kV", min: -1, max: 9 }], settings: { voltsPerDiv: 5, timePerDivS: 1e-3, kvPerVolt: 10 } });
+    expect(kv.voltsPerDiv).toBe(5);
+    // a 100 mV/A clamp: 1 V/div ÷ 0.1 V/A = 10 A/div (hand-computed)
+    const clamp = captureView({ ...base, settings: { voltsPerDiv: 1, timePerDivS: 1e-3, probe: "current-clamp", mvPerAmp: 100 } });
+    expect(clamp.voltsPerDiv).toBeCloseTo(10, 12);
+  });
+
   it("marks the recorded trigger level and falls back to the data's extent without settings", () => {
     expect(captureView({ ...base, settings: { ...base.settings, triggerLevel: 3 } }).triggerLevel).toBe(3);
     expect(captureView(base).triggerLevel).toBeNull();

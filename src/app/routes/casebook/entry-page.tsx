@@ -10,6 +10,8 @@ import { MeasurementsTable } from "../../../features/analysis/components/measure
 import { comparisonFor } from "../../../features/analysis/lib/comparison";
 import { isAnalysisResult } from "../../../features/analysis/lib/metrics";
 import { TraceViewer } from "../../../features/traces/components/trace-viewer";
+import { TraceUnitsNote } from "../../../features/traces/components/trace-details";
+import { sharedUnits, traceUnits } from "../../../features/traces/lib/units";
 import type { Annotation, TraceInfo } from "../../../features/traces/types";
 import type { CasebookEntryView } from "../../../../shared/schemas/casebook";
 import { ApiError } from "../../../lib/api-client";
@@ -72,7 +74,7 @@ export function CasebookEntryPage() {
         measurements={
           comparison ? (
             <Panel id="comparison" title="Cylinder to cylinder">
-              <ComparisonTable comparison={comparison} traces={labels} />
+              <ComparisonTable comparison={comparison} traces={labels} units={sharedUnits(e.traces)} />
             </Panel>
           ) : null
         }
@@ -89,7 +91,8 @@ export function CasebookEntryPage() {
                 {e.traces.map((t) =>
                   isAnalysisResult(t.analysis) ? (
                     <Panel key={t.id} id={`m-${t.id}`} title={t.name}>
-                      <MeasurementsTable analysis={t.analysis} traceName={t.name} />
+                      <TraceUnitsNote trace={t} />
+                      <MeasurementsTable analysis={t.analysis} traceName={t.name} units={traceUnits(t)} />
                     </Panel>
                   ) : null,
                 )}

@@ -8,6 +8,8 @@ import { MeasurementsTable } from "../../../features/analysis/components/measure
 import { comparisonFor } from "../../../features/analysis/lib/comparison";
 import { isAnalysisResult } from "../../../features/analysis/lib/metrics";
 import { TraceViewer } from "../../../features/traces/components/trace-viewer";
+import { TraceUnitsNote, TraceWarnings } from "../../../features/traces/components/trace-details";
+import { sharedUnits, traceUnits } from "../../../features/traces/lib/units";
 import type { TraceInfo } from "../../../features/traces/types";
 
 /** A case's trace as the viewer takes it (the settings are checked by the server at upload). */
@@ -29,7 +31,7 @@ function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
   const analysis = isAnalysisResult(t.analysis) ? t.analysis : null;
   const info = useMemo(() => [viewerInfo(t)], [t]);
   const label = traceLabel(t);
-  const unit = t.channels[0]?.unit || "V";
+  const units = useMemo(() => traceUnits(t), [t]);
   return (
     <article aria-labelledby={`trace-${t.id}`} className="space-y-4 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
       <header className="flex flex-wrap items-start gap-x-3 gap-y-2">
@@ -58,14 +60,9 @@ function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
           </button>
         ) : null}
       </header>
-      <TraceSettingsSummary settings={t.settings} unit={unit} />
-      {t.warnings?.length ? (
-        <ul className="text-sm text-kiln-700">
-          {t.warnings.slice(0, 3).map((w) => (
-            <li key={w}>{w.charAt(0).toUpperCase() + w.slice(1)}</li>
-          ))}
-        </ul>
-      ) : null}
+      <TraceSettingsSummary settings={t.settings} units={units} />
+      <TraceUnitsNote trace={t} />
+      <TraceWarnings warnings={t.warnings} />
 
       <TraceViewer traces={info} />
 
@@ -77,7 +74,7 @@ function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
           </section>
           <section aria-label={`Measurements of ${label}`} className="min-w-0 space-y-2">
             <h4 className="font-bold text-ink-800">Measurements</h4>
-            <MeasurementsTable analysis={analysis} traceName={label} />
+            <MeasurementsTable analysis={analysis} traceName={label} units={units} />
           </section>
         </div>
       ) : (
@@ -93,6 +90,7 @@ export function CaseTraces({ c, onDeleteTrace }: { c: CaseDetail; onDeleteTrace?
   const comparison = useMemo(() => comparisonFor(c.comparison, c.traces), [c.comparison, c.traces]);
   const overlayInfo = useMemo(() => c.traces.map(viewerInfo), [c.traces]);
   const labels = c.traces.map((t) => ({ id: t.id, label: traceLabel(t) }));
+  const units = useMemo(() => sharedUnits(c.traces), [c.traces]);
 
   if (!c.traces.length) return <p className="text-ink-600">No traces on this case yet.</p>;
   return (
@@ -102,7 +100,7 @@ export function CaseTraces({ c, onDeleteTrace }: { c: CaseDetail; onDeleteTrace?
           <h3 id="comparison-title" className="text-lg font-bold">
             Cylinder to cylinder
           </h3>
-          <ComparisonTable comparison={comparison} traces={labels} />
+          <ComparisonTable comparison={comparison} traces={labels} units={units} />
         </section>
       ) : null}
 

@@ -1,11 +1,25 @@
+import { useId, useState } from "react";
 import type { Comparison, Outlier } from "../../../../shared/analysis/types";
 import { fmtNum, fmtWithUnit } from "../lib/format";
-import { metricLabel } from "../lib/metrics";
+import { metricLabel, physicalMetric } from "../lib/metrics";
+import type { ChannelUnits } from "../../traces/lib/units";
 
 export interface ComparedTrace {
   id: string;
   /** "Cylinder 3", "Coil 2" or the file name */
   label: string;
+}
+
+/**
+ * A plain-words statement of the comparison, as the analysis gives it (shared/analysis, when it
+ * sends `statements`): "Cylinder 3: firing line 40 % below the others, burn time 44 % shorter".
+ */
+export interface ComparisonStatement {
+  traceId?: string;
+  file?: string;
+  cylinder?: number;
+  text: string;
+  metrics?: string[];
 }
 
 const outlierKey = (traceId: string | undefined, metric: string) => `${traceId}\u0000${metric}`;
@@ -17,35 +31,72 @@ function unitOf(c: Comparison, metric: string): string {
   return shownUnit(c.metrics.find((m) => m.metric === metric)?.unit);
 }
 
-/** "Coil 3 burn time 0.62 ms vs median 1.48 ms (score −6.1)" */
-export function outlierSentence(o: Outlier, label: string, unit: string): string {
+/** Metrics that are durations: "shorter"/"longer" reads better than "below"/"above". */
+const DURATION = /(Ms|S)$/;
+/** Metrics that count things: "fewer"/"more". */
+const COUNTS = new Set(["oscillations", "teeth", "eventCount"]);
+
+/** "firing line 40 % below the others", "burn time 44 % shorter" — from a value and the median of the rest. */
+export function outlierPhrase(o: Pick<Outlier, "metric" | "value" | "median">): string {
   const what = metricLabel(o.metric).toLowerCase();
-  return `${label} ${what} ${fmtWithUnit(o.value, unit)} vs median ${fmtWithUnit(o.median, unit)} (modified z-score ${fmtNum(o.score, 2)})`;
+  if (!(Math.abs(o.median) > 0)) return `${what} ${fmtNum(o.value)} where the others read ${fmtNum(o.median)}`;
+  const pct = Math.round((Math.abs(o.value - o.median) / Math.abs(o.median)) * 100);
+  const low = o.value < o.median;
+  const word = DURATION.test(o.metric) ? (low ? "shorter" : "longer") : COUNTS.has(o.metric) ? (low ? "fewer" : "more") : low ? "below the others" : "above the others";
+  return `${what} ${pct} % ${word}`;
+}
+
+/** Plain sentences per trace when the analysis gives no statements of its own. */
+export function outlierStatements(c: Comparison, labelOf: (id: string | undefined) => string): ComparisonStatement[] {
+  const byTrace = new Map<string | undefined, Outlier[]>();
+  for (const o of c.outliers) byTrace.set(o.traceId, [...(byTrace.get(o.traceId) ?? []), o]);
+  return [...byTrace.entries()].map(([traceId, list]) => ({
+    traceId,
+    text: `${labelOf(traceId)}: ${list.map(outlierPhrase).join(", ")}`,
+    metrics: list.map((o) => o.metric),
+  }));
+}
+
+/** The statistic behind a flagged value, for experts: value, median and the modified z-score. */
+export function outlierDetail(o: Outlier, label: string, unit: string): string {
+  const what = metricLabel(o.metric).toLowerCase();
+  return `${label} ${what}: ${fmtWithUnit(o.value, unit)} against a median of ${fmtWithUnit(o.median, unit)}; modified z-score ${fmtNum(o.score, 2)}`;
 }
 
 /**
- * One row per trace (cylinder or coil), one column per metric (each trace's median). A value the
- * analysis flags as the odd one out (modified z-score of Iglewicz and Hoaglin, |M| > 3.5 and a
- * difference that matters) is highlighted with its score, and said in a sentence above the table.
+ * One row per trace (cylinder or coil), one column per metric (each trace's median), in the
+ * channel's physical unit when the traces' unit model is given. What stands out is said first in
+ * plain words; the values that stand out are flagged in the table, and the statistic that decided
+ * it (the modified z-score of Iglewicz and Hoaglin with a difference that matters) is one click away.
  */
-export function ComparisonTable({ comparison, traces }: { comparison: Comparison; traces: ComparedTrace[] }) {
+export function ComparisonTable({ comparison, traces, units }: { comparison: Comparison; traces: ComparedTrace[]; units?: ChannelUnits | null }) {
   const labelOf = (id: string | undefined) => traces.find((t) => t.id === id)?.label ?? "Trace";
   const flagged = new Map(comparison.outliers.map((o) => [outlierKey(o.traceId, o.metric), o]));
   const metrics = comparison.metrics.filter((m) => m.values.some((v) => v.value !== null));
   const rowIds = traces.map((t) => t.id);
+  const given = (comparison as Comparison & { statements?: ComparisonStatement[] }).statements;
+  const statements = Array.isArray(given) && given.length ? given : outlierStatements(comparison, labelOf);
+  const oddIds = new Set([...comparison.outliers.map((o) => o.traceId), ...statements.filter((s) => s.metrics?.length).map((s) => s.traceId)]);
+  const [open, setOpen] = useState(false);
+  const detailsId = useId();
+  /** a metric in volts or amperes (or per ms) in the traces' physical unit; other units kept */
+  const shown = (x: number | null | undefined, unit: string) => {
+    const m = /^(kV|V|mV|A|mA)(\/.+)?$/.exec(unit);
+    return m ? physicalMetric(x, `$${m[2] ?? ""}`, m[1], units) : { value: x, unit };
+  };
 
   if (!metrics.length) return <p className="text-sm text-ink-600">Nothing to compare yet: the traces have no measured events.</p>;
 
   return (
     <div className="space-y-3">
-      {comparison.outliers.length ? (
+      {statements.length ? (
         <ul className="space-y-1" aria-label="Odd ones out">
-          {comparison.outliers.map((o) => (
-            <li key={outlierKey(o.traceId, o.metric)} className="flex gap-2 rounded-lg border-l-4 border-alarm-500 bg-alarm-500/5 px-3 py-2 text-sm font-semibold text-ink-900">
+          {statements.map((st, i) => (
+            <li key={`${st.traceId ?? st.file ?? i}-${i}`} className="flex gap-2 rounded-lg border-l-4 border-alarm-500 bg-alarm-500/5 px-3 py-2 text-sm font-semibold text-ink-900">
               <span aria-hidden="true" className="text-alarm-600">
                 ●
               </span>
-              {outlierSentence(o, labelOf(o.traceId), unitOf(comparison, o.metric))}
+              {st.text}
             </li>
           ))}
         </ul>
@@ -57,7 +108,7 @@ export function ComparisonTable({ comparison, traces }: { comparison: Comparison
 
       <div className="overflow-x-auto rounded-lg border border-ink-200">
         <table className="w-full min-w-[30rem] text-sm">
-          <caption className="sr-only">Comparison across cylinders: each trace's median per metric; odd values highlighted</caption>
+          <caption className="sr-only">Comparison across cylinders: each trace's median per metric; values that stand out are flagged</caption>
           <thead className="bg-ink-50">
             <tr>
               <th scope="col" className="sticky left-0 z-10 bg-ink-50 px-3 py-2 text-left font-semibold text-ink-600">
@@ -66,14 +117,14 @@ export function ComparisonTable({ comparison, traces }: { comparison: Comparison
               {metrics.map((m) => (
                 <th key={m.metric} scope="col" className="px-3 py-2 text-right font-semibold text-ink-600">
                   {metricLabel(m.metric)}
-                  {shownUnit(m.unit) ? <span className="block text-xs font-normal text-ink-500">{shownUnit(m.unit)}</span> : null}
+                  {shownUnit(shown(null, m.unit).unit) ? <span className="block text-xs font-normal text-ink-500">{shownUnit(shown(null, m.unit).unit)}</span> : null}
                 </th>
               ))}
             </tr>
           </thead>
           <tbody className="divide-y divide-ink-100">
             {rowIds.map((id) => {
-              const odd = metrics.some((m) => flagged.has(outlierKey(id, m.metric)));
+              const odd = oddIds.has(id);
               return (
                 <tr key={id} className={odd ? "bg-alarm-500/5" : undefined}>
                   <th scope="row" className={`sticky left-0 z-10 px-3 py-2 text-left font-semibold text-ink-900 ${odd ? "bg-[#fcf6f5]" : "bg-white"}`}>
@@ -88,8 +139,8 @@ export function ComparisonTable({ comparison, traces }: { comparison: Comparison
                         key={m.metric}
                         className={`px-3 py-2 text-right tabular-nums ${o ? "font-bold text-alarm-600 ring-2 ring-inset ring-alarm-500" : "text-ink-800"}`}
                       >
-                        {fmtNum(v)}
-                        {o ? <span className="block whitespace-nowrap text-xs font-semibold">M = {fmtNum(o.score, 2)}</span> : null}
+                        {fmtNum(shown(v, m.unit).value)}
+                        {o ? <span className="sr-only"> (stands out)</span> : null}
                       </td>
                     );
                   })}
@@ -104,16 +155,41 @@ export function ComparisonTable({ comparison, traces }: { comparison: Comparison
               </th>
               {metrics.map((m) => (
                 <td key={m.metric} className="px-3 py-2 text-right font-semibold tabular-nums text-ink-700">
-                  {fmtNum(m.median)}
+                  {fmtNum(shown(m.median, m.unit).value)}
                 </td>
               ))}
             </tr>
           </tfoot>
         </table>
       </div>
-      <p className="text-xs text-ink-500">
-        Odd values: modified z-score M = 0.6745·(x − median)/MAD beyond ±3.5 (Iglewicz and Hoaglin, 1993), and at least a difference that matters.
-      </p>
+      {comparison.outliers.length ? (
+        <div>
+          <button
+            type="button"
+            className="min-h-11 rounded-lg px-2 text-sm font-semibold text-ink-600 underline decoration-dotted hover:text-ink-900"
+            aria-expanded={open}
+            aria-controls={detailsId}
+            onClick={() => setOpen((x) => !x)}
+          >
+            {open ? "Hide" : "Show"} how this was decided
+          </button>
+          {open ? (
+            <div id={detailsId} className="mt-1 space-y-1 rounded-lg bg-ink-50 px-3 py-2 text-xs text-ink-700">
+              <ul className="space-y-0.5">
+                {comparison.outliers.map((o) => {
+                  const m = shown(o.value, unitOf(comparison, o.metric));
+                  const med = shown(o.median, unitOf(comparison, o.metric));
+                  return <li key={outlierKey(o.traceId, o.metric)}>{outlierDetail({ ...o, value: m.value ?? o.value, median: med.value ?? o.median }, labelOf(o.traceId), shownUnit(m.unit))}</li>;
+                })}
+              </ul>
+              <p>
+                A value stands out when its modified z-score, 0.6745·(x − median)/MAD, is beyond ±3.5 (Iglewicz and Hoaglin, 1993) and it differs from the median by a
+                margin that matters.
+              </p>
+            </div>
+          ) : null}
+        </div>
+      ) : null}
     </div>
   );
 }

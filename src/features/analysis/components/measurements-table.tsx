@@ -1,7 +1,8 @@
 import { useId, useState } from "react";
 import type { AnalysisResult, MetricStats } from "../../../../shared/analysis/types";
 import { fmtHz, fmtNum, fmtSeconds, fmtWithUnit } from "../lib/format";
-import { metricsByKind, resolveUnit } from "../lib/metrics";
+import { metricsByKind, physicalMetric } from "../lib/metrics";
+import type { ChannelUnits } from "../../traces/lib/units";
 
 const th = "px-2 py-2 text-left font-semibold text-ink-600 sm:px-3";
 const td = "px-2 py-2 tabular-nums sm:px-3";
@@ -18,13 +19,17 @@ function fmtMetric(x: number | null | undefined, unit: string, integer?: boolean
 }
 
 /** The headline numbers of a result: events, rpm and what its kind adds. */
-function Headline({ r }: { r: AnalysisResult }) {
+function Headline({ r, cu }: { r: AnalysisResult; cu?: ChannelUnits | null }) {
   const items: [string, string][] = [];
+  const phys = (x: number | null | undefined) => {
+    const m = physicalMetric(x, "$", r.unit, cu);
+    return fmtWithUnit(m.value, m.unit);
+  };
   switch (r.kind) {
     case "secondary-ignition":
       items.push(["Firing events", fmtNum(r.summary.eventCount)], ["Engine speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"]);
       items.push(["Polarity", r.summary.polarity === "negative" ? "Inverted (measured as magnitudes)" : "Positive"]);
-      items.push(["Baseline / noise", `${fmtWithUnit(r.summary.baseline, r.unit)} / ${fmtWithUnit(r.summary.noise, r.unit)}`]);
+      items.push(["Noise on the baseline", phys(r.summary.noise)]);
       break;
     case "relative-compression":
       items.push(["Compression strokes", fmtNum(r.summary.eventCount)], ["Cranking speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"]);
@@ -37,7 +42,7 @@ function Headline({ r }: { r: AnalysisResult }) {
     case "crank":
       items.push(["Revolutions (gaps)", fmtNum(r.summary.eventCount)], ["Engine speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"]);
       items.push(["Teeth counted", fmtNum(r.summary.toothCount)]);
-      items.push(["Amplitude per 1000 rpm", fmtWithUnit(r.summary.amplitudePerKrpm, r.unit)]);
+      items.push(["Amplitude per 1000 rpm", phys(r.summary.amplitudePerKrpm)]);
       if (r.summary.damagedTeeth.length) items.push(["Suspect teeth", r.summary.damagedTeeth.join(", ")]);
       break;
     case "generic":
@@ -60,19 +65,25 @@ function Headline({ r }: { r: AnalysisResult }) {
  * The measurements of one trace: headline numbers, median / min / max of each per-event metric,
  * the whole-channel measurements and, on request, every event.
  */
-export function MeasurementsTable({ analysis, traceName }: { analysis: AnalysisResult; traceName: string }) {
+export function MeasurementsTable({ analysis, traceName, units }: { analysis: AnalysisResult; traceName: string; units?: ChannelUnits | null }) {
   const defs = metricsByKind[analysis.kind] ?? [];
   const [showEvents, setShowEvents] = useState(false);
   const [showGeneric, setShowGeneric] = useState(analysis.kind === "generic");
   const eventsId = useId();
   const genericId = useId();
-  const rows = defs.map((d) => ({ d, s: statsOf(analysis.summary, d.key), unit: resolveUnit(d.unit, analysis.unit) })).filter((x) => x.s && x.s.median !== null);
+  const rows = defs.map((d) => ({ d, s: statsOf(analysis.summary, d.key) })).filter((x) => x.s && x.s.median !== null);
+  /** a metric's value and unit as every view shows them (the channel's physical unit) */
+  const cell = (x: number | null | undefined, defUnit: string, integer?: boolean) => {
+    const m = physicalMetric(x, defUnit, analysis.unit, units);
+    return fmtMetric(m.value, m.unit, integer);
+  };
+  const level = (x: number | null | undefined) => cell(x, "$");
   const eventDefs = defs.filter((d) => d.eventKey);
   const m = analysis.measurements;
 
   return (
     <div className="space-y-3">
-      <Headline r={analysis} />
+      <Headline r={analysis} cu={units} />
 
       {rows.length ? (
         <div className="overflow-x-auto rounded-lg border border-ink-200">
@@ -95,14 +106,14 @@ export function MeasurementsTable({ analysis, traceName }: { analysis: AnalysisR
               </tr>
             </thead>
             <tbody className="divide-y divide-ink-100">
-              {rows.map(({ d, s, unit }) => (
+              {rows.map(({ d, s }) => (
                 <tr key={d.key}>
                   <th scope="row" className={`${td} text-left font-semibold text-ink-800`}>
                     {d.label}
                   </th>
-                  <td className={`${td} text-right font-semibold`}>{fmtMetric(s!.median, unit, d.integer)}</td>
-                  <td className={`${td} text-right text-ink-600`}>{fmtMetric(s!.min, unit, d.integer)}</td>
-                  <td className={`${td} text-right text-ink-600`}>{fmtMetric(s!.max, unit, d.integer)}</td>
+                  <td className={`${td} text-right font-semibold`}>{cell(s!.median, d.unit, d.integer)}</td>
+                  <td className={`${td} text-right text-ink-600`}>{cell(s!.min, d.unit, d.integer)}</td>
+                  <td className={`${td} text-right text-ink-600`}>{cell(s!.max, d.unit, d.integer)}</td>
                 </tr>
               ))}
             </tbody>
@@ -195,7 +206,7 @@ export function MeasurementsTable({ analysis, traceName }: { analysis: AnalysisR
                   <td className={`${td} text-right`}>{fmtSeconds(e.timeS)}</td>
                   {eventDefs.map((d) => (
                     <td key={d.key} className={`${td} text-right`}>
-                      {fmtMetric(e[d.eventKey!], resolveUnit(d.unit, analysis.unit), d.integer)}
+                      {cell(e[d.eventKey!], d.unit, d.integer)}
                     </td>
                   ))}
                 </tr>
@@ -212,12 +223,12 @@ export function MeasurementsTable({ analysis, traceName }: { analysis: AnalysisR
             <tbody className="divide-y divide-ink-100">
               {(
                 [
-                  ["Minimum", fmtWithUnit(m.min, analysis.unit)],
-                  ["Maximum", fmtWithUnit(m.max, analysis.unit)],
-                  ["Peak to peak", fmtWithUnit(m.peakToPeak, analysis.unit)],
-                  ["Mean", fmtWithUnit(m.mean, analysis.unit)],
-                  ["RMS", fmtWithUnit(m.rms, analysis.unit)],
-                  ["Base / top level", `${fmtWithUnit(m.baseLevel, analysis.unit)} / ${fmtWithUnit(m.topLevel, analysis.unit)}`],
+                  ["Minimum", level(m.min)],
+                  ["Maximum", level(m.max)],
+                  ["Peak to peak", level(m.peakToPeak)],
+                  ["Mean", level(m.mean)],
+                  ["RMS", level(m.rms)],
+                  ["Base / top level", `${level(m.baseLevel)} / ${level(m.topLevel)}`],
                   ["Frequency", fmtHz(m.frequencyHz)],
                   ["Period", fmtSeconds(m.periodS)],
                   ["Duty cycle", m.dutyCyclePct === null ? "—" : `${fmtNum(m.dutyCyclePct)} %`],

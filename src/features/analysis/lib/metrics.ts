@@ -1,4 +1,5 @@
 import type { AnalysisResult } from "../../../../shared/analysis/types";
+import { toPhysical, type ChannelUnits } from "../../traces/lib/units";
 
 export interface MetricDef {
   /** key in the summary (a MetricStats) */
@@ -65,6 +66,17 @@ export function metricLabel(key: string): string {
 }
 
 export const resolveUnit = (u: string, resultUnit: string) => u.replace("$", resultUnit);
+
+/**
+ * A metric in the channel's physical unit (shared/trace/units), the unit every view of the trace
+ * shows: a value in the result's unit ("$", "$/ms") is converted when the channel's unit model is
+ * known; other units (ms, Hz, %, V of an injector's supply) are kept.
+ */
+export function physicalMetric(x: number | null | undefined, defUnit: string, resultUnit: string, cu?: ChannelUnits | null): { value: number | null | undefined; unit: string } {
+  if (!defUnit.includes("$")) return { value: x, unit: defUnit };
+  if (!cu) return { value: x, unit: resolveUnit(defUnit, resultUnit) };
+  return { value: typeof x === "number" ? toPhysical(x, resultUnit, cu) : x, unit: defUnit.replace("$", cu.unit) };
+}
 
 /** Narrowing: does this stored value look like an analysis result? */
 export function isAnalysisResult(x: unknown): x is AnalysisResult {

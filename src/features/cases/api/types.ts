@@ -20,12 +20,9 @@ export interface CaseConditions {
   occurrence?: string | null;
 }
 
-export interface TraceChannelMeta {
-  name: string;
-  unit: string | null;
-  min: number;
-  max: number;
-}
+/** A trace's channel as the server presents it (shared/trace/types TraceChannelMeta). */
+export type { TraceChannelMeta } from "../../../../shared/trace/types";
+import type { TraceChannelMeta } from "../../../../shared/trace/types";
 
 /** A trouble code as the server presents it (older answers may give the bare code). */
 export interface PresentedCode {

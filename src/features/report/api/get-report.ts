@@ -1,5 +1,6 @@
 import { queryOptions, useQuery } from "@tanstack/react-query";
 import { api } from "../../../lib/api-client";
+import type { TraceChannelMeta } from "../../../../shared/trace/types";
 
 /** What the report needs of a case (GET /api/cases/:id). */
 export interface ReportCase {
@@ -24,7 +25,7 @@ export interface ReportTrace {
   durationS: number;
   samples: number;
   sampleRateHz: number;
-  channels: { name: string; unit: string | null; min: number; max: number }[];
+  channels: TraceChannelMeta[];
   settings: Record<string, unknown>;
   analysis: { kind?: string; unit?: string; events?: { timeS: number }[] } | null;
 }

@@ -1,20 +1,26 @@
 import { useMemo } from "react";
 import { useReportWindow } from "../api/get-window";
-import { figureGeometry, figureWindow, type FigureMark } from "../lib/figure";
+import { figureGeometry, figureWindow, scaleFigure, type FigureMark } from "../lib/figure";
 import type { ReportTrace } from "../api/get-report";
+import { formatLevel, traceUnits } from "../../traces/lib/units";
+import { unitSentence } from "../../traces/components/trace-details";
 
 const BOX = { width: 720, height: 260, left: 52, bottom: 28, top: 10, right: 10 };
 
 /**
  * One trace as a printable SVG: the min/max envelope of the printed window, the expert's marks
- * (spans shaded, pins and notes as lines, levels across), axes in ms and the channel's unit, and
- * the marks' labels listed under the figure (they would overlap on the plot).
+ * (spans shaded, pins and notes as lines, levels across), axes in ms and the channel's physical unit
+ * (shared/trace/units: kV at the plug, amperes through a clamp, else volts), and the marks' labels
+ * and levels listed under the figure (they would overlap on the plot).
  */
 export function TraceFigure({ trace, marks, index }: { trace: ReportTrace; marks: FigureMark[]; index: number }) {
   const win = useMemo(() => figureWindow(trace, marks), [trace, marks]);
   const q = useReportWindow(trace.id, win.t0, win.t1, 600);
-  const unit = trace.channels[0]?.unit || trace.analysis?.unit || "V";
-  const g = useMemo(() => (q.data ? figureGeometry(q.data, marks, win.t0, win.t1, BOX) : null), [q.data, marks, win]);
+  const cu = useMemo(() => traceUnits(trace), [trace]);
+  const unit = cu.unit;
+  // the window and the marks' levels come in the file's unit: shown in the physical one
+  const scaled = useMemo(() => (q.data ? scaleFigure(q.data, marks, cu.fromFile) : null), [q.data, marks, cu]);
+  const g = useMemo(() => (scaled ? figureGeometry(scaled.window, scaled.marks, win.t0, win.t1, BOX) : null), [scaled, win]);
   const where = typeof trace.settings.coil === "number" ? `Coil ${trace.settings.coil}` : typeof trace.settings.cylinder === "number" ? `Cylinder ${trace.settings.cylinder}` : null;
   const title = `Figure ${index + 1}. ${where ? `${where} · ` : ""}${trace.name}`;
   return (
@@ -76,12 +82,13 @@ export function TraceFigure({ trace, marks, index }: { trace: ReportTrace; marks
         <div className="h-48 animate-pulse rounded bg-ink-100" aria-label="Drawing the trace" />
       )}
       <figcaption className="text-sm text-ink-700">
-        <span className="font-semibold">{title}</span> — {((win.t1 - win.t0) * 1000).toFixed(1)} ms shown
+        <span className="font-semibold">{title}</span> — {((win.t1 - win.t0) * 1000).toFixed(1)} ms shown. {unitSentence(cu, trace.channels[0])}
         {marks.length ? (
           <ol className="mt-1 list-decimal pl-5">
             {marks.map((m) => (
               <li key={m.id}>
                 {m.kind === "span" ? "Span" : m.kind === "level" ? "Level" : m.kind === "pin" ? "Pin" : "Note"}
+                {(m.kind === "level" || m.kind === "pin") && m.level != null ? ` at ${formatLevel(m.level * cu.fromFile, unit)}` : ""}
                 {m.label ? `: ${m.label}` : ""}
               </li>
             ))}

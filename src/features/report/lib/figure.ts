@@ -52,6 +52,18 @@ function fmt(x: number, step: number): string {
   return x.toFixed(Math.min(6, d));
 }
 
+/**
+ * A window and marks in the file's unit, in the display unit: levels × `factor` (the channel's
+ * `fromFile`, shared/trace/units).
+ */
+export function scaleFigure(w: FigureWindow, marks: FigureMark[], factor: number): { window: FigureWindow; marks: FigureMark[] } {
+  if (factor === 1) return { window: w, marks };
+  return {
+    window: { t: w.t, series: w.series.map((s) => ({ name: s.name, min: s.min.map((x) => x * factor), max: s.max.map((x) => x * factor) })) },
+    marks: marks.map((m) => (m.level == null ? m : { ...m, level: m.level * factor })),
+  };
+}
+
 /** The figure of channel 0 over [t0, t1) in the box; the marks inside the window. */
 export function figureGeometry(w: FigureWindow, marks: FigureMark[], t0: number, t1: number, box: FigureBox): FigureGeometry {
   const s = w.series[0] ?? { name: "", min: [], max: [] };

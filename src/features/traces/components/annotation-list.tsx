@@ -1,5 +1,5 @@
 import type { Annotation, AnnotationKind } from "../types";
-import { formatInUnit, formatTime } from "../lib/units";
+import { formatLevel, formatTime, type ChannelUnits } from "../lib/units";
 
 export interface AnnotationListProps {
   annotations: Annotation[];
@@ -8,21 +8,22 @@ export interface AnnotationListProps {
   selectedId?: string | null;
   /** trace names by id, shown when the list spans several traces */
   traceNames?: Record<string, string>;
-  /** channel unit by trace id, for level values (null = volts) */
-  units?: Record<string, string | null>;
+  /** each trace's unit model (shared/trace/units): levels are kept in the file's unit and shown in the physical one */
+  units?: Record<string, Pick<ChannelUnits, "unit" | "fromFile">>;
   className?: string;
 }
 
 const KIND_LABEL: Record<AnnotationKind, string> = { pin: "Pin", span: "Span", level: "Level", note: "Note" };
 
-function where(a: Annotation, unit: string | null | undefined): string {
+function where(a: Annotation, cu: Pick<ChannelUnits, "unit" | "fromFile"> | undefined): string {
+  const level = (v: number) => (cu ? formatLevel(v * cu.fromFile, cu.unit) : formatLevel(v, "V"));
   if (a.kind === "span" && a.t1 != null) {
     const lo = Math.min(a.t0, a.t1);
     const hi = Math.max(a.t0, a.t1);
     return `${formatTime(lo)} – ${formatTime(hi)} (${formatTime(hi - lo)})`;
   }
-  if (a.kind === "level" && a.level != null) return formatInUnit(a.level, unit);
-  if (a.kind === "pin" && a.level != null) return `${formatTime(a.t0)} · ${formatInUnit(a.level, unit)}`;
+  if (a.kind === "level" && a.level != null) return level(a.level);
+  if (a.kind === "pin" && a.level != null) return `${formatTime(a.t0)} · ${level(a.level)}`;
   return formatTime(a.t0);
 }
 

@@ -73,7 +73,10 @@ export function PlotSurface(props: PlotSurfaceProps) {
       const px = along === "x" ? u.bbox.width / (uPlot.pxRatio || 1) : u.bbox.height / (uPlot.pxRatio || 1);
       const every = labelEvery(splits.length, px, along === "x" ? 64 : 22);
       const text = formatTicks(splits, step, unit);
-      return text.map((t, i) => (i % every === 0 ? t : ""));
+      const shown = text.map((t, i) => (i % every === 0 ? t : ""));
+      // the level labels as drawn, readable from the DOM (browser tests, assistive checks)
+      if (along === "y" && hostRef.current) hostRef.current.dataset.levelLabels = shown.filter(Boolean).join("|");
+      return shown;
     };
     const opts: uPlot.Options = {
       width: Math.max(p.current.width, 120),
@@ -186,6 +189,7 @@ export function PlotSurface(props: PlotSurfaceProps) {
       data-window-t1={props.view.t1}
       data-vmin={props.yRange.vMin}
       data-vmax={props.yRange.vMax}
+      data-level-unit={props.levelUnit ?? undefined}
     />
   );
 

@@ -12,7 +12,7 @@ import { cursorReadout, defaultCursors, perDivText, type CursorPositions } from 
 import { alignmentLevel, alignmentTime, refineWindow } from "../lib/alignment";
 import { eventMarkers, jumpWindow } from "../lib/overlay-geometry";
 import { bucketsFor } from "../lib/buckets";
-import { formatInUnit, formatTime } from "../lib/units";
+import { channelUnits, formatLevel, formatTime, traceUnits, type ChannelUnits } from "../lib/units";
 import { PLOT_COLORS, traceColor } from "../lib/palette";
 import type { DrawModel, TraceLayer } from "../plot/draw";
 import { PlotSurface, type MarkGesture } from "./plot-surface";
@@ -83,6 +83,19 @@ export function TraceViewer(props: TraceViewerProps) {
   );
   const reference: TraceInfo | undefined = overlay ? (shown[0] ?? traces[0]) : active;
 
+  // ---- units: every level is shown in its channel's physical unit (shared/trace/units); the window
+  // data, marks' levels and pointers travel in the file's unit and are scaled by `fromFile` here
+  const unitsById = useMemo(() => new Map(traces.map((t) => [t.id, t.channels.map((_, j) => traceUnits(t, j))])), [traces]);
+  const cuOf = useCallback(
+    (id: string | undefined, channel?: string | null): ChannelUnits => {
+      const t = traces.find((x) => x.id === id);
+      const j = channel && t ? Math.max(0, t.channels.findIndex((c) => c.name === channel)) : 0;
+      return (id ? unitsById.get(id)?.[j] : undefined) ?? channelUnits(null);
+    },
+    [traces, unitsById],
+  );
+  const refCu = cuOf(reference?.id);
+
   // ---- alignment (overlay): first event, else the first trigger crossing, found in coarse buckets
   // over the whole trace and then refined in a fine window around it
   const coarseParams = traces.map((t) => {
@@ -94,7 +107,7 @@ export function TraceViewer(props: TraceViewerProps) {
   const coarseResults = useTraceWindows(coarseParams);
   const coarseAlign = traces.map((t, i) => {
     const data = coarseResults[i]?.data;
-    const level = data ? alignmentLevel(t, data) : null;
+    const level = data ? alignmentLevel(t, data, 1 / (unitsById.get(t.id)?.[0]?.scopeFromFile ?? 1)) : null;
     return { level, found: data ? alignmentTime(t, data, level) : null };
   });
   const fineParams = traces.map((t, i) => {
@@ -124,14 +137,14 @@ export function TraceViewer(props: TraceViewerProps) {
   // ---- the capture view in display time
   const cap = useMemo(() => {
     if (!reference) return null;
-    const c = captureView(reference);
+    const c = captureView(reference, cuOf(reference.id));
     if (!overlay) return c;
     const span = c.t1 - c.t0;
     const aligned = alignment[reference.id]?.source !== "start";
     const t0 = aligned ? -PRE_TRIGGER_FRACTION * span : 0;
-    const y = unionRange(shown.map((t) => captureView(t)));
+    const y = unionRange(shown.map((t) => captureView(t, cuOf(t.id))));
     return { ...c, t0, t1: t0 + span, vMin: y.vMin, vMax: y.vMax, triggerTimeS: aligned ? 0 : null };
-  }, [reference, overlay, shown, alignment]);
+  }, [reference, overlay, shown, alignment, cuOf]);
 
   const limits = useMemo(() => {
     const list = shown.length ? shown : reference ? [reference] : [];
@@ -220,7 +233,7 @@ export function TraceViewer(props: TraceViewerProps) {
   const fetchView = useDebouncedValue(view, 120, (a, b) => sameWindow(a, b));
   const windows = useWindowData(shown, overlay ? offsets : {}, fetchView, plotWidthPx);
 
-  const levelUnit = reference?.channels[0]?.unit ?? null;
+  const levelUnit = refCu.unit;
   const channelNames = useMemo(() => {
     const names: string[] = [];
     for (const t of shown) for (const c of t.channels) if (!names.includes(c.name)) names.push(c.name);
@@ -238,18 +251,19 @@ export function TraceViewer(props: TraceViewerProps) {
       data.series.forEach((s, j) => {
         const name = s.name ?? t.channels[j]?.name ?? String(j);
         if (hiddenChannels.has(name)) return;
+        const f = unitsById.get(t.id)?.[j]?.fromFile ?? 1;
         out.push({
           key: `${t.id}:${j}`,
           color: overlay ? traceColor(idx) : traceColor(Math.max(0, channelNames.indexOf(name))),
           t: ts,
-          min: s.min,
-          max: s.max,
+          min: f === 1 ? s.min : s.min.map((x) => x * f),
+          max: f === 1 ? s.max : s.max.map((x) => x * f),
           faint: overlay && j > 0,
         });
       });
     }
     return out;
-  }, [shown, windows, overlay, offsets, traces, hiddenChannels, channelNames]);
+  }, [shown, windows, overlay, offsets, traces, hiddenChannels, channelNames, unitsById]);
 
   const yRange = useMemo(() => {
     if (!cap) return { vMin: -1, vMax: 1 };
@@ -290,21 +304,23 @@ export function TraceViewer(props: TraceViewerProps) {
       events: showEvents
         ? shown.map((t) => ({
             color: overlay ? traceColor(traces.indexOf(t)) : PLOT_COLORS.event,
-            markers: eventMarkers(t.analysis, t.settings, t.channels[0]?.unit, shift(t.id)),
+            markers: eventMarkers(t.analysis, cuOf(t.id), shift(t.id)),
           }))
         : [],
       annotations: annotations
         .filter((a) => shownIds.has(a.traceId))
         .map((a) => {
           const s = shift(a.traceId);
-          return s ? { ...a, t0: a.t0 - s, t1: a.t1 == null ? a.t1 : a.t1 - s } : a;
+          const f = cuOf(a.traceId, a.channel).fromFile;
+          const level = a.level == null || f === 1 ? a.level : a.level * f;
+          return s || level !== a.level ? { ...a, t0: a.t0 - s, t1: a.t1 == null ? a.t1 : a.t1 - s, level } : a;
         }),
       selectedId: props.selectedAnnotationId ?? null,
-      pointers: pointers.filter((p) => shownIds.has(p.traceId)).map((p) => ({ ...p, t: p.t - shift(p.traceId) })),
+      pointers: pointers.filter((p) => shownIds.has(p.traceId)).map((p) => ({ ...p, t: p.t - shift(p.traceId), v: p.v * cuOf(p.traceId).fromFile })),
       cursors,
       draft: draft ? { kind: draft.g.kind, t0: draft.g.t0, t1: draft.g.t1, level: draft.g.level } : null,
     };
-  }, [layers, overlay, shown, cap, showEvents, traces, offsets, annotations, shownIds, props.selectedAnnotationId, pointers, cursors, draft]);
+  }, [layers, overlay, shown, cap, showEvents, traces, offsets, annotations, shownIds, props.selectedAnnotationId, pointers, cursors, draft, cuOf]);
 
   // ---- pointer reporting
   const hoverRef = useRef<HTMLSpanElement>(null);
@@ -312,13 +328,13 @@ export function TraceViewer(props: TraceViewerProps) {
   const onHover = useCallback(
     (p: { t: number; v: number } | null) => {
       if (hoverRef.current)
-        hoverRef.current.textContent = p ? `${formatTime(p.t)} · ${formatInUnit(p.v, levelUnit)}` : "";
+        hoverRef.current.textContent = p ? `${formatTime(p.t)} · ${formatLevel(p.v, levelUnit)}` : "";
       if (!reference) return;
       if (!p) emitPointer(null);
-      else emitPointer({ traceId: reference.id, t: p.t + offsetOf(reference.id), v: p.v });
+      else emitPointer({ traceId: reference.id, t: p.t + offsetOf(reference.id), v: p.v / refCu.fromFile });
     },
     // eslint-disable-next-line react-hooks/exhaustive-deps
-    [reference, offsets, levelUnit, emitPointer],
+    [reference, offsets, levelUnit, emitPointer, refCu],
   );
 
   // ---- actions
@@ -349,12 +365,14 @@ export function TraceViewer(props: TraceViewerProps) {
     const s = overlay ? offsetOf(draft.traceId) : 0;
     const g = draft.g;
     const visibleChannel = t && t.channels.length > 1 ? t.channels.find((c) => !hiddenChannels.has(c.name))?.name : undefined;
+    // a mark's level is kept in the file's unit (docs/api.md: "level in the channel's unit")
+    const f = cuOf(draft.traceId, visibleChannel).fromFile;
     onCreateMark({
       traceId: draft.traceId,
       kind: g.kind,
       t0: g.t0 + s,
       ...(g.t1 != null ? { t1: g.t1 + s } : {}),
-      ...(g.level != null ? { level: g.level } : {}),
+      ...(g.level != null ? { level: g.level / f } : {}),
       ...(label ? { label } : {}),
       ...(visibleChannel ? { channel: visibleChannel } : {}),
     });
@@ -389,18 +407,18 @@ export function TraceViewer(props: TraceViewerProps) {
   const states = shown.map((t) => windows[t.id]);
   const loading = states.some((s) => s?.loading);
   const error = states.find((s) => s?.error)?.error ?? null;
-  const readout = cursors ? cursorReadout(cursors, levelUnit, reference.settings) : null;
+  const readout = cursors ? cursorReadout(cursors, refCu) : null;
   const listShown = props.showAnnotationList ?? annotations.length > 0;
   const hasEvents = shown.some((t) => t.analysis?.events?.length);
   const channelsToggle = channelNames.length > 1;
   const traceNames = Object.fromEntries(traces.map((t) => [t.id, t.name]));
-  const units = Object.fromEntries(traces.map((t) => [t.id, t.channels[0]?.unit ?? null]));
+  const units = Object.fromEntries(traces.map((t) => [t.id, cuOf(t.id)]));
   const atCapture = sameWindow(view, { t0: cap.t0, t1: cap.t1 }, 1e-6) && !fitLevels;
   const draftWhere = draft
     ? draft.g.kind === "span" && draft.g.t1 != null
       ? `${formatTime(draft.g.t0)} – ${formatTime(draft.g.t1)}`
       : draft.g.kind === "level" && draft.g.level != null
-        ? `at ${formatInUnit(draft.g.level, levelUnit)}`
+        ? `at ${formatLevel(draft.g.level, levelUnit)}`
         : `at ${formatTime(draft.g.t0)}`
     : "";
 
@@ -577,8 +595,7 @@ export function TraceViewer(props: TraceViewerProps) {
               <Read k="1/Δt" v={readout.text.freq} strong />
               <Read k="A" v={readout.text.va} />
               <Read k="B" v={readout.text.vb} />
-              <Read k="ΔV" v={readout.text.dv} strong />
-              {readout.text.scaled ? <Read k="≈" v={readout.text.scaled} /> : null}
+              <Read k={readout.dvLabel} v={readout.text.dv} strong />
             </dl>
           ) : null}
           <p className="mt-2 text-xs text-ink-500">

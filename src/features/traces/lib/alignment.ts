@@ -35,10 +35,15 @@ export function midLevel(series: { min: ArrayLike<number>; max: ArrayLike<number
   return Number.isFinite(lo) && Number.isFinite(hi) && hi > lo ? (lo + hi) / 2 : null;
 }
 
-/** The level the overlay aligns on: the recorded trigger level, else the mid level of the data. */
-export function alignmentLevel(trace: TraceInfo, data?: TraceWindowData | null): number | null {
+/**
+ * The level the overlay aligns on, in the file's unit (the window data's): the recorded trigger
+ * level (typed in the scope's unit; `fileFromScope` converts, shared/trace/units), else the mid
+ * level of the data.
+ */
+export function alignmentLevel(trace: TraceInfo, data?: TraceWindowData | null, fileFromScope = 1): number | null {
   const s = data?.series?.[0];
-  return trace.settings?.triggerLevel ?? (s ? midLevel(s) : null);
+  const trig = trace.settings?.triggerLevel;
+  return typeof trig === "number" ? trig * fileFromScope : s ? midLevel(s) : null;
 }
 
 /**

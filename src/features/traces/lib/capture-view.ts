@@ -1,6 +1,7 @@
 /** The capture view: the screen the technician saw, from the trace's capture settings. */
 import { SCREEN_DIVISIONS_X, SCREEN_DIVISIONS_Y, screenVoltageRange } from "../../../../shared/schemas/capture-settings";
 import type { TraceInfo } from "../types";
+import { traceUnits, type ChannelUnits } from "./units";
 
 /** Where the trigger sits on the screen when the trigger point is known (10–20 % pre-trigger). */
 export const PRE_TRIGGER_FRACTION = 0.15;
@@ -9,14 +10,15 @@ export interface CaptureView {
   /** visible time window, seconds in the trace's time base */
   t0: number;
   t1: number;
-  /** visible voltage range, channel unit */
+  /** visible level range, in the channel's physical unit (the unit every view shows) */
   vMin: number;
   vMax: number;
   timePerDivS: number;
+  /** the screen's level per division in the physical unit (volts/division × the probe's scale) */
   voltsPerDiv: number;
   /** the trigger point in time, when known (first analysis event) */
   triggerTimeS: number | null;
-  /** the recorded trigger level, when set */
+  /** the recorded trigger level in the physical unit, when set */
   triggerLevel: number | null;
 }
 
@@ -51,8 +53,12 @@ export function captureTimeWindow(
   return { t0, t1: t0 + span };
 }
 
-/** The capture view of one trace. Missing or invalid settings fall back to the trace's extent and range. */
-export function captureView(trace: TraceInfo): CaptureView {
+/**
+ * The capture view of one trace, levels in its channel's physical unit: the settings (volts/division,
+ * ground offset, trigger level) are in the scope's unit and are scaled by the probe (`perScope`);
+ * missing or invalid settings fall back to the trace's extent and its channel's range.
+ */
+export function captureView(trace: TraceInfo, cu: ChannelUnits = traceUnits(trace)): CaptureView {
   const s = trace.settings ?? ({} as TraceInfo["settings"]);
   const bounds = traceBounds(trace);
   const first = trace.analysis?.events?.[0]?.timeS;
@@ -65,17 +71,17 @@ export function captureView(trace: TraceInfo): CaptureView {
   let vMax: number;
   let voltsPerDiv: number;
   if (positive(s.voltsPerDiv)) {
-    voltsPerDiv = s.voltsPerDiv;
+    voltsPerDiv = s.voltsPerDiv * cu.perScope;
     ({ min: vMin, max: vMax } = screenVoltageRange({ voltsPerDiv, groundOffsetDiv: s.groundOffsetDiv ?? 0 }));
   } else {
     const ch = trace.channels[0];
-    const lo = Math.min(ch?.min ?? -1, 0);
-    const hi = Math.max(ch?.max ?? 1, 0);
+    const lo = Math.min((ch?.min ?? -1) * cu.fromFile, 0);
+    const hi = Math.max((ch?.max ?? 1) * cu.fromFile, 0);
     voltsPerDiv = (hi - lo || 1) / SCREEN_DIVISIONS_Y;
     vMin = lo;
     vMax = lo + voltsPerDiv * SCREEN_DIVISIONS_Y;
   }
-  const triggerLevel = typeof s.triggerLevel === "number" && Number.isFinite(s.triggerLevel) ? s.triggerLevel : null;
+  const triggerLevel = typeof s.triggerLevel === "number" && Number.isFinite(s.triggerLevel) ? s.triggerLevel * cu.perScope : null;
   return { t0, t1, vMin, vMax, timePerDivS, voltsPerDiv, triggerTimeS, triggerLevel };
 }
 

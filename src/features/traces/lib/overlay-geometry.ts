@@ -1,24 +1,15 @@
 /** Geometry of what the viewer draws over the plot (events, annotations, cursors), and hit tests. Pure. */
-import type { Annotation, TraceAnalysis, TraceSettings } from "../types";
+import type { Annotation, TraceAnalysis } from "../types";
 import type { CursorPositions } from "./readout";
-import { parseUnit } from "./units";
+import { toPhysical, type ChannelUnits } from "./units";
 
 /**
- * A value of the analysis, in `analysis.unit` → the channel's unit on the plot. The analysis scales
- * raw samples by the channel unit's factor to volts, times kV-per-volt when set (kV at the plug);
- * this undoes that. (Sign and baseline are not applied here: see eventMarkers.)
+ * A value of the analysis, in `analysis.unit`, in the channel's physical unit on the plot (shared
+ * unit model: kV at the plug, amperes through a clamp, else volts). (Sign and baseline are not
+ * applied here: see eventMarkers.)
  */
-export function analysisToPlot(
-  value: number,
-  analysis: Pick<TraceAnalysis, "unit">,
-  settings: Pick<TraceSettings, "kvPerVolt"> | undefined,
-  channelUnit: string | null | undefined,
-): number {
-  const ch = parseUnit(channelUnit);
-  let volts: number;
-  if (analysis.unit === "kV" && settings?.kvPerVolt && settings.kvPerVolt > 0) volts = value / settings.kvPerVolt;
-  else volts = value * parseUnit(analysis.unit).scale;
-  return ch.si ? volts / ch.scale : volts;
+export function analysisToPlot(value: number, analysis: Pick<TraceAnalysis, "unit">, cu: ChannelUnits): number {
+  return toPhysical(value, analysis.unit, cu);
 }
 
 /** An inverted capture (firing lines below the baseline): summary.polarity or the `inverted` finding. */
@@ -29,12 +20,12 @@ export function isInverted(analysis: Pick<TraceAnalysis, "summary" | "findings">
 export interface EventMarker {
   /** firing line, display time */
   tFire: number;
-  /** top of the firing line in the channel unit, when the analysis gives the peak */
+  /** top of the firing line in the physical unit, when the analysis gives the peak */
   peakLevel: number | null;
   /** spark line start and end (display time) */
   tStart: number | null;
   tEnd: number | null;
-  /** spark line level in the channel unit */
+  /** spark line level in the physical unit */
   burnLevel: number | null;
   burnTimeMs: number | null;
 }
@@ -46,18 +37,13 @@ const finite = (x: unknown): x is number => typeof x === "number" && Number.isFi
  * Secondary ignition reports peak and burn level as magnitudes above the baseline: on the plot they
  * sit at baseline ± value (minus for an inverted capture). Other kinds get the time tick only.
  */
-export function eventMarkers(
-  analysis: TraceAnalysis | null | undefined,
-  settings: TraceSettings | undefined,
-  channelUnit: string | null | undefined,
-  offset = 0,
-): EventMarker[] {
+export function eventMarkers(analysis: TraceAnalysis | null | undefined, cu: ChannelUnits, offset = 0): EventMarker[] {
   if (!analysis?.events?.length) return [];
   const ignition = analysis.kind === "secondary-ignition";
   const baseValue = finite(analysis.baseline) ? analysis.baseline : finite(analysis.summary?.baseline) ? analysis.summary.baseline : 0;
-  const baseline = analysisToPlot(baseValue, analysis, settings, channelUnit);
+  const baseline = analysisToPlot(baseValue, analysis, cu);
   const sign = isInverted(analysis) ? -1 : 1;
-  const level = (v: unknown) => (ignition && finite(v) ? baseline + sign * analysisToPlot(v, analysis, settings, channelUnit) : null);
+  const level = (v: unknown) => (ignition && finite(v) ? baseline + sign * analysisToPlot(v, analysis, cu) : null);
   return analysis.events
     .filter((e) => finite(e.timeS))
     .map((e) => {

@@ -1,11 +1,11 @@
-/** Cursor readouts: Δt, 1/Δt and ΔV with units. Pure. */
-import { formatFrequency, formatInUnit, formatTime, probeScale } from "./units";
+/** Cursor readouts: Δt, 1/Δt and the level difference in the channel's physical unit. Pure. */
+import { deltaLabel, formatFrequency, formatLevel, formatTime, type ChannelUnits } from "./units";
 
 export interface CursorPositions {
   /** two time cursors, seconds */
   ta: number;
   tb: number;
-  /** two level cursors, channel unit */
+  /** two level cursors, in the channel's physical (display) unit */
   va: number;
   vb: number;
 }
@@ -14,9 +14,10 @@ export interface CursorReadout {
   dt: number;
   /** 1/|Δt| in Hz; null when Δt is 0 */
   freqHz: number | null;
+  /** vb − va, physical unit */
   dv: number;
-  /** ΔV in the probe's quantity (kV at the plug, A for a clamp), when the probe has a scale */
-  dScaled: number | null;
+  /** "ΔV" for a voltage, "ΔA" for a current */
+  dvLabel: string;
   text: {
     ta: string;
     tb: string;
@@ -25,31 +26,23 @@ export interface CursorReadout {
     va: string;
     vb: string;
     dv: string;
-    scaled: string | null;
   };
 }
 
 /**
- * Δt = tb − ta, 1/|Δt|, ΔV = vb − va; values are shown with SI prefixes of the channel's unit
- * and, for a kV-per-volt pickup or a current clamp, also in that quantity.
+ * Δt = tb − ta, 1/|Δt|, Δ = vb − va; levels in the unit every view of the trace shows (kV at the
+ * plug for a pickup with a kV/V scale or a kV file, amperes through a clamp, else volts).
  */
-export function cursorReadout(
-  c: CursorPositions,
-  channelUnit: string | null | undefined,
-  settings?: { probe?: string; kvPerVolt?: number; mvPerAmp?: number },
-  timeOrigin = 0,
-): CursorReadout {
+export function cursorReadout(c: CursorPositions, cu: Pick<ChannelUnits, "unit">, timeOrigin = 0): CursorReadout {
   const dt = c.tb - c.ta;
   const freqHz = dt !== 0 ? 1 / Math.abs(dt) : null;
   const dv = c.vb - c.va;
-  const scale = probeScale(settings, channelUnit);
-  const dScaled = scale ? dv * scale.factor : null;
-  const v = (x: number) => formatInUnit(x, channelUnit);
+  const v = (x: number) => formatLevel(x, cu.unit);
   return {
     dt,
     freqHz,
     dv,
-    dScaled,
+    dvLabel: deltaLabel(cu),
     text: {
       ta: formatTime(c.ta - timeOrigin),
       tb: formatTime(c.tb - timeOrigin),
@@ -58,7 +51,6 @@ export function cursorReadout(
       va: v(c.va),
       vb: v(c.vb),
       dv: v(dv),
-      scaled: scale && dScaled != null ? `${formatInUnit(dScaled, scale.unit)} ${scale.label}` : null,
     },
   };
 }
@@ -73,7 +65,7 @@ export function defaultCursors(t0: number, t1: number, vMin: number, vMax: numbe
   };
 }
 
-/** "0.5 ms/div", "2 V/div" */
+/** "0.5 ms/div", "2 kV/div", "5 A/div" (levels in the display unit). */
 export function perDivText(perDiv: number, unit: string | null | undefined, kind: "time" | "level"): string {
-  return `${kind === "time" ? formatTime(perDiv) : formatInUnit(perDiv, unit)}/div`;
+  return `${kind === "time" ? formatTime(perDiv) : formatLevel(perDiv, unit || "V")}/div`;
 }

@@ -1,4 +1,15 @@
-/** Unit handling and SI formatting for the viewer's readouts and axes. No React, no DOM. */
+/**
+ * Units in the viewer: the shared unit model (shared/trace/units: the file unit, the scope unit the
+ * tech typed the settings in, the physical unit every view shows) and the formatting of time and
+ * levels. The viewer shows levels in the channel's physical unit and nothing else: kV at the plug
+ * for a pickup with a kV/V scale or a file in kV, amperes through a clamp, volts at the scope
+ * otherwise. Level values keep that unit (no re-prefixing: a 10 kV/V capture reads "0.5 kV", never
+ * "500 V", so it cannot be mistaken for pickup volts); time and frequency take SI prefixes.
+ * No React, no DOM.
+ */
+import { channelUnits, formatQuantity, parseUnit, type ChannelUnits, type UnitSettings } from "../../../../shared/trace/units";
+
+export { channelUnits, formatQuantity, normaliseUnit, parseUnit, scopeSetting, type ChannelUnits } from "../../../../shared/trace/units";
 
 const PREFIXES: { p: string; f: number }[] = [
   { p: "G", f: 1e9 },
@@ -10,29 +21,6 @@ const PREFIXES: { p: string; f: number }[] = [
   { p: "n", f: 1e-9 },
   { p: "p", f: 1e-12 },
 ];
-
-/** Units that take SI prefixes. */
-const SI_BASES = ["V", "A", "s", "Hz", "W", "Ω", "F", "H"];
-
-export interface ParsedUnit {
-  /** the SI base ("V") or the unit as given when it is not an SI unit ("psi") */
-  base: string;
-  /** multiply a value in the given unit by this to get the base unit (mV → 1e-3) */
-  scale: number;
-  si: boolean;
-}
-
-/** "mV" → { base: "V", scale: 1e-3 }; "uA" and "µA" both mean micro; null or "" → volts. */
-export function parseUnit(unit: string | null | undefined): ParsedUnit {
-  const u = (unit ?? "").trim();
-  if (!u) return { base: "V", scale: 1, si: true };
-  if (SI_BASES.includes(u)) return { base: u, scale: 1, si: true };
-  const first = u[0] === "u" || u[0] === "μ" ? "µ" : u[0];
-  const rest = u.slice(1);
-  const pre = PREFIXES.find((x) => x.p === first && x.p !== "");
-  if (pre && SI_BASES.includes(rest)) return { base: rest, scale: pre.f, si: true };
-  return { base: u, scale: 1, si: false };
-}
 
 function trimZeros(s: string): string {
   return s.includes(".") ? s.replace(/\.?0+$/, "") : s;
@@ -68,7 +56,7 @@ export function formatSI(value: number, base: string, opts: FormatOptions = {}):
   return `${s} ${PREFIXES[i].p}${base}`.trim();
 }
 
-/** A value given in `unit` (e.g. "mV", "V", null = volts), formatted with a suitable prefix. */
+/** A value given in `unit` (e.g. "mV", "V", null = volts), formatted with a suitable SI prefix. */
 export function formatInUnit(value: number, unit: string | null | undefined, opts: FormatOptions = {}): string {
   const u = parseUnit(unit);
   if (!u.si) {
@@ -83,47 +71,46 @@ export const formatTime = (seconds: number, opts?: FormatOptions) => formatSI(se
 export const formatFrequency = (hz: number, opts?: FormatOptions) => formatSI(hz, "Hz", opts);
 
 /**
- * The physical quantity behind the scope's volts, when the probe has a known scale:
- * capacitive secondary pickup with kV per volt → kV at the plug; current clamp with mV per amp → A.
- * Returns the factor from the channel's unit to the quantity, or null.
+ * A level in the display unit. A base unit (V, A) takes SI prefixes like any readout ("151.28 mV",
+ * "2 kA"); a prefixed display unit (kV at the plug) is kept, with `digits` significant figures and
+ * thousands grouped from 1000 up, so that a pickup capture never shows "500 V" beside "7.8 kV":
+ * (7.834, "kV") → "7.83 kV", (0.0151, "kV") → "0.0151 kV", (0.25, "V") → "250 mV".
  */
-export function probeScale(
-  settings: { probe?: string; kvPerVolt?: number; mvPerAmp?: number } | undefined,
-  channelUnit: string | null | undefined,
-): { factor: number; unit: string; label: string } | null {
-  if (!settings) return null;
-  const u = parseUnit(channelUnit);
-  if (!u.si || u.base !== "V") return null;
-  if (settings.kvPerVolt && settings.kvPerVolt > 0 && (settings.probe === undefined || settings.probe === "capacitive-secondary")) {
-    // value[unit] · scale → volts at the pickup · kvPerVolt → kV at the plug
-    return { factor: u.scale * settings.kvPerVolt, unit: "kV", label: "at the plug" };
-  }
-  if (settings.probe === "current-clamp" && settings.mvPerAmp && settings.mvPerAmp > 0) {
-    return { factor: (u.scale * 1000) / settings.mvPerAmp, unit: "A", label: "clamp current" };
-  }
-  return null;
+export function formatLevel(value: number, unit: string, digits = 3): string {
+  if (!Number.isFinite(value)) return "—";
+  if (!keepsUnit(unit)) return formatInUnit(value, unit);
+  const a = Math.abs(value);
+  if (a < 1e-12) return `0 ${unit}`;
+  if (a >= 1000) return `${Math.round(value).toLocaleString("en-US")} ${unit}`;
+  const decimals = Math.min(12, Math.max(0, digits - 1 - Math.floor(Math.log10(a))));
+  const s = trimZeros(value.toFixed(decimals));
+  return `${s === "-0" ? "0" : s} ${unit}`;
 }
 
-/** Formats a value in a scaled quantity's unit ("kV" is an SI-prefixed volt). */
-export function formatScaled(value: number, unit: string, opts?: FormatOptions): string {
-  return formatInUnit(value, unit, opts);
+/** Levels in this unit are shown in it, without re-prefixing (a prefixed unit such as kV). */
+export function keepsUnit(unit: string): boolean {
+  const u = parseUnit(unit);
+  return u.si && u.scale !== 1;
+}
+
+/** A level step per division in the display unit: "0.5 kV/div", "5 A/div". */
+export function formatPerDivLevel(step: number, unit: string): string {
+  return `${formatLevel(step, unit)}/div`;
 }
 
 /**
- * Labels for evenly spaced grid values: the prefix follows each value, and the decimals are the
- * fewest that show every value to a thousandth of the step (so 18.5 ms stays "18.5 ms" and deep
- * zooms far from zero stay distinct). Values are in `unit` (e.g. "s", "V", "mV").
+ * Labels for evenly spaced grid values: the prefix follows each value ("s", "V", "A"), except in a
+ * prefixed display unit (kV), which every label keeps. The decimals are the fewest that show every value to a
+ * thousandth of the step (so 18.5 ms stays "18.5 ms" and deep zooms far from zero stay distinct).
  */
 export function formatTicks(values: number[], step: number, unit: string | null | undefined): string[] {
+  if (unit && keepsUnit(unit)) return fixedTicks(values, step, unit);
   const u = parseUnit(unit);
   const stepBase = Math.abs(step * u.scale);
   return values.map((v) => {
     const x = v * u.scale;
     if (Math.abs(x) < stepBase * 1e-6) return `0 ${u.base}`;
-    if (!u.si) {
-      for (let d = 0; d <= 6; d++) if (Math.abs(Number(x.toFixed(d)) - x) <= stepBase * 1e-3) return `${trimZeros(x.toFixed(d))} ${u.base}`;
-      return `${x} ${u.base}`;
-    }
+    if (!u.si) return plainTick(x, stepBase, u.base);
     const abs = Math.abs(x);
     let i = PREFIXES.findIndex((p) => abs >= p.f * 0.9999999);
     if (i < 0) i = PREFIXES.length - 1;
@@ -135,3 +122,60 @@ export function formatTicks(values: number[], step: number, unit: string | null 
     return `${trimZeros((x / f).toFixed(6))} ${PREFIXES[i].p}${u.base}`;
   });
 }
+
+function plainTick(x: number, step: number, unit: string): string {
+  for (let d = 0; d <= 9; d++) if (Math.abs(Number(x.toFixed(d)) - x) <= step * 1e-3) return `${trimZeros(x.toFixed(d))} ${unit}`;
+  return `${x} ${unit}`;
+}
+
+function fixedTicks(values: number[], step: number, unit: string): string[] {
+  const s = Math.abs(step);
+  return values.map((v) => (Math.abs(v) < s * 1e-6 ? `0 ${unit}` : plainTick(v, s, unit)));
+}
+
+/** The settings the unit model reads, from a trace's capture settings (checked by the server at upload). */
+function unitSettings(settings: object | undefined): UnitSettings {
+  const s = (settings ?? {}) as Record<string, unknown>;
+  const num = (x: unknown) => (typeof x === "number" ? x : undefined);
+  return { probe: typeof s.probe === "string" ? s.probe : undefined, kvPerVolt: num(s.kvPerVolt), mvPerAmp: num(s.mvPerAmp) };
+}
+
+/** The unit model of a trace's channel (the first by default). */
+export function traceUnits(trace: { channels: { unit: string | null }[]; settings?: object }, channel = 0): ChannelUnits {
+  return channelUnits(trace.channels[channel]?.unit ?? null, unitSettings(trace.settings));
+}
+
+/** The unit model several traces share (a comparison across them is shown in it), or null when they differ. */
+export function sharedUnits(traces: { channels: { unit: string | null }[]; settings?: object }[]): ChannelUnits | null {
+  const all = traces.map((t) => traceUnits(t));
+  return all.length && all.every((u) => u.unit === all[0].unit) ? all[0] : null;
+}
+
+/**
+ * A value reported in `unit` (an analysis's result unit, say) in the channel's physical unit.
+ * With a pickup or a clamp, volts (or mV) are volts at the scope: scaled by the probe (kV/V, or
+ * 1000/(mV/A)); a value already in kV (pickup) or A (clamp) is physical. Otherwise the same
+ * quantity is converted by its SI prefix ("V" → "kV"); anything else is returned unchanged.
+ */
+export function toPhysical(value: number, unit: string | null | undefined, cu: ChannelUnits): number {
+  const from = parseUnit(unit);
+  const to = parseUnit(cu.unit);
+  if (from.si && from.base === "V" && ((cu.source === "pickup" && from.scale < 1e3) || cu.source === "clamp")) {
+    return value * from.scale * cu.perScope;
+  }
+  if (from.si && to.si && from.base === to.base) return (value * from.scale) / to.scale;
+  return value;
+}
+
+/** "ΔV" for voltages, "ΔA" for currents, "Δ" for anything else. */
+export function deltaLabel(cu: Pick<ChannelUnits, "unit">): string {
+  const base = parseUnit(cu.unit).base;
+  return base === "V" || base === "A" ? `Δ${base}` : "Δ";
+}
+
+/** A level of the channel in its physical unit, with SI prefixes kept off: see formatLevel. */
+export function formatPhysical(value: number, cu: ChannelUnits, digits = 3): string {
+  return formatLevel(value, cu.unit, digits);
+}
+
+export { formatQuantity as formatWithPrefix };

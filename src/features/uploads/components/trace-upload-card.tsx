@@ -6,6 +6,7 @@ import type { SettingsDraft } from "../lib/settings";
 import { kindLabels } from "../lib/settings";
 import { CaptureSettingsForm } from "./capture-settings-form";
 import { TracePreviewPanel } from "./trace-preview";
+import { channelUnits } from "../../../../shared/trace/units";
 
 const btn = {
   primary:
@@ -43,7 +44,8 @@ export function TraceUploadCard({
   const p = item.preview;
   const busy = item.status === "uploading";
   const blocked = previewBlocks(p, !!item.head?.partial);
-  const unit = p?.ok ? (p.trace.channels[0]?.unit ?? "V") : "V";
+  // the unit the scope's settings are typed in (shared/trace/units): V for a file in V or mV, kV or A when the file states them
+  const unit = p?.ok ? channelUnits(p.trace.channels[0]?.unit ?? null).scopeUnit : "V";
   const titleId = `${item.key}-title`;
 
   if (item.status === "done") {
