@@ -1,7 +1,9 @@
-import { ENGINE_SAFETY, withSafety } from "./findings";
-import { fmt, fmtRate } from "./format";
+import { formatQuantity } from "../trace/units";
+import { detectClipping } from "./clip";
+import { ENGINE_SAFETY } from "./findings";
+import { fmt, fmtRate, fmtTime } from "./format";
 import { measurePrepared } from "./measure";
-import { clippedFinding, triggerBeyondFinding } from "./review";
+import { clippedFinding, finishFindings, setting, triggerBeyondFinding, voltsPerDivFor, type FindingDraft } from "./review";
 import { boxcar, niceCeil, roundNice, timeAtFrac, timeAtOf, type Prepared } from "./signal";
 import { blockSample, histogramQuantile, metricStats, robustLevelAndNoise } from "./stats";
 import type { CaptureSettings } from "../schemas/capture-settings";
@@ -13,7 +15,6 @@ export interface InjectorContext {
 }
 
 export interface InjectorAnalysis {
-  unit: string;
   events: InjectorEvent[];
   summary: InjectorSummary;
   findings: Finding[];
@@ -55,10 +56,10 @@ function medianOf(v: Float32Array, a: number, b: number, lo: number, hi: number,
  */
 export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnalysis {
   const { v, n, rate } = p;
-  const sc = p.toBase;
-  const unit = p.baseUnit;
+  const sc = p.toPhysical;
+  const unit = p.unit;
   const s = ctx.settings;
-  const findings: Finding[] = [];
+  const findings: FindingDraft[] = [];
   const measurements = measurePrepared(p, sc);
   const { noise: noiseRaw } = n ? robustLevelAndNoise(v) : { noise: 0 };
   const noise = noiseRaw * sc;
@@ -200,20 +201,20 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
       code: "no-events",
       severity: "problem",
       message: "No injector pulses found: the voltage never drops from the supply to the driver's on level.",
-      advice: withSafety(
+      advice:
         "Probe the injector's control (driver) side with the engine running or cranking, and use a time/division long enough to hold a whole pulse (5–10 ms across the screen).",
-        ENGINE_SAFETY,
-      ),
+      caution: true,
     });
   }
-  const clipped = clippedFinding(p, supply / sc, ctx.screen, s, "the turn-off spikes");
+  const clipped = clippedFinding(p, detectClipping(p, supply / sc, ctx.screen, noiseRaw), s, "the turn-off spikes");
   if (clipped) findings.push(clipped);
   if (rate < 100e3) {
     findings.push({
       code: "undersampled",
       severity: "warning",
       message: `At ${fmtRate(rate)} the turn-off spike (tens of microseconds) and the pintle hump are read coarsely; the peak voltage may read low.`,
-      advice: withSafety("Capture at 100 kS/s or faster (common practice, no source).", ENGINE_SAFETY),
+      advice: "Capture at 100 kS/s or faster (common practice, no source).",
+      caution: true,
     });
   }
   if (clampedMost) {
@@ -221,7 +222,7 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
     findings.push({
       code: "clamped",
       severity: "info",
-      message: `The driver clamps the turn-off spike at about ${fmt(lvl ?? 0)} ${unit}: the spike's height says nothing about the coil here.`,
+      message: `The driver clamps the turn-off spike at about ${formatQuantity(lvl ?? 0, unit)}: the spike's height says nothing about the coil here.`,
       advice: "Judge the coil from the current ramp or a resistance test instead of the spike height.",
     });
   }
@@ -230,31 +231,34 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
       code: "no-pintle-hump",
       severity: "warning",
       message: "No pintle-closing hump after the turn-off spike: the injector may be sticking, or the hump is too small to see.",
-      advice: withSafety(
+      advice:
         "Compare with the other injectors at the same settings; a hump present on the others but missing here points to this injector. Confirm with a flow or balance test by the maker's procedure.",
-        ENGINE_SAFETY,
-      ),
+      caution: true,
     });
   }
-  const sugTrigger = Number.isFinite(supply) && Number.isFinite(onLevel) && supply > onLevel ? roundNice((supply + onLevel) / 2) : null;
+  // the trigger half-way between the supply and the on level, in the scope's unit
+  const sugTrigger =
+    Number.isFinite(supply) && Number.isFinite(onLevel) && supply > onLevel ? roundNice(((supply + onLevel) / 2 / sc) * p.toScope) : null;
   const t = triggerBeyondFinding(p, s, sugTrigger);
   if (t) findings.push(t);
 
   const pwMed = summary.pulseWidthMs.median;
   const peakMax = summary.turnOffPeak.max;
-  const offset = s.groundOffsetDiv ?? 0;
-  const vpd = peakMax != null && 4 - offset > 0.5 ? niceCeil((peakMax * 1.25) / (4 - offset)) : null;
+  const vpd = peakMax != null ? voltsPerDivFor((peakMax / sc) * p.toScope, s) : null;
+  const tpd = pwMed != null ? niceCeil((pwMed / 1e3 + 3e-3) / 8) : null;
   const suggestions: Suggestions = {
     oneEvent:
-      pwMed != null
+      pwMed != null && tpd != null
         ? {
-            timePerDivS: niceCeil((pwMed / 1e3 + 3e-3) / 8),
+            timePerDivS: tpd,
             voltsPerDiv: vpd,
             reason: `one pulse (${fmt(pwMed, 3)} ms) with the spike and the pintle hump after it (about 3 ms) across 8 of the 10 divisions (common practice, no source)`,
+            text: `${fmtTime(tpd)}/div${vpd != null ? `, ${setting(p, vpd, "div")}` : ""}`,
           }
         : null,
     allCylinders: null,
     triggerLevel: sugTrigger,
+    triggerText: sugTrigger != null ? setting(p, sugTrigger) : null,
   };
-  return { unit, events, summary, findings, measurements, suggestions };
+  return { events, summary, findings: finishFindings(findings, ENGINE_SAFETY), measurements, suggestions };
 }

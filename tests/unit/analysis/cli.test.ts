@@ -72,7 +72,7 @@ describe("npm run analyze", () => {
     expect(Math.abs(doc.traces[3].summary.peak.median - doc.traces[0].summary.peak.median) / doc.traces[0].summary.peak.median).toBeLessThan(0.1);
     expect(doc.traces[4].summary.eventCount).toBe(1);
     expect(doc.traces[4].summary.rpm).toBeNull();
-    expect(Object.keys(doc.comparison)).toEqual(["metrics", "outliers"]);
+    expect(Object.keys(doc.comparison)).toEqual(["metrics", "outliers", "statements"]);
     expect(doc.comparison.outliers.length).toBeGreaterThan(0);
     for (const o of doc.comparison.outliers) {
       expect(Object.keys(o)).toEqual(["file", "metric", "value", "median", "score"]);
