@@ -73,6 +73,9 @@ function decimate(p: Prepared): Decimated {
 interface Cranking {
   /** the cranking current with the inrush's tail taken off, from `start` to `stop` */
   seg: Float32Array;
+  /** the tail taken off, by index in `seg` (0 when none), and its height at the inrush's peak */
+  tail: ((k: number) => number) | null;
+  tailHeight: number;
   start: number;
   inrushIgnored: boolean;
   q50: number;
@@ -80,20 +83,25 @@ interface Cranking {
 
 /**
  * The inrush's tail over the cranking level `base`: A·e^(−k/τ) from its peak, fitted (least squares
- * on the logarithm) on the decay from the peak to the first turn upward; null when it does not decay.
+ * on the logarithm) on the early decay (90 % down to 35 % of the peak, before any turn upward);
+ * null when it does not decay.
  */
-function inrushTail(x: Float32Array, hiIdx: number, base: number, rate: number): ((k: number) => number) | null {
-  const h = x[hiIdx] - base;
+function inrushTail(x: Float32Array, hiIdx: number, base: number, rate: number): { at: (k: number) => number; height: number } | null {
+  // the smoothed peak can sit a sample or two from the raw one
+  let k0 = hiIdx;
+  for (let k = Math.max(0, hiIdx - 5); k < Math.min(x.length, hiIdx + 10); k++) if (x[k] > x[k0]) k0 = k;
+  const h = x[k0] - base;
   if (!(h > 0)) return null;
   const ks: number[] = [];
   const ls: number[] = [];
-  const limit = Math.min(x.length, hiIdx + Math.ceil(rate * 1.0));
-  for (let k = hiIdx + 1; k < limit; k++) {
+  const limit = Math.min(x.length, k0 + Math.ceil(rate * 1.0));
+  for (let k = k0 + 1; k < limit; k++) {
     if (x[k] > x[k - 1]) break; // the first stroke starts to rise
+    // the early decay only: lower down, the first stroke's rise already adds to it
     const e = x[k] - base;
-    if (e < 0.05 * h) break;
+    if (e < 0.35 * h) break;
     if (e <= 0.9 * h) {
-      ks.push(k - hiIdx);
+      ks.push(k - k0);
       ls.push(Math.log(e));
     }
   }
@@ -109,7 +117,7 @@ function inrushTail(x: Float32Array, hiIdx: number, base: number, rate: number):
   const slope = sxx > 0 ? sxy / sxx : 0;
   if (!(slope < 0)) return null;
   const a = Math.exp(ml - slope * mk);
-  return (k: number) => (k >= hiIdx ? Math.min(h, a * Math.exp(slope * (k - hiIdx))) : 0);
+  return { at: (k: number) => (k >= k0 ? Math.min(h, a * Math.exp(slope * (k - k0))) : 0), height: h };
 }
 
 function crankingPart(dc: Decimated): Cranking | null {
@@ -124,14 +132,16 @@ function crankingPart(dc: Decimated): Cranking | null {
   while (stop > start && d[stop - 1] < flowing) stop--;
   let x = d;
   let inrushIgnored = false;
+  let tail: { at: (k: number) => number; height: number } | null = null;
   // the inrush: a spike near the start far above the cranking peaks
   if (hiIdx < start + 0.4 * (m - start) && hi - q50 > 2 * (q90 - q50)) {
     inrushIgnored = true;
     const later = d.subarray(Math.min(stop - 1, hiIdx + Math.floor((stop - hiIdx) / 3)), stop);
     const base = later.length ? histogramQuantile(later, 0.1, lo, hi) : q50;
-    const tail = inrushTail(boxcar(d, 0, m, 5), hiIdx, base, dc.rate);
+    tail = inrushTail(boxcar(d, 0, m, 5), hiIdx, base, dc.rate);
     if (tail) {
-      x = Float32Array.from(d, (y, k) => y - tail(k));
+      const t = tail.at;
+      x = Float32Array.from(d, (y, k) => y - t(k));
       start = hiIdx + 1;
       while (start < stop && x[start] > base + 0.5 * (q50 - base) && x[start] > x[start + 1]) start++;
     } else {
@@ -142,7 +152,15 @@ function crankingPart(dc: Decimated): Cranking | null {
     }
   }
   if (stop - start < 16) return null;
-  return { seg: x.subarray(start, stop), start, inrushIgnored, q50 };
+  const t = tail?.at;
+  return {
+    seg: x.subarray(start, stop),
+    tail: t ? (k: number) => t(k + start) : null,
+    tailHeight: tail?.height ?? 0,
+    start,
+    inrushIgnored,
+    q50,
+  };
 }
 
 /** The stroke period (decimated samples) from the autocorrelation of the cranking current, or null. */
@@ -167,9 +185,10 @@ function strokePeriod(seg: Float32Array, rate: number, N: number): number | null
     if (r[lg] > r[lg - 1] && r[lg] >= r[lg + 1] && r[lg] > 0.15) peaks.push({ lag: lg, r: r[lg] });
   }
   if (peaks.length === 0 || Math.max(...peaks.map((x) => x.r)) < 0.3) return null;
-  // the strongest repeat is one stroke, or a whole cycle of N strokes when one cylinder differs
-  // (a dead cylinder leaves the single-stroke repeat weak): take the shortest lag that divides it
-  const strongest = peaks.reduce((x, y) => (y.r > x.r ? y : x));
+  // the shortest strong repeat is one stroke, or a whole cycle of N strokes when one cylinder
+  // differs (a dead cylinder leaves the single-stroke repeat weak): take the shortest lag dividing it
+  const rMax = Math.max(...peaks.map((x) => x.r));
+  const strongest = peaks.find((x) => x.r >= 0.8 * rMax)!;
   let lag = strongest.lag;
   for (let k = N; k >= 2; k--) {
     const want = strongest.lag / k;
@@ -183,14 +202,34 @@ function strokePeriod(seg: Float32Array, rate: number, N: number): number | null
   return lag + (den !== 0 ? (0.5 * (r[lag - 1] - r[lag + 1])) / den : 0);
 }
 
+/** The first local maximum in [a, b) standing `drop` above the lowest points half a stroke either side. */
+function fallingPeak(sm: Float32Array, a: number, b: number, P: number, drop: number): number {
+  const half = Math.round(0.5 * P);
+  for (let k = a + 1; k < b - 1; k++) {
+    if (!(sm[k] >= sm[k - 1] && sm[k] > sm[k + 1])) continue;
+    let after = sm[k];
+    for (let q = k; q < Math.min(sm.length, k + half); q++) if (sm[q] < after) after = sm[q];
+    let before = sm[k];
+    for (let q = Math.max(0, k - half); q <= k; q++) if (sm[q] < before) before = sm[q];
+    if (sm[k] - after >= drop && sm[k] - before >= drop) return k;
+  }
+  return -1;
+}
+
 /** One peak per stroke: the highest point of each stroke-long window, walking stroke by stroke. */
 function strokePeaks(sm: Float32Array, P: number): number[] {
   const L = sm.length;
   const peakIdx: number[] = [];
+  // a third of the usual stroke's swing: a fall that marks a stroke's peak
+  const sorted = Float32Array.from(sm).sort();
+  const drop = (sorted[Math.floor(0.9 * (L - 1))] - sorted[Math.floor(0.1 * (L - 1))]) / 3;
   const step = Math.max(2, Math.round(P));
   let a = 0;
   let b = Math.min(L, step);
   while (b - a >= 2) {
+    // the capture's end cuts this window: a stroke needs its peak and its fall after it (a third of
+    // a period) inside the capture
+    if (b >= L && peakIdx.length && L - peakIdx[peakIdx.length - 1] < 1.3 * P) break;
     let best = a;
     for (let k = a; k < b; k++) if (sm[k] > sm[best]) best = k;
     if (best === a && peakIdx.length === 0) {
@@ -201,6 +240,14 @@ function strokePeaks(sm: Float32Array, P: number): number[] {
       continue;
     }
     if (best === b - 1) {
+      // the next stroke already rises, higher, at the window's end: a stroke inside it comes first
+      const inner = fallingPeak(sm, a, b, P, drop);
+      if (inner >= 0) {
+        peakIdx.push(inner);
+        a = inner + Math.round(0.5 * P);
+        b = Math.min(L, inner + Math.round(1.5 * P));
+        continue;
+      }
       if (b >= L) break; // the capture ends on a rising slope: not a complete stroke
       a = best; // still rising at the window's end: look further
       b = Math.min(L, a + step);
@@ -211,6 +258,57 @@ function strokePeaks(sm: Float32Array, P: number): number[] {
     b = Math.min(L, best + Math.round(1.5 * P));
   }
   return peakIdx;
+}
+
+/**
+ * The troughs between strokes all sit at the cranking current once the inrush's tail is right. What
+ * the fitted tail left behind shows in the early troughs; it is modelled as a change of the tail's
+ * height and of its time constant (c1·g + c2·k·g, g the tail, to first order) by least squares over
+ * the troughs, and taken off too.
+ */
+function correctTailResidue(sm: Float32Array, peakIdx: number[], cr: Cranking): Float32Array {
+  const tail = cr.tail;
+  if (!tail || peakIdx.length < 3) return sm;
+  const tr: { k: number; y: number; g: number }[] = [];
+  for (let i = 1; i < peakIdx.length; i++) {
+    let lo = peakIdx[i - 1];
+    for (let q = peakIdx[i - 1]; q <= peakIdx[i]; q++) if (sm[q] < sm[lo]) lo = q;
+    tr.push({ k: lo, y: sm[lo], g: tail(lo) });
+  }
+  const settled = tr.filter((x) => x.g < 0.02 * cr.tailHeight).map((x) => x.y);
+  const early = tr.filter((x) => x.g >= 0.02 * cr.tailHeight);
+  if (!settled.length || !early.length) return sm;
+  const level = settled.sort((a, b) => a - b)[settled.length >> 1];
+  let c1 = 0;
+  let c2 = 0;
+  const r = early.map((x) => x.y - level);
+  if (early.length >= 3) {
+    // two unknowns: the normal equations of r ≈ c1·g + c2·k·g
+    let a11 = 0, a12 = 0, a22 = 0, b1 = 0, b2 = 0;
+    early.forEach((x, i) => {
+      const u = x.g;
+      const v = x.k * x.g;
+      a11 += u * u;
+      a12 += u * v;
+      a22 += v * v;
+      b1 += u * r[i];
+      b2 += v * r[i];
+    });
+    const det = a11 * a22 - a12 * a12;
+    if (Math.abs(det) > 0) {
+      c1 = (b1 * a22 - b2 * a12) / det;
+      c2 = (a11 * b2 - a12 * b1) / det;
+    }
+  } else {
+    let num = 0;
+    let den = 0;
+    early.forEach((x, i) => {
+      num += x.g * r[i];
+      den += x.g * x.g;
+    });
+    c1 = den > 0 ? num / den : 0;
+  }
+  return Float32Array.from(sm, (y, k) => y - (c1 + c2 * k) * tail(k));
 }
 
 /** Each stroke's rise above the troughs beside it, and its time (s). */
@@ -253,7 +351,9 @@ function summaryOf(events: CompressionEvent[], heights: number[], N: number, inr
   const fPeaks = span > 0 ? (times.length - 1) / span : null;
   const positions: { position: number; relativePct: number }[] = [];
   for (let q = 1; q <= Math.min(N, events.length); q++) {
-    const xs = events.filter((e) => e.position === q).map((e) => e.relativePct);
+    const all = events.filter((e) => e.position === q);
+    const settled = all.filter((e) => !e.onInrush);
+    const xs = (settled.length ? settled : all).map((e) => e.relativePct);
     positions.push({ position: q, relativePct: xs.reduce((x, y) => x + y, 0) / xs.length });
   }
   return {
@@ -261,7 +361,7 @@ function summaryOf(events: CompressionEvent[], heights: number[], N: number, inr
     rpm: fPeaks != null ? (120 * fPeaks) / N : null,
     cylinders: N,
     peak: metricStats(heights),
-    relativePct: metricStats(events.map((e) => e.relativePct)),
+    relativePct: metricStats(events.filter((e) => !e.onInrush).map((e) => e.relativePct)),
     positions,
     lowPositions: positions.filter((x) => x.relativePct < LOW_COMPRESSION_PCT).map((x) => x.position),
     inrushIgnored,
@@ -292,17 +392,24 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
   if (!cr) return noEvents("the capture ends before cranking");
   const P = strokePeriod(cr.seg, dc.rate, N);
   if (P == null) return noEvents("no repeating current peaks");
-  const sm = boxcar(cr.seg, 0, cr.seg.length, Math.max(1, Math.round(P / 10) | 1));
+  // light smoothing: enough against the noise, little enough not to flatten a stroke's sharp fall
+  const sm = boxcar(cr.seg, 0, cr.seg.length, Math.max(1, Math.round(P / 25) | 1));
   const peakIdx = strokePeaks(sm, P);
   if (peakIdx.length < 2) return noEvents("fewer than two current peaks");
   const time = (x: number) => timeAtFrac(p, (cr.start + x) * dc.blockN + (dc.blockN - 1) / 2);
-  const { heights, times } = strokeHeightsAndTimes(sm, peakIdx, P, time, dc.rate);
-  const hMax = Math.max(...heights);
+  const { heights, times } = strokeHeightsAndTimes(correctTailResidue(sm, peakIdx, cr), peakIdx, P, time, dc.rate);
+  // a stroke that comes while much of the inrush is left (over a quarter of a typical stroke's rise)
+  // is timed and counted, but its height rests on the tail's model: it does not judge compression
+  const typical = [...heights].sort((a, b) => a - b)[heights.length >> 1];
+  const onInrush = peakIdx.map((pk) => (cr.tail ? cr.tail(pk) > 0.25 * typical : false));
+  const judged = heights.filter((_, k) => !onInrush[k]);
+  const hMax = Math.max(...(judged.length ? judged : heights));
   const events: CompressionEvent[] = peakIdx.map((_, k) => ({
     timeS: times[k],
     peak: heights[k],
     relativePct: hMax > 0 ? (100 * heights[k]) / hMax : 0,
     position: (k % N) + 1,
+    onInrush: onInrush[k],
   }));
   const summary = summaryOf(events, heights, N, cr.inrushIgnored);
   reviewCompression(p, ctx, summary, P * dc.blockN, cr.q50 / p.toPhysical, drafts);

@@ -7,10 +7,11 @@
  * - with five or more samples within the top of the apex (5 % of its height, or 4 noise RMS when
  *   that is more), a least-squares parabola through them gives the apex: it follows the apex's own
  *   curvature, so it does not lower a sharp peak, and it averages the noise instead of riding on it;
- * - with fewer (a narrow apex on a coarse grid), a parabola through the logarithms of the highest
- *   sample and its two neighbours (exact for a Gaussian-shaped top), when both neighbours are at
- *   least half the highest — else the highest sample itself (a lower bound; the capture review
- *   calls such a capture undersampled).
+ * - with fewer (a narrow apex on a coarse grid), a parabola through the highest sample and its two
+ *   neighbours, when both neighbours are at least half the highest (the apex is resolved: on
+ *   Gaussian-shaped tops, symmetric or not, within about 2.5 % at one sample per rise width) —
+ *   else the highest sample itself (a lower bound; the capture review calls such a capture
+ *   undersampled).
  */
 import { GLITCH_RATE_HZ, type SecondaryLevels } from "./secondary-levels";
 import type { Prepared } from "./signal";
@@ -110,13 +111,10 @@ export function firingLineApex(p: Prepared, lv: SecondaryLevels, from: number, t
     const ya = y(m - 1);
     const yc = y(m + 1);
     if (ym > 0 && Math.min(ya, yc) >= 0.5 * ym) {
-      const la = Math.log(ya);
-      const lb = Math.log(ym);
-      const lc = Math.log(yc);
-      const den = la - 2 * lb + lc;
+      const den = ya - 2 * ym + yc;
       if (den < 0) {
-        const d = Math.max(-0.5, Math.min(0.5, (0.5 * (la - lc)) / den));
-        const h = Math.exp(lb - 0.25 * (la - lc) * d);
+        const d = Math.max(-0.5, Math.min(0.5, (0.5 * (ya - yc)) / den));
+        const h = ym - 0.25 * (ya - yc) * d;
         return { index: m, at: m + d, height: Math.min(Math.max(h, ym), 1.1 * ym), rawPeak, glitch };
       }
     }

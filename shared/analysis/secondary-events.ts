@@ -32,6 +32,8 @@ export interface RawEvent {
   ringingHz: number | null;
   /** index where the event (its ringing) has died away */
   end: number;
+  /** index where a far taller firing line cut the event short (the next candidate), or −1 */
+  tallerAt: number;
   /** dwell, filled in by the dwell stage */
   dwellS: number | null;
 }
@@ -42,6 +44,9 @@ interface Candidate {
   below: number;
 }
 
+/** A level far above this excursion's own: the firing line of another event. */
+const taller = (lv: SecondaryLevels, height: number) => Math.max(3 * height, 0.5 * lv.ymax);
+
 /** Measures the firing whose apex is given; null when the capture ends before its spark line does. */
 function measureFiring(p: Prepared, lv: SecondaryLevels, apex: Apex): RawEvent | null {
   const { n, rate } = p;
@@ -50,17 +55,27 @@ function measureFiring(p: Prepared, lv: SecondaryLevels, apex: Apex): RawEvent |
   const a = apex.index;
   const b = Math.min(n, a + maxBurn + ringWin);
   if (a + skip + probe >= b) return null;
-  const ys = boxcar(p.v, a, b, lv.w, lv.sign, lv.base);
-  const spark = trackSparkLine(p, lv, a, ys, b === n);
+  const all = boxcar(p.v, a, b, lv.w, lv.sign, lv.base);
+  const spark = trackSparkLine(p, lv, a, all, b === n);
   if (!spark) return null;
   const endIdx = Math.floor(spark.endLocal);
+  // the event never runs into a firing line far taller than its own (the next event's)
+  const top = taller(lv, apex.height);
+  let tallAt = -1;
+  for (let k = Math.max(skip, endIdx); k < all.length; k++) {
+    if (all[k] > top) {
+      tallAt = k;
+      break;
+    }
+  }
+  const ys = tallAt >= 0 ? all.subarray(0, tallAt) : all;
   const ring = coilRinging(p, lv, a, ys, endIdx, ringWin);
   // the event lasts until the ringing has died away (quiet for 0.5 ms below half the threshold)
   const quietNeed = Math.max(2, Math.ceil(rate * 0.5e-3));
   let quiet = 0;
   let j = ring.stop;
   for (; j < ys.length && quiet < quietNeed; j++) quiet = Math.abs(ys[j]) < 0.5 * lv.thDet ? quiet + 1 : 0;
-  const ringEnd = Math.min(ys.length - 1, j);
+  const ringEnd = Math.max(endIdx, Math.min(ys.length - 1, j));
   return {
     apex,
     sparkLevel0: spark.level0,
@@ -71,6 +86,7 @@ function measureFiring(p: Prepared, lv: SecondaryLevels, apex: Apex): RawEvent |
     oscillations: ring.oscillations,
     ringingHz: ring.ringingHz,
     end: a + ringEnd,
+    tallerAt: tallAt >= 0 ? a + tallAt : -1,
     dwellS: null,
   };
 }
@@ -97,7 +113,11 @@ function endsInFiring(p: Prepared, lv: SecondaryLevels, e: RawEvent): boolean {
   return top >= 3 * e.apex.height && top >= 0.5 * lv.ymax;
 }
 
-/** All firing events of the capture, in time order. */
+/**
+ * All firing events of the capture, in time order. A candidate starts at a crossing of the detection
+ * threshold, or where a far taller excursion cut the previous candidate short (a firing line rising
+ * from a dwell whose charge keeps the signal above the threshold).
+ */
 export function findFirings(p: Prepared, lv: SecondaryLevels): RawEvent[] {
   const { v, n, rate } = p;
   const { sign, base, thDet } = lv;
@@ -107,21 +127,31 @@ export function findFirings(p: Prepared, lv: SecondaryLevels): RawEvent[] {
   const events: RawEvent[] = [];
   const others: Candidate[] = [];
   let i = 1;
+  let forced = -1;
   while (i < n) {
-    while (i < n && !(above(i) && !above(i - 1))) i++;
-    if (i >= n) break;
-    const apex = firingLineApex(p, lv, i, Math.min(n, i + apexWin));
+    let start = forced;
+    forced = -1;
+    if (start < 0) {
+      while (i < n && !(above(i) && !above(i - 1))) i++;
+      if (i >= n) break;
+      start = i;
+    }
+    const apex = firingLineApex(p, lv, start, Math.min(n, start + apexWin));
     if (hasSparkLine(p, lv, apex)) {
       const e = measureFiring(p, lv, apex);
       if (!e) break; // the event runs off the end of the capture
       if (!endsInFiring(p, lv, e)) {
         events.push(e);
         i = e.end + 1;
+        if (e.tallerAt >= 0) forced = e.tallerAt;
         continue;
       }
     }
-    let k = Math.max(i, apex.index);
-    while (k < n && above(k)) k++;
+    // not a firing: pass over its excursion, stopping at a far taller one
+    const top = taller(lv, apex.height);
+    let k = Math.max(start, apex.index);
+    while (k < n && above(k) && sign * (v[k] - base) <= top) k++;
+    if (k < n && above(k)) forced = k;
     others.push({ apex, below: k });
     i = k + 1;
   }

@@ -9,7 +9,7 @@ import type { CaptureSettings } from "../schemas/capture-settings";
 import { detectClipping, type ClipInfo } from "./clip";
 import { findFirings, type RawEvent } from "./secondary-events";
 import { secondaryLevels, type SecondaryLevels } from "./secondary-levels";
-import { measureDwell } from "./secondary-dwell";
+import { dropDwellStarts, measureDwell } from "./secondary-dwell";
 import { reviewSecondary } from "./secondary-review";
 import { timeAtFrac, timeAtOf, type Prepared } from "./signal";
 import { metricStats } from "./stats";
@@ -94,7 +94,7 @@ function summarise(p: Prepared, lv: SecondaryLevels, events: SecondaryEvent[], w
 
 export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryAnalysis {
   const lv = secondaryLevels(p);
-  const raw = findFirings(p, lv);
+  const raw = dropDwellStarts(p, lv, findFirings(p, lv));
   measureDwell(p, lv, raw);
   const clip = detectClipping(p, lv.base, ctx.screen, lv.noise);
   const ceiling = clipCeiling(lv, clip, ctx.screen);

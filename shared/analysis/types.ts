@@ -167,6 +167,11 @@ export interface CompressionEvent {
   relativePct: number;
   /** position in the firing sequence, 1..cylinders, counted from the first stroke after the inrush */
   position: number;
+  /**
+   * the stroke came while the starter's inrush was still falling (more than a quarter of a typical
+   * stroke's rise left): timed and counted, but not used for the relative compression per cylinder
+   */
+  onInrush: boolean;
 }
 
 export interface CompressionSummary {
