@@ -18,7 +18,13 @@
 import fs from "node:fs";
 import { analyzeTrace } from "../shared/analysis/analyze";
 import { compareTraces } from "../shared/analysis/compare";
-import { probeKinds, traceKinds, type CaptureSettings, type ProbeKind, type TraceKind } from "../shared/schemas/capture-settings";
+import {
+  probeKinds,
+  traceKinds,
+  type CaptureSettings,
+  type ProbeKind,
+  type TraceKind,
+} from "../shared/schemas/capture-settings";
 import { createTraceAccumulator } from "../shared/trace/parse";
 import { TraceParseError, type ParsedTrace } from "../shared/trace/types";
 import { checkTextStart, TEXT_SNIFF_BYTES } from "../server/uploads/magic";
@@ -79,13 +85,15 @@ function parseArgs(argv: string[]): Args {
         break;
       case "--probe": {
         const p = value();
-        if (!(probeKinds as readonly string[]).includes(p ?? "")) throw new UsageError(`--probe must be one of ${probeKinds.join(", ")}`);
+        if (!(probeKinds as readonly string[]).includes(p ?? "")) throw new UsageError(`--probe must be one of ` +
+          `${probeKinds.join(", ")}`);
         settings.probe = p as ProbeKind;
         break;
       }
       case "--ground-offset":
         settings.groundOffsetDiv = num(flag, value());
-        if (Math.abs(settings.groundOffsetDiv) > 4) throw new UsageError("--ground-offset must be between -4 and 4 divisions");
+        if (Math.abs(settings.groundOffsetDiv) > 4) throw new UsageError("--ground-offset must be between -4 and " +
+          "4 divisions");
         break;
       case "--cylinder":
         settings.cylinder = num(flag, value(), { positive: true, integer: true });

@@ -25,7 +25,11 @@ const RELATIVE: Record<string, { name: string; up: string; down: string }> = {
   burnTimeMs: { name: "burn time", up: "longer", down: "shorter" },
   burnLevel: { name: "spark line", up: "higher", down: "lower" },
   dwellMs: { name: "dwell", up: "longer", down: "shorter" },
-  firingToSpark: { name: "firing line against its own spark line", up: "taller than on the others", down: "lower than on the others" },
+  firingToSpark: {
+    name: "firing line against its own spark line",
+    up: "taller than on the others",
+    down: "lower than on the others",
+  },
   pulseWidthMs: { name: "pulse width", up: "longer", down: "shorter" },
   turnOffPeak: { name: "turn-off spike", up: "higher", down: "lower" },
   amplitude: { name: "sensor signal", up: "stronger", down: "weaker" },
@@ -53,15 +57,18 @@ export function differencePhrase(metric: string, kind: string, value: number, ot
     const d = Math.abs(value - others);
     return `pintle closes ${formatQuantity(d / 1e3, "s")} ${dir ? "later" : "earlier"} than on the others`;
   }
-  if (metric === "relativePct") return `compression ${Math.round(value)} % of the strongest against ${Math.round(others)} % on the others`;
+  if (metric === "relativePct")
+    return `compression ${Math.round(value)} % of the strongest against ${Math.round(others)} % on the others`;
   if (kind === "relative-compression" && metric === "peak") {
     if (others === 0) return `current rise per stroke ${formatQuantity(value, unit)}`;
     return `current rise per stroke ${pct(value, others)} % ${dir ? "above" : "below"} the others`;
   }
   const words = RELATIVE[metric];
   const name = words?.name ?? metric;
-  if (others === 0 || !Number.isFinite(others)) return `${name} ${formatQuantity(value, unit)} against none on the others`;
-  return `${name} ${pct(value, others)} % ${dir ? (words?.up ?? "above the others") : (words?.down ?? "below the others")}`;
+  if (others === 0 || !Number.isFinite(others))
+    return `${name} ${formatQuantity(value, unit)} against none on the others`;
+  return `${name} ${pct(value, others)} % ` +
+    `${dir ? (words?.up ?? "above the others") : (words?.down ?? "below the others")}`;
 }
 
 function fmtCount(x: number): string {
@@ -72,7 +79,10 @@ function fmtCount(x: number): string {
 export function placementPhrase(scale: number): { detail: string; advice: string } {
   const p = Math.round(Math.abs(1 - scale) * 100);
   return {
-    detail: `every voltage about ${p} % ${scale < 1 ? "lower" : "higher"} than on the others, with the same burn time, ringing and shape: this looks like where the pickup sat, not a fault in the cylinder`,
-    advice: "Lay the pickup flat on top of the coil, in the same spot as on the others, and capture this cylinder again before judging its voltages.",
+    detail: `every voltage about ${p} % ${scale < 1 ? "lower" : "higher"} than on the others, with the same burn ` +
+      `time, ringing and shape: this looks like where the pickup sat, not a fault in the cylinder`,
+    advice:
+      "Lay the pickup flat on top of the coil, in the same spot as on the others, and capture this cylinder " +
+        "again before judging its voltages.",
   };
 }

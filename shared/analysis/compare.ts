@@ -15,7 +15,15 @@
  */
 import { differencePhrase, placementPhrase, traceLabel } from "./compare-words";
 import { median, modifiedZScores } from "./stats";
-import type { AnalysisResult, ComparedMetric, Comparison, ComparisonStatement, EventOutlier, Outlier, TraceKind } from "./types";
+import type {
+  AnalysisResult,
+  ComparedMetric,
+  Comparison,
+  ComparisonStatement,
+  EventOutlier,
+  Outlier,
+  TraceKind,
+} from "./types";
 
 /** A result to compare, named by its file (CLI) or its trace id (server), and its cylinder when known. */
 export type ComparableResult = Pick<AnalysisResult, "kind" | "unit" | "summary"> & {
@@ -169,7 +177,8 @@ export function compareTraces(results: readonly ComparableResult[]): Comparison 
     );
     if (!z) continue;
     present.forEach((x, k) => {
-      if (z.outlier[k]) flags.push({ trace: x.i, spec, value: x.v, median: z.median, score: Math.round(z.scores[k] * 100) / 100 });
+      if (z.outlier[k])
+        flags.push({ trace: x.i, spec, value: x.v, median: z.median, score: Math.round(z.scores[k] * 100) / 100 });
     });
   }
   const outliers: Outlier[] = [];
@@ -180,15 +189,36 @@ export function compareTraces(results: readonly ComparableResult[]): Comparison 
     const scale = kind === "secondary-ignition" ? placementScale(mine, table, i) : null;
     if (scale != null) {
       const words = placementPhrase(scale);
-      statements.push(statementFor(r, i, "placement", words.detail, words.advice, mine.map((f) => f.spec.metric), scale));
+      statements.push(
+        statementFor(
+          r,
+          i,
+          "placement",
+          words.detail,
+          words.advice,
+          mine.map((f) => f.spec.metric),
+          scale,
+        ),
+      );
       return;
     }
-    for (const f of mine) outliers.push({ ...label(r, i), metric: f.spec.metric, value: f.value, median: f.median, score: f.score });
+    for (const f of mine)
+      outliers.push({ ...label(r, i), metric: f.spec.metric, value: f.value, median: f.median, score: f.score });
     const phrases = mine.map((f) => {
       const others = othersMedian(table.get(f.spec.metric) ?? [], i) ?? f.median;
       return differencePhrase(f.spec.metric, kind, f.value, others, f.spec.unit === "*" ? r.unit : f.spec.unit);
     });
-    statements.push(statementFor(r, i, "different", phrases.join(", "), null, mine.map((f) => f.spec.metric), null));
+    statements.push(
+      statementFor(
+        r,
+        i,
+        "different",
+        phrases.join(", "),
+        null,
+        mine.map((f) => f.spec.metric),
+        null,
+      ),
+    );
   });
   // outliers grouped by metric, in the order of the metrics (as before statements existed)
   const order = new Map(specs.map((s, k) => [s.metric, k]));

@@ -86,7 +86,12 @@ interface Cranking {
  * on the logarithm) on the early decay (90 % down to 35 % of the peak, before any turn upward);
  * null when it does not decay.
  */
-function inrushTail(x: Float32Array, hiIdx: number, base: number, rate: number): { at: (k: number) => number; height: number } | null {
+function inrushTail(
+  x: Float32Array,
+  hiIdx: number,
+  base: number,
+  rate: number,
+): { at: (k: number) => number; height: number } | null {
   // the smoothed peak can sit a sample or two from the raw one
   let k0 = hiIdx;
   for (let k = Math.max(0, hiIdx - 5); k < Math.min(x.length, hiIdx + 10); k++) if (x[k] > x[k0]) k0 = k;
@@ -284,7 +289,11 @@ function correctTailResidue(sm: Float32Array, peakIdx: number[], cr: Cranking): 
   const r = early.map((x) => x.y - level);
   if (early.length >= 3) {
     // two unknowns: the normal equations of r ≈ c1·g + c2·k·g
-    let a11 = 0, a12 = 0, a22 = 0, b1 = 0, b2 = 0;
+    let a11 = 0,
+      a12 = 0,
+      a22 = 0,
+      b1 = 0,
+      b2 = 0;
     early.forEach((x, i) => {
       const u = x.g;
       const v = x.k * x.g;
@@ -312,7 +321,13 @@ function correctTailResidue(sm: Float32Array, peakIdx: number[], cr: Cranking): 
 }
 
 /** Each stroke's rise above the troughs beside it, and its time (s). */
-function strokeHeightsAndTimes(sm: Float32Array, peakIdx: number[], P: number, time: (x: number) => number, rate: number) {
+function strokeHeightsAndTimes(
+  sm: Float32Array,
+  peakIdx: number[],
+  P: number,
+  time: (x: number) => number,
+  rate: number,
+) {
   const troughs: number[] = [];
   for (let k = 1; k < peakIdx.length; k++) {
     let mn = Infinity;
@@ -345,7 +360,12 @@ function strokeHeightsAndTimes(sm: Float32Array, peakIdx: number[], P: number, t
   return { heights, times };
 }
 
-function summaryOf(events: CompressionEvent[], heights: number[], N: number, inrushIgnored: boolean): CompressionSummary {
+function summaryOf(
+  events: CompressionEvent[],
+  heights: number[],
+  N: number,
+  inrushIgnored: boolean,
+): CompressionSummary {
   const times = events.map((e) => e.timeS);
   const span = times.length ? times[times.length - 1] - times[0] : 0;
   const fPeaks = span > 0 ? (times.length - 1) / span : null;
@@ -380,12 +400,19 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
       severity: "problem",
       message: `No compression strokes found: ${why}.`,
       advice:
-        "Clamp round the battery's main cable (all of the starter current), crank for at least two seconds with the engine disabled as the maker directs, and start the capture before the key is turned.",
+        "Clamp round the battery's main cable (all of the starter current), crank for at least two seconds with " +
+          "the engine disabled as the maker directs, and start the capture before the key is turned.",
       caution: true,
     });
     const empty = summaryOf([], [], N, false);
     const none: Suggestions = { oneEvent: null, allCylinders: null, triggerLevel: null, triggerText: null };
-    return { events: [], summary: empty, findings: finishFindings(drafts, ENGINE_SAFETY), measurements, suggestions: none };
+    return {
+      events: [],
+      summary: empty,
+      findings: finishFindings(drafts, ENGINE_SAFETY),
+      measurements,
+      suggestions: none,
+    };
   };
   if (dc.m < 16 || !(dc.hi > dc.lo)) return noEvents("the capture is too short or flat");
   const cr = crankingPart(dc);
@@ -422,7 +449,8 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
         ? {
             timePerDivS: tpd,
             voltsPerDiv: null,
-            reason: `two engine cycles (2 × 120/rpm = ${fmt((240 / rpm) * 1e3, 3)} ms at ${Math.round(rpm)} rpm) across the 10 divisions, after the inrush (common practice, no source)`,
+            reason: `two engine cycles (2 × 120/rpm = ${fmt((240 / rpm) * 1e3, 3)} ms at ${Math.round(rpm)} rpm) ` +
+              `across the 10 divisions, after the inrush (common practice, no source)`,
             text: `${fmtTime(tpd)}/div`,
           }
         : null,
@@ -450,7 +478,12 @@ function reviewCompression(
     });
   }
   const noise = p.n ? robustLevelAndNoise(p.v).noise : 0;
-  const clipped = clippedFinding(p, detectClipping(p, restingStored, ctx.screen, noise), ctx.settings, "the current peaks");
+  const clipped = clippedFinding(
+    p,
+    detectClipping(p, restingStored, ctx.screen, noise),
+    ctx.settings,
+    "the current peaks",
+  );
   if (clipped) drafts.push(clipped);
   if (samplesPerStroke < 20) {
     drafts.push({
@@ -467,7 +500,8 @@ function reviewCompression(
       code: "low-compression",
       severity: "warning",
       message: `Compression stroke ${q} of every ${N} draws ${Math.round(pct)} % of the highest current peak (below ${LOW_COMPRESSION_PCT} %): that cylinder is suspect.`,
-      advice: `Confirm with a compression or leak-down test on that cylinder. To know which cylinder stroke ${q} is, capture cylinder 1's ignition on a second channel and count along the firing order.`,
+      advice: `Confirm with a compression or leak-down test on that cylinder. To know which cylinder stroke ${q} ` +
+        `is, capture cylinder 1's ignition on a second channel and count along the firing order.`,
       caution: true,
     });
   }

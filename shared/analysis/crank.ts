@@ -12,7 +12,14 @@ import { detectTeeth, findGaps, matchWheel, type Gaps, type WheelMatch } from ".
 import { ENGINE_SAFETY } from "./findings";
 import { fmt, fmtRate, fmtTime } from "./format";
 import { measurePrepared } from "./measure";
-import { clippedFinding, finishFindings, setting, triggerBeyondFinding, voltsPerDivFor, type FindingDraft } from "./review";
+import {
+  clippedFinding,
+  finishFindings,
+  setting,
+  triggerBeyondFinding,
+  voltsPerDivFor,
+  type FindingDraft,
+} from "./review";
 import { niceCeil, type Prepared } from "./signal";
 import { blockSample, histogramQuantile, linearSlope, median, metricStats, robustLevelAndNoise } from "./stats";
 import type { CrankEvent, CrankSummary, CrankWheel, Finding, Measurements, Suggestions } from "./types";
@@ -119,7 +126,13 @@ function damagedTeeth(g: Gaps, toothNo: (number | null)[], teethPerRev: number):
 }
 
 /** Amplitude per 1000 rpm and its slope against speed (Faraday's law: a VR sensor's output rises with speed). */
-function amplitudeVsSpeed(g: Gaps, toothNo: (number | null)[], damaged: number[], positions: number | null, sc: number) {
+function amplitudeVsSpeed(
+  g: Gaps,
+  toothNo: (number | null)[],
+  damaged: number[],
+  positions: number | null,
+  sc: number,
+) {
   const perTooth: { amp: number; krpm: number }[] = [];
   if (positions != null) {
     for (let c = 1; c + 1 < g.teeth.length && c < g.amps.length; c++) {
@@ -144,7 +157,13 @@ function amplitudeVsSpeed(g: Gaps, toothNo: (number | null)[], damaged: number[]
 
 function wheelOf(m: WheelMatch | null): CrankWheel | null {
   if (!m) return null;
-  return { pattern: `${m.positions}-${m.missing}`, positions: m.positions, missing: m.missing, teethPerRev: m.positions - m.missing, from: m.from };
+  return {
+    pattern: `${m.positions}-${m.missing}`,
+    positions: m.positions,
+    missing: m.missing,
+    teethPerRev: m.positions - m.missing,
+    from: m.from,
+  };
 }
 
 export function analyzeCrank(p: Prepared, ctx: CrankContext): CrankAnalysis {
@@ -197,7 +216,8 @@ export function analyzeCrank(p: Prepared, ctx: CrankContext): CrankAnalysis {
         ? {
             timePerDivS: oneRev,
             voltsPerDiv: vpd,
-            reason: `one revolution (60/rpm = ${fmt((60 / rpm) * 1e3, 3)} ms) with its gap across 8 of the 10 divisions (common practice, no source)`,
+            reason: `one revolution (60/rpm = ${fmt((60 / rpm) * 1e3, 3)} ms) with its gap across 8 of the 10 ` +
+              `divisions (common practice, no source)`,
             text: `${fmtTime(oneRev)}/div${vpd != null ? `, ${setting(p, vpd, "div")}` : ""}`,
           }
         : null,
@@ -224,15 +244,18 @@ function reviewCrank(
     drafts.push({
       code: "no-events",
       severity: "problem",
-      message: "No crank teeth found: the signal does not swing about its middle often enough, or not at a regular pace.",
-      advice: "Probe the crank sensor's signal wire with the engine cranking or running, at a time/division that shows at least one revolution.",
+      message:
+        "No crank teeth found: the signal does not swing about its middle often enough, or not at a regular pace.",
+      advice:
+        "Probe the crank sensor's signal wire with the engine cranking or running, at a time/division that shows at least one revolution.",
       caution: true,
     });
   } else if (gapIdx.length === 0) {
     drafts.push({
       code: "no-gap",
       severity: "warning",
-      message: `No missing-tooth gap among ${teeth.length} teeth: the capture is shorter than a revolution, or the wheel has no gap. Without the wheel's pattern no rpm is given.`,
+      message: `No missing-tooth gap among ${teeth.length} teeth: the capture is shorter than a revolution, or ` +
+        `the wheel has no gap. Without the wheel's pattern no rpm is given.`,
       advice: "Capture at least two full revolutions, so the gap shows twice.",
       caution: true,
     });
@@ -243,19 +266,27 @@ function reviewCrank(
       code: "unknown-wheel",
       severity: "warning",
       message: `The wheel is not one Burnline recognises: its gap spans ${pitches} tooth pitches${
-        counts.length ? ` with ${[...new Set(counts)].join(", ")} teeth between gaps` : " and only one gap is in the capture"
+        counts.length
+          ? ` with ${[...new Set(counts)].join(", ")} teeth between gaps`
+          : " and only one gap is in the capture"
       }. No rpm is given.`,
-      advice: "Capture at least two full revolutions; if the wheel has several gaps or an uncommon pattern, read the rpm from another signal.",
+      advice:
+        "Capture at least two full revolutions; if the wheel has several gaps or an uncommon pattern, read the " +
+          "rpm from another signal.",
       caution: true,
     });
   }
   if (wheel) {
-    const off = gapIdx.slice(1).map((k, i) => k - gapIdx[i]).filter((c) => c !== wheel.teethPerRev);
+    const off = gapIdx
+      .slice(1)
+      .map((k, i) => k - gapIdx[i])
+      .filter((c) => c !== wheel.teethPerRev);
     if (off.length) {
       drafts.push({
         code: "tooth-count",
         severity: "warning",
-        message: `${off.join(", ")} teeth counted between gaps instead of ${wheel.teethPerRev} (a ${wheel.pattern} wheel): teeth are missed or extra edges are seen.`,
+        message: `${off.join(", ")} teeth counted between gaps instead of ${wheel.teethPerRev} (a ` +
+          `${wheel.pattern} wheel): teeth are missed or extra edges are seen.`,
         advice: "Check the sensor's air gap and wiring, and the wheel for damage or debris.",
         caution: true,
       });
@@ -266,8 +297,10 @@ function reviewCrank(
     drafts.push({
       code: "damaged-tooth",
       severity: "warning",
-      message: `Tooth ${damaged.join(", ")} (counted from the gap) reads weak or missing in the sensor signal: a damaged tooth or debris on the wheel.`,
-      advice: "Inspect the reluctor wheel at that tooth (count from the gap in the direction of rotation) as the maker's procedure describes.",
+      message: `Tooth ${damaged.join(", ")} (counted from the gap) reads weak or missing in the sensor signal: a ` +
+        `damaged tooth or debris on the wheel.`,
+      advice:
+        "Inspect the reluctor wheel at that tooth (count from the gap in the direction of rotation) as the maker's procedure describes.",
       caution: true,
     });
   }
@@ -275,8 +308,11 @@ function reviewCrank(
     drafts.push({
       code: "inverted",
       severity: "info",
-      message: "Each tooth gives a negative lobe before its positive one: the sensor's two wires are probably swapped (or the probe is).",
-      advice: "Check the sensor's wiring against the maker's diagram; some control units read a reversed sensor late or not at all.",
+      message:
+        "Each tooth gives a negative lobe before its positive one: the sensor's two wires are probably swapped " +
+          "(or the probe is).",
+      advice:
+        "Check the sensor's wiring against the maker's diagram; some control units read a reversed sensor late or not at all.",
       caution: true,
     });
   }
@@ -284,7 +320,8 @@ function reviewCrank(
     drafts.push({
       code: "undersampled",
       severity: "warning",
-      message: `Only ${Math.round(T * p.rate)} samples per tooth at ${fmtRate(p.rate)}: tooth edges and amplitudes are read coarsely.`,
+      message: `Only ${Math.round(T * p.rate)} samples per tooth at ${fmtRate(p.rate)}: tooth edges and ` +
+        `amplitudes are read coarsely.`,
       advice: `Capture at ${fmtRate(niceCeil(40 / T))} or faster.`,
       caution: true,
     });

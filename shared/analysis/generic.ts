@@ -16,15 +16,29 @@ export interface GenericContext {
 export function analyzeGeneric(
   p: Prepared,
   ctx: GenericContext,
-): { events: never[]; summary: GenericSummary; findings: Finding[]; measurements: Measurements; suggestions: Suggestions } {
+): {
+  events: never[];
+  summary: GenericSummary;
+  findings: Finding[];
+  measurements: Measurements;
+  suggestions: Suggestions;
+} {
   const measurements = measurePrepared(p, p.toPhysical);
   const drafts: FindingDraft[] = [];
   const { median: base, noise } = p.n ? robustLevelAndNoise(p.v) : { median: 0, noise: 0 };
-  const clipped = clippedFinding(p, detectClipping(p, base, ctx.screen, noise), ctx.settings, "its highest or lowest parts");
+  const clipped = clippedFinding(
+    p,
+    detectClipping(p, base, ctx.screen, noise),
+    ctx.settings,
+    "its highest or lowest parts",
+  );
   if (clipped) drafts.push(clipped);
   // the middle of the two state levels, in the scope's unit
   const midPhysical = (measurements.baseLevel + measurements.topLevel) / 2;
-  const mid = Number.isFinite(midPhysical) && p.toPhysical ? Number(((midPhysical / p.toPhysical) * p.toScope).toPrecision(2)) : null;
+  const mid =
+    Number.isFinite(midPhysical) && p.toPhysical
+      ? Number(((midPhysical / p.toPhysical) * p.toScope).toPrecision(2))
+      : null;
   const t = triggerBeyondFinding(p, ctx.settings, mid);
   if (t) drafts.push(t);
   const tpd = measurements.periodS != null ? Number(((measurements.periodS * 2) / 10).toPrecision(2)) : null;
@@ -34,7 +48,10 @@ export function analyzeGeneric(
     findings: finishFindings(drafts, ENGINE_SAFETY),
     measurements,
     suggestions: {
-      oneEvent: tpd != null ? { timePerDivS: tpd, voltsPerDiv: null, reason: "two periods across the 10 divisions", text: `${tpd} s/div` } : null,
+      oneEvent:
+        tpd != null
+          ? { timePerDivS: tpd, voltsPerDiv: null, reason: "two periods across the 10 divisions", text: `${tpd} s/div` }
+          : null,
       allCylinders: null,
       triggerLevel: mid,
       triggerText: mid != null ? setting(p, mid) : null,

@@ -3,7 +3,14 @@ import { detectClipping } from "./clip";
 import { ENGINE_SAFETY } from "./findings";
 import { fmt, fmtRate, fmtTime } from "./format";
 import { measurePrepared } from "./measure";
-import { clippedFinding, finishFindings, setting, triggerBeyondFinding, voltsPerDivFor, type FindingDraft } from "./review";
+import {
+  clippedFinding,
+  finishFindings,
+  setting,
+  triggerBeyondFinding,
+  voltsPerDivFor,
+  type FindingDraft,
+} from "./review";
 import { boxcar, niceCeil, roundNice, timeAtFrac, timeAtOf, type Prepared } from "./signal";
 import { blockSample, histogramQuantile, metricStats, robustLevelAndNoise } from "./stats";
 import type { CaptureSettings } from "../schemas/capture-settings";
@@ -195,11 +202,16 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
   // the on level from every sample: at a low duty cycle the block sample may hold few of them
   const onLevel = medianOf(v, 0, n, Math.min(p.min * sc, 0), 0.25 * supply, sc);
   const events =
-    Number.isFinite(supply) && Number.isFinite(onLevel) && supply - onLevel > 6 * noise ? findPulses(p, { supply, onLevel, noise }) : [];
+    Number.isFinite(supply) && Number.isFinite(onLevel) && supply - onLevel > 6 * noise
+      ? findPulses(p, { supply, onLevel, noise })
+      : [];
 
   let rpm: number | null = null;
   if (events.length >= 2) {
-    const gaps = events.slice(1).map((e, k) => e.timeS - events[k].timeS).sort((a, b) => a - b);
+    const gaps = events
+      .slice(1)
+      .map((e, k) => e.timeS - events[k].timeS)
+      .sort((a, b) => a - b);
     const g = gaps.length % 2 ? gaps[gaps.length >> 1] : (gaps[gaps.length / 2 - 1] + gaps[gaps.length / 2]) / 2;
     if (g > 0) rpm = 120 / g;
   }
@@ -242,7 +254,8 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
     findings.push({
       code: "clamped",
       severity: "info",
-      message: `The driver clamps the turn-off spike at about ${formatQuantity(lvl ?? 0, unit)}: the spike's height says nothing about the coil here.`,
+      message: `The driver clamps the turn-off spike at about ${formatQuantity(lvl ?? 0, unit)}: the spike's ` +
+        `height says nothing about the coil here.`,
       advice: "Judge the coil from the current ramp or a resistance test instead of the spike height.",
     });
   }
@@ -250,7 +263,9 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
     findings.push({
       code: "no-pintle-hump",
       severity: "warning",
-      message: "No pintle-closing hump after the turn-off spike: the injector may be sticking, or the hump is too small to see.",
+      message:
+        "No pintle-closing hump after the turn-off spike: the injector may be sticking, or the hump is too small " +
+          "to see.",
       advice:
         "Compare with the other injectors at the same settings; a hump present on the others but missing here points to this injector. Confirm with a flow or balance test by the maker's procedure.",
       caution: true,
@@ -258,7 +273,9 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
   }
   // the trigger half-way between the supply and the on level, in the scope's unit
   const sugTrigger =
-    Number.isFinite(supply) && Number.isFinite(onLevel) && supply > onLevel ? roundNice(((supply + onLevel) / 2 / sc) * p.toScope) : null;
+    Number.isFinite(supply) && Number.isFinite(onLevel) && supply > onLevel
+      ? roundNice(((supply + onLevel) / 2 / sc) * p.toScope)
+      : null;
   const t = triggerBeyondFinding(p, s, sugTrigger);
   if (t) findings.push(t);
 

@@ -37,7 +37,10 @@ export function finishFindings(drafts: FindingDraft[], caution: string): Finding
 }
 
 /** The screen's range in stored units, from volts/division and the ground offset (in scope units). */
-export function screenRange(units: ChannelUnits, settings: Partial<CaptureSettings>): { min: number; max: number } | null {
+export function screenRange(
+  units: ChannelUnits,
+  settings: Partial<CaptureSettings>,
+): { min: number; max: number } | null {
   if (!(settings.voltsPerDiv && settings.voltsPerDiv > 0) || !(units.scopeFromFile > 0)) return null;
   const r = screenVoltageRange({ voltsPerDiv: settings.voltsPerDiv, groundOffsetDiv: settings.groundOffsetDiv ?? 0 });
   return { min: r.min / units.scopeFromFile, max: r.max / units.scopeFromFile };
@@ -77,7 +80,8 @@ export function clippedFinding(
     code: "clipped",
     severity: "warning",
     message: `The trace sits flat against the ${where} of the scope's range${at}: ${what} read low.`,
-    advice: `Raise volts/division${vpd}, or move the ground offset ${clip.top ? "down" : "up"}, so the whole waveform stays on the screen, then capture again.`,
+    advice: `Raise volts/division${vpd}, or move the ground offset ${clip.top ? "down" : "up"}, so the whole ` +
+      `waveform stays on the screen, then capture again.`,
     caution: true,
   };
 }
@@ -95,11 +99,14 @@ export function triggerBeyondFinding(
   const level = settings.triggerLevel / p.toScope;
   if (level <= p.max && level >= p.min) return null;
   const sugg =
-    suggestedScope != null && Number.isFinite(suggestedScope) ? ` A level of about ${setting(p, suggestedScope)} gives a stable display.` : "";
+    suggestedScope != null && Number.isFinite(suggestedScope)
+      ? ` A level of about ${setting(p, suggestedScope)} gives a stable display.`
+      : "";
   return {
     code: "trigger-above-signal",
     severity: "warning",
-    message: `The trigger level (${setting(p, settings.triggerLevel)}) is beyond anything the signal reaches (${physical(p, p.min)} to ${physical(p, p.max)}), so the scope would never trigger on it.`,
+    message: `The trigger level (${setting(p, settings.triggerLevel)}) is beyond anything the signal reaches ` +
+      `(${physical(p, p.min)} to ${physical(p, p.max)}), so the scope would never trigger on it.`,
     advice: `Bring the trigger level inside the waveform.${sugg}`,
     caution: true,
   };

@@ -38,7 +38,14 @@ function isLoneGlitch(y: (k: number) => number, k: number, n: number, noise: num
 
 /** Least-squares y = c0 + c1·x + c2·x² over the given points; null when singular. */
 function fitParabola(xs: number[], ys: number[]): [number, number, number] | null {
-  let s0 = 0, s1 = 0, s2 = 0, s3 = 0, s4 = 0, t0 = 0, t1 = 0, t2 = 0;
+  let s0 = 0,
+    s1 = 0,
+    s2 = 0,
+    s3 = 0,
+    s4 = 0,
+    t0 = 0,
+    t1 = 0,
+    t2 = 0;
   for (let i = 0; i < xs.length; i++) {
     const x = xs[i];
     const x2 = x * x;
@@ -103,7 +110,8 @@ export function firingLineApex(p: Prepared, lv: SecondaryLevels, from: number, t
     const c = fitParabola(xs, ys);
     if (c && c[2] < 0) {
       const x = -c[1] / (2 * c[2]);
-      if (x >= lo - m && x <= hi - m) return { index: m, at: m + x, height: c[0] - (c[1] * c[1]) / (4 * c[2]), rawPeak, glitch };
+      if (x >= lo - m && x <= hi - m)
+        return { index: m, at: m + x, height: c[0] - (c[1] * c[1]) / (4 * c[2]), rawPeak, glitch };
     }
     return { index: m, at: m, height: ym, rawPeak, glitch };
   }

@@ -161,7 +161,11 @@ export function findFirings(p: Prepared, lv: SecondaryLevels): RawEvent[] {
 /** Candidates without a spark line that are as tall as the firings (half the tallest or more). */
 function addTallFirings(p: Prepared, lv: SecondaryLevels, events: RawEvent[], others: Candidate[]): RawEvent[] {
   if (others.length === 0) return events;
-  const ref = Math.max(0, ...events.map((e) => e.apex.height), ...(events.length ? [] : others.map((c) => c.apex.height)));
+  const ref = Math.max(
+    0,
+    ...events.map((e) => e.apex.height),
+    ...(events.length ? [] : others.map((c) => c.apex.height)),
+  );
   const all = [...events];
   for (const c of others) {
     if (!(c.apex.height >= 0.5 * ref) || c.apex.height < lv.thDet) continue;

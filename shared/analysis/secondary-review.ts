@@ -63,16 +63,22 @@ function samplingFinding(r: SecondaryReviewInput): FindingDraft | null {
   const reasons: string[] = [];
   let severity: "warning" | "problem" | null = null;
   if (sparkSamples != null && sparkSamples < 20) {
-    reasons.push(`only ${Math.round(sparkSamples)} samples across the spark line (20 or more are needed to measure it)`);
+    reasons.push(
+      `only ${Math.round(sparkSamples)} samples across the spark line (20 or more are needed to measure it)`,
+    );
     severity = "problem";
   }
   if (rate < 100e3) {
     reasons.push(
-      `a sample every ${fmtTime(1 / rate)} cannot catch the firing line, which rises and falls within microseconds: below 100 kS/s the peak heights cannot be trusted`,
+      `a sample every ${fmtTime(1 / rate)} cannot catch the firing line, which rises and falls within ` +
+        `microseconds: below 100 kS/s the peak heights cannot be trusted`,
     );
     severity = "problem";
   } else if (rate < 1e6) {
-    reasons.push(`at ${fmtRate(rate)} the firing line's peak can fall between samples and read low: 1 MS/s or more is the usual practice for peak heights`);
+    reasons.push(
+      `at ${fmtRate(rate)} the firing line's peak can fall between samples and read low: 1 MS/s or more is the ` +
+        `usual practice for peak heights`,
+    );
     severity = severity ?? "warning";
   }
   if (!severity) return null;
@@ -92,9 +98,11 @@ function noiseFinding(r: SecondaryReviewInput): FindingDraft | null {
   return {
     code: "noisy",
     severity: "warning",
-    message: `Noisy capture: the noise (${physical(p, lv.noise)} RMS) is ${Math.round((100 * lv.noise) / burnLevelY)} % of the spark line's level.`,
+    message: `Noisy capture: the noise (${physical(p, lv.noise)} RMS) is ` +
+      `${Math.round((100 * lv.noise) / burnLevelY)} % of the spark line's level.`,
     advice:
-      "Lay the pickup flat on top of the coil, as close as it goes, away from the other coils' wiring; keep the scope's ground lead short and on clean engine ground.",
+      "Lay the pickup flat on top of the coil, as close as it goes, away from the other coils' wiring; keep the " +
+        "scope's ground lead short and on clean engine ground.",
     caution: true,
   };
 }
@@ -115,12 +123,16 @@ function triggerFinding(r: SecondaryReviewInput, sugg: number | null): FindingDr
   const ymin = lv.sign > 0 ? p.min - lv.base : lv.base - p.max;
   const level = setting(p, s.triggerLevel);
   const better =
-    sugg != null ? ` A level of about ${setting(p, sugg)} (half the lowest firing line${lv.sign < 0 ? ", falling slope" : ""}) gives a stable display.` : "";
+    sugg != null
+      ? ` A level of about ${setting(p, sugg)} (half the lowest firing ` +
+        `line${lv.sign < 0 ? ", falling slope" : ""}) gives a stable display.`
+      : "";
   if (yl > ymax || yl < ymin) {
     return {
       code: "trigger-above-signal",
       severity: "warning",
-      message: `The trigger level (${level}) is beyond anything the signal reaches, so the scope would never trigger on it.`,
+      message: `The trigger level (${level}) is beyond anything the signal reaches, so the scope would never ` +
+        `trigger on it.`,
       advice: `Bring the trigger level inside the firing lines.${better}`,
       caution: true,
     };
@@ -129,7 +141,8 @@ function triggerFinding(r: SecondaryReviewInput, sugg: number | null): FindingDr
     return {
       code: "trigger-below-noise",
       severity: "warning",
-      message: `The trigger level (${level}) sits within the baseline's noise (about ${physical(p, lv.noise)}), so the display would trigger at random.`,
+      message: `The trigger level (${level}) sits within the baseline's noise (about ${physical(p, lv.noise)}), ` +
+        `so the display would trigger at random.`,
       advice: `Raise the trigger level clear of the noise and the spark line.${better}`,
       caution: true,
     };
@@ -157,7 +170,9 @@ function framing(r: SecondaryReviewInput): Framing {
   const oneEvent = {
     timePerDivS: tpd,
     voltsPerDiv: vpd,
-    reason: `one event (${dwellMsMed ? "dwell, " : ""}firing line, spark line and ringing, about ${fmt(spanMs, 2)} ms) across 8 of the 10 divisions with 10–20 % pre-trigger; the highest firing line at about 80 % of the divisions ${lv.sign > 0 ? "above" : "below"} ground (common practice, no source)`,
+    reason: `one event (${dwellMsMed ? "dwell, " : ""}firing line, spark line and ringing, about ` +
+      `${fmt(spanMs, 2)} ms) across 8 of the 10 divisions with 10–20 % pre-trigger; the highest firing line at ` +
+    `about 80 % of the divisions ${lv.sign > 0 ? "above" : "below"} ground (common practice, no source)`,
     text: `${fmtTime(tpd)}/div${vpdText}`,
   };
   let allCylinders: Suggestions["allCylinders"] = null;
@@ -167,17 +182,21 @@ function framing(r: SecondaryReviewInput): Framing {
     allCylinders = {
       timePerDivS: t,
       voltsPerDiv: vpd,
-      reason: `one engine cycle (120/rpm = ${fmt(cycle * 1e3, 3)} ms at ${Math.round(summary.rpm)} rpm) across the 10 divisions, so every cylinder fires once on screen (common practice, no source)`,
+      reason: `one engine cycle (120/rpm = ${fmt(cycle * 1e3, 3)} ms at ${Math.round(summary.rpm)} rpm) across ` +
+        `the 10 divisions, so every cylinder fires once on screen (common practice, no source)`,
       text: `${fmtTime(t)}/div${vpdText}`,
     };
   }
   const notes: string[] = [];
   if (s.timePerDivS != null && s.timePerDivS * 10 < (summary.burnTimeMs.median ?? 0) / 1e3 + 0.5e-3) {
-    notes.push(`time/division (${fmtTime(s.timePerDivS)}/div) is too short to show a whole event: use ${fmtTime(tpd)}/div`);
+    notes.push(
+      `time/division (${fmtTime(s.timePerDivS)}/div) is too short to show a whole event: use ${fmtTime(tpd)}/div`,
+    );
   }
   if (s.voltsPerDiv != null && !clipSide && vpd != null && peakScope / s.voltsPerDiv < 1.5) {
     notes.push(
-      `the highest firing line is only ${fmt(peakScope / s.voltsPerDiv, 2)} divisions tall at ${setting(p, s.voltsPerDiv, "div")}: use ${setting(p, vpd, "div")}`,
+      `the highest firing line is only ${fmt(peakScope / s.voltsPerDiv, 2)} divisions tall at ` +
+        `${setting(p, s.voltsPerDiv, "div")}: use ${setting(p, vpd, "div")}`,
     );
   }
   const finding: FindingDraft | null = notes.length
@@ -204,9 +223,11 @@ function erraticFinding(r: SecondaryReviewInput): FindingDraft | null {
   return {
     code: "erratic-firing",
     severity: "warning",
-    message: `The firing line changes from event to event: ${odd.length} of ${events.length} firing lines are ${Math.floor(pct)} % or more away from the usual ${physical(p, z.median / p.toPhysical)}.`,
+    message: `The firing line changes from event to event: ${odd.length} of ${events.length} firing lines are ` +
+      `${Math.floor(pct)} % or more away from the usual ${physical(p, z.median / p.toPhysical)}.`,
     advice:
-      "An erratic firing line on one coil points to the coil breaking down or a plug or lead fault; compare with the other cylinders, then test the coil by the maker's procedure.",
+      "An erratic firing line on one coil points to the coil breaking down or a plug or lead fault; compare with " +
+        "the other cylinders, then test the coil by the maker's procedure.",
     caution: true,
   };
 }
@@ -219,7 +240,9 @@ export function reviewSecondary(r: SecondaryReviewInput): { findings: Finding[];
       code: "inverted",
       severity: "info",
       message: "The firing lines point below the baseline (inverted capture). They are measured as magnitudes.",
-      advice: "Use the scope's invert function, or turn the pickup over on the coil, so the firing lines point up; set the trigger slope to match.",
+      advice:
+        "Use the scope's invert function, or turn the pickup over on the coil, so the firing lines point up; set " +
+          "the trigger slope to match.",
       caution: true,
     });
   }
@@ -230,7 +253,8 @@ export function reviewSecondary(r: SecondaryReviewInput): { findings: Finding[];
       severity: "problem",
       message: "No firing events found in this capture.",
       advice:
-        "Check that the pickup sits flat on the coil or clips round the plug lead, that the engine was running, and that time/division is long enough to hold at least one firing (one engine cycle is 120/rpm seconds).",
+        "Check that the pickup sits flat on the coil or clips round the plug lead, that the engine was running, " +
+          "and that time/division is long enough to hold at least one firing (one engine cycle is 120/rpm seconds).",
       caution: true,
     });
   }
@@ -239,7 +263,10 @@ export function reviewSecondary(r: SecondaryReviewInput): { findings: Finding[];
   drafts.push(triggerFinding(r, trig));
   const f = framing(r);
   drafts.push(f.finding, erraticFinding(r));
-  const findings = finishFindings(drafts.filter((d): d is FindingDraft => d != null), SECONDARY_SAFETY);
+  const findings = finishFindings(
+    drafts.filter((d): d is FindingDraft => d != null),
+    SECONDARY_SAFETY,
+  );
   return {
     findings,
     suggestions: {

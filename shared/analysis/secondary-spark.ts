@@ -63,7 +63,13 @@ export interface SparkLine {
  * Tracks the spark line from `skip` after the apex until it departs (collapses or jumps) for good;
  * null when the capture ends during the spark line (an incomplete event, not measured).
  */
-export function trackSparkLine(p: Prepared, lv: SecondaryLevels, a: number, ys: Float32Array, atEnd: boolean): SparkLine | null {
+export function trackSparkLine(
+  p: Prepared,
+  lv: SecondaryLevels,
+  a: number,
+  ys: Float32Array,
+  atEnd: boolean,
+): SparkLine | null {
   const rate = p.rate;
   const { skip, probe, maxBurn } = sparkWindows(rate);
   const len = ys.length;

@@ -100,6 +100,15 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
   const ceiling = clipCeiling(lv, clip, ctx.screen);
   const events = raw.map((e) => toEvent(p, e, ceiling));
   const summary = summarise(p, lv, events, ctx.wasteSpark);
-  const { findings, suggestions } = reviewSecondary({ p, lv, raw, events, summary, clip, ceiling, settings: ctx.settings });
+  const { findings, suggestions } = reviewSecondary({
+    p,
+    lv,
+    raw,
+    events,
+    summary,
+    clip,
+    ceiling,
+    settings: ctx.settings,
+  });
   return { events, summary, findings, suggestions };
 }

@@ -161,7 +161,10 @@ export interface SecondarySummary {
 
 export interface CompressionEvent {
   timeS: number;
-  /** current rise of this compression stroke above the cranking current between strokes, in `unit` (A through a clamp) */
+  /**
+   * current rise of this compression stroke above the cranking current between strokes, in `unit`
+   * (A through a clamp)
+   */
   peak: number;
   /** peak as % of the highest stroke's */
   relativePct: number;
@@ -250,7 +253,10 @@ export interface CrankEvent {
 
 export interface CrankSummary {
   eventCount: number;
-  /** rpm from the recognised wheel: 60 s over one revolution, or 60/(N·T) with T the tooth period; null when the wheel is not recognised */
+  /**
+   * rpm from the recognised wheel: 60 s over one revolution, or 60/(N·T) with T the tooth period;
+   * null when the wheel is not recognised
+   */
   rpm: number | null;
   /** the wheel recognised from its gaps, or null */
   wheel: CrankWheel | null;

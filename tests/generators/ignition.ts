@@ -105,7 +105,12 @@ interface Model {
   sines: { a: number; w: number; ph: number }[];
 }
 
-function build(o: Required<Omit<IgnitionOptions, "seed" | "clip" | "glitches" | "dwellMs" | "kvPerVolt" | "fileUnit">>, rng: Rng, tApex: number, dwellMs: number | null): Model {
+function build(
+  o: Required<Omit<IgnitionOptions, "seed" | "clip" | "glitches" | "dwellMs" | "kvPerVolt" | "fileUnit">>,
+  rng: Rng,
+  tApex: number,
+  dwellMs: number | null,
+): Model {
   const j = (x: number) => x * (1 + o.jitter * (2 * rng.next() - 1));
   const burn = j(o.burnMs) / 1e3;
   const level = j(o.levelKv);
@@ -127,7 +132,27 @@ function build(o: Required<Omit<IgnitionOptions, "seed" | "clip" | "glitches" | 
 }
 
 /** The noise-free event at time t, kV at the plug, firing side positive, coupling not applied. */
-function eventKv(m: Model, o: Required<Pick<IgnitionOptions, "riseUs" | "fallUs" | "chargeKv" | "chargeTauMs" | "wobbleFrac" | "wobbleHz" | "wobbleTowardFiring" | "bumpFrac" | "coilH" | "coilF" | "ringTauPeriods" | "ringB">>, t: number): number {
+function eventKv(
+  m: Model,
+  o: Required<
+    Pick<
+      IgnitionOptions,
+      | "riseUs"
+      | "fallUs"
+      | "chargeKv"
+      | "chargeTauMs"
+      | "wobbleFrac"
+      | "wobbleHz"
+      | "wobbleTowardFiring"
+      | "bumpFrac"
+      | "coilH"
+      | "coilF"
+      | "ringTauPeriods"
+      | "ringB"
+    >
+  >,
+  t: number,
+): number {
   let y = 0;
   if (m.tOn != null && t >= m.tOn && t < m.tApex) {
     const u = t - m.tOn;
@@ -243,7 +268,8 @@ export function generateIgnition(opts: IgnitionOptions = {}): { trace: ParsedTra
     trace: makeTrace(rate, [{ name: "A", unit, values }]),
     truth: {
       events,
-      rpm: events.length >= 2 ? 120 / ((events[events.length - 1].timeS - events[0].timeS) / (events.length - 1)) : null,
+      rpm:
+        events.length >= 2 ? 120 / ((events[events.length - 1].timeS - events[0].timeS) / (events.length - 1)) : null,
       lcHz: w0 / (2 * Math.PI),
       fileScale,
     },

@@ -100,7 +100,8 @@ export function generateStarter(opts: StarterOptions = {}): { trace: ParsedTrace
     let i = on * (iCrank + (iStall - iCrank) * Math.exp(-u / tauM));
     const th = angle(t);
     const k0 = Math.ceil((th - fall) / spacing);
-    for (let k = Math.max(0, k0); k * spacing <= th + rise; k++) i += dI * (factors[k % N] ?? 1) * bump(th - k * spacing);
+    for (let k = Math.max(0, k0); k * spacing <= th + rise; k++)
+      i += dI * (factors[k % N] ?? 1) * bump(th - k * spacing);
     return i;
   };
   const n = Math.round(duration * rate);

@@ -47,7 +47,8 @@ describe("npm run analyze refuses a binary file by what it is, as the upload doe
     ["an archive", "export.csv", [0x50, 0x4b, 0x03, 0x04, 20, 0, 0, 0], /ZIP archive/],
     ["a gzip archive", "trace.tsv", [0x1f, 0x8b, 8, 0, 0, 0], /gzip archive/],
     ["a PDF", "report.csv", [...Buffer.from("%PDF-1.7\n")], /PDF document/],
-  ] as [string, string, number[], RegExp][])("%s named %s: exit 2, one line naming the file and what it is", (_n, name, bytes, what) => {
+  ] as [string, string, number[], RegExp][])("%s named %s: exit 2, one line naming it and what it is", (...c) => {
+    const [, name, bytes, what] = c;
     const f = path.join(dir, name);
     fs.writeFileSync(f, Buffer.from([...bytes, ...Buffer.from("0,1\n1,2\n")]));
     const res = cli([f, "--json"]);
@@ -66,7 +67,8 @@ describe("npm run analyze speaks the unit model", () => {
     const g = generateStarter({ seed: 5, crankingRpm: 200, cylinders: 4, mvPerAmp: 100, sampleRateHz: 5e3 });
     const f = path.join(dir, "starter.csv");
     fs.writeFileSync(f, renderCsv(g.trace));
-    const res = cli([f, "--kind", "relative-compression", "--probe", "current-clamp", "--mv-per-amp", "100", "--cylinders", "4", "--json"]);
+    const res = cli([f, "--kind", "relative-compression", "--probe", "current-clamp", "--mv-per-amp", "100"]
+      .concat(["--cylinders", "4", "--json"]));
     expect(res.stderr).toBe("");
     const doc = JSON.parse(res.stdout);
     expect(doc.unit).toBe("A");

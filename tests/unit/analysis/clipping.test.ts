@@ -22,21 +22,36 @@ describe("a firing line cut off at the converter's top code", () => {
   it.each([
     ["kV file cut at 7 kV, 10 MS/s", { fileUnit: "kV", clip: { high: 7 }, sampleRateHz: 10e6 }, {}],
     ["kV file cut at 8.5 kV, 500 kS/s", { fileUnit: "kV", clip: { high: 8.5 }, sampleRateHz: 500e3 }, {}],
-    ["volts through 10 kV/V cut at 0.6 V, 2 MS/s", { fileUnit: "V", kvPerVolt: 10, clip: { high: 0.6 }, sampleRateHz: 2e6 }, { kvPerVolt: 10 }],
-    ["inverted, cut at −0.75 V, 1 MS/s", { fileUnit: "V", kvPerVolt: 10, polarity: -1, clip: { low: -0.75 }, sampleRateHz: 1e6 }, { kvPerVolt: 10 }],
-    ["kV file cut at 7 kV, volts/division given and large (plateau inside the screen)", { fileUnit: "kV", clip: { high: 7 }, sampleRateHz: 5e6 }, { voltsPerDiv: 5 }],
-  ] as [string, IgnitionOptions, Record<string, number>][])("%s: clipped, every event marked, the bound near the cut", (_n, opts, settings) => {
-    const { g, r } = run({ seed: 31, events: 3, peakKv: 9.5, ...opts }, settings);
-    expect(r.findings.map((f) => f.code)).toContain("clipped");
-    expect(r.events.length).toBe(3);
-    expect(r.events.every((e) => e.clipped)).toBe(true);
-    // a lower bound: the reading never exceeds the truth, and sits at the cut
-    const cutKv = Math.abs((opts.clip!.high ?? opts.clip!.low)!) / g.truth.fileScale;
-    for (const e of r.events) {
-      expect(e.peak).toBeLessThanOrEqual(9.5 * 1.01);
-      expect(Math.abs(e.peak - cutKv) / cutKv).toBeLessThan(0.02);
-    }
-  });
+    [
+      "volts through 10 kV/V cut at 0.6 V, 2 MS/s",
+      { fileUnit: "V", kvPerVolt: 10, clip: { high: 0.6 }, sampleRateHz: 2e6 },
+      { kvPerVolt: 10 },
+    ],
+    [
+      "inverted, cut at −0.75 V, 1 MS/s",
+      { fileUnit: "V", kvPerVolt: 10, polarity: -1, clip: { low: -0.75 }, sampleRateHz: 1e6 },
+      { kvPerVolt: 10 },
+    ],
+    [
+      "kV file cut at 7 kV, volts/division given and large (plateau inside the screen)",
+      { fileUnit: "kV", clip: { high: 7 }, sampleRateHz: 5e6 },
+      { voltsPerDiv: 5 },
+    ],
+  ] as [string, IgnitionOptions, Record<string, number>][])(
+    "%s: clipped, every event marked, the bound near the cut",
+    (_n, opts, settings) => {
+      const { g, r } = run({ seed: 31, events: 3, peakKv: 9.5, ...opts }, settings);
+      expect(r.findings.map((f) => f.code)).toContain("clipped");
+      expect(r.events.length).toBe(3);
+      expect(r.events.every((e) => e.clipped)).toBe(true);
+      // a lower bound: the reading never exceeds the truth, and sits at the cut
+      const cutKv = Math.abs((opts.clip!.high ?? opts.clip!.low)!) / g.truth.fileScale;
+      for (const e of r.events) {
+        expect(e.peak).toBeLessThanOrEqual(9.5 * 1.01);
+        expect(Math.abs(e.peak - cutKv) / cutKv).toBeLessThan(0.02);
+      }
+    },
+  );
 
   it("an unclipped capture is not flagged, at any rate", () => {
     for (const rate of [500e3, 2e6, 10e6]) {
@@ -52,7 +67,13 @@ describe("a firing line cut off at the converter's top code", () => {
       [undefined, false],
       [7, true],
     ] as const) {
-      const g = generateIgnition({ seed: 33, events: 3, sampleRateHz: 10e6, noiseKv: 0.01, clip: clip ? { high: clip } : undefined });
+      const g = generateIgnition({
+        seed: 33,
+        events: 3,
+        sampleRateHz: 10e6,
+        noiseKv: 0.01,
+        clip: clip ? { high: clip } : undefined,
+      });
       const values = quantise(g.trace.channels[0].values);
       // the natural apex does repeat its top code on this grid
       let run = 0;

@@ -27,26 +27,35 @@ const wheels = [
 ] as const;
 
 describe("missing-tooth wheels are recognised from the gap's length against the pitch", () => {
-  it.each(wheels.flatMap(([N, k]) => (["vr", "hall"] as const).flatMap((sensor) => [300, 1000, 3000].map((rpm) => [N, k, sensor, rpm] as const))))(
-    "%i-%i wheel, %s sensor, %i rpm",
-    (N, k, sensor, rpm) => {
-      // a sample rate that gives at least 40 samples per tooth, 2.5 revolutions
-      const toothS = 60 / (N * rpm);
-      const sampleRateHz = Math.max(50e3, Math.ceil(40 / toothS / 1e4) * 1e4);
-      const { g, r } = run({ seed: N + k + rpm, rpm, positions: N, missing: k, sensor, sampleRateHz, revolutions: 2.5 });
-      expect(r.summary.wheel).toEqual({ pattern: `${N}-${k}`, positions: N, missing: k, teethPerRev: N - k, from: "revolution" });
-      // the gap spans k + 1 pitches
-      expect(Math.abs(r.summary.gapRatio.median! - (k + 1))).toBeLessThan(0.15);
-      // the gaps where the model put them (the last tooth before each), within a fraction of a pitch
-      expect(r.summary.gapTimesS.length).toBe(g.truth.gapTimesS.length);
-      r.summary.gapTimesS.forEach((t, i) => expect(Math.abs(t - g.truth.gapTimesS[i])).toBeLessThan((sensor === "hall" ? 0.5 : 0.2) * toothS));
-      for (const e of r.events) if (e.teeth != null) expect(e.teeth).toBe(N - k);
-      // rpm: one revolution is N pitches (trade reference for 60-2: rpm = 1/T)
-      expect(Math.abs(r.summary.rpm! - rpm) / rpm).toBeLessThan(0.01);
-      expect(Math.abs(r.summary.toothPeriodMs.median! - toothS * 1e3) / (toothS * 1e3)).toBeLessThan(0.02);
-      expect(r.findings.map((f) => f.code).filter((c) => c !== "undersampled")).toEqual([]);
-    },
-  );
+  it.each(
+    wheels.flatMap(([N, k]) =>
+      (["vr", "hall"] as const).flatMap((sensor) => [300, 1000, 3000].map((rpm) => [N, k, sensor, rpm] as const)),
+    ),
+  )("%i-%i wheel, %s sensor, %i rpm", (N, k, sensor, rpm) => {
+    // a sample rate that gives at least 40 samples per tooth, 2.5 revolutions
+    const toothS = 60 / (N * rpm);
+    const sampleRateHz = Math.max(50e3, Math.ceil(40 / toothS / 1e4) * 1e4);
+    const { g, r } = run({ seed: N + k + rpm, rpm, positions: N, missing: k, sensor, sampleRateHz, revolutions: 2.5 });
+    expect(r.summary.wheel).toEqual({
+      pattern: `${N}-${k}`,
+      positions: N,
+      missing: k,
+      teethPerRev: N - k,
+      from: "revolution",
+    });
+    // the gap spans k + 1 pitches
+    expect(Math.abs(r.summary.gapRatio.median! - (k + 1))).toBeLessThan(0.15);
+    // the gaps where the model put them (the last tooth before each), within a fraction of a pitch
+    expect(r.summary.gapTimesS.length).toBe(g.truth.gapTimesS.length);
+    r.summary.gapTimesS.forEach((t, i) =>
+      expect(Math.abs(t - g.truth.gapTimesS[i])).toBeLessThan((sensor === "hall" ? 0.5 : 0.2) * toothS),
+    );
+    for (const e of r.events) if (e.teeth != null) expect(e.teeth).toBe(N - k);
+    // rpm: one revolution is N pitches (trade reference for 60-2: rpm = 1/T)
+    expect(Math.abs(r.summary.rpm! - rpm) / rpm).toBeLessThan(0.01);
+    expect(Math.abs(r.summary.toothPeriodMs.median! - toothS * 1e3) / (toothS * 1e3)).toBeLessThan(0.02);
+    expect(r.findings.map((f) => f.code).filter((c) => c !== "undersampled")).toEqual([]);
+  });
 
   it("T = 1 ms on a 60-2 wheel is 1000 rpm (trade reference); on a 36-1 wheel 60/(36·1 ms) = 1667 rpm", () => {
     expect(60 / (60 * 1e-3)).toBe(1000);
@@ -66,7 +75,11 @@ describe("missing-tooth wheels are recognised from the gap's length against the 
   });
 
   /** the first seed whose capture holds exactly the gaps wanted (the wheel's start angle is random) */
-  const seedWith = (opts: CrankOptions, gaps: number, check: (g: ReturnType<typeof generateCrank>) => boolean = () => true) => {
+  const seedWith = (
+    opts: CrankOptions,
+    gaps: number,
+    check: (g: ReturnType<typeof generateCrank>) => boolean = () => true,
+  ) => {
     for (let seed = 1; seed < 200; seed++) {
       const g = generateCrank({ ...opts, seed });
       if (g.truth.gapTimesS.length === gaps && check(g)) return seed;
@@ -95,7 +108,10 @@ describe("missing-tooth wheels are recognised from the gap's length against the 
   });
 
   it.each([
-    ["a wheel with two gaps per revolution (36 positions, 2 missing twice)", { positions: 36, missingAt: [16, 17, 34, 35] }],
+    [
+      "a wheel with two gaps per revolution (36 positions, 2 missing twice)",
+      { positions: 36, missingAt: [16, 17, 34, 35] },
+    ],
     ["an uncommon 40-4 wheel", { positions: 40, missing: 4 }],
   ] as [string, CrankOptions][])("%s is not recognised: it says so and gives no rpm", (_n, wheel) => {
     const { r } = run({ seed: 5, rpm: 1000, sampleRateHz: 100e3, revolutions: 3, ...wheel });

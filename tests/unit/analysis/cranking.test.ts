@@ -15,7 +15,11 @@ import { generateStarter, type StarterOptions } from "../../generators/starter";
 
 function run(opts: StarterOptions, settings: Record<string, unknown> = {}) {
   const g = generateStarter(opts);
-  const r = analyzeTrace(g.trace, { cylinders: opts.cylinders ?? 4, ...settings }, { kind: "relative-compression" }) as CompressionResult;
+  const r = analyzeTrace(
+    g.trace,
+    { cylinders: opts.cylinders ?? 4, ...settings },
+    { kind: "relative-compression" },
+  ) as CompressionResult;
   return { g, r };
 }
 
@@ -23,7 +27,10 @@ function run(opts: StarterOptions, settings: Record<string, unknown> = {}) {
 function match(g: ReturnType<typeof generateStarter>, r: CompressionResult) {
   const spacing = 120 / (g.truth.steadyRpm * g.truth.cylinders);
   return g.truth.strokes.map((t) => {
-    const e = r.events.reduce<(typeof r.events)[number] | null>((best, x) => (!best || Math.abs(x.timeS - t.timeS) < Math.abs(best.timeS - t.timeS) ? x : best), null);
+    const e = r.events.reduce<(typeof r.events)[number] | null>(
+      (best, x) => (!best || Math.abs(x.timeS - t.timeS) < Math.abs(best.timeS - t.timeS) ? x : best),
+      null,
+    );
     return { t, e: e && Math.abs(e.timeS - t.timeS) < spacing / 4 ? e : null };
   });
 }
@@ -34,17 +41,25 @@ describe("cranking from 80 to 300 rpm: the first stroke after the inrush is kept
   it.each(speeds.flatMap((rpm) => [3, 4, 6, 8].map((N) => [rpm, N] as const)))("%i rpm, %i cylinders", (rpm, N) => {
     for (const seed of [1, 2]) {
       // at least two engine cycles after the spin-up
-      const { g, r } = run({ seed, crankingRpm: rpm, cylinders: N, durationS: Math.max(2, (120 / rpm) * 2.2), spinUpS: seed === 1 ? 0.06 : 0.03 });
+      const { g, r } = run({
+        seed,
+        crankingRpm: rpm,
+        cylinders: N,
+        durationS: Math.max(2, (120 / rpm) * 2.2),
+        spinUpS: seed === 1 ? 0.06 : 0.03,
+      });
       const strokeA = 90;
       const pairs = match(g, r);
       // every stroke is found that does not ride on more than half a stroke's worth of inrush —
       // the first such one included, whether it comes 0.1 s or 0.5 s after key-on
       const due = pairs.filter((x) => x.t.inrushA <= 0.5 * strokeA);
-      for (const x of due) expect(x.e, `stroke at ${x.t.timeS.toFixed(3)} s (${rpm} rpm, ${N} cyl, seed ${seed})`).not.toBeNull();
+      for (const x of due)
+        expect(x.e, `stroke at ${x.t.timeS.toFixed(3)} s (${rpm} rpm, ${N} cyl, seed ${seed})`).not.toBeNull();
       expect(pairs.find((x) => x.t === due[0].t)!.e).not.toBeNull();
       // and nothing that is not a stroke: every event sits at a top dead centre
       const spacing = 120 / (rpm * N);
-      for (const e of r.events) expect(Math.min(...g.truth.tdcTimesS.map((t) => Math.abs(t - e.timeS)))).toBeLessThan(spacing / 4);
+      for (const e of r.events)
+        expect(Math.min(...g.truth.tdcTimesS.map((t) => Math.abs(t - e.timeS)))).toBeLessThan(spacing / 4);
       // rpm = 120·f_peaks/N (trade reference) within 2 % of the strokes' own spacing
       expect(Math.abs(r.summary.rpm! - g.truth.rpm) / g.truth.rpm).toBeLessThan(0.02);
       // a healthy engine: no cylinder suspect (below ~85–90 % of the highest, common practice, no source)
@@ -62,7 +77,13 @@ describe("cranking from 80 to 300 rpm: the first stroke after the inrush is kept
     [280, 4, [1, 1, 0.75, 1]],
     [90, 3, [0.7, 1, 1]],
   ] as const)("%i rpm, %i cylinders, one weak cylinder: its strokes and only them are flagged", (rpm, N, factors) => {
-    const { g, r } = run({ seed: 7, crankingRpm: rpm, cylinders: N, factors: [...factors], durationS: Math.max(2, (120 / rpm) * 2.5) });
+    const { g, r } = run({
+      seed: 7,
+      crankingRpm: rpm,
+      cylinders: N,
+      factors: [...factors],
+      durationS: Math.max(2, (120 / rpm) * 2.5),
+    });
     const weakPositions = new Set<number>();
     for (const { t, e } of match(g, r)) {
       if (!e || e.onInrush) continue;

@@ -36,11 +36,23 @@ const rel = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
 describe("firing-line height: the same event at any adequate sample rate", () => {
   const variants: [string, IgnitionOptions][] = [
     ["rise 8 µs, collapse 4 µs, kV file", { riseUs: 8, fallUs: 4 }],
-    ["rise 6 µs, collapse 3 µs, volts at the scope through 10 kV/V", { riseUs: 6, fallUs: 3, fileUnit: "V", kvPerVolt: 10 }],
-    ["rise 12 µs, collapse 6 µs, millivolts through 20 kV/V", { riseUs: 12, fallUs: 6, fileUnit: "mV", kvPerVolt: 20 }],
+    [
+      "rise 6 µs, collapse 3 µs, volts at the scope through 10 kV/V",
+      { riseUs: 6, fallUs: 3, fileUnit: "V", kvPerVolt: 10 },
+    ],
+    [
+      "rise 12 µs, collapse 6 µs, millivolts through 20 kV/V",
+      { riseUs: 12, fallUs: 6, fileUnit: "mV", kvPerVolt: 20 },
+    ],
     ["symmetric 10 µs apex, inverted, baseline at 0.4 kV", { riseUs: 10, fallUs: 10, polarity: -1, baselineKv: 0.4 }],
-    ["rise 5 µs, collapse 3 µs, 14 kV, noisy (0.15 kV), turbulent spark line", { riseUs: 5, fallUs: 3, peakKv: 14, noiseKv: 0.15, turbulence: 0.12 }],
-    ["rise 7 µs, collapse 4 µs, 6 kV coil-on-plug, dwell wobble 15 % toward the firing side", { riseUs: 7, fallUs: 4, peakKv: 6, levelKv: 1, wobbleFrac: 0.15 }],
+    [
+      "rise 5 µs, collapse 3 µs, 14 kV, noisy (0.15 kV), turbulent spark line",
+      { riseUs: 5, fallUs: 3, peakKv: 14, noiseKv: 0.15, turbulence: 0.12 },
+    ],
+    [
+      "rise 7 µs, collapse 4 µs, 6 kV coil-on-plug, dwell wobble 15 % toward the firing side",
+      { riseUs: 7, fallUs: 4, peakKv: 6, levelKv: 1, wobbleFrac: 0.15 },
+    ],
   ];
   it.each(variants)("%s: each rate within 2 % of the truth, all rates within 2 % of each other", (_n, v) => {
     const medians: number[] = [];
@@ -48,7 +60,12 @@ describe("firing-line height: the same event at any adequate sample rate", () =>
       const { g, r } = analyse({ seed: 7, events: 2, sampleRateHz: rate, ...v });
       expect(r.unit).toBe("kV");
       expect(r.events.length).toBe(2);
-      r.events.forEach((e, k) => expect(rel(e.peak, g.truth.events[k].peakKv), `${rate} S/s event ${k}: ${e.peak} vs ${g.truth.events[k].peakKv}`).toBeLessThan(0.02));
+      r.events.forEach((e, k) =>
+        expect(
+          rel(e.peak, g.truth.events[k].peakKv),
+          `${rate} S/s event ${k}: ${e.peak} vs ${g.truth.events[k].peakKv}`,
+        ).toBeLessThan(0.02),
+      );
       medians.push(r.summary.peak.median!);
     }
     expect((Math.max(...medians) - Math.min(...medians)) / Math.min(...medians)).toBeLessThan(0.02);
@@ -75,7 +92,15 @@ describe("firing-line height: the same event at any adequate sample rate", () =>
     const base = analyse({ seed: 9, sampleRateHz: 2e6, events: 2 });
     const apex = base.g.truth.events[0].timeS;
     // one sample 5 kV above the first firing line's apex, and one 15 kV spike on the quiet baseline
-    const { g, r } = analyse({ seed: 9, sampleRateHz: 2e6, events: 2, glitches: [{ timeS: apex + 1e-6, kv: 5 }, { timeS: 0.025, kv: 15 }] });
+    const { g, r } = analyse({
+      seed: 9,
+      sampleRateHz: 2e6,
+      events: 2,
+      glitches: [
+        { timeS: apex + 1e-6, kv: 5 },
+        { timeS: 0.025, kv: 15 },
+      ],
+    });
     expect(r.events.length).toBe(2);
     r.events.forEach((e, k) => expect(rel(e.peak, g.truth.events[k].peakKv)).toBeLessThan(0.02));
   });
@@ -91,23 +116,35 @@ describe("firing events told from dwell starts by shape (issue 11)", () => {
       ])
         for (const rate of [500e3, 2e6]) cases.push([wobble, toward, hz, charge, rate]);
 
-  it.each(cases)("wobble %s of the firing line (toward the firing side: %s) at %i Hz, coil charge %s kV, %i S/s", (wobble, toward, hz, charge, rate) => {
-    const { g, r } = analyse({ seed: 11, events: 3, sampleRateHz: rate, wobbleFrac: wobble, wobbleTowardFiring: toward, wobbleHz: hz, chargeKv: charge, dwellMs: 2.5 });
-    // no firing lost, none placed on a dwell start
-    expect(r.events.length).toBe(3);
-    r.events.forEach((e, k) => {
-      const t = g.truth.events[k];
-      expect(Math.abs(e.timeS - t.timeS)).toBeLessThan(2 / rate + 2e-6);
-      expect(rel(e.peak, t.peakKv)).toBeLessThan(0.02);
-      expect(rel(e.burnTimeMs, t.burnMs)).toBeLessThan(0.05);
-      expect(rel(e.burnLevel, t.levelKv)).toBeLessThan(0.1);
-      // dwell: turn-on to firing line, within 5 % or 0.1 ms
-      expect(e.dwellMs).not.toBeNull();
-      expect(Math.abs(e.dwellMs! - t.dwellMs!)).toBeLessThan(Math.max(0.05 * t.dwellMs!, 0.1));
-    });
-    // no spurious finding: the noise is 1 % of the spark line (noisy starts at 15 %)
-    expect(r.findings.map((f) => f.code).filter((c) => c !== "undersampled")).toEqual([]);
-  });
+  it.each(cases)(
+    "wobble %s of the firing line (toward the firing side: %s) at %i Hz, coil charge %s kV, %i S/s",
+    (wobble, toward, hz, charge, rate) => {
+      const { g, r } = analyse({
+        seed: 11,
+        events: 3,
+        sampleRateHz: rate,
+        wobbleFrac: wobble,
+        wobbleTowardFiring: toward,
+        wobbleHz: hz,
+        chargeKv: charge,
+        dwellMs: 2.5,
+      });
+      // no firing lost, none placed on a dwell start
+      expect(r.events.length).toBe(3);
+      r.events.forEach((e, k) => {
+        const t = g.truth.events[k];
+        expect(Math.abs(e.timeS - t.timeS)).toBeLessThan(2 / rate + 2e-6);
+        expect(rel(e.peak, t.peakKv)).toBeLessThan(0.02);
+        expect(rel(e.burnTimeMs, t.burnMs)).toBeLessThan(0.05);
+        expect(rel(e.burnLevel, t.levelKv)).toBeLessThan(0.1);
+        // dwell: turn-on to firing line, within 5 % or 0.1 ms
+        expect(e.dwellMs).not.toBeNull();
+        expect(Math.abs(e.dwellMs! - t.dwellMs!)).toBeLessThan(Math.max(0.05 * t.dwellMs!, 0.1));
+      });
+      // no spurious finding: the noise is 1 % of the spark line (noisy starts at 15 %)
+      expect(r.findings.map((f) => f.code).filter((c) => c !== "undersampled")).toEqual([]);
+    },
+  );
 
   it("a dwell as short as 1 ms with a 20 % wobble on the firing side, and a capture without the turn-on", () => {
     const a = analyse({ seed: 12, events: 3, sampleRateHz: 1e6, wobbleFrac: 0.2, chargeKv: -0.5, dwellMs: 1 });
@@ -125,13 +162,25 @@ describe("ringing and extinction bumps are not firings; the ringing follows the 
     [20, 50e-12, 5.03e3],
     [10, 50e-12, 7.12e3],
     [15, 60e-12, 1 / (2 * Math.PI * Math.sqrt(15 * 60e-12))],
-  ])("L = %d H, C = %s F: ringing at f = 1/(2π√(LC)) = %d Hz, big extinction bump, big first ringing lobe", (L, C, f0) => {
-    expect(Math.abs(1 / (2 * Math.PI * Math.sqrt(L * C)) - f0) / f0).toBeLessThan(0.001);
-    const { g, r } = analyse({ seed: 14, events: 3, sampleRateHz: 2e6, coilH: L, coilF: C, ringTauPeriods: 4, bumpFrac: 0.6, ringB: 2.5 });
-    expect(r.events.length).toBe(3);
-    // the damped frequency is within 0.2 % of f0 at τ = 4 periods; the reading within 3 %
-    for (const e of r.events) expect(rel(e.ringingHz!, g.truth.events[0].ringingHz)).toBeLessThan(0.03);
-  });
+  ])(
+    "L = %d H, C = %s F: ringing at f = 1/(2π√(LC)) = %d Hz, big extinction bump, big first ringing lobe",
+    (L, C, f0) => {
+      expect(Math.abs(1 / (2 * Math.PI * Math.sqrt(L * C)) - f0) / f0).toBeLessThan(0.001);
+      const { g, r } = analyse({
+        seed: 14,
+        events: 3,
+        sampleRateHz: 2e6,
+        coilH: L,
+        coilF: C,
+        ringTauPeriods: 4,
+        bumpFrac: 0.6,
+        ringB: 2.5,
+      });
+      expect(r.events.length).toBe(3);
+      // the damped frequency is within 0.2 % of f0 at τ = 4 periods; the reading within 3 %
+      for (const e of r.events) expect(rel(e.ringingHz!, g.truth.events[0].ringingHz)).toBeLessThan(0.03);
+    },
+  );
 
   it.each([
     ["a short burn (0.6 ms) with 15 % turbulence", { burnMs: 0.6, turbulence: 0.15 }],
@@ -141,6 +190,10 @@ describe("ringing and extinction bumps are not firings; the ringing follows the 
     const { g, r } = analyse({ seed: 15, events: 3, sampleRateHz: 1e6, ...v });
     expect(r.events.length).toBe(3);
     // the model's extinction bump rises over the spark line's last 40 µs: its end is that uncertain
-    r.events.forEach((e, k) => expect(Math.abs(e.burnTimeMs - g.truth.events[k].burnMs)).toBeLessThan(Math.max(0.05 * g.truth.events[k].burnMs, 0.05)));
+    r.events.forEach((e, k) =>
+      expect(Math.abs(e.burnTimeMs - g.truth.events[k].burnMs)).toBeLessThan(
+        Math.max(0.05 * g.truth.events[k].burnMs, 0.05),
+      ),
+    );
   });
 });

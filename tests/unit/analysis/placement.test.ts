@@ -49,36 +49,43 @@ describe("a pickup placed differently is not a fault", () => {
     [6, 2, 0, 0.75],
     [4, 3, 3, 1.3],
     [6, 4, 5, 0.6],
-  ])("%i coils (set %i), cylinder %i's pickup coupling %s: not flagged, said to look like placement", (count, seed, index, coupling) => {
-    const set = coils(count, seed, { index, opts: { coupling } });
-    const c = compareTraces(set.map((x) => x.result));
-    expect(c.outliers).toEqual([]);
-    expect(c.statements.length).toBe(1);
-    const s = c.statements[0];
-    expect(s.kind).toBe("placement");
-    expect(s.cylinder).toBe(index + 1);
-    expect(s.label).toBe(`Cylinder ${index + 1}`);
-    expect(s.text.startsWith(`Cylinder ${index + 1}: `)).toBe(true);
-    // the scale is the coupling (×0.97–1.03 for the coil's own small differences)
-    expect(Math.abs(s.scale! - coupling) / coupling).toBeLessThan(0.06);
-    expect(s.text).toContain(`${Math.round(Math.abs(1 - s.scale!) * 100)} % ${coupling < 1 ? "lower" : "higher"}`);
-    expect(s.text).toMatch(/pickup/);
-    expect(s.advice).toMatch(/Lay the pickup flat/);
-    expect(s.advice).toMatch(/capture this cylinder again/);
-    expect(s.text + s.advice).not.toMatch(STATS_WORDS);
-  });
+  ])(
+    "%i coils (set %i), cylinder %i's pickup coupling %s: not flagged, said to look like placement",
+    (count, seed, index, coupling) => {
+      const set = coils(count, seed, { index, opts: { coupling } });
+      const c = compareTraces(set.map((x) => x.result));
+      expect(c.outliers).toEqual([]);
+      expect(c.statements.length).toBe(1);
+      const s = c.statements[0];
+      expect(s.kind).toBe("placement");
+      expect(s.cylinder).toBe(index + 1);
+      expect(s.label).toBe(`Cylinder ${index + 1}`);
+      expect(s.text.startsWith(`Cylinder ${index + 1}: `)).toBe(true);
+      // the scale is the coupling (×0.97–1.03 for the coil's own small differences)
+      expect(Math.abs(s.scale! - coupling) / coupling).toBeLessThan(0.06);
+      expect(s.text).toContain(`${Math.round(Math.abs(1 - s.scale!) * 100)} % ${coupling < 1 ? "lower" : "higher"}`);
+      expect(s.text).toMatch(/pickup/);
+      expect(s.advice).toMatch(/Lay the pickup flat/);
+      expect(s.advice).toMatch(/capture this cylinder again/);
+      expect(s.text + s.advice).not.toMatch(STATS_WORDS);
+    },
+  );
 
-  it("healthy coils: no statement, no outlier; the placement-free measures are compared beside the absolute ones", () => {
+  it("healthy coils: no statement, no outlier; the placement-free measures are compared beside the absolute " +
+    "ones", () => {
     const c = compareTraces(coils(5, 5, null).map((x) => x.result));
     expect(c.outliers).toEqual([]);
     expect(c.statements).toEqual([]);
-    expect(c.metrics.map((m) => m.metric)).toEqual(expect.arrayContaining(["peak", "burnTimeMs", "oscillations", "firingToSpark", "sparkSlopePctPerMs"]));
+    expect(c.metrics.map((m) => m.metric)).toEqual(
+      expect.arrayContaining(["peak", "burnTimeMs", "oscillations", "firingToSpark", "sparkSlopePctPerMs"]),
+    );
     expect(c.metrics.find((m) => m.metric === "firingToSpark")!.unit).toBe("ratio");
   });
 });
 
 describe("a real difference is said in plain words, the statistic kept for experts", () => {
-  it("a low firing line with a short burn: 'Cylinder 3: firing line 40 % below the others, burn time 44 % shorter'", () => {
+  it("a low firing line with a short burn: 'Cylinder 3: firing line 40 % below the others, burn time 44 % " +
+    "shorter'", () => {
     // the issue's example: 0.6 × the firing line, 0.56 × the burn time
     const set = coils(4, 6, { index: 2, opts: { peakKv: 6, burnMs: 1.5 * 0.56 } });
     const c = compareTraces(set.map((x) => x.result));
@@ -110,7 +117,10 @@ describe("a real difference is said in plain words, the statistic kept for exper
   });
 
   it("names a trace by its file or its position when no cylinder is known", () => {
-    const set = coils(4, 8, { index: 0, opts: { peakKv: 15, burnMs: 0.9, levelKv: 1.9 } }).map((x) => ({ ...x.result, cylinder: null }));
+    const set = coils(4, 8, { index: 0, opts: { peakKv: 15, burnMs: 0.9, levelKv: 1.9 } }).map((x) => ({
+      ...x.result,
+      cylinder: null,
+    }));
     const byFile = compareTraces(set.map((r, i) => ({ ...r, file: `/captures/coil${i + 1}.csv` })));
     expect(byFile.statements[0].text).toMatch(/^coil1\.csv: firing line \d+ % above the others/);
     expect(byFile.statements[0].file).toBe("/captures/coil1.csv");

@@ -32,7 +32,10 @@ describe("the same capture in kV, in volts through 10 kV/V and in millivolts rea
     expect([a.scopeUnit, b.scopeUnit, c.scopeUnit]).toEqual(["kV", "V", "V"]);
     // a header in kV is not scaled by the pickup again
     expect(a.unitNote).toMatch(/not applied again/);
-    for (const r of [a, b, c]) r.events.forEach((e, k) => expect(Math.abs(e.peak - kvFile.truth.events[k].peakKv) / kvFile.truth.events[k].peakKv).toBeLessThan(0.02));
+    for (const r of [a, b, c])
+      r.events.forEach((e, k) =>
+        expect(Math.abs(e.peak - kvFile.truth.events[k].peakKv) / kvFile.truth.events[k].peakKv).toBeLessThan(0.02),
+      );
   });
 });
 
@@ -103,7 +106,8 @@ describe("plain words and one caution for the tech", () => {
     sec(generateIgnition({ seed: 23, events: 6, jitter: 0.4, polarity: -1, noiseKv: 0.3 }).trace, {}),
   ];
   it("no statistics words in any message or advice", () => {
-    for (const r of results) expect(text(r)).not.toMatch(/MAD|modified z|z-score|M = |Baseline \/ noise|median absolute/i);
+    for (const r of results)
+      expect(text(r)).not.toMatch(/MAD|modified z|z-score|M = |Baseline \/ noise|median absolute/i);
   });
   it("the safety caution once per trace, beside the first advice; findings worst first", () => {
     const order = { problem: 0, warning: 1, info: 2 } as const;
@@ -111,7 +115,8 @@ describe("plain words and one caution for the tech", () => {
       expect(r.findings.length).toBeGreaterThan(1);
       expect(r.findings.filter((f) => f.advice.includes(SECONDARY_SAFETY)).length).toBe(1);
       expect(r.findings[0].advice).toContain(SECONDARY_SAFETY);
-      for (let k = 1; k < r.findings.length; k++) expect(order[r.findings[k].severity]).toBeGreaterThanOrEqual(order[r.findings[k - 1].severity]);
+      for (let k = 1; k < r.findings.length; k++)
+        expect(order[r.findings[k].severity]).toBeGreaterThanOrEqual(order[r.findings[k - 1].severity]);
     }
   });
 });
