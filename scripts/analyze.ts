@@ -1,24 +1,39 @@
 /**
- * `npm run -s analyze -- FILE... [--kind K] [--kv-per-volt N] [--waste-spark] [--volts-per-div V]
- *   [--time-per-div S] [--trigger-level V] [--sample-rate HZ] [--cylinders N] --json`
+ * `npm run -s analyze -- FILE... [--kind K] [--probe P] [--kv-per-volt N] [--mv-per-amp N] [--waste-spark]
+ *   [--volts-per-div V] [--time-per-div S] [--trigger-level V] [--ground-offset DIV] [--sample-rate HZ]
+ *   [--cylinders N] [--cylinder N] --json`
  *
  * Analyses scope exports (CSV/TSV) and prints JSON on stdout (a public contract):
  * - one file: { file, kind, unit, trace: { samples, sampleRateHz, durationS, channels }, events,
  *   summary, findings, … } — the object analyzeTrace returns, with `file` and `trace` in front;
  * - several files: { traces: [ one object per file ], comparison: { metrics, outliers } }.
  * --kind defaults to secondary-ignition. Output is always JSON (--json is accepted for clarity).
+ * Units follow shared/trace/units.ts: --volts-per-div, --trigger-level and --ground-offset are in the
+ * scope's unit (volts, or kV / A when the file states them); results are in the physical unit (kV at
+ * the plug with --kv-per-volt, amperes with --mv-per-amp, or the file's own kV or A).
+ * A binary file (image, archive, PDF…) is refused by name, with the check the upload uses.
  * Exit codes: 0 done; 2 a file could not be read or parsed (one line on stderr naming the file,
  * the line and the reason) or the command line is wrong; 1 anything else.
  */
 import fs from "node:fs";
 import { analyzeTrace } from "../shared/analysis/analyze";
 import { compareTraces } from "../shared/analysis/compare";
-import { traceKinds, type CaptureSettings, type TraceKind } from "../shared/schemas/capture-settings";
+import {
+  probeKinds,
+  traceKinds,
+  type CaptureSettings,
+  type ProbeKind,
+  type TraceKind,
+} from "../shared/schemas/capture-settings";
 import { createTraceAccumulator } from "../shared/trace/parse";
 import { TraceParseError, type ParsedTrace } from "../shared/trace/types";
+import { checkTextStart, TEXT_SNIFF_BYTES } from "../server/uploads/magic";
 
 const USAGE =
-  "usage: npm run -s analyze -- FILE... [--kind secondary-ignition|relative-compression|injector|crank|generic] [--kv-per-volt N] [--waste-spark] [--volts-per-div V] [--time-per-div S] [--trigger-level V] [--sample-rate HZ] [--cylinders N] --json";
+  "usage: npm run -s analyze -- FILE... [--kind secondary-ignition|relative-compression|injector|crank|generic] " +
+  "[--probe capacitive-secondary|direct|x10|current-clamp] [--kv-per-volt N] [--mv-per-amp N] [--waste-spark] " +
+  "[--volts-per-div V] [--time-per-div S] [--trigger-level V] [--ground-offset DIV] [--sample-rate HZ] " +
+  "[--cylinders N] [--cylinder N] --json";
 
 class UsageError extends Error {}
 class FileError extends Error {}
@@ -64,6 +79,24 @@ function parseArgs(argv: string[]): Args {
       }
       case "--kv-per-volt":
         kvPerVolt = num(flag, value(), { positive: true });
+        break;
+      case "--mv-per-amp":
+        settings.mvPerAmp = num(flag, value(), { positive: true });
+        break;
+      case "--probe": {
+        const p = value();
+        if (!(probeKinds as readonly string[]).includes(p ?? "")) throw new UsageError(`--probe must be one of ` +
+          `${probeKinds.join(", ")}`);
+        settings.probe = p as ProbeKind;
+        break;
+      }
+      case "--ground-offset":
+        settings.groundOffsetDiv = num(flag, value());
+        if (Math.abs(settings.groundOffsetDiv) > 4) throw new UsageError("--ground-offset must be between -4 and " +
+          "4 divisions");
+        break;
+      case "--cylinder":
+        settings.cylinder = num(flag, value(), { positive: true, integer: true });
         break;
       case "--waste-spark":
         wasteSpark = true;
@@ -115,6 +148,18 @@ async function readTrace(file: string, sampleRateHz?: number): Promise<ParsedTra
     const code = (e as NodeJS.ErrnoException).code ?? "";
     throw new FileError(`${file}: cannot read the file: ${FS_REASONS[code] ?? (e as Error).message}`);
   }
+  // the upload's own check: a binary container is refused by what it is, not parsed as text
+  const head = Buffer.alloc(Math.min(size ?? 0, TEXT_SNIFF_BYTES));
+  if (head.length) {
+    const fd = fs.openSync(file, "r");
+    try {
+      fs.readSync(fd, head, 0, head.length, 0);
+    } finally {
+      fs.closeSync(fd);
+    }
+  }
+  const text = checkTextStart(head);
+  if (!text.ok) throw new FileError(`${file}: ${text.reason}`);
   const acc = createTraceAccumulator({ sampleRateHz, totalChars: size });
   try {
     const stream = fs.createReadStream(file, { encoding: "utf8", highWaterMark: 1 << 20 });

@@ -1,12 +1,14 @@
-import { screenVoltageRange, type CaptureSettings, type TraceKind } from "../schemas/capture-settings";
+import type { CaptureSettings, TraceKind } from "../schemas/capture-settings";
 import type { ParsedTrace } from "../trace/types";
+import { channelUnits, type ChannelUnits } from "../trace/units";
 import { analyzeCompression } from "./compression";
 import { analyzeCrank } from "./crank";
 import { analyzeGeneric } from "./generic";
 import { analyzeInjector } from "./injector";
 import { measurePrepared } from "./measure";
+import { screenRange } from "./review";
 import { analyzeSecondary } from "./secondary";
-import { prepare, unitFactor } from "./signal";
+import { prepare } from "./signal";
 import type { AnalysisResult, AnalyzeOptions, SignalInput } from "./types";
 
 export type AnalyzableTrace = ParsedTrace | SignalInput;
@@ -37,11 +39,20 @@ export function channelInput(trace: AnalyzableTrace, channel: number | string = 
   };
 }
 
-/** Screen range in the channel's raw units, from volts/division and the ground offset. */
-function screenRaw(toBase: number, settings: Partial<CaptureSettings>): { min: number; max: number } | null {
-  if (!(settings.voltsPerDiv && settings.voltsPerDiv > 0)) return null;
-  const r = screenVoltageRange({ voltsPerDiv: settings.voltsPerDiv, groundOffsetDiv: settings.groundOffsetDiv ?? 0 });
-  return { min: r.min / toBase, max: r.max / toBase };
+/**
+ * The channel's unit model for the analysis (shared/trace/units.ts channelUnits) from the file's unit
+ * and the settings. When the settings name no probe, a clamp scale alone (mvPerAmp without kvPerVolt)
+ * means a current clamp; a kvPerVolt means a capacitive pickup (channelUnits' own rule).
+ */
+export function analysisUnits(
+  fileUnit: string | null | undefined,
+  settings: Partial<CaptureSettings>,
+  opts: Pick<AnalyzeOptions, "kvPerVolt"> = {},
+): ChannelUnits {
+  const kvPerVolt = opts.kvPerVolt ?? settings.kvPerVolt;
+  const mvPerAmp = settings.mvPerAmp;
+  const probe = settings.probe ?? (kvPerVolt == null && mvPerAmp != null ? "current-clamp" : undefined);
+  return channelUnits(fileUnit, { probe, kvPerVolt, mvPerAmp });
 }
 
 const TIME_KEY = /S$/;
@@ -75,53 +86,39 @@ export function analyzeTrace(
 ): AnalysisResult {
   const kind: TraceKind = opts.kind ?? settings.kind ?? "secondary-ignition";
   const input = channelInput(trace, opts.channel ?? 0);
-  const screen = screenRaw(unitFactor(input.unit).factor, settings);
-  const p = prepare(input, opts.window, screen);
+  const units = analysisUnits(input.unit, settings, opts);
+  const screen = screenRange(units, settings);
+  const p = prepare(input, opts.window, screen, units);
+  const common = {
+    channel: p.name,
+    unit: units.unit,
+    scopeUnit: units.scopeUnit,
+    unitNote: units.note,
+    cylinder: settings.cylinder ?? null,
+    coil: settings.coil ?? null,
+  };
   let result: AnalysisResult;
   switch (kind) {
     case "secondary-ignition": {
-      const kvPerVolt = opts.kvPerVolt ?? settings.kvPerVolt;
-      const baseIsKv = (input.unit ?? "").trim().toLowerCase() === "kv";
-      const unit = kvPerVolt || baseIsKv ? "kV" : p.baseUnit;
-      // raw → volts at the pickup → kV at the plug
-      const scale = kvPerVolt ? p.toBase * kvPerVolt : baseIsKv ? 1 : p.toBase;
-      const r = analyzeSecondary(p, {
-        scale,
-        unit,
-        settings,
-        wasteSpark: opts.wasteSpark ?? settings.wasteSpark ?? false,
-        screen,
-      });
-      result = {
-        kind,
-        unit,
-        events: r.events,
-        summary: r.summary,
-        findings: r.findings,
-        channel: p.name,
-        measurements: measurePrepared(p, scale),
-        suggestions: r.suggestions,
-      };
+      const r = analyzeSecondary(p, { settings, wasteSpark: opts.wasteSpark ?? settings.wasteSpark ?? false, screen });
+      result = { kind, ...common, ...r, measurements: measurePrepared(p, p.toPhysical) };
       break;
     }
     case "relative-compression": {
       const r = analyzeCompression(p, { settings, screen, cylinders: opts.cylinders ?? settings.cylinders });
-      result = { kind, channel: p.name, ...r };
+      result = { kind, ...common, ...r };
       break;
     }
     case "injector": {
-      const r = analyzeInjector(p, { settings, screen });
-      result = { kind, channel: p.name, ...r };
+      result = { kind, ...common, ...analyzeInjector(p, { settings, screen }) };
       break;
     }
     case "crank": {
-      const r = analyzeCrank(p, { settings, screen });
-      result = { kind, channel: p.name, ...r };
+      result = { kind, ...common, ...analyzeCrank(p, { settings, screen }) };
       break;
     }
     default: {
-      const r = analyzeGeneric(p, { settings, screen });
-      result = { kind: "generic", channel: p.name, ...r };
+      result = { kind: "generic", ...common, ...analyzeGeneric(p, { settings, screen }) };
     }
   }
   // key order: kind, unit, events, summary, findings, then the rest

@@ -1,10 +1,23 @@
-import { ENGINE_SAFETY, withSafety } from "./findings";
-import { fmt, fmtRate } from "./format";
-import { measurePrepared } from "./measure";
-import { clippedFinding, triggerBeyondFinding } from "./review";
-import { boxcar, niceCeil, timeAtFrac, type Prepared } from "./signal";
-import { histogramQuantile, metricStats } from "./stats";
+/**
+ * Relative compression from starter current: one current peak per compression stroke, each as a %
+ * of the highest; cranking rpm = 120·f_peaks/N (trade reference). Stages: decimate → the cranking
+ * part, with the starter's inrush taken off → the stroke period → one peak per stroke → heights and
+ * times → review.
+ *
+ * The inrush: at key-on the motor at standstill draws far more than while turning, and the current
+ * falls back towards the cranking level as the motor speeds up (its back-EMF rises). The fall is
+ * modelled as an exponential over the cranking level, fitted on its own decay before the first
+ * stroke rises, and taken off; so the first compression stroke is kept and read at its own height
+ * whether it comes late after the inrush (slow cranking) or while the inrush still decays (fast).
+ */
 import type { CaptureSettings } from "../schemas/capture-settings";
+import { detectClipping } from "./clip";
+import { ENGINE_SAFETY } from "./findings";
+import { fmt, fmtRate, fmtTime } from "./format";
+import { measurePrepared } from "./measure";
+import { clippedFinding, finishFindings, triggerBeyondFinding, type FindingDraft } from "./review";
+import { boxcar, niceCeil, timeAtFrac, type Prepared } from "./signal";
+import { histogramQuantile, metricStats, robustLevelAndNoise } from "./stats";
 import type { CompressionEvent, CompressionSummary, Finding, Measurements, Suggestions } from "./types";
 
 export interface CompressionContext {
@@ -14,7 +27,6 @@ export interface CompressionContext {
 }
 
 export interface CompressionAnalysis {
-  unit: string;
   events: CompressionEvent[];
   summary: CompressionSummary;
   findings: Finding[];
@@ -26,97 +38,145 @@ export interface CompressionAnalysis {
 export const LOW_COMPRESSION_PCT = 85;
 const DECIMATED_RATE = 2000;
 
-/**
- * Relative compression from starter current: one current peak per compression stroke, each as a
- * % of the highest; the inrush spike at key-on is ignored; cranking rpm = 120·f_peaks/N.
- */
-export function analyzeCompression(p: Prepared, ctx: CompressionContext): CompressionAnalysis {
-  const s = ctx.settings;
-  // raw → amperes through the clamp scale, or the file's own amperes; else the file's unit
-  let unit = p.baseUnit;
-  let scale = p.toBase;
-  if (s.mvPerAmp && p.baseUnit === "V") {
-    unit = "A";
-    scale = (p.toBase * 1000) / s.mvPerAmp;
-  }
-  const N = Math.max(1, Math.round(ctx.cylinders ?? 4));
+interface Decimated {
+  /** block means, physical unit */
+  d: Float32Array;
+  m: number;
+  rate: number;
+  blockN: number;
+  lo: number;
+  hi: number;
+  hiIdx: number;
+}
 
-  // block means down to about 2 kS/s
+function decimate(p: Prepared): Decimated {
   const blockN = Math.max(1, Math.floor(p.rate / DECIMATED_RATE));
   const m = Math.floor(p.n / blockN);
   const d = new Float32Array(m);
-  for (let k = 0; k < m; k++) {
-    let acc = 0;
-    const o = k * blockN;
-    for (let q = 0; q < blockN; q++) acc += p.v[o + q];
-    d[k] = (acc / blockN) * scale;
-  }
-  const dRate = p.rate / blockN;
-  const dTime = (x: number) => timeAtFrac(p, x * blockN + (blockN - 1) / 2);
-
   let lo = Infinity;
   let hi = -Infinity;
   let hiIdx = 0;
   for (let k = 0; k < m; k++) {
+    let acc = 0;
+    const o = k * blockN;
+    for (let q = 0; q < blockN; q++) acc += p.v[o + q];
+    d[k] = (acc / blockN) * p.toPhysical;
     if (d[k] < lo) lo = d[k];
     if (d[k] > hi) {
       hi = d[k];
       hiIdx = k;
     }
   }
-  const findings: Finding[] = [];
-  const measurements = measurePrepared(p, scale);
-  const emptySummary = (): CompressionSummary => ({
-    eventCount: 0,
-    rpm: null,
-    cylinders: N,
-    peak: { median: null, min: null, max: null },
-    relativePct: { median: null, min: null, max: null },
-    positions: [],
-    lowPositions: [],
-    inrushIgnored: false,
-  });
-  const noEvents = (why: string): CompressionAnalysis => {
-    findings.push({
-      code: "no-events",
-      severity: "problem",
-      message: `No compression strokes found: ${why}.`,
-      advice: withSafety(
-        "Clamp round the battery's main cable (all of the starter current), crank for at least two seconds with the engine disabled as the maker directs, and start the capture before the key is turned.",
-        ENGINE_SAFETY,
-      ),
-    });
-    return { unit, events: [], summary: emptySummary(), findings, measurements, suggestions: none() };
-  };
-  if (m < 16 || !(hi > lo)) return noEvents("the capture is too short or flat");
+  return { d, m, rate: p.rate / blockN, blockN, lo, hi, hiIdx };
+}
 
-  // the cranking part: from where the current flows (above 20 % of the 90th percentile)
+interface Cranking {
+  /** the cranking current with the inrush's tail taken off, from `start` to `stop` */
+  seg: Float32Array;
+  /** the tail taken off, by index in `seg` (0 when none), and its height at the inrush's peak */
+  tail: ((k: number) => number) | null;
+  tailHeight: number;
+  start: number;
+  inrushIgnored: boolean;
+  q50: number;
+}
+
+/**
+ * The inrush's tail over the cranking level `base`: A·e^(−k/τ) from its peak, fitted (least squares
+ * on the logarithm) on the early decay (90 % down to 35 % of the peak, before any turn upward);
+ * null when it does not decay.
+ */
+function inrushTail(
+  x: Float32Array,
+  hiIdx: number,
+  base: number,
+  rate: number,
+): { at: (k: number) => number; height: number } | null {
+  // the smoothed peak can sit a sample or two from the raw one
+  let k0 = hiIdx;
+  for (let k = Math.max(0, hiIdx - 5); k < Math.min(x.length, hiIdx + 10); k++) if (x[k] > x[k0]) k0 = k;
+  const h = x[k0] - base;
+  if (!(h > 0)) return null;
+  const ks: number[] = [];
+  const ls: number[] = [];
+  const limit = Math.min(x.length, k0 + Math.ceil(rate * 1.0));
+  for (let k = k0 + 1; k < limit; k++) {
+    if (x[k] > x[k - 1]) break; // the first stroke starts to rise
+    // the early decay only: lower down, the first stroke's rise already adds to it
+    const e = x[k] - base;
+    if (e < 0.35 * h) break;
+    if (e <= 0.9 * h) {
+      ks.push(k - k0);
+      ls.push(Math.log(e));
+    }
+  }
+  if (ks.length < 3) return null;
+  const mk = ks.reduce((a, b) => a + b, 0) / ks.length;
+  const ml = ls.reduce((a, b) => a + b, 0) / ls.length;
+  let sxy = 0;
+  let sxx = 0;
+  for (let i = 0; i < ks.length; i++) {
+    sxy += (ks[i] - mk) * (ls[i] - ml);
+    sxx += (ks[i] - mk) ** 2;
+  }
+  const slope = sxx > 0 ? sxy / sxx : 0;
+  if (!(slope < 0)) return null;
+  const a = Math.exp(ml - slope * mk);
+  return { at: (k: number) => (k >= k0 ? Math.min(h, a * Math.exp(slope * (k - k0))) : 0), height: h };
+}
+
+function crankingPart(dc: Decimated): Cranking | null {
+  const { d, m, lo, hi, hiIdx } = dc;
   const q90 = histogramQuantile(d, 0.9, lo, hi);
   const q50 = histogramQuantile(d, 0.5, lo, hi);
+  // from where the current flows (above 20 % of the 90th percentile) to where it stops
+  const flowing = 0.2 * q90 + 0.8 * lo;
   let start = 0;
-  while (start < m && d[start] < 0.2 * q90 + 0.8 * lo) start++;
+  while (start < m && d[start] < flowing) start++;
+  let stop = m;
+  while (stop > start && d[stop - 1] < flowing) stop--;
+  let x = d;
   let inrushIgnored = false;
+  let tail: { at: (k: number) => number; height: number } | null = null;
   // the inrush: a spike near the start far above the cranking peaks
   if (hiIdx < start + 0.4 * (m - start) && hi - q50 > 2 * (q90 - q50)) {
-    let k = hiIdx;
-    while (k < m && d[k] > q50) k++;
-    start = k;
     inrushIgnored = true;
+    const later = d.subarray(Math.min(stop - 1, hiIdx + Math.floor((stop - hiIdx) / 3)), stop);
+    const base = later.length ? histogramQuantile(later, 0.1, lo, hi) : q50;
+    tail = inrushTail(boxcar(d, 0, m, 5), hiIdx, base, dc.rate);
+    if (tail) {
+      const t = tail.at;
+      x = Float32Array.from(d, (y, k) => y - t(k));
+      start = hiIdx + 1;
+      while (start < stop && x[start] > base + 0.5 * (q50 - base) && x[start] > x[start + 1]) start++;
+    } else {
+      // no clean decay: start after the inrush has fallen to the median current
+      let k = hiIdx;
+      while (k < m && d[k] > q50) k++;
+      start = k;
+    }
   }
-  // ... to where it stops
-  let stop = m;
-  while (stop > start && d[stop - 1] < 0.2 * q90 + 0.8 * lo) stop--;
-  const seg = d.subarray(start, stop);
-  const L = seg.length;
-  if (L < 16) return noEvents("the capture ends before cranking");
+  if (stop - start < 16) return null;
+  const t = tail?.at;
+  return {
+    seg: x.subarray(start, stop),
+    tail: t ? (k: number) => t(k + start) : null,
+    tailHeight: tail?.height ?? 0,
+    start,
+    inrushIgnored,
+    q50,
+  };
+}
 
-  // the stroke period from the autocorrelation of the cranking current
+/** The stroke period (decimated samples) from the autocorrelation of the cranking current, or null. */
+function strokePeriod(seg: Float32Array, rate: number, N: number): number | null {
+  const L = seg.length;
   let mean = 0;
   for (let k = 0; k < L; k++) mean += seg[k];
   mean /= L;
-  const minLag = Math.max(2, Math.floor(0.01 * dRate));
-  const maxLag = Math.min(Math.floor(L / 2), Math.floor(1.2 * dRate));
-  if (maxLag <= minLag + 2) return noEvents("the cranking part of the capture is too short");
+  const minLag = Math.max(2, Math.floor(0.01 * rate));
+  const maxLag = Math.min(Math.floor(L / 2), Math.floor(1.2 * rate));
+  if (maxLag <= minLag + 2) return null;
   const r = new Float64Array(maxLag + 2);
   let r0 = 0;
   for (let k = 0; k < L; k++) r0 += (seg[k] - mean) ** 2;
@@ -129,10 +189,11 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
   for (let lg = minLag; lg <= maxLag; lg++) {
     if (r[lg] > r[lg - 1] && r[lg] >= r[lg + 1] && r[lg] > 0.15) peaks.push({ lag: lg, r: r[lg] });
   }
-  if (peaks.length === 0 || Math.max(...peaks.map((x) => x.r)) < 0.3) return noEvents("no repeating current peaks");
-  // the strongest repeat is one stroke, or a whole cycle of N strokes when one cylinder differs
-  // (a dead cylinder leaves the single-stroke repeat weak): take the shortest lag that divides it
-  const strongest = peaks.reduce((x, y) => (y.r > x.r ? y : x));
+  if (peaks.length === 0 || Math.max(...peaks.map((x) => x.r)) < 0.3) return null;
+  // the shortest strong repeat is one stroke, or a whole cycle of N strokes when one cylinder
+  // differs (a dead cylinder leaves the single-stroke repeat weak): take the shortest lag dividing it
+  const rMax = Math.max(...peaks.map((x) => x.r));
+  const strongest = peaks.find((x) => x.r >= 0.8 * rMax)!;
   let lag = strongest.lag;
   for (let k = N; k >= 2; k--) {
     const want = strongest.lag / k;
@@ -143,37 +204,130 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
     }
   }
   const den = r[lag - 1] - 2 * r[lag] + r[lag + 1];
-  const P = lag + (den !== 0 ? (0.5 * (r[lag - 1] - r[lag + 1])) / den : 0); // in decimated samples
+  return lag + (den !== 0 ? (0.5 * (r[lag - 1] - r[lag + 1])) / den : 0);
+}
 
-  // one peak per stroke
-  const sm = boxcar(seg, 0, L, Math.max(1, Math.round(P / 10) | 1));
+/** The first local maximum in [a, b) standing `drop` above the lowest points half a stroke either side. */
+function fallingPeak(sm: Float32Array, a: number, b: number, P: number, drop: number): number {
+  const half = Math.round(0.5 * P);
+  for (let k = a + 1; k < b - 1; k++) {
+    if (!(sm[k] >= sm[k - 1] && sm[k] > sm[k + 1])) continue;
+    let after = sm[k];
+    for (let q = k; q < Math.min(sm.length, k + half); q++) if (sm[q] < after) after = sm[q];
+    let before = sm[k];
+    for (let q = Math.max(0, k - half); q <= k; q++) if (sm[q] < before) before = sm[q];
+    if (sm[k] - after >= drop && sm[k] - before >= drop) return k;
+  }
+  return -1;
+}
+
+/** One peak per stroke: the highest point of each stroke-long window, walking stroke by stroke. */
+function strokePeaks(sm: Float32Array, P: number): number[] {
+  const L = sm.length;
   const peakIdx: number[] = [];
+  // a third of the usual stroke's swing: a fall that marks a stroke's peak
+  const sorted = Float32Array.from(sm).sort();
+  const drop = (sorted[Math.floor(0.9 * (L - 1))] - sorted[Math.floor(0.1 * (L - 1))]) / 3;
   const step = Math.max(2, Math.round(P));
   let a = 0;
   let b = Math.min(L, step);
   while (b - a >= 2) {
-    let best2 = a;
-    for (let k = a; k < b; k++) if (sm[k] > sm[best2]) best2 = k;
-    if (best2 === a && peakIdx.length === 0) {
+    // the capture's end cuts this window: a stroke needs its peak and its fall after it (a third of
+    // a period) inside the capture
+    if (b >= L && peakIdx.length && L - peakIdx[peakIdx.length - 1] < 1.3 * P) break;
+    let best = a;
+    for (let k = a; k < b; k++) if (sm[k] > sm[best]) best = k;
+    if (best === a && peakIdx.length === 0) {
       // the window starts on a falling slope: move on to the next trough
       while (a + 1 < L && sm[a + 1] <= sm[a]) a++;
       a++;
       b = Math.min(L, a + step);
       continue;
     }
-    if (best2 === b - 1) {
+    if (best === b - 1) {
+      // the next stroke already rises, higher, at the window's end: a stroke inside it comes first
+      const inner = fallingPeak(sm, a, b, P, drop);
+      if (inner >= 0) {
+        peakIdx.push(inner);
+        a = inner + Math.round(0.5 * P);
+        b = Math.min(L, inner + Math.round(1.5 * P));
+        continue;
+      }
       if (b >= L) break; // the capture ends on a rising slope: not a complete stroke
-      a = best2; // still rising at the window's end: look further
+      a = best; // still rising at the window's end: look further
       b = Math.min(L, a + step);
       continue;
     }
-    peakIdx.push(best2);
-    a = best2 + Math.round(0.5 * P);
-    b = Math.min(L, best2 + Math.round(1.5 * P));
+    peakIdx.push(best);
+    a = best + Math.round(0.5 * P);
+    b = Math.min(L, best + Math.round(1.5 * P));
   }
-  // a stroke riding on the inrush's tail reads high: leave out the first one after it
-  if (inrushIgnored && peakIdx.length > 0 && peakIdx[0] < P) peakIdx.shift();
-  if (peakIdx.length < 2) return noEvents("fewer than two current peaks");
+  return peakIdx;
+}
+
+/**
+ * The troughs between strokes all sit at the cranking current once the inrush's tail is right. What
+ * the fitted tail left behind shows in the early troughs; it is modelled as a change of the tail's
+ * height and of its time constant (c1·g + c2·k·g, g the tail, to first order) by least squares over
+ * the troughs, and taken off too.
+ */
+function correctTailResidue(sm: Float32Array, peakIdx: number[], cr: Cranking): Float32Array {
+  const tail = cr.tail;
+  if (!tail || peakIdx.length < 3) return sm;
+  const tr: { k: number; y: number; g: number }[] = [];
+  for (let i = 1; i < peakIdx.length; i++) {
+    let lo = peakIdx[i - 1];
+    for (let q = peakIdx[i - 1]; q <= peakIdx[i]; q++) if (sm[q] < sm[lo]) lo = q;
+    tr.push({ k: lo, y: sm[lo], g: tail(lo) });
+  }
+  const settled = tr.filter((x) => x.g < 0.02 * cr.tailHeight).map((x) => x.y);
+  const early = tr.filter((x) => x.g >= 0.02 * cr.tailHeight);
+  if (!settled.length || !early.length) return sm;
+  const level = settled.sort((a, b) => a - b)[settled.length >> 1];
+  let c1 = 0;
+  let c2 = 0;
+  const r = early.map((x) => x.y - level);
+  if (early.length >= 3) {
+    // two unknowns: the normal equations of r ≈ c1·g + c2·k·g
+    let a11 = 0,
+      a12 = 0,
+      a22 = 0,
+      b1 = 0,
+      b2 = 0;
+    early.forEach((x, i) => {
+      const u = x.g;
+      const v = x.k * x.g;
+      a11 += u * u;
+      a12 += u * v;
+      a22 += v * v;
+      b1 += u * r[i];
+      b2 += v * r[i];
+    });
+    const det = a11 * a22 - a12 * a12;
+    if (Math.abs(det) > 0) {
+      c1 = (b1 * a22 - b2 * a12) / det;
+      c2 = (a11 * b2 - a12 * b1) / det;
+    }
+  } else {
+    let num = 0;
+    let den = 0;
+    early.forEach((x, i) => {
+      num += x.g * r[i];
+      den += x.g * x.g;
+    });
+    c1 = den > 0 ? num / den : 0;
+  }
+  return Float32Array.from(sm, (y, k) => y - (c1 + c2 * k) * tail(k));
+}
+
+/** Each stroke's rise above the troughs beside it, and its time (s). */
+function strokeHeightsAndTimes(
+  sm: Float32Array,
+  peakIdx: number[],
+  P: number,
+  time: (x: number) => number,
+  rate: number,
+) {
   const troughs: number[] = [];
   for (let k = 1; k < peakIdx.length; k++) {
     let mn = Infinity;
@@ -186,110 +340,180 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
     const ref = before != null && after != null ? (before + after) / 2 : (before ?? after)!;
     return sm[pk] - ref;
   });
-  const hMax = Math.max(...heights);
   const times = peakIdx.map((pk) => {
     const y0 = sm[pk - 1] ?? sm[pk];
     const y1 = sm[pk];
     const y2 = sm[pk + 1] ?? sm[pk];
     const dd = y0 - 2 * y1 + y2;
     const off = dd !== 0 ? (0.5 * (y0 - y2)) / dd : 0;
-    return dTime(start + pk + Math.max(-0.5, Math.min(0.5, off)));
+    return time(pk + Math.max(-0.5, Math.min(0.5, off)));
   });
   // a stroke with (almost) no hump has no peak to time: it sits midway between its neighbours
   const medH = [...heights].sort((x, y) => x - y)[heights.length >> 1];
+  const Ps = P / rate;
   for (let k = 0; k < times.length; k++) {
     if (heights[k] >= 0.3 * medH) continue;
-    const Ps = P / dRate;
     if (k > 0 && k + 1 < times.length) times[k] = (times[k - 1] + times[k + 1]) / 2;
     else if (k > 0) times[k] = times[k - 1] + Ps;
     else if (k + 1 < times.length) times[k] = times[k + 1] - Ps;
   }
+  return { heights, times };
+}
+
+function summaryOf(
+  events: CompressionEvent[],
+  heights: number[],
+  N: number,
+  inrushIgnored: boolean,
+): CompressionSummary {
+  const times = events.map((e) => e.timeS);
+  const span = times.length ? times[times.length - 1] - times[0] : 0;
+  const fPeaks = span > 0 ? (times.length - 1) / span : null;
+  const positions: { position: number; relativePct: number }[] = [];
+  for (let q = 1; q <= Math.min(N, events.length); q++) {
+    const all = events.filter((e) => e.position === q);
+    const settled = all.filter((e) => !e.onInrush);
+    const xs = (settled.length ? settled : all).map((e) => e.relativePct);
+    positions.push({ position: q, relativePct: xs.reduce((x, y) => x + y, 0) / xs.length });
+  }
+  return {
+    eventCount: events.length,
+    rpm: fPeaks != null ? (120 * fPeaks) / N : null,
+    cylinders: N,
+    peak: metricStats(heights),
+    relativePct: metricStats(events.filter((e) => !e.onInrush).map((e) => e.relativePct)),
+    positions,
+    lowPositions: positions.filter((x) => x.relativePct < LOW_COMPRESSION_PCT).map((x) => x.position),
+    inrushIgnored,
+  };
+}
+
+export function analyzeCompression(p: Prepared, ctx: CompressionContext): CompressionAnalysis {
+  const s = ctx.settings;
+  const N = Math.max(1, Math.round(ctx.cylinders ?? 4));
+  const dc = decimate(p);
+  const measurements = measurePrepared(p, p.toPhysical);
+  const drafts: FindingDraft[] = [];
+  const noEvents = (why: string): CompressionAnalysis => {
+    drafts.push({
+      code: "no-events",
+      severity: "problem",
+      message: `No compression strokes found: ${why}.`,
+      advice:
+        "Clamp round the battery's main cable (all of the starter current), crank for at least two seconds with " +
+          "the engine disabled as the maker directs, and start the capture before the key is turned.",
+      caution: true,
+    });
+    const empty = summaryOf([], [], N, false);
+    const none: Suggestions = { oneEvent: null, allCylinders: null, triggerLevel: null, triggerText: null };
+    return {
+      events: [],
+      summary: empty,
+      findings: finishFindings(drafts, ENGINE_SAFETY),
+      measurements,
+      suggestions: none,
+    };
+  };
+  if (dc.m < 16 || !(dc.hi > dc.lo)) return noEvents("the capture is too short or flat");
+  const cr = crankingPart(dc);
+  if (!cr) return noEvents("the capture ends before cranking");
+  const P = strokePeriod(cr.seg, dc.rate, N);
+  if (P == null) return noEvents("no repeating current peaks");
+  // light smoothing: enough against the noise, little enough not to flatten a stroke's sharp fall
+  const sm = boxcar(cr.seg, 0, cr.seg.length, Math.max(1, Math.round(P / 25) | 1));
+  const peakIdx = strokePeaks(sm, P);
+  if (peakIdx.length < 2) return noEvents("fewer than two current peaks");
+  const time = (x: number) => timeAtFrac(p, (cr.start + x) * dc.blockN + (dc.blockN - 1) / 2);
+  const { heights, times } = strokeHeightsAndTimes(correctTailResidue(sm, peakIdx, cr), peakIdx, P, time, dc.rate);
+  // a stroke that comes while much of the inrush is left (over a quarter of a typical stroke's rise)
+  // is timed and counted, but its height rests on the tail's model: it does not judge compression
+  const typical = [...heights].sort((a, b) => a - b)[heights.length >> 1];
+  const onInrush = peakIdx.map((pk) => (cr.tail ? cr.tail(pk) > 0.25 * typical : false));
+  const judged = heights.filter((_, k) => !onInrush[k]);
+  const hMax = Math.max(...(judged.length ? judged : heights));
   const events: CompressionEvent[] = peakIdx.map((_, k) => ({
     timeS: times[k],
     peak: heights[k],
     relativePct: hMax > 0 ? (100 * heights[k]) / hMax : 0,
     position: (k % N) + 1,
+    onInrush: onInrush[k],
   }));
-  const span = times[times.length - 1] - times[0];
-  const fPeaks = span > 0 ? (times.length - 1) / span : null;
-  const rpm = fPeaks != null ? (120 * fPeaks) / N : null;
-
-  const positions: { position: number; relativePct: number }[] = [];
-  for (let q = 1; q <= Math.min(N, events.length); q++) {
-    const xs = events.filter((e) => e.position === q).map((e) => e.relativePct);
-    positions.push({ position: q, relativePct: xs.reduce((x, y) => x + y, 0) / xs.length });
-  }
-  const lowPositions = positions.filter((x) => x.relativePct < LOW_COMPRESSION_PCT).map((x) => x.position);
-
-  const summary: CompressionSummary = {
-    eventCount: events.length,
-    rpm,
-    cylinders: N,
-    peak: metricStats(heights),
-    relativePct: metricStats(events.map((e) => e.relativePct)),
-    positions,
-    lowPositions,
-    inrushIgnored,
+  const summary = summaryOf(events, heights, N, cr.inrushIgnored);
+  reviewCompression(p, ctx, summary, P * dc.blockN, cr.q50 / p.toPhysical, drafts);
+  const rpm = summary.rpm;
+  const tpd = rpm != null ? niceCeil((2 * 120) / rpm / 10) : null;
+  const suggestions: Suggestions = {
+    oneEvent: null,
+    allCylinders:
+      rpm != null && tpd != null
+        ? {
+            timePerDivS: tpd,
+            voltsPerDiv: null,
+            reason: `two engine cycles (2 × 120/rpm = ${fmt((240 / rpm) * 1e3, 3)} ms at ${Math.round(rpm)} rpm) ` +
+              `across the 10 divisions, after the inrush (common practice, no source)`,
+            text: `${fmtTime(tpd)}/div`,
+          }
+        : null,
+    triggerLevel: null,
+    triggerText: null,
   };
+  return { events, summary, findings: finishFindings(drafts, ENGINE_SAFETY), measurements, suggestions };
+}
 
-  // ---------- review ----------
+function reviewCompression(
+  p: Prepared,
+  ctx: CompressionContext,
+  summary: CompressionSummary,
+  samplesPerStroke: number,
+  restingStored: number,
+  drafts: FindingDraft[],
+): void {
+  const { positions, lowPositions, rpm, cylinders: N } = summary;
   if (ctx.cylinders == null) {
-    findings.push({
+    drafts.push({
       code: "cylinders-assumed",
       severity: "info",
       message: `The number of cylinders was not given; ${N} was assumed for the cranking rpm and the positions.`,
       advice: "Enter the engine's number of cylinders in the capture settings.",
     });
   }
-  const clipped = clippedFinding(p, q50 / scale, ctx.screen, s, "the current peaks");
-  if (clipped) findings.push(clipped);
-  const samplesPerStroke = P * blockN;
+  const noise = p.n ? robustLevelAndNoise(p.v).noise : 0;
+  const clipped = clippedFinding(
+    p,
+    detectClipping(p, restingStored, ctx.screen, noise),
+    ctx.settings,
+    "the current peaks",
+  );
+  if (clipped) drafts.push(clipped);
   if (samplesPerStroke < 20) {
-    findings.push({
+    drafts.push({
       code: "undersampled",
       severity: "warning",
       message: `Only ${Math.round(samplesPerStroke)} samples per compression stroke at ${fmtRate(p.rate)}; the peaks are read coarsely.`,
-      advice: withSafety("Capture at 1 kS/s or faster.", ENGINE_SAFETY),
+      advice: "Capture at 1 kS/s or faster.",
+      caution: true,
     });
   }
   for (const q of lowPositions) {
     const pct = positions[q - 1].relativePct;
-    findings.push({
+    drafts.push({
       code: "low-compression",
       severity: "warning",
       message: `Compression stroke ${q} of every ${N} draws ${Math.round(pct)} % of the highest current peak (below ${LOW_COMPRESSION_PCT} %): that cylinder is suspect.`,
-      advice: withSafety(
-        `Confirm with a compression or leak-down test on that cylinder. To know which cylinder stroke ${q} is, capture cylinder 1's ignition on a second channel and count along the firing order.`,
-        ENGINE_SAFETY,
-      ),
+      advice: `Confirm with a compression or leak-down test on that cylinder. To know which cylinder stroke ${q} ` +
+        `is, capture cylinder 1's ignition on a second channel and count along the firing order.`,
+      caution: true,
     });
   }
   if (rpm != null && rpm < 150) {
-    findings.push({
+    drafts.push({
       code: "slow-cranking",
       severity: "warning",
       message: `Cranking at ${Math.round(rpm)} rpm, below the usual 150–250 rpm.`,
-      advice: withSafety("Check the battery's charge, the cables and the starter before judging compression.", ENGINE_SAFETY),
+      advice: "Check the battery's charge, the cables and the starter before judging compression.",
+      caution: true,
     });
   }
-  const t = triggerBeyondFinding(p, s, null);
-  if (t) findings.push(t);
-
-  const suggestions: Suggestions = {
-    oneEvent: null,
-    allCylinders:
-      rpm != null
-        ? {
-            timePerDivS: niceCeil((2 * 120) / rpm / 10),
-            voltsPerDiv: null,
-            reason: `two engine cycles (2 × 120/rpm = ${fmt((240 / rpm) * 1e3, 3)} ms at ${Math.round(rpm)} rpm) across the 10 divisions, after the inrush (common practice, no source)`,
-          }
-        : null,
-    triggerLevel: null,
-  };
-  return { unit, events, summary, findings, measurements, suggestions };
-
-  function none(): Suggestions {
-    return { oneEvent: null, allCylinders: null, triggerLevel: null };
-  }
+  const t = triggerBeyondFinding(p, ctx.settings, null);
+  if (t) drafts.push(t);
 }

@@ -37,12 +37,12 @@ export function guessKind(settings: Partial<CaptureSettings>, trace: AnalyzableT
     const sampled = blockSample(p.v);
     const q01 = histogramQuantile(sampled, 0.01, p.min, p.max);
     const q99 = histogramQuantile(sampled, 0.99, p.min, p.max);
-    const k = p.toBase;
+    const k = p.toPhysical;
     const medV = med * k;
     const swing = q99 - q01;
     const m = measurePrepared(p, k);
     const duration = p.n / p.rate;
-    if (p.baseUnit === "V" && medV > 8 && medV < 18 && q01 * k < 0.25 * medV && p.max * k > 2 * medV) {
+    if (p.unit === "V" && medV > 8 && medV < 18 && q01 * k < 0.25 * medV && p.max * k > 2 * medV) {
       return { kind: "injector", from: "shape", reason: `rests at ${medV.toFixed(1)} V, drops to near 0 V and spikes to ${(p.max * k).toFixed(0)} V at turn-off` };
     }
     const up = p.max - med;
@@ -55,14 +55,14 @@ export function guessKind(settings: Partial<CaptureSettings>, trace: AnalyzableT
     // One firing in a short capture: its spark line fills the upper percentiles, but the firing line
     // still stands far above them (a square or sine wave's extreme is close to its 90th percentile).
     const exQ90 = up >= down ? histogramQuantile(p.v, 0.9, p.min, p.max) - med : med - histogramQuantile(p.v, 0.1, p.min, p.max);
-    const inAmps = p.baseUnit === "A" || settings.probe === "current-clamp";
+    const inAmps = p.units.quantity === "current" || settings.probe === "current-clamp";
     if (!inAmps && ex > 5 * Math.max(exQ90, 3 * noise) && ex > 20 * noise && shortSpike(p.v, med, up >= down ? 1 : -1, ex)) {
       return { kind: "secondary-ignition", from: "shape", reason: "a tall, short spike standing far above a lower plateau, like a firing line and its spark line" };
     }
     if (Math.abs(med) < 0.1 * swing && m.frequencyHz != null && m.frequencyHz > 50 && q99 > 0.3 * -q01 && q99 < 3 * -q01) {
       return { kind: "crank", from: "shape", reason: `swings about 0 V ${Math.round(m.frequencyHz)} times a second, like a toothed wheel's sensor` };
     }
-    const current = p.baseUnit === "A" || settings.probe === "current-clamp";
+    const current = p.units.quantity === "current" || settings.probe === "current-clamp";
     if (current && medV > 0 && duration > 0.4) {
       // the later part of the capture, clear of the inrush at key-on
       const t0 = input.t0 ?? 0;

@@ -1,26 +1,7 @@
 import { prepare, timeAtOf, type Prepared } from "./signal";
-import type { SignalInput } from "./types";
+import type { Measurements, SignalInput } from "./types";
 
-/** Generic measurements of a channel or a window of it. Levels in the channel's unit × `scale`. */
-export interface Measurements {
-  samples: number;
-  startS: number;
-  endS: number;
-  min: number;
-  max: number;
-  peakToPeak: number;
-  mean: number;
-  rms: number;
-  /** low and high state levels (histogram modes, IEEE Std 181-2011 §5.2) */
-  baseLevel: number;
-  topLevel: number;
-  frequencyHz: number | null;
-  periodS: number | null;
-  dutyCyclePct: number | null;
-  /** 10 % → 90 % of the transition between the state levels, averaged over transitions */
-  riseTimeS: number | null;
-  fallTimeS: number | null;
-}
+export type { Measurements } from "./types";
 
 /**
  * State levels by the histogram method of IEEE Std 181-2011 (transitions, pulses and related

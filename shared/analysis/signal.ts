@@ -1,38 +1,10 @@
+import { channelUnits, type ChannelUnits } from "../trace/units";
 import type { SignalInput } from "./types";
 
-/** Factor from a file's value unit to the base unit (volts, or amperes for currents). */
-export function unitFactor(unit: string | null | undefined): { factor: number; base: string } {
-  const u = (unit ?? "").trim();
-  switch (u) {
-    case "":
-    case "V":
-    case "v":
-      return { factor: 1, base: "V" };
-    case "mV":
-    case "mv":
-      return { factor: 1e-3, base: "V" };
-    case "uV":
-    case "µV":
-    case "μV":
-      return { factor: 1e-6, base: "V" };
-    case "kV":
-    case "kv":
-      return { factor: 1e3, base: "V" };
-    case "A":
-    case "a":
-      return { factor: 1, base: "A" };
-    case "mA":
-      return { factor: 1e-3, base: "A" };
-    case "kA":
-      return { factor: 1e3, base: "A" };
-    default:
-      return { factor: 1, base: u };
-  }
-}
-
 /**
- * A window of one channel, ready for analysis: values as stored (no copy for a Float32Array),
- * `toBase` converts them to volts/amperes, times come from `timeAt`.
+ * A window of one channel, ready for analysis: values as stored in the file's unit (no copy for a
+ * Float32Array); `toPhysical` converts them to the channel's physical unit (`unit`), `toScope` to the
+ * unit the scope's settings are typed in (`units.scopeUnit`); times come from `timeAtOf`.
  */
 export interface Prepared {
   v: Float32Array;
@@ -43,8 +15,14 @@ export interface Prepared {
   offset: number;
   t0: number;
   time: ArrayLike<number> | null;
-  toBase: number;
-  baseUnit: string;
+  /** the channel's unit model (shared/trace/units.ts) */
+  units: ChannelUnits;
+  /** stored value → physical unit (kV at the plug, A through a clamp, V at the scope…) */
+  toPhysical: number;
+  /** stored value → the unit of the scope's settings (volts/division, trigger level) */
+  toScope: number;
+  /** the physical unit every result is reported in */
+  unit: string;
   name: string;
   min: number;
   max: number;
@@ -54,14 +32,6 @@ export interface Prepared {
   rms: number;
   /** samples at the screen's edges, counted when prepared with the screen (see detectClipping) */
   extremes: { screen: { min: number; max: number; top: number; bottom: number } | null };
-}
-
-/** Samples exactly at an extreme: how many, in how many runs, the longest run, the largest step into one. */
-export interface ExtremeRuns {
-  count: number;
-  runs: number;
-  longest: number;
-  step: number;
 }
 
 export function timeAtOf(p: Pick<Prepared, "time" | "t0" | "rate" | "offset">, i: number): number {
@@ -78,10 +48,15 @@ export function timeAtFrac(p: Prepared, x: number): number {
   return a + f * (timeAtOf(p, i + 1) - a);
 }
 
+/**
+ * Prepares a window of a channel. `screen` is the screen's range in stored units (see screenRange);
+ * `units` the channel's unit model (default: from the file's unit alone, no probe scale).
+ */
 export function prepare(
   input: SignalInput,
   window?: { startS?: number; endS?: number },
   screen?: { min: number; max: number } | null,
+  units: ChannelUnits = channelUnits(input.unit),
 ): Prepared {
   const all = input.values instanceof Float32Array ? input.values : Float32Array.from(input.values);
   const rate = input.sampleRateHz;
@@ -148,7 +123,6 @@ export function prepare(
     }
     screenCounts = { min: screen.min, max: screen.max, top, bottom };
   }
-  const { factor, base } = unitFactor(input.unit);
   return {
     v,
     n,
@@ -157,8 +131,10 @@ export function prepare(
     offset: start,
     t0,
     time,
-    toBase: factor,
-    baseUnit: base,
+    units,
+    toPhysical: units.fromFile,
+    toScope: units.scopeFromFile,
+    unit: units.unit,
     name: input.name ?? "A",
     min: n ? min : 0,
     max: n ? max : 0,
@@ -200,70 +176,6 @@ export function boxcar(v: ArrayLike<number>, a: number, b: number, w: number, si
     out[i] = sign * (s / (hi - lo + 1) - base);
   }
   return out;
-}
-
-export interface ClipInfo {
-  top: boolean;
-  bottom: boolean;
-}
-
-/**
- * Did the signal sit flat against the top or bottom of the range? With the screen range known
- * (volts/division and ground offset), any samples within 0.5 % of its edges count. Without it,
- * the signal must run into a ceiling: at least three samples exactly at the extreme (in two runs,
- * or one run of three), entered by a step of at least 2 % of the excursion, and at most a quarter
- * of all samples (so a square wave's flat top is not mistaken for clipping).
- */
-export function detectClipping(
-  p: Prepared,
-  reference: number,
-  screen?: { min: number; max: number } | null,
-): ClipInfo {
-  const { v, n, min, max } = p;
-  if (n < 3 || !(max > min)) return { top: false, bottom: false };
-  if (screen && screen.max > screen.min) {
-    const known = p.extremes.screen;
-    if (known && known.min === screen.min && known.max === screen.max) return { top: known.top >= 2, bottom: known.bottom >= 2 };
-    const tol = 0.005 * (screen.max - screen.min);
-    let top = 0;
-    let bottom = 0;
-    for (let i = 0; i < n; i++) {
-      if (v[i] >= screen.max - tol) top++;
-      else if (v[i] <= screen.min + tol) bottom++;
-    }
-    return { top: top >= 2, bottom: bottom >= 2 };
-  }
-  // samples exactly at the extremes (a saturated converter repeats its last code): count first,
-  // and look at their runs only when there are enough of them
-  let cTop = 0;
-  let cBot = 0;
-  for (let i = 0; i < n; i++) {
-    const x = v[i];
-    if (x === max) cTop++;
-    else if (x === min) cBot++;
-  }
-  const runsAt = (extreme: number): ExtremeRuns => {
-    const r: ExtremeRuns = { count: 0, runs: 0, longest: 0, step: 0 };
-    let run = 0;
-    for (let i = 0; i < n; i++) {
-      if (v[i] === extreme) {
-        if (run === 0) {
-          r.runs++;
-          if (i > 0) r.step = Math.max(r.step, Math.abs(extreme - v[i - 1]));
-        }
-        run++;
-        r.count++;
-        if (run > r.longest) r.longest = run;
-      } else run = 0;
-    }
-    return r;
-  };
-  const ok = (r: ExtremeRuns, excursion: number) =>
-    r.count >= 3 && (r.runs >= 2 || r.longest >= 3) && r.step >= 0.02 * excursion && r.count <= n / 4;
-  return {
-    top: cTop >= 3 && ok(runsAt(max), Math.abs(max - reference)),
-    bottom: cBot >= 3 && ok(runsAt(min), Math.abs(min - reference)),
-  };
 }
 
 /** Next value of the 1-2-5 sequence at or above x (volts/division, time/division). */

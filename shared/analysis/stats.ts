@@ -2,6 +2,8 @@
  * Small, allocation-light statistics used by the waveform analysis. Pure: runs in the browser too.
  */
 
+import type { MetricStats } from "./types";
+
 export type NumArray = ArrayLike<number>;
 
 /** Median of a plain list (copies and sorts; for short lists such as per-event metrics). */
@@ -20,11 +22,7 @@ export function medianAbsoluteDeviation(values: readonly number[]): number | nul
   return median(values.filter((v) => Number.isFinite(v)).map((v) => Math.abs(v - m)));
 }
 
-export interface MetricStats {
-  median: number | null;
-  min: number | null;
-  max: number | null;
-}
+export type { MetricStats } from "./types";
 
 /** Median, min and max of the finite values; all null when there are none. */
 export function metricStats(values: readonly (number | null | undefined)[]): MetricStats {

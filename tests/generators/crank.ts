@@ -1,11 +1,16 @@
 /**
- * Crank sensor generator: a variable-reluctance (VR) sensor over a 60-2 wheel, with known truth.
+ * Crank sensor generator: a variable-reluctance (VR) or Hall sensor over a missing-tooth wheel, with
+ * known truth.
  *
- * 60 tooth positions 6° apart, two of them missing (the gap is 3 pitches, 18°). Each tooth adds a
- * Gaussian bump of magnetic flux Φ under the sensor; the sensor's voltage follows Faraday's law,
- * v = −N·dΦ/dt = −N·ω·dΦ/dθ, so both its amplitude and its frequency rise with speed. A tooth
- * reaching the sensor gives a positive lobe, leaving it a negative one; the falling zero crossing
- * between them is the tooth's centre. A damaged (chipped) tooth carries less flux.
+ * N tooth positions 360°/N apart (default 60), k of them missing (default 2: the gap is k + 1
+ * pitches, 18° on a 60-2 wheel), or any set of missing positions (`missingAt`, for wheels with
+ * several gaps). Each tooth adds a Gaussian bump of magnetic flux Φ under the sensor (width
+ * proportional to the pitch); a VR sensor's voltage follows Faraday's law, v = −N·dΦ/dt =
+ * −N·ω·dΦ/dθ, so both its amplitude and its frequency rise with speed. A tooth reaching the sensor
+ * gives a positive lobe, leaving it a negative one; the falling zero crossing between them is the
+ * tooth's centre. A Hall sensor switches between two levels (0 and `hallV`) while a tooth is under it
+ * (the flux above half its peak), with a finite edge time; its amplitude does not change with speed.
+ * A damaged (chipped) tooth carries less flux.
  */
 import type { CaptureSettingsInput } from "../../shared/schemas/capture-settings";
 import { createRng } from "../helpers/prng";
@@ -33,15 +38,26 @@ export interface CrankOptions {
   noiseV?: number;
   /** −1 swaps the sensor's leads */
   polarity?: 1 | -1;
+  /** tooth positions per revolution (default 60) and teeth missing at the gap (default 2) */
+  positions?: number;
+  missing?: number;
+  /** the missing positions (0-based) when not the last `missing` ones: several gaps */
+  missingAt?: number[];
+  /** "vr" (default) or "hall" (0/`hallV` square wave, high while a tooth is under the sensor) */
+  sensor?: "vr" | "hall";
+  hallV?: number;
 }
 
 export interface CrankTruth {
   kind: "crank";
   rpm: number;
-  /** tooth period at constant speed, s: one revolution is 60 pitches, so T = 60/(60·rpm) */
+  /** tooth period at constant speed, s: one revolution is N pitches, so T = 60/(N·rpm) */
   toothPeriodS: number;
-  teethPerRev: 58;
-  gapRatio: 3;
+  positions: number;
+  missing: number;
+  teethPerRev: number;
+  /** pitches the gap spans (k + 1) */
+  gapRatio: number;
   damagedTooth: number | null;
   /** times the last tooth before each gap passed the sensor */
   gapTimesS: number[];
@@ -49,8 +65,6 @@ export interface CrankTruth {
   peakV: number;
 }
 
-const PITCH = (6 * Math.PI) / 180;
-const SIGMA = (1.6 * Math.PI) / 180; // flux bump width under the sensor
 
 export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTruth> {
   const rng = createRng(opts.seed ?? 1);
@@ -63,6 +77,15 @@ export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTr
   const dFactor = opts.damagedFactor ?? 0.35;
   const noise = opts.noiseV ?? 0.01;
   const pol = opts.polarity ?? 1;
+  const N = opts.positions ?? 60;
+  const kMissing = opts.missing ?? 2;
+  const PITCH = (2 * Math.PI) / N;
+  const SIGMA = PITCH * (1.6 / 6); // flux bump width under the sensor (1.6° on a 60-tooth wheel)
+  const missingSet = new Set(opts.missingAt ?? Array.from({ length: kMissing }, (_, i) => N - kMissing + i));
+  const present = Array.from({ length: N }, (_, i) => i).filter((i) => !missingSet.has(i));
+  const lastBeforeGap = present.filter((i) => missingSet.has((i + 1) % N));
+  const hall = opts.sensor === "hall";
+  const hallV = opts.hallV ?? 5;
   const omega0 = (rpm * 2 * Math.PI) / 60;
   // dΦ/dθ of one Gaussian tooth peaks at x = −σ with 1/(σ·√e); scale so a good tooth at 1000 rpm gives voltsAt1000
   const kV = (opts.voltsAt1000 ?? 2) / (((1000 * 2 * Math.PI) / 60) * (1 / (SIGMA * Math.sqrt(Math.E))));
@@ -70,29 +93,40 @@ export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTr
   const duration = (revs * 60) / rpm;
   const n = Math.round(duration * rate);
   const values = new Float32Array(n);
-  // tooth i (0..57) at angle i·PITCH; tooth number = i + 1 (1 = first after the gap at 58, 59)
+  // tooth i at angle i·PITCH; tooth number = i + 1 (1 = first after the gap at the last positions)
   const amp = (i: number) => (damaged != null && i === damaged - 1 ? dFactor : 1);
   let theta = theta0;
   const gapTimes: number[] = [];
-  let prevRel = NaN;
+  let hallState = 0;
+  const hallEdge = Math.max(1, Math.round(rate * 5e-6)); // about 5 µs edges
+  let hallLevel = 0;
   for (let i = 0; i < n; i++) {
     const t = i / rate;
     const omega = omega0 * (1 + ripple * Math.sin(2 * Math.PI * rippleHz * t));
     const th = theta % (2 * Math.PI);
-    // nearest teeth (the bumps are narrow: three neighbours suffice)
+    // nearest teeth (the bumps are narrow: a few neighbours suffice)
     const c = Math.round(th / PITCH);
     let dphi = 0;
+    let phi = 0;
     for (let k = c - 2; k <= c + 2; k++) {
-      const idx = ((k % 60) + 60) % 60;
-      if (idx >= 58) continue;
+      const idx = ((k % N) + N) % N;
+      if (missingSet.has(idx)) continue;
       const x = th - k * PITCH;
-      dphi += amp(idx) * (-x / (SIGMA * SIGMA)) * Math.exp(-(x * x) / (2 * SIGMA * SIGMA));
+      const g = amp(idx) * Math.exp(-(x * x) / (2 * SIGMA * SIGMA));
+      dphi += (-x / (SIGMA * SIGMA)) * g;
+      phi += g;
     }
-    values[i] = pol * kV * omega * dphi + noise * rng.normal();
-    // the last tooth (index 57, at 342°) passing the sensor: its centre
-    const rel = th - 57 * PITCH;
-    if (prevRel < 0 && rel >= 0) gapTimes.push(t - rel / omega);
-    prevRel = rel;
+    if (hall) {
+      hallState = phi > 0.5 ? 1 : 0;
+      hallLevel += (hallState - hallLevel) / hallEdge;
+      values[i] = (pol > 0 ? hallLevel : 1 - hallLevel) * hallV + noise * rng.normal();
+    } else values[i] = pol * kV * omega * dphi + noise * rng.normal();
+    // the last tooth before each gap passing the sensor: its centre
+    for (const last of lastBeforeGap) {
+      const rel = th - last * PITCH;
+      const prevRel = (th - omega / rate) - last * PITCH;
+      if (prevRel < 0 && rel >= 0) gapTimes.push(t - rel / omega);
+    }
     theta += omega / rate;
   }
   const trace = makeTrace(rate, [{ name: "A", unit: "V", values }]);
@@ -108,9 +142,11 @@ export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTr
     truth: {
       kind: "crank",
       rpm,
-      toothPeriodS: 60 / (60 * rpm),
-      teethPerRev: 58,
-      gapRatio: 3,
+      toothPeriodS: 60 / (N * rpm),
+      positions: N,
+      missing: kMissing,
+      teethPerRev: present.length,
+      gapRatio: kMissing + 1,
       damagedTooth: damaged,
       gapTimesS: gapTimes,
       peakV: (kV * omega0) / (SIGMA * Math.sqrt(Math.E)),

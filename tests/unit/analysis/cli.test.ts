@@ -7,6 +7,7 @@ import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { parseTraceText } from "../../../shared/trace/parse";
 import { renderCsv } from "../../generators/csv";
 import { generateSecondary } from "../../generators/secondary";
+import { generateStarter } from "../../generators/starter";
 
 // The CLI is a public contract (issue: command line): the shapes below are what outside tools rely on.
 const root = path.resolve(__dirname, "../../..");
@@ -35,6 +36,47 @@ beforeAll(() => {
 });
 
 afterAll(() => fs.rmSync(dir, { recursive: true, force: true }));
+
+// Signatures from each format's specification (from memory): PNG 89 50 4E 47 0D 0A 1A 0A (PNG spec
+// §5.2), ZIP local header "PK\x03\x04" (APPNOTE 4.3.7), gzip 1F 8B (RFC 1952 §2.3.1), PDF "%PDF-"
+// (ISO 32000-1 §7.5.2), JPEG FF D8 FF (ITU-T T.81).
+describe("npm run analyze refuses a binary file by what it is, as the upload does", () => {
+  it.each([
+    ["an image", "photo.csv", [0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 13], /PNG image/],
+    ["a JPEG", "scope.csv", [0xff, 0xd8, 0xff, 0xe0, 0, 16], /JPEG image/],
+    ["an archive", "export.csv", [0x50, 0x4b, 0x03, 0x04, 20, 0, 0, 0], /ZIP archive/],
+    ["a gzip archive", "trace.tsv", [0x1f, 0x8b, 8, 0, 0, 0], /gzip archive/],
+    ["a PDF", "report.csv", [...Buffer.from("%PDF-1.7\n")], /PDF document/],
+  ] as [string, string, number[], RegExp][])("%s named %s: exit 2, one line naming it and what it is", (...c) => {
+    const [, name, bytes, what] = c;
+    const f = path.join(dir, name);
+    fs.writeFileSync(f, Buffer.from([...bytes, ...Buffer.from("0,1\n1,2\n")]));
+    const res = cli([f, "--json"]);
+    expect(res.status).toBe(2);
+    expect(res.stdout).toBe("");
+    const lines = res.stderr.split("\n").filter(Boolean);
+    expect(lines.length).toBe(1);
+    expect(lines[0]).toContain(f);
+    expect(lines[0]).toMatch(what);
+  });
+});
+
+describe("npm run analyze speaks the unit model", () => {
+  it("a clamp capture in volts with --mv-per-amp reads amperes; settings stay in scope volts", () => {
+    // 100 mV/A: 1 V at the scope is 10 A (definition of the clamp's scale)
+    const g = generateStarter({ seed: 5, crankingRpm: 200, cylinders: 4, mvPerAmp: 100, sampleRateHz: 5e3 });
+    const f = path.join(dir, "starter.csv");
+    fs.writeFileSync(f, renderCsv(g.trace));
+    const res = cli([f, "--kind", "relative-compression", "--probe", "current-clamp", "--mv-per-amp", "100"]
+      .concat(["--cylinders", "4", "--json"]));
+    expect(res.stderr).toBe("");
+    const doc = JSON.parse(res.stdout);
+    expect(doc.unit).toBe("A");
+    expect(doc.scopeUnit).toBe("V");
+    // the model's stroke rise is 90 A
+    expect(Math.abs(doc.summary.peak.median - 90) / 90).toBeLessThan(0.1);
+  });
+});
 
 describe("npm run analyze", () => {
   it("one file: one object in the contract's shape, equal to analyzeTrace's result", () => {
@@ -72,7 +114,7 @@ describe("npm run analyze", () => {
     expect(Math.abs(doc.traces[3].summary.peak.median - doc.traces[0].summary.peak.median) / doc.traces[0].summary.peak.median).toBeLessThan(0.1);
     expect(doc.traces[4].summary.eventCount).toBe(1);
     expect(doc.traces[4].summary.rpm).toBeNull();
-    expect(Object.keys(doc.comparison)).toEqual(["metrics", "outliers"]);
+    expect(Object.keys(doc.comparison)).toEqual(["metrics", "outliers", "statements"]);
     expect(doc.comparison.outliers.length).toBeGreaterThan(0);
     for (const o of doc.comparison.outliers) {
       expect(Object.keys(o)).toEqual(["file", "metric", "value", "median", "score"]);

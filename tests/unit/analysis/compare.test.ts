@@ -29,7 +29,12 @@ describe("comparison across cylinders (secondary ignition)", () => {
     expect(peak.unit).toBe("kV");
     expect(peak.values.map((v) => v.file)).toEqual(results.map((r) => r.file));
     peak.values.forEach((v, i) => expect(v.value).toBe((results[i].summary as { peak: { median: number } }).peak.median));
-    expect(c.metrics.map((m) => m.metric)).toEqual(["peak", "burnTimeMs", "burnLevel", "oscillations", "dwellMs"]);
+    // issue 11: placement-free measures (firing line ÷ its spark line, slope relative to the level)
+    // beside the absolute ones
+    expect(c.metrics.map((m) => m.metric)).toEqual(
+      ["peak", "burnTimeMs", "burnLevel", "oscillations", "dwellMs", "firingToSpark", "sparkSlopePctPerMs"],
+    );
+    expect(c.statements).toEqual([]);
   });
 
   // what each fault does to the cylinder (public study material, from the trade reference):

@@ -54,7 +54,9 @@ describe("relative compression from starter current", () => {
     const flaggedPositions = new Set(r.summary.lowPositions);
     r.events.forEach((e, k) => {
       expect(flaggedPositions.has(e.position), `stroke at ${e.timeS.toFixed(3)}`).toBe(truths[k].low);
-      expect(Math.abs(e.relativePct - truths[k].relativePct)).toBeLessThan(5);
+      // a stroke still riding on the inrush is kept and counted but marked as not judged (issue 11:
+      // the first stroke after the inrush is no longer dropped); the others within 5 points
+      if (!e.onInrush) expect(Math.abs(e.relativePct - truths[k].relativePct)).toBeLessThan(5);
     });
     expect(r.summary.lowPositions.length).toBe(1);
     const f = r.findings.filter((x) => x.code === "low-compression");

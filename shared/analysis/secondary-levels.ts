@@ -1,0 +1,74 @@
+/**
+ * Secondary ignition, stage 0: the levels every later stage works from — the baseline, the noise,
+ * which side of the baseline the firing lines are on, and the thresholds and time constants.
+ */
+import type { Prepared } from "./signal";
+import { robustLevelAndNoise } from "./stats";
+
+// Time constants of the detector (seconds). The firing line rises in microseconds and falls to the
+// spark line within tens of microseconds; the spark line lasts about 0.5–3 ms; the ringing a few
+// periods of 3–15 kHz (common practice, no source).
+export const SMOOTH_S = 10e-6; // boxcar for the spark line and the ringing (well under a ringing period)
+export const APEX_SEARCH_S = 60e-6;
+export const SPARK_SKIP_S = 150e-6; // the firing line has settled into the spark line by then
+export const SPARK_PROBE_S = 250e-6; // window for the first spark-line level
+export const MAX_BURN_S = 8e-3;
+export const RING_WINDOW_S = 4e-3;
+/** At this rate and above a firing line spans several samples, so a lone sample far off is a glitch. */
+export const GLITCH_RATE_HZ = 1e6;
+
+export interface SecondaryLevels {
+  /** the baseline (median of the capture), stored units */
+  base: number;
+  /** noise RMS, stored units */
+  noise: number;
+  /** +1: firing lines above the baseline; −1: below (inverted) */
+  sign: 1 | -1;
+  /** extremes of y = sign·(v − base), lone glitches left out at fast rates */
+  ymax: number;
+  ymin: number;
+  /** a crossing of this height (y) starts a candidate event */
+  thDet: number;
+  /** boxcar width (samples) for the spark line and ringing, and the noise left after it */
+  w: number;
+  noiseS: number;
+}
+
+/** Largest and smallest values, ignoring a sample that stands alone beyond both its neighbours. */
+function supportedExtremes(v: Float32Array, n: number): { max: number; min: number } {
+  let max = -Infinity;
+  let min = Infinity;
+  for (let i = 0; i < n; i++) {
+    const a = i > 0 ? v[i - 1] : v[i];
+    const b = i + 1 < n ? v[i + 1] : v[i];
+    const hi = Math.min(v[i], Math.max(a, b));
+    const lo = Math.max(v[i], Math.min(a, b));
+    if (hi > max) max = hi;
+    if (lo < min) min = lo;
+  }
+  return { max, min };
+}
+
+export function secondaryLevels(p: Prepared): SecondaryLevels {
+  const { v, n, rate } = p;
+  const robust = n ? robustLevelAndNoise(v) : { median: 0, noise: 0 };
+  const base = robust.median;
+  const noise = robust.noise;
+  const ext = n && rate >= GLITCH_RATE_HZ ? supportedExtremes(v, n) : { max: p.max, min: p.min };
+  const pos = ext.max - base;
+  const neg = base - ext.min;
+  const sign: 1 | -1 = pos >= neg ? 1 : -1;
+  const ymax = sign > 0 ? pos : neg;
+  const ymin = sign > 0 ? ext.min - base : base - ext.max;
+  const w = Math.max(1, Math.round(rate * SMOOTH_S) | 1);
+  return {
+    base,
+    noise,
+    sign,
+    ymax,
+    ymin,
+    thDet: Math.max(10 * noise, 0.03 * ymax, 1e-12),
+    w,
+    noiseS: noise / Math.sqrt(w),
+  };
+}
