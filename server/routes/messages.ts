@@ -6,7 +6,7 @@ import { assertCanJoinCase } from "../auth/policies/live";
 import { parseParams, parseQuery } from "../http/validate";
 import { idParamSchema } from "../../shared/schemas/traces";
 import { sinceQuerySchema } from "../../shared/schemas/realtime";
-import { getCaseRow } from "../services/cases";
+import { getCaseRow } from "../workflow/records";
 import { headSeq } from "../services/annotations";
 import { listMessages } from "../services/messages";
 
