@@ -102,3 +102,17 @@ export function embeddedUnitOfWork(sqlite: Database.Database, txDb: BetterSQLite
 export function insideUnit(): boolean {
   return openUnit.getStore() === true;
 }
+
+/**
+ * The same seam over an asynchronous drizzle database (e.g. drizzle-orm/libsql on a libSQL server
+ * or file): each unit is one driver transaction (`BEGIN IMMEDIATE` for writes). Nothing in the
+ * process has to be serialized: the driver holds a connection per transaction.
+ */
+export function asyncUnitOfWork(db: {
+  transaction<T>(fn: (tx: never) => Promise<T>, config?: { behavior?: "deferred" | "immediate" | "exclusive" }): Promise<T>;
+}): UnitOfWork {
+  return {
+    write: (body) => db.transaction((tx) => body(tx as unknown as Tx), { behavior: "immediate" }),
+    read: (body) => db.transaction((tx) => body(tx as unknown as Tx), { behavior: "deferred" }),
+  };
+}
