@@ -46,7 +46,7 @@ export async function runEffects(ctx: AppContext, effects: Effect[]): Promise<Af
       await runOne(ctx, e, queue, after);
     } catch (err) {
       ctx.logger.error({ err, effect: e.kind }, "a follow-up of a committed change failed");
-      if (e.kind === "returnMoney") after.moneyBack = { outcome: "nothing", payment: undefined, why: "The payment service could not be reached.", error: err };
+      if (e.kind === "returnMoney") after.moneyBack = { outcome: "nothing", payment: undefined, why: "Giving the money back failed.", error: err };
       if (e.kind === "capture") after.captured = false;
     }
   }
