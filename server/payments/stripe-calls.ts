@@ -15,7 +15,7 @@ import { notFound } from "../http/errors";
 import { reconcileInTx, type PaymentFact, type PaymentReactor } from "./reconcile";
 import { getPayment, type PaymentRow } from "./store";
 
-const { payment, shop } = schema;
+const { shop } = schema;
 
 export async function fetchIntent(ctx: AppContext, id: string): Promise<Stripe.PaymentIntent> {
   return ctx.stripe.paymentIntents.retrieve(id, { expand: ["latest_charge"] });

@@ -11,7 +11,7 @@ import type { Actor } from "../auth/session";
 import { assertCanJoinCase, assertLiveWrite, assertOwnAnnotation } from "../auth/policies/live";
 import { badRequest, notFound } from "../http/errors";
 import { parseWith } from "../http/validate";
-import { getCaseRow, type CaseRow } from "../workflow/records";
+import { getCaseRow } from "../workflow/records";
 import { annotationShapeSchema, type AnnotationCreate, type AnnotationKind, type AnnotationUpdate } from "../../shared/schemas/realtime";
 import { authorColor, type AnnotationRecord } from "../../shared/realtime";
 

@@ -15,7 +15,7 @@ import { ignitionSafetyNote } from "../../shared/schemas/queue";
 import type { AnswerView, ConfirmationView, QueueItem, QueueView } from "../../shared/views/queue";
 import type { CasePaymentView, CaseStateView, HistoryView, WorkflowAbilities, WorkflowAbility, WorkflowView } from "../../shared/views/workflow";
 import type { CaseStatus } from "../../shared/domain/case-status";
-import { abilitiesFor, authorize, authorizeView, canSeeQueue, canViewCase, isApprovedExpert, type ExpertFacts } from "./policy";
+import { abilitiesFor, authorize, authorizeView, canSeeQueue, canViewCase, type ExpertFacts } from "./policy";
 import { caseHistory, expertProfileOf, getCaseRow, queueState, type CaseRow } from "./records";
 import { OPEN_FOR_EXPERT, openCaseCounts } from "./routing";
 

@@ -22,7 +22,7 @@ import { authorized } from "./authorized";
 /** A checkout still being prepared after this long was interrupted; a new submit replaces it. */
 const PREPARING_MS = 2 * 60_000;
 
-async function submitInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string, tierId: string, now: Date): Promise<PaymentRow> {
+async function submitInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string, tierId: string, now: Date): Promise<{ p: PaymentRow; label: string }> {
   const { c } = await authorized(tx, actor, "submit", caseId);
   const ready = readinessOfRow(c);
   if (!ready.complete) {
@@ -82,13 +82,13 @@ async function submitInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string, 
   }
   await updateQueueState(tx, caseId, now, { paymentId: row.id, lastPaymentError: null });
   fx.push({ kind: "announce", caseId });
-  return row;
+  return { p: row, label: caseLabel(c) };
 }
 
 /** POST /api/cases/:id/submit */
 export async function submitCase(ctx: AppContext, actor: Actor, caseId: string, tierId: string): Promise<CheckoutView> {
-  const { result: p } = await perform(ctx, (tx, fx) => submitInUnit(tx, fx, actor, caseId, tierId, ctx.now()));
-  const c = (await ctx.db.read(async (tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get()))!;
-  const { checkoutUrl } = await openCheckout(ctx, p, `${p.tierLabel} second opinion — ${caseLabel(c)}`);
+  const { result } = await perform(ctx, (tx, fx) => submitInUnit(tx, fx, actor, caseId, tierId, ctx.now()));
+  const { p, label } = result;
+  const { checkoutUrl } = await openCheckout(ctx, p, `${p.tierLabel} second opinion — ${label}`);
   return { checkoutUrl, paymentId: p.id, tier: p.tier, amountCents: p.amountCents, currency: p.currency, deadlineMinutes: p.deadlineMinutes } satisfies CheckoutView;
 }
