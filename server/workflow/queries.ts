@@ -16,7 +16,7 @@ import type { AnswerView, ConfirmationView, QueueItem, QueueView } from "../../s
 import type { CasePaymentView, CaseStateView, HistoryView, WorkflowAbilities, WorkflowAbility, WorkflowView } from "../../shared/views/workflow";
 import type { CaseStatus } from "../../shared/domain/case-status";
 import { abilitiesFor, authorize, authorizeView, canSeeQueue, canViewCase, type ExpertFacts } from "./policy";
-import { caseHistory, expertProfileOf, getCaseRow, queueState, type CaseRow } from "./records";
+import { caseHistory, expertProfileOf, getCaseRow, type CaseRow } from "./records";
 import { OPEN_FOR_EXPERT, openCaseCounts } from "./routing";
 
 const { caseTable, caseOffer, caseAnswer, caseConfirmation } = schema;
@@ -183,7 +183,7 @@ export async function answersView(ctx: AppContext, actor: Actor, caseId: string)
 export async function workflowView(ctx: AppContext, actor: Actor, caseId: string): Promise<WorkflowView> {
   return ctx.db.read(async (tx) => {
     const { c, profile } = await viewable(tx, actor, caseId);
-    const qs = await queueState(tx, c.id, ctx.now());
+    const qs = (await tx.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, c.id)).get()) ?? null;
     const p = await currentPayment(tx, c.id);
     const expert = c.expertId ? ((await tx.select({ id: schema.user.id, name: schema.user.name }).from(schema.user).where(eq(schema.user.id, c.expertId)).get()) ?? null) : null;
     const abilities = workflowAbilities(actor, profile, c);
@@ -194,9 +194,9 @@ export async function workflowView(ctx: AppContext, actor: Actor, caseId: string
       priceCents: c.priceCents,
       expert,
       payment: p && abilities.viewPayment ? presentPayment(p) : null,
-      paymentMessage: abilities.viewPayment ? qs.lastPaymentError : null,
-      needsDataMessage: c.status === "needs_data" ? qs.needsDataMessage : null,
-      notFixedCount: qs.notFixedCount,
+      paymentMessage: abilities.viewPayment ? (qs?.lastPaymentError ?? null) : null,
+      needsDataMessage: c.status === "needs_data" ? (qs?.needsDataMessage ?? null) : null,
+      notFixedCount: qs?.notFixedCount ?? 0,
       ...(canAnswers ? await answersOf(tx, c.id) : { answers: [], confirmations: [] }),
       pricing: abilities.submit ? await publicPricing(tx) : null,
       abilities,

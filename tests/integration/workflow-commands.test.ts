@@ -99,6 +99,19 @@ describe("more data, asked again", () => {
   });
 });
 
+describe("the workflow panel of a draft", () => {
+  it("answers the shop with the price list and the submit ability (the read changes nothing)", async () => {
+    const t = await createShopTeam(server, { technicians: 1 });
+    const tech = await signIn(server, t.technicians[0]);
+    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const w = await tech.get(`/api/cases/${caseId}/workflow`);
+    expect(w.status, JSON.stringify(w.body)).toBe(200);
+    expect(w.body).toMatchObject({ status: "draft", payment: null, notFixedCount: 0, abilities: { submit: true, withdraw: true, claim: false } });
+    expect(w.body.pricing.tiers.map((x: { id: string }) => x.id)).toEqual(["standard", "priority"]);
+    expect(server.ctx.db.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, caseId)).all()).toEqual([]);
+  });
+});
+
 describe("one rule for availability and for the history", () => {
   it("only approved experts set availability, by either address", async () => {
     const pending = await signIn(server, await createExpert(server, { status: "pending" }));
