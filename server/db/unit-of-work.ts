@@ -52,7 +52,9 @@ export function embeddedUnitOfWork(sqlite: Database.Database, txDb: BetterSQLite
 
   function serialized<T>(fn: () => Promise<T>): Promise<T> {
     if (openUnit.getStore()) {
-      return Promise.reject(new UnitOfWorkError("A unit of work was opened inside another one; pass its tx down instead."));
+      return Promise.reject(
+        new UnitOfWorkError("A unit of work was opened inside another one; pass its tx down instead."),
+      );
     }
     const run = tail.then(() => openUnit.run(true, fn));
     tail = run.catch(() => undefined);
@@ -79,7 +81,8 @@ export function embeddedUnitOfWork(sqlite: Database.Database, txDb: BetterSQLite
       }) as unknown as Tx;
       try {
         const out = await body(tx);
-        if (spanned) throw new UnitOfWorkError("A unit of work awaited something other than the database; it was rolled back.");
+        if (spanned)
+          throw new UnitOfWorkError("A unit of work awaited something other than the database; it was rolled back.");
         sqlite.exec("COMMIT");
         return out;
       } catch (err) {
@@ -109,7 +112,10 @@ export function insideUnit(): boolean {
  * process has to be serialized: the driver holds a connection per transaction.
  */
 export function asyncUnitOfWork(db: {
-  transaction<T>(fn: (tx: never) => Promise<T>, config?: { behavior?: "deferred" | "immediate" | "exclusive" }): Promise<T>;
+  transaction<T>(
+    fn: (tx: never) => Promise<T>,
+    config?: { behavior?: "deferred" | "immediate" | "exclusive" },
+  ): Promise<T>;
 }): UnitOfWork {
   return {
     write: (body) => db.transaction((tx) => body(tx as unknown as Tx), { behavior: "immediate" }),

@@ -17,7 +17,8 @@ export const nonJsonBodies: readonly BodyTypeRule[] = [
 ];
 
 const hasBody = (headers: Record<string, string | string[] | undefined>) =>
-  headers["transfer-encoding"] !== undefined || (headers["content-length"] !== undefined && headers["content-length"] !== "0");
+  headers["transfer-encoding"] !== undefined ||
+  (headers["content-length"] !== undefined && headers["content-length"] !== "0");
 
 /**
  * 415 `unsupported_type` for a request whose body is not the type its route takes: JSON everywhere
@@ -27,11 +28,14 @@ const hasBody = (headers: Record<string, string | string[] | undefined>) =>
  */
 export function requireBodyType(rules: readonly BodyTypeRule[] = nonJsonBodies): RequestHandler {
   return (req, _res, next) => {
-    if (req.method === "GET" || req.method === "HEAD" || req.method === "OPTIONS" || !hasBody(req.headers)) return next();
+    if (req.method === "GET" || req.method === "HEAD" || req.method === "OPTIONS" || !hasBody(req.headers))
+      return next();
     const rule = rules.find((r) => r.method === req.method && r.path.test(req.path));
     const types = rule ? rule.types : ["application/json"];
     if (req.is([...types])) return next();
-    const said = req.headers["content-type"] ? `"${String(req.headers["content-type"]).split(";")[0]}"` : "a body without a type";
+    const said = req.headers["content-type"]
+      ? `"${String(req.headers["content-type"]).split(";")[0]}"`
+      : "a body without a type";
     next(unsupported(`This address takes ${types[0]}; the request sent ${said}.`));
   };
 }

@@ -6,14 +6,25 @@
  */
 import type { AppContext } from "../context";
 import type { PaymentReactor } from "./reconcile";
-import { cancelIntent, captureIntent, expireCheckoutSession, refundIntent, syncPayment, type CancelReason } from "./stripe-calls";
+import {
+  cancelIntent,
+  captureIntent,
+  expireCheckoutSession,
+  refundIntent,
+  syncPayment,
+  type CancelReason,
+} from "./stripe-calls";
 import { movePayment, OPEN_CHECKOUT, type PaymentRow } from "./store";
 
 /**
  * Captures a held payment. Never at or after the hold's capture_before: the hold is released
  * instead and nothing is charged. Returns whether the money was captured.
  */
-export async function captureHold(ctx: AppContext, p: PaymentRow, react: PaymentReactor): Promise<{ captured: boolean; status: string }> {
+export async function captureHold(
+  ctx: AppContext,
+  p: PaymentRow,
+  react: PaymentReactor,
+): Promise<{ captured: boolean; status: string }> {
   if (p.status !== "authorized" || !p.paymentIntentId) return { captured: false, status: p.status };
   if (p.captureBefore && ctx.now().getTime() >= p.captureBefore.getTime()) {
     ctx.logger.warn({ caseId: p.caseId, paymentId: p.id }, "hold ended before capture; releasing instead");
@@ -26,7 +37,12 @@ export async function captureHold(ctx: AppContext, p: PaymentRow, react: Payment
 }
 
 /** Cancels a hold (withdrawn, deadline missed, superseded). A payment not held is left alone. */
-export async function releaseHold(ctx: AppContext, p: PaymentRow, reason: CancelReason, react: PaymentReactor): Promise<PaymentRow | undefined> {
+export async function releaseHold(
+  ctx: AppContext,
+  p: PaymentRow,
+  reason: CancelReason,
+  react: PaymentReactor,
+): Promise<PaymentRow | undefined> {
   if (p.status !== "authorized" || !p.paymentIntentId) return p;
   const pi = await cancelIntent(ctx, p, reason);
   return syncPayment(ctx, p.id, react, pi);
@@ -48,13 +64,23 @@ export type MoneyBack =
  * that was captured while we were deciding (the answer's capture racing us) is refunded; a capture
  * is refunded. Returns what was done, read back from the payment service, or why nothing was.
  */
-export async function giveMoneyBack(ctx: AppContext, p: PaymentRow, reason: CancelReason, react: PaymentReactor, note?: string): Promise<MoneyBack> {
+export async function giveMoneyBack(
+  ctx: AppContext,
+  p: PaymentRow,
+  reason: CancelReason,
+  react: PaymentReactor,
+  note?: string,
+): Promise<MoneyBack> {
   if ((OPEN_CHECKOUT as readonly string[]).includes(p.status)) {
     await abandonCheckout(ctx, p, reason);
     return { outcome: "expired", payment: { ...p, status: "expired" } };
   }
   if (!p.paymentIntentId || (p.status !== "authorized" && p.status !== "captured")) {
-    return { outcome: "nothing", payment: p, why: `The payment is ${p.status}; there is no held or captured money to give back.` };
+    return {
+      outcome: "nothing",
+      payment: p,
+      why: `The payment is ${p.status}; there is no held or captured money to give back.`,
+    };
   }
   let pi = p.status === "authorized" ? await cancelIntent(ctx, p, reason) : null;
   if (!pi || pi.status === "succeeded") {

@@ -28,7 +28,12 @@ export async function ensureConnectedAccount(ctx: AppContext, expertId: string):
   if (!found.prof) throw notFound("Expert");
   if (found.prof.stripeAccountId) return found.prof.stripeAccountId;
   const acct = await ctx.stripe.accounts.create(
-    { type: "express", ...(found.user ? { email: found.user.email } : {}), capabilities: { transfers: { requested: true } }, metadata: { userId: expertId } },
+    {
+      type: "express",
+      ...(found.user ? { email: found.user.email } : {}),
+      capabilities: { transfers: { requested: true } },
+      metadata: { userId: expertId },
+    },
     { idempotencyKey: `account:${expertId}` },
   );
   return ctx.db.write(async (tx) => {
@@ -37,7 +42,11 @@ export async function ensureConnectedAccount(ctx: AppContext, expertId: string):
       .set({ stripeAccountId: acct.id })
       .where(and(eq(expertProfile.userId, expertId), isNull(expertProfile.stripeAccountId)))
       .run();
-    return (await tx.select({ id: expertProfile.stripeAccountId }).from(expertProfile).where(eq(expertProfile.userId, expertId)).get())!.id!;
+    return (await tx
+      .select({ id: expertProfile.stripeAccountId })
+      .from(expertProfile)
+      .where(eq(expertProfile.userId, expertId))
+      .get())!.id!;
   });
 }
 
@@ -57,7 +66,11 @@ export async function unpaidCents(tx: Tx, expertId: string): Promise<number> {
 }
 
 /** Pay one expert everything unpaid. Returns the payout, or null when nothing is owed. */
-export async function payoutExpert(ctx: AppContext, expertId: string, actorId: string | null): Promise<PayoutRow | null> {
+export async function payoutExpert(
+  ctx: AppContext,
+  expertId: string,
+  actorId: string | null,
+): Promise<PayoutRow | null> {
   // Reserve the amount first: a pending row counts as paid for any concurrent run.
   const pending = await ctx.db.write(async (tx) => {
     const currency = (await getPricing(tx)).currency;
@@ -87,19 +100,44 @@ async function sendPayout(ctx: AppContext, p: PayoutRow): Promise<PayoutRow> {
   try {
     const account = await ensureConnectedAccount(ctx, p.expertId);
     const tr = await ctx.stripe.transfers.create(
-      { amount: p.amountCents, currency: p.currency, destination: account, description: "Burnline expert earnings", metadata: { payoutId: p.id, expertId: p.expertId } },
+      {
+        amount: p.amountCents,
+        currency: p.currency,
+        destination: account,
+        description: "Burnline expert earnings",
+        metadata: { payoutId: p.id, expertId: p.expertId },
+      },
       { idempotencyKey: `payout:${p.id}` },
     );
     const now = ctx.now();
     await ctx.db.write(async (tx) => {
-      await tx.update(payout).set({ status: "paid", stripeAccountId: account, stripeTransferId: tr.id, paidAt: now, failureMessage: null }).where(eq(payout.id, p.id)).run();
-      await recordLedger(tx, { key: `payout:${p.id}`, kind: "payout", amountCents: p.amountCents, currency: p.currency, expertId: p.expertId, payoutId: p.id, stripeId: tr.id, at: now });
+      await tx
+        .update(payout)
+        .set({ status: "paid", stripeAccountId: account, stripeTransferId: tr.id, paidAt: now, failureMessage: null })
+        .where(eq(payout.id, p.id))
+        .run();
+      await recordLedger(tx, {
+        key: `payout:${p.id}`,
+        kind: "payout",
+        amountCents: p.amountCents,
+        currency: p.currency,
+        expertId: p.expertId,
+        payoutId: p.id,
+        stripeId: tr.id,
+        at: now,
+      });
     });
     await notify(ctx, [p.expertId], notices.payoutSent(p.amountCents, p.currency, tr.id));
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);
     ctx.logger.error({ err, payoutId: p.id }, "payout failed");
-    await ctx.db.write(async (tx) => tx.update(payout).set({ status: "failed", failureMessage: message.slice(0, 500) }).where(eq(payout.id, p.id)).run());
+    await ctx.db.write(async (tx) =>
+      tx
+        .update(payout)
+        .set({ status: "failed", failureMessage: message.slice(0, 500) })
+        .where(eq(payout.id, p.id))
+        .run(),
+    );
   }
   return (await ctx.db.read(async (tx) => tx.select().from(payout).where(eq(payout.id, p.id)).get()))!;
 }
@@ -116,10 +154,18 @@ export async function runPayouts(ctx: AppContext, actorId: string | null, onlyEx
     ),
     experts: onlyExpertId
       ? [onlyExpertId]
-      : (await tx.selectDistinct({ id: ledgerEntry.expertId }).from(ledgerEntry).where(eq(ledgerEntry.kind, "expert_earning")).all())
+      : (
+          await tx
+            .selectDistinct({ id: ledgerEntry.expertId })
+            .from(ledgerEntry)
+            .where(eq(ledgerEntry.kind, "expert_earning"))
+            .all()
+        )
           .map((r) => r.id)
           .filter((x): x is string => !!x),
-    known: onlyExpertId ? !!(await tx.select().from(expertProfile).where(eq(expertProfile.userId, onlyExpertId)).get()) : true,
+    known: onlyExpertId
+      ? !!(await tx.select().from(expertProfile).where(eq(expertProfile.userId, onlyExpertId)).get())
+      : true,
   }));
   for (const p of stuck) out.push(await sendPayout(ctx, p));
   if (!known) throw notFound("Expert");
@@ -149,7 +195,12 @@ export async function getEarnings(ctx: AppContext, expertId: string): Promise<Ea
     const earnings = await tx
       .select()
       .from(ledgerEntry)
-      .where(and(eq(ledgerEntry.expertId, expertId), inArray(ledgerEntry.kind, ["expert_earning", "expert_earning_reversal"])))
+      .where(
+        and(
+          eq(ledgerEntry.expertId, expertId),
+          inArray(ledgerEntry.kind, ["expert_earning", "expert_earning_reversal"]),
+        ),
+      )
       .all();
     const paymentIds = [...new Set(earnings.map((e) => e.paymentId).filter((x): x is string => !!x))];
     const pays = paymentIds.length
@@ -177,12 +228,20 @@ export async function getEarnings(ctx: AppContext, expertId: string): Promise<Ea
         };
       })
       .sort((a, b) => b.capturedAt.localeCompare(a.capturedAt));
-    const payouts = (await tx.select().from(payout).where(eq(payout.expertId, expertId)).orderBy(desc(payout.createdAt)).all()).map(presentPayout);
+    const payouts = (
+      await tx.select().from(payout).where(eq(payout.expertId, expertId)).orderBy(desc(payout.createdAt)).all()
+    ).map(presentPayout);
     const pendingPayoutCents = payouts.filter((p) => p.status === "pending").reduce((s, p) => s + p.amountCents, 0);
     const unpaid = t.earnedCents - t.reversedCents - t.paidCents - pendingPayoutCents;
     return {
       currency,
-      totals: { earnedCents: t.earnedCents, reversedCents: t.reversedCents, paidCents: t.paidCents, pendingPayoutCents, unpaidCents: unpaid },
+      totals: {
+        earnedCents: t.earnedCents,
+        reversedCents: t.reversedCents,
+        paidCents: t.paidCents,
+        pendingPayoutCents,
+        unpaidCents: unpaid,
+      },
       cases,
       payouts,
     } satisfies EarningsView;
@@ -190,7 +249,9 @@ export async function getEarnings(ctx: AppContext, expertId: string): Promise<Ea
 }
 
 /** Admin overview: each expert's unpaid amount. */
-export async function payoutOverview(ctx: AppContext): Promise<{ expertId: string; name: string; unpaidCents: number; paidCents: number }[]> {
+export async function payoutOverview(
+  ctx: AppContext,
+): Promise<{ expertId: string; name: string; unpaidCents: number; paidCents: number }[]> {
   return ctx.db.read(async (tx) => {
     const experts = await tx
       .select({ id: schema.user.id, name: schema.user.name })
@@ -199,7 +260,12 @@ export async function payoutOverview(ctx: AppContext): Promise<{ expertId: strin
       .all();
     const out = [];
     for (const e of experts) {
-      const row = { expertId: e.id, name: e.name, unpaidCents: await unpaidCents(tx, e.id), paidCents: (await expertTotals(tx, e.id)).paidCents };
+      const row = {
+        expertId: e.id,
+        name: e.name,
+        unpaidCents: await unpaidCents(tx, e.id),
+        paidCents: (await expertTotals(tx, e.id)).paidCents,
+      };
       if (row.unpaidCents !== 0 || row.paidCents !== 0) out.push(row);
     }
     return out;

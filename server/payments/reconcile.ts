@@ -49,7 +49,13 @@ export function paymentErrorMessage(err: Stripe.PaymentIntent.LastPaymentError |
 }
 
 /** Moves `p0` forward to match `pi` (fetched from Stripe just now) and returns what happened. */
-export async function reconcileInTx(tx: Tx, p0: PaymentRow, pi: Stripe.PaymentIntent, now: Date, log: Logger): Promise<PaymentFact[]> {
+export async function reconcileInTx(
+  tx: Tx,
+  p0: PaymentRow,
+  pi: Stripe.PaymentIntent,
+  now: Date,
+  log: Logger,
+): Promise<PaymentFact[]> {
   const facts: PaymentFact[] = [];
   let p = (await getPayment(tx, p0.id))!;
   if (!p.paymentIntentId) {
@@ -58,7 +64,11 @@ export async function reconcileInTx(tx: Tx, p0: PaymentRow, pi: Stripe.PaymentIn
   }
   const charge = chargeOf(pi);
 
-  if (pi.status === "requires_payment_method" || pi.status === "requires_confirmation" || pi.status === "requires_action") {
+  if (
+    pi.status === "requires_payment_method" ||
+    pi.status === "requires_confirmation" ||
+    pi.status === "requires_action"
+  ) {
     await failed(tx, p, pi, now, facts);
     return facts;
   }
@@ -71,7 +81,8 @@ export async function reconcileInTx(tx: Tx, p0: PaymentRow, pi: Stripe.PaymentIn
   if (pi.status === "canceled") {
     if (p.status === "authorized") await released(tx, p, pi, now, facts);
     else if (rank(p.status) < 2 && p.status !== "expired") {
-      if (await movePayment(tx, p.id, ["creating", "pending", "failed"], { status: "expired", updatedAt: now })) facts.push({ kind: "expired", payment: p });
+      if (await movePayment(tx, p.id, ["creating", "pending", "failed"], { status: "expired", updatedAt: now }))
+        facts.push({ kind: "expired", payment: p });
     }
     return facts;
   }
@@ -87,8 +98,17 @@ async function failed(tx: Tx, p: PaymentRow, pi: Stripe.PaymentIntent, now: Date
   const message = paymentErrorMessage(pi.last_payment_error);
   const code = pi.last_payment_error.decline_code ?? pi.last_payment_error.code ?? "card_declined";
   if (p.status === "failed" && p.failureMessage === message) return;
-  await tx.update(payment).set({ status: "failed", failureCode: code, failureMessage: message, updatedAt: now }).where(eq(payment.id, p.id)).run();
-  facts.push({ kind: "failed", payment: { ...p, status: "failed", failureCode: code, failureMessage: message }, code, message });
+  await tx
+    .update(payment)
+    .set({ status: "failed", failureCode: code, failureMessage: message, updatedAt: now })
+    .where(eq(payment.id, p.id))
+    .run();
+  facts.push({
+    kind: "failed",
+    payment: { ...p, status: "failed", failureCode: code, failureMessage: message },
+    code,
+    message,
+  });
 }
 
 async function authorized(
@@ -100,7 +120,11 @@ async function authorized(
   facts: PaymentFact[],
   log: Logger,
 ): Promise<void> {
-  if (pi.amount !== p.amountCents) log.warn({ paymentId: p.id, pi: pi.id, amount: pi.amount, expected: p.amountCents }, "authorised amount differs from the price");
+  if (pi.amount !== p.amountCents)
+    log.warn(
+      { paymentId: p.id, pi: pi.id, amount: pi.amount, expected: p.amountCents },
+      "authorised amount differs from the price",
+    );
   const card = charge?.payment_method_details?.card;
   const set = {
     status: "authorized" as const,
@@ -120,26 +144,79 @@ async function authorized(
   facts.push({ kind: "authorized", payment: { ...p, ...set } });
 }
 
-async function captured(tx: Tx, p: PaymentRow, amount: number, piId: string, now: Date, facts: PaymentFact[]): Promise<void> {
-  const c = await tx.select({ expertId: schema.caseTable.expertId }).from(schema.caseTable).where(eq(schema.caseTable.id, p.caseId)).get();
+async function captured(
+  tx: Tx,
+  p: PaymentRow,
+  amount: number,
+  piId: string,
+  now: Date,
+  facts: PaymentFact[],
+): Promise<void> {
+  const c = await tx
+    .select({ expertId: schema.caseTable.expertId })
+    .from(schema.caseTable)
+    .where(eq(schema.caseTable.id, p.caseId))
+    .get();
   const total = amount > 0 ? amount : p.amountCents;
   const { deskCents, expertCents } = splitCents(total, p.deskShareBasisPoints);
-  await tx.update(payment).set({ status: "captured", capturedAt: now, updatedAt: now }).where(eq(payment.id, p.id)).run();
+  await tx
+    .update(payment)
+    .set({ status: "captured", capturedAt: now, updatedAt: now })
+    .where(eq(payment.id, p.id))
+    .run();
   const base = { currency: p.currency, caseId: p.caseId, paymentId: p.id, stripeId: piId, at: now };
   await recordLedger(tx, { ...base, key: `capture:${p.id}`, kind: "capture", amountCents: total });
   if (total < p.amountCents) {
-    await recordLedger(tx, { ...base, key: `release:${p.id}`, kind: "release", amountCents: p.amountCents - total, note: "uncaptured remainder" });
+    await recordLedger(tx, {
+      ...base,
+      key: `release:${p.id}`,
+      kind: "release",
+      amountCents: p.amountCents - total,
+      note: "uncaptured remainder",
+    });
   }
   await recordLedger(tx, { ...base, key: `desk_share:${p.id}`, kind: "desk_share", amountCents: deskCents });
-  await recordLedger(tx, { ...base, key: `expert_earning:${p.id}`, kind: "expert_earning", amountCents: expertCents, expertId: c?.expertId ?? null });
-  facts.push({ kind: "captured", payment: { ...p, status: "captured", capturedAt: now }, amountCents: total, deskCents, expertCents });
+  await recordLedger(tx, {
+    ...base,
+    key: `expert_earning:${p.id}`,
+    kind: "expert_earning",
+    amountCents: expertCents,
+    expertId: c?.expertId ?? null,
+  });
+  facts.push({
+    kind: "captured",
+    payment: { ...p, status: "captured", capturedAt: now },
+    amountCents: total,
+    deskCents,
+    expertCents,
+  });
 }
 
-async function released(tx: Tx, p: PaymentRow, pi: Stripe.PaymentIntent, now: Date, facts: PaymentFact[]): Promise<void> {
-  await tx.update(payment).set({ status: "released", releasedAt: now, updatedAt: now }).where(eq(payment.id, p.id)).run();
+async function released(
+  tx: Tx,
+  p: PaymentRow,
+  pi: Stripe.PaymentIntent,
+  now: Date,
+  facts: PaymentFact[],
+): Promise<void> {
+  await tx
+    .update(payment)
+    .set({ status: "released", releasedAt: now, updatedAt: now })
+    .where(eq(payment.id, p.id))
+    .run();
   const base = { currency: p.currency, caseId: p.caseId, paymentId: p.id, stripeId: pi.id, at: now };
-  await recordLedger(tx, { ...base, key: `release:${p.id}`, kind: "release", amountCents: p.amountCents, note: pi.cancellation_reason ?? null });
-  facts.push({ kind: "released", payment: { ...p, status: "released", releasedAt: now }, reason: pi.cancellation_reason ?? null });
+  await recordLedger(tx, {
+    ...base,
+    key: `release:${p.id}`,
+    kind: "release",
+    amountCents: p.amountCents,
+    note: pi.cancellation_reason ?? null,
+  });
+  facts.push({
+    kind: "released",
+    payment: { ...p, status: "released", releasedAt: now },
+    reason: pi.cancellation_reason ?? null,
+  });
 }
 
 async function ledgerSum(tx: Tx, paymentId: string, kind: "refund" | "capture"): Promise<number> {
@@ -155,13 +232,22 @@ async function refunded(tx: Tx, p: PaymentRow, charge: Stripe.Charge, now: Date,
   const already = await ledgerSum(tx, p.id, "refund");
   const delta = charge.amount_refunded - already;
   if (delta <= 0) return;
-  const c = await tx.select({ expertId: schema.caseTable.expertId }).from(schema.caseTable).where(eq(schema.caseTable.id, p.caseId)).get();
+  const c = await tx
+    .select({ expertId: schema.caseTable.expertId })
+    .from(schema.caseTable)
+    .where(eq(schema.caseTable.id, p.caseId))
+    .get();
   // cumulative, so partial refunds reverse exactly the shares taken at capture, to the cent
   const { deskCents, expertCents } = splitBetween(already, charge.amount_refunded, p.deskShareBasisPoints);
   const base = { currency: p.currency, caseId: p.caseId, paymentId: p.id, stripeId: charge.id, at: now };
   const upto = charge.amount_refunded;
   await recordLedger(tx, { ...base, key: `refund:${p.id}:${upto}`, kind: "refund", amountCents: delta });
-  await recordLedger(tx, { ...base, key: `desk_share_reversal:${p.id}:${upto}`, kind: "desk_share_reversal", amountCents: deskCents });
+  await recordLedger(tx, {
+    ...base,
+    key: `desk_share_reversal:${p.id}:${upto}`,
+    kind: "desk_share_reversal",
+    amountCents: deskCents,
+  });
   await recordLedger(tx, {
     ...base,
     key: `expert_earning_reversal:${p.id}:${upto}`,
@@ -170,7 +256,11 @@ async function refunded(tx: Tx, p: PaymentRow, charge: Stripe.Charge, now: Date,
     expertId: c?.expertId ?? null,
   });
   if (upto >= (await ledgerSum(tx, p.id, "capture"))) {
-    await tx.update(payment).set({ status: "refunded", refundedAt: now, updatedAt: now }).where(eq(payment.id, p.id)).run();
+    await tx
+      .update(payment)
+      .set({ status: "refunded", refundedAt: now, updatedAt: now })
+      .where(eq(payment.id, p.id))
+      .run();
   }
   facts.push({ kind: "refunded", payment: p, amountCents: delta });
 }

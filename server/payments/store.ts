@@ -34,7 +34,11 @@ export async function getPayment(tx: Tx, id: string): Promise<PaymentRow | undef
 
 /** The payment attempt that counts for a case (the latest submit). */
 export async function currentPayment(tx: Tx, caseId: string): Promise<PaymentRow | undefined> {
-  const qs = await tx.select({ paymentId: caseQueueState.paymentId }).from(caseQueueState).where(eq(caseQueueState.caseId, caseId)).get();
+  const qs = await tx
+    .select({ paymentId: caseQueueState.paymentId })
+    .from(caseQueueState)
+    .where(eq(caseQueueState.caseId, caseId))
+    .get();
   return qs?.paymentId ? getPayment(tx, qs.paymentId) : undefined;
 }
 

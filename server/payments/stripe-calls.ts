@@ -23,12 +23,19 @@ export async function fetchIntent(ctx: AppContext, id: string): Promise<Stripe.P
 
 /** A "no such object" answer of the payment service (an id that is not, or no longer, there). */
 export function isMissingObject(err: unknown): boolean {
-  return err instanceof Stripe.errors.StripeInvalidRequestError && (err.code === "resource_missing" || err.statusCode === 404);
+  return (
+    err instanceof Stripe.errors.StripeInvalidRequestError &&
+    (err.code === "resource_missing" || err.statusCode === 404)
+  );
 }
 
 /** The payment service could not be reached or failed on its side (worth retrying later). */
 export function isUnreachable(err: unknown): boolean {
-  return err instanceof Stripe.errors.StripeConnectionError || err instanceof Stripe.errors.StripeAPIError || (err as { statusCode?: number })?.statusCode! >= 500;
+  return (
+    err instanceof Stripe.errors.StripeConnectionError ||
+    err instanceof Stripe.errors.StripeAPIError ||
+    (err as { statusCode?: number })?.statusCode! >= 500
+  );
 }
 
 /** The intent behind an attempt (from its checkout session when we have not seen the intent yet). */
@@ -43,7 +50,12 @@ async function intentIdOf(ctx: AppContext, p: PaymentRow): Promise<string | null
  * Brings one payment up to date with the payment service (using `pi` when the caller has just got
  * it) and lets `react` apply the facts to the case in the same unit. Returns the payment after.
  */
-export async function syncPayment(ctx: AppContext, paymentId: string, react: PaymentReactor, pi?: Stripe.PaymentIntent): Promise<PaymentRow | undefined> {
+export async function syncPayment(
+  ctx: AppContext,
+  paymentId: string,
+  react: PaymentReactor,
+  pi?: Stripe.PaymentIntent,
+): Promise<PaymentRow | undefined> {
   const p = await ctx.db.read(async (tx) => getPayment(tx, paymentId));
   if (!p) return undefined;
   const intentId = pi?.id ?? (await intentIdOf(ctx, p));
@@ -76,7 +88,11 @@ export async function ensureShopCustomer(ctx: AppContext, shopId: string): Promi
     { idempotencyKey: `customer:${shopId}` },
   );
   return ctx.db.write(async (tx) => {
-    await tx.update(shop).set({ stripeCustomerId: customer.id }).where(and(eq(shop.id, shopId), isNull(shop.stripeCustomerId))).run();
+    await tx
+      .update(shop)
+      .set({ stripeCustomerId: customer.id })
+      .where(and(eq(shop.id, shopId), isNull(shop.stripeCustomerId)))
+      .run();
     return (await tx.select({ id: shop.stripeCustomerId }).from(shop).where(eq(shop.id, shopId)).get())!.id!;
   });
 }
@@ -100,7 +116,11 @@ export async function createCheckoutSession(ctx: AppContext, r: CheckoutRequest)
       line_items: [
         {
           quantity: 1,
-          price_data: { currency: p.currency, unit_amount: p.amountCents, product_data: { name: r.productName.slice(0, 250) } },
+          price_data: {
+            currency: p.currency,
+            unit_amount: p.amountCents,
+            product_data: { name: r.productName.slice(0, 250) },
+          },
         },
       ],
       payment_intent_data: {
@@ -121,7 +141,12 @@ export async function expireCheckoutSession(ctx: AppContext, p: PaymentRow, why:
   if (!p.checkoutSessionId) return;
   try {
     const s = await ctx.stripe.checkout.sessions.retrieve(p.checkoutSessionId);
-    if (s.status === "open") await ctx.stripe.checkout.sessions.expire(p.checkoutSessionId, {}, { idempotencyKey: `expire:${p.checkoutSessionId}` });
+    if (s.status === "open")
+      await ctx.stripe.checkout.sessions.expire(
+        p.checkoutSessionId,
+        {},
+        { idempotencyKey: `expire:${p.checkoutSessionId}` },
+      );
   } catch (err) {
     ctx.logger.warn({ err, paymentId: p.id, why }, "could not expire a checkout session");
   }
@@ -130,7 +155,11 @@ export async function expireCheckoutSession(ctx: AppContext, p: PaymentRow, why:
 /** Captures a held payment (never at or after its capture_before: then nothing is called). */
 export async function captureIntent(ctx: AppContext, p: PaymentRow): Promise<Stripe.PaymentIntent> {
   try {
-    return await ctx.stripe.paymentIntents.capture(p.paymentIntentId!, { expand: ["latest_charge"] }, { idempotencyKey: `capture:${p.id}` });
+    return await ctx.stripe.paymentIntents.capture(
+      p.paymentIntentId!,
+      { expand: ["latest_charge"] },
+      { idempotencyKey: `capture:${p.id}` },
+    );
   } catch (err) {
     ctx.logger.warn({ err, paymentId: p.id }, "capture refused; reading the intent as it is");
     return fetchIntent(ctx, p.paymentIntentId!);
@@ -140,7 +169,11 @@ export async function captureIntent(ctx: AppContext, p: PaymentRow): Promise<Str
 export type CancelReason = "abandoned" | "duplicate" | "requested_by_customer";
 
 /** Cancels a hold; when the payment service refuses, the intent as it now is. */
-export async function cancelIntent(ctx: AppContext, p: PaymentRow, reason: CancelReason): Promise<Stripe.PaymentIntent> {
+export async function cancelIntent(
+  ctx: AppContext,
+  p: PaymentRow,
+  reason: CancelReason,
+): Promise<Stripe.PaymentIntent> {
   try {
     return await ctx.stripe.paymentIntents.cancel(
       p.paymentIntentId!,
@@ -156,9 +189,12 @@ export async function cancelIntent(ctx: AppContext, p: PaymentRow, reason: Cance
 /** Refunds a captured payment in full; then the intent as it now is. */
 export async function refundIntent(ctx: AppContext, p: PaymentRow, note?: string): Promise<Stripe.PaymentIntent> {
   await ctx.stripe.refunds.create(
-    { payment_intent: p.paymentIntentId!, reason: "requested_by_customer", metadata: { paymentId: p.id, caseId: p.caseId, ...(note ? { note: note.slice(0, 400) } : {}) } },
+    {
+      payment_intent: p.paymentIntentId!,
+      reason: "requested_by_customer",
+      metadata: { paymentId: p.id, caseId: p.caseId, ...(note ? { note: note.slice(0, 400) } : {}) },
+    },
     { idempotencyKey: `refund:${p.id}` },
   );
   return fetchIntent(ctx, p.paymentIntentId!);
 }
-

@@ -11,7 +11,6 @@ import { getPayment, presentPayment, receiptNumber } from "./store";
 
 const { payment } = schema;
 
-
 /** The owner's billing page: every payment attempt that reached the payment service, newest first. */
 export async function shopBilling(ctx: AppContext, shopId: string): Promise<BillingView> {
   const rows = await ctx.db.read(async (tx) =>
@@ -19,7 +18,12 @@ export async function shopBilling(ctx: AppContext, shopId: string): Promise<Bill
       .select({ p: payment, c: schema.caseTable })
       .from(payment)
       .innerJoin(schema.caseTable, eq(schema.caseTable.id, payment.caseId))
-      .where(and(eq(payment.shopId, shopId), inArray(payment.status, ["authorized", "captured", "released", "refunded", "failed"])))
+      .where(
+        and(
+          eq(payment.shopId, shopId),
+          inArray(payment.status, ["authorized", "captured", "released", "refunded", "failed"]),
+        ),
+      )
       .orderBy(desc(payment.createdAt))
       .all(),
   );
@@ -34,7 +38,12 @@ export async function shopBilling(ctx: AppContext, shopId: string): Promise<Bill
   return {
     currency: rows[0]?.p.currency ?? "usd",
     totals: { chargedCents: charged, refundedCents: refunded, heldCents: held },
-    payments: rows.map(({ p, c }) => ({ ...presentPayment(p), caseId: c.id, caseLabel: caseLabel(c), createdAt: p.createdAt.toISOString() })),
+    payments: rows.map(({ p, c }) => ({
+      ...presentPayment(p),
+      caseId: c.id,
+      caseLabel: caseLabel(c),
+      createdAt: p.createdAt.toISOString(),
+    })),
   } satisfies BillingView;
 }
 

@@ -28,7 +28,14 @@ const INTENT_EVENTS = new Set([
   "payment_intent.processing",
   "payment_intent.requires_action",
 ]);
-const CHARGE_EVENTS = new Set(["charge.succeeded", "charge.failed", "charge.captured", "charge.expired", "charge.refunded", "charge.updated"]);
+const CHARGE_EVENTS = new Set([
+  "charge.succeeded",
+  "charge.failed",
+  "charge.captured",
+  "charge.expired",
+  "charge.refunded",
+  "charge.updated",
+]);
 const SESSION_EVENTS = new Set([
   "checkout.session.completed",
   "checkout.session.expired",
@@ -44,7 +51,11 @@ interface EventObject {
 }
 
 /** The references an event's object gives to a payment of ours. */
-function referencesOf(event: Stripe.Event): { sessionId: string | null; intentId: string | null; paymentId: string | null } {
+function referencesOf(event: Stripe.Event): {
+  sessionId: string | null;
+  intentId: string | null;
+  paymentId: string | null;
+} {
   const obj = event.data.object as unknown as EventObject;
   const linked = typeof obj.payment_intent === "string" ? obj.payment_intent : (obj.payment_intent?.id ?? null);
   return {
@@ -54,7 +65,8 @@ function referencesOf(event: Stripe.Event): { sessionId: string | null; intentId
   };
 }
 
-const isOurs = (event: Stripe.Event) => INTENT_EVENTS.has(event.type) || CHARGE_EVENTS.has(event.type) || SESSION_EVENTS.has(event.type);
+const isOurs = (event: Stripe.Event) =>
+  INTENT_EVENTS.has(event.type) || CHARGE_EVENTS.has(event.type) || SESSION_EVENTS.has(event.type);
 
 async function storeEvent(tx: Tx, event: Stripe.Event, outcome: EventOutcome, now: Date): Promise<boolean> {
   const obj = event.data.object as unknown as EventObject;
@@ -69,12 +81,18 @@ async function storeEvent(tx: Tx, event: Stripe.Event, outcome: EventOutcome, no
 
 async function ignore(ctx: AppContext, event: Stripe.Event, why: string): Promise<EventOutcome> {
   const stored = await ctx.db.write(async (tx) => storeEvent(tx, event, "ignored", ctx.now()));
-  if (stored) ctx.logger.info({ eventId: event.id, type: event.type, why }, "payment event ignored: it concerns nothing of ours");
+  if (stored)
+    ctx.logger.info({ eventId: event.id, type: event.type, why }, "payment event ignored: it concerns nothing of ours");
   return stored ? "ignored" : "duplicate";
 }
 
 /** The fresh PaymentIntent an event is about (null when the event's object has none, or it is gone). */
-async function freshIntent(ctx: AppContext, event: Stripe.Event, refs: ReturnType<typeof referencesOf>, p: PaymentRow): Promise<Stripe.PaymentIntent | null> {
+async function freshIntent(
+  ctx: AppContext,
+  event: Stripe.Event,
+  refs: ReturnType<typeof referencesOf>,
+  p: PaymentRow,
+): Promise<Stripe.PaymentIntent | null> {
   let intentId = refs.intentId ?? p.paymentIntentId;
   if (refs.sessionId) {
     const s = await ctx.stripe.checkout.sessions.retrieve(refs.sessionId);
@@ -84,12 +102,20 @@ async function freshIntent(ctx: AppContext, event: Stripe.Event, refs: ReturnTyp
 }
 
 /** Apply one verified Stripe event exactly once. Throws (→ 500, retried) when Stripe cannot be reached. */
-export async function applyStripeEvent(ctx: AppContext, event: Stripe.Event, react: PaymentReactor): Promise<EventOutcome> {
-  const seen = await ctx.db.read(async (tx) => tx.select({ id: schema.stripeEvent.id }).from(schema.stripeEvent).where(eq(schema.stripeEvent.id, event.id)).get());
+export async function applyStripeEvent(
+  ctx: AppContext,
+  event: Stripe.Event,
+  react: PaymentReactor,
+): Promise<EventOutcome> {
+  const seen = await ctx.db.read(async (tx) =>
+    tx.select({ id: schema.stripeEvent.id }).from(schema.stripeEvent).where(eq(schema.stripeEvent.id, event.id)).get(),
+  );
   if (seen) return "duplicate";
   if (!isOurs(event)) return ignore(ctx, event, "not a payment event");
   const refs = referencesOf(event);
-  const p = await ctx.db.read(async (tx) => findPayment(tx, { paymentIntentId: refs.intentId, sessionId: refs.sessionId, paymentId: refs.paymentId }));
+  const p = await ctx.db.read(async (tx) =>
+    findPayment(tx, { paymentIntentId: refs.intentId, sessionId: refs.sessionId, paymentId: refs.paymentId }),
+  );
   if (!p) return ignore(ctx, event, "no payment of ours has these references");
 
   let pi: Stripe.PaymentIntent | null;

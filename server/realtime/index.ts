@@ -62,7 +62,8 @@ function authenticateSockets(io: LiveServer, ctx: AppContext, auth: Auth, allowe
   io.use(async (socket, next) => {
     const fail = (code: string, message: string) => next(Object.assign(new Error(code), { data: { code, message } }));
     try {
-      if (!handshakeOriginAllowed(socket.request.headers, allowed)) return fail("origin_refused", "Connections from another site are refused.");
+      if (!handshakeOriginAllowed(socket.request.headers, allowed))
+        return fail("origin_refused", "Connections from another site are refused.");
       const sessionId = await sessionIdFromHandshake(socket.request.headers, auth);
       const actor = sessionId ? actorOfSession(ctx.db, sessionId, ctx.now()) : null;
       if (!sessionId || !actor) return fail("unauthenticated", "Sign in to continue.");
@@ -93,7 +94,8 @@ function sweepSockets(live: Live): void {
     const cases = new Map<string, CaseRow>();
     for (let i = 0; i < caseIds.length; i += 500) {
       const chunk = caseIds.slice(i, i + 500);
-      for (const c of ctx.db.select().from(schema.caseTable).where(inArray(schema.caseTable.id, chunk)).all()) cases.set(c.id, c);
+      for (const c of ctx.db.select().from(schema.caseTable).where(inArray(schema.caseTable.id, chunk)).all())
+        cases.set(c.id, c);
     }
     for (const s of sockets) {
       const a = actors.get(s.data.sessionId);
@@ -111,15 +113,26 @@ function sweepSockets(live: Live): void {
   }
 }
 
-export function attachRealtime(server: http.Server, ctx: AppContext, auth: Auth, opts: RealtimeOptions = {}): RealtimeServer {
+export function attachRealtime(
+  server: http.Server,
+  ctx: AppContext,
+  auth: Auth,
+  opts: RealtimeOptions = {},
+): RealtimeServer {
   const allowed = new Set(allowedOrigins(ctx).map((o) => o.replace(/\/$/, "")));
   const io: LiveServer = new Server(server, {
     serveClient: false,
     maxHttpBufferSize: 64 * 1024,
     // Refused before engine.io opens a session: a page of another site never gets a socket.
-    allowRequest: (req, cb) => cb(handshakeOriginAllowed(req.headers, allowed) ? null : "origin_refused", handshakeOriginAllowed(req.headers, allowed)),
+    allowRequest: (req, cb) =>
+      cb(
+        handshakeOriginAllowed(req.headers, allowed) ? null : "origin_refused",
+        handshakeOriginAllowed(req.headers, allowed),
+      ),
   });
-  const presence = new PresenceRegistry((caseId) => io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId)));
+  const presence = new PresenceRegistry((caseId) =>
+    io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId)),
+  );
   const commits = groupCommit(ctx.db, { onError: (err) => ctx.logger.error({ err }, "realtime commit failed") });
   const live = createLive(ctx, io, presence, commits);
 
@@ -142,7 +155,12 @@ export function attachRealtime(server: http.Server, ctx: AppContext, auth: Auth,
       // the contract's `case:status` with the status as committed.
       if (event === "case:updated" && (payload as { entity?: string } | null)?.entity === "case") {
         const c = getCaseRow(ctx.db, caseId);
-        if (c) io.to(caseRoom(caseId)).emit("case:status", { caseId, status: c.status, updatedAt: c.updatedAt.toISOString() });
+        if (c)
+          io.to(caseRoom(caseId)).emit("case:status", {
+            caseId,
+            status: c.status,
+            updatedAt: c.updatedAt.toISOString(),
+          });
       }
     },
     toUser(userId, event, payload) {

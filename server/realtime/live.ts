@@ -16,7 +16,13 @@ import type { PresenceRegistry } from "../services/presence";
 import type { GroupCommit } from "./group-commit";
 import { actorOfSession } from "./session";
 import type { pointerMoveSchema, viewFollowSchema } from "../../shared/schemas/realtime";
-import { caseRoom, POINTER_RATE_HZ, type ClientToServerEvents, type EventError, type ServerToClientEvents } from "../../shared/realtime";
+import {
+  caseRoom,
+  POINTER_RATE_HZ,
+  type ClientToServerEvents,
+  type EventError,
+  type ServerToClientEvents,
+} from "../../shared/realtime";
 
 export interface Throttle<P> {
   last: number;
@@ -36,7 +42,8 @@ export type LiveServer = Server<ClientToServerEvents, ServerToClientEvents, Reco
 export type LiveSocket = Socket<ClientToServerEvents, ServerToClientEvents, Record<string, never>, SocketData>;
 
 export function eventError(err: unknown, ctx: AppContext, event: string): EventError {
-  if (err instanceof HttpError) return { code: err.code, message: err.message, ...(err.details !== undefined ? { details: err.details } : {}) };
+  if (err instanceof HttpError)
+    return { code: err.code, message: err.message, ...(err.details !== undefined ? { details: err.details } : {}) };
   ctx.logger.error({ err, event }, "realtime event failed");
   return { code: "internal", message: "Something went wrong on the server; nothing was saved. Try again." };
 }
@@ -76,7 +83,11 @@ export function createLive(ctx: AppContext, io: LiveServer, presence: PresenceRe
     caseOfTrace(traceId) {
       let c = traceCase.get(traceId);
       if (c) return c;
-      c = ctx.db.select({ caseId: schema.trace.caseId }).from(schema.trace).where(inArray(schema.trace.id, [traceId])).get()?.caseId;
+      c = ctx.db
+        .select({ caseId: schema.trace.caseId })
+        .from(schema.trace)
+        .where(inArray(schema.trace.id, [traceId]))
+        .get()?.caseId;
       if (c) {
         traceCase.set(traceId, c);
         if (traceCase.size > 10_000) traceCase.delete(traceCase.keys().next().value!);
@@ -114,7 +125,14 @@ export function createLive(ctx: AppContext, io: LiveServer, presence: PresenceRe
       void socket.leave(caseRoom(caseId));
       const { changed, userLeft } = presence.leave(caseId, socket.id, socket.data.userId);
       // The user's pointer leaves the others' plots with their last socket.
-      if (userLeft) io.to(caseRoom(caseId)).emit("pointer", { caseId, userId: socket.data.userId, name: "", color: "", traceId: null });
+      if (userLeft)
+        io.to(caseRoom(caseId)).emit("pointer", {
+          caseId,
+          userId: socket.data.userId,
+          name: "",
+          color: "",
+          traceId: null,
+        });
       if (changed) io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId));
     },
     acked(socket, event, ack, fn) {
@@ -162,15 +180,18 @@ export function createLive(ctx: AppContext, io: LiveServer, presence: PresenceRe
       }
       t.pending = payload;
       if (t.timer) return;
-      t.timer = setTimeout(() => {
-        t.timer = null;
-        const p = t.pending;
-        t.pending = null;
-        if (p) {
-          t.last = Date.now();
-          send(p);
-        }
-      }, Math.max(0, pointerGapMs - (now - t.last)));
+      t.timer = setTimeout(
+        () => {
+          t.timer = null;
+          const p = t.pending;
+          t.pending = null;
+          if (p) {
+            t.last = Date.now();
+            send(p);
+          }
+        },
+        Math.max(0, pointerGapMs - (now - t.last)),
+      );
       t.timer.unref?.();
     },
   };

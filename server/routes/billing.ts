@@ -4,7 +4,13 @@ import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
 import { parseBody, parseParams, parseQuery } from "../http/validate";
 import { badRequest, forbidden } from "../http/errors";
-import { billingQuerySchema, ledgerQuerySchema, reassignSchema, receiptParamsSchema, refundSchema } from "../../shared/schemas/queue";
+import {
+  billingQuerySchema,
+  ledgerQuerySchema,
+  reassignSchema,
+  receiptParamsSchema,
+  refundSchema,
+} from "../../shared/schemas/queue";
 import { idParamSchema } from "../../shared/schemas/traces";
 import { receiptFor, shopBilling } from "../payments/views";
 import { ledgerView } from "../payments/ledger";

@@ -76,7 +76,9 @@ export const notices = {
     title: `Hold released: ${c.label}`,
     paragraphs: [
       `The hold of ${money(p.amountCents, p.currency)} on your card has been released; nothing was charged for this case.`,
-      ...(caseEnded ? ["The card authorisation ran out before an answer was delivered, so the case was closed as refunded."] : []),
+      ...(caseEnded
+        ? ["The card authorisation ran out before an answer was delivered, so the case was closed as refunded."]
+        : []),
     ],
     link: casePath(c),
   }),
@@ -97,7 +99,9 @@ export const notices = {
     kind: "refund",
     caseId: c.id,
     title: `Refund: ${c.label}`,
-    paragraphs: [`${money(amountCents, currency)} has been refunded to your card. It can take a few days to show on the statement.`],
+    paragraphs: [
+      `${money(amountCents, currency)} has been refunded to your card. It can take a few days to show on the statement.`,
+    ],
     link: "/billing",
   }),
 
@@ -110,7 +114,9 @@ export const notices = {
       title: `Case offered: ${c.label}`,
       paragraphs: [
         `A ${p?.tierLabel ?? ""} case matching your specialties is waiting in the queue${vehicle ? ` (${vehicle}, ${c.system ?? "system not given"})` : ""}. The answer is due by ${utc(c.deadlineAt) || "soon"}.`,
-        ...(earning != null && p ? [`Your share when you answer: ${(earning / 100).toFixed(2)} ${p.currency.toUpperCase()}.`] : []),
+        ...(earning != null && p
+          ? [`Your share when you answer: ${(earning / 100).toFixed(2)} ${p.currency.toUpperCase()}.`]
+          : []),
         "The first expert to claim it takes it.",
       ],
       link: "/queue",
@@ -122,7 +128,9 @@ export const notices = {
     kind: "case_claimed",
     caseId: c.id,
     title: `An expert took your case: ${c.label}`,
-    paragraphs: [`${expertName} has claimed the case and is looking at it now. You will hear when they answer or need another capture.`],
+    paragraphs: [
+      `${expertName} has claimed the case and is looking at it now. You will hear when they answer or need another capture.`,
+    ],
     link: casePath(c),
     actionLabel: "Open the case",
   }),
@@ -131,7 +139,9 @@ export const notices = {
     kind: "case_released",
     caseId: c.id,
     title: `Back in the queue: ${c.label}`,
-    paragraphs: ["The expert handed the case back; it is in the queue again for another expert. The deadline stays the same."],
+    paragraphs: [
+      "The expert handed the case back; it is in the queue again for another expert. The deadline stays the same.",
+    ],
     link: casePath(c),
     mail: false,
   }),
@@ -158,7 +168,10 @@ export const notices = {
     kind: "data_requested",
     caseId: c.id,
     title: `More data requested: ${c.label}`,
-    paragraphs: [`${expertName} asks: “${message}”`, "Add the capture or photo to the case, or mark the request as answered. The deadline is paused meanwhile."],
+    paragraphs: [
+      `${expertName} asks: “${message}”`,
+      "Add the capture or photo to the case, or mark the request as answered. The deadline is paused meanwhile.",
+    ],
     link: casePath(c),
     actionLabel: "Open the case",
   }),
@@ -168,7 +181,9 @@ export const notices = {
     caseId: c.id,
     title: `The shop answered your request: ${c.label}`,
     paragraphs: [
-      how === "uploaded" ? "New material was added to the case." : `The shop says the data is in${note ? `: “${note}”` : "."}`,
+      how === "uploaded"
+        ? "New material was added to the case."
+        : `The shop says the data is in${note ? `: “${note}”` : "."}`,
       "The case is back with you.",
     ],
     link: casePath(c),
@@ -182,7 +197,12 @@ export const notices = {
     mail: false,
   }),
 
-  caseAnswered: (c: NoticeCase, expertName: string, round: number, answer: { diagnosis: string; recommendedFix: string }): Notice => ({
+  caseAnswered: (
+    c: NoticeCase,
+    expertName: string,
+    round: number,
+    answer: { diagnosis: string; recommendedFix: string },
+  ): Notice => ({
     kind: "case_answered",
     caseId: c.id,
     title: `Answer ready: ${c.label}`,
@@ -208,7 +228,10 @@ export const notices = {
     kind: "not_fixed",
     caseId: c.id,
     title: `Not fixed yet: ${c.label}`,
-    paragraphs: [`The shop says the fix did not work${note ? `: “${note}”` : "."}`, "The case is back with you for a second answer."],
+    paragraphs: [
+      `The shop says the fix did not work${note ? `: “${note}”` : "."}`,
+      "The case is back with you for a second answer.",
+    ],
     link: casePath(c),
   }),
 
@@ -235,7 +258,9 @@ export const notices = {
     caseId: c.id,
     title: `Deadline near (${minutes} min): ${c.label}`,
     paragraphs: [
-      claimed ? `The answer to this case is due in ${minutes} minutes.` : `This case is still unclaimed and its answer is due in ${minutes} minutes.`,
+      claimed
+        ? `The answer to this case is due in ${minutes} minutes.`
+        : `This case is still unclaimed and its answer is due in ${minutes} minutes.`,
       "If the deadline passes without an answer, the shop's card hold is released and nothing is paid.",
     ],
     link: claimed ? casePath(c) : "/queue",
@@ -265,7 +290,9 @@ export const notices = {
   payoutSent: (amountCents: number, currency: string, transferId: string): Notice => ({
     kind: "payout",
     title: `Payout sent: ${money(amountCents, currency)}`,
-    paragraphs: [`We sent ${money(amountCents, currency)} of your earnings to your payout account (transfer ${transferId}).`],
+    paragraphs: [
+      `We sent ${money(amountCents, currency)} of your earnings to your payout account (transfer ${transferId}).`,
+    ],
     link: "/earnings",
     actionLabel: "See earnings",
   }),

@@ -16,6 +16,7 @@ export function traceForWindow(ctx: AppContext, actor: Actor, traceId: string): 
   const t = getTraceRow(ctx, traceId);
   if (!t) throw notFound("Trace");
   const c = getCaseRow(ctx.db, t.caseId);
-  if (!mayReadTraceWindow(actor, expertProfileOf(ctx.db, actor), c, publishedEntryOfTrace(ctx.db, t.id))) throw notFound("Trace");
+  if (!mayReadTraceWindow(actor, expertProfileOf(ctx.db, actor), c, publishedEntryOfTrace(ctx.db, t.id)))
+    throw notFound("Trace");
   return t;
 }

@@ -23,7 +23,10 @@ import type { AfterCommit, Effect } from "./effect";
 export type { AfterCommit, Effect };
 
 /** Runs `body` in one write unit, then its effects; answers the body's result and what the effects did. */
-export async function perform<T>(ctx: AppContext, body: (tx: Tx, fx: Effect[]) => Promise<T>): Promise<{ result: T; after: AfterCommit }> {
+export async function perform<T>(
+  ctx: AppContext,
+  body: (tx: Tx, fx: Effect[]) => Promise<T>,
+): Promise<{ result: T; after: AfterCommit }> {
   const fx: Effect[] = [];
   const result = await ctx.db.write(async (tx) => body(tx, fx));
   const after = await runEffects(ctx, fx);
@@ -46,14 +49,20 @@ export async function runEffects(ctx: AppContext, effects: Effect[]): Promise<Af
       await runOne(ctx, e, queue, after);
     } catch (err) {
       ctx.logger.error({ err, effect: e.kind }, "a follow-up of a committed change failed");
-      if (e.kind === "returnMoney") after.moneyBack = { outcome: "nothing", payment: undefined, why: "Giving the money back failed.", error: err };
+      if (e.kind === "returnMoney")
+        after.moneyBack = { outcome: "nothing", payment: undefined, why: "Giving the money back failed.", error: err };
       if (e.kind === "capture") after.captured = false;
     }
   }
   return after;
 }
 
-async function runOne(ctx: AppContext, e: Exclude<Effect, { kind: "announce" }>, queue: Effect[], after: AfterCommit): Promise<void> {
+async function runOne(
+  ctx: AppContext,
+  e: Exclude<Effect, { kind: "announce" }>,
+  queue: Effect[],
+  after: AfterCommit,
+): Promise<void> {
   const react = paymentReactor(queue);
   switch (e.kind) {
     case "notify":
@@ -70,7 +79,9 @@ async function runOne(ctx: AppContext, e: Exclude<Effect, { kind: "announce" }>,
     }
     case "returnMoney": {
       const p = await ctx.db.read(async (tx) => currentPayment(tx, e.caseId));
-      after.moneyBack = p ? await giveMoneyBack(ctx, p, e.reason, react, e.note) : { outcome: "nothing", payment: undefined, why: "There is no payment on this case." };
+      after.moneyBack = p
+        ? await giveMoneyBack(ctx, p, e.reason, react, e.note)
+        : { outcome: "nothing", payment: undefined, why: "There is no payment on this case." };
       return;
     }
     case "expireCheckout": {

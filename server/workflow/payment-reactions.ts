@@ -30,7 +30,8 @@ async function react(tx: Tx, f: PaymentFact, now: Date, fx: Effect[]): Promise<v
   const c = await getCaseRow(tx, p.caseId);
   if (!c) return;
   const isCurrent = (await queueState(tx, c.id, now)).paymentId === p.id;
-  const event = (type: string, data: Record<string, unknown>) => recordCaseEvent(tx, { caseId: c.id, actorId: null, type, at: now, data });
+  const event = (type: string, data: Record<string, unknown>) =>
+    recordCaseEvent(tx, { caseId: c.id, actorId: null, type, at: now, data });
   fx.push({ kind: "announce", caseId: c.id });
   switch (f.kind) {
     case "authorized": {
@@ -41,7 +42,13 @@ async function react(tx: Tx, f: PaymentFact, now: Date, fx: Effect[]): Promise<v
         return;
       }
       const deadlineAt = new Date(now.getTime() + p.deadlineMinutes * 60_000);
-      const data = { paymentId: p.id, amountCents: p.amountCents, currency: p.currency, tier: p.tier, deadlineAt: deadlineAt.toISOString() };
+      const data = {
+        paymentId: p.id,
+        amountCents: p.amountCents,
+        currency: p.currency,
+        tier: p.tier,
+        deadlineAt: deadlineAt.toISOString(),
+      };
       const row = await transition(tx, {
         caseId: c.id,
         from: "awaiting_payment",
@@ -52,9 +59,18 @@ async function react(tx: Tx, f: PaymentFact, now: Date, fx: Effect[]): Promise<v
         data,
         set: { tier: p.tier, priceCents: p.amountCents, deadlineAt, submittedAt: now },
       });
-      await updateQueueState(tx, c.id, now, { queuedAt: now, lastPaymentError: null, offersWidenedAt: null, deadlineWarnedAt: null });
+      await updateQueueState(tx, c.id, now, {
+        queuedAt: now,
+        lastPaymentError: null,
+        offersWidenedAt: null,
+        deadlineWarnedAt: null,
+      });
       const offered = await createOffers(tx, row, now);
-      fx.push({ kind: "notify", to: await shopRecipients(tx, row), notice: notices.paymentAuthorized(noticeCase(row), noticePayment(p)) });
+      fx.push({
+        kind: "notify",
+        to: await shopRecipients(tx, row),
+        notice: notices.paymentAuthorized(noticeCase(row), noticePayment(p)),
+      });
       fx.push({ kind: "notify", to: offered, notice: notices.caseOffered(noticeCase(row), noticePayment(p)) });
       return;
     }
@@ -67,8 +83,17 @@ async function react(tx: Tx, f: PaymentFact, now: Date, fx: Effect[]): Promise<v
       return;
     }
     case "captured": {
-      await event("payment_captured", { paymentId: p.id, amountCents: f.amountCents, deskCents: f.deskCents, expertCents: f.expertCents });
-      fx.push({ kind: "notify", to: await shopRecipients(tx, c), notice: notices.receipt(noticeCase(c), noticePayment(p)) });
+      await event("payment_captured", {
+        paymentId: p.id,
+        amountCents: f.amountCents,
+        deskCents: f.deskCents,
+        expertCents: f.expertCents,
+      });
+      fx.push({
+        kind: "notify",
+        to: await shopRecipients(tx, c),
+        notice: notices.receipt(noticeCase(c), noticePayment(p)),
+      });
       return;
     }
     case "released": {
@@ -76,14 +101,30 @@ async function react(tx: Tx, f: PaymentFact, now: Date, fx: Effect[]): Promise<v
       const ends = isCurrent && HELD.includes(c.status as CaseStatus);
       if (ends) {
         const type = f.reason === "automatic" ? "hold_lapsed" : "hold_cancelled";
-        await transition(tx, { caseId: c.id, from: HELD, to: "refunded", actorId: null, type, at: now, data: { paymentId: p.id } });
+        await transition(tx, {
+          caseId: c.id,
+          from: HELD,
+          to: "refunded",
+          actorId: null,
+          type,
+          at: now,
+          data: { paymentId: p.id },
+        });
       }
-      fx.push({ kind: "notify", to: await shopRecipients(tx, c), notice: notices.holdReleased(noticeCase(c), noticePayment(p), ends) });
+      fx.push({
+        kind: "notify",
+        to: await shopRecipients(tx, c),
+        notice: notices.holdReleased(noticeCase(c), noticePayment(p), ends),
+      });
       return;
     }
     case "refunded": {
       await event("payment_refunded", { paymentId: p.id, amountCents: f.amountCents });
-      fx.push({ kind: "notify", to: await shopRecipients(tx, c), notice: notices.refund(noticeCase(c), f.amountCents, p.currency) });
+      fx.push({
+        kind: "notify",
+        to: await shopRecipients(tx, c),
+        notice: notices.refund(noticeCase(c), f.amountCents, p.currency),
+      });
       return;
     }
     case "expired":

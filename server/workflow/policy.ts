@@ -15,7 +15,13 @@
  */
 import type { Actor } from "../auth/session";
 import { HttpError } from "../http/errors";
-import { caseActions, type CaseAction, type CaseActionSpec, type CaseRelation, type CaseStatus } from "../../shared/domain/case-status";
+import {
+  caseActions,
+  type CaseAction,
+  type CaseActionSpec,
+  type CaseRelation,
+  type CaseStatus,
+} from "../../shared/domain/case-status";
 
 /** The columns of a case the rules look at. */
 export interface CaseFacts {
@@ -52,7 +58,8 @@ export const isShopMember = (actor: Actor, c: Pick<CaseFacts, "shopId">): boolea
 export const isApprovedExpert = (actor: Actor, profile: ExpertFacts | null): boolean =>
   actor.role === "expert" && profile?.userId === actor.id && profile.status === "approved";
 
-const isAssignedExpert = (actor: Actor, c: CaseFacts): boolean => actor.role === "expert" && c.expertId != null && c.expertId === actor.id;
+const isAssignedExpert = (actor: Actor, c: CaseFacts): boolean =>
+  actor.role === "expert" && c.expertId != null && c.expertId === actor.id;
 
 /** How the actor stands to the case. */
 export function relationsOf(actor: Actor, profile: ExpertFacts | null, c: CaseFacts): Set<CaseRelation> {
@@ -97,14 +104,25 @@ function stateMessage(action: CaseAction, actor: Actor, c: CaseFacts): string {
 }
 
 /** May the actor do `action` to the case, and if not, which refusal? */
-export function decide(actor: Actor, profile: ExpertFacts | null, action: CaseAction, c: CaseFacts | null | undefined, what = "Case"): Decision {
+export function decide(
+  actor: Actor,
+  profile: ExpertFacts | null,
+  action: CaseAction,
+  c: CaseFacts | null | undefined,
+  what = "Case",
+): Decision {
   const s = spec(action);
-  const forbid: Decision = { allowed: false, refusal: { status: 403, code: "forbidden", message: s.roleMessage || "Your role does not allow this." } };
+  const forbid: Decision = {
+    allowed: false,
+    refusal: { status: 403, code: "forbidden", message: s.roleMessage || "Your role does not allow this." },
+  };
   if (s.who.every((w) => !CASE_DEPENDENT.has(w)) && !s.who.some((w) => holdsAlone(w, actor, profile))) return forbid;
-  if (!c || !visibleFor(action, actor, profile, c)) return { allowed: false, refusal: { status: 404, code: "not_found", message: `${what} not found.` } };
+  if (!c || !visibleFor(action, actor, profile, c))
+    return { allowed: false, refusal: { status: 404, code: "not_found", message: `${what} not found.` } };
   const rel = relationsOf(actor, profile, c);
   if (!s.who.some((w) => rel.has(w))) return forbid;
-  if (!(c.status in s.moves)) return { allowed: false, refusal: { status: 409, code: s.code, message: stateMessage(action, actor, c) } };
+  if (!(c.status in s.moves))
+    return { allowed: false, refusal: { status: 409, code: s.code, message: stateMessage(action, actor, c) } };
   return { allowed: true };
 }
 
@@ -128,17 +146,31 @@ export function authorize<C extends CaseFacts>(
 }
 
 /** 404 unless the actor may see the case (readers, and approved experts on a queued case). */
-export function authorizeView<C extends CaseFacts>(actor: Actor, profile: ExpertFacts | null, c: C | null | undefined, what = "Case"): asserts c is C {
+export function authorizeView<C extends CaseFacts>(
+  actor: Actor,
+  profile: ExpertFacts | null,
+  c: C | null | undefined,
+  what = "Case",
+): asserts c is C {
   if (!c || !canViewCase(actor, profile, c)) throw new HttpError(404, "not_found", `${what} not found.`);
 }
 
 /** 404 unless the actor reads the case (no queued-case widening: the live room, the case list). */
-export function authorizeRead<C extends CaseFacts>(actor: Actor, c: C | null | undefined, what = "Case"): asserts c is C {
+export function authorizeRead<C extends CaseFacts>(
+  actor: Actor,
+  c: C | null | undefined,
+  what = "Case",
+): asserts c is C {
   if (!c || !canReadCase(actor, c)) throw new HttpError(404, "not_found", `${what} not found.`);
 }
 
 /** Each action → allowed, for the actor on this case (sent with responses; the client only hides controls). */
-export function abilitiesFor<A extends CaseAction>(actor: Actor, profile: ExpertFacts | null, c: CaseFacts, actions: readonly A[]): Record<A, boolean> {
+export function abilitiesFor<A extends CaseAction>(
+  actor: Actor,
+  profile: ExpertFacts | null,
+  c: CaseFacts,
+  actions: readonly A[],
+): Record<A, boolean> {
   const out = {} as Record<A, boolean>;
   for (const a of actions) out[a] = can(actor, profile, a, c);
   return out;

@@ -13,7 +13,14 @@ import { splitCents } from "../../shared/domain/money";
 import { caseLabel } from "../../shared/domain/case-label";
 import { ignitionSafetyNote } from "../../shared/schemas/queue";
 import type { AnswerView, ConfirmationView, QueueItem, QueueView } from "../../shared/views/queue";
-import type { CasePaymentView, CaseStateView, HistoryView, WorkflowAbilities, WorkflowAbility, WorkflowView } from "../../shared/views/workflow";
+import type {
+  CasePaymentView,
+  CaseStateView,
+  HistoryView,
+  WorkflowAbilities,
+  WorkflowAbility,
+  WorkflowView,
+} from "../../shared/views/workflow";
 import type { CaseStatus } from "../../shared/domain/case-status";
 import { abilitiesFor, authorize, authorizeView, canSeeQueue, canViewCase, type ExpertFacts } from "./policy";
 import { caseHistory, expertProfileOf, getCaseRow, type CaseRow } from "./records";
@@ -21,7 +28,9 @@ import { OPEN_FOR_EXPERT, openCaseCounts } from "./routing";
 
 const { caseTable, caseOffer, caseAnswer, caseConfirmation } = schema;
 
-export function presentCaseState(c: Pick<CaseRow, "id" | "status" | "deadlineAt" | "expertId" | "claimedAt">): CaseStateView {
+export function presentCaseState(
+  c: Pick<CaseRow, "id" | "status" | "deadlineAt" | "expertId" | "claimedAt">,
+): CaseStateView {
   return {
     id: c.id,
     status: c.status as CaseStatus,
@@ -51,7 +60,12 @@ async function viewable(tx: Tx, actor: Actor, caseId: string): Promise<{ c: Case
   return { c, profile };
 }
 
-async function presentItem(tx: Tx, c: CaseRow, offer: { rank: number; wave: number } | undefined, traceCounts: Map<string, number>): Promise<QueueItem> {
+async function presentItem(
+  tx: Tx,
+  c: CaseRow,
+  offer: { rank: number; wave: number } | undefined,
+  traceCounts: Map<string, number>,
+): Promise<QueueItem> {
   const qs = await tx.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, c.id)).get();
   const p = await currentPayment(tx, c.id);
   return {
@@ -93,20 +107,36 @@ export async function queueView(ctx: AppContext, actor: Actor): Promise<QueueVie
   return ctx.db.read(async (tx) => {
     const profile = await expertProfileOf(tx, actor);
     if (!canSeeQueue(actor, profile)) {
-      if (actor.role === "expert") throw forbidden("Your expert profile is not approved yet; the queue opens once the desk approves it.");
+      if (actor.role === "expert")
+        throw forbidden("Your expert profile is not approved yet; the queue opens once the desk approves it.");
       throw forbidden("The queue is for the desk's experts.");
     }
     const expert = actor.role === "expert";
-    const queued = await tx.select().from(caseTable).where(eq(caseTable.status, "queued")).orderBy(asc(caseTable.deadlineAt), asc(caseTable.id)).all();
-    const mineWhere = and(eq(caseTable.expertId, actor.id), inArray(caseTable.status, [...OPEN_FOR_EXPERT, "answered"]));
-    const mine = expert ? await tx.select().from(caseTable).where(mineWhere).orderBy(asc(caseTable.deadlineAt)).all() : [];
-    const traceCounts = await traceCountsOf(tx, [...queued, ...mine].map((c) => c.id));
+    const queued = await tx
+      .select()
+      .from(caseTable)
+      .where(eq(caseTable.status, "queued"))
+      .orderBy(asc(caseTable.deadlineAt), asc(caseTable.id))
+      .all();
+    const mineWhere = and(
+      eq(caseTable.expertId, actor.id),
+      inArray(caseTable.status, [...OPEN_FOR_EXPERT, "answered"]),
+    );
+    const mine = expert
+      ? await tx.select().from(caseTable).where(mineWhere).orderBy(asc(caseTable.deadlineAt)).all()
+      : [];
+    const traceCounts = await traceCountsOf(
+      tx,
+      [...queued, ...mine].map((c) => c.id),
+    );
     const offerRows = expert ? await tx.select().from(caseOffer).where(eq(caseOffer.expertId, actor.id)).all() : [];
     const offers = new Map(offerRows.map((o) => [o.caseId, { rank: o.rank, wave: o.wave }] as const));
     const items: QueueItem[] = [];
     for (const c of queued) items.push(await presentItem(tx, c, offers.get(c.id), traceCounts));
     const byDeadline = (a: QueueItem, b: QueueItem) => (a.deadlineAt ?? "").localeCompare(b.deadlineAt ?? "");
-    const offered = items.filter((i) => i.offered).sort((a, b) => (a.offerWave ?? 9) - (b.offerWave ?? 9) || byDeadline(a, b));
+    const offered = items
+      .filter((i) => i.offered)
+      .sort((a, b) => (a.offerWave ?? 9) - (b.offerWave ?? 9) || byDeadline(a, b));
     const mineItems: QueueItem[] = [];
     for (const c of mine) mineItems.push(await presentItem(tx, c, offers.get(c.id), traceCounts));
     const open = expert ? ((await openCaseCounts(tx)).get(actor.id) ?? 0) : 0;
@@ -114,12 +144,26 @@ export async function queueView(ctx: AppContext, actor: Actor): Promise<QueueVie
       offers: offered,
       queue: items.filter((i) => !i.offered).sort(byDeadline),
       mine: mineItems,
-      me: profile ? { available: profile.available, openCases: open, maxOpenCases: profile.maxOpenCases, status: profile.status } : null,
+      me: profile
+        ? { available: profile.available, openCases: open, maxOpenCases: profile.maxOpenCases, status: profile.status }
+        : null,
     } satisfies QueueView;
   });
 }
 
-const WORKFLOW_ACTIONS = ["submit", "withdraw", "claim", "release", "reassign", "requestData", "dataSent", "answer", "confirm", "refund", "viewPayment"] as const;
+const WORKFLOW_ACTIONS = [
+  "submit",
+  "withdraw",
+  "claim",
+  "release",
+  "reassign",
+  "requestData",
+  "dataSent",
+  "answer",
+  "confirm",
+  "refund",
+  "viewPayment",
+] as const;
 
 export function workflowAbilities(actor: Actor, profile: ExpertFacts | null, c: CaseRow): WorkflowAbilities {
   const read = canViewCase(actor, profile, c);
@@ -130,7 +174,10 @@ export function workflowAbilities(actor: Actor, profile: ExpertFacts | null, c: 
 }
 
 /** The answers and the shop's confirmations of a case, oldest first. */
-export async function answersOf(tx: Tx, caseId: string): Promise<{ answers: AnswerView[]; confirmations: ConfirmationView[] }> {
+export async function answersOf(
+  tx: Tx,
+  caseId: string,
+): Promise<{ answers: AnswerView[]; confirmations: ConfirmationView[] }> {
   const a = await tx
     .select({ a: caseAnswer, name: schema.user.name })
     .from(caseAnswer)
@@ -183,9 +230,16 @@ export async function answersView(ctx: AppContext, actor: Actor, caseId: string)
 export async function workflowView(ctx: AppContext, actor: Actor, caseId: string): Promise<WorkflowView> {
   return ctx.db.read(async (tx) => {
     const { c, profile } = await viewable(tx, actor, caseId);
-    const qs = (await tx.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, c.id)).get()) ?? null;
+    const qs =
+      (await tx.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, c.id)).get()) ?? null;
     const p = await currentPayment(tx, c.id);
-    const expert = c.expertId ? ((await tx.select({ id: schema.user.id, name: schema.user.name }).from(schema.user).where(eq(schema.user.id, c.expertId)).get()) ?? null) : null;
+    const expert = c.expertId
+      ? ((await tx
+          .select({ id: schema.user.id, name: schema.user.name })
+          .from(schema.user)
+          .where(eq(schema.user.id, c.expertId))
+          .get()) ?? null)
+      : null;
     const abilities = workflowAbilities(actor, profile, c);
     const canAnswers = abilitiesFor(actor, profile, c, ["viewAnswers"]).viewAnswers;
     return {
@@ -218,7 +272,12 @@ export async function paymentView(ctx: AppContext, actor: Actor, caseId: string)
     const c = await getCaseRow(tx, caseId);
     authorize(actor, await expertProfileOf(tx, actor), "viewPayment", c);
     const p = await currentPayment(tx, c.id);
-    return { caseId: c.id, status: c.status as CaseStatus, deadlineAt: c.deadlineAt?.toISOString() ?? null, payment: p ? presentPayment(p) : null } satisfies CasePaymentView;
+    return {
+      caseId: c.id,
+      status: c.status as CaseStatus,
+      deadlineAt: c.deadlineAt?.toISOString() ?? null,
+      payment: p ? presentPayment(p) : null,
+    } satisfies CasePaymentView;
   });
 }
 
@@ -231,4 +290,3 @@ export async function paymentToRefresh(ctx: AppContext, actor: Actor, caseId: st
     return p && (p.status === "pending" || p.status === "failed") ? p.id : null;
   });
 }
-

@@ -68,20 +68,24 @@ export function vehicleOf(c: CaseRow) {
 /** Is the stored case ready for the desk (the one rule of shared/domain/case-readiness.ts)? */
 export function readinessOfRow(c: CaseRow): CaseReadiness {
   const { complaint, codes, system, symptoms, conditions, testsDone, partsReplaced, notes } = c;
-  return caseReadiness({ vehicle: vehicleOf(c), complaint, codes, system, symptoms, conditions, testsDone, partsReplaced, notes });
+  return caseReadiness({
+    vehicle: vehicleOf(c),
+    complaint,
+    codes,
+    system,
+    symptoms,
+    conditions,
+    testsDone,
+    partsReplaced,
+    notes,
+  });
 }
 
 // ---------------------------------------------------------------------------------------------
 // History
 
 export type CaseEventType =
-  | "created"
-  | "edited"
-  | "trace_added"
-  | "trace_deleted"
-  | "photo_added"
-  | "photo_deleted"
-  | (string & {});
+  "created" | "edited" | "trace_added" | "trace_deleted" | "photo_added" | "photo_deleted" | (string & {});
 
 export interface CaseEventInput {
   caseId: string;
@@ -197,10 +201,14 @@ export async function transition(tx: Tx, spec: TransitionSpec): Promise<CaseRow>
     .returning()
     .all();
   if (changed.length !== 1) {
-    throw conflict(spec.code ?? "invalid_transition", spec.message ?? "The case changed in the meantime; reload and try again.", {
-      status: current,
-      to: spec.to,
-    });
+    throw conflict(
+      spec.code ?? "invalid_transition",
+      spec.message ?? "The case changed in the meantime; reload and try again.",
+      {
+        status: current,
+        to: spec.to,
+      },
+    );
   }
   await recordCaseEvent(tx, {
     caseId: spec.caseId,
@@ -225,7 +233,12 @@ export async function queueState(tx: Tx, caseId: string, at: Date): Promise<Queu
   return (await tx.select().from(caseQueueState).where(eq(caseQueueState.caseId, caseId)).get())!;
 }
 
-export async function updateQueueState(tx: Tx, caseId: string, at: Date, set: Partial<typeof caseQueueState.$inferInsert>): Promise<void> {
+export async function updateQueueState(
+  tx: Tx,
+  caseId: string,
+  at: Date,
+  set: Partial<typeof caseQueueState.$inferInsert>,
+): Promise<void> {
   await queueState(tx, caseId, at);
   await tx
     .update(caseQueueState)

@@ -52,7 +52,10 @@ export async function expertRecords(tx: Tx): Promise<Map<string, { resolved: num
     .groupBy(caseTable.expertId)
     .all();
   const ratings = await tx
-    .select({ expertId: schema.caseConfirmation.expertId, avg: sql<number | null>`avg(${schema.caseConfirmation.rating})` })
+    .select({
+      expertId: schema.caseConfirmation.expertId,
+      avg: sql<number | null>`avg(${schema.caseConfirmation.rating})`,
+    })
     .from(schema.caseConfirmation)
     .where(sql`${schema.caseConfirmation.rating} is not null`)
     .groupBy(schema.caseConfirmation.expertId)
@@ -83,7 +86,8 @@ export async function rankExperts(tx: Tx, c: Pick<CaseRow, "system" | "make">): 
   const list: Candidate[] = profiles.map(({ p, name }) => {
     const systemMatch = !!c.system && (p.systems ?? []).includes(c.system);
     const makes = (p.makes ?? []).map(norm).filter(Boolean);
-    const makeMatch: Candidate["makeMatch"] = makes.length === 0 ? "any" : make && makes.includes(make) ? "named" : "none";
+    const makeMatch: Candidate["makeMatch"] =
+      makes.length === 0 ? "any" : make && makes.includes(make) ? "named" : "none";
     const openCases = loads.get(p.userId) ?? 0;
     const rec = records.get(p.userId) ?? { resolved: 0, rating: null };
     const eligible = p.available && systemMatch && makeMatch !== "none" && openCases < p.maxOpenCases;
@@ -91,7 +95,18 @@ export async function rankExperts(tx: Tx, c: Pick<CaseRow, "system" | "make">): 
     const load = Math.round((1 - openCases / Math.max(1, p.maxOpenCases)) * 100);
     const score = (makeMatch === "named" ? 2 : 1) * 1000 + load + Math.min(rec.resolved, 50) + (rec.rating ?? 3);
     const { available, maxOpenCases } = p;
-    return { expertId: p.userId, name, available, systemMatch, makeMatch, openCases, maxOpenCases, ...rec, eligible, score };
+    return {
+      expertId: p.userId,
+      name,
+      available,
+      systemMatch,
+      makeMatch,
+      openCases,
+      maxOpenCases,
+      ...rec,
+      eligible,
+      score,
+    };
   });
   const recordScore = (x: Candidate) => x.resolved * ((x.rating ?? 3) / 5);
   const share = (x: Candidate) => x.openCases / Math.max(1, x.maxOpenCases);
@@ -114,7 +129,13 @@ async function insertOffers(tx: Tx, caseId: string, picks: Candidate[], wave: nu
   for (const cand of picks) {
     if (existing.has(cand.expertId)) continue;
     rank += 1;
-    const reason = { systemMatch: cand.systemMatch, makeMatch: cand.makeMatch, openCases: cand.openCases, resolved: cand.resolved, rating: cand.rating };
+    const reason = {
+      systemMatch: cand.systemMatch,
+      makeMatch: cand.makeMatch,
+      openCases: cand.openCases,
+      resolved: cand.resolved,
+      rating: cand.rating,
+    };
     await tx
       .insert(caseOffer)
       .values({ caseId, expertId: cand.expertId, wave, rank, score: cand.score, reason, offeredAt: now })
@@ -130,7 +151,13 @@ export async function createOffers(tx: Tx, c: CaseRow, now: Date): Promise<strin
   const pricing = await getPricing(tx);
   const first = (await rankExperts(tx, c)).filter((x) => x.eligible).slice(0, pricing.firstWaveSize);
   const offered = await insertOffers(tx, c.id, first, 1, now);
-  await recordCaseEvent(tx, { caseId: c.id, actorId: null, type: "offered", at: now, data: { wave: 1, experts: offered.length } });
+  await recordCaseEvent(tx, {
+    caseId: c.id,
+    actorId: null,
+    type: "offered",
+    at: now,
+    data: { wave: 1, experts: offered.length },
+  });
   if (offered.length === 0) return widenOffers(tx, c, now, "no matching expert available");
   return offered;
 }
@@ -140,11 +167,19 @@ export async function widenOffers(tx: Tx, c: CaseRow, now: Date, why: string): P
   const everyone = (await rankExperts(tx, c)).filter((x) => x.available);
   const offered = await insertOffers(tx, c.id, everyone, 2, now);
   await updateQueueState(tx, c.id, now, { offersWidenedAt: now });
-  await recordCaseEvent(tx, { caseId: c.id, actorId: null, type: "offers_widened", at: now, data: { experts: offered.length, why } });
+  await recordCaseEvent(tx, {
+    caseId: c.id,
+    actorId: null,
+    type: "offers_widened",
+    at: now,
+    data: { experts: offered.length, why },
+  });
   return offered;
 }
 
 /** The experts a case was offered to. */
 export async function offeredExperts(tx: Tx, caseId: string): Promise<string[]> {
-  return (await tx.select({ e: caseOffer.expertId }).from(caseOffer).where(eq(caseOffer.caseId, caseId)).all()).map((r) => r.e);
+  return (await tx.select({ e: caseOffer.expertId }).from(caseOffer).where(eq(caseOffer.caseId, caseId)).all()).map(
+    (r) => r.e,
+  );
 }

@@ -32,7 +32,13 @@ export async function sweepWidenOffers(ctx: AppContext): Promise<number> {
       .select({ id: caseTable.id })
       .from(caseTable)
       .innerJoin(caseQueueState, eq(caseQueueState.caseId, caseTable.id))
-      .where(and(eq(caseTable.status, "queued"), isNull(caseQueueState.offersWidenedAt), lte(caseQueueState.queuedAt, cutoff)))
+      .where(
+        and(
+          eq(caseTable.status, "queued"),
+          isNull(caseQueueState.offersWidenedAt),
+          lte(caseQueueState.queuedAt, cutoff),
+        ),
+      )
       .all();
     return { due: rows, minutes };
   });
@@ -57,7 +63,13 @@ export async function sweepDeadlineWarnings(ctx: AppContext): Promise<number> {
       .from(caseTable)
       .innerJoin(caseQueueState, eq(caseQueueState.caseId, caseTable.id))
       .leftJoin(payment, eq(payment.id, caseQueueState.paymentId))
-      .where(and(inArray(caseTable.status, ["queued", "claimed"]), isNull(caseQueueState.deadlineWarnedAt), gt(caseTable.deadlineAt, now)))
+      .where(
+        and(
+          inArray(caseTable.status, ["queued", "claimed"]),
+          isNull(caseQueueState.deadlineWarnedAt),
+          gt(caseTable.deadlineAt, now),
+        ),
+      )
       .all(),
   );
   let warned = 0;
@@ -68,7 +80,11 @@ export async function sweepDeadlineWarnings(ctx: AppContext): Promise<number> {
       await updateQueueState(tx, c.id, now, { deadlineWarnedAt: now });
       const claimed = c.status === "claimed" && !!c.expertId;
       const to = claimed ? [c.expertId!] : await offeredExperts(tx, c.id);
-      fx.push({ kind: "notify", to, notice: notices.deadlineNear(noticeCase(c), claimed, Math.round(leftMs / 60_000)) });
+      fx.push({
+        kind: "notify",
+        to,
+        notice: notices.deadlineNear(noticeCase(c), claimed, Math.round(leftMs / 60_000)),
+      });
     });
     warned++;
   }
@@ -88,7 +104,13 @@ async function lateCases(ctx: AppContext, now: Date): Promise<CaseRow[]> {
       .from(caseTable)
       .innerJoin(caseQueueState, eq(caseQueueState.caseId, caseTable.id))
       .innerJoin(payment, eq(payment.id, caseQueueState.paymentId))
-      .where(and(eq(caseTable.status, "needs_data"), eq(payment.status, "authorized"), lte(payment.captureBefore, new Date(now.getTime() + 6 * 3600_000))))
+      .where(
+        and(
+          eq(caseTable.status, "needs_data"),
+          eq(payment.status, "authorized"),
+          lte(payment.captureBefore, new Date(now.getTime() + 6 * 3600_000)),
+        ),
+      )
       .all();
     return [...late, ...holdEnding.map((r) => r.c)];
   });
@@ -108,10 +130,27 @@ export async function sweepDeadlines(ctx: AppContext): Promise<number> {
       await perform(ctx, async (tx, fx) => {
         const data = { deadlineAt: c.deadlineAt?.toISOString() ?? null, expertId: c.expertId };
         const type = waiting ? "hold_ending" : "deadline_missed";
-        const row = await transition(tx, { caseId: c.id, from: HELD, to: "refunded", actorId: null, type, at: now, data });
-        fx.push({ kind: "announce", caseId: c.id }, { kind: "returnMoney", caseId: c.id, reason: "abandoned" }, { kind: "releaseStrayHolds", caseId: c.id });
-        fx.push({ kind: "notify", to: await shopRecipients(tx, row), notice: notices.deadlineMissedShop(noticeCase(row), waiting) });
-        if (c.expertId) fx.push({ kind: "notify", to: [c.expertId], notice: notices.deadlineMissedExpert(noticeCase(row)) });
+        const row = await transition(tx, {
+          caseId: c.id,
+          from: HELD,
+          to: "refunded",
+          actorId: null,
+          type,
+          at: now,
+          data,
+        });
+        fx.push(
+          { kind: "announce", caseId: c.id },
+          { kind: "returnMoney", caseId: c.id, reason: "abandoned" },
+          { kind: "releaseStrayHolds", caseId: c.id },
+        );
+        fx.push({
+          kind: "notify",
+          to: await shopRecipients(tx, row),
+          notice: notices.deadlineMissedShop(noticeCase(row), waiting),
+        });
+        if (c.expertId)
+          fx.push({ kind: "notify", to: [c.expertId], notice: notices.deadlineMissedExpert(noticeCase(row)) });
       });
       n++;
     } catch (err) {
@@ -133,8 +172,18 @@ export async function sweepNewMaterial(ctx: AppContext): Promise<number> {
     const out: { id: string; by: string | null }[] = [];
     for (const w of waiting) {
       if (!w.since) continue;
-      const t = await tx.select({ by: schema.trace.uploadedBy }).from(schema.trace).where(and(eq(schema.trace.caseId, w.id), gt(schema.trace.createdAt, w.since))).get();
-      const ph = t ? undefined : await tx.select({ by: schema.photo.uploadedBy }).from(schema.photo).where(and(eq(schema.photo.caseId, w.id), gt(schema.photo.createdAt, w.since))).get();
+      const t = await tx
+        .select({ by: schema.trace.uploadedBy })
+        .from(schema.trace)
+        .where(and(eq(schema.trace.caseId, w.id), gt(schema.trace.createdAt, w.since)))
+        .get();
+      const ph = t
+        ? undefined
+        : await tx
+            .select({ by: schema.photo.uploadedBy })
+            .from(schema.photo)
+            .where(and(eq(schema.photo.caseId, w.id), gt(schema.photo.createdAt, w.since)))
+            .get();
       const hit = t ?? ph;
       if (hit) out.push({ id: w.id, by: hit.by ?? null });
     }
@@ -163,9 +212,20 @@ export async function sweepCloseAnswered(ctx: AppContext): Promise<number> {
   for (const c of stale) {
     try {
       await perform(ctx, async (tx, fx) => {
-        const row = await transition(tx, { caseId: c.id, from: "answered", to: "closed", actorId: null, type: "closed_unconfirmed", at: now, data: { days } });
+        const row = await transition(tx, {
+          caseId: c.id,
+          from: "answered",
+          to: "closed",
+          actorId: null,
+          type: "closed_unconfirmed",
+          at: now,
+          data: { days },
+        });
         const to = [...(await shopRecipients(tx, row)), ...(row.expertId ? [row.expertId] : [])];
-        fx.push({ kind: "announce", caseId: c.id }, { kind: "notify", to, notice: notices.closedUnconfirmed(noticeCase(row), days) });
+        fx.push(
+          { kind: "announce", caseId: c.id },
+          { kind: "notify", to, notice: notices.closedUnconfirmed(noticeCase(row), days) },
+        );
       });
       n++;
     } catch (err) {
@@ -186,12 +246,19 @@ export async function sweepOutstandingMoney(ctx: AppContext): Promise<number> {
       .from(caseTable)
       .innerJoin(caseQueueState, eq(caseQueueState.caseId, caseTable.id))
       .innerJoin(payment, eq(payment.id, caseQueueState.paymentId))
-      .where(and(inArray(caseTable.status, ["answered", "resolved", "closed", "refunded", "withdrawn"]), eq(payment.status, "authorized")))
+      .where(
+        and(
+          inArray(caseTable.status, ["answered", "resolved", "closed", "refunded", "withdrawn"]),
+          eq(payment.status, "authorized"),
+        ),
+      )
       .all(),
   );
   for (const r of rows) {
     const ended = r.status === "refunded" || r.status === "withdrawn";
-    await runEffects(ctx, [ended ? { kind: "returnMoney", caseId: r.caseId, reason: "abandoned" } : { kind: "capture", caseId: r.caseId }]);
+    await runEffects(ctx, [
+      ended ? { kind: "returnMoney", caseId: r.caseId, reason: "abandoned" } : { kind: "capture", caseId: r.caseId },
+    ]);
   }
   return rows.length;
 }

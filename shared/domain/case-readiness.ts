@@ -46,6 +46,7 @@ export function caseReadiness(input: ReadinessInput): CaseReadiness {
   };
   if (!r.success) for (const i of r.error.issues) add({ path: i.path.map(String).join("."), message: i.message });
   const vin = typeof vehicle.vin === "string" ? vehicle.vin : null;
-  for (const w of vehicleVinWarnings({ vin, vinCheckOverride: vehicle.vinCheckOverride === true })) add({ path: "vehicle.vin", message: w.message });
+  for (const w of vehicleVinWarnings({ vin, vinCheckOverride: vehicle.vinCheckOverride === true }))
+    add({ path: "vehicle.vin", message: w.message });
   return { complete: issues.length === 0, issues };
 }

@@ -66,7 +66,13 @@ export interface PayoutView {
 /** GET /api/earnings */
 export interface EarningsView {
   currency: string;
-  totals: { earnedCents: number; reversedCents: number; paidCents: number; pendingPayoutCents: number; unpaidCents: number };
+  totals: {
+    earnedCents: number;
+    reversedCents: number;
+    paidCents: number;
+    pendingPayoutCents: number;
+    unpaidCents: number;
+  };
   cases: EarningCaseView[];
   payouts: PayoutView[];
 }
@@ -78,5 +84,13 @@ export interface PayoutOverviewView {
 
 /** POST /api/admin/payouts */
 export interface PayoutRunView {
-  payouts: { id: string; expertId: string; amountCents: number; currency: string; status: string; transferId: string | null; failureMessage: string | null }[];
+  payouts: {
+    id: string;
+    expertId: string;
+    amountCents: number;
+    currency: string;
+    status: string;
+    transferId: string | null;
+    failureMessage: string | null;
+  }[];
 }

@@ -58,12 +58,22 @@ describe("reassign (admins)", () => {
     // the new expert works on it; the first no longer sees it
     expect((await b.get(`/api/cases/${caseId}`)).status).toBe(200);
     expect((await a.get(`/api/cases/${caseId}`)).status).toBe(404);
-    expect((await b.post(`/api/cases/${caseId}/request-data`).send({ message: "Capture coil 1 at idle, please." })).status).toBe(200);
+    expect(
+      (await b.post(`/api/cases/${caseId}/request-data`).send({ message: "Capture coil 1 at idle, please." })).status,
+    ).toBe(200);
     await server.mailCatcher!.waitFor((m) => m.to.includes(second.email) && /^Case handed to you/.test(m.subject));
-    const notices = server.ctx.db.select().from(schema.notification).where(eq(schema.notification.userId, first.id)).all();
+    const notices = server.ctx.db
+      .select()
+      .from(schema.notification)
+      .where(eq(schema.notification.userId, first.id))
+      .all();
     expect(notices.some((n) => n.kind === "case_reassigned" && n.caseId === caseId)).toBe(true);
     const history = await tech.get(`/api/cases/${caseId}/history`);
-    expect(history.body.items.some((i: { type: string; actorRole: string }) => i.type === "reassigned" && i.actorRole === "admin")).toBe(true);
+    expect(
+      history.body.items.some(
+        (i: { type: string; actorRole: string }) => i.type === "reassigned" && i.actorRole === "admin",
+      ),
+    ).toBe(true);
     // a queued case is claimed, not reassigned
     const { caseId: queued } = await (async () => {
       const t = await createShopTeam(server, { technicians: 1 });
@@ -82,9 +92,13 @@ describe("more data, asked again", () => {
     const e = await signIn(server, await createExpert(server, { systems: ["ignition"] }));
     const { caseId, tech, technicians } = await claimedBy(e);
     const deadline = caseRow(server, caseId).deadlineAt!.getTime();
-    expect((await e.post(`/api/cases/${caseId}/request-data`).send({ message: "Secondary on coil 2." })).status).toBe(200);
+    expect((await e.post(`/api/cases/${caseId}/request-data`).send({ message: "Secondary on coil 2." })).status).toBe(
+      200,
+    );
     clock.advance(20 * 60_000);
-    const again = await e.post(`/api/cases/${caseId}/request-data`).send({ message: "Secondary on coil 2 and coil 3, at 2500 rpm." });
+    const again = await e
+      .post(`/api/cases/${caseId}/request-data`)
+      .send({ message: "Secondary on coil 2 and coil 3, at 2500 rpm." });
     expect(again.status).toBe(200);
     expect(again.body.status).toBe("needs_data");
     expect((await tech.get(`/api/cases/${caseId}/workflow`)).body.needsDataMessage).toContain("coil 3");
@@ -106,9 +120,16 @@ describe("the workflow panel of a draft", () => {
     const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const w = await tech.get(`/api/cases/${caseId}/workflow`);
     expect(w.status, JSON.stringify(w.body)).toBe(200);
-    expect(w.body).toMatchObject({ status: "draft", payment: null, notFixedCount: 0, abilities: { submit: true, withdraw: true, claim: false } });
+    expect(w.body).toMatchObject({
+      status: "draft",
+      payment: null,
+      notFixedCount: 0,
+      abilities: { submit: true, withdraw: true, claim: false },
+    });
     expect(w.body.pricing.tiers.map((x: { id: string }) => x.id)).toEqual(["standard", "priority"]);
-    expect(server.ctx.db.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, caseId)).all()).toEqual([]);
+    expect(
+      server.ctx.db.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, caseId)).all(),
+    ).toEqual([]);
   });
 });
 

@@ -20,8 +20,23 @@ import Stripe from "stripe";
 import request from "supertest";
 import { count, eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
-import { createAdmin, createExpert, createShopTeam, signIn, type CreatedExpert, type SignedInAgent } from "../factories";
-import { caseRow, expectLedgerBalanced, fakeIntent, insertDraftCase, paymentsOf, sessionIdOf, submitAndPay } from "../helpers/queue-flow";
+import {
+  createAdmin,
+  createExpert,
+  createShopTeam,
+  signIn,
+  type CreatedExpert,
+  type SignedInAgent,
+} from "../factories";
+import {
+  caseRow,
+  expectLedgerBalanced,
+  fakeIntent,
+  insertDraftCase,
+  paymentsOf,
+  sessionIdOf,
+  submitAndPay,
+} from "../helpers/queue-flow";
 import { schema } from "../../server/db/client";
 
 let server: TestServer;
@@ -29,7 +44,12 @@ let expert: CreatedExpert;
 let admin: SignedInAgent;
 const SECRET = "whsec_burnline_hardening";
 
-const ANSWER = { diagnosis: "Open secondary on coil 2.", rootCause: "Coil 2 winding open.", recommendedFix: "Replace coil 2.", testsToConfirm: "Recapture secondary on 2." };
+const ANSWER = {
+  diagnosis: "Open secondary on coil 2.",
+  rootCause: "Coil 2 winding open.",
+  recommendedFix: "Replace coil 2.",
+  testsToConfirm: "Recapture secondary on 2.",
+};
 
 beforeAll(async () => {
   server = await startTestServer({ STRIPE_WEBHOOK_SECRET: SECRET });
@@ -61,9 +81,15 @@ describe("item 4: a refund racing the expert's answer", () => {
 
       // the refund leaves a little after the answer, by a different gap each try, so that some tries
       // land while the answer's capture is on its way to the payment service
-      const answering = e.post(`/api/cases/${caseId}/answer`).send(ANSWER).then((r) => r);
+      const answering = e
+        .post(`/api/cases/${caseId}/answer`)
+        .send(ANSWER)
+        .then((r) => r);
       await new Promise((r) => setTimeout(r, GAPS_MS[i]));
-      const [refund, answer] = await Promise.all([admin.post(`/api/admin/cases/${caseId}/refund`).send({ reason: "Race" }), answering]);
+      const [refund, answer] = await Promise.all([
+        admin.post(`/api/admin/cases/${caseId}/refund`).send({ reason: "Race" }),
+        answering,
+      ]);
       await server.fakeStripe!.idle();
       const pi = fakeIntent(server, paymentIntentId!);
       const charge = pi.latest_charge ? server.fakeStripe!.state.charges[pi.latest_charge] : null;
@@ -91,13 +117,20 @@ describe("item 5: one open checkout per case", () => {
   it("three simultaneous submits: the same session or 409, and at most one session can be paid", async () => {
     const t = await team();
     const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
-    const results = await Promise.all([1, 2, 3].map(() => t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" })));
+    const results = await Promise.all(
+      [1, 2, 3].map(() => t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" })),
+    );
     for (const r of results) expect([201, 409], JSON.stringify(r.body)).toContain(r.status);
     const created = results.filter((r) => r.status === 201);
     expect(created.length).toBeGreaterThanOrEqual(1);
     await server.fakeStripe!.idle();
-    const sessions = Object.values(server.fakeStripe!.state.checkoutSessions).filter((s) => s.client_reference_id === caseId);
-    expect(sessions.filter((s) => s.status === "open"), "open sessions at the payment service").toHaveLength(1);
+    const sessions = Object.values(server.fakeStripe!.state.checkoutSessions).filter(
+      (s) => s.client_reference_id === caseId,
+    );
+    expect(
+      sessions.filter((s) => s.status === "open"),
+      "open sessions at the payment service",
+    ).toHaveLength(1);
     // every session handed out that is not the open one was expired at the payment service
     const open = sessions.find((s) => s.status === "open")!;
     for (const r of created) {
@@ -105,7 +138,9 @@ describe("item 5: one open checkout per case", () => {
       if (id !== open.id) expect(server.fakeStripe!.state.checkoutSessions[id].status).toBe("expired");
     }
     // paying every handed-out session: one authorisation at most
-    const paid = [...new Set(created.map((r) => sessionIdOf(r.body.checkoutUrl)))].map((id) => server.fakeStripe!.pay(id, "4242424242424242"));
+    const paid = [...new Set(created.map((r) => sessionIdOf(r.body.checkoutUrl)))].map((id) =>
+      server.fakeStripe!.pay(id, "4242424242424242"),
+    );
     expect(paid.filter((p) => p.ok)).toHaveLength(1);
     await server.fakeStripe!.idle();
     expect(caseRow(server, caseId).status).toBe("queued");
@@ -158,24 +193,53 @@ describe("item 6: a case's payment is the shop's and the desk's business", () =>
 });
 
 describe("item 7: a webhook about a payment that is not ours", () => {
-  const header = (payload: string) => Stripe.webhooks.generateTestHeaderString({ payload, secret: SECRET, timestamp: Math.floor(Date.now() / 1000) });
-  const post = (payload: string) => request(server.url).post("/api/webhooks/stripe").set("Content-Type", "application/json").set("Stripe-Signature", header(payload)).send(payload);
+  const header = (payload: string) =>
+    Stripe.webhooks.generateTestHeaderString({ payload, secret: SECRET, timestamp: Math.floor(Date.now() / 1000) });
+  const post = (payload: string) =>
+    request(server.url)
+      .post("/api/webhooks/stripe")
+      .set("Content-Type", "application/json")
+      .set("Stripe-Signature", header(payload))
+      .send(payload);
   const event = (type: string, object: Record<string, unknown>) =>
-    JSON.stringify({ id: `evt_${crypto.randomUUID().replace(/-/g, "")}`, object: "event", type, created: Math.floor(Date.now() / 1000), data: { object } });
+    JSON.stringify({
+      id: `evt_${crypto.randomUUID().replace(/-/g, "")}`,
+      object: "event",
+      type,
+      created: Math.floor(Date.now() / 1000),
+      data: { object },
+    });
 
   it("is acknowledged with 2xx and stored as ignored, not answered 500", async () => {
     const payloads = [
       event("payment_intent.succeeded", { id: "pi_notours0000000000000001", object: "payment_intent", metadata: {} }),
-      event("payment_intent.amount_capturable_updated", { id: "pi_notours0000000000000002", object: "payment_intent", metadata: { paymentId: crypto.randomUUID() } }),
-      event("charge.refunded", { id: "ch_notours0000000000000003", object: "charge", payment_intent: "pi_notours0000000000000003" }),
-      event("checkout.session.completed", { id: "cs_notours0000000000000004", object: "checkout.session", payment_intent: null, metadata: {} }),
+      event("payment_intent.amount_capturable_updated", {
+        id: "pi_notours0000000000000002",
+        object: "payment_intent",
+        metadata: { paymentId: crypto.randomUUID() },
+      }),
+      event("charge.refunded", {
+        id: "ch_notours0000000000000003",
+        object: "charge",
+        payment_intent: "pi_notours0000000000000003",
+      }),
+      event("checkout.session.completed", {
+        id: "cs_notours0000000000000004",
+        object: "checkout.session",
+        payment_intent: null,
+        metadata: {},
+      }),
     ];
     for (const p of payloads) {
       const r = await post(p);
       expect(r.status, `${JSON.parse(p).type}: ${JSON.stringify(r.body)}`).toBeGreaterThanOrEqual(200);
       expect(r.status).toBeLessThan(300);
       expect(r.body).toMatchObject({ received: true, outcome: "ignored" });
-      const stored = server.ctx.db.select().from(schema.stripeEvent).where(eq(schema.stripeEvent.id, JSON.parse(p).id)).get();
+      const stored = server.ctx.db
+        .select()
+        .from(schema.stripeEvent)
+        .where(eq(schema.stripeEvent.id, JSON.parse(p).id))
+        .get();
       expect(stored?.outcome).toBe("ignored");
     }
   });
@@ -187,7 +251,10 @@ describe("item 12: bodies that are not the type the route takes", () => {
   it("a form-encoded POST /api/cases answers 415 and creates nothing", async () => {
     const t = await team();
     const before = caseCount();
-    const r = await t.tech.post("/api/cases").set("Content-Type", "application/x-www-form-urlencoded").send("complaint=misfire&system=ignition");
+    const r = await t.tech
+      .post("/api/cases")
+      .set("Content-Type", "application/x-www-form-urlencoded")
+      .send("complaint=misfire&system=ignition");
     expect(r.status).toBe(415);
     expect(r.body.error.code).toBe("unsupported_type");
     const plain = await t.tech.post("/api/cases").set("Content-Type", "text/plain").send('{"complaint":"misfire"}');
@@ -202,7 +269,10 @@ describe("item 12: bodies that are not the type the route takes", () => {
   it("a form-encoded withdraw answers 415 and leaves the case as it was", async () => {
     const t = await team();
     const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
-    const r = await t.tech.post(`/api/cases/${caseId}/withdraw`).set("Content-Type", "application/x-www-form-urlencoded").send("confirm=1");
+    const r = await t.tech
+      .post(`/api/cases/${caseId}/withdraw`)
+      .set("Content-Type", "application/x-www-form-urlencoded")
+      .send("confirm=1");
     expect(r.status).toBe(415);
     expect(caseRow(server, caseId).status).toBe("draft");
     const multipart = await t.tech.post(`/api/cases/${caseId}/withdraw`).field("confirm", "1");
@@ -217,14 +287,28 @@ describe("item 12: bodies that are not the type the route takes", () => {
   it("PATCH, PUT and admin routes refuse other types too; multipart uploads keep multipart", async () => {
     const t = await team();
     const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
-    const patch = await t.tech.patch(`/api/cases/${caseId}`).set("Content-Type", "application/x-www-form-urlencoded").send("complaint=changed");
+    const patch = await t.tech
+      .patch(`/api/cases/${caseId}`)
+      .set("Content-Type", "application/x-www-form-urlencoded")
+      .send("complaint=changed");
     expect(patch.status).toBe(415);
     expect(caseRow(server, caseId).complaint).not.toBe("changed");
-    const put = await (await signIn(server, expert)).put("/api/queue/availability").set("Content-Type", "text/plain").send("available=true");
+    const put = await (
+      await signIn(server, expert)
+    )
+      .put("/api/queue/availability")
+      .set("Content-Type", "text/plain")
+      .send("available=true");
     expect(put.status).toBe(415);
-    const pricing = await admin.put("/api/admin/pricing").set("Content-Type", "application/x-www-form-urlencoded").send("deskShareBasisPoints=0");
+    const pricing = await admin
+      .put("/api/admin/pricing")
+      .set("Content-Type", "application/x-www-form-urlencoded")
+      .send("deskShareBasisPoints=0");
     expect(pricing.status).toBe(415);
-    const csv = "Time (ms),A (V)\n" + Array.from({ length: 200 }, (_, i) => `${(i * 0.01).toFixed(2)},${i === 50 ? 8 : 0.2}`).join("\n") + "\n";
+    const csv =
+      "Time (ms),A (V)\n" +
+      Array.from({ length: 200 }, (_, i) => `${(i * 0.01).toFixed(2)},${i === 50 ? 8 : 0.2}`).join("\n") +
+      "\n";
     const up = await t.tech
       .post(`/api/cases/${caseId}/traces`)
       .field("settings", JSON.stringify({ kind: "generic", probe: "direct", voltsPerDiv: 2, timePerDivS: 0.0005 }))

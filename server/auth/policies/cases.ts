@@ -32,12 +32,21 @@ export function caseAbilities(actor: Actor, c: CaseForPolicy): CaseAbilities {
 }
 
 /** A missing case and one the actor may not see answer the same 404. */
-export function assertCanReadCase<C extends CaseForPolicy>(actor: Actor, c: C | undefined | null, what = "Case"): asserts c is C {
+export function assertCanReadCase<C extends CaseForPolicy>(
+  actor: Actor,
+  c: C | undefined | null,
+  what = "Case",
+): asserts c is C {
   authorizeRead(actor, c, what);
 }
 
 /** 404 when the case is not visible, 403 when the role may not do this, 409 `case_locked` in the wrong state. */
-export function assertCaseAction<C extends CaseForPolicy>(actor: Actor, c: C | undefined | null, action: CaseAction, what = "Case"): asserts c is C {
+export function assertCaseAction<C extends CaseForPolicy>(
+  actor: Actor,
+  c: C | undefined | null,
+  action: CaseAction,
+  what = "Case",
+): asserts c is C {
   authorize(actor, null, action, c, what);
 }
 
@@ -49,10 +58,12 @@ export function assertCanCreateCase(actor: Actor): asserts actor is Actor & { sh
 }
 
 /** Which cases a list shows the actor. */
-export type CaseListScope = { kind: "shop"; shopId: string } | { kind: "expert"; expertId: string } | { kind: "all" } | { kind: "none" };
+export type CaseListScope =
+  { kind: "shop"; shopId: string } | { kind: "expert"; expertId: string } | { kind: "all" } | { kind: "none" };
 
 export function caseListScope(actor: Actor): CaseListScope {
-  if ((actor.role === "technician" || actor.role === "owner") && actor.shopId) return { kind: "shop", shopId: actor.shopId };
+  if ((actor.role === "technician" || actor.role === "owner") && actor.shopId)
+    return { kind: "shop", shopId: actor.shopId };
   if (actor.role === "expert") return { kind: "expert", expertId: actor.id };
   if (actor.role === "admin") return { kind: "all" };
   return { kind: "none" };
@@ -60,8 +71,12 @@ export function caseListScope(actor: Actor): CaseListScope {
 
 /** The same rules in the shared Policy form (404 / 403 only; assertCaseAction also tells 409). */
 export const caseActions = ["read", ...materialActions] as const;
-export const casePolicy = definePolicy<(typeof caseActions)[number], CaseForPolicy>("Case", caseActions, (actor, action, c) => {
-  if (!canReadCase(actor, c)) return "hide";
-  if (action === "read") return "allow";
-  return can(actor, null, action, c) ? "allow" : "forbid";
-});
+export const casePolicy = definePolicy<(typeof caseActions)[number], CaseForPolicy>(
+  "Case",
+  caseActions,
+  (actor, action, c) => {
+    if (!canReadCase(actor, c)) return "hide";
+    if (action === "read") return "allow";
+    return can(actor, null, action, c) ? "allow" : "forbid";
+  },
+);

@@ -19,7 +19,11 @@ export function canJoinCase(actor: Actor, c: CaseFacts): boolean {
 }
 
 export function liveAbilities(actor: Actor, c: CaseFacts): LiveAbilities {
-  return { annotate: can(actor, null, "annotate", c), chat: can(actor, null, "chat", c), requestData: can(actor, null, "requestData", c) };
+  return {
+    annotate: can(actor, null, "annotate", c),
+    chat: can(actor, null, "chat", c),
+    requestData: can(actor, null, "requestData", c),
+  };
 }
 
 /** 404 when the case is missing or not visible to the actor (same answer for both). */
@@ -30,7 +34,11 @@ export function assertCanJoinCase<C extends CaseFacts>(actor: Actor, c: C | null
 export type LiveWrite = "annotate" | "chat" | "requestData";
 
 /** 404 when not visible, 403 for a role that may not write, 409 when the case's state does not allow it. */
-export function assertLiveWrite<C extends CaseFacts>(actor: Actor, c: C | null | undefined, what: LiveWrite): asserts c is C {
+export function assertLiveWrite<C extends CaseFacts>(
+  actor: Actor,
+  c: C | null | undefined,
+  what: LiveWrite,
+): asserts c is C {
   authorize(actor, null, what, c);
 }
 

@@ -1,6 +1,10 @@
 import { parseWith } from "../../http/validate";
 import { createAnnotationIn, deleteAnnotationIn, updateAnnotationIn } from "../../services/annotations";
-import { annotationCreateSchema, annotationDeleteSchema, annotationUpdateSchema } from "../../../shared/schemas/realtime";
+import {
+  annotationCreateSchema,
+  annotationDeleteSchema,
+  annotationUpdateSchema,
+} from "../../../shared/schemas/realtime";
 import { caseRoom } from "../../../shared/realtime";
 import type { Live, LiveSocket } from "../live";
 

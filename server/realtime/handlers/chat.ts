@@ -17,7 +17,8 @@ export function onChat(live: Live, socket: LiveSocket): void {
         run: () => postMessageIn(ctx.db, now, actor, caseId, p),
         after: (w) => {
           if (w.changed) socket.to(caseRoom(caseId)).emit("chat:message", w.record);
-          if (presence.setTyping(caseId, actor.id, false)) io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId));
+          if (presence.setTyping(caseId, actor.id, false))
+            io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId));
           return { message: w.record };
         },
       };
@@ -29,7 +30,8 @@ export function onChat(live: Live, socket: LiveSocket): void {
       const p = parseWith(chatTypingSchema, raw, "event");
       const { actor, caseId, c } = live.inRoom(socket);
       if (!liveAbilities(actor, c).chat) return;
-      if (presence.setTyping(caseId, actor.id, p.typing)) io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId));
+      if (presence.setTyping(caseId, actor.id, p.typing))
+        io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId));
     }),
   );
 }

@@ -15,7 +15,8 @@ export function onPointer(live: Live, socket: LiveSocket): void {
         live.quiet("pointer:move", () => {
           const { actor, caseId: room } = live.inRoom(socket);
           const who = { caseId: room, userId: actor.id, name: actor.name, color: actor.color };
-          const out: PointerPayload = q.traceId === null ? { ...who, traceId: null } : { ...who, traceId: q.traceId, t: q.t, v: q.v };
+          const out: PointerPayload =
+            q.traceId === null ? { ...who, traceId: null } : { ...who, traceId: q.traceId, t: q.t, v: q.v };
           socket.volatile.to(caseRoom(room)).emit("pointer", out);
         }),
       );
@@ -31,7 +32,16 @@ export function onPointer(live: Live, socket: LiveSocket): void {
         live.quiet("view:follow", () => {
           const { actor, caseId: room } = live.inRoom(socket);
           const at = ctx.now().toISOString();
-          const v: ViewPayload = { caseId: room, userId: actor.id, name: actor.name, role: actor.role, traceId: q.traceId, t0: q.t0, t1: q.t1, at };
+          const v: ViewPayload = {
+            caseId: room,
+            userId: actor.id,
+            name: actor.name,
+            role: actor.role,
+            traceId: q.traceId,
+            t0: q.t0,
+            t1: q.t1,
+            at,
+          };
           presence.setView(v);
           socket.to(caseRoom(room)).emit("view", v);
         }),

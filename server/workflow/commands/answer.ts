@@ -20,37 +20,85 @@ import { authorized } from "./authorized";
 const { caseAnswer, caseConfirmation } = schema;
 
 /** POST /api/cases/:id/answer */
-export async function answerCase(ctx: AppContext, actor: Actor, caseId: string, input: AnswerInput): Promise<AnsweredView> {
+export async function answerCase(
+  ctx: AppContext,
+  actor: Actor,
+  caseId: string,
+  input: AnswerInput,
+): Promise<AnsweredView> {
   const answerId = crypto.randomUUID();
   const now = ctx.now();
   const { result, after } = await perform(ctx, async (tx, fx) => {
     await authorized(tx, actor, "answer", caseId);
     const round = (await queueState(tx, caseId, now)).notFixedCount + 1;
-    const row = await transition(tx, { caseId, from: "claimed", to: "answered", actorId: actor.id, type: "answered", at: now, data: { answerId, round } });
-    await tx.insert(caseAnswer).values({ id: answerId, caseId, expertId: actor.id, round, ...input, createdAt: now }).run();
+    const row = await transition(tx, {
+      caseId,
+      from: "claimed",
+      to: "answered",
+      actorId: actor.id,
+      type: "answered",
+      at: now,
+      data: { answerId, round },
+    });
+    await tx
+      .insert(caseAnswer)
+      .values({ id: answerId, caseId, expertId: actor.id, round, ...input, createdAt: now })
+      .run();
     await updateQueueState(tx, caseId, now, { answeredAt: now });
     fx.push({ kind: "announce", caseId }, { kind: "capture", caseId });
-    fx.push({ kind: "notify", to: await shopRecipients(tx, row), notice: notices.caseAnswered(noticeCase(row), actor.name, round, input) });
+    fx.push({
+      kind: "notify",
+      to: await shopRecipients(tx, row),
+      notice: notices.caseAnswered(noticeCase(row), actor.name, round, input),
+    });
     return { row, round };
   });
-  const answer = { id: answerId, round: result.round, expertId: actor.id, expertName: actor.name, ...input, safetyNote: ignitionSafetyNote, createdAt: now.toISOString() };
+  const answer = {
+    id: answerId,
+    round: result.round,
+    expertId: actor.id,
+    expertName: actor.name,
+    ...input,
+    safetyNote: ignitionSafetyNote,
+    createdAt: now.toISOString(),
+  };
   return { id: result.row.id, status: result.row.status as "answered", captured: after.captured ?? false, answer };
 }
 
 type Outcome = ConfirmedView["outcome"];
 
-async function confirmInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string, input: ConfirmInput, now: Date): Promise<{ row: CaseRow; outcome: Outcome }> {
+async function confirmInUnit(
+  tx: Tx,
+  fx: Effect[],
+  actor: Actor,
+  caseId: string,
+  input: ConfirmInput,
+  now: Date,
+): Promise<{ row: CaseRow; outcome: Outcome }> {
   const { c } = await authorized(tx, actor, "confirm", caseId);
   const qs = await queueState(tx, caseId, now);
-  const last = (await tx.select().from(caseAnswer).where(eq(caseAnswer.caseId, caseId)).orderBy(asc(caseAnswer.round)).all()).at(-1);
+  const last = (
+    await tx.select().from(caseAnswer).where(eq(caseAnswer.caseId, caseId)).orderBy(asc(caseAnswer.round)).all()
+  ).at(-1);
   const note = input.note || null;
   const rating = input.rating ?? null;
   await tx
     .insert(caseConfirmation)
-    .values({ id: crypto.randomUUID(), caseId, answerId: last?.id ?? null, userId: actor.id, expertId: c.expertId, fixed: input.fixed, note, rating, createdAt: now })
+    .values({
+      id: crypto.randomUUID(),
+      caseId,
+      answerId: last?.id ?? null,
+      userId: actor.id,
+      expertId: c.expertId,
+      fixed: input.fixed,
+      note,
+      rating,
+      createdAt: now,
+    })
     .run();
   const data = { fixed: input.fixed, note, rating };
-  const move = (to: "resolved" | "claimed" | "closed", type: string) => transition(tx, { caseId, from: "answered", to, actorId: actor.id, type, at: now, data });
+  const move = (to: "resolved" | "claimed" | "closed", type: string) =>
+    transition(tx, { caseId, from: "answered", to, actorId: actor.id, type, at: now, data });
   let row: CaseRow;
   let outcome: Outcome;
   if (input.fixed) {
@@ -66,14 +114,24 @@ async function confirmInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string,
   fx.unshift({ kind: "announce", caseId });
   if (row.expertId) {
     const n = noticeCase(row);
-    const notice = outcome === "resolved" ? notices.fixConfirmed(n, input.rating) : outcome === "reopened" ? notices.notFixed(n, input.note) : notices.closedNotFixed(n);
+    const notice =
+      outcome === "resolved"
+        ? notices.fixConfirmed(n, input.rating)
+        : outcome === "reopened"
+          ? notices.notFixed(n, input.note)
+          : notices.closedNotFixed(n);
     fx.unshift({ kind: "notify", to: [row.expertId], notice });
   }
   return { row, outcome };
 }
 
 /** POST /api/cases/:id/confirm */
-export async function confirmCase(ctx: AppContext, actor: Actor, caseId: string, input: ConfirmInput): Promise<ConfirmedView> {
+export async function confirmCase(
+  ctx: AppContext,
+  actor: Actor,
+  caseId: string,
+  input: ConfirmInput,
+): Promise<ConfirmedView> {
   const { result } = await perform(ctx, (tx, fx) => confirmInUnit(tx, fx, actor, caseId, input, ctx.now()));
   return { id: result.row.id, status: result.row.status as ConfirmedView["status"], outcome: result.outcome };
 }

@@ -35,8 +35,20 @@ export async function claimCase(ctx: AppContext, actor: Actor, caseId: string): 
     const { profile } = await authorized(tx, actor, "claim", caseId);
     await assertUnderLimit(tx, actor.id, profile!.maxOpenCases, "you");
     const set = { expertId: actor.id, claimedAt: now };
-    const row = await transition(tx, { caseId, from: "queued", to: "claimed", actorId: actor.id, type: "claimed", at: now, set, code: "already_claimed" });
-    fx.push({ kind: "announce", caseId }, { kind: "notify", to: await shopRecipients(tx, row), notice: notices.caseClaimed(noticeCase(row), actor.name) });
+    const row = await transition(tx, {
+      caseId,
+      from: "queued",
+      to: "claimed",
+      actorId: actor.id,
+      type: "claimed",
+      at: now,
+      set,
+      code: "already_claimed",
+    });
+    fx.push(
+      { kind: "announce", caseId },
+      { kind: "notify", to: await shopRecipients(tx, row), notice: notices.caseClaimed(noticeCase(row), actor.name) },
+    );
     return row;
   });
   return result;
@@ -48,14 +60,32 @@ export async function releaseCase(ctx: AppContext, actor: Actor, caseId: string)
     const now = ctx.now();
     await authorized(tx, actor, "release", caseId);
     const set = { expertId: null, claimedAt: null };
-    const row = await transition(tx, { caseId, from: "claimed", to: "queued", actorId: actor.id, type: "released", at: now, set });
-    fx.push({ kind: "announce", caseId }, { kind: "notify", to: await shopRecipients(tx, row), notice: notices.caseReleased(noticeCase(row)) });
+    const row = await transition(tx, {
+      caseId,
+      from: "claimed",
+      to: "queued",
+      actorId: actor.id,
+      type: "released",
+      at: now,
+      set,
+    });
+    fx.push(
+      { kind: "announce", caseId },
+      { kind: "notify", to: await shopRecipients(tx, row), notice: notices.caseReleased(noticeCase(row)) },
+    );
     return row;
   });
   return result;
 }
 
-async function reassignInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string, expertId: string, now: Date): Promise<CaseRow> {
+async function reassignInUnit(
+  tx: Tx,
+  fx: Effect[],
+  actor: Actor,
+  caseId: string,
+  expertId: string,
+  now: Date,
+): Promise<CaseRow> {
   const { c } = await authorized(tx, actor, "reassign", caseId);
   const target = await tx
     .select({ p: schema.expertProfile, deactivatedAt: schema.user.deactivatedAt })
@@ -70,8 +100,20 @@ async function reassignInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string
   await assertUnderLimit(tx, expertId, target.p.maxOpenCases, "the expert");
   const status = c.status as CaseStatus;
   const data = { from: c.expertId, to: expertId };
-  const row = await transition(tx, { caseId, from: status, to: status, actorId: actor.id, type: "reassigned", at: now, data, set: { expertId, claimedAt: now } });
-  fx.push({ kind: "announce", caseId }, { kind: "notify", to: [expertId], notice: notices.caseReassignedToYou(noticeCase(row)) });
+  const row = await transition(tx, {
+    caseId,
+    from: status,
+    to: status,
+    actorId: actor.id,
+    type: "reassigned",
+    at: now,
+    data,
+    set: { expertId, claimedAt: now },
+  });
+  fx.push(
+    { kind: "announce", caseId },
+    { kind: "notify", to: [expertId], notice: notices.caseReassignedToYou(noticeCase(row)) },
+  );
   if (c.expertId) fx.push({ kind: "notify", to: [c.expertId], notice: notices.caseReassignedAway(noticeCase(row)) });
   return row;
 }

@@ -20,17 +20,40 @@ export async function requestData(ctx: AppContext, actor: Actor, caseId: string,
     const now = ctx.now();
     const { c } = await authorized(tx, actor, "requestData", caseId);
     const waiting = c.status === "needs_data";
-    const row = await transition(tx, { caseId, from: ["claimed", "needs_data"], to: "needs_data", actorId: actor.id, type: "data_requested", at: now, data: { message } });
+    const row = await transition(tx, {
+      caseId,
+      from: ["claimed", "needs_data"],
+      to: "needs_data",
+      actorId: actor.id,
+      type: "data_requested",
+      at: now,
+      data: { message },
+    });
     const since = waiting ? ((await queueState(tx, caseId, now)).needsDataSince ?? now) : now;
     await updateQueueState(tx, caseId, now, { needsDataSince: since, needsDataMessage: message });
-    fx.push({ kind: "announce", caseId }, { kind: "notify", to: await shopRecipients(tx, row), notice: notices.dataRequested(noticeCase(row), actor.name, message) });
+    fx.push(
+      { kind: "announce", caseId },
+      {
+        kind: "notify",
+        to: await shopRecipients(tx, row),
+        notice: notices.dataRequested(noticeCase(row), actor.name, message),
+      },
+    );
     return row;
   });
   return result;
 }
 
 /** needs_data → claimed, inside a unit; null when the case was not waiting for data. */
-async function dataReceivedInUnit(tx: Tx, fx: Effect[], caseId: string, actorId: string | null, how: "sent" | "uploaded", now: Date, note?: string): Promise<CaseRow | null> {
+async function dataReceivedInUnit(
+  tx: Tx,
+  fx: Effect[],
+  caseId: string,
+  actorId: string | null,
+  how: "sent" | "uploaded",
+  now: Date,
+  note?: string,
+): Promise<CaseRow | null> {
   const c = await getCaseRow(tx, caseId);
   if (!c || c.status !== "needs_data") return null;
   const qs = await queueState(tx, caseId, now);
@@ -48,7 +71,8 @@ async function dataReceivedInUnit(tx: Tx, fx: Effect[], caseId: string, actorId:
   });
   await updateQueueState(tx, caseId, now, { needsDataSince: null, deadlineWarnedAt: null });
   fx.push({ kind: "announce", caseId });
-  if (row.expertId) fx.push({ kind: "notify", to: [row.expertId], notice: notices.dataSent(noticeCase(row), how, note) });
+  if (row.expertId)
+    fx.push({ kind: "notify", to: [row.expertId], notice: notices.dataSent(noticeCase(row), how, note) });
   return row;
 }
 
@@ -65,6 +89,10 @@ export async function markDataSent(ctx: AppContext, actor: Actor, caseId: string
  * For the uploads: call after a trace or photo was added to a case. A case waiting for more data
  * goes back to its expert (materialArrives); any other case is left as it is.
  */
-export async function noteNewMaterial(ctx: AppContext, caseId: string, actorId: string | null): Promise<CaseRow | null> {
+export async function noteNewMaterial(
+  ctx: AppContext,
+  caseId: string,
+  actorId: string | null,
+): Promise<CaseRow | null> {
   return (await perform(ctx, (tx, fx) => dataReceivedInUnit(tx, fx, caseId, actorId, "uploaded", ctx.now()))).result;
 }

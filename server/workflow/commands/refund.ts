@@ -27,18 +27,36 @@ export async function refundCase(ctx: AppContext, actor: Actor, caseId: string, 
     const { c } = await authorized(tx, actor, "refund", caseId);
     const p = await currentPayment(tx, caseId);
     if (!p || (p.status !== "authorized" && p.status !== "captured")) {
-      throw conflict("not_refundable", `There is no held or captured payment on this case${p ? ` (its payment is ${p.status})` : ""}.`);
+      throw conflict(
+        "not_refundable",
+        `There is no held or captured payment on this case${p ? ` (its payment is ${p.status})` : ""}.`,
+      );
     }
     if (OPEN.includes(c.status as CaseStatus)) {
-      await transition(tx, { caseId, from: OPEN, to: "refunded", actorId: actor.id, type: "refunded_by_desk", at: now, data: { reason: reason ?? null } });
+      await transition(tx, {
+        caseId,
+        from: OPEN,
+        to: "refunded",
+        actorId: actor.id,
+        type: "refunded_by_desk",
+        at: now,
+        data: { reason: reason ?? null },
+      });
     }
-    fx.push({ kind: "announce", caseId }, { kind: "returnMoney", caseId, reason: "requested_by_customer", note: reason });
+    fx.push(
+      { kind: "announce", caseId },
+      { kind: "returnMoney", caseId, reason: "requested_by_customer", note: reason },
+    );
   });
   const back = after.moneyBack;
   if (!back || back.outcome === "nothing" || back.outcome === "expired") {
     const failure = back && back.outcome === "nothing" ? back : null;
     if (failure?.error && isUnreachable(failure.error)) {
-      throw new HttpError(502, "payment_unavailable", "The payment service did not answer; nothing was refunded yet. Try again in a moment.");
+      throw new HttpError(
+        502,
+        "payment_unavailable",
+        "The payment service did not answer; nothing was refunded yet. Try again in a moment.",
+      );
     }
     const said = failure?.error instanceof Error ? ` The payment service said: ${failure.error.message}` : "";
     throw conflict("not_refundable", `${failure?.why ?? "Nothing was given back."}${said}`);
@@ -46,6 +64,11 @@ export async function refundCase(ctx: AppContext, actor: Actor, caseId: string, 
   return ctx.db.read(async (tx) => {
     const row = (await getCaseRow(tx, caseId))!;
     const p = (await currentPayment(tx, caseId))!;
-    return { id: caseId, status: row.status as CaseStatus, payment: presentPayment(p), balance: await ledgerBalance(tx, caseId) } satisfies RefundView;
+    return {
+      id: caseId,
+      status: row.status as CaseStatus,
+      payment: presentPayment(p),
+      balance: await ledgerBalance(tx, caseId),
+    } satisfies RefundView;
   });
 }

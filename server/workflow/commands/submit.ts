@@ -22,12 +22,22 @@ import { authorized } from "./authorized";
 /** A checkout still being prepared after this long was interrupted; a new submit replaces it. */
 const PREPARING_MS = 2 * 60_000;
 
-async function submitInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string, tierId: string, now: Date): Promise<{ p: PaymentRow; label: string }> {
+async function submitInUnit(
+  tx: Tx,
+  fx: Effect[],
+  actor: Actor,
+  caseId: string,
+  tierId: string,
+  now: Date,
+): Promise<{ p: PaymentRow; label: string }> {
   const { c } = await authorized(tx, actor, "submit", caseId);
   const ready = readinessOfRow(c);
   if (!ready.complete) {
     const what = ready.issues.map((i) => i.message.replace(/\.$/, "")).join("; ");
-    throw conflict("case_incomplete", `The case is not ready for the desk: ${what}.`, { missing: ready.issues.map((i) => i.path), issues: ready.issues });
+    throw conflict("case_incomplete", `The case is not ready for the desk: ${what}.`, {
+      missing: ready.issues.map((i) => i.path),
+      issues: ready.issues,
+    });
   }
   const { tier, pricing } = await quoteTier(tx, tierId);
   const open = await tx
@@ -36,14 +46,30 @@ async function submitInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string, 
     .where(and(eq(schema.payment.caseId, caseId), inArray(schema.payment.status, [...OPEN_CHECKOUT])))
     .all();
   if (open.some((p) => p.status === "creating" && now.getTime() - p.createdAt.getTime() < PREPARING_MS)) {
-    throw conflict("checkout_in_progress", "A checkout for this case is being prepared right now; open the case in a moment to pay it.");
+    throw conflict(
+      "checkout_in_progress",
+      "A checkout for this case is being prepared right now; open the case in a moment to pay it.",
+    );
   }
   const set = { tier: tier.id, priceCents: tier.priceCents };
   const data = { tier: tier.id, priceCents: tier.priceCents };
   if (c.status === "draft") {
-    await transition(tx, { caseId, from: "draft", to: "awaiting_payment", actorId: actor.id, type: "submitted", at: now, data, set });
+    await transition(tx, {
+      caseId,
+      from: "draft",
+      to: "awaiting_payment",
+      actorId: actor.id,
+      type: "submitted",
+      at: now,
+      data,
+      set,
+    });
   } else {
-    await tx.update(schema.caseTable).set({ ...set, updatedAt: now }).where(eq(schema.caseTable.id, caseId)).run();
+    await tx
+      .update(schema.caseTable)
+      .set({ ...set, updatedAt: now })
+      .where(eq(schema.caseTable.id, caseId))
+      .run();
     await recordCaseEvent(tx, { caseId, actorId: actor.id, type: "payment_restarted", at: now, data });
   }
   const row: PaymentRow = {
@@ -90,5 +116,12 @@ export async function submitCase(ctx: AppContext, actor: Actor, caseId: string, 
   const { result } = await perform(ctx, (tx, fx) => submitInUnit(tx, fx, actor, caseId, tierId, ctx.now()));
   const { p, label } = result;
   const { checkoutUrl } = await openCheckout(ctx, p, `${p.tierLabel} second opinion — ${label}`);
-  return { checkoutUrl, paymentId: p.id, tier: p.tier, amountCents: p.amountCents, currency: p.currency, deadlineMinutes: p.deadlineMinutes } satisfies CheckoutView;
+  return {
+    checkoutUrl,
+    paymentId: p.id,
+    tier: p.tier,
+    amountCents: p.amountCents,
+    currency: p.currency,
+    deadlineMinutes: p.deadlineMinutes,
+  } satisfies CheckoutView;
 }

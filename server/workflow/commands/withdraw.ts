@@ -18,12 +18,20 @@ import { authorized } from "./authorized";
 
 async function withdrawInUnit(tx: Tx, fx: Effect[], actor: Actor, caseId: string, now: Date): Promise<CaseRow> {
   const { c } = await authorized(tx, actor, "withdraw", caseId);
-  const row = await transition(tx, { caseId, from: ["draft", "awaiting_payment", "queued"], to: "withdrawn", actorId: actor.id, type: "withdrawn", at: now });
+  const row = await transition(tx, {
+    caseId,
+    from: ["draft", "awaiting_payment", "queued"],
+    to: "withdrawn",
+    actorId: actor.id,
+    type: "withdrawn",
+    at: now,
+  });
   fx.push({ kind: "announce", caseId });
   if (c.status !== "draft") {
     fx.push({ kind: "returnMoney", caseId, reason: "requested_by_customer" }, { kind: "releaseStrayHolds", caseId });
   }
-  if (c.status === "queued") fx.push({ kind: "notify", to: await offeredExperts(tx, caseId), notice: notices.caseWithdrawn(noticeCase(row)) });
+  if (c.status === "queued")
+    fx.push({ kind: "notify", to: await offeredExperts(tx, caseId), notice: notices.caseWithdrawn(noticeCase(row)) });
   return row;
 }
 

@@ -35,11 +35,15 @@ async function seedCase(tx: Tx, status = "queued"): Promise<string> {
   const shopId = crypto.randomUUID();
   const id = crypto.randomUUID();
   await tx.insert(schema.shop).values({ id: shopId, name: "Test bay", createdAt: now }).run();
-  await tx.insert(schema.caseTable).values({ id, shopId, status, codes: [], symptoms: [], createdAt: now, updatedAt: now }).run();
+  await tx
+    .insert(schema.caseTable)
+    .values({ id, shopId, status, codes: [], symptoms: [], createdAt: now, updatedAt: now })
+    .run();
   return id;
 }
 
-const notes = (db: Db, caseId: string) => db.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, caseId)).get();
+const notes = (db: Db, caseId: string) =>
+  db.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, caseId)).get();
 
 describe("the embedded seam (better-sqlite3)", () => {
   it("runs read-modify-write units one at a time: no update is lost", async () => {
@@ -116,9 +120,15 @@ describe("the same workflow code on the asynchronous libSQL driver", () => {
     await migrateLibsql(ldb, { migrationsFolder: path.resolve("server/db/migrations") });
     const uow = asyncUnitOfWork(ldb as never);
     const caseId = await uow.write((tx) => seedCase(tx));
-    const row = await uow.write((tx) => transition(tx, { caseId, from: "queued", to: "claimed", actorId: null, type: "claimed", at: now }));
+    const row = await uow.write((tx) =>
+      transition(tx, { caseId, from: "queued", to: "claimed", actorId: null, type: "claimed", at: now }),
+    );
     expect(row.status).toBe("claimed");
-    await expect(uow.write((tx) => transition(tx, { caseId, from: "queued", to: "claimed", actorId: null, type: "claimed", at: now }))).rejects.toMatchObject({
+    await expect(
+      uow.write((tx) =>
+        transition(tx, { caseId, from: "queued", to: "claimed", actorId: null, type: "claimed", at: now }),
+      ),
+    ).rejects.toMatchObject({
       status: 409,
       code: "invalid_transition",
     });
@@ -126,7 +136,10 @@ describe("the same workflow code on the asynchronous libSQL driver", () => {
     expect(history.map((h) => [h.type, h.fromStatus, h.toStatus])).toEqual([["claimed", "queued", "claimed"]]);
     // concurrent read-modify-write units: the driver's transactions keep every update
     await uow.write(async (tx) => updateQueueState(tx, caseId, now, { notFixedCount: 0 }));
-    const bump = () => uow.write(async (tx) => updateQueueState(tx, caseId, now, { notFixedCount: (await queueState(tx, caseId, now)).notFixedCount + 1 }));
+    const bump = () =>
+      uow.write(async (tx) =>
+        updateQueueState(tx, caseId, now, { notFixedCount: (await queueState(tx, caseId, now)).notFixedCount + 1 }),
+      );
     for (let i = 0; i < 5; i++) await bump();
     expect((await uow.read((tx) => queueState(tx, caseId, now))).notFixedCount).toBe(5);
     client.close();

@@ -21,16 +21,30 @@ const actors: Record<Who, { actor: Actor; profile: ExpertFacts | null }> = {
   techA: { actor: { id: "t1", email: "t1@x.test", name: "T1", role: "technician", shopId: "A" }, profile: null },
   ownerA: { actor: { id: "o1", email: "o1@x.test", name: "O1", role: "owner", shopId: "A" }, profile: null },
   techB: { actor: { id: "t2", email: "t2@x.test", name: "T2", role: "technician", shopId: "B" }, profile: null },
-  expertOnCase: { actor: { id: "e1", email: "e1@x.test", name: "E1", role: "expert", shopId: null }, profile: { userId: "e1", status: "approved" } },
-  otherExpert: { actor: { id: "e2", email: "e2@x.test", name: "E2", role: "expert", shopId: null }, profile: { userId: "e2", status: "approved" } },
-  pendingExpert: { actor: { id: "e3", email: "e3@x.test", name: "E3", role: "expert", shopId: null }, profile: { userId: "e3", status: "pending" } },
+  expertOnCase: {
+    actor: { id: "e1", email: "e1@x.test", name: "E1", role: "expert", shopId: null },
+    profile: { userId: "e1", status: "approved" },
+  },
+  otherExpert: {
+    actor: { id: "e2", email: "e2@x.test", name: "E2", role: "expert", shopId: null },
+    profile: { userId: "e2", status: "approved" },
+  },
+  pendingExpert: {
+    actor: { id: "e3", email: "e3@x.test", name: "E3", role: "expert", shopId: null },
+    profile: { userId: "e3", status: "pending" },
+  },
   admin: { actor: { id: "a1", email: "a1@x.test", name: "A1", role: "admin", shopId: null }, profile: null },
 };
 const whos = Object.keys(actors) as Who[];
 
 /** States in which a case has its expert (claimed, and what follows the claim). */
 const WITH_EXPERT: CaseStatus[] = ["claimed", "needs_data", "answered", "resolved", "closed"];
-const caseIn = (status: CaseStatus): CaseFacts => ({ id: "c1", shopId: "A", status, expertId: WITH_EXPERT.includes(status) ? "e1" : null });
+const caseIn = (status: CaseStatus): CaseFacts => ({
+  id: "c1",
+  shopId: "A",
+  status,
+  expertId: WITH_EXPERT.includes(status) ? "e1" : null,
+});
 
 /** docs/api.md: who sees the case. */
 function sees(who: Who, status: CaseStatus): boolean {
@@ -69,14 +83,24 @@ const rules: Partial<Record<CaseAction, Rule>> = {
   // Queue and payments.
   submit: { may: SHOP, states: ["draft", "awaiting_payment"], code: "invalid_transition" },
   withdraw: { may: SHOP, states: ["draft", "awaiting_payment", "queued"], code: "invalid_transition" },
-  claim: { may: ["expertOnCase", "otherExpert"], states: ["queued"], code: "already_claimed", onlyFor: "approvedExperts" },
+  claim: {
+    may: ["expertOnCase", "otherExpert"],
+    states: ["queued"],
+    code: "already_claimed",
+    onlyFor: "approvedExperts",
+  },
   release: { may: ["assigned", "admin"], states: ["claimed"], code: "invalid_transition" },
   reassign: { may: ["admin"], states: ["claimed", "needs_data"], code: "invalid_transition", onlyFor: "admins" },
   requestData: { may: ["assigned"], states: ["claimed", "needs_data"], code: "invalid_transition" },
   dataSent: { may: SHOP, states: ["needs_data"], code: "invalid_transition" },
   answer: { may: ["assigned"], states: ["claimed"], code: "invalid_transition" },
   confirm: { may: SHOP, states: ["answered"], code: "invalid_transition" },
-  refund: { may: ["admin"], states: ["queued", "claimed", "needs_data", "answered", "resolved", "closed"], code: "not_refundable", onlyFor: "admins" },
+  refund: {
+    may: ["admin"],
+    states: ["queued", "claimed", "needs_data", "answered", "resolved", "closed"],
+    code: "not_refundable",
+    onlyFor: "admins",
+  },
   // Issue 12 item 6: a case's payment for the shop's members and admins, not experts.
   viewPayment: { may: [...SHOP, "admin"], states: ALL, code: "" },
   viewAnswers: { may: [...SHOP, "assigned", "admin"], states: ALL, code: "" },
@@ -90,7 +114,8 @@ function expected(action: CaseAction, who: Who, status: CaseStatus): { status: n
   if (r.onlyFor === "approvedExperts" && !approved) return { status: 403, code: "forbidden" };
   if (r.onlyFor === "admins" && who !== "admin") return { status: 403, code: "forbidden" };
   // claim: approved experts know every case that has been paid for (a claim that lost answers 409)
-  const seen = sees(who, status) || (action === "claim" && approved && status !== "draft" && status !== "awaiting_payment");
+  const seen =
+    sees(who, status) || (action === "claim" && approved && status !== "draft" && status !== "awaiting_payment");
   if (!seen) return { status: 404, code: "not_found" };
   const allowedWho = r.may.includes(who) || (r.may.includes("assigned") && assigned);
   if (!allowedWho) return { status: 403, code: "forbidden" };
@@ -117,7 +142,16 @@ describe("the action table through the case policy", () => {
   }
 
   it("refuses the desk's own moves (payment, sweeps) to every signed-in role", () => {
-    const deskActions: CaseAction[] = ["pay", "paymentFails", "materialArrives", "widenOffers", "warnDeadline", "missDeadline", "holdEnds", "closeUnconfirmed"];
+    const deskActions: CaseAction[] = [
+      "pay",
+      "paymentFails",
+      "materialArrives",
+      "widenOffers",
+      "warnDeadline",
+      "missDeadline",
+      "holdEnds",
+      "closeUnconfirmed",
+    ];
     for (const action of deskActions) {
       for (const status of caseStatuses) {
         for (const who of whos) {
