@@ -12,12 +12,12 @@
  * (a promise chain), each inside `BEGIN IMMEDIATE … COMMIT` (`BEGIN … COMMIT` for reads). Because the
  * body awaits only answers that are already there, a unit finishes within one pass of the microtask
  * queue; a unit still open when the event loop reaches its next check phase has awaited something
- * else (a payment call, a mail, a timer) and is rolled back with an error. A unit inside a unit is an
- * error too (pass `tx` down instead). A body that fails before it has written anything commits
- * instead of rolling back, so a synchronous write of other code that ran in one of its microtask gaps
- * (uploads, live marks) is never undone with it.
+ * else (a payment call, a mail, a timer, a unit inside the unit — pass `tx` down instead) and is
+ * rolled back there and then with an error, freeing the connection. A body that fails before it has
+ * written anything commits instead of rolling back, so a synchronous write of other code that ran in
+ * one of its microtask gaps (uploads, live marks) is never undone with it. (No AsyncLocalStorage: on
+ * Node 20 it turns on promise hooks for every promise of the process, live layer included.)
  */
-import { AsyncLocalStorage } from "node:async_hooks";
 import type Database from "better-sqlite3";
 import type { BaseSQLiteDatabase } from "drizzle-orm/sqlite-core";
 import type { BetterSQLite3Database } from "drizzle-orm/better-sqlite3";
@@ -41,7 +41,6 @@ export class UnitOfWorkError extends Error {
 }
 
 const WRITES = new Set(["insert", "update", "delete", "run", "batch"]);
-const openUnit = new AsyncLocalStorage<true>();
 
 /**
  * The seam over one better-sqlite3 connection. `txDb` is a drizzle instance on the same connection
@@ -50,49 +49,10 @@ const openUnit = new AsyncLocalStorage<true>();
 export function embeddedUnitOfWork(sqlite: Database.Database, txDb: BetterSQLite3Database<typeof schema>): UnitOfWork {
   let tail: Promise<unknown> = Promise.resolve();
 
-  function serialized<T>(fn: () => Promise<T>): Promise<T> {
-    if (openUnit.getStore()) {
-      return Promise.reject(
-        new UnitOfWorkError("A unit of work was opened inside another one; pass its tx down instead."),
-      );
-    }
-    const run = tail.then(() => openUnit.run(true, fn));
+  function unit<T>(mode: "write" | "read", body: (tx: Tx) => Promise<T>): Promise<T> {
+    const run = tail.then(() => runUnit(sqlite, txDb, mode, body));
     tail = run.catch(() => undefined);
     return run;
-  }
-
-  async function unit<T>(mode: "write" | "read", body: (tx: Tx) => Promise<T>): Promise<T> {
-    return serialized(async () => {
-      sqlite.exec(mode === "write" ? "BEGIN IMMEDIATE" : "BEGIN");
-      let open = true;
-      let wrote = false;
-      let spanned = false;
-      const guard = setImmediate(() => {
-        if (open) spanned = true;
-      });
-      const tx = new Proxy(txDb, {
-        get(target, prop, receiver) {
-          if (typeof prop === "string" && WRITES.has(prop)) {
-            if (mode === "read") throw new UnitOfWorkError(`"${prop}" inside a read unit; use db.write.`);
-            wrote = true;
-          }
-          return Reflect.get(target, prop, receiver);
-        },
-      }) as unknown as Tx;
-      try {
-        const out = await body(tx);
-        if (spanned)
-          throw new UnitOfWorkError("A unit of work awaited something other than the database; it was rolled back.");
-        sqlite.exec("COMMIT");
-        return out;
-      } catch (err) {
-        if (sqlite.inTransaction) sqlite.exec(wrote || spanned ? "ROLLBACK" : "COMMIT");
-        throw err;
-      } finally {
-        open = false;
-        clearImmediate(guard);
-      }
-    });
   }
 
   return {
@@ -101,9 +61,65 @@ export function embeddedUnitOfWork(sqlite: Database.Database, txDb: BetterSQLite
   };
 }
 
-/** True while the current async context is inside a unit (for assertions in other layers). */
-export function insideUnit(): boolean {
-  return openUnit.getStore() === true;
+/**
+ * One unit on the connection. It settles when its body does — or, if the body is still running when
+ * the event loop reaches its check phase (it awaited something other than the database, or a unit
+ * inside itself), it is rolled back there and then, fails with UnitOfWorkError and frees the
+ * connection for the next unit; its tx refuses any further statement.
+ */
+function runUnit<T>(
+  sqlite: Database.Database,
+  txDb: BetterSQLite3Database<typeof schema>,
+  mode: "write" | "read",
+  body: (tx: Tx) => Promise<T>,
+): Promise<T> {
+  return new Promise<T>((resolve, reject) => {
+    sqlite.exec(mode === "write" ? "BEGIN IMMEDIATE" : "BEGIN");
+    let settled = false;
+    let wrote = false;
+    let dead = false;
+    const end = (how: "COMMIT" | "ROLLBACK", then: () => void) => {
+      if (settled) return;
+      settled = true;
+      clearImmediate(guard);
+      try {
+        if (sqlite.inTransaction) sqlite.exec(how);
+      } catch (err) {
+        if (sqlite.inTransaction) sqlite.exec("ROLLBACK");
+        reject(err);
+        return;
+      }
+      then();
+    };
+    const guard = setImmediate(() => {
+      dead = true;
+      end("ROLLBACK", () =>
+        reject(
+          new UnitOfWorkError(
+            "A unit of work awaited something other than the database (or opened a unit inside itself); it was rolled back.",
+          ),
+        ),
+      );
+    });
+    const tx = new Proxy(txDb, {
+      get(target, prop, receiver) {
+        if (dead) throw new UnitOfWorkError("This unit of work was rolled back; its tx can no longer be used.");
+        if (typeof prop === "string" && WRITES.has(prop)) {
+          if (mode === "read") throw new UnitOfWorkError(`"${prop}" inside a read unit; use db.write.`);
+          wrote = true;
+        }
+        return Reflect.get(target, prop, receiver);
+      },
+    }) as unknown as Tx;
+    Promise.resolve()
+      .then(() => body(tx))
+      .then(
+        (out) => end("COMMIT", () => resolve(out)),
+        // nothing of the unit's own to undo: commit, so a synchronous write of other code that ran in
+        // one of its microtask gaps is kept
+        (err) => end(wrote ? "ROLLBACK" : "COMMIT", () => reject(err)),
+      );
+  });
 }
 
 /**
