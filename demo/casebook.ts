@@ -4,9 +4,9 @@
  * demo) combined with invented vehicles by a seeded generator, so every seed gives the same list.
  */
 import type { AppContext } from "../server/context";
-import type { CreatedUser } from "../tests/factories/users";
+import type { CreatedUser } from "./builders/users";
 import type { VehicleSystem } from "../shared/domain/case-status";
-import { createRng } from "../tests/helpers/prng";
+import { createRng } from "./builders/prng";
 import { DEMO_MAKES } from "./people";
 import { DEMO_MODELS } from "./vehicles";
 import { insertCasebookEntries, type CasebookEntryInput } from "../server/services/casebook";

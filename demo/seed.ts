@@ -16,16 +16,20 @@ import { count, eq } from "drizzle-orm";
 import type { AppContext } from "../server/context";
 import { schema } from "../server/db/client";
 import type { Actor } from "../server/auth/session";
-import { createShop } from "../tests/factories/shops";
-import { createAdmin, createUser, type CreatedUser } from "../tests/factories/users";
-import { createExpert } from "../tests/factories/experts";
+import { createShop } from "./builders/shops";
+import { createAdmin, createUser, type CreatedUser } from "./builders/users";
+import { createExpert } from "./builders/experts";
 import { createCase } from "../server/services/cases";
 import { addTrace, type TraceRow } from "../server/services/traces";
 import { storageLayout } from "../server/services/storage";
-import { currentPayment, reconcilePayment, releaseHold, startCheckout } from "../server/services/payments-flow";
-import { announceCase, loadCase, transitionCase } from "../server/services/case-state";
-import { claimCase, requestData, withdrawCase } from "../server/services/queue";
-import { answerCase, confirmCase } from "../server/services/answers";
+import { getCaseRow } from "../server/workflow/records";
+import { submitCase } from "../server/workflow/commands/submit";
+import { refreshPayment } from "../server/workflow/commands/payment-events";
+import { withdrawCase } from "../server/workflow/commands/withdraw";
+import { refundCase } from "../server/workflow/commands/refund";
+import { claimCase } from "../server/workflow/commands/claim";
+import { requestData } from "../server/workflow/commands/data";
+import { answerCase, confirmCase } from "../server/workflow/commands/answer";
 import { createAnnotation, withColor } from "../server/services/annotations";
 import { postMessage } from "../server/services/messages";
 import { caseDraftSchema } from "../shared/schemas/case";
@@ -113,8 +117,8 @@ async function payCheckout(ctx: AppContext, checkoutUrl: string, paymentId: stri
   if (!m) throw new Error(`demo seed: not a checkout URL of the local fake: ${checkoutUrl}`);
   const res = await fetch(`${base}/_test/checkout/${m[1]}/pay`, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify({ card: TEST_CARD }) });
   if (!res.ok) throw new Error(`demo seed: the fake checkout refused the test card (${res.status}): ${await res.text()}`);
-  // The webhook does the same a moment later; reconciling now does not wait for it (idempotent).
-  await reconcilePayment(ctx, paymentId);
+  // The webhook does the same a moment later; reading the payment now does not wait for it (idempotent).
+  await refreshPayment(ctx, paymentId);
 }
 
 /** Evenly spaced minutes in [from, to]. */
@@ -138,7 +142,7 @@ async function runStory(
   const at = (after: number) => clock.at(c.openedAt + after);
 
   at(0);
-  const row = createCase(ctx, tech, caseDraftSchema.parse(c.draft));
+  const row = await createCase(ctx, tech, caseDraftSchema.parse(c.draft));
   const caseId = row.id;
   out.cases[c.key] = caseId;
 
@@ -154,7 +158,7 @@ async function runStory(
 
   const paidAt = c.paidAfter ?? 10;
   at(paidAt - 2);
-  const checkout = await startCheckout(ctx, tech, caseId, c.tier ?? "standard");
+  const checkout = await submitCase(ctx, tech, caseId, c.tier ?? "standard");
   if (c.final === "awaiting_payment") return;
   at(paidAt);
   log(`  checkout ${checkout.paymentId}`);
@@ -167,17 +171,9 @@ async function runStory(
     return;
   }
   if (c.refundedAfter != null) {
-    // What the desk's refund does for a held payment (server/routes/billing.ts): the case
-    // becomes refunded and the hold is cancelled.
+    // The desk's refund of a held payment: the case becomes refunded and the hold is released.
     at(c.refundedAfter);
-    const p = currentPayment(ctx.db, caseId);
-    const now = ctx.now();
-    const cur = loadCase(ctx.db, caseId)!;
-    ctx.db.transaction((tx) =>
-      transitionCase(tx, { caseId, from: cur.status as "queued", to: "refunded", actorId: admin.id, type: "refunded_by_desk", at: now, data: { reason: c.refundReason ?? null } }),
-    );
-    announceCase(ctx, caseId);
-    if (p) await releaseHold(ctx, p.id, "requested_by_customer");
+    await refundCase(ctx, admin, caseId, c.refundReason);
     return;
   }
   if (!expert || c.claimedAfter == null) return;
@@ -279,7 +275,7 @@ export async function seedDemo(ctx: AppContext, opts: { log?: (line: string) => 
       }
       const ts = performance.now();
       await runStory(ctx, clock, c, out.users, out, log);
-      const status = loadCase(ctx.db, out.cases[c.key])?.status as CaseStatus | undefined;
+      const status = getCaseRow(ctx.db, out.cases[c.key])?.status as CaseStatus | undefined;
       if (status !== c.final) throw new Error(`demo seed: case "${c.key}" ended ${status ?? "missing"}, expected ${c.final}`);
       out.timings[`case:${c.key}`] = Math.round(performance.now() - ts);
       log(`case ${c.key}: ${c.final} (${out.timings[`case:${c.key}`]} ms)`);

@@ -7,6 +7,7 @@ import type { AppContext } from "./context";
 import { createAuth, type Auth } from "./auth/auth";
 import { toNodeHandler } from "better-auth/node";
 import { crossSiteGuard } from "./http/cross-site";
+import { requireBodyType } from "./http/body-type";
 import { errorHandler, notFoundHandler } from "./http/error-handler";
 import { registerRoutes } from "./routes/index";
 import { clientIpHeader } from "./auth/client-ip";
@@ -49,6 +50,9 @@ export function createApp(ctx: AppContext, opts: { clientDir?: string } = {}): C
 
   const isWebhook = (p: string) => p.startsWith("/api/webhooks/");
   app.use("/api", crossSiteGuard(allowedOrigins(ctx), (p) => isWebhook("/api" + p)));
+  // JSON routes take JSON only (415 otherwise); uploads take multipart; webhooks take their raw body.
+  const bodyType = requireBodyType();
+  app.use("/api", (req, res, next) => (isWebhook("/api" + req.path) ? next() : bodyType(req, res, next)));
 
   // better-auth reads its own body, so it is mounted before the JSON parser.
   app.use("/api/auth", clientIpHeader);

@@ -12,6 +12,7 @@ import { startMailCatcher } from "./fakes/smtp";
 import { startFakeStripe } from "./fakes/stripe/index";
 import { attachRealtime } from "./realtime/index";
 import { startBackground } from "./services/background";
+import { workflowSweeps } from "./workflow/sweeps";
 import { stopAnalysisWorker } from "./uploads/analysis";
 import { stopCasebookSearch } from "./services/casebook-search";
 
@@ -76,7 +77,7 @@ export async function startServer(overrides: Partial<Record<keyof Env, string>> 
   server.on("request", app);
   const realtime = attachRealtime(server, ctx, app.locals.auth);
   ctx.realtime = realtime;
-  const background = startBackground(ctx);
+  const background = startBackground(ctx, workflowSweeps);
 
   const url = resolvedEnv.publicUrl;
   running++;

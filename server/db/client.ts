@@ -5,8 +5,17 @@ import fs from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import * as schema from "./schema/index";
+import { embeddedUnitOfWork, type Tx, type UnitOfWork } from "./unit-of-work";
 
-export type Db = BetterSQLite3Database<typeof schema> & { $client: Database.Database };
+/**
+ * The embedded database: drizzle over better-sqlite3 (synchronous queries, used directly by the
+ * live layer and the uploads), plus the unit-of-work seam `write` / `read` that the workflow and
+ * the payments use so their code also runs on an asynchronous driver.
+ */
+export type Db = BetterSQLite3Database<typeof schema> & { $client: Database.Database } & UnitOfWork;
+/** A synchronous transaction of the embedded database (`db.transaction((tx) => …)`). */
+export type SyncTx = Parameters<Parameters<Db["transaction"]>[0]>[0];
+export type { Tx, UnitOfWork };
 
 const migrationsFolder = path.join(path.dirname(fileURLToPath(import.meta.url)), "migrations");
 
@@ -25,6 +34,9 @@ export function openDatabase(url: string, opts: { migrate?: boolean } = {}): Db 
   sqlite.pragma("synchronous = FULL");
   const db = drizzle(sqlite, { schema }) as Db;
   if (opts.migrate !== false) migrate(db, { migrationsFolder });
+  const uow = embeddedUnitOfWork(sqlite, drizzle(sqlite, { schema }));
+  db.write = uow.write;
+  db.read = uow.read;
   return db;
 }
 

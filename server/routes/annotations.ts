@@ -2,12 +2,10 @@ import { Router } from "express";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
-import { assertCanJoinCase } from "../auth/policies/live";
 import { parseParams, parseQuery } from "../http/validate";
 import { idParamSchema } from "../../shared/schemas/traces";
 import { sinceQuerySchema } from "../../shared/schemas/realtime";
-import { getCaseRow } from "../services/cases";
-import { headSeq, listAnnotations } from "../services/annotations";
+import { annotationsSince } from "../services/annotations";
 
 /**
  * `GET /api/cases/:id/annotations?since=` — the REST mirror of a case's marks: those with seq >
@@ -19,10 +17,7 @@ export function annotationRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const { since } = parseQuery(sinceQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const out = ctx.db.transaction((tx) => {
-      assertCanJoinCase(actor, getCaseRow(tx, id));
-      return { caseId: id, seq: headSeq(tx, id), annotations: listAnnotations(tx, id, since ?? 0) };
-    });
+    const out = annotationsSince(ctx, actor, id, since ?? 0);
     res.set("Cache-Control", "private, no-store");
     res.json(out);
   });

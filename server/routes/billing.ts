@@ -1,60 +1,62 @@
 import { Router } from "express";
-import { z } from "zod";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
-import { parseBody, parseQuery } from "../http/validate";
-import { refundSchema } from "../../shared/schemas/queue";
-import { currentPayment, presentPayment, receiptFor, refundPayment, releaseHold, shopBilling } from "../services/payments-flow";
-import { ledgerBalance, ledgerForCase } from "../services/ledger";
-import { loadCase, transitionCase, announceCase } from "../services/case-state";
-import { assertQueueAction } from "../auth/policies/queue";
-import { badRequest, conflict, forbidden } from "../http/errors";
+import { parseBody, parseParams, parseQuery } from "../http/validate";
+import { badRequest, forbidden } from "../http/errors";
+import {
+  billingQuerySchema,
+  ledgerQuerySchema,
+  reassignSchema,
+  receiptParamsSchema,
+  refundSchema,
+} from "../../shared/schemas/queue";
+import { idParamSchema } from "../../shared/schemas/traces";
+import { receiptFor, shopBilling } from "../payments/views";
+import { ledgerView } from "../payments/ledger";
+import { refundCase } from "../workflow/commands/refund";
+import { reassignCase } from "../workflow/commands/claim";
+import { presentCaseState } from "../workflow/queries";
 
-/** The owner's billing and receipts; the admin's refunds and ledger. */
+/** The owner's billing and receipts; the desk's refunds, reassignments and ledger. */
 export function billingRoutes(ctx: AppContext, auth: Auth): Router {
   const r = Router();
 
   r.get("/billing", async (req, res) => {
-    const q = parseQuery(z.object({ shopId: z.string().optional() }), req);
+    const q = parseQuery(billingQuerySchema, req);
     const actor = await requireActor(req, auth, ["owner", "admin"]);
     const shopId = actor.role === "admin" ? q.shopId : actor.shopId;
     if (!shopId) throw badRequest("shop_required", "Name the shop: ?shopId=…");
-    res.json(shopBilling(ctx, shopId));
+    res.json(await shopBilling(ctx, shopId));
   });
 
   r.get("/billing/receipts/:paymentId", async (req, res) => {
+    const { paymentId } = parseParams(receiptParamsSchema, req);
     const actor = await requireActor(req, auth, ["owner", "admin"]);
     if (actor.role === "owner" && !actor.shopId) throw forbidden();
-    res.json(receiptFor(ctx, actor.role === "admin" ? null : actor.shopId, String(req.params.paymentId)));
+    res.json(await receiptFor(ctx, actor.role === "admin" ? null : actor.shopId, paymentId));
   });
 
-  /** Refund a case (admin): a held payment is cancelled (the case becomes refunded); a captured one is refunded. */
+  /** Give a case's money back (admins): 200 only when it really went back, else 409 saying why. */
   r.post("/admin/cases/:id/refund", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
     const body = parseBody(refundSchema, req);
     const actor = await requireActor(req, auth, ["admin"]);
-    const c = loadCase(ctx.db, String(req.params.id));
-    assertQueueAction(actor, c, null, "refund");
-    const p = currentPayment(ctx.db, c.id);
-    if (!p || (p.status !== "authorized" && p.status !== "captured")) throw conflict("not_refundable", "There is no held or captured payment on this case.");
-    if (p.status === "authorized") {
-      if (c.status === "queued" || c.status === "claimed" || c.status === "needs_data") {
-        const now = ctx.now();
-        ctx.db.transaction((tx) => transitionCase(tx, { caseId: c.id, from: c.status as "queued", to: "refunded", actorId: actor.id, type: "refunded_by_desk", at: now, data: { reason: body.reason ?? null } }));
-        announceCase(ctx, c.id);
-      }
-      await releaseHold(ctx, p.id, "requested_by_customer");
-    } else {
-      await refundPayment(ctx, p.id, body.reason);
-    }
-    const fresh = loadCase(ctx.db, c.id)!;
-    res.json({ id: c.id, status: fresh.status, payment: presentPayment(currentPayment(ctx.db, c.id)!), balance: ledgerBalance(ctx.db, c.id) });
+    res.json(await refundCase(ctx, actor, id, body.reason));
+  });
+
+  /** Hand a claimed case to another approved expert (admins). */
+  r.post("/admin/cases/:id/reassign", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
+    const body = parseBody(reassignSchema, req);
+    const actor = await requireActor(req, auth, ["admin"]);
+    res.json(presentCaseState(await reassignCase(ctx, actor, id, body.expertId)));
   });
 
   r.get("/admin/ledger", async (req, res) => {
-    const q = parseQuery(z.object({ caseId: z.string().optional() }), req);
+    const q = parseQuery(ledgerQuerySchema, req);
     await requireActor(req, auth, ["admin"]);
-    res.json({ balance: ledgerBalance(ctx.db, q.caseId ?? "all"), entries: q.caseId ? ledgerForCase(ctx.db, q.caseId) : undefined });
+    res.json(await ledgerView(ctx, q.caseId));
   });
 
   return r;

@@ -1,17 +1,15 @@
 import { Router } from "express";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
-import { getActor, requireActor } from "../auth/session";
-import { canReadCase } from "../auth/policies/cases";
-import { assertCanSeeCase, expertProfileOf } from "../auth/policies/queue";
+import { requireActor } from "../auth/session";
 import { parseBody, parseParams, parseQuery } from "../http/validate";
 import { notFound } from "../http/errors";
 import { idParamSchema, traceWindowQuerySchema } from "../../shared/schemas/traces";
 import { casebookEditSchema, casebookSearchQuerySchema, casebookVoteSchema, similarQuerySchema } from "../../shared/schemas/casebook";
-import { getCaseRow } from "../services/cases";
 import { getTraceRow, traceWindow } from "../services/traces";
 import { searchCasebook, warmCasebookSearch } from "../services/casebook-search";
-import { editEntry, entryOfTrace, entryTrace, expertRecord, listHiddenEntries, readEntry, similarForCase, voteEntry, withHelpfulCounts } from "../services/casebook";
+import { viewableCase } from "../workflow/queries";
+import { editEntry, entryTrace, expertRecord, listHiddenEntries, readEntry, similarForCase, voteEntry, withHelpfulCounts } from "../services/casebook";
 import { similarIndex } from "../services/similar";
 import { z } from "zod";
 
@@ -68,30 +66,11 @@ export function casebookRoutes(ctx: AppContext, auth: Auth): Router {
     res.json(await traceWindow(ctx, t, q));
   });
 
-  /**
-   * The trace viewer fetches windows from /api/traces/:id/window. For a reader of a casebook entry
-   * who may not see the case itself, answer here with the published trace's window; everybody
-   * else goes on to the traces routes (which answer for the case's own readers, or 404).
-   */
-  r.get("/traces/:id/window", async (req, res, next) => {
-    const actor = await getActor(req, auth);
-    const id = String(req.params.id ?? "");
-    const t = actor && id ? getTraceRow(ctx, id) : undefined;
-    if (!actor || !t) return next();
-    const c = getCaseRow(ctx.db, t.caseId);
-    if (c && canReadCase(actor, c)) return next();
-    if (!entryOfTrace(ctx, actor, t.id)) return next();
-    const q = parseQuery(traceWindowQuerySchema, req);
-    res.set("Cache-Control", "private, max-age=3600");
-    res.json(await traceWindow(ctx, t, q));
-  });
-
   r.get("/cases/:id/similar", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const { limit } = parseQuery(similarQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const c = getCaseRow(ctx.db, id);
-    assertCanSeeCase(actor, c, expertProfileOf(ctx.db, actor));
+    const c = await viewableCase(ctx, actor, id);
     res.json(similarForCase(ctx, c.id, limit));
   });
 

@@ -34,8 +34,7 @@ export function expertRoutes(ctx: AppContext, auth: Auth): Router {
   r.patch("/experts/me", async (req, res) => {
     const { available } = parseBody(expertAvailabilitySchema, req);
     const { actor, resource } = await own(req);
-    expertPolicy.authorize(actor, "setAvailability", resource);
-    const updated = experts.setAvailability(ctx, actor.id, available);
+    const updated = await experts.setOwnAvailability(ctx, actor, available);
     res.json({ profile: experts.presentProfile(updated), abilities: expertPolicy.abilities(actor, resource) });
   });
 

@@ -37,7 +37,6 @@ export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void 
   app.use("/api", shopRoutes(ctx, auth));
   app.use("/api", expertRoutes(ctx, auth));
   app.use("/api", adminExpertRoutes(ctx, auth));
-  // before traceRoutes: it answers trace windows for casebook readers and passes everything else on
   app.use("/api", casebookRoutes(ctx, auth));
   app.use("/api", caseRoutes(ctx, auth));
   app.use("/api", photoRoutes(ctx, auth));

@@ -2,13 +2,10 @@ import { Router } from "express";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
-import { assertCanJoinCase } from "../auth/policies/live";
 import { parseParams, parseQuery } from "../http/validate";
 import { idParamSchema } from "../../shared/schemas/traces";
 import { sinceQuerySchema } from "../../shared/schemas/realtime";
-import { getCaseRow } from "../services/cases";
-import { headSeq } from "../services/annotations";
-import { listMessages } from "../services/messages";
+import { messagesSince } from "../services/messages";
 
 /** `GET /api/cases/:id/messages?since=` — the REST mirror of a case's chat: messages with seq > since, in seq order. */
 export function messageRoutes(ctx: AppContext, auth: Auth): Router {
@@ -17,10 +14,7 @@ export function messageRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const { since } = parseQuery(sinceQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const out = ctx.db.transaction((tx) => {
-      assertCanJoinCase(actor, getCaseRow(tx, id));
-      return { caseId: id, seq: headSeq(tx, id), messages: listMessages(tx, id, since ?? 0) };
-    });
+    const out = messagesSince(ctx, actor, id, since ?? 0);
     res.set("Cache-Control", "private, no-store");
     res.json(out);
   });

@@ -4,12 +4,12 @@ import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
 import { assertCaseAction } from "../auth/policies/cases";
-import { noteNewMaterial } from "../services/queue";
-import { assertCanViewCase } from "../auth/policies/queue";
+import { noteNewMaterial } from "../workflow/commands/data";
+import { viewableCase } from "../workflow/queries";
 import { badRequest } from "../http/errors";
 import { parseParams } from "../http/validate";
 import { idParamSchema } from "../../shared/schemas/traces";
-import { getCaseRow } from "../services/cases";
+import { getCaseRow } from "../workflow/records";
 import { addPhoto, deletePhoto, getPhotoRow, photoFilePath, presentPhoto } from "../services/photos";
 import { storageLayout } from "../services/storage";
 import { singleFileUpload, uploadedFile } from "../uploads/multer";
@@ -45,7 +45,7 @@ export function photoRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
     const p = getPhotoRow(ctx, id);
-    assertCanViewCase(ctx.db, actor, p ? getCaseRow(ctx.db, p.caseId) : undefined, "Photo");
+    await viewableCase(ctx, actor, p?.caseId ?? "", "Photo");
     const abs = photoFilePath(ctx, p!);
     const stat = await fs.promises.stat(abs);
     res.set({

@@ -1,15 +1,15 @@
 import { Router } from "express";
-import { z } from "zod";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
-import { parseBody, parseQuery } from "../http/validate";
-import { submitCaseSchema } from "../../shared/schemas/queue";
-import { currentPayment, presentPayment, reconcilePayment, startCheckout } from "../services/payments-flow";
-import { withdrawCase } from "../services/queue";
-import { publicPricing } from "../services/pricing";
-import { loadCase } from "../services/case-state";
-import { assertCanSeeCase, expertProfileOf } from "../auth/policies/queue";
+import { parseBody, parseParams, parseQuery } from "../http/validate";
+import { paymentQuerySchema, submitCaseSchema } from "../../shared/schemas/queue";
+import { idParamSchema } from "../../shared/schemas/traces";
+import { readPublicPricing } from "../services/pricing";
+import { submitCase } from "../workflow/commands/submit";
+import { withdrawCase } from "../workflow/commands/withdraw";
+import { refreshPayment } from "../workflow/commands/payment-events";
+import { paymentToRefresh, paymentView } from "../workflow/queries";
 
 /** Submitting (paying for) a case, its payment's state, withdrawing it, and the public price list. */
 export function submitRoutes(ctx: AppContext, auth: Auth): Router {
@@ -18,39 +18,32 @@ export function submitRoutes(ctx: AppContext, auth: Auth): Router {
   /** The active tiers with price and deadline, shown before paying. */
   r.get("/pricing", async (req, res) => {
     await requireActor(req, auth);
-    res.json(publicPricing(ctx.db, ctx.now()));
+    res.json(await readPublicPricing(ctx));
   });
 
   r.post("/cases/:id/submit", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
     const body = parseBody(submitCaseSchema, req);
     const actor = await requireActor(req, auth);
-    const started = await startCheckout(ctx, actor, String(req.params.id), body.tier);
-    res.status(201).json(started);
+    res.status(201).json(await submitCase(ctx, actor, id, body.tier));
   });
 
-  /** The case's current payment; `?sync=1` asks Stripe first (for a return from checkout before the webhook). */
+  /** The case's current payment (the shop and admins); `?sync=1` asks the payment service first. */
   r.get("/cases/:id/payment", async (req, res) => {
-    const q = parseQuery(z.object({ sync: z.enum(["0", "1"]).optional() }), req);
+    const { id } = parseParams(idParamSchema, req);
+    const q = parseQuery(paymentQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const c = loadCase(ctx.db, String(req.params.id));
-    assertCanSeeCase(actor, c, expertProfileOf(ctx.db, actor));
-    let p = currentPayment(ctx.db, c.id);
-    if (p && q.sync === "1" && (p.status === "pending" || p.status === "failed")) {
-      try {
-        p = (await reconcilePayment(ctx, p.id)) ?? p;
-      } catch (err) {
-        req.log?.warn({ err }, "payment sync failed");
-      }
+    const open = q.sync === "1" ? await paymentToRefresh(ctx, actor, id) : null;
+    if (open) {
+      await refreshPayment(ctx, open).catch((err: unknown) => req.log?.warn({ err }, "payment sync failed"));
     }
-    const fresh = loadCase(ctx.db, c.id)!;
-    res.json({ caseId: c.id, status: fresh.status, deadlineAt: fresh.deadlineAt?.toISOString() ?? null, payment: p ? presentPayment(p) : null });
+    res.json(await paymentView(ctx, actor, id));
   });
 
   r.post("/cases/:id/withdraw", async (req, res) => {
+    const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const row = await withdrawCase(ctx, actor, String(req.params.id));
-    const p = currentPayment(ctx.db, row.id);
-    res.json({ id: row.id, status: row.status, payment: p ? presentPayment(p) : null });
+    res.json(await withdrawCase(ctx, actor, id));
   });
 
   return r;

@@ -7,9 +7,10 @@ import { assertCanAddTrace, assertCanDeleteTrace, assertCanReadTrace } from "../
 import { badRequest, tooLarge } from "../http/errors";
 import { parseParams, parseQuery, parseWith } from "../http/validate";
 import { idParamSchema, traceUploadFieldsSchema, traceWindowQuerySchema } from "../../shared/schemas/traces";
-import { getCaseRow } from "../services/cases";
-import { noteNewMaterial } from "../services/queue";
-import { assertCanViewCase } from "../auth/policies/queue";
+import { getCaseRow, type CaseRow } from "../workflow/records";
+import { noteNewMaterial } from "../workflow/commands/data";
+import { viewableCase } from "../workflow/queries";
+import { traceForWindow } from "../services/trace-access";
 import { addTrace, deleteTrace, getTraceRow, originalFilePath, presentTrace, traceWindow, type TraceRow } from "../services/traces";
 import { storageLayout } from "../services/storage";
 import { singleFileUpload, sweepStaleUploads, uploadedFile } from "../uploads/multer";
@@ -32,7 +33,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   const upload = singleFileUpload({ tempDir: layout.tempDir, maxBytes: ctx.env.MAX_TRACE_BYTES, kind: "text" });
 
   /** The trace and its case, or 404 when either is missing or the actor may not see the case. */
-  const loadReadable = (actorCheck: (c: ReturnType<typeof getCaseRow>) => void, id: string): TraceRow => {
+  const loadReadable = (actorCheck: (c: CaseRow | undefined) => void, id: string): TraceRow => {
     const t = getTraceRow(ctx, id);
     actorCheck(t ? getCaseRow(ctx.db, t.caseId) : undefined);
     return t!;
@@ -67,15 +68,17 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/traces/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const t = loadReadable((c) => assertCanViewCase(ctx.db, actor, c, "Trace"), id);
-    res.json(presentTrace(t));
+    const t = getTraceRow(ctx, id);
+    await viewableCase(ctx, actor, t?.caseId ?? "", "Trace");
+    res.json(presentTrace(t!));
   });
 
+  /** The min/max window: the case's viewers, or readers of the casebook entry the trace was published with. */
   r.get("/traces/:id/window", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const q = parseQuery(traceWindowQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const t = loadReadable((c) => assertCanViewCase(ctx.db, actor, c, "Trace"), id);
+    const t = traceForWindow(ctx, actor, id);
     const w = await traceWindow(ctx, t, q);
     res.set("Cache-Control", "private, max-age=3600");
     res.json(w);

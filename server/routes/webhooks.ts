@@ -1,13 +1,14 @@
 import { Router } from "express";
 import type { AppContext } from "../context";
 import { verifyWebhook, WebhookVerificationError } from "../integrations/payments";
-import { applyStripeEvent } from "../services/payments-flow";
+import { handlePaymentEvent } from "../workflow/commands/payment-events";
 
 /**
  * POST /api/webhooks/stripe. The app mounts express.raw for /api/webhooks and exempts it from the
  * cross-site guard. The raw body is verified (300 s tolerance, future timestamps refused) before
- * anything is read; a verified event is applied exactly once. 400 for a bad signature; 500 when
- * Stripe could not be reached while applying (Stripe then retries).
+ * anything is read; a verified event is applied exactly once. 400 for a bad signature; an event
+ * about nothing of ours is acknowledged (`ignored`); 500 only when the payment service could not be
+ * reached while applying one of ours (Stripe then retries).
  */
 export function webhookRoutes(ctx: AppContext): Router {
   const r = Router();
@@ -23,7 +24,7 @@ export function webhookRoutes(ctx: AppContext): Router {
       }
       throw err;
     }
-    const outcome = await applyStripeEvent(ctx, event);
+    const outcome = await handlePaymentEvent(ctx, event);
     res.json({ received: true, id: event.id, outcome });
   });
   return r;

@@ -8,10 +8,10 @@ import type { AppContext } from "../context";
 import type { Db } from "../db/client";
 import { schema } from "../db/client";
 import type { Actor } from "../auth/session";
-import { assertLiveWrite, assertOwnAnnotation } from "../auth/policies/live";
+import { assertCanJoinCase, assertLiveWrite, assertOwnAnnotation } from "../auth/policies/live";
 import { badRequest, notFound } from "../http/errors";
 import { parseWith } from "../http/validate";
-import { getCaseRow, type CaseRow } from "./cases";
+import { getCaseRow } from "../workflow/records";
 import { annotationShapeSchema, type AnnotationCreate, type AnnotationKind, type AnnotationUpdate } from "../../shared/schemas/realtime";
 import { authorColor, type AnnotationRecord } from "../../shared/realtime";
 
@@ -244,4 +244,12 @@ export function deleteAnnotationIn(db: Db, now: Date, actor: LiveActor, caseId: 
   const row: AnnotationRow = { ...cur, seq: nextSeq(db, caseId), updatedAt: now, deletedAt: now };
   db.update(annotation).set({ seq: row.seq, updatedAt: now, deletedAt: now }).where(eq(annotation.id, cur.id)).run();
   return { record: presentAnnotation(row, actor.name), changed: true };
+}
+
+/** GET /api/cases/:id/annotations?since= — the case's readers; one read of the marks and the head seq. */
+export function annotationsSince(ctx: AppContext, actor: Actor, caseId: string, since: number) {
+  return ctx.db.transaction((tx) => {
+    assertCanJoinCase(actor, getCaseRow(tx, caseId));
+    return { caseId, seq: headSeq(tx, caseId), annotations: listAnnotations(tx, caseId, since) };
+  });
 }

@@ -1,11 +1,17 @@
 import type { AppContext } from "../context";
 
-type Sweep = { name: string; everyMs: number; run: (ctx: AppContext) => Promise<void> | void };
+export interface Sweep {
+  name: string;
+  everyMs: number;
+  run: (ctx: AppContext) => Promise<void> | void;
+}
 
-/** Periodic sweeps (deadlines, offers, closing stale cases). Each runs once at start, then on its period. */
-export const sweeps: Sweep[] = [];
-
-export function startBackground(ctx: AppContext): { stop(): void } {
+/**
+ * Periodic sweeps (deadlines, offers, closing stale cases, payouts…): the list is handed over
+ * where the server starts (server/index.ts). Each runs once at start, then on its period; none
+ * runs under NODE_ENV=test (tests call them themselves).
+ */
+export function startBackground(ctx: AppContext, sweeps: readonly Sweep[]): { stop(): void } {
   if (ctx.env.NODE_ENV === "test") return { stop() {} };
   const timers: NodeJS.Timeout[] = [];
   for (const s of sweeps) {

@@ -360,17 +360,17 @@ export function entryTrace(ctx: AppContext, actor: Actor, entryId: string, trace
   return { entry: r, trace: t };
 }
 
-/** The visible entry whose published traces include this trace, if any. */
-export function entryOfTrace(ctx: AppContext, actor: Actor, traceId: string): CasebookEntryRow | null {
-  const row = ctx.db
+/** The casebook entry a trace was published with (as the policy sees it), or null when it was not. */
+export function publishedEntryOfTrace(db: Db, traceId: string): CasebookEntryForPolicy | null {
+  const row = db
     .select({ e: casebookEntry })
     .from(schema.trace)
     .innerJoin(casebookEntry, eq(casebookEntry.caseId, schema.trace.caseId))
     .where(eq(schema.trace.id, traceId))
     .get();
-  if (!row || !casebookPolicy.can(actor, "read", forPolicy(row.e))) return null;
+  if (!row) return null;
   const published = ((row.e.body as unknown as CasebookEntryBody).traces ?? []).some((t) => t.id === traceId);
-  return published ? row.e : null;
+  return published ? forPolicy(row.e) : null;
 }
 
 // ---------------------------------------------------------------------------------------------

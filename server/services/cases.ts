@@ -1,70 +1,24 @@
+/**
+ * The shop's drafts: creating and patching a case, listing the cases an actor may see, and how a
+ * case is shown. Case rows and their history live in server/workflow/records.ts; who may do what in
+ * server/workflow/policy.ts; the readiness rule in shared/domain/case-readiness.ts.
+ */
 import { and, asc, desc, eq, sql, type SQL } from "drizzle-orm";
 import type { AppContext } from "../context";
-import type { Db } from "../db/client";
 import { schema } from "../db/client";
 import type { Actor } from "../auth/session";
-import { caseAbilities, type CaseAbilities, type CaseListScope } from "../auth/policies/cases";
+import { assertCaseAction, caseAbilities, type CaseListScope } from "../auth/policies/cases";
 import { parseDtc } from "../../shared/domain/dtc";
 import { decodeVin, validateVin, type VinDecoded } from "../../shared/domain/vin";
-import { caseCreateSchema, vehicleVinWarnings, type CaseDraft, type CaseListQuery } from "../../shared/schemas/case";
-import { zodIssues, type FieldIssue } from "../http/validate";
+import { vehicleVinWarnings, type CaseDraft, type CaseListQuery } from "../../shared/schemas/case";
+import type { CaseListView, CaseSummaryView, CaseVehicleView, CaseView, PresentedCode } from "../../shared/views/case";
+import type { CaseStatus, VehicleSystem } from "../../shared/domain/case-status";
+import { announceCaseChange, getCaseRow, readinessOfRow, recordCaseEvent, vehicleOf, type CaseRow } from "../workflow/records";
 
-export type CaseRow = typeof schema.caseTable.$inferSelect;
+export type { PresentedCode };
 type CaseInsert = typeof schema.caseTable.$inferInsert;
-type Tx = Parameters<Parameters<Db["transaction"]>[0]>[0];
-type DbLike = Db | Tx;
 
-const { caseTable, caseEvent, trace, photo } = schema;
-
-// ---------------------------------------------------------------------------------------------
-// Reading
-
-export function getCaseRow(db: DbLike, id: string): CaseRow | undefined {
-  return db.select().from(caseTable).where(eq(caseTable.id, id)).get();
-}
-
-// ---------------------------------------------------------------------------------------------
-// History
-
-export type CaseEventType = "created" | "edited" | "trace_added" | "trace_deleted" | "photo_added" | "photo_deleted";
-
-export function recordCaseEvent(
-  db: DbLike,
-  e: { caseId: string; actorId: string | null; type: CaseEventType | (string & {}); at: Date; data?: Record<string, unknown>; fromStatus?: string | null; toStatus?: string | null },
-): void {
-  db.insert(caseEvent)
-    .values({ caseId: e.caseId, actorId: e.actorId, type: e.type, at: e.at, data: e.data ?? null, fromStatus: e.fromStatus ?? null, toStatus: e.toStatus ?? null })
-    .run();
-}
-
-export function listCaseEvents(db: DbLike, caseId: string) {
-  return db
-    .select({
-      id: caseEvent.id,
-      type: caseEvent.type,
-      actorId: caseEvent.actorId,
-      actorName: schema.user.name,
-      fromStatus: caseEvent.fromStatus,
-      toStatus: caseEvent.toStatus,
-      data: caseEvent.data,
-      at: caseEvent.at,
-    })
-    .from(caseEvent)
-    .leftJoin(schema.user, eq(schema.user.id, caseEvent.actorId))
-    .where(eq(caseEvent.caseId, caseId))
-    .orderBy(asc(caseEvent.at), asc(caseEvent.id))
-    .all();
-}
-
-/** Marks the case changed (for lists and caches) — call inside the transaction that changed it. */
-export function touchCase(db: DbLike, caseId: string, at: Date): void {
-  db.update(caseTable).set({ updatedAt: at }).where(eq(caseTable.id, caseId)).run();
-}
-
-/** After a commit: tell the clients watching this case to refetch. */
-export function announceCaseChange(ctx: AppContext, caseId: string, updatedAt: Date, entity: "case" | "trace" | "photo" = "case", id = caseId): void {
-  ctx.realtime.toCase(caseId, "case:updated", { entity, id, caseId, updatedAt: updatedAt.toISOString() });
-}
+const { caseTable, trace, photo } = schema;
 
 // ---------------------------------------------------------------------------------------------
 // Writing
@@ -103,7 +57,7 @@ function columnsFrom(input: CaseDraft, current?: CaseRow): Partial<CaseInsert> {
 }
 
 /** A new draft for the actor's shop, with its "created" event. */
-export function createCase(ctx: AppContext, actor: Actor & { shopId: string }, input: CaseDraft): CaseRow {
+export async function createCase(ctx: AppContext, actor: Actor & { shopId: string }, input: CaseDraft): Promise<CaseRow> {
   const now = ctx.now();
   const id = crypto.randomUUID();
   const row: CaseInsert = {
@@ -117,32 +71,34 @@ export function createCase(ctx: AppContext, actor: Actor & { shopId: string }, i
     createdAt: now,
     updatedAt: now,
   };
-  ctx.db.transaction((tx) => {
-    tx.insert(caseTable).values(row).run();
-    recordCaseEvent(tx, { caseId: id, actorId: actor.id, type: "created", at: now, toStatus: "draft" });
+  const created = await ctx.db.write(async (tx) => {
+    await tx.insert(caseTable).values(row).run();
+    await recordCaseEvent(tx, { caseId: id, actorId: actor.id, type: "created", at: now, toStatus: "draft" });
+    return (await getCaseRow(tx, id))!;
   });
   announceCaseChange(ctx, id, now);
-  return getCaseRow(ctx.db, id)!;
+  return created;
 }
 
 /**
- * Applies a patch to a draft (the policy has checked the state; this runs synchronously after it,
- * so nothing can change the status in between). Records which fields changed.
+ * PATCH a draft: in one unit, the case is read, the policy asked (`edit`: the shop, drafts only)
+ * and the patch applied, so nothing can change the status in between. Records which fields changed.
  */
-export function patchCase(ctx: AppContext, actor: Actor, current: CaseRow, patch: CaseDraft): CaseRow {
+export async function patchCase(ctx: AppContext, actor: Actor, caseId: string, patch: CaseDraft): Promise<CaseRow> {
   const now = ctx.now();
-  const cols = columnsFrom(patch, current);
-  const changed = Object.keys(cols).filter((k) => JSON.stringify((current as any)[k] ?? null) !== JSON.stringify((cols as any)[k] ?? null));
-  if (changed.length === 0) return current;
-  ctx.db.transaction((tx) => {
-    tx.update(caseTable)
-      .set({ ...cols, updatedAt: now })
-      .where(eq(caseTable.id, current.id))
-      .run();
-    recordCaseEvent(tx, { caseId: current.id, actorId: actor.id, type: "edited", at: now, data: { fields: changed } });
+  const { row, changed } = await ctx.db.write(async (tx) => {
+    const current = await getCaseRow(tx, caseId);
+    assertCaseAction(actor, current, "edit");
+    const cols = columnsFrom(patch, current);
+    const same = (k: string) => JSON.stringify((current as Record<string, unknown>)[k] ?? null) === JSON.stringify((cols as Record<string, unknown>)[k] ?? null);
+    const changed = Object.keys(cols).filter((k) => !same(k));
+    if (changed.length === 0) return { row: current, changed };
+    await tx.update(caseTable).set({ ...cols, updatedAt: now }).where(eq(caseTable.id, caseId)).run();
+    await recordCaseEvent(tx, { caseId, actorId: actor.id, type: "edited", at: now, data: { fields: changed } });
+    return { row: (await getCaseRow(tx, caseId))!, changed };
   });
-  announceCaseChange(ctx, current.id, now);
-  return getCaseRow(ctx.db, current.id)!;
+  if (changed.length) announceCaseChange(ctx, caseId, now);
+  return row;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -178,7 +134,7 @@ function scopeWhere(scope: CaseListScope): SQL | undefined {
 
 const tokens = (s: string | undefined) => (s ?? "").split(/\s+/).filter((t) => t !== "").slice(0, 10);
 
-export function listCases(ctx: AppContext, scope: CaseListScope, q: CaseListQuery) {
+export async function listCases(ctx: AppContext, scope: CaseListScope, q: CaseListQuery): Promise<CaseListView> {
   const conds: (SQL | undefined)[] = [scopeWhere(scope)];
   if (q.status) conds.push(eq(caseTable.status, q.status));
   for (const t of tokens(q.q)) conds.push(sql`(${likeAny(textCols(), t)})`);
@@ -203,8 +159,9 @@ export function listCases(ctx: AppContext, scope: CaseListScope, q: CaseListQuer
     }
   })();
 
-  const total = ctx.db.select({ n: sql<number>`count(*)` }).from(caseTable).where(where).get()?.n ?? 0;
-  const rows = ctx.db
+  const { total, rows } = await ctx.db.read(async (tx) => ({
+    total: (await tx.select({ n: sql<number>`count(*)` }).from(caseTable).where(where).get())?.n ?? 0,
+    rows: await tx
     .select({
       c: caseTable,
       traceCount: sql<number>`(select count(*) from ${trace} where ${trace.caseId} = ${caseTable.id})`,
@@ -215,7 +172,8 @@ export function listCases(ctx: AppContext, scope: CaseListScope, q: CaseListQuer
     .orderBy(...order, asc(caseTable.id))
     .limit(q.pageSize)
     .offset((q.page - 1) * q.pageSize)
-    .all();
+    .all(),
+  }));
   return {
     total,
     page: q.page,
@@ -226,16 +184,6 @@ export function listCases(ctx: AppContext, scope: CaseListScope, q: CaseListQuer
 
 // ---------------------------------------------------------------------------------------------
 // Presenting
-
-export interface PresentedCode {
-  code: string;
-  description: string | null;
-  system: string | null;
-  generic: boolean | null;
-  group?: string;
-  misfireCylinder?: number;
-  coil?: string;
-}
 
 export function presentCodes(codes: string[] | null | undefined): PresentedCode[] {
   return (codes ?? []).map((code) => {
@@ -249,19 +197,9 @@ export function presentCodes(codes: string[] | null | undefined): PresentedCode[
   });
 }
 
-export function presentVehicle(c: CaseRow) {
-  return {
-    vin: c.vin,
-    vinCheckOverride: c.vinCheckOverride,
-    year: c.year,
-    make: c.make,
-    model: c.model,
-    engine: c.engine,
-    fuel: c.fuel,
-    mileage: c.mileage,
-    mileageUnit: c.mileageUnit,
-    transmission: c.transmission,
-  };
+export function presentVehicle(c: CaseRow): CaseVehicleView {
+  const v = vehicleOf(c);
+  return { ...v, vinCheckOverride: !!v.vinCheckOverride, mileageUnit: (v.mileageUnit as CaseVehicleView["mileageUnit"]) ?? null };
 }
 
 function vinDecodedOf(vin: string | null): VinDecoded | null {
@@ -279,59 +217,35 @@ function caseTitle(c: CaseRow): string {
   return v || "Untitled case";
 }
 
-/** What a draft still lacks before it can go to the desk (the complete-case schema's issues). */
-export function caseReadiness(c: CaseRow): { complete: boolean; issues: FieldIssue[] } {
-  const vehicle: Record<string, unknown> = {};
-  for (const [k, v] of Object.entries(presentVehicle(c))) if (v !== null) vehicle[k] = v;
-  const input: Record<string, unknown> = { vehicle };
-  const optional: Record<string, unknown> = {
-    complaint: c.complaint,
-    codes: c.codes,
-    system: c.system,
-    symptoms: c.symptoms,
-    conditions: c.conditions,
-    testsDone: c.testsDone,
-    partsReplaced: c.partsReplaced,
-    notes: c.notes,
-  };
-  for (const [k, v] of Object.entries(optional)) if (v !== null && v !== undefined) input[k] = v;
-  const r = caseCreateSchema.safeParse(input);
-  const issues: FieldIssue[] = r.success ? [] : zodIssues(r.error);
-  for (const w of vehicleVinWarnings({ vin: c.vin, vinCheckOverride: c.vinCheckOverride })) {
-    issues.push({ path: "vehicle.vin", message: w.message });
-  }
-  return { complete: issues.length === 0, issues };
-}
-
+const iso = (d: Date | null) => (d ? d.toISOString() : null);
 const caseDates = (c: CaseRow) => ({
-  createdAt: c.createdAt,
-  updatedAt: c.updatedAt,
-  submittedAt: c.submittedAt,
-  claimedAt: c.claimedAt,
-  deadlineAt: c.deadlineAt,
+  createdAt: c.createdAt.toISOString(),
+  updatedAt: c.updatedAt.toISOString(),
+  submittedAt: iso(c.submittedAt),
+  claimedAt: iso(c.claimedAt),
+  deadlineAt: iso(c.deadlineAt),
 });
 
-export function presentCaseSummary(c: CaseRow, counts: { traceCount: number; photoCount: number }) {
+export function presentCaseSummary(c: CaseRow, counts: { traceCount: number; photoCount: number }): CaseSummaryView {
   return {
     id: c.id,
-    status: c.status,
+    status: c.status as CaseStatus,
     title: caseTitle(c),
     shopId: c.shopId,
     vehicle: presentVehicle(c),
     complaint: c.complaint,
     codes: presentCodes(c.codes),
-    system: c.system,
+    system: c.system as VehicleSystem | null,
     traceCount: Number(counts.traceCount),
     photoCount: Number(counts.photoCount),
     ...caseDates(c),
-  };
+  } satisfies CaseSummaryView;
 }
 
-export function presentCase<T, P, X>(c: CaseRow, actor: Actor, extra: { traces: T[]; photos: P[]; comparison: X | null }) {
-  const abilities: CaseAbilities = caseAbilities(actor, c);
+export function presentCase<T, P, X>(c: CaseRow, actor: Actor, extra: { traces: T[]; photos: P[]; comparison: X | null }): CaseView<T, P, X> {
   return {
     id: c.id,
-    status: c.status,
+    status: c.status as CaseStatus,
     title: caseTitle(c),
     shopId: c.shopId,
     createdBy: c.createdBy,
@@ -341,7 +255,7 @@ export function presentCase<T, P, X>(c: CaseRow, actor: Actor, extra: { traces: 
     vinWarnings: vehicleVinWarnings({ vin: c.vin, vinCheckOverride: c.vinCheckOverride, year: c.year }),
     complaint: c.complaint,
     codes: presentCodes(c.codes),
-    system: c.system,
+    system: c.system as VehicleSystem | null,
     symptoms: c.symptoms ?? [],
     conditions: c.conditions ?? {},
     testsDone: c.testsDone,
@@ -350,10 +264,10 @@ export function presentCase<T, P, X>(c: CaseRow, actor: Actor, extra: { traces: 
     tier: c.tier,
     priceCents: c.priceCents,
     ...caseDates(c),
-    readiness: caseReadiness(c),
+    readiness: readinessOfRow(c),
     traces: extra.traces,
     photos: extra.photos,
     comparison: extra.comparison,
-    abilities,
-  };
+    abilities: caseAbilities(actor, c),
+  } satisfies CaseView<T, P, X>;
 }

@@ -2,7 +2,8 @@ import { and, asc, eq } from "drizzle-orm";
 import type { AppContext } from "../context";
 import { schema } from "../db/client";
 import type { Actor } from "../auth/session";
-import { conflict } from "../http/errors";
+import { conflict, notFound } from "../http/errors";
+import { expertPolicy } from "../auth/policies/experts";
 import { mails, sendMail } from "../auth/mail";
 import type { ExpertApplicationInput, ExpertStatus } from "../../shared/schemas/auth";
 import { SIGN_UP_ACCEPTED, findUserByEmail, hashPassword, insertCredentialUser, mailOrUndo, sendAlreadyRegistered, sendVerification } from "./accounts";
@@ -76,9 +77,18 @@ export async function decideExpert(ctx: AppContext, actor: Actor, userId: string
   return getExpertProfile(ctx, userId)!;
 }
 
-export function setAvailability(ctx: AppContext, userId: string, available: boolean): ExpertProfileRow {
-  ctx.db.update(schema.expertProfile).set({ available }).where(eq(schema.expertProfile.userId, userId)).run();
-  return getExpertProfile(ctx, userId)!;
+/**
+ * An expert sets themselves available (offered new cases) or away — approved experts only (the
+ * expert policy), by PATCH /api/experts/me and PUT /api/queue/availability alike.
+ */
+export async function setOwnAvailability(ctx: AppContext, actor: Actor, available: boolean): Promise<ExpertProfileRow> {
+  return ctx.db.write(async (tx) => {
+    const profile = await tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, actor.id)).get();
+    if (!profile) throw notFound("Expert profile");
+    expertPolicy.authorize(actor, "setAvailability", { userId: profile.userId, status: profile.status as ExpertStatus });
+    await tx.update(schema.expertProfile).set({ available }).where(eq(schema.expertProfile.userId, actor.id)).run();
+    return { ...profile, available };
+  });
 }
 
 export function presentProfile(p: ExpertProfileRow) {

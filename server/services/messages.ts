@@ -5,9 +5,11 @@
 import { and, asc, eq, gt } from "drizzle-orm";
 import type { AppContext } from "../context";
 import { schema } from "../db/client";
-import { assertLiveWrite } from "../auth/policies/live";
+import { assertCanJoinCase, assertLiveWrite } from "../auth/policies/live";
+import type { Actor } from "../auth/session";
+import { getCaseRow } from "../workflow/records";
 import { badRequest } from "../http/errors";
-import { liveStatements, nextSeq, type DbLike, type LiveActor } from "./annotations";
+import { headSeq, liveStatements, nextSeq, type DbLike, type LiveActor } from "./annotations";
 import type { Db } from "../db/client";
 import type { DataRequest, MessageKind } from "../../shared/schemas/realtime";
 import type { MessageRecord } from "../../shared/realtime";
@@ -89,4 +91,12 @@ export function postMessageIn(db: Db, now: Date, actor: LiveActor, caseId: strin
   };
   db.insert(message).values(row).run();
   return { record: presentMessage(row, { name: actor.name, role: actor.role }), changed: true };
+}
+
+/** GET /api/cases/:id/messages?since= — the case's readers; one read of the chat and the head seq. */
+export function messagesSince(ctx: AppContext, actor: Actor, caseId: string, since: number) {
+  return ctx.db.transaction((tx) => {
+    assertCanJoinCase(actor, getCaseRow(tx, caseId));
+    return { caseId, seq: headSeq(tx, caseId), messages: listMessages(tx, caseId, since) };
+  });
 }

@@ -1,7 +1,8 @@
 /**
  * Notifications by e-mail (through ctx.mailer: the local catcher in development and tests) and in
- * the app (the notification table, pushed live with ctx.realtime.toUser). Call `notify` after the
- * transaction that caused it has committed. It never throws: a failed mail is logged.
+ * the app (the notification table, pushed live with ctx.realtime.toUser). Called after the unit
+ * that caused them has committed (an effect of a workflow command); it never throws: a failed
+ * insert or mail is logged. The texts are in ./notices.ts.
  */
 import { and, desc, eq, inArray, isNull, sql } from "drizzle-orm";
 import type { AppContext } from "../context";
@@ -9,66 +10,38 @@ import { schema } from "../db/client";
 import { renderMail } from "../integrations/mailer";
 import { notFound } from "../http/errors";
 import type { NotificationView } from "../../shared/views/queue";
-export type { NotificationView };
-
-export type NotificationKind =
-  | "case_offered"
-  | "case_claimed"
-  | "case_released"
-  | "data_requested"
-  | "data_sent"
-  | "case_answered"
-  | "not_fixed"
-  | "case_resolved"
-  | "case_closed"
-  | "deadline_near"
-  | "deadline_missed"
-  | "payment_authorized"
-  | "payment_failed"
-  | "payment_released"
-  | "receipt"
-  | "refund"
-  | "payout"
-  | "case_withdrawn";
-
-export interface NotificationInput {
-  kind: NotificationKind;
-  caseId?: string | null;
-  title: string;
-  /** paragraphs; the first is the in-app body */
-  paragraphs: string[];
-  /** a path inside the app, e.g. /cases/abc; becomes the mail's button */
-  link?: string;
-  actionLabel?: string;
-  /** false: in the app only, no mail */
-  mail?: boolean;
-}
+import type { Notice } from "./notices";
+export type { NotificationView, Notice };
 
 const { notification } = schema;
 
-/** Record and push one notification to each user, and mail it (in the background; see whenMailSent). */
-export async function notify(ctx: AppContext, userIds: readonly string[], n: NotificationInput): Promise<void> {
+/** Record and push one notice to each user, and mail it (in the background; see whenMailSent). */
+export async function notify(ctx: AppContext, userIds: readonly string[], n: Notice): Promise<void> {
   const ids = [...new Set(userIds.filter(Boolean))];
   if (ids.length === 0) return;
   const now = ctx.now();
-  const users = ctx.db
-    .select({ id: schema.user.id, email: schema.user.email, name: schema.user.name })
-    .from(schema.user)
-    .where(inArray(schema.user.id, ids))
-    .all();
-  const rows = users.map((u) => ({
-    id: crypto.randomUUID(),
-    userId: u.id,
-    kind: n.kind,
-    caseId: n.caseId ?? null,
-    title: n.title,
-    body: n.paragraphs.join("\n\n"),
-    link: n.link ?? null,
-    readAt: null,
-    createdAt: now,
-  }));
+  let users: { id: string; email: string; name: string }[] = [];
+  let rows: (typeof notification.$inferInsert & { id: string; userId: string })[] = [];
   try {
-    if (rows.length) ctx.db.insert(notification).values(rows).run();
+    await ctx.db.write(async (tx) => {
+      users = await tx
+        .select({ id: schema.user.id, email: schema.user.email, name: schema.user.name })
+        .from(schema.user)
+        .where(inArray(schema.user.id, ids))
+        .all();
+      rows = users.map((u) => ({
+        id: crypto.randomUUID(),
+        userId: u.id,
+        kind: n.kind,
+        caseId: n.caseId ?? null,
+        title: n.title,
+        body: n.paragraphs.join("\n\n"),
+        link: n.link ?? null,
+        readAt: null,
+        createdAt: now,
+      }));
+      if (rows.length) await tx.insert(notification).values(rows).run();
+    });
   } catch (err) {
     ctx.logger.error({ err, kind: n.kind }, "notification insert failed");
   }
@@ -100,38 +73,58 @@ export function absoluteUrl(ctx: AppContext, path: string): string {
   return new URL(path, ctx.env.publicUrl.endsWith("/") ? ctx.env.publicUrl : ctx.env.publicUrl + "/").toString();
 }
 
-
-export function listNotifications(ctx: AppContext, userId: string, opts: { unreadOnly?: boolean; limit?: number } = {}): { unread: number; items: NotificationView[] } {
+export async function listNotifications(
+  ctx: AppContext,
+  userId: string,
+  opts: { unreadOnly?: boolean; limit?: number } = {},
+): Promise<{ unread: number; items: NotificationView[] }> {
   const conds = [eq(notification.userId, userId)];
   if (opts.unreadOnly) conds.push(isNull(notification.readAt));
-  const items = ctx.db
-    .select()
-    .from(notification)
-    .where(and(...conds))
-    .orderBy(desc(notification.createdAt), desc(notification.id))
-    .limit(Math.min(Math.max(opts.limit ?? 50, 1), 200))
-    .all();
-  const unread = ctx.db
-    .select({ n: sql<number>`count(*)` })
-    .from(notification)
-    .where(and(eq(notification.userId, userId), isNull(notification.readAt)))
-    .get()!.n;
-  return {
-    unread,
-    items: items.map((r) => ({ id: r.id, kind: r.kind, caseId: r.caseId, title: r.title, body: r.body, link: r.link, read: r.readAt != null, createdAt: r.createdAt.toISOString() })),
-  };
+  return ctx.db.read(async (tx) => {
+    const items = await tx
+      .select()
+      .from(notification)
+      .where(and(...conds))
+      .orderBy(desc(notification.createdAt), desc(notification.id))
+      .limit(Math.min(Math.max(opts.limit ?? 50, 1), 200))
+      .all();
+    const unread = (await tx
+      .select({ n: sql<number>`count(*)` })
+      .from(notification)
+      .where(and(eq(notification.userId, userId), isNull(notification.readAt)))
+      .get())!.n;
+    return {
+      unread,
+      items: items.map((r) => ({
+        id: r.id,
+        kind: r.kind,
+        caseId: r.caseId,
+        title: r.title,
+        body: r.body,
+        link: r.link,
+        read: r.readAt != null,
+        createdAt: r.createdAt.toISOString(),
+      })),
+    };
+  });
 }
 
-export function markNotificationRead(ctx: AppContext, userId: string, id: string): void {
-  const row = ctx.db.select().from(notification).where(eq(notification.id, id)).get();
-  if (!row || row.userId !== userId) throw notFound("Notification");
-  if (!row.readAt) ctx.db.update(notification).set({ readAt: ctx.now() }).where(eq(notification.id, id)).run();
+export async function markNotificationRead(ctx: AppContext, userId: string, id: string): Promise<void> {
+  await ctx.db.write(async (tx) => {
+    const row = await tx.select().from(notification).where(eq(notification.id, id)).get();
+    if (!row || row.userId !== userId) throw notFound("Notification");
+    if (!row.readAt) await tx.update(notification).set({ readAt: ctx.now() }).where(eq(notification.id, id)).run();
+  });
 }
 
-export function markAllNotificationsRead(ctx: AppContext, userId: string): number {
-  return ctx.db
-    .update(notification)
-    .set({ readAt: ctx.now() })
-    .where(and(eq(notification.userId, userId), isNull(notification.readAt)))
-    .run().changes;
+export async function markAllNotificationsRead(ctx: AppContext, userId: string): Promise<number> {
+  return ctx.db.write(async (tx) => {
+    const marked = await tx
+      .update(notification)
+      .set({ readAt: ctx.now() })
+      .where(and(eq(notification.userId, userId), isNull(notification.readAt)))
+      .returning({ id: notification.id })
+      .all();
+    return marked.length;
+  });
 }

@@ -5,7 +5,7 @@ import type { Actor } from "../auth/session";
 import { assertCaseAction } from "../auth/policies/cases";
 import type { StoredUpload } from "../uploads/multer";
 import { imageExtensions, type ImageMime } from "../uploads/magic";
-import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "./cases";
+import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "../workflow/records";
 import { contentInFlight, placeContentAddressed, removeStoredFile, resolveDataPath, storageLayout, type PlacedFile } from "./storage";
 
 export type PhotoRow = typeof schema.photo.$inferSelect;

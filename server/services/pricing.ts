@@ -1,13 +1,13 @@
 /**
  * Pricing set by an admin: tiers (price in integer cents, answer deadline in minutes), the desk's
- * share in basis points and the queue's timings. A fresh database gets the defaults below on first
- * read. Payments take a snapshot at submit, so a later change never alters a case in flight.
+ * share in basis points and the queue's timings. Until an admin saves a price list, the defaults
+ * below apply (they are written with the first save). Payments take a snapshot at submit, so a
+ * later change never alters a case in flight.
  */
 import { asc, eq } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import type { Actor } from "../auth/session";
-import type { DbLike } from "./case-state";
 import { badRequest } from "../http/errors";
 import type { z } from "zod";
 import type { pricingUpdateSchema } from "../../shared/schemas/queue";
@@ -41,49 +41,64 @@ export const DEFAULT_TIERS: readonly Omit<Tier, "sortOrder">[] = [
 ];
 export const DEFAULT_SETTINGS = { currency: "usd", deskShareBasisPoints: 2000, firstWaveSize: 3, widenAfterMinutes: 30, closeAnsweredAfterDays: 7 } as const;
 
-function ensureDefaults(db: DbLike, now: Date): void {
-  const s = db.select().from(deskSettings).where(eq(deskSettings.id, 1)).get();
+async function ensureDefaults(tx: Tx, now: Date): Promise<void> {
+  const s = await tx.select().from(deskSettings).where(eq(deskSettings.id, 1)).get();
   if (s) return;
-  db.insert(deskSettings)
+  await tx
+    .insert(deskSettings)
     .values({ id: 1, ...DEFAULT_SETTINGS, updatedAt: now })
     .onConflictDoNothing()
     .run();
-  const anyTier = db.select({ id: pricingTier.id }).from(pricingTier).limit(1).get();
+  const anyTier = await tx.select({ id: pricingTier.id }).from(pricingTier).limit(1).get();
   if (!anyTier) {
-    db.insert(pricingTier)
+    await tx
+      .insert(pricingTier)
       .values(DEFAULT_TIERS.map((t, i) => ({ ...t, sortOrder: i, updatedAt: now })))
       .onConflictDoNothing()
       .run();
   }
 }
 
-export function getPricing(db: DbLike, now: Date): Pricing {
-  ensureDefaults(db, now);
-  const s = db.select().from(deskSettings).where(eq(deskSettings.id, 1)).get()!;
-  const tiers = db.select().from(pricingTier).orderBy(asc(pricingTier.sortOrder), asc(pricingTier.id)).all();
+/** The price list in force (the defaults until an admin has saved one). Reads only. */
+export async function getPricing(tx: Tx): Promise<Pricing> {
+  const s = await tx.select().from(deskSettings).where(eq(deskSettings.id, 1)).get();
+  const rows = await tx.select().from(pricingTier).orderBy(asc(pricingTier.sortOrder), asc(pricingTier.id)).all();
+  const tiers: Tier[] = rows.length
+    ? rows.map((t) => ({
+        id: t.id,
+        label: t.label,
+        description: t.description,
+        priceCents: t.priceCents,
+        deadlineMinutes: t.deadlineMinutes,
+        active: t.active,
+        sortOrder: t.sortOrder,
+      }))
+    : DEFAULT_TIERS.map((t, i) => ({ ...t, sortOrder: i }));
+  const settings = s ?? { ...DEFAULT_SETTINGS, updatedAt: null };
   return {
-    currency: s.currency,
-    deskShareBasisPoints: s.deskShareBasisPoints,
-    firstWaveSize: s.firstWaveSize,
-    widenAfterMinutes: s.widenAfterMinutes,
-    closeAnsweredAfterDays: s.closeAnsweredAfterDays,
-    tiers: tiers.map((t) => ({ id: t.id, label: t.label, description: t.description, priceCents: t.priceCents, deadlineMinutes: t.deadlineMinutes, active: t.active, sortOrder: t.sortOrder })),
-    updatedAt: s.updatedAt ? s.updatedAt.toISOString() : null,
+    currency: settings.currency,
+    deskShareBasisPoints: settings.deskShareBasisPoints,
+    firstWaveSize: settings.firstWaveSize,
+    widenAfterMinutes: settings.widenAfterMinutes,
+    closeAnsweredAfterDays: settings.closeAnsweredAfterDays,
+    tiers,
+    updatedAt: settings.updatedAt ? settings.updatedAt.toISOString() : null,
   };
 }
 
 /** What a technician sees before paying: the active tiers with price and deadline. */
-export function publicPricing(db: DbLike, now: Date): { currency: string; tiers: Tier[] } {
-  const p = getPricing(db, now);
-  return { currency: p.currency, tiers: p.tiers.filter((t) => t.active) };
+export async function publicPricing(tx: Tx): Promise<{ currency: string; tiers: Omit<Tier, "sortOrder">[] }> {
+  const p = await getPricing(tx);
+  return { currency: p.currency, tiers: p.tiers.filter((t) => t.active).map(({ sortOrder: _s, ...t }) => t) };
 }
 
 /** Replaces the price list. Tiers left out are kept but deactivated (old payments name them). */
-export function updatePricing(ctx: AppContext, actor: Actor, input: z.output<typeof pricingUpdateSchema>): Pricing {
+export async function updatePricing(ctx: AppContext, actor: Actor, input: z.output<typeof pricingUpdateSchema>): Promise<Pricing> {
   const now = ctx.now();
-  return ctx.db.transaction((tx) => {
-    ensureDefaults(tx, now);
-    tx.update(deskSettings)
+  return ctx.db.write(async (tx) => {
+    await ensureDefaults(tx, now);
+    await tx
+      .update(deskSettings)
       .set({
         currency: input.currency,
         deskShareBasisPoints: input.deskShareBasisPoints,
@@ -96,26 +111,48 @@ export function updatePricing(ctx: AppContext, actor: Actor, input: z.output<typ
       .where(eq(deskSettings.id, 1))
       .run();
     const keep = new Set(input.tiers.map((t) => t.id));
-    for (const t of tx.select().from(pricingTier).all()) {
-      if (!keep.has(t.id) && t.active) tx.update(pricingTier).set({ active: false, updatedBy: actor.id, updatedAt: now }).where(eq(pricingTier.id, t.id)).run();
+    for (const t of await tx.select().from(pricingTier).all()) {
+      if (!keep.has(t.id) && t.active) {
+        await tx.update(pricingTier).set({ active: false, updatedBy: actor.id, updatedAt: now }).where(eq(pricingTier.id, t.id)).run();
+      }
     }
-    input.tiers.forEach((t, i) => {
-      const values = { label: t.label, description: t.description ?? null, priceCents: t.priceCents, deadlineMinutes: t.deadlineMinutes, active: t.active, sortOrder: i, updatedBy: actor.id, updatedAt: now };
-      tx.insert(pricingTier)
+    for (const [i, t] of input.tiers.entries()) {
+      const values = {
+        label: t.label,
+        description: t.description ?? null,
+        priceCents: t.priceCents,
+        deadlineMinutes: t.deadlineMinutes,
+        active: t.active,
+        sortOrder: i,
+        updatedBy: actor.id,
+        updatedAt: now,
+      };
+      await tx
+        .insert(pricingTier)
         .values({ id: t.id, ...values })
         .onConflictDoUpdate({ target: pricingTier.id, set: values })
         .run();
-    });
-    return getPricing(tx, now);
+    }
+    return getPricing(tx);
   });
 }
 
 /** The tier a submit asks for, with its deadline; 400 when unknown or inactive. */
-export function quoteTier(db: DbLike, tierId: string, now: Date): { tier: Tier; pricing: Pricing } {
-  const pricing = getPricing(db, now);
+export async function quoteTier(tx: Tx, tierId: string): Promise<{ tier: Tier; pricing: Pricing }> {
+  const pricing = await getPricing(tx);
   const tier = pricing.tiers.find((t) => t.id === tierId && t.active);
   if (!tier) {
     throw badRequest("unknown_tier", `There is no tier "${tierId}". Choose one of: ${pricing.tiers.filter((t) => t.active).map((t) => t.id).join(", ")}.`);
   }
   return { tier, pricing };
+}
+
+/** GET /api/pricing */
+export function readPublicPricing(ctx: AppContext) {
+  return ctx.db.read(async (tx) => publicPricing(tx));
+}
+
+/** GET /api/admin/pricing */
+export function readPricing(ctx: AppContext): Promise<Pricing> {
+  return ctx.db.read(async (tx) => getPricing(tx));
 }

@@ -14,7 +14,7 @@ import type { StoredUpload } from "../uploads/multer";
 import { analyzeStoredTrace } from "../uploads/analysis";
 import { compareTraces, type ComparableResult } from "../../shared/analysis/compare";
 import type { Comparison } from "../../shared/analysis/types";
-import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "./cases";
+import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "../workflow/records";
 import { cleanFileName } from "./photos";
 import { contentInFlight, placeContentAddressed, relativeDataPath, removeStoredFile, resolveDataPath, storageLayout, type PlacedFile } from "./storage";
 

@@ -93,3 +93,24 @@ export const refundSchema = z.object({ reason: trimmed(500).optional() });
  */
 export const ignitionSafetyNote =
   "Safety: ignition secondary voltage reaches tens of kilovolts. Use insulated tools and proper pickups, keep clear of coil and plug leads with the engine running, and follow the vehicle manufacturer's procedure, local codes and licensed practice. The advice here does not replace them.";
+
+/** POST /api/admin/cases/:id/reassign */
+export const reassignSchema = z.object({ expertId: z.string().trim().min(1, "Name the expert.").max(64) });
+
+/** GET /api/cases/:id/payment?sync=1 */
+export const paymentQuerySchema = z.object({ sync: z.enum(["0", "1"]).optional() });
+
+/** GET /api/billing?shopId= (admins name the shop) */
+export const billingQuerySchema = z.object({ shopId: z.string().trim().min(1).max(64).optional() });
+
+/** GET /api/admin/ledger?caseId= */
+export const ledgerQuerySchema = z.object({ caseId: z.string().trim().min(1).max(64).optional() });
+
+/** GET /api/billing/receipts/:paymentId */
+export const receiptParamsSchema = z.object({ paymentId: z.string().trim().min(1).max(64) });
+
+/** GET /api/notifications */
+export const notificationsQuerySchema = z.object({
+  unread: z.enum(["0", "1"]).optional(),
+  limit: z.coerce.number().int().min(1).max(200).optional(),
+});

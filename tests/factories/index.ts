@@ -1,8 +1,5 @@
-// Test data factories, reused by demo/seed.ts. Each takes the AppContext or a server carrying one.
-export * from "./context";
-export * from "./users";
-export * from "./shops";
-export * from "./experts";
+// Test data factories: the data builders of the demo (demo/builders, so `npm start` runs no code
+// from tests/) plus what only tests need (signing in through the real endpoint, caught mail).
+export * from "../../demo/builders/index";
 export * from "./sign-in";
 export * from "./mail";
-export * from "./casebook";

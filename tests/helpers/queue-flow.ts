@@ -9,7 +9,7 @@ import { eq } from "drizzle-orm";
 import { schema } from "../../server/db/client";
 import type { TestServer } from "./test-app";
 import type { SignedInAgent } from "../factories/sign-in";
-import { ledgerBalance } from "../../server/services/ledger";
+import { ledgerBalance, type LedgerBalance } from "../../server/payments/ledger";
 import type { CaughtMail } from "../../server/fakes/smtp";
 import { whenMailSent } from "../../server/services/notifications";
 
@@ -103,7 +103,7 @@ export function fakeIntent(server: TestServer, id: string) {
  * `requires_capture` (Stripe API reference, PaymentIntent.status), with the same amounts; captured
  * money equals the fake's amount_received.
  */
-export function expectLedgerBalanced(server: TestServer, caseId: string | "all" = "all"): ReturnType<typeof ledgerBalance> {
+export function expectLedgerBalanced(server: TestServer, caseId: string | "all" = "all"): LedgerBalance {
   const b = ledgerBalance(server.ctx.db, caseId);
   expect(b.problems, b.problems.join("; ")).toEqual([]);
   expect(b.authorizedCents).toBe(b.capturedCents + b.releasedCents + b.heldCents);

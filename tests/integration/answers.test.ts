@@ -16,8 +16,9 @@ import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createExpert, createShopTeam, signIn, type CreatedExpert } from "../factories";
 import { caseRow, expectLedgerBalanced, fakeIntent, flushMail, insertDraftCase, mailsTo, movableClock, paymentsOf, submitAndPay } from "../helpers/queue-flow";
 import { schema } from "../../server/db/client";
-import { onCaseResolved, sweepCloseAnswered } from "../../server/services/answers";
-import { expertRecords } from "../../server/services/queue";
+import { onCaseResolved } from "../../server/workflow/hooks";
+import { sweepCloseAnswered } from "../../server/workflow/sweeps";
+import { expertRecords } from "../../server/workflow/routing";
 import { ignitionSafetyNote } from "../../shared/schemas/queue";
 
 let server: TestServer;
@@ -153,7 +154,7 @@ describe("confirmation", () => {
       onCaseResolved.splice(onCaseResolved.indexOf(hook), 1);
     }
     expect(seen).toEqual([caseId]);
-    expect(expertRecords(server.ctx.db).get(expert.id)).toMatchObject({ resolved: expect.any(Number), rating: expect.any(Number) });
+    expect((await expertRecords(server.ctx.db)).get(expert.id)).toMatchObject({ resolved: expect.any(Number), rating: expect.any(Number) });
     await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Fix confirmed/.test(m.subject));
     expect((await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true })).status).toBe(409);
 

@@ -6,7 +6,7 @@ import { signIn } from "../factories";
 import { schema } from "../../server/db/client";
 import { caseStatuses } from "../../shared/domain/case-status";
 import { validateVin, vinModelYear } from "../../shared/domain/vin";
-import { ledgerBalance } from "../../server/services/ledger";
+import { ledgerBalance } from "../../server/payments/ledger";
 import { whenMailSent } from "../../server/services/notifications";
 import { seedDemo, seedDemoIfEmpty, DEMO_PASSWORD, DEMO_SIGN_INS, type DemoSeedResult } from "../../demo/seed";
 import { DEMO_CASES } from "../../demo/cases";

@@ -14,8 +14,8 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createAdmin, createExpert, createShopTeam, signIn, type CreatedExpert } from "../factories";
 import { CARDS, caseRow, expectLedgerBalanced, fakeIntent, insertDraftCase, submitAndPay } from "../helpers/queue-flow";
-import { ledgerBalance } from "../../server/services/ledger";
-import { runPayouts } from "../../server/services/payouts";
+import { ledgerBalance } from "../../server/payments/ledger";
+import { runPayouts } from "../../server/payments/payouts";
 
 let server: TestServer;
 let expert: CreatedExpert;

@@ -14,7 +14,7 @@ import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createExpert, createShopTeam, signIn, type CreatedExpert } from "../factories";
 import { caseRow, expectLedgerBalanced, fakeIntent, flushMail, insertDraftCase, mailsTo, movableClock, paymentsOf, submitAndPay } from "../helpers/queue-flow";
 import { schema } from "../../server/db/client";
-import { runQueueSweeps, sweepDeadlines, sweepWidenOffers } from "../../server/services/queue";
+import { runQueueSweeps, sweepDeadlines, sweepWidenOffers } from "../../server/workflow/sweeps";
 
 let server: TestServer;
 let clock: ReturnType<typeof movableClock>;

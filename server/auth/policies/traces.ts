@@ -1,6 +1,8 @@
 import type { Actor } from "../session";
 import { assertCanReadCase, assertCaseAction, caseAbilities, type CaseForPolicy } from "./cases";
 import { definePolicy } from "./policy";
+import { casebookPolicy, type CasebookEntryForPolicy } from "./casebook";
+import { canViewCase, type ExpertFacts } from "../../workflow/policy";
 
 /** A trace (and a photo) belongs to its case: whoever may see the case may see it. */
 export interface TraceAbilities {
@@ -34,3 +36,13 @@ export const tracePolicy = definePolicy<(typeof traceActions)[number], CaseForPo
   if (!a.read) return "hide";
   return a[action] ? "allow" : "forbid";
 });
+
+/**
+ * A trace's min/max window (what the trace viewer plots): whoever may view its case (readers, and
+ * approved experts on a queued case), or any reader of the casebook entry the trace was published
+ * with. `entry` is that entry when the trace is among its published traces, else null.
+ */
+export function mayReadTraceWindow(actor: Actor, profile: ExpertFacts | null, c: CaseForPolicy | null | undefined, entry: CasebookEntryForPolicy | null): boolean {
+  if (c && canViewCase(actor, profile, c)) return true;
+  return entry !== null && casebookPolicy.can(actor, "read", entry);
+}

@@ -3,6 +3,7 @@ import { useRef, useState } from "react";
 import { Link, useMatch, useNavigate } from "react-router-dom";
 import { useDeleteAttachment } from "../../../features/cases/api/delete-attachment";
 import { caseQuery, useCase } from "../../../features/cases/api/get-case";
+import type { CaseDetail } from "../../../features/cases/api/types";
 import { casePages } from "../../../features/cases/api/paths";
 import { CaseForm } from "../../../features/cases/components/case-form";
 import { StatusBadge } from "../../../features/cases/components/status-badge";
@@ -54,7 +55,7 @@ export function CaseDraftPage() {
   }
 
   const ensureCaseId = () => (saveRef.current ? saveRef.current() : Promise.reject(new Error("The form is not ready.")));
-  const abilities = c?.abilities ?? {};
+  const abilities: Partial<CaseDetail["abilities"]> = c?.abilities ?? {};
   const refresh = () => id && qc.invalidateQueries({ queryKey: caseQuery(id).queryKey });
 
   return (

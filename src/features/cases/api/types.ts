@@ -1,4 +1,5 @@
-import type { CaseStatus, VehicleSystem } from "../../../../shared/domain/case-status";
+import type { CaseStatus } from "../../../../shared/domain/case-status";
+import type { CaseListView, CaseSummaryView, CaseView } from "../../../../shared/views/case";
 
 /** What the server returns for a case's vehicle. Blank optional values come back as null. */
 export interface CaseVehicle {
@@ -67,52 +68,13 @@ export interface CasePhoto {
   createdAt?: string | number;
 }
 
-/** GET /api/cases/:id */
-export interface CaseDetail {
-  id: string;
-  status: CaseStatus;
-  title?: string;
-  vehicle: CaseVehicle;
-  vinWarnings?: { code: string; message: string; expected?: string }[];
-  complaint: string | null;
-  codes: CaseCode[] | null;
-  system: VehicleSystem | null;
-  symptoms: string[] | null;
-  conditions: CaseConditions | null;
-  testsDone: string | null;
-  partsReplaced: string | null;
-  notes: string | null;
-  createdAt?: string | number;
-  updatedAt?: string | number;
-  traces: CaseTrace[];
-  photos: CasePhoto[];
-  /** what the complete-case schema still misses (server-computed) */
-  readiness?: { complete: boolean; issues: { path: string; message: string }[] };
-  /** what the signed-in user may do here, computed by the server's policy */
-  abilities?: Partial<Record<"read" | "edit" | "addTrace" | "deleteTrace" | "addPhoto" | "deletePhoto", boolean>> & Record<string, boolean | undefined>;
-  /** cross-trace comparison, when the server provides it */
-  comparison?: unknown;
-}
+/** GET /api/cases/:id (the server's shape: shared/views/case.ts) */
+export type CaseDetail = CaseView<CaseTrace, CasePhoto>;
 
 /** One row of GET /api/cases */
-export interface CaseListItem {
-  id: string;
-  status: CaseStatus;
-  title?: string;
-  vehicle: Partial<CaseVehicle> | null;
-  complaint: string | null;
-  codes: CaseCode[] | null;
-  system?: string | null;
-  traceCount?: number;
-  photoCount?: number;
-  createdAt?: string | number;
-  updatedAt?: string | number;
-}
+export type CaseListItem = CaseSummaryView;
 
-export interface CaseList {
-  total: number;
-  items: CaseListItem[];
-}
+export type CaseList = CaseListView;
 
 /** The server's answer to POST /api/cases */
 export interface CaseCreated {

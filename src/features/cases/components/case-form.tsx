@@ -2,8 +2,8 @@ import { zodResolver } from "@hookform/resolvers/zod";
 import { useEffect, useMemo, useRef, useState, type ReactNode, type RefObject } from "react";
 import { Controller, FormProvider, useForm, useWatch, type FieldErrors, type Resolver } from "react-hook-form";
 import { systems } from "../../../../shared/domain/case-status";
+import { caseReadiness } from "../../../../shared/domain/case-readiness";
 import {
-  caseCreateSchema,
   caseDraftSchema,
   fuelLabels,
   fuels,
@@ -12,7 +12,6 @@ import {
   symptoms,
   transmissionLabels,
   transmissions,
-  vehicleVinWarnings,
   type CaseDraft,
 } from "../../../../shared/schemas/case";
 import { ApiError } from "../../../lib/api-client";
@@ -155,22 +154,8 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
     return () => window.removeEventListener("beforeunload", h);
   }, [formState.isDirty]);
 
-  // What the desk still needs before the case can be sent (the complete-case schema).
-  const missing = useMemo(() => {
-    const r = caseCreateSchema.safeParse(values);
-    const out: { path: string; message: string }[] = [];
-    if (!r.success) {
-      for (const i of r.error.issues) {
-        const path = i.path.map(String).join(".");
-        if (!out.some((o) => o.path === path)) out.push({ path, message: i.message });
-      }
-    }
-    const vinWarn = vehicleVinWarnings({ vin: values.vehicle?.vin, vinCheckOverride: values.vehicle?.vinCheckOverride, year: typeof values.vehicle?.year === "number" ? values.vehicle.year : null });
-    for (const w of vinWarn) {
-      out.push({ path: w.code === "year-mismatch" ? "vehicle.year" : "vehicle.vin", message: w.code === "year-mismatch" ? w.message : "Confirm the VIN: its check digit does not match." });
-    }
-    return out;
-  }, [values]);
+  // What the desk still needs before the case can be sent (the one rule: shared/domain/case-readiness.ts).
+  const missing = useMemo(() => caseReadiness(values).issues, [values]);
 
   const errs = formState.errors;
   const summary = showSummary ? formFieldPaths.map((p) => ({ p, m: errorAt(errs, p) })).filter((x) => x.m) : [];

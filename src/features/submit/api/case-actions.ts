@@ -2,10 +2,11 @@ import { useMutation, useQueryClient } from "@tanstack/react-query";
 import { api } from "../../../lib/api-client";
 import { confirmSchema, dataSentSchema, type ConfirmInput } from "../../../../shared/schemas/queue";
 import { submitPaths } from "./paths";
+import type { CaseStateView, ConfirmedView, WithdrawnView } from "../../../../shared/views/workflow";
 
-export const withdrawCase = (id: string) => api.post<{ id: string; status: string }>(submitPaths.withdraw(id));
-export const confirmCase = (id: string, input: ConfirmInput) => api.post<{ id: string; status: string; outcome: string }>(submitPaths.confirm(id), confirmSchema.parse(input));
-export const markDataSent = (id: string, note?: string) => api.post<{ id: string; status: string }>(submitPaths.dataSent(id), dataSentSchema.parse({ note }));
+export const withdrawCase = (id: string) => api.post<WithdrawnView>(submitPaths.withdraw(id));
+export const confirmCase = (id: string, input: ConfirmInput) => api.post<ConfirmedView>(submitPaths.confirm(id), confirmSchema.parse(input));
+export const markDataSent = (id: string, note?: string) => api.post<CaseStateView>(submitPaths.dataSent(id), dataSentSchema.parse({ note }));
 
 /** Mutations of the shop's side of a case; each refreshes everything under ["cases"]. */
 export function useShopCaseActions(id: string) {

@@ -3,14 +3,8 @@ import { api } from "../../../lib/api-client";
 import { submitCaseSchema, type SubmitCaseInput } from "../../../../shared/schemas/queue";
 import { submitPaths } from "./paths";
 
-export interface CheckoutStarted {
-  checkoutUrl: string;
-  paymentId: string;
-  tier: string;
-  amountCents: number;
-  currency: string;
-  deadlineMinutes: number;
-}
+import type { CheckoutView as CheckoutStarted } from "../../../../shared/views/workflow";
+export type { CheckoutStarted };
 
 export const submitCase = (id: string, input: SubmitCaseInput) => api.post<CheckoutStarted>(submitPaths.submit(id), submitCaseSchema.parse(input));
 

@@ -2,6 +2,7 @@ import { schema } from "../../server/db/client";
 import { hashPassword } from "../../server/auth/password";
 import type { Role } from "../../shared/domain/case-status";
 import { ctxOf, uniq, type HasCtx } from "./context";
+import { createShop } from "./shops";
 
 /** The password every factory user gets unless told otherwise (8–128 chars, not on the common list). */
 export const FACTORY_PASSWORD = "Plateau-burn-4417";
@@ -51,7 +52,6 @@ export async function createUser(on: HasCtx, opts: CreateUserOptions = {}): Prom
   const role: Role = opts.role ?? "technician";
   let shopId = opts.shopId ?? null;
   if ((role === "technician" || role === "owner") && opts.shopId === undefined) {
-    const { createShop } = await import("./shops");
     shopId = (await createShop(ctx)).id;
   }
   if (role === "expert" || role === "admin") shopId = null;

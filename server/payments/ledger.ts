@@ -9,9 +9,10 @@
  *   captured − refunded = (desk share − reversals) + (expert earnings − reversals).
  */
 import { and, eq, inArray, sql } from "drizzle-orm";
-import { schema } from "../db/client";
-import type { DbLike } from "./case-state";
+import type { AppContext } from "../context";
+import { schema, type Db, type SyncTx, type Tx } from "../db/client";
 import { assertCents } from "../../shared/domain/money";
+import type { LedgerBalanceView } from "../../shared/views/money";
 
 export const ledgerKinds = [
   "authorization",
@@ -43,9 +44,9 @@ export interface LedgerInput {
 }
 
 /** Records one movement; returns false when a movement with this key is already recorded. */
-export function recordLedger(db: DbLike, e: LedgerInput): boolean {
+export async function recordLedger(tx: Tx, e: LedgerInput): Promise<boolean> {
   assertCents(e.amountCents, "amountCents", true);
-  const res = db
+  const inserted = await tx
     .insert(ledgerEntry)
     .values({
       key: e.key,
@@ -61,42 +62,42 @@ export function recordLedger(db: DbLike, e: LedgerInput): boolean {
       at: e.at,
     })
     .onConflictDoNothing({ target: ledgerEntry.key })
-    .run();
-  return res.changes === 1;
+    .returning({ id: ledgerEntry.id })
+    .all();
+  return inserted.length === 1;
 }
 
-export interface LedgerBalance {
-  authorizedCents: number;
-  capturedCents: number;
-  releasedCents: number;
-  /** open holds: payments still `authorized` */
-  heldCents: number;
-  refundedCents: number;
-  deskShareCents: number;
-  expertEarningsCents: number;
-  payoutCents: number;
-  balanced: boolean;
-  problems: string[];
-}
+export type LedgerBalance = LedgerBalanceView;
+type SyncDb = Db | SyncTx;
 
-/** The balance of one case's money, or of everything with "all". */
-export function ledgerBalance(db: DbLike, scope: string | "all" = "all"): LedgerBalance {
+/**
+ * The balance of one case's money, or of everything with "all". Answers at once on the embedded
+ * database (tests and the demo check it there) and as a promise inside a unit.
+ */
+export function ledgerBalance(db: SyncDb, scope?: string): LedgerBalance;
+export function ledgerBalance(tx: Tx, scope?: string): Promise<LedgerBalance>;
+export function ledgerBalance(db: SyncDb | Tx, scope: string = "all"): LedgerBalance | Promise<LedgerBalance> {
   const where = scope === "all" ? undefined : eq(ledgerEntry.caseId, scope);
-  const sums = db
+  const sumsQ = (db as Tx)
     .select({ kind: ledgerEntry.kind, total: sql<number>`coalesce(sum(${ledgerEntry.amountCents}), 0)` })
     .from(ledgerEntry)
     .where(where)
     .groupBy(ledgerEntry.kind)
     .all();
-  const by = (k: LedgerKind) => Number(sums.find((s) => s.kind === k)?.total ?? 0);
   const heldWhere = scope === "all" ? eq(payment.status, "authorized") : and(eq(payment.status, "authorized"), eq(payment.caseId, scope));
-  const held = Number(
-    db
-      .select({ total: sql<number>`coalesce(sum(${payment.amountCents}), 0)` })
-      .from(payment)
-      .where(heldWhere)
-      .get()?.total ?? 0,
-  );
+  const heldQ = (db as Tx)
+    .select({ total: sql<number>`coalesce(sum(${payment.amountCents}), 0)` })
+    .from(payment)
+    .where(heldWhere)
+    .get();
+  if (sumsQ instanceof Promise || heldQ instanceof Promise) {
+    return Promise.all([sumsQ, heldQ]).then(([sums, held]) => balanceOf(sums, Number(held?.total ?? 0)));
+  }
+  return balanceOf(sumsQ, Number(heldQ?.total ?? 0));
+}
+
+function balanceOf(sums: { kind: string; total: number }[], held: number): LedgerBalance {
+  const by = (k: LedgerKind) => Number(sums.find((s) => s.kind === k)?.total ?? 0);
   const b: LedgerBalance = {
     authorizedCents: by("authorization"),
     capturedCents: by("capture"),
@@ -120,13 +121,13 @@ export function ledgerBalance(db: DbLike, scope: string | "all" = "all"): Ledger
   return b;
 }
 
-export function ledgerForCase(db: DbLike, caseId: string) {
-  return db.select().from(ledgerEntry).where(eq(ledgerEntry.caseId, caseId)).orderBy(ledgerEntry.id).all();
+export async function ledgerForCase(tx: Tx, caseId: string) {
+  return tx.select().from(ledgerEntry).where(eq(ledgerEntry.caseId, caseId)).orderBy(ledgerEntry.id).all();
 }
 
 /** An expert's earnings and payouts so far, in cents. */
-export function expertTotals(db: DbLike, expertId: string): { earnedCents: number; reversedCents: number; paidCents: number } {
-  const rows = db
+export async function expertTotals(tx: Tx, expertId: string): Promise<{ earnedCents: number; reversedCents: number; paidCents: number }> {
+  const rows = await tx
     .select({ kind: ledgerEntry.kind, total: sql<number>`coalesce(sum(${ledgerEntry.amountCents}), 0)` })
     .from(ledgerEntry)
     .where(and(eq(ledgerEntry.expertId, expertId), inArray(ledgerEntry.kind, ["expert_earning", "expert_earning_reversal", "payout"])))
@@ -134,4 +135,12 @@ export function expertTotals(db: DbLike, expertId: string): { earnedCents: numbe
     .all();
   const by = (k: string) => Number(rows.find((r) => r.kind === k)?.total ?? 0);
   return { earnedCents: by("expert_earning"), reversedCents: by("expert_earning_reversal"), paidCents: by("payout") };
+}
+
+/** GET /api/admin/ledger: the balance (of one case or of everything) and the case's entries. */
+export async function ledgerView(ctx: AppContext, caseId?: string) {
+  return ctx.db.read(async (tx) => ({
+    balance: await ledgerBalance(tx, caseId ?? "all"),
+    entries: caseId ? await ledgerForCase(tx, caseId) : undefined,
+  }));
 }

@@ -1,0 +1,51 @@
+import { parseWith } from "../../http/validate";
+import { pointerMoveSchema, viewFollowSchema } from "../../../shared/schemas/realtime";
+import { caseRoom, type PointerPayload, type ViewPayload } from "../../../shared/realtime";
+import type { Live, LiveSocket } from "../live";
+
+/** pointer:move and view:follow — not stored; forwarded at most POINTER_RATE_HZ per socket. */
+export function onPointer(live: Live, socket: LiveSocket): void {
+  const { ctx, presence } = live;
+  socket.on("pointer:move", (raw) =>
+    live.quiet("pointer:move", () => {
+      const p = parseWith(pointerMoveSchema, raw, "event");
+      const { caseId } = live.inRoom(socket);
+      if (p.traceId !== null && live.caseOfTrace(p.traceId) !== caseId) return;
+      live.throttled(socket.data.pointer, p, (q) =>
+        live.quiet("pointer:move", () => {
+          const { actor, caseId: room } = live.inRoom(socket);
+          const who = { caseId: room, userId: actor.id, name: actor.name, color: actor.color };
+          const out: PointerPayload =
+            q.traceId === null ? { ...who, traceId: null } : { ...who, traceId: q.traceId, t: q.t, v: q.v };
+          socket.volatile.to(caseRoom(room)).emit("pointer", out);
+        }),
+      );
+    }),
+  );
+
+  socket.on("view:follow", (raw) =>
+    live.quiet("view:follow", () => {
+      const p = parseWith(viewFollowSchema, raw, "event");
+      const { caseId } = live.inRoom(socket);
+      if (live.caseOfTrace(p.traceId) !== caseId) return;
+      live.throttled(socket.data.view, p, (q) =>
+        live.quiet("view:follow", () => {
+          const { actor, caseId: room } = live.inRoom(socket);
+          const at = ctx.now().toISOString();
+          const v: ViewPayload = {
+            caseId: room,
+            userId: actor.id,
+            name: actor.name,
+            role: actor.role,
+            traceId: q.traceId,
+            t0: q.t0,
+            t1: q.t1,
+            at,
+          };
+          presence.setView(v);
+          socket.to(caseRoom(room)).emit("view", v);
+        }),
+      );
+    }),
+  );
+}
