@@ -5,7 +5,7 @@ import path from "node:path";
 import { build } from "vite";
 import { chromium, type Browser } from "playwright-core";
 import { startServer, type RunningServer } from "../../server/index";
-import { seedDemoIfEmpty } from "../../demo/seed";
+import { demoPlugin } from "../../demo/plugin";
 
 // The issue's browser criterion: a new user signs up a shop, clicks the verification link in
 // /dev/mail, signs in and invites a technician — here at phone width (390 px), then the invited
@@ -30,8 +30,9 @@ beforeAll(async () => {
     FAKE_STRIPE_PORT: "0",
     LOG_LEVEL: "silent",
     DEMO: "true",
-  });
-  await seedDemoIfEmpty(server.ctx);
+  }, undefined, { demo: demoPlugin });
+  // the demo is seeded before the server reports ready (as `npm start` does)
+  await server.ready;
   browser = await chromium.launch({ executablePath, args: ["--no-sandbox"] });
 });
 

@@ -49,7 +49,7 @@ export function SignInPage() {
           </Notice>
         ) : null}
         {formError ? (
-          <Notice tone="error" title={formError.code === "email_not_verified" ? "Confirm your e-mail address first" : formError.code === "rate_limited" ? "Too many attempts" : "Sign-in failed"}>
+          <Notice tone="error" title={formError.code === "email_not_verified" ? "Confirm your e-mail address first" : formError.code === "rate_limited" || formError.code === "sign_in_delayed" ? "Too many attempts" : "Sign-in failed"}>
             {formError.message}
             {formError.code === "email_not_verified" ? <DevMailHint /> : null}
           </Notice>
