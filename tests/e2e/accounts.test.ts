@@ -109,3 +109,22 @@ test("a demo account signs in from the keyboard on the sign-in page", async () =
   expect(await page.evaluate(() => fetch("/api/me").then((r) => r.json()))).toMatchObject({ email: "admin@burnline.test", role: "admin", shopId: null });
   await ctx.close();
 });
+
+// Issue 13 (first run): every signed-out page logged a console error for `GET /api/me` → 401.
+// The session probe answers 200 when signed out, so a signed-out visitor's console stays clean.
+test("signed-out pages log no console error", async () => {
+  const ctx = await browser.newContext({ viewport: { width: 390, height: 844 } });
+  const page = await ctx.newPage();
+  const errors: string[] = [];
+  page.on("console", (m) => {
+    if (m.type() === "error") errors.push(`${page.url()}: ${m.text()}`);
+  });
+  page.on("pageerror", (e) => errors.push(`${page.url()}: ${String(e)}`));
+  for (const path of ["/", "/sign-in", "/sign-up", "/apply", "/forgot-password", "/cases"]) {
+    await page.goto(server.url + path);
+    await page.getByRole("heading").first().waitFor();
+    await page.waitForLoadState("networkidle");
+  }
+  expect(errors).toEqual([]);
+  await ctx.close();
+});
