@@ -160,7 +160,7 @@ type Handler = (r: Request) => Promise<Response>;
 async function guarded(ctx: AppContext, handler: Handler, request: Request, path: string, body: Record<string, unknown>): Promise<Response> {
   const ip = request.headers.get(CLIENT_IP_HEADER) ?? "0.0.0.0";
   if (path === "/sign-in/email") return throttledSignIn(ctx, handler, request, ip, String(body.email));
-  if (path === "/request-password-reset" || path === "/forget-password") {
+  if (path === "/request-password-reset") {
     const retryAfter = hitRateLimit(ctx, `app|${ip}|request-password-reset`, RESET_REQUEST_RULE);
     if (retryAfter !== null) return tooMany("rate_limited", `Too many attempts. Wait ${retryAfter} seconds, then try again.`, retryAfter);
     afterResponse(() => {
