@@ -4,11 +4,14 @@
  * it. Building its dictionaries takes a few hundred milliseconds, so the estimator is built on
  * first use or by `warmPasswordEstimator()` at start, whichever comes first; readiness waits for it.
  */
-import { createPasswordEstimator } from "../../shared/domain/password-estimator";
+import * as core from "@zxcvbn-ts/core";
+import * as common from "@zxcvbn-ts/language-common";
+import * as en from "@zxcvbn-ts/language-en";
+import { buildPasswordEstimator } from "../../shared/domain/password-estimator";
 import { setPasswordEstimator, type PasswordEstimator } from "../../shared/domain/password-strength";
 
 let built: PasswordEstimator | null = null;
-const estimator = (): PasswordEstimator => (built ??= createPasswordEstimator());
+const estimator = (): PasswordEstimator => (built ??= buildPasswordEstimator({ core, common, en }));
 
 setPasswordEstimator((password, inputs) => estimator()(password, inputs));
 

@@ -1,7 +1,9 @@
 /**
  * The zxcvbn estimator (@zxcvbn-ts/core) with the common-password and English dictionaries and
  * this product's own words. Kept apart from ./password-strength.ts because the dictionaries weigh
- * megabytes: the browser loads this module with a dynamic import, the server at start.
+ * megabytes: this module imports the packages only as types; the server imports them statically
+ * and calls buildPasswordEstimator, the browser loads them with dynamic imports
+ * (loadEstimatorLibraries: three chunks fetched in parallel, none with the first page).
  *
  * Two limits keep one estimate within a few tens of milliseconds (measured on a 2-core machine:
  * unbounded, a 125-character random password took over a second): only the first 64 characters
@@ -9,15 +11,27 @@
  * anyway, and a longer one is not weakened by the cut), and at most 10 l33t substitutions are
  * tried per word.
  */
-import { ZxcvbnFactory, type ZxcvbnResult } from "@zxcvbn-ts/core";
-import * as common from "@zxcvbn-ts/language-common";
-import * as en from "@zxcvbn-ts/language-en";
+import type { ZxcvbnFactory, ZxcvbnResult } from "@zxcvbn-ts/core";
+import type * as Common from "@zxcvbn-ts/language-common";
+import type * as En from "@zxcvbn-ts/language-en";
 import { PRODUCT_WORDS, type PasswordEstimate, type PasswordEstimator } from "./password-strength";
 
 export const ESTIMATED_LENGTH = 64;
 
-export function createPasswordEstimator(): PasswordEstimator {
-  const factory = new ZxcvbnFactory({
+export interface EstimatorLibraries {
+  core: { ZxcvbnFactory: typeof ZxcvbnFactory };
+  common: Pick<typeof Common, "dictionary" | "adjacencyGraphs">;
+  en: Pick<typeof En, "dictionary" | "translations">;
+}
+
+/** The three packages by dynamic import (the browser's way). */
+export async function loadEstimatorLibraries(): Promise<EstimatorLibraries> {
+  const [core, common, en] = await Promise.all([import("@zxcvbn-ts/core"), import("@zxcvbn-ts/language-common"), import("@zxcvbn-ts/language-en")]);
+  return { core, common, en };
+}
+
+export function buildPasswordEstimator({ core, common, en }: EstimatorLibraries): PasswordEstimator {
+  const factory = new core.ZxcvbnFactory({
     dictionary: { ...common.dictionary, ...en.dictionary, burnline: [...PRODUCT_WORDS] },
     graphs: common.adjacencyGraphs,
     translations: en.translations,

@@ -128,3 +128,29 @@ test("signed-out pages log no console error", async () => {
   expect(errors).toEqual([]);
   await ctx.close();
 });
+
+// Issue 12 item 11: the form shows why a password is refused, live while typing (the estimator's
+// dictionaries load on demand) and on submit, with the same rule the server applies.
+test("the sign-up form explains why a password is refused", async () => {
+  const ctx = await browser.newContext({ viewport: { width: 390, height: 844 } });
+  const page = await ctx.newPage();
+  const scripts: string[] = [];
+  page.on("request", (r) => r.resourceType() === "script" && scripts.push(r.url()));
+  await page.goto(server.url + "/sign-in");
+  await page.getByRole("heading", { name: "Sign in" }).waitFor();
+  const firstPage = scripts.length;
+  await page.goto(server.url + "/sign-up");
+  await page.getByLabel("Shop name").fill("Ashgrove Bay");
+  await page.getByLabel("Your name").fill("Rae Lund");
+  await page.getByLabel("E-mail address").fill("rae@ashgrove.test");
+  await page.getByLabel("Password", { exact: true }).fill("burnline-demo");
+  const meter = page.getByTestId("password-strength");
+  await meter.getByText(/Burnline's own name/).waitFor();
+  // the dictionaries came later than the first page, as separate scripts
+  expect(scripts.length).toBeGreaterThan(firstPage);
+  await page.getByRole("button", { name: "Create the shop" }).click();
+  await page.getByText(/Burnline's own name/).first().waitFor();
+  await page.getByLabel("Password", { exact: true }).fill("Quiet-lathe-orbit-73");
+  await meter.getByText(/hard to guess\./i).waitFor();
+  await ctx.close();
+});

@@ -1,4 +1,5 @@
 import { setPasswordEstimator } from "../../../../shared/domain/password-strength";
+import { buildPasswordEstimator, loadEstimatorLibraries } from "../../../../shared/domain/password-estimator";
 
 let loading: Promise<void> | null = null;
 
@@ -8,8 +9,8 @@ let loading: Promise<void> | null = null;
  * the first page. Once loaded, the forms' shared schemas apply the same strength rule as the server.
  */
 export function loadPasswordEstimator(): Promise<void> {
-  loading ??= import("../../../../shared/domain/password-estimator").then(
-    ({ createPasswordEstimator }) => setPasswordEstimator(createPasswordEstimator()),
+  loading ??= loadEstimatorLibraries().then(
+    (libs) => setPasswordEstimator(buildPasswordEstimator(libs)),
     (err: unknown) => {
       loading = null;
       throw err;
