@@ -18,7 +18,8 @@ import { PRODUCT_WORDS } from "../shared/domain/password-strength";
 const ALPHABET = "abcdefghij0123456789!@#QWERTYpasswordletmein$%&*";
 
 function hostile(): string[] {
-  const spread = (n: number, step: number) => Array.from({ length: n }, (_, i) => ALPHABET[(i * step + 13) % ALPHABET.length]).join("");
+  const spread = (n: number, step: number) =>
+    Array.from({ length: n }, (_, i) => ALPHABET[(i * step + 13) % ALPHABET.length]).join("");
   return [
     spread(128, 7919),
     spread(128, 104729),
@@ -48,7 +49,8 @@ export default async function (): Promise<BenchResult[]> {
   }
   const inputs = hostile();
   // each input's median of 3 (the first run of each also compiles the code paths it takes)
-  const steady = (f: (p: string) => unknown) => Math.max(...inputs.map((p) => median([0, 1, 2].map(() => time(() => f(p)))))); 
+  const steady = (f: (p: string) => unknown) =>
+    Math.max(...inputs.map((p) => median([0, 1, 2].map(() => time(() => f(p))))));
   const worstBounded = steady(bounded);
   const worstUnbounded = steady((p) => unbounded.check(p));
   const ordinary: number[] = [];

@@ -27,13 +27,13 @@ export interface Realtime {
   disconnectUser(userId: string): void;
 }
 
-/** The demo accounts shown on the sign-in page in demo mode (provided by the entry point, never imported by server/). */
+/** The demo accounts shown on the sign-in page in demo mode (from the entry point; server/ never imports demo/). */
 export interface DemoAccounts {
   password: string;
   signIns: { email: string; label: string }[];
 }
 
-/** What the entry point plugs in when DEMO is on: the accounts to show and the seed to run before the server is ready. */
+/** What the entry point plugs in when DEMO is on: the accounts to show and the seed to run before being ready. */
 export interface DemoPlugin extends DemoAccounts {
   seedIfEmpty(ctx: AppContext): Promise<boolean>;
 }

@@ -49,7 +49,11 @@ export interface StartOptions {
  * in ctx.readiness is in place; `ready` resolves then. Other requests that arrive before the app
  * is mounted answer 503 as well.
  */
-export async function startServer(overrides: Partial<Record<keyof Env, string>> = {}, logger?: Logger, opts: StartOptions = {}): Promise<RunningServer> {
+export async function startServer(
+  overrides: Partial<Record<keyof Env, string>> = {},
+  logger?: Logger,
+  opts: StartOptions = {},
+): Promise<RunningServer> {
   const env = loadEnv({ ...process.env, ...overrides } as NodeJS.ProcessEnv);
   const log = logger ?? (await createLogger(env));
   const readiness = createReadiness();
@@ -67,7 +71,10 @@ export async function startServer(overrides: Partial<Record<keyof Env, string>> 
   server.on("request", (req, res) => handler(req, res));
   await new Promise<void>((resolve) => server.listen(env.PORT, env.HOST, resolve));
   const port = (server.address() as { port: number }).port;
-  const resolvedEnv: Env = env.PORT === port && env.PUBLIC_URL ? env : { ...env, PORT: port, publicUrl: env.PUBLIC_URL ?? `http://localhost:${port}` };
+  const resolvedEnv: Env =
+    env.PORT === port && env.PUBLIC_URL
+      ? env
+      : { ...env, PORT: port, publicUrl: env.PUBLIC_URL ?? `http://localhost:${port}` };
 
   let db: ReturnType<typeof openDatabase>;
   try {
@@ -84,8 +91,17 @@ export async function startServer(overrides: Partial<Record<keyof Env, string>> 
     mailCatcher = await startMailCatcher({ port: env.MAIL_CATCHER_PORT, host: "127.0.0.1", storeDir: path.join(env.dataDir, "mail") });
     smtp = { host: "127.0.0.1", port: mailCatcher.port };
   }
-  const transport = createMailer({ host: smtp.host!, port: smtp.port!, secure: env.SMTP_SECURE, user: env.SMTP_USER, pass: env.SMTP_PASS, from: env.MAIL_FROM, pool: true });
-  const dispatcher = startMailDispatcher({ db, transport, logger: log, ...(env.NODE_ENV === "test" ? { pollMs: 500 } : {}) });
+  const transport = createMailer({
+    host: smtp.host!,
+    port: smtp.port!,
+    secure: env.SMTP_SECURE,
+    user: env.SMTP_USER,
+    pass: env.SMTP_PASS,
+    from: env.MAIL_FROM,
+    pool: true,
+  });
+  const pollMs = env.NODE_ENV === "test" ? 500 : undefined;
+  const dispatcher = startMailDispatcher({ db, transport, logger: log, ...(pollMs ? { pollMs } : {}) });
   parts.mail();
 
   let fakeStripe: RunningServer["fakeStripe"] = null;
@@ -177,7 +193,11 @@ function startingHandler(readiness: Readiness): http.RequestListener {
   return (req, res) => {
     const p = (req.url ?? "/").split("?")[0];
     const send = (status: number, body: unknown) => {
-      res.writeHead(status, { "content-type": "application/json; charset=utf-8", "cache-control": "no-store", ...(status === 503 ? { "retry-after": "1" } : {}) });
+      res.writeHead(status, {
+        "content-type": "application/json; charset=utf-8",
+        "cache-control": "no-store",
+        ...(status === 503 ? { "retry-after": "1" } : {}),
+      });
       res.end(JSON.stringify(body));
     };
     if (p === "/api/health/live") return send(200, { ok: true, live: true });

@@ -16,7 +16,10 @@ export function logFormat(env: Pick<Env, "NODE_ENV" | "LOG_FORMAT">): LogFormat 
 }
 
 /** Builds the process logger. `destination` (tests) receives the formatted lines instead of stdout. */
-export async function createLogger(env: Pick<Env, "NODE_ENV" | "LOG_FORMAT" | "LOG_LEVEL">, destination?: DestinationStream): Promise<Logger> {
+export async function createLogger(
+  env: Pick<Env, "NODE_ENV" | "LOG_FORMAT" | "LOG_LEVEL">,
+  destination?: DestinationStream,
+): Promise<Logger> {
   const options = { level: env.LOG_LEVEL };
   if (logFormat(env) === "pretty") {
     try {

@@ -66,7 +66,12 @@ export function createReadiness(): Readiness {
     },
     state() {
       const list = [...pending.values()];
-      return { ready: list.length === 0 && failed.length === 0 && !isStopping, pending: list, failed: [...failed], stopping: isStopping };
+      return {
+        ready: list.length === 0 && failed.length === 0 && !isStopping,
+        pending: list,
+        failed: [...failed],
+        stopping: isStopping,
+      };
     },
     whenReady() {
       return new Promise<void>((resolve, reject) => {
@@ -84,7 +89,9 @@ export function createReadiness(): Readiness {
 /** The body and status of `GET /api/health` for a readiness state. */
 export function healthAnswer(s: ReadinessState): { status: number; body: Record<string, unknown> } {
   if (s.ready) return { status: 200, body: { ok: true, ready: true } };
-  const what = s.stopping ? "the server is stopping" : [...s.pending, ...s.failed.map((f) => `${f.name} (failed)`)].join(", ");
+  const what = s.stopping
+    ? "the server is stopping"
+    : [...s.pending, ...s.failed.map((f) => `${f.name} (failed)`)].join(", ");
   return {
     status: 503,
     body: {

@@ -47,7 +47,10 @@ export const AUTH_RATE_RULES = {
 export const RESET_REQUEST_RULE = { window: 300, max: 3 } as const;
 
 /** better-auth's answer to a reset request, the same for every address. */
-const RESET_REQUESTED = { status: true, message: "If this email exists in our system, check your email for the reset link" };
+const RESET_REQUESTED = {
+  status: true,
+  message: "If this email exists in our system, check your email for the reset link",
+};
 
 /** Request bodies of better-auth endpoints checked with our shared schemas before better-auth sees them. */
 const BODY_SCHEMAS: Record<string, z.ZodType> = {
@@ -137,7 +140,8 @@ export function createAuth(ctx: AppContext) {
     logger: {
       disabled: env.NODE_ENV === "test" || env.LOG_LEVEL === "silent",
       level: "warn",
-      log: (level, message, ...args) => ctx.logger[level]({ ...(args.length ? { details: args } : {}) }, `auth: ${message}`),
+      log: (level, message, ...args) =>
+        ctx.logger[level]({ ...(args.length ? { details: args } : {}) }, `auth: ${message}`),
     },
   });
 
@@ -157,19 +161,28 @@ type Handler = (r: Request) => Promise<Response>;
  * better-auth does its work (token, mail in the outbox) after the answer, so neither the time nor
  * the answer tells whether the address is registered.
  */
-async function guarded(ctx: AppContext, handler: Handler, request: Request, path: string, body: Record<string, unknown>): Promise<Response> {
+async function guarded(
+  ctx: AppContext,
+  handler: Handler,
+  request: Request,
+  path: string,
+  body: Record<string, unknown>,
+): Promise<Response> {
   const ip = request.headers.get(CLIENT_IP_HEADER) ?? "0.0.0.0";
   if (path === "/sign-in/email") return throttledSignIn(ctx, handler, request, ip, String(body.email));
   if (path === "/request-password-reset") {
     const retryAfter = hitRateLimit(ctx, `app|${ip}|request-password-reset`, RESET_REQUEST_RULE);
-    if (retryAfter !== null) return tooMany("rate_limited", `Too many attempts. Wait ${retryAfter} seconds, then try again.`, retryAfter);
+    if (retryAfter !== null) {
+      return tooMany("rate_limited", `Too many attempts. Wait ${retryAfter} seconds, then try again.`, retryAfter);
+    }
     afterResponse(() => {
       handler(request).then(
         (res) => res.status >= 400 && ctx.logger.warn({ status: res.status }, "password reset request not carried out"),
         (err) => ctx.logger.error({ err }, "password reset request failed"),
       );
     });
-    return new Response(JSON.stringify(RESET_REQUESTED), { status: 200, headers: { "content-type": "application/json" } });
+    const headers = { "content-type": "application/json" };
+    return new Response(JSON.stringify(RESET_REQUESTED), { status: 200, headers });
   }
   return handler(request);
 }
@@ -179,14 +192,21 @@ function tooMany(code: string, message: string, retryAfter: number): Response {
   return jsonError(429, code, message, { retryAfterSeconds: retryAfter }, h);
 }
 
-async function throttledSignIn(ctx: AppContext, handler: Handler, request: Request, ip: string, email: string): Promise<Response> {
+async function throttledSignIn(
+  ctx: AppContext,
+  handler: Handler,
+  request: Request,
+  ip: string,
+  email: string,
+): Promise<Response> {
   const gate = reserveSignIn(ctx, ip, email);
   if ("scope" in gate) {
     return gate.scope === "address"
       ? tooMany("rate_limited", `Too many attempts. Wait ${gate.retryAfter} seconds, then try again.`, gate.retryAfter)
       : tooMany(
           "sign_in_delayed",
-          `Too many wrong passwords for this account. Wait ${gate.retryAfter} seconds, then try again, or reset the password.`,
+          `Too many wrong passwords for this account. Wait ${gate.retryAfter} seconds, then try again, ` +
+            "or reset the password.",
           gate.retryAfter,
         );
   }
@@ -201,7 +221,10 @@ async function throttledSignIn(ctx: AppContext, handler: Handler, request: Reque
   }
 }
 
-/** 401: a wrong password (or no such account); 200 or a refusal that comes after the password check: the password was right. */
+/**
+ * 401: a wrong password (or no such account); 200, or a refusal that comes after the password
+ * check (unverified address, removed account): the password was right.
+ */
 async function signInOutcome(res: Response): Promise<Outcome> {
   if (res.status === 200) return "success";
   if (res.status === 401) return "failure";
@@ -219,7 +242,8 @@ function mailOwnerAboutFailures(ctx: AppContext, email: string): void {
   try {
     const u = ctx.db.select().from(schema.user).where(eq(schema.user.email, email.toLowerCase())).get();
     if (!u || u.deactivatedAt) return;
-    void sendMail(ctx, u.email, mails.signInFailures(u.name, `${ctx.env.publicUrl}/forgot-password`), { kind: "sign_in_failures" });
+    const content = mails.signInFailures(u.name, `${ctx.env.publicUrl}/forgot-password`);
+    void sendMail(ctx, u.email, content, { kind: "sign_in_failures" });
   } catch (err) {
     ctx.logger.error({ err }, "could not queue the failed sign-in notice");
   }

@@ -90,7 +90,8 @@ export const mails = {
     subject: INVITE_SUBJECT,
     heading: "An invitation to join a shop on Burnline",
     lines: [
-      `${quoted(inviterName)} invited you to join the shop ${quoted(shopName)} as a technician: you will open cases and send scope captures for a second opinion.`,
+      `${quoted(inviterName)} invited you to join the shop ${quoted(shopName)} as a technician: ` +
+        "you will open cases and send scope captures for a second opinion.",
       "The names above are as the shop's owner entered them; Burnline has not checked them.",
     ],
     action: { label: "Accept the invitation", url },
@@ -101,9 +102,11 @@ export const mails = {
     subject: INVITE_SUBJECT,
     heading: "An invitation to join a shop on Burnline",
     lines: [
-      `${quoted(inviterName)} invited this e-mail address to join the shop ${quoted(shopName)} on Burnline as a technician.`,
+      `${quoted(inviterName)} invited this e-mail address to join the shop ${quoted(shopName)} ` +
+        "on Burnline as a technician.",
       "This address already has a Burnline account, and an account belongs to one shop only, so the invitation can't be used and nothing has changed on your account.",
-      `If you want to join that shop, ask whoever invited you to invite another e-mail address of yours. To use your account as it is, sign in at ${signInUrl}.`,
+      "If you want to join that shop, ask whoever invited you to invite another e-mail address of yours. " +
+        `To use your account as it is, sign in at ${signInUrl}.`,
       "The names above are as the shop's owner entered them; Burnline has not checked them.",
     ],
     footer: "If you were not expecting this, ignore this mail.",
@@ -113,8 +116,11 @@ export const mails = {
     subject: "Failed sign-in attempts on your Burnline account",
     heading: greeting(name),
     lines: [
-      "Someone has just tried several times to sign in to your Burnline account with a wrong password. Further attempts now have to wait longer and longer between tries; your account is not locked and you can still sign in with your password.",
-      "If it was you, there is nothing to do. If it was not, your account is safe as long as your password is not known to anyone else; to be sure, choose a new one.",
+      "Someone has just tried several times to sign in to your Burnline account with a wrong password. " +
+        "Further attempts now have to wait longer and longer between tries; your account is not locked " +
+        "and you can still sign in with your password.",
+      "If it was you, there is nothing to do. If it was not, your account is safe as long as your password " +
+        "is not known to anyone else; to be sure, choose a new one.",
     ],
     action: { label: "Choose a new password", url: resetUrl },
     footer: "You receive this mail once for each run of failed attempts.",

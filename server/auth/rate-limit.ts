@@ -22,13 +22,15 @@ export function hitRateLimit(ctx: AppContext, key: string, rule: RateRule): numb
     INSERT INTO rate_limit (id, key, count, last_request) VALUES (${crypto.randomUUID()}, ${key}, 1, ${now})
     ON CONFLICT(key) DO UPDATE SET
       count = CASE WHEN ${now} - rate_limit.last_request >= ${windowMs} THEN 1 ELSE rate_limit.count + 1 END,
-      last_request = CASE WHEN ${now} - rate_limit.last_request >= ${windowMs} THEN ${now} ELSE rate_limit.last_request END
+      last_request = CASE WHEN ${now} - rate_limit.last_request >= ${windowMs}
+        THEN ${now} ELSE rate_limit.last_request END
     RETURNING count, last_request`);
   if (row && row.count > rule.max) return Math.max(1, Math.ceil((row.last_request + windowMs - now) / 1000));
   return null;
 }
 
-export function rateLimited(retryAfter: number, message = `Too many attempts. Wait ${retryAfter} seconds, then try again.`): HttpError {
+export function rateLimited(retryAfter: number): HttpError {
+  const message = `Too many attempts. Wait ${retryAfter} seconds, then try again.`;
   return new HttpError(429, "rate_limited", message, { retryAfterSeconds: retryAfter });
 }
 

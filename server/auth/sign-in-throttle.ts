@@ -40,7 +40,8 @@ export function accountDelaySeconds(failures: number): number {
   return Math.min(ACCOUNT_MAX_DELAY_S, ACCOUNT_BASE_DELAY_S * 2 ** (failures - ACCOUNT_FREE_FAILURES));
 }
 
-const accountKey = (email: string) => `signin-account|${createHash("sha256").update(email.trim().toLowerCase()).digest("hex")}`;
+const accountKey = (email: string) =>
+  `signin-account|${createHash("sha256").update(email.trim().toLowerCase()).digest("hex")}`;
 const addressKey = (ip: string) => `signin-address|${ip}`;
 
 interface Row {
@@ -56,9 +57,12 @@ export function reserveSignIn(ctx: AppContext, ip: string, email: string): Refus
   const now = ctx.now().getTime();
   const aKey = addressKey(ip);
   const kKey = accountKey(email);
-  const read = (key: string) => ctx.db.get<Row | undefined>(sql`SELECT count, last_request FROM rate_limit WHERE key = ${key}`);
+  const read = (key: string) =>
+    ctx.db.get<Row | undefined>(sql`SELECT count, last_request FROM rate_limit WHERE key = ${key}`);
   const write = (key: string, count: number, last: number) =>
-    ctx.db.run(sql`INSERT INTO rate_limit (id, key, count, last_request) VALUES (${crypto.randomUUID()}, ${key}, ${count}, ${last})
+    ctx.db
+      .run(sql`INSERT INTO rate_limit (id, key, count, last_request)
+        VALUES (${crypto.randomUUID()}, ${key}, ${count}, ${last})
       ON CONFLICT(key) DO UPDATE SET count = excluded.count, last_request = excluded.last_request`);
 
   type Decision = Refusal | { failures: number; addressStart: number };
@@ -68,14 +72,20 @@ export function reserveSignIn(ctx: AppContext, ip: string, email: string): Refus
       let address = read(aKey);
       if (address && now - address.last_request >= windowMs) address = undefined;
       if (address && address.count >= ADDRESS_RULE.max) {
-        return { scope: "address" as const, retryAfter: Math.max(1, Math.ceil((address.last_request + windowMs - now) / 1000)) };
+        return {
+          scope: "address" as const,
+          retryAfter: Math.max(1, Math.ceil((address.last_request + windowMs - now) / 1000)),
+        };
       }
       let account = read(kKey);
       if (account && now - account.last_request >= ACCOUNT_FORGET_AFTER_S * 1000) account = undefined;
       const failures = account?.count ?? 0;
       const wait = accountDelaySeconds(failures) * 1000;
       if (account && wait > 0 && now < account.last_request + wait) {
-        return { scope: "account" as const, retryAfter: Math.max(1, Math.ceil((account.last_request + wait - now) / 1000)) };
+        return {
+          scope: "account" as const,
+          retryAfter: Math.max(1, Math.ceil((account.last_request + wait - now) / 1000)),
+        };
       }
       write(aKey, (address?.count ?? 0) + 1, address?.last_request ?? now);
       write(kKey, failures + 1, now);
@@ -87,7 +97,9 @@ export function reserveSignIn(ctx: AppContext, ip: string, email: string): Refus
   const { failures, addressStart } = decided;
   // now and then, forget what no rule looks at any more (addresses typed once, old runs of failures)
   if (Math.random() < 0.01) {
-    ctx.db.run(sql`DELETE FROM rate_limit WHERE key LIKE 'signin-%' AND last_request < ${now - ACCOUNT_FORGET_AFTER_S * 1000}`);
+    ctx.db.run(
+      sql`DELETE FROM rate_limit WHERE key LIKE 'signin-%' AND last_request < ${now - ACCOUNT_FORGET_AFTER_S * 1000}`,
+    );
   }
 
   let settled = false;
@@ -98,9 +110,14 @@ export function reserveSignIn(ctx: AppContext, ip: string, email: string): Refus
       ctx.db.transaction(
         () => {
           // the address counts failures only
-          if (outcome !== "failure") ctx.db.run(sql`UPDATE rate_limit SET count = MAX(0, count - 1) WHERE key = ${aKey} AND last_request = ${addressStart}`);
+          if (outcome !== "failure")
+            ctx.db.run(
+              sql`UPDATE rate_limit SET count = MAX(0, count - 1)
+                WHERE key = ${aKey} AND last_request = ${addressStart}`,
+            );
           if (outcome === "success") ctx.db.run(sql`DELETE FROM rate_limit WHERE key = ${kKey}`);
-          else if (outcome === "other") ctx.db.run(sql`UPDATE rate_limit SET count = MAX(0, count - 1) WHERE key = ${kKey}`);
+          else if (outcome === "other")
+            ctx.db.run(sql`UPDATE rate_limit SET count = MAX(0, count - 1) WHERE key = ${kKey}`);
         },
         { behavior: "immediate" },
       );

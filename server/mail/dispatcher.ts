@@ -14,7 +14,13 @@ import type { Db } from "../db/client";
 import { claimRow, dueRows, markFailed, markSent, nextDueAt, pruneOutbox, unsentCount, type OutboxRow } from "./outbox";
 
 export interface MailTransport {
-  send(mail: { to: string; subject: string; text: string; html?: string; replyTo?: string }): Promise<{ messageId: string }>;
+  send(mail: {
+    to: string;
+    subject: string;
+    text: string;
+    html?: string;
+    replyTo?: string;
+  }): Promise<{ messageId: string }>;
 }
 
 export interface DispatcherOptions {
@@ -53,7 +59,11 @@ export interface MailDispatcher {
 
 const DAY = 24 * 3600 * 1000;
 
-export function retryDelayMs(attempt: number, o: { baseDelayMs: number; maxDelayMs: number }, random: () => number): number {
+export function retryDelayMs(
+  attempt: number,
+  o: { baseDelayMs: number; maxDelayMs: number },
+  random: () => number,
+): number {
   const raw = Math.min(o.maxDelayMs, o.baseDelayMs * 2 ** Math.max(0, attempt - 1));
   return Math.round(raw * (0.8 + 0.4 * random()));
 }
@@ -91,7 +101,8 @@ export function startMailDispatcher(opts: DispatcherOptions): MailDispatcher {
         ...(row.htmlBody ? { html: row.htmlBody } : {}),
         ...(row.replyTo ? { replyTo: row.replyTo } : {}),
       });
-      if (!markSent(opts.db, row.id, id, info.messageId, now())) log.warn({ mailId: row.id }, "mail sent, but its claim had been taken over");
+      if (!markSent(opts.db, row.id, id, info.messageId, now()))
+        log.warn({ mailId: row.id }, "mail sent, but its claim had been taken over");
       else log.debug({ mailId: row.id, kind: row.kind }, "mail sent");
       return true;
     } catch (err) {
@@ -99,7 +110,8 @@ export function startMailDispatcher(opts: DispatcherOptions): MailDispatcher {
       const retryAt = giveUp ? null : new Date(now().getTime() + retryDelayMs(row.attempts, cfg, random));
       markFailed(opts.db, row.id, id, String((err as Error)?.message ?? err).slice(0, 500), retryAt);
       if (giveUp) log.error({ err, mailId: row.id, kind: row.kind, attempts: row.attempts }, "mail given up");
-      else log.warn({ err, mailId: row.id, kind: row.kind, attempts: row.attempts, retryAt }, "mail not sent; will retry");
+      else
+        log.warn({ err, mailId: row.id, kind: row.kind, attempts: row.attempts, retryAt }, "mail not sent; will retry");
       return false;
     }
   }

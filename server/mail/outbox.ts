@@ -33,7 +33,10 @@ export interface EnqueueOptions {
 /** Writes one row per recipient and returns the ids. Synchronous, so it runs inside a transaction. */
 export function enqueueMail(db: MailWriter, mail: OutboxMail, opts: { kind?: string; now?: Date } = {}): string[] {
   const now = opts.now ?? new Date();
-  const recipients = ([] as string[]).concat(mail.to).map((a) => a.trim()).filter(Boolean);
+  const recipients = ([] as string[])
+    .concat(mail.to)
+    .map((a) => a.trim())
+    .filter(Boolean);
   if (recipients.length === 0) throw new Error("enqueueMail: no recipient");
   const rows = recipients.map((to) => ({
     id: crypto.randomUUID(),
@@ -72,7 +75,13 @@ export function dueRows(db: Db, now: Date, staleBefore: Date, limit: number): st
  * two dispatchers that try the same row exactly one gets `changes === 1` and sends it. A claim
  * older than `staleBefore` (its dispatcher died mid-send) may be taken over.
  */
-export function claimRow(db: Db, id: string, dispatcherId: string, now: Date, staleBefore: Date): OutboxRow | undefined {
+export function claimRow(
+  db: Db,
+  id: string,
+  dispatcherId: string,
+  now: Date,
+  staleBefore: Date,
+): OutboxRow | undefined {
   const r = db
     .update(mailOutbox)
     .set({ status: "sending", claimedBy: dispatcherId, claimedAt: now, attempts: sql`${mailOutbox.attempts} + 1` })

@@ -27,7 +27,9 @@ export function healthRoutes(ctx: AppContext, auth: Auth): Router {
       ctx.db.get(sql`select 1 as ok`);
       res.json(body);
     } catch {
-      res.status(503).json({ ok: false, ready: false, error: { code: "db_unavailable", message: "The database does not answer." } });
+      res
+        .status(503)
+        .json({ ok: false, ready: false, error: { code: "db_unavailable", message: "The database does not answer." } });
     }
   });
   r.get("/health/live", (_req, res) => {

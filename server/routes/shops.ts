@@ -67,7 +67,8 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
       res.status(201).json({ invite });
     } catch (err) {
       // RFC 6585 §4: a 429 may say how long to wait (Retry-After, RFC 9110 §10.2.3)
-      const wait = err instanceof HttpError && err.status === 429 ? (err.details as { retryAfterSeconds?: number })?.retryAfterSeconds : undefined;
+      const limited = err instanceof HttpError && err.status === 429;
+      const wait = limited ? (err.details as { retryAfterSeconds?: number })?.retryAfterSeconds : undefined;
       if (wait) res.set("Retry-After", String(wait));
       throw err;
     }

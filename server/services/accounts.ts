@@ -49,14 +49,20 @@ export { hashPassword };
  * inside the transaction that creates the account). The link is signed before, so the caller can
  * build it ahead of its transaction with `verificationUrl`.
  */
-export async function sendVerification(ctx: AppContext, user: { id: string; email: string; name: string }, opts: { tx?: Tx } = {}): Promise<void> {
-  await sendMail(ctx, user.email, mails.verifyEmail(user.name, await verificationUrl(ctx, user)), { kind: "verify_email", ...opts });
+export async function sendVerification(
+  ctx: AppContext,
+  user: { id: string; email: string; name: string },
+  opts: { tx?: Tx } = {},
+): Promise<void> {
+  const content = mails.verifyEmail(user.name, await verificationUrl(ctx, user));
+  await sendMail(ctx, user.email, content, { kind: "verify_email", ...opts });
 }
 
 /** Someone signed up with an address that already has an account: tell its owner, change nothing. */
 export async function sendAlreadyRegistered(ctx: AppContext, user: { email: string; name: string }): Promise<void> {
   const base = ctx.env.publicUrl;
-  await sendMail(ctx, user.email, mails.alreadyRegistered(user.name, `${base}/sign-in`, `${base}/forgot-password`), { kind: "already_registered" });
+  const content = mails.alreadyRegistered(user.name, `${base}/sign-in`, `${base}/forgot-password`);
+  await sendMail(ctx, user.email, content, { kind: "already_registered" });
 }
 
 /**

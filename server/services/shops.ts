@@ -43,7 +43,8 @@ export async function signUpShopOwner(ctx: AppContext, input: ShopSignUpInput): 
     // the shop, the owner and the confirmation mail (in the outbox) exist together or not at all
     ctx.db.transaction((tx) => {
       tx.insert(schema.shop).values({ id: shopId, name: input.shopName, createdAt: now }).run();
-      insertCredentialUser(tx, { id: userId, email: input.email, name: input.name, role: "owner", shopId, emailVerified: false, passwordHash, now });
+      const owner = { id: userId, email: input.email, name: input.name, role: "owner" as const, shopId };
+      insertCredentialUser(tx, { ...owner, emailVerified: false, passwordHash, now });
       enqueueAccountMail(ctx, input.email, mails.verifyEmail(input.name, link), { tx, kind: "verify_email" });
     });
   } catch (err) {
@@ -121,7 +122,14 @@ export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow,
       checkInviteLimits(tx, shop, actor.id, now);
       tx.update(schema.invite)
         .set({ revokedAt: now })
-        .where(and(eq(schema.invite.shopId, shop.id), eq(schema.invite.email, input.email), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt)))
+        .where(
+          and(
+            eq(schema.invite.shopId, shop.id),
+            eq(schema.invite.email, input.email),
+            isNull(schema.invite.acceptedAt),
+            isNull(schema.invite.revokedAt),
+          ),
+        )
         .run();
       tx.insert(schema.invite).values(row).run();
       enqueueAccountMail(ctx, input.email, content, { tx, kind: "invite" });
@@ -179,7 +187,9 @@ function checkInviteLimits(tx: Tx, shop: ShopRow, userId: string, now: Date): vo
     // the next place frees when the oldest invitation beyond the allowance leaves the window
     const freesAt = times[times.length - c.max].at.getTime() + c.windowMs;
     const retryAfter = Math.max(1, Math.ceil((freesAt - now.getTime()) / 1000));
-    if (!refusal || retryAfter > refusal.retryAfter) refusal = { scope: c.scope, retryAfter, max: c.max, windowMs: c.windowMs };
+    if (!refusal || retryAfter > refusal.retryAfter) {
+      refusal = { scope: c.scope, retryAfter, max: c.max, windowMs: c.windowMs };
+    }
   }
   if (!refusal) return;
   const per = refusal.windowMs === HOUR ? "hour" : "day";
@@ -187,7 +197,8 @@ function checkInviteLimits(tx: Tx, shop: ShopRow, userId: string, now: Date): vo
   throw new HttpError(
     429,
     "invite_limit",
-    `${who[0].toUpperCase()}${who.slice(1)} sent the most invitations allowed per ${per} (${refusal.max}). Try again in ${formatWait(refusal.retryAfter)}.`,
+    `${who[0].toUpperCase()}${who.slice(1)} sent the most invitations allowed per ${per} (${refusal.max}). ` +
+      `Try again in ${formatWait(refusal.retryAfter)}.`,
     { scope: refusal.scope, limit: refusal.max, retryAfterSeconds: refusal.retryAfter },
   );
 }

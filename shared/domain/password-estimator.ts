@@ -26,7 +26,11 @@ export interface EstimatorLibraries {
 
 /** The three packages by dynamic import (the browser's way). */
 export async function loadEstimatorLibraries(): Promise<EstimatorLibraries> {
-  const [core, common, en] = await Promise.all([import("@zxcvbn-ts/core"), import("@zxcvbn-ts/language-common"), import("@zxcvbn-ts/language-en")]);
+  const [core, common, en] = await Promise.all([
+    import("@zxcvbn-ts/core"),
+    import("@zxcvbn-ts/language-common"),
+    import("@zxcvbn-ts/language-en"),
+  ]);
   return { core, common, en };
 }
 

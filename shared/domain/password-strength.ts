@@ -18,11 +18,53 @@ export const PASSWORD_MIN_SCORE = 3;
 
 /** Words of this product and its trade that make a password easy to guess for anyone who knows where it is used. */
 export const PRODUCT_WORDS: readonly string[] = [
-  "burnline", "burnline-demo", "burnlinedemo", "burn line", "demo", "ignition", "coil", "coilpack", "spark", "sparkplug",
-  "plug", "waveform", "scope", "oscilloscope", "misfire", "injector", "sensor", "primary", "secondary", "firing",
-  "firingline", "burntime", "kilovolt", "dwell", "cylinder", "crank", "crankshaft", "camshaft", "compression",
-  "diagnostic", "diagnostics", "diagnosis", "garage", "mechanic", "technician", "workshop", "repair", "engine",
-  "motor", "vehicle", "expert", "desk", "casebook", "trace", "capture", "second opinion", "secondopinion",
+  "burnline",
+  "burnline-demo",
+  "burnlinedemo",
+  "burn line",
+  "demo",
+  "ignition",
+  "coil",
+  "coilpack",
+  "spark",
+  "sparkplug",
+  "plug",
+  "waveform",
+  "scope",
+  "oscilloscope",
+  "misfire",
+  "injector",
+  "sensor",
+  "primary",
+  "secondary",
+  "firing",
+  "firingline",
+  "burntime",
+  "kilovolt",
+  "dwell",
+  "cylinder",
+  "crank",
+  "crankshaft",
+  "camshaft",
+  "compression",
+  "diagnostic",
+  "diagnostics",
+  "diagnosis",
+  "garage",
+  "mechanic",
+  "technician",
+  "workshop",
+  "repair",
+  "engine",
+  "motor",
+  "vehicle",
+  "expert",
+  "desk",
+  "casebook",
+  "trace",
+  "capture",
+  "second opinion",
+  "secondopinion",
 ];
 
 export interface PasswordEstimate {
@@ -60,7 +102,8 @@ export function estimatePassword(password: string, userInputs: readonly string[]
 const MESSAGE = {
   blank: "Use at least 8 characters other than spaces.",
   common: "This is one of the most common passwords. Choose one that is harder to guess, e.g. a few unrelated words.",
-  product: "It is built from Burnline's own name, the demo password or words of the trade, which anyone would try first.",
+  product:
+    "It is built from Burnline's own name, the demo password or words of the trade, which anyone would try first.",
   personal: "It is built from your name, e-mail address or shop name, which anyone who knows you would try first.",
   weak: "This password is too easy to guess.",
   advice: "Add a few more unrelated words, or make it longer.",
@@ -79,7 +122,8 @@ export function passwordProblem(password: string, userInputs: readonly string[] 
   if (!est) return null;
   // Mostly the person's own details or the product's words: refused below the top score, because
   // those are the first guesses of anyone who knows whose account it is or where it is used.
-  if (est.score < 4 && (est.coverage.userInputs ?? 0) >= OWN_WORDS_SHARE) return `${MESSAGE.personal} ${MESSAGE.advice}`;
+  if (est.score < 4 && (est.coverage.userInputs ?? 0) >= OWN_WORDS_SHARE)
+    return `${MESSAGE.personal} ${MESSAGE.advice}`;
   if (est.score < 4 && (est.coverage.burnline ?? 0) >= OWN_WORDS_SHARE) return `${MESSAGE.product} ${MESSAGE.advice}`;
   if (est.score >= PASSWORD_MIN_SCORE) return null;
   return reasonFor(est);
@@ -96,7 +140,7 @@ function reasonFor(est: PasswordEstimate): string {
   return `${why.replace(/\.?$/, ".")} ${how.replace(/\.?$/, ".")}`;
 }
 
-/** "Sam Ortega" → ["sam ortega", "samortega", "sam", "ortega"]; "sam@millbrook.test" → [… "millbrook", "test"]. */
+/** "Sam Ortega" → ["sam ortega", "samortega", "sam", "ortega"]; an e-mail address → its parts likewise. */
 function splitInput(v: string): string[] {
   const s = v.trim().toLowerCase();
   if (!s) return [];

@@ -35,7 +35,10 @@ export const newPasswordSchema = z
  * Runs only when the field passed its own checks (length, common list), so each problem is
  * reported once.
  */
-function strongPassword<T extends Record<string, unknown>>(field: keyof T & string, inputs: (v: T) => unknown[] = () => []) {
+function strongPassword<T extends Record<string, unknown>>(
+  field: keyof T & string,
+  inputs: (v: T) => unknown[] = () => [],
+) {
   return (v: T, ctx: z.RefinementCtx) => {
     const p = v[field];
     if (!newPasswordSchema.safeParse(p).success) return;

@@ -13,5 +13,9 @@ export async function waitForOutboxDrained(server: { ctx: AppContext }, timeoutM
 
 /** The outbox rows (newest last), e.g. to check that a mail was queued without waiting for it. */
 export function outboxRows(server: { ctx: AppContext }) {
-  return server.ctx.db.select().from(schema.mailOutbox).all().sort((a, b) => a.createdAt.getTime() - b.createdAt.getTime());
+  return server.ctx.db
+    .select()
+    .from(schema.mailOutbox)
+    .all()
+    .sort((a, b) => a.createdAt.getTime() - b.createdAt.getTime());
 }

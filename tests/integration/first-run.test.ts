@@ -49,7 +49,8 @@ beforeAll(async () => {
   const port = await freePort();
   base = `http://127.0.0.1:${port}`;
   const env: NodeJS.ProcessEnv = { ...process.env };
-  for (const k of ["NODE_ENV", "LOG_LEVEL", "LOG_FORMAT", "PUBLIC_URL", "SMTP_HOST", "STRIPE_API_BASE", "DEMO"]) delete env[k];
+  for (const k of ["NODE_ENV", "LOG_LEVEL", "LOG_FORMAT", "PUBLIC_URL", "SMTP_HOST", "STRIPE_API_BASE", "DEMO"])
+    delete env[k];
   Object.assign(env, {
     NODE_ENV: "development",
     PORT: String(port),
@@ -135,7 +136,8 @@ describe("first run in development", () => {
 
   test("logs are readable lines, not raw JSON, and only a few scroll past before the banner", async () => {
     const until = Date.now() + 20_000;
-    while (!output.includes("Burnline is running at") && Date.now() < until) await new Promise((r) => setTimeout(r, 50));
+    while (!output.includes("Burnline is running at") && Date.now() < until)
+      await new Promise((r) => setTimeout(r, 50));
     const lines = output.split("\n");
     const banner = lines.findIndex((l) => l.includes("Burnline is running at"));
     expect(banner, output.slice(-2000)).toBeGreaterThanOrEqual(0);

@@ -34,7 +34,8 @@ describe("invitation limits", () => {
     const team = await createShopTeam(s, { technicians: 0 });
     const owner = await signIn(s, team.owner);
     const statuses: number[] = [];
-    for (let i = 0; i < 11; i++) statuses.push((await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: addr() })).status);
+    for (let i = 0; i < 11; i++)
+      statuses.push((await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: addr() })).status);
     expect(statuses).toEqual([...new Array(10).fill(201), 429]);
     const limited = await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: addr() });
     expect(limited.status).toBe(429);
@@ -45,7 +46,8 @@ describe("invitation limits", () => {
 
     moveClock(3601_000);
     const more: number[] = [];
-    for (let i = 0; i < 6; i++) more.push((await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: addr() })).status);
+    for (let i = 0; i < 6; i++)
+      more.push((await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: addr() })).status);
     expect(more).toEqual([201, 201, 201, 201, 201, 429]);
     const daily = await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: addr() });
     expect(daily.body.error.code).toBe("invite_limit");
@@ -59,14 +61,19 @@ describe("invitation limits", () => {
 
   test("an established shop (a week old, has paid for a case) is not held to the new shop's daily cap", async () => {
     const team = await createShopTeam(s, { technicians: 1 });
-    s.ctx.db.update(schema.shop).set({ createdAt: new Date(s.ctx.now().getTime() - 30 * 24 * 3600_000) }).where(eq(schema.shop.id, team.shop.id)).run();
+    s.ctx.db
+      .update(schema.shop)
+      .set({ createdAt: new Date(s.ctx.now().getTime() - 30 * 24 * 3600_000) })
+      .where(eq(schema.shop.id, team.shop.id))
+      .run();
     const tech = await signIn(s, team.technicians[0]);
     const caseId = insertDraftCase(s, { shopId: team.shop.id, createdBy: team.technicians[0].id });
     await submitAndPay(s, tech, caseId);
     const owner = await signIn(s, team.owner);
     const statuses: number[] = [];
     for (let hourBlock = 0; hourBlock < 2; hourBlock++) {
-      for (let i = 0; i < 10; i++) statuses.push((await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: addr() })).status);
+      for (let i = 0; i < 10; i++)
+        statuses.push((await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: addr() })).status);
       moveClock(3601_000);
     }
     expect(statuses).toEqual(new Array(20).fill(201));
@@ -76,7 +83,11 @@ describe("invitation limits", () => {
 describe("invitation mails", () => {
   test("the subject carries no name the user chose; the body quotes them escaped and unlinked", async () => {
     const shopName = `<img src=x onerror=alert(1)> Visit http://cheap-parts.example now`;
-    const team = await createShopTeam(s, { technicians: 0, name: shopName, owner: { name: "Win a prize at www.prize.example" } });
+    const team = await createShopTeam(s, {
+      technicians: 0,
+      name: shopName,
+      owner: { name: "Win a prize at www.prize.example" },
+    });
     const owner = await signIn(s, team.owner);
     const email = addr();
     const since = new Date();

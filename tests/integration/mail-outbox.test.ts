@@ -61,7 +61,10 @@ describe("two dispatchers on one database", () => {
         return { messageId: `${who}-${m.subject}` };
       },
     });
-    const ids = Array.from({ length: 60 }, (_, i) => enqueueMail(db, { to: `r${i}@example.test`, subject: `m${i}`, text: "x" })[0]);
+    const ids = Array.from(
+      { length: 60 },
+      (_, i) => enqueueMail(db, { to: `r${i}@example.test`, subject: `m${i}`, text: "x" })[0],
+    );
     const a = startMailDispatcher({ db, transport: slow("a"), logger: silent, id: "a", pollMs: 60_000 });
     const b = startMailDispatcher({ db, transport: slow("b"), logger: silent, id: "b", pollMs: 60_000 });
     cleanups.push(async () => {
@@ -101,7 +104,17 @@ describe("retries", () => {
       },
     };
     const now = () => new Date(clock);
-    const d = startMailDispatcher({ db, transport, logger: silent, now, random: () => 0.5, baseDelayMs: 1000, maxDelayMs: 60_000, maxAttempts: 8, pollMs: 60_000 });
+    const d = startMailDispatcher({
+      db,
+      transport,
+      logger: silent,
+      now,
+      random: () => 0.5,
+      baseDelayMs: 1000,
+      maxDelayMs: 60_000,
+      maxAttempts: 8,
+      pollMs: 60_000,
+    });
     cleanups.push(() => d.stop());
     enqueueMail(db, { to: "a@example.test", subject: "flaky", text: "x" }, { now: now() });
     enqueueMail(db, { to: "b@example.test", subject: "refused", text: "x" }, { now: now() });
@@ -137,9 +150,19 @@ describe("retries", () => {
     const db = tempDb();
     let clock = Date.parse("2030-01-01T00:00:00Z");
     const [id] = enqueueMail(db, { to: "c@example.test", subject: "orphan", text: "x" }, { now: new Date(clock) });
-    db.update(schema.mailOutbox).set({ status: "sending", claimedBy: "dead", claimedAt: new Date(clock), attempts: 1 }).where(eq(schema.mailOutbox.id, id)).run();
+    db.update(schema.mailOutbox)
+      .set({ status: "sending", claimedBy: "dead", claimedAt: new Date(clock), attempts: 1 })
+      .where(eq(schema.mailOutbox.id, id))
+      .run();
     const sent: string[] = [];
-    const d = startMailDispatcher({ db, transport: { send: async (m) => (sent.push(m.subject), { messageId: "x" }) }, logger: silent, now: () => new Date(clock), leaseMs: 60_000, pollMs: 60_000 });
+    const d = startMailDispatcher({
+      db,
+      transport: { send: async (m) => (sent.push(m.subject), { messageId: "x" }) },
+      logger: silent,
+      now: () => new Date(clock),
+      leaseMs: 60_000,
+      pollMs: 60_000,
+    });
     cleanups.push(() => d.stop());
     clock += 59_000;
     await d.runOnce();

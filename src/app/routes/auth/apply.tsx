@@ -85,7 +85,9 @@ export function ApplyPage() {
         <TextField label="E-mail address" type="email" autoComplete="email" inputMode="email" autoCapitalize="none" error={errors.email?.message} {...form.register("email")} />
         <div className="sm:col-span-2">
           <PasswordField label="Password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
-          {errors.password ? null : <PasswordStrength password={form.watch("password") ?? ""} userInputs={form.watch(["email", "name"])} />}
+          {errors.password ? null : (
+            <PasswordStrength password={form.watch("password") ?? ""} userInputs={form.watch(["email", "name"])} />
+          )}
         </div>
         <fieldset className="sm:col-span-2" aria-describedby={systemsError ? "apply-systems-error" : undefined}>
           <legend className="mb-1 text-sm font-semibold text-ink-800">Systems you specialise in</legend>

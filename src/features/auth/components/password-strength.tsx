@@ -2,14 +2,26 @@ import { useEffect, useState } from "react";
 import { PASSWORD_MIN_SCORE, estimatePassword, passwordProblem } from "../../../../shared/domain/password-strength";
 import { loadPasswordEstimator } from "../lib/password-estimator";
 
-const LABELS = ["Very easy to guess", "Easy to guess", "Fairly easy to guess", "Hard to guess", "Very hard to guess"] as const;
+const LABELS = [
+  "Very easy to guess",
+  "Easy to guess",
+  "Fairly easy to guess",
+  "Hard to guess",
+  "Very hard to guess",
+] as const;
 
 /**
  * Live feedback while a new password is typed: a four-step bar and, when the password would be
  * refused, the reason (the same rule the server applies: shared/domain/password-strength.ts).
  * The estimator is loaded when this first shows; until then it says nothing.
  */
-export function PasswordStrength({ password, userInputs = [] }: { password: string; userInputs?: readonly (string | undefined)[] }) {
+export function PasswordStrength({
+  password,
+  userInputs = [],
+}: {
+  password: string;
+  userInputs?: readonly (string | undefined)[];
+}) {
   const [ready, setReady] = useState(false);
   const [shown, setShown] = useState<{ score: number; problem: string | null } | null>(null);
   const inputs = userInputs.filter((v): v is string => !!v);
