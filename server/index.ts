@@ -3,7 +3,7 @@ import path from "node:path";
 import type { Logger } from "pino";
 import Stripe from "stripe";
 import { loadEnv, type Env } from "./env";
-import { openDatabase } from "./db/client";
+import { openDatabase, type Db } from "./db/client";
 import { createApp } from "./app";
 import { noRealtime, type AppContext, type DemoPlugin } from "./context";
 import { createMailer } from "./integrations/mailer";
@@ -11,7 +11,8 @@ import { createStripeClient } from "./integrations/payments";
 import { startMailCatcher } from "./fakes/smtp";
 import { startFakeStripe } from "./fakes/stripe/index";
 import { attachRealtime } from "./realtime/index";
-import { startBackground } from "./services/background";
+import { connectRedis, type SharedRedis } from "./cluster/redis";
+import { startBackground, type Sweep } from "./services/background";
 import { workflowSweeps } from "./workflow/sweeps";
 import { stopAnalysisWorker } from "./uploads/analysis";
 import { stopCasebookSearch, warmCasebookSearch } from "./services/casebook-search";
@@ -77,14 +78,25 @@ export async function startServer(
       ? env
       : { ...env, PORT: port, publicUrl: env.PUBLIC_URL ?? `http://localhost:${port}` };
 
-  let db: ReturnType<typeof openDatabase>;
+  let db: Db;
   try {
-    db = openDatabase(env.DATABASE_URL);
+    db = await openDatabase(env.DATABASE_URL, { authToken: env.DATABASE_AUTH_TOKEN });
   } catch (err) {
     server.close();
     throw err;
   }
   parts.database();
+
+  let redis: SharedRedis | null = null;
+  if (env.REDIS_URL) {
+    try {
+      redis = await connectRedis(env.REDIS_URL, log);
+    } catch (err) {
+      server.close();
+      await db.close();
+      throw err;
+    }
+  }
 
   let mailCatcher: RunningServer["mailCatcher"] = null;
   let smtp = { host: env.SMTP_HOST, port: env.SMTP_PORT };
@@ -138,9 +150,9 @@ export async function startServer(
   };
   const app = createApp(ctx, { clientDir: path.resolve("dist/client") });
   handler = app;
-  const realtime = attachRealtime(server, ctx, app.locals.auth);
+  const realtime = await attachRealtime(server, ctx, app.locals.auth, { redis });
   ctx.realtime = realtime;
-  const background = startBackground(ctx, workflowSweeps);
+  const background = await startBackground(ctx, sweepsFor(env), redis);
   // Built ahead of the first request outside tests (tests build them on first use, which is as
   // correct and spares every test server the start-up work).
   if (env.NODE_ENV !== "test") {
@@ -174,7 +186,7 @@ export async function startServer(
     ready,
     async close() {
       readiness.stopping();
-      background.stop();
+      await background.stop();
       await dispatcher.stop();
       await realtime.close();
       await new Promise<void>((resolve) => server.close(() => resolve()));
@@ -184,9 +196,15 @@ export async function startServer(
       await mailCatcher?.close();
       await stopCasebookSearch(ctx);
       if (--running === 0) await stopAnalysisWorker();
-      db.$client.close();
+      await redis?.close();
+      await db.close();
     },
   };
+}
+
+/** The workflow's sweeps, the queue sweep's period set by QUEUE_SWEEP_MS when given. */
+function sweepsFor(env: Env): Sweep[] {
+  return workflowSweeps.map((s) => (s.name === "queue" && env.QUEUE_SWEEP_MS ? { ...s, everyMs: env.QUEUE_SWEEP_MS } : s));
 }
 
 /** Answers while the app is being built: health (503 with what is pending), liveness (200), anything else 503. */

@@ -33,9 +33,9 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   const upload = singleFileUpload({ tempDir: layout.tempDir, maxBytes: ctx.env.MAX_TRACE_BYTES, kind: "text" });
 
   /** The trace and its case, or 404 when either is missing or the actor may not see the case. */
-  const loadReadable = (actorCheck: (c: CaseRow | undefined) => void, id: string): TraceRow => {
-    const t = getTraceRow(ctx, id);
-    actorCheck(t ? getCaseRow(ctx.db, t.caseId) : undefined);
+  const loadReadable = async (actorCheck: (c: CaseRow | undefined) => void, id: string): Promise<TraceRow> => {
+    const t = await getTraceRow(ctx, id);
+    actorCheck(t ? await ctx.db.read((tx) => getCaseRow(tx, t.caseId)) : undefined);
     return t!;
   };
 
@@ -43,7 +43,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
     // Authorized before the body is read: nobody streams 200 MB into a case they cannot change.
-    assertCanAddTrace(actor, getCaseRow(ctx.db, id));
+    assertCanAddTrace(actor, await ctx.db.read((tx) => getCaseRow(tx, id)));
     try {
       try {
         await runMiddleware(upload, req, res);
@@ -68,7 +68,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/traces/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const t = getTraceRow(ctx, id);
+    const t = await getTraceRow(ctx, id);
     await viewableCase(ctx, actor, t?.caseId ?? "", "Trace");
     res.json(presentTrace(t!));
   });
@@ -78,7 +78,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const q = parseQuery(traceWindowQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const t = traceForWindow(ctx, actor, id);
+    const t = await traceForWindow(ctx, actor, id);
     const w = await traceWindow(ctx, t, q);
     res.set("Cache-Control", "private, max-age=3600");
     res.json(w);
@@ -87,7 +87,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/traces/:id/original", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const t = loadReadable((c) => assertCanReadTrace(actor, c), id);
+    const t = await loadReadable((c) => assertCanReadTrace(actor, c), id);
     const abs = originalFilePath(ctx, t);
     const stat = await fs.promises.stat(abs);
     const name = t.originalName ?? `${t.name}.csv`;
@@ -105,7 +105,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   r.delete("/traces/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const t = loadReadable((c) => assertCanDeleteTrace(actor, c), id);
+    const t = await loadReadable((c) => assertCanDeleteTrace(actor, c), id);
     await deleteTrace(ctx, actor, t);
     res.status(204).end();
   });

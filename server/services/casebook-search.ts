@@ -8,7 +8,7 @@
 import path from "node:path";
 import { Worker } from "node:worker_threads";
 import type { AppContext } from "../context";
-import type { Db } from "../db/client";
+import { isServerUrl, type Db } from "../db/client";
 import { CasebookSearchEngine, type CasebookSearchQuery, type CasebookSearchResult, type EngineStats } from "./casebook-search-engine";
 
 /** a worker idle this long is stopped (its arrays are rebuilt on the next search) */
@@ -23,12 +23,12 @@ class SearchWorker {
   private pending = new Map<number, Pending>();
   private idle: NodeJS.Timeout | null = null;
 
-  constructor(private readonly file: string) {}
+  constructor(private readonly target: SearchTarget) {}
 
   private start(): Worker {
     if (this.worker) return this.worker;
     const w = new Worker(new URL("./casebook-search-boot.mjs", import.meta.url), {
-      workerData: { file: this.file, entry: new URL("./casebook-search-worker.ts", import.meta.url).href },
+      workerData: { ...this.target, entry: new URL("./casebook-search-worker.ts", import.meta.url).href },
     });
     w.unref();
     w.on("message", (m: { id: number; ok: boolean; result?: unknown; error?: string }) => {
@@ -86,18 +86,24 @@ class SearchWorker {
 const workers = new Map<string, SearchWorker>();
 const inThread = new WeakMap<Db, CasebookSearchEngine>();
 
-function dbFile(ctx: AppContext): string | null {
+/** What a search worker reads: a database file, or a libSQL server (several nodes). */
+export type SearchTarget = { file: string } | { url: string; authToken?: string };
+
+function searchTarget(ctx: AppContext): SearchTarget | null {
+  if (isServerUrl(ctx.env.DATABASE_URL)) return { url: ctx.env.DATABASE_URL, authToken: ctx.env.DATABASE_AUTH_TOKEN };
   const f = ctx.env.DATABASE_URL.replace(/^file:/, "");
-  return f === ":memory:" || f === "" ? null : path.resolve(f);
+  return f === ":memory:" || f === "" ? null : { file: path.resolve(f) };
 }
 
+const keyOf = (t: SearchTarget) => ("file" in t ? t.file : t.url);
+
 function workerFor(ctx: AppContext): SearchWorker | null {
-  const file = dbFile(ctx);
-  if (!file) return null;
-  let w = workers.get(file);
+  const target = searchTarget(ctx);
+  if (!target) return null;
+  let w = workers.get(keyOf(target));
   if (!w) {
-    w = new SearchWorker(file);
-    workers.set(file, w);
+    w = new SearchWorker(target);
+    workers.set(keyOf(target), w);
   }
   return w;
 }
@@ -106,7 +112,8 @@ function workerFor(ctx: AppContext): SearchWorker | null {
 export function inThreadEngine(db: Db): CasebookSearchEngine {
   let e = inThread.get(db);
   if (!e) {
-    e = new CasebookSearchEngine(db.$client);
+    if (!db.sqlite) throw new Error("an in-thread casebook search needs the embedded database");
+    e = new CasebookSearchEngine(db.sqlite);
     inThread.set(db, e);
   }
   return e;
@@ -124,7 +131,7 @@ export async function warmCasebookSearch(ctx: AppContext): Promise<EngineStats> 
   const w = workerFor(ctx);
   if (!w) {
     const e = inThreadEngine(ctx.db);
-    e.refresh();
+    await e.refresh();
     return e.stats();
   }
   return w.request<EngineStats>("warm");
@@ -132,9 +139,9 @@ export async function warmCasebookSearch(ctx: AppContext): Promise<EngineStats> 
 
 /** Stops the search worker of this database (tests, shutdown). */
 export async function stopCasebookSearch(ctx: AppContext): Promise<void> {
-  const file = dbFile(ctx);
-  if (!file) return;
-  const w = workers.get(file);
-  workers.delete(file);
+  const target = searchTarget(ctx);
+  if (!target) return;
+  const w = workers.get(keyOf(target));
+  workers.delete(keyOf(target));
   await w?.stop();
 }

@@ -1,7 +1,7 @@
 import fs from "node:fs";
 import { asc, eq } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import type { Actor } from "../auth/session";
 import { assertCanAddTrace } from "../auth/policies/traces";
 import { badRequest, tooLarge } from "../http/errors";
@@ -21,12 +21,17 @@ import { contentInFlight, placeContentAddressed, relativeDataPath, removeStoredF
 export type TraceRow = typeof schema.trace.$inferSelect;
 const { trace } = schema;
 
-export function getTraceRow(ctx: AppContext, id: string): TraceRow | undefined {
-  return ctx.db.select().from(trace).where(eq(trace.id, id)).get();
+export async function getTraceRow(ctx: AppContext, id: string): Promise<TraceRow | undefined> {
+  return ctx.db.read((tx) => tx.select().from(trace).where(eq(trace.id, id)).get());
 }
 
-export function listTraces(ctx: AppContext, caseId: string): TraceRow[] {
-  return ctx.db.select().from(trace).where(eq(trace.caseId, caseId)).orderBy(asc(trace.createdAt), asc(trace.id)).all();
+/** A case's traces, oldest first (inside the caller's unit). */
+export async function tracesOfCase(tx: Tx, caseId: string): Promise<TraceRow[]> {
+  return tx.select().from(trace).where(eq(trace.caseId, caseId)).orderBy(asc(trace.createdAt), asc(trace.id)).all();
+}
+
+export async function listTraces(ctx: AppContext, caseId: string): Promise<TraceRow[]> {
+  return ctx.db.read((tx) => tracesOfCase(tx, caseId));
 }
 
 /** The JSON of a trace: its metadata (never the samples; those come from the window endpoint). */
@@ -62,22 +67,24 @@ export function traceDataFilePath(ctx: AppContext, t: TraceRow): string {
   return resolveDataPath(ctx.env.dataDir, t.dataPath);
 }
 
-function traceUsesContent(ctx: AppContext, sha256: string): boolean {
-  return ctx.db.select({ id: trace.id }).from(trace).where(eq(trace.sha256, sha256)).limit(1).get() !== undefined;
+async function traceUsesContent(ctx: AppContext, sha256: string): Promise<boolean> {
+  const row = await ctx.db.read((tx) => tx.select({ id: trace.id }).from(trace).where(eq(trace.sha256, sha256)).limit(1).get());
+  return row !== undefined;
 }
 
 /** Removes a trace (draft only, checked by the policy): its row, its parsed data, and its original when no other trace uses it. */
 export async function deleteTrace(ctx: AppContext, actor: Actor, t: TraceRow): Promise<void> {
   const now = ctx.now();
-  ctx.db.transaction((tx) => {
-    tx.delete(trace).where(eq(trace.id, t.id)).run();
-    recordCaseEvent(tx, { caseId: t.caseId, actorId: actor.id, type: "trace_deleted", at: now, data: { traceId: t.id, name: t.name } });
-    touchCase(tx, t.caseId, now);
+  await ctx.db.write(async (tx) => {
+    await tx.delete(trace).where(eq(trace.id, t.id)).run();
+    const data = { traceId: t.id, name: t.name };
+    await recordCaseEvent(tx, { caseId: t.caseId, actorId: actor.id, type: "trace_deleted", at: now, data });
+    await touchCase(tx, t.caseId, now);
   });
   forgetOpenTrace(traceDataFilePath(ctx, t));
   await removeStoredFile(traceDataFilePath(ctx, t));
   const original = originalFilePath(ctx, t);
-  if (contentInFlight(original) === 0 && !traceUsesContent(ctx, t.sha256)) await removeStoredFile(original);
+  if (contentInFlight(original) === 0 && !(await traceUsesContent(ctx, t.sha256))) await removeStoredFile(original);
   announceCaseChange(ctx, t.caseId, now, "trace", t.id);
 }
 
@@ -165,20 +172,23 @@ export async function addTrace(
       originalName,
       createdAt: now,
     };
-    ctx.db.transaction((tx) => {
+    const stored = await ctx.db.write(async (tx) => {
       // The case may have moved on while the file was arriving and being parsed.
-      assertCanAddTrace(actor, getCaseRow(tx, caseId) as CaseRow | undefined);
-      tx.insert(trace).values(row).run();
-      recordCaseEvent(tx, { caseId, actorId: actor.id, type: "trace_added", at: now, data: { traceId: id, name, samples: row.samples } });
-      touchCase(tx, caseId, now);
+      assertCanAddTrace(actor, (await getCaseRow(tx, caseId)) as CaseRow | undefined);
+      const inserted = await tx.insert(trace).values(row).returning().get();
+      const data = { traceId: id, name, samples: row.samples };
+      await recordCaseEvent(tx, { caseId, actorId: actor.id, type: "trace_added", at: now, data });
+      await touchCase(tx, caseId, now);
+      return inserted;
     });
     committed = true;
     announceCaseChange(ctx, caseId, now, "trace", id);
-    return getTraceRow(ctx, id)!;
+    return stored;
   } finally {
     if (!committed) {
       if (dataFile) await removeStoredFile(dataFile);
-      if (placed && contentInFlight(placed.abs) <= 1 && !traceUsesContent(ctx, upload.sha256)) await removeStoredFile(placed.abs);
+      if (placed && contentInFlight(placed.abs) <= 1 && !(await traceUsesContent(ctx, upload.sha256)))
+        await removeStoredFile(placed.abs);
     }
     placed?.release();
   }

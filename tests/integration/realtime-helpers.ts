@@ -19,12 +19,11 @@ export interface LiveCase {
  * 0.1 s capture on channel "A". The trace's data files are not written: the live layer only reads
  * the row (time span and channels).
  */
-export function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shopId: string; createdBy: string; expertId?: string | null; status?: string }): LiveCase {
+export async function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shopId: string; createdBy: string; expertId?: string | null; status?: string }): Promise<LiveCase> {
   const now = ctx.now();
   const caseId = crypto.randomUUID();
   const traceId = crypto.randomUUID();
-  ctx.db
-    .insert(schema.caseTable)
+  (await ctx.db.write((tx) => tx.insert(schema.caseTable)
     .values({
       id: caseId,
       shopId: opts.shopId,
@@ -39,9 +38,8 @@ export function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shop
       createdAt: now,
       updatedAt: now,
     })
-    .run();
-  ctx.db
-    .insert(schema.trace)
+    .run()));
+  (await ctx.db.write((tx) => tx.insert(schema.trace)
     .values({
       id: traceId,
       caseId,
@@ -60,7 +58,7 @@ export function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shop
       channels: [{ name: "A", unit: "V", min: -5, max: 30 }],
       createdAt: now,
     })
-    .run();
+    .run()));
   return { caseId, traceId };
 }
 

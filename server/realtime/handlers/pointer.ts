@@ -6,14 +6,15 @@ import type { Live, LiveSocket } from "../live";
 /** pointer:move and view:follow — not stored; forwarded at most POINTER_RATE_HZ per socket. */
 export function onPointer(live: Live, socket: LiveSocket): void {
   const { ctx, presence } = live;
+  const local = live.local(socket);
   socket.on("pointer:move", (raw) =>
-    live.quiet("pointer:move", () => {
+    live.quiet("pointer:move", async () => {
       const p = parseWith(pointerMoveSchema, raw, "event");
-      const { caseId } = live.inRoom(socket);
-      if (p.traceId !== null && live.caseOfTrace(p.traceId) !== caseId) return;
-      live.throttled(socket.data.pointer, p, (q) =>
-        live.quiet("pointer:move", () => {
-          const { actor, caseId: room } = live.inRoom(socket);
+      const { caseId } = await live.quietCheck(socket);
+      if (p.traceId !== null && (await live.traceFacts(p.traceId))?.caseId !== caseId) return;
+      live.throttled(local.pointer, p, (q) =>
+        live.quiet("pointer:move", async () => {
+          const { actor, caseId: room } = await live.quietCheck(socket);
           const who = { caseId: room, userId: actor.id, name: actor.name, color: actor.color };
           const out: PointerPayload =
             q.traceId === null ? { ...who, traceId: null } : { ...who, traceId: q.traceId, t: q.t, v: q.v };
@@ -24,13 +25,13 @@ export function onPointer(live: Live, socket: LiveSocket): void {
   );
 
   socket.on("view:follow", (raw) =>
-    live.quiet("view:follow", () => {
+    live.quiet("view:follow", async () => {
       const p = parseWith(viewFollowSchema, raw, "event");
-      const { caseId } = live.inRoom(socket);
-      if (live.caseOfTrace(p.traceId) !== caseId) return;
-      live.throttled(socket.data.view, p, (q) =>
-        live.quiet("view:follow", () => {
-          const { actor, caseId: room } = live.inRoom(socket);
+      const { caseId } = await live.quietCheck(socket);
+      if ((await live.traceFacts(p.traceId))?.caseId !== caseId) return;
+      live.throttled(local.view, p, (q) =>
+        live.quiet("view:follow", async () => {
+          const { actor, caseId: room } = await live.quietCheck(socket);
           const at = ctx.now().toISOString();
           const v: ViewPayload = {
             caseId: room,
@@ -42,7 +43,7 @@ export function onPointer(live: Live, socket: LiveSocket): void {
             t1: q.t1,
             at,
           };
-          presence.setView(v);
+          await presence.setView(v);
           socket.to(caseRoom(room)).emit("view", v);
         }),
       );
