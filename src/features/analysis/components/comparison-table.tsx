@@ -2,7 +2,7 @@ import { useId, useState } from "react";
 import type { Comparison, Outlier } from "../../../../shared/analysis/types";
 import { fmtNum, fmtWithUnit } from "../lib/format";
 import { metricLabel, physicalMetric } from "../lib/metrics";
-import type { ChannelUnits } from "../../traces/lib/units";
+import type { ChannelUnits } from "../../../lib/physical-units";
 
 export interface ComparedTrace {
   id: string;

@@ -2,7 +2,7 @@ import { useId, useState } from "react";
 import type { AnalysisResult, MetricStats } from "../../../../shared/analysis/types";
 import { fmtHz, fmtNum, fmtSeconds, fmtWithUnit } from "../lib/format";
 import { metricsByKind, physicalMetric } from "../lib/metrics";
-import type { ChannelUnits } from "../../traces/lib/units";
+import type { ChannelUnits } from "../../../lib/physical-units";
 
 const th = "px-2 py-2 text-left font-semibold text-ink-600 sm:px-3";
 const td = "px-2 py-2 tabular-nums sm:px-3";
