@@ -145,7 +145,9 @@ export interface TraceViewerProps {
   readOnly?: boolean;
   /** show the list of every mark on the traces under/beside the plot; default true when annotations are given */
   showAnnotationList?: boolean;
-  /** plot height in CSS px; default adapts to width (260–420) */
+  /** plot height in CSS px; default adapts to width (240–420) */
   height?: number;
+  /** "card" (default): a bordered card; "flush": no frame, the plot runs to the container's edges (a phone's live review) */
+  variant?: "card" | "flush";
   className?: string;
 }

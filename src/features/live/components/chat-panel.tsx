@@ -3,6 +3,7 @@ import type { LiveAbilities, Participant } from "../../../../shared/realtime";
 import type { DataRequest } from "../../../../shared/schemas/realtime";
 import { MAX_MESSAGE } from "../../../../shared/schemas/realtime";
 import type { LiveMessage } from "../lib/room-state";
+import { useTouchScreen } from "../../../lib/use-media-query";
 import { DataRequestCard } from "./data-request-card";
 import { DataRequestForm } from "./data-request-form";
 
@@ -28,6 +29,7 @@ export interface ChatPanelProps {
 export function ChatPanel({ messages, participants, youId, abilities, onSend, onTyping, onDismiss, className }: ChatPanelProps) {
   const [text, setText] = useState("");
   const [asking, setAsking] = useState(false);
+  const touch = useTouchScreen();
   const listRef = useRef<HTMLOListElement>(null);
   const typing = participants.filter((p) => p.typing && p.userId !== youId);
 
@@ -44,8 +46,9 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
     setText("");
     onTyping(false);
   };
+  // on a touch screen Enter starts a new line (the keyboard has no Shift+Enter); the button sends
   const onKey = (e: KeyboardEvent<HTMLTextAreaElement>) => {
-    if (e.key === "Enter" && !e.shiftKey) {
+    if (e.key === "Enter" && !e.shiftKey && !touch) {
       e.preventDefault();
       submit();
     }
@@ -111,7 +114,7 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
               maxLength={MAX_MESSAGE}
               value={text}
               placeholder="Write a message…"
-              aria-describedby="chat-input-hint"
+              aria-describedby={touch ? undefined : "chat-input-hint"}
               onChange={(e) => {
                 setText(e.target.value);
                 onTyping(e.target.value.trim().length > 0);
@@ -121,12 +124,14 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
               className="block min-h-11 w-full min-w-0 flex-1 resize-y rounded-lg border border-ink-300 px-3 py-2 text-base focus:border-kiln-500 focus:outline-none focus:ring-2 focus:ring-kiln-300"
             />
             <button type="submit" disabled={!text.trim()} className="inline-flex min-h-11 items-center rounded-lg bg-kiln-500 px-4 font-semibold text-ink-950 hover:bg-kiln-400 disabled:opacity-50">
-              Send
+              Send message
             </button>
           </form>
-          <p id="chat-input-hint" className="text-xs text-ink-500">
-            Enter sends · Shift+Enter starts a new line
-          </p>
+          {touch ? null : (
+            <p id="chat-input-hint" className="text-xs text-ink-500">
+              Enter sends · Shift+Enter starts a new line
+            </p>
+          )}
           {abilities.requestData && !asking ? (
             <button type="button" onClick={() => setAsking(true)} className="inline-flex min-h-11 items-center rounded-lg border border-kiln-500 px-3 text-sm font-semibold text-kiln-700 hover:bg-kiln-50">
               Ask for more data…

@@ -76,11 +76,11 @@ function ViewerPlot({ v, props, height, measure }: { v: ViewerState; props: Trac
 }
 
 /** The viewer's controls above the plot: trace tabs, the toolbar, the overlay's and the channels' toggles. */
-function ViewerControls({ v, flaggedId }: { v: ViewerState; flaggedId?: string }) {
+function ViewerControls({ v, flaggedId, inset }: { v: ViewerState; flaggedId?: string; inset: string }) {
   const { nav, marks, cap } = { ...v, cap: v.nav.cap! };
   const view = nav.view;
   return (
-    <>
+    <div className={inset}>
       {!v.overlay && v.traces.length > 1 ? <TraceTabs traces={v.traces} activeId={nav.active?.id} flaggedId={flaggedId} onSelect={(id) => (marks.cancel(), nav.selectTrace(id))} /> : null}
       <ViewToolbar
         touch={v.touch}
@@ -103,7 +103,7 @@ function ViewerControls({ v, flaggedId }: { v: ViewerState; flaggedId?: string }
       />
       {v.overlay ? <OverlayToggles traces={v.traces} hidden={v.hiddenTraces} alignment={v.alignment} onChange={v.setHiddenTraces} /> : null}
       {v.channelNames.length > 1 ? <ChannelToggles names={v.channelNames} hidden={v.hiddenChannels} overlay={v.overlay} onChange={v.setHiddenChannels} /> : null}
-    </>
+    </div>
   );
 }
 
@@ -125,6 +125,9 @@ export function TraceViewer({ ref, ...props }: TraceViewerProps & { ref?: Ref<Tr
   const height = props.height ?? Math.round(Math.min(420, Math.max(240, (v.boxWidth ?? 600) * 0.55)));
   const traceIds = traces.map((t) => t.id);
   const view = nav.view;
+  const flush = props.variant === "flush";
+  // a flush viewer keeps its controls and texts off the screen's edges; the plot runs to them
+  const inset = flush ? "px-3" : "";
   const onKeyDown = (e: KeyboardEvent<HTMLElement>) =>
     handleViewerKey(e, {
       zoomBy: (f) => nav.applyView(zoomCentre(view, f)),
@@ -137,18 +140,20 @@ export function TraceViewer({ ref, ...props }: TraceViewerProps & { ref?: Ref<Tr
     });
   return (
     <section
-      className={`@container rounded-xl border border-ink-200 bg-white p-2 outline-none sm:p-3 ${props.className ?? ""}`}
+      className={`@container bg-white outline-none ${flush ? "py-1" : "rounded-xl border border-ink-200 p-2 sm:p-3"} ${props.className ?? ""}`}
       aria-label={v.overlay ? `Trace overlay of ${nav.shown.length} traces` : `Trace ${nav.reference.name}`}
       tabIndex={0}
       onKeyDown={onKeyDown}
     >
-      <ViewerControls v={v} flaggedId={props.flaggedTraceId} />
+      <ViewerControls v={v} flaggedId={props.flaggedTraceId} inset={inset} />
       <div className={`grid gap-3 ${listShown ? "@4xl:grid-cols-[minmax(0,1fr)_16rem]" : ""}`}>
         <div className="min-w-0">
           <ViewerPlot v={v} props={props} height={height} measure={measure} />
-          <ViewStatus xStep={v.xGrid.step} yStep={v.yGrid.step} levelUnit={v.refCu.unit} view={view} overlay={v.overlay} tool={marks.tool} hoverRef={hoverRef} />
-          {v.cursors ? <CursorReadout readout={cursorReadout(v.cursors, v.refCu)} /> : null}
-          <GestureHints touch={v.touch} canMark={v.canMark} />
+          <div className={inset}>
+            <ViewStatus xStep={v.xGrid.step} yStep={v.yGrid.step} levelUnit={v.refCu.unit} view={view} overlay={v.overlay} tool={marks.tool} hoverRef={hoverRef} />
+            {v.cursors ? <CursorReadout readout={cursorReadout(v.cursors, v.refCu)} /> : null}
+            <GestureHints touch={v.touch} canMark={v.canMark} />
+          </div>
         </div>
         {listShown ? (
           <AnnotationList
