@@ -33,7 +33,9 @@ const overlapY = (b: Box, band: { top: number; bottom: number } | null) =>
 
 /** Position of a w × h label for a pointer at (px, py) inside `plot`, clear of the band if possible. */
 export function placePointerLabel(px: number, py: number, w: number, h: number, plot: PlotRect, band: BandPx, gap = 4): LabelPlacement {
-  const xs = [px + 8, px - 8 - w].map((x) => Math.min(Math.max(x, plot.left + 1), plot.right - w - 1));
+  // beside the pointer, right or left, where the label fits without covering the pointer itself
+  const fits = [px + 8, px - 8 - w].filter((x) => x >= plot.left + 1 && x + w <= plot.right - 1);
+  const xs = fits.length ? fits : [Math.min(Math.max(px + 8, plot.left + 1), plot.right - w - 1)];
   let best: LabelPlacement | null = null;
   let bestCost = Infinity;
   for (const x of xs) {

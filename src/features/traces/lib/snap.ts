@@ -58,17 +58,33 @@ export function bandAt(e: Envelope, time: number): { lo: number; hi: number } | 
   return { lo: Math.min(lo, hi), hi: Math.max(lo, hi) };
 }
 
+/** The range of the samples in the bucket that holds `time` (the pixel's column), or null. */
+export function bucketRangeAt(e: Envelope, time: number): { lo: number; hi: number } | null {
+  const n = Math.min(e.t.length, e.min.length, e.max.length);
+  const k = bucketAt(e.t, time);
+  if (k < 0 || k >= n) return null;
+  const w = bucketWidth(e.t);
+  if (k === n - 1 && !(time - e.t[k] <= (Number.isFinite(w) ? w : 0))) return null;
+  return finite(e.min[k]) && finite(e.max[k]) ? { lo: Math.min(e.min[k], e.max[k]), hi: Math.max(e.min[k], e.max[k]) } : null;
+}
+
 /**
- * The trace's level at `time` nearest to `near`: where the band is a line (one sample per bucket,
- * or a flat stretch) its value there; where a bucket spans a range (a firing line squeezed into one
- * pixel) the value of that range nearest to `near` — so a click near the top of a firing line pins
- * its peak. Null where the data does not reach.
+ * The trace's level at `time` nearest to `near`: a value on the trace there — within the samples of
+ * the bucket that holds the time (a firing line squeezed into one pixel is all there) or on the
+ * band as drawn between buckets — the one nearest to `near`. So a click near the top of a firing
+ * line pins its peak, a click anywhere above a spark line pins the spark line. Null where the data
+ * does not reach.
  */
 export function traceLevelAt(e: Envelope, time: number, near: number): number | null {
-  const b = bandAt(e, time);
-  if (!b) return null;
-  if (!finite(near)) return (b.lo + b.hi) / 2;
-  return Math.min(Math.max(near, b.lo), b.hi);
+  const ranges = [bucketRangeAt(e, time), bandAt(e, time)].filter((r): r is { lo: number; hi: number } => r != null);
+  if (!ranges.length) return null;
+  if (!finite(near)) return (ranges[0].lo + ranges[0].hi) / 2;
+  let best = NaN;
+  for (const r of ranges) {
+    const v = Math.min(Math.max(near, r.lo), r.hi);
+    if (!(Math.abs(v - near) >= Math.abs(best - near))) best = v;
+  }
+  return best;
 }
 
 /** The band's lowest and highest level over [ta, tb] (both ends interpolated), or null. */
