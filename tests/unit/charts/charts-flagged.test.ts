@@ -8,7 +8,7 @@ import { generateCompression } from "../../generators/compression";
 import { flaggedTraceId } from "../../../src/features/analysis/lib/flagged";
 import { barLayout } from "../../../src/features/analysis/lib/bars";
 import { comparisonCharts, shortLabel } from "../../../src/features/analysis/lib/chart-data";
-import { withCautionsOnce } from "../../../src/features/analysis/components/findings-list";
+import { withCautionsOnce } from "../../../src/features/analysis/lib/cautions";
 
 // Four coils from the project's generator (tests/generators/secondary.ts): 1 MS/s, 3000 rpm, two
 // firings each; burn 1.5 ms, and 0.75 ms on coil 3 (its stated parameter: half the others').

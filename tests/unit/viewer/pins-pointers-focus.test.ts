@@ -2,11 +2,11 @@ import { describe, expect, it } from "vitest";
 import { decimateMinMax } from "../../../shared/trace/decimate";
 import { generateSecondary } from "../../generators/secondary";
 import { bandAt, traceLevelAt } from "../../../src/features/traces/lib/snap";
-import { pinLevel } from "../../../src/features/traces/plot/plugins/pins";
+import { pinLevel } from "../../../src/features/traces/plot/pin-level";
 import { placePointerLabel } from "../../../src/features/traces/lib/pointer-label";
 import { firingFocus, firstEventLength } from "../../../src/features/traces/lib/overlay-focus";
-import { windowParams } from "../../../src/features/traces/hooks/use-window-data";
-import { plotAreaWidth } from "../../../src/features/traces/components/plot-surface";
+import { windowParams } from "../../../src/features/traces/lib/window-params";
+import { plotAreaWidth } from "../../../src/features/traces/plot/layout";
 import type { TraceLayer } from "../../../src/features/traces/plot/model";
 
 // A secondary-ignition capture from the project's generator (tests/generators/secondary.ts) with

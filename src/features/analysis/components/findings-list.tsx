@@ -1,4 +1,5 @@
-import { ENGINE_SAFETY, SECONDARY_SAFETY } from "../../../../shared/analysis/findings";
+import { SECONDARY_SAFETY } from "../../../../shared/analysis/findings";
+import { withCautionsOnce } from "../lib/cautions";
 import type { Finding, Severity } from "../../../../shared/analysis/types";
 
 const tone: Record<Severity, { box: string; badge: string; label: string }> = {
@@ -8,28 +9,6 @@ const tone: Record<Severity, { box: string; badge: string; label: string }> = {
 };
 
 const order: Record<Severity, number> = { problem: 0, warning: 1, info: 2 };
-
-/** Split the analysis's safety caution off an advice text, to show it as a caution of its own. */
-function splitCaution(advice: string): { advice: string; caution: string | null } {
-  for (const c of [SECONDARY_SAFETY, ENGINE_SAFETY]) {
-    if (advice.includes(c)) return { advice: advice.replace(c, "").trim(), caution: c };
-  }
-  return { advice, caution: null };
-}
-
-/**
- * The findings with their advice split from the safety caution, the caution kept only beside the
- * first advice that carries it (the same caution once per trace, not once per finding).
- */
-export function withCautionsOnce(findings: Finding[]): { f: Finding; advice: string; caution: string | null }[] {
-  const seen = new Set<string>();
-  return findings.map((f) => {
-    const { advice, caution } = splitCaution(f.advice ?? "");
-    const first = caution != null && !seen.has(caution);
-    if (caution) seen.add(caution);
-    return { f, advice, caution: first ? caution : null };
-  });
-}
 
 /**
  * The capture review and measurement findings of a trace, worst first, each with its advice.

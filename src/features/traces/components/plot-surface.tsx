@@ -10,6 +10,7 @@ import { PLOT_COLORS } from "../lib/palette";
 import type { PlotModel, PlotTransient } from "../plot/model";
 import { layerPlugins } from "../plot/plugins";
 import { attachGestures, type MarkGesture } from "../plot/gestures";
+import { MIN_PLOT_BOX, PADDING, X_AXIS_PX, Y_AXIS_PX } from "../plot/layout";
 
 export type { MarkGesture } from "../plot/gestures";
 
@@ -37,16 +38,6 @@ export interface PlotSurfaceProps {
 }
 
 const AXIS_FONT = '11px "Merriweather Sans", ui-sans-serif, system-ui, sans-serif';
-const Y_AXIS_PX = 60;
-const X_AXIS_PX = 30;
-/** top, right, bottom, left padding around the plot area, CSS px */
-const PADDING: [number, number, number, number] = [10, 28, 0, 0];
-export const MIN_PLOT_BOX = 120;
-
-/** The plot area's width for a box width (what uPlot lays out: the box less the level axis and padding). */
-export function plotAreaWidth(boxWidth: number): number {
-  return Math.max(boxWidth, MIN_PLOT_BOX) - Y_AXIS_PX - PADDING[1] - PADDING[3];
-}
 
 type Latest = { current: PlotSurfaceProps };
 

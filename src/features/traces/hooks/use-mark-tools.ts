@@ -2,7 +2,7 @@ import { useMemo, useState } from "react";
 import type { AnnotationKind, MarkDraft, TraceInfo } from "../types";
 import type { MarkGesture } from "../plot/gestures";
 import type { MarkPreview, TraceLayer } from "../plot/model";
-import { layerOf } from "../plot/plugins";
+import { layerOf } from "../plot/pin-level";
 import { traceLevelAt } from "../lib/snap";
 import { formatLevel, formatTime, type ChannelUnits } from "../lib/units";
 

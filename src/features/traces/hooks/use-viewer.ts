@@ -14,7 +14,7 @@ import { useFrameThrottle } from "./use-frame-throttle";
 import { sameWindow } from "../lib/zoom";
 import { defaultCursors, type CursorPositions } from "../lib/readout";
 import { formatLevel, formatTime } from "../lib/units";
-import { plotAreaWidth } from "../components/plot-surface";
+import { plotAreaWidth } from "../plot/layout";
 
 const NONE: never[] = [];
 const NO_OFFSETS: Record<string, number> = {};

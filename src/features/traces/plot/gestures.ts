@@ -11,7 +11,7 @@ import type { CursorPositions } from "../lib/readout";
 import { annotationShapes, hitTestAnnotations, hitTestCursors, type CursorHandle, type PlotFrame } from "../lib/overlay-geometry";
 import { panByPixels, pinchWindow, pxToTime, selectionToWindow, wheelFactor, zoomAround, type Span } from "../lib/zoom";
 import type { PlotModel, PlotTransient } from "./model";
-import { pinLevel } from "./plugins/pins";
+import { pinLevel } from "./pin-level";
 
 export interface MarkGesture {
   kind: AnnotationKind;

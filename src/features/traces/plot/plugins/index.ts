@@ -18,4 +18,4 @@ export function layerPlugins(get: GetPlotState): uPlot.Plugin[] {
   return [tracesPlugin, levelsPlugin, eventsPlugin, marksPlugin, pinsPlugin, cursorsPlugin, selectionPlugin, pointersPlugin].map((p) => p(get));
 }
 
-export { pinLevel, layerOf } from "./pins";
+export { pinLevel, layerOf } from "../pin-level";

@@ -6,24 +6,11 @@
  */
 import type uPlot from "uplot";
 import type { Annotation } from "../../types";
-import { traceLevelAt } from "../../lib/snap";
 import { PLOT_COLORS } from "../../lib/palette";
 import { chip, inPlotArea, vline, type CanvasFrame } from "../canvas";
-import type { GetPlotState, MarkPreview, TraceLayer } from "../model";
+import type { GetPlotState, MarkPreview } from "../model";
+import { pinLevel } from "../pin-level";
 import { markLabel, markLine } from "./marks";
-
-/** The layer a mark of this trace (and channel) stands on: its channel, else the trace's first shown. */
-export function layerOf(layers: TraceLayer[], traceId: string, channel?: string | null): TraceLayer | undefined {
-  const own = layers.filter((l) => l.traceId === traceId);
-  return (channel ? own.find((l) => l.channel === channel) : undefined) ?? own[0];
-}
-
-/** The level a pin's dot is drawn at (display unit): on the trace at its time, else its stored level. */
-export function pinLevel(a: Pick<Annotation, "traceId" | "channel" | "t0" | "level">, layers: TraceLayer[]): number | null {
-  const layer = layerOf(layers, a.traceId, a.channel);
-  const onTrace = layer ? traceLevelAt(layer, a.t0, a.level ?? NaN) : null;
-  return onTrace ?? a.level ?? null;
-}
 
 function drawPin(f: CanvasFrame, a: Annotation, level: number | null, selected: boolean): void {
   const { ctx, pr } = f;
