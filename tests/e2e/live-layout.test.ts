@@ -146,12 +146,6 @@ function watchWindows(page: Page) {
   return { asked, failed };
 }
 
-/** An image's natural width once it has loaded (0 before; evaluated in the page). */
-const loaded = (img: unknown) => {
-  const i = img as { complete: boolean; naturalWidth: number };
-  return i.complete ? i.naturalWidth : 0;
-};
-
 const live = (p: Page) => p.locator('section[aria-labelledby="live-title"]');
 
 async function noSidewaysScroll(page: Page): Promise<void> {
@@ -279,13 +273,13 @@ describe.sequential("the live case page at 390, 820 and 1440 px", () => {
         await similar.scrollIntoViewIfNeeded();
         const thumb = similar.locator("img[data-thumbnail]").first();
         await thumb.waitFor();
-        await expect.poll(() => thumb.evaluate((img) => loaded(img))).toBe(160);
+        await expect.poll(() => thumb.evaluate((img) => ((img as { complete: boolean }).complete ? (img as { naturalWidth: number }).naturalWidth : 0))).toBe(160);
         await similar.screenshot({ path: `${shots}/${w.width}-similar-cases.png` });
         await page.goto(`${server.url}/casebook`);
         const hit = page.getByRole("article").filter({ hasText: "Veltra Orvane" }).first();
         await hit.waitFor();
         const ht = hit.locator("img[data-thumbnail]");
-        await expect.poll(() => ht.evaluate((img) => loaded(img))).toBe(160);
+        await expect.poll(() => ht.evaluate((img) => ((img as { complete: boolean }).complete ? (img as { naturalWidth: number }).naturalWidth : 0))).toBe(160);
         await shot(page, shots, `${w.width}-casebook-hits`, { viewport: true });
         await noSidewaysScroll(page);
       } finally {

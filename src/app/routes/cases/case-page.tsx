@@ -126,7 +126,8 @@ export function CasePage() {
   const live = LIVE_STATES.includes(c.status) ? <LiveReview caseId={c.id} traces={c.traces.map(viewerInfo)} flaggedTraceId={flagged} /> : null;
 
   return (
-    <div className={`space-y-5 ${liveNow ? "pb-24 lg:pb-0" : ""}`}>
+    // below a desk's width the live review's dock is fixed at the screen's bottom: room for it
+    <div className={`space-y-5 ${live ? "pb-24 lg:pb-0" : ""}`}>
       <CaseHeader c={c} compact={liveNow} />
       {liveNow ? live : null}
       <DraftNotice c={c} />

@@ -109,6 +109,7 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
   const chat = (
     <ChatPanel
       className={desk ? "max-h-[40rem] lg:sticky lg:top-4" : "h-full border-0"}
+      shown={desk || sheet === "chat"}
       messages={room.messages}
       participants={room.participants}
       youId={room.you?.userId}

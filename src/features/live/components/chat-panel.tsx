@@ -23,10 +23,12 @@ export interface ChatPanelProps {
   onTyping: (typing: boolean) => void;
   onDismiss: (clientId: string) => void;
   className?: string;
+  /** false while the panel is out of sight (a lowered sheet): on showing it scrolls to the newest message */
+  shown?: boolean;
 }
 
 /** The case's chat: messages in order, requests for more data as cards, who is typing, the composer. */
-export function ChatPanel({ messages, participants, youId, abilities, onSend, onTyping, onDismiss, className }: ChatPanelProps) {
+export function ChatPanel({ messages, participants, youId, abilities, onSend, onTyping, onDismiss, className, shown = true }: ChatPanelProps) {
   const [text, setText] = useState("");
   const [asking, setAsking] = useState(false);
   const touch = useTouchScreen();
@@ -35,8 +37,8 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
 
   useEffect(() => {
     const el = listRef.current;
-    if (el) el.scrollTop = el.scrollHeight;
-  }, [messages.length]);
+    if (el && shown) el.scrollTop = el.scrollHeight;
+  }, [messages.length, shown]);
 
   const submit = (e?: FormEvent) => {
     e?.preventDefault();
