@@ -77,11 +77,15 @@ function ViewerPlot({ v, props, height, measure }: { v: ViewerState; props: Trac
 
 /** The viewer's controls above the plot: trace tabs, the toolbar, the overlay's and the channels' toggles. */
 function ViewerControls({ v, flaggedId, inset }: { v: ViewerState; flaggedId?: string; inset: string }) {
-  const { nav, marks, cap } = { ...v, cap: v.nav.cap! };
+  const { nav, marks } = v;
+  const cap = nav.cap!;
   const view = nav.view;
   return (
     <div className={inset}>
-      {!v.overlay && v.traces.length > 1 ? <TraceTabs traces={v.traces} activeId={nav.active?.id} flaggedId={flaggedId} onSelect={(id) => (marks.cancel(), nav.selectTrace(id))} /> : null}
+      {!v.overlay && v.traces.length > 1 ? <TraceTabs traces={v.traces} activeId={nav.active?.id} flaggedId={flaggedId} onSelect={(id) => {
+            marks.cancel();
+            nav.selectTrace(id);
+          }} /> : null}
       <ViewToolbar
         touch={v.touch}
         s={{
