@@ -21,6 +21,7 @@ import { billingRoutes } from "./billing";
 import { earningsRoutes } from "./earnings";
 import { notificationRoutes } from "./notifications";
 import { casebookRoutes } from "./casebook";
+import { thumbnailRoutes } from "./thumbnails";
 
 /** Every resource's router, mounted under /api. Add one line per resource. */
 export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void {
@@ -37,6 +38,7 @@ export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void 
   app.use("/api", shopRoutes(ctx, auth));
   app.use("/api", expertRoutes(ctx, auth));
   app.use("/api", adminExpertRoutes(ctx, auth));
+  app.use("/api", thumbnailRoutes(ctx, auth));
   app.use("/api", casebookRoutes(ctx, auth));
   app.use("/api", caseRoutes(ctx, auth));
   app.use("/api", photoRoutes(ctx, auth));
