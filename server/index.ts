@@ -12,10 +12,11 @@ import { startMailCatcher } from "./fakes/smtp";
 import { startFakeStripe } from "./fakes/stripe/index";
 import { attachRealtime } from "./realtime/index";
 import { startBackground } from "./services/background";
-import { stopAnalysisWorker } from "./uploads/analysis";
+import { stopUploadPool } from "./uploads/pool";
+import { reconcileDataFolder, startReconcileTimer } from "./uploads/reconcile";
 import { stopCasebookSearch } from "./services/casebook-search";
 
-/** Servers running in this process; the analysis worker is shared by them and stops with the last. */
+/** Servers running in this process; the upload pool is shared by them and stops with the last. */
 let running = 0;
 
 export interface RunningServer {
@@ -72,6 +73,9 @@ export async function startServer(overrides: Partial<Record<keyof Env, string>> 
   const stripe: Stripe = createStripeClient({ secretKey: env.STRIPE_SECRET_KEY, apiBase });
 
   const ctx: AppContext = { env: { ...resolvedEnv, STRIPE_API_BASE: apiBase }, db, logger: log, mailer, stripe, realtime: noRealtime, now: () => new Date() };
+  // leftovers of a crash go before the first request can start an upload
+  await reconcileDataFolder(ctx, { startup: true });
+  const reconcileTimer = startReconcileTimer(ctx);
   const app = createApp(ctx, { clientDir: path.resolve("dist/client") });
   server.on("request", app);
   const realtime = attachRealtime(server, ctx, app.locals.auth);
@@ -88,13 +92,14 @@ export async function startServer(overrides: Partial<Record<keyof Env, string>> 
     fakeStripe,
     async close() {
       background.stop();
+      reconcileTimer.stop();
       await realtime.close();
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections?.();
       await fakeStripe?.close();
       await mailCatcher?.close();
       await stopCasebookSearch(ctx);
-      if (--running === 0) await stopAnalysisWorker();
+      if (--running === 0) await stopUploadPool();
       db.$client.close();
     },
   };

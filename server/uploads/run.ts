@@ -1,5 +1,6 @@
 import fs from "node:fs";
 import type { Request, RequestHandler, Response } from "express";
+import { releaseUpload } from "./multer";
 
 /** Runs a callback-style middleware (multer) as a promise inside an async route handler. */
 export function runMiddleware(mw: RequestHandler, req: Request, res: Response): Promise<void> {
@@ -11,5 +12,8 @@ export function runMiddleware(mw: RequestHandler, req: Request, res: Response): 
 /** Removes the request's temp upload if it is still there (after a refusal, a failure, or a move). */
 export async function discardUpload(req: Request): Promise<void> {
   const p = (req.file as Express.Multer.File | undefined)?.path;
-  if (p) await fs.promises.rm(p, { force: true }).catch(() => {});
+  if (p) {
+    await fs.promises.rm(p, { force: true }).catch(() => {});
+    releaseUpload(p);
+  }
 }

@@ -1,0 +1,285 @@
+/**
+ * Resumable capture uploads: the tus 1.0.0 protocol (creation, creation-defer-length, termination,
+ * expiration) at /api/uploads through @tus/server with its file store under <data>/tmp/tus.
+ *
+ * - Creation (POST) is where the upload is judged, before its first byte: the session, the case
+ *   (the actor may add a trace to it in its state), the capture settings and the declared sizes.
+ *   Refused creations leave nothing.
+ * - Every later request (HEAD, PATCH, DELETE) must come from the user who created the upload;
+ *   anyone else — another tenant guessing an id — gets 404, like an id that does not exist.
+ * - The last byte runs the pipeline (server/uploads/pipeline.ts). Its answer carries the stored
+ *   trace (`200 { trace }`) or the refusal in the API's error shape; a refused upload is removed.
+ *   A finished upload keeps a small marker so that a client resuming it is told it is complete
+ *   instead of starting again.
+ */
+import fs from "node:fs";
+import path from "node:path";
+import type { IncomingMessage } from "node:http";
+import type { Request as ExpressRequest, Response as ExpressResponse } from "express";
+import { Server, EVENTS, MemoryLocker, Upload } from "@tus/server";
+import { FileStore } from "@tus/file-store";
+import type { AppContext } from "../context";
+import type { Actor } from "../auth/session";
+import { assertCanAddTrace } from "../auth/policies/traces";
+import { HttpError } from "../http/errors";
+import { parseWith } from "../http/validate";
+import { getCaseRow } from "../services/cases";
+import { noteNewMaterial } from "../services/queue";
+import { getTraceRow, presentTrace } from "../services/traces";
+import { storageLayout } from "../services/storage";
+import { RESUMABLE_UPLOAD_PATH, uploadMetadataSchema, type UploadMetadata } from "../../shared/schemas/uploads";
+import { ingestTrace } from "./pipeline";
+import { trackUpload, uploadTracker, type UploadTracker } from "./progress";
+
+const ID = /^[0-9a-f]{32}$/;
+const ACTOR = Symbol("uploadActor");
+
+/** The upload info the file store keeps beside each upload (`<id>.json`), with our marker. */
+export interface StoredUploadInfo {
+  id: string;
+  size?: number;
+  offset: number;
+  metadata?: Record<string, string | null>;
+  creation_date?: string;
+  /** set once the pipeline has stored the trace */
+  done?: { traceId: string; at: string };
+}
+
+type TusError = { status_code: number; body: string };
+
+/** An HttpError as tus throws it: the status and the API's JSON error body. */
+function tusError(err: HttpError): TusError {
+  return { status_code: err.status, body: JSON.stringify({ error: { code: err.code, message: err.message, ...(err.details !== undefined ? { details: err.details } : {}) } }) };
+}
+
+function nodeReq(req: { runtime?: { node?: { req: IncomingMessage } } }): IncomingMessage & { [ACTOR]?: Actor } {
+  const n = req.runtime?.node?.req;
+  if (!n) throw new Error("tus request without its node request");
+  return n as IncomingMessage & { [ACTOR]?: Actor };
+}
+
+function actorOf(req: object): Actor {
+  const a = nodeReq(req as never)[ACTOR];
+  if (!a) throw tusError(new HttpError(401, "unauthenticated", "Sign in to continue."));
+  return a;
+}
+
+/**
+ * The file store, aware of uploads the pipeline is reading or has finished: they report their
+ * full length (so a client that lost the last answer is told it is done) and cannot be removed.
+ */
+class CaptureStore extends FileStore {
+  readonly busy = new Set<string>();
+
+  info(id: string): Promise<StoredUploadInfo | undefined> {
+    return this.configstore.get(id) as Promise<StoredUploadInfo | undefined>;
+  }
+
+  async getUpload(id: string): Promise<Upload> {
+    const info = await this.info(id);
+    if (info && (info.done || this.busy.has(id)) && info.size !== undefined) {
+      return new Upload({ id, size: info.size, offset: info.size, metadata: info.metadata as Upload["metadata"], creation_date: info.creation_date });
+    }
+    return super.getUpload(id);
+  }
+
+  async remove(id: string): Promise<void> {
+    if (this.busy.has(id)) throw { status_code: 409, body: "The upload is being read; it cannot be removed now.\n" };
+    await fs.promises.rm(path.join(this.directory, id), { force: true });
+    await fs.promises.rm(path.join(this.directory, `${id}.json`), { force: true });
+  }
+
+  async markDone(id: string, traceId: string, at: Date): Promise<void> {
+    const info = await this.info(id);
+    if (!info) return;
+    await this.configstore.set(id, { ...info, offset: info.size ?? info.offset, done: { traceId, at: at.toISOString() } } as never);
+    await fs.promises.rm(path.join(this.directory, id), { force: true });
+  }
+}
+
+export interface ResumableUploads {
+  /** Express handler for every method on /api/uploads and /api/uploads/:id except GET */
+  handle(req: ExpressRequest, res: ExpressResponse, actor: Actor): Promise<void>;
+  /** the creator's view of an upload, or undefined (also for anyone else) */
+  info(id: string, actor: Actor): Promise<StoredUploadInfo | undefined>;
+  store: CaptureStore;
+}
+
+function metadataOf(info: { metadata?: Record<string, string | null> | null }): UploadMetadata & { uploaderId: string; uploaderName: string } {
+  const m = (info.metadata ?? {}) as Record<string, string>;
+  const parsed = uploadMetadataSchema.parse(m);
+  return { ...parsed, uploaderId: m.uploaderId, uploaderName: m.uploaderName };
+}
+
+function trackerFor(ctx: AppContext, upload: { id: string; size?: number; offset?: number; metadata?: Record<string, string | null> | null }): UploadTracker {
+  const existing = uploadTracker(upload.id);
+  if (existing) return existing;
+  const m = metadataOf(upload);
+  return trackUpload(ctx, {
+    uploadId: upload.id,
+    caseId: m.caseId,
+    name: m.filename,
+    by: { userId: m.uploaderId, name: m.uploaderName },
+    compressed: m.encoding !== "identity",
+    fileBytes: m.fileBytes ?? null,
+    totalBytes: upload.size ?? null,
+    receivedBytes: upload.offset ?? 0,
+  });
+}
+
+export function createResumableUploads(ctx: AppContext): ResumableUploads {
+  const layout = storageLayout(ctx.env.dataDir);
+  fs.mkdirSync(layout.tusDir, { recursive: true });
+  const expiryMs = ctx.env.UPLOAD_EXPIRY_HOURS * 3600_000;
+  const store = new CaptureStore({ directory: layout.tusDir, expirationPeriodInMilliseconds: expiryMs });
+  const finishing = new Map<string, Promise<{ status_code: number; headers: Record<string, string>; body: string }>>();
+
+  /** 404 unless the upload exists and this actor created it. */
+  async function ownUpload(id: string, actor: Actor): Promise<StoredUploadInfo> {
+    const info = ID.test(id) ? await store.info(id) : undefined;
+    if (!info || info.metadata?.uploaderId !== actor.id) throw tusError(new HttpError(404, "not_found", "Upload not found."));
+    return info;
+  }
+
+  async function finish(upload: Upload, actor: Actor) {
+    const m = metadataOf(upload);
+    const tracker = trackerFor(ctx, upload);
+    const source = path.join(layout.tusDir, upload.id);
+    store.busy.add(upload.id);
+    try {
+      const row = await ingestTrace(
+        ctx,
+        actor,
+        m.caseId,
+        { path: source, encoding: m.encoding ?? "auto", originalName: m.filename },
+        { settings: m.settings, name: m.name },
+        tracker,
+      );
+      await store.markDone(upload.id, row.id, ctx.now());
+      await noteNewMaterial(ctx, m.caseId, actor.id);
+      return { status_code: 200, headers: { "Content-Type": "application/json" }, body: JSON.stringify({ trace: presentTrace(row) }) };
+    } catch (err) {
+      store.busy.delete(upload.id);
+      if (err instanceof HttpError) {
+        // a refused capture leaves nothing behind: the upload goes with it
+        await store.remove(upload.id).catch(() => {});
+        throw tusError(err);
+      }
+      ctx.logger.error({ err, uploadId: upload.id }, "resumable upload could not be stored");
+      throw tusError(new HttpError(500, "internal", "The server could not store this capture. Try again."));
+    } finally {
+      store.busy.delete(upload.id);
+    }
+  }
+
+  const tus = new Server({
+    path: RESUMABLE_UPLOAD_PATH,
+    datastore: store,
+    maxSize: ctx.env.MAX_TRACE_BYTES + 64 * 1024,
+    relativeLocation: true,
+    allowedOrigins: [],
+    postReceiveInterval: 500,
+    disableTerminationForFinishedUploads: true,
+    namingFunction: () => crypto.randomUUID().replace(/-/g, ""),
+    getFileIdFromRequest: (_req, lastPath) => (lastPath && ID.test(lastPath) ? lastPath : undefined),
+    locker: new MemoryLocker(), // one server process per data folder
+
+    async onIncomingRequest(req, id) {
+      const actor = actorOf(req);
+      if (req.method === "POST") return;
+      const info = await ownUpload(id, actor);
+      if (req.method === "PATCH" && !info.done) {
+        // the case may have been submitted or withdrawn since: stop taking bytes for it
+        try {
+          assertCanAddTrace(actor, getCaseRow(ctx.db, String(info.metadata?.caseId)));
+        } catch (err) {
+          if (err instanceof HttpError) throw tusError(err);
+          throw err;
+        }
+      }
+      if (req.method === "HEAD" && !info.done && !store.busy.has(id)) {
+        const t = trackerFor(ctx, info);
+        const offset = await fs.promises.stat(path.join(layout.tusDir, id)).then((s) => s.size, () => 0);
+        if (offset > 0 || t.stage === "interrupted") t.resuming(offset);
+      }
+    },
+
+    async onUploadCreate(req, upload) {
+      const actor = actorOf(req);
+      try {
+        const m = parseWith(uploadMetadataSchema, upload.metadata ?? {}, "upload metadata");
+        assertCanAddTrace(actor, getCaseRow(ctx.db, m.caseId));
+        if (m.fileBytes !== undefined && m.fileBytes > ctx.env.MAX_TRACE_BYTES) {
+          throw new HttpError(413, "too_large", `The file is over the ${Math.round(ctx.env.MAX_TRACE_BYTES / 1048576)} MB limit.`);
+        }
+        const metadata: Record<string, string> = {};
+        for (const [k, v] of Object.entries(upload.metadata ?? {})) if (v != null && k in uploadMetadataSchema.shape) metadata[k] = v;
+        metadata.uploaderId = actor.id;
+        metadata.uploaderName = actor.name;
+        return { metadata };
+      } catch (err) {
+        if (err instanceof HttpError) throw tusError(err);
+        throw err;
+      }
+    },
+
+    async onUploadFinish(req, upload) {
+      const actor = actorOf(req);
+      let p = finishing.get(upload.id);
+      if (!p) {
+        const info = await store.info(upload.id);
+        if (info?.done) {
+          const row = getTraceRow(ctx, info.done.traceId);
+          const body = JSON.stringify(row ? { trace: presentTrace(row) } : { trace: null });
+          return { status_code: 200, headers: { "Content-Type": "application/json" }, body };
+        }
+        p = finish(upload, actor);
+        finishing.set(upload.id, p);
+        void p.then(
+          () => finishing.delete(upload.id),
+          () => finishing.delete(upload.id),
+        );
+      }
+      return p;
+    },
+
+    onResponseError(_req, err) {
+      const e = err as { status_code?: number; body?: string };
+      if (typeof e.status_code === "number" && typeof e.body === "string") return undefined;
+      ctx.logger.error({ err }, "resumable upload request failed");
+      return undefined;
+    },
+  });
+
+  tus.on(EVENTS.POST_CREATE, (_req, upload: Upload) => {
+    trackerFor(ctx, upload).received(0);
+  });
+  tus.on(EVENTS.POST_RECEIVE, (_req, upload: Upload) => {
+    const t = trackerFor(ctx, upload);
+    if (upload.size !== undefined) t.declareTotal(upload.size);
+    t.received(upload.offset);
+  });
+  tus.on(EVENTS.POST_TERMINATE, (_req, _res, id: string) => {
+    uploadTracker(id)?.cancelled();
+  });
+
+  return {
+    store,
+    async info(id, actor) {
+      const info = ID.test(id) ? await store.info(id) : undefined;
+      return info && info.metadata?.uploaderId === actor.id ? info : undefined;
+    },
+    async handle(req, res, actor) {
+      (req as unknown as { [ACTOR]: Actor })[ACTOR] = actor;
+      if (req.method === "PATCH") {
+        const id = path.basename(req.path);
+        const started = Date.now();
+        req.once("close", () => {
+          // the link dropped part-way through this piece
+          if (!req.complete && Date.now() - started > 0) uploadTracker(id)?.interrupted();
+        });
+      }
+      await tus.handle(req, res);
+    },
+  };
+}
