@@ -22,6 +22,16 @@ export interface StoredUpload {
   detected: string | null;
 }
 
+/** Set on a request whose body is being inflated (Content-Encoding: gzip). */
+const INFLATED_BODY = Symbol("inflatedBody");
+
+function ratioRefusal(): HttpError {
+  return new HttpError(413, "too_large", `The compressed body expands more than ${MAX_COMPRESSION_RATIO} times; a scope export never does.`, {
+    reason: "compression-ratio",
+    maxRatio: MAX_COMPRESSION_RATIO,
+  });
+}
+
 /** Decides from the first bytes whether to keep the upload; returns what it is, or throws. */
 type Sniffer = (head: Buffer) => string | null;
 
@@ -38,7 +48,7 @@ export class HashingDiskStorage implements StorageEngine {
     private readonly sniff: Sniffer,
   ) {}
 
-  _handleFile(_req: Request, file: Express.Multer.File, cb: (error?: any, info?: Partial<Express.Multer.File> & { sha256?: string; detected?: string | null }) => void): void {
+  _handleFile(req: Request, file: Express.Multer.File, cb: (error?: any, info?: Partial<Express.Multer.File> & { sha256?: string; detected?: string | null }) => void): void {
     const stream = file.stream;
     if (stream.destroyed) return cb(new MulterError("LIMIT_UNEXPECTED_FILE" as any));
     fs.mkdirSync(this.dir, { recursive: true });
@@ -76,13 +86,22 @@ export class HashingDiskStorage implements StorageEngine {
         detected = this.sniff(buf);
         return true;
       } catch (err) {
-        fail(err);
+        // In a gzip-encoded body the refusal waits a little: a bomb (which is also "binary")
+        // is refused as what it is once the inflater's count shows it (413, not 415).
+        if ((req as Request & { [INFLATED_BODY]?: unknown })[INFLATED_BODY]) deferred = { err, skipped: 0 };
+        else fail(err);
         return false;
       }
     };
+    let deferred: { err: unknown; skipped: number } | null = null;
 
     stream.on("data", (chunk: Buffer) => {
       if (settled) return;
+      if (deferred) {
+        deferred.skipped += chunk.length;
+        if (deferred.skipped > 2 * RATIO_SLACK_BYTES) fail(deferred.err);
+        return;
+      }
       if (!sniffed) {
         head.push(chunk);
         headLength += chunk.length;
@@ -97,6 +116,7 @@ export class HashingDiskStorage implements StorageEngine {
     });
     stream.on("end", () => {
       if (settled) return;
+      if (deferred) return fail(deferred.err);
       if ((stream as any).truncated) return fail(new MulterError("LIMIT_FILE_SIZE", file.fieldname));
       if (!sniffed && !runSniff()) return;
       out.end();
@@ -163,17 +183,11 @@ function gzipBodyHandler(maxPlain: number) {
     }
     const gunzip = zlib.createGunzip();
     let plain = 0;
+    (req as Request & { [INFLATED_BODY]?: boolean })[INFLATED_BODY] = true;
     const meter = new Transform({
       transform(chunk: Buffer, _enc, cb) {
         plain += chunk.length;
-        if (plain > MAX_COMPRESSION_RATIO * gunzip.bytesWritten + RATIO_SLACK_BYTES) {
-          return cb(
-            new HttpError(413, "too_large", `The compressed body expands more than ${MAX_COMPRESSION_RATIO} times; a scope export never does.`, {
-              reason: "compression-ratio",
-              maxRatio: MAX_COMPRESSION_RATIO,
-            }),
-          );
-        }
+        if (plain > MAX_COMPRESSION_RATIO * gunzip.bytesWritten + RATIO_SLACK_BYTES) return cb(ratioRefusal());
         if (plain > maxPlain) return cb(new HttpError(413, "too_large", "The request body is over the size limit once decompressed.", { reason: "size" }));
         cb(null, chunk);
       },

@@ -2,6 +2,7 @@
  * The tasks of the upload pool's threads (loaded through pool-entry.mjs). Each takes a plain,
  * cloneable job and returns a plain result; nothing here touches the database.
  */
+import { threadId } from "node:worker_threads";
 import { readChannels } from "../traces/store";
 import { analyzeTrace } from "../../shared/analysis/analyze";
 import type { CaptureSettings } from "../../shared/schemas/capture-settings";
@@ -22,7 +23,7 @@ export async function analyze(job: { dataFile: string; settings: Partial<Capture
   return analyzeTrace(trace, job.settings) as unknown as Record<string, unknown>;
 }
 
-/** Starts a thread ahead of the first capture (loading the parser and the measurements). */
+/** Starts a thread ahead of the first capture; answers the thread's id (the main thread's is 0). */
 export async function ping(): Promise<number> {
-  return process.pid;
+  return threadId;
 }

@@ -87,7 +87,6 @@ export class WorkPool {
   async run<R>(name: string, job: unknown, hooks: JobHooks = {}, transferList: MessagePort[] = []): Promise<R> {
     await this.admit(hooks);
     try {
-      hooks.onStart?.();
       const signal = hooks.signal ? AbortSignal.any([hooks.signal, AbortSignal.timeout(JOB_TIMEOUT_MS)]) : AbortSignal.timeout(JOB_TIMEOUT_MS);
       return (await this.piscina.run(job, { name, transferList, signal })) as R;
     } finally {
@@ -98,6 +97,7 @@ export class WorkPool {
   private admit(hooks: JobHooks): Promise<void> {
     if (this.running < this.threads && this.line.length === 0) {
       this.running++;
+      hooks.onStart?.();
       return Promise.resolve();
     }
     if (this.line.length >= this.maxWaiting) return Promise.reject(new PoolFullError(this.line.length));
@@ -106,6 +106,7 @@ export class WorkPool {
         hooks,
         start: () => {
           this.running++;
+          hooks.onStart?.();
           resolve();
         },
         fail: reject,
