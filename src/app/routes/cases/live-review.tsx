@@ -12,6 +12,7 @@ import { describeRequest } from "../../../features/live/lib/describe-request";
 import { caseKeys } from "../../../features/cases/api/paths";
 import { api } from "../../../lib/api-client";
 import type { DataRequest } from "../../../../shared/schemas/realtime";
+import { IncomingUploads, useIncomingUploads } from "../../../features/uploads/components/incoming-uploads";
 
 /**
  * The live review of a case: the traces with everyone's marks and pointers, follow mode, who is
@@ -24,9 +25,11 @@ export function LiveReview({ caseId, traces: given }: { caseId: string; traces: 
   const traceKey = given.map((t) => `${t.id}:${t.samples}:${t.analysis ? 1 : 0}`).join("|");
   // eslint-disable-next-line react-hooks/exhaustive-deps
   const traces = useMemo(() => given, [traceKey]);
+  const incoming = useIncomingUploads(caseId);
   const room = useCaseRoom(caseId, {
     // a status change or a new upload (with its analysis): refetch the case, which lists the traces
     onCaseChanged: () => void qc.invalidateQueries({ queryKey: caseKeys.detail(caseId) }),
+    onUploadProgress: incoming.onProgress,
   });
   const follow = useFollow(room.remoteView, room.you?.role);
   const [selected, setSelected] = useState<string | null>(null);
@@ -60,6 +63,7 @@ export function LiveReview({ caseId, traces: given }: { caseId: string; traces: 
       </div>
       <div className="grid gap-4 xl:grid-cols-[minmax(0,1fr)_22rem]">
         <div className="min-w-0 space-y-2">
+          <IncomingUploads uploads={incoming.uploads} youId={room.you?.userId} />
           {traces.length ? (
             <TraceViewer
               traces={traces}

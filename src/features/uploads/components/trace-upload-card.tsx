@@ -5,6 +5,7 @@ import { needsRate, previewBlocks, type UploadItem } from "../hooks/use-trace-up
 import type { SettingsDraft } from "../lib/settings";
 import { kindLabels } from "../lib/settings";
 import { CaptureSettingsForm } from "./capture-settings-form";
+import { localProgressText } from "../lib/progress-text";
 import { TracePreviewPanel } from "./trace-preview";
 
 const btn = {
@@ -17,6 +18,7 @@ const btn = {
 const statusText: Record<UploadItem["status"], string> = {
   reading: "Reading…",
   ready: "Ready to upload",
+  waiting: "Waiting its turn",
   uploading: "Uploading",
   done: "Uploaded",
   error: "Not uploaded",
@@ -41,7 +43,7 @@ export function TraceUploadCard({
 }) {
   const [open, setOpen] = useState(true);
   const p = item.preview;
-  const busy = item.status === "uploading";
+  const busy = item.status === "uploading" || item.status === "waiting";
   const blocked = previewBlocks(p, !!item.head?.partial);
   const unit = p?.ok ? (p.trace.channels[0]?.unit ?? "V") : "V";
   const titleId = `${item.key}-title`;
@@ -55,7 +57,7 @@ export function TraceUploadCard({
         </span>
         <div className="min-w-0 flex-1">
           <p id={titleId} className="truncate font-semibold">
-            {item.file.name}
+            {item.fileName}
           </p>
           <p className="text-sm text-ink-600">
             Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}. It is listed with the case's traces.
@@ -72,11 +74,11 @@ export function TraceUploadCard({
     <li className="rounded-xl border border-ink-200 bg-white shadow-sm" aria-labelledby={titleId}>
       <div className="flex flex-wrap items-center gap-x-3 gap-y-1 border-b border-ink-100 px-4 py-3">
         <div className="min-w-0 flex-1">
-          <p id={titleId} className="truncate font-semibold text-ink-900" title={item.file.name}>
-            {item.file.name}
+          <p id={titleId} className="truncate font-semibold text-ink-900" title={item.fileName}>
+            {item.fileName}
           </p>
           <p className="text-sm text-ink-500">
-            {formatSize(item.file.size)} · {kindLabels[item.draft.kind]} ·{" "}
+            {formatSize(item.fileBytes)} · {kindLabels[item.draft.kind]} ·{" "}
             <span className={item.status === "error" || blocked ? "font-semibold text-alarm-600" : ""}>{blocked ? "Cannot be read" : statusText[item.status]}</span>
           </p>
         </div>
@@ -85,7 +87,7 @@ export function TraceUploadCard({
             type="button"
             onClick={onRemove}
             className="flex h-11 w-11 items-center justify-center rounded-lg text-2xl leading-none text-ink-500 hover:bg-ink-100 hover:text-ink-900"
-            aria-label={`Remove ${item.file.name}`}
+            aria-label={`Remove ${item.fileName}`}
           >
             ×
           </button>
@@ -94,7 +96,7 @@ export function TraceUploadCard({
 
       <div className="space-y-4 px-4 py-4">
         {item.status === "reading" ? <p className="text-sm text-ink-500">Reading the start of the file…</p> : null}
-        {p ? <TracePreviewPanel preview={p} fileName={item.file.name} /> : null}
+        {p ? <TracePreviewPanel preview={p} fileName={item.fileName} /> : null}
 
         {p && !blocked ? (
           <div>
@@ -145,11 +147,22 @@ export function TraceUploadCard({
         ) : null}
         {blocked ? <p className="text-sm text-ink-600">Fix the export (or export again from the scope) and drop the file again.</p> : null}
 
-        {busy ? (
+        {item.restored && !busy && item.status !== "error" ? <p className="text-sm text-ink-600">Continues where it stopped before the page was reloaded.</p> : null}
+        {item.status === "waiting" ? (
+          <p className="text-sm text-ink-600" aria-live="polite">
+            Waiting its turn: captures go one after another.
+          </p>
+        ) : null}
+        {item.status === "uploading" ? (
           <div className="space-y-1">
-            <progress className="h-3 w-full accent-kiln-500" max={1} value={item.progress} aria-label={`Uploading ${item.file.name}`} />
-            <p className="text-sm text-ink-600" aria-live="polite">
-              {item.progress >= 1 ? "Checking and measuring the trace on the server…" : `${Math.round(item.progress * 100)} % sent`}
+            <progress
+              className="h-3 w-full accent-kiln-500"
+              max={1}
+              value={item.upload?.phase === "server" || item.upload?.phase === "compressing" ? undefined : item.progress}
+              aria-label={`Uploading ${item.fileName}`}
+            />
+            <p className="text-sm text-ink-600" aria-live="polite" data-testid="upload-progress">
+              {item.upload ? localProgressText(item.upload) : "Starting…"}
             </p>
           </div>
         ) : null}
@@ -159,7 +172,7 @@ export function TraceUploadCard({
             <button type="button" className={btn.secondary} onClick={onCancel}>
               Cancel upload
             </button>
-          ) : !blocked && item.status !== "reading" ? (
+          ) : !blocked && item.status !== "reading" && (item.file || item.restored) ? (
             <button type="button" className={btn.primary} onClick={onStart}>
               {item.status === "error" || item.status === "cancelled" ? "Try again" : "Upload trace"}
             </button>

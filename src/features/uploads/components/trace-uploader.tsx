@@ -88,7 +88,7 @@ export function TraceUploader({
               <TraceUploadCard
                 key={it.key}
                 item={it}
-                copySource={source ? { name: source.file.name, onCopy: () => q.copyFrom(source.key, it.key) } : undefined}
+                copySource={source ? { name: source.fileName, onCopy: () => q.copyFrom(source.key, it.key) } : undefined}
                 onDraft={(d) => q.setDraft(it.key, d)}
                 onStart={() => void q.start(it.key)}
                 onCancel={() => q.cancel(it.key)}

@@ -1,16 +1,24 @@
 import { useCallback, useEffect, useRef, useState } from "react";
+import { Upload } from "tus-js-client";
 import { MAX_TRACE_FILE_BYTES } from "../../../../shared/trace/parse";
-import { ApiError } from "../../../lib/api-client";
-import { uploadTrace, type UploadedTrace } from "../api/upload-trace";
+import type { CaptureSettings } from "../../../../shared/schemas/capture-settings";
+import type { UploadedTrace } from "../api/upload-trace";
 import { guessKind } from "../lib/guess-kind";
 import { previewText, readHead, type TracePreview } from "../lib/preview";
 import { copySettings, framingTime, initialSettings, rateUnits, toCaptureSettings, type SettingsDraft, type SettingsErrors } from "../lib/settings";
+import { CaptureUpload, type UploadState } from "../lib/capture-upload";
+import { forgetUpload, savedPieces, savedUploads, type SavedUpload } from "../lib/upload-store";
 
-export type UploadStatus = "reading" | "ready" | "uploading" | "done" | "error" | "cancelled";
+/** waiting: in line behind another upload of this page (one goes at a time) */
+export type UploadStatus = "reading" | "ready" | "waiting" | "uploading" | "done" | "error" | "cancelled";
 
 export interface UploadItem {
   key: string;
-  file: File;
+  /** null for an upload restored after a reload (its compressed bytes were kept, not the file) */
+  file: File | null;
+  fileName: string;
+  fileBytes: number;
+  lastModified: number;
   head: { text: string; partial: boolean; bytesRead: number } | null;
   preview: TracePreview | null;
   guess: { kind: SettingsDraft["kind"]; reason: string };
@@ -18,7 +26,12 @@ export interface UploadItem {
   fromFile: (keyof SettingsDraft)[];
   errors: SettingsErrors;
   status: UploadStatus;
+  /** share of the (estimated) compressed bytes sent */
   progress: number;
+  /** the upload's live state (compressing, sending, resuming, the server's stages) */
+  upload?: UploadState;
+  /** carried over from before a reload: continues without the file */
+  restored?: { saved: SavedUpload; pieces: Blob[] };
   serverError?: string;
   result?: UploadedTrace;
 }
@@ -63,7 +76,29 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
         const key = `t${++seq.current}`;
         const guess = guessKind(null, file.name);
         const { draft, fromFile } = initialSettings(null, guess.kind, file.name);
-        const item: UploadItem = { key, file, head: null, preview: null, guess, draft, fromFile, errors: {}, status: "reading", progress: 0 };
+        const again = itemsRef.current.find((x) => x.restored && !x.file && x.fileName === file.name && x.fileBytes === file.size && x.lastModified === file.lastModified);
+        if (again) {
+          // the file of an upload that could not continue after a reload: start it over with it
+          void forgetUpload(again.restored!.saved.key);
+          if (again.restored!.saved.uploadUrl) void Upload.terminate(again.restored!.saved.uploadUrl).catch(() => {});
+          patch(again.key, { file, restored: undefined, status: "ready", serverError: undefined, upload: undefined });
+          continue;
+        }
+        const item: UploadItem = {
+          key,
+          file,
+          fileName: file.name,
+          fileBytes: file.size,
+          lastModified: file.lastModified,
+          head: null,
+          preview: null,
+          guess,
+          draft,
+          fromFile,
+          errors: {},
+          status: "reading",
+          progress: 0,
+        };
         if (file.size > MAX_TRACE_FILE_BYTES) {
           item.status = "error";
           item.serverError = `This file is ${(file.size / 1024 / 1024).toFixed(0)} MB; traces are accepted up to 200 MB. Export a shorter capture.`;
@@ -103,13 +138,13 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
   useEffect(() => {
     const t = setTimeout(() => {
       for (const it of itemsRef.current) {
-        if (!it.head || !it.preview) continue;
+        if (!it.head || !it.preview || !it.file) continue;
         const noRateInFile = needsRate(it.preview) || (it.preview.ok && !it.preview.rateFromFile);
         if (!noRateInFile) continue;
         const rate = statedRate(it.draft);
         const prev = it.preview.ok ? it.preview.trace.sampleRateHz : undefined;
         if (!rate || rate === prev) continue;
-        const preview = previewText(it.head, it.file.size, rate);
+        const preview = previewText(it.head, it.fileBytes, rate);
         patch(it.key, (cur) => {
           // now the duration is known: frame it when the tech has not set a time base yet
           const framing = preview.ok && cur.draft.timePerDiv.trim() === "" ? framingTime((preview.trace.durationS * preview.estimatedSamples) / preview.trace.samples) : null;
@@ -122,15 +157,73 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
     return () => clearTimeout(t);
   }, [rateKey, patch]);
 
+  // ---- one upload at a time, in the order they were started
+  const line = useRef<string[]>([]);
+  const current = useRef<{ key: string; upload: CaptureUpload } | null>(null);
+
+  const runNext = useCallback(() => {
+    if (current.current) return;
+    const key = line.current.shift();
+    if (!key) return;
+    const it = itemsRef.current.find((x) => x.key === key);
+    const job = it ? jobs.current.get(key) : undefined;
+    if (!it || !job) return runNext();
+    const upload = new CaptureUpload({
+      key: it.restored?.saved.key ?? `${job.caseId}:${key}:${Date.now()}`,
+      caseId: job.caseId,
+      file: it.file,
+      fileName: it.fileName,
+      fileBytes: it.fileBytes,
+      lastModified: it.lastModified,
+      settings: job.settings,
+      traceName: it.restored?.saved.traceName,
+      restored: it.restored ? { pieces: it.restored.pieces, done: it.restored.saved.compressedDone, uploadUrl: it.restored.saved.uploadUrl } : undefined,
+      onState: (u) => {
+        const total = u.compressionDone ? u.compressedBytes : u.compressedRead ? (u.compressedBytes / u.compressedRead) * u.fileBytes : 0;
+        patch(key, { upload: u, progress: total ? Math.min(1, u.sentBytes / total) : 0 });
+      },
+    });
+    current.current = { key, upload };
+    patch(key, { status: "uploading", serverError: undefined, errors: {} });
+    void upload.start();
+    void upload.finished.then((u) => {
+      current.current = null;
+      jobs.current.delete(key);
+      if (u.phase === "done" && u.result) {
+        patch(key, { status: "done", progress: 1, result: u.result, restored: undefined });
+        optsRef.current.onUploaded?.(u.result);
+      } else if (u.phase === "cancelled") {
+        patch(key, { status: "cancelled", progress: 0, restored: undefined });
+      } else {
+        const e = u.error;
+        const errors: SettingsErrors = {};
+        for (const f of (e?.details as { fields?: { path: string; message: string }[] } | undefined)?.fields ?? []) {
+          const name = String(f.path).replace(/^settings\./, "").split(".")[0] as keyof SettingsErrors;
+          if (name) errors[name] = f.message;
+        }
+        patch(key, { status: "error", serverError: e ? serverMessage(e) : "The upload failed. Try again.", errors, restored: e?.code === "file_needed" ? it.restored : undefined });
+      }
+      runNext();
+    });
+  }, [patch]);
+
+  const jobs = useRef(new Map<string, { caseId: string; settings: CaptureSettings }>());
+
   const start = useCallback(
     async (key: string) => {
       const it = itemsRef.current.find((x) => x.key === key);
-      if (!it || it.status === "uploading" || it.status === "done" || it.status === "reading") return;
-      if (previewBlocks(it.preview, !!it.head?.partial)) return;
-      const checked = toCaptureSettings(it.draft, needsRate(it.preview));
-      if (!checked.ok) {
-        patch(key, { errors: checked.errors, status: it.status === "error" ? "error" : "ready" });
-        return;
+      if (!it || it.status === "uploading" || it.status === "waiting" || it.status === "done" || it.status === "reading") return;
+      if (!it.file && !it.restored) return;
+      if (it.file && previewBlocks(it.preview, !!it.head?.partial)) return;
+      let settings: CaptureSettings;
+      if (it.restored) settings = it.restored.saved.settings;
+      else {
+        const checked = toCaptureSettings(it.draft, needsRate(it.preview));
+        if (!checked.ok) {
+          patch(key, { errors: checked.errors, status: it.status === "error" ? "error" : "ready" });
+          return;
+        }
+        settings = checked.settings;
       }
       let caseId = optsRef.current.caseId;
       try {
@@ -142,32 +235,51 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
         patch(key, { status: "error", serverError: e instanceof Error ? e.message : "Save the case first." });
         return;
       }
-      const abort = new AbortController();
-      aborts.current.set(key, abort);
-      patch(key, { status: "uploading", progress: 0, serverError: undefined, errors: {} });
-      try {
-        const result = await uploadTrace(caseId, it.file, checked.settings, (f) => patch(key, { progress: f }), abort.signal);
-        patch(key, { status: "done", progress: 1, result });
-        optsRef.current.onUploaded?.(result);
-      } catch (e) {
-        if (e instanceof ApiError && e.code === "aborted") {
-          patch(key, { status: "cancelled", progress: 0 });
-        } else if (e instanceof ApiError) {
-          const errors: SettingsErrors = {};
-          for (const f of e.details?.fields ?? []) {
-            const name = String(f.path).replace(/^settings\./, "").split(".")[0] as keyof SettingsErrors;
-            if (name) errors[name] = f.message;
-          }
-          patch(key, { status: "error", serverError: serverMessage(e), errors });
-        } else {
-          patch(key, { status: "error", serverError: "The upload failed. Try again." });
-        }
-      } finally {
-        aborts.current.delete(key);
-      }
+      jobs.current.set(key, { caseId, settings });
+      line.current.push(key);
+      patch(key, { status: "waiting", progress: 0, serverError: undefined, errors: {}, upload: undefined });
+      runNext();
     },
-    [patch],
+    [patch, runNext],
   );
+
+  // Uploads a reload interrupted: shown again and continued from the server's last byte.
+  const caseId = opts.caseId;
+  useEffect(() => {
+    if (!caseId) return;
+    let live = true;
+    void (async () => {
+      for (const saved of await savedUploads(caseId)) {
+        if (!live || itemsRef.current.some((x) => x.restored?.saved.key === saved.key)) continue;
+        const pieces = await savedPieces(saved.key);
+        const key = `t${++seq.current}`;
+        const guess = guessKind(null, saved.fileName);
+        const { draft, fromFile } = initialSettings(null, guess.kind, saved.fileName);
+        const item: UploadItem = {
+          key,
+          file: null,
+          fileName: saved.fileName,
+          fileBytes: saved.fileBytes,
+          lastModified: saved.lastModified,
+          head: null,
+          preview: null,
+          guess,
+          draft,
+          fromFile,
+          errors: {},
+          status: "ready",
+          progress: 0,
+          restored: { saved, pieces },
+        };
+        itemsRef.current = [...itemsRef.current, item];
+        setItems((xs) => [...xs, item]);
+        void start(key);
+      }
+    })();
+    return () => {
+      live = false;
+    };
+  }, [caseId, start]);
 
   /** The settings of `fromKey` for `toKey` too (its cylinder, coil, circuit and sensor stay). */
   const copyFrom = useCallback(
@@ -183,22 +295,41 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
     [patch],
   );
 
-  const cancel = useCallback((key: string) => aborts.current.get(key)?.abort(), []);
-  const remove = useCallback((key: string) => {
-    aborts.current.get(key)?.abort();
-    setItems((xs) => xs.filter((x) => x.key !== key));
-  }, []);
+  /** Stops an upload for good (and removes what the server has of it); one in line leaves the line. */
+  const cancel = useCallback(
+    (key: string) => {
+      if (current.current?.key === key) return void current.current.upload.cancel();
+      line.current = line.current.filter((k) => k !== key);
+      const it = itemsRef.current.find((x) => x.key === key);
+      if (it?.restored) {
+        void forgetUpload(it.restored.saved.key);
+        if (it.restored.saved.uploadUrl) void Upload.terminate(it.restored.saved.uploadUrl).catch(() => {});
+      }
+      if (it && (it.status === "waiting" || it.restored)) patch(key, { status: "cancelled", restored: undefined });
+    },
+    [patch],
+  );
+  const remove = useCallback(
+    (key: string) => {
+      cancel(key);
+      setItems((xs) => xs.filter((x) => x.key !== key));
+    },
+    [cancel],
+  );
   const startAll = useCallback(async () => {
     for (const it of itemsRef.current) {
       if (it.status === "ready" || it.status === "cancelled" || it.status === "error") await start(it.key);
     }
   }, [start]);
 
-  // Abandoning the page aborts what is still in flight.
-  useEffect(() => {
-    const m = aborts.current;
-    return () => m.forEach((a) => a.abort());
-  }, []);
+  // Leaving the page pauses the upload under way: the next visit continues it.
+  useEffect(
+    () => () => {
+      current.current?.upload.pause();
+      current.current = null;
+    },
+    [],
+  );
 
   return { items, add, setDraft, copyFrom, start, startAll, cancel, remove };
 }
@@ -213,7 +344,7 @@ function recheck(draft: SettingsDraft, it: UploadItem): SettingsErrors {
 }
 
 /** The server's refusal in plain words, with the line when it names one. */
-function serverMessage(e: ApiError): string {
+function serverMessage(e: { status: number; code: string; message: string; details?: Record<string, unknown> }): string {
   const line = typeof e.details?.line === "number" ? e.details.line : null;
   let msg = e.message.charAt(0).toUpperCase() + e.message.slice(1);
   if (line !== null && !/line\s+\d+/i.test(msg)) msg = `Line ${line}: ${msg}`;
