@@ -1,0 +1,133 @@
+import { afterAll, beforeAll, describe, expect, test } from "vitest";
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import { eq } from "drizzle-orm";
+import type { Page } from "playwright-core";
+import { schema } from "../../server/db/client";
+import { createExpert, createShopTeam, signIn } from "../factories";
+import { FACTORY_PASSWORD } from "../factories/users";
+import { generateSecondary, renderCsv } from "../generators";
+import { launchBrowser, screenshotDir, shot, signInThroughPage, startE2EServer, watchErrors, type E2EServer, type LaunchedBrowser } from "./helpers/browser";
+import { LinkProxy } from "./helpers/link-proxy";
+
+/**
+ * The uploads issue's browser criterion: the technician's page reaches the server through a
+ * loopback link limited to 20 Mbit/s (a rate-limited proxy, helpers/link-proxy.ts); a 40 MB
+ * capture is chosen, the link is cut once about half of the compressed bytes have gone over and
+ * restored a few seconds later; the upload goes on from where the server had it, and the trace
+ * appears on the expert's screen (another browser context, straight to the server). The capture's
+ * truth is the generator's: its sample count. Screenshots: test-results/e2e/resumable-upload/.
+ */
+const RATE = (20e6 / 8) as number; // 20 Mbit/s in bytes per second
+let server: E2EServer;
+let link: LinkProxy;
+let launched: LaunchedBrowser;
+let fileDir: string;
+let file: string;
+let samples = 0;
+const errors: string[] = [];
+const SHOTS = screenshotDir("resumable-upload");
+
+beforeAll(async () => {
+  link = await new LinkProxy(0, { rateBytesPerS: RATE }).listen();
+  server = await startE2EServer({ PUBLIC_URL: link.url, MAX_TRACE_BYTES: String(60 * 1024 * 1024) });
+  link.setTarget(server.port);
+  launched = await launchBrowser();
+  // ≈ 40 MB: a secondary-ignition capture at 1 MS/s, long enough for the size
+  fileDir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-e2e-resumable-"));
+  const g = generateSecondary({ seed: 41, sampleRateHz: 1e6, durationS: 2.3, events: 14 });
+  samples = g.trace.samples;
+  file = path.join(fileDir, "coil 3 idle.csv");
+  fs.writeFileSync(file, renderCsv(g.trace, { digits: 5 }));
+}, 180_000);
+
+afterAll(async () => {
+  await launched?.close();
+  await server?.close();
+  await link?.close();
+  if (fileDir) fs.rmSync(fileDir, { recursive: true, force: true });
+});
+
+describe("a large capture over a link that drops", () => {
+  test("uploads, resumes after the cut, and appears on the expert's screen", async () => {
+    const size = fs.statSync(file).size;
+    expect(size).toBeGreaterThan(38e6);
+    expect(size).toBeLessThan(46e6);
+    const team = await createShopTeam(server, { technician: { name: "Robin Marsh" } });
+    const e = await createExpert(server, { name: "Sam Okafor" });
+    const api = await signIn(server, team.technicians[0]);
+    const created = await api.post("/api/cases").send({ vehicle: { make: "Veltra", model: "Sorrel", year: 2019 }, complaint: "Misfire when warm", system: "ignition" });
+    const caseId = created.body.id as string;
+    server.ctx.db.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
+
+    const techCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const expCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
+    watchErrors(techCtx, errors, "tech");
+    watchErrors(expCtx, errors, "expert");
+    const tech = await techCtx.newPage();
+    const expert = await expCtx.newPage();
+    await signInThroughPage(tech, link.url, team.technicians[0].email, FACTORY_PASSWORD);
+    const direct = `http://127.0.0.1:${server.port}`; // the expert's own connection, not the shop's link
+    await signInThroughPage(expert, direct, e.email, FACTORY_PASSWORD);
+    await expert.goto(`${direct}/cases/${caseId}`);
+    await tech.goto(`${link.url}/cases/${caseId}`);
+    const live = (p: Page) => p.locator('section[aria-labelledby="live-title"]');
+    await live(expert).locator('[data-connection="live"]').waitFor({ timeout: 30_000 });
+
+    // choose the file; the preview reads its start; the settings are the tech's
+    const adder = tech.getByRole("region", { name: "Add traces" });
+    await adder.locator('input[type="file"]').setInputFiles(file);
+    const card = adder.getByRole("list", { name: "Traces to upload" }).getByRole("listitem", { name: "coil 3 idle.csv" });
+    await card.getByText("Ready to upload").waitFor({ timeout: 30_000 });
+    await card.getByRole("combobox", { name: "Kind of capture" }).selectOption({ label: "Secondary ignition" });
+    await card.getByRole("textbox", { name: /^Vertical \(V\/div\)/ }).fill("0.2");
+    await card.getByRole("textbox", { name: /^Time \/ div/ }).fill("20");
+    await card.getByRole("combobox", { name: "Time unit" }).selectOption("ms");
+
+    link.forwarded = 0;
+    await card.getByRole("button", { name: "Upload trace" }).click();
+    const status = card.getByTestId("upload-progress");
+    await status.getByText(/^Sending/).waitFor({ timeout: 30_000 });
+    // the expert sees it arriving
+    const arriving = live(expert).getByTestId("incoming-upload");
+    await arriving.getByText(/coil 3 idle\.csv/).waitFor({ timeout: 15_000 });
+    await arriving.scrollIntoViewIfNeeded();
+    await card.scrollIntoViewIfNeeded();
+    await shot(tech, SHOTS, "01-sending", { viewport: true });
+    await shot(expert, SHOTS, "02-expert-sees-it-arriving", { viewport: true });
+
+    // cut the link once about half of the compressed bytes are over (≈ ¼ of the file, compressed ~4:1)
+    await expect.poll(() => link.forwarded, { timeout: 60_000, interval: 100 }).toBeGreaterThan(size / 8);
+    const cutAt = link.forwarded;
+    link.cut();
+    await status.getByText(/link dropped|No connection/i).waitFor({ timeout: 20_000 });
+    await shot(tech, SHOTS, "03-link-dropped", { viewport: true });
+    await tech.waitForTimeout(3000);
+    link.restore();
+
+    const done = card.getByText(/^Uploaded/);
+    await done.waitFor({ timeout: 90_000 });
+    // the server parsed the whole file: the generator's sample count
+    expect(await done.innerText()).toContain(`${samples.toLocaleString("en-US")} samples`);
+    await shot(tech, SHOTS, "04-uploaded");
+
+    // what went over the link: the compressed file (as stored) and little more; the part after the cut
+    // continued from the server's last byte instead of starting again
+    const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).get()!;
+    expect(row.samples).toBe(samples);
+    const compressed = fs.statSync(path.join(server.dir, row.originalPath)).size;
+    expect(cutAt).toBeGreaterThan(compressed * 0.3);
+    expect(cutAt).toBeLessThan(compressed * 0.8);
+    expect(link.forwarded).toBeLessThan(compressed * 1.1 + 256 * 1024);
+
+    // the expert's screen shows the trace (the case refetched on case:updated)
+    await live(expert).getByText(/No traces on this case yet/).waitFor({ state: "detached", timeout: 30_000 });
+    await expert.getByRole("article", { name: /coil 3 idle\.csv/ }).waitFor({ timeout: 30_000 });
+    await shot(expert, SHOTS, "05-expert-sees-the-trace");
+    // the cut also drops the tech's live socket: Chromium logs its failed reconnections, nothing else
+    expect(errors.filter((m) => !/^tech console: WebSocket connection to .* failed/.test(m))).toEqual([]);
+    await techCtx.close();
+    await expCtx.close();
+  }, 240_000);
+});
