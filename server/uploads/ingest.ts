@@ -14,6 +14,7 @@ import fs from "node:fs";
 import fsp from "node:fs/promises";
 import path from "node:path";
 import zlib from "node:zlib";
+import { Readable } from "node:stream";
 import type { MessagePort } from "node:worker_threads";
 import { createTraceAccumulator } from "../../shared/trace/parse";
 import { TraceParseError, type ParsedTrace } from "../../shared/trace/types";
@@ -228,19 +229,27 @@ function compressTo(file: string) {
   };
 }
 
+/** The received bytes: the whole file, or (while it still arrives) its growing tail. */
+interface ByteSource {
+  input: Readable;
+  /** the file's size when known (progress, array sizing) */
+  bytes: number | null;
+  /** plain size estimate for sizing the parser's arrays */
+  sizeHint?: number;
+}
+
 /**
  * Reads the source once: plain chunks go to the check, the hash, the compressed copy (plain
  * bodies) and the parser. A refusal or a parser error stops the reading at once.
  */
-async function readAndParse(job: IngestJob, gzip: boolean, compressedCopy: string | null) {
-  const sourceBytes = (await fsp.stat(job.source)).size;
+async function readAndParse(job: IngestJob, gzip: boolean, compressedCopy: string | null, src: ByteSource) {
+  const sourceBytes = src.bytes;
   const check = new PlainCheck(job.maxBytes, job.maxRatio ?? MAX_COMPRESSION_RATIO, gzip);
   const hash = crypto.createHash("sha256");
-  const totalChars = gzip ? await gzipSizeHint(job.source, job.maxBytes) : sourceBytes;
-  const acc = createTraceAccumulator({ sampleRateHz: job.settings.sampleRateHz, totalChars });
+  const acc = createTraceAccumulator({ sampleRateHz: job.settings.sampleRateHz, totalChars: src.sizeHint });
   const decoder = new TextDecoder("utf-8");
   const copy = compressedCopy ? compressTo(compressedCopy) : null;
-  const input = fs.createReadStream(job.source, { highWaterMark: READ_CHUNK });
+  const input = src.input;
   const gunzip = gzip ? zlib.createGunzip({ chunkSize: 64 * 1024 }) : null;
   let sourceRead = 0;
   let lastReport = 0;
@@ -257,8 +266,8 @@ async function readAndParse(job: IngestJob, gzip: boolean, compressedCopy: strin
       hash.update(chunk);
       if (copy) await copy.write(chunk);
       acc.pushText(decoder.decode(chunk, { stream: true }));
-      const fraction = Math.min(1, consumed() / Math.max(1, sourceBytes));
-      if (fraction - lastReport >= 0.02) {
+      const fraction = sourceBytes ? Math.min(1, consumed() / Math.max(1, sourceBytes)) : 0;
+      if (sourceBytes && fraction - lastReport >= 0.02) {
         lastReport = fraction;
         job.progress?.postMessage({ stage: "checking", fraction } satisfies IngestProgress);
       }
@@ -266,7 +275,7 @@ async function readAndParse(job: IngestJob, gzip: boolean, compressedCopy: strin
     check.sniff(consumed());
     acc.pushText(decoder.decode());
     const trace = acc.finish();
-    const copyBytes = copy ? await copy.done() : sourceBytes;
+    const copyBytes = copy ? await copy.done() : consumed();
     return { trace, plainBytes: check.plain, sha256: hash.digest("hex"), copyBytes };
   } catch (err) {
     copy?.destroy();
@@ -285,15 +294,21 @@ function gzipError(err: unknown): IngestRefusal | null {
   return null;
 }
 
-/** Runs the whole pass. Never throws for a refusal; throws only for faults of the server itself. */
+/** Runs the whole pass over a file already received. Never throws for a refusal; throws only for faults of the server itself. */
 export async function ingestCapture(job: IngestJob): Promise<IngestResult> {
   const gzip = job.encoding === "auto" ? isGzipStart(await readAt(job.source, 2)) : job.encoding === "gzip";
+  const bytes = (await fsp.stat(job.source)).size;
+  const input = fs.createReadStream(job.source, { highWaterMark: READ_CHUNK });
+  return ingestFrom(job, gzip, { input, bytes, sizeHint: gzip ? await gzipSizeHint(job.source, job.maxBytes) : bytes });
+}
+
+async function ingestFrom(job: IngestJob, gzip: boolean, src: ByteSource): Promise<IngestResult> {
   const copyPath = gzip ? null : path.join(job.tempDir, `${job.traceId}.gz.part`);
   const dataTarget = path.join(job.tracesDir, `${job.traceId}.trace`);
   let dataFile: string | null = null;
   try {
     const t0 = performance.now();
-    const read = await readAndParse(job, gzip, copyPath);
+    const read = await readAndParse(job, gzip, copyPath, src);
     let trace: ParsedTrace | null = read.trace;
     const t1 = performance.now();
     await fsp.mkdir(job.tracesDir, { recursive: true });
@@ -331,6 +346,7 @@ export async function ingestCapture(job: IngestJob): Promise<IngestResult> {
       timings: { parseMs: t1 - t0, storeMs: t2 - t1, analysisMs: t3 - t2 },
     };
   } catch (err) {
+    src.input.destroy();
     if (copyPath) await fsp.rm(copyPath, { force: true }).catch(() => {});
     await fsp.rm(dataFile ?? dataTarget, { force: true }).catch(() => {});
     if (err instanceof Refused) return { ok: false, refusal: err.refusal };
@@ -339,4 +355,92 @@ export async function ingestCapture(job: IngestJob): Promise<IngestResult> {
     if (z) return { ok: false, refusal: z };
     throw err;
   }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Following an upload while it arrives
+
+/** Messages from the event loop to a follower: more bytes are on disk; all of them are; stop. */
+export type FollowMessage = { type: "grow"; bytes: number } | { type: "end"; bytes: number } | { type: "abort" };
+
+export interface FollowJob extends IngestJob {
+  /** where the event loop says how far the file has grown (FollowMessage) */
+  control: MessagePort;
+}
+
+/** Thrown into a follower told to stop (the upload was abandoned or removed). */
+export class FollowAborted extends Error {
+  constructor() {
+    super("the follower was stopped");
+    this.name = "FollowAborted";
+  }
+}
+
+/**
+ * The bytes of a file that is still being written, in order, as the event loop reports them on
+ * `control`: reads what is announced (and on disk), waits for more, ends at the announced end.
+ */
+async function* tailOf(file: string, control: MessagePort): AsyncGenerator<Buffer> {
+  let available = 0;
+  let ended = false;
+  let aborted = false;
+  let wake: (() => void) | null = null;
+  control.on("message", (m: FollowMessage) => {
+    if (m.type === "abort") aborted = true;
+    else {
+      available = Math.max(available, m.bytes);
+      if (m.type === "end") ended = true;
+    }
+    wake?.();
+  });
+  const fh = await fsp.open(file, "r");
+  let pos = 0;
+  try {
+    for (;;) {
+      if (aborted) throw new FollowAborted();
+      if (available > pos) {
+        const b = Buffer.allocUnsafe(Math.min(READ_CHUNK, available - pos));
+        const { bytesRead } = await fh.read(b, 0, b.length, pos);
+        if (bytesRead > 0) {
+          pos += bytesRead;
+          yield b.subarray(0, bytesRead);
+          continue;
+        }
+      }
+      if (ended && pos >= available) return;
+      // announced bytes may still be on their way to the disk: look again shortly
+      await new Promise<void>((r) => {
+        wake = r;
+        setTimeout(r, 200);
+      });
+      wake = null;
+    }
+  } finally {
+    control.close();
+    await fh.close();
+  }
+}
+
+/**
+ * The same pass as ingestCapture over a resumable upload while its bytes still arrive, so that
+ * when the last one is in only the last piece, the channel file and the measurement remain. A
+ * refusal (not text, a bomb, a parser error) comes back at once, before the rest is sent.
+ */
+export async function followCapture(job: FollowJob): Promise<IngestResult> {
+  const chunks = tailOf(job.source, job.control);
+  let first = await chunks.next();
+  let gzip = job.encoding === "gzip";
+  if (job.encoding === "auto" && !first.done) {
+    while (!first.done && first.value.length < 2) {
+      const more = await chunks.next();
+      first = more.done ? first : { done: false, value: Buffer.concat([first.value, more.value]) };
+      if (more.done) break;
+    }
+    gzip = !first.done && isGzipStart(first.value);
+  }
+  async function* all(): AsyncGenerator<Buffer> {
+    if (!first.done) yield first.value;
+    yield* chunks;
+  }
+  return ingestFrom(job, gzip, { input: Readable.from(all()), bytes: null });
 }

@@ -19,7 +19,7 @@ import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRo
 import { cleanFileName } from "../services/photos";
 import { contentInFlight, holdFile, placeContentAddressed, relativeDataPath, removeStoredFile, storageLayout, type PlacedFile } from "../services/storage";
 import { PoolFullError, runIngest, uploadPool, type WorkPool } from "./pool";
-import type { BodyEncoding, IngestRefusal } from "./ingest";
+import type { BodyEncoding, IngestRefusal, IngestResult } from "./ingest";
 import type { UploadTracker } from "./progress";
 
 const { trace } = schema;
@@ -82,9 +82,10 @@ export async function ingestTrace(
   capture: ReceivedCapture,
   fields: { settings: CaptureSettings; name?: string },
   tracker?: UploadTracker,
+  read?: PrereadCapture,
 ): Promise<TraceRow> {
   try {
-    const row = await runPipeline(ctx, actor, caseId, capture, fields, tracker);
+    const row = await runPipeline(ctx, actor, caseId, capture, fields, tracker, read);
     tracker?.stored(row.id);
     return row;
   } catch (err) {
@@ -94,6 +95,18 @@ export async function ingestTrace(
   }
 }
 
+/** A capture read while it arrived (a follower): its trace id and the pass's result. */
+export interface PrereadCapture {
+  traceId: string;
+  result: () => Promise<IngestResult>;
+}
+
+/** The names the pass writes for trace `id`: its channel file and the compressed copy of a plain body. */
+export function passOutputs(ctx: AppContext, id: string): { dataTarget: string; copyTarget: string } {
+  const layout = storageLayout(ctx.env.dataDir);
+  return { dataTarget: path.join(layout.tracesDir, `${id}.trace`), copyTarget: path.join(layout.tempDir, `${id}.gz.part`) };
+}
+
 async function runPipeline(
   ctx: AppContext,
   actor: Actor,
@@ -101,14 +114,14 @@ async function runPipeline(
   capture: ReceivedCapture,
   fields: { settings: CaptureSettings; name?: string },
   tracker?: UploadTracker,
+  read?: PrereadCapture,
 ): Promise<TraceRow> {
   const layout = storageLayout(ctx.env.dataDir);
-  const id = crypto.randomUUID();
+  const id = read?.traceId ?? crypto.randomUUID();
   const { settings } = fields;
   await fs.promises.mkdir(layout.tracesDir, { recursive: true });
   await fs.promises.mkdir(layout.tempDir, { recursive: true });
-  const dataTarget = path.join(layout.tracesDir, `${id}.trace`);
-  const copyTarget = path.join(layout.tempDir, `${id}.gz.part`);
+  const { dataTarget, copyTarget } = passOutputs(ctx, id);
   const holds = [holdFile(dataTarget), holdFile(copyTarget), holdFile(capture.path)];
   let dataFile: string | null = null;
   let copy: string | null = null;
@@ -116,9 +129,11 @@ async function runPipeline(
   let sha256 = "";
   let committed = false;
   try {
-    let result;
+    let result: IngestResult;
     try {
-      result = await runIngest(
+      result = read
+        ? await read.result()
+        : await runIngest(
         poolFor(ctx),
         { source: capture.path, encoding: capture.encoding, tempDir: layout.tempDir, tracesDir: layout.tracesDir, traceId: id, settings, maxBytes: ctx.env.MAX_TRACE_BYTES },
         {

@@ -6,6 +6,7 @@ register();
 const tasks = await import("./pool-tasks.ts");
 
 export const ingest = tasks.ingest;
+export const follow = tasks.follow;
 export const analyze = tasks.analyze;
 export const ping = tasks.ping;
 export default tasks.ingest;

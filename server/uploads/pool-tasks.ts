@@ -6,12 +6,21 @@ import { threadId } from "node:worker_threads";
 import { readChannels } from "../traces/store";
 import { analyzeTrace } from "../../shared/analysis/analyze";
 import type { CaptureSettings } from "../../shared/schemas/capture-settings";
-import { ingestCapture, type IngestJob, type IngestResult } from "./ingest";
+import { followCapture, ingestCapture, type FollowJob, type IngestJob, type IngestResult } from "./ingest";
 
 /** A received capture: check, parse, store the channels and measure (server/uploads/ingest.ts). */
 export async function ingest(job: IngestJob): Promise<IngestResult> {
   try {
     return await ingestCapture(job);
+  } finally {
+    job.progress?.close();
+  }
+}
+
+/** A resumable upload read while it arrives (server/uploads/ingest.ts followCapture). */
+export async function follow(job: FollowJob): Promise<IngestResult> {
+  try {
+    return await followCapture(job);
   } finally {
     job.progress?.close();
   }

@@ -8,12 +8,17 @@
  * line and its caller is told its place (and told again as the line moves), so a tech sees
  * "queued, 2nd in line" instead of a stalled bar. A line longer than UPLOAD_QUEUE refuses new jobs
  * (the route answers 503 `busy` with Retry-After).
+ *
+ * Followers — resumable uploads read while their bytes still arrive — are not jobs in line: they
+ * spend most of their time waiting for the network, so a thread interleaves several of them (and
+ * its one job) at their await points; past FOLLOWERS_PER_THREAD an upload is read after it
+ * arrives instead, as a job.
  */
 import os from "node:os";
 import { fileURLToPath } from "node:url";
 import { MessageChannel, type MessagePort } from "node:worker_threads";
 import { Piscina } from "piscina";
-import type { IngestJob, IngestProgress, IngestResult } from "./ingest";
+import type { FollowMessage, IngestJob, IngestProgress, IngestResult } from "./ingest";
 import type { CaptureSettings } from "../../shared/schemas/capture-settings";
 
 /** Threads that sit idle this long are stopped (the next job starts one again). */
@@ -25,6 +30,8 @@ export const JOB_TIMEOUT_MS = 10 * 60_000;
  * pathological file can make the parser hold in strings before the thread is stopped.
  */
 const THREAD_HEAP_MB = 1024;
+/** Uploads read while they arrive, per thread. */
+export const FOLLOWERS_PER_THREAD = 4;
 
 export function defaultThreads(): number {
   return Math.max(1, Math.min(8, os.availableParallelism() - 1));
@@ -56,11 +63,13 @@ export interface PoolStats {
   running: number;
   waiting: number;
   maxWaiting: number;
+  following: number;
 }
 
 export class WorkPool {
   private readonly piscina: Piscina;
   private running = 0;
+  private following = 0;
   private readonly line: Waiter[] = [];
 
   constructor(
@@ -72,7 +81,8 @@ export class WorkPool {
       minThreads: 0,
       maxThreads: threads,
       idleTimeout: IDLE_MS,
-      concurrentTasksPerWorker: 1,
+      // one job and its thread's followers (admission keeps jobs to one per thread)
+      concurrentTasksPerWorker: 1 + FOLLOWERS_PER_THREAD,
       resourceLimits: { maxOldGenerationSizeMb: THREAD_HEAP_MB },
     });
     // a thread that dies (out of memory, a crash) rejects its task; the pool starts another
@@ -80,7 +90,22 @@ export class WorkPool {
   }
 
   stats(): PoolStats {
-    return { threads: this.threads, running: this.running, waiting: this.line.length, maxWaiting: this.maxWaiting };
+    return { threads: this.threads, running: this.running, waiting: this.line.length, maxWaiting: this.maxWaiting, following: this.following };
+  }
+
+  /** Whether another upload may be read while it arrives. */
+  canFollow(): boolean {
+    return this.following < this.threads * FOLLOWERS_PER_THREAD;
+  }
+
+  /** Runs a follower (no line, no time limit: it ends when told, or is told to stop). */
+  async follow<R>(job: unknown, transferList: MessagePort[]): Promise<R> {
+    this.following++;
+    try {
+      return (await this.piscina.run(job, { name: "follow", transferList })) as R;
+    } finally {
+      this.following--;
+    }
   }
 
   /** Runs task `name` with `job` when a thread is free (in arrival order). */
@@ -180,4 +205,51 @@ export async function runIngest(
 /** Measures a stored trace on the pool. */
 export function runAnalysis(pool: WorkPool, dataFile: string, settings: Partial<CaptureSettings>): Promise<Record<string, unknown>> {
   return pool.run("analyze", { dataFile, settings });
+}
+
+/** A resumable upload read by a pool thread while it arrives. */
+export interface Follower {
+  /** the file has at least `bytes` bytes */
+  grow(bytes: number): void;
+  /** all `bytes` bytes are in: the result follows */
+  end(bytes: number): Promise<IngestResult>;
+  /** stop (the upload was abandoned or removed); the result rejects */
+  abort(): void;
+  /** settles when the follower does (a refusal can come before the end) */
+  readonly result: Promise<IngestResult>;
+}
+
+export function startFollower(pool: WorkPool, job: Omit<IngestJob, "progress">, onProgress?: (p: IngestProgress) => void): Follower {
+  const control = new MessageChannel();
+  const progress = new MessageChannel();
+  progress.port1.on("message", (m: IngestProgress) => onProgress?.(m));
+  progress.port1.unref();
+  control.port1.unref();
+  const send = (m: FollowMessage) => {
+    try {
+      control.port1.postMessage(m);
+    } catch {
+      /* the follower is gone */
+    }
+  };
+  const result = pool.follow<IngestResult>({ ...job, control: control.port2, progress: progress.port2 }, [control.port2, progress.port2]);
+  void result.then(
+    () => {
+      control.port1.close();
+      progress.port1.close();
+    },
+    () => {
+      control.port1.close();
+      progress.port1.close();
+    },
+  );
+  return {
+    result,
+    grow: (bytes) => send({ type: "grow", bytes }),
+    end: (bytes) => {
+      send({ type: "end", bytes });
+      return result;
+    },
+    abort: () => send({ type: "abort" }),
+  };
 }

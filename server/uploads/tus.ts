@@ -28,11 +28,30 @@ import { noteNewMaterial } from "../services/queue";
 import { getTraceRow, presentTrace } from "../services/traces";
 import { storageLayout } from "../services/storage";
 import { RESUMABLE_UPLOAD_PATH, uploadMetadataSchema, type UploadMetadata } from "../../shared/schemas/uploads";
-import { ingestTrace } from "./pipeline";
+import { holdFile } from "../services/storage";
+import { ingestTrace, passOutputs, poolFor } from "./pipeline";
+import { runIngest, startFollower, type Follower } from "./pool";
+import type { IngestRefusal, IngestResult } from "./ingest";
 import { trackUpload, uploadTracker, type UploadTracker } from "./progress";
 
 const ID = /^[0-9a-f]{32}$/;
 const ACTOR = Symbol("uploadActor");
+/** A follower whose upload has not grown for this long is stopped (the upload is read at its end instead). */
+const FOLLOW_IDLE_MS = 5 * 60_000;
+/** How long a refusal found while the upload arrived is remembered for its sender. */
+const REFUSAL_KEEP_MS = 60 * 60_000;
+
+/** An upload being read by a pool thread while it arrives. */
+interface Following {
+  traceId: string;
+  follower: Follower;
+  lastGrowth: number;
+  /** a refusal found before the last byte */
+  refusal?: IngestRefusal;
+  /** the follower stopped without a result (aborted, its thread died): read the file at the end */
+  failed?: boolean;
+  release(): void;
+}
 
 /** The upload info the file store keeps beside each upload (`<id>.json`), with our marker. */
 export interface StoredUploadInfo {
@@ -141,11 +160,97 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
     return info;
   }
 
+  const following = new Map<string, Following>();
+  const refused = new Map<string, { uploaderId: string; refusal: IngestRefusal }>();
+
+  /** Starts reading a new upload while it arrives (when a pool thread has room for it). */
+  function follow(upload: Upload): void {
+    const pool = poolFor(ctx);
+    if (!pool.canFollow() || following.has(upload.id)) return;
+    const m = metadataOf(upload);
+    const traceId = crypto.randomUUID();
+    const out = passOutputs(ctx, traceId);
+    const holds = [holdFile(out.dataTarget), holdFile(out.copyTarget)];
+    const follower = startFollower(
+      pool,
+      { source: path.join(layout.tusDir, upload.id), encoding: m.encoding ?? "auto", tempDir: layout.tempDir, tracesDir: layout.tracesDir, traceId, settings: m.settings, maxBytes: ctx.env.MAX_TRACE_BYTES },
+      (p) => (p.stage === "measuring" ? uploadTracker(upload.id)?.measuring() : undefined),
+    );
+    const entry: Following = { traceId, follower, lastGrowth: Date.now(), release: () => holds.forEach((r) => r()) };
+    following.set(upload.id, entry);
+    follower.result.then(
+      (r) => {
+        if (r.ok || store.busy.has(upload.id)) return;
+        // refused before the last byte: say so now, and keep nothing of it
+        entry.refusal = r.refusal;
+        following.delete(upload.id);
+        entry.release();
+        refused.set(upload.id, { uploaderId: m.uploaderId, refusal: r.refusal });
+        setTimeout(() => refused.delete(upload.id), REFUSAL_KEEP_MS).unref();
+        uploadTracker(upload.id)?.refused({ code: r.refusal.code, message: r.refusal.message });
+        void store.remove(upload.id).catch(() => {});
+      },
+      () => {
+        entry.failed = true;
+        if (!store.busy.has(upload.id)) {
+          following.delete(upload.id);
+          entry.release();
+        }
+      },
+    );
+  }
+
+  function grew(id: string, bytes: number): void {
+    const f = following.get(id);
+    if (!f) return;
+    f.lastGrowth = Date.now();
+    f.follower.grow(bytes);
+  }
+
+  function unfollow(id: string): void {
+    const f = following.get(id);
+    if (!f) return;
+    following.delete(id);
+    f.follower.abort();
+    f.release();
+  }
+
+  const idleSweep = setInterval(() => {
+    for (const [id, f] of following) if (!store.busy.has(id) && Date.now() - f.lastGrowth > FOLLOW_IDLE_MS) unfollow(id);
+  }, 60_000);
+  idleSweep.unref();
+
+  /** The pass's result: the follower's when it read the upload as it came, else a read of the file now. */
+  function readFor(upload: Upload, m: ReturnType<typeof metadataOf>, tracker: UploadTracker) {
+    const entry = following.get(upload.id);
+    if (!entry || entry.failed) return undefined;
+    return {
+      traceId: entry.traceId,
+      result: async (): Promise<IngestResult> => {
+        tracker.checking(null);
+        try {
+          return await entry.follower.end(upload.size ?? 0);
+        } catch {
+          // the follower stopped (its thread died): read the whole file after all
+          const out = passOutputs(ctx, entry.traceId);
+          await fs.promises.rm(out.dataTarget, { force: true });
+          await fs.promises.rm(out.copyTarget, { force: true });
+          return runIngest(
+            poolFor(ctx),
+            { source: path.join(layout.tusDir, upload.id), encoding: m.encoding ?? "auto", tempDir: layout.tempDir, tracesDir: layout.tracesDir, traceId: entry.traceId, settings: m.settings, maxBytes: ctx.env.MAX_TRACE_BYTES },
+            { onQueued: (p) => tracker.queued(p), onStart: () => tracker.checking(0), onProgress: (p) => (p.stage === "measuring" ? tracker.measuring() : tracker.checking(p.fraction ?? null)) },
+          );
+        }
+      },
+    };
+  }
+
   async function finish(upload: Upload, actor: Actor) {
     const m = metadataOf(upload);
     const tracker = trackerFor(ctx, upload);
     const source = path.join(layout.tusDir, upload.id);
     store.busy.add(upload.id);
+    const read = readFor(upload, m, tracker);
     try {
       const row = await ingestTrace(
         ctx,
@@ -154,6 +259,7 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
         { path: source, encoding: m.encoding ?? "auto", originalName: m.filename },
         { settings: m.settings, name: m.name },
         tracker,
+        read,
       );
       await store.markDone(upload.id, row.id, ctx.now());
       await noteNewMaterial(ctx, m.caseId, actor.id);
@@ -169,6 +275,11 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
       throw tusError(new HttpError(500, "internal", "The server could not store this capture. Try again."));
     } finally {
       store.busy.delete(upload.id);
+      const f = following.get(upload.id);
+      if (f) {
+        following.delete(upload.id);
+        f.release();
+      }
     }
   }
 
@@ -187,6 +298,8 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
     async onIncomingRequest(req, id) {
       const actor = actorOf(req);
       if (req.method === "POST") return;
+      const r = refused.get(id);
+      if (r && r.uploaderId === actor.id) throw tusError(new HttpError(r.refusal.status, r.refusal.code, r.refusal.message, r.refusal.details));
       const info = await ownUpload(id, actor);
       if (req.method === "PATCH" && !info.done) {
         // the case may have been submitted or withdrawn since: stop taking bytes for it
@@ -201,6 +314,11 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
         const t = trackerFor(ctx, info);
         const offset = await fs.promises.stat(path.join(layout.tusDir, id)).then((s) => s.size, () => 0);
         if (offset > 0 || t.stage === "interrupted") t.resuming(offset);
+        // a follower lost (a restart): begin one now and tell it what is already there
+        if (!following.has(id) && !refused.has(id)) {
+          follow(new Upload({ id, size: info.size, offset, metadata: info.metadata as Upload["metadata"], creation_date: info.creation_date }));
+          grew(id, offset);
+        }
       }
     },
 
@@ -225,6 +343,8 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
 
     async onUploadFinish(req, upload) {
       const actor = actorOf(req);
+      const r = refused.get(upload.id);
+      if (r) throw tusError(new HttpError(r.refusal.status, r.refusal.code, r.refusal.message, r.refusal.details));
       let p = finishing.get(upload.id);
       if (!p) {
         const info = await store.info(upload.id);
@@ -253,13 +373,16 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
 
   tus.on(EVENTS.POST_CREATE, (_req, upload: Upload) => {
     trackerFor(ctx, upload).received(0);
+    follow(upload);
   });
   tus.on(EVENTS.POST_RECEIVE, (_req, upload: Upload) => {
     const t = trackerFor(ctx, upload);
     if (upload.size !== undefined) t.declareTotal(upload.size);
     t.received(upload.offset);
+    grew(upload.id, upload.offset);
   });
   tus.on(EVENTS.POST_TERMINATE, (_req, _res, id: string) => {
+    unfollow(id);
     uploadTracker(id)?.cancelled();
   });
 
@@ -280,6 +403,14 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
         });
       }
       await tus.handle(req, res);
+      if (req.method === "PATCH") {
+        // whatever this piece brought is on disk now: the follower may read up to there
+        const id = path.basename(req.path);
+        if (ID.test(id)) {
+          const size = await fs.promises.stat(path.join(layout.tusDir, id)).then((x) => x.size, () => null);
+          if (size !== null) grew(id, size);
+        }
+      }
     },
   };
 }

@@ -157,6 +157,28 @@ describe("a resumable upload", () => {
   });
 });
 
+describe("a refusal found while the upload arrives", () => {
+  it("is answered to the next piece, before the rest is sent, and nothing of the upload is kept", async () => {
+    // a PNG signature (PNG specification, section 5.2) at the start of a "CSV", sent plain
+    const png = Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]), Buffer.alloc(400_000, 7)]);
+    const c = await tusRequest(server, "POST", "/api/uploads", {
+      Cookie: tech.cookie,
+      "Upload-Length": String(png.length),
+      "Upload-Metadata": encodeMetadata(meta(caseA, { encoding: "identity", filename: "photo.csv" })),
+    });
+    const loc = c.headers.get("location")!;
+    const id = loc.split("/").pop()!;
+    const first = await tusRequest(server, "PATCH", loc, { Cookie: tech.cookie, "Upload-Offset": "0", "Content-Type": "application/offset+octet-stream" }, png.subarray(0, 100_000));
+    expect(first.status).toBe(204);
+    await expect.poll(() => tusFiles().filter((f) => f.startsWith(id)).length, { timeout: 5000 }).toBe(0);
+    const next = await tusRequest(server, "PATCH", loc, { Cookie: tech.cookie, "Upload-Offset": "100000", "Content-Type": "application/offset+octet-stream" }, png.subarray(100_000));
+    expect(next.status).toBe(415);
+    expect(next.json.error.code).toBe("unsupported_type");
+    // someone else still reads it as a missing upload
+    expect((await tusRequest(server, "HEAD", loc, { Cookie: otherTech.cookie })).status).toBe(404);
+  });
+});
+
 describe("tenants and upload ids", () => {
   it("another shop, a colleague and the signed-out get 404 (401) for an upload id; the owner resumes it", async () => {
     const create = await tusRequest(server, "POST", "/api/uploads", { Cookie: tech.cookie, "Upload-Length": String(gz.length), "Upload-Metadata": encodeMetadata(meta(caseA)) });

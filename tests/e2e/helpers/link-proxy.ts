@@ -26,7 +26,8 @@ export class LinkProxy {
     private targetPort: number,
     private opts: LinkProxyOptions = {},
   ) {
-    this.server = net.createServer((client) => this.accept(client));
+    // half-open: a client that has sent everything still gets its bytes forwarded at the link's rate
+    this.server = net.createServer({ allowHalfOpen: true }, (client) => this.accept(client));
   }
 
   /** Listens on 127.0.0.1 (a random port unless given). */
@@ -80,7 +81,7 @@ export class LinkProxy {
       client.destroy();
       return;
     }
-    const upstream = net.connect(this.targetPort, "127.0.0.1");
+    const upstream = net.connect({ port: this.targetPort, host: "127.0.0.1", allowHalfOpen: true });
     this.sockets.add(client);
     this.sockets.add(upstream);
     const drop = () => {
@@ -93,6 +94,7 @@ export class LinkProxy {
     upstream.on("error", drop);
     client.on("close", drop);
     upstream.on("close", drop);
+    upstream.on("end", () => client.end());
     upstream.on("data", (d) => {
       if (!client.write(d)) {
         upstream.pause();
@@ -107,6 +109,11 @@ export class LinkProxy {
         if (!client.destroyed) client.resume();
       });
     });
+    client.on("end", () => {
+      queue = queue.then(() => {
+        if (!upstream.destroyed) upstream.end();
+      });
+    });
   }
 
   private async forward(data: Buffer, upstream: net.Socket): Promise<void> {
@@ -115,8 +122,9 @@ export class LinkProxy {
       let chunk = data.subarray(i, Math.min(data.length, i + piece));
       const rate = this.opts.rateBytesPerS;
       if (rate) {
+        // a token bucket 50 ms deep: a timer that fires late is made up for, not lost
         const now = performance.now();
-        const start = Math.max(now, this.nextFree);
+        const start = Math.max(now - 50, this.nextFree);
         this.nextFree = start + (chunk.length / rate) * 1000;
         const wait = this.nextFree - now;
         if (wait > 1) await new Promise((r) => setTimeout(r, wait));

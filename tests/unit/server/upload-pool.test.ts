@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import { defaultThreads, PoolFullError, runIngest, WorkPool } from "../../../server/uploads/pool";
+import { defaultThreads, PoolFullError, runIngest, startFollower, WorkPool } from "../../../server/uploads/pool";
 import { captureCsv } from "../../integration/upload-helpers";
 
 /**
@@ -55,5 +55,25 @@ describe("upload pool", () => {
     if (ra.ok) expect(ra.meta.samples).toBe(capture.samples); // the generator's sample count
     // job 2 gets the thread the moment job 1 gives it back, before job 1's caller hears the result
     expect(events).toEqual(["1 start", "2 queued 1", "2 start", "1 done", "2 done"]);
+  });
+
+  it("a follower reads a file while it is written and gives the same result as reading it whole", async () => {
+    const growing = path.join(dir, "growing.csv");
+    const half = capture.bytes.indexOf("\n", capture.bytes.length >> 1) + 1;
+    fs.writeFileSync(growing, capture.bytes.subarray(0, half));
+    const settings = { kind: "generic", voltsPerDiv: 1, timePerDivS: 0.01 } as never;
+    const f = startFollower(pool, { source: growing, encoding: "identity", tempDir: dir, tracesDir: dir, traceId: "f1", settings, maxBytes: 1e9, skipAnalysis: true });
+    f.grow(half);
+    await new Promise((r) => setTimeout(r, 300));
+    fs.appendFileSync(growing, capture.bytes.subarray(half));
+    const followed = await f.end(capture.bytes.length);
+    const whole = await runIngest(pool, { source: src, encoding: "auto", tempDir: dir, tracesDir: dir, traceId: "w1", settings, maxBytes: 1e9, skipAnalysis: true });
+    expect(followed.ok && whole.ok).toBe(true);
+    if (followed.ok && whole.ok) {
+      expect(followed.meta).toEqual(whole.meta);
+      expect(followed.sha256).toBe(whole.sha256);
+      expect(followed.meta.samples).toBe(capture.samples);
+      expect(fs.readFileSync(followed.dataFile).equals(fs.readFileSync(whole.dataFile))).toBe(true);
+    }
   });
 });
