@@ -227,20 +227,11 @@ export function singleFileUpload(opts: { tempDir: string; maxBytes: number; kind
   return multer(options).single("file");
 }
 
-/**
- * A failure while reading a multipart body, as the answer it deserves: the size limit 413, our own
- * refusals as they are, a body that is not well-formed multipart (no boundary parameter, no closing
- * boundary, a bad part header, a damaged gzip stream) 400 `bad_upload`. Disk faults stay 500.
- */
+/** A failure while reading the trace's multipart body (runMiddleware has mapped malformed bodies): the size limit in words. */
 export function multipartFailure(err: unknown, limitText: string): unknown {
-  const e = err as { name?: string; code?: string; syscall?: string; message?: string } | null;
-  if (err instanceof HttpError) return err;
-  if (e?.name === "MulterError") {
-    if (e.code === "LIMIT_FILE_SIZE") return new HttpError(413, "too_large", `The file is over the ${limitText} limit.`);
-    return new HttpError(400, "bad_upload", `Upload refused: ${e.message}`);
-  }
-  if (e?.syscall) return err;
-  return new HttpError(400, "bad_upload", `The multipart body could not be read (${e?.message ?? "malformed"}). Send multipart/form-data with a file field "file".`);
+  const e = err as { name?: string; code?: string } | null;
+  if (e?.name === "MulterError" && e.code === "LIMIT_FILE_SIZE") return new HttpError(413, "too_large", `The file is over the ${limitText} limit.`);
+  return err;
 }
 
 /** The upload multer stored for this request, if any. */

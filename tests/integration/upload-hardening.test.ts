@@ -177,6 +177,23 @@ describe("malformed multipart answers 400 bad_upload, never 500", () => {
   ])("%s", async (_label, run) => {
     await expectNothingLeft(run, 400, "bad_upload");
   });
+
+  it("the photo endpoint too (the same multipart reading)", async () => {
+    const cut = Buffer.from(`--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="a.jpg"\r\nContent-Type: image/jpeg\r\n\r\n\xff\xd8\xff\xe0`, "latin1");
+    const res = await new Promise<{ status: number; body: any }>((resolve) => {
+      const req = http.request(
+        { host: "127.0.0.1", port: server.port, method: "POST", path: `/api/cases/${caseId}/photos`, headers: { Cookie: tech.cookie, "Content-Type": type } },
+        (r) => {
+          const chunks: Buffer[] = [];
+          r.on("data", (c) => chunks.push(c));
+          r.on("end", () => resolve({ status: r.statusCode ?? 0, body: JSON.parse(Buffer.concat(chunks).toString("utf8")) }));
+        },
+      );
+      req.end(cut);
+    });
+    expect(res.status).toBe(400);
+    expect(res.body.error.code).toBe("bad_upload");
+  });
 });
 
 describe("file names", () => {
