@@ -397,6 +397,17 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
       if (req.method === "PATCH") {
         const id = path.basename(req.path);
         const started = Date.now();
+        // A client resuming a deferred-length upload declares the length again with its last
+        // piece (it cannot know an interrupted piece already did): the same value changes nothing.
+        const declared = req.headers["upload-length"];
+        if (typeof declared === "string" && ID.test(id)) {
+          const info = await store.info(id);
+          if (info?.size !== undefined && String(info.size) === declared.trim()) {
+            delete req.headers["upload-length"];
+            // the protocol handler reads the raw header list too
+            for (let i = req.rawHeaders.length - 2; i >= 0; i -= 2) if (req.rawHeaders[i].toLowerCase() === "upload-length") req.rawHeaders.splice(i, 2);
+          }
+        }
         req.once("close", () => {
           // the link dropped part-way through this piece
           if (!req.complete && Date.now() - started > 0) uploadTracker(id)?.interrupted();

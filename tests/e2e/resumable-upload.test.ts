@@ -42,6 +42,39 @@ beforeAll(async () => {
   fs.writeFileSync(file, renderCsv(g.trace, { digits: 5 }));
 }, 180_000);
 
+/** A claimed case of a new shop, its technician signed in through the link, the expert directly. */
+async function claimedCase() {
+  const team = await createShopTeam(server, { technician: { name: "Jordan Keane" } });
+  const e = await createExpert(server, { name: "Quinn Haddad" });
+  const api = await signIn(server, team.technicians[0]);
+  const created = await api.post("/api/cases").send({ vehicle: { make: "Veltra", model: "Sorrel", year: 2019 }, complaint: "Misfire when warm", system: "ignition" });
+  const caseId = created.body.id as string;
+  server.ctx.db.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
+  const techCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
+  watchErrors(techCtx, errors, "tech");
+  const tech = await techCtx.newPage();
+  await signInThroughPage(tech, link.url, team.technicians[0].email, FACTORY_PASSWORD);
+  await tech.goto(`${link.url}/cases/${caseId}`);
+  await tech.getByRole("region", { name: "Add traces" }).waitFor({ timeout: 30_000 });
+  return { caseId, techCtx, tech };
+}
+
+/** A smaller capture file (`seconds` at 1 MS/s) for the queue and reload cases. */
+function smallCapture(name: string, seconds: number, seed: number): { file: string; samples: number } {
+  const g = generateSecondary({ seed, sampleRateHz: 1e6, durationS: seconds, events: Math.max(1, Math.floor(seconds / 0.16)) });
+  const f = path.join(fileDir, name);
+  fs.writeFileSync(f, renderCsv(g.trace, { digits: 5 }));
+  return { file: f, samples: g.trace.samples };
+}
+
+async function fillSettings(card: ReturnType<Page["getByRole"]>) {
+  await card.getByText("Ready to upload").waitFor({ timeout: 30_000 });
+  await card.getByRole("combobox", { name: "Kind of capture" }).selectOption({ label: "Secondary ignition" });
+  await card.getByRole("textbox", { name: /^Vertical \(V\/div\)/ }).fill("0.2");
+  await card.getByRole("textbox", { name: /^Time \/ div/ }).fill("20");
+  await card.getByRole("combobox", { name: "Time unit" }).selectOption("ms");
+}
+
 afterAll(async () => {
   await launched?.close();
   await server?.close();
@@ -130,4 +163,55 @@ describe("a large capture over a link that drops", () => {
     await techCtx.close();
     await expCtx.close();
   }, 240_000);
+
+  test("captures chosen while offline wait, then go one after another when the link returns", async () => {
+    link.setRate(undefined);
+    const a = smallCapture("cyl 1.csv", 0.3, 51);
+    const b = smallCapture("cyl 2.csv", 0.3, 52);
+    const { techCtx, tech } = await claimedCase();
+    await techCtx.setOffline(true);
+    const adder = tech.getByRole("region", { name: "Add traces" });
+    await adder.locator('input[type="file"]').setInputFiles([a.file, b.file]);
+    const list = adder.getByRole("list", { name: "Traces to upload" });
+    for (const name of ["cyl 1.csv", "cyl 2.csv"]) await fillSettings(list.getByRole("listitem", { name }));
+    await adder.getByRole("button", { name: "Upload all 2 traces" }).click();
+    const first = list.getByRole("listitem", { name: "cyl 1.csv" });
+    const second = list.getByRole("listitem", { name: "cyl 2.csv" });
+    await first.getByTestId("upload-progress").getByText(/No connection/).waitFor({ timeout: 20_000 });
+    await second.getByText(/Waiting its turn/).first().waitFor();
+    await shot(tech, SHOTS, "06-offline-waiting", { viewport: true });
+    await techCtx.setOffline(false);
+    await first.getByText(/^Uploaded/).waitFor({ timeout: 60_000 });
+    await second.getByText(/^Uploaded/).waitFor({ timeout: 60_000 });
+    expect(await first.getByText(/^Uploaded/).innerText()).toContain(`${a.samples.toLocaleString("en-US")} samples`);
+    expect(await second.getByText(/^Uploaded/).innerText()).toContain(`${b.samples.toLocaleString("en-US")} samples`);
+    await techCtx.close();
+  }, 120_000);
+
+  test("a reload in the middle of an upload continues it from the server's last byte, without choosing the file again", async () => {
+    const c = smallCapture("cyl 4 reload.csv", 0.6, 53);
+    link.setRate(250_000); // 2 Mbit/s: slow enough to reload half-way
+    const { caseId, techCtx, tech } = await claimedCase();
+    const adder = tech.getByRole("region", { name: "Add traces" });
+    await adder.locator('input[type="file"]').setInputFiles(c.file);
+    const card = adder.getByRole("list", { name: "Traces to upload" }).getByRole("listitem", { name: "cyl 4 reload.csv" });
+    await fillSettings(card);
+    link.forwarded = 0;
+    await card.getByRole("button", { name: "Upload trace" }).click();
+    await card.getByTestId("upload-progress").getByText(/^Sending/).waitFor({ timeout: 30_000 });
+    await expect.poll(() => link.forwarded, { timeout: 60_000, interval: 100 }).toBeGreaterThan(600_000);
+    await tech.reload();
+    const again = tech.getByRole("region", { name: "Add traces" }).getByRole("list", { name: "Traces to upload" }).getByRole("listitem", { name: "cyl 4 reload.csv" });
+    await again.getByText(/Continues where it stopped|Resuming|Sending/).first().waitFor({ timeout: 30_000 });
+    await shot(tech, SHOTS, "07-after-reload", { viewport: true });
+    await again.getByText(/^Uploaded/).waitFor({ timeout: 90_000 });
+    expect(await again.getByText(/^Uploaded/).innerText()).toContain(`${c.samples.toLocaleString("en-US")} samples`);
+    const rows = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all();
+    expect(rows).toHaveLength(1);
+    const compressed = fs.statSync(path.join(server.dir, rows[0].originalPath)).size;
+    // the page itself is reloaded over the same link (small requests); the capture went over once
+    expect(link.forwarded).toBeLessThan(compressed * 1.1 + 256 * 1024);
+    link.setRate(RATE);
+    await techCtx.close();
+  }, 180_000);
 });

@@ -1,6 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import crypto from "node:crypto";
 import fs from "node:fs";
+import http from "node:http";
 import path from "node:path";
 import zlib from "node:zlib";
 import { Readable } from "node:stream";
@@ -154,6 +155,52 @@ describe("a resumable upload", () => {
     expect(locked.status).toBe(409);
     expect(locked.json.error.code).toBe("case_locked");
     expect(tusFiles()).toEqual(before);
+  });
+});
+
+describe("a deferred length declared by a piece that was cut", () => {
+  it("is declared again with the resumed piece and the upload completes", async () => {
+    const c = await tusRequest(server, "POST", "/api/uploads", { Cookie: tech.cookie, "Upload-Defer-Length": "1", "Upload-Metadata": encodeMetadata(meta(caseA)) });
+    expect(c.status).toBe(201);
+    const loc = c.headers.get("location")!;
+    const cutAt = Math.floor(gz.length / 2);
+    // the last piece, with its Upload-Length (tus creation-defer-length), dropped half-way
+    await new Promise<void>((resolve) => {
+      const req = http.request({
+        host: "127.0.0.1",
+        port: server.port,
+        method: "PATCH",
+        path: loc,
+        headers: {
+          Cookie: tech.cookie,
+          "Tus-Resumable": "1.0.0",
+          "Upload-Offset": "0",
+          "Upload-Length": String(gz.length),
+          "Content-Type": "application/offset+octet-stream",
+          "Content-Length": String(gz.length),
+        },
+      });
+      req.on("error", () => resolve());
+      req.write(gz.subarray(0, cutAt), () => setTimeout(() => (req.destroy(), resolve()), 300));
+    });
+    let offset = 0;
+    await expect
+      .poll(async () => {
+        const h = await tusRequest(server, "HEAD", loc, { Cookie: tech.cookie });
+        offset = Number(h.headers.get("upload-offset"));
+        return h.headers.get("upload-length");
+      })
+      .toBe(String(gz.length));
+    expect(offset).toBeGreaterThan(0);
+    const rest = await tusRequest(
+      server,
+      "PATCH",
+      loc,
+      { Cookie: tech.cookie, "Upload-Offset": String(offset), "Upload-Length": String(gz.length), "Content-Type": "application/offset+octet-stream" },
+      gz.subarray(offset),
+    );
+    expect(rest.status, rest.text).toBe(200);
+    expect(rest.json.trace.samples).toBe(capture.samples);
   });
 });
 

@@ -6,7 +6,7 @@ import type { UploadedTrace } from "../api/upload-trace";
 import { guessKind } from "../lib/guess-kind";
 import { previewText, readHead, type TracePreview } from "../lib/preview";
 import { copySettings, framingTime, initialSettings, rateUnits, toCaptureSettings, type SettingsDraft, type SettingsErrors } from "../lib/settings";
-import { CaptureUpload, type UploadState } from "../lib/capture-upload";
+import { CaptureUpload, warmCompressor, type UploadState } from "../lib/capture-upload";
 import { forgetUpload, savedPieces, savedUploads, type SavedUpload } from "../lib/upload-store";
 
 /** waiting: in line behind another upload of this page (one goes at a time) */
@@ -321,6 +321,9 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
       if (it.status === "ready" || it.status === "cancelled" || it.status === "error") await start(it.key);
     }
   }, [start]);
+
+  // The compressor is loaded now, while online: a capture chosen offline is compressed all the same.
+  useEffect(() => warmCompressor(), []);
 
   // Leaving the page pauses the upload under way: the next visit continues it.
   useEffect(

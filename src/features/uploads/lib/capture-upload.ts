@@ -66,11 +66,35 @@ function parseError(body: string | undefined, status: number): UploadState["erro
 
 const online = () => typeof navigator === "undefined" || navigator.onLine !== false;
 
+/** The page's one compression worker, started while online (a worker's script is fetched). */
+let compressor: Worker | null = null;
+let compressJobs = 0;
+const compressHandlers = new Map<number, (m: CompressOut) => void>();
+
+function getCompressor(): Worker {
+  if (compressor) return compressor;
+  const w = new Worker(new URL("../workers/compress.worker.ts", import.meta.url), { type: "module" });
+  w.onmessage = (e: MessageEvent<CompressOut>) => compressHandlers.get(e.data.id)?.(e.data);
+  w.onerror = () => {
+    // a broken worker fails what it had and is made again next time
+    for (const [id, h] of compressHandlers) h({ id, type: "error", message: "the compression worker stopped" });
+    compressHandlers.clear();
+    if (compressor === w) compressor = null;
+  };
+  compressor = w;
+  return w;
+}
+
+/** Loads the compression worker ahead of the first capture (call while the page is online). */
+export function warmCompressor(): void {
+  if (typeof Worker !== "undefined") getCompressor();
+}
+
 export class CaptureUpload {
   private state: UploadState;
   private source = new CompressedSource();
   private tus: Upload | null = null;
-  private worker: Worker | null = null;
+  private compressId = 0;
   private pieceIndex = 0;
   private stopped = false;
   private samples: { t: number; sent: number }[] = [];
@@ -136,31 +160,33 @@ export class CaptureUpload {
   }
 
   private compress(file: File): void {
-    const w = new Worker(new URL("../workers/compress.worker.ts", import.meta.url), { type: "module" });
-    this.worker = w;
-    w.onmessage = (e: MessageEvent<CompressOut>) => {
-      const m = e.data;
+    const id = ++compressJobs;
+    this.compressId = id;
+    compressHandlers.set(id, (m) => {
       if (m.type === "piece") {
         const blob = new Blob([m.data]);
         this.source.add(blob);
         void savePiece(this.init.key, this.pieceIndex++, blob);
         this.set({ compressedRead: m.read, compressedBytes: this.source.bytes });
-      } else if (m.type === "done") {
+        return;
+      }
+      compressHandlers.delete(id);
+      if (m.type === "done") {
         this.source.finish();
         void patchUpload(this.init.key, { compressedDone: true, compressedBytes: this.source.bytes });
         this.set({ compressedRead: m.read, compressedBytes: this.source.bytes, compressionDone: true, etaS: this.eta(this.state.rateBytesPerS) });
-        w.terminate();
-        this.worker = null;
       } else {
         this.source.fail(new Error(m.message));
         this.set({ phase: "error", error: { status: 0, code: "compress_failed", message: `The browser could not compress the file: ${m.message}` } });
       }
-    };
-    w.onerror = (e) => {
-      this.source.fail(new Error(e.message));
+    });
+    try {
+      getCompressor().postMessage({ id, file });
+    } catch (err) {
+      compressHandlers.delete(id);
+      this.source.fail(err instanceof Error ? err : new Error(String(err)));
       this.set({ phase: "error", error: { status: 0, code: "compress_failed", message: "The browser could not compress the file." } });
-    };
-    w.postMessage({ file });
+    }
   }
 
   /** Estimated compressed total: exact once compression is done, else extrapolated from the ratio so far. */
@@ -322,8 +348,7 @@ export class CaptureUpload {
   /** Stops for good and removes what the server has of it. */
   async cancel(): Promise<void> {
     this.stopped = true;
-    this.worker?.terminate();
-    this.worker = null;
+    compressHandlers.delete(this.compressId);
     await this.tus?.abort(true).catch(() => {});
     await forgetUpload(this.init.key);
     this.set({ phase: "cancelled" });
@@ -332,7 +357,7 @@ export class CaptureUpload {
   /** Stops sending (the page is leaving); the saved upload continues on the next visit. */
   pause(): void {
     this.stopped = true;
-    this.worker?.terminate();
+    compressHandlers.delete(this.compressId);
     void this.tus?.abort(false);
   }
 }

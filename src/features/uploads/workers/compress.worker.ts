@@ -3,17 +3,21 @@
  * Compresses a capture in the browser, off the page's thread: the file is read as a stream through
  * the platform's CompressionStream("gzip") (RFC 1952), and the compressed bytes are posted back in
  * pieces of at least PIECE bytes as they come out, so they can be sent while the rest is still
- * being compressed. Messages out: { type: "piece", data, read } (data transferred; `read` = plain
- * bytes consumed so far), { type: "done", read }, { type: "error", message }.
+ * being compressed. One worker serves every file of the page (it is loaded while the page is
+ * online, so a capture chosen offline is still compressed). In: { id, file }. Out, with the same
+ * id: { type: "piece", data, read } (data transferred; `read` = plain bytes consumed so far),
+ * { type: "done", read }, { type: "error", message }.
  */
-export type CompressOut =
+export type CompressOut = { id: number } & (
   | { type: "piece"; data: ArrayBuffer; read: number }
   | { type: "done"; read: number }
-  | { type: "error"; message: string };
+  | { type: "error"; message: string }
+);
 
 const PIECE = 256 * 1024;
 
-self.onmessage = async (e: MessageEvent<{ file: Blob }>) => {
+self.onmessage = async (e: MessageEvent<{ id: number; file: Blob }>) => {
+  const id = e.data.id;
   const post = (m: CompressOut, transfer: Transferable[] = []) => (self as unknown as DedicatedWorkerGlobalScope).postMessage(m, transfer);
   try {
     let read = 0;
@@ -39,7 +43,7 @@ self.onmessage = async (e: MessageEvent<{ file: Blob }>) => {
       }
       parts = [];
       length = 0;
-      post({ type: "piece", data: out.buffer, read }, [out.buffer]);
+      post({ id, type: "piece", data: out.buffer, read }, [out.buffer]);
     };
     for (;;) {
       const { value, done } = await reader.read();
@@ -49,8 +53,8 @@ self.onmessage = async (e: MessageEvent<{ file: Blob }>) => {
       if (length >= PIECE) flush();
     }
     flush();
-    post({ type: "done", read });
+    post({ id, type: "done", read });
   } catch (err) {
-    post({ type: "error", message: err instanceof Error ? err.message : String(err) });
+    post({ id, type: "error", message: err instanceof Error ? err.message : String(err) });
   }
 };
