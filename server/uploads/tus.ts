@@ -283,6 +283,19 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
     }
   }
 
+  /** Reads a complete upload once, whoever asks first (its last PATCH, or a HEAD after a restart). */
+  function startFinish(upload: Upload, actor: Actor) {
+    let p = finishing.get(upload.id);
+    if (p) return p;
+    p = finish(upload, actor);
+    finishing.set(upload.id, p);
+    void p.then(
+      () => finishing.delete(upload.id),
+      () => finishing.delete(upload.id),
+    );
+    return p;
+  }
+
   const tus = new Server({
     path: RESUMABLE_UPLOAD_PATH,
     datastore: store,
@@ -310,13 +323,19 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
           throw err;
         }
       }
-      if (req.method === "HEAD" && !info.done && !store.busy.has(id)) {
-        const t = trackerFor(ctx, info);
+      if (req.method === "HEAD" && !info.done && !store.busy.has(id) && !finishing.has(id)) {
         const offset = await fs.promises.stat(path.join(layout.tusDir, id)).then((s) => s.size, () => 0);
+        const upload = new Upload({ id, size: info.size, offset, metadata: info.metadata as Upload["metadata"], creation_date: info.creation_date });
+        if (info.size !== undefined && offset === info.size) {
+          // every byte is in but it was never read (the server stopped while reading it): read it now
+          startFinish(upload, actor);
+          return;
+        }
+        const t = trackerFor(ctx, info);
         if (offset > 0 || t.stage === "interrupted") t.resuming(offset);
         // a follower lost (a restart): begin one now and tell it what is already there
         if (!following.has(id) && !refused.has(id)) {
-          follow(new Upload({ id, size: info.size, offset, metadata: info.metadata as Upload["metadata"], creation_date: info.creation_date }));
+          follow(upload);
           grew(id, offset);
         }
       }
@@ -353,12 +372,7 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
           const body = JSON.stringify(row ? { trace: presentTrace(row) } : { trace: null });
           return { status_code: 200, headers: { "Content-Type": "application/json" }, body };
         }
-        p = finish(upload, actor);
-        finishing.set(upload.id, p);
-        void p.then(
-          () => finishing.delete(upload.id),
-          () => finishing.delete(upload.id),
-        );
+        p = startFinish(upload, actor);
       }
       return p;
     },

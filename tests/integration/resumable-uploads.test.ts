@@ -204,6 +204,35 @@ describe("a deferred length declared by a piece that was cut", () => {
   });
 });
 
+describe("an upload whose last byte arrived but was never read (the server stopped)", () => {
+  it("is read when its sender asks where it stands, and its trace is stored once", async () => {
+    const c = await tusRequest(server, "POST", "/api/uploads", { Cookie: tech.cookie, "Upload-Length": String(gz.length), "Upload-Metadata": encodeMetadata(meta(caseA)) });
+    const loc = c.headers.get("location")!;
+    const id = loc.split("/").pop()!;
+    // every byte on disk, as a server killed right after the last PATCH leaves it
+    fs.writeFileSync(path.join(server.dir, "tmp", "tus", id), gz);
+    const head = await tusRequest(server, "HEAD", loc, { Cookie: tech.cookie });
+    expect(head.headers.get("upload-offset")).toBe(String(gz.length));
+    let status: any = null;
+    await expect
+      .poll(
+        async () => {
+          status = await (await fetch(`${server.url}${loc}`, { headers: { Cookie: tech.cookie } })).json();
+          return status.stage;
+        },
+        { timeout: 20_000 },
+      )
+      .toBe("stored");
+    expect(traceRow(status.traceId).samples).toBe(capture.samples);
+    // asking again does not store it twice
+    const count = () => server.ctx.db.select().from(schema.trace).all().length;
+    const before = count();
+    await tusRequest(server, "HEAD", loc, { Cookie: tech.cookie });
+    await new Promise((r) => setTimeout(r, 500));
+    expect(count()).toBe(before);
+  });
+});
+
 describe("a refusal found while the upload arrives", () => {
   it("is answered to the next piece, before the rest is sent, and nothing of the upload is kept", async () => {
     // a PNG signature (PNG specification, section 5.2) at the start of a "CSV", sent plain

@@ -218,7 +218,9 @@ export class CaptureUpload {
   private send(uploadUrl?: string): void {
     const i = this.init;
     const up = new Upload(this.source as unknown as Blob, {
-      endpoint: new URL(RESUMABLE_UPLOAD_PATH, window.location.origin).href,
+      // a reloaded upload continues its own address or not at all (never a new upload in its place:
+      // the address may belong to another account signed in on this device before)
+      endpoint: uploadUrl ? null : new URL(RESUMABLE_UPLOAD_PATH, window.location.origin).href,
       uploadUrl: uploadUrl ?? null,
       uploadLengthDeferred: true,
       chunkSize: CHUNK,
@@ -273,6 +275,12 @@ export class CaptureUpload {
     if (this.stopped) return;
     const res = err.originalResponse;
     const status = res?.getStatus() ?? 0;
+    if ((status === 404 || status === 410) && this.init.restored) {
+      await forgetUpload(this.init.key);
+      const message = "The server no longer has this upload (it expired, or another account started it on this device). Add the file again to upload it.";
+      this.set({ phase: "error", error: { status, code: "file_needed", message } });
+      return;
+    }
     if (status >= 400 && status < 500 && status !== 409 && status !== 423) {
       await forgetUpload(this.init.key);
       this.set({ phase: "error", error: parseError(res?.getBody(), status) });
