@@ -117,7 +117,17 @@ export interface CaseUpdatedPayload {
  * - measuring: the channels are stored; the waveform is being measured
  * - stored: the trace exists (`traceId`); refused: `error` says why; cancelled: the sender gave up
  */
-export const UPLOAD_STAGES = ["sending", "interrupted", "resuming", "queued", "checking", "measuring", "stored", "refused", "cancelled"] as const;
+export const UPLOAD_STAGES = [
+  "sending",
+  "interrupted",
+  "resuming",
+  "queued",
+  "checking",
+  "measuring",
+  "stored",
+  "refused",
+  "cancelled",
+] as const;
 export type UploadStage = (typeof UPLOAD_STAGES)[number];
 
 export interface UploadProgressPayload {

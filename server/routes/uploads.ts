@@ -44,7 +44,10 @@ export function uploadRoutes(ctx: AppContext, auth: Auth): Router {
     // Authorized before the body is read: nobody streams 200 MB into a case they cannot change.
     assertCanAddTrace(actor, getCaseRow(ctx.db, id));
     if (!req.is("multipart/form-data")) {
-      throw badRequest("bad_upload", 'Send the capture as multipart/form-data with the file in the field "file" (or use the resumable uploads).');
+      throw badRequest(
+        "bad_upload",
+        'Send the capture as multipart/form-data with the file in the field "file" (or use the resumable uploads).',
+      );
     }
     try {
       try {
@@ -53,7 +56,8 @@ export function uploadRoutes(ctx: AppContext, auth: Auth): Router {
         throw multipartFailure(err, mb(ctx.env.MAX_TRACE_BYTES));
       }
       const file = uploadedFile(req);
-      if (!file) throw badRequest("file_missing", 'Attach the scope export (CSV or TSV, plain or gzip) in the field "file".');
+      if (!file)
+        throw badRequest("file_missing", 'Attach the scope export (CSV or TSV, plain or gzip) in the field "file".');
       const fields = parseWith(traceUploadFieldsSchema, req.body ?? {}, "upload fields");
       const gzip = file.detected === "gzip";
       const tracker = trackUpload(ctx, {
@@ -66,7 +70,14 @@ export function uploadRoutes(ctx: AppContext, auth: Auth): Router {
         totalBytes: file.size,
         receivedBytes: file.size,
       });
-      const row = await ingestTrace(ctx, actor, id, { path: file.path, encoding: gzip ? "gzip" : "identity", originalName: file.originalname }, fields, tracker);
+      const row = await ingestTrace(
+        ctx,
+        actor,
+        id,
+        { path: file.path, encoding: gzip ? "gzip" : "identity", originalName: file.originalname },
+        fields,
+        tracker,
+      );
       // A capture the expert asked for moves the case from needs_data back to the expert.
       await noteNewMaterial(ctx, id, actor.id);
       await discardUpload(req); // gone before the answer, not just after it
@@ -93,7 +104,13 @@ export function uploadRoutes(ctx: AppContext, auth: Auth): Router {
     if (!info && !(t && t.snapshot().by.userId === actor.id)) throw notFound("Upload");
     const s = t?.snapshot();
     const size = info?.size ?? s?.totalBytes ?? null;
-    const received = info?.done ? (size ?? 0) : (s?.receivedBytes ?? (await fs.promises.stat(`${layout.tusDir}/${id}`).then((x) => x.size, () => 0)));
+    const received = info?.done
+      ? (size ?? 0)
+      : (s?.receivedBytes ??
+        (await fs.promises.stat(`${layout.tusDir}/${id}`).then(
+          (x) => x.size,
+          () => 0,
+        )));
     const body: UploadStatusResponse = {
       id,
       caseId: s?.caseId ?? String(info?.metadata?.caseId ?? ""),
@@ -126,7 +143,13 @@ export function uploadRoutes(ctx: AppContext, auth: Auth): Router {
     const name = t!.originalName ?? `${t!.name}.csv`;
     const sentGzip = /\.gz$/i.test(name);
     const plainName = name.replace(/\.gz$/i, "");
-    const type = sentGzip ? "application/gzip" : /\.tsv$/i.test(plainName) ? "text/tab-separated-values" : /\.csv$/i.test(plainName) ? "text/csv" : "text/plain";
+    const type = sentGzip
+      ? "application/gzip"
+      : /\.tsv$/i.test(plainName)
+        ? "text/tab-separated-values"
+        : /\.csv$/i.test(plainName)
+          ? "text/csv"
+          : "text/plain";
     res.set({
       "Content-Type": type,
       "Content-Disposition": `attachment; filename="${asciiName(name)}"; filename*=UTF-8''${encodeURIComponent(name)}`,

@@ -4,7 +4,12 @@
  * engine's arrays stay warm between searches. Started by casebook-search.ts.
  */
 import Database from "better-sqlite3";
-import { CasebookSearchEngine, type CasebookSearchQuery, type CasebookSearchResult, type EngineStats } from "./casebook-search-engine";
+import {
+  CasebookSearchEngine,
+  type CasebookSearchQuery,
+  type CasebookSearchResult,
+  type EngineStats,
+} from "./casebook-search-engine";
 
 const engines = new Map<string, CasebookSearchEngine>();
 

@@ -13,7 +13,12 @@ import { fileURLToPath } from "node:url";
 import { Piscina } from "piscina";
 import type { AppContext } from "../context";
 import type { Db } from "../db/client";
-import { CasebookSearchEngine, type CasebookSearchQuery, type CasebookSearchResult, type EngineStats } from "./casebook-search-engine";
+import {
+  CasebookSearchEngine,
+  type CasebookSearchQuery,
+  type CasebookSearchResult,
+  type EngineStats,
+} from "./casebook-search-engine";
 
 /** a thread idle this long is stopped (its arrays are rebuilt on the next search) */
 const IDLE_MS = 10 * 60_000;
@@ -34,9 +39,13 @@ class SearchWorker {
 
   async request<T>(type: "search" | "warm" | "stats", query?: CasebookSearchQuery): Promise<T> {
     try {
-      return (await this.pool.run({ file: this.file, query }, { name: type, signal: AbortSignal.timeout(TIMEOUT_MS) })) as T;
+      return (await this.pool.run(
+        { file: this.file, query },
+        { name: type, signal: AbortSignal.timeout(TIMEOUT_MS) },
+      )) as T;
     } catch (err) {
-      if ((err as Error)?.name === "AbortError" || (err as Error)?.name === "TimeoutError") throw new Error("the casebook search took too long");
+      if ((err as Error)?.name === "AbortError" || (err as Error)?.name === "TimeoutError")
+        throw new Error("the casebook search took too long");
       throw err;
     }
   }

@@ -88,7 +88,13 @@ export interface PlacedFile {
  * Moves a temp file to its content-addressed place (same filesystem: a rename). When the content
  * is already stored, the existing file is kept and the temp file removed.
  */
-export async function placeContentAddressed(layout: StorageLayout, root: string, tempPath: string, sha256: string, suffix = ""): Promise<PlacedFile> {
+export async function placeContentAddressed(
+  layout: StorageLayout,
+  root: string,
+  tempPath: string,
+  sha256: string,
+  suffix = "",
+): Promise<PlacedFile> {
   const abs = contentPath(root, sha256, suffix);
   const key = abs;
   inFlight.set(key, (inFlight.get(key) ?? 0) + 1);

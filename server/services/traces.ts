@@ -68,7 +68,13 @@ export async function deleteTrace(ctx: AppContext, actor: Actor, t: TraceRow): P
   const now = ctx.now();
   ctx.db.transaction((tx) => {
     tx.delete(trace).where(eq(trace.id, t.id)).run();
-    recordCaseEvent(tx, { caseId: t.caseId, actorId: actor.id, type: "trace_deleted", at: now, data: { traceId: t.id, name: t.name } });
+    recordCaseEvent(tx, {
+      caseId: t.caseId,
+      actorId: actor.id,
+      type: "trace_deleted",
+      at: now,
+      data: { traceId: t.id, name: t.name },
+    });
     touchCase(tx, t.caseId, now);
   });
   forgetOpenTrace(traceDataFilePath(ctx, t));
@@ -93,7 +99,13 @@ export async function addTrace(
   upload: StoredUpload,
   fields: { settings: CaptureSettings; name?: string },
 ): Promise<TraceRow> {
-  return ingestTrace(ctx, actor, caseId, { path: upload.path, encoding: "auto", originalName: upload.originalname }, fields);
+  return ingestTrace(
+    ctx,
+    actor,
+    caseId,
+    { path: upload.path, encoding: "auto", originalName: upload.originalname },
+    fields,
+  );
 }
 
 /** Whether the stored original is gzip-compressed (new uploads) rather than plain (older rows). */
@@ -131,10 +143,17 @@ export function forgetOpenTrace(abs: string): void {
  * Min/max-decimated points over [t0, t1) in `width` buckets (bucket k covers its share of the
  * window; empty buckets are left out). Defaults to the whole trace: [t0, t0 + durationS).
  */
-export async function traceWindow(ctx: AppContext, t: TraceRow, q: TraceWindowQuery): Promise<TraceWindow & { t0: number; t1: number; width: number }> {
+export async function traceWindow(
+  ctx: AppContext,
+  t: TraceRow,
+  q: TraceWindowQuery,
+): Promise<TraceWindow & { t0: number; t1: number; width: number }> {
   const t0 = q.t0 ?? t.t0;
   const t1 = q.t1 ?? (q.t0 !== undefined && q.t0 >= t.t0 + t.durationS ? q.t0 + t.durationS : t.t0 + t.durationS);
-  if (!(t1 > t0)) throw badRequest("validation_failed", "Check the query: t1 must be later than t0.", { fields: [{ path: "t1", message: "t1 must be later than t0." }] });
+  if (!(t1 > t0))
+    throw badRequest("validation_failed", "Check the query: t1 must be later than t0.", {
+      fields: [{ path: "t1", message: "t1 must be later than t0." }],
+    });
   const data = await openCached(traceDataFilePath(ctx, t));
   const w = await data.window(t0, t1, q.width);
   return { t0, t1, width: q.width, ...w };

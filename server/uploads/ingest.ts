@@ -107,7 +107,9 @@ class Refused extends Error {
 }
 
 function mib(bytes: number): string {
-  return bytes >= 1024 * 1024 ? `${Math.round((bytes / (1024 * 1024)) * 10) / 10} MiB` : `${Math.round(bytes / 1024)} KiB`;
+  return bytes >= 1024 * 1024
+    ? `${Math.round((bytes / (1024 * 1024)) * 10) / 10} MiB`
+    : `${Math.round(bytes / 1024)} KiB`;
 }
 
 export function isGzipStart(head: Uint8Array): boolean {
@@ -116,7 +118,8 @@ export function isGzipStart(head: Uint8Array): boolean {
 
 /** A parser refusal in the API's shape: 413 for size, else 400 naming the line and the reason. */
 export function parseRefusal(err: TraceParseError): IngestRefusal {
-  if (err.code === "too-large") return { status: 413, code: "too_large", message: `The trace file is too large: ${err.message}.` };
+  if (err.code === "too-large")
+    return { status: 413, code: "too_large", message: `The trace file is too large: ${err.message}.` };
   return {
     status: 400,
     code: "trace_unreadable",
@@ -197,7 +200,11 @@ class PlainCheck {
     if (r.ok) return;
     // a body that already expands beyond the bound is refused as what it is, whatever it holds
     if (this.gzip && this.plain > this.maxRatio * compressedSoFar) this.ratioRefusal();
-    throw new Refused({ status: 415, code: "unsupported_type", message: `${r.reason} Upload the scope's CSV or TSV export.` });
+    throw new Refused({
+      status: 415,
+      code: "unsupported_type",
+      message: `${r.reason} Upload the scope's CSV or TSV export.`,
+    });
   }
 }
 
@@ -289,7 +296,11 @@ async function readAndParse(job: IngestJob, gzip: boolean, compressedCopy: strin
 function gzipError(err: unknown): IngestRefusal | null {
   const code = (err as { code?: string } | null)?.code;
   if (typeof code === "string" && code.startsWith("Z_")) {
-    return { status: 400, code: "bad_upload", message: "The compressed body is damaged or cut short (not a complete gzip stream)." };
+    return {
+      status: 400,
+      code: "bad_upload",
+      message: "The compressed body is damaged or cut short (not a complete gzip stream).",
+    };
   }
   return null;
 }

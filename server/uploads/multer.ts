@@ -26,10 +26,15 @@ export interface StoredUpload {
 const INFLATED_BODY = Symbol("inflatedBody");
 
 function ratioRefusal(): HttpError {
-  return new HttpError(413, "too_large", `The compressed body expands more than ${MAX_COMPRESSION_RATIO} times; a scope export never does.`, {
-    reason: "compression-ratio",
-    maxRatio: MAX_COMPRESSION_RATIO,
-  });
+  return new HttpError(
+    413,
+    "too_large",
+    `The compressed body expands more than ${MAX_COMPRESSION_RATIO} times; a scope export never does.`,
+    {
+      reason: "compression-ratio",
+      maxRatio: MAX_COMPRESSION_RATIO,
+    },
+  );
 }
 
 /** Decides from the first bytes whether to keep the upload; returns what it is, or throws. */
@@ -48,7 +53,11 @@ export class HashingDiskStorage implements StorageEngine {
     private readonly sniff: Sniffer,
   ) {}
 
-  _handleFile(req: Request, file: Express.Multer.File, cb: (error?: any, info?: Partial<Express.Multer.File> & { sha256?: string; detected?: string | null }) => void): void {
+  _handleFile(
+    req: Request,
+    file: Express.Multer.File,
+    cb: (error?: any, info?: Partial<Express.Multer.File> & { sha256?: string; detected?: string | null }) => void,
+  ): void {
     const stream = file.stream;
     if (stream.destroyed) return cb(new MulterError("LIMIT_UNEXPECTED_FILE" as any));
     fs.mkdirSync(this.dir, { recursive: true });
@@ -175,10 +184,14 @@ export function imageSniffer(head: Buffer): ImageMime {
  */
 function gzipBodyHandler(maxPlain: number) {
   return (req: Request, busboy: NodeJS.WritableStream & { destroy(err?: Error): void }) => {
-    const encoding = String(req.headers["content-encoding"] ?? "identity").trim().toLowerCase();
+    const encoding = String(req.headers["content-encoding"] ?? "identity")
+      .trim()
+      .toLowerCase();
     if (encoding === "identity" || encoding === "") return void req.pipe(busboy);
     if (encoding !== "gzip" && encoding !== "x-gzip") {
-      busboy.destroy(unsupported(`Content-Encoding "${encoding}" is not accepted; send the body as it is or gzip-compressed.`));
+      busboy.destroy(
+        unsupported(`Content-Encoding "${encoding}" is not accepted; send the body as it is or gzip-compressed.`),
+      );
       return;
     }
     const gunzip = zlib.createGunzip();
@@ -188,7 +201,12 @@ function gzipBodyHandler(maxPlain: number) {
       transform(chunk: Buffer, _enc, cb) {
         plain += chunk.length;
         if (plain > MAX_COMPRESSION_RATIO * gunzip.bytesWritten + RATIO_SLACK_BYTES) return cb(ratioRefusal());
-        if (plain > maxPlain) return cb(new HttpError(413, "too_large", "The request body is over the size limit once decompressed.", { reason: "size" }));
+        if (plain > maxPlain)
+          return cb(
+            new HttpError(413, "too_large", "The request body is over the size limit once decompressed.", {
+              reason: "size",
+            }),
+          );
         cb(null, chunk);
       },
     });
@@ -198,7 +216,9 @@ function gzipBodyHandler(maxPlain: number) {
       meter.unpipe(busboy);
       busboy.destroy(err);
     };
-    gunzip.on("error", (err) => stop(new HttpError(400, "bad_upload", `The gzip-compressed body is damaged or cut short: ${err.message}.`)));
+    gunzip.on("error", (err) =>
+      stop(new HttpError(400, "bad_upload", `The gzip-compressed body is damaged or cut short: ${err.message}.`)),
+    );
     meter.on("error", stop);
     req.pipe(gunzip).pipe(meter).pipe(busboy);
   };
@@ -208,7 +228,11 @@ function gzipBodyHandler(maxPlain: number) {
  * One file in field `file` plus a few small text fields; everything else is refused by multer.
  * File names are read as UTF-8 (what browsers send, RFC 7578 section 4.2), not Latin-1.
  */
-export function singleFileUpload(opts: { tempDir: string; maxBytes: number; kind: "text" | "image" | "trace" }): RequestHandler {
+export function singleFileUpload(opts: {
+  tempDir: string;
+  maxBytes: number;
+  kind: "text" | "image" | "trace";
+}): RequestHandler {
   const storage =
     opts.kind === "trace"
       ? new HashingDiskStorage(opts.tempDir, TEXT_SNIFF_BYTES, traceSniffer)
@@ -230,7 +254,8 @@ export function singleFileUpload(opts: { tempDir: string; maxBytes: number; kind
 /** A failure while reading the trace's multipart body (runMiddleware has mapped malformed bodies): the size limit in words. */
 export function multipartFailure(err: unknown, limitText: string): unknown {
   const e = err as { name?: string; code?: string } | null;
-  if (e?.name === "MulterError" && e.code === "LIMIT_FILE_SIZE") return new HttpError(413, "too_large", `The file is over the ${limitText} limit.`);
+  if (e?.name === "MulterError" && e.code === "LIMIT_FILE_SIZE")
+    return new HttpError(413, "too_large", `The file is over the ${limitText} limit.`);
   return err;
 }
 
@@ -238,5 +263,11 @@ export function multipartFailure(err: unknown, limitText: string): unknown {
 export function uploadedFile(req: Request): StoredUpload | null {
   const f = req.file as (Express.Multer.File & { sha256?: string; detected?: string | null }) | undefined;
   if (!f || !f.path || !f.sha256) return null;
-  return { path: f.path, size: f.size, sha256: f.sha256, originalname: f.originalname ?? "", detected: f.detected ?? null };
+  return {
+    path: f.path,
+    size: f.size,
+    sha256: f.sha256,
+    originalname: f.originalname ?? "",
+    detected: f.detected ?? null,
+  };
 }

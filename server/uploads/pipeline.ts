@@ -17,7 +17,15 @@ import { HttpError } from "../http/errors";
 import type { CaptureSettings } from "../../shared/schemas/capture-settings";
 import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "../services/cases";
 import { cleanFileName } from "../services/photos";
-import { contentInFlight, holdFile, placeContentAddressed, relativeDataPath, removeStoredFile, storageLayout, type PlacedFile } from "../services/storage";
+import {
+  contentInFlight,
+  holdFile,
+  placeContentAddressed,
+  relativeDataPath,
+  removeStoredFile,
+  storageLayout,
+  type PlacedFile,
+} from "../services/storage";
 import { PoolFullError, runIngest, uploadPool, type WorkPool } from "./pool";
 import type { BodyEncoding, IngestRefusal, IngestResult } from "./ingest";
 import type { UploadTracker } from "./progress";
@@ -47,18 +55,30 @@ function refusalError(r: IngestRefusal): HttpError {
 function threadFault(err: unknown): HttpError | null {
   const e = err as { code?: string; name?: string } | null;
   if (e?.code === "ERR_WORKER_OUT_OF_MEMORY") {
-    return new HttpError(413, "too_large", "Reading this file needs more memory than one upload may use; export a shorter capture.", {
-      reason: "memory",
-    });
+    return new HttpError(
+      413,
+      "too_large",
+      "Reading this file needs more memory than one upload may use; export a shorter capture.",
+      {
+        reason: "memory",
+      },
+    );
   }
   if (e?.name === "AbortError" || e?.name === "TimeoutError") {
-    return new HttpError(413, "too_large", "Reading this file took longer than one upload may take; export a shorter capture.", { reason: "time" });
+    return new HttpError(
+      413,
+      "too_large",
+      "Reading this file took longer than one upload may take; export a shorter capture.",
+      { reason: "time" },
+    );
   }
   return null;
 }
 
 export function busyError(err: PoolFullError): HttpError {
-  return new HttpError(503, "busy", `The server is reading ${err.waiting} other captures; try again in a minute.`, { retryAfterS: 30 });
+  return new HttpError(503, "busy", `The server is reading ${err.waiting} other captures; try again in a minute.`, {
+    retryAfterS: 30,
+  });
 }
 
 function traceUsesContent(ctx: AppContext, sha256: string): boolean {
@@ -90,7 +110,11 @@ export async function ingestTrace(
     return row;
   } catch (err) {
     const http = err instanceof HttpError ? err : null;
-    tracker?.refused(http ? { code: http.code, message: http.message } : { code: "internal", message: "The server could not store this capture." });
+    tracker?.refused(
+      http
+        ? { code: http.code, message: http.message }
+        : { code: "internal", message: "The server could not store this capture." },
+    );
     throw err;
   }
 }
@@ -104,7 +128,10 @@ export interface PrereadCapture {
 /** The names the pass writes for trace `id`: its channel file and the compressed copy of a plain body. */
 export function passOutputs(ctx: AppContext, id: string): { dataTarget: string; copyTarget: string } {
   const layout = storageLayout(ctx.env.dataDir);
-  return { dataTarget: path.join(layout.tracesDir, `${id}.trace`), copyTarget: path.join(layout.tempDir, `${id}.gz.part`) };
+  return {
+    dataTarget: path.join(layout.tracesDir, `${id}.trace`),
+    copyTarget: path.join(layout.tempDir, `${id}.gz.part`),
+  };
 }
 
 async function runPipeline(
@@ -134,14 +161,23 @@ async function runPipeline(
       result = read
         ? await read.result()
         : await runIngest(
-        poolFor(ctx),
-        { source: capture.path, encoding: capture.encoding, tempDir: layout.tempDir, tracesDir: layout.tracesDir, traceId: id, settings, maxBytes: ctx.env.MAX_TRACE_BYTES },
-        {
-          onQueued: (position) => tracker?.queued(position),
-          onStart: () => tracker?.checking(0),
-          onProgress: (p) => (p.stage === "measuring" ? tracker?.measuring() : tracker?.checking(p.fraction ?? null)),
-        },
-      );
+            poolFor(ctx),
+            {
+              source: capture.path,
+              encoding: capture.encoding,
+              tempDir: layout.tempDir,
+              tracesDir: layout.tracesDir,
+              traceId: id,
+              settings,
+              maxBytes: ctx.env.MAX_TRACE_BYTES,
+            },
+            {
+              onQueued: (position) => tracker?.queued(position),
+              onStart: () => tracker?.checking(0),
+              onProgress: (p) =>
+                p.stage === "measuring" ? tracker?.measuring() : tracker?.checking(p.fraction ?? null),
+            },
+          );
     } catch (err) {
       if (err instanceof PoolFullError) throw busyError(err);
       throw threadFault(err) ?? err;
@@ -150,7 +186,8 @@ async function runPipeline(
     dataFile = result.dataFile;
     copy = result.original.isSource ? null : result.original.path;
     sha256 = result.sha256;
-    if (result.analysisError) ctx.logger.warn({ err: result.analysisError, traceId: id }, "trace analysis failed; stored without analysis");
+    if (result.analysisError)
+      ctx.logger.warn({ err: result.analysisError, traceId: id }, "trace analysis failed; stored without analysis");
     placed = await placeContentAddressed(layout, layout.originalsDir, result.original.path, sha256, ".gz");
     copy = null;
     const originalName = cleanFileName(capture.originalName, "trace.csv");
@@ -176,7 +213,13 @@ async function runPipeline(
       // The case may have moved on while the file was arriving and being read.
       assertCanAddTrace(actor, getCaseRow(tx, caseId) as CaseRow | undefined);
       tx.insert(trace).values(row).run();
-      recordCaseEvent(tx, { caseId, actorId: actor.id, type: "trace_added", at: now, data: { traceId: id, name, samples: row.samples } });
+      recordCaseEvent(tx, {
+        caseId,
+        actorId: actor.id,
+        type: "trace_added",
+        at: now,
+        data: { traceId: id, name, samples: row.samples },
+      });
       touchCase(tx, caseId, now);
     });
     committed = true;
@@ -186,7 +229,8 @@ async function runPipeline(
     if (!committed) {
       await fs.promises.rm(dataFile ?? dataTarget, { force: true }).catch(() => {});
       await fs.promises.rm(copy ?? copyTarget, { force: true }).catch(() => {});
-      if (placed && contentInFlight(placed.abs) <= 1 && !traceUsesContent(ctx, sha256)) await removeStoredFile(placed.abs);
+      if (placed && contentInFlight(placed.abs) <= 1 && !traceUsesContent(ctx, sha256))
+        await removeStoredFile(placed.abs);
     }
     placed?.release();
     for (const release of holds) release();

@@ -27,7 +27,10 @@ export async function follow(job: FollowJob): Promise<IngestResult> {
 }
 
 /** Measures a trace already stored (shared/analysis on the channel file). */
-export async function analyze(job: { dataFile: string; settings: Partial<CaptureSettings> }): Promise<Record<string, unknown>> {
+export async function analyze(job: {
+  dataFile: string;
+  settings: Partial<CaptureSettings>;
+}): Promise<Record<string, unknown>> {
   const trace = await readChannels(job.dataFile);
   return analyzeTrace(trace, job.settings) as unknown as Record<string, unknown>;
 }

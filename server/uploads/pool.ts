@@ -90,7 +90,13 @@ export class WorkPool {
   }
 
   stats(): PoolStats {
-    return { threads: this.threads, running: this.running, waiting: this.line.length, maxWaiting: this.maxWaiting, following: this.following };
+    return {
+      threads: this.threads,
+      running: this.running,
+      waiting: this.line.length,
+      maxWaiting: this.maxWaiting,
+      following: this.following,
+    };
   }
 
   /** Whether another upload may be read while it arrives. */
@@ -112,7 +118,9 @@ export class WorkPool {
   async run<R>(name: string, job: unknown, hooks: JobHooks = {}, transferList: MessagePort[] = []): Promise<R> {
     await this.admit(hooks);
     try {
-      const signal = hooks.signal ? AbortSignal.any([hooks.signal, AbortSignal.timeout(JOB_TIMEOUT_MS)]) : AbortSignal.timeout(JOB_TIMEOUT_MS);
+      const signal = hooks.signal
+        ? AbortSignal.any([hooks.signal, AbortSignal.timeout(JOB_TIMEOUT_MS)])
+        : AbortSignal.timeout(JOB_TIMEOUT_MS);
       return (await this.piscina.run(job, { name, transferList, signal })) as R;
     } finally {
       this.release();
@@ -175,7 +183,8 @@ let shared: WorkPool | null = null;
 
 /** The process's pool, made on first use with the first caller's sizes. */
 export function uploadPool(opts: { threads?: number; maxWaiting?: number } = {}): WorkPool {
-  if (!shared) shared = new WorkPool(opts.threads && opts.threads > 0 ? opts.threads : defaultThreads(), opts.maxWaiting ?? 32);
+  if (!shared)
+    shared = new WorkPool(opts.threads && opts.threads > 0 ? opts.threads : defaultThreads(), opts.maxWaiting ?? 32);
   return shared;
 }
 
@@ -203,7 +212,11 @@ export async function runIngest(
 }
 
 /** Measures a stored trace on the pool. */
-export function runAnalysis(pool: WorkPool, dataFile: string, settings: Partial<CaptureSettings>): Promise<Record<string, unknown>> {
+export function runAnalysis(
+  pool: WorkPool,
+  dataFile: string,
+  settings: Partial<CaptureSettings>,
+): Promise<Record<string, unknown>> {
   return pool.run("analyze", { dataFile, settings });
 }
 
@@ -219,7 +232,11 @@ export interface Follower {
   readonly result: Promise<IngestResult>;
 }
 
-export function startFollower(pool: WorkPool, job: Omit<IngestJob, "progress">, onProgress?: (p: IngestProgress) => void): Follower {
+export function startFollower(
+  pool: WorkPool,
+  job: Omit<IngestJob, "progress">,
+  onProgress?: (p: IngestProgress) => void,
+): Follower {
   const control = new MessageChannel();
   const progress = new MessageChannel();
   progress.port1.on("message", (m: IngestProgress) => onProgress?.(m));
@@ -232,7 +249,10 @@ export function startFollower(pool: WorkPool, job: Omit<IngestJob, "progress">, 
       /* the follower is gone */
     }
   };
-  const result = pool.follow<IngestResult>({ ...job, control: control.port2, progress: progress.port2 }, [control.port2, progress.port2]);
+  const result = pool.follow<IngestResult>({ ...job, control: control.port2, progress: progress.port2 }, [
+    control.port2,
+    progress.port2,
+  ]);
   void result.then(
     () => {
       control.port1.close();

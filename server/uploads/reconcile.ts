@@ -24,7 +24,13 @@ export interface ReconcileRemoval {
   /** relative to the data folder */
   path: string;
   bytes: number;
-  why: "temp file" | "abandoned upload" | "finished upload marker" | "unreferenced channel file" | "unreferenced original" | "unreferenced photo";
+  why:
+    | "temp file"
+    | "abandoned upload"
+    | "finished upload marker"
+    | "unreferenced channel file"
+    | "unreferenced original"
+    | "unreferenced photo";
 }
 
 export interface ReconcileOptions {
@@ -103,7 +109,13 @@ export async function reconcileDataFolder(ctx: AppContext, opts: ReconcileOption
   }
 
   // originals and photos no row references
-  const photos = new Set(ctx.db.select({ p: schema.photo.path }).from(schema.photo).all().map((p) => p.p));
+  const photos = new Set(
+    ctx.db
+      .select({ p: schema.photo.path })
+      .from(schema.photo)
+      .all()
+      .map((p) => p.p),
+  );
   for (const [root, keep, why] of [
     [layout.originalsDir, originals, "unreferenced original"],
     [layout.photosDir, photos, "unreferenced photo"],
@@ -122,7 +134,10 @@ export async function reconcileDataFolder(ctx: AppContext, opts: ReconcileOption
 
   if (removed.length) {
     const bytes = removed.reduce((n, r) => n + r.bytes, 0);
-    ctx.logger.info({ removed, bytes }, `data folder reconciled: removed ${removed.length} leftover file(s), ${bytes} bytes`);
+    ctx.logger.info(
+      { removed, bytes },
+      `data folder reconciled: removed ${removed.length} leftover file(s), ${bytes} bytes`,
+    );
   } else {
     ctx.logger.debug("data folder reconciled: nothing to remove");
   }

@@ -18,7 +18,11 @@ export function runMiddleware(mw: RequestHandler, req: Request, res: Response): 
 function malformedAsBadUpload(err: unknown): unknown {
   const e = err as { name?: string; syscall?: string; message?: string } | null;
   if (err instanceof HttpError || e?.name === "MulterError" || e?.syscall) return err;
-  return new HttpError(400, "bad_upload", `The multipart body could not be read (${e?.message ?? "malformed"}). Send multipart/form-data with a file field "file".`);
+  return new HttpError(
+    400,
+    "bad_upload",
+    `The multipart body could not be read (${e?.message ?? "malformed"}). Send multipart/form-data with a file field "file".`,
+  );
 }
 
 /** Removes the request's temp upload if it is still there (after a refusal, a failure, or a move). */

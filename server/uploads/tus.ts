@@ -28,30 +28,15 @@ import { noteNewMaterial } from "../services/queue";
 import { getTraceRow, presentTrace } from "../services/traces";
 import { storageLayout } from "../services/storage";
 import { RESUMABLE_UPLOAD_PATH, uploadMetadataSchema, type UploadMetadata } from "../../shared/schemas/uploads";
-import { holdFile } from "../services/storage";
-import { ingestTrace, passOutputs, poolFor } from "./pipeline";
-import { runIngest, startFollower, type Follower } from "./pool";
-import type { IngestRefusal, IngestResult } from "./ingest";
+import { ingestTrace } from "./pipeline";
+import type { IngestRefusal } from "./ingest";
+import { Followers } from "./followers";
 import { trackUpload, uploadTracker, type UploadTracker } from "./progress";
 
 const ID = /^[0-9a-f]{32}$/;
 const ACTOR = Symbol("uploadActor");
-/** A follower whose upload has not grown for this long is stopped (the upload is read at its end instead). */
-const FOLLOW_IDLE_MS = 5 * 60_000;
 /** How long a refusal found while the upload arrived is remembered for its sender. */
 const REFUSAL_KEEP_MS = 60 * 60_000;
-
-/** An upload being read by a pool thread while it arrives. */
-interface Following {
-  traceId: string;
-  follower: Follower;
-  lastGrowth: number;
-  /** a refusal found before the last byte */
-  refusal?: IngestRefusal;
-  /** the follower stopped without a result (aborted, its thread died): read the file at the end */
-  failed?: boolean;
-  release(): void;
-}
 
 /** The upload info the file store keeps beside each upload (`<id>.json`), with our marker. */
 export interface StoredUploadInfo {
@@ -68,7 +53,12 @@ type TusError = { status_code: number; body: string };
 
 /** An HttpError as tus throws it: the status and the API's JSON error body. */
 function tusError(err: HttpError): TusError {
-  return { status_code: err.status, body: JSON.stringify({ error: { code: err.code, message: err.message, ...(err.details !== undefined ? { details: err.details } : {}) } }) };
+  return {
+    status_code: err.status,
+    body: JSON.stringify({
+      error: { code: err.code, message: err.message, ...(err.details !== undefined ? { details: err.details } : {}) },
+    }),
+  };
 }
 
 function nodeReq(req: { runtime?: { node?: { req: IncomingMessage } } }): IncomingMessage & { [ACTOR]?: Actor } {
@@ -97,7 +87,13 @@ class CaptureStore extends FileStore {
   async getUpload(id: string): Promise<Upload> {
     const info = await this.info(id);
     if (info && (info.done || this.busy.has(id)) && info.size !== undefined) {
-      return new Upload({ id, size: info.size, offset: info.size, metadata: info.metadata as Upload["metadata"], creation_date: info.creation_date });
+      return new Upload({
+        id,
+        size: info.size,
+        offset: info.size,
+        metadata: info.metadata as Upload["metadata"],
+        creation_date: info.creation_date,
+      });
     }
     return super.getUpload(id);
   }
@@ -111,7 +107,11 @@ class CaptureStore extends FileStore {
   async markDone(id: string, traceId: string, at: Date): Promise<void> {
     const info = await this.info(id);
     if (!info) return;
-    await this.configstore.set(id, { ...info, offset: info.size ?? info.offset, done: { traceId, at: at.toISOString() } } as never);
+    await this.configstore.set(id, {
+      ...info,
+      offset: info.size ?? info.offset,
+      done: { traceId, at: at.toISOString() },
+    } as never);
     await fs.promises.rm(path.join(this.directory, id), { force: true });
   }
 }
@@ -124,13 +124,18 @@ export interface ResumableUploads {
   store: CaptureStore;
 }
 
-function metadataOf(info: { metadata?: Record<string, string | null> | null }): UploadMetadata & { uploaderId: string; uploaderName: string } {
+function metadataOf(info: {
+  metadata?: Record<string, string | null> | null;
+}): UploadMetadata & { uploaderId: string; uploaderName: string } {
   const m = (info.metadata ?? {}) as Record<string, string>;
   const parsed = uploadMetadataSchema.parse(m);
   return { ...parsed, uploaderId: m.uploaderId, uploaderName: m.uploaderName };
 }
 
-function trackerFor(ctx: AppContext, upload: { id: string; size?: number; offset?: number; metadata?: Record<string, string | null> | null }): UploadTracker {
+function trackerFor(
+  ctx: AppContext,
+  upload: { id: string; size?: number; offset?: number; metadata?: Record<string, string | null> | null },
+): UploadTracker {
   const existing = uploadTracker(upload.id);
   if (existing) return existing;
   const m = metadataOf(upload);
@@ -146,159 +151,246 @@ function trackerFor(ctx: AppContext, upload: { id: string; size?: number; offset
   });
 }
 
-export function createResumableUploads(ctx: AppContext): ResumableUploads {
-  const layout = storageLayout(ctx.env.dataDir);
-  fs.mkdirSync(layout.tusDir, { recursive: true });
-  const expiryMs = ctx.env.UPLOAD_EXPIRY_HOURS * 3600_000;
-  const store = new CaptureStore({ directory: layout.tusDir, expirationPeriodInMilliseconds: expiryMs });
-  const finishing = new Map<string, Promise<{ status_code: number; headers: Record<string, string>; body: string }>>();
+type FinishAnswer = { status_code: number; headers: Record<string, string>; body: string };
+
+const refusalError = (r: IngestRefusal) => new HttpError(r.status, r.code, r.message, r.details);
+
+/** The rules of the resumable uploads around the protocol handler (its hooks and events). */
+class ResumableUploadService {
+  readonly store: CaptureStore;
+  private readonly layout;
+  private readonly finishing = new Map<string, Promise<FinishAnswer>>();
+  private readonly refused = new Map<string, { uploaderId: string; refusal: IngestRefusal }>();
+  readonly followers: Followers;
+
+  constructor(private readonly ctx: AppContext) {
+    this.layout = storageLayout(ctx.env.dataDir);
+    fs.mkdirSync(this.layout.tusDir, { recursive: true });
+    const expiryMs = ctx.env.UPLOAD_EXPIRY_HOURS * 3600_000;
+    this.store = new CaptureStore({ directory: this.layout.tusDir, expirationPeriodInMilliseconds: expiryMs });
+    this.followers = new Followers(
+      ctx,
+      (id) => this.store.busy.has(id),
+      (id, refusal) => this.refuseEarly(id, refusal),
+    );
+  }
 
   /** 404 unless the upload exists and this actor created it. */
-  async function ownUpload(id: string, actor: Actor): Promise<StoredUploadInfo> {
-    const info = ID.test(id) ? await store.info(id) : undefined;
-    if (!info || info.metadata?.uploaderId !== actor.id) throw tusError(new HttpError(404, "not_found", "Upload not found."));
+  private async ownUpload(id: string, actor: Actor): Promise<StoredUploadInfo> {
+    const info = ID.test(id) ? await this.store.info(id) : undefined;
+    if (!info || info.metadata?.uploaderId !== actor.id)
+      throw tusError(new HttpError(404, "not_found", "Upload not found."));
     return info;
   }
 
-  const following = new Map<string, Following>();
-  const refused = new Map<string, { uploaderId: string; refusal: IngestRefusal }>();
+  async info(id: string, actor: Actor): Promise<StoredUploadInfo | undefined> {
+    const info = ID.test(id) ? await this.store.info(id) : undefined;
+    return info && info.metadata?.uploaderId === actor.id ? info : undefined;
+  }
 
-  /** Starts reading a new upload while it arrives (when a pool thread has room for it). */
-  function follow(upload: Upload): void {
-    const pool = poolFor(ctx);
-    if (!pool.canFollow() || following.has(upload.id)) return;
+  /** A refusal found before the last byte: told to the sender's next request; nothing is kept. */
+  private refuseEarly(id: string, refusal: IngestRefusal): void {
+    void this.store.info(id).then((info) => {
+      const uploaderId = String(info?.metadata?.uploaderId ?? "");
+      this.refused.set(id, { uploaderId, refusal });
+      setTimeout(() => this.refused.delete(id), REFUSAL_KEEP_MS).unref();
+      uploadTracker(id)?.refused({ code: refusal.code, message: refusal.message });
+      void this.store.remove(id).catch(() => {});
+    });
+  }
+
+  private refusalFor(id: string, actor: Actor): IngestRefusal | undefined {
+    const r = this.refused.get(id);
+    return r && r.uploaderId === actor.id ? r.refusal : undefined;
+  }
+
+  follow(upload: Pick<Upload, "id" | "metadata">): void {
+    if (this.refused.has(upload.id)) return;
     const m = metadataOf(upload);
-    const traceId = crypto.randomUUID();
-    const out = passOutputs(ctx, traceId);
-    const holds = [holdFile(out.dataTarget), holdFile(out.copyTarget)];
-    const follower = startFollower(
-      pool,
-      { source: path.join(layout.tusDir, upload.id), encoding: m.encoding ?? "auto", tempDir: layout.tempDir, tracesDir: layout.tracesDir, traceId, settings: m.settings, maxBytes: ctx.env.MAX_TRACE_BYTES },
-      (p) => (p.stage === "measuring" ? uploadTracker(upload.id)?.measuring() : undefined),
-    );
-    const entry: Following = { traceId, follower, lastGrowth: Date.now(), release: () => holds.forEach((r) => r()) };
-    following.set(upload.id, entry);
-    follower.result.then(
-      (r) => {
-        if (r.ok || store.busy.has(upload.id)) return;
-        // refused before the last byte: say so now, and keep nothing of it
-        entry.refusal = r.refusal;
-        following.delete(upload.id);
-        entry.release();
-        refused.set(upload.id, { uploaderId: m.uploaderId, refusal: r.refusal });
-        setTimeout(() => refused.delete(upload.id), REFUSAL_KEEP_MS).unref();
-        uploadTracker(upload.id)?.refused({ code: r.refusal.code, message: r.refusal.message });
-        void store.remove(upload.id).catch(() => {});
-      },
-      () => {
-        entry.failed = true;
-        if (!store.busy.has(upload.id)) {
-          following.delete(upload.id);
-          entry.release();
-        }
-      },
-    );
+    this.followers.start({ id: upload.id, encoding: m.encoding, settings: m.settings }, () => uploadTracker(upload.id));
   }
 
-  function grew(id: string, bytes: number): void {
-    const f = following.get(id);
-    if (!f) return;
-    f.lastGrowth = Date.now();
-    f.follower.grow(bytes);
-  }
-
-  function unfollow(id: string): void {
-    const f = following.get(id);
-    if (!f) return;
-    following.delete(id);
-    f.follower.abort();
-    f.release();
-  }
-
-  const idleSweep = setInterval(() => {
-    for (const [id, f] of following) if (!store.busy.has(id) && Date.now() - f.lastGrowth > FOLLOW_IDLE_MS) unfollow(id);
-  }, 60_000);
-  idleSweep.unref();
-
-  /** The pass's result: the follower's when it read the upload as it came, else a read of the file now. */
-  function readFor(upload: Upload, m: ReturnType<typeof metadataOf>, tracker: UploadTracker) {
-    const entry = following.get(upload.id);
-    if (!entry || entry.failed) return undefined;
-    return {
-      traceId: entry.traceId,
-      result: async (): Promise<IngestResult> => {
-        tracker.checking(null);
-        try {
-          return await entry.follower.end(upload.size ?? 0);
-        } catch {
-          // the follower stopped (its thread died): read the whole file after all
-          const out = passOutputs(ctx, entry.traceId);
-          await fs.promises.rm(out.dataTarget, { force: true });
-          await fs.promises.rm(out.copyTarget, { force: true });
-          return runIngest(
-            poolFor(ctx),
-            { source: path.join(layout.tusDir, upload.id), encoding: m.encoding ?? "auto", tempDir: layout.tempDir, tracesDir: layout.tracesDir, traceId: entry.traceId, settings: m.settings, maxBytes: ctx.env.MAX_TRACE_BYTES },
-            { onQueued: (p) => tracker.queued(p), onStart: () => tracker.checking(0), onProgress: (p) => (p.stage === "measuring" ? tracker.measuring() : tracker.checking(p.fraction ?? null)) },
-          );
-        }
-      },
-    };
-  }
-
-  async function finish(upload: Upload, actor: Actor) {
+  private async finish(upload: Upload, actor: Actor): Promise<FinishAnswer> {
     const m = metadataOf(upload);
-    const tracker = trackerFor(ctx, upload);
-    const source = path.join(layout.tusDir, upload.id);
-    store.busy.add(upload.id);
-    const read = readFor(upload, m, tracker);
+    const tracker = trackerFor(this.ctx, upload);
+    const source = path.join(this.layout.tusDir, upload.id);
+    this.store.busy.add(upload.id);
+    const preread = this.followers.preread(
+      { id: upload.id, encoding: m.encoding, settings: m.settings },
+      upload.size ?? 0,
+      tracker,
+    );
     try {
       const row = await ingestTrace(
-        ctx,
+        this.ctx,
         actor,
         m.caseId,
         { path: source, encoding: m.encoding ?? "auto", originalName: m.filename },
         { settings: m.settings, name: m.name },
         tracker,
-        read,
+        preread,
       );
-      await store.markDone(upload.id, row.id, ctx.now());
-      await noteNewMaterial(ctx, m.caseId, actor.id);
-      return { status_code: 200, headers: { "Content-Type": "application/json" }, body: JSON.stringify({ trace: presentTrace(row) }) };
+      await this.store.markDone(upload.id, row.id, this.ctx.now());
+      await noteNewMaterial(this.ctx, m.caseId, actor.id);
+      return {
+        status_code: 200,
+        headers: { "Content-Type": "application/json" },
+        body: JSON.stringify({ trace: presentTrace(row) }),
+      };
     } catch (err) {
-      store.busy.delete(upload.id);
+      this.store.busy.delete(upload.id);
       if (err instanceof HttpError) {
         // a refused capture leaves nothing behind: the upload goes with it
-        await store.remove(upload.id).catch(() => {});
+        await this.store.remove(upload.id).catch(() => {});
         throw tusError(err);
       }
-      ctx.logger.error({ err, uploadId: upload.id }, "resumable upload could not be stored");
+      this.ctx.logger.error({ err, uploadId: upload.id }, "resumable upload could not be stored");
       throw tusError(new HttpError(500, "internal", "The server could not store this capture. Try again."));
     } finally {
-      store.busy.delete(upload.id);
-      const f = following.get(upload.id);
-      if (f) {
-        following.delete(upload.id);
-        f.release();
-      }
+      this.store.busy.delete(upload.id);
+      this.followers.done(upload.id);
     }
   }
 
   /** Reads a complete upload once, whoever asks first (its last PATCH, or a HEAD after a restart). */
-  function startFinish(upload: Upload, actor: Actor) {
-    let p = finishing.get(upload.id);
+  startFinish(upload: Upload, actor: Actor): Promise<FinishAnswer> {
+    let p = this.finishing.get(upload.id);
     if (p) return p;
-    p = finish(upload, actor);
-    finishing.set(upload.id, p);
+    p = this.finish(upload, actor);
+    this.finishing.set(upload.id, p);
     void p.then(
-      () => finishing.delete(upload.id),
-      () => finishing.delete(upload.id),
+      () => this.finishing.delete(upload.id),
+      () => this.finishing.delete(upload.id),
     );
     return p;
   }
 
+  async onIncomingRequest(req: object & { method: string }, id: string): Promise<void> {
+    const actor = actorOf(req);
+    if (req.method === "POST") return;
+    const refusal = this.refusalFor(id, actor);
+    if (refusal) throw tusError(refusalError(refusal));
+    const info = await this.ownUpload(id, actor);
+    if (req.method === "PATCH" && !info.done) {
+      // the case may have been submitted or withdrawn since: stop taking bytes for it
+      try {
+        assertCanAddTrace(actor, getCaseRow(this.ctx.db, String(info.metadata?.caseId)));
+      } catch (err) {
+        if (err instanceof HttpError) throw tusError(err);
+        throw err;
+      }
+    }
+    if (req.method === "HEAD" && !info.done && !this.store.busy.has(id) && !this.finishing.has(id))
+      await this.onResume(info, actor);
+  }
+
+  /** A sender asks where to continue (tus HEAD). */
+  private async onResume(info: StoredUploadInfo, actor: Actor): Promise<void> {
+    const id = info.id;
+    const offset = await fs.promises.stat(path.join(this.layout.tusDir, id)).then(
+      (s) => s.size,
+      () => 0,
+    );
+    const upload = new Upload({
+      id,
+      size: info.size,
+      offset,
+      metadata: info.metadata as Upload["metadata"],
+      creation_date: info.creation_date,
+    });
+    if (info.size !== undefined && offset === info.size) {
+      // every byte is in but it was never read (the server stopped while reading it): read it now
+      void this.startFinish(upload, actor).catch(() => {});
+      return;
+    }
+    const t = trackerFor(this.ctx, info);
+    if (offset > 0 || t.stage === "interrupted") t.resuming(offset);
+    // a follower lost (a restart): begin one now and tell it what is already there
+    if (!this.followers.has(id)) {
+      this.follow(upload);
+      this.followers.grew(id, offset);
+    }
+  }
+
+  async onUploadCreate(req: object, upload: Upload): Promise<{ metadata: Record<string, string> }> {
+    const actor = actorOf(req);
+    try {
+      const m = parseWith(uploadMetadataSchema, upload.metadata ?? {}, "upload metadata");
+      assertCanAddTrace(actor, getCaseRow(this.ctx.db, m.caseId));
+      const limit = this.ctx.env.MAX_TRACE_BYTES;
+      if (m.fileBytes !== undefined && m.fileBytes > limit) {
+        throw new HttpError(413, "too_large", `The file is over the ${Math.round(limit / 1048576)} MB limit.`);
+      }
+      const metadata: Record<string, string> = {};
+      for (const [k, v] of Object.entries(upload.metadata ?? {})) {
+        if (v != null && k in uploadMetadataSchema.shape) metadata[k] = v;
+      }
+      metadata.uploaderId = actor.id;
+      metadata.uploaderName = actor.name;
+      return { metadata };
+    } catch (err) {
+      if (err instanceof HttpError) throw tusError(err);
+      throw err;
+    }
+  }
+
+  async onUploadFinish(req: object, upload: Upload): Promise<FinishAnswer> {
+    const actor = actorOf(req);
+    const refusal = this.refusalFor(upload.id, actor);
+    if (refusal) throw tusError(refusalError(refusal));
+    if (!this.finishing.has(upload.id)) {
+      const info = await this.store.info(upload.id);
+      if (info?.done) {
+        // the same answer again for a sender that lost the first one
+        const row = getTraceRow(this.ctx, info.done.traceId);
+        const body = JSON.stringify(row ? { trace: presentTrace(row) } : { trace: null });
+        return { status_code: 200, headers: { "Content-Type": "application/json" }, body };
+      }
+    }
+    return this.startFinish(upload, actor);
+  }
+
+  /** Before the protocol handler sees a PATCH: the repeated length, and a drop noticed as it happens. */
+  beforePatch(req: ExpressRequest, id: string): void {
+    const started = Date.now();
+    req.once("close", () => {
+      // the link dropped part-way through this piece
+      if (!req.complete && Date.now() - started > 0) uploadTracker(id)?.interrupted();
+    });
+  }
+
+  /**
+   * A client resuming a deferred-length upload declares the length again with its last piece (it
+   * cannot know an interrupted piece already did): the same value changes nothing, so it is dropped.
+   */
+  async dropRepeatedLength(req: ExpressRequest, id: string): Promise<void> {
+    const declared = req.headers["upload-length"];
+    if (typeof declared !== "string" || !ID.test(id)) return;
+    const info = await this.store.info(id);
+    if (info?.size === undefined || String(info.size) !== declared.trim()) return;
+    delete req.headers["upload-length"];
+    // the protocol handler reads the raw header list too
+    for (let i = req.rawHeaders.length - 2; i >= 0; i -= 2) {
+      if (req.rawHeaders[i].toLowerCase() === "upload-length") req.rawHeaders.splice(i, 2);
+    }
+  }
+
+  /** After a PATCH: whatever it brought is on disk now, and the follower may read up to there. */
+  async afterPatch(id: string): Promise<void> {
+    if (!ID.test(id)) return;
+    const size = await fs.promises.stat(path.join(this.layout.tusDir, id)).then(
+      (x) => x.size,
+      () => null,
+    );
+    if (size !== null) this.followers.grew(id, size);
+  }
+}
+
+export function createResumableUploads(ctx: AppContext): ResumableUploads {
+  const service = new ResumableUploadService(ctx);
   const tus = new Server({
     path: RESUMABLE_UPLOAD_PATH,
-    datastore: store,
+    datastore: service.store,
     maxSize: ctx.env.MAX_TRACE_BYTES + 64 * 1024,
     relativeLocation: true,
     allowedOrigins: [],
@@ -307,135 +399,44 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
     namingFunction: () => crypto.randomUUID().replace(/-/g, ""),
     getFileIdFromRequest: (_req, lastPath) => (lastPath && ID.test(lastPath) ? lastPath : undefined),
     locker: new MemoryLocker(), // one server process per data folder
-
-    async onIncomingRequest(req, id) {
-      const actor = actorOf(req);
-      if (req.method === "POST") return;
-      const r = refused.get(id);
-      if (r && r.uploaderId === actor.id) throw tusError(new HttpError(r.refusal.status, r.refusal.code, r.refusal.message, r.refusal.details));
-      const info = await ownUpload(id, actor);
-      if (req.method === "PATCH" && !info.done) {
-        // the case may have been submitted or withdrawn since: stop taking bytes for it
-        try {
-          assertCanAddTrace(actor, getCaseRow(ctx.db, String(info.metadata?.caseId)));
-        } catch (err) {
-          if (err instanceof HttpError) throw tusError(err);
-          throw err;
-        }
-      }
-      if (req.method === "HEAD" && !info.done && !store.busy.has(id) && !finishing.has(id)) {
-        const offset = await fs.promises.stat(path.join(layout.tusDir, id)).then((s) => s.size, () => 0);
-        const upload = new Upload({ id, size: info.size, offset, metadata: info.metadata as Upload["metadata"], creation_date: info.creation_date });
-        if (info.size !== undefined && offset === info.size) {
-          // every byte is in but it was never read (the server stopped while reading it): read it now
-          startFinish(upload, actor);
-          return;
-        }
-        const t = trackerFor(ctx, info);
-        if (offset > 0 || t.stage === "interrupted") t.resuming(offset);
-        // a follower lost (a restart): begin one now and tell it what is already there
-        if (!following.has(id) && !refused.has(id)) {
-          follow(upload);
-          grew(id, offset);
-        }
-      }
-    },
-
-    async onUploadCreate(req, upload) {
-      const actor = actorOf(req);
-      try {
-        const m = parseWith(uploadMetadataSchema, upload.metadata ?? {}, "upload metadata");
-        assertCanAddTrace(actor, getCaseRow(ctx.db, m.caseId));
-        if (m.fileBytes !== undefined && m.fileBytes > ctx.env.MAX_TRACE_BYTES) {
-          throw new HttpError(413, "too_large", `The file is over the ${Math.round(ctx.env.MAX_TRACE_BYTES / 1048576)} MB limit.`);
-        }
-        const metadata: Record<string, string> = {};
-        for (const [k, v] of Object.entries(upload.metadata ?? {})) if (v != null && k in uploadMetadataSchema.shape) metadata[k] = v;
-        metadata.uploaderId = actor.id;
-        metadata.uploaderName = actor.name;
-        return { metadata };
-      } catch (err) {
-        if (err instanceof HttpError) throw tusError(err);
-        throw err;
-      }
-    },
-
-    async onUploadFinish(req, upload) {
-      const actor = actorOf(req);
-      const r = refused.get(upload.id);
-      if (r) throw tusError(new HttpError(r.refusal.status, r.refusal.code, r.refusal.message, r.refusal.details));
-      let p = finishing.get(upload.id);
-      if (!p) {
-        const info = await store.info(upload.id);
-        if (info?.done) {
-          const row = getTraceRow(ctx, info.done.traceId);
-          const body = JSON.stringify(row ? { trace: presentTrace(row) } : { trace: null });
-          return { status_code: 200, headers: { "Content-Type": "application/json" }, body };
-        }
-        p = startFinish(upload, actor);
-      }
-      return p;
-    },
-
+    onIncomingRequest: (req, id) => service.onIncomingRequest(req, id),
+    onUploadCreate: (req, upload) => service.onUploadCreate(req, upload),
+    onUploadFinish: (req, upload) => service.onUploadFinish(req, upload),
     onResponseError(_req, err) {
       const e = err as { status_code?: number; body?: string };
-      if (typeof e.status_code === "number" && typeof e.body === "string") return undefined;
-      ctx.logger.error({ err }, "resumable upload request failed");
+      if (typeof e.status_code !== "number" || typeof e.body !== "string")
+        ctx.logger.error({ err }, "resumable upload request failed");
       return undefined;
     },
   });
 
   tus.on(EVENTS.POST_CREATE, (_req, upload: Upload) => {
     trackerFor(ctx, upload).received(0);
-    follow(upload);
+    service.follow(upload);
   });
   tus.on(EVENTS.POST_RECEIVE, (_req, upload: Upload) => {
     const t = trackerFor(ctx, upload);
     if (upload.size !== undefined) t.declareTotal(upload.size);
     t.received(upload.offset);
-    grew(upload.id, upload.offset);
+    service.followers.grew(upload.id, upload.offset);
   });
   tus.on(EVENTS.POST_TERMINATE, (_req, _res, id: string) => {
-    unfollow(id);
+    service.followers.stop(id);
     uploadTracker(id)?.cancelled();
   });
 
   return {
-    store,
-    async info(id, actor) {
-      const info = ID.test(id) ? await store.info(id) : undefined;
-      return info && info.metadata?.uploaderId === actor.id ? info : undefined;
-    },
+    store: service.store,
+    info: (id, actor) => service.info(id, actor),
     async handle(req, res, actor) {
       (req as unknown as { [ACTOR]: Actor })[ACTOR] = actor;
+      const id = path.basename(req.path);
       if (req.method === "PATCH") {
-        const id = path.basename(req.path);
-        const started = Date.now();
-        // A client resuming a deferred-length upload declares the length again with its last
-        // piece (it cannot know an interrupted piece already did): the same value changes nothing.
-        const declared = req.headers["upload-length"];
-        if (typeof declared === "string" && ID.test(id)) {
-          const info = await store.info(id);
-          if (info?.size !== undefined && String(info.size) === declared.trim()) {
-            delete req.headers["upload-length"];
-            // the protocol handler reads the raw header list too
-            for (let i = req.rawHeaders.length - 2; i >= 0; i -= 2) if (req.rawHeaders[i].toLowerCase() === "upload-length") req.rawHeaders.splice(i, 2);
-          }
-        }
-        req.once("close", () => {
-          // the link dropped part-way through this piece
-          if (!req.complete && Date.now() - started > 0) uploadTracker(id)?.interrupted();
-        });
+        service.beforePatch(req, id);
+        await service.dropRepeatedLength(req, id);
       }
       await tus.handle(req, res);
-      if (req.method === "PATCH") {
-        // whatever this piece brought is on disk now: the follower may read up to there
-        const id = path.basename(req.path);
-        if (ID.test(id)) {
-          const size = await fs.promises.stat(path.join(layout.tusDir, id)).then((x) => x.size, () => null);
-          if (size !== null) grew(id, size);
-        }
-      }
+      if (req.method === "PATCH") await service.afterPatch(id);
     },
   };
 }

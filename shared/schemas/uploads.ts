@@ -16,7 +16,10 @@ export type UploadEncoding = (typeof uploadEncodings)[number];
 export const uploadMetadataSchema = z.object({
   caseId: z.string({ error: "Name the case (caseId)." }).trim().min(1, { error: "Name the case (caseId)." }).max(64),
   /** the file's name on the tech's device */
-  filename: z.string({ error: "Give the file's name (filename)." }).min(1, { error: "Give the file's name (filename)." }).max(255),
+  filename: z
+    .string({ error: "Give the file's name (filename)." })
+    .min(1, { error: "Give the file's name (filename)." })
+    .max(255),
   settings: settingsFieldSchema,
   /** a name for the trace; defaults to the file's name */
   name: z.string().trim().max(120, { error: "The name is too long (at most 120 characters)." }).optional(),

@@ -8,7 +8,16 @@ import { schema } from "../../server/db/client";
 import { createExpert, createShopTeam, signIn } from "../factories";
 import { FACTORY_PASSWORD } from "../factories/users";
 import { generateSecondary, renderCsv } from "../generators";
-import { launchBrowser, screenshotDir, shot, signInThroughPage, startE2EServer, watchErrors, type E2EServer, type LaunchedBrowser } from "./helpers/browser";
+import {
+  launchBrowser,
+  screenshotDir,
+  shot,
+  signInThroughPage,
+  startE2EServer,
+  watchErrors,
+  type E2EServer,
+  type LaunchedBrowser,
+} from "./helpers/browser";
 import { LinkProxy } from "./helpers/link-proxy";
 
 /**
@@ -47,9 +56,19 @@ async function claimedCase() {
   const team = await createShopTeam(server, { technician: { name: "Jordan Keane" } });
   const e = await createExpert(server, { name: "Quinn Haddad" });
   const api = await signIn(server, team.technicians[0]);
-  const created = await api.post("/api/cases").send({ vehicle: { make: "Veltra", model: "Sorrel", year: 2019 }, complaint: "Misfire when warm", system: "ignition" });
+  const created = await api
+    .post("/api/cases")
+    .send({
+      vehicle: { make: "Veltra", model: "Sorrel", year: 2019 },
+      complaint: "Misfire when warm",
+      system: "ignition",
+    });
   const caseId = created.body.id as string;
-  server.ctx.db.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
+  server.ctx.db
+    .update(schema.caseTable)
+    .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
+    .where(eq(schema.caseTable.id, caseId))
+    .run();
   const techCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
   watchErrors(techCtx, errors, "tech");
   const tech = await techCtx.newPage();
@@ -61,7 +80,12 @@ async function claimedCase() {
 
 /** A smaller capture file (`seconds` at 1 MS/s) for the queue and reload cases. */
 function smallCapture(name: string, seconds: number, seed: number): { file: string; samples: number } {
-  const g = generateSecondary({ seed, sampleRateHz: 1e6, durationS: seconds, events: Math.max(1, Math.floor(seconds / 0.16)) });
+  const g = generateSecondary({
+    seed,
+    sampleRateHz: 1e6,
+    durationS: seconds,
+    events: Math.max(1, Math.floor(seconds / 0.16)),
+  });
   const f = path.join(fileDir, name);
   fs.writeFileSync(f, renderCsv(g.trace, { digits: 5 }));
   return { file: f, samples: g.trace.samples };
@@ -90,9 +114,19 @@ describe("a large capture over a link that drops", () => {
     const team = await createShopTeam(server, { technician: { name: "Robin Marsh" } });
     const e = await createExpert(server, { name: "Sam Okafor" });
     const api = await signIn(server, team.technicians[0]);
-    const created = await api.post("/api/cases").send({ vehicle: { make: "Veltra", model: "Sorrel", year: 2019 }, complaint: "Misfire when warm", system: "ignition" });
+    const created = await api
+      .post("/api/cases")
+      .send({
+        vehicle: { make: "Veltra", model: "Sorrel", year: 2019 },
+        complaint: "Misfire when warm",
+        system: "ignition",
+      });
     const caseId = created.body.id as string;
-    server.ctx.db.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
+    server.ctx.db
+      .update(schema.caseTable)
+      .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
+      .where(eq(schema.caseTable.id, caseId))
+      .run();
 
     const techCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
     const expCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
@@ -111,7 +145,9 @@ describe("a large capture over a link that drops", () => {
     // choose the file; the preview reads its start; the settings are the tech's
     const adder = tech.getByRole("region", { name: "Add traces" });
     await adder.locator('input[type="file"]').setInputFiles(file);
-    const card = adder.getByRole("list", { name: "Traces to upload" }).getByRole("listitem", { name: "coil 3 idle.csv" });
+    const card = adder
+      .getByRole("list", { name: "Traces to upload" })
+      .getByRole("listitem", { name: "coil 3 idle.csv" });
     await card.getByText("Ready to upload").waitFor({ timeout: 30_000 });
     await card.getByRole("combobox", { name: "Kind of capture" }).selectOption({ label: "Secondary ignition" });
     await card.getByRole("textbox", { name: /^Vertical \(V\/div\)/ }).fill("0.2");
@@ -155,7 +191,9 @@ describe("a large capture over a link that drops", () => {
     expect(link.forwarded).toBeLessThan(compressed * 1.1 + 256 * 1024);
 
     // the expert's screen shows the trace (the case refetched on case:updated)
-    await live(expert).getByText(/No traces on this case yet/).waitFor({ state: "detached", timeout: 30_000 });
+    await live(expert)
+      .getByText(/No traces on this case yet/)
+      .waitFor({ state: "detached", timeout: 30_000 });
     await expert.getByRole("article", { name: /coil 3 idle\.csv/ }).waitFor({ timeout: 30_000 });
     await shot(expert, SHOTS, "05-expert-sees-the-trace");
     // the cut also drops the tech's live socket: Chromium logs its failed reconnections, nothing else
@@ -177,8 +215,14 @@ describe("a large capture over a link that drops", () => {
     await adder.getByRole("button", { name: "Upload all 2 traces" }).click();
     const first = list.getByRole("listitem", { name: "cyl 1.csv" });
     const second = list.getByRole("listitem", { name: "cyl 2.csv" });
-    await first.getByTestId("upload-progress").getByText(/No connection/).waitFor({ timeout: 20_000 });
-    await second.getByText(/Waiting its turn/).first().waitFor();
+    await first
+      .getByTestId("upload-progress")
+      .getByText(/No connection/)
+      .waitFor({ timeout: 20_000 });
+    await second
+      .getByText(/Waiting its turn/)
+      .first()
+      .waitFor();
     await shot(tech, SHOTS, "06-offline-waiting", { viewport: true });
     await techCtx.setOffline(false);
     await first.getByText(/^Uploaded/).waitFor({ timeout: 60_000 });
@@ -194,15 +238,26 @@ describe("a large capture over a link that drops", () => {
     const { caseId, techCtx, tech } = await claimedCase();
     const adder = tech.getByRole("region", { name: "Add traces" });
     await adder.locator('input[type="file"]').setInputFiles(c.file);
-    const card = adder.getByRole("list", { name: "Traces to upload" }).getByRole("listitem", { name: "cyl 4 reload.csv" });
+    const card = adder
+      .getByRole("list", { name: "Traces to upload" })
+      .getByRole("listitem", { name: "cyl 4 reload.csv" });
     await fillSettings(card);
     link.forwarded = 0;
     await card.getByRole("button", { name: "Upload trace" }).click();
-    await card.getByTestId("upload-progress").getByText(/^Sending/).waitFor({ timeout: 30_000 });
+    await card
+      .getByTestId("upload-progress")
+      .getByText(/^Sending/)
+      .waitFor({ timeout: 30_000 });
     await expect.poll(() => link.forwarded, { timeout: 60_000, interval: 100 }).toBeGreaterThan(600_000);
     await tech.reload();
-    const again = tech.getByRole("region", { name: "Add traces" }).getByRole("list", { name: "Traces to upload" }).getByRole("listitem", { name: "cyl 4 reload.csv" });
-    await again.getByText(/Continues where it stopped|Resuming|Sending/).first().waitFor({ timeout: 30_000 });
+    const again = tech
+      .getByRole("region", { name: "Add traces" })
+      .getByRole("list", { name: "Traces to upload" })
+      .getByRole("listitem", { name: "cyl 4 reload.csv" });
+    await again
+      .getByText(/Continues where it stopped|Resuming|Sending/)
+      .first()
+      .waitFor({ timeout: 30_000 });
     await shot(tech, SHOTS, "07-after-reload", { viewport: true });
     await again.getByText(/^Uploaded/).waitFor({ timeout: 90_000 });
     expect(await again.getByText(/^Uploaded/).innerText()).toContain(`${c.samples.toLocaleString("en-US")} samples`);

@@ -13,7 +13,15 @@ import { schema } from "../../server/db/client";
 import { reconcileDataFolder } from "../../server/uploads/reconcile";
 import type { UploadProgressPayload } from "../../shared/realtime";
 import { LinkProxy } from "../e2e/helpers/link-proxy";
-import { captureCsv, dataFiles, encodeMetadata, tusRequest, tusUpload, uploadSettings, zeroBomb } from "./upload-helpers";
+import {
+  captureCsv,
+  dataFiles,
+  encodeMetadata,
+  tusRequest,
+  tusUpload,
+  uploadSettings,
+  zeroBomb,
+} from "./upload-helpers";
 
 /**
  * Resumable uploads (tus 1.0.0, tus.io/protocols/resumable-upload): the client is tus-js-client,
@@ -43,12 +51,15 @@ const meta = (caseId: string, extra: Record<string, string> = {}) => ({
 });
 
 async function newCase(agent: SignedInAgent): Promise<string> {
-  const res = await agent.post("/api/cases").send({ vehicle: { make: "Astaro", model: "Dune" }, complaint: "Misfire at idle", system: "ignition" });
+  const res = await agent
+    .post("/api/cases")
+    .send({ vehicle: { make: "Astaro", model: "Dune" }, complaint: "Misfire at idle", system: "ignition" });
   expect(res.status).toBe(201);
   return res.body.id;
 }
 
-const tusFiles = () => (fs.existsSync(path.join(server.dir, "tmp", "tus")) ? fs.readdirSync(path.join(server.dir, "tmp", "tus")).sort() : []);
+const tusFiles = () =>
+  fs.existsSync(path.join(server.dir, "tmp", "tus")) ? fs.readdirSync(path.join(server.dir, "tmp", "tus")).sort() : [];
 const traceRow = (id: string) => server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, id)).get()!;
 const sha = (b: Buffer) => crypto.createHash("sha256").update(b).digest("hex");
 
@@ -76,7 +87,12 @@ describe("a resumable upload", () => {
     expect(plain.status).toBe(200);
     const t1 = plain.body.trace;
     // truth from the generator: its sample count and rate; the SHA-256 of the file as the tech has it
-    expect(t1).toMatchObject({ samples: capture.samples, sampleRateHz: capture.sampleRateHz, sha256: sha(capture.bytes), bytes: capture.bytes.length });
+    expect(t1).toMatchObject({
+      samples: capture.samples,
+      sampleRateHz: capture.sampleRateHz,
+      sha256: sha(capture.bytes),
+      bytes: capture.bytes.length,
+    });
     expect(t1.originalName).toBe("cyl 4 · coil.csv");
 
     // the same file through a link that drops once about half of it has gone over
@@ -97,18 +113,33 @@ describe("a resumable upload", () => {
       expect(twice).toBeLessThanOrEqual(0.1 * gz.length);
 
       const t2 = resumed.body.trace;
-      for (const k of ["samples", "sampleRateHz", "t0", "durationS", "channels", "analysis", "warnings", "sha256", "bytes", "originalName"]) {
+      for (const k of [
+        "samples",
+        "sampleRateHz",
+        "t0",
+        "durationS",
+        "channels",
+        "analysis",
+        "warnings",
+        "sha256",
+        "bytes",
+        "originalName",
+      ]) {
         expect(t2[k], k).toEqual(t1[k]);
       }
       // the stored channel files are the same bytes, and both originals inflate to the file
       const [r1, r2] = [traceRow(t1.id), traceRow(t2.id)];
-      expect(sha(fs.readFileSync(path.join(server.dir, r2.dataPath)))).toBe(sha(fs.readFileSync(path.join(server.dir, r1.dataPath))));
+      expect(sha(fs.readFileSync(path.join(server.dir, r2.dataPath)))).toBe(
+        sha(fs.readFileSync(path.join(server.dir, r1.dataPath))),
+      );
       expect(r2.originalPath).toBe(r1.originalPath);
       expect(zlib.gunzipSync(fs.readFileSync(path.join(server.dir, r2.originalPath))).equals(capture.bytes)).toBe(true);
       // the download is the file as the tech sent it, under the name they gave it
       const dl = await fetch(`${server.url}/api/traces/${t2.id}/original`, { headers: { Cookie: tech.cookie } });
       expect(Buffer.from(await dl.arrayBuffer()).equals(capture.bytes)).toBe(true); // fetch inflates Content-Encoding: gzip
-      expect(dl.headers.get("content-disposition")).toContain(`filename*=UTF-8''${encodeURIComponent("cyl 4 · coil.csv")}`);
+      expect(dl.headers.get("content-disposition")).toContain(
+        `filename*=UTF-8''${encodeURIComponent("cyl 4 · coil.csv")}`,
+      );
     } finally {
       await link.close();
     }
@@ -140,10 +171,21 @@ describe("a resumable upload", () => {
   it("is refused before its first byte when the case, the settings or the sizes are wrong, leaving nothing", async () => {
     const before = tusFiles();
     const post = (m: Record<string, string>, cookie = tech.cookie, length = String(gz.length)) =>
-      tusRequest(server, "POST", "/api/uploads", { Cookie: cookie, "Upload-Length": length, "Upload-Metadata": encodeMetadata(m) });
+      tusRequest(server, "POST", "/api/uploads", {
+        Cookie: cookie,
+        "Upload-Length": length,
+        "Upload-Metadata": encodeMetadata(m),
+      });
     expect((await post(meta(caseA), otherTech.cookie)).status).toBe(404); // another shop's case
     expect((await post(meta(caseA), expert.cookie)).status).toBe(404); // an expert who has not claimed it
-    expect((await tusRequest(server, "POST", "/api/uploads", { "Upload-Length": "10", "Upload-Metadata": encodeMetadata(meta(caseA)) })).status).toBe(401);
+    expect(
+      (
+        await tusRequest(server, "POST", "/api/uploads", {
+          "Upload-Length": "10",
+          "Upload-Metadata": encodeMetadata(meta(caseA)),
+        })
+      ).status,
+    ).toBe(401);
     const bad = await post(meta(caseA, { settings: JSON.stringify({ voltsPerDiv: -1, timePerDivS: 0.001 }) }));
     expect(bad.status).toBe(400);
     expect(bad.json.error.code).toBe("validation_failed");
@@ -160,7 +202,11 @@ describe("a resumable upload", () => {
 
 describe("a deferred length declared by a piece that was cut", () => {
   it("is declared again with the resumed piece and the upload completes", async () => {
-    const c = await tusRequest(server, "POST", "/api/uploads", { Cookie: tech.cookie, "Upload-Defer-Length": "1", "Upload-Metadata": encodeMetadata(meta(caseA)) });
+    const c = await tusRequest(server, "POST", "/api/uploads", {
+      Cookie: tech.cookie,
+      "Upload-Defer-Length": "1",
+      "Upload-Metadata": encodeMetadata(meta(caseA)),
+    });
     expect(c.status).toBe(201);
     const loc = c.headers.get("location")!;
     const cutAt = Math.floor(gz.length / 2);
@@ -196,7 +242,12 @@ describe("a deferred length declared by a piece that was cut", () => {
       server,
       "PATCH",
       loc,
-      { Cookie: tech.cookie, "Upload-Offset": String(offset), "Upload-Length": String(gz.length), "Content-Type": "application/offset+octet-stream" },
+      {
+        Cookie: tech.cookie,
+        "Upload-Offset": String(offset),
+        "Upload-Length": String(gz.length),
+        "Content-Type": "application/offset+octet-stream",
+      },
       gz.subarray(offset),
     );
     expect(rest.status, rest.text).toBe(200);
@@ -206,7 +257,11 @@ describe("a deferred length declared by a piece that was cut", () => {
 
 describe("an upload whose last byte arrived but was never read (the server stopped)", () => {
   it("is read when its sender asks where it stands, and its trace is stored once", async () => {
-    const c = await tusRequest(server, "POST", "/api/uploads", { Cookie: tech.cookie, "Upload-Length": String(gz.length), "Upload-Metadata": encodeMetadata(meta(caseA)) });
+    const c = await tusRequest(server, "POST", "/api/uploads", {
+      Cookie: tech.cookie,
+      "Upload-Length": String(gz.length),
+      "Upload-Metadata": encodeMetadata(meta(caseA)),
+    });
     const loc = c.headers.get("location")!;
     const id = loc.split("/").pop()!;
     // every byte on disk, as a server killed right after the last PATCH leaves it
@@ -236,7 +291,10 @@ describe("an upload whose last byte arrived but was never read (the server stopp
 describe("a refusal found while the upload arrives", () => {
   it("is answered to the next piece, before the rest is sent, and nothing of the upload is kept", async () => {
     // a PNG signature (PNG specification, section 5.2) at the start of a "CSV", sent plain
-    const png = Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]), Buffer.alloc(400_000, 7)]);
+    const png = Buffer.concat([
+      Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
+      Buffer.alloc(400_000, 7),
+    ]);
     const c = await tusRequest(server, "POST", "/api/uploads", {
       Cookie: tech.cookie,
       "Upload-Length": String(png.length),
@@ -244,10 +302,22 @@ describe("a refusal found while the upload arrives", () => {
     });
     const loc = c.headers.get("location")!;
     const id = loc.split("/").pop()!;
-    const first = await tusRequest(server, "PATCH", loc, { Cookie: tech.cookie, "Upload-Offset": "0", "Content-Type": "application/offset+octet-stream" }, png.subarray(0, 100_000));
+    const first = await tusRequest(
+      server,
+      "PATCH",
+      loc,
+      { Cookie: tech.cookie, "Upload-Offset": "0", "Content-Type": "application/offset+octet-stream" },
+      png.subarray(0, 100_000),
+    );
     expect(first.status).toBe(204);
     await expect.poll(() => tusFiles().filter((f) => f.startsWith(id)).length, { timeout: 5000 }).toBe(0);
-    const next = await tusRequest(server, "PATCH", loc, { Cookie: tech.cookie, "Upload-Offset": "100000", "Content-Type": "application/offset+octet-stream" }, png.subarray(100_000));
+    const next = await tusRequest(
+      server,
+      "PATCH",
+      loc,
+      { Cookie: tech.cookie, "Upload-Offset": "100000", "Content-Type": "application/offset+octet-stream" },
+      png.subarray(100_000),
+    );
     expect(next.status).toBe(415);
     expect(next.json.error.code).toBe("unsupported_type");
     // someone else still reads it as a missing upload
@@ -257,13 +327,23 @@ describe("a refusal found while the upload arrives", () => {
 
 describe("tenants and upload ids", () => {
   it("another shop, a colleague and the signed-out get 404 (401) for an upload id; the owner resumes it", async () => {
-    const create = await tusRequest(server, "POST", "/api/uploads", { Cookie: tech.cookie, "Upload-Length": String(gz.length), "Upload-Metadata": encodeMetadata(meta(caseA)) });
+    const create = await tusRequest(server, "POST", "/api/uploads", {
+      Cookie: tech.cookie,
+      "Upload-Length": String(gz.length),
+      "Upload-Metadata": encodeMetadata(meta(caseA)),
+    });
     expect(create.status).toBe(201);
     const loc = create.headers.get("location")!;
     expect(loc).toMatch(/^\/api\/uploads\/[0-9a-f]{32}$/);
     const half = gz.subarray(0, 50_000);
     const patch = (cookie: string, offset: number, body: Buffer) =>
-      tusRequest(server, "PATCH", loc, { Cookie: cookie, "Upload-Offset": String(offset), "Content-Type": "application/offset+octet-stream" }, body);
+      tusRequest(
+        server,
+        "PATCH",
+        loc,
+        { Cookie: cookie, "Upload-Offset": String(offset), "Content-Type": "application/offset+octet-stream" },
+        body,
+      );
     expect((await patch(tech.cookie, 0, half)).status).toBe(204);
 
     for (const who of [otherTech, colleague, expert]) {
@@ -274,7 +354,13 @@ describe("tenants and upload ids", () => {
     }
     expect((await tusRequest(server, "HEAD", loc, {})).status).toBe(401);
     // a guessed id that does not exist reads the same as someone else's
-    expect((await tusRequest(server, "HEAD", `/api/uploads/${crypto.randomBytes(16).toString("hex")}`, { Cookie: otherTech.cookie })).status).toBe(404);
+    expect(
+      (
+        await tusRequest(server, "HEAD", `/api/uploads/${crypto.randomBytes(16).toString("hex")}`, {
+          Cookie: otherTech.cookie,
+        })
+      ).status,
+    ).toBe(404);
 
     // nothing the others tried changed it: the owner is told 50 000 bytes (tus HEAD: Upload-Offset)
     const head = await tusRequest(server, "HEAD", loc, { Cookie: tech.cookie });
@@ -294,7 +380,13 @@ describe("gzip bombs over the resumable path", () => {
       expect(size).toBeLessThan(2 * 1024 * 1024);
       const files = dataFiles(server.dir);
       const rows = server.ctx.db.select().from(schema.trace).all().length;
-      const err: any = await tusUpload(server.url, tech.cookie, fs.readFileSync(bombFile), meta(caseA, { filename: "zeros.csv", fileBytes: "0" }), { chunkSize: 4 * 1024 * 1024 }).catch((e) => e);
+      const err: any = await tusUpload(
+        server.url,
+        tech.cookie,
+        fs.readFileSync(bombFile),
+        meta(caseA, { filename: "zeros.csv", fileBytes: "0" }),
+        { chunkSize: 4 * 1024 * 1024 },
+      ).catch((e) => e);
       expect(err.status).toBe(413);
       expect(err.body.error).toMatchObject({ code: "too_large", details: { reason: "compression-ratio" } });
       expect(dataFiles(server.dir)).toEqual(files);
@@ -308,9 +400,19 @@ describe("gzip bombs over the resumable path", () => {
 describe("abandoned uploads", () => {
   it("are removed by the reconcile a day after they were created, and logged; a fresh one stays", async () => {
     const create = async () => {
-      const c = await tusRequest(server, "POST", "/api/uploads", { Cookie: tech.cookie, "Upload-Length": String(gz.length), "Upload-Metadata": encodeMetadata(meta(caseA)) });
+      const c = await tusRequest(server, "POST", "/api/uploads", {
+        Cookie: tech.cookie,
+        "Upload-Length": String(gz.length),
+        "Upload-Metadata": encodeMetadata(meta(caseA)),
+      });
       const loc = c.headers.get("location")!;
-      await tusRequest(server, "PATCH", loc, { Cookie: tech.cookie, "Upload-Offset": "0", "Content-Type": "application/offset+octet-stream" }, gz.subarray(0, 30_000));
+      await tusRequest(
+        server,
+        "PATCH",
+        loc,
+        { Cookie: tech.cookie, "Upload-Offset": "0", "Content-Type": "application/offset+octet-stream" },
+        gz.subarray(0, 30_000),
+      );
       return loc.split("/").pop()!;
     };
     const old = await create();
@@ -318,25 +420,43 @@ describe("abandoned uploads", () => {
     // the one left for a day: its creation date moved back 25 hours (UPLOAD_EXPIRY_HOURS is 24)
     const infoFile = path.join(server.dir, "tmp", "tus", `${old}.json`);
     const info = JSON.parse(fs.readFileSync(infoFile, "utf8"));
-    fs.writeFileSync(infoFile, JSON.stringify({ ...info, creation_date: new Date(Date.now() - 25 * 3600_000).toISOString() }));
+    fs.writeFileSync(
+      infoFile,
+      JSON.stringify({ ...info, creation_date: new Date(Date.now() - 25 * 3600_000).toISOString() }),
+    );
     const logged: unknown[] = [];
     const logger = server.ctx.logger;
     const spy = { ...logger, info: (...a: unknown[]) => logged.push(a), debug: () => {} } as never;
     const removed = await reconcileDataFolder({ ...server.ctx, logger: spy });
-    expect(removed.filter((r) => r.why === "abandoned upload").map((r) => r.path).sort()).toEqual([`tmp/tus/${old}`, `tmp/tus/${old}.json`]);
+    expect(
+      removed
+        .filter((r) => r.why === "abandoned upload")
+        .map((r) => r.path)
+        .sort(),
+    ).toEqual([`tmp/tus/${old}`, `tmp/tus/${old}.json`]);
     expect(logged.length).toBe(1);
     expect(tusFiles()).toEqual(expect.arrayContaining([fresh, `${fresh}.json`]));
     expect(tusFiles()).not.toContain(old);
     expect((await tusRequest(server, "HEAD", `/api/uploads/${old}`, { Cookie: tech.cookie })).status).toBe(404);
-    expect((await tusRequest(server, "HEAD", `/api/uploads/${fresh}`, { Cookie: tech.cookie })).headers.get("upload-offset")).toBe("30000");
+    expect(
+      (await tusRequest(server, "HEAD", `/api/uploads/${fresh}`, { Cookie: tech.cookie })).headers.get("upload-offset"),
+    ).toBe("30000");
   });
 });
 
 describe("progress on the case room", () => {
   it("the expert's socket sees the capture arrive, get checked and measured, and stored", async () => {
     const caseId = await newCase(tech);
-    server.ctx.db.update(schema.caseTable).set({ status: "claimed", expertId, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
-    const socket = connectClient(server.url, { transports: ["websocket"], extraHeaders: { Cookie: expert.cookie }, reconnection: false });
+    server.ctx.db
+      .update(schema.caseTable)
+      .set({ status: "claimed", expertId, claimedAt: new Date() })
+      .where(eq(schema.caseTable.id, caseId))
+      .run();
+    const socket = connectClient(server.url, {
+      transports: ["websocket"],
+      extraHeaders: { Cookie: expert.cookie },
+      reconnection: false,
+    });
     const seen: UploadProgressPayload[] = [];
     socket.on("upload:progress", (p) => seen.push(p));
     try {
@@ -350,7 +470,13 @@ describe("progress on the case room", () => {
       expect(stages).toContain("measuring");
       expect(stages.at(-1)).toBe("stored");
       const last = seen.at(-1)!;
-      expect(last).toMatchObject({ caseId, traceId: res.body.trace.id, name: "cyl 4 · coil.csv", compressed: true, fileBytes: capture.bytes.length });
+      expect(last).toMatchObject({
+        caseId,
+        traceId: res.body.trace.id,
+        name: "cyl 4 · coil.csv",
+        compressed: true,
+        fileBytes: capture.bytes.length,
+      });
       // bytes were reported as they arrived, never more than were sent
       const sending = seen.filter((p) => p.stage === "sending").map((p) => p.receivedBytes);
       expect(Math.max(...sending)).toBeLessThanOrEqual(gz.length);

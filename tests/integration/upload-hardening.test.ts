@@ -24,10 +24,18 @@ const capture = captureCsv({ seed: 9 });
 const settingsJson = JSON.stringify(uploadSettings);
 const BOUNDARY = "----burnline-hardening";
 
-const rows = () => server.ctx.db.select({ n: sql<number>`count(*)` }).from(schema.trace).get()!.n;
+const rows = () =>
+  server.ctx.db
+    .select({ n: sql<number>`count(*)` })
+    .from(schema.trace)
+    .get()!.n;
 
 /** A multipart body by hand: the settings field, then the file part with the given header lines. */
-function multipart(file: Buffer, filenameHeader: string, opts: { closing?: boolean; contentType?: string } = {}): Buffer {
+function multipart(
+  file: Buffer,
+  filenameHeader: string,
+  opts: { closing?: boolean; contentType?: string } = {},
+): Buffer {
   return Buffer.concat([
     Buffer.from(`--${BOUNDARY}\r\nContent-Disposition: form-data; name="settings"\r\n\r\n${settingsJson}\r\n`),
     Buffer.from(`--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="`),
@@ -39,10 +47,19 @@ function multipart(file: Buffer, filenameHeader: string, opts: { closing?: boole
 }
 
 /** POST to the multipart endpoint with raw headers and body; the answer's status and JSON. */
-function post(body: Buffer | (() => AsyncIterable<Buffer>), headers: Record<string, string>): Promise<{ status: number; body: any }> {
+function post(
+  body: Buffer | (() => AsyncIterable<Buffer>),
+  headers: Record<string, string>,
+): Promise<{ status: number; body: any }> {
   return new Promise((resolve, reject) => {
     const req = http.request(
-      { host: "127.0.0.1", port: server.port, method: "POST", path: `/api/cases/${caseId}/traces`, headers: { Cookie: tech.cookie, ...headers } },
+      {
+        host: "127.0.0.1",
+        port: server.port,
+        method: "POST",
+        path: `/api/cases/${caseId}/traces`,
+        headers: { Cookie: tech.cookie, ...headers },
+      },
       (res) => {
         const chunks: Buffer[] = [];
         res.on("data", (c) => chunks.push(c));
@@ -68,8 +85,12 @@ function post(body: Buffer | (() => AsyncIterable<Buffer>), headers: Record<stri
   });
 }
 
-const mp = (file: Buffer, name = "capture.csv", extra: Record<string, string> = {}, opts: Parameters<typeof multipart>[2] = {}) =>
-  post(multipart(file, name, opts), { "Content-Type": `multipart/form-data; boundary=${BOUNDARY}`, ...extra });
+const mp = (
+  file: Buffer,
+  name = "capture.csv",
+  extra: Record<string, string> = {},
+  opts: Parameters<typeof multipart>[2] = {},
+) => post(multipart(file, name, opts), { "Content-Type": `multipart/form-data; boundary=${BOUNDARY}`, ...extra });
 
 async function expectNothingLeft(run: () => Promise<{ status: number; body: any }>, status: number, code: string) {
   const files = dataFiles(server.dir);
@@ -86,7 +107,9 @@ beforeAll(async () => {
   server = await startTestServer();
   const a = await createShopTeam(server);
   tech = await signIn(server, a.technicians[0]);
-  const res = await tech.post("/api/cases").send({ vehicle: { make: "Korrin", model: "Vale" }, complaint: "No start", system: "ignition" });
+  const res = await tech
+    .post("/api/cases")
+    .send({ vehicle: { make: "Korrin", model: "Vale" }, complaint: "No start", system: "ignition" });
   caseId = res.body.id;
   expect((await mp(capture.bytes, "first.csv")).status).toBe(201); // so "nothing left" is judged against a folder with content
 }, 60_000);
@@ -107,7 +130,12 @@ describe("a gzip body", () => {
     // the generator's truth, and the SHA-256 (node:crypto) of the plain file for all three
     const sha = crypto.createHash("sha256").update(capture.bytes).digest("hex");
     for (const t of [a, b, c]) {
-      expect(t).toMatchObject({ samples: capture.samples, sampleRateHz: capture.sampleRateHz, sha256: sha, bytes: capture.bytes.length });
+      expect(t).toMatchObject({
+        samples: capture.samples,
+        sampleRateHz: capture.sampleRateHz,
+        sha256: sha,
+        bytes: capture.bytes.length,
+      });
       expect(t.channels).toEqual(a.channels);
       expect(t.analysis).toEqual(a.analysis);
     }
@@ -124,11 +152,19 @@ describe("a gzip body", () => {
     expect(zlib.gunzipSync(Buffer.from(await gzDl.arrayBuffer())).equals(capture.bytes)).toBe(true);
     const plainDl = await new Promise<{ headers: http.IncomingHttpHeaders; body: Buffer }>((resolve) => {
       // no Accept-Encoding: the server inflates the stored copy itself
-      http.get({ host: "127.0.0.1", port: server.port, path: `/api/traces/${a.id}/original`, headers: { Cookie: tech.cookie } }, (res) => {
-        const chunks: Buffer[] = [];
-        res.on("data", (x) => chunks.push(x));
-        res.on("end", () => resolve({ headers: res.headers, body: Buffer.concat(chunks) }));
-      });
+      http.get(
+        {
+          host: "127.0.0.1",
+          port: server.port,
+          path: `/api/traces/${a.id}/original`,
+          headers: { Cookie: tech.cookie },
+        },
+        (res) => {
+          const chunks: Buffer[] = [];
+          res.on("data", (x) => chunks.push(x));
+          res.on("end", () => resolve({ headers: res.headers, body: Buffer.concat(chunks) }));
+        },
+      );
     });
     expect(plainDl.headers["content-encoding"]).toBeUndefined();
     expect(plainDl.headers["content-type"]).toMatch(/^text\/csv/);
@@ -147,7 +183,11 @@ describe("a gzip body", () => {
       const tail = zlib.gzipSync(Buffer.from(`\r\n--${BOUNDARY}--\r\n`));
       // concatenated gzip members read as one stream (RFC 1952 section 2.2): header part, the zeros, the tail
       const r2 = await expectNothingLeft(
-        () => post(Buffer.concat([encoded, bomb, tail]), { "Content-Type": `multipart/form-data; boundary=${BOUNDARY}`, "Content-Encoding": "gzip" }),
+        () =>
+          post(Buffer.concat([encoded, bomb, tail]), {
+            "Content-Type": `multipart/form-data; boundary=${BOUNDARY}`,
+            "Content-Encoding": "gzip",
+          }),
         413,
         "too_large",
       );
@@ -166,27 +206,53 @@ describe("a gzip body", () => {
 describe("malformed multipart answers 400 bad_upload, never 500", () => {
   const type = `multipart/form-data; boundary=${BOUNDARY}`;
   it.each([
-    ["a missing closing boundary", () => post(multipart(capture.bytes.subarray(0, 2000), "a.csv", { closing: false }), { "Content-Type": type })],
-    ["no boundary parameter", () => post(multipart(capture.bytes.subarray(0, 2000), "a.csv"), { "Content-Type": "multipart/form-data" })],
+    [
+      "a missing closing boundary",
+      () => post(multipart(capture.bytes.subarray(0, 2000), "a.csv", { closing: false }), { "Content-Type": type }),
+    ],
+    [
+      "no boundary parameter",
+      () => post(multipart(capture.bytes.subarray(0, 2000), "a.csv"), { "Content-Type": "multipart/form-data" }),
+    ],
     [
       "a NUL in a part header",
-      () => post(Buffer.from(`--${BOUNDARY}\r\nContent-Dis\0position: form-data; name="file"; filename="a.csv"\r\n\r\n1,2\r\n--${BOUNDARY}--\r\n`), { "Content-Type": type }),
+      () =>
+        post(
+          Buffer.from(
+            `--${BOUNDARY}\r\nContent-Dis\0position: form-data; name="file"; filename="a.csv"\r\n\r\n1,2\r\n--${BOUNDARY}--\r\n`,
+          ),
+          { "Content-Type": type },
+        ),
     ],
-    ["a body that is not multipart (JSON)", () => post(Buffer.from(JSON.stringify({ settings: settingsJson })), { "Content-Type": "application/json" })],
+    [
+      "a body that is not multipart (JSON)",
+      () => post(Buffer.from(JSON.stringify({ settings: settingsJson })), { "Content-Type": "application/json" }),
+    ],
     ["a raw CSV body", () => post(capture.bytes.subarray(0, 2000), { "Content-Type": "text/csv" })],
   ])("%s", async (_label, run) => {
     await expectNothingLeft(run, 400, "bad_upload");
   });
 
   it("the photo endpoint too (the same multipart reading)", async () => {
-    const cut = Buffer.from(`--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="a.jpg"\r\nContent-Type: image/jpeg\r\n\r\n\xff\xd8\xff\xe0`, "latin1");
+    const cut = Buffer.from(
+      `--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="a.jpg"\r\nContent-Type: image/jpeg\r\n\r\n\xff\xd8\xff\xe0`,
+      "latin1",
+    );
     const res = await new Promise<{ status: number; body: any }>((resolve) => {
       const req = http.request(
-        { host: "127.0.0.1", port: server.port, method: "POST", path: `/api/cases/${caseId}/photos`, headers: { Cookie: tech.cookie, "Content-Type": type } },
+        {
+          host: "127.0.0.1",
+          port: server.port,
+          method: "POST",
+          path: `/api/cases/${caseId}/photos`,
+          headers: { Cookie: tech.cookie, "Content-Type": type },
+        },
         (r) => {
           const chunks: Buffer[] = [];
           r.on("data", (c) => chunks.push(c));
-          r.on("end", () => resolve({ status: r.statusCode ?? 0, body: JSON.parse(Buffer.concat(chunks).toString("utf8")) }));
+          r.on("end", () =>
+            resolve({ status: r.statusCode ?? 0, body: JSON.parse(Buffer.concat(chunks).toString("utf8")) }),
+          );
         },
       );
       req.end(cut);
@@ -212,44 +278,42 @@ describe("file names", () => {
 });
 
 describe("a one-line CSV within the size limit", () => {
-  it(
-    "is refused with trace_unreadable while the health endpoint keeps answering within 250 ms",
-    async () => {
-      // 100 MB of "1,1,1,…" without a newline (the attack in the hardening issue)
-      const MB = 1024 * 1024;
-      const piece = Buffer.from("1,".repeat(MB / 2));
-      const head = Buffer.from(`--${BOUNDARY}\r\nContent-Disposition: form-data; name="settings"\r\n\r\n${settingsJson}\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="line.csv"\r\nContent-Type: text/csv\r\n\r\n`);
-      const tail = Buffer.from(`\r\n--${BOUNDARY}--\r\n`);
-      async function* body() {
-        yield head;
-        for (let i = 0; i < 100; i++) yield piece;
-        yield tail;
+  it("is refused with trace_unreadable while the health endpoint keeps answering within 250 ms", async () => {
+    // 100 MB of "1,1,1,…" without a newline (the attack in the hardening issue)
+    const MB = 1024 * 1024;
+    const piece = Buffer.from("1,".repeat(MB / 2));
+    const head = Buffer.from(
+      `--${BOUNDARY}\r\nContent-Disposition: form-data; name="settings"\r\n\r\n${settingsJson}\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="line.csv"\r\nContent-Type: text/csv\r\n\r\n`,
+    );
+    const tail = Buffer.from(`\r\n--${BOUNDARY}--\r\n`);
+    async function* body() {
+      yield head;
+      for (let i = 0; i < 100; i++) yield piece;
+      yield tail;
+    }
+    const files = dataFiles(server.dir);
+    let done = false;
+    const latencies: number[] = [];
+    const poll = (async () => {
+      while (!done) {
+        const t = performance.now();
+        const r = await fetch(`${server.url}/api/health`);
+        await r.arrayBuffer();
+        latencies.push(performance.now() - t);
+        await new Promise((x) => setTimeout(x, 50));
       }
-      const files = dataFiles(server.dir);
-      let done = false;
-      const latencies: number[] = [];
-      const poll = (async () => {
-        while (!done) {
-          const t = performance.now();
-          const r = await fetch(`${server.url}/api/health`);
-          await r.arrayBuffer();
-          latencies.push(performance.now() - t);
-          await new Promise((x) => setTimeout(x, 50));
-        }
-      })();
-      const res = await post(body, {
-        "Content-Type": `multipart/form-data; boundary=${BOUNDARY}`,
-        "Content-Length": String(head.length + 100 * piece.length + tail.length),
-      }).finally(() => {
-        done = true;
-      });
-      await poll;
-      expect(res.status, JSON.stringify(res.body)).toBe(400);
-      expect(res.body.error.code).toBe("trace_unreadable");
-      expect(latencies.length).toBeGreaterThan(0);
-      expect(Math.max(...latencies)).toBeLessThan(250);
-      expect(dataFiles(server.dir)).toEqual(files);
-    },
-    180_000,
-  );
+    })();
+    const res = await post(body, {
+      "Content-Type": `multipart/form-data; boundary=${BOUNDARY}`,
+      "Content-Length": String(head.length + 100 * piece.length + tail.length),
+    }).finally(() => {
+      done = true;
+    });
+    await poll;
+    expect(res.status, JSON.stringify(res.body)).toBe(400);
+    expect(res.body.error.code).toBe("trace_unreadable");
+    expect(latencies.length).toBeGreaterThan(0);
+    expect(Math.max(...latencies)).toBeLessThan(250);
+    expect(dataFiles(server.dir)).toEqual(files);
+  }, 180_000);
 });

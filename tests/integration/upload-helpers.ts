@@ -19,7 +19,11 @@ export const uploadSettings = { kind: "secondary-ignition", voltsPerDiv: 0.2, ti
  * Its truth comes from the generator's parameters: samples = rate × duration.
  */
 export function captureCsv(opts: { seed?: number; sampleRateHz?: number; events?: number } = {}) {
-  const g = generateSecondary({ seed: opts.seed ?? 3, sampleRateHz: opts.sampleRateHz ?? 1e6, events: opts.events ?? 2 });
+  const g = generateSecondary({
+    seed: opts.seed ?? 3,
+    sampleRateHz: opts.sampleRateHz ?? 1e6,
+    events: opts.events ?? 2,
+  });
   const text = renderCsv(g.trace, { digits: 5 });
   return { text, bytes: Buffer.from(text, "utf8"), samples: g.trace.samples, sampleRateHz: g.trace.sampleRateHz };
 }
@@ -65,7 +69,12 @@ export function tusUpload(
   cookie: string,
   data: Buffer,
   metadata: Record<string, string>,
-  opts: { chunkSize?: number; retryDelays?: number[]; onProgress?: (sent: number) => void; onUrl?: (url: string) => void } = {},
+  opts: {
+    chunkSize?: number;
+    retryDelays?: number[];
+    onProgress?: (sent: number) => void;
+    onUrl?: (url: string) => void;
+  } = {},
 ): Promise<TusResult> {
   const requests: TusResult["requests"] = [];
   return new Promise((resolve, reject) => {
@@ -102,8 +111,18 @@ export function tusUpload(
 }
 
 /** Raw tus request (for the protocol's corners: foreign ids, refused creations). */
-export async function tusRequest(server: HasPort, method: string, pathName: string, headers: Record<string, string>, body?: Buffer) {
-  const res = await fetch(`http://127.0.0.1:${server.port}${pathName}`, { method, headers: { "Tus-Resumable": "1.0.0", ...headers }, body });
+export async function tusRequest(
+  server: HasPort,
+  method: string,
+  pathName: string,
+  headers: Record<string, string>,
+  body?: Buffer,
+) {
+  const res = await fetch(`http://127.0.0.1:${server.port}${pathName}`, {
+    method,
+    headers: { "Tus-Resumable": "1.0.0", ...headers },
+    body,
+  });
   const text = await res.text();
   let json: any = null;
   try {

@@ -39,7 +39,16 @@ describe("upload pool", () => {
     const job = (n: number) =>
       runIngest(
         pool,
-        { source: src, encoding: "auto", tempDir: dir, tracesDir: dir, traceId: `t${n}`, settings: { kind: "generic", voltsPerDiv: 1, timePerDivS: 0.01 } as never, maxBytes: 1e9, skipAnalysis: true },
+        {
+          source: src,
+          encoding: "auto",
+          tempDir: dir,
+          tracesDir: dir,
+          traceId: `t${n}`,
+          settings: { kind: "generic", voltsPerDiv: 1, timePerDivS: 0.01 } as never,
+          maxBytes: 1e9,
+          skipAnalysis: true,
+        },
         { onQueued: (p) => events.push(`${n} queued ${p}`), onStart: () => events.push(`${n} start`) },
       ).then((r) => {
         events.push(`${n} done`);
@@ -62,12 +71,30 @@ describe("upload pool", () => {
     const half = capture.bytes.indexOf("\n", capture.bytes.length >> 1) + 1;
     fs.writeFileSync(growing, capture.bytes.subarray(0, half));
     const settings = { kind: "generic", voltsPerDiv: 1, timePerDivS: 0.01 } as never;
-    const f = startFollower(pool, { source: growing, encoding: "identity", tempDir: dir, tracesDir: dir, traceId: "f1", settings, maxBytes: 1e9, skipAnalysis: true });
+    const f = startFollower(pool, {
+      source: growing,
+      encoding: "identity",
+      tempDir: dir,
+      tracesDir: dir,
+      traceId: "f1",
+      settings,
+      maxBytes: 1e9,
+      skipAnalysis: true,
+    });
     f.grow(half);
     await new Promise((r) => setTimeout(r, 300));
     fs.appendFileSync(growing, capture.bytes.subarray(half));
     const followed = await f.end(capture.bytes.length);
-    const whole = await runIngest(pool, { source: src, encoding: "auto", tempDir: dir, tracesDir: dir, traceId: "w1", settings, maxBytes: 1e9, skipAnalysis: true });
+    const whole = await runIngest(pool, {
+      source: src,
+      encoding: "auto",
+      tempDir: dir,
+      tracesDir: dir,
+      traceId: "w1",
+      settings,
+      maxBytes: 1e9,
+      skipAnalysis: true,
+    });
     expect(followed.ok && whole.ok).toBe(true);
     if (followed.ok && whole.ok) {
       expect(followed.meta).toEqual(whole.meta);

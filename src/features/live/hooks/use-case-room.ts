@@ -3,7 +3,12 @@ import { createLiveSocket, type LiveSocket } from "../../../lib/socket";
 import { RoomStore, type ApplyResult, type PendingMark, type PendingMessage, type RoomSnapshot } from "../lib/room-state";
 import { newClientId } from "../lib/client-id";
 import type { AnnotationCreate, AnnotationUpdate, DataRequest } from "../../../../shared/schemas/realtime";
-import type { AnnotationAck, CaseStatusPayload, CaseUpdatedPayload, UploadProgressPayload } from "../../../../shared/realtime";
+import type {
+  AnnotationAck,
+  CaseStatusPayload,
+  CaseUpdatedPayload,
+  UploadProgressPayload,
+} from "../../../../shared/realtime";
 
 /** How long an acknowledgement may take before a write is treated as unsent (it is resent after a reconnect). */
 const ACK_TIMEOUT_MS = 10_000;

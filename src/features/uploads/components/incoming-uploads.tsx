@@ -21,7 +21,10 @@ export function useIncomingUploads(caseId: string) {
       return [...rest, p].sort((a, b) => a.uploadId.localeCompare(b.uploadId));
     });
     if (FINAL.has(p.stage)) {
-      setTimeout(() => setUploads((xs) => xs.filter((x) => !(x.uploadId === p.uploadId && FINAL.has(x.stage)))), LINGER_MS);
+      setTimeout(
+        () => setUploads((xs) => xs.filter((x) => !(x.uploadId === p.uploadId && FINAL.has(x.stage)))),
+        LINGER_MS,
+      );
     }
   }, []);
 
@@ -47,7 +50,12 @@ export function IncomingUploads({ uploads, youId }: { uploads: UploadProgressPay
       <h3 className="text-sm font-bold text-ink-800">Captures arriving</h3>
       <ul className="space-y-2">
         {uploads.map((u) => {
-          const fraction = u.stage === "sending" && u.totalBytes ? u.receivedBytes / u.totalBytes : u.stage === "checking" ? (u.fraction ?? undefined) : undefined;
+          const fraction =
+            u.stage === "sending" && u.totalBytes
+              ? u.receivedBytes / u.totalBytes
+              : u.stage === "checking"
+                ? (u.fraction ?? undefined)
+                : undefined;
           return (
             <li key={u.uploadId} className="text-sm" data-testid="incoming-upload">
               <p className="font-semibold text-ink-900">
@@ -55,7 +63,12 @@ export function IncomingUploads({ uploads, youId }: { uploads: UploadProgressPay
                 <span className="font-normal text-ink-600"> — from {u.by.userId === youId ? "you" : u.by.name}</span>
               </p>
               {u.stage === "sending" || u.stage === "checking" ? (
-                <progress className="h-2 w-full accent-kiln-500" max={1} value={fraction} aria-label={`${u.name} arriving`} />
+                <progress
+                  className="h-2 w-full accent-kiln-500"
+                  max={1}
+                  value={fraction}
+                  aria-label={`${u.name} arriving`}
+                />
               ) : null}
               <p className={u.stage === "refused" ? "font-semibold text-alarm-600" : "text-ink-700"} aria-live="polite">
                 {roomProgressText(u)}

@@ -51,8 +51,14 @@ export function TraceUploadCard({
   if (item.status === "done") {
     const r = item.result;
     return (
-      <li className="flex flex-wrap items-center gap-3 rounded-xl border border-verdigris-500 bg-white px-4 py-3" aria-labelledby={titleId}>
-        <span aria-hidden="true" className="flex h-7 w-7 items-center justify-center rounded-full bg-verdigris-500 text-sm font-bold text-white">
+      <li
+        className="flex flex-wrap items-center gap-3 rounded-xl border border-verdigris-500 bg-white px-4 py-3"
+        aria-labelledby={titleId}
+      >
+        <span
+          aria-hidden="true"
+          className="flex h-7 w-7 items-center justify-center rounded-full bg-verdigris-500 text-sm font-bold text-white"
+        >
           ✓
         </span>
         <div className="min-w-0 flex-1">
@@ -60,7 +66,8 @@ export function TraceUploadCard({
             {item.fileName}
           </p>
           <p className="text-sm text-ink-600">
-            Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}. It is listed with the case's traces.
+            Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}
+            . It is listed with the case's traces.
           </p>
         </div>
         <button type="button" className={btn.secondary} onClick={onRemove}>
@@ -79,7 +86,9 @@ export function TraceUploadCard({
           </p>
           <p className="text-sm text-ink-500">
             {formatSize(item.fileBytes)} · {kindLabels[item.draft.kind]} ·{" "}
-            <span className={item.status === "error" || blocked ? "font-semibold text-alarm-600" : ""}>{blocked ? "Cannot be read" : statusText[item.status]}</span>
+            <span className={item.status === "error" || blocked ? "font-semibold text-alarm-600" : ""}>
+              {blocked ? "Cannot be read" : statusText[item.status]}
+            </span>
           </p>
         </div>
         {!busy ? (
@@ -111,7 +120,9 @@ export function TraceUploadCard({
                 ▸
               </span>
               Capture settings
-              {Object.keys(item.errors).length ? <span className="text-sm text-alarm-600">— {Object.keys(item.errors).length} to fix</span> : null}
+              {Object.keys(item.errors).length ? (
+                <span className="text-sm text-alarm-600">— {Object.keys(item.errors).length} to fix</span>
+              ) : null}
             </button>
             <div id={`${item.key}-settings`} hidden={!open}>
               {copySource && !busy ? (
@@ -141,13 +152,22 @@ export function TraceUploadCard({
         ) : null}
 
         {item.serverError ? (
-          <p role="alert" className="rounded-lg border border-alarm-500 bg-white px-3 py-2 text-sm font-semibold text-alarm-600">
+          <p
+            role="alert"
+            className="rounded-lg border border-alarm-500 bg-white px-3 py-2 text-sm font-semibold text-alarm-600"
+          >
             {item.serverError}
           </p>
         ) : null}
-        {blocked ? <p className="text-sm text-ink-600">Fix the export (or export again from the scope) and drop the file again.</p> : null}
+        {blocked ? (
+          <p className="text-sm text-ink-600">
+            Fix the export (or export again from the scope) and drop the file again.
+          </p>
+        ) : null}
 
-        {item.restored && !busy && item.status !== "error" ? <p className="text-sm text-ink-600">Continues where it stopped before the page was reloaded.</p> : null}
+        {item.restored && !busy && item.status !== "error" ? (
+          <p className="text-sm text-ink-600">Continues where it stopped before the page was reloaded.</p>
+        ) : null}
         {item.status === "waiting" ? (
           <p className="text-sm text-ink-600" aria-live="polite">
             Waiting its turn: captures go one after another.
@@ -158,7 +178,9 @@ export function TraceUploadCard({
             <progress
               className="h-3 w-full accent-kiln-500"
               max={1}
-              value={item.upload?.phase === "server" || item.upload?.phase === "compressing" ? undefined : item.progress}
+              value={
+                item.upload?.phase === "server" || item.upload?.phase === "compressing" ? undefined : item.progress
+              }
               aria-label={`Uploading ${item.fileName}`}
             />
             <p className="text-sm text-ink-600" aria-live="polite" data-testid="upload-progress">

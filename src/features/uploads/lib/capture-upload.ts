@@ -19,7 +19,8 @@ import type { CompressOut } from "../workers/compress.worker";
 const CHUNK = 4 * 1024 * 1024;
 const STATUS_POLL_MS = 1000;
 
-export type UploadPhase = "compressing" | "sending" | "offline" | "interrupted" | "resuming" | "server" | "done" | "error" | "cancelled";
+export type UploadPhase =
+  "compressing" | "sending" | "offline" | "interrupted" | "resuming" | "server" | "done" | "error" | "cancelled";
 
 export interface UploadState {
   phase: UploadPhase;
@@ -130,13 +131,20 @@ export class CaptureUpload {
       for (const p of r.pieces) this.source.add(p);
       this.pieceIndex = r.pieces.length;
       if (r.done) this.source.finish();
-      this.set({ compressedBytes: this.source.bytes, compressionDone: r.done, compressedRead: r.done ? this.init.fileBytes : 0 });
+      this.set({
+        compressedBytes: this.source.bytes,
+        compressionDone: r.done,
+        compressedRead: r.done ? this.init.fileBytes : 0,
+      });
     } else {
       await saveUpload(this.saved());
     }
     if (!this.source.done) {
       if (!this.init.file) {
-        this.set({ phase: "error", error: { status: 0, code: "file_needed", message: "Add the file again to finish this upload." } });
+        this.set({
+          phase: "error",
+          error: { status: 0, code: "file_needed", message: "Add the file again to finish this upload." },
+        });
         return;
       }
       this.compress(this.init.file);
@@ -174,10 +182,22 @@ export class CaptureUpload {
       if (m.type === "done") {
         this.source.finish();
         void patchUpload(this.init.key, { compressedDone: true, compressedBytes: this.source.bytes });
-        this.set({ compressedRead: m.read, compressedBytes: this.source.bytes, compressionDone: true, etaS: this.eta(this.state.rateBytesPerS) });
+        this.set({
+          compressedRead: m.read,
+          compressedBytes: this.source.bytes,
+          compressionDone: true,
+          etaS: this.eta(this.state.rateBytesPerS),
+        });
       } else {
         this.source.fail(new Error(m.message));
-        this.set({ phase: "error", error: { status: 0, code: "compress_failed", message: `The browser could not compress the file: ${m.message}` } });
+        this.set({
+          phase: "error",
+          error: {
+            status: 0,
+            code: "compress_failed",
+            message: `The browser could not compress the file: ${m.message}`,
+          },
+        });
       }
     });
     try {
@@ -185,7 +205,10 @@ export class CaptureUpload {
     } catch (err) {
       compressHandlers.delete(id);
       this.source.fail(err instanceof Error ? err : new Error(String(err)));
-      this.set({ phase: "error", error: { status: 0, code: "compress_failed", message: "The browser could not compress the file." } });
+      this.set({
+        phase: "error",
+        error: { status: 0, code: "compress_failed", message: "The browser could not compress the file." },
+      });
     }
   }
 
@@ -251,7 +274,12 @@ export class CaptureUpload {
     const status = err.originalResponse?.getStatus() ?? 0;
     if (status >= 400 && status < 500 && status !== 409 && status !== 423) return false;
     if (this.stopped) return false;
-    this.set({ phase: online() ? "resuming" : "offline", resumedFrom: this.state.sentBytes, rateBytesPerS: null, etaS: null });
+    this.set({
+      phase: online() ? "resuming" : "offline",
+      resumedFrom: this.state.sentBytes,
+      rateBytesPerS: null,
+      etaS: null,
+    });
     this.samples = [];
     return online();
   }
@@ -277,7 +305,8 @@ export class CaptureUpload {
     const status = res?.getStatus() ?? 0;
     if ((status === 404 || status === 410) && this.init.restored) {
       await forgetUpload(this.init.key);
-      const message = "The server no longer has this upload (it expired, or another account started it on this device). Add the file again to upload it.";
+      const message =
+        "The server no longer has this upload (it expired, or another account started it on this device). Add the file again to upload it.";
       this.set({ phase: "error", error: { status, code: "file_needed", message } });
       return;
     }
@@ -333,7 +362,9 @@ export class CaptureUpload {
           if (this.ended()) return true;
           this.set({ server: { stage: s.stage, queuePosition: s.queuePosition, fraction: s.fraction } });
           if (untilEnd && s.stage === "stored" && s.traceId) {
-            const t = await fetch(`/api/traces/${encodeURIComponent(s.traceId)}`, { credentials: "same-origin" }).then((r) => r.json());
+            const t = await fetch(`/api/traces/${encodeURIComponent(s.traceId)}`, { credentials: "same-origin" }).then(
+              (r) => r.json(),
+            );
             await forgetUpload(this.init.key);
             this.set({ phase: "done", result: t as UploadedTrace });
             return true;

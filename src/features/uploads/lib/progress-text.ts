@@ -9,7 +9,9 @@ import { formatSize } from "./size";
 
 export function formatRate(bytesPerS: number | null): string | null {
   if (!bytesPerS || !(bytesPerS > 0)) return null;
-  return bytesPerS >= 1024 * 1024 ? `${(bytesPerS / 1024 / 1024).toFixed(1)} MB/s` : `${Math.max(1, Math.round(bytesPerS / 1024))} KB/s`;
+  return bytesPerS >= 1024 * 1024
+    ? `${(bytesPerS / 1024 / 1024).toFixed(1)} MB/s`
+    : `${Math.max(1, Math.round(bytesPerS / 1024))} KB/s`;
 }
 
 export function formatEta(s: number | null): string | null {
@@ -21,11 +23,16 @@ export function formatEta(s: number | null): string | null {
 }
 
 export function ordinal(n: number): string {
-  const s = n % 100 >= 11 && n % 100 <= 13 ? "th" : ({ 1: "st", 2: "nd", 3: "rd" } as Record<number, string>)[n % 10] ?? "th";
+  const s =
+    n % 100 >= 11 && n % 100 <= 13 ? "th" : (({ 1: "st", 2: "nd", 3: "rd" } as Record<number, string>)[n % 10] ?? "th");
   return `${n}${s}`;
 }
 
-function serverStage(stage: string | undefined, queuePosition: number | null | undefined, fraction: number | null | undefined): string {
+function serverStage(
+  stage: string | undefined,
+  queuePosition: number | null | undefined,
+  fraction: number | null | undefined,
+): string {
   if (stage === "queued") return `All sent. Waiting for the server (${ordinal(queuePosition ?? 1)} in line)…`;
   if (stage === "checking") return `Checking the file${fraction != null ? ` — ${Math.round(fraction * 100)} %` : ""}…`;
   if (stage === "measuring") return "Measuring the waveform…";
@@ -35,21 +42,35 @@ function serverStage(stage: string | undefined, queuePosition: number | null | u
 
 /** The uploader's own card: what is happening now, and the numbers behind it. */
 export function localProgressText(u: UploadState): string {
-  const compressing = !u.compressionDone && u.fileBytes > 0 ? `compressing ${Math.round((u.compressedRead / u.fileBytes) * 100)} %` : null;
+  const compressing =
+    !u.compressionDone && u.fileBytes > 0
+      ? `compressing ${Math.round((u.compressedRead / u.fileBytes) * 100)} %`
+      : null;
   switch (u.phase) {
     case "compressing":
       return `Compressing… ${compressing ? compressing.replace("compressing ", "") : ""}`.trim();
     case "sending": {
-      const total = u.compressionDone ? u.compressedBytes : u.compressedRead ? (u.compressedBytes / u.compressedRead) * u.fileBytes : null;
+      const total = u.compressionDone
+        ? u.compressedBytes
+        : u.compressedRead
+          ? (u.compressedBytes / u.compressedRead) * u.fileBytes
+          : null;
       const of = total ? ` of ${u.compressionDone ? "" : "about "}${formatSize(Math.round(total))}` : "";
-      const parts = [`Sending ${formatSize(u.sentBytes)}${of}`, formatRate(u.rateBytesPerS), formatEta(u.etaS), compressing].filter(Boolean);
+      const parts = [
+        `Sending ${formatSize(u.sentBytes)}${of}`,
+        formatRate(u.rateBytesPerS),
+        formatEta(u.etaS),
+        compressing,
+      ].filter(Boolean);
       return parts.join(" · ");
     }
     case "offline":
       return `No connection. The upload waits and goes on from ${formatSize(u.sentBytes)} when the link returns.`;
     case "interrupted":
     case "resuming":
-      return u.sentBytes > 0 ? `The link dropped. Resuming from what the server has (${formatSize(u.resumedFrom ?? u.sentBytes)} sent)…` : "Resuming…";
+      return u.sentBytes > 0
+        ? `The link dropped. Resuming from what the server has (${formatSize(u.resumedFrom ?? u.sentBytes)} sent)…`
+        : "Resuming…";
     case "server":
       return serverStage(u.server?.stage, u.server?.queuePosition, u.server?.fraction);
     case "done":
@@ -67,7 +88,9 @@ export function roomProgressText(p: UploadProgressPayload): string {
     case "sending": {
       const of = p.totalBytes ? ` of ${formatSize(p.totalBytes)}` : "";
       const still = p.totalBytes == null && p.compressed ? "still compressing" : null;
-      return [`Arriving: ${formatSize(p.receivedBytes)}${of}`, formatRate(p.rateBytesPerS), formatEta(p.etaS), still].filter(Boolean).join(" · ");
+      return [`Arriving: ${formatSize(p.receivedBytes)}${of}`, formatRate(p.rateBytesPerS), formatEta(p.etaS), still]
+        .filter(Boolean)
+        .join(" · ");
     }
     case "interrupted":
       return `The sender's link dropped at ${formatSize(p.receivedBytes)}; waiting for it to come back.`;

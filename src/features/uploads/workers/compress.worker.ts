@@ -18,7 +18,8 @@ const PIECE = 256 * 1024;
 
 self.onmessage = async (e: MessageEvent<{ id: number; file: Blob }>) => {
   const id = e.data.id;
-  const post = (m: CompressOut, transfer: Transferable[] = []) => (self as unknown as DedicatedWorkerGlobalScope).postMessage(m, transfer);
+  const post = (m: CompressOut, transfer: Transferable[] = []) =>
+    (self as unknown as DedicatedWorkerGlobalScope).postMessage(m, transfer);
   try {
     let read = 0;
     const counted = e.data.file.stream().pipeThrough(
