@@ -186,7 +186,9 @@ class PlainCheck {
     throw new Refused({
       status: 413,
       code: "too_large",
-      message: `The compressed file expands more than ${this.maxRatio} times; a scope export never does. Send it uncompressed.`,
+      message:
+        `The compressed file expands more than ${this.maxRatio} times; a scope export never does. ` +
+        "Send it uncompressed.",
       details: { reason: "compression-ratio", maxRatio: this.maxRatio },
     });
   }
@@ -305,7 +307,10 @@ function gzipError(err: unknown): IngestRefusal | null {
   return null;
 }
 
-/** Runs the whole pass over a file already received. Never throws for a refusal; throws only for faults of the server itself. */
+/**
+ * Runs the whole pass over a file already received. Never throws for a refusal; throws only for
+ * faults of the server itself.
+ */
 export async function ingestCapture(job: IngestJob): Promise<IngestResult> {
   const gzip = job.encoding === "auto" ? isGzipStart(await readAt(job.source, 2)) : job.encoding === "gzip";
   const bytes = (await fsp.stat(job.source)).size;

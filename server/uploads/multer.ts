@@ -251,7 +251,10 @@ export function singleFileUpload(opts: {
   return multer(options).single("file");
 }
 
-/** A failure while reading the trace's multipart body (runMiddleware has mapped malformed bodies): the size limit in words. */
+/**
+ * A failure while reading the trace's multipart body (runMiddleware has mapped malformed bodies):
+ * the size limit in words.
+ */
 export function multipartFailure(err: unknown, limitText: string): unknown {
   const e = err as { name?: string; code?: string } | null;
   if (e?.name === "MulterError" && e.code === "LIMIT_FILE_SIZE")

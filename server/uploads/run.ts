@@ -21,7 +21,8 @@ function malformedAsBadUpload(err: unknown): unknown {
   return new HttpError(
     400,
     "bad_upload",
-    `The multipart body could not be read (${e?.message ?? "malformed"}). Send multipart/form-data with a file field "file".`,
+    `The multipart body could not be read (${e?.message ?? "malformed"}). ` +
+      'Send multipart/form-data with a file field "file".',
   );
 }
 

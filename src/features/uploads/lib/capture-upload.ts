@@ -306,7 +306,8 @@ export class CaptureUpload {
     if ((status === 404 || status === 410) && this.init.restored) {
       await forgetUpload(this.init.key);
       const message =
-        "The server no longer has this upload (it expired, or another account started it on this device). Add the file again to upload it.";
+        "The server no longer has this upload (it expired, or another account started it on this device). " +
+        "Add the file again to upload it.";
       this.set({ phase: "error", error: { status, code: "file_needed", message } });
       return;
     }

@@ -34,7 +34,9 @@ function serverStage(
   fraction: number | null | undefined,
 ): string {
   if (stage === "queued") return `All sent. Waiting for the server (${ordinal(queuePosition ?? 1)} in line)…`;
-  if (stage === "checking") return `Checking the file${fraction != null ? ` — ${Math.round(fraction * 100)} %` : ""}…`;
+  if (stage === "checking") {
+    return `Checking the file${fraction != null ? ` — ${Math.round(fraction * 100)} %` : ""}…`;
+  }
   if (stage === "measuring") return "Measuring the waveform…";
   if (stage === "stored") return "Stored.";
   return "All sent. The server is reading it…";
