@@ -10,6 +10,7 @@ import { devMailRoutes } from "./dev-mail";
 import { caseRoutes } from "./cases";
 import { photoRoutes } from "./photos";
 import { traceRoutes } from "./traces";
+import { uploadRoutes } from "./uploads";
 import { annotationRoutes } from "./annotations";
 import { messageRoutes } from "./messages";
 import { webhookRoutes } from "./webhooks";
@@ -42,6 +43,7 @@ export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void 
   app.use("/api", casebookRoutes(ctx, auth));
   app.use("/api", caseRoutes(ctx, auth));
   app.use("/api", photoRoutes(ctx, auth));
+  app.use("/api", uploadRoutes(ctx, auth));
   app.use("/api", traceRoutes(ctx, auth));
   app.use("/api", annotationRoutes(ctx, auth));
   app.use("/api", messageRoutes(ctx, auth));

@@ -16,6 +16,7 @@ import { caseKeys } from "../../../features/cases/api/paths";
 import { api } from "../../../lib/api-client";
 import { useMediaQuery } from "../../../lib/use-media-query";
 import type { DataRequest } from "../../../../shared/schemas/realtime";
+import { IncomingUploads, useIncomingUploads } from "../../../features/uploads/components/incoming-uploads";
 
 /** Desk: plot and chat side by side. Below it the chat (and on a phone the marks) are in a sheet. */
 export const DESK_QUERY = "(min-width: 1024px)";
@@ -73,9 +74,11 @@ function OwnMarkActions({ room, mark, onRemoved }: { room: CaseRoom; mark: CaseR
 export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: string; traces: TraceInfo[]; flaggedTraceId?: string }) {
   const qc = useQueryClient();
   const traces = useStableTraces(given);
+  const incoming = useIncomingUploads(caseId);
   const room = useCaseRoom(caseId, {
     // a status change or a new upload (with its analysis): refetch the case, which lists the traces
     onCaseChanged: () => void qc.invalidateQueries({ queryKey: caseKeys.detail(caseId) }),
+    onUploadProgress: incoming.onProgress,
   });
   const follow = useFollow(room.remoteView, room.you?.role);
   const [selected, setSelected] = useState<string | null>(null);
@@ -154,6 +157,7 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
       )}
       <div className={desk ? "grid grid-cols-[minmax(0,1fr)_22rem] gap-4" : ""}>
         <div ref={viewerBox} className="min-w-0 scroll-mt-2 space-y-2">
+          <IncomingUploads uploads={incoming.uploads} youId={room.you?.userId} />
           {traces.length ? (
             <TraceViewer
               ref={viewer}

@@ -3,7 +3,12 @@ import { createLiveSocket, type LiveSocket } from "../../../lib/socket";
 import { RoomStore, type ApplyResult, type PendingMark, type PendingMessage, type RoomSnapshot } from "../lib/room-state";
 import { newClientId } from "../lib/client-id";
 import type { AnnotationCreate, AnnotationUpdate, DataRequest } from "../../../../shared/schemas/realtime";
-import type { AnnotationAck, CaseStatusPayload, CaseUpdatedPayload } from "../../../../shared/realtime";
+import type {
+  AnnotationAck,
+  CaseStatusPayload,
+  CaseUpdatedPayload,
+  UploadProgressPayload,
+} from "../../../../shared/realtime";
 
 /** How long an acknowledgement may take before a write is treated as unsent (it is resent after a reconnect). */
 const ACK_TIMEOUT_MS = 10_000;
@@ -14,6 +19,8 @@ const TYPING_REPEAT_MS = 2500;
 export interface UseCaseRoomOptions {
   /** the case changed on the server (status, a new trace, …): refetch what shows it */
   onCaseChanged?: (u: CaseUpdatedPayload | CaseStatusPayload) => void;
+  /** a capture upload's progress in this case (shared/realtime.ts UploadProgressPayload) */
+  onUploadProgress?: (p: UploadProgressPayload) => void;
   /** tests and storybook-like pages may pass their own socket */
   createSocket?: () => LiveSocket;
 }
@@ -154,6 +161,7 @@ function connectRoom(caseId: string, store: RoomStore, link: Link, opts: () => U
     opts().onCaseChanged?.(st);
   });
   socket.on("case:updated", (u) => u.caseId === caseId && opts().onCaseChanged?.(u));
+  socket.on("upload:progress", (p) => p.caseId === caseId && opts().onUploadProgress?.(p));
   store.setConnection("connecting");
   socket.connect();
   return () => {
