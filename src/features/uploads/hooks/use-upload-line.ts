@@ -5,7 +5,7 @@ import { CaptureUpload, warmCompressor, type UploadState } from "../lib/capture-
 import { guessKind } from "../lib/guess-kind";
 import { initialSettings, type SettingsErrors } from "../lib/settings";
 import type { SavedUpload } from "../lib/upload-store";
-import { serverMessage, type UploadItem } from "./use-trace-uploads";
+import { serverMessage, type UploadItem } from "../lib/upload-item";
 
 type Patch = (key: string, p: Partial<UploadItem>) => void;
 export interface LineJob {
