@@ -2,7 +2,7 @@ import { defineConfig } from "vitest/config";
 
 export default defineConfig({
   test: {
-    include: ["tests/unit/**/*.test.ts", "tests/integration/**/*.test.ts"],
+    include: ["tests/unit/**/*.test.ts", "tests/integration/**/*.test.ts", "tests/component/**/*.test.{ts,tsx}"],
     setupFiles: ["tests/helpers/setup.ts"],
     testTimeout: 30_000,
     hookTimeout: 30_000,

@@ -14,7 +14,8 @@ import { attachRealtime } from "./realtime/index";
 import { connectRedis, type SharedRedis } from "./cluster/redis";
 import { startBackground, type Sweep } from "./services/background";
 import { workflowSweeps } from "./workflow/sweeps";
-import { stopAnalysisWorker } from "./uploads/analysis";
+import { stopUploadPool } from "./uploads/pool";
+import { RECONCILE_EVERY_MS, reconcileDataFolder, startReconcileTimer } from "./uploads/reconcile";
 import { stopCasebookSearch, warmCasebookSearch } from "./services/casebook-search";
 import { createLogger } from "./logging";
 import { createReadiness, healthAnswer, type Readiness } from "./readiness";
@@ -23,7 +24,7 @@ import { warmPasswordEstimator } from "./auth/password-strength";
 
 const LOOPBACK_NAMES = new Set(["localhost", "127.0.0.1", "[::1]"]);
 
-/** Servers running in this process; the analysis worker is shared by them and stops with the last. */
+/** Servers running in this process; the upload pool is shared by them and stops with the last. */
 let running = 0;
 
 export interface RunningServer {
@@ -148,11 +149,20 @@ export async function startServer(
     readiness,
     demo: demo ? { password: demo.password, signIns: demo.signIns } : null,
   };
+  // leftovers of a crash go before the first request can start an upload (on several nodes, only
+  // what is past the grace period: the others may be writing; and the periodic pass is a shared job)
+  await reconcileDataFolder(ctx, { startup: true, shared: !!redis });
+  const reconcileTimer = redis ? { stop() {} } : startReconcileTimer(ctx);
   const app = createApp(ctx, { clientDir: path.resolve("dist/client") });
   handler = app;
   const realtime = await attachRealtime(server, ctx, app.locals.auth, { redis });
   ctx.realtime = realtime;
-  const background = await startBackground(ctx, sweepsFor(env), redis);
+  const reconcile: Sweep = {
+    name: "data-folder",
+    everyMs: RECONCILE_EVERY_MS,
+    run: (c) => reconcileDataFolder(c, { shared: true }),
+  };
+  const background = await startBackground(ctx, redis ? [...sweepsFor(env), reconcile] : sweepsFor(env), redis);
   // Built ahead of the first request outside tests (tests build them on first use, which is as
   // correct and spares every test server the start-up work).
   if (env.NODE_ENV !== "test") {
@@ -188,6 +198,7 @@ export async function startServer(
       readiness.stopping();
       await background.stop();
       await dispatcher.stop();
+      reconcileTimer.stop();
       await realtime.close();
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections?.();
@@ -195,7 +206,7 @@ export async function startServer(
       transport.close();
       await mailCatcher?.close();
       await stopCasebookSearch(ctx);
-      if (--running === 0) await stopAnalysisWorker();
+      if (--running === 0) await stopUploadPool();
       await redis?.close();
       await db.close();
     },

@@ -6,13 +6,17 @@ export interface BodyTypeRule {
   method: string;
   /** matched against the path under the mount point, e.g. /cases/abc/traces */
   path: RegExp;
-  /** media types as `req.is` takes them, e.g. "multipart/form-data" */
+  /** media types as `req.is` takes them, e.g. "multipart/form-data"; none: the route checks the type itself */
   types: readonly string[];
 }
 
 /** The routes under /api whose bodies are not JSON. Add a line here for a new one. */
 export const nonJsonBodies: readonly BodyTypeRule[] = [
-  { method: "POST", path: /^\/cases\/[^/]+\/traces\/?$/, types: ["multipart/form-data"] },
+  // the trace upload answers a body that is not multipart itself (400 bad_upload, after authorizing)
+  { method: "POST", path: /^\/cases\/[^/]+\/traces\/?$/, types: [] },
+  // resumable uploads (tus): the tus server checks its own types (application/offset+octet-stream)
+  { method: "POST", path: /^\/uploads\/?$/, types: [] },
+  { method: "PATCH", path: /^\/uploads\/[^/]+\/?$/, types: [] },
   { method: "POST", path: /^\/cases\/[^/]+\/photos\/?$/, types: ["multipart/form-data"] },
 ];
 
@@ -32,7 +36,7 @@ export function requireBodyType(rules: readonly BodyTypeRule[] = nonJsonBodies):
       return next();
     const rule = rules.find((r) => r.method === req.method && r.path.test(req.path));
     const types = rule ? rule.types : ["application/json"];
-    if (req.is([...types])) return next();
+    if (types.length === 0 || req.is([...types])) return next();
     const said = req.headers["content-type"]
       ? `"${String(req.headers["content-type"]).split(";")[0]}"`
       : "a body without a type";
