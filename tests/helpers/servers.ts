@@ -35,7 +35,8 @@ export function sqldBinary(): string | null {
 }
 
 export function redisBinary(): string | null {
-  for (const p of ["/usr/bin/redis-server", "/usr/local/bin/redis-server", "/usr/sbin/redis-server"]) if (fs.existsSync(p)) return p;
+  for (const p of ["/usr/bin/redis-server", "/usr/local/bin/redis-server", "/usr/sbin/redis-server"])
+    if (fs.existsSync(p)) return p;
   return null;
 }
 
@@ -47,7 +48,13 @@ export async function freePort(): Promise<number> {
   return port;
 }
 
-async function waitUntil(check: () => Promise<boolean>, what: string, child: ChildProcess, log: () => string, timeoutMs = 20_000): Promise<void> {
+async function waitUntil(
+  check: () => Promise<boolean>,
+  what: string,
+  child: ChildProcess,
+  log: () => string,
+  timeoutMs = 20_000,
+): Promise<void> {
   const until = Date.now() + timeoutMs;
   for (;;) {
     if (child.exitCode !== null || child.signalCode !== null) throw new Error(`${what} exited:\n${log()}`);
@@ -65,6 +72,18 @@ function collect(child: ChildProcess): () => string {
   child.stdout?.on("data", add);
   child.stderr?.on("data", add);
   return () => out;
+}
+
+/** Every server started here, killed when the test process ends however it ends (none outlives its test file). */
+const started = new Set<ChildProcess>();
+process.once("exit", () => {
+  for (const c of started) if (c.exitCode === null && c.signalCode === null) c.kill("SIGKILL");
+});
+
+function track(child: ChildProcess): ChildProcess {
+  started.add(child);
+  child.once("exit", () => started.delete(child));
+  return child;
 }
 
 function closer(child: ChildProcess, dir: string): () => Promise<void> {
@@ -85,12 +104,15 @@ export async function startSqld(): Promise<RunningProcess> {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-sqld-"));
   for (let attempt = 1; ; attempt++) {
     const port = await freePort();
-    const args = ["--db-path", path.join(dir, "db"), "--http-listen-addr", `127.0.0.1:${port}`, "--no-welcome", "--disable-metrics"];
-    const child = spawn(bin, args, { cwd: dir, env: { ...process.env, RUST_LOG: "error" }, stdio: ["ignore", "pipe", "pipe"] });
+    const args = ["--db-path", path.join(dir, "db"), "--http-listen-addr", `127.0.0.1:${port}`];
+    args.push("--no-welcome", "--disable-metrics");
+    const env = { ...process.env, RUST_LOG: "error" };
+    const child = track(spawn(bin, args, { cwd: dir, env, stdio: ["ignore", "pipe", "pipe"] }));
     const log = collect(child);
     const url = `http://127.0.0.1:${port}`;
     try {
-      await waitUntil(async () => (await fetch(`${url}/health`, { signal: AbortSignal.timeout(1000) })).ok, "sqld", child, log);
+      const healthy = async () => (await fetch(`${url}/health`, { signal: AbortSignal.timeout(1000) })).ok;
+      await waitUntil(healthy, "sqld", child, log);
       return { url, port, dir, child, close: closer(child, dir) };
     } catch (err) {
       child.kill("SIGKILL");
@@ -107,7 +129,8 @@ export async function startRedis(): Promise<RunningProcess> {
   for (let attempt = 1; ; attempt++) {
     const port = await freePort();
     const args = ["--port", String(port), "--bind", "127.0.0.1", "--save", "", "--appendonly", "no", "--dir", dir];
-    const child = spawn(bin, [...args, "--maxmemory-policy", "noeviction"], { cwd: dir, stdio: ["ignore", "pipe", "pipe"] });
+    args.push("--maxmemory-policy", "noeviction");
+    const child = track(spawn(bin, args, { cwd: dir, stdio: ["ignore", "pipe", "pipe"] }));
     const log = collect(child);
     try {
       await waitUntil(() => redisPing(port), "redis-server", child, log);
