@@ -110,6 +110,27 @@ describe("names and units", () => {
     ]);
   });
 
+  it("quantity / unit headers (DIN 1313, ISO 80000-1), one-letter units too: `t / s;U / V;I / A`", () => {
+    const dt = 5e-4;
+    const v = sine(30, 3, 100, dt);
+    // semicolons and decimal commas (ISO 80000-1:2009 §7.3.2)
+    const comma = (x: number) => String(x).replace(".", ",");
+    const rows = v.map((x, k) => [comma(k * dt), comma(x), comma(x * 100), "1"].join(";"));
+    const t = parseTraceText(["t / s;U / V;I / A;P / kW", ...rows].join("\n"));
+    expect(relErr(t.sampleRateHz, 1 / dt)).toBeLessThan(1e-9);
+    expect(t.channels.map((c) => [c.name, c.unit])).toEqual([
+      ["U", "V"],
+      ["I", "A"],
+      ["P", "kW"],
+    ]);
+    // a tab file in µs with a channel named A in volts
+    const tsv = ["t / us\tA / V", ...v.map((x, k) => `${(k * dt * 1e6).toFixed(1)}\t${x}`)].join("\n");
+    expect(parseTraceText(tsv).channels.map((c) => [c.name, c.unit])).toEqual([["A", "V"]]);
+    // without blanks round the slash a one-letter tail is part of the name
+    const plain = ["Time (s),Ch A/B", ...v.map((x, k) => `${k * dt},${x}`)].join("\n");
+    expect(parseTraceText(plain).channels.map((c) => [c.name, c.unit])).toEqual([["Ch A/B", null]]);
+  });
+
   it("a units row of words names no channel: names come from the row above", () => {
     const dt = 1e-6;
     const v = sine(30, 0.5, 1e4, dt);
