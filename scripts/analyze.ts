@@ -1,7 +1,7 @@
 /**
  * `npm run -s analyze -- FILE... [--kind K] [--probe P] [--kv-per-volt N] [--mv-per-amp N] [--waste-spark]
- *   [--volts-per-div V] [--time-per-div S] [--trigger-level V] [--ground-offset DIV] [--sample-rate HZ]
- *   [--cylinders N] [--cylinder N] --json`
+ *   [--every-cylinder] [--volts-per-div V] [--time-per-div S] [--trigger-level V] [--ground-offset DIV]
+ *   [--sample-rate HZ] [--cylinders N] [--cylinder N] --json`
  *
  * Analyses scope exports (CSV/TSV) and prints JSON on stdout (a public contract):
  * - one file: { file, kind, unit, trace: { samples, sampleRateHz, durationS, channels }, events,
@@ -32,6 +32,7 @@ import { checkTextStart, TEXT_SNIFF_BYTES } from "../server/uploads/magic";
 const USAGE =
   "usage: npm run -s analyze -- FILE... [--kind secondary-ignition|relative-compression|injector|crank|generic] " +
   "[--probe capacitive-secondary|direct|x10|current-clamp] [--kv-per-volt N] [--mv-per-amp N] [--waste-spark] " +
+  "[--every-cylinder] " +
   "[--volts-per-div V] [--time-per-div S] [--trigger-level V] [--ground-offset DIV] [--sample-rate HZ] " +
   "[--cylinders N] [--cylinder N] --json";
 
@@ -44,6 +45,7 @@ interface Args {
   settings: Partial<CaptureSettings>;
   kvPerVolt?: number;
   wasteSpark: boolean;
+  everyCylinder: boolean;
   sampleRateHz?: number;
   cylinders?: number;
 }
@@ -54,6 +56,7 @@ function parseArgs(argv: string[]): Args {
   let kind: TraceKind = "secondary-ignition";
   let kvPerVolt: number | undefined;
   let wasteSpark = false;
+  let everyCylinder = false;
   let sampleRateHz: number | undefined;
   let cylinders: number | undefined;
   const num = (flag: string, value: string | undefined, opts: { positive?: boolean; integer?: boolean } = {}) => {
@@ -101,6 +104,9 @@ function parseArgs(argv: string[]): Args {
       case "--waste-spark":
         wasteSpark = true;
         break;
+      case "--every-cylinder":
+        everyCylinder = true;
+        break;
       case "--volts-per-div":
         settings.voltsPerDiv = num(flag, value(), { positive: true });
         break;
@@ -127,7 +133,10 @@ function parseArgs(argv: string[]): Args {
     }
   }
   if (files.length === 0) throw new UsageError("no files given");
-  return { files, kind, settings, kvPerVolt, wasteSpark, sampleRateHz, cylinders };
+  if (wasteSpark && everyCylinder) {
+    throw new UsageError("--waste-spark and --every-cylinder exclude each other (a distributor has no waste spark)");
+  }
+  return { files, kind, settings, kvPerVolt, wasteSpark, everyCylinder, sampleRateHz, cylinders };
 }
 
 const FS_REASONS: Record<string, string> = {
@@ -187,7 +196,12 @@ async function main(): Promise<number> {
     }
     throw e;
   }
-  const settings: Partial<CaptureSettings> = { ...args.settings, kind: args.kind, wasteSpark: args.wasteSpark };
+  const settings: Partial<CaptureSettings> = {
+    ...args.settings,
+    kind: args.kind,
+    wasteSpark: args.wasteSpark,
+    everyCylinder: args.everyCylinder,
+  };
   if (args.kvPerVolt) settings.kvPerVolt = args.kvPerVolt;
   if (args.cylinders) settings.cylinders = args.cylinders;
   const out: Record<string, unknown>[] = [];
@@ -206,6 +220,7 @@ async function main(): Promise<number> {
       kind: args.kind,
       kvPerVolt: args.kvPerVolt,
       wasteSpark: args.wasteSpark,
+      everyCylinder: args.everyCylinder,
       cylinders: args.cylinders,
     });
     const { kind, unit, ...rest } = result;

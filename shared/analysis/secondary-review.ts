@@ -24,6 +24,8 @@ export interface SecondaryReviewInput {
   /** the clipping ceiling on the firing side (y), or null */
   ceiling: number | null;
   settings: Partial<CaptureSettings>;
+  /** the pickup sees every cylinder's firing but the number of cylinders was not given (4 assumed) */
+  cylindersAssumed?: boolean;
 }
 
 function clippingFinding(r: SecondaryReviewInput): FindingDraft | null {
@@ -263,6 +265,15 @@ export function reviewSecondary(r: SecondaryReviewInput): { findings: Finding[];
   drafts.push(triggerFinding(r, trig));
   const f = framing(r);
   drafts.push(f.finding, erraticFinding(r));
+  if (r.cylindersAssumed) {
+    drafts.push({
+      code: "cylinders-assumed",
+      severity: "info",
+      message: `The number of cylinders was not given; ${r.summary.firingsPerCycle} was assumed for the rpm of a ` +
+        `pickup that sees every cylinder's firing.`,
+      advice: "Enter the engine's number of cylinders in the capture settings.",
+    });
+  }
   const findings = finishFindings(
     drafts.filter((d): d is FindingDraft => d != null),
     SECONDARY_SAFETY,

@@ -84,6 +84,11 @@ export interface IgnitionOptions {
   glitches?: { timeS: number; kv: number }[];
   /** the events' timing jitter and size jitter (fractions); default 0 */
   jitter?: number;
+  /**
+   * firings the pickup sees per engine cycle (720°): 1 on one cylinder's coil or lead (default),
+   * the cylinder count on a distributor's coil wire (every cylinder fires through it)
+   */
+  firingsPerCycle?: number;
 }
 
 export interface IgnitionEventTruth {
@@ -243,10 +248,11 @@ export function generateIgnition(opts: IgnitionOptions = {}): { trace: ParsedTra
     tip: "rounded",
     reserve: 1,
     apexOffsetUs: 0,
+    firingsPerCycle: 1,
     ...Object.fromEntries(Object.entries(opts).filter(([, v]) => v !== undefined)),
   } as Required<Omit<IgnitionOptions, "seed" | "clip" | "glitches" | "dwellMs" | "kvPerVolt" | "fileUnit">>;
   const dwellMs = opts.dwellMs === undefined ? 3 : opts.dwellMs;
-  const period = 120 / o.rpm;
+  const period = 120 / (o.rpm * o.firingsPerCycle);
   const pre = (dwellMs ?? 0) / 1e3 + 0.8e-3 + o.apexOffsetUs * 1e-6;
   const models: Model[] = [];
   for (let k = 0; k < o.events; k++) models.push(build(o, rng, pre + k * period, dwellMs));
@@ -300,7 +306,9 @@ export function generateIgnition(opts: IgnitionOptions = {}): { trace: ParsedTra
     truth: {
       events,
       rpm:
-        events.length >= 2 ? 120 / ((events[events.length - 1].timeS - events[0].timeS) / (events.length - 1)) : null,
+        events.length >= 2
+          ? 120 / (((events[events.length - 1].timeS - events[0].timeS) / (events.length - 1)) * o.firingsPerCycle)
+          : null,
       lcHz: w0 / (2 * Math.PI),
       fileScale,
     },
