@@ -69,7 +69,10 @@ export function secondaryLevels(p: Prepared): SecondaryLevels {
     sign,
     ymax,
     ymin,
-    thDet: Math.max(10 * noise, 0.03 * ymax, 1e-12),
+    // ten noise RMS clears the noise; on a very noisy capture (a firing line under 20 noise RMS) no more
+    // than half the tallest excursion, and six noise RMS at least (a crossing by chance about once in
+    // 10⁹ samples of Gaussian noise)
+    thDet: Math.max(Math.min(10 * noise, 0.5 * ymax), 6 * noise, 0.03 * ymax, 1e-12),
     w,
     noiseS: noise / Math.sqrt(w),
   };
