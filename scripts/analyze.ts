@@ -4,7 +4,7 @@
  *   [--sample-rate HZ] [--cylinders N] [--cylinder N] --json`
  *
  * Analyses scope exports (CSV/TSV) and prints JSON on stdout (a public contract):
- * - one file: { file, kind, unit, trace: { samples, sampleRateHz, durationS, channels }, events,
+ * - one file: { file, kind, unit, trace: { samples, sampleRateHz, durationS, channels, warnings }, events,
  *   summary, findings, … } — the object analyzeTrace returns, with `file` and `trace` in front;
  * - several files: { traces: [ one object per file ], comparison: { metrics, outliers } }.
  * --kind defaults to secondary-ignition. Output is always JSON (--json is accepted for clarity).
@@ -233,6 +233,7 @@ async function main(): Promise<number> {
         sampleRateHz: trace.sampleRateHz,
         durationS: trace.durationS,
         channels: trace.channels.map((c) => ({ name: c.name, unit: c.unit, min: c.min, max: c.max })),
+        warnings: trace.warnings,
       },
       ...rest,
     });

@@ -88,7 +88,9 @@ describe("npm run analyze", () => {
     expect(doc.file).toBe(files[0]);
     expect(doc.kind).toBe("secondary-ignition");
     expect(doc.unit).toBe("kV");
-    expect(Object.keys(doc.trace)).toEqual(["samples", "sampleRateHz", "durationS", "channels"]);
+    // the reader's warnings (NaN cells filled, rows skipped…) belong to the contract too (docs/api.md)
+    expect(Object.keys(doc.trace)).toEqual(["samples", "sampleRateHz", "durationS", "channels", "warnings"]);
+    expect(doc.trace.warnings).toEqual([]);
     expect(doc.trace.sampleRateHz).toBe(1e6);
     expect(doc.events.length).toBe(2);
     for (const key of ["timeS", "peak", "burnTimeMs", "burnLevel", "oscillations"]) expect(typeof doc.events[0][key]).toBe("number");
