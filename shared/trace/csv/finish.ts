@@ -255,7 +255,8 @@ export function finishTrace(inp: FinishInput): ParsedTrace {
     );
   }
   if (rows < 2) {
-    throw new TraceParseError("too-few-samples", `the file has ${rows} data ${plural(rows, "row")}; a trace needs at least 2`, layout.headerLine);
+    // the line of the data (its one row), where the tech looks for what is missing
+    throw new TraceParseError("too-few-samples", `the file has ${rows} data ${plural(rows, "row")}; a trace needs at least 2`, layout.firstDataLine);
   }
   const { t0, sampleRateHz, timeOut } = timing(inp, rows);
   const labels = channelLabels(layout, meta);
