@@ -125,6 +125,7 @@ function parseArgs(argv: string[]): Args {
       case "-h":
       case "--help":
         process.stdout.write(`${USAGE}\n`);
+        answered = true;
         process.exit(0);
         break;
       default:
@@ -192,6 +193,7 @@ async function main(): Promise<number> {
   } catch (e) {
     if (e instanceof UsageError) {
       process.stderr.write(`analyze: ${e.message}\n${USAGE}\n`);
+      answered = true;
       return 2;
     }
     throw e;
@@ -212,6 +214,7 @@ async function main(): Promise<number> {
     } catch (e) {
       if (e instanceof FileError) {
         process.stderr.write(`analyze: ${e.message.replace(/\s*\n\s*/g, " ")}\n`);
+        answered = true;
         return 2;
       }
       throw e;
@@ -246,12 +249,51 @@ async function main(): Promise<number> {
   return 0;
 }
 
+/**
+ * Every way out says why on stderr, in one line: an error thrown anywhere (also outside main's chain,
+ * as an uncaught exception or an unhandled rejection), a signal, and an exit before main has answered
+ * (the event loop ran dry with the work unfinished, or something called process.exit) — that last one
+ * is never a success.
+ */
+let answered = false;
+const fail = (why: string, code = 1) => {
+  if (!answered) process.stderr.write(`analyze: ${why.replace(/\s*\n\s*/g, " ")}\n`);
+  answered = true;
+  process.exitCode = code;
+};
+const errorText = (e: unknown) => (e instanceof Error ? e.message : String(e));
+process.on("uncaughtException", (e) => {
+  fail(`internal error: ${errorText(e)}`);
+  process.exit(1);
+});
+process.on("unhandledRejection", (e) => {
+  fail(`internal error: ${errorText(e)}`);
+  process.exit(1);
+});
+for (const [sig, n] of [
+  ["SIGINT", 2],
+  ["SIGTERM", 15],
+  ["SIGHUP", 1],
+] as const) {
+  process.on(sig, () => {
+    fail(`stopped by ${sig} before finishing`, 128 + n);
+    process.exit(128 + n);
+  });
+}
+process.stdout.on("error", (e) => {
+  fail(`cannot write the output: ${errorText(e)}`);
+  process.exit(1);
+});
+process.on("exit", (code) => {
+  if (answered) return;
+  fail(`stopped before finishing (exit code ${code || 1}), with no result written`);
+  if (!code) process.exitCode = 1;
+});
+
 main().then(
   (code) => {
+    answered = true;
     process.exitCode = code;
   },
-  (e: unknown) => {
-    process.stderr.write(`analyze: internal error: ${e instanceof Error ? e.message : String(e)}\n`);
-    process.exitCode = 1;
-  },
+  (e: unknown) => fail(`internal error: ${errorText(e)}`),
 );
