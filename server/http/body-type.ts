@@ -8,12 +8,20 @@ export interface BodyTypeRule {
   path: RegExp;
   /** media types as `req.is` takes them, e.g. "multipart/form-data" */
   types: readonly string[];
+  /**
+   * The route answers a body of the wrong type itself, with its own documented error: a multipart
+   * route answers `400 bad_upload` for a body that is not multipart; the resumable-upload protocol
+   * answers by its own rules (`application/offset+octet-stream` on PATCH, any type or none on POST).
+   */
+  routeDecides?: boolean;
 }
 
 /** The routes under /api whose bodies are not JSON. Add a line here for a new one. */
 export const nonJsonBodies: readonly BodyTypeRule[] = [
-  { method: "POST", path: /^\/cases\/[^/]+\/traces\/?$/, types: ["multipart/form-data"] },
-  { method: "POST", path: /^\/cases\/[^/]+\/photos\/?$/, types: ["multipart/form-data"] },
+  { method: "POST", path: /^\/cases\/[^/]+\/traces\/?$/, types: ["multipart/form-data"], routeDecides: true },
+  { method: "POST", path: /^\/cases\/[^/]+\/photos\/?$/, types: ["multipart/form-data"], routeDecides: true },
+  { method: "POST", path: /^\/uploads\/?$/, types: ["application/offset+octet-stream"], routeDecides: true },
+  { method: "PATCH", path: /^\/uploads\/[^/]+\/?$/, types: ["application/offset+octet-stream"], routeDecides: true },
 ];
 
 const hasBody = (headers: Record<string, string | string[] | undefined>) =>
@@ -32,7 +40,7 @@ export function requireBodyType(rules: readonly BodyTypeRule[] = nonJsonBodies):
       return next();
     const rule = rules.find((r) => r.method === req.method && r.path.test(req.path));
     const types = rule ? rule.types : ["application/json"];
-    if (req.is([...types])) return next();
+    if (rule?.routeDecides || req.is([...types])) return next();
     const said = req.headers["content-type"]
       ? `"${String(req.headers["content-type"]).split(";")[0]}"`
       : "a body without a type";
