@@ -35,6 +35,13 @@ export const envSchema = z.object({
   FAKE_STRIPE_PORT: z.coerce.number().int().min(0).default(3012),
   MAX_TRACE_BYTES: z.coerce.number().int().positive().default(200 * 1024 * 1024),
   MAX_PHOTO_BYTES: z.coerce.number().int().positive().default(15 * 1024 * 1024),
+  /** the seller printed on receipts (an invented demo seller by default) */
+  SELLER_NAME: z.string().trim().min(1).default("Burnline Desk Services (demo seller)"),
+  SELLER_ADDRESS: z.string().trim().min(1).default("12 Sample Row, Exampleton, EX 00000"),
+  SELLER_TAX_ID: z.string().trim().min(1).default("DEMO-TAX-0000000"),
+  /** the tax included in every price: its name and its rate in percent (0: no tax line) */
+  TAX_LABEL: z.string().trim().min(1).max(40).default("Sales tax"),
+  TAX_RATE_PERCENT: z.coerce.number().min(0).max(100).default(7.5),
 });
 
 export type Env = Omit<z.infer<typeof envSchema>, "DEMO"> & { DEMO: boolean; publicUrl: string; dataDir: string; secureCookies: boolean };

@@ -133,21 +133,21 @@ export const EMAIL_RE = /[A-Za-z0-9!#$%&'*+/=?^_`{|}~-]+(?:\.[A-Za-z0-9!#$%&'*+/
 /** The written forms of a telephone number (see the file comment); each match is checked for 7–15 digits. */
 const PHONE_RES: RegExp[] = [
   // international, E.123: +44 20 7946 0958, +1-202-555-0143, +49 (0)30 1234567, +33 1 23 45 67 89
-  /\+\d{1,3}(?:[ .\-/]?\(?\d{1,5}\)?){1,6}(?![0-9])/g,
+  /\+\d{1,3}(?:[ ./-]?\(?\d{1,5}\)?){1,6}(?![0-9])/g,
   // 00 international prefix: 0044 20 7946 0958, 0049 30 1234567
-  /(?<![0-9.,])00[1-9]\d{0,2}(?:[ .\-/]?\(?\d{1,5}\)?){2,6}(?![0-9])/g,
+  /(?<![0-9.,])00[1-9]\d{0,2}(?:[ ./-]?\(?\d{1,5}\)?){2,6}(?![0-9])/g,
   // (area) number: (202) 555-0143, (020) 7946 0958, (0171) 4960000
-  /\(\d{2,5}\)[ .\-]?\d{3,4}(?:[ .\-]?\d{2,4}){1,2}(?![0-9])/g,
+  /\(\d{2,5}\)[ .-]?\d{3,4}(?:[ .-]?\d{2,4}){1,2}(?![0-9])/g,
   // North American 3-3-4 groups (area code and exchange start with 2–9): 202-555-0143,
   // 202.555.0143, 202 555 0143, 1-800-555-0199
-  /(?<![0-9.,])(?:1[ .\-])?[2-9]\d{2}[ .\-][2-9]\d{2}[ .\-]\d{4}(?![0-9])/g,
+  /(?<![0-9.,])(?:1[ .-])?[2-9]\d{2}[ .-][2-9]\d{2}[ .-]\d{4}(?![0-9])/g,
   // national with trunk 0: 020 7946 0958, 07700 900123, 030 1234567, 0171-496-0000
-  /(?<![0-9.,])0\d{1,4}[ .\-/]\d{3,4}(?:[ .\-]?\d{3,4})(?![0-9.,]\d)(?![0-9])/g,
+  /(?<![0-9.,])0\d{1,4}[ ./-]\d{3,4}(?:[ .-]?\d{3,4})(?![0-9.,]\d)(?![0-9])/g,
   // an unbroken run of 10–13 digits (a phone number written without spaces)
   /(?<![0-9.,])\d{10,13}(?![0-9.,]?\d)/g,
   // local 3-4 after a word that says it is a number: "call 555-0143", "tel. 555 0143" (bare, it
   // would also match ranges such as "800-3000 rpm")
-  /(?<=(?:phone|tel|telephone|call|ring|mobile|cell|text|fax|ph|number|no)\.?[:#]?\s{0,3})\d{3}[\-. ]\d{4}(?![0-9.,\-]?\d)/gi,
+  /(?<=(?:phone|tel|telephone|call|ring|mobile|cell|text|fax|ph|number|no)\.?[:#]?\s{0,3})\d{3}[-. ]\d{4}(?![0-9.,-]?\d)/gi,
 ];
 
 function digitsIn(s: string): number {

@@ -5,3 +5,4 @@ export * from "./cases";
 export * from "./queue";
 export * from "./live";
 export * from "./casebook";
+export * from "./desk";
