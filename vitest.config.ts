@@ -2,7 +2,8 @@ import { defineConfig } from "vitest/config";
 
 export default defineConfig({
   test: {
-    include: ["tests/unit/**/*.test.ts", "tests/integration/**/*.test.ts"],
+    // component tests (React Testing Library) set `// @vitest-environment jsdom` per file
+    include: ["tests/unit/**/*.test.ts", "tests/integration/**/*.test.ts", "tests/component/**/*.test.tsx"],
     setupFiles: ["tests/helpers/setup.ts"],
     testTimeout: 30_000,
     hookTimeout: 30_000,

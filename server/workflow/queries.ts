@@ -254,6 +254,7 @@ export async function workflowView(ctx: AppContext, actor: Actor, caseId: string
       notFixedCount: qs?.notFixedCount ?? 0,
       ...(canAnswers ? await answersOf(tx, c.id) : { answers: [], confirmations: [] }),
       pricing: abilities.submit ? await publicPricing(tx) : null,
+      shopId: c.shopId,
       shopName:
         (await tx.select({ name: schema.shop.name }).from(schema.shop).where(eq(schema.shop.id, c.shopId)).get())
           ?.name ?? null,

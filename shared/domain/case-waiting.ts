@@ -37,7 +37,10 @@ function forShop(f: WaitingFacts): CaseWaiting {
         ? { on: "you", text: "Ready to submit: choose how fast and pay" }
         : { on: "you", text: `Draft: ${f.missing ?? 1} thing${f.missing === 1 ? "" : "s"} still to fill in` };
     case "awaiting_payment":
-      return { on: "you", text: f.paymentProblem ? "The payment did not go through: try again" : "Waiting for your payment" };
+      return {
+        on: "you",
+        text: f.paymentProblem ? "The payment did not go through: try again" : "Waiting for your payment",
+      };
     case "queued":
       return { on: "desk", text: "Paid; waiting for an expert to take it" };
     case "claimed":
@@ -76,7 +79,10 @@ function forAdmin(f: WaitingFacts): CaseWaiting {
     case "draft":
       return { on: "shop", text: "Draft at the shop" };
     case "awaiting_payment":
-      return { on: "shop", text: f.paymentProblem ? "Payment declined; the shop may try again" : "Waiting for payment" };
+      return {
+        on: "shop",
+        text: f.paymentProblem ? "Payment declined; the shop may try again" : "Waiting for payment",
+      };
     case "queued":
       return { on: "desk", text: "Waiting for an expert to claim it" };
     case "claimed":

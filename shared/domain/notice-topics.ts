@@ -37,30 +37,31 @@ export const noticeTopicOf: Readonly<Record<NoticeKind, NoticeTopic>> = {
 };
 
 /** How each topic is named on the settings page, and what a user who never chose gets. */
-export const noticeTopicInfo: Readonly<Record<NoticeTopic, { label: string; hint: string; defaults: NoticeChannels }>> = {
-  messages: {
-    label: "Chat messages",
-    hint: "A new message on one of your cases while you are not in its live review. Several fold into one notice.",
-    defaults: { inApp: true, mail: true },
-  },
-  marks: {
-    label: "Marks on traces",
-    hint: "A new pin, span, level or note on a trace of your case while you are not watching.",
-    defaults: { inApp: true, mail: false },
-  },
-  data_requests: {
-    label: "Requests for more data",
-    hint: "The expert asks for another capture or photo, or the shop answers such a request.",
-    defaults: { inApp: true, mail: true },
-  },
-  case_updates: {
-    label: "Where a case stands",
-    hint: "Claimed, answered, confirmed, closed, offered, a deadline near or missed.",
-    defaults: { inApp: true, mail: true },
-  },
-  money: {
-    label: "Payments and receipts",
-    hint: "A payment held, declined, released or refunded; receipts; payouts.",
-    defaults: { inApp: true, mail: true },
-  },
-};
+export const noticeTopicInfo: Readonly<Record<NoticeTopic, { label: string; hint: string; defaults: NoticeChannels }>> =
+  {
+    messages: {
+      label: "Chat messages",
+      hint: "A new message on one of your cases while you are not in its live review. Several fold into one notice.",
+      defaults: { inApp: true, mail: true },
+    },
+    marks: {
+      label: "Marks on traces",
+      hint: "A new pin, span, level or note on a trace of your case while you are not watching.",
+      defaults: { inApp: true, mail: false },
+    },
+    data_requests: {
+      label: "Requests for more data",
+      hint: "The expert asks for another capture or photo, or the shop answers such a request.",
+      defaults: { inApp: true, mail: true },
+    },
+    case_updates: {
+      label: "Where a case stands",
+      hint: "Claimed, answered, confirmed, closed, offered, a deadline near or missed.",
+      defaults: { inApp: true, mail: true },
+    },
+    money: {
+      label: "Payments and receipts",
+      hint: "A payment held, declined, released or refunded; receipts; payouts.",
+      defaults: { inApp: true, mail: true },
+    },
+  };

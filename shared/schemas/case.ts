@@ -103,6 +103,8 @@ export const caseSortFields = ["createdAt", "updatedAt", "status", "vehicle", "y
 export const caseStates = ["open", "finished"] as const;
 /** Case list filters by answer deadline (shared/domain/deadline-risk.ts). */
 export const caseDeadlineFilters = ["overdue", "at_risk", "next_24h"] as const;
+export type CaseState = (typeof caseStates)[number];
+export type CaseDeadlineFilter = (typeof caseDeadlineFilters)[number];
 export type CaseSortField = (typeof caseSortFields)[number];
 
 export const LIMITS = {

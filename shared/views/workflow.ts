@@ -60,6 +60,7 @@ export interface WorkflowView extends CaseStateView {
   confirmations: ConfirmationView[];
   pricing: PublicPricingView | null;
   /** the shop that opened the case (the desk's admins look after every shop's cases) */
+  shopId: string;
   shopName: string | null;
   /** a resolved case's casebook entry, once published (and not hidden) */
   casebookEntryId: string | null;

@@ -79,14 +79,47 @@ describe("the admin's case list", () => {
     const tb = b.technicians[0].id;
     const c = {
       // a 24 h window with 30 min left: under an hour → at risk
-      atRiskSoon: insertCase({ shopId: a.shop.id, createdBy: ta, status: "queued", leftMs: 0.5 * HOUR, windowMs: 24 * HOUR }),
+      atRiskSoon: insertCase({
+        shopId: a.shop.id,
+        createdBy: ta,
+        status: "queued",
+        leftMs: 0.5 * HOUR,
+        windowMs: 24 * HOUR,
+      }),
       // a 24 h window with 5 h left: above an hour and above a quarter (6 h)? no: 5 h < 6 h → at risk
-      atRiskShare: insertCase({ shopId: b.shop.id, createdBy: tb, status: "claimed", expertId: ex.id, leftMs: 5 * HOUR, windowMs: 24 * HOUR }),
-      overdue: insertCase({ shopId: b.shop.id, createdBy: tb, status: "queued", leftMs: -0.2 * HOUR, windowMs: 2 * HOUR }),
+      atRiskShare: insertCase({
+        shopId: b.shop.id,
+        createdBy: tb,
+        status: "claimed",
+        expertId: ex.id,
+        leftMs: 5 * HOUR,
+        windowMs: 24 * HOUR,
+      }),
+      overdue: insertCase({
+        shopId: b.shop.id,
+        createdBy: tb,
+        status: "queued",
+        leftMs: -0.2 * HOUR,
+        windowMs: 2 * HOUR,
+      }),
       // a 24 h window with 20 h left: fine
-      fine: insertCase({ shopId: a.shop.id, createdBy: ta, status: "claimed", expertId: ex.id, leftMs: 20 * HOUR, windowMs: 24 * HOUR }),
+      fine: insertCase({
+        shopId: a.shop.id,
+        createdBy: ta,
+        status: "claimed",
+        expertId: ex.id,
+        leftMs: 20 * HOUR,
+        windowMs: 24 * HOUR,
+      }),
       // waiting for data: the deadline is paused, never "at risk"
-      paused: insertCase({ shopId: a.shop.id, createdBy: ta, status: "needs_data", expertId: ex.id, leftMs: 0.1 * HOUR, windowMs: 24 * HOUR }),
+      paused: insertCase({
+        shopId: a.shop.id,
+        createdBy: ta,
+        status: "needs_data",
+        expertId: ex.id,
+        leftMs: 0.1 * HOUR,
+        windowMs: 24 * HOUR,
+      }),
       draft: insertCase({ shopId: b.shop.id, createdBy: tb, status: "draft", updatedAgoMs: HOUR }),
       resolved: insertCase({ shopId: a.shop.id, createdBy: ta, status: "resolved", expertId: ex.id }),
     };
@@ -128,19 +161,33 @@ describe("the admin's case list", () => {
   it("tells each reader what a case waits on", async () => {
     const t = await createShopTeam(server, { technicians: 1 });
     const ex = await createExpert(server, { systems: ["ignition"], name: "Orla Penrose" });
-    const id = insertCase({ shopId: t.shop.id, createdBy: t.technicians[0].id, status: "needs_data", expertId: ex.id, leftMs: HOUR });
+    const id = insertCase({
+      shopId: t.shop.id,
+      createdBy: t.technicians[0].id,
+      status: "needs_data",
+      expertId: ex.id,
+      leftMs: HOUR,
+    });
     server.ctx.db
       .insert(schema.caseQueueState)
       .values({ caseId: id, needsDataMessage: "Capture coil 2 at 2500 rpm, please.", updatedAt: server.ctx.now() })
       .run();
-    const answered = insertCase({ shopId: t.shop.id, createdBy: t.technicians[0].id, status: "answered", expertId: ex.id });
+    const answered = insertCase({
+      shopId: t.shop.id,
+      createdBy: t.technicians[0].id,
+      status: "answered",
+      expertId: ex.id,
+    });
     const tech = await signIn(server, t.technicians[0]);
     const items = (await tech.get("/api/cases?state=open&sort=attention")).body.items as {
       id: string;
       waiting: { on: string; text: string };
     }[];
     const w = (cid: string) => items.find((i) => i.id === cid)!.waiting;
-    expect(w(id)).toEqual({ on: "you", text: "Orla Penrose asked for more data: “Capture coil 2 at 2500 rpm, please.”" });
+    expect(w(id)).toEqual({
+      on: "you",
+      text: "Orla Penrose asked for more data: “Capture coil 2 at 2500 rpm, please.”",
+    });
     expect(w(answered)).toMatchObject({ on: "you" });
     expect(w(answered).text).toMatch(/confirm/);
     const adminView = (await admin.get(`/api/cases?shopId=${t.shop.id}`)).body.items as typeof items;
@@ -175,7 +222,10 @@ describe("the admin's actions", () => {
       .post(`/api/admin/cases/${caseId}/reassign`)
       .send({ expertId: second.id, reason: "First expert is off sick today." });
     expect(r.status, JSON.stringify(r.body)).toBe(200);
-    const h = (await admin.get(`/api/cases/${caseId}/history`)).body.items as { type: string; data: { reason?: string } }[];
+    const h = (await admin.get(`/api/cases/${caseId}/history`)).body.items as {
+      type: string;
+      data: { reason?: string };
+    }[];
     expect(h.find((i) => i.type === "reassigned")!.data.reason).toBe("First expert is off sick today.");
   });
 
@@ -190,7 +240,10 @@ describe("the admin's actions", () => {
       expect(p).toMatchObject({ status: "released" });
       expect(billing.body.totals).toMatchObject({ chargedCents: 0, heldCents: 0 });
     }
-    const h = (await admin.get(`/api/cases/${caseId}/history`)).body.items as { type: string; data: { reason?: string } }[];
+    const h = (await admin.get(`/api/cases/${caseId}/history`)).body.items as {
+      type: string;
+      data: { reason?: string };
+    }[];
     expect(h.find((i) => i.type === "refunded_by_desk")!.data.reason).toBe("Duplicate of another case.");
   });
 });
@@ -202,7 +255,8 @@ describe("deleting a draft", () => {
     const created = await tech.post("/api/cases").send({ vehicle: { make: "Veltra", model: "Quillon" } });
     expect(created.status).toBe(201);
     const id = created.body.id as string;
-    const csv = "time_s,volts\n" + Array.from({ length: 200 }, (_, i) => `${(i * 1e-4).toFixed(4)},${i % 7}`).join("\n");
+    const csv =
+      "time_s,volts\n" + Array.from({ length: 200 }, (_, i) => `${(i * 1e-4).toFixed(4)},${i % 7}`).join("\n");
     const up = await tech
       .post(`/api/cases/${id}/traces`)
       .field("settings", JSON.stringify({ kind: "generic", voltsPerDiv: 2, timePerDivS: 0.002 }))

@@ -102,7 +102,12 @@ describe("a new chat message", () => {
     expect(noticesOf(sc.team.owner.id, sc.caseId, "new_message")).toHaveLength(1);
     expect(noticesOf(sc.expertId, sc.caseId, "new_message")).toHaveLength(0);
     const list = await sc.tech.get("/api/notifications");
-    expect(list.body.items[0]).toMatchObject({ kind: "new_message", count: 1, read: false, link: `/cases/${sc.caseId}` });
+    expect(list.body.items[0]).toMatchObject({
+      kind: "new_message",
+      count: 1,
+      read: false,
+      link: `/cases/${sc.caseId}`,
+    });
     expect(list.body.items[0].body).toContain("Can you capture coil 4 at 2500 rpm?");
 
     // two more: still one notice, now standing for three; one mail only
@@ -208,7 +213,9 @@ describe("notice settings", () => {
 
   it("refuses an unknown topic and a signed-out caller", async () => {
     const sc = await scene();
-    const bad = await sc.tech.put("/api/me/notice-settings").send({ topics: [{ topic: "gossip", inApp: true, mail: true }] });
+    const bad = await sc.tech
+      .put("/api/me/notice-settings")
+      .send({ topics: [{ topic: "gossip", inApp: true, mail: true }] });
     expect(bad.status).toBe(400);
     expect(bad.body.error.code).toBe("validation_failed");
     const anon = await fetch(`${server.url.replace("localhost", "127.0.0.1")}/api/me/notice-settings`);
@@ -222,7 +229,13 @@ describe("unread counts on the case list", () => {
     const exp = await joined(sc.expert, sc.caseId);
     await ask(exp, "chat:send", { text: "one", clientId: "client-u1" });
     await ask(exp, "chat:send", { text: "two", clientId: "client-u2" });
-    await ask(exp, "annotation:create", { traceId: sc.traceId, kind: "pin", t0: 0.01, level: 5, clientId: "client-u3" } as never);
+    await ask(exp, "annotation:create", {
+      traceId: sc.traceId,
+      kind: "pin",
+      t0: 0.01,
+      level: 5,
+      clientId: "client-u3",
+    } as never);
     const row = async (agent: SignedInAgent) =>
       (await agent.get("/api/cases")).body.items.find((i: { id: string }) => i.id === sc.caseId);
     expect((await row(sc.tech)).unread).toEqual({ messages: 2, marks: 1 });

@@ -1,5 +1,5 @@
 import { zodResolver } from "@hookform/resolvers/zod";
-import { useEffect, useMemo, useRef, useState, type ReactNode, type RefObject } from "react";
+import { useEffect, useMemo, useRef, useState, type BaseSyntheticEvent, type ReactNode, type RefObject } from "react";
 import { Controller, FormProvider, useForm, useWatch, type FieldErrors, type Resolver } from "react-hook-form";
 import { systems } from "../../../../shared/domain/case-status";
 import { caseReadiness } from "../../../../shared/domain/case-readiness";
@@ -15,6 +15,7 @@ import {
   type CaseDraft,
 } from "../../../../shared/schemas/case";
 import { ApiError } from "../../../lib/api-client";
+import { formatTime } from "../../../../shared/format";
 import { useCreateCase } from "../api/create-case";
 import type { CaseDetail, CasePhoto } from "../api/types";
 import { useUpdateCase } from "../api/update-case";
@@ -39,16 +40,22 @@ export interface CaseFormProps {
   saveRef?: RefObject<(() => Promise<string>) | null>;
   /** more sections shown after the form's own (outside the <form> element), e.g. trace uploads */
   children?: ReactNode;
+  /**
+   * The next step once the case is ready (the submit and pay step), shown under "Ready for the
+   * desk?"; it is told whether the case is ready as typed.
+   */
+  submitStep?: (state: { ready: boolean }) => ReactNode;
 }
 
 /** Reads a nested error message by path. */
 function errorAt(errors: FieldErrors<CaseFormValues>, path: FormFieldPath): string | undefined {
-  let cur: any = errors;
-  for (const p of path.split(".")) cur = cur?.[p];
+  let cur: unknown = errors;
+  for (const p of path.split(".")) cur = (cur as Record<string, unknown> | undefined)?.[p];
   if (!cur) return undefined;
-  if (typeof cur.message === "string") return cur.message;
-  if (Array.isArray(cur)) return cur.find((x) => x?.message)?.message;
-  return cur.root?.message;
+  const node = cur as { message?: unknown; root?: { message?: string } };
+  if (typeof node.message === "string") return node.message;
+  if (Array.isArray(cur)) return (cur as ({ message?: string } | undefined)[]).find((x) => x?.message)?.message;
+  return node.root?.message;
 }
 
 const fieldLabels: Record<FormFieldPath, string> = {
@@ -74,7 +81,8 @@ const fieldLabels: Record<FormFieldPath, string> = {
   notes: "Notes",
 };
 
-export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto, onCreated, saveRef, children }: CaseFormProps) {
+export function CaseForm(props: CaseFormProps) {
+  const { caseId, initial, photos = [], photoUrl, onDeletePhoto, onCreated, saveRef, children, submitStep } = props;
   const defaults = useMemo(() => toFormValues(initial), [initial]);
   const form = useForm<CaseFormValues, unknown, CaseDraft>({ resolver, defaultValues: defaults, mode: "onTouched" });
   const { register, handleSubmit, control, formState, setError, reset, getValues } = form;
@@ -83,7 +91,9 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
   const [banner, setBanner] = useState<{ tone: "error" | "ok"; lines: string[] } | null>(null);
   const [showSummary, setShowSummary] = useState(false);
   const idRef = useRef<string | null>(caseId);
-  idRef.current = caseId ?? idRef.current;
+  useEffect(() => {
+    if (caseId) idRef.current = caseId;
+  }, [caseId]);
   const saving = create.isPending || update.isPending;
 
   const values = useWatch({ control }) as CaseFormValues;
@@ -102,7 +112,7 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
       }
       reset(getValues(), { keepValues: true });
       setShowSummary(false);
-      setBanner({ tone: "ok", lines: [`Draft saved at ${new Date().toLocaleTimeString(undefined, { hour: "2-digit", minute: "2-digit" })}.`] });
+      setBanner({ tone: "ok", lines: [`Draft saved at ${formatTime(new Date())}.`] });
       return id;
     } catch (e) {
       if (e instanceof ApiError) {
@@ -122,11 +132,14 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
     setBanner({ tone: "error", lines: ["Fix the marked fields to save the draft."] });
   };
 
-  const submit = handleSubmit((draft) => persist(draft).catch(() => undefined), onInvalid);
+  const submit = (e?: BaseSyntheticEvent) =>
+    handleSubmit((draft) => persist(draft).catch(() => undefined), onInvalid)(e);
 
   // One save at a time for uploads that need the case: two files dropped together make one draft.
   const inflight = useRef<Promise<string> | null>(null);
-  if (saveRef) {
+  // (set after each render, so it always sees this render's form state; callers use it on user actions)
+  useEffect(() => {
+    if (!saveRef) return;
     saveRef.current = () => {
       if (idRef.current && !formState.isDirty) return Promise.resolve(idRef.current);
       if (inflight.current) return inflight.current;
@@ -144,7 +157,7 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
       inflight.current = p;
       return p;
     };
-  }
+  });
 
   // Warn before leaving with unsaved changes.
   useEffect(() => {
@@ -170,7 +183,7 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
         </Label>
         <input
           id={id}
-          {...register(path as any)}
+          {...register(path as Parameters<typeof register>[0])}
           type={opts.type ?? "text"}
           inputMode={opts.inputMode}
           maxLength={opts.max}
@@ -195,7 +208,7 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
         </Label>
         <textarea
           id={id}
-          {...register(path as any)}
+          {...register(path as Parameters<typeof register>[0])}
           rows={3}
           maxLength={max}
           placeholder={placeholder}
@@ -410,6 +423,7 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
               ))}
             </ul>
           )}
+          {submitStep ? submitStep({ ready: missing.length === 0 }) : null}
         </Section>
       </div>
 
@@ -418,6 +432,11 @@ export function CaseForm({ caseId, initial, photos = [], photoUrl, onDeletePhoto
           <p className="min-w-0 flex-1 truncate text-sm text-ink-600" aria-live="polite">
             {saving ? "Saving…" : formState.isDirty ? "Unsaved changes" : caseId ? "All changes saved" : "Not saved yet"}
           </p>
+          {submitStep && missing.length === 0 ? (
+            <a href="#submit-step" className={`${buttonClass.secondary} flex-none`}>
+              Go to payment
+            </a>
+          ) : null}
           <button type="submit" form="case-form" className={buttonClass.primary} disabled={saving}>
             {saving ? "Saving…" : "Save draft"}
           </button>
