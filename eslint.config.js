@@ -62,6 +62,10 @@ export default tseslint.config(
     },
   },
   {
+    files: ["server/**/*.ts", "shared/**/*.ts", "src/**/*.{ts,tsx}"],
+    rules: { "max-lines-per-function": ["error", { max: 150, IIFEs: true }] },
+  },
+  {
     files: ["shared/**/*.ts"],
     rules: {
       "import-x/no-nodejs-modules": ["error"],

@@ -104,7 +104,7 @@ async function prepare(sup: Supervisor, plan: ClusterPlan, fakes: LocalFakes): P
 
 async function startNodes(sup: Supervisor, plan: ClusterPlan, fakes: LocalFakes): Promise<void> {
   const started = plan.nodePorts.map((port, i) =>
-    sup.start(`node-${i + 1}`, process.execPath, ["--import", "tsx", "server/start.ts"], { env: nodeEnv(plan, fakes, port), critical: false }),
+    sup.start(`node-${i + 1}`, process.execPath, ["--import", "tsx", "scripts/start.ts"], { env: nodeEnv(plan, fakes, port), critical: false }),
   );
   await Promise.all(
     started.map((p, i) => waitFor(`Node ${i + 1}`, () => httpOk(`http://127.0.0.1:${plan.nodePorts[i]}/api/health`), 60_000, exitReason(p))),

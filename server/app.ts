@@ -11,6 +11,8 @@ import { requireBodyType } from "./http/body-type";
 import { errorHandler, notFoundHandler } from "./http/error-handler";
 import { registerRoutes } from "./routes/index";
 import { clientIpHeader } from "./auth/client-ip";
+import { afterResponseScope } from "./http/after-response";
+import { requestLogLevel } from "./logging";
 
 export interface CreatedApp extends express.Express {
   locals: express.Express["locals"] & { ctx: AppContext; auth: Auth };
@@ -25,10 +27,12 @@ export function createApp(ctx: AppContext, opts: { clientDir?: string } = {}): C
   app.disable("x-powered-by");
   app.set("trust proxy", trustProxySetting(ctx.env.TRUST_PROXY));
 
+  app.use(afterResponseScope);
   app.use(
     pinoHttp({
       logger: ctx.logger,
-      autoLogging: { ignore: (req) => req.url === "/api/health" },
+      customLogLevel: requestLogLevel(ctx.env),
+      autoLogging: { ignore: (req) => req.url === "/api/health" || req.url === "/api/health/live" },
       serializers: { req: (req) => ({ id: req.id, method: req.method, url: redactUrl(req.url) }), res: (res) => ({ statusCode: res.statusCode }) },
     }),
   );

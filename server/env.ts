@@ -22,6 +22,8 @@ export const envSchema = z.object({
   /** Express "trust proxy": which proxies may tell us the client address (rate limits depend on it) */
   TRUST_PROXY: z.string().default("loopback"),
   LOG_LEVEL: z.enum(["fatal", "error", "warn", "info", "debug", "trace", "silent"]).default("info"),
+  /** readable lines (development default) or one JSON object per line (default elsewhere) */
+  LOG_FORMAT: z.enum(["pretty", "json"]).optional(),
   SMTP_HOST: z.string().optional(),
   SMTP_PORT: z.coerce.number().int().optional(),
   SMTP_USER: z.string().optional(),

@@ -14,7 +14,6 @@ import { drizzle } from "drizzle-orm/libsql";
 import { migrate } from "drizzle-orm/libsql/migrator";
 import { sql } from "drizzle-orm";
 import { startServer } from "../../server/index";
-import { whenMailSent } from "../../server/services/notifications";
 import { seedDemoIfEmpty, DEMO_PASSWORD, DEMO_SIGN_INS } from "../../demo/seed";
 import { ROOT } from "./lib";
 
@@ -42,7 +41,7 @@ async function main(): Promise<void> {
   try {
     if (server.ctx.env.DEMO) seeded = await seedDemoIfEmpty(server.ctx);
   } finally {
-    await whenMailSent();
+    await server.ctx.mailer.drain().catch(() => {});
     await server.close();
   }
   const demo = server.ctx.env.DEMO ? { password: DEMO_PASSWORD, signIns: DEMO_SIGN_INS } : null;

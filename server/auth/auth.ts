@@ -16,6 +16,10 @@ import {
 import { hashPassword, verifyPassword } from "./password";
 import { CLIENT_IP_HEADER } from "./client-ip";
 import { mails, sendMail } from "./mail";
+import { hitRateLimit } from "./rate-limit";
+import { reserveSignIn, type Outcome } from "./sign-in-throttle";
+import { afterResponse } from "../http/after-response";
+import "./password-strength";
 
 export const AUTH_BASE_PATH = "/api/auth";
 /** seconds; the verification link in the sign-up mail */
@@ -25,17 +29,28 @@ export const RESET_PASSWORD_TTL_S = 3600;
 
 /**
  * Rate limits of better-auth's endpoints (per client address, stored in the rate_limit table),
- * on in every environment including tests. Our own account routes use server/auth/rate-limit.ts.
+ * on in every environment including tests. Sign-in and the reset request are limited in front of
+ * better-auth (server/auth/sign-in-throttle.ts, RESET_REQUEST_RULE); better-auth's own rule for
+ * them is only a backstop. Our own account routes use server/auth/rate-limit.ts.
  */
 export const AUTH_RATE_RULES = {
-  "/sign-in/email": { window: 60, max: 5 },
+  "/sign-in/email": { window: 60, max: 60 },
   "/sign-up/email": { window: 600, max: 5 },
-  "/request-password-reset": { window: 300, max: 3 },
+  "/request-password-reset": { window: 300, max: 60 },
   "/forget-password": { window: 300, max: 3 },
   "/reset-password": { window: 300, max: 10 },
   "/send-verification-email": { window: 300, max: 3 },
   "/change-password": { window: 300, max: 5 },
 } as const;
+
+/** Password-reset requests per client address (checked before the answer; the work happens after it). */
+export const RESET_REQUEST_RULE = { window: 300, max: 3 } as const;
+
+/** better-auth's answer to a reset request, the same for every address. */
+const RESET_REQUESTED = {
+  status: true,
+  message: "If this email exists in our system, check your email for the reset link",
+};
 
 /** Request bodies of better-auth endpoints checked with our shared schemas before better-auth sees them. */
 const BODY_SCHEMAS: Record<string, z.ZodType> = {
@@ -122,15 +137,116 @@ export function createAuth(ctx: AppContext) {
       ipAddress: { ipAddressHeaders: [CLIENT_IP_HEADER] },
       database: { generateId: () => crypto.randomUUID() },
     },
-    logger: { disabled: env.NODE_ENV === "test" || env.LOG_LEVEL === "silent" },
+    logger: {
+      disabled: env.NODE_ENV === "test" || env.LOG_LEVEL === "silent",
+      level: "warn",
+      log: (level, message, ...args) =>
+        ctx.logger[level]({ ...(args.length ? { details: args } : {}) }, `auth: ${message}`),
+    },
   });
 
   const handler = auth.handler;
   auth.handler = async (request: Request) => {
-    const res = await validateFirst(request, handler);
+    const res = await validateFirst(request, (req, path, body) => guarded(ctx, handler, req, path, body));
     return res.status >= 400 ? withOurErrors(res) : withoutSessionToken(request, res);
   };
   return auth;
+}
+
+type Handler = (r: Request) => Promise<Response>;
+
+/**
+ * The limits in front of better-auth: sign-in goes through the per-address and per-account
+ * throttle; a password-reset request is answered at once, the same for every address, and
+ * better-auth does its work (token, mail in the outbox) after the answer, so neither the time nor
+ * the answer tells whether the address is registered.
+ */
+async function guarded(
+  ctx: AppContext,
+  handler: Handler,
+  request: Request,
+  path: string,
+  body: Record<string, unknown>,
+): Promise<Response> {
+  const ip = request.headers.get(CLIENT_IP_HEADER) ?? "0.0.0.0";
+  if (path === "/sign-in/email") return throttledSignIn(ctx, handler, request, ip, String(body.email));
+  if (path === "/request-password-reset") {
+    const retryAfter = hitRateLimit(ctx, `app|${ip}|request-password-reset`, RESET_REQUEST_RULE);
+    if (retryAfter !== null) {
+      return tooMany("rate_limited", `Too many attempts. Wait ${retryAfter} seconds, then try again.`, retryAfter);
+    }
+    afterResponse(() => {
+      handler(request).then(
+        (res) => res.status >= 400 && ctx.logger.warn({ status: res.status }, "password reset request not carried out"),
+        (err) => ctx.logger.error({ err }, "password reset request failed"),
+      );
+    });
+    const headers = { "content-type": "application/json" };
+    return new Response(JSON.stringify(RESET_REQUESTED), { status: 200, headers });
+  }
+  return handler(request);
+}
+
+function tooMany(code: string, message: string, retryAfter: number): Response {
+  const h = new Headers({ "Retry-After": String(retryAfter) });
+  return jsonError(429, code, message, { retryAfterSeconds: retryAfter }, h);
+}
+
+async function throttledSignIn(
+  ctx: AppContext,
+  handler: Handler,
+  request: Request,
+  ip: string,
+  email: string,
+): Promise<Response> {
+  const gate = reserveSignIn(ctx, ip, email);
+  if ("scope" in gate) {
+    return gate.scope === "address"
+      ? tooMany("rate_limited", `Too many attempts. Wait ${gate.retryAfter} seconds, then try again.`, gate.retryAfter)
+      : tooMany(
+          "sign_in_delayed",
+          `Too many wrong passwords for this account. Wait ${gate.retryAfter} seconds, then try again, ` +
+            "or reset the password.",
+          gate.retryAfter,
+        );
+  }
+  let outcome: Outcome = "other";
+  try {
+    const res = await handler(request);
+    outcome = await signInOutcome(res);
+    return res;
+  } finally {
+    const { notifyOwner } = gate.settle(outcome);
+    if (notifyOwner) afterResponse(() => mailOwnerAboutFailures(ctx, email));
+  }
+}
+
+/**
+ * 401: a wrong password (or no such account); 200, or a refusal that comes after the password
+ * check (unverified address, removed account): the password was right.
+ */
+async function signInOutcome(res: Response): Promise<Outcome> {
+  if (res.status === 200) return "success";
+  if (res.status === 401) return "failure";
+  if (res.status === 403) {
+    const code = await res
+      .clone()
+      .json()
+      .then((b: unknown) => (b as { code?: string } | null)?.code, () => undefined);
+    if (code === "EMAIL_NOT_VERIFIED" || code === "ACCOUNT_DEACTIVATED") return "success";
+  }
+  return "other";
+}
+
+function mailOwnerAboutFailures(ctx: AppContext, email: string): void {
+  try {
+    const u = ctx.db.select().from(schema.user).where(eq(schema.user.email, email.toLowerCase())).get();
+    if (!u || u.deactivatedAt) return;
+    const content = mails.signInFailures(u.name, `${ctx.env.publicUrl}/forgot-password`);
+    void sendMail(ctx, u.email, content, { kind: "sign_in_failures" });
+  } catch (err) {
+    ctx.logger.error({ err }, "could not queue the failed sign-in notice");
+  }
 }
 
 export type Auth = ReturnType<typeof createAuth>;
@@ -159,11 +275,14 @@ function jsonError(status: number, code: string, message: string, details?: unkn
 }
 
 /** Our schemas (field messages, common-password refusal on reset/change) run before better-auth's own checks. */
-async function validateFirst(request: Request, handler: (r: Request) => Promise<Response>): Promise<Response> {
-  if (request.method !== "POST") return handler(request);
+async function validateFirst(
+  request: Request,
+  next: (r: Request, path: string, body: Record<string, unknown>) => Promise<Response>,
+): Promise<Response> {
   const path = new URL(request.url).pathname.slice(AUTH_BASE_PATH.length);
+  if (request.method !== "POST") return next(request, path, {});
   const schemaFor = BODY_SCHEMAS[path];
-  if (!schemaFor) return handler(request);
+  if (!schemaFor) return next(request, path, {});
   const type = request.headers.get("content-type") ?? "";
   if (!type.toLowerCase().startsWith("application/json")) {
     return jsonError(415, "unsupported_type", "Send the request body as JSON (Content-Type: application/json).");
@@ -183,7 +302,8 @@ async function validateFirst(request: Request, handler: (r: Request) => Promise<
   }
   const headers = new Headers(request.headers);
   headers.delete("content-length");
-  return handler(new Request(request.url, { method: "POST", headers, body: JSON.stringify(parsed.data) }));
+  const data = parsed.data as Record<string, unknown>;
+  return next(new Request(request.url, { method: "POST", headers, body: JSON.stringify(data) }), path, data);
 }
 
 const MESSAGES: Record<string, [code: string, message: string]> = {

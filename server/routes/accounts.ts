@@ -2,18 +2,20 @@ import { Router } from "express";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import type { PublicConfig } from "../../shared/schemas/auth";
-import { DEMO_PASSWORD, DEMO_SIGN_INS } from "../../demo/sign-ins";
-import { fromLoopback } from "./dev-mail";
+import { devMailEnabled, fromLoopback } from "./dev-mail";
 
-/** What the client needs before anyone signs in. (`GET /api/me` lives in health.ts.) */
+/**
+ * What the client needs before anyone signs in. (`GET /api/me` and `GET /api/session` live in
+ * health.ts.) The demo accounts come from ctx.demo, which the entry point fills when DEMO is on.
+ */
 export function accountRoutes(ctx: AppContext, _auth: Auth): Router {
   const r = Router();
   r.get("/config", (req, res) => {
-    const demo = ctx.env.DEMO;
+    const demo = ctx.env.DEMO ? ctx.demo : null;
     const body: PublicConfig = {
-      demo,
-      demoPassword: demo ? DEMO_PASSWORD : null,
-      demoSignIns: demo ? DEMO_SIGN_INS : [],
+      demo: ctx.env.DEMO,
+      demoPassword: demo?.password ?? null,
+      demoSignIns: demo?.signIns ?? [],
       // the inbox answers loopback clients only, so only they are shown its link
       devMail: devMailEnabled(ctx) && fromLoopback(req),
     };
@@ -21,6 +23,3 @@ export function accountRoutes(ctx: AppContext, _auth: Auth): Router {
   });
   return r;
 }
-
-/** The development inbox exists outside production when no real SMTP server is configured. */
-export const devMailEnabled = (ctx: AppContext) => ctx.env.NODE_ENV !== "production" && !ctx.env.SMTP_HOST;

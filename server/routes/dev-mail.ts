@@ -4,7 +4,9 @@ import type { AppContext } from "../context";
 import { listStoredMail, type CaughtMail } from "../fakes/smtp";
 import { notFound } from "../http/errors";
 import { notFoundHandler } from "../http/error-handler";
-import { devMailEnabled } from "./accounts";
+
+/** The development inbox exists outside production when no real SMTP server is configured. */
+export const devMailEnabled = (ctx: AppContext) => ctx.env.NODE_ENV !== "production" && !ctx.env.SMTP_HOST;
 
 /** The paths of the development inbox; outside its conditions each answers 404 like any unknown path. */
 export const DEV_MAIL_PATHS = ["/api/dev/mail", "/dev/mail", "/dev/mail/:id"];

@@ -62,8 +62,16 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
     const actor = await requireActor(req, auth);
     const shop = loadShop(shopId);
     shopPolicy.authorize(actor, "invite", shop);
-    const { invite } = await shops.createInvite(ctx, actor, shop, input);
-    res.status(201).json({ invite });
+    try {
+      const { invite } = await shops.createInvite(ctx, actor, shop, input);
+      res.status(201).json({ invite });
+    } catch (err) {
+      // RFC 6585 §4: a 429 may say how long to wait (Retry-After, RFC 9110 §10.2.3)
+      const limited = err instanceof HttpError && err.status === 429;
+      const wait = limited ? (err.details as { retryAfterSeconds?: number })?.retryAfterSeconds : undefined;
+      if (wait) res.set("Retry-After", String(wait));
+      throw err;
+    }
   });
 
   r.delete("/shops/:shopId/invites/:inviteId", async (req, res) => {

@@ -44,20 +44,31 @@ export function insertCredentialUser(
 
 export { hashPassword };
 
-/** Mails the confirmation link for a freshly created account. */
-export async function sendVerification(ctx: AppContext, user: { id: string; email: string; name: string }): Promise<void> {
-  await sendMail(ctx, user.email, mails.verifyEmail(user.name, await verificationUrl(ctx, user)));
+/**
+ * Mails the confirmation link for a freshly created account (through the outbox; with `opts.tx`
+ * inside the transaction that creates the account). The link is signed before, so the caller can
+ * build it ahead of its transaction with `verificationUrl`.
+ */
+export async function sendVerification(
+  ctx: AppContext,
+  user: { id: string; email: string; name: string },
+  opts: { tx?: Tx } = {},
+): Promise<void> {
+  const content = mails.verifyEmail(user.name, await verificationUrl(ctx, user));
+  await sendMail(ctx, user.email, content, { kind: "verify_email", ...opts });
 }
 
 /** Someone signed up with an address that already has an account: tell its owner, change nothing. */
 export async function sendAlreadyRegistered(ctx: AppContext, user: { email: string; name: string }): Promise<void> {
   const base = ctx.env.publicUrl;
-  await sendMail(ctx, user.email, mails.alreadyRegistered(user.name, `${base}/sign-in`, `${base}/forgot-password`));
+  const content = mails.alreadyRegistered(user.name, `${base}/sign-in`, `${base}/forgot-password`);
+  await sendMail(ctx, user.email, content, { kind: "already_registered" });
 }
 
 /**
- * After the rows are committed, send the confirmation mail; if the mail cannot be sent, remove what
- * was created (`undo`) so a retry starts clean, and rethrow.
+ * After the rows are committed, queue the confirmation mail; if it cannot even be queued, remove
+ * what was created (`undo`) so a retry starts clean, and answer 503. (Sending happens later, from
+ * the outbox, with retries; an SMTP server that is down no longer fails the request.)
  */
 export async function mailOrUndo(ctx: AppContext, send: () => Promise<void>, undo: () => void): Promise<void> {
   try {

@@ -1,10 +1,11 @@
-import { and, asc, eq, gt, isNull } from "drizzle-orm";
+import { and, asc, eq, gt, isNotNull, isNull } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
 import type { AppContext } from "../context";
 import { schema } from "../db/client";
 import type { Actor } from "../auth/session";
 import { HttpError, conflict, notFound } from "../http/errors";
-import { mails, sendMail } from "../auth/mail";
+import { enqueueAccountMail, mails } from "../auth/mail";
+import { verificationUrl } from "../auth/auth";
 import type { AcceptInviteInput, InviteTechnicianInput, ShopSignUpInput } from "../../shared/schemas/auth";
 import {
   SIGN_UP_ACCEPTED,
@@ -12,9 +13,7 @@ import {
   findUserByEmail,
   hashPassword,
   insertCredentialUser,
-  mailOrUndo,
   sendAlreadyRegistered,
-  sendVerification,
 } from "./accounts";
 
 export type ShopRow = typeof schema.shop.$inferSelect;
@@ -24,8 +23,8 @@ export type InviteRow = typeof schema.invite.$inferSelect;
 export const INVITE_TTL_DAYS = 7;
 
 /**
- * A shop owner signs up: the shop, the owner's user and credential account are written in one
- * transaction; then the confirmation mail goes out (if it cannot, all three are removed again).
+ * A shop owner signs up: the shop, the owner's user and credential account and the confirmation
+ * mail (a row of the outbox, sent after the answer) are written in one transaction.
  * An address that already has an account gets a "you already have an account" mail instead and
  * the same answer, so the form does not tell strangers who is registered.
  */
@@ -38,26 +37,21 @@ export async function signUpShopOwner(ctx: AppContext, input: ShopSignUpInput): 
   }
   const now = ctx.now();
   const shopId = crypto.randomUUID();
-  let userId: string;
+  const userId = crypto.randomUUID();
+  const link = await verificationUrl(ctx, { id: userId, email: input.email });
   try {
-    userId = ctx.db.transaction((tx) => {
+    // the shop, the owner and the confirmation mail (in the outbox) exist together or not at all
+    ctx.db.transaction((tx) => {
       tx.insert(schema.shop).values({ id: shopId, name: input.shopName, createdAt: now }).run();
-      return insertCredentialUser(tx, { email: input.email, name: input.name, role: "owner", shopId, emailVerified: false, passwordHash, now });
+      const owner = { id: userId, email: input.email, name: input.name, role: "owner" as const, shopId };
+      insertCredentialUser(tx, { ...owner, emailVerified: false, passwordHash, now });
+      enqueueAccountMail(ctx, input.email, mails.verifyEmail(input.name, link), { tx, kind: "verify_email" });
     });
   } catch (err) {
     // a concurrent sign-up with the same address won the unique index: answer as for an existing one
     if (String((err as Error)?.message).includes("UNIQUE")) return SIGN_UP_ACCEPTED;
     throw err;
   }
-  await mailOrUndo(
-    ctx,
-    () => sendVerification(ctx, { id: userId, email: input.email, name: input.name }),
-    () =>
-      ctx.db.transaction((tx) => {
-        tx.delete(schema.user).where(eq(schema.user.id, userId)).run();
-        tx.delete(schema.shop).where(eq(schema.shop.id, shopId)).run();
-      }),
-  );
   return SIGN_UP_ACCEPTED;
 }
 
@@ -87,7 +81,8 @@ export const hashToken = (token: string) => createHash("sha256").update(token).d
 
 /**
  * The owner invites a technician by e-mail. The mail carries a one-time token; only its SHA-256 is
- * stored. A second invitation to the same address replaces the first.
+ * stored. A second invitation to the same address replaces the first. Invitations are limited
+ * (INVITE_LIMITS); the mail is written to the outbox in the same transaction as the invitation.
  *
  * An address that already has an active account elsewhere (another shop, an expert, the desk) is
  * answered exactly like a new one — same status, same body, the same pending entry in the team
@@ -117,22 +112,101 @@ export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow,
     revokedAt: null,
     createdAt: now,
   };
-  ctx.db.transaction((tx) => {
-    tx.update(schema.invite)
-      .set({ revokedAt: now })
-      .where(and(eq(schema.invite.shopId, shop.id), eq(schema.invite.email, input.email), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt)))
-      .run();
-    tx.insert(schema.invite).values(row).run();
-  });
   const content = active
     ? mails.inviteExistingAccount(shop.name, actor.name, `${ctx.env.publicUrl}/sign-in`)
     : mails.invite(shop.name, actor.name, `${ctx.env.publicUrl}/accept-invite?token=${token}`);
-  await mailOrUndo(
-    ctx,
-    () => sendMail(ctx, input.email, content),
-    () => ctx.db.delete(schema.invite).where(eq(schema.invite.id, row.id)).run(),
+  // The limits are counted and the invitation and its mail written in one transaction, so
+  // simultaneous invitations cannot slip past a limit together.
+  ctx.db.transaction(
+    (tx) => {
+      checkInviteLimits(tx, shop, actor.id, now);
+      tx.update(schema.invite)
+        .set({ revokedAt: now })
+        .where(
+          and(
+            eq(schema.invite.shopId, shop.id),
+            eq(schema.invite.email, input.email),
+            isNull(schema.invite.acceptedAt),
+            isNull(schema.invite.revokedAt),
+          ),
+        )
+        .run();
+      tx.insert(schema.invite).values(row).run();
+      enqueueAccountMail(ctx, input.email, content, { tx, kind: "invite" });
+    },
+    { behavior: "immediate" },
   );
   return { invite: presentInvite(row), token: active ? null : token };
+}
+
+/**
+ * How many invitations may be sent (docs/api.md "Invitations"): per inviting user and per shop in
+ * any hour, and per shop in any 24 hours — few for a new shop (younger than ESTABLISHED_AFTER_DAYS
+ * or that has never paid for a case), so a shop opened to relay mail gets little out of it.
+ * Every invitation created counts, including ones later revoked or replaced.
+ */
+export const INVITE_LIMITS = {
+  perUserPerHour: 10,
+  perShopPerHour: 20,
+  newShopPerDay: 15,
+  establishedShopPerDay: 100,
+  establishedAfterDays: 7,
+} as const;
+
+type Tx = Parameters<Parameters<AppContext["db"]["transaction"]>[0]>[0];
+const HOUR = 3600_000;
+
+/** True when the shop is old enough and has paid for at least one case. */
+export function isEstablishedShop(tx: Tx | AppContext["db"], shop: ShopRow, now: Date): boolean {
+  if (now.getTime() - shop.createdAt.getTime() < INVITE_LIMITS.establishedAfterDays * 24 * HOUR) return false;
+  const paid = tx
+    .select({ id: schema.payment.id })
+    .from(schema.payment)
+    .where(and(eq(schema.payment.shopId, shop.id), isNotNull(schema.payment.authorizedAt)))
+    .limit(1)
+    .get();
+  return !!paid;
+}
+
+function checkInviteLimits(tx: Tx, shop: ShopRow, userId: string, now: Date): void {
+  const dayCap = isEstablishedShop(tx, shop, now) ? INVITE_LIMITS.establishedShopPerDay : INVITE_LIMITS.newShopPerDay;
+  const checks = [
+    { scope: "user_hour", windowMs: HOUR, max: INVITE_LIMITS.perUserPerHour, who: eq(schema.invite.invitedBy, userId) },
+    { scope: "shop_hour", windowMs: HOUR, max: INVITE_LIMITS.perShopPerHour, who: eq(schema.invite.shopId, shop.id) },
+    { scope: "shop_day", windowMs: 24 * HOUR, max: dayCap, who: eq(schema.invite.shopId, shop.id) },
+  ] as const;
+  let refusal: { scope: string; retryAfter: number; max: number; windowMs: number } | null = null;
+  for (const c of checks) {
+    const times = tx
+      .select({ at: schema.invite.createdAt })
+      .from(schema.invite)
+      .where(and(c.who, gt(schema.invite.createdAt, new Date(now.getTime() - c.windowMs))))
+      .orderBy(asc(schema.invite.createdAt))
+      .all();
+    if (times.length < c.max) continue;
+    // the next place frees when the oldest invitation beyond the allowance leaves the window
+    const freesAt = times[times.length - c.max].at.getTime() + c.windowMs;
+    const retryAfter = Math.max(1, Math.ceil((freesAt - now.getTime()) / 1000));
+    if (!refusal || retryAfter > refusal.retryAfter) {
+      refusal = { scope: c.scope, retryAfter, max: c.max, windowMs: c.windowMs };
+    }
+  }
+  if (!refusal) return;
+  const per = refusal.windowMs === HOUR ? "hour" : "day";
+  const who = refusal.scope === "user_hour" ? "you have" : "your shop has";
+  throw new HttpError(
+    429,
+    "invite_limit",
+    `${who[0].toUpperCase()}${who.slice(1)} sent the most invitations allowed per ${per} (${refusal.max}). ` +
+      `Try again in ${formatWait(refusal.retryAfter)}.`,
+    { scope: refusal.scope, limit: refusal.max, retryAfterSeconds: refusal.retryAfter },
+  );
+}
+
+function formatWait(seconds: number): string {
+  if (seconds < 90) return `${seconds} seconds`;
+  if (seconds < 90 * 60) return `${Math.ceil(seconds / 60)} minutes`;
+  return `${Math.ceil(seconds / 3600)} hours`;
 }
 
 export function presentInvite(i: Pick<InviteRow, "id" | "email" | "name" | "expiresAt" | "createdAt">) {

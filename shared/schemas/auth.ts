@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { isCommonPassword } from "../domain/common-passwords";
+import { passwordProblem } from "../domain/password-strength";
 import { roles, systems } from "../domain/case-status";
 
 /**
@@ -18,12 +19,34 @@ export const emailSchema = z
   .max(254, "Use an e-mail address of at most 254 characters.")
   .pipe(z.email({ error: "Enter an e-mail address like name@example.com." }));
 
-/** A new password: 8–128 characters and not on the list of the most common passwords. */
+/**
+ * A new password: 8–128 characters and not on the list of the most common passwords. The object
+ * schemas that take one add the strength rule (strongPassword below) with the person's details.
+ */
 export const newPasswordSchema = z
   .string({ error: "Choose a password." })
   .min(PASSWORD_MIN, `Use at least ${PASSWORD_MIN} characters.`)
   .max(PASSWORD_MAX, `Use at most ${PASSWORD_MAX} characters.`)
   .refine((p) => !isCommonPassword(p), "This is one of the most common passwords. Choose one that is harder to guess, e.g. a few unrelated words.");
+
+/**
+ * The strength rule (shared/domain/password-strength.ts) on an object schema: refuses the password
+ * in `field` when it is too easy to guess, also given the person's own details from `inputs`.
+ * Runs only when the field passed its own checks (length, common list), so each problem is
+ * reported once.
+ */
+function strongPassword<T extends Record<string, unknown>>(
+  field: keyof T & string,
+  inputs: (v: T) => unknown[] = () => [],
+) {
+  return (v: T, ctx: z.RefinementCtx) => {
+    const p = v[field];
+    if (!newPasswordSchema.safeParse(p).success) return;
+    const own = inputs(v).filter((x): x is string => typeof x === "string");
+    const problem = passwordProblem(p as string, own);
+    if (problem) ctx.addIssue({ code: "custom", path: [field], message: problem });
+  };
+}
 
 export const personNameSchema = z
   .string({ error: "Enter your name." })
@@ -48,7 +71,7 @@ export const shopSignUpSchema = z.object({
   name: personNameSchema,
   email: emailSchema,
   password: newPasswordSchema,
-});
+}).superRefine(strongPassword("password", (v) => [v.email, v.name, v.shopName]));
 export type ShopSignUpInput = z.infer<typeof shopSignUpSchema>;
 
 export const expertSystems = systems;
@@ -67,7 +90,7 @@ export const expertApplicationSchema = z.object({
     .min(20, "Tell us a little more about your experience (at least 20 characters).")
     .max(2000, "Keep the experience text under 2000 characters."),
   yearsExperience: z.number({ error: "Enter a whole number of years." }).int("Enter a whole number of years.").min(0, "Years can't be negative.").max(70, "Enter at most 70 years.").optional(),
-});
+}).superRefine(strongPassword("password", (v) => [v.email, v.name]));
 export type ExpertApplicationInput = z.infer<typeof expertApplicationSchema>;
 
 export const requestPasswordResetSchema = z.object({
@@ -79,14 +102,14 @@ export type RequestPasswordResetInput = z.infer<typeof requestPasswordResetSchem
 export const resetPasswordSchema = z.object({
   token: z.string({ error: "The reset link is incomplete: open it again from the e-mail." }).min(1, "The reset link is incomplete: open it again from the e-mail.").max(500),
   newPassword: newPasswordSchema,
-});
+}).superRefine(strongPassword("newPassword"));
 export type ResetPasswordInput = z.infer<typeof resetPasswordSchema>;
 
 export const changePasswordSchema = z.object({
   currentPassword: z.string().min(1, "Enter your current password.").max(PASSWORD_MAX),
   newPassword: newPasswordSchema,
   revokeOtherSessions: z.boolean().optional(),
-});
+}).superRefine(strongPassword("newPassword"));
 
 export const resendVerificationSchema = z.object({
   email: emailSchema,
@@ -110,7 +133,7 @@ export const acceptInviteSchema = z.object({
   token: inviteTokenSchema,
   name: personNameSchema,
   password: newPasswordSchema,
-});
+}).superRefine(strongPassword("password", (v) => [v.name]));
 export type AcceptInviteInput = z.infer<typeof acceptInviteSchema>;
 
 export const expertStatuses = ["pending", "approved", "rejected", "suspended"] as const;

@@ -5,7 +5,7 @@ import path from "node:path";
 import { build } from "vite";
 import { chromium, type Browser } from "playwright-core";
 import { startServer, type RunningServer } from "../../server/index";
-import { seedDemoIfEmpty } from "../../demo/seed";
+import { demoPlugin } from "../../demo/plugin";
 
 // The issue's browser criterion: a new user signs up a shop, clicks the verification link in
 // /dev/mail, signs in and invites a technician — here at phone width (390 px), then the invited
@@ -30,8 +30,9 @@ beforeAll(async () => {
     FAKE_STRIPE_PORT: "0",
     LOG_LEVEL: "silent",
     DEMO: "true",
-  });
-  await seedDemoIfEmpty(server.ctx);
+  }, undefined, { demo: demoPlugin });
+  // the demo is seeded before the server reports ready (as `npm start` does)
+  await server.ready;
   browser = await chromium.launch({ executablePath, args: ["--no-sandbox"] });
 });
 
@@ -106,5 +107,50 @@ test("a demo account signs in from the keyboard on the sign-in page", async () =
   await page.keyboard.press("Enter");
   await page.getByRole("heading", { name: "Experts awaiting approval" }).waitFor();
   expect(await page.evaluate(() => fetch("/api/me").then((r) => r.json()))).toMatchObject({ email: "admin@burnline.test", role: "admin", shopId: null });
+  await ctx.close();
+});
+
+// Issue 13 (first run): every signed-out page logged a console error for `GET /api/me` → 401.
+// The session probe answers 200 when signed out, so a signed-out visitor's console stays clean.
+test("signed-out pages log no console error", async () => {
+  const ctx = await browser.newContext({ viewport: { width: 390, height: 844 } });
+  const page = await ctx.newPage();
+  const errors: string[] = [];
+  page.on("console", (m) => {
+    if (m.type() === "error") errors.push(`${page.url()}: ${m.text()}`);
+  });
+  page.on("pageerror", (e) => errors.push(`${page.url()}: ${String(e)}`));
+  for (const path of ["/", "/sign-in", "/sign-up", "/apply", "/forgot-password", "/cases"]) {
+    await page.goto(server.url + path);
+    await page.getByRole("heading").first().waitFor();
+    await page.waitForLoadState("networkidle");
+  }
+  expect(errors).toEqual([]);
+  await ctx.close();
+});
+
+// Issue 12 item 11: the form shows why a password is refused, live while typing (the estimator's
+// dictionaries load on demand) and on submit, with the same rule the server applies.
+test("the sign-up form explains why a password is refused", async () => {
+  const ctx = await browser.newContext({ viewport: { width: 390, height: 844 } });
+  const page = await ctx.newPage();
+  const scripts: string[] = [];
+  page.on("request", (r) => r.resourceType() === "script" && scripts.push(r.url()));
+  await page.goto(server.url + "/sign-in");
+  await page.getByRole("heading", { name: "Sign in" }).waitFor();
+  const firstPage = scripts.length;
+  await page.goto(server.url + "/sign-up");
+  await page.getByLabel("Shop name").fill("Ashgrove Bay");
+  await page.getByLabel("Your name").fill("Rae Lund");
+  await page.getByLabel("E-mail address").fill("rae@ashgrove.test");
+  await page.getByLabel("Password", { exact: true }).fill("burnline-demo");
+  const meter = page.getByTestId("password-strength");
+  await meter.getByText(/Burnline's own name/).waitFor();
+  // the dictionaries came later than the first page, as separate scripts
+  expect(scripts.length).toBeGreaterThan(firstPage);
+  await page.getByRole("button", { name: "Create the shop" }).click();
+  await page.getByText(/Burnline's own name/).first().waitFor();
+  await page.getByLabel("Password", { exact: true }).fill("Quiet-lathe-orbit-73");
+  await meter.getByText(/hard to guess\./i).waitFor();
   await ctx.close();
 });

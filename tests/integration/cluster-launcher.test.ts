@@ -131,7 +131,7 @@ describe.skipIf(missing.length > 0)(`npm run cluster with two nodes${skipReason}
     for (let i = 0; i < 4; i++) {
       const res = await fetch(`http://127.0.0.1:${plan.port}/api/health`);
       expect(res.status).toBe(200);
-      expect(await res.json()).toEqual({ ok: true });
+      expect(await res.json()).toEqual({ ok: true, ready: true });
       served.add(res.headers.get("x-burnline-node") ?? "?");
     }
     // HAProxy's roundrobin alternates between the two healthy servers
@@ -142,7 +142,7 @@ describe.skipIf(missing.length > 0)(`npm run cluster with two nodes${skipReason}
     for (const p of plan.nodePorts) {
       const res = await fetch(`http://127.0.0.1:${p}/api/health`);
       expect(res.status).toBe(200);
-      expect(await res.json()).toEqual({ ok: true });
+      expect(await res.json()).toEqual({ ok: true, ready: true });
     }
   });
 

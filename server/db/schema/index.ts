@@ -5,4 +5,5 @@ export * from "./cases";
 export * from "./queue";
 export * from "./live";
 export * from "./casebook";
+export * from "./mail";
 export * from "./desk";

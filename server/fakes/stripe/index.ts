@@ -50,8 +50,10 @@ export interface FakeStripeOptions {
   webhookUrl?: string;
   /** The signing secret shared with the app (e.g. "whsec_…"). */
   webhookSecret: string;
-  /** Base of the URLs handed to browsers (session.url). Default http://<host>:<port>. */
+  /** Base of the URLs handed to browsers (session.url). Default http://<publicHost or host>:<port>. */
   publicBaseUrl?: string;
+  /** Host name for the URLs handed to browsers when publicBaseUrl is not given (e.g. the app's own, "localhost"). */
+  publicHost?: string;
   /** Webhook retry schedule. Default { baseMs: 1000, maxAttempts: 8, maxDelayMs: 60000 }. */
   retry?: RetryPolicy;
   /** Per-attempt webhook timeout. Default 10 s. */
@@ -506,7 +508,8 @@ export async function startFakeStripe(options: FakeStripeOptions): Promise<FakeS
   const port = (server.address() as AddressInfo).port;
   const urlHost = host === "0.0.0.0" || host === "::" ? "127.0.0.1" : host.includes(":") ? `[${host}]` : host;
   const url = `http://${urlHost}:${port}`;
-  publicBase = (options.publicBaseUrl ?? url).replace(/\/+$/, "");
+  const browserBase = options.publicHost ? `http://${options.publicHost}:${port}` : url;
+  publicBase = (options.publicBaseUrl ?? browserBase).replace(/\/+$/, "");
 
   // Holds lapse and sessions expire with the passage of time even when no request arrives.
   // Stripe keeps idempotency results for at least 24 hours (docs.stripe.com/api/idempotent_requests).

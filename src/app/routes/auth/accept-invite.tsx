@@ -9,6 +9,7 @@ import { useSignIn } from "../../../features/auth/api/sign-in";
 import { authPages } from "../../../features/auth/api/paths";
 import { AuthLayout } from "../../../features/auth/components/auth-layout";
 import { applyServerErrors } from "../../../features/auth/lib/form-errors";
+import { PasswordStrength } from "../../../features/auth/components/password-strength";
 import { passwordHint } from "../../../features/auth/lib/password-hint";
 import { Notice, PasswordField, TextField, buttonClass } from "../../../components/ui/form";
 
@@ -65,6 +66,9 @@ function AcceptForm({ token, invite }: { token: string; invite: InvitePreview })
         <TextField label="E-mail address" value={invite.email} readOnly hint="Set by the invitation; you sign in with it." />
         <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
         <PasswordField label="Choose a password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
+        {errors.password ? null : (
+          <PasswordStrength password={form.watch("password") ?? ""} userInputs={[form.watch("name")]} />
+        )}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={busy}>
           {busy ? "Joining…" : `Join ${invite.shopName}`}
         </button>

@@ -9,6 +9,7 @@ import { authPages } from "../../../features/auth/api/paths";
 import { AuthLayout } from "../../../features/auth/components/auth-layout";
 import { LinkSent } from "../../../features/auth/components/link-sent";
 import { applyServerErrors } from "../../../features/auth/lib/form-errors";
+import { PasswordStrength } from "../../../features/auth/components/password-strength";
 import { passwordHint } from "../../../features/auth/lib/password-hint";
 import { systemLabels } from "../../../features/auth/lib/labels";
 import { Notice, PasswordField, TextArea, TextField, buttonClass, inputClass } from "../../../components/ui/form";
@@ -84,6 +85,9 @@ export function ApplyPage() {
         <TextField label="E-mail address" type="email" autoComplete="email" inputMode="email" autoCapitalize="none" error={errors.email?.message} {...form.register("email")} />
         <div className="sm:col-span-2">
           <PasswordField label="Password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
+          {errors.password ? null : (
+            <PasswordStrength password={form.watch("password") ?? ""} userInputs={form.watch(["email", "name"])} />
+          )}
         </div>
         <fieldset className="sm:col-span-2" aria-describedby={systemsError ? "apply-systems-error" : undefined}>
           <legend className="mb-1 text-sm font-semibold text-ink-800">Systems you specialise in</legend>

@@ -10,6 +10,7 @@ import { authPages } from "../../../features/auth/api/paths";
 import { AuthLayout } from "../../../features/auth/components/auth-layout";
 import { applyServerErrors } from "../../../features/auth/lib/form-errors";
 import { Notice, PasswordField, buttonClass } from "../../../components/ui/form";
+import { PasswordStrength } from "../../../features/auth/components/password-strength";
 import { passwordHint } from "../../../features/auth/lib/password-hint";
 
 type Values = z.input<typeof resetPasswordSchema>;
@@ -75,6 +76,7 @@ export function ResetPasswordPage() {
       <form onSubmit={submit} noValidate className="mt-4 space-y-4">
         <input type="hidden" {...form.register("token")} />
         <PasswordField label="New password" autoComplete="new-password" hint={passwordHint} error={form.formState.errors.newPassword?.message} {...form.register("newPassword")} />
+        {form.formState.errors.newPassword ? null : <PasswordStrength password={form.watch("newPassword") ?? ""} />}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={reset.isPending}>
           {reset.isPending ? "Saving…" : "Set the new password"}
         </button>

@@ -15,6 +15,12 @@ import { Notice, PasswordField, TextField, buttonClass } from "../../../componen
 
 type Values = z.input<typeof signInSchema>;
 
+function errorTitle(code: string): string {
+  if (code === "email_not_verified") return "Confirm your e-mail address first";
+  if (code === "rate_limited" || code === "sign_in_delayed") return "Too many attempts";
+  return "Sign-in failed";
+}
+
 export function SignInPage() {
   const [sp] = useSearchParams();
   const location = useLocation();
@@ -49,7 +55,7 @@ export function SignInPage() {
           </Notice>
         ) : null}
         {formError ? (
-          <Notice tone="error" title={formError.code === "email_not_verified" ? "Confirm your e-mail address first" : formError.code === "rate_limited" ? "Too many attempts" : "Sign-in failed"}>
+          <Notice tone="error" title={errorTitle(formError.code)}>
             {formError.message}
             {formError.code === "email_not_verified" ? <DevMailHint /> : null}
           </Notice>

@@ -4,6 +4,7 @@ import { zodResolver } from "@hookform/resolvers/zod";
 import { Link } from "react-router-dom";
 import type { z } from "zod";
 import { shopSignUpSchema } from "../../../../shared/schemas/auth";
+import { PasswordStrength } from "../../../features/auth/components/password-strength";
 import { passwordHint } from "../../../features/auth/lib/password-hint";
 import { useSignUpShop } from "../../../features/auth/api/sign-up-shop";
 import { authPages } from "../../../features/auth/api/paths";
@@ -50,6 +51,12 @@ export function SignUpPage() {
         <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
         <TextField label="E-mail address" type="email" autoComplete="email" inputMode="email" autoCapitalize="none" error={errors.email?.message} {...form.register("email")} />
         <PasswordField label="Password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
+        {errors.password ? null : (
+          <PasswordStrength
+            password={form.watch("password") ?? ""}
+            userInputs={form.watch(["email", "name", "shopName"])}
+          />
+        )}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={signUp.isPending}>
           {signUp.isPending ? "Creating the shop…" : "Create the shop"}
         </button>

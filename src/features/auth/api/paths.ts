@@ -1,6 +1,7 @@
 /** The account API's URL paths and the auth pages, defined once. */
 export const authPaths = {
   me: "/api/me",
+  session: "/api/session",
   config: "/api/config",
   signIn: "/api/auth/sign-in/email",
   signOut: "/api/auth/sign-out",

@@ -1,0 +1,127 @@
+/**
+ * Sign-in throttling, in front of better-auth's `/sign-in/email`, kept in the `rate_limit` table
+ * under keys of our own:
+ *
+ * - Per client address: at most ADDRESS_RULE.max *failed* sign-ins per window; then 429
+ *   `rate_limited` until the window closes. Successful sign-ins do not count, so a person switching
+ *   between accounts (the four demo accounts in development) never meets it.
+ * - Per account (the e-mail address as typed, known or not, so the answers do not reveal which
+ *   addresses are registered): after ACCOUNT_FREE_FAILURES failures in a row, each further attempt
+ *   must wait a delay that doubles from 2 s up to 15 min (429 `sign_in_delayed` with Retry-After)
+ *   — a growing delay, never a lockout: the right password works once the delay is over, and a
+ *   success starts the count afresh. Failures older than a day are forgotten. When the run of
+ *   failures reaches the threshold, the account's owner is mailed (once per run).
+ *
+ * An attempt reserves its place before the password is checked (the counters are updated in the
+ * same immediate transaction that reads them), so simultaneous attempts are counted one by one;
+ * an attempt that ends neither in a wrong password nor in a success gives its place back.
+ */
+import { createHash } from "node:crypto";
+import { sql } from "drizzle-orm";
+import type { AppContext } from "../context";
+
+export const ADDRESS_RULE = { window: 60, max: 5 } as const;
+export const ACCOUNT_FREE_FAILURES = 6;
+export const ACCOUNT_BASE_DELAY_S = 2;
+export const ACCOUNT_MAX_DELAY_S = 15 * 60;
+export const ACCOUNT_FORGET_AFTER_S = 24 * 3600;
+
+export type Refusal = { scope: "address" | "account"; retryAfter: number };
+export type Outcome = "success" | "failure" | "other";
+
+export interface Reservation {
+  /** Records how the attempt ended; returns true when this failure is the one to tell the owner about. */
+  settle(outcome: Outcome): { notifyOwner: boolean };
+}
+
+/** The wait, in seconds, before attempt number failures+1 once `failures` have failed in a row. */
+export function accountDelaySeconds(failures: number): number {
+  if (failures < ACCOUNT_FREE_FAILURES) return 0;
+  return Math.min(ACCOUNT_MAX_DELAY_S, ACCOUNT_BASE_DELAY_S * 2 ** (failures - ACCOUNT_FREE_FAILURES));
+}
+
+const accountKey = (email: string) =>
+  `signin-account|${createHash("sha256").update(email.trim().toLowerCase()).digest("hex")}`;
+const addressKey = (ip: string) => `signin-address|${ip}`;
+
+interface Row {
+  count: number;
+  last_request: number;
+}
+
+/**
+ * Checks both limits for one attempt and, when it may go ahead, reserves it. Returns the refusal
+ * (with the seconds to wait) or the reservation to settle once the attempt's outcome is known.
+ */
+export function reserveSignIn(ctx: AppContext, ip: string, email: string): Refusal | Reservation {
+  const now = ctx.now().getTime();
+  const aKey = addressKey(ip);
+  const kKey = accountKey(email);
+  const read = (key: string) =>
+    ctx.db.get<Row | undefined>(sql`SELECT count, last_request FROM rate_limit WHERE key = ${key}`);
+  const write = (key: string, count: number, last: number) =>
+    ctx.db
+      .run(sql`INSERT INTO rate_limit (id, key, count, last_request)
+        VALUES (${crypto.randomUUID()}, ${key}, ${count}, ${last})
+      ON CONFLICT(key) DO UPDATE SET count = excluded.count, last_request = excluded.last_request`);
+
+  type Decision = Refusal | { failures: number; addressStart: number };
+  const decided = ctx.db.transaction(
+    (): Decision => {
+      const windowMs = ADDRESS_RULE.window * 1000;
+      let address = read(aKey);
+      if (address && now - address.last_request >= windowMs) address = undefined;
+      if (address && address.count >= ADDRESS_RULE.max) {
+        return {
+          scope: "address" as const,
+          retryAfter: Math.max(1, Math.ceil((address.last_request + windowMs - now) / 1000)),
+        };
+      }
+      let account = read(kKey);
+      if (account && now - account.last_request >= ACCOUNT_FORGET_AFTER_S * 1000) account = undefined;
+      const failures = account?.count ?? 0;
+      const wait = accountDelaySeconds(failures) * 1000;
+      if (account && wait > 0 && now < account.last_request + wait) {
+        return {
+          scope: "account" as const,
+          retryAfter: Math.max(1, Math.ceil((account.last_request + wait - now) / 1000)),
+        };
+      }
+      write(aKey, (address?.count ?? 0) + 1, address?.last_request ?? now);
+      write(kKey, failures + 1, now);
+      return { failures: failures + 1, addressStart: address?.last_request ?? now };
+    },
+    { behavior: "immediate" },
+  );
+  if ("scope" in decided) return decided;
+  const { failures, addressStart } = decided;
+  // now and then, forget what no rule looks at any more (addresses typed once, old runs of failures)
+  if (Math.random() < 0.01) {
+    ctx.db.run(
+      sql`DELETE FROM rate_limit WHERE key LIKE 'signin-%' AND last_request < ${now - ACCOUNT_FORGET_AFTER_S * 1000}`,
+    );
+  }
+
+  let settled = false;
+  return {
+    settle(outcome) {
+      if (settled) return { notifyOwner: false };
+      settled = true;
+      ctx.db.transaction(
+        () => {
+          // the address counts failures only
+          if (outcome !== "failure")
+            ctx.db.run(
+              sql`UPDATE rate_limit SET count = MAX(0, count - 1)
+                WHERE key = ${aKey} AND last_request = ${addressStart}`,
+            );
+          if (outcome === "success") ctx.db.run(sql`DELETE FROM rate_limit WHERE key = ${kKey}`);
+          else if (outcome === "other")
+            ctx.db.run(sql`UPDATE rate_limit SET count = MAX(0, count - 1) WHERE key = ${kKey}`);
+        },
+        { behavior: "immediate" },
+      );
+      return { notifyOwner: outcome === "failure" && failures === ACCOUNT_FREE_FAILURES };
+    },
+  };
+}
