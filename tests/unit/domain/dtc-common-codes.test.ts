@@ -34,6 +34,7 @@ describe("common codes have a description", () => {
     expect(description("P0563")).toMatch(/voltage.*high/i);
   });
   it("each is shown with its code", () => {
-    for (const code of ["P0011", "P0016", "P0087", "P0562"]) expect(describeDtc(code)).toMatch(new RegExp(`^${code} — \\w`));
+    for (const code of ["P0011", "P0016", "P0087", "P0562"])
+      expect(describeDtc(code)).toMatch(new RegExp(`^${code} — \\w`));
   });
 });

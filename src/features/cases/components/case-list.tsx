@@ -350,11 +350,9 @@ function CaseTable({
               {admin ? <td className="px-3 py-3 align-top">{c.shopName ?? "—"}</td> : null}
               <td className="px-3 py-3 align-top">
                 <StatusBadge status={c.status} />
-                <p
-                  className={`mt-1 max-w-56 text-xs ${waitingTone(c)}`}
-                >
-                  {c.waiting.text}
-                </p>
+                {c.waiting.on === "nobody" ? null : (
+                  <p className={`mt-1 max-w-56 text-xs ${waitingTone(c)}`}>{c.waiting.text}</p>
+                )}
               </td>
               <td className="px-3 py-3 align-top">{c.expert?.name ?? <span className="text-ink-400">—</span>}</td>
               <td className="px-3 py-3 align-top">

@@ -25,6 +25,8 @@ export function AdminCaseActions({ w }: { w: WorkflowView }) {
   const can = w.abilities;
   const left = formatTimeLeft(w.deadlineAt);
   const risk = deadlineRisk(w.status, w.deadlineAt, null);
+  // what the last action came to (its step is gone once the case no longer allows it)
+  const [done, setDone] = useState<string | null>(null);
   return (
     <Card id="desk-actions" title="The desk's view">
       <div className="space-y-4">
@@ -51,11 +53,16 @@ export function AdminCaseActions({ w }: { w: WorkflowView }) {
               : "None"}
           </Fact>
         </dl>
+        {done ? (
+          <p role="status" className="text-sm font-semibold text-verdigris-600">
+            {done}
+          </p>
+        ) : null}
         {can.refund || can.reassign || can.release ? (
           <div className="space-y-3">
-            {can.refund && w.payment ? <RefundAction w={w} /> : null}
-            {can.reassign ? <ReassignAction w={w} /> : null}
-            {can.release ? <ReleaseAction w={w} /> : null}
+            {can.refund && w.payment ? <RefundAction w={w} onDone={setDone} /> : null}
+            {can.reassign ? <ReassignAction w={w} onDone={setDone} /> : null}
+            {can.release ? <ReleaseAction w={w} onDone={setDone} /> : null}
           </div>
         ) : (
           <p className="text-sm text-ink-600">Nothing for the desk to do on this case now.</p>
@@ -85,8 +92,8 @@ function TwoStep(props: {
   confirmLabel: string;
   pending: boolean;
   error?: string;
-  done?: string;
-  onConfirm: (close: () => void) => void;
+  /** runs the action; resolves when it is done (the step then closes), rejects on a refusal */
+  onConfirm: () => Promise<unknown>;
   children: ReactNode;
 }) {
   const [step, setStep] = useState<Step>("closed");
@@ -97,11 +104,6 @@ function TwoStep(props: {
         <button type="button" className={buttonClass.secondary} onClick={() => setStep("form")}>
           {props.label}
         </button>
-        {props.done ? (
-          <p role="status" className="mt-2 text-sm font-semibold text-verdigris-600">
-            {props.done}
-          </p>
-        ) : null}
       </div>
     );
   }
@@ -134,7 +136,7 @@ function TwoStep(props: {
               type="button"
               className={buttonClass.danger}
               disabled={props.pending}
-              onClick={() => props.onConfirm(close)}
+              onClick={() => void props.onConfirm().then(close, () => undefined)}
             >
               {props.pending ? "Working…" : props.confirmLabel}
             </button>
@@ -177,7 +179,9 @@ function ReasonField({ value, onChange, hint }: { value: string; onChange: (v: s
   );
 }
 
-function RefundAction({ w }: { w: WorkflowView }) {
+type Done = (message: string) => void;
+
+function RefundAction({ w, onDone }: { w: WorkflowView; onDone: Done }) {
   const { refund } = useAdminCaseActions(w.id);
   const [reason, setReason] = useState("");
   const p = w.payment!;
@@ -188,9 +192,6 @@ function RefundAction({ w }: { w: WorkflowView }) {
     `${held ? `Release the ${amount} hold on` : `Refund ${amount} to`} ${w.shopName ?? "the shop"}'s card.` +
     (ends ? " The case ends now and no expert can answer it." : " The case keeps its state and its answer.") +
     ` Reason: “${reason.trim()}”.`;
-  const done = refund.data
-    ? `Done: ${paymentState[refund.data.payment.status] ?? refund.data.payment.status}.`
-    : undefined;
   return (
     <TwoStep
       label="Refund the payment…"
@@ -200,8 +201,10 @@ function RefundAction({ w }: { w: WorkflowView }) {
       confirmLabel={held ? `Yes, release ${amount}` : `Yes, refund ${amount}`}
       pending={refund.isPending}
       error={refund.error?.message}
-      done={done}
-      onConfirm={(close) => refund.mutate(reason.trim(), { onSuccess: close })}
+      onConfirm={async () => {
+        const r = await refund.mutateAsync(reason.trim());
+        onDone(`Done: ${paymentState[r.payment.status] ?? r.payment.status}.`);
+      }}
     >
       <ReasonField
         value={reason}
@@ -212,7 +215,7 @@ function RefundAction({ w }: { w: WorkflowView }) {
   );
 }
 
-function ReassignAction({ w }: { w: WorkflowView }) {
+function ReassignAction({ w, onDone }: { w: WorkflowView; onDone: Done }) {
   const { reassign } = useAdminCaseActions(w.id);
   const experts = useApprovedExperts(true);
   const [expertId, setExpertId] = useState("");
@@ -233,8 +236,10 @@ function ReassignAction({ w }: { w: WorkflowView }) {
       confirmLabel={`Yes, hand it to ${chosen?.name ?? "them"}`}
       pending={reassign.isPending}
       error={reassign.error?.message}
-      done={reassign.isSuccess ? `Done: the case is with ${w.expert?.name ?? "the new expert"}.` : undefined}
-      onConfirm={(close) => reassign.mutate({ expertId, reason: reason.trim() }, { onSuccess: close })}
+      onConfirm={async () => {
+        await reassign.mutateAsync({ expertId, reason: reason.trim() });
+        onDone(`Done: the case is with ${chosen?.name ?? "the new expert"}.`);
+      }}
     >
       <div>
         <label htmlFor={selectId} className="mb-1 block text-sm font-semibold text-ink-800">
@@ -260,7 +265,7 @@ function ReassignAction({ w }: { w: WorkflowView }) {
   );
 }
 
-function ReleaseAction({ w }: { w: WorkflowView }) {
+function ReleaseAction({ w, onDone }: { w: WorkflowView; onDone: Done }) {
   const { release } = useAdminCaseActions(w.id);
   return (
     <TwoStep
@@ -273,7 +278,10 @@ function ReleaseAction({ w }: { w: WorkflowView }) {
       confirmLabel="Yes, back to the queue"
       pending={release.isPending}
       error={release.error?.message}
-      onConfirm={(close) => release.mutate(undefined, { onSuccess: close })}
+      onConfirm={async () => {
+        await release.mutateAsync();
+        onDone("Done: the case is back in the queue.");
+      }}
     >
       <p className="text-sm text-ink-700">
         Any approved expert can then claim it. The expert and the shop are told; the case's history records it.

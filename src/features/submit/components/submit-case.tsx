@@ -145,10 +145,14 @@ function PayStep({
       globalThis.location.assign(resume);
       return;
     }
-    submit.mutate(
-      { tier: chosen.id },
-      { onSuccess: (r) => globalThis.location.assign(r.checkoutUrl), onSettled: () => setPreparing(false) },
-    );
+    // mutateAsync: the answer is used even when this step has unmounted meanwhile (the draft page
+    // turns into the case's page as soon as the case has left the draft stage)
+    try {
+      const r = await submit.mutateAsync({ tier: chosen.id });
+      globalThis.location.assign(r.checkoutUrl);
+    } catch {
+      setPreparing(false);
+    }
   };
 
   return (
