@@ -49,7 +49,13 @@ async function contextOf(agent: SignedInAgent | null, label: string): Promise<Pa
     await ctx.addCookies(
       agent.cookie.split("; ").map((c) => {
         const i = c.indexOf("=");
-        return { name: c.slice(0, i), value: c.slice(i + 1), url: server.url, httpOnly: true, sameSite: "Lax" as const };
+        return {
+          name: c.slice(0, i),
+          value: c.slice(i + 1),
+          url: server.url,
+          httpOnly: true,
+          sameSite: "Lax" as const,
+        };
       }),
     );
     watchErrors(ctx, errors, label);
@@ -95,14 +101,27 @@ beforeAll(async () => {
     admin: await signIn(server, await createAdmin(server)),
   };
   // a case the expert works on now (chat), one answered and charged (a receipt, earnings), one of another shop
-  seeded.claimed = insertLiveCase(server.ctx, { shopId: shopA.shop.id, createdBy: shopA.technicians[0].id, expertId: expert.id })
-    .caseId;
+  seeded.claimed = insertLiveCase(server.ctx, {
+    shopId: shopA.shop.id,
+    createdBy: shopA.technicians[0].id,
+    expertId: expert.id,
+  }).caseId;
   seeded.answered = insertDraftCase(test, { shopId: shopA.shop.id, createdBy: shopA.technicians[0].id });
   // one secondary-ignition capture (the project's generator: 2000 rpm, 1.5 ms burn) for the report's figure
-  const capture = generateSecondary({ seed: 7, sampleRateHz: 500_000, rpm: 2000, events: 2, kvPerVolt: 10, burnTimeMs: 1.5 });
+  const capture = generateSecondary({
+    seed: 7,
+    sampleRateHz: 500_000,
+    rpm: 2000,
+    events: 2,
+    kvPerVolt: 10,
+    burnTimeMs: 1.5,
+  });
   const up = await agents.tech
     .post(`/api/cases/${seeded.answered}/traces`)
-    .field("settings", JSON.stringify({ kind: "secondary-ignition", voltsPerDiv: 1, timePerDivS: 0.002, kvPerVolt: 10 }))
+    .field(
+      "settings",
+      JSON.stringify({ kind: "secondary-ignition", voltsPerDiv: 1, timePerDivS: 0.002, kvPerVolt: 10 }),
+    )
     .attach("file", Buffer.from(renderCsv(capture.trace, { timeUnit: "ms" })), {
       filename: "coil3.csv",
       contentType: "text/csv",
@@ -133,7 +152,9 @@ beforeAll(async () => {
   };
   pages.anon.on("console", (m) => m.type() === "error" && anonConsole.push(`${m.text()} @ ${pages.anon.url()}`));
   pages.anon.on("pageerror", (e) => anonConsole.push(`pageerror: ${String(e)}`));
-  expertSocket = await connected(liveClient(server.url.replace("localhost", "127.0.0.1"), { cookie: agents.expert.cookie }));
+  expertSocket = await connected(
+    liveClient(server.url.replace("localhost", "127.0.0.1"), { cookie: agents.expert.cookie }),
+  );
   const joined = await ask(expertSocket, "case:join", { caseId: seeded.claimed, since: 0 });
   expect(joined.ok, JSON.stringify(joined)).toBe(true);
 });
@@ -217,14 +238,20 @@ describe.sequential.each(WIDTHS)("at %i px", (w) => {
     await tech.waitForLoadState("networkidle");
     const before = await bell.innerText();
     // the expert writes in the case's chat (another machine, over the live connection)
-    const sent = await ask(expertSocket, "chat:send", { text: `Capture coil 2 at 2500 rpm, please (${w}).`, clientId: `e2e-msg-${w}` });
+    const sent = await ask(expertSocket, "chat:send", {
+      text: `Capture coil 2 at 2500 rpm, please (${w}).`,
+      clientId: `e2e-msg-${w}`,
+    });
     expect(sent.ok, JSON.stringify(sent)).toBe(true);
     // no reload: the notice count and the case's unread messages change on the open page
     await expect.poll(() => bell.innerText(), { timeout: 15_000 }).not.toBe(before);
     await card.getByText(/\d+ messages? new/).waitFor({ timeout: 15_000 });
     await bell.click();
     const panel = tech.locator(`#${await bell.getAttribute("aria-controls")}`);
-    await panel.getByText(/^(New message from Rosa Quint|\d+ new messages): /).first().waitFor();
+    await panel
+      .getByText(/^(New message from Rosa Quint|\d+ new messages): /)
+      .first()
+      .waitFor();
     await tech.screenshot({ path: path.join(SHOTS, `tech-notice-of-new-message-${w}.png`) });
     // read them all, so the next width starts from no unread notice
     await panel.getByRole("button", { name: "Mark all read" }).click();
@@ -298,7 +325,10 @@ describe.sequential.each(WIDTHS)("at %i px", (w) => {
       await card.waitFor();
       for (const text of [/\$49\.00/, /Charged/, /Receipt: BL-/]) await card.getByText(text).first().waitFor();
       await pages.expert.goto(`${server.url}/earnings`);
-      const earning = pages.expert.getByRole("list", { name: /your share of each/ }).getByRole("listitem").first();
+      const earning = pages.expert
+        .getByRole("list", { name: /your share of each/ })
+        .getByRole("listitem")
+        .first();
       await earning.getByText("You", { exact: true }).waitFor();
     }
   });
