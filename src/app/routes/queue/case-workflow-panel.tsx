@@ -27,7 +27,8 @@ export function CaseWorkflowPanel({ caseId, status }: { caseId: string; status: 
   const shop = role === "technician" || role === "owner";
   const wf = useStatusInStep(caseId, status, shop && status === "queued" ? 10_000 : undefined);
   const detail = useCase(caseId);
-  useMarkCaseSeen(caseId, !!role);
+  // readers only (an approved expert looking at a queued case before claiming it is not one)
+  useMarkCaseSeen(caseId, !!detail.data?.abilities.read);
   return (
     <div className="space-y-5">
       {shop && (status === "draft" || status === "awaiting_payment" || status === "queued") ? (
