@@ -37,6 +37,14 @@ export const envSchema = z.object({
   FAKE_STRIPE_PORT: z.coerce.number().int().min(0).default(3012),
   MAX_TRACE_BYTES: z.coerce.number().int().positive().default(200 * 1024 * 1024),
   MAX_PHOTO_BYTES: z.coerce.number().int().positive().default(15 * 1024 * 1024),
+  /** upload pool threads (server/uploads/pool.ts); 0 = one per core but one, at least one */
+  UPLOAD_WORKERS: z.coerce.number().int().min(0).max(64).default(0),
+  /** captures that may wait for a pool thread before new ones are refused with 503 busy */
+  UPLOAD_QUEUE: z.coerce.number().int().min(0).default(32),
+  /** an unfinished resumable upload is removed this long after it was created */
+  UPLOAD_EXPIRY_HOURS: z.coerce.number().positive().default(24),
+  /** a stored file no row references is removed once it is this old (the periodic reconcile) */
+  ORPHAN_GRACE_MINUTES: z.coerce.number().min(0).default(60),
   /** the seller printed on receipts (an invented demo seller by default) */
   SELLER_NAME: z.string().trim().min(1).default("Burnline Desk Services (demo seller)"),
   SELLER_ADDRESS: z.string().trim().min(1).default("12 Sample Row, Exampleton, EX 00000"),

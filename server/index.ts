@@ -13,7 +13,8 @@ import { startFakeStripe } from "./fakes/stripe/index";
 import { attachRealtime } from "./realtime/index";
 import { startBackground } from "./services/background";
 import { workflowSweeps } from "./workflow/sweeps";
-import { stopAnalysisWorker } from "./uploads/analysis";
+import { stopUploadPool } from "./uploads/pool";
+import { reconcileDataFolder, startReconcileTimer } from "./uploads/reconcile";
 import { stopCasebookSearch, warmCasebookSearch } from "./services/casebook-search";
 import { createLogger } from "./logging";
 import { createReadiness, healthAnswer, type Readiness } from "./readiness";
@@ -22,7 +23,7 @@ import { warmPasswordEstimator } from "./auth/password-strength";
 
 const LOOPBACK_NAMES = new Set(["localhost", "127.0.0.1", "[::1]"]);
 
-/** Servers running in this process; the analysis worker is shared by them and stops with the last. */
+/** Servers running in this process; the upload pool is shared by them and stops with the last. */
 let running = 0;
 
 export interface RunningServer {
@@ -136,6 +137,9 @@ export async function startServer(
     readiness,
     demo: demo ? { password: demo.password, signIns: demo.signIns } : null,
   };
+  // leftovers of a crash go before the first request can start an upload
+  await reconcileDataFolder(ctx, { startup: true });
+  const reconcileTimer = startReconcileTimer(ctx);
   const app = createApp(ctx, { clientDir: path.resolve("dist/client") });
   handler = app;
   const realtime = attachRealtime(server, ctx, app.locals.auth);
@@ -176,6 +180,7 @@ export async function startServer(
       readiness.stopping();
       background.stop();
       await dispatcher.stop();
+      reconcileTimer.stop();
       await realtime.close();
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections?.();
@@ -183,7 +188,7 @@ export async function startServer(
       transport.close();
       await mailCatcher?.close();
       await stopCasebookSearch(ctx);
-      if (--running === 0) await stopAnalysisWorker();
+      if (--running === 0) await stopUploadPool();
       db.$client.close();
     },
   };

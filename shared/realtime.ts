@@ -105,6 +105,54 @@ export interface CaseUpdatedPayload {
   updatedAt: string;
 }
 
+/**
+ * Where a capture upload is, as the server sees it; sent to the case room as `upload:progress` on
+ * every stage change and at most twice a second while bytes arrive (server/uploads/progress.ts).
+ * - sending: bytes arriving (compressed ones when the browser compresses); `totalBytes` is null
+ *   while the sender is still compressing (it declares the length with the last piece)
+ * - interrupted: the link dropped (or went silent) part-way; the sender resumes from `receivedBytes`
+ * - resuming: the sender is back and asked where to continue
+ * - queued: all bytes are in; every pool thread is busy, `queuePosition` is its place in line
+ * - checking: decompressing, checking and parsing (`fraction` of the received bytes read)
+ * - measuring: the channels are stored; the waveform is being measured
+ * - stored: the trace exists (`traceId`); refused: `error` says why; cancelled: the sender gave up
+ */
+export const UPLOAD_STAGES = [
+  "sending",
+  "interrupted",
+  "resuming",
+  "queued",
+  "checking",
+  "measuring",
+  "stored",
+  "refused",
+  "cancelled",
+] as const;
+export type UploadStage = (typeof UPLOAD_STAGES)[number];
+
+export interface UploadProgressPayload {
+  caseId: string;
+  uploadId: string;
+  /** the file's name as the tech gave it */
+  name: string;
+  by: { userId: string; name: string };
+  stage: UploadStage;
+  receivedBytes: number;
+  totalBytes: number | null;
+  /** size of the file as the tech has it (before compression), when the sender stated it */
+  fileBytes: number | null;
+  compressed: boolean;
+  /** bytes per second over the last few seconds while sending */
+  rateBytesPerS: number | null;
+  /** seconds left at that rate (null while the total is unknown) */
+  etaS: number | null;
+  queuePosition: number | null;
+  fraction: number | null;
+  traceId: string | null;
+  error: { code: string; message: string } | null;
+  at: string;
+}
+
 /** What the actor may do in the room (the client only hides controls; the server decides). */
 export interface LiveAbilities {
   annotate: boolean;
@@ -158,6 +206,8 @@ export interface ServerToClientEvents {
   view: (v: ViewPayload) => void;
   "case:status": (s: CaseStatusPayload) => void;
   "case:updated": (u: CaseUpdatedPayload) => void;
+  /** a capture upload's progress (see UploadProgressPayload) */
+  "upload:progress": (p: UploadProgressPayload) => void;
   /** an in-app notification for this user (server/services/notifications.ts) */
   notification: (n: { id: string | number; kind: string; caseId: string | null; title: string }) => void;
 }

@@ -10,6 +10,7 @@ import { devMailRoutes } from "./dev-mail";
 import { caseRoutes } from "./cases";
 import { photoRoutes } from "./photos";
 import { traceRoutes } from "./traces";
+import { uploadRoutes } from "./uploads";
 import { annotationRoutes } from "./annotations";
 import { messageRoutes } from "./messages";
 import { webhookRoutes } from "./webhooks";
@@ -21,6 +22,7 @@ import { billingRoutes } from "./billing";
 import { earningsRoutes } from "./earnings";
 import { notificationRoutes } from "./notifications";
 import { casebookRoutes } from "./casebook";
+import { thumbnailRoutes } from "./thumbnails";
 import { deskRoutes } from "./desk";
 
 /** Every resource's router, mounted under /api. Add one line per resource. */
@@ -39,9 +41,11 @@ export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void 
   app.use("/api", shopRoutes(ctx, auth));
   app.use("/api", expertRoutes(ctx, auth));
   app.use("/api", adminExpertRoutes(ctx, auth));
+  app.use("/api", thumbnailRoutes(ctx, auth));
   app.use("/api", casebookRoutes(ctx, auth));
   app.use("/api", caseRoutes(ctx, auth));
   app.use("/api", photoRoutes(ctx, auth));
+  app.use("/api", uploadRoutes(ctx, auth));
   app.use("/api", traceRoutes(ctx, auth));
   app.use("/api", annotationRoutes(ctx, auth));
   app.use("/api", messageRoutes(ctx, auth));

@@ -1,27 +1,40 @@
 /**
- * The casebook search worker thread: its own read-only connection to the database file and one
- * CasebookSearchEngine, answering one search at a time. Started by casebook-search.ts.
+ * The casebook search pool's tasks (loaded through casebook-search-boot.mjs): each thread keeps
+ * its own read-only connection to the database file and one CasebookSearchEngine per file, so the
+ * engine's arrays stay warm between searches. Started by casebook-search.ts.
  */
-import { parentPort, workerData } from "node:worker_threads";
 import Database from "better-sqlite3";
-import { CasebookSearchEngine, type CasebookSearchQuery } from "./casebook-search-engine";
+import {
+  CasebookSearchEngine,
+  type CasebookSearchQuery,
+  type CasebookSearchResult,
+  type EngineStats,
+} from "./casebook-search-engine";
 
-const { file } = workerData as { file: string; entry: string };
-const db = new Database(file, { readonly: true, fileMustExist: true });
-db.pragma("busy_timeout = 5000");
-const engine = new CasebookSearchEngine(db);
+const engines = new Map<string, CasebookSearchEngine>();
 
-parentPort!.on("message", (m: { id: number; type: "search" | "warm" | "stats"; query?: CasebookSearchQuery }) => {
-  try {
-    if (m.type === "warm") {
-      engine.refresh();
-      parentPort!.postMessage({ id: m.id, ok: true, result: engine.stats() });
-    } else if (m.type === "stats") {
-      parentPort!.postMessage({ id: m.id, ok: true, result: engine.stats() });
-    } else {
-      parentPort!.postMessage({ id: m.id, ok: true, result: engine.search(m.query ?? {}) });
-    }
-  } catch (err) {
-    parentPort!.postMessage({ id: m.id, ok: false, error: err instanceof Error ? err.message : String(err) });
+function engineFor(file: string): CasebookSearchEngine {
+  let e = engines.get(file);
+  if (!e) {
+    const db = new Database(file, { readonly: true, fileMustExist: true });
+    db.pragma("busy_timeout = 5000");
+    e = new CasebookSearchEngine(db);
+    engines.set(file, e);
   }
-});
+  return e;
+}
+
+export function search(job: { file: string; query?: CasebookSearchQuery }): CasebookSearchResult {
+  return engineFor(job.file).search(job.query ?? {});
+}
+
+/** Loads the engine's arrays ahead of the first search. */
+export function warm(job: { file: string }): EngineStats {
+  const e = engineFor(job.file);
+  e.refresh();
+  return e.stats();
+}
+
+export function stats(job: { file: string }): EngineStats {
+  return engineFor(job.file).stats();
+}

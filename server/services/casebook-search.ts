@@ -1,85 +1,57 @@
 /**
- * Casebook search from the server's side: hands each search to a worker thread that has its own
- * read-only connection to the same SQLite file (WAL lets it read while the server writes), so
- * ranking and counting never run on the event loop that serves other requests. One worker per
- * database file, started on first use (or warmed shortly after the server starts), stopped after ten
- * minutes without searches; it never keeps the process alive. An in-memory database (no file to share) is searched in-thread instead.
+ * Casebook search from the server's side: hands each search to a piscina pool of one thread per
+ * database file, which has its own read-only connection to the same SQLite file (WAL lets it read
+ * while the server writes), so ranking and counting never run on the event loop that serves other
+ * requests. The thread starts on first use (or is warmed shortly after the server starts), stops
+ * after ten minutes without searches, and never keeps the process alive. Searches wait their turn
+ * in piscina's queue. An in-memory database (no file to share) is searched in-thread instead.
+ * Its own pool rather than the upload pool's threads: a search answers in milliseconds and must
+ * not wait behind captures being parsed.
  */
 import path from "node:path";
-import { Worker } from "node:worker_threads";
+import { fileURLToPath } from "node:url";
+import { Piscina } from "piscina";
 import type { AppContext } from "../context";
 import type { Db } from "../db/client";
-import { CasebookSearchEngine, type CasebookSearchQuery, type CasebookSearchResult, type EngineStats } from "./casebook-search-engine";
+import {
+  CasebookSearchEngine,
+  type CasebookSearchQuery,
+  type CasebookSearchResult,
+  type EngineStats,
+} from "./casebook-search-engine";
 
-/** a worker idle this long is stopped (its arrays are rebuilt on the next search) */
+/** a thread idle this long is stopped (its arrays are rebuilt on the next search) */
 const IDLE_MS = 10 * 60_000;
 const TIMEOUT_MS = 30_000;
 
-type Pending = { resolve: (r: unknown) => void; reject: (e: Error) => void; timer: NodeJS.Timeout };
-
 class SearchWorker {
-  private worker: Worker | null = null;
-  private seq = 0;
-  private pending = new Map<number, Pending>();
-  private idle: NodeJS.Timeout | null = null;
+  private readonly pool: Piscina;
 
-  constructor(private readonly file: string) {}
-
-  private start(): Worker {
-    if (this.worker) return this.worker;
-    const w = new Worker(new URL("./casebook-search-boot.mjs", import.meta.url), {
-      workerData: { file: this.file, entry: new URL("./casebook-search-worker.ts", import.meta.url).href },
+  constructor(private readonly file: string) {
+    this.pool = new Piscina({
+      filename: fileURLToPath(new URL("./casebook-search-boot.mjs", import.meta.url)),
+      minThreads: 0,
+      maxThreads: 1,
+      idleTimeout: IDLE_MS,
     });
-    w.unref();
-    w.on("message", (m: { id: number; ok: boolean; result?: unknown; error?: string }) => {
-      const p = this.pending.get(m.id);
-      if (!p) return;
-      this.pending.delete(m.id);
-      clearTimeout(p.timer);
-      if (m.ok) p.resolve(m.result);
-      else p.reject(new Error(m.error ?? "casebook search failed"));
-      this.armIdle();
-    });
-    const fail = (err: Error) => {
-      if (this.worker === w) this.worker = null;
-      for (const [id, p] of this.pending) {
-        clearTimeout(p.timer);
-        p.reject(err);
-        this.pending.delete(id);
-      }
-    };
-    w.on("error", fail);
-    w.on("exit", () => fail(new Error("the casebook search worker stopped")));
-    this.worker = w;
-    return w;
+    this.pool.on("error", () => {});
   }
 
-  private armIdle(): void {
-    if (this.idle) clearTimeout(this.idle);
-    if (this.pending.size > 0) return;
-    this.idle = setTimeout(() => void this.stop(), IDLE_MS);
-    this.idle.unref();
-  }
-
-  request<T>(type: "search" | "warm" | "stats", query?: CasebookSearchQuery): Promise<T> {
-    const w = this.start();
-    if (this.idle) clearTimeout(this.idle);
-    const id = ++this.seq;
-    return new Promise<T>((resolve, reject) => {
-      const timer = setTimeout(() => {
-        this.pending.delete(id);
-        reject(new Error("the casebook search took too long"));
-      }, TIMEOUT_MS);
-      timer.unref();
-      this.pending.set(id, { resolve: resolve as (r: unknown) => void, reject, timer });
-      w.postMessage({ id, type, query });
-    });
+  async request<T>(type: "search" | "warm" | "stats", query?: CasebookSearchQuery): Promise<T> {
+    try {
+      return (await this.pool.run(
+        { file: this.file, query },
+        { name: type, signal: AbortSignal.timeout(TIMEOUT_MS) },
+      )) as T;
+    } catch (err) {
+      if ((err as Error)?.name === "AbortError" || (err as Error)?.name === "TimeoutError")
+        throw new Error("the casebook search took too long");
+      throw err;
+    }
   }
 
   async stop(): Promise<void> {
-    const w = this.worker;
-    this.worker = null;
-    if (w) await w.terminate();
+    await this.pool.destroy();
   }
 }
 

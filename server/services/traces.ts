@@ -3,20 +3,17 @@ import { asc, eq } from "drizzle-orm";
 import type { AppContext } from "../context";
 import { schema } from "../db/client";
 import type { Actor } from "../auth/session";
-import { assertCanAddTrace } from "../auth/policies/traces";
-import { badRequest, tooLarge } from "../http/errors";
-import { parseTraceFile } from "../traces/parse-file";
-import { openTraceData, storedChannels, writeTraceData, type TraceData } from "../traces/store";
-import { TraceParseError, type ParsedTrace, type TraceWindow } from "../../shared/trace/types";
+import { badRequest } from "../http/errors";
+import { openTraceData, type TraceData } from "../traces/store";
+import type { TraceWindow } from "../../shared/trace/types";
 import type { CaptureSettings } from "../../shared/schemas/capture-settings";
 import type { TraceWindowQuery } from "../../shared/schemas/traces";
 import type { StoredUpload } from "../uploads/multer";
-import { analyzeStoredTrace } from "../uploads/analysis";
+import { ingestTrace } from "../uploads/pipeline";
 import { compareTraces, type ComparableResult } from "../../shared/analysis/compare";
 import type { Comparison } from "../../shared/analysis/types";
-import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "../workflow/records";
-import { cleanFileName } from "./photos";
-import { contentInFlight, placeContentAddressed, relativeDataPath, removeStoredFile, resolveDataPath, storageLayout, type PlacedFile } from "./storage";
+import { announceCaseChange, recordCaseEvent, touchCase } from "../workflow/records";
+import { contentInFlight, removeStoredFile, resolveDataPath } from "./storage";
 
 export type TraceRow = typeof schema.trace.$inferSelect;
 const { trace } = schema;
@@ -71,7 +68,13 @@ export async function deleteTrace(ctx: AppContext, actor: Actor, t: TraceRow): P
   const now = ctx.now();
   ctx.db.transaction((tx) => {
     tx.delete(trace).where(eq(trace.id, t.id)).run();
-    recordCaseEvent(tx, { caseId: t.caseId, actorId: actor.id, type: "trace_deleted", at: now, data: { traceId: t.id, name: t.name } });
+    recordCaseEvent(tx, {
+      caseId: t.caseId,
+      actorId: actor.id,
+      type: "trace_deleted",
+      at: now,
+      data: { traceId: t.id, name: t.name },
+    });
     touchCase(tx, t.caseId, now);
   });
   forgetOpenTrace(traceDataFilePath(ctx, t));
@@ -84,33 +87,10 @@ export async function deleteTrace(ctx: AppContext, actor: Actor, t: TraceRow): P
 // ---------------------------------------------------------------------------------------------
 // Upload
 
-/** A parser refusal as an HTTP error: 413 for size, else 400 naming the line and the reason. */
-export function parseRefusal(err: TraceParseError) {
-  if (err.code === "too-large") return tooLarge(`The trace file is too large: ${err.message}.`);
-  return badRequest("trace_unreadable", `The trace file was refused: ${err.message}.`, { reason: err.code, line: err.line });
-}
-
 /**
- * ANALYSIS CALL SITE (upload): shared/analysis analyzeTrace on the stored channels, run in a
- * worker thread (server/uploads/analysis.ts) so that seconds of measuring never stall other
- * requests. A failure of the analysis never refuses the upload (the trace is still worth
- * reviewing by eye): the trace is stored with analysis null and the failure is logged.
- */
-async function analyzeAtUpload(ctx: AppContext, dataFile: string, settings: CaptureSettings): Promise<Record<string, unknown> | null> {
-  try {
-    return await analyzeStoredTrace(dataFile, settings);
-  } catch (err) {
-    ctx.logger.warn({ err }, "trace analysis failed; stored without analysis");
-    return null;
-  }
-}
-
-/**
- * Adds a trace to a case, all or nothing: streamed parse of the temp file (never the whole text
- * in memory; the parser yields between chunks) → analysis → parsed channels written under
- * data/traces → original moved to data/originals/<sha[0..2]>/<sha> → row and "trace_added" event
- * in one transaction (which checks the case again). Any failure removes what this upload created;
- * the route's finally removes the temp file.
+ * Adds a trace to a case from a file already on disk (plain or gzip), through the same pipeline
+ * as every upload (server/uploads/pipeline.ts): checked, parsed, stored and measured in a pool
+ * thread, then the compressed original and the row — all or nothing. The caller removes its file.
  */
 export async function addTrace(
   ctx: AppContext,
@@ -119,69 +99,18 @@ export async function addTrace(
   upload: StoredUpload,
   fields: { settings: CaptureSettings; name?: string },
 ): Promise<TraceRow> {
-  const layout = storageLayout(ctx.env.dataDir);
-  const id = crypto.randomUUID();
-  const { settings } = fields;
-  let dataFile: string | null = null;
-  let placed: PlacedFile | null = null;
-  let committed = false;
-  try {
-    let parsed: ParsedTrace | null;
-    try {
-      parsed = await parseTraceFile(upload.path, { sampleRateHz: settings.sampleRateHz, maxBytes: ctx.env.MAX_TRACE_BYTES });
-    } catch (err) {
-      if (err instanceof TraceParseError) throw parseRefusal(err);
-      throw err;
-    }
-    await fs.promises.mkdir(layout.tracesDir, { recursive: true });
-    dataFile = (await writeTraceData(layout.tracesDir, id, parsed)).path;
-    const meta = {
-      samples: parsed.samples,
-      sampleRateHz: parsed.sampleRateHz,
-      t0: parsed.t0,
-      durationS: parsed.durationS,
-      channels: storedChannels(parsed),
-      warnings: parsed.warnings,
-    };
-    parsed = null; // the arrays are on disk now; let them go before the analysis reads them back
-    const analysis = await analyzeAtUpload(ctx, dataFile, settings);
-    placed = await placeContentAddressed(layout, layout.originalsDir, upload.path, upload.sha256);
-    const originalName = cleanFileName(upload.originalname, "trace.csv");
-    const name = fields.name || originalName;
-    const now = ctx.now();
-    const row: TraceRow = {
-      id,
-      caseId,
-      uploadedBy: actor.id,
-      name,
-      kind: settings.kind,
-      settings: settings as Record<string, unknown>,
-      sha256: upload.sha256,
-      originalBytes: upload.size,
-      originalPath: placed.rel,
-      dataPath: relativeDataPath(layout.dataDir, dataFile),
-      ...meta,
-      analysis,
-      originalName,
-      createdAt: now,
-    };
-    ctx.db.transaction((tx) => {
-      // The case may have moved on while the file was arriving and being parsed.
-      assertCanAddTrace(actor, getCaseRow(tx, caseId) as CaseRow | undefined);
-      tx.insert(trace).values(row).run();
-      recordCaseEvent(tx, { caseId, actorId: actor.id, type: "trace_added", at: now, data: { traceId: id, name, samples: row.samples } });
-      touchCase(tx, caseId, now);
-    });
-    committed = true;
-    announceCaseChange(ctx, caseId, now, "trace", id);
-    return getTraceRow(ctx, id)!;
-  } finally {
-    if (!committed) {
-      if (dataFile) await removeStoredFile(dataFile);
-      if (placed && contentInFlight(placed.abs) <= 1 && !traceUsesContent(ctx, upload.sha256)) await removeStoredFile(placed.abs);
-    }
-    placed?.release();
-  }
+  return ingestTrace(
+    ctx,
+    actor,
+    caseId,
+    { path: upload.path, encoding: "auto", originalName: upload.originalname },
+    fields,
+  );
+}
+
+/** Whether the stored original is gzip-compressed (new uploads) rather than plain (older rows). */
+export function originalIsCompressed(t: TraceRow): boolean {
+  return t.originalPath.endsWith(".gz");
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -214,10 +143,17 @@ export function forgetOpenTrace(abs: string): void {
  * Min/max-decimated points over [t0, t1) in `width` buckets (bucket k covers its share of the
  * window; empty buckets are left out). Defaults to the whole trace: [t0, t0 + durationS).
  */
-export async function traceWindow(ctx: AppContext, t: TraceRow, q: TraceWindowQuery): Promise<TraceWindow & { t0: number; t1: number; width: number }> {
+export async function traceWindow(
+  ctx: AppContext,
+  t: TraceRow,
+  q: TraceWindowQuery,
+): Promise<TraceWindow & { t0: number; t1: number; width: number }> {
   const t0 = q.t0 ?? t.t0;
   const t1 = q.t1 ?? (q.t0 !== undefined && q.t0 >= t.t0 + t.durationS ? q.t0 + t.durationS : t.t0 + t.durationS);
-  if (!(t1 > t0)) throw badRequest("validation_failed", "Check the query: t1 must be later than t0.", { fields: [{ path: "t1", message: "t1 must be later than t0." }] });
+  if (!(t1 > t0))
+    throw badRequest("validation_failed", "Check the query: t1 must be later than t0.", {
+      fields: [{ path: "t1", message: "t1 must be later than t0." }],
+    });
   const data = await openCached(traceDataFilePath(ctx, t));
   const w = await data.window(t0, t1, q.width);
   return { t0, t1, width: q.width, ...w };

@@ -199,7 +199,7 @@ describe.sequential("case intake in a real browser", () => {
         let releaseFirst!: () => void;
         const firstHeld = new Promise<void>((r) => (releaseFirst = r));
         let held = false;
-        const uploadUrl = /\/api\/cases\/[^/]+\/traces$/;
+        const uploadUrl = /\/api\/uploads$/; // the resumable upload's creation (tus POST)
         await page.route(uploadUrl, async (route: Route) => {
           if (!held && route.request().method() === "POST") {
             held = true;

@@ -302,16 +302,22 @@ describe.sequential.each(WIDTHS)("at %i px", (w) => {
     await pages.owner.goto(`${server.url}/cases/${seeded.answered}/report`);
     const figure = pages.owner.locator("figure svg").first();
     await figure.waitFor({ timeout: 20_000 });
-    const drawing = await figure.evaluate((svg: SVGSVGElement) => ({
-      viewBoxWidth: svg.viewBox.baseVal.width,
-      width: svg.getBoundingClientRect().width,
-      left: svg.getBoundingClientRect().left,
-      right: svg.getBoundingClientRect().right,
-      labels: [...svg.querySelectorAll("text")].map((t) => {
+    // (evaluated in the page as text: this file is type-checked without the DOM's types)
+    const drawing = await pages.owner.evaluate<{
+      viewBoxWidth: number;
+      width: number;
+      left: number;
+      right: number;
+      labels: { text: string; left: number; right: number }[];
+    }>(`(() => {
+      const svg = document.querySelector("figure svg");
+      const box = svg.getBoundingClientRect();
+      const labels = [...svg.querySelectorAll("text")].map((t) => {
         const r = t.getBoundingClientRect();
-        return { text: t.textContent ?? "", left: r.left, right: r.right, height: r.height };
-      }),
-    }));
+        return { text: t.textContent || "", left: r.left, right: r.right };
+      });
+      return { viewBoxWidth: svg.viewBox.baseVal.width, width: box.width, left: box.left, right: box.right, labels };
+    })()`);
     expect(Math.abs(drawing.viewBoxWidth - drawing.width), "one drawing unit per pixel").toBeLessThanOrEqual(1);
     for (const l of drawing.labels) {
       expect(l.left, `label ${l.text} starts inside`).toBeGreaterThanOrEqual(drawing.left - 0.5);

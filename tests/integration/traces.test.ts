@@ -2,6 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import request from "supertest";
 import crypto from "node:crypto";
 import fs from "node:fs";
+import zlib from "node:zlib";
 import path from "node:path";
 import { eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
@@ -167,8 +168,9 @@ describe("POST /api/cases/:id/traces", () => {
     const sha = crypto.createHash("sha256").update(g.text).digest("hex");
     const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, t.id)).get()!;
     expect(row.sha256).toBe(sha);
-    expect(row.originalPath).toBe(`originals/${sha.slice(0, 2)}/${sha}`);
-    expect(fs.readFileSync(path.join(server.dir, row.originalPath), "utf8")).toBe(g.text);
+    // kept gzip-compressed (RFC 1952), addressed by the SHA-256 of the plain bytes; node:zlib inflates it back
+    expect(row.originalPath).toBe(`originals/${sha.slice(0, 2)}/${sha}.gz`);
+    expect(zlib.gunzipSync(fs.readFileSync(path.join(server.dir, row.originalPath))).toString("utf8")).toBe(g.text);
     expect(fs.existsSync(path.join(server.dir, row.dataPath))).toBe(true);
     expect(row.dataPath.startsWith("traces/")).toBe(true);
     expect(filesUnder(path.join(server.dir, "tmp"))).toEqual([]);

@@ -1,5 +1,5 @@
-export { TraceViewer } from "./components/trace-viewer";
-export { AnnotationList, type AnnotationListProps } from "./components/annotation-list";
+export { TraceViewer, type TraceViewerHandle } from "./components/trace-viewer";
+export { AnnotationList, sortMarks, type AnnotationListProps } from "./components/annotation-list";
 export { traceWindowQuery, useTraceWindow, getTraceWindow, traceWindowUrl } from "./api/get-trace-window";
 export { captureView } from "./lib/capture-view";
 export { jumpWindow } from "./lib/overlay-geometry";

@@ -124,6 +124,10 @@ export interface TraceViewerProps {
   traces: TraceInfo[];
   /** "single" (default) shows one trace at a time with a selector; "overlay" aligns all of them */
   mode?: ViewerMode;
+  /** the trace to look at (the comparison's odd one out, or one with a problem): marked in the selector and open first */
+  flaggedTraceId?: string;
+  /** the trace open first in single mode (default: the flagged one, else the first) */
+  defaultTraceId?: string;
   annotations?: Annotation[];
   pointers?: RemotePointer[];
   /** the local pointer over the plot, at most once per animation frame; null on leave */
@@ -139,9 +143,11 @@ export interface TraceViewerProps {
   /** draw analysis event markers (firing tick, burn bracket); default true */
   highlightEvents?: boolean;
   readOnly?: boolean;
-  /** show the annotation list under/beside the plot; default true when annotations are given */
+  /** show the list of every mark on the traces under/beside the plot; default true when annotations are given */
   showAnnotationList?: boolean;
-  /** plot height in CSS px; default adapts to width (260–420) */
+  /** plot height in CSS px; default adapts to width (240–420) */
   height?: number;
+  /** "card" (default): a bordered card; "flush": no frame, the plot runs to the container's edges (a phone's live review) */
+  variant?: "card" | "flush";
   className?: string;
 }

@@ -3,6 +3,8 @@ import type { CaseDetail, CaseTrace } from "../../../features/cases/api/types";
 import { traceKindName, traceLabel } from "../../../features/cases/components/trace-list";
 import { TraceSettingsSummary } from "../../../features/cases/components/trace-settings-summary";
 import { ComparisonTable } from "../../../features/analysis/components/comparison-table";
+import { ComparisonChart } from "../../../features/analysis/components/comparison-chart";
+import { CompressionChart } from "../../../features/analysis/components/compression-chart";
 import { FindingsList } from "../../../features/analysis/components/findings-list";
 import { MeasurementsTable } from "../../../features/analysis/components/measurements-table";
 import { comparisonFor } from "../../../features/analysis/lib/comparison";
@@ -27,7 +29,7 @@ export function viewerInfo(t: CaseTrace): TraceInfo {
   };
 }
 
-function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
+function TraceCard({ t, flagged, onDelete }: { t: CaseTrace; flagged?: boolean; onDelete?: () => void }) {
   const analysis = isAnalysisResult(t.analysis) ? t.analysis : null;
   const info = useMemo(() => [viewerInfo(t)], [t]);
   const label = traceLabel(t);
@@ -38,6 +40,7 @@ function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
         <div className="min-w-0 flex-1">
           <h3 id={`trace-${t.id}`} className="text-lg font-bold text-ink-900">
             {label}
+            {flagged ? <span className="ml-2 rounded bg-alarm-500 px-1.5 py-0.5 align-middle text-xs font-bold text-white">look here first</span> : null}
             {label !== t.name ? (
               <>
                 <span className="sr-only"> · </span>
@@ -66,6 +69,7 @@ function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
 
       <TraceViewer traces={info} />
 
+      {analysis?.kind === "relative-compression" ? <CompressionChart summary={analysis.summary} /> : null}
       {analysis ? (
         <div className="grid gap-4 xl:grid-cols-2">
           <section aria-label={`Findings for ${label}`} className="min-w-0 space-y-2">
@@ -84,8 +88,11 @@ function TraceCard({ t, onDelete }: { t: CaseTrace; onDelete?: () => void }) {
   );
 }
 
-/** The traces of a case: each with its viewer, review and measurements; then the overlay and the comparison. */
-export function CaseTraces({ c, onDeleteTrace }: { c: CaseDetail; onDeleteTrace?: (t: CaseTrace) => void }) {
+/**
+ * The traces of a case: the comparison (a table beside its bar charts), the overlay (opened zoomed
+ * on the firing events), then each trace with its viewer, review and measurements.
+ */
+export function CaseTraces({ c, flaggedTraceId, onDeleteTrace }: { c: CaseDetail; flaggedTraceId?: string; onDeleteTrace?: (t: CaseTrace) => void }) {
   const [overlay, setOverlay] = useState(false);
   const comparison = useMemo(() => comparisonFor(c.comparison, c.traces), [c.comparison, c.traces]);
   const overlayInfo = useMemo(() => c.traces.map(viewerInfo), [c.traces]);
@@ -100,7 +107,7 @@ export function CaseTraces({ c, onDeleteTrace }: { c: CaseDetail; onDeleteTrace?
           <h3 id="comparison-title" className="text-lg font-bold">
             Cylinder to cylinder
           </h3>
-          <ComparisonTable comparison={comparison} traces={labels} units={units} />
+          <ComparisonTable comparison={comparison} traces={labels} units={units} aside={<ComparisonChart comparison={comparison} traces={labels} units={units} />} />
         </section>
       ) : null}
 
@@ -123,7 +130,7 @@ export function CaseTraces({ c, onDeleteTrace }: { c: CaseDetail; onDeleteTrace?
       ) : null}
 
       {c.traces.map((t) => (
-        <TraceCard key={t.id} t={t} onDelete={onDeleteTrace ? () => onDeleteTrace(t) : undefined} />
+        <TraceCard key={t.id} t={t} flagged={t.id === flaggedTraceId} onDelete={onDeleteTrace ? () => onDeleteTrace(t) : undefined} />
       ))}
     </div>
   );

@@ -1,8 +1,9 @@
-import { useId, useState } from "react";
+import { useId, useState, type ReactNode } from "react";
 import type { Comparison, Outlier } from "../../../../shared/analysis/types";
 import { fmtNum, fmtWithUnit } from "../lib/format";
-import { metricLabel, physicalMetric } from "../lib/metrics";
-import type { ChannelUnits } from "../../traces/lib/units";
+import { metricLabel } from "../lib/metrics";
+import { displayMetric, shownUnit } from "../lib/chart-data";
+import type { ChannelUnits } from "../../../lib/physical-units";
 
 export interface ComparedTrace {
   id: string;
@@ -23,9 +24,6 @@ export interface ComparisonStatement {
 }
 
 const outlierKey = (traceId: string | undefined, metric: string) => `${traceId}\u0000${metric}`;
-
-/** The unit to print ("count" is a plain number). */
-const shownUnit = (u: string | undefined) => (!u || u === "count" ? "" : u);
 
 function unitOf(c: Comparison, metric: string): string {
   return shownUnit(c.metrics.find((m) => m.metric === metric)?.unit);
@@ -63,13 +61,36 @@ export function outlierDetail(o: Outlier, label: string, unit: string): string {
   return `${label} ${what}: ${fmtWithUnit(o.value, unit)} against a median of ${fmtWithUnit(o.median, unit)}; modified z-score ${fmtNum(o.score, 2)}`;
 }
 
+/** What stands out, in plain words (or that the cylinders agree). */
+function OddOnesOut({ statements }: { statements: ComparisonStatement[] }) {
+  if (!statements.length) {
+    return (
+      <p className="rounded-lg border border-verdigris-500 bg-white px-3 py-2 text-sm font-semibold text-verdigris-600">
+        The cylinders agree: no trace stands out from the others.
+      </p>
+    );
+  }
+  return (
+    <ul className="space-y-1" aria-label="Odd ones out">
+      {statements.map((st, i) => (
+        <li key={`${st.traceId ?? st.file ?? i}-${i}`} className="flex gap-2 rounded-lg border-l-4 border-alarm-500 bg-alarm-500/5 px-3 py-2 text-sm font-semibold text-ink-900">
+          <span aria-hidden="true" className="text-alarm-600">
+            ●
+          </span>
+          {st.text}
+        </li>
+      ))}
+    </ul>
+  );
+}
+
 /**
  * One row per trace (cylinder or coil), one column per metric (each trace's median), in the
  * channel's physical unit when the traces' unit model is given. What stands out is said first in
  * plain words; the values that stand out are flagged in the table, and the statistic that decided
  * it (the modified z-score of Iglewicz and Hoaglin with a difference that matters) is one click away.
  */
-export function ComparisonTable({ comparison, traces, units }: { comparison: Comparison; traces: ComparedTrace[]; units?: ChannelUnits | null }) {
+export function ComparisonTable({ comparison, traces, units, aside }: { comparison: Comparison; traces: ComparedTrace[]; units?: ChannelUnits | null; aside?: ReactNode }) {
   const labelOf = (id: string | undefined) => traces.find((t) => t.id === id)?.label ?? "Trace";
   const flagged = new Map(comparison.outliers.map((o) => [outlierKey(o.traceId, o.metric), o]));
   const metrics = comparison.metrics.filter((m) => m.values.some((v) => v.value !== null));
@@ -80,33 +101,15 @@ export function ComparisonTable({ comparison, traces, units }: { comparison: Com
   const [open, setOpen] = useState(false);
   const detailsId = useId();
   /** a metric in volts or amperes (or per ms) in the traces' physical unit; other units kept */
-  const shown = (x: number | null | undefined, unit: string) => {
-    const m = /^(kV|V|mV|A|mA)(\/.+)?$/.exec(unit);
-    return m ? physicalMetric(x, `$${m[2] ?? ""}`, m[1], units) : { value: x, unit };
-  };
+  const shown = (x: number | null | undefined, unit: string) => displayMetric(x, unit, units);
 
   if (!metrics.length) return <p className="text-sm text-ink-600">Nothing to compare yet: the traces have no measured events.</p>;
 
   return (
     <div className="space-y-3">
-      {statements.length ? (
-        <ul className="space-y-1" aria-label="Odd ones out">
-          {statements.map((st, i) => (
-            <li key={`${st.traceId ?? st.file ?? i}-${i}`} className="flex gap-2 rounded-lg border-l-4 border-alarm-500 bg-alarm-500/5 px-3 py-2 text-sm font-semibold text-ink-900">
-              <span aria-hidden="true" className="text-alarm-600">
-                ●
-              </span>
-              {st.text}
-            </li>
-          ))}
-        </ul>
-      ) : (
-        <p className="rounded-lg border border-verdigris-500 bg-white px-3 py-2 text-sm font-semibold text-verdigris-600">
-          The cylinders agree: no trace stands out from the others.
-        </p>
-      )}
-
-      <div className="overflow-x-auto rounded-lg border border-ink-200">
+      <OddOnesOut statements={statements} />
+      <div className={aside ? "grid gap-4 xl:grid-cols-[minmax(0,1fr)_minmax(0,1fr)]" : ""}>
+      <div className="self-start overflow-x-auto rounded-lg border border-ink-200">
         <table className="w-full min-w-[30rem] text-sm">
           <caption className="sr-only">Comparison across cylinders: each trace's median per metric; values that stand out are flagged</caption>
           <thead className="bg-ink-50">
@@ -161,6 +164,8 @@ export function ComparisonTable({ comparison, traces, units }: { comparison: Com
             </tr>
           </tfoot>
         </table>
+      </div>
+      {aside ? <div className="min-w-0">{aside}</div> : null}
       </div>
       {comparison.outliers.length ? (
         <div>

@@ -1,4 +1,5 @@
-import { ENGINE_SAFETY, SECONDARY_SAFETY } from "../../../../shared/analysis/findings";
+import { SECONDARY_SAFETY } from "../../../../shared/analysis/findings";
+import { withCautionsOnce } from "../lib/cautions";
 import type { Finding, Severity } from "../../../../shared/analysis/types";
 
 const tone: Record<Severity, { box: string; badge: string; label: string }> = {
@@ -9,31 +10,23 @@ const tone: Record<Severity, { box: string; badge: string; label: string }> = {
 
 const order: Record<Severity, number> = { problem: 0, warning: 1, info: 2 };
 
-/** Split the analysis's safety caution off an advice text, to show it as a caution of its own. */
-function splitCaution(advice: string): { advice: string; caution: string | null } {
-  for (const c of [SECONDARY_SAFETY, ENGINE_SAFETY]) {
-    if (advice.includes(c)) return { advice: advice.replace(c, "").trim(), caution: c };
-  }
-  return { advice, caution: null };
-}
-
 /**
  * The capture review and measurement findings of a trace, worst first, each with its advice.
- * Advice about the ignition secondary carries the safety caution; when the trace is a secondary
- * capture the caution is shown at least once even if no finding carries it.
+ * Advice about the ignition secondary carries the safety caution: it is shown once, beside the
+ * first advice that carries it; when the trace is a secondary capture the caution is shown once
+ * even if no finding carries it.
  */
 export function FindingsList({ findings, ignition }: { findings: Finding[]; ignition?: boolean }) {
   const sorted = [...findings].sort((a, b) => order[a.severity] - order[b.severity]);
-  let cautionShown = false;
+  const items = withCautionsOnce(sorted);
+  const cautionShown = items.some((x) => x.caution === SECONDARY_SAFETY);
   if (!sorted.length) {
     return <p className="rounded-lg border border-verdigris-500 bg-white px-3 py-2 text-sm font-semibold text-verdigris-600">The capture review found nothing to remark.</p>;
   }
   return (
     <ul className="space-y-2" aria-label="Findings">
-      {sorted.map((f, i) => {
+      {items.map(({ f, advice, caution }, i) => {
         const t = tone[f.severity] ?? tone.info;
-        const { advice, caution } = splitCaution(f.advice ?? "");
-        if (caution) cautionShown = true;
         return (
           <li key={`${f.code}-${i}`} className={`rounded-lg border-l-4 border px-3 py-2 ${t.box}`}>
             <div className="flex flex-wrap items-start gap-2">

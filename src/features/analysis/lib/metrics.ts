@@ -1,5 +1,5 @@
 import type { AnalysisResult } from "../../../../shared/analysis/types";
-import { toPhysical, type ChannelUnits } from "../../traces/lib/units";
+import { toPhysical, type ChannelUnits } from "../../../lib/physical-units";
 
 export interface MetricDef {
   /** key in the summary (a MetricStats) */

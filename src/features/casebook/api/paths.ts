@@ -4,6 +4,7 @@ const enc = encodeURIComponent;
 export const casebookPaths = {
   search: "/api/casebook/search",
   entry: (id: string) => `/api/casebook/${enc(id)}`,
+  thumbnail: (id: string) => `/api/casebook/${enc(id)}/thumbnail.svg`,
   vote: (id: string) => `/api/casebook/${enc(id)}/vote`,
   moderate: (id: string) => `/api/admin/casebook/${enc(id)}`,
   hidden: "/api/admin/casebook/hidden",

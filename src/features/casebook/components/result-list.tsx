@@ -4,20 +4,26 @@ import { casebookPages } from "../api/paths";
 import { formatDay } from "../lib/labels";
 import { Snippet } from "./snippet";
 import { CodeChip } from "./ui";
+import { WaveformThumbnail } from "./waveform-thumbnail";
 
-/** The results of a search: title, vehicle, codes, root cause and the matching passage. */
+/** The results of a search: title, vehicle, a thumbnail of the waveform, codes, root cause and the matching passage. */
 export function ResultList({ results }: { results: CasebookSearchHit[] }) {
   return (
     <ol className="space-y-3">
       {results.map((r) => (
         <li key={r.id} className="rounded-xl border border-ink-200 bg-white p-4 shadow-sm">
           <article aria-labelledby={`hit-${r.id}`}>
-            <h3 id={`hit-${r.id}`} className="text-base font-bold text-ink-900">
-              <Link to={casebookPages.entry(r.id)} className="underline decoration-ink-300 underline-offset-4 hover:decoration-kiln-500">
-                {r.title}
-              </Link>
-            </h3>
-            <p className="mt-1 text-sm text-ink-600">{r.vehicle}</p>
+            <div className="flex flex-wrap items-start justify-between gap-x-4 gap-y-2">
+              <div className="min-w-0 flex-1">
+                <h3 id={`hit-${r.id}`} className="text-base font-bold text-ink-900">
+                  <Link to={casebookPages.entry(r.id)} className="underline decoration-ink-300 underline-offset-4 hover:decoration-kiln-500">
+                    {r.title}
+                  </Link>
+                </h3>
+                <p className="mt-1 text-sm text-ink-600">{r.vehicle}</p>
+              </div>
+              <WaveformThumbnail entryId={r.id} />
+            </div>
             {r.codes.length ? (
               <div className="mt-2 flex flex-wrap gap-1.5">
                 {r.codes.map((c) => (

@@ -2,10 +2,11 @@ import { Link } from "react-router-dom";
 import { useSimilar } from "../api/get-similar";
 import { casebookPages } from "../api/paths";
 import { CodeChip } from "./ui";
+import { WaveformThumbnail } from "./waveform-thumbnail";
 
 /**
  * "These may already answer your case": casebook entries whose measured waveform pattern is
- * nearest to this case's traces, each with the reason in words. Offered to the technician before
+ * nearest to this case's traces, each with a thumbnail of its waveform and the reason in words. Offered to the technician before
  * paying and to the expert while working.
  */
 export function SimilarCases({ caseId, limit = 5, title = "These may already answer your case", version = 0 }: { caseId: string; limit?: number; title?: string; version?: string | number }) {
@@ -31,7 +32,8 @@ export function SimilarCases({ caseId, limit = 5, title = "These may already ans
         ) : (
           <ol className="space-y-3">
             {q.data.results.map((r) => (
-              <li key={r.id} className="rounded-lg border border-ink-200 p-3">
+              <li key={r.id} className="flow-root rounded-lg border border-ink-200 p-3">
+                <WaveformThumbnail entryId={r.id} className="float-right mb-1 ml-3 max-[380px]:float-none max-[380px]:ml-0" />
                 <Link to={casebookPages.entry(r.id)} className="font-semibold text-ink-900 underline decoration-ink-300 underline-offset-4 hover:decoration-kiln-500">
                   {r.title}
                 </Link>

@@ -3,6 +3,7 @@ import type { LiveAbilities, Participant } from "../../../../shared/realtime";
 import type { DataRequest } from "../../../../shared/schemas/realtime";
 import { MAX_MESSAGE } from "../../../../shared/schemas/realtime";
 import type { LiveMessage } from "../lib/room-state";
+import { useTouchScreen } from "../../../lib/use-media-query";
 import { DataRequestCard } from "./data-request-card";
 import { DataRequestForm } from "./data-request-form";
 
@@ -22,19 +23,22 @@ export interface ChatPanelProps {
   onTyping: (typing: boolean) => void;
   onDismiss: (clientId: string) => void;
   className?: string;
+  /** false while the panel is out of sight (a lowered sheet): on showing it scrolls to the newest message */
+  shown?: boolean;
 }
 
 /** The case's chat: messages in order, requests for more data as cards, who is typing, the composer. */
-export function ChatPanel({ messages, participants, youId, abilities, onSend, onTyping, onDismiss, className }: ChatPanelProps) {
+export function ChatPanel({ messages, participants, youId, abilities, onSend, onTyping, onDismiss, className, shown = true }: ChatPanelProps) {
   const [text, setText] = useState("");
   const [asking, setAsking] = useState(false);
+  const touch = useTouchScreen();
   const listRef = useRef<HTMLOListElement>(null);
   const typing = participants.filter((p) => p.typing && p.userId !== youId);
 
   useEffect(() => {
     const el = listRef.current;
-    if (el) el.scrollTop = el.scrollHeight;
-  }, [messages.length]);
+    if (el && shown) el.scrollTop = el.scrollHeight;
+  }, [messages.length, shown]);
 
   const submit = (e?: FormEvent) => {
     e?.preventDefault();
@@ -44,8 +48,9 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
     setText("");
     onTyping(false);
   };
+  // on a touch screen Enter starts a new line (the keyboard has no Shift+Enter); the button sends
   const onKey = (e: KeyboardEvent<HTMLTextAreaElement>) => {
-    if (e.key === "Enter" && !e.shiftKey) {
+    if (e.key === "Enter" && !e.shiftKey && !touch) {
       e.preventDefault();
       submit();
     }
@@ -111,7 +116,7 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
               maxLength={MAX_MESSAGE}
               value={text}
               placeholder="Write a message…"
-              aria-describedby="chat-input-hint"
+              aria-describedby={touch ? undefined : "chat-input-hint"}
               onChange={(e) => {
                 setText(e.target.value);
                 onTyping(e.target.value.trim().length > 0);
@@ -121,12 +126,14 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
               className="block min-h-11 w-full min-w-0 flex-1 resize-y rounded-lg border border-ink-300 px-3 py-2 text-base focus:border-kiln-500 focus:outline-none focus:ring-2 focus:ring-kiln-300"
             />
             <button type="submit" disabled={!text.trim()} className="inline-flex min-h-11 items-center rounded-lg bg-kiln-500 px-4 font-semibold text-ink-950 hover:bg-kiln-400 disabled:opacity-50">
-              Send
+              Send message
             </button>
           </form>
-          <p id="chat-input-hint" className="text-xs text-ink-500">
-            Enter sends · Shift+Enter starts a new line
-          </p>
+          {touch ? null : (
+            <p id="chat-input-hint" className="text-xs text-ink-500">
+              Enter sends · Shift+Enter starts a new line
+            </p>
+          )}
           {abilities.requestData && !asking ? (
             <button type="button" onClick={() => setAsking(true)} className="inline-flex min-h-11 items-center rounded-lg border border-kiln-500 px-3 text-sm font-semibold text-kiln-700 hover:bg-kiln-50">
               Ask for more data…

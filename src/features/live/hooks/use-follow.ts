@@ -1,4 +1,4 @@
-import { useEffect, useMemo, useState } from "react";
+import { useMemo, useState } from "react";
 import type { ViewPayload } from "../../../../shared/realtime";
 import type { Role } from "../../../../shared/domain/case-status";
 
@@ -18,8 +18,11 @@ export interface FollowMode {
  */
 export function useFollow(remoteView: ViewPayload | null, myRole: Role | undefined): FollowMode {
   const shop = myRole === "technician" || myRole === "owner";
-  const [following, setFollowing] = useState<boolean>(shop);
-  useEffect(() => setFollowing(shop), [shop]);
+  // the default follows the role as soon as it is known (adjusted while rendering, not in an effect)
+  const [state, setState] = useState({ shop, following: shop });
+  if (state.shop !== shop) setState({ shop, following: shop });
+  const following = state.following;
+  const setFollowing = (on: boolean) => setState((s) => ({ ...s, following: on }));
   const fromOtherSide = remoteView && (shop ? remoteView.role === "expert" || remoteView.role === "admin" : remoteView.role === "technician" || remoteView.role === "owner");
   const viewWindow = useMemo(
     () => (following && fromOtherSide && remoteView ? { traceId: remoteView.traceId, t0: remoteView.t0, t1: remoteView.t1 } : null),

@@ -138,7 +138,10 @@ export class RoomStore {
       ...ack.annotations.map((r) => ({ k: "a" as const, r })),
       ...ack.messages.map((r) => ({ k: "m" as const, r })),
     ].sort((x, y) => x.r.seq - y.r.seq);
-    for (const x of records) (x.k === "a" ? this.upsertAnnotation(x.r) : this.upsertMessage(x.r));
+    for (const x of records) {
+      if (x.k === "a") this.upsertAnnotation(x.r);
+      else this.upsertMessage(x.r);
+    }
     this.lastSeq = Math.max(this.lastSeq, ack.seq);
     this.participants = ack.presence.participants;
     this.remoteView = ack.view && ack.view.userId !== ack.you.userId ? ack.view : this.remoteView;

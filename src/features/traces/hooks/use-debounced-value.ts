@@ -1,13 +1,16 @@
 import { useEffect, useState } from "react";
 
-/** The value, once it has stopped changing for `ms` (used so that wheel zoom does not fire a fetch per tick). */
+/**
+ * The value, once it has stopped changing for `ms` (so that wheel zoom does not fire a fetch per
+ * tick). `equal` decides what counts as a change; the first value is returned at once.
+ */
 export function useDebouncedValue<T>(value: T, ms: number, equal: (a: T, b: T) => boolean = Object.is): T {
-  const [v, setV] = useState(value);
+  const [settled, setSettled] = useState(value);
+  const same = equal(settled, value);
   useEffect(() => {
-    if (equal(v, value)) return;
-    const id = setTimeout(() => setV(value), ms);
+    if (same) return;
+    const id = setTimeout(() => setSettled(value), ms);
     return () => clearTimeout(id);
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [value, ms]);
-  return v;
+  }, [value, ms, same]);
+  return settled;
 }

@@ -1,23 +1,29 @@
-import { useEffect, useState, type RefObject } from "react";
+import { useCallback, useState, useSyncExternalStore } from "react";
 
-/** The content width of an element in CSS px, kept up to date with a ResizeObserver. */
-export function useElementWidth(ref: RefObject<HTMLElement | null>, fallback = 600): number {
-  const [width, setWidth] = useState(fallback);
-  useEffect(() => {
-    const el = ref.current;
-    if (!el) return;
-    const measure = () => setWidth(Math.max(0, Math.floor(el.getBoundingClientRect().width)));
-    measure();
-    if (typeof ResizeObserver === "undefined") {
-      window.addEventListener("resize", measure);
-      return () => window.removeEventListener("resize", measure);
-    }
-    const ro = new ResizeObserver((entries) => {
-      const w = entries[0]?.contentRect.width;
-      if (w != null) setWidth(Math.max(0, Math.floor(w)));
-    });
-    ro.observe(el);
-    return () => ro.disconnect();
-  }, [ref]);
-  return width;
+/**
+ * The content width of an element in CSS px, or null until the element is in the page: pass the
+ * returned callback as its `ref`. The first width is read while the page is laid out, before
+ * anything is painted or fetched, and followed with a ResizeObserver afterwards.
+ */
+export function useElementWidth(): [(el: HTMLElement | null) => void, number | null] {
+  const [el, setEl] = useState<HTMLElement | null>(null);
+  const subscribe = useCallback(
+    (onChange: () => void) => {
+      if (!el) return () => {};
+      if (typeof ResizeObserver === "undefined") {
+        window.addEventListener("resize", onChange);
+        return () => window.removeEventListener("resize", onChange);
+      }
+      const ro = new ResizeObserver(onChange);
+      ro.observe(el);
+      return () => ro.disconnect();
+    },
+    [el],
+  );
+  const width = useSyncExternalStore(
+    subscribe,
+    () => (el ? Math.max(0, Math.floor(el.getBoundingClientRect().width)) : null),
+    () => null,
+  );
+  return [setEl, width];
 }

@@ -1,7 +1,6 @@
-import { useRef } from "react";
-import { useTraceWindows } from "../api/get-trace-window";
-import { traceBounds } from "../lib/capture-view";
-import { fetchWindowFor, quantizeWindow } from "../lib/buckets";
+import { useMemo } from "react";
+import { useTraceWindowResults } from "../api/get-trace-window";
+import { windowParams } from "../lib/window-params";
 import type { TraceInfo, TraceWindowData } from "../types";
 
 export interface TraceWindowState {
@@ -11,35 +10,24 @@ export interface TraceWindowState {
 }
 
 /**
- * Min/max data for each trace over a view given in display time (trace time − offset), at about two
- * buckets per pixel. While a new window loads, the last data of that trace is kept on screen.
+ * Min/max data for each trace over a view given in display time (trace time − offset), at one
+ * bucket per pixel of the plot. Nothing is asked until the plot's width is known (null), so a
+ * chart asks once, at its real width. While a new window loads, the last one of that trace stays.
  */
 export function useWindowData(
   traces: TraceInfo[],
   offsets: Record<string, number>,
   view: { t0: number; t1: number } | null,
-  plotWidthPx: number,
+  plotWidthPx: number | null,
 ): Record<string, TraceWindowState> {
-  const params = traces.map((tr) => {
-    if (!view || plotWidthPx <= 0) return null;
-    const off = offsets[tr.id] ?? 0;
-    const b = traceBounds(tr);
-    const fw = fetchWindowFor({ t0: view.t0 + off, t1: view.t1 + off }, b, plotWidthPx, tr.sampleRateHz);
-    if (!fw) return null;
-    const q = quantizeWindow(fw, b);
-    return { traceId: tr.id, t0: q.t0, t1: q.t1, width: q.width };
-  });
-  const results = useTraceWindows(params);
-  const last = useRef<Record<string, TraceWindowData>>({});
-  const out: Record<string, TraceWindowState> = {};
-  traces.forEach((tr, i) => {
-    const r = results[i];
-    if (r?.data) last.current[tr.id] = r.data;
-    out[tr.id] = {
-      data: r?.data ?? last.current[tr.id] ?? null,
-      loading: !!r?.isFetching,
-      error: (r?.error as Error | null) ?? null,
-    };
-  });
-  return out;
+  const params = traces.map((tr) => (view && plotWidthPx && plotWidthPx > 0 ? windowParams(tr, offsets[tr.id] ?? 0, view, plotWidthPx) : null));
+  const results = useTraceWindowResults(params);
+  return useMemo(() => {
+    const out: Record<string, TraceWindowState> = {};
+    traces.forEach((tr, i) => {
+      const r = results[i];
+      out[tr.id] = { data: r?.data ?? null, loading: !!r?.loading, error: r?.error ?? null };
+    });
+    return out;
+  }, [traces, results]);
 }

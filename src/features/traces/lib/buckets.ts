@@ -2,6 +2,12 @@
 import { MAX_WINDOW_WIDTH } from "../../../../shared/schemas/traces";
 
 export const BUCKETS_PER_PIXEL = 2;
+/**
+ * What the viewer asks for: one min/max bucket per CSS pixel of the plot. The band between each
+ * bucket's minimum and maximum already holds every extreme of the samples under that pixel, so
+ * nothing a pixel could show is lost, and a 390 px phone asks for a few hundred points.
+ */
+export const VIEW_BUCKETS_PER_PIXEL = 1;
 /** the window endpoint's limit */
 export const MAX_BUCKETS = MAX_WINDOW_WIDTH;
 export const MIN_BUCKETS = 16;
@@ -28,7 +34,8 @@ export interface FetchWindow {
 
 /**
  * The window to fetch for a view: the view widened by `pad` of its span on each side (so a short pan
- * shows data at once), clipped to the trace, with buckets so that the view itself gets ~2 per pixel.
+ * shows data at once), clipped to the trace, with buckets so that the view itself gets `perPixel`
+ * per pixel (two by default).
  * Returns null when the view does not overlap the trace.
  */
 export function fetchWindowFor(
@@ -37,6 +44,7 @@ export function fetchWindowFor(
   plotWidthPx: number,
   sampleRateHz: number,
   pad = 0.25,
+  perPixel = BUCKETS_PER_PIXEL,
 ): FetchWindow | null {
   const span = view.t1 - view.t0;
   if (!(span > 0)) return null;
@@ -45,7 +53,7 @@ export function fetchWindowFor(
   if (!(t1 > t0)) return null;
   const pxCovered = plotWidthPx * ((t1 - t0) / span);
   const samples = sampleRateHz > 0 ? (t1 - t0) * sampleRateHz + 1 : Infinity;
-  return { t0, t1, width: bucketsFor(pxCovered, samples) };
+  return { t0, t1, width: bucketsFor(pxCovered, samples, perPixel) };
 }
 
 /**

@@ -28,7 +28,7 @@ export function zoomLimits(start: number, end: number, sampleRateHz: number, cap
  */
 export function clampWindow(w: Span, lim: ZoomLimits): Span {
   let span = w.t1 - w.t0;
-  let centre = (w.t0 + w.t1) / 2;
+  const centre = (w.t0 + w.t1) / 2;
   if (!Number.isFinite(span) || !Number.isFinite(centre)) return { t0: lim.start, t1: lim.start + lim.maxSpan };
   span = Math.min(Math.max(span, lim.minSpan), lim.maxSpan);
   const keep = span / 4;

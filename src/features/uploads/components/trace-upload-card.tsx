@@ -5,6 +5,7 @@ import { needsRate, previewBlocks, type UploadItem } from "../hooks/use-trace-up
 import type { SettingsDraft } from "../lib/settings";
 import { kindLabels } from "../lib/settings";
 import { CaptureSettingsForm } from "./capture-settings-form";
+import { localProgressText } from "../lib/progress-text";
 import { TracePreviewPanel } from "./trace-preview";
 import { channelUnits } from "../../../../shared/trace/units";
 
@@ -18,6 +19,7 @@ const btn = {
 const statusText: Record<UploadItem["status"], string> = {
   reading: "Reading…",
   ready: "Ready to upload",
+  waiting: "Waiting its turn",
   uploading: "Uploading",
   done: "Uploaded",
   error: "Not uploaded",
@@ -42,7 +44,7 @@ export function TraceUploadCard({
 }) {
   const [open, setOpen] = useState(true);
   const p = item.preview;
-  const busy = item.status === "uploading";
+  const busy = item.status === "uploading" || item.status === "waiting";
   const blocked = previewBlocks(p, !!item.head?.partial);
   // the unit the scope's settings are typed in (shared/trace/units): V for a file in V or mV, kV or A when the file states them
   const unit = p?.ok ? channelUnits(p.trace.channels[0]?.unit ?? null).scopeUnit : "V";
@@ -51,16 +53,23 @@ export function TraceUploadCard({
   if (item.status === "done") {
     const r = item.result;
     return (
-      <li className="flex flex-wrap items-center gap-3 rounded-xl border border-verdigris-500 bg-white px-4 py-3" aria-labelledby={titleId}>
-        <span aria-hidden="true" className="flex h-7 w-7 items-center justify-center rounded-full bg-verdigris-500 text-sm font-bold text-white">
+      <li
+        className="flex flex-wrap items-center gap-3 rounded-xl border border-verdigris-500 bg-white px-4 py-3"
+        aria-labelledby={titleId}
+      >
+        <span
+          aria-hidden="true"
+          className="flex h-7 w-7 items-center justify-center rounded-full bg-verdigris-500 text-sm font-bold text-white"
+        >
           ✓
         </span>
         <div className="min-w-0 flex-1">
           <p id={titleId} className="truncate font-semibold">
-            {item.file.name}
+            {item.fileName}
           </p>
           <p className="text-sm text-ink-600">
-            Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}. It is listed with the case's traces.
+            Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}
+            . It is listed with the case's traces.
           </p>
         </div>
         <button type="button" className={btn.secondary} onClick={onRemove}>
@@ -74,12 +83,14 @@ export function TraceUploadCard({
     <li className="rounded-xl border border-ink-200 bg-white shadow-sm" aria-labelledby={titleId}>
       <div className="flex flex-wrap items-center gap-x-3 gap-y-1 border-b border-ink-100 px-4 py-3">
         <div className="min-w-0 flex-1">
-          <p id={titleId} className="truncate font-semibold text-ink-900" title={item.file.name}>
-            {item.file.name}
+          <p id={titleId} className="truncate font-semibold text-ink-900" title={item.fileName}>
+            {item.fileName}
           </p>
           <p className="text-sm text-ink-500">
-            {formatSize(item.file.size)} · {kindLabels[item.draft.kind]} ·{" "}
-            <span className={item.status === "error" || blocked ? "font-semibold text-alarm-600" : ""}>{blocked ? "Cannot be read" : statusText[item.status]}</span>
+            {formatSize(item.fileBytes)} · {kindLabels[item.draft.kind]} ·{" "}
+            <span className={item.status === "error" || blocked ? "font-semibold text-alarm-600" : ""}>
+              {blocked ? "Cannot be read" : statusText[item.status]}
+            </span>
           </p>
         </div>
         {!busy ? (
@@ -87,7 +98,7 @@ export function TraceUploadCard({
             type="button"
             onClick={onRemove}
             className="flex h-11 w-11 items-center justify-center rounded-lg text-2xl leading-none text-ink-500 hover:bg-ink-100 hover:text-ink-900"
-            aria-label={`Remove ${item.file.name}`}
+            aria-label={`Remove ${item.fileName}`}
           >
             ×
           </button>
@@ -96,7 +107,7 @@ export function TraceUploadCard({
 
       <div className="space-y-4 px-4 py-4">
         {item.status === "reading" ? <p className="text-sm text-ink-500">Reading the start of the file…</p> : null}
-        {p ? <TracePreviewPanel preview={p} fileName={item.file.name} /> : null}
+        {p ? <TracePreviewPanel preview={p} fileName={item.fileName} /> : null}
 
         {p && !blocked ? (
           <div>
@@ -111,7 +122,9 @@ export function TraceUploadCard({
                 ▸
               </span>
               Capture settings
-              {Object.keys(item.errors).length ? <span className="text-sm text-alarm-600">— {Object.keys(item.errors).length} to fix</span> : null}
+              {Object.keys(item.errors).length ? (
+                <span className="text-sm text-alarm-600">— {Object.keys(item.errors).length} to fix</span>
+              ) : null}
             </button>
             <div id={`${item.key}-settings`} hidden={!open}>
               {copySource && !busy ? (
@@ -141,17 +154,39 @@ export function TraceUploadCard({
         ) : null}
 
         {item.serverError ? (
-          <p role="alert" className="rounded-lg border border-alarm-500 bg-white px-3 py-2 text-sm font-semibold text-alarm-600">
+          <p
+            role="alert"
+            className="rounded-lg border border-alarm-500 bg-white px-3 py-2 text-sm font-semibold text-alarm-600"
+          >
             {item.serverError}
           </p>
         ) : null}
-        {blocked ? <p className="text-sm text-ink-600">Fix the export (or export again from the scope) and drop the file again.</p> : null}
+        {blocked ? (
+          <p className="text-sm text-ink-600">
+            Fix the export (or export again from the scope) and drop the file again.
+          </p>
+        ) : null}
 
-        {busy ? (
+        {item.restored && !busy && item.status !== "error" ? (
+          <p className="text-sm text-ink-600">Continues where it stopped before the page was reloaded.</p>
+        ) : null}
+        {item.status === "waiting" ? (
+          <p className="text-sm text-ink-600" aria-live="polite">
+            Waiting its turn: captures go one after another.
+          </p>
+        ) : null}
+        {item.status === "uploading" ? (
           <div className="space-y-1">
-            <progress className="h-3 w-full accent-kiln-500" max={1} value={item.progress} aria-label={`Uploading ${item.file.name}`} />
-            <p className="text-sm text-ink-600" aria-live="polite">
-              {item.progress >= 1 ? "Checking and measuring the trace on the server…" : `${Math.round(item.progress * 100)} % sent`}
+            <progress
+              className="h-3 w-full accent-kiln-500"
+              max={1}
+              value={
+                item.upload?.phase === "server" || item.upload?.phase === "compressing" ? undefined : item.progress
+              }
+              aria-label={`Uploading ${item.fileName}`}
+            />
+            <p className="text-sm text-ink-600" aria-live="polite" data-testid="upload-progress">
+              {item.upload ? localProgressText(item.upload) : "Starting…"}
             </p>
           </div>
         ) : null}
@@ -161,7 +196,7 @@ export function TraceUploadCard({
             <button type="button" className={btn.secondary} onClick={onCancel}>
               Cancel upload
             </button>
-          ) : !blocked && item.status !== "reading" ? (
+          ) : !blocked && item.status !== "reading" && (item.file || item.restored) ? (
             <button type="button" className={btn.primary} onClick={onStart}>
               {item.status === "error" || item.status === "cancelled" ? "Try again" : "Upload trace"}
             </button>

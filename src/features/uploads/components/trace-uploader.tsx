@@ -64,10 +64,20 @@ export function TraceUploader({
       >
         <input {...getInputProps()} />
         <svg aria-hidden="true" viewBox="0 0 48 24" className="mb-2 h-6 w-12 text-kiln-500">
-          <path d="M2 16h10l3-13 3 17 3-6h7l3 3 3-3 3 2 3-1h4" fill="none" stroke="currentColor" strokeWidth="2" strokeLinejoin="round" strokeLinecap="round" />
+          <path
+            d="M2 16h10l3-13 3 17 3-6h7l3 3 3-3 3 2 3-1h4"
+            fill="none"
+            stroke="currentColor"
+            strokeWidth="2"
+            strokeLinejoin="round"
+            strokeLinecap="round"
+          />
         </svg>
         <p className="font-semibold text-ink-800">{isDragActive ? "Drop the traces here" : "Add traces"}</p>
-        <p className="text-sm text-ink-500">Tap to choose, or drop several CSV / TSV exports at once (up to 200 MB each). One file per cylinder or coil compares best.</p>
+        <p className="text-sm text-ink-500">
+          Tap to choose, or drop several CSV / TSV exports at once (up to 200 MB each). One file per cylinder or coil
+          compares best.
+        </p>
       </div>
 
       {refusals.length ? (
@@ -83,12 +93,18 @@ export function TraceUploader({
           {q.items.map((it, i) => {
             const source = q.items
               .slice(0, i)
-              .find((x) => x.preview?.ok && (x.status === "ready" || x.status === "uploading" || x.status === "done" || x.status === "cancelled"));
+              .find(
+                (x) =>
+                  x.preview?.ok &&
+                  (x.status === "ready" || x.status === "uploading" || x.status === "done" || x.status === "cancelled"),
+              );
             return (
               <TraceUploadCard
                 key={it.key}
                 item={it}
-                copySource={source ? { name: source.file.name, onCopy: () => q.copyFrom(source.key, it.key) } : undefined}
+                copySource={
+                  source ? { name: source.fileName, onCopy: () => q.copyFrom(source.key, it.key) } : undefined
+                }
                 onDraft={(d) => q.setDraft(it.key, d)}
                 onStart={() => void q.start(it.key)}
                 onCancel={() => q.cancel(it.key)}

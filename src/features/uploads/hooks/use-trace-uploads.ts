@@ -1,16 +1,33 @@
 import { useCallback, useEffect, useRef, useState } from "react";
+import { Upload } from "tus-js-client";
 import { MAX_TRACE_FILE_BYTES } from "../../../../shared/trace/parse";
-import { ApiError } from "../../../lib/api-client";
-import { uploadTrace, type UploadedTrace } from "../api/upload-trace";
+import type { CaptureSettings } from "../../../../shared/schemas/capture-settings";
+import type { UploadedTrace } from "../api/upload-trace";
 import { guessKind } from "../lib/guess-kind";
 import { previewText, readHead, type TracePreview } from "../lib/preview";
-import { copySettings, framingTime, initialSettings, rateUnits, toCaptureSettings, type SettingsDraft, type SettingsErrors } from "../lib/settings";
+import {
+  copySettings,
+  framingTime,
+  initialSettings,
+  rateUnits,
+  toCaptureSettings,
+  type SettingsDraft,
+  type SettingsErrors,
+} from "../lib/settings";
+import type { UploadState } from "../lib/capture-upload";
+import { forgetUpload, savedPieces, savedUploads, type SavedUpload } from "../lib/upload-store";
+import { restoredItem, useUploadLine } from "./use-upload-line";
 
-export type UploadStatus = "reading" | "ready" | "uploading" | "done" | "error" | "cancelled";
+/** waiting: in line behind another upload of this page (one goes at a time) */
+export type UploadStatus = "reading" | "ready" | "waiting" | "uploading" | "done" | "error" | "cancelled";
 
 export interface UploadItem {
   key: string;
-  file: File;
+  /** null for an upload restored after a reload (its compressed bytes were kept, not the file) */
+  file: File | null;
+  fileName: string;
+  fileBytes: number;
+  lastModified: number;
   head: { text: string; partial: boolean; bytesRead: number } | null;
   preview: TracePreview | null;
   guess: { kind: SettingsDraft["kind"]; reason: string };
@@ -18,7 +35,12 @@ export interface UploadItem {
   fromFile: (keyof SettingsDraft)[];
   errors: SettingsErrors;
   status: UploadStatus;
+  /** share of the (estimated) compressed bytes sent */
   progress: number;
+  /** the upload's live state (compressing, sending, resuming, the server's stages) */
+  upload?: UploadState;
+  /** carried over from before a reload: continues without the file */
+  restored?: { saved: SavedUpload; pieces: Blob[] };
   serverError?: string;
   result?: UploadedTrace;
 }
@@ -44,7 +66,11 @@ const statedRate = (d: SettingsDraft) => {
  * capture settings, then uploaded with progress and a cancel. `ensureCaseId` saves the draft
  * first when the case does not exist yet.
  */
-export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: () => Promise<string>; onUploaded?: (t: UploadedTrace) => void }) {
+export function useTraceUploads(opts: {
+  caseId: string | null;
+  ensureCaseId?: () => Promise<string>;
+  onUploaded?: (t: UploadedTrace) => void;
+}) {
   const [items, setItems] = useState<UploadItem[]>([]);
   const itemsRef = useRef(items);
   itemsRef.current = items;
@@ -61,31 +87,24 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
     (files: File[]) => {
       for (const file of files) {
         const key = `t${++seq.current}`;
-        const guess = guessKind(null, file.name);
-        const { draft, fromFile } = initialSettings(null, guess.kind, file.name);
-        const item: UploadItem = { key, file, head: null, preview: null, guess, draft, fromFile, errors: {}, status: "reading", progress: 0 };
-        if (file.size > MAX_TRACE_FILE_BYTES) {
-          item.status = "error";
-          item.serverError = `This file is ${(file.size / 1024 / 1024).toFixed(0)} MB; traces are accepted up to 200 MB. Export a shorter capture.`;
-          setItems((xs) => [...xs, item]);
+        const again = itemsRef.current.find(
+          (x) =>
+            x.restored &&
+            !x.file &&
+            x.fileName === file.name &&
+            x.fileBytes === file.size &&
+            x.lastModified === file.lastModified,
+        );
+        if (again) {
+          // the file of an upload that could not continue after a reload: start it over with it
+          void forgetUpload(again.restored!.saved.key);
+          if (again.restored!.saved.uploadUrl) void Upload.terminate(again.restored!.saved.uploadUrl).catch(() => {});
+          patch(again.key, { file, restored: undefined, status: "ready", serverError: undefined, upload: undefined });
           continue;
         }
+        const item = newItem(key, file);
         setItems((xs) => [...xs, item]);
-        void readHead(file).then(
-          (head) => {
-            const preview = previewText(head, file.size);
-            const trace = preview.ok ? preview.trace : null;
-            const g = guessKind(trace, file.name);
-            // frame the whole file (estimated when only its start was read); no framing without a known rate
-            const whole =
-              preview.ok && trace
-                ? { ...trace, durationS: preview.rateFromFile ? (trace.durationS * preview.estimatedSamples) / trace.samples : NaN }
-                : null;
-            const init = initialSettings(whole, g.kind, file.name);
-            patch(key, { head, preview, guess: g, draft: init.draft, fromFile: init.fromFile, status: "ready" });
-          },
-          () => patch(key, { status: "error", serverError: "The browser could not read this file." }),
-        );
+        if (item.status === "reading") void preview(item, file, patch);
       }
     },
     [patch],
@@ -99,39 +118,18 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
   );
 
   // A file without a time column: re-read the preview at the stated rate (for the duration).
-  const rateKey = items.map((it) => `${it.key}:${needsRate(it.preview) || (it.preview?.ok && !it.preview.rateFromFile) ? statedRate(it.draft) ?? "" : "-"}`).join("|");
-  useEffect(() => {
-    const t = setTimeout(() => {
-      for (const it of itemsRef.current) {
-        if (!it.head || !it.preview) continue;
-        const noRateInFile = needsRate(it.preview) || (it.preview.ok && !it.preview.rateFromFile);
-        if (!noRateInFile) continue;
-        const rate = statedRate(it.draft);
-        const prev = it.preview.ok ? it.preview.trace.sampleRateHz : undefined;
-        if (!rate || rate === prev) continue;
-        const preview = previewText(it.head, it.file.size, rate);
-        patch(it.key, (cur) => {
-          // now the duration is known: frame it when the tech has not set a time base yet
-          const framing = preview.ok && cur.draft.timePerDiv.trim() === "" ? framingTime((preview.trace.durationS * preview.estimatedSamples) / preview.trace.samples) : null;
-          return framing
-            ? { preview, draft: { ...cur.draft, ...framing }, fromFile: [...cur.fromFile.filter((k) => k !== "timePerDiv"), "timePerDiv"] }
-            : { preview };
-        });
-      }
-    }, 300);
-    return () => clearTimeout(t);
-  }, [rateKey, patch]);
+  useRatePreview(items, itemsRef, patch);
+
+  // ---- one upload at a time, in the order they were started
+  const line = useUploadLine(itemsRef, patch, (t) => optsRef.current.onUploaded?.(t));
 
   const start = useCallback(
     async (key: string) => {
       const it = itemsRef.current.find((x) => x.key === key);
-      if (!it || it.status === "uploading" || it.status === "done" || it.status === "reading") return;
-      if (previewBlocks(it.preview, !!it.head?.partial)) return;
-      const checked = toCaptureSettings(it.draft, needsRate(it.preview));
-      if (!checked.ok) {
-        patch(key, { errors: checked.errors, status: it.status === "error" ? "error" : "ready" });
-        return;
-      }
+      const checked = it ? settingsToSend(it) : null;
+      if (!it || !checked) return;
+      if (!checked.ok) return patch(key, { errors: checked.errors, status: it.status === "error" ? "error" : "ready" });
+      const settings = checked.settings;
       let caseId = optsRef.current.caseId;
       try {
         if (!caseId) {
@@ -142,32 +140,29 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
         patch(key, { status: "error", serverError: e instanceof Error ? e.message : "Save the case first." });
         return;
       }
-      const abort = new AbortController();
-      aborts.current.set(key, abort);
-      patch(key, { status: "uploading", progress: 0, serverError: undefined, errors: {} });
-      try {
-        const result = await uploadTrace(caseId, it.file, checked.settings, (f) => patch(key, { progress: f }), abort.signal);
-        patch(key, { status: "done", progress: 1, result });
-        optsRef.current.onUploaded?.(result);
-      } catch (e) {
-        if (e instanceof ApiError && e.code === "aborted") {
-          patch(key, { status: "cancelled", progress: 0 });
-        } else if (e instanceof ApiError) {
-          const errors: SettingsErrors = {};
-          for (const f of e.details?.fields ?? []) {
-            const name = String(f.path).replace(/^settings\./, "").split(".")[0] as keyof SettingsErrors;
-            if (name) errors[name] = f.message;
-          }
-          patch(key, { status: "error", serverError: serverMessage(e), errors });
-        } else {
-          patch(key, { status: "error", serverError: "The upload failed. Try again." });
-        }
-      } finally {
-        aborts.current.delete(key);
-      }
+      line.enqueue(key, { caseId, settings });
     },
-    [patch],
+    [patch, line],
   );
+
+  // Uploads a reload interrupted: shown again and continued from the server's last byte.
+  const caseId = opts.caseId;
+  useEffect(() => {
+    if (!caseId) return;
+    let live = true;
+    void (async () => {
+      for (const saved of await savedUploads(caseId)) {
+        if (!live || itemsRef.current.some((x) => x.restored?.saved.key === saved.key)) continue;
+        const item = restoredItem(`t${++seq.current}`, saved, await savedPieces(saved.key));
+        itemsRef.current = [...itemsRef.current, item];
+        setItems((xs) => [...xs, item]);
+        void start(item.key);
+      }
+    })();
+    return () => {
+      live = false;
+    };
+  }, [caseId, start]);
 
   /** The settings of `fromKey` for `toKey` too (its cylinder, coil, circuit and sensor stay). */
   const copyFrom = useCallback(
@@ -183,24 +178,133 @@ export function useTraceUploads(opts: { caseId: string | null; ensureCaseId?: ()
     [patch],
   );
 
-  const cancel = useCallback((key: string) => aborts.current.get(key)?.abort(), []);
-  const remove = useCallback((key: string) => {
-    aborts.current.get(key)?.abort();
-    setItems((xs) => xs.filter((x) => x.key !== key));
-  }, []);
+  /** Stops an upload for good (and removes what the server has of it); one in line leaves the line. */
+  const cancel = useCallback(
+    (key: string) => {
+      if (line.cancel(key)) return;
+      const it = itemsRef.current.find((x) => x.key === key);
+      if (it?.restored) {
+        void forgetUpload(it.restored.saved.key);
+        if (it.restored.saved.uploadUrl) void Upload.terminate(it.restored.saved.uploadUrl).catch(() => {});
+      }
+      if (it && (it.status === "waiting" || it.restored)) patch(key, { status: "cancelled", restored: undefined });
+    },
+    [patch, line],
+  );
+  const remove = useCallback(
+    (key: string) => {
+      cancel(key);
+      setItems((xs) => xs.filter((x) => x.key !== key));
+    },
+    [cancel],
+  );
   const startAll = useCallback(async () => {
     for (const it of itemsRef.current) {
       if (it.status === "ready" || it.status === "cancelled" || it.status === "error") await start(it.key);
     }
   }, [start]);
 
-  // Abandoning the page aborts what is still in flight.
-  useEffect(() => {
-    const m = aborts.current;
-    return () => m.forEach((a) => a.abort());
-  }, []);
-
   return { items, add, setDraft, copyFrom, start, startAll, cancel, remove };
+}
+
+/** The settings an item goes with, its settings' errors, or null when it cannot start now. */
+function settingsToSend(
+  it: UploadItem,
+): { ok: true; settings: CaptureSettings } | { ok: false; errors: SettingsErrors } | null {
+  if (["uploading", "waiting", "done", "reading"].includes(it.status)) return null;
+  if (it.restored) return { ok: true, settings: it.restored.saved.settings };
+  if (!it.file || previewBlocks(it.preview, !!it.head?.partial)) return null;
+  return toCaptureSettings(it.draft, needsRate(it.preview));
+}
+
+/** Re-reads the preview of a file without a time column at the rate the tech states (for the duration). */
+function useRatePreview(
+  items: UploadItem[],
+  itemsRef: { current: UploadItem[] },
+  patch: (key: string, p: Partial<UploadItem> | ((it: UploadItem) => Partial<UploadItem>)) => void,
+) {
+  const rateKey = items
+    .map(
+      (it) =>
+        `${it.key}:${needsRate(it.preview) || (it.preview?.ok && !it.preview.rateFromFile) ? (statedRate(it.draft) ?? "") : "-"}`,
+    )
+    .join("|");
+  useEffect(() => {
+    const t = setTimeout(() => {
+      for (const it of itemsRef.current) {
+        if (!it.head || !it.preview || !it.file) continue;
+        const noRateInFile = needsRate(it.preview) || (it.preview.ok && !it.preview.rateFromFile);
+        if (!noRateInFile) continue;
+        const rate = statedRate(it.draft);
+        const prev = it.preview.ok ? it.preview.trace.sampleRateHz : undefined;
+        if (!rate || rate === prev) continue;
+        const preview = previewText(it.head, it.fileBytes, rate);
+        patch(it.key, (cur) => {
+          // now the duration is known: frame it when the tech has not set a time base yet
+          const framing =
+            preview.ok && cur.draft.timePerDiv.trim() === ""
+              ? framingTime((preview.trace.durationS * preview.estimatedSamples) / preview.trace.samples)
+              : null;
+          return framing
+            ? {
+                preview,
+                draft: { ...cur.draft, ...framing },
+                fromFile: [...cur.fromFile.filter((k) => k !== "timePerDiv"), "timePerDiv"],
+              }
+            : { preview };
+        });
+      }
+    }, 300);
+    return () => clearTimeout(t);
+  }, [rateKey, patch]);
+}
+
+/** A chosen file as an item: being read (or refused at once when over the size limit). */
+function newItem(key: string, file: File): UploadItem {
+  const guess = guessKind(null, file.name);
+  const { draft, fromFile } = initialSettings(null, guess.kind, file.name);
+  const item: UploadItem = {
+    key,
+    file,
+    fileName: file.name,
+    fileBytes: file.size,
+    lastModified: file.lastModified,
+    head: null,
+    preview: null,
+    guess,
+    draft,
+    fromFile,
+    errors: {},
+    status: "reading",
+    progress: 0,
+  };
+  if (file.size > MAX_TRACE_FILE_BYTES) {
+    item.status = "error";
+    item.serverError = `This file is ${(file.size / 1024 / 1024).toFixed(0)} MB; traces are accepted up to 200 MB. Export a shorter capture.`;
+  }
+  return item;
+}
+
+/** Reads the start of the file for the instant preview and the suggested settings. */
+async function preview(item: UploadItem, file: File, patch: (key: string, p: Partial<UploadItem>) => void) {
+  try {
+    const head = await readHead(file);
+    const preview = previewText(head, file.size);
+    const trace = preview.ok ? preview.trace : null;
+    const g = guessKind(trace, file.name);
+    // frame the whole file (estimated when only its start was read); no framing without a known rate
+    const whole =
+      preview.ok && trace
+        ? {
+            ...trace,
+            durationS: preview.rateFromFile ? (trace.durationS * preview.estimatedSamples) / trace.samples : NaN,
+          }
+        : null;
+    const init = initialSettings(whole, g.kind, file.name);
+    patch(item.key, { head, preview, guess: g, draft: init.draft, fromFile: init.fromFile, status: "ready" });
+  } catch {
+    patch(item.key, { status: "error", serverError: "The browser could not read this file." });
+  }
 }
 
 function recheck(draft: SettingsDraft, it: UploadItem): SettingsErrors {
@@ -213,7 +317,12 @@ function recheck(draft: SettingsDraft, it: UploadItem): SettingsErrors {
 }
 
 /** The server's refusal in plain words, with the line when it names one. */
-function serverMessage(e: ApiError): string {
+export function serverMessage(e: {
+  status: number;
+  code: string;
+  message: string;
+  details?: Record<string, unknown>;
+}): string {
   const line = typeof e.details?.line === "number" ? e.details.line : null;
   let msg = e.message.charAt(0).toUpperCase() + e.message.slice(1);
   if (line !== null && !/line\s+\d+/i.test(msg)) msg = `Line ${line}: ${msg}`;
