@@ -11,6 +11,8 @@ import { schema } from "../db/client";
 import { HttpError, notFound, unauthorized } from "../http/errors";
 import { canJoinCase } from "../auth/policies/live";
 import { getCaseRow, type CaseRow } from "../workflow/records";
+import { runEffects } from "../workflow/effects";
+import type { Effect } from "../workflow/effect";
 import type { LiveActor } from "../services/annotations";
 import type { PresenceRegistry } from "../services/presence";
 import type { GroupCommit } from "./group-commit";
@@ -69,6 +71,10 @@ export interface Live {
   quiet(event: string, fn: () => void): void;
   /** forwards at most POINTER_RATE_HZ per socket; the latest of a burst is sent at the end of the gap */
   throttled<P>(t: Throttle<P>, payload: P, send: (p: P) => void): void;
+  /** the users in a case's room right now */
+  presentUsers(caseId: string): string[];
+  /** runs workflow effects (notices) after a commit, in the background; a failure is logged */
+  runEffects(effects: Effect[]): void;
 }
 
 export function createLive(ctx: AppContext, io: LiveServer, presence: PresenceRegistry, commits: GroupCommit): Live {
@@ -170,6 +176,13 @@ export function createLive(ctx: AppContext, io: LiveServer, presence: PresenceRe
       } catch (err) {
         if (!(err instanceof HttpError)) eventError(err, ctx, event);
       }
+    },
+    presentUsers(caseId) {
+      return presence.snapshot(caseId).participants.map((p) => p.userId);
+    },
+    runEffects(effects) {
+      if (effects.length === 0) return;
+      runEffects(ctx, effects).catch((err: unknown) => ctx.logger.error({ err }, "live notices failed"));
     },
     throttled(t, payload, send) {
       const now = Date.now();

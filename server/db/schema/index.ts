@@ -6,3 +6,4 @@ export * from "./queue";
 export * from "./live";
 export * from "./casebook";
 export * from "./mail";
+export * from "./desk";

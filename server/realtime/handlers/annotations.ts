@@ -6,6 +6,8 @@ import {
   annotationUpdateSchema,
 } from "../../../shared/schemas/realtime";
 import { caseRoom } from "../../../shared/realtime";
+import { markSeenIn } from "../../services/reading";
+import { liveHappeningEffects } from "../../workflow/live-notices";
 import type { Live, LiveSocket } from "../live";
 
 /** annotation:create / update / delete — written in the group commit, broadcast after it. */
@@ -14,12 +16,20 @@ export function onAnnotations(live: Live, socket: LiveSocket): void {
   socket.on("annotation:create", (raw, ack) =>
     live.written("annotation:create", ack, () => {
       const p = parseWith(annotationCreateSchema, raw, "event");
-      const { actor, caseId } = live.inRoom(socket);
+      const { actor, caseId, c } = live.inRoom(socket);
       const now = ctx.now();
       return {
-        run: () => createAnnotationIn(ctx.db, now, actor, caseId, p),
+        run: () => {
+          const w = createAnnotationIn(ctx.db, now, actor, caseId, p);
+          if (w.changed) markSeenIn(ctx.db, caseId, [actor.id, ...live.presentUsers(caseId)], w.record.seq, now);
+          return w;
+        },
         after: (w) => {
-          if (w.changed) socket.to(caseRoom(caseId)).emit("annotation:created", w.record);
+          if (w.changed) {
+            socket.to(caseRoom(caseId)).emit("annotation:created", w.record);
+            const what = { kind: "mark", mark: w.record.kind, label: w.record.label } as const;
+            live.runEffects(liveHappeningEffects(ctx.db, c, actor, what, new Set(live.presentUsers(caseId))));
+          }
           return { annotation: w.record };
         },
       };

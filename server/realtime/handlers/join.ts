@@ -3,6 +3,7 @@ import { assertCanJoinCase, liveAbilities } from "../../auth/policies/live";
 import { getCaseRow } from "../../workflow/records";
 import { headSeq, listAnnotations } from "../../services/annotations";
 import { listMessages } from "../../services/messages";
+import { markSeenIn } from "../../services/reading";
 import { caseJoinSchema } from "../../../shared/schemas/realtime";
 import { caseRoom, type JoinOk } from "../../../shared/realtime";
 import type { Live, LiveSocket } from "../live";
@@ -25,6 +26,8 @@ export function onJoin(live: Live, socket: LiveSocket): void {
         const since = reset ? 0 : (p.since ?? 0);
         return { head, reset, annotations: listAnnotations(tx, c.id, since), messages: listMessages(tx, c.id, since) };
       });
+      // the record up to its head is in the replay: read, with the notices about it
+      markSeenIn(ctx.db, c.id, [actor.id], replay.head, ctx.now());
       const already = socket.data.caseId === c.id;
       void socket.join(caseRoom(c.id));
       socket.data.caseId = c.id;
