@@ -1,10 +1,10 @@
 /**
  * `npm run -s analyze -- FILE... [--kind K] [--probe P] [--kv-per-volt N] [--mv-per-amp N] [--waste-spark]
- *   [--volts-per-div V] [--time-per-div S] [--trigger-level V] [--ground-offset DIV] [--sample-rate HZ]
- *   [--cylinders N] [--cylinder N] --json`
+ *   [--every-cylinder] [--volts-per-div V] [--time-per-div S] [--trigger-level V] [--ground-offset DIV]
+ *   [--sample-rate HZ] [--cylinders N] [--cylinder N] --json`
  *
  * Analyses scope exports (CSV/TSV) and prints JSON on stdout (a public contract):
- * - one file: { file, kind, unit, trace: { samples, sampleRateHz, durationS, channels }, events,
+ * - one file: { file, kind, unit, trace: { samples, sampleRateHz, durationS, channels, warnings }, events,
  *   summary, findings, … } — the object analyzeTrace returns, with `file` and `trace` in front;
  * - several files: { traces: [ one object per file ], comparison: { metrics, outliers } }.
  * --kind defaults to secondary-ignition. Output is always JSON (--json is accepted for clarity).
@@ -32,6 +32,7 @@ import { checkTextStart, TEXT_SNIFF_BYTES } from "../server/uploads/magic";
 const USAGE =
   "usage: npm run -s analyze -- FILE... [--kind secondary-ignition|relative-compression|injector|crank|generic] " +
   "[--probe capacitive-secondary|direct|x10|current-clamp] [--kv-per-volt N] [--mv-per-amp N] [--waste-spark] " +
+  "[--every-cylinder] " +
   "[--volts-per-div V] [--time-per-div S] [--trigger-level V] [--ground-offset DIV] [--sample-rate HZ] " +
   "[--cylinders N] [--cylinder N] --json";
 
@@ -44,6 +45,7 @@ interface Args {
   settings: Partial<CaptureSettings>;
   kvPerVolt?: number;
   wasteSpark: boolean;
+  everyCylinder: boolean;
   sampleRateHz?: number;
   cylinders?: number;
 }
@@ -54,6 +56,7 @@ function parseArgs(argv: string[]): Args {
   let kind: TraceKind = "secondary-ignition";
   let kvPerVolt: number | undefined;
   let wasteSpark = false;
+  let everyCylinder = false;
   let sampleRateHz: number | undefined;
   let cylinders: number | undefined;
   const num = (flag: string, value: string | undefined, opts: { positive?: boolean; integer?: boolean } = {}) => {
@@ -101,6 +104,9 @@ function parseArgs(argv: string[]): Args {
       case "--waste-spark":
         wasteSpark = true;
         break;
+      case "--every-cylinder":
+        everyCylinder = true;
+        break;
       case "--volts-per-div":
         settings.voltsPerDiv = num(flag, value(), { positive: true });
         break;
@@ -119,6 +125,7 @@ function parseArgs(argv: string[]): Args {
       case "-h":
       case "--help":
         process.stdout.write(`${USAGE}\n`);
+        answered = true;
         process.exit(0);
         break;
       default:
@@ -127,7 +134,10 @@ function parseArgs(argv: string[]): Args {
     }
   }
   if (files.length === 0) throw new UsageError("no files given");
-  return { files, kind, settings, kvPerVolt, wasteSpark, sampleRateHz, cylinders };
+  if (wasteSpark && everyCylinder) {
+    throw new UsageError("--waste-spark and --every-cylinder exclude each other (a distributor has no waste spark)");
+  }
+  return { files, kind, settings, kvPerVolt, wasteSpark, everyCylinder, sampleRateHz, cylinders };
 }
 
 const FS_REASONS: Record<string, string> = {
@@ -183,11 +193,17 @@ async function main(): Promise<number> {
   } catch (e) {
     if (e instanceof UsageError) {
       process.stderr.write(`analyze: ${e.message}\n${USAGE}\n`);
+      answered = true;
       return 2;
     }
     throw e;
   }
-  const settings: Partial<CaptureSettings> = { ...args.settings, kind: args.kind, wasteSpark: args.wasteSpark };
+  const settings: Partial<CaptureSettings> = {
+    ...args.settings,
+    kind: args.kind,
+    wasteSpark: args.wasteSpark,
+    everyCylinder: args.everyCylinder,
+  };
   if (args.kvPerVolt) settings.kvPerVolt = args.kvPerVolt;
   if (args.cylinders) settings.cylinders = args.cylinders;
   const out: Record<string, unknown>[] = [];
@@ -198,6 +214,7 @@ async function main(): Promise<number> {
     } catch (e) {
       if (e instanceof FileError) {
         process.stderr.write(`analyze: ${e.message.replace(/\s*\n\s*/g, " ")}\n`);
+        answered = true;
         return 2;
       }
       throw e;
@@ -206,6 +223,7 @@ async function main(): Promise<number> {
       kind: args.kind,
       kvPerVolt: args.kvPerVolt,
       wasteSpark: args.wasteSpark,
+      everyCylinder: args.everyCylinder,
       cylinders: args.cylinders,
     });
     const { kind, unit, ...rest } = result;
@@ -218,6 +236,7 @@ async function main(): Promise<number> {
         sampleRateHz: trace.sampleRateHz,
         durationS: trace.durationS,
         channels: trace.channels.map((c) => ({ name: c.name, unit: c.unit, min: c.min, max: c.max })),
+        warnings: trace.warnings,
       },
       ...rest,
     });
@@ -230,12 +249,51 @@ async function main(): Promise<number> {
   return 0;
 }
 
+/**
+ * Every way out says why on stderr, in one line: an error thrown anywhere (also outside main's chain,
+ * as an uncaught exception or an unhandled rejection), a signal, and an exit before main has answered
+ * (the event loop ran dry with the work unfinished, or something called process.exit) — that last one
+ * is never a success.
+ */
+let answered = false;
+const fail = (why: string, code = 1) => {
+  if (!answered) process.stderr.write(`analyze: ${why.replace(/\s*\n\s*/g, " ")}\n`);
+  answered = true;
+  process.exitCode = code;
+};
+const errorText = (e: unknown) => (e instanceof Error ? e.message : String(e));
+process.on("uncaughtException", (e) => {
+  fail(`internal error: ${errorText(e)}`);
+  process.exit(1);
+});
+process.on("unhandledRejection", (e) => {
+  fail(`internal error: ${errorText(e)}`);
+  process.exit(1);
+});
+for (const [sig, n] of [
+  ["SIGINT", 2],
+  ["SIGTERM", 15],
+  ["SIGHUP", 1],
+] as const) {
+  process.on(sig, () => {
+    fail(`stopped by ${sig} before finishing`, 128 + n);
+    process.exit(128 + n);
+  });
+}
+process.stdout.on("error", (e) => {
+  fail(`cannot write the output: ${errorText(e)}`);
+  process.exit(1);
+});
+process.on("exit", (code) => {
+  if (answered) return;
+  fail(`stopped before finishing (exit code ${code || 1}), with no result written`);
+  if (!code) process.exitCode = 1;
+});
+
 main().then(
   (code) => {
+    answered = true;
     process.exitCode = code;
   },
-  (e: unknown) => {
-    process.stderr.write(`analyze: internal error: ${e instanceof Error ? e.message : String(e)}\n`);
-    process.exitCode = 1;
-  },
+  (e: unknown) => fail(`internal error: ${errorText(e)}`),
 );

@@ -52,6 +52,13 @@ export const envSchema = z.object({
   UPLOAD_EXPIRY_HOURS: z.coerce.number().positive().default(24),
   /** a stored file no row references is removed once it is this old (the periodic reconcile) */
   ORPHAN_GRACE_MINUTES: z.coerce.number().min(0).default(60),
+  /** the seller printed on receipts (an invented demo seller by default) */
+  SELLER_NAME: z.string().trim().min(1).default("Burnline Desk Services (demo seller)"),
+  SELLER_ADDRESS: z.string().trim().min(1).default("12 Sample Row, Exampleton, EX 00000"),
+  SELLER_TAX_ID: z.string().trim().min(1).default("DEMO-TAX-0000000"),
+  /** the tax included in every price: its name and its rate in percent (0: no tax line) */
+  TAX_LABEL: z.string().trim().min(1).max(40).default("Sales tax"),
+  TAX_RATE_PERCENT: z.coerce.number().min(0).max(100).default(7.5),
 });
 
 export type Env = Omit<z.infer<typeof envSchema>, "DEMO"> & { DEMO: boolean; publicUrl: string; dataDir: string; secureCookies: boolean };

@@ -6,18 +6,22 @@ export interface BodyTypeRule {
   method: string;
   /** matched against the path under the mount point, e.g. /cases/abc/traces */
   path: RegExp;
-  /** media types as `req.is` takes them, e.g. "multipart/form-data"; none: the route checks the type itself */
+  /** media types as `req.is` takes them, e.g. "multipart/form-data" */
   types: readonly string[];
+  /**
+   * The route answers a body of the wrong type itself, with its own documented error: a multipart
+   * route answers `400 bad_upload` for a body that is not multipart; the resumable-upload protocol
+   * answers by its own rules (`application/offset+octet-stream` on PATCH, any type or none on POST).
+   */
+  routeDecides?: boolean;
 }
 
 /** The routes under /api whose bodies are not JSON. Add a line here for a new one. */
 export const nonJsonBodies: readonly BodyTypeRule[] = [
-  // the trace upload answers a body that is not multipart itself (400 bad_upload, after authorizing)
-  { method: "POST", path: /^\/cases\/[^/]+\/traces\/?$/, types: [] },
-  // resumable uploads (tus): the tus server checks its own types (application/offset+octet-stream)
-  { method: "POST", path: /^\/uploads\/?$/, types: [] },
-  { method: "PATCH", path: /^\/uploads\/[^/]+\/?$/, types: [] },
-  { method: "POST", path: /^\/cases\/[^/]+\/photos\/?$/, types: ["multipart/form-data"] },
+  { method: "POST", path: /^\/cases\/[^/]+\/traces\/?$/, types: ["multipart/form-data"], routeDecides: true },
+  { method: "POST", path: /^\/cases\/[^/]+\/photos\/?$/, types: ["multipart/form-data"], routeDecides: true },
+  { method: "POST", path: /^\/uploads\/?$/, types: ["application/offset+octet-stream"], routeDecides: true },
+  { method: "PATCH", path: /^\/uploads\/[^/]+\/?$/, types: ["application/offset+octet-stream"], routeDecides: true },
 ];
 
 const hasBody = (headers: Record<string, string | string[] | undefined>) =>
@@ -36,7 +40,7 @@ export function requireBodyType(rules: readonly BodyTypeRule[] = nonJsonBodies):
       return next();
     const rule = rules.find((r) => r.method === req.method && r.path.test(req.path));
     const types = rule ? rule.types : ["application/json"];
-    if (types.length === 0 || req.is([...types])) return next();
+    if (rule?.routeDecides || req.is([...types])) return next();
     const said = req.headers["content-type"]
       ? `"${String(req.headers["content-type"]).split(";")[0]}"`
       : "a body without a type";

@@ -6,6 +6,7 @@ import { notFound } from "../http/errors";
 import type { BillingView } from "../../shared/views/money";
 import type { ReceiptView } from "../../shared/views/queue";
 import { caseLabel } from "../../shared/domain/case-label";
+import { includedTaxCents } from "../../shared/domain/money";
 import { ledgerBalance } from "./ledger";
 import { getPayment, presentPayment, receiptNumber } from "./store";
 
@@ -56,8 +57,14 @@ export async function receiptFor(ctx: AppContext, shopId: string | null, payment
     const c = (await tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, p.caseId)).get())!;
     const s = (await tx.select().from(schema.shop).where(eq(schema.shop.id, p.shopId)).get())!;
     const refundedCents = (await ledgerBalance(tx, p.caseId)).refundedCents;
+    const env = ctx.env;
+    const taxBp = p.taxBasisPoints ?? Math.round(env.TAX_RATE_PERCENT * 100);
     return {
       receiptNumber: receiptNumber(p),
+      seller: { name: env.SELLER_NAME, address: env.SELLER_ADDRESS, taxId: env.SELLER_TAX_ID },
+      tax: taxBp > 0
+        ? { label: env.TAX_LABEL, basisPoints: taxBp, cents: includedTaxCents(p.amountCents, taxBp), pricesIncludeTax: true }
+        : null,
       shopName: s.name,
       caseId: c.id,
       caseLabel: caseLabel(c),

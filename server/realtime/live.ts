@@ -12,6 +12,9 @@ import { schema, type Statement, type Tx } from "../db/client";
 import { HttpError, notFound, unauthorized } from "../http/errors";
 import { canJoinCase } from "../auth/policies/live";
 import type { CaseFacts } from "../workflow/policy";
+import { getCaseRow } from "../workflow/records";
+import { runEffects } from "../workflow/effects";
+import { liveHappeningEffects, type LiveHappening } from "../workflow/live-notices";
 import { casePolicyQuery, type LiveActor } from "../services/annotations";
 import type { Presence } from "./presence";
 import type { GroupCommit } from "./group-commit";
@@ -87,6 +90,10 @@ export interface Live {
   quiet(event: string, fn: () => Promise<void>): void;
   /** forwards at most POINTER_RATE_HZ per socket; the latest of a burst is sent at the end of the gap */
   throttled<P>(t: Throttle<P>, payload: P, send: (p: P) => void): void;
+  /** the users in a case's room right now (on every node) */
+  presentUsers(caseId: string): Promise<string[]>;
+  /** the notices of a new message or mark, read and sent in the background; a failure is logged */
+  liveNotices(caseId: string, author: { id: string; name: string }, what: LiveHappening): void;
 }
 
 export type TraceFacts = Pick<typeof schema.trace.$inferSelect, "caseId" | "t0" | "durationS" | "channels">;
@@ -213,6 +220,17 @@ export function createLive(
           }
         });
       }, refuse);
+    },
+    presentUsers: (caseId) => parts.presence.users(caseId),
+    liveNotices(caseId, author, what) {
+      void (async () => {
+        const present = new Set(await parts.presence.users(caseId));
+        const effects = await ctx.db.read(async (tx) => {
+          const c = await getCaseRow(tx, caseId);
+          return c ? liveHappeningEffects(tx, c, author, what, present) : [];
+        });
+        if (effects.length) await runEffects(ctx, effects);
+      })().catch((err: unknown) => ctx.logger.error({ err }, "live notices failed"));
     },
     quiet(event, fn) {
       fn().catch((err: unknown) => {

@@ -28,6 +28,7 @@ import {
   type Written,
 } from "../services/annotations";
 import { newMessageRow, presentMessage, type MessageInput, type MessageRow, type PostedMessage } from "../services/messages";
+import { markSeenIn, seenStatements } from "../services/reading";
 import type { AnnotationCreate } from "../../shared/schemas/realtime";
 
 const { annotation, caseSeq, caseTable, message } = schema;
@@ -136,5 +137,26 @@ export function planMessage(
       changed: true,
     }),
     exact,
+  };
+}
+
+/**
+ * The plan, plus: everybody in the room (and the author) has read the case up to the record it
+ * stores (server/services/reading.ts) — in the same batch, at the seq the batch hands out.
+ */
+export function withReaders<W extends { changed: boolean; record: { seq: number } }>(
+  plan: WritePlan<W>,
+  readers: readonly string[],
+  at: Date,
+): WritePlan<W> {
+  const head = sql<number>`(SELECT ${caseSeq.seq} FROM ${caseSeq} WHERE ${caseSeq.caseId} = ${plan.caseId})`;
+  return {
+    ...plan,
+    statements: (q) => [...plan.statements(q), ...seenStatements(q, plan.caseId, readers, head, at)],
+    async exact(tx) {
+      const w = await plan.exact(tx);
+      if (w.changed) await markSeenIn(tx, plan.caseId, readers, w.record.seq, at);
+      return w;
+    },
   };
 }

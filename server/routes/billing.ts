@@ -50,7 +50,7 @@ export function billingRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const body = parseBody(reassignSchema, req);
     const actor = await requireActor(req, auth, ["admin"]);
-    res.json(presentCaseState(await reassignCase(ctx, actor, id, body.expertId)));
+    res.json(presentCaseState(await reassignCase(ctx, actor, id, body.expertId, body.reason)));
   });
 
   r.get("/admin/ledger", async (req, res) => {

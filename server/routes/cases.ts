@@ -43,7 +43,7 @@ export function caseRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/cases", async (req, res) => {
     const q = parseQuery(caseListQuerySchema, req);
     const actor = await requireActor(req, auth);
-    res.json(await listCases(ctx, caseListScope(actor), q));
+    res.json(await listCases(ctx, actor, caseListScope(actor), q));
   });
 
   r.get("/cases/:id", async (req, res) => {

@@ -23,6 +23,7 @@ import { earningsRoutes } from "./earnings";
 import { notificationRoutes } from "./notifications";
 import { casebookRoutes } from "./casebook";
 import { thumbnailRoutes } from "./thumbnails";
+import { deskRoutes } from "./desk";
 
 /** Every resource's router, mounted under /api. Add one line per resource. */
 export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void {
@@ -35,6 +36,7 @@ export function registerRoutes(app: Express, ctx: AppContext, auth: Auth): void 
   app.use("/api", billingRoutes(ctx, auth));
   app.use("/api", earningsRoutes(ctx, auth));
   app.use("/api", notificationRoutes(ctx, auth));
+  app.use("/api", deskRoutes(ctx, auth));
   app.use("/api", accountRoutes(ctx, auth));
   app.use("/api", shopRoutes(ctx, auth));
   app.use("/api", expertRoutes(ctx, auth));

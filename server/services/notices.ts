@@ -4,7 +4,8 @@
  * caller's decision (the action table in shared/domain/case-status.ts lists which action sends which).
  * `notify` (./notifications.ts) stores, pushes and mails them after the commit.
  */
-import { formatCents, splitCents } from "../../shared/domain/money";
+import { splitCents } from "../../shared/domain/money";
+import { formatDateTime, formatMoney } from "../../shared/format";
 import { ignitionSafetyNote } from "../../shared/schemas/queue";
 import type { NoticeKind } from "../../shared/domain/case-status";
 
@@ -19,6 +20,12 @@ export interface Notice {
   actionLabel?: string;
   /** false: in the app only, no mail */
   mail?: boolean;
+  /**
+   * Notices that come in bursts (chat messages, marks): while the user still has an unread notice
+   * of the same kind on the same case, that one is updated with these texts for the new count
+   * instead of a new notice, and no further mail goes out.
+   */
+  fold?: (count: number) => { title: string; paragraphs: string[] };
 }
 
 /** What the texts need of a case. */
@@ -45,8 +52,9 @@ export interface NoticePayment {
 }
 
 const casePath = (c: NoticeCase) => `/cases/${c.id}`;
-const utc = (d: Date | null) => (d ? d.toISOString().replace("T", " ").slice(0, 16) + " UTC" : "");
-const money = (cents: number, currency: string) => formatCents(cents, currency.toUpperCase());
+/** Mail's reader's time zone is unknown: dates are written in UTC, the zone named (shared/format.ts). */
+const utc = (d: Date | null) => (d ? formatDateTime(d, { timeZone: "UTC" }) : "");
+const money = (cents: number, currency: string) => formatMoney(cents, currency);
 
 export const notices = {
   paymentAuthorized: (c: NoticeCase, p: NoticePayment): Notice => ({
@@ -90,6 +98,7 @@ export const notices = {
     paragraphs: [
       `Charged ${money(p.amountCents, p.currency)} for the ${p.tierLabel} second opinion on this case.`,
       `Receipt number ${p.receiptNumber}. Card ${p.cardBrand ?? "card"} ending ${p.cardLast4 ?? "····"}.`,
+      "The receipt with the seller's details and the tax the price includes is on the billing page.",
     ],
     link: "/billing",
     actionLabel: "See billing",
@@ -115,7 +124,7 @@ export const notices = {
       paragraphs: [
         `A ${p?.tierLabel ?? ""} case matching your specialties is waiting in the queue${vehicle ? ` (${vehicle}, ${c.system ?? "system not given"})` : ""}. The answer is due by ${utc(c.deadlineAt) || "soon"}.`,
         ...(earning != null && p
-          ? [`Your share when you answer: ${(earning / 100).toFixed(2)} ${p.currency.toUpperCase()}.`]
+          ? [`Your share when you answer: ${money(earning, p.currency)}.`]
           : []),
         "The first expert to claim it takes it.",
       ],
@@ -285,6 +294,35 @@ export const notices = {
     title: `Deadline missed: ${c.label}`,
     paragraphs: ["The deadline of this case passed without an answer; it was closed and the shop's hold released."],
     link: "/queue",
+  }),
+
+  newMessage: (c: NoticeCase, authorName: string, text: string): Notice => {
+    const quote = `“${text.length > 300 ? `${text.slice(0, 299).trimEnd()}…` : text}”`;
+    return {
+      kind: "new_message",
+      caseId: c.id,
+      title: `New message from ${authorName}: ${c.label}`,
+      paragraphs: [`${authorName} wrote: ${quote}`, "Open the case to answer in its chat."],
+      link: casePath(c),
+      actionLabel: "Open the chat",
+      fold: (n) => ({
+        title: `${n} new messages: ${c.label}`,
+        paragraphs: [`The latest, from ${authorName}: ${quote}`, "Open the case to answer in its chat."],
+      }),
+    };
+  },
+
+  newMark: (c: NoticeCase, authorName: string, what: string, label: string | null): Notice => ({
+    kind: "new_mark",
+    caseId: c.id,
+    title: `${authorName} marked a trace: ${c.label}`,
+    paragraphs: [`${authorName} added a ${what}${label ? `: “${label.slice(0, 200)}”` : "."}`, "Open the case to see it on the trace."],
+    link: casePath(c),
+    actionLabel: "See the mark",
+    fold: (n) => ({
+      title: `${n} new marks on the traces: ${c.label}`,
+      paragraphs: [`The latest, from ${authorName}: a ${what}${label ? ` “${label.slice(0, 200)}”` : ""}.`],
+    }),
   }),
 
   payoutSent: (amountCents: number, currency: string, transferId: string): Notice => ({

@@ -6,51 +6,116 @@
  */
 import { and, desc, eq, inArray, isNull, sql } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import { renderMail } from "../integrations/mailer";
 import { notFound } from "../http/errors";
 import type { NotificationView } from "../../shared/views/queue";
 import type { Notice } from "./notices";
+import { noticeChannels } from "./notice-settings";
+import { noticeTopicOf } from "../../shared/domain/notice-topics";
 export type { NotificationView, Notice };
 
 const { notification } = schema;
 
-/** Record and push one notice to each user, and mail it (in the background; see whenMailSent). */
+type NotificationRow = typeof notification.$inferSelect;
+interface Recipient {
+  id: string;
+  email: string;
+  name: string;
+}
+
+/**
+ * Stores (or folds into an unread one, see Notice.fold) the notice for each user whose settings
+ * take it in the app; answers the rows to push and the users to mail.
+ */
+async function storeNotice(
+  tx: Tx,
+  ids: string[],
+  n: Notice,
+  now: Date,
+): Promise<{ rows: NotificationRow[]; mailTo: Recipient[] }> {
+  const users = await tx
+    .select({ id: schema.user.id, email: schema.user.email, name: schema.user.name })
+    .from(schema.user)
+    .where(inArray(schema.user.id, ids))
+    .all();
+  const channels = await noticeChannels(tx, ids, noticeTopicOf[n.kind]);
+  const rows: NotificationRow[] = [];
+  const mailTo: Recipient[] = [];
+  for (const u of users) {
+    const ch = channels.get(u.id)!;
+    let folded = false;
+    if (ch.inApp) {
+      const open =
+        n.fold && n.caseId
+          ? await tx
+              .select()
+              .from(notification)
+              .where(
+                and(
+                  eq(notification.userId, u.id),
+                  eq(notification.kind, n.kind),
+                  eq(notification.caseId, n.caseId),
+                  isNull(notification.readAt),
+                ),
+              )
+              .orderBy(desc(notification.createdAt))
+              .get()
+          : undefined;
+      if (open && n.fold) {
+        const count = open.count + 1;
+        const t = n.fold(count);
+        const [row] = await tx
+          .update(notification)
+          .set({ title: t.title, body: t.paragraphs.join("\n\n"), count, createdAt: now })
+          .where(eq(notification.id, open.id))
+          .returning()
+          .all();
+        rows.push(row);
+        folded = true;
+      } else {
+        const row: NotificationRow = {
+          id: crypto.randomUUID(),
+          userId: u.id,
+          kind: n.kind,
+          caseId: n.caseId ?? null,
+          title: n.title,
+          body: n.paragraphs.join("\n\n"),
+          link: n.link ?? null,
+          count: 1,
+          readAt: null,
+          createdAt: now,
+        };
+        await tx.insert(notification).values(row).run();
+        rows.push(row);
+      }
+    }
+    if (ch.mail && n.mail !== false && !folded) mailTo.push(u);
+  }
+  return { rows, mailTo };
+}
+
+/**
+ * Records and pushes one notice to each user, and mails it (in the background; see whenMailSent),
+ * each as their notice settings say (./notice-settings.ts).
+ */
 export async function notify(ctx: AppContext, userIds: readonly string[], n: Notice): Promise<void> {
   const ids = [...new Set(userIds.filter(Boolean))];
   if (ids.length === 0) return;
   const now = ctx.now();
-  let users: { id: string; email: string; name: string }[] = [];
-  let rows: (typeof notification.$inferInsert & { id: string; userId: string })[] = [];
+  let stored: { rows: NotificationRow[]; mailTo: Recipient[] } = { rows: [], mailTo: [] };
   try {
-    await ctx.db.write(async (tx) => {
-      users = await tx
-        .select({ id: schema.user.id, email: schema.user.email, name: schema.user.name })
-        .from(schema.user)
-        .where(inArray(schema.user.id, ids))
-        .all();
-      rows = users.map((u) => ({
-        id: crypto.randomUUID(),
-        userId: u.id,
-        kind: n.kind,
-        caseId: n.caseId ?? null,
-        title: n.title,
-        body: n.paragraphs.join("\n\n"),
-        link: n.link ?? null,
-        readAt: null,
-        createdAt: now,
-      }));
-      if (rows.length) await tx.insert(notification).values(rows).run();
-    });
+    stored = await ctx.db.write(async (tx) => storeNotice(tx, ids, n, now));
   } catch (err) {
     ctx.logger.error({ err, kind: n.kind }, "notification insert failed");
   }
-  for (const r of rows) ctx.realtime.toUser(r.userId, "notification", { id: r.id, kind: r.kind, caseId: r.caseId, title: r.title });
-  if (n.mail === false) return;
+  for (const r of stored.rows)
+    ctx.realtime.toUser(r.userId, "notification", { id: r.id, kind: r.kind, caseId: r.caseId, title: r.title });
+  if (stored.mailTo.length === 0) return;
   const action = n.link ? { label: n.actionLabel ?? "Open in Burnline", url: absoluteUrl(ctx, n.link) } : undefined;
   const { text, html } = renderMail(n.title, n.paragraphs, action);
   // Mail goes out in the background: a slow SMTP server must not slow the request down.
-  for (const u of users) {
+  for (const u of stored.mailTo) {
     const sending: Promise<void> = ctx.mailer
       .send({ to: u.email, subject: n.title, text, html })
       .then(
@@ -102,6 +167,7 @@ export async function listNotifications(
         title: r.title,
         body: r.body,
         link: r.link,
+        count: r.count,
         read: r.readAt != null,
         createdAt: r.createdAt.toISOString(),
       })),

@@ -163,6 +163,7 @@ const WORKFLOW_ACTIONS = [
   "confirm",
   "refund",
   "viewPayment",
+  "deleteDraft",
 ] as const;
 
 export function workflowAbilities(actor: Actor, profile: ExpertFacts | null, c: CaseRow): WorkflowAbilities {
@@ -253,9 +254,24 @@ export async function workflowView(ctx: AppContext, actor: Actor, caseId: string
       notFixedCount: qs?.notFixedCount ?? 0,
       ...(canAnswers ? await answersOf(tx, c.id) : { answers: [], confirmations: [] }),
       pricing: abilities.submit ? await publicPricing(tx) : null,
+      shopId: c.shopId,
+      shopName:
+        (await tx.select({ name: schema.shop.name }).from(schema.shop).where(eq(schema.shop.id, c.shopId)).get())
+          ?.name ?? null,
+      casebookEntryId: c.status === "resolved" ? await publishedEntryOf(tx, c.id) : null,
       abilities,
     } satisfies WorkflowView;
   });
+}
+
+/** The casebook entry a resolved case was published as, unless the desk has hidden it. */
+async function publishedEntryOf(tx: Tx, caseId: string): Promise<string | null> {
+  const e = await tx
+    .select({ id: schema.casebookEntry.id, hidden: schema.casebookEntry.hidden })
+    .from(schema.casebookEntry)
+    .where(eq(schema.casebookEntry.caseId, caseId))
+    .get();
+  return e && !e.hidden ? e.id : null;
 }
 
 /** GET /api/cases/:id/history (and /events): who did what when, for whoever may see the case. */

@@ -100,7 +100,13 @@ export function analyzeTrace(
   let result: AnalysisResult;
   switch (kind) {
     case "secondary-ignition": {
-      const r = analyzeSecondary(p, { settings, wasteSpark: opts.wasteSpark ?? settings.wasteSpark ?? false, screen });
+      const r = analyzeSecondary(p, {
+        settings,
+        wasteSpark: opts.wasteSpark ?? settings.wasteSpark ?? false,
+        everyCylinder: opts.everyCylinder ?? settings.everyCylinder ?? false,
+        cylinders: opts.cylinders ?? settings.cylinders,
+        screen,
+      });
       result = { kind, ...common, ...r, measurements: measurePrepared(p, p.toPhysical) };
       break;
     }

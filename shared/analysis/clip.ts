@@ -3,7 +3,9 @@
  *
  * Two signs, either one is enough:
  * - with the screen known (volts/division and ground offset): samples within 0.5 % of the screen's
- *   edge (a scope records what its screen holds, plus a little);
+ *   edge, none beyond it (a scope records what its screen holds, plus a little). A trace that goes
+ *   on past the edge was recorded beyond the screen: the file holds it whole, it is not clipped (it
+ *   was only off the tech's screen);
  * - always: a saturated plateau. A converter driven past its range repeats its last code, so the
  *   waveform shows a run of identical values at its extreme, entered and left on a slope that would
  *   have carried it further. A natural rounded apex can also repeat a code when the noise is under
@@ -130,8 +132,10 @@ export function detectClipping(
         else if (p.v[i] <= screen.min + tol) cBottom++;
       }
     }
-    top = cTop >= 2;
-    bottom = cBottom >= 2;
+    // recorded past the edge: the file holds the waveform beyond the screen, nothing was cut there
+    const edgeTol = 0.005 * (screen.max - screen.min);
+    top = cTop >= 2 && p.max <= screen.max + edgeTol;
+    bottom = cBottom >= 2 && p.min >= screen.min - edgeTol;
   }
   top = top || saturated(p, 1, reference, noise);
   bottom = bottom || saturated(p, -1, reference, noise);

@@ -12,6 +12,7 @@
  */
 import type { CaptureSettings } from "../schemas/capture-settings";
 import { detectClipping } from "./clip";
+import { inrushTail, periodicTail, type InrushTail } from "./compression-inrush";
 import { ENGINE_SAFETY } from "./findings";
 import { fmt, fmtRate, fmtTime } from "./format";
 import { measurePrepared } from "./measure";
@@ -82,50 +83,11 @@ interface Cranking {
 }
 
 /**
- * The inrush's tail over the cranking level `base`: A·e^(−k/τ) from its peak, fitted (least squares
- * on the logarithm) on the early decay (90 % down to 35 % of the peak, before any turn upward);
- * null when it does not decay.
+ * The cranking part of the capture, with the inrush's tail taken off: estimated from the inrush's
+ * early decay, or, once the stroke period P (decimated samples) is known, from the one-period
+ * average (compression-inrush.ts).
  */
-function inrushTail(
-  x: Float32Array,
-  hiIdx: number,
-  base: number,
-  rate: number,
-): { at: (k: number) => number; height: number } | null {
-  // the smoothed peak can sit a sample or two from the raw one
-  let k0 = hiIdx;
-  for (let k = Math.max(0, hiIdx - 5); k < Math.min(x.length, hiIdx + 10); k++) if (x[k] > x[k0]) k0 = k;
-  const h = x[k0] - base;
-  if (!(h > 0)) return null;
-  const ks: number[] = [];
-  const ls: number[] = [];
-  const limit = Math.min(x.length, k0 + Math.ceil(rate * 1.0));
-  for (let k = k0 + 1; k < limit; k++) {
-    if (x[k] > x[k - 1]) break; // the first stroke starts to rise
-    // the early decay only: lower down, the first stroke's rise already adds to it
-    const e = x[k] - base;
-    if (e < 0.35 * h) break;
-    if (e <= 0.9 * h) {
-      ks.push(k - k0);
-      ls.push(Math.log(e));
-    }
-  }
-  if (ks.length < 3) return null;
-  const mk = ks.reduce((a, b) => a + b, 0) / ks.length;
-  const ml = ls.reduce((a, b) => a + b, 0) / ls.length;
-  let sxy = 0;
-  let sxx = 0;
-  for (let i = 0; i < ks.length; i++) {
-    sxy += (ks[i] - mk) * (ls[i] - ml);
-    sxx += (ks[i] - mk) ** 2;
-  }
-  const slope = sxx > 0 ? sxy / sxx : 0;
-  if (!(slope < 0)) return null;
-  const a = Math.exp(ml - slope * mk);
-  return { at: (k: number) => (k >= k0 ? Math.min(h, a * Math.exp(slope * (k - k0))) : 0), height: h };
-}
-
-function crankingPart(dc: Decimated): Cranking | null {
+function crankingPart(dc: Decimated, P?: number): Cranking | null {
   const { d, m, lo, hi, hiIdx } = dc;
   const q90 = histogramQuantile(d, 0.9, lo, hi);
   const q50 = histogramQuantile(d, 0.5, lo, hi);
@@ -137,13 +99,17 @@ function crankingPart(dc: Decimated): Cranking | null {
   while (stop > start && d[stop - 1] < flowing) stop--;
   let x = d;
   let inrushIgnored = false;
-  let tail: { at: (k: number) => number; height: number } | null = null;
-  // the inrush: a spike near the start far above the cranking peaks
-  if (hiIdx < start + 0.4 * (m - start) && hi - q50 > 2 * (q90 - q50)) {
+  let tail: InrushTail | null = null;
+  // the inrush: a spike near the start far above the cranking peaks (those of the capture's second
+  // half: a slow inrush can fill much of the first)
+  const late = d.subarray(Math.min(stop - 1, start + Math.floor((stop - start) / 2)), stop);
+  const lateQ50 = late.length ? histogramQuantile(late, 0.5, lo, hi) : q50;
+  const lateQ90 = late.length ? histogramQuantile(late, 0.9, lo, hi) : q90;
+  if (hiIdx < start + 0.4 * (m - start) && hi - lateQ50 > 2 * Math.min(q90 - q50, lateQ90 - lateQ50)) {
     inrushIgnored = true;
     const later = d.subarray(Math.min(stop - 1, hiIdx + Math.floor((stop - hiIdx) / 3)), stop);
     const base = later.length ? histogramQuantile(later, 0.1, lo, hi) : q50;
-    tail = inrushTail(boxcar(d, 0, m, 5), hiIdx, base, dc.rate);
+    tail = (P != null ? periodicTail(d, hiIdx, stop, P) : null) ?? inrushTail(boxcar(d, 0, m, 5), hiIdx, base, dc.rate);
     if (tail) {
       const t = tail.at;
       x = Float32Array.from(d, (y, k) => y - t(k));
@@ -415,10 +381,16 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
     };
   };
   if (dc.m < 16 || !(dc.hi > dc.lo)) return noEvents("the capture is too short or flat");
-  const cr = crankingPart(dc);
+  let cr = crankingPart(dc);
   if (!cr) return noEvents("the capture ends before cranking");
-  const P = strokePeriod(cr.seg, dc.rate, N);
+  let P = strokePeriod(cr.seg, dc.rate, N);
   if (P == null) return noEvents("no repeating current peaks");
+  if (cr.inrushIgnored) {
+    // the stroke period known, the tail again from the one-period average (compression-inrush.ts)
+    const again = crankingPart(dc, P);
+    const P2 = again ? strokePeriod(again.seg, dc.rate, N) : null;
+    if (again && P2 != null) [cr, P] = [again, P2];
+  }
   // light smoothing: enough against the noise, little enough not to flatten a stroke's sharp fall
   const sm = boxcar(cr.seg, 0, cr.seg.length, Math.max(1, Math.round(P / 25) | 1));
   const peakIdx = strokePeaks(sm, P);

@@ -54,15 +54,26 @@ function irregularity(periods: number[], gapIdx: number[]): number {
   return xs.length ? (median(xs) ?? 0) : 0;
 }
 
+/** Most samples (80 %) sit within 15 % of the swing from its low or its high level: a switching sensor. */
+function twoLevel(xs: Float32Array, lo: number, hi: number): boolean {
+  const band = 0.15 * (hi - lo);
+  if (!(band > 0) || xs.length === 0) return false;
+  let at = 0;
+  for (let i = 0; i < xs.length; i++) if (xs[i] <= lo + band || xs[i] >= hi - band) at++;
+  return at >= 0.8 * xs.length;
+}
+
 /** Teeth of the signal, trying the other polarity when the first gives no clean gaps. */
 function teethOf(p: Prepared): { g: Gaps; inverted: boolean; centre: number } {
   const { v, n } = p;
   const robust = n ? robustLevelAndNoise(v) : { median: 0, noise: 0 };
-  // a VR sensor swings about zero; a Hall sensor between two levels: centre on the mid level
+  // a VR sensor swings about zero (its resting level); a Hall sensor switches between two levels and
+  // rests on either of them, so it is centred on the mid level even when its low level is 0 V
   const sampled = n ? blockSample(v) : v;
   const hiQ = n ? histogramQuantile(sampled, 0.99, p.min, p.max) : 0;
   const loQ = n ? histogramQuantile(sampled, 0.01, p.min, p.max) : 0;
-  const centre = Math.abs(robust.median) < 0.2 * (hiQ - loQ) ? robust.median : (hiQ + loQ) / 2;
+  const nearZero = Math.abs(robust.median) < 0.2 * (hiQ - loQ);
+  const centre = nearZero && !twoLevel(sampled, loQ, hiQ) ? robust.median : (hiQ + loQ) / 2;
   // hysteresis: clear of the noise, but never above 40 % of the swing (with few samples per tooth
   // the difference-based noise estimate reads the tooth signal itself)
   const swing = Math.min(hiQ - centre, centre - loQ);

@@ -1,18 +1,24 @@
 /**
  * Secondary ignition: the firing line's height — the event's largest excursion from the baseline.
  *
- * The height is read at the apex itself, never from an average that flattens it:
- * - a lone glitch (one sample far beyond both neighbours, which themselves barely move) is left out
- *   at rates where a firing line spans several samples (1 MS/s and up);
+ * A firing line's tip is a cusp, not a rounded top: the voltage rises until the gap breaks down, then
+ * collapses within a microsecond or two (common practice, no source). Between two samples the real
+ * apex may be higher than either, but by how much the samples cannot tell; a parabola through a cusp
+ * overshoots both the samples and the apex. So the height is the highest sample, and an interpolation
+ * may move it only by what the noise justifies:
+ * - a lone glitch (a sample far beyond both neighbours that nothing follows, secondary-glitch) is
+ *   left out at 1 MS/s and up; a one-sample firing line, followed by its collapse into the spark
+ *   line, is not a glitch;
  * - with five or more samples within the top of the apex (5 % of its height, or 4 noise RMS when
- *   that is more), a least-squares parabola through them gives the apex: it follows the apex's own
- *   curvature, so it does not lower a sharp peak, and it averages the noise instead of riding on it;
- * - with fewer (a narrow apex on a coarse grid), a parabola through the highest sample and its two
- *   neighbours, when both neighbours are at least half the highest (the apex is resolved: on
- *   Gaussian-shaped tops, symmetric or not, within about 2.5 % at one sample per rise width) —
- *   else the highest sample itself (a lower bound; the capture review calls such a capture
- *   undersampled).
+ *   that is more), a least-squares parabola through them averages the noise instead of riding on it;
+ * - with fewer, a parabola through the highest sample and its neighbours when both are at least half
+ *   the highest (a resolved, rounded top);
+ * - either way the reading stays between two noise RMS below the highest sample (the noise may have
+ *   raised that sample) and one noise RMS above it (it may have lowered it; a cusp gives no more);
+ *   with no noise it is the highest sample — a lower bound when the apex falls between samples (the
+ *   capture review calls a too-coarse capture undersampled).
  */
+import { isLoneGlitch } from "./secondary-glitch";
 import { GLITCH_RATE_HZ, type SecondaryLevels } from "./secondary-levels";
 import type { Prepared } from "./signal";
 
@@ -27,13 +33,6 @@ export interface Apex {
   rawPeak: number;
   /** index of a lone glitch left out, or −1 */
   glitch: number;
-}
-
-function isLoneGlitch(y: (k: number) => number, k: number, n: number, noise: number): boolean {
-  if (k < 2 || k + 2 >= n) return false;
-  const jump = y(k) - Math.max(y(k - 1), y(k + 1));
-  const around = Math.max(Math.abs(y(k - 1) - y(k - 2)), Math.abs(y(k + 1) - y(k + 2)));
-  return jump > Math.max(6 * noise, 0.2 * y(k)) && jump > 2 * around;
 }
 
 /** Least-squares y = c0 + c1·x + c2·x² over the given points; null when singular. */
@@ -78,12 +77,13 @@ export function firingLineApex(p: Prepared, lv: SecondaryLevels, from: number, t
   for (let k = a; k < b; k++) if (y(k) > y(m)) m = k;
   const rawPeak = y(m);
   let glitch = -1;
-  if (p.rate >= GLITCH_RATE_HZ && isLoneGlitch(y, m, n, noise)) {
+  if (p.rate >= GLITCH_RATE_HZ && isLoneGlitch(y, m, n, noise, p.rate)) {
     glitch = m;
     m = m === a ? a + 1 : a;
     for (let k = a; k < b; k++) if (k !== glitch && y(k) > y(m)) m = k;
   }
   const ym = y(m);
+  const withinNoise = (h: number) => Math.min(ym + noise, Math.max(ym - 2 * noise, h));
   const thr = ym - Math.max(0.05 * ym, 4 * noise);
   const maxHalf = Math.max(2, Math.ceil(p.rate * 30e-6));
   const inTop = (k: number) => k >= 0 && k < n && (k === glitch || y(k) >= thr);
@@ -111,7 +111,7 @@ export function firingLineApex(p: Prepared, lv: SecondaryLevels, from: number, t
     if (c && c[2] < 0) {
       const x = -c[1] / (2 * c[2]);
       if (x >= lo - m && x <= hi - m)
-        return { index: m, at: m + x, height: c[0] - (c[1] * c[1]) / (4 * c[2]), rawPeak, glitch };
+        return { index: m, at: m + x, height: withinNoise(c[0] - (c[1] * c[1]) / (4 * c[2])), rawPeak, glitch };
     }
     return { index: m, at: m, height: ym, rawPeak, glitch };
   }
@@ -123,7 +123,7 @@ export function firingLineApex(p: Prepared, lv: SecondaryLevels, from: number, t
       if (den < 0) {
         const d = Math.max(-0.5, Math.min(0.5, (0.5 * (ya - yc)) / den));
         const h = ym - 0.25 * (ya - yc) * d;
-        return { index: m, at: m + d, height: Math.min(Math.max(h, ym), 1.1 * ym), rawPeak, glitch };
+        return { index: m, at: m + d, height: withinNoise(Math.max(h, ym)), rawPeak, glitch };
       }
     }
   }

@@ -2,6 +2,7 @@
  * Secondary ignition, stage 0: the levels every later stage works from — the baseline, the noise,
  * which side of the baseline the firing lines are on, and the thresholds and time constants.
  */
+import { isLoneGlitch } from "./secondary-glitch";
 import type { Prepared } from "./signal";
 import { robustLevelAndNoise } from "./stats";
 
@@ -14,7 +15,7 @@ export const SPARK_SKIP_S = 150e-6; // the firing line has settled into the spar
 export const SPARK_PROBE_S = 250e-6; // window for the first spark-line level
 export const MAX_BURN_S = 8e-3;
 export const RING_WINDOW_S = 4e-3;
-/** At this rate and above a firing line spans several samples, so a lone sample far off is a glitch. */
+/** At this rate and above a lone sample far off, that nothing follows, is a glitch (secondary-glitch). */
 export const GLITCH_RATE_HZ = 1e6;
 
 export interface SecondaryLevels {
@@ -24,7 +25,7 @@ export interface SecondaryLevels {
   noise: number;
   /** +1: firing lines above the baseline; −1: below (inverted) */
   sign: 1 | -1;
-  /** extremes of y = sign·(v − base), lone glitches left out at fast rates */
+  /** extremes of y = sign·(v − base), lone glitches left out at 1 MS/s and above */
   ymax: number;
   ymin: number;
   /** a crossing of this height (y) starts a candidate event */
@@ -34,17 +35,18 @@ export interface SecondaryLevels {
   noiseS: number;
 }
 
-/** Largest and smallest values, ignoring a sample that stands alone beyond both its neighbours. */
-function supportedExtremes(v: Float32Array, n: number): { max: number; min: number } {
+/** Largest and smallest values, leaving out a lone glitch (secondary-glitch: a sample nothing follows). */
+function supportedExtremes(v: Float32Array, n: number, base: number, noise: number, rate: number) {
   let max = -Infinity;
   let min = Infinity;
+  const up = (k: number) => v[k] - base;
+  const down = (k: number) => base - v[k];
   for (let i = 0; i < n; i++) {
     const a = i > 0 ? v[i - 1] : v[i];
     const b = i + 1 < n ? v[i + 1] : v[i];
-    const hi = Math.min(v[i], Math.max(a, b));
-    const lo = Math.max(v[i], Math.min(a, b));
-    if (hi > max) max = hi;
-    if (lo < min) min = lo;
+    const x = v[i];
+    if (x > max && !(x > Math.max(a, b) && isLoneGlitch(up, i, n, noise, rate))) max = x;
+    if (x < min && !(x < Math.min(a, b) && isLoneGlitch(down, i, n, noise, rate))) min = x;
   }
   return { max, min };
 }
@@ -54,7 +56,7 @@ export function secondaryLevels(p: Prepared): SecondaryLevels {
   const robust = n ? robustLevelAndNoise(v) : { median: 0, noise: 0 };
   const base = robust.median;
   const noise = robust.noise;
-  const ext = n && rate >= GLITCH_RATE_HZ ? supportedExtremes(v, n) : { max: p.max, min: p.min };
+  const ext = n && rate >= GLITCH_RATE_HZ ? supportedExtremes(v, n, base, noise, rate) : { max: p.max, min: p.min };
   const pos = ext.max - base;
   const neg = base - ext.min;
   const sign: 1 | -1 = pos >= neg ? 1 : -1;
@@ -67,7 +69,10 @@ export function secondaryLevels(p: Prepared): SecondaryLevels {
     sign,
     ymax,
     ymin,
-    thDet: Math.max(10 * noise, 0.03 * ymax, 1e-12),
+    // ten noise RMS clears the noise; on a very noisy capture (a firing line under 20 noise RMS) no more
+    // than half the tallest excursion, and six noise RMS at least (a crossing by chance about once in
+    // 10⁹ samples of Gaussian noise)
+    thDet: Math.max(Math.min(10 * noise, 0.5 * ymax), 6 * noise, 0.03 * ymax, 1e-12),
     w,
     noiseS: noise / Math.sqrt(w),
   };

@@ -7,7 +7,7 @@ import type { CaptureSettings } from "../schemas/capture-settings";
 import type { ClipInfo } from "./clip";
 import { SECONDARY_SAFETY } from "./findings";
 import { fmt, fmtRate, fmtTime } from "./format";
-import { finishFindings, physical, setting, voltsPerDivFor, type FindingDraft } from "./review";
+import { finishFindings, physical, screenRange, setting, voltsPerDivFor, type FindingDraft } from "./review";
 import type { RawEvent } from "./secondary-events";
 import type { SecondaryLevels } from "./secondary-levels";
 import { niceCeil, roundNice, type Prepared } from "./signal";
@@ -24,6 +24,8 @@ export interface SecondaryReviewInput {
   /** the clipping ceiling on the firing side (y), or null */
   ceiling: number | null;
   settings: Partial<CaptureSettings>;
+  /** the pickup sees every cylinder's firing but the number of cylinders was not given (4 assumed) */
+  cylindersAssumed?: boolean;
 }
 
 function clippingFinding(r: SecondaryReviewInput): FindingDraft | null {
@@ -193,6 +195,19 @@ function framing(r: SecondaryReviewInput): Framing {
       `time/division (${fmtTime(s.timePerDivS)}/div) is too short to show a whole event: use ${fmtTime(tpd)}/div`,
     );
   }
+  // a firing line recorded past the screen's edge: whole in the file, cut off on the tech's screen
+  const screen = screenRange(p.units, s);
+  if (screen && s.voltsPerDiv != null && !clipSide && vpd != null) {
+    const edge = lv.sign > 0 ? screen.max : screen.min;
+    const past = lv.sign * (lv.base + lv.sign * maxPeakY - edge);
+    if (past > 0.005 * (screen.max - screen.min)) {
+      notes.push(
+        `the highest firing line (${physical(p, maxPeakY)}) goes past the ${lv.sign > 0 ? "top" : "bottom"} of the ` +
+          `screen at ${setting(p, s.voltsPerDiv, "div")} (the file holds it whole; on the scope it is cut off): use ` +
+          `${setting(p, vpd, "div")}`,
+      );
+    }
+  }
   if (s.voltsPerDiv != null && !clipSide && vpd != null && peakScope / s.voltsPerDiv < 1.5) {
     notes.push(
       `the highest firing line is only ${fmt(peakScope / s.voltsPerDiv, 2)} divisions tall at ` +
@@ -263,6 +278,15 @@ export function reviewSecondary(r: SecondaryReviewInput): { findings: Finding[];
   drafts.push(triggerFinding(r, trig));
   const f = framing(r);
   drafts.push(f.finding, erraticFinding(r));
+  if (r.cylindersAssumed) {
+    drafts.push({
+      code: "cylinders-assumed",
+      severity: "info",
+      message: `The number of cylinders was not given; ${r.summary.firingsPerCycle} was assumed for the rpm of a ` +
+        `pickup that sees every cylinder's firing.`,
+      advice: "Enter the engine's number of cylinders in the capture settings.",
+    });
+  }
   const findings = finishFindings(
     drafts.filter((d): d is FindingDraft => d != null),
     SECONDARY_SAFETY,

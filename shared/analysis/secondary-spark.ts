@@ -119,7 +119,10 @@ export function trackSparkLine(
   const from = a + skip;
   const to = Math.max(from + 1, a + Math.floor(endLocal));
   const levelY = lv.sign * (fastMedian(p.v, from, to) - lv.base);
-  return { level0, endLocal, levelY, slopeYPerS: sparkSlope(p, lv.sign, from, to) };
+  // the slope over as much of the spark line as is settled: from a third of the skip after the apex
+  // (the collapse has died away by 50 µs) — a longer line reads a slope through the turbulence better
+  const slopeFrom = a + Math.max(1, Math.round(skip / 3));
+  return { level0, endLocal, levelY, slopeYPerS: sparkSlope(p, lv.sign, slopeFrom, to) };
 }
 
 /** Least-squares slope of the spark line's middle 80 %, y per second. */

@@ -20,6 +20,9 @@ export { RINGING_PEAK_FRACTION } from "./secondary-ringing";
 export interface SecondaryContext {
   settings: Partial<CaptureSettings>;
   wasteSpark: boolean;
+  /** the pickup sees every cylinder's firing: `cylinders` firings per engine cycle */
+  everyCylinder?: boolean;
+  cylinders?: number;
   /** screen range in stored units, when volts/division is known */
   screen: { min: number; max: number } | null;
 }
@@ -63,7 +66,7 @@ function toEvent(p: Prepared, e: RawEvent, ceiling: number | null): SecondaryEve
   };
 }
 
-function summarise(p: Prepared, lv: SecondaryLevels, events: SecondaryEvent[], wasteSpark: boolean): SecondarySummary {
+function summarise(p: Prepared, lv: SecondaryLevels, events: SecondaryEvent[], perCycle: number): SecondarySummary {
   let rpm: number | null = null;
   if (events.length >= 2) {
     const periods: number[] = [];
@@ -71,12 +74,13 @@ function summarise(p: Prepared, lv: SecondaryLevels, events: SecondaryEvent[], w
     periods.sort((x, y) => x - y);
     const mid = periods.length >> 1;
     const period = periods.length % 2 ? periods[mid] : (periods[mid - 1] + periods[mid]) / 2;
-    if (period > 0) rpm = (wasteSpark ? 60 : 120) / period;
+    if (period > 0) rpm = 120 / (period * perCycle);
   }
   const stats = (key: keyof SecondaryEvent) => metricStats(events.map((e) => e[key] as number | null));
   return {
     eventCount: events.length,
     rpm,
+    firingsPerCycle: perCycle,
     peak: stats("peak"),
     burnTimeMs: stats("burnTimeMs"),
     burnLevel: stats("burnLevel"),
@@ -99,7 +103,11 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
   const clip = detectClipping(p, lv.base, ctx.screen, lv.noise);
   const ceiling = clipCeiling(lv, clip, ctx.screen);
   const events = raw.map((e) => toEvent(p, e, ceiling));
-  const summary = summarise(p, lv, events, ctx.wasteSpark);
+  // firings per engine cycle: one cylinder's coil or lead fires once per 720°, a waste-spark coil
+  // twice, a distributor's coil wire once for every cylinder (cylinders assumed 4 when not given)
+  const cylinders = Math.max(1, Math.round(ctx.cylinders ?? 4));
+  const perCycle = ctx.everyCylinder ? cylinders : ctx.wasteSpark ? 2 : 1;
+  const summary = summarise(p, lv, events, perCycle);
   const { findings, suggestions } = reviewSecondary({
     p,
     lv,
@@ -109,6 +117,7 @@ export function analyzeSecondary(p: Prepared, ctx: SecondaryContext): SecondaryA
     clip,
     ceiling,
     settings: ctx.settings,
+    cylindersAssumed: !!ctx.everyCylinder && ctx.cylinders == null,
   });
   return { events, summary, findings, suggestions };
 }

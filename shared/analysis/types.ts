@@ -139,8 +139,14 @@ export interface SecondaryEvent {
 
 export interface SecondarySummary {
   eventCount: number;
-  /** engine rpm from the spacing of firings: 120/period (60/period with waste spark) */
+  /**
+   * engine rpm from the spacing of firings: 120/(period × firingsPerCycle) — 120/period for one
+   * cylinder's coil or lead, 60/period with waste spark, 120/(period × cylinders) for a pickup that
+   * sees every cylinder's firing
+   */
   rpm: number | null;
+  /** firings the pickup sees per engine cycle (720°): 1, 2 with waste spark, the cylinders with everyCylinder */
+  firingsPerCycle: number;
   /** per-metric median, min and max over the events, each in the event field's unit */
   peak: MetricStats;
   burnTimeMs: MetricStats;
@@ -336,6 +342,8 @@ export interface AnalyzeOptions {
   /** kV at the plug per volt at the scope; overrides settings.kvPerVolt */
   kvPerVolt?: number;
   wasteSpark?: boolean;
+  /** the pickup sees every cylinder's firing (a distributor's coil wire); overrides settings.everyCylinder */
+  everyCylinder?: boolean;
   cylinders?: number;
   /** analyse only this time window, s */
   window?: { startS?: number; endS?: number };

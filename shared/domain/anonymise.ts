@@ -90,8 +90,31 @@ const COMMON_WORDS = new Set(
   ).split(/\s+/),
 );
 
+/**
+ * The trade's own words (and the usual role mailboxes of a shop: tech@, owner@, service@…). An
+ * e-mail local part or a part of one that is one of these is not a name: it is never scrubbed
+ * from the text. A person's name part that is one of these is removed only where it is
+ * capitalised inside a sentence, as for COMMON_WORDS.
+ */
+export const TRADE_WORDS: readonly string[] = (
+  "tech techs technician technicians owner owners admin desk office info contact support hello mail team staff " +
+  "front counter sales parts service workshop garage shop foreman manager advisor writer apprentice " +
+  "coil coils plug plugs spark sparks misfire misfires misfiring injector injectors sensor sensors wire wires " +
+  "wiring harness boot boots ground grounds earth scope scopes dwell burn burns firing fire line lines trigger " +
+  "probe probes lead leads clamp amp amps volt volts voltage current primary secondary kv ohm ohms meter " +
+  "relay fuse fuses connector connectors pin pins terminal terminals module modules ecu pcm ecm " +
+  "battery alternator starter crank cranking cam camshaft crankshaft timing valve valves piston pistons " +
+  "compression vacuum leak leaks pressure rail pump pumps regulator filter throttle idle load rpm " +
+  "exhaust intake manifold catalyst lambda oxygen knock tps map maf egr evap purge canister " +
+  "signal pattern waveform trace traces capture captures cylinder cylinders bank code codes fault faults " +
+  "open short resistance insulation tracking carbon oil coolant fuel air gap ringing oscillation " +
+  "diagnosis repair repairs fix fixed test tests check checks recheck swap swapped replace replaced new old"
+).split(/\s+/);
+
+const ORDINARY_WORDS = new Set([...COMMON_WORDS, ...TRADE_WORDS]);
+
 /** Words of an organisation's name that carry no identity on their own (they stay in the text). */
-const GENERIC_BUSINESS_WORDS = COMMON_WORDS;
+const GENERIC_BUSINESS_WORDS = ORDINARY_WORDS;
 
 const HONORIFICS = "Mr|Mrs|Ms|Miss|Mx|Dr|Sir|Madam|Mme|Mlle|Herr|Frau|Sr|Sra";
 
@@ -110,21 +133,21 @@ export const EMAIL_RE = /[A-Za-z0-9!#$%&'*+/=?^_`{|}~-]+(?:\.[A-Za-z0-9!#$%&'*+/
 /** The written forms of a telephone number (see the file comment); each match is checked for 7–15 digits. */
 const PHONE_RES: RegExp[] = [
   // international, E.123: +44 20 7946 0958, +1-202-555-0143, +49 (0)30 1234567, +33 1 23 45 67 89
-  /\+\d{1,3}(?:[ .\-/]?\(?\d{1,5}\)?){1,6}(?![0-9])/g,
+  /\+\d{1,3}(?:[ ./-]?\(?\d{1,5}\)?){1,6}(?![0-9])/g,
   // 00 international prefix: 0044 20 7946 0958, 0049 30 1234567
-  /(?<![0-9.,])00[1-9]\d{0,2}(?:[ .\-/]?\(?\d{1,5}\)?){2,6}(?![0-9])/g,
+  /(?<![0-9.,])00[1-9]\d{0,2}(?:[ ./-]?\(?\d{1,5}\)?){2,6}(?![0-9])/g,
   // (area) number: (202) 555-0143, (020) 7946 0958, (0171) 4960000
-  /\(\d{2,5}\)[ .\-]?\d{3,4}(?:[ .\-]?\d{2,4}){1,2}(?![0-9])/g,
+  /\(\d{2,5}\)[ .-]?\d{3,4}(?:[ .-]?\d{2,4}){1,2}(?![0-9])/g,
   // North American 3-3-4 groups (area code and exchange start with 2–9): 202-555-0143,
   // 202.555.0143, 202 555 0143, 1-800-555-0199
-  /(?<![0-9.,])(?:1[ .\-])?[2-9]\d{2}[ .\-][2-9]\d{2}[ .\-]\d{4}(?![0-9])/g,
+  /(?<![0-9.,])(?:1[ .-])?[2-9]\d{2}[ .-][2-9]\d{2}[ .-]\d{4}(?![0-9])/g,
   // national with trunk 0: 020 7946 0958, 07700 900123, 030 1234567, 0171-496-0000
-  /(?<![0-9.,])0\d{1,4}[ .\-/]\d{3,4}(?:[ .\-]?\d{3,4})(?![0-9.,]\d)(?![0-9])/g,
+  /(?<![0-9.,])0\d{1,4}[ ./-]\d{3,4}(?:[ .-]?\d{3,4})(?![0-9.,]\d)(?![0-9])/g,
   // an unbroken run of 10–13 digits (a phone number written without spaces)
   /(?<![0-9.,])\d{10,13}(?![0-9.,]?\d)/g,
   // local 3-4 after a word that says it is a number: "call 555-0143", "tel. 555 0143" (bare, it
   // would also match ranges such as "800-3000 rpm")
-  /(?<=(?:phone|tel|telephone|call|ring|mobile|cell|text|fax|ph|number|no)\.?[:#]?\s{0,3})\d{3}[\-. ]\d{4}(?![0-9.,\-]?\d)/gi,
+  /(?<=(?:phone|tel|telephone|call|ring|mobile|cell|text|fax|ph|number|no)\.?[:#]?\s{0,3})\d{3}[-. ]\d{4}(?![0-9.,-]?\d)/gi,
 ];
 
 function digitsIn(s: string): number {
@@ -220,12 +243,16 @@ function namePatterns(ctx: ScrubContext): NamePattern[] {
   for (const o of [...orgs].sort((a, b) => b.length - a.length)) full(o, REDACTED.shop);
   for (const n of [...names].sort((a, b) => b.length - a.length)) full(n, REDACTED.name);
   for (const o of orgs) for (const w of o.split(/[^A-Za-zÀ-ÖØ-öø-ÿĀ-ſ0-9'’]+/).filter(Boolean)) part(w, REDACTED.shop, GENERIC_BUSINESS_WORDS);
-  for (const n of names) for (const w of n.split(/[^A-Za-zÀ-ÖØ-öø-ÿĀ-ſ'’-]+/).filter(Boolean)) part(w, REDACTED.name, COMMON_WORDS);
+  for (const n of names) for (const w of n.split(/[^A-Za-zÀ-ÖØ-öø-ÿĀ-ſ'’-]+/).filter(Boolean)) part(w, REDACTED.name, ORDINARY_WORDS);
   for (const e of ctx.emails ?? []) {
     const local = (e ?? "").split("@")[0]?.trim();
     if (!local || local.length < 3) continue;
-    add(`local:${local.toLowerCase()}`, { re: wordPattern(local, "gi"), replacement: REDACTED.name });
-    for (const w of local.split(/[._+\-0-9]+/).filter((x) => x.length >= 3)) part(w, REDACTED.name, COMMON_WORDS);
+    // An address's local part is a name only where it is not a word: "d.whitlock" and "whitlock" go,
+    // "tech" (tech@…) or "service" stay — scrubbing them would cut the trade's words out of the text.
+    const words = local.split(/[._+\-0-9]+/).filter((x) => x.length >= 3);
+    const compound = /[._+\-0-9]/.test(local);
+    if (compound) add(`local:${local.toLowerCase()}`, { re: wordPattern(local, "gi"), replacement: REDACTED.name });
+    for (const w of words) if (!ORDINARY_WORDS.has(w.toLowerCase())) part(w, REDACTED.name, ORDINARY_WORDS);
   }
   return pats;
 }

@@ -77,7 +77,9 @@ export type NoticeKind =
   | "receipt"
   | "refund"
   | "payout"
-  | "case_withdrawn";
+  | "case_withdrawn"
+  | "new_message"
+  | "new_mark";
 
 export interface CaseActionSpec {
   /** state it may start from → the states it may lead to (the same state: nothing moves) */
@@ -141,6 +143,14 @@ export const caseActions = {
     roleMessage: "Only the shop's technicians and owner add photos.",
     notices: [],
   },
+  deleteDraft: {
+    moves: stay(["draft"]),
+    who: ["shop"],
+    code: "case_locked",
+    stateMessage: "Only a draft can be deleted; a submitted case can be withdrawn before an expert takes it.",
+    roleMessage: "Only the shop's technicians and owner delete its drafts.",
+    notices: [],
+  },
   deletePhoto: {
     moves: stay(["draft"]),
     who: ["shop"],
@@ -156,7 +166,7 @@ export const caseActions = {
     code: "case_locked",
     stateMessage: "This case is finished; its marks and chat are read-only now.",
     roleMessage: "Only the shop and the expert on the case write in it.",
-    notices: [],
+    notices: ["new_mark"],
   },
   chat: {
     moves: stay(OPEN),
@@ -164,7 +174,7 @@ export const caseActions = {
     code: "case_locked",
     stateMessage: "This case is finished; its marks and chat are read-only now.",
     roleMessage: "Only the shop and the expert on the case write in it.",
-    notices: [],
+    notices: ["new_message"],
   },
   // --- reading what only some readers see ---
   viewPayment: {

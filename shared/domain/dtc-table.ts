@@ -28,6 +28,20 @@ function pcode(n: number): string {
   return "P" + String(n).padStart(4, "0");
 }
 
+// Variable valve timing and cam/crank agreement (bank 1 intake "A" camshaft unless said otherwise)
+add("P0010", "Intake camshaft timing actuator circuit fault, bank 1");
+add("P0011", "Intake camshaft timing more advanced than commanded, or the timing system is slow to follow, bank 1");
+add("P0012", "Intake camshaft timing more retarded than commanded, bank 1");
+add("P0013", "Exhaust camshaft timing actuator circuit fault, bank 1");
+add("P0014", "Exhaust camshaft timing more advanced than commanded, or the timing system is slow to follow, bank 1");
+add("P0016", "Crankshaft and camshaft position signals disagree, bank 1 (intake camshaft sensor)");
+add("P0017", "Crankshaft and camshaft position signals disagree, bank 1 (exhaust camshaft sensor)");
+add("P0018", "Crankshaft and camshaft position signals disagree, bank 2 (intake camshaft sensor)");
+
+// Fuel pressure
+add("P0087", "Fuel rail or system pressure lower than expected");
+add("P0088", "Fuel rail or system pressure higher than expected");
+
 // Fuel and air metering sensors
 sensorBlock(100, "Mass air flow (MAF) sensor");
 sensorBlock(105, "Manifold absolute pressure (MAP) / barometric pressure sensor");
@@ -122,6 +136,11 @@ add("P0500", "Vehicle speed sensor A fault");
 add("P0505", "Idle air control system fault");
 add("P0506", "Idle speed lower than expected");
 add("P0507", "Idle speed higher than expected");
+
+// Supply voltage seen by the engine control module
+add("P0560", "System (supply) voltage fault");
+add("P0562", "System (supply) voltage lower than expected");
+add("P0563", "System (supply) voltage higher than expected");
 
 /** Misfire code for a cylinder 1–12: P0301…P0309, P0310, P0311, P0312 (decimal, not hexadecimal). */
 export function misfireCode(cylinder: number): string {

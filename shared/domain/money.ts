@@ -100,3 +100,17 @@ export function parseCents(text: string): number | null {
   if (!Number.isSafeInteger(units) || !Number.isSafeInteger(cents)) return null;
   return m[1] ? -cents : cents;
 }
+
+/**
+ * The tax inside a tax-inclusive price: total × rate / (1 + rate), with the rate in basis points,
+ * rounded half up to a whole cent (exact integer arithmetic). 4900 cents at 750 bp (7.5 %) → 342.
+ */
+export function includedTaxCents(totalCents: number, taxBasisPoints: number): number {
+  assertCents(totalCents, "totalCents", true);
+  if (!Number.isInteger(taxBasisPoints) || taxBasisPoints < 0 || taxBasisPoints > 10000) {
+    throw new RangeError(`taxBasisPoints must be an integer 0–10000, got ${String(taxBasisPoints)}.`);
+  }
+  const num = BigInt(totalCents) * BigInt(taxBasisPoints);
+  const den = BigInt(10000 + taxBasisPoints);
+  return Number((2n * num + den) / (2n * den));
+}

@@ -36,6 +36,11 @@ export const captureSettingsSchema = z
     sensor: z.string().trim().max(120).optional(),
     /** four-stroke engines fire each cylinder once per 720°; a waste-spark coil fires every 360° */
     wasteSpark: z.boolean().default(false),
+    /**
+     * the pickup sees every cylinder's firing (on a distributor's coil wire): `cylinders` firings per
+     * 720°, so rpm = 120/(period × cylinders); wasteSpark does not apply then
+     */
+    everyCylinder: z.boolean().default(false),
     cylinders: z.number().int().min(1).max(16).optional(),
   })
   .strict();

@@ -93,7 +93,18 @@ export type TemperatureCondition = (typeof temperatureConditions)[number];
 export type LoadCondition = (typeof loadConditions)[number];
 export type Occurrence = (typeof occurrences)[number];
 
-export const caseSortFields = ["createdAt", "updatedAt", "status", "vehicle", "year"] as const;
+/**
+ * "attention": overdue answers first, then deadlines at risk, then the other running deadlines
+ * (soonest first), then the cases waiting on the shop, then finished cases (latest first).
+ * "deadline": soonest answer deadline first (cases without one last).
+ */
+export const caseSortFields = ["createdAt", "updatedAt", "status", "vehicle", "year", "attention", "deadline"] as const;
+/** Case list filters by stage: open (draft … answered) or finished (resolved, closed, withdrawn, refunded). */
+export const caseStates = ["open", "finished"] as const;
+/** Case list filters by answer deadline (shared/domain/deadline-risk.ts). */
+export const caseDeadlineFilters = ["overdue", "at_risk", "next_24h"] as const;
+export type CaseState = (typeof caseStates)[number];
+export type CaseDeadlineFilter = (typeof caseDeadlineFilters)[number];
 export type CaseSortField = (typeof caseSortFields)[number];
 
 export const LIMITS = {
@@ -334,6 +345,13 @@ export const caseListQuerySchema = z.object({
   pageSize: queryInt("Page size", 1, LIMITS.pageSizeMax, 20),
   sort: z.preprocess(queryValue, z.enum(caseSortFields, { error: "Unknown sort field." }).optional()),
   dir: z.preprocess(queryValue, z.enum(["asc", "desc"], { error: "Sort direction must be asc or desc." }).optional()),
+  state: z.preprocess(queryValue, z.enum(caseStates, { error: "State is open or finished." }).optional()),
+  deadline: z.preprocess(
+    queryValue,
+    z.enum(caseDeadlineFilters, { error: "Deadline is overdue, at_risk or next_24h." }).optional(),
+  ),
+  expertId: z.preprocess(queryValue, z.string({ error: "Expert must be an id." }).trim().min(1).max(64).optional()),
+  shopId: z.preprocess(queryValue, z.string({ error: "Shop must be an id." }).trim().min(1).max(64).optional()),
 });
 
 // ---------------------------------------------------------------------------------------------

@@ -3,6 +3,7 @@
  * Money is integer cents; the desk's share is in basis points (1 bp = 0.01 %).
  */
 import { z } from "zod";
+import { noticeTopics } from "../domain/notice-topics";
 
 const trimmed = (max: number) => z.string().trim().max(max);
 const required = (label: string, max: number) => z.string().trim().min(1, `${label} is required.`).max(max, `${label} is too long (at most ${max} characters).`);
@@ -95,7 +96,20 @@ export const ignitionSafetyNote =
   "Safety: ignition secondary voltage reaches tens of kilovolts. Use insulated tools and proper pickups, keep clear of coil and plug leads with the engine running, and follow the vehicle manufacturer's procedure, local codes and licensed practice. The advice here does not replace them.";
 
 /** POST /api/admin/cases/:id/reassign */
-export const reassignSchema = z.object({ expertId: z.string().trim().min(1, "Name the expert.").max(64) });
+export const reassignSchema = z.object({
+  expertId: z.string().trim().min(1, "Name the expert.").max(64),
+  /** why the desk moves the case (kept in its history) */
+  reason: trimmed(500).optional(),
+});
+
+/** PUT /api/me/notice-settings: one entry per topic to change (shared/domain/notice-topics.ts). */
+export const noticeSettingsSchema = z.object({
+  topics: z
+    .array(z.object({ topic: z.enum(noticeTopics, { error: "Unknown topic." }), inApp: z.boolean(), mail: z.boolean() }))
+    .min(1, "Name at least one topic.")
+    .max(noticeTopics.length),
+});
+export type NoticeSettingsInput = z.infer<typeof noticeSettingsSchema>;
 
 /** GET /api/cases/:id/payment?sync=1 */
 export const paymentQuerySchema = z.object({ sync: z.enum(["0", "1"]).optional() });

@@ -6,6 +6,7 @@
 import type { CaseStatus, VehicleSystem } from "../domain/case-status";
 import type { CaseReadiness } from "../domain/case-readiness";
 import type { VinDecoded } from "../domain/vin";
+import type { CaseWaiting, DeadlineRisk, UnreadView } from "./desk";
 
 export interface CaseVehicleView {
   vin: string | null;
@@ -58,6 +59,16 @@ export interface CaseSummaryView extends CaseDatesView {
   system: VehicleSystem | null;
   traceCount: number;
   photoCount: number;
+  /** the shop's name (admins see every shop's cases) */
+  shopName: string | null;
+  /** the expert the case is with, once claimed */
+  expert: { id: string; name: string } | null;
+  /** new chat messages and marks by others since the reader last had the live review open */
+  unread: UnreadView;
+  /** what the case waits on, said to the reader */
+  waiting: CaseWaiting;
+  /** queued and claimed cases: how the answer deadline stands (null: no running deadline) */
+  deadlineRisk: DeadlineRisk | null;
 }
 
 /** GET /api/cases */

@@ -51,8 +51,27 @@ export interface PaymentView {
   receiptNumber: string | null;
 }
 
+/** Who sold the service, as printed on receipts (configured: SELLER_NAME, SELLER_ADDRESS, SELLER_TAX_ID). */
+export interface SellerView {
+  name: string;
+  address: string;
+  taxId: string;
+}
+
+/** The tax included in a receipt's price (prices always include tax). */
+export interface ReceiptTaxView {
+  label: string;
+  /** the rate in basis points (750 = 7.5 %) */
+  basisPoints: number;
+  /** the part of the amount charged that is tax */
+  cents: number;
+  pricesIncludeTax: true;
+}
+
 export interface ReceiptView {
   receiptNumber: string;
+  seller: SellerView;
+  tax: ReceiptTaxView | null;
   shopName: string;
   caseId: string;
   caseLabel: string;
@@ -98,6 +117,8 @@ export interface NotificationView {
   title: string;
   body: string;
   link: string | null;
+  /** how many happenings the notice stands for (new messages or marks fold into one) */
+  count: number;
   read: boolean;
   createdAt: string;
 }

@@ -28,7 +28,8 @@ export type WorkflowAbility =
   | "answer"
   | "confirm"
   | "refund"
-  | "viewPayment";
+  | "viewPayment"
+  | "deleteDraft";
 export type WorkflowAbilities = Record<WorkflowAbility, boolean>;
 
 export interface TierView {
@@ -58,6 +59,11 @@ export interface WorkflowView extends CaseStateView {
   answers: AnswerView[];
   confirmations: ConfirmationView[];
   pricing: PublicPricingView | null;
+  /** the shop that opened the case (the desk's admins look after every shop's cases) */
+  shopId: string;
+  shopName: string | null;
+  /** a resolved case's casebook entry, once published (and not hidden) */
+  casebookEntryId: string | null;
   abilities: WorkflowAbilities;
 }
 
@@ -123,4 +129,12 @@ export interface ConfirmedView {
 /** PUT /api/queue/availability */
 export interface AvailabilityView {
   available: boolean;
+}
+
+/** DELETE /api/cases/:id (drafts) */
+export interface DeletedDraftView {
+  id: string;
+  deleted: true;
+  traces: number;
+  photos: number;
 }

@@ -22,6 +22,7 @@ import { CasesListPage } from "./routes/cases/list";
 import { CasebookSearchPage } from "./routes/casebook/search-page";
 import { CasebookEntryPage } from "./routes/casebook/entry-page";
 import { CaseReportPage } from "./routes/report/report-page";
+import { NoticeSettingsPage } from "./routes/settings/notices-page";
 
 /**
  * All client routes. Each area adds its pages here: signed-in pages go inside the RequireAuth
@@ -54,9 +55,11 @@ export const router = createBrowserRouter([
           { path: "cases/:id/report", element: <CaseReportPage /> },
           { path: "casebook", element: <CasebookSearchPage /> },
           { path: "casebook/:id", element: <CasebookEntryPage /> },
+          { path: "settings/notices", element: <NoticeSettingsPage /> },
           { element: <RequireAuth roles={["owner", "technician"]} />, children: [{ path: "team", element: <TeamPage /> }] },
           {
-            element: <RequireAuth roles={["owner"]} />,
+            // admins read any shop's billing (?shopId=…) and receipts
+            element: <RequireAuth roles={["owner", "admin"]} />,
             children: [
               { path: "billing", element: <BillingPage /> },
               { path: "billing/receipts/:paymentId", element: <ReceiptPage /> },

@@ -233,7 +233,7 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     const form = tech.locator("form").filter({ has: tech.getByRole("radiogroup", { name: "Fix result" }) });
     await form.getByRole("radio", { name: "Yes, it is fixed" }).check();
     await form.getByRole("button", { name: "5", exact: true }).click();
-    await form.getByRole("button", { name: "Send", exact: true }).click();
+    await form.getByRole("button", { name: "Report the result", exact: true }).click();
     await tech.getByText("Fix confirmed").first().waitFor({ timeout: 20_000 });
     await shot(tech, SHOTS, "13-fix-confirmed");
   });

@@ -1,12 +1,14 @@
 /**
  * Starter-current capture generator for relative compression, with known truth.
  *
- * Key-on at `startS`: the inrush spike (the motor at standstill draws far more) decays (τ = 30 ms)
- * to the cranking current; from within one stroke period of key-on, one current hump per
+ * Key-on at `startS`: the inrush spike (the motor at standstill draws far more) decays (τ =
+ * `inrushTauS`, default 30 ms: the motor's spin-up time) to the cranking current; from within one stroke period of key-on, one current hump per
  * compression stroke:
  * I = base + h_k·cos²(π(t − t_k)/P) for |t − t_k| < P/2, with P = 120/(rpm·N) (one compression
- * stroke per cylinder every 720°). A low-compression cylinder's humps are lower. Clamp output in
- * volts when mvPerAmp is given, else amperes.
+ * stroke per cylinder every 720°). A low-compression cylinder's humps are lower. Optionally the
+ * commutator's ripple: `commutatorA`·sin(2π·f·t) while cranking, f = bars × gear ratio × rpm/60 (a
+ * 12-bar armature turning about 10 times the crank through the pinion: common practice, no source).
+ * Clamp output in volts when mvPerAmp is given, else amperes.
  */
 import type { CaptureSettingsInput } from "../../shared/schemas/capture-settings";
 import { createRng } from "../helpers/prng";
@@ -35,6 +37,12 @@ export interface CompressionOptions {
   inrush?: boolean;
   /** inrush peak, A; default 550 */
   inrushA?: number;
+  /** the inrush's decay time constant, s; default 0.03 */
+  inrushTauS?: number;
+  /** the first stroke's delay after key-on as a fraction of the stroke period; default random 0.5–1 */
+  firstStroke?: number;
+  /** the commutator's ripple amplitude, A (default 0), at 12 bars × 10 × rpm/60 */
+  commutatorA?: number;
   /** key-on time, s; default 0.1 */
   startS?: number;
   /** white noise RMS, A; default 2 */
@@ -54,6 +62,8 @@ export interface CompressionStrokeTruth {
   /** % of the highest stroke */
   relativePct: number;
   low: boolean;
+  /** what is left of the inrush above the base at the stroke's time, A */
+  inrushLeftA: number;
 }
 
 export interface CompressionTruth {
@@ -81,11 +91,14 @@ export function generateCompression(opts: CompressionOptions = {}): GeneratedCap
   const tStart = opts.startS ?? 0.1;
   const inrush = opts.inrush ?? true;
   const inrushA = opts.inrushA ?? 550;
+  const tau = opts.inrushTauS ?? 0.03;
+  const inrushLeft = (t: number) =>
+    inrush && t >= tStart ? (inrushA - base) * Math.exp(-Math.max(0, t - tStart - 2e-3) / tau) : 0;
   const noise = opts.noiseA ?? 2;
   const jitter = opts.jitter ?? 0.02;
   // the first compression stroke comes within one stroke period of key-on; cranking lasts to the
   // end of the capture (the last stroke may be cut off)
-  const t1 = tStart + P * rng.range(0.5, 1);
+  const t1 = tStart + P * (opts.firstStroke ?? rng.range(0.5, 1));
 
   const strokes: { t: number; h: number; position: number }[] = [];
   for (let k = 0; ; k++) {
@@ -104,9 +117,10 @@ export function generateCompression(opts: CompressionOptions = {}): GeneratedCap
     let I = 0;
     if (t >= tStart) {
       const u = t - tStart;
-      // the current rises within 2 ms to the inrush peak, which decays (τ = 30 ms) to the base
+      // the current rises within 2 ms to the inrush peak, which decays (τ) to the base
       const rise = Math.min(1, u / 2e-3);
-      I = rise * (base + (inrush ? (inrushA - base) * Math.exp(-Math.max(0, u - 2e-3) / 0.03) : 0));
+      I = rise * (base + inrushLeft(t));
+      if (opts.commutatorA) I += opts.commutatorA * Math.sin((2 * Math.PI * 12 * 10 * rpm * u) / 60);
       while (s < strokes.length - 1 && t > strokes[s].t + P / 2) s++;
       for (let k = Math.max(0, s - 1); k < Math.min(strokes.length, s + 2); k++) {
         const x = (t - strokes[k].t) / P;
@@ -124,6 +138,7 @@ export function generateCompression(opts: CompressionOptions = {}): GeneratedCap
       peak: x.h,
       relativePct: (100 * x.h) / hMax,
       low: x.position === lowPos,
+      inrushLeftA: inrushLeft(x.t),
     })),
     cylinders: N,
     rpm,

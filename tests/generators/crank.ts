@@ -9,7 +9,10 @@
  * −N·ω·dΦ/dθ, so both its amplitude and its frequency rise with speed. A tooth reaching the sensor
  * gives a positive lobe, leaving it a negative one; the falling zero crossing between them is the
  * tooth's centre. A Hall sensor switches between two levels (0 and `hallV`) while a tooth is under it
- * (the flux above half its peak), with a finite edge time; its amplitude does not change with speed.
+ * (the flux above half its peak, or, with `hallDuty`, while the sensor faces the tooth's share of the
+ * pitch — 0.5: teeth and slots equally wide), with a first-order edge of `hallEdgeUs` (default 5 µs;
+ * 0: the output switches within one sample, as a push-pull output does); its amplitude does not
+ * change with speed.
  * A damaged (chipped) tooth carries less flux.
  */
 import type { CaptureSettingsInput } from "../../shared/schemas/capture-settings";
@@ -46,6 +49,10 @@ export interface CrankOptions {
   /** "vr" (default) or "hall" (0/`hallV` square wave, high while a tooth is under the sensor) */
   sensor?: "vr" | "hall";
   hallV?: number;
+  /** Hall: the share of each pitch the tooth holds the output high (default: from the flux) */
+  hallDuty?: number;
+  /** Hall: the edge's time constant, µs (default 5; 0: within one sample) */
+  hallEdgeUs?: number;
 }
 
 export interface CrankTruth {
@@ -98,7 +105,9 @@ export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTr
   let theta = theta0;
   const gapTimes: number[] = [];
   let hallState = 0;
-  const hallEdge = Math.max(1, Math.round(rate * 5e-6)); // about 5 µs edges
+  // first-order edges: each sample closes 1/hallEdge of the way (1: switches within a sample)
+  const hallEdge = Math.max(1, Math.round(rate * (opts.hallEdgeUs ?? 5) * 1e-6));
+  const duty = opts.hallDuty;
   let hallLevel = 0;
   for (let i = 0; i < n; i++) {
     const t = i / rate;
@@ -117,7 +126,12 @@ export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTr
       phi += g;
     }
     if (hall) {
-      hallState = phi > 0.5 ? 1 : 0;
+      if (duty == null) hallState = phi > 0.5 ? 1 : 0;
+      else {
+        // the tooth's share of the pitch centred on its position
+        const idx = ((c % N) + N) % N;
+        hallState = !missingSet.has(idx) && Math.abs(th - c * PITCH) < (duty * PITCH) / 2 ? 1 : 0;
+      }
       hallLevel += (hallState - hallLevel) / hallEdge;
       values[i] = (pol > 0 ? hallLevel : 1 - hallLevel) * hallV + noise * rng.normal();
     } else values[i] = pol * kV * omega * dphi + noise * rng.normal();

@@ -11,6 +11,11 @@
  *   firing line at `wobbleHz`, first swinging toward the firing side or away from it;
  * - firing line: the breakdown voltage `peakV` reached at t_apex with an asymmetric Gaussian top —
  *   rise width `riseUs`, collapse width `fallUs` (the scope and pickup round the breakdown's corner);
+ *   or, with `tip: "breakdown"`, a cusp: the secondary's LC charge V_open·sin(ω(t − t0)), rising a
+ *   quarter period in `riseUs` (ω = π/(2·riseUs)) toward the coil's open-circuit voltage V_open =
+ *   `reserve` × the breakdown voltage, cut off where it reaches the breakdown voltage (the gap
+ *   breaks down; reserve 1: at the rise's top), then collapsing exponentially with τ = `fallUs` into
+ *   the spark line (pickup and scope bandwidth). The apex is the breakdown voltage exactly;
  * - spark line: from t_apex on, smoothly (over 3 collapse widths) to level L(t) = `levelV` + slope·
  *   (t − middle of the spark line), plus turbulence: a sum of six sines of random phase between 3 and
  *   60 kHz with total RMS `turbulence` × the level; for `burnMs`;
@@ -34,6 +39,12 @@ export interface IgnitionOptions {
   /** rise and collapse widths of the apex (σ of each Gaussian half), µs (default 8 and 4) */
   riseUs?: number;
   fallUs?: number;
+  /** the apex's shape: "rounded" (two Gaussian halves, default) or "breakdown" (a cusp, see above) */
+  tip?: "rounded" | "breakdown";
+  /** breakdown tip: the coil's open-circuit voltage ÷ the breakdown voltage (≥ 1, default 1) */
+  reserve?: number;
+  /** the first apex's offset from the sample grid, µs (default 0: on a sample at most rates) */
+  apexOffsetUs?: number;
   /** spark line level (kV, default 1.5), slope (kV/ms, default −0.2), duration (ms, default 1.5) */
   levelKv?: number;
   slopeKvPerMs?: number;
@@ -73,6 +84,11 @@ export interface IgnitionOptions {
   glitches?: { timeS: number; kv: number }[];
   /** the events' timing jitter and size jitter (fractions); default 0 */
   jitter?: number;
+  /**
+   * firings the pickup sees per engine cycle (720°): 1 on one cylinder's coil or lead (default),
+   * the cylinder count on a distributor's coil wire (every cylinder fires through it)
+   */
+  firingsPerCycle?: number;
 }
 
 export interface IgnitionEventTruth {
@@ -131,6 +147,19 @@ function build(
   };
 }
 
+/**
+ * The breakdown tip (see the module's note): the LC charge's quarter sine up to the breakdown voltage
+ * `peak`, reached at dt = 0, then its collapse e^(−dt/τ) (the spark line is added by the caller).
+ */
+function breakdownTip(peak: number, reserve: number, quarterS: number, tauS: number, dt: number): number {
+  const w = Math.PI / (2 * quarterS);
+  const vOpen = peak * Math.max(1, reserve);
+  const tb = Math.asin(peak / vOpen) / w; // from the rise's start to the breakdown
+  if (dt < -tb) return 0;
+  if (dt < 0) return vOpen * Math.sin(w * (dt + tb));
+  return dt < 40 * tauS ? peak * Math.exp(-dt / tauS) : 0;
+}
+
 /** The noise-free event at time t, kV at the plug, firing side positive, coupling not applied. */
 function eventKv(
   m: Model,
@@ -149,6 +178,8 @@ function eventKv(
       | "coilF"
       | "ringTauPeriods"
       | "ringB"
+      | "tip"
+      | "reserve"
     >
   >,
   t: number,
@@ -164,9 +195,11 @@ function eventKv(
   const sr = o.riseUs * 1e-6;
   const sf = o.fallUs * 1e-6;
   const dt = t - m.tApex;
-  if (Math.abs(dt) < 12 * Math.max(sr, sf)) y += m.peak * Math.exp(-(dt * dt) / (2 * (dt < 0 ? sr * sr : sf * sf)));
+  const cusp = o.tip === "breakdown";
+  if (cusp) y += breakdownTip(m.peak, o.reserve, sr, sf, dt);
+  else if (Math.abs(dt) < 12 * Math.max(sr, sf)) y += m.peak * Math.exp(-(dt * dt) / (2 * (dt < 0 ? sr * sr : sf * sf)));
   if (t >= m.tApex && t < m.tEnd) {
-    const onset = smoothstep(dt / (3 * sf));
+    const onset = cusp ? 1 - Math.exp(-dt / sf) : smoothstep(dt / (3 * sf));
     const mid = (m.tApex + m.tEnd) / 2;
     let turb = 0;
     for (const s of m.sines) turb += s.a * Math.sin(s.w * dt + s.ph);
@@ -212,11 +245,15 @@ export function generateIgnition(opts: IgnitionOptions = {}): { trace: ParsedTra
     polarity: 1 as 1 | -1,
     coupling: 1,
     jitter: 0,
+    tip: "rounded",
+    reserve: 1,
+    apexOffsetUs: 0,
+    firingsPerCycle: 1,
     ...Object.fromEntries(Object.entries(opts).filter(([, v]) => v !== undefined)),
   } as Required<Omit<IgnitionOptions, "seed" | "clip" | "glitches" | "dwellMs" | "kvPerVolt" | "fileUnit">>;
   const dwellMs = opts.dwellMs === undefined ? 3 : opts.dwellMs;
-  const period = 120 / o.rpm;
-  const pre = (dwellMs ?? 0) / 1e3 + 0.8e-3;
+  const period = 120 / (o.rpm * o.firingsPerCycle);
+  const pre = (dwellMs ?? 0) / 1e3 + 0.8e-3 + o.apexOffsetUs * 1e-6;
   const models: Model[] = [];
   for (let k = 0; k < o.events; k++) models.push(build(o, rng, pre + k * period, dwellMs));
   const duration = pre + (o.events - 1) * period + o.burnMs / 1e3 + 4e-3;
@@ -269,7 +306,9 @@ export function generateIgnition(opts: IgnitionOptions = {}): { trace: ParsedTra
     truth: {
       events,
       rpm:
-        events.length >= 2 ? 120 / ((events[events.length - 1].timeS - events[0].timeS) / (events.length - 1)) : null,
+        events.length >= 2
+          ? 120 / (((events[events.length - 1].timeS - events[0].timeS) / (events.length - 1)) * o.firingsPerCycle)
+          : null,
       lcHz: w0 / (2 * Math.PI),
       fileScale,
     },

@@ -105,14 +105,15 @@ export function connected(s: LiveClient): Promise<LiveClient> {
   });
 }
 
-/** Emits an acknowledged event and resolves with the acknowledgement. */
+/** Emits an acknowledged event and resolves with the acknowledgement (rejects after `timeoutMs`). */
 export function ask<E extends keyof ClientToServerEvents>(
   s: LiveClient,
   event: E,
   payload: Parameters<ClientToServerEvents[E]>[0],
+  timeoutMs = 10_000,
 ): Promise<Parameters<Extract<Parameters<ClientToServerEvents[E]>[1], (...a: any[]) => void>>[0]> {
   return new Promise((resolve, reject) => {
-    const timer = setTimeout(() => reject(new Error(`no acknowledgement of ${event}`)), 10_000);
+    const timer = setTimeout(() => reject(new Error(`no acknowledgement of ${event}`)), timeoutMs);
     (s.emit as any)(event, payload, (res: any) => {
       clearTimeout(timer);
       resolve(res);

@@ -7,3 +7,4 @@ export * from "./live";
 export * from "./casebook";
 export * from "./mail";
 export * from "./uploads";
+export * from "./desk";

@@ -64,6 +64,8 @@ export const payment = sqliteTable(
     /** snapshots taken at submit, so a later price change does not touch this case */
     deskShareBasisPoints: integer("desk_share_bp").notNull(),
     deadlineMinutes: integer("deadline_minutes").notNull(),
+    /** the tax rate included in the price, basis points, as configured at submit (null: before it was recorded) */
+    taxBasisPoints: integer("tax_bp"),
     status: text("status").$type<PaymentStatus>().notNull(),
     checkoutSessionId: text("checkout_session_id").unique(),
     checkoutUrl: text("checkout_url"),
@@ -214,6 +216,8 @@ export const notification = sqliteTable(
     body: text("body").notNull(),
     /** a path inside the app, e.g. /cases/abc */
     link: text("link"),
+    /** how many happenings this notice stands for (new messages or marks fold into one unread notice) */
+    count: integer("count").notNull().default(1),
     readAt: integer("read_at", { mode: "timestamp_ms" }),
     createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull(),
   },

@@ -14,7 +14,7 @@ import {
   type Written,
 } from "../../services/annotations";
 import { annotationCreateSchema, annotationDeleteSchema, annotationUpdateSchema } from "../../../shared/schemas/realtime";
-import { planChangeMark, planCreateMark } from "../writes";
+import { planChangeMark, planCreateMark, withReaders } from "../writes";
 import type { Checked, Live, LiveSocket, PreparedWrite } from "../live";
 
 const { annotation } = schema;
@@ -39,6 +39,7 @@ export function onAnnotations(live: Live, socket: LiveSocket): void {
   socket.on("annotation:create", (raw, ack) =>
     live.written(socket, "annotation:create", ack, async (): Promise<PreparedWrite<Written, object> | { stored: object }> => {
       const p = parseWith(annotationCreateSchema, raw, "event");
+      const present = live.presentUsers(socket.data.caseId ?? "").catch(() => [] as string[]);
       const { actor, caseId, c, extra } = await live.check(socket, (q) =>
         p.clientId
           ? [q.select().from(annotation).where(and(eq(annotation.authorId, socket.data.userId), eq(annotation.clientId, p.clientId))).limit(1)]
@@ -55,7 +56,11 @@ export function onAnnotations(live: Live, socket: LiveSocket): void {
       checkOnTrace(t, p);
       const now = ctx.now();
       const exact = (tx: Parameters<typeof createAnnotationIn>[0]) => createAnnotationIn(tx, now, actor, caseId, p);
-      return { plan: planCreateMark(c, now, actor, p, exact), record: asMark, answer };
+      // everybody in the room sees the mark now: read for them too (server/services/reading.ts)
+      const plan = withReaders(planCreateMark(c, now, actor, p, exact), [actor.id, ...(await present)], now);
+      const after = (w: Written) =>
+        live.liveNotices(caseId, actor, { kind: "mark", mark: w.record.kind, label: w.record.label });
+      return { plan, record: asMark, answer, after };
     }),
   );
 

@@ -5,7 +5,7 @@ import { badRequest } from "../../http/errors";
 import { assertLiveWrite, liveAbilities } from "../../auth/policies/live";
 import { postMessageIn, presentMessage, type MessageRow, type PostedMessage } from "../../services/messages";
 import { chatSendSchema, chatTypingSchema } from "../../../shared/schemas/realtime";
-import { planMessage } from "../writes";
+import { planMessage, withReaders } from "../writes";
 import type { Live, LiveSocket, PreparedWrite } from "../live";
 
 const { message } = schema;
@@ -16,6 +16,7 @@ export function onChat(live: Live, socket: LiveSocket): void {
   socket.on("chat:send", (raw, ack) =>
     live.written(socket, "chat:send", ack, async (): Promise<PreparedWrite<PostedMessage, object> | { stored: object }> => {
       const p = parseWith(chatSendSchema, raw, "event");
+      const present = live.presentUsers(socket.data.caseId ?? "").catch(() => [] as string[]);
       const { actor, caseId, c, extra } = await live.check(socket, (q) =>
         p.clientId
           ? [q.select().from(message).where(and(eq(message.authorId, socket.data.userId), eq(message.clientId, p.clientId))).limit(1)]
@@ -29,11 +30,17 @@ export function onChat(live: Live, socket: LiveSocket): void {
       }
       const now = ctx.now();
       const exact = (tx: Parameters<typeof postMessageIn>[0]) => postMessageIn(tx, now, actor, caseId, p);
+      // everybody in the room sees the message now: it is read for them (server/services/reading.ts)
+      const plan = withReaders(planMessage(c, now, actor, p, exact), [actor.id, ...(await present)], now);
       return {
-        plan: planMessage(c, now, actor, p, exact),
+        plan,
         record: (w) => ({ kind: "message", record: w.record }),
         answer: (w) => ({ message: w.record }),
-        after: () => void presence.setTyping(caseId, actor.id, false).catch(() => {}),
+        after: (w) => {
+          void presence.setTyping(caseId, actor.id, false).catch(() => {});
+          const request = w.record.kind === "data_request";
+          live.liveNotices(caseId, actor, { kind: "message", text: w.record.text, request });
+        },
       };
     }),
   );

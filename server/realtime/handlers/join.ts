@@ -6,6 +6,7 @@ import { assertCanJoinCase, liveAbilities } from "../../auth/policies/live";
 import type { CaseRow } from "../../workflow/records";
 import { annotationsQuery, presentAnnotation } from "../../services/annotations";
 import { messagesQuery, presentMessage } from "../../services/messages";
+import { markSeen } from "../../services/reading";
 import { actorOfRows, sessionUserQuery } from "../session";
 import { caseJoinSchema } from "../../../shared/schemas/realtime";
 import { caseRoom, type JoinOk } from "../../../shared/realtime";
@@ -59,6 +60,8 @@ export function onJoin(live: Live, socket: LiveSocket): void {
         // a `since` ahead of the case: the client's copy is from another database; send it all
         const reset = (p.since ?? 0) > first.head;
         const replay = reset ? await readReplay(ctx.db, c.id, 0) : first;
+        // the record up to its head is in the replay: read, with the notices about it
+        await markSeen(ctx.db, c.id, [actor.id], replay.head, ctx.now());
         const [snap, view] = await Promise.all([presence.snapshot(c.id), presence.view(c.id)]);
         return { ...replay, reset, snap, view };
       };

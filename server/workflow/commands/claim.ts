@@ -85,6 +85,7 @@ async function reassignInUnit(
   caseId: string,
   expertId: string,
   now: Date,
+  reason?: string,
 ): Promise<CaseRow> {
   const { c } = await authorized(tx, actor, "reassign", caseId);
   const target = await tx
@@ -99,7 +100,7 @@ async function reassignInUnit(
   if (c.expertId === expertId) throw conflict("expert_unavailable", "The case is already with that expert.");
   await assertUnderLimit(tx, expertId, target.p.maxOpenCases, "the expert");
   const status = c.status as CaseStatus;
-  const data = { from: c.expertId, to: expertId };
+  const data = { from: c.expertId, to: expertId, reason: reason || null };
   const row = await transition(tx, {
     caseId,
     from: status,
@@ -118,7 +119,16 @@ async function reassignInUnit(
   return row;
 }
 
-/** POST /api/admin/cases/:id/reassign: the desk hands a claimed case to another approved expert. */
-export async function reassignCase(ctx: AppContext, actor: Actor, caseId: string, expertId: string): Promise<CaseRow> {
-  return (await perform(ctx, (tx, fx) => reassignInUnit(tx, fx, actor, caseId, expertId, ctx.now()))).result;
+/**
+ * POST /api/admin/cases/:id/reassign: the desk hands a claimed case to another approved expert;
+ * the reason is kept in the case's history.
+ */
+export async function reassignCase(
+  ctx: AppContext,
+  actor: Actor,
+  caseId: string,
+  expertId: string,
+  reason?: string,
+): Promise<CaseRow> {
+  return (await perform(ctx, (tx, fx) => reassignInUnit(tx, fx, actor, caseId, expertId, ctx.now(), reason))).result;
 }

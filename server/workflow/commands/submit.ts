@@ -29,6 +29,7 @@ async function submitInUnit(
   caseId: string,
   tierId: string,
   now: Date,
+  taxBasisPoints: number,
 ): Promise<{ p: PaymentRow; label: string }> {
   const { c } = await authorized(tx, actor, "submit", caseId);
   const ready = readinessOfRow(c);
@@ -82,6 +83,7 @@ async function submitInUnit(
     currency: pricing.currency,
     deskShareBasisPoints: pricing.deskShareBasisPoints,
     deadlineMinutes: tier.deadlineMinutes,
+    taxBasisPoints,
     status: "creating",
     checkoutSessionId: null,
     checkoutUrl: null,
@@ -113,7 +115,8 @@ async function submitInUnit(
 
 /** POST /api/cases/:id/submit */
 export async function submitCase(ctx: AppContext, actor: Actor, caseId: string, tierId: string): Promise<CheckoutView> {
-  const { result } = await perform(ctx, (tx, fx) => submitInUnit(tx, fx, actor, caseId, tierId, ctx.now()));
+  const taxBp = Math.round(ctx.env.TAX_RATE_PERCENT * 100);
+  const { result } = await perform(ctx, (tx, fx) => submitInUnit(tx, fx, actor, caseId, tierId, ctx.now(), taxBp));
   const { p, label } = result;
   const { checkoutUrl } = await openCheckout(ctx, p, `${p.tierLabel} second opinion — ${label}`);
   return {

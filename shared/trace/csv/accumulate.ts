@@ -7,7 +7,7 @@
 import { TraceParseError } from "../types";
 import { clockSeconds } from "./clock";
 import type { Metadata } from "./metadata";
-import { BLANK, effectiveCount, fieldNumber, infiniteSign, MAX_FLOAT32 } from "./numbers";
+import { BLANK, effectiveCount, fieldNumber, infiniteSign, isMissingField, MAX_FLOAT32 } from "./numbers";
 import type { Layout } from "./sniff";
 import { columnLabel, LIST_LINES, plural, quote } from "./words";
 
@@ -23,6 +23,9 @@ export class SampleStore {
   values: Float32Array[];
   /** samples written as infinity (over range) per channel */
   infinite: number[];
+  /** samples written as NaN (missing) per channel, and the first lines they are on */
+  missing: number[];
+  missingLines: number[][];
   /** whether every value of a channel so far is a whole number (raw ADC codes?) */
   whole: boolean[];
   lastTime = -Infinity;
@@ -44,6 +47,8 @@ export class SampleStore {
     this.time = layout.timeIdx >= 0 ? new Float64Array(this.cap) : null;
     this.values = layout.valueIdx.map(() => new Float32Array(this.cap));
     this.infinite = layout.valueIdx.map(() => 0);
+    this.missing = layout.valueIdx.map(() => 0);
+    this.missingLines = layout.valueIdx.map(() => []);
     this.whole = layout.valueIdx.map(() => true);
   }
 
@@ -120,7 +125,7 @@ export class SampleStore {
       return t;
     }
     const v = fieldNumber(s);
-    if (v === undefined) return undefined;
+    if (v === undefined || isMissingField(s)) return undefined;
     if (v !== v) this.textError(rowLine, L.timeIdx, s);
     const tv = v * L.timeScale;
     if (!(tv - tv === 0)) this.rangeError(rowLine, L.timeIdx, s);
@@ -159,7 +164,7 @@ export class SampleStore {
       if (tIdx >= 0) {
         const t = this.timeOf(rowLine, row[tIdx]);
         if (t === undefined) {
-          this.ragged(rowLine, "has an empty time field");
+          this.ragged(rowLine, "has no time (an empty or NaN field)");
           continue;
         }
         tv = t;
@@ -192,6 +197,13 @@ export class SampleStore {
       const v = fieldNumber(s);
       if (v === undefined) return false;
       if (v !== v) {
+        if (isMissingField(s)) {
+          // a missing sample: kept as NaN here, filled in from its neighbours when the trace is finished
+          this.values[j][n] = NaN;
+          this.missing[j]++;
+          if (this.missingLines[j].length < LIST_LINES) this.missingLines[j].push(rowLine);
+          continue;
+        }
         const sign = infiniteSign(s);
         if (sign === 0) this.textError(rowLine, col, s);
         this.values[j][n] = sign * Infinity;

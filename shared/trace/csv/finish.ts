@@ -9,7 +9,7 @@ import type { SampleStore } from "./accumulate";
 import { isGenericValueName } from "./header";
 import type { Metadata } from "./metadata";
 import { noSampleRate, type Layout } from "./sniff";
-import { LIST_LINES, listLines, plural, tidyRate } from "./words";
+import { LIST_LINES, listLines, plural, quote, tidyRate } from "./words";
 
 export interface FinishInput {
   store: SampleStore;
@@ -144,6 +144,44 @@ function timeUnitFromMetadata(inp: FinishInput, rateFromColumn: number): number 
   return 1;
 }
 
+/**
+ * Samples written as NaN (missing) filled in on a straight line between the samples beside them (the
+ * first or last sample's value at the ends), with a warning naming the lines; more than the ragged
+ * rows' allowance (10, or 0.1 % of the rows) is a refusal naming the column and the lines.
+ */
+function fillMissing(inp: FinishInput, j: number, v: Float32Array, rows: number, name: string): void {
+  const { store, warnings } = inp;
+  const k = store.missing[j];
+  if (!k) return;
+  const lines = store.missingLines[j];
+  const allowed = Math.max(10, Math.floor(0.001 * rows));
+  if (k > allowed) {
+    throw new TraceParseError(
+      "text-in-numeric-column",
+      `${quote(name)} has ${k} cells written as NaN (not a number: missing samples), more than the ${allowed} ` +
+        `that can be filled in; lines ${listLines(lines, k)}`,
+      lines[0],
+    );
+  }
+  let i = 0;
+  while (i < rows) {
+    if (!Number.isNaN(v[i])) {
+      i++;
+      continue;
+    }
+    let e = i;
+    while (e < rows && Number.isNaN(v[e])) e++;
+    const left = i > 0 ? v[i - 1] : v[e];
+    const right = e < rows ? v[e] : left;
+    for (let q = i; q < e; q++) v[q] = left + ((right - left) * (q - i + 1)) / (e - i + 1);
+    i = e;
+  }
+  warnings.push(
+    `${k} ${plural(k, "sample")} of ${name} ${plural(k, "was", "were")} written as NaN (missing): ` +
+      `${plural(k, "line")} ${listLines(lines, k)}; filled in on a straight line between the samples beside them`,
+  );
+}
+
 /** One channel: its array cut to size, over-range samples, ADC codes, min and max. */
 function channelOf(inp: FinishInput, j: number, label: ChannelLabel, rows: number): TraceChannel {
   const { store, meta, warnings } = inp;
@@ -163,6 +201,7 @@ function channelOf(inp: FinishInput, j: number, label: ChannelLabel, rows: numbe
     const k = store.infinite[j];
     warnings.push(`${k} ${plural(k, "sample")} of ${label.name} ${plural(k, "was", "were")} written as infinity (over the scope's range); set to the channel's highest or lowest value`);
   }
+  fillMissing(inp, j, v, rows, label.name);
   let unit = label.unit;
   let unitFrom = label.unitFrom;
   let scaledFrom: string | null = null;
@@ -216,11 +255,25 @@ export function finishTrace(inp: FinishInput): ParsedTrace {
     );
   }
   if (rows < 2) {
-    throw new TraceParseError("too-few-samples", `the file has ${rows} data ${plural(rows, "row")}; a trace needs at least 2`, layout.headerLine);
+    // the line of the data (its one row), where the tech looks for what is missing
+    throw new TraceParseError("too-few-samples", `the file has ${rows} data ${plural(rows, "row")}; a trace needs at least 2`, layout.firstDataLine);
   }
   const { t0, sampleRateHz, timeOut } = timing(inp, rows);
   const labels = channelLabels(layout, meta);
-  const channels = labels.map((label, j) => channelOf(inp, j, label, rows));
+  // a channel whose every cell is NaN holds no samples (a channel the scope had switched off)
+  const empty = labels.map((_, j) => store.missing[j] >= rows);
+  if (empty.every(Boolean)) {
+    throw new TraceParseError(
+      "text-in-numeric-column",
+      `every value cell is NaN (not a number): the file holds no samples`,
+      layout.firstDataLine,
+    );
+  }
+  const channels: TraceChannel[] = [];
+  labels.forEach((label, j) => {
+    if (empty[j]) warnings.push(`${label.name} holds no samples (every cell NaN) and was left out`);
+    else channels.push(channelOf(inp, j, label, rows));
+  });
   return {
     samples: rows,
     sampleRateHz,

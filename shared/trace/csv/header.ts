@@ -168,9 +168,14 @@ export function parseColumnHeader(raw: string): ColumnHeader {
   if (bracket) return { name: bracket[1].trim() || text, unit: bracket[2] || null };
   const inUnit = /^(.*?)\s*\bin\s+(\S+)$/i.exec(text);
   if (inUnit && isUnitToken(inUnit[2])) return { name: inUnit[1].trim(), unit: inUnit[2] };
-  const slash = /^(.+?)\s*\/\s*([a-zA-Zµμ°%]{1,4})$/.exec(text);
-  if (slash && (isTimeLikeName(slash[1]) ? isTimeUnit(slash[2]) : isUnitToken(slash[2]) && slash[2].length > 1)) {
-    return { name: slash[1].trim(), unit: slash[2] };
+  // "quantity / unit" (DIN 1313, ISO 80000-1): a one-letter unit (`U / V`, `I / A`) only with blanks
+  // round the slash, so that `Ch A/B` stays a name
+  const slash = /^(.+?)(\s*)\/(\s*)([a-zA-Zµμ°%]{1,4})$/.exec(text);
+  if (slash) {
+    const [, name, b0, b1, unit] = slash;
+    const spaced = b0.length > 0 && b1.length > 0;
+    const ok = isTimeLikeName(name) ? isTimeUnit(unit) : isUnitToken(unit) && (unit.length > 1 || spaced);
+    if (ok) return { name: name.trim(), unit };
   }
   const suffix = /^(.+?)_(s|ms|us|µs|μs|ns)$/i.exec(text);
   if (suffix && isTimeLikeName(suffix[1])) return { name: suffix[1], unit: suffix[2] };

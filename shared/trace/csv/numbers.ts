@@ -11,6 +11,14 @@ export const DECIMAL = /^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$/;
 /** An over-range sample as exports write it: "∞", "-∞", "inf", "+Inf", "-Infinity". */
 const INFINITE = /^\s*([-+]?)\s*(\u221e|inf|infinity)\s*$/i;
 
+/** A missing sample as exports write it: "NaN", "-nan", "nan(ind)" (not a number). */
+const MISSING = /^\s*[-+]?nan(\(\w*\))?\s*$/i;
+
+/** A field written as NaN: a missing sample (a gap in the record, or a sample the scope could not read). */
+export function isMissingField(s: string): boolean {
+  return MISSING.test(s);
+}
+
 /** Largest magnitude a value column holds: the largest finite float32, (2 − 2⁻²³)·2¹²⁷ (IEEE 754 binary32). */
 export const MAX_FLOAT32 = 3.4028234663852886e38;
 

@@ -27,7 +27,7 @@ import {
   type ColumnHeader,
 } from "./header";
 import type { Metadata } from "./metadata";
-import { BLANK, effectiveCount, fieldNumber, infiniteSign, isNumericField } from "./numbers";
+import { BLANK, effectiveCount, fieldNumber, infiniteSign, isMissingField, isNumericField } from "./numbers";
 import { columnLabel, quote } from "./words";
 
 /** Rows needed in a row (same shape) before the data start is decided. */
@@ -79,7 +79,7 @@ export interface Decision {
 }
 
 function dataLike(f: string): boolean {
-  return isNumericField(f) || infiniteSign(f) !== 0 || isClockField(f);
+  return isNumericField(f) || infiniteSign(f) !== 0 || isMissingField(f) || isClockField(f);
 }
 
 function shapeOf(row: string[], count: number): number {

@@ -1,4 +1,6 @@
+import { useCallback } from "react";
 import { NavLink, Outlet, Link } from "react-router-dom";
+import { useQueryClient } from "@tanstack/react-query";
 import { Wordmark } from "./logo";
 import { useMe } from "../../features/auth/api/get-me";
 import { SignOutButton } from "../../features/auth/components/sign-out-button";
@@ -13,7 +15,7 @@ export interface NavItem {
 /** Navigation per role; features add their entries here. */
 export const navItems: NavItem[] = [
   { to: "/", label: "Home" },
-  { to: "/cases", label: "Cases", roles: ["technician", "owner"] },
+  { to: "/cases", label: "Cases", roles: ["technician", "owner", "admin"] },
   { to: "/casebook", label: "Casebook", roles: ["technician", "owner", "expert", "admin"] },
   { to: "/team", label: "Team", roles: ["owner", "technician"] },
   { to: "/admin/experts", label: "Experts", roles: ["admin"] },
@@ -25,6 +27,9 @@ export const navItems: NavItem[] = [
 
 export function AppShell() {
   const me = useMe();
+  const qc = useQueryClient();
+  // a pushed notice (a new message, a mark, a state change) changes the case lists' unread counts
+  const onNotice = useCallback(() => void qc.invalidateQueries({ queryKey: ["cases", "list"] }), [qc]);
   const items = navItems.filter((i) => !i.roles || (me.data && i.roles.includes(me.data.role)));
   return (
     <div className="min-h-full flex flex-col">
@@ -50,7 +55,7 @@ export function AppShell() {
           <div className="ml-auto flex items-center gap-2 text-sm text-ink-200">
             {me.data ? (
               <>
-                <NotificationsMenu signedIn />
+                <NotificationsMenu signedIn onNotice={onNotice} />
                 <span className="hidden sm:inline">{`${me.data.name} · ${me.data.role}`}</span>
                 <SignOutButton />
               </>

@@ -1,4 +1,4 @@
-import { formatCents } from "../../../shared/domain/money";
+import { formatMoney } from "../../../shared/format";
 import { Card } from "./form";
 
 /** A row of labelled money figures (integer cents), as on the billing and earnings pages. */
@@ -8,7 +8,7 @@ export function MoneyTotals({ items, currency }: { items: [label: string, cents:
       {items.map(([label, cents]) => (
         <Card key={label}>
           <p className="text-sm text-ink-500">{label}</p>
-          <p className="text-2xl font-bold text-ink-900">{formatCents(cents, currency.toUpperCase())}</p>
+          <p className="text-2xl font-bold text-ink-900">{formatMoney(cents, currency)}</p>
         </Card>
       ))}
     </div>

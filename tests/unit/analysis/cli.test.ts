@@ -88,7 +88,9 @@ describe("npm run analyze", () => {
     expect(doc.file).toBe(files[0]);
     expect(doc.kind).toBe("secondary-ignition");
     expect(doc.unit).toBe("kV");
-    expect(Object.keys(doc.trace)).toEqual(["samples", "sampleRateHz", "durationS", "channels"]);
+    // the reader's warnings (NaN cells filled, rows skipped…) belong to the contract too (docs/api.md)
+    expect(Object.keys(doc.trace)).toEqual(["samples", "sampleRateHz", "durationS", "channels", "warnings"]);
+    expect(doc.trace.warnings).toEqual([]);
     expect(doc.trace.sampleRateHz).toBe(1e6);
     expect(doc.events.length).toBe(2);
     for (const key of ["timeS", "peak", "burnTimeMs", "burnLevel", "oscillations"]) expect(typeof doc.events[0][key]).toBe("number");
@@ -136,5 +138,38 @@ describe("npm run analyze", () => {
     const missing = cli([path.join(dir, "missing.csv"), "--json"]);
     expect(missing.status).toBe(2);
     expect(missing.stderr.split("\n").filter(Boolean)).toEqual([`analyze: ${path.join(dir, "missing.csv")}: cannot read the file: no such file`]);
+  });
+
+  it("any failure says so in one line on stderr: work left unfinished, an error thrown outside the main chain", () => {
+    // a preload that breaks the file reading the way an outside fault would: a stream that never ends
+    // (the event loop runs dry with nothing written), or a rejection nothing awaits
+    const stall = path.join(dir, "stall.mjs");
+    fs.writeFileSync(
+      stall,
+      'import fs from "node:fs"; import { Readable } from "node:stream";\n' +
+        "fs.createReadStream = () => new Readable({ read() {} });\n",
+    );
+    const reject = path.join(dir, "reject.mjs");
+    fs.writeFileSync(
+      reject,
+      'import fs from "node:fs"; import { Readable } from "node:stream";\n' +
+        "fs.createReadStream = () => { setTimeout(() => Promise.reject(new Error('boom')), 5);\n" +
+        "  setTimeout(() => {}, 2000); return new Readable({ read() {} }); };\n",
+    );
+    for (const [pre, why] of [
+      [stall, /^analyze: stopped before finishing .*no result written$/],
+      [reject, /^analyze: internal error: boom$/],
+    ] as const) {
+      const res = spawnSync(
+        process.execPath,
+        ["--import", "tsx", "--import", pre, path.join(root, "scripts/analyze.ts"), files[0], "--json"],
+        { cwd: root, encoding: "utf8" },
+      );
+      expect(res.status).toBe(1);
+      expect(res.stdout).toBe("");
+      const lines = res.stderr.split("\n").filter(Boolean);
+      expect(lines.length).toBe(1);
+      expect(lines[0]).toMatch(why);
+    }
   });
 });

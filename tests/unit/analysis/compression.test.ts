@@ -122,3 +122,60 @@ describe("relative compression from starter current", () => {
     expect(r.summary.rpm).toBeNull();
   });
 });
+
+describe("strokes during the inrush: timed, counted and flagged, never the reference (issue 11)", () => {
+  // Model (tests/generators/compression.ts): the inrush decays as (I_peak − I_c)·e^(−t/τ) with τ the
+  // motor's spin-up time, here as long as a stroke period or longer (a V8 at 300 rpm strokes every
+  // 120/(300·8) = 50 ms, trade reference formula), so the first strokes ride on hundreds of amperes
+  // and show no peak of their own in the raw current. docs/api.md: a stroke that comes while the
+  // inrush is still falling is timed and counted (`onInrush`), not used to judge compression.
+  it.each([
+    [8, 300, 0.06, 6],
+    [8, 300, 0.09, 3],
+    [6, 250, 0.1, 2],
+    [4, 200, 0.16, 4],
+  ] as const)("%i cylinders at %i rpm, inrush τ %s s, weak position %i", (N, rpm, tau, weak) => {
+    for (const [seed, first] of [
+      [41, 0.3],
+      [42, 0.55],
+    ]) {
+      // the first stroke 0.3 or 0.55 of a period after key-on: deep in the inrush
+      const { g, r } = run({
+        seed,
+        firstStroke: first,
+        cylinders: N,
+        crankingRpm: rpm,
+        inrushTauS: tau,
+        inrushA: 500,
+        lowPosition: weak,
+        durationS: 0.1 + (2.2 * 120) / rpm,
+        // the commutator's ripple, 1 % of the cranking current
+        commutatorA: 1.5,
+      });
+      const P = g.truth.strokePeriodS;
+      const dur = g.trace.durationS;
+      // every stroke whose fall is in the capture is found, the first one on the inrush included;
+      // none whose peak is cut off (its fall less than a quarter period long)
+      const full = g.truth.strokes.filter((s) => s.timeS + P / 2 <= dur).length;
+      const some = g.truth.strokes.filter((s) => s.timeS + P / 4 <= dur).length;
+      expect(r.summary.eventCount, `seed ${seed}`).toBeGreaterThanOrEqual(full);
+      expect(r.summary.eventCount, `seed ${seed}`).toBeLessThanOrEqual(some);
+      const typical = 80; // the model's healthy stroke, A
+      r.events.forEach((e, k) => {
+        const t = g.truth.strokes[k];
+        expect(Math.abs(e.timeS - t.timeS), `stroke ${k} at ${t.timeS.toFixed(3)} s`).toBeLessThan(P / 5);
+        // flagged while over a quarter of a stroke's rise of inrush is left (docs/api.md); not
+        // asserted in the band around that line, where the tail's model decides
+        if (t.inrushLeftA > 0.4 * typical) expect(e.onInrush, `stroke ${k}`).toBe(true);
+        if (t.inrushLeftA < 0.1 * typical) expect(e.onInrush, `stroke ${k}`).toBe(false);
+        // judged strokes: the model's factor as % of the strongest, within 5 points
+        if (!e.onInrush) expect(Math.abs(e.relativePct - t.relativePct), `stroke ${k}`).toBeLessThan(5);
+      });
+      // one low position, the weak cylinder's, at ≈ 70 % (below ~85 %: common practice, no source)
+      expect(r.summary.lowPositions).toEqual([weak]);
+      expect(Math.abs(r.summary.positions[weak - 1].relativePct - 70)).toBeLessThan(5);
+      // cranking rpm = 120·f_peaks/N (trade reference)
+      expect(Math.abs(r.summary.rpm! - rpm) / rpm).toBeLessThan(0.02);
+    }
+  });
+});

@@ -129,3 +129,43 @@ describe("missing-tooth wheels are recognised from the gap's length against the 
     expect(r.summary.rpm).toBeNull();
   });
 });
+
+describe("a Hall sensor that switches within one sample, teeth and slots equally wide", () => {
+  // The output is low in the slots and in the gap, so it rests on its low level (0 V) for more than
+  // half the time: the teeth are its edges about the mid level, not crossings of 0 V. Tooth rates
+  // from 90 to 6000 teeth a second; rates of 40 samples a tooth or more (20 kS/s at least).
+  it.each([
+    [12, 1, 600],
+    [36, 1, 150],
+    [60, 2, 800],
+    [24, 1, 1500],
+    [60, 1, 3000],
+    [36, 2, 6000],
+  ] as const)("%i-%i wheel at %i rpm", (N, k, rpm) => {
+    const toothHz = (N * rpm) / 60;
+    const sampleRateHz = Math.max(20e3, Math.min(500e3, Math.ceil((40 * toothHz) / 1e3) * 1e3));
+    for (const seed of [1, 2, 3]) {
+      const { g, r } = run({
+        seed,
+        rpm,
+        positions: N,
+        missing: k,
+        sensor: "hall",
+        hallDuty: 0.5,
+        hallEdgeUs: 0,
+        sampleRateHz,
+        revolutions: 2.6,
+      });
+      // the wheel and its rpm: one revolution is N pitches (trade reference for 60-2: rpm = 1/T)
+      expect(r.summary.wheel?.pattern, `seed ${seed}`).toBe(`${N}-${k}`);
+      expect(Math.abs(r.summary.rpm! - rpm) / rpm).toBeLessThan(0.01);
+      // N − k teeth between gaps; every tooth period one pitch, 60/(N·rpm)
+      for (const e of r.events) if (e.teeth != null) expect(e.teeth).toBe(N - k);
+      const pitchMs = (60 / (N * rpm)) * 1e3;
+      expect(Math.abs(r.summary.toothPeriodMs.min! - pitchMs) / pitchMs).toBeLessThan(0.02);
+      expect(r.summary.gapTimesS.length).toBe(g.truth.gapTimesS.length);
+      // no spurious short tooth, no damaged tooth, no swapped leads on a clean signal
+      expect(r.findings.map((f) => f.code).filter((c) => c !== "undersampled")).toEqual([]);
+    }
+  });
+});

@@ -197,3 +197,20 @@ describe("ringing and extinction bumps are not firings; the ringing follows the 
     );
   });
 });
+
+describe("a badly placed pickup picking up heavy noise loses no firing", () => {
+  // white noise of 10–11 % of the firing line (1 kV RMS on 9.5–10 kV, 1 MS/s): the firing lines stand
+  // about ten noise RMS above the baseline, no more — every firing is still one, and the capture is
+  // `noisy`
+  it.each([
+    [51, 10],
+    [52, 9.5],
+    [53, 9.5],
+    [54, 10],
+  ])("seed %i, %d kV firing lines: three firings, each where the model put it", (seed, peakKv) => {
+    const { g, r } = analyse({ seed, events: 3, sampleRateHz: 1e6, noiseKv: 1.0, peakKv, turbulence: 0.1 });
+    expect(r.events.length).toBe(3);
+    r.events.forEach((e, k) => expect(Math.abs(e.timeS - g.truth.events[k].timeS)).toBeLessThan(20e-6));
+    expect(r.findings.map((f) => f.code)).toContain("noisy");
+  });
+});

@@ -22,7 +22,9 @@ interface Coil {
   opts: IgnitionOptions;
 }
 
-function coils(count: number, seed: number, changed: { index: number; opts: IgnitionOptions } | null) {
+type Change = { index: number; opts: IgnitionOptions };
+
+function coils(count: number, seed: number, changed: Change | Change[] | null) {
   const rng = createRng(seed);
   const list: Coil[] = Array.from({ length: count }, (_, i) => ({
     opts: {
@@ -34,7 +36,8 @@ function coils(count: number, seed: number, changed: { index: number; opts: Igni
       burnMs: 1.5 * rng.range(0.98, 1.02),
     },
   }));
-  if (changed) list[changed.index].opts = { ...list[changed.index].opts, ...changed.opts };
+  for (const ch of changed == null ? [] : Array.isArray(changed) ? changed : [changed])
+    list[ch.index].opts = { ...list[ch.index].opts, ...ch.opts };
   return list.map((c, i) => {
     const g = generateIgnition(c.opts);
     return { opts: c.opts, result: analyzeTrace(g.trace, { cylinder: i + 1 }) as SecondaryResult };
@@ -127,5 +130,46 @@ describe("a real difference is said in plain words, the statistic kept for exper
     const byId = compareTraces(set.map((r, i) => ({ ...r, traceId: `t${i}` })));
     expect(byId.statements[0].label).toBe("Trace 1");
     expect(byId.statements[0].traceId).toBe("t0");
+  });
+});
+
+describe("with few cylinders, one placement coil does not hide a real fault", () => {
+  const FOULED: IgnitionOptions = { peakKv: 6, levelKv: 0.95, burnMs: 2.0 };
+  // Four coils: one pickup placed differently (every voltage × the coupling) and one coil with a
+  // fault. Faults as the trade describes them (public study material, no single source): a fouled or
+  // shorted plug — low firing line, low spark line, long burn; a wide gap or open plug wire — high
+  // firing line, high spark line, short burn. The placement coil's own voltages would widen the
+  // spread the fault is judged against; with its coupling taken out the fault stands out.
+  it.each([
+    ["fouled plug (6 kV, 0.95 kV spark line, 2.0 ms)", 0.8, FOULED, "below", "longer"],
+    ["wide gap (14.5 kV, 2.4 kV spark line, 0.8 ms)", 1.25, { peakKv: 14.5, levelKv: 2.4, burnMs: 0.8 }, "above", "shorter"],
+    ["fouled plug (6 kV, 0.95 kV spark line, 2.0 ms)", 0.7, FOULED, "below", "longer"],
+  ] as [string, number, IgnitionOptions, string, string][])("cylinder 4: %s; cylinder 2's pickup coupling %s", (_n, k, fault, fl, burn) => {
+    for (const seed of [11, 12, 13]) {
+      const set = coils(4, seed, [
+        { index: 1, opts: { coupling: k } },
+        { index: 3, opts: fault },
+      ]);
+      const c = compareTraces(set.map((x) => x.result));
+      const byCyl = new Map(c.statements.map((s) => [s.cylinder, s]));
+      // cylinder 2: placement, its scale the coupling (the coil's own ±3 % beside it), no outlier
+      const p = byCyl.get(2);
+      expect(p?.kind, `seed ${seed}: ${JSON.stringify(c.statements)}`).toBe("placement");
+      expect(Math.abs(p!.scale! - k) / k).toBeLessThan(0.06);
+      expect(c.outliers.filter((o) => o.traceId === "2")).toEqual([]);
+      // cylinder 4: its firing line and burn time named in plain words, against the others
+      const f = byCyl.get(4);
+      expect(f?.kind).toBe("different");
+      expect(f!.text).toMatch(new RegExp(`firing line \\d+ % ${fl} the others`));
+      expect(f!.text).toMatch(new RegExp(`burn time \\d+ % ${burn}`));
+      expect(f!.text).not.toMatch(STATS_WORDS);
+      // the firing line's difference against the healthy coils' (model parameters, ±4 points)
+      const healthy = [0, 2].map((i) => set[i].opts.peakKv!);
+      const want = Math.round(100 * Math.abs(1 - fault.peakKv! / ss.median(healthy)));
+      const got = Number(/firing line (\d+) %/.exec(f!.text)![1]);
+      expect(Math.abs(got - want)).toBeLessThanOrEqual(4);
+      // cylinders 1 and 3: nothing
+      expect(byCyl.has(1) || byCyl.has(3)).toBe(false);
+    }
   });
 });

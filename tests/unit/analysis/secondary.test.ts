@@ -235,10 +235,27 @@ describe("secondary ignition: capture review from the settings", () => {
     expect(codes({ ...base, triggerLevel: 0.002 })).toEqual(["trigger-below-noise"]);
   });
 
-  it("a screen too small for the firing line reads as clipped even when the file holds more", () => {
-    // 0.05 V/div: the screen ends at 0.2 V, the firing lines reach 0.8 V
-    expect(codes({ ...base, voltsPerDiv: 0.05 })).toContain("clipped");
+  it("a screen too small for the firing line, but a file that holds it whole: not clipped, said as framing", () => {
+    // 0.05 V/div: the screen ends at 0.2 V, the firing lines reach 0.8 V in the file. The scope recorded
+    // past its screen, so nothing was cut (the events' heights are not lower bounds; an earlier rule
+    // called this clipped, which contradicted the heights it reported); the tech's screen cut them off.
     const r = analyzeTrace(g.trace, { ...base, voltsPerDiv: 0.05 }) as SecondaryResult;
+    expect(r.findings.map((f) => f.code)).not.toContain("clipped");
+    expect(r.events.some((e) => e.clipped)).toBe(false);
+    r.events.forEach((e, k) => expect(Math.abs(e.peak - g.truth.events[k].peak) / g.truth.events[k].peak).toBeLessThan(0.02));
+    const f = r.findings.find((x) => x.code === "framing")!;
+    expect(f.message).toMatch(/goes past the top of the screen at 50 mV\/div/);
+    // a volts/division whose 4 divisions above ground hold the 0.8 V firing line
+    const vpd = Number(/: use ([\d.]+) (m?)V\/div/.exec(f.message)![1]);
+    expect(vpd * 4).toBeGreaterThan(0.8);
+  });
+
+  it("a file cut at the screen's edge (the scope records what its screen holds) is clipped", () => {
+    // the same capture recorded only up to the top of a 0.05 V/div screen: 4 divisions, 0.2 V
+    const values = Float32Array.from(g.trace.channels[0].values, (x) => Math.min(x, 0.2));
+    const cut = { ...g.trace, channels: [{ ...g.trace.channels[0], values, max: 0.2 }] };
+    const r = analyzeTrace(cut, { ...base, voltsPerDiv: 0.05 }) as SecondaryResult;
+    expect(r.findings.map((f) => f.code)).toContain("clipped");
     expect(r.events.every((e) => e.clipped)).toBe(true);
     expect(r.findings.find((f) => f.code === "clipped")!.advice).toMatch(/V\/div/);
   });

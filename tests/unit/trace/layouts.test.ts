@@ -110,6 +110,27 @@ describe("names and units", () => {
     ]);
   });
 
+  it("quantity / unit headers (DIN 1313, ISO 80000-1), one-letter units too: `t / s;U / V;I / A`", () => {
+    const dt = 5e-4;
+    const v = sine(30, 3, 100, dt);
+    // semicolons and decimal commas (ISO 80000-1:2009 §7.3.2)
+    const comma = (x: number) => String(x).replace(".", ",");
+    const rows = v.map((x, k) => [comma(k * dt), comma(x), comma(x * 100), "1"].join(";"));
+    const t = parseTraceText(["t / s;U / V;I / A;P / kW", ...rows].join("\n"));
+    expect(relErr(t.sampleRateHz, 1 / dt)).toBeLessThan(1e-9);
+    expect(t.channels.map((c) => [c.name, c.unit])).toEqual([
+      ["U", "V"],
+      ["I", "A"],
+      ["P", "kW"],
+    ]);
+    // a tab file in µs with a channel named A in volts
+    const tsv = ["t / us\tA / V", ...v.map((x, k) => `${(k * dt * 1e6).toFixed(1)}\t${x}`)].join("\n");
+    expect(parseTraceText(tsv).channels.map((c) => [c.name, c.unit])).toEqual([["A", "V"]]);
+    // without blanks round the slash a one-letter tail is part of the name
+    const plain = ["Time (s),Ch A/B", ...v.map((x, k) => `${k * dt},${x}`)].join("\n");
+    expect(parseTraceText(plain).channels.map((c) => [c.name, c.unit])).toEqual([["Ch A/B", null]]);
+  });
+
   it("a units row of words names no channel: names come from the row above", () => {
     const dt = 1e-6;
     const v = sine(30, 0.5, 1e4, dt);
@@ -226,6 +247,45 @@ describe("values and time as loggers and scopes write them", () => {
     expect(t.channels[0].values[10]).toBe(Math.fround(Math.max(...rest)));
     expect(t.channels[0].values[30]).toBe(Math.fround(Math.min(...rest)));
     expect(t.warnings.join(" ")).toMatch(/2 samples of Channel A were written as infinity/);
+  });
+
+  it("a few samples written as NaN are filled in from their neighbours, the lines named", () => {
+    const dt = 1e-5;
+    const v = sine(500, 2, 1000, dt);
+    const at = [0, 99, 250, 251];
+    const rows = v.map((x, k) => `${(k * dt).toExponential(6)},${at.includes(k) ? (k === 99 ? "-nan" : "NaN") : x}`);
+    const t = parseTraceText(["Time (s),A (V),B (V)", ...rows.map((r, k) => `${r},${k === 3 ? "NaN" : 1}`)].join("\n"));
+    // the header is still the header with NaN in the first data row (line 2)
+    expect(t.channels.map((c) => [c.name, c.unit])).toEqual([
+      ["A", "V"],
+      ["B", "V"],
+    ]);
+    expect(t.samples).toBe(500);
+    const a = t.channels[0].values;
+    // a straight line between the samples beside the gap (definition of linear interpolation); the
+    // first sample takes the next one's value
+    expect(a[0]).toBe(Math.fround(v[1]));
+    expect(a[99]).toBeCloseTo((v[98] + v[100]) / 2, 5);
+    expect(a[250]).toBeCloseTo(v[249] + (v[252] - v[249]) / 3, 5);
+    expect(a[251]).toBeCloseTo(v[249] + (2 * (v[252] - v[249])) / 3, 5);
+    expect(t.channels[1].values[3]).toBe(1);
+    // lines: the header is line 1, sample k on line k + 2
+    expect(t.warnings.join(" ")).toMatch(/4 samples of A were written as NaN \(missing\): lines 2, 101, 252, 253/);
+    expect(t.warnings.join(" ")).toMatch(/1 sample of B was written as NaN \(missing\): line 5/);
+  });
+
+  it("more NaN cells than can be filled is a refusal naming the column and lines; an all-NaN channel is left out", () => {
+    const dt = 1e-5;
+    const v = sine(200, 2, 1000, dt);
+    const many = v.map((x, k) => `${k * dt},${k % 10 === 0 ? "NaN" : x}`);
+    const e = refusal(() => parseTraceText(["Time (s),A (V)", ...many].join("\n")));
+    expect(e.message).toMatch(/"A" has 20 cells written as NaN/);
+    expect(e.message).toMatch(/lines 2, 12, 22/);
+    expect(e.line).toBe(2);
+    const off = v.map((x, k) => `${k * dt},${x},NaN`);
+    const t = parseTraceText(["Time (s),A (V),C (V)", ...off].join("\n"));
+    expect(t.channels.map((c) => c.name)).toEqual(["A"]);
+    expect(t.warnings.join(" ")).toMatch(/C holds no samples \(every cell NaN\) and was left out/);
   });
 
   it("date and time stamps in the time column, counted from the first one", () => {

@@ -370,6 +370,11 @@ describe("parseTraceText — refusals name the code and the line", () => {
     // (sample rate = 1 / interval needs two samples — definition).
     expect(refusal(() => parseTraceText("Time (s)\n0\n1\n2\n")).code).toBe("no-value-columns");
     expect(refusal(() => parseTraceText("Time (s),A\n0,1\n")).code).toBe("too-few-samples");
+    // the refusal points at the one data row (line 2), not the header
+    expect(refusal(() => parseTraceText("# scope export\nTime (s),A (V)\n0,0.1\n"))).toMatchObject({
+      code: "too-few-samples",
+      line: 3,
+    });
   });
 });
 

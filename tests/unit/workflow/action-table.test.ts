@@ -76,6 +76,8 @@ const rules: Partial<Record<CaseAction, Rule>> = {
   addPhoto: { may: SHOP, states: ["draft", "claimed", "needs_data"], code: "case_locked" },
   deleteTrace: { may: SHOP, states: ["draft"], code: "case_locked" },
   deletePhoto: { may: SHOP, states: ["draft"], code: "case_locked" },
+  // Issue 13: a draft is deleted (not withdrawn) by its shop; anything submitted cannot be.
+  deleteDraft: { may: SHOP, states: ["draft"], code: "case_locked" },
   // Live review: marks and chat by the shop members and the claimed expert while the case is not
   // resolved, closed, withdrawn or refunded; admins read only.
   annotate: { may: [...SHOP, "assigned"], states: OPEN_FOR_WRITES, code: "case_locked" },

@@ -12,6 +12,7 @@ import { buttonClass, Section } from "../../../features/cases/components/ui";
 import { vehicleTitle } from "../../../features/cases/lib/labels";
 import { TraceUploader } from "../../../features/uploads/components/trace-uploader";
 import { ApiError } from "../../../lib/api-client";
+import { SubmitCase } from "../../../features/submit/components/submit-case";
 
 /**
  * /cases/new and /cases/:id/edit — one page for both (a layout route), so that the first save
@@ -69,7 +70,10 @@ export function CaseDraftPage() {
         <h1 className="text-2xl font-bold">{id ? (c ? `Draft: ${vehicleTitle(c.vehicle)}` : "Draft") : "Open a case"}</h1>
         <StatusBadge status="draft" />
       </div>
-      <p className="text-ink-600">Fill in what you know now; save the draft at any point and come back to it.</p>
+      <p className="text-ink-600">
+        Fill in what you know now; save the draft at any point and come back to it. Once everything the desk needs
+        is in, choose how fast you need the answer and pay at the end of the form.
+      </p>
 
       <CaseForm
         key={loadForForm ? urlId! : "this-session"}
@@ -82,6 +86,21 @@ export function CaseDraftPage() {
           setCreatedHere(newId);
           navigate(casePages.edit(newId), { replace: true });
         }}
+        submitStep={({ ready }) => (
+          <div id="submit-step" className="scroll-mt-4 pt-2">
+            {id ? (
+              <SubmitCase
+                caseId={id}
+                status="draft"
+                ready={ready}
+                beforePay={ensureCaseId}
+                onDeleted={() => navigate(casePages.list, { replace: true })}
+              />
+            ) : ready ? (
+              <p className="text-sm text-ink-700">Save the draft to go on to the payment step.</p>
+            ) : null}
+          </div>
+        )}
       >
         <Section
           id="traces"

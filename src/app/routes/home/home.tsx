@@ -8,22 +8,29 @@ import { ApplicationsList } from "../../../features/experts/components/applicati
 import { expertPages } from "../../../features/experts/api/paths";
 import { teamPages } from "../../../features/team/api/paths";
 import { useTeam } from "../../../features/team/api/get-team";
+import { OpenCases } from "../../../features/cases/components/open-cases";
 
 function CasesCard({ me }: { me: Me }) {
   return (
-    <Card title="Your shop's cases" id="cases">
-      <p className="text-sm text-ink-600">
-        Open a case with the vehicle, the codes and your scope captures; an expert who knows the system answers it. {me.role === "owner" ? "You see every case of the shop." : ""}
-      </p>
-      <p className="mt-3 flex flex-wrap gap-2">
-        <Link to="/cases" className={buttonClass.primary}>
-          Open the case list
-        </Link>
-        <Link to="/cases/new" className={buttonClass.secondary}>
+    <div className="space-y-4">
+      <div className="flex flex-wrap gap-2">
+        <Link to="/cases/new" className={buttonClass.primary}>
           Open a new case
         </Link>
-      </p>
-    </Card>
+        <Link to="/cases" className={buttonClass.secondary}>
+          All {me.role === "owner" ? "the shop's" : "your shop's"} cases
+        </Link>
+      </div>
+      <OpenCases
+        title="Open and live cases"
+        params={{ state: "open", sort: "attention" }}
+        empty={
+          "No open cases. Open a case with the vehicle, the codes and your scope captures; " +
+          "an expert who knows the system answers it."
+        }
+        more={{ to: "/cases?state=open", label: "See them all" }}
+      />
+    </div>
   );
 }
 
@@ -67,7 +74,12 @@ export function HomePage() {
     <div className="space-y-5">
       <header>
         <h1 className="text-2xl font-bold">Hello, {m.name.split(" ")[0]}</h1>
-        <p className="text-ink-600">Signed in as {m.email} · {roleLabels[m.role]}</p>
+        <p className="text-ink-600">
+          Signed in as {m.email} · {roleLabels[m.role]} ·{" "}
+          <Link to="/settings/notices" className="underline">
+            notice settings
+          </Link>
+        </p>
       </header>
       {m.role === "technician" ? <CasesCard me={m} /> : null}
       {m.role === "owner" && m.shopId ? (
@@ -81,6 +93,15 @@ export function HomePage() {
       ) : null}
       {m.role === "expert" ? <ExpertStatusCard /> : null}
       {m.role === "expert" ? <ExpertCasebookRecordCard expertId={m.id} /> : null}
+      {m.role === "admin" ? (
+        <OpenCases
+          title="Answer deadlines at risk"
+          params={{ deadline: "at_risk", sort: "attention" }}
+          showShop
+          empty="No answer deadline is at risk right now."
+          more={{ to: "/cases", label: "All cases" }}
+        />
+      ) : null}
       {m.role === "admin" ? (
         <section aria-labelledby="awaiting-title" className="space-y-3">
           <div className="flex flex-wrap items-center justify-between gap-2">

@@ -1,28 +1,46 @@
 import { useEffect, useRef } from "react";
+import { useNavigate } from "react-router-dom";
 import { useQueryClient } from "@tanstack/react-query";
 import type { CaseStatus } from "../../../../shared/domain/case-status";
-import { caseKeys } from "../../../features/cases/api/paths";
+import { caseKeys, casePages } from "../../../features/cases/api/paths";
+import { useCase } from "../../../features/cases/api/get-case";
 import { useWorkflow } from "../../../features/submit/api/get-workflow";
 import { submitKeys } from "../../../features/submit/api/paths";
 import { useMe } from "../../../features/auth/api/get-me";
 import { SubmitCase } from "../../../features/submit/components/submit-case";
 import { CaseProgress } from "../../../features/submit/components/case-progress";
 import { ExpertCaseActions } from "../../../features/queue/components/expert-case-actions";
+import { AdminCaseActions } from "../../../features/desk/components/admin-case-actions";
+import { useMarkCaseSeen } from "../../../features/notifications/api/notifications";
 
 /**
- * The paid workflow on the case page, composed from the submit and queue features: the shop's
- * submit step (tier, price, deadline, checkout), the case's progress with answers, confirmation and
- * history, and the expert's controls.
+ * The paid workflow on the case page, composed from the submit, queue and desk features: the
+ * shop's submit step (tier, price, deadline, one pay action; deleting a draft), the case's progress
+ * with answers, confirmation and history, the expert's controls, and the desk's view of the case
+ * for admins (refund, hand to another expert, back to the queue). Opening the page reads the
+ * case's messages and marks (their notices and the unread counts follow).
  */
 export function CaseWorkflowPanel({ caseId, status }: { caseId: string; status: CaseStatus }) {
   const me = useMe();
+  const nav = useNavigate();
   const role = me.data?.role;
   const shop = role === "technician" || role === "owner";
-  useStatusInStep(caseId, status, shop && status === "queued" ? 10_000 : undefined);
+  const wf = useStatusInStep(caseId, status, shop && status === "queued" ? 10_000 : undefined);
+  const detail = useCase(caseId);
+  // readers only (an approved expert looking at a queued case before claiming it is not one)
+  useMarkCaseSeen(caseId, !!detail.data?.abilities.read);
   return (
     <div className="space-y-5">
-      {shop && (status === "draft" || status === "awaiting_payment" || status === "queued") ? <SubmitCase caseId={caseId} status={status} /> : null}
-      {role === "expert" || role === "admin" ? <ExpertCaseActions caseId={caseId} /> : null}
+      {shop && (status === "draft" || status === "awaiting_payment" || status === "queued") ? (
+        <SubmitCase
+          caseId={caseId}
+          status={status}
+          ready={status === "draft" ? detail.data?.readiness.complete : undefined}
+          onDeleted={() => nav(casePages.list, { replace: true })}
+        />
+      ) : null}
+      {role === "expert" ? <ExpertCaseActions caseId={caseId} /> : null}
+      {role === "admin" && wf.data ? <AdminCaseActions w={wf.data} /> : null}
       <CaseProgress caseId={caseId} />
     </div>
   );
@@ -47,4 +65,5 @@ function useStatusInStep(caseId: string, status: CaseStatus, pollMs?: number) {
   useEffect(() => {
     if (wfStatus && wfStatus !== status) void qc.invalidateQueries({ queryKey: caseKeys.detail(caseId) });
   }, [qc, caseId, status, wfStatus]);
+  return wf;
 }

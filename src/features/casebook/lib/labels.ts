@@ -1,3 +1,4 @@
+import { formatDate } from "../../../../shared/format";
 import type { FacetDim } from "../../../../shared/schemas/casebook";
 
 export const facetTitles: Record<FacetDim, string> = {
@@ -20,8 +21,7 @@ export const systemNames: Record<string, string> = {
   other: "Other",
 };
 
+/** One date format everywhere (shared/format.ts). */
 export function formatDay(iso: string | null | undefined): string {
-  if (!iso) return "—";
-  const d = new Date(iso);
-  return Number.isNaN(d.getTime()) ? "—" : d.toLocaleDateString(undefined, { dateStyle: "medium" });
+  return formatDate(iso);
 }

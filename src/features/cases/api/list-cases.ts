@@ -1,5 +1,5 @@
 import { keepPreviousData, queryOptions, useQuery } from "@tanstack/react-query";
-import type { CaseSortField } from "../../../../shared/schemas/case";
+import type { CaseDeadlineFilter, CaseSortField, CaseState } from "../../../../shared/schemas/case";
 import type { CaseStatus } from "../../../../shared/domain/case-status";
 import { api } from "../../../lib/api-client";
 import { caseKeys, casePaths } from "./paths";
@@ -13,6 +13,12 @@ export interface CaseListParams {
   pageSize: number;
   sort?: CaseSortField;
   dir?: "asc" | "desc";
+  /** open or finished cases */
+  state?: CaseState;
+  /** running answer deadlines: overdue, at risk, or due within a day */
+  deadline?: CaseDeadlineFilter;
+  expertId?: string;
+  shopId?: string;
 }
 
 export function listCases(params: CaseListParams): Promise<CaseList> {
@@ -29,3 +35,7 @@ export const caseListQuery = (params: CaseListParams) =>
   });
 
 export const useCaseList = (params: CaseListParams) => useQuery(caseListQuery(params));
+
+/** A list that stays fresh on its own (the home page): unread counts also refresh on pushed notices. */
+export const useLiveCaseList = (params: CaseListParams) =>
+  useQuery({ ...caseListQuery(params), refetchInterval: 60_000, refetchOnWindowFocus: true });

@@ -1,4 +1,5 @@
 import type { CaseStatus, VehicleSystem } from "../../../../shared/domain/case-status";
+import { formatBytes, formatDateTime } from "../../../../shared/format";
 
 export const statusLabels: Record<CaseStatus, string> = {
   draft: "Draft",
@@ -10,7 +11,9 @@ export const statusLabels: Record<CaseStatus, string> = {
   resolved: "Fix confirmed",
   closed: "Closed",
   withdrawn: "Withdrawn",
-  refunded: "Refunded",
+  // the case ended before an answer and the shop's money came back (the hold released, or a
+  // capture refunded): "Refunded" read wrongly beside "Hold released — nothing charged"
+  refunded: "Closed, no charge",
 };
 
 /** Badge colours per status: kiln for "your move", verdigris for good news, ink for settled. */
@@ -47,15 +50,9 @@ export function vehicleTitle(v: { year?: number | null; make?: string | null; mo
   return parts.length ? parts.join(" ") : "Vehicle not entered yet";
 }
 
+/** One date format everywhere (shared/format.ts): "Dec 5, 2026, 2:05 PM". */
 export function formatDate(v: string | number | undefined | null): string {
-  if (v === undefined || v === null || v === "") return "—";
-  const d = new Date(v);
-  if (Number.isNaN(d.getTime())) return "—";
-  return d.toLocaleString(undefined, { dateStyle: "medium", timeStyle: "short" });
+  return formatDateTime(v);
 }
 
-export function formatBytes(n: number): string {
-  if (n < 1024) return `${n} B`;
-  if (n < 1024 * 1024) return `${(n / 1024).toFixed(0)} KB`;
-  return `${(n / 1024 / 1024).toFixed(1)} MB`;
-}
+export { formatBytes };

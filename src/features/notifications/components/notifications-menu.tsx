@@ -1,10 +1,19 @@
 import { useEffect, useId, useRef, useState } from "react";
-import { useNavigate } from "react-router-dom";
+import { Link, useNavigate } from "react-router-dom";
+import { formatDateTime } from "../../../../shared/format";
 import { useMarkRead, useNotifications } from "../api/notifications";
+import { useLiveNotices, type PushedNotice } from "../hooks/use-live-notices";
 
-/** The header's notification menu: unread count, the latest notices, mark read. */
-export function NotificationsMenu({ signedIn }: { signedIn: boolean }) {
+/** The settings page of notices. */
+export const noticeSettingsPage = "/settings/notices";
+
+/**
+ * The header's notification menu: unread count, the latest notices, mark read. New notices are
+ * pushed (no reload, no wait for a poll); `onNotice` lets the page refresh what they concern.
+ */
+export function NotificationsMenu({ signedIn, onNotice }: { signedIn: boolean; onNotice?: (n: PushedNotice) => void }) {
   const q = useNotifications(signedIn);
+  useLiveNotices(signedIn, onNotice);
   const mark = useMarkRead();
   const [open, setOpen] = useState(false);
   const nav = useNavigate();
@@ -36,17 +45,27 @@ export function NotificationsMenu({ signedIn }: { signedIn: boolean }) {
       >
         Notices
         {unread > 0 ? (
-          <span className="rounded-full bg-kiln-500 px-2 py-0.5 text-xs font-bold text-ink-950" aria-label={`${unread} unread`}>
+          <span
+            className="rounded-full bg-kiln-500 px-2 py-0.5 text-xs font-bold text-ink-950"
+            aria-label={`${unread} unread`}
+          >
             {unread}
           </span>
         ) : null}
       </button>
       {open ? (
-        <div id={panelId} className="absolute inset-x-2 z-40 mt-2 rounded-xl sm:inset-x-auto sm:right-0 sm:w-[22rem] sm:max-w-[90vw] border border-ink-200 bg-white p-2 text-ink-900 shadow-lg">
+        <div
+          id={panelId}
+          className="absolute inset-x-2 z-40 mt-2 rounded-xl sm:inset-x-auto sm:right-0 sm:w-[22rem] sm:max-w-[90vw] border border-ink-200 bg-white p-2 text-ink-900 shadow-lg"
+        >
           <div className="flex items-center justify-between px-2 py-1">
             <p className="font-bold">Notices</p>
             {unread > 0 ? (
-              <button type="button" className="min-h-11 px-2 text-sm font-semibold text-ink-600 hover:text-ink-900" onClick={() => mark.all.mutate()}>
+              <button
+                type="button"
+                className="min-h-11 px-2 text-sm font-semibold text-ink-600 hover:text-ink-900"
+                onClick={() => mark.all.mutate()}
+              >
                 Mark all read
               </button>
             ) : null}
@@ -65,7 +84,7 @@ export function NotificationsMenu({ signedIn }: { signedIn: boolean }) {
                     }}
                   >
                     <span className="block text-sm">{n.title}</span>
-                    <span className="block text-xs font-normal text-ink-500">{new Date(n.createdAt).toLocaleString(undefined, { dateStyle: "short", timeStyle: "short" })}</span>
+                    <span className="block text-xs font-normal text-ink-500">{formatDateTime(n.createdAt)}</span>
                   </button>
                 </li>
               ))}
@@ -73,6 +92,18 @@ export function NotificationsMenu({ signedIn }: { signedIn: boolean }) {
           ) : (
             <p className="px-2 py-3 text-sm text-ink-600">Nothing yet.</p>
           )}
+          <div className="border-t border-ink-100 px-2 pt-1">
+            <Link
+              to={noticeSettingsPage}
+              onClick={() => setOpen(false)}
+              className={
+                "inline-flex min-h-11 items-center text-sm font-semibold text-ink-700 " +
+                "underline-offset-2 hover:underline"
+              }
+            >
+              Choose what you are told, and how
+            </Link>
+          </div>
         </div>
       ) : null}
     </div>

@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { useNavigate } from "react-router-dom";
-import { formatCents } from "../../../../shared/domain/money";
+import { formatMoney, formatTimeLeft } from "../../../../shared/format";
 import { ApiError } from "../../../lib/api-client";
 import { buttonClass, Card, Notice } from "../../../components/ui/form";
 import { useQueue } from "../api/get-queue";
@@ -19,19 +19,20 @@ const systemNames: Record<string, string> = {
   other: "Other",
 };
 
-const money = (c: number | null, cur: string) => (c == null ? "—" : formatCents(c, cur.toUpperCase()));
+const money = (c: number | null, cur: string) => (c == null ? "—" : formatMoney(c, cur));
 
 function left(iso: string | null): { text: string; urgent: boolean } {
+  const t = formatTimeLeft(iso);
   if (!iso) return { text: "", urgent: false };
-  const ms = new Date(iso).getTime() - Date.now();
-  if (ms <= 0) return { text: "overdue", urgent: true };
-  const min = Math.round(ms / 60_000);
-  const text = min < 60 ? `${min} min left` : `${Math.floor(min / 60)} h ${min % 60} min left`;
-  return { text, urgent: min < 60 };
+  const urgent = t.overdue || new Date(iso).getTime() - Date.now() < 60 * 60_000;
+  return { text: t.overdue ? t.text : `due ${t.text}`, urgent };
 }
 
-/** The expert's queue: their open cases, offers first, then the whole queue by deadline. */
-export function QueueBoard({ canClaim }: { canClaim: boolean }) {
+/**
+ * The queue. An expert sees their open cases, the offers made to them, then the whole queue by
+ * deadline; an admin (`watching`) sees every case waiting for an expert, with its price, and opens it.
+ */
+export function QueueBoard({ canClaim, watching = false }: { canClaim: boolean; watching?: boolean }) {
   const q = useQueue();
   if (q.isPending) return <div className="h-40 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading the queue" />;
   if (q.isError) {
@@ -54,14 +55,39 @@ export function QueueBoard({ canClaim }: { canClaim: boolean }) {
           </div>
         </Card>
       ) : null}
-      {v.mine.length ? <Group title="Your cases" items={v.mine} mine /> : null}
-      <Group title="Offered to you" items={v.offers} canClaim={canClaim} empty="No offers right now. Matching cases are offered to you first when you are available." />
-      <Group title="The whole queue" items={v.queue} canClaim={canClaim} empty="Nothing else is waiting." />
+      {watching ? (
+        <Group
+          title="Waiting for an expert"
+          items={[...v.offers, ...v.queue]}
+          watching
+          empty="No case is waiting for an expert."
+        />
+      ) : (
+        <>
+          {v.mine.length ? <Group title="Your cases" items={v.mine} mine /> : null}
+          <Group
+            title="Offered to you"
+            items={v.offers}
+            canClaim={canClaim}
+            empty="No offers right now. Matching cases are offered to you first when you are available."
+          />
+          <Group title="The whole queue" items={v.queue} canClaim={canClaim} empty="Nothing else is waiting." />
+        </>
+      )}
     </div>
   );
 }
 
-function Group({ title, items, mine, canClaim, empty }: { title: string; items: QueueItem[]; mine?: boolean; canClaim?: boolean; empty?: string }) {
+interface GroupProps {
+  title: string;
+  items: QueueItem[];
+  mine?: boolean;
+  canClaim?: boolean;
+  empty?: string;
+  watching?: boolean;
+}
+
+function Group({ title, items, mine, canClaim, empty, watching }: GroupProps) {
   return (
     <section className="space-y-3" aria-label={title}>
       <h2 className="text-xl font-bold text-ink-900">
@@ -71,7 +97,7 @@ function Group({ title, items, mine, canClaim, empty }: { title: string; items: 
       <ul className="grid gap-3 lg:grid-cols-2">
         {items.map((i) => (
           <li key={i.id}>
-            <QueueCard item={i} mine={mine} canClaim={!!canClaim} />
+            <QueueCard item={i} mine={mine} canClaim={!!canClaim} watching={watching} />
           </li>
         ))}
       </ul>
@@ -79,14 +105,18 @@ function Group({ title, items, mine, canClaim, empty }: { title: string; items: 
   );
 }
 
-function QueueCard({ item, mine, canClaim }: { item: QueueItem; mine?: boolean; canClaim: boolean }) {
+function QueueCard(props: { item: QueueItem; mine?: boolean; canClaim: boolean; watching?: boolean }) {
+  const { item, mine, canClaim, watching } = props;
+  const highlight = item.offered && !mine && !watching;
   const claim = useClaimCase();
   const nav = useNavigate();
   const [lost, setLost] = useState<string | null>(null);
   const t = left(item.deadlineAt);
   const vehicle = [item.vehicle.year, item.vehicle.make, item.vehicle.model, item.vehicle.engine].filter(Boolean).join(" ");
   return (
-    <article className={`h-full rounded-xl border bg-white p-4 shadow-sm ${item.offered && !mine ? "border-kiln-400" : "border-ink-200"}`}>
+    <article
+      className={`h-full rounded-xl border bg-white p-4 shadow-sm ${highlight ? "border-kiln-400" : "border-ink-200"}`}
+    >
       <div className="flex flex-wrap items-start justify-between gap-2">
         <div className="min-w-0">
           <h3 className="font-bold text-ink-900">{vehicle || item.label}</h3>
@@ -104,10 +134,13 @@ function QueueCard({ item, mine, canClaim }: { item: QueueItem; mine?: boolean; 
       {item.complaint ? <p className="mt-2 line-clamp-3 text-sm text-ink-800">{item.complaint}</p> : null}
       <div className="mt-3 flex flex-wrap items-center justify-between gap-2">
         <p className="text-sm text-ink-600">
-          Your share: <strong className="text-ink-900">{money(item.expertShareCents, item.currency)}</strong>
+          {watching ? "Price: " : "Your share: "}
+          <strong className="text-ink-900">
+            {money(watching ? item.priceCents : item.expertShareCents, item.currency)}
+          </strong>
           {mine ? <span className="ml-2 rounded bg-ink-100 px-2 py-0.5 text-xs font-semibold text-ink-700">{item.status.replace("_", " ")}</span> : null}
         </p>
-        {mine ? (
+        {mine || watching ? (
           <button type="button" className={buttonClass.secondary} onClick={() => nav(queuePages.caseOf(item.id))}>
             Open
           </button>

@@ -1,3 +1,4 @@
+import { formatDate, formatNumber } from "../../../../shared/format";
 import type { ReportAnnotation, ReportAnswer, ReportCase } from "../api/get-report";
 import { TraceFigure } from "./trace-figure";
 
@@ -19,7 +20,7 @@ function vehicleLine(v: ReportCase["vehicle"]): string {
 export function CaseReport({ c, answer, annotations }: { c: ReportCase; answer: ReportAnswer | null; annotations: ReportAnnotation[] }) {
   const codes = c.codes.map((x) => (typeof x === "string" ? { code: x, description: null } : x));
   const live = annotations.filter((a) => !a.deletedAt);
-  const printed = new Date().toLocaleDateString(undefined, { dateStyle: "long" });
+  const printed = formatDate(new Date());
   return (
     <article className="report mx-auto max-w-3xl space-y-6 bg-white p-6 text-ink-900 shadow-sm print:max-w-none print:p-0 print:shadow-none">
       <header className="border-b border-ink-300 pb-3">
@@ -36,7 +37,7 @@ export function CaseReport({ c, answer, annotations }: { c: ReportCase; answer: 
             <div>
               <dt className="text-ink-500">Mileage</dt>
               <dd>
-                {c.vehicle.mileage.toLocaleString("en-US")} {c.vehicle.mileageUnit ?? ""}
+                {formatNumber(c.vehicle.mileage)} {c.vehicle.mileageUnit ?? ""}
               </dd>
             </div>
           ) : null}

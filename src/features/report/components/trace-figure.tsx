@@ -1,11 +1,34 @@
-import { useMemo } from "react";
+import { useEffect, useMemo, useRef, useState, type RefObject } from "react";
 import { useReportWindow } from "../api/get-window";
 import { figureGeometry, figureWindow, scaleFigure, type FigureMark } from "../lib/figure";
 import type { ReportTrace } from "../api/get-report";
 import { formatLevel, traceUnits } from "../../traces/lib/units";
 import { unitSentence } from "../../traces/components/trace-details";
 
-const BOX = { width: 720, height: 260, left: 52, bottom: 28, top: 10, right: 10 };
+/**
+ * The figure's frame for a drawing `width` pixels wide: one SVG unit is one screen pixel, so its
+ * 11 px type stays 11 px on a phone (it shrank to about 5 px when a 720-unit drawing was squeezed
+ * into 350 px), and about one time label per 110 px.
+ */
+function boxFor(width: number) {
+  const w = Math.max(280, Math.round(width));
+  const height = Math.round(Math.min(260, Math.max(200, w * 0.36)));
+  return { width: w, height, left: 52, bottom: 28, top: 10, right: 12, timeTicks: Math.max(3, Math.floor(w / 110)) };
+}
+
+/** The element's width in CSS pixels, kept current (the report on a phone, on a desk, on paper). */
+function useWidth<T extends HTMLElement>(fallback: number): [RefObject<T | null>, number] {
+  const ref = useRef<T | null>(null);
+  const [width, setWidth] = useState(fallback);
+  useEffect(() => {
+    const el = ref.current;
+    if (!el || typeof ResizeObserver === "undefined") return;
+    const ro = new ResizeObserver(([e]) => setWidth(e.contentRect.width || fallback));
+    ro.observe(el);
+    return () => ro.disconnect();
+  }, [fallback]);
+  return [ref, width];
+}
 
 /**
  * One trace as a printable SVG: the min/max envelope of the printed window, the expert's marks
@@ -20,11 +43,16 @@ export function TraceFigure({ trace, marks, index }: { trace: ReportTrace; marks
   const unit = cu.unit;
   // the window and the marks' levels come in the file's unit: shown in the physical one
   const scaled = useMemo(() => (q.data ? scaleFigure(q.data, marks, cu.fromFile) : null), [q.data, marks, cu]);
-  const g = useMemo(() => (scaled ? figureGeometry(scaled.window, scaled.marks, win.t0, win.t1, BOX) : null), [scaled, win]);
+  const [frame, width] = useWidth<HTMLElement>(720);
+  const BOX = useMemo(() => boxFor(width), [width]);
+  const g = useMemo(
+    () => (scaled ? figureGeometry(scaled.window, scaled.marks, win.t0, win.t1, BOX) : null),
+    [scaled, win, BOX],
+  );
   const where = typeof trace.settings.coil === "number" ? `Coil ${trace.settings.coil}` : typeof trace.settings.cylinder === "number" ? `Cylinder ${trace.settings.cylinder}` : null;
   const title = `Figure ${index + 1}. ${where ? `${where} · ` : ""}${trace.name}`;
   return (
-    <figure className="break-inside-avoid space-y-2">
+    <figure ref={frame} className="break-inside-avoid space-y-2">
       {g ? (
         <svg viewBox={`0 0 ${BOX.width} ${BOX.height}`} role="img" aria-label={title} className="h-auto w-full rounded border border-ink-200 bg-white">
           <rect x={BOX.left} y={BOX.top} width={BOX.width - BOX.left - BOX.right} height={BOX.height - BOX.top - BOX.bottom} fill="#fff" stroke="#c9d3d9" />
@@ -39,7 +67,7 @@ export function TraceFigure({ trace, marks, index }: { trace: ReportTrace; marks
           {g.timeTicks.map((t) => (
             <g key={`t${t.label}`}>
               <line x1={t.x} x2={t.x} y1={BOX.top} y2={BOX.height - BOX.bottom} stroke="#e4e9ec" />
-              <text x={t.x} y={BOX.height - 10} textAnchor="middle" fontSize="11" fill="#435562">
+              <text x={t.x} y={BOX.height - 10} textAnchor={t.anchor} fontSize="11" fill="#435562">
                 {t.label}
               </text>
             </g>

@@ -25,6 +25,8 @@ export interface FigureBox {
   bottom: number;
   top: number;
   right: number;
+  /** about how many time labels fit across (default 5) */
+  timeTicks?: number;
 }
 
 export interface FigureGeometry {
@@ -34,11 +36,18 @@ export interface FigureGeometry {
   vMax: number;
   x: (t: number) => number;
   y: (v: number) => number;
-  timeTicks: { x: number; label: string }[];
+  /**
+   * The time labels; `anchor` is the SVG text-anchor that keeps each label inside the figure (the
+   * last one ends at its tick instead of being centred on it, where it would run past the edge).
+   */
+  timeTicks: { x: number; label: string; anchor: "start" | "middle" | "end" }[];
   levelTicks: { y: number; label: string }[];
   /** the marks inside the window; `index` is the mark's place in the list given */
   marks: (({ kind: "span"; x0: number; x1: number } | { kind: "pin" | "note"; x: number; y: number | null } | { kind: "level"; y: number }) & { index: number })[];
 }
+
+/** Half the width of a time label such as "12.5 ms" at the figure's 11 px type (about 6 px a character). */
+const LABEL_HALF_WIDTH = 22;
 
 function niceStep(span: number, count: number): number {
   const raw = span / Math.max(1, count);
@@ -73,9 +82,19 @@ export function figureGeometry(w: FigureWindow, marks: FigureMark[], t0: number,
     if (s.min[i] < vMin) vMin = s.min[i];
     if (s.max[i] > vMax) vMax = s.max[i];
   }
-  for (const m of marks) if (m.level != null && (m.kind === "level" || m.kind === "pin")) (vMin = Math.min(vMin, m.level), (vMax = Math.max(vMax, m.level)));
-  if (!Number.isFinite(vMin) || !Number.isFinite(vMax)) (vMin = -1, (vMax = 1));
-  if (vMax - vMin < 1e-9) (vMin -= 0.5, (vMax += 0.5));
+  for (const m of marks) {
+    if (m.level == null || (m.kind !== "level" && m.kind !== "pin")) continue;
+    vMin = Math.min(vMin, m.level);
+    vMax = Math.max(vMax, m.level);
+  }
+  if (!Number.isFinite(vMin) || !Number.isFinite(vMax)) {
+    vMin = -1;
+    vMax = 1;
+  }
+  if (vMax - vMin < 1e-9) {
+    vMin -= 0.5;
+    vMax += 0.5;
+  }
   const pad = (vMax - vMin) * 0.06;
   vMin -= pad;
   vMax += pad;
@@ -96,9 +115,13 @@ export function figureGeometry(w: FigureWindow, marks: FigureMark[], t0: number,
   const envelope = w.t.length ? `${top}${bottom}Z` : "";
   // time in ms from the window's start
   const spanMs = (t1 - t0) * 1000;
-  const ts = niceStep(spanMs, 5);
+  const ts = niceStep(spanMs, box.timeTicks ?? 5);
   const timeTicks: FigureGeometry["timeTicks"] = [];
-  for (let ms = 0; ms <= spanMs + 1e-9; ms += ts) timeTicks.push({ x: r(x(t0 + ms / 1000)), label: `${fmt(ms, ts)} ms` });
+  const nearRight = box.width - box.right - LABEL_HALF_WIDTH;
+  for (let ms = 0; ms <= spanMs + 1e-9; ms += ts) {
+    const tx = r(x(t0 + ms / 1000));
+    timeTicks.push({ x: tx, label: `${fmt(ms, ts)} ms`, anchor: tx > nearRight ? "end" : "middle" });
+  }
   const vs = niceStep(vMax - vMin, 4);
   const levelTicks: FigureGeometry["levelTicks"] = [];
   for (let v = Math.ceil(vMin / vs) * vs; v <= vMax + 1e-12; v += vs) levelTicks.push({ y: r(y(v)), label: fmt(v, vs) });
@@ -145,7 +168,13 @@ export function figureWindow(
     a = start;
     b = start + Math.min(trace.durationS, 10 * div);
   }
-  if (a < start) (b += start - a, (a = start));
-  if (b > end) (a -= b - end, (b = end));
+  if (a < start) {
+    b += start - a;
+    a = start;
+  }
+  if (b > end) {
+    a -= b - end;
+    b = end;
+  }
   return { t0: Math.max(start, a), t1: Math.min(end, b) };
 }

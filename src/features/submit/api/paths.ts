@@ -8,6 +8,8 @@ export const submitPaths = {
   history: (id: string) => `/api/cases/${encodeURIComponent(id)}/history`,
   confirm: (id: string) => `/api/cases/${encodeURIComponent(id)}/confirm`,
   dataSent: (id: string) => `/api/cases/${encodeURIComponent(id)}/data-sent`,
+  /** DELETE: a draft */
+  one: (id: string) => `/api/cases/${encodeURIComponent(id)}`,
 };
 
 /** Under ["cases"], so anything that refreshes the cases also refreshes these. */

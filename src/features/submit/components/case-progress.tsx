@@ -1,4 +1,5 @@
 import { useState } from "react";
+import { Link } from "react-router-dom";
 import { buttonClass, Card, Notice } from "../../../components/ui/form";
 import { useWorkflow } from "../api/get-workflow";
 import { useHistory } from "../api/get-history";
@@ -34,6 +35,7 @@ const eventWords: Record<string, string> = {
   hold_ending: "Closed before the card hold ran out",
   hold_cancelled: "Hold cancelled",
   refunded_by_desk: "Refunded by the desk",
+  reassigned: "Handed to another expert by the desk",
   withdrawn: "Withdrawn",
   trace_added: "Trace added",
   trace_deleted: "Trace removed",
@@ -80,7 +82,9 @@ function StatusCard({ w }: { w: Workflow }) {
       headline = "The answer is in. Try the fix, then tell us whether it worked.";
       break;
     case "resolved":
-      headline = "Fix confirmed. Thank you.";
+      headline = w.casebookEntryId
+        ? "Fix confirmed, and published to the casebook (anonymised) so the next shop with this fault finds it."
+        : "Fix confirmed. Thank you.";
       break;
     case "closed":
       headline = "Closed.";
@@ -89,7 +93,10 @@ function StatusCard({ w }: { w: Workflow }) {
       headline = "Withdrawn. Nothing was charged.";
       break;
     case "refunded":
-      headline = "No answer was delivered in time; the hold on the card was released.";
+      headline =
+        w.payment?.status === "refunded"
+          ? "Closed before an answer; the payment was refunded in full."
+          : "Closed before an answer; the hold on the card was released and nothing was charged.";
       break;
     default:
       headline = "Waiting for the payment to be confirmed.";
@@ -98,6 +105,13 @@ function StatusCard({ w }: { w: Workflow }) {
     <Card id="progress" title="Where the case stands">
       <div className="space-y-3">
         <p className="text-ink-800">{headline}</p>
+        {w.casebookEntryId ? (
+          <p>
+            <Link to={`/casebook/${encodeURIComponent(w.casebookEntryId)}`} className={buttonClass.secondary}>
+              See the casebook entry
+            </Link>
+          </p>
+        ) : null}
         {w.status === "needs_data" && w.needsDataMessage ? (
           <Notice title="The expert asks">
             <p className="whitespace-pre-wrap">{w.needsDataMessage}</p>
@@ -225,7 +239,7 @@ function ConfirmForm({ caseId, secondRound }: { caseId: string; secondRound: boo
           </fieldset>
         ) : null}
         <button type="submit" className={buttonClass.primary} disabled={fixed === null || confirm.isPending}>
-          Send
+          {confirm.isPending ? "Reporting…" : "Report the result"}
         </button>
         {confirm.error ? <p role="alert" className="text-sm font-semibold text-alarm-600">{confirm.error.message}</p> : null}
       </form>

@@ -1,7 +1,7 @@
-import { formatCents } from "../../../../shared/domain/money";
+import { formatDateTime, formatMoney, formatTimeLeft } from "../../../../shared/format";
 
 /** "$49.00" from integer cents and a Stripe currency code ("usd"). */
-export const money = (cents: number, currency = "usd") => formatCents(cents, currency.toUpperCase());
+export const money = (cents: number, currency = "usd") => formatMoney(cents, currency);
 
 /** "24 hours", "2 hours", "90 minutes", "3 days". */
 export function deadlineWindow(minutes: number): string {
@@ -10,23 +10,12 @@ export function deadlineWindow(minutes: number): string {
   return `${minutes} minutes`;
 }
 
-export function when(iso: string | null | undefined): string {
-  if (!iso) return "—";
-  const d = new Date(iso);
-  return Number.isNaN(d.getTime()) ? "—" : d.toLocaleString(undefined, { dateStyle: "medium", timeStyle: "short" });
-}
+/** One date format everywhere (shared/format.ts). */
+export const when = (iso: string | null | undefined): string => formatDateTime(iso);
 
-/** "in 3 h 20 min", "in 12 min", "overdue" relative to now. */
+/** "in 3 hr 20 min", "overdue by 12 min" relative to now. */
 export function timeLeft(iso: string | null | undefined, now = Date.now()): string {
-  if (!iso) return "";
-  const ms = new Date(iso).getTime() - now;
-  if (ms <= 0) return "overdue";
-  const min = Math.round(ms / 60_000);
-  if (min < 60) return `in ${min} min`;
-  const h = Math.floor(min / 60);
-  const m = min % 60;
-  if (h < 48) return `in ${h} h${m ? ` ${m} min` : ""}`;
-  return `in ${Math.round(h / 24)} days`;
+  return formatTimeLeft(iso, now).text;
 }
 
 export const paymentWords: Record<string, string> = {
@@ -36,6 +25,6 @@ export const paymentWords: Record<string, string> = {
   expired: "Checkout closed",
   authorized: "Held on the card (charged when the answer is delivered)",
   captured: "Charged",
-  released: "Hold released — nothing charged",
-  refunded: "Refunded",
+  released: "Hold released, nothing charged",
+  refunded: "Charged, then refunded in full",
 };

@@ -1,4 +1,5 @@
 import { useState } from "react";
+import { formatDate } from "../../../../shared/format";
 import { Card, Notice, buttonClass } from "../../../components/ui/form";
 import { useTeam, type TeamMember } from "../api/get-team";
 import { useRemoveMember } from "../api/remove-member";
@@ -6,7 +7,7 @@ import { useRevokeInvite } from "../api/revoke-invite";
 import { InviteForm } from "./invite-form";
 
 const roleLabel: Record<string, string> = { owner: "Owner", technician: "Technician" };
-const date = (iso: string) => new Date(iso).toLocaleDateString(undefined, { year: "numeric", month: "short", day: "numeric" });
+const date = (iso: string) => formatDate(iso);
 
 function MemberRow({ shopId, m }: { shopId: string; m: TeamMember }) {
   const remove = useRemoveMember(shopId);

@@ -172,6 +172,12 @@ export function CaptureSettingsForm({ idPrefix, draft, onChange, errors, needsRa
             Waste-spark coil (fires every turn)
           </label>
         ) : null}
+        {draft.kind === "secondary-ignition" ? (
+          <label className="flex min-h-11 cursor-pointer items-center gap-3 self-end rounded-lg border border-ink-200 bg-white px-3 text-sm font-semibold">
+            <input type="checkbox" className="h-5 w-5 accent-kiln-600" checked={draft.everyCylinder} onChange={(e) => set("everyCylinder", e.target.checked)} />
+            Pickup sees every cylinder (distributor coil wire)
+          </label>
+        ) : null}
       </fieldset>
 
       <fieldset className="grid gap-3 sm:grid-cols-2 lg:grid-cols-3" disabled={disabled}>

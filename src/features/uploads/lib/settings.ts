@@ -29,6 +29,7 @@ export interface SettingsDraft {
   circuit: string;
   sensor: string;
   wasteSpark: boolean;
+  everyCylinder: boolean;
   cylinders: string;
 }
 
@@ -114,6 +115,7 @@ export function initialSettings(trace: ParsedTrace | null, guessedKind: TraceKin
     circuit: "",
     sensor: "",
     wasteSpark: false,
+    everyCylinder: false,
     cylinders: "",
   };
 
@@ -243,7 +245,8 @@ export function toCaptureSettings(d: SettingsDraft, needsRate: boolean): { ok: t
     coil: numbers.coil,
     circuit: d.circuit.trim() || undefined,
     sensor: d.sensor.trim() || undefined,
-    wasteSpark: d.kind === "secondary-ignition" ? d.wasteSpark : false,
+    wasteSpark: d.kind === "secondary-ignition" && !d.everyCylinder ? d.wasteSpark : false,
+    everyCylinder: d.kind === "secondary-ignition" ? d.everyCylinder : false,
     cylinders: numbers.cylinders,
   };
   for (const k of Object.keys(candidate) as (keyof typeof candidate)[]) if (candidate[k] === undefined) delete candidate[k];
