@@ -38,6 +38,8 @@ export interface SocketLocal {
   view: Throttle<z.infer<typeof viewFollowSchema>>;
   /** the last check of the actor and the joined case (for the ephemeral events) */
   checked: { at: number; actor: LiveActor; c: CaseFacts } | null;
+  /** the check in flight for the ephemeral events, shared by those that arrive meanwhile */
+  checking?: { caseId: string; p: Promise<Checked> } | null;
 }
 
 export type { LiveServer, LiveSocket, SocketData };
@@ -169,7 +171,13 @@ export function createLive(
       if (!caseId) throw notJoined();
       if (l.checked && l.checked.c.id === caseId && Date.now() - l.checked.at < QUIET_CHECK_MS)
         return { actor: l.checked.actor, caseId, c: l.checked.c };
-      return live.check(socket);
+      // a burst of events shares one check
+      if (l.checking?.caseId === caseId) return l.checking.p;
+      const p = live.check(socket).finally(() => {
+        if (l.checking?.p === p) l.checking = null;
+      });
+      l.checking = { caseId, p };
+      return p;
     },
     async leaveRoom(socket) {
       const caseId = socket.data.caseId;

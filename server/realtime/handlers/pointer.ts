@@ -7,11 +7,17 @@ import type { Live, LiveSocket } from "../live";
 export function onPointer(live: Live, socket: LiveSocket): void {
   const { ctx, presence } = live;
   const local = live.local(socket);
+  // The checks below may finish out of order (reads of a libSQL server): a move or a view that
+  // arrived before one already passed on is out of date, and is dropped.
+  const order = { pointer: { arrived: 0, passed: 0 }, view: { arrived: 0, passed: 0 } };
+  const current = (o: { passed: number }, n: number) => (n > o.passed ? ((o.passed = n), true) : false);
   socket.on("pointer:move", (raw) =>
     live.quiet("pointer:move", async () => {
+      const n = ++order.pointer.arrived;
       const p = parseWith(pointerMoveSchema, raw, "event");
       const { caseId } = await live.quietCheck(socket);
       if (p.traceId !== null && (await live.traceFacts(p.traceId))?.caseId !== caseId) return;
+      if (!current(order.pointer, n)) return;
       live.throttled(local.pointer, p, (q) =>
         live.quiet("pointer:move", async () => {
           const { actor, caseId: room } = await live.quietCheck(socket);
@@ -26,9 +32,11 @@ export function onPointer(live: Live, socket: LiveSocket): void {
 
   socket.on("view:follow", (raw) =>
     live.quiet("view:follow", async () => {
+      const n = ++order.view.arrived;
       const p = parseWith(viewFollowSchema, raw, "event");
       const { caseId } = await live.quietCheck(socket);
       if ((await live.traceFacts(p.traceId))?.caseId !== caseId) return;
+      if (!current(order.view, n)) return;
       live.throttled(local.view, p, (q) =>
         live.quiet("view:follow", async () => {
           const { actor, caseId: room } = await live.quietCheck(socket);
