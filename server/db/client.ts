@@ -21,7 +21,7 @@ export type Orm = BetterSQLite3Database<typeof schema> | LibSQLDatabase<typeof s
 export type Statement = BatchItem<"sqlite">;
 
 /**
- * The database, whichever driver is behind it (docs/decisions/016 and 017). Every query runs in a
+ * The database, whichever driver is behind it (docs/decisions/016 and 020). Every query runs in a
  * unit: `db.read(async (tx) => …)` for a consistent snapshot, `db.write(async (tx) => …)` for a
  * change, `db.batch(mode, (q) => [...])` for a fixed list of statements in one round trip. A body
  * awaits only the database.

@@ -157,7 +157,7 @@ describe.skipIf(missing.length > 0)(`npm run cluster with two nodes${skipReason}
     expect(signIn.status).toBe(200);
     const me = await fetch(`${two}/api/me`, { headers: { cookie: cookiesOf(signIn) } });
     expect(me.status).toBe(200);
-    expect((await me.json()).email).toBe(DEMO_TECH.email);
+    expect(((await me.json()) as { email: string }).email).toBe(DEMO_TECH.email);
     // the demo seeded once is the libSQL server's (its folder), not a file of the nodes
     const sqliteFiles = fs.readdirSync(dataDir).filter((f) => /\.(db|sqlite)$/.test(f));
     expect(sqliteFiles).toEqual([]);
