@@ -119,31 +119,99 @@ export function trackSparkLine(
   const from = a + skip;
   const to = Math.max(from + 1, a + Math.floor(endLocal));
   const levelY = lv.sign * (fastMedian(p.v, from, to) - lv.base);
-  // the slope over as much of the spark line as is settled: from a third of the skip after the apex
-  // (the collapse has died away by 50 µs) — a longer line reads a slope through the turbulence better
-  const slopeFrom = a + Math.max(1, Math.round(skip / 3));
-  return { level0, endLocal, levelY, slopeYPerS: sparkSlope(p, lv.sign, slopeFrom, to) };
+  return { level0, endLocal, levelY, slopeYPerS: sparkSlope(p, lv, a, ys, level0, endLocal) };
 }
 
-/** Least-squares slope of the spark line's middle 80 %, y per second. */
-function sparkSlope(p: Prepared, sign: 1 | -1, from: number, to: number): number | null {
-  const span = to - from;
-  const f0 = from + Math.floor(span * 0.1);
-  const f1 = to - Math.floor(span * 0.1);
-  if (f1 - f0 < 3) return null;
+/**
+ * Where the firing line's collapse has settled into the spark line (samples from the apex). The
+ * collapse is close to exponential (the coil's capacitance discharging into the spark's plasma): it
+ * takes t₁₀ to fall to within 10 % of its drop and three times as long to fall to within 0.1 %
+ * (ln 1000 = 3·ln 10) — below the spark line's own turbulence. Never before two smoothing widths,
+ * never after the skip the first level is read from.
+ */
+function settledFrom(p: Prepared, lv: SecondaryLevels, a: number, ys: Float32Array, level0: number): number {
+  const { skip } = sparkWindows(p.rate);
+  const top = lv.sign * (p.v[a] - lv.base);
+  const near = level0 + 0.1 * Math.max(0, top - level0);
+  let t10 = skip;
+  for (let j = 1; j < Math.min(ys.length, skip); j++) {
+    if (ys[j] <= near) {
+      t10 = j;
+      break;
+    }
+  }
+  return Math.min(skip, Math.max(2 * lv.w, 3 * t10));
+}
+
+interface Line {
+  slope: number;
+  /** y at local index 0 */
+  at0: number;
+}
+
+/** Least-squares line through y = sign·(v − base) over local indices [j0, j1) from the apex a. */
+function fitLine(p: Prepared, lv: SecondaryLevels, a: number, j0: number, j1: number): Line | null {
+  const m = j1 - j0;
+  if (m < 3) return null;
   let sx = 0;
   let sy = 0;
   let sxx = 0;
   let sxy = 0;
-  const m = f1 - f0;
-  for (let k = f0; k < f1; k++) {
-    const x = (k - f0) / p.rate;
-    const yy = p.v[k];
+  for (let j = j0; j < j1; j++) {
+    const x = j - j0;
+    const y = lv.sign * (p.v[a + j] - lv.base);
     sx += x;
-    sy += yy;
+    sy += y;
     sxx += x * x;
-    sxy += x * yy;
+    sxy += x * y;
   }
   const den = m * sxx - sx * sx;
-  return den > 0 ? (sign * (m * sxy - sx * sy)) / den : null;
+  if (!(den > 0)) return null;
+  const slope = (m * sxy - sx * sy) / den;
+  return { slope, at0: (sy - slope * sx) / m - slope * j0 };
+}
+
+/**
+ * The spark line's slope, y per second (positive: away from the baseline): a least-squares line
+ * through the whole settled spark line. The spark line's turbulence is correlated over tens of
+ * microseconds, so the slope's error falls as the line's length to the power 3/2: every settled
+ * sample counts, and none of the collapse before it or of what follows its end may (a step of the
+ * line's own size in the last few microseconds tilts a short line more than its turbulence does).
+ * A core line is fitted from where the collapse has settled to a tenth of the line before the end
+ * found; a start still bending away from it by more than three times the line's own scatter is left
+ * out, and the line is followed toward the end for as long as it stays within that scatter (the
+ * first departure on the smoothed signal, less half a smoothing width: an extinction bump, the
+ * ringing's first swing); then the line is fitted again over all of it.
+ */
+function sparkSlope(
+  p: Prepared,
+  lv: SecondaryLevels,
+  a: number,
+  ys: Float32Array,
+  level0: number,
+  endLocal: number,
+): number | null {
+  const last = Math.min(ys.length, Math.floor(endLocal));
+  let j0 = settledFrom(p, lv, a, ys, level0);
+  let core = last - Math.max(lv.w, Math.floor(0.1 * (last - j0)));
+  const minLen = Math.max(3, 4 * lv.w);
+  if (core - j0 < minLen) {
+    // too short a line for the margins: its middle 80 %
+    j0 = Math.floor(last * 0.1);
+    core = last - Math.floor(last * 0.1);
+    const line = fitLine(p, lv, a, j0, core);
+    return line ? line.slope * p.rate : null;
+  }
+  const line = fitLine(p, lv, a, j0, core);
+  if (!line) return null;
+  const res = (j: number) => Math.abs(ys[j] - (line.at0 + line.slope * j));
+  let ss = 0;
+  for (let j = j0; j < core; j++) ss += res(j) ** 2;
+  const thr = Math.max(3 * Math.sqrt(ss / (core - j0)), 3 * lv.noiseS);
+  while (core - j0 > minLen && res(j0) > thr) j0++;
+  let k = core;
+  if (res(k - 1) > thr) while (k - j0 > minLen && res(k - 1) > thr) k--;
+  else while (k < last && res(k) <= thr) k++;
+  const j1 = Math.max(j0 + minLen, k - (lv.w >> 1));
+  return (fitLine(p, lv, a, j0, j1) ?? line).slope * p.rate;
 }
