@@ -18,6 +18,8 @@ export const envSchema = z.object({
   DATABASE_URL: z.string().default("data/burnline.db"),
   /** sent to the libSQL server when set (the hosted service needs one) */
   DATABASE_AUTH_TOKEN: z.string().optional(),
+  /** at most this many units of work of one node open on the libSQL server at once */
+  DATABASE_CONCURRENCY: z.coerce.number().int().min(1).max(1000).default(32),
   /** redis://… turns on the socket.io Redis streams adapter, shared presence and BullMQ queues (several nodes) */
   REDIS_URL: z.string().url().optional(),
   /** how often the queue's timed moves run, ms (default 30 s) */

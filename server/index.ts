@@ -81,7 +81,7 @@ export async function startServer(
 
   let db: Db;
   try {
-    db = await openDatabase(env.DATABASE_URL, { authToken: env.DATABASE_AUTH_TOKEN });
+    db = await openDatabase(env.DATABASE_URL, { authToken: env.DATABASE_AUTH_TOKEN, concurrency: env.DATABASE_CONCURRENCY });
   } catch (err) {
     server.close();
     throw err;

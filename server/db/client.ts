@@ -9,7 +9,7 @@ import fs from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import * as schema from "./schema/index";
-import { embeddedUnitOfWork, libsqlUnitOfWork, type Tx, type UnitOfWork } from "./unit-of-work";
+import { embeddedUnitOfWork, Gate, libsqlUnitOfWork, type Tx, type UnitOfWork } from "./unit-of-work";
 import { migrateLibsql } from "./migrate-libsql";
 
 export type { Tx, UnitOfWork };
@@ -58,6 +58,8 @@ export interface OpenOptions {
   migrate?: boolean;
   /** DATABASE_AUTH_TOKEN, sent to a libSQL server when set */
   authToken?: string;
+  /** DATABASE_CONCURRENCY: at most this many units and batches open on a libSQL server at once */
+  concurrency?: number;
 }
 
 /**
@@ -112,12 +114,13 @@ export async function openLibsql(url: string, opts: OpenOptions = {}): Promise<D
     client.close();
     throw err;
   }
-  const uow = libsqlUnitOfWork(client, orm);
+  const gate = new Gate(opts.concurrency ?? 32);
+  const uow = libsqlUnitOfWork(client, orm, gate);
   return {
     driver: "libsql",
     write: uow.write,
     read: uow.read,
-    batch: (mode, build) => libsqlBatch(client, orm, mode, build),
+    batch: (mode, build) => gate.run(() => libsqlBatch(client, orm, mode, build)),
     orm,
     sqlite: null,
     async close() {
@@ -138,8 +141,32 @@ async function libsqlBatch<T extends readonly [Statement, ...Statement[]]>(
     const b = p.getQuery();
     return { sql: b.sql, args: b.params as never };
   });
-  const results = await client.batch(built, mode);
+  const results = await refusedAgain(() => client.batch(built, mode));
   return results.map((r, i) => prepared[i].mapResult(r, true)) as BatchResponse<T>;
+}
+
+/** The server refused the request for load (HTTP 429) and did nothing of it. */
+function refusedForLoad(err: unknown): boolean {
+  for (let e = err as { status?: unknown; message?: unknown; cause?: unknown } | null, d = 0; e && d < 5; d++) {
+    if (e.status === 429 || /HTTP status 429/.test(String(e.message ?? ""))) return true;
+    e = e.cause as typeof e;
+  }
+  return false;
+}
+
+/**
+ * A batch is one request, one transaction on the server: one the server refused for load was not
+ * run at all, so it is sent again after a short pause (50 ms doubling, with jitter; 6 tries).
+ */
+async function refusedAgain<T>(send: () => Promise<T>): Promise<T> {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      return await send();
+    } catch (err) {
+      if (attempt >= 6 || !refusedForLoad(err)) throw err;
+      await new Promise((r) => setTimeout(r, 50 * 2 ** (attempt - 1) * (0.8 + 0.4 * Math.random())));
+    }
+  }
 }
 
 interface Preparable {

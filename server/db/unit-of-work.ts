@@ -167,7 +167,7 @@ function runUnit<T>(
  * ("no transaction is active") and would hide the cause; here the rollback's own failure is dropped
  * and the unit fails with TransactionTimeoutError.
  */
-export function libsqlUnitOfWork(client: Client, orm: LibSQLDatabase<typeof schema>): UnitOfWork {
+export function libsqlUnitOfWork(client: Client, orm: LibSQLDatabase<typeof schema>, gate = new Gate(32)): UnitOfWork {
   // the session of drizzle's database carries the dialect, the schema and the options a transaction needs
   const base = (orm as unknown as { session: LibSQLSessionParts }).session;
 
@@ -200,9 +200,38 @@ export function libsqlUnitOfWork(client: Client, orm: LibSQLDatabase<typeof sche
   }
 
   return {
-    write: (body) => unit("write", body),
-    read: (body) => unit("read", body),
+    write: (body) => gate.run(() => unit("write", body)),
+    read: (body) => gate.run(() => unit("read", body)),
   };
+}
+
+/**
+ * At most `limit` units and batches of one process open on the libSQL server at a time; the others
+ * wait their turn, first come first served. The server refuses requests beyond its own limit with
+ * HTTP 429 (sqld: 128 concurrent connections and requests by default), so several nodes each
+ * flooding it with a burst (a pointer storm, 200 marks at once) must not reach it; a queue here
+ * costs a few milliseconds, a refusal inside a transaction costs the unit. Units never open a unit
+ * inside another (refused on the embedded driver, which the same code runs on), so a unit waiting
+ * for a turn holds none.
+ */
+export class Gate {
+  private active = 0;
+  private readonly waiting: (() => void)[] = [];
+  constructor(readonly limit: number) {
+    if (!(limit >= 1)) throw new Error("a gate lets at least one through");
+  }
+
+  async run<T>(fn: () => Promise<T>): Promise<T> {
+    if (this.active >= this.limit) await new Promise<void>((r) => this.waiting.push(r));
+    else this.active++;
+    try {
+      return await fn();
+    } finally {
+      const next = this.waiting.shift();
+      if (next) next(); // the turn passes on: `active` stays the same
+      else this.active--;
+    }
+  }
 }
 
 type LibSQLSessionParts = ConstructorParameters<typeof LibSQLSession> extends [unknown, infer D, infer S, infer O, ...unknown[]]
