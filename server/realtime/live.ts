@@ -12,9 +12,8 @@ import { schema, type Statement, type Tx } from "../db/client";
 import { HttpError, notFound, unauthorized } from "../http/errors";
 import { canJoinCase } from "../auth/policies/live";
 import type { CaseFacts } from "../workflow/policy";
-import { getCaseRow } from "../workflow/records";
-import { runEffects } from "../workflow/effects";
-import { liveHappeningEffects, type LiveHappening } from "../workflow/live-notices";
+import type { LiveHappening } from "../workflow/live-notices";
+import { liveNoticeSender } from "./notices";
 import { casePolicyQuery, type LiveActor } from "../services/annotations";
 import type { Presence } from "./presence";
 import type { GroupCommit } from "./group-commit";
@@ -230,16 +229,7 @@ export function createLive(
       }, refuse);
     },
     presentUsers: (caseId) => parts.presence.users(caseId),
-    liveNotices(caseId, author, what) {
-      void (async () => {
-        const present = new Set(await parts.presence.users(caseId));
-        const effects = await ctx.db.read(async (tx) => {
-          const c = await getCaseRow(tx, caseId);
-          return c ? liveHappeningEffects(tx, c, author, what, present) : [];
-        });
-        if (effects.length) await runEffects(ctx, effects);
-      })().catch((err: unknown) => ctx.logger.error({ err }, "live notices failed"));
-    },
+    liveNotices: liveNoticeSender(ctx, parts.presence),
     quiet(event, fn) {
       fn().catch((err: unknown) => {
         if (!(err instanceof HttpError)) eventError(err, ctx, event);

@@ -125,6 +125,19 @@ describe.skipIf(!!missing)("live review on two nodes", { timeout: 120_000 }, () 
     expect(stored.map((r) => r.seq).sort((x, y) => x - y)).toEqual(seqs);
     const head = await rig.db.read((tx) => tx.select().from(schema.caseSeq).where(eq(schema.caseSeq.caseId, c.caseId)).get());
     expect(head?.seq).toBe(200);
+    // the shop's owner, not in the room, is told of every mark: bursts fold into one notice whose
+    // count is the number of marks, whichever node stored them and however they were grouped
+    const ownerNotice = () =>
+      rig.db.read((tx) =>
+        tx
+          .select()
+          .from(schema.notification)
+          .where(and(eq(schema.notification.userId, team.owner.id), eq(schema.notification.caseId, c.caseId)))
+          .all(),
+      );
+    await expect.poll(async () => (await ownerNotice()).map((n) => [n.kind, n.count]), { timeout: SLOW_MS }).toEqual([
+      ["new_mark", 200],
+    ]);
   });
 
   it("presence counts the people in the room across nodes", async () => {
