@@ -202,9 +202,12 @@ describe("publishing and search", () => {
     // the trace names were the uploads' file names (with the tech's name): replaced
     expect((row.body as { traces: { name: string }[] }).traces.map((t) => t.name)).toEqual([1, 2, 3, 4].map((n) => `Coil ${n} · secondary ignition`));
     // the words of the index (fts5vocab lists every token FTS5 stored)
+    // (beside the index in its own database and dropped again: the libSQL server refuses temp. tables)
     const vocab = await db.write(async (tx) => {
-      await tx.run(sql`CREATE VIRTUAL TABLE IF NOT EXISTS temp.casebook_vocab USING fts5vocab(main, casebook_fts, 'row')`);
-      return tx.all<{ term: string }>(sql`SELECT term FROM temp.casebook_vocab`);
+      await tx.run(sql`CREATE VIRTUAL TABLE IF NOT EXISTS casebook_vocab USING fts5vocab(casebook_fts, 'row')`);
+      const rows = await tx.all<{ term: string }>(sql`SELECT term FROM casebook_vocab`);
+      await tx.run(sql`DROP TABLE casebook_vocab`);
+      return rows;
     });
     const terms = new Set(vocab.map((r) => r.term));
     for (const w of ["quarrymoor", "whitlock", "dana", "oskar", "brandtner", "falkenrath", "ine", "ines", "feldhau", "feldhaus", "042788", "0143", "0178", "0958", "900123", "7946"]) {
