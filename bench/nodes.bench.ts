@@ -65,7 +65,8 @@ async function rigOn(place: Place, opts: { senders: number; spread: boolean }): 
   const urlFor = (k: number) => (opts.spread ? place.urls[k % place.urls.length] : place.urls[0]);
   const join = async (k: number, cookie: string) => {
     const s = await connected(liveClient(urlFor(k), { cookie, origin: place.origin }));
-    const ack = await ask(s, "case:join", { caseId: c.caseId });
+    // a generous bound: a join on a loaded machine (the figures are the round trips, not joins)
+    const ack = await ask(s, "case:join", { caseId: c.caseId }, 60_000);
     if (!ack.ok) throw new Error(JSON.stringify(ack));
     return s;
   };
