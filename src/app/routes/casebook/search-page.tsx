@@ -1,4 +1,4 @@
-import { useEffect, useState, type FormEvent } from "react";
+import { useState, type FormEvent } from "react";
 import { useSearchParams } from "react-router-dom";
 import { useCasebookSearch, SEARCH_PARAM_NAMES, type CasebookSearchParams } from "../../../features/casebook/api/search-casebook";
 import { ActiveFilters, FacetGroup } from "../../../features/casebook/components/facet-chips";
@@ -18,7 +18,12 @@ export function CasebookSearchPage() {
   const [years, setYears] = useState({ from: params.yearFrom ?? "", to: params.yearTo ?? "" });
   // on a phone the filters fold away behind a button, so the results come right after the search
   const [filtersOpen, setFiltersOpen] = useState(false);
-  useEffect(() => setText(sp.get("q") ?? ""), [sp]);
+  // the box follows the address: when the search parameters change, it shows their query again
+  const [shownFor, setShownFor] = useState(sp);
+  if (shownFor !== sp) {
+    setShownFor(sp);
+    setText(sp.get("q") ?? "");
+  }
 
   const update = (changes: Partial<Record<keyof CasebookSearchParams, string | undefined>>, keepPage = false) => {
     const next = new URLSearchParams(sp);
