@@ -26,7 +26,7 @@ async function handle<T>(res: Response): Promise<T> {
 interface ApiErrorFields {
   code?: string;
   message?: string;
-  details?: unknown;
+  details?: ApiError["details"];
 }
 
 function safeJson(text: string): unknown {
