@@ -84,7 +84,7 @@ export class HashingDiskStorage implements StorageEngine {
       out.destroy();
       fs.rm(target, { force: true }, () => {
         release();
-        cb(err);
+        cb(err as Error); // what was thrown or emitted, passed on as it is (multer hands it to the error handler)
       });
     };
     const runSniff = (): boolean => {
