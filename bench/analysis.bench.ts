@@ -12,9 +12,9 @@ import vm from "node:vm";
 import { analyzeTrace } from "../shared/analysis/analyze";
 import { compareTraces } from "../shared/analysis/compare";
 import { parseTraceText } from "../shared/trace/parse";
-import { renderCsv } from "../tests/generators/csv";
-import { generateCrank } from "../tests/generators/crank";
-import { generateSecondary } from "../tests/generators/secondary";
+import { renderCsv } from "../demo/generators/csv";
+import { generateCrank } from "../demo/generators/crank";
+import { generateSecondary } from "../demo/generators/secondary";
 import { median, type BenchResult } from "./types";
 
 

@@ -8,6 +8,7 @@ import type { CaseStatus } from "../shared/domain/case-status";
 import type { AnswerInput } from "../shared/schemas/queue";
 import type { DataRequest } from "../shared/schemas/realtime";
 import { demoVin } from "./vehicles";
+import type { SecondaryEventTruth, SecondaryTruth } from "./generators/secondary";
 import { coilSet, compressionCapture, crankCapture, injectorSet, type DemoTrace } from "./traces";
 
 const HOUR = 60;
@@ -17,8 +18,8 @@ export interface DemoAnnotation {
   /** index into the case's traces */
   trace: number;
   kind: "pin" | "span" | "level" | "note";
-  /** where to put it, from the trace's known truth */
-  at: (truth: any) => { t0: number; t1?: number; level?: number };
+  /** where to put it, from the trace's known truth (a generated capture's truth, its shape by kind) */
+  at: (truth: unknown) => { t0: number; t1?: number; level?: number };
   label?: string;
   by: "expert" | "tech";
 }
@@ -55,8 +56,8 @@ export interface DemoCase {
   refundReason?: string;
 }
 
-/** Firing time and burn time of event k of a generated secondary capture. */
-const ev = (truth: any, k = 0) => truth.events[k] as { timeS: number; burnTimeMs: number; burnLevel: number; peak: number };
+/** Firing time and burn time of event k of a generated secondary capture (the marks sit on coil captures). */
+const ev = (truth: unknown, k = 0): SecondaryEventTruth => (truth as SecondaryTruth).events[k];
 
 export const DEMO_CASES: DemoCase[] = [
   // ---- claimed, live: four coils, cylinder 3's coil breaking down; expert and tech talking now

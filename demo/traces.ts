@@ -1,13 +1,13 @@
 /**
- * The demo's captures, made by the project's own signal generators (tests/generators) with fixed
+ * The demo's captures, made by the project's own signal generators (demo/generators) with fixed
  * seeds, so every seed gives the same files and the same truth. Sizes are kept modest (tens of
  * thousands of samples) so the whole demo seeds in seconds.
  */
-import { generateSecondary, type GeneratedCapture, type SecondaryFault, type SecondaryTruth } from "../tests/generators/secondary";
-import { generateCompression, type CompressionTruth } from "../tests/generators/compression";
-import { generateInjector, type InjectorTruth } from "../tests/generators/injector";
-import { generateCrank, type CrankTruth } from "../tests/generators/crank";
-import { renderCsv, type CsvOptions } from "../tests/generators/csv";
+import { generateSecondary, type GeneratedCapture, type SecondaryFault, type SecondaryTruth } from "./generators/secondary";
+import { generateCompression, type CompressionTruth } from "./generators/compression";
+import { generateInjector, type InjectorTruth } from "./generators/injector";
+import { generateCrank, type CrankTruth } from "./generators/crank";
+import { renderCsv, type CsvOptions } from "./generators/csv";
 import type { CaptureSettingsInput } from "../shared/schemas/capture-settings";
 
 export interface DemoTrace<T = unknown> {

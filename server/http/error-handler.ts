@@ -38,7 +38,8 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     status = err.status;
     body = { code: "bad_request", message: String(err.expose ? err.message : "Bad request.") };
   }
-  if (status >= 500) (req as any).log?.error({ err }, "request failed");
+  // pino-http sets req.log; an app built without it (some tests) has none
+  if (status >= 500) req.log?.error({ err }, "request failed");
   if (res.headersSent) return;
   res.status(status).json({ error: body });
 };

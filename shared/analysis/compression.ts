@@ -355,7 +355,6 @@ function summaryOf(
 }
 
 export function analyzeCompression(p: Prepared, ctx: CompressionContext): CompressionAnalysis {
-  const s = ctx.settings;
   const N = Math.max(1, Math.round(ctx.cylinders ?? 4));
   const dc = decimate(p);
   const measurements = measurePrepared(p, p.toPhysical);

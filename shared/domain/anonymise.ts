@@ -202,7 +202,7 @@ export function scrubVins(text: string, vin?: string | null): string {
 
 /** Removes control characters (keeps tab and newline) and the snippet markers U+0002/U+0003. */
 export function stripControls(text: string): string {
-  // eslint-disable-next-line no-control-regex
+  // eslint-disable-next-line no-control-regex -- removing control characters is what this does
   return text.replace(/[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F\u200B-\u200F\u2028\u2029\uFEFF]/g, "");
 }
 

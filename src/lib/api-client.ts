@@ -15,10 +15,18 @@ async function handle<T>(res: Response): Promise<T> {
   const text = await res.text();
   const body = text ? safeJson(text) : null;
   if (!res.ok) {
-    const e = (body as any)?.error ?? (body as any);
+    // the server answers `{ error: { code, message, details? } }`; anything else falls back below
+    const b = body as (ApiErrorFields & { error?: ApiErrorFields }) | null;
+    const e = b?.error ?? b;
     throw new ApiError(res.status, e?.code ?? "http_" + res.status, e?.message ?? res.statusText ?? "Request failed", e?.details);
   }
   return body as T;
+}
+
+interface ApiErrorFields {
+  code?: string;
+  message?: string;
+  details?: ApiError["details"];
 }
 
 function safeJson(text: string): unknown {

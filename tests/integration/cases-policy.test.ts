@@ -3,7 +3,7 @@ import { assertCaseAction, caseAbilities, caseActions, caseListScope, casePolicy
 import { tracePolicy } from "../../server/auth/policies/traces";
 import type { Actor } from "../../server/auth/session";
 import { caseStatuses } from "../../shared/domain/case-status";
-import { HttpError } from "../../server/http/errors";
+import type { HttpError } from "../../server/http/errors";
 
 /**
  * The case policy as a table (the product's rules, docs/api.md "Cases and traces"): the shop's

@@ -35,7 +35,7 @@ import {
   unexpectedState,
   type StripeErrorBody,
 } from "./errors";
-import type { FormObject } from "./form";
+import type { FormObject, FormValue } from "./form";
 import {
   emptyState,
   type AccountObject,
@@ -335,7 +335,7 @@ export class FakeStripeEngine {
 
   // ------------------------------------------------------------------ checkout sessions
 
-  createCheckoutSession(params: FormObject, ctx: RequestContext): CheckoutSessionObject {
+  createCheckoutSession(params: FormObject, _ctx: RequestContext): CheckoutSessionObject {
     rejectUnknown(params, [
       "mode",
       "line_items",
@@ -379,56 +379,7 @@ export class FakeStripeEngine {
     const rawItems = arr(params, "line_items");
     if (!rawItems || rawItems.length === 0) throw missingParam("line_items");
     const sessionId = randomId("cs_test_", 58);
-    let cur: string | null = null;
-    let total = 0;
-    const items: LineItemObject[] = rawItems.map((raw, i) => {
-      const p = `line_items[${i}]`;
-      if (typeof raw !== "object" || Array.isArray(raw)) throw invalidRequest(`Invalid object: ${p}`, "parameter_invalid_object", p);
-      rejectUnknown(raw, ["price_data", "quantity", "price", "adjustable_quantity"], p);
-      if (raw.price !== undefined) {
-        throw invalidRequest(
-          `No such price: '${String(raw.price)}' (the local fake supports only price_data).`,
-          "resource_missing",
-          `${p}[price]`,
-        );
-      }
-      const pd = obj(raw, "price_data", `${p}[price_data]`);
-      if (!pd) throw missingParam(`${p}[price_data]`);
-      rejectUnknown(pd, ["currency", "unit_amount", "product_data", "product", "tax_behavior"], `${p}[price_data]`);
-      const itemCur = currency(pd, "currency", { required: true, param: `${p}[price_data][currency]` })!;
-      const unit = int(pd, "unit_amount", { required: true, min: 0, param: `${p}[price_data][unit_amount]` })!;
-      const quantity = int(raw, "quantity", { required: true, min: 1, param: `${p}[quantity]` })!;
-      const productData = obj(pd, "product_data", `${p}[price_data][product_data]`);
-      if (!productData) throw missingParam(`${p}[price_data][product_data]`);
-      rejectUnknown(productData, ["name", "description", "metadata", "images", "tax_code"], `${p}[price_data][product_data]`);
-      const name = str(productData, "name", { required: true, param: `${p}[price_data][product_data][name]` })!;
-      if (cur && cur !== itemCur) {
-        throw invalidRequest("All line items must use the same currency.", "parameter_invalid_string", `${p}[price_data][currency]`);
-      }
-      cur = itemCur;
-      total += unit * quantity;
-      return {
-        id: randomId("li_"),
-        object: "item",
-        amount_discount: 0,
-        amount_subtotal: unit * quantity,
-        amount_tax: 0,
-        amount_total: unit * quantity,
-        currency: itemCur,
-        description: name,
-        price: {
-          id: randomId("price_"),
-          object: "price",
-          active: false,
-          currency: itemCur,
-          product: randomId("prod_", 14),
-          type: "one_time",
-          unit_amount: unit,
-        },
-        quantity,
-      };
-    });
-    const sessionCurrency = cur as unknown as string;
+    const { items, currency: sessionCurrency, total } = lineItemsFrom(rawItems);
     if (total < minimumAmount(sessionCurrency)) {
       throw invalidRequest(
         `The Checkout Session's total amount due must add up to at least ${minimumAmount(sessionCurrency)} ${sessionCurrency}.`,
@@ -437,48 +388,10 @@ export class FakeStripeEngine {
       );
     }
 
-    const pid = obj(params, "payment_intent_data") ?? {};
-    rejectUnknown(
-      pid,
-      [
-        "capture_method",
-        "metadata",
-        "description",
-        "receipt_email",
-        "statement_descriptor",
-        "statement_descriptor_suffix",
-        "transfer_group",
-        "setup_future_usage",
-      ],
-      "payment_intent_data",
-    );
-    const intentData: SessionIntentData = {
-      capture_method:
-        oneOf(pid, "capture_method", ["automatic", "automatic_async", "manual"] as const, "payment_intent_data[capture_method]") ??
-        "automatic_async",
-      metadata: metadata(pid, "metadata", "payment_intent_data") ?? {},
-      description: str(pid, "description") ?? null,
-      receipt_email: str(pid, "receipt_email") ?? null,
-      statement_descriptor: str(pid, "statement_descriptor") ?? null,
-      statement_descriptor_suffix: str(pid, "statement_descriptor_suffix") ?? null,
-      transfer_group: str(pid, "transfer_group") ?? null,
-      setup_future_usage: oneOf(pid, "setup_future_usage", ["on_session", "off_session"] as const) ?? null,
-    };
+    const intentData = sessionIntentDataFrom(params);
 
     const now = this.now();
-    let expiresAt = now + SESSION_DEFAULT_LIFETIME_SECONDS;
-    const requestedExpiry = int(params, "expires_at");
-    if (requestedExpiry !== undefined) {
-      // Stripe: expires_at must be 30 minutes to 24 hours after creation.
-      if (requestedExpiry < now + 30 * 60 || requestedExpiry > now + SESSION_DEFAULT_LIFETIME_SECONDS) {
-        throw invalidRequest(
-          "The `expires_at` timestamp must be between 30 minutes and 24 hours from Checkout Session creation.",
-          "parameter_invalid_integer",
-          "expires_at",
-        );
-      }
-      expiresAt = requestedExpiry;
-    }
+    const expiresAt = sessionExpiry(params, now);
 
     const session: CheckoutSessionObject = {
       id: sessionId,
@@ -1310,4 +1223,107 @@ function mergeMetadata(current: Metadata, update: FormObject): Metadata {
     else out[k] = v;
   }
   return out;
+}
+
+/** A checkout session's line items (price_data only), their one currency and their total. */
+function lineItemsFrom(rawItems: FormValue[]): { items: LineItemObject[]; currency: string; total: number } {
+  let cur: string | null = null;
+  let total = 0;
+  const items: LineItemObject[] = rawItems.map((raw, i) => {
+    const p = `line_items[${i}]`;
+    if (typeof raw !== "object" || Array.isArray(raw)) throw invalidRequest(`Invalid object: ${p}`, "parameter_invalid_object", p);
+    rejectUnknown(raw, ["price_data", "quantity", "price", "adjustable_quantity"], p);
+    if (raw.price !== undefined) {
+      throw invalidRequest(
+        `No such price: '${String(raw.price)}' (the local fake supports only price_data).`,
+        "resource_missing",
+        `${p}[price]`,
+      );
+    }
+    const pd = obj(raw, "price_data", `${p}[price_data]`);
+    if (!pd) throw missingParam(`${p}[price_data]`);
+    rejectUnknown(pd, ["currency", "unit_amount", "product_data", "product", "tax_behavior"], `${p}[price_data]`);
+    const itemCur = currency(pd, "currency", { required: true, param: `${p}[price_data][currency]` })!;
+    const unit = int(pd, "unit_amount", { required: true, min: 0, param: `${p}[price_data][unit_amount]` })!;
+    const quantity = int(raw, "quantity", { required: true, min: 1, param: `${p}[quantity]` })!;
+    const productData = obj(pd, "product_data", `${p}[price_data][product_data]`);
+    if (!productData) throw missingParam(`${p}[price_data][product_data]`);
+    rejectUnknown(productData, ["name", "description", "metadata", "images", "tax_code"], `${p}[price_data][product_data]`);
+    const name = str(productData, "name", { required: true, param: `${p}[price_data][product_data][name]` })!;
+    if (cur && cur !== itemCur) {
+      throw invalidRequest("All line items must use the same currency.", "parameter_invalid_string", `${p}[price_data][currency]`);
+    }
+    cur = itemCur;
+    total += unit * quantity;
+    return {
+      id: randomId("li_"),
+      object: "item",
+      amount_discount: 0,
+      amount_subtotal: unit * quantity,
+      amount_tax: 0,
+      amount_total: unit * quantity,
+      currency: itemCur,
+      description: name,
+      price: {
+        id: randomId("price_"),
+        object: "price",
+        active: false,
+        currency: itemCur,
+        product: randomId("prod_", 14),
+        type: "one_time",
+        unit_amount: unit,
+      },
+      quantity,
+    };
+  });
+  return { items, currency: cur as unknown as string, total };
+}
+
+/** The payment intent a checkout session will create, from its payment_intent_data. */
+function sessionIntentDataFrom(params: FormObject): SessionIntentData {
+  const pid = obj(params, "payment_intent_data") ?? {};
+  rejectUnknown(
+    pid,
+    [
+      "capture_method",
+      "metadata",
+      "description",
+      "receipt_email",
+      "statement_descriptor",
+      "statement_descriptor_suffix",
+      "transfer_group",
+      "setup_future_usage",
+    ],
+    "payment_intent_data",
+  );
+  return {
+    capture_method:
+      oneOf(pid, "capture_method", ["automatic", "automatic_async", "manual"] as const, "payment_intent_data[capture_method]") ??
+      "automatic_async",
+    metadata: metadata(pid, "metadata", "payment_intent_data") ?? {},
+    description: str(pid, "description") ?? null,
+    receipt_email: str(pid, "receipt_email") ?? null,
+    statement_descriptor: str(pid, "statement_descriptor") ?? null,
+    statement_descriptor_suffix: str(pid, "statement_descriptor_suffix") ?? null,
+    transfer_group: str(pid, "transfer_group") ?? null,
+    setup_future_usage: oneOf(pid, "setup_future_usage", ["on_session", "off_session"] as const) ?? null,
+  };
+}
+
+/** When a checkout session expires: 24 hours, or the requested time within Stripe's bounds. */
+function sessionExpiry(params: FormObject, now: number): number {
+  let expiresAt = now + SESSION_DEFAULT_LIFETIME_SECONDS;
+  const requestedExpiry = int(params, "expires_at");
+  if (requestedExpiry !== undefined) {
+    // Stripe: expires_at must be 30 minutes to 24 hours after creation.
+    if (requestedExpiry < now + 30 * 60 || requestedExpiry > now + SESSION_DEFAULT_LIFETIME_SECONDS) {
+      throw invalidRequest(
+        "The `expires_at` timestamp must be between 30 minutes and 24 hours from Checkout Session creation.",
+        "parameter_invalid_integer",
+        "expires_at",
+      );
+    }
+    expiresAt = requestedExpiry;
+  }
+  return expiresAt;
 }

@@ -18,7 +18,7 @@ function splitKey(key: string): string[] | null {
   if (first === -1) return [key];
   const parts = [key.slice(0, first)];
   const rest = key.slice(first);
-  const re = /\[([^\[\]]*)\]/g;
+  const re = /\[([^[\]]*)\]/g;
   let consumed = 0;
   let m: RegExpExecArray | null;
   while ((m = re.exec(rest)) !== null) {

@@ -30,7 +30,7 @@ import { dirname } from "node:path";
 import { parseExpiry, type CardInput } from "./cards";
 import { renderCheckoutPage, renderNotFound, successUrl } from "./checkout-page";
 import { DEFAULT_API_VERSION, FakeStripeEngine, randomId, type PayResult, type RequestContext } from "./engine";
-import { FakeStripeError, invalidRequest, type StripeErrorBody } from "./errors";
+import { FakeStripeError, invalidRequest } from "./errors";
 import { canonicalParams, decodeForm, FormDecodeError, type FormObject } from "./form";
 import { emptyState, type EventObject, type FakeStripeState } from "./types";
 import { signPayload, WebhookDispatcher, type DeliveryAttempt, type RetryPolicy } from "./webhooks";

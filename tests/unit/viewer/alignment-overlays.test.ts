@@ -12,7 +12,7 @@ import {
   type PlotFrame,
 } from "../../../src/features/traces/lib/overlay-geometry";
 import { TRACE_PALETTE, traceColor, withAlpha } from "../../../src/features/traces/lib/palette";
-import { channelUnits } from "../../../src/features/traces/lib/units";
+import { channelUnits } from "../../../src/lib/trace-units";
 import type { Annotation, TraceInfo } from "../../../src/features/traces/types";
 
 const trace = (extra: Partial<TraceInfo> = {}): TraceInfo => ({

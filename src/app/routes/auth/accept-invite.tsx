@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { useForm } from "react-hook-form";
+import { useForm, useWatch } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { Link, useNavigate, useSearchParams } from "react-router-dom";
 import type { z } from "zod";
@@ -45,6 +45,7 @@ function AcceptForm({ token, invite }: { token: string; invite: InvitePreview })
   const navigate = useNavigate();
   const [formError, setFormError] = useState<string | null>(null);
   const form = useForm<Values, unknown, z.output<typeof acceptInviteSchema>>({ resolver: zodResolver(acceptInviteSchema), defaultValues: { token, name: invite.name ?? "", password: "" } });
+  const [password, name] = useWatch({ control: form.control, name: ["password", "name"] });
   const { errors } = form.formState;
 
   const submit = form.handleSubmit(async (values) => {
@@ -67,7 +68,7 @@ function AcceptForm({ token, invite }: { token: string; invite: InvitePreview })
         <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
         <PasswordField label="Choose a password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
         {errors.password ? null : (
-          <PasswordStrength password={form.watch("password") ?? ""} userInputs={[form.watch("name")]} />
+          <PasswordStrength password={password ?? ""} userInputs={[name]} />
         )}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={busy}>
           {busy ? "Joining…" : `Join ${invite.shopName}`}

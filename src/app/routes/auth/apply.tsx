@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { Controller, useForm } from "react-hook-form";
+import { Controller, useForm, useWatch } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { Link } from "react-router-dom";
 import type { z } from "zod";
@@ -57,6 +57,7 @@ export function ApplyPage() {
     resolver: zodResolver(expertApplicationSchema),
     defaultValues: { name: "", email: "", password: "", systems: [], makes: [], bio: "" },
   });
+  const [password, email, name] = useWatch({ control: form.control, name: ["password", "email", "name"] });
   const { errors } = form.formState;
   const submit = form.handleSubmit(async (values) => {
     setFormError(null);
@@ -86,7 +87,7 @@ export function ApplyPage() {
         <div className="sm:col-span-2">
           <PasswordField label="Password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
           {errors.password ? null : (
-            <PasswordStrength password={form.watch("password") ?? ""} userInputs={form.watch(["email", "name"])} />
+            <PasswordStrength password={password ?? ""} userInputs={[email, name]} />
           )}
         </div>
         <fieldset className="sm:col-span-2" aria-describedby={systemsError ? "apply-systems-error" : undefined}>

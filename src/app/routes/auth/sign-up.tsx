@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { useForm } from "react-hook-form";
+import { useForm, useWatch } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { Link } from "react-router-dom";
 import type { z } from "zod";
@@ -24,6 +24,7 @@ export function SignUpPage() {
     resolver: zodResolver(shopSignUpSchema),
     defaultValues: { shopName: "", name: "", email: "", password: "" },
   });
+  const [password, email, name, shopName] = useWatch({ control: form.control, name: ["password", "email", "name", "shopName"] });
   const { errors } = form.formState;
   const submit = form.handleSubmit(async (values) => {
     setFormError(null);
@@ -53,8 +54,8 @@ export function SignUpPage() {
         <PasswordField label="Password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
         {errors.password ? null : (
           <PasswordStrength
-            password={form.watch("password") ?? ""}
-            userInputs={form.watch(["email", "name", "shopName"])}
+            password={password ?? ""}
+            userInputs={[email, name, shopName]}
           />
         )}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={signUp.isPending}>

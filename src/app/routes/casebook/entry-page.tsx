@@ -11,7 +11,7 @@ import { comparisonFor } from "../../../features/analysis/lib/comparison";
 import { isAnalysisResult } from "../../../features/analysis/lib/metrics";
 import { TraceViewer } from "../../../features/traces/components/trace-viewer";
 import { TraceUnitsNote } from "../../../features/traces/components/trace-details";
-import { sharedUnits, traceUnits } from "../../../features/traces/lib/units";
+import { sharedUnits, traceUnits } from "../../../lib/trace-units";
 import type { Annotation, TraceInfo } from "../../../features/traces/types";
 import type { CasebookEntryView } from "../../../../shared/schemas/casebook";
 import { ApiError } from "../../../lib/api-client";

@@ -1,11 +1,11 @@
-import { useEffect, useState, type FormEvent } from "react";
+import { useState, type FormEvent } from "react";
 import { useSearchParams } from "react-router-dom";
 import { useCasebookSearch, SEARCH_PARAM_NAMES, type CasebookSearchParams } from "../../../features/casebook/api/search-casebook";
 import { ActiveFilters, FacetGroup } from "../../../features/casebook/components/facet-chips";
 import { Pagination, ResultList } from "../../../features/casebook/components/result-list";
 import { buttonClass, inputClass } from "../../../features/casebook/components/ui";
 import { facetTitles, systemNames } from "../../../features/casebook/lib/labels";
-import type { FacetDim } from "../../../../shared/schemas/casebook";
+import type { FacetCount, FacetDim } from "../../../../shared/schemas/casebook";
 
 const FILTER_DIMS: FacetDim[] = ["make", "model", "engine", "system", "code", "confirmed"];
 
@@ -18,7 +18,12 @@ export function CasebookSearchPage() {
   const [years, setYears] = useState({ from: params.yearFrom ?? "", to: params.yearTo ?? "" });
   // on a phone the filters fold away behind a button, so the results come right after the search
   const [filtersOpen, setFiltersOpen] = useState(false);
-  useEffect(() => setText(sp.get("q") ?? ""), [sp]);
+  // the box follows the address: when the search parameters change, it shows their query again
+  const [shownFor, setShownFor] = useState(sp);
+  if (shownFor !== sp) {
+    setShownFor(sp);
+    setText(sp.get("q") ?? "");
+  }
 
   const update = (changes: Partial<Record<keyof CasebookSearchParams, string | undefined>>, keepPage = false) => {
     const next = new URLSearchParams(sp);
@@ -93,43 +98,12 @@ export function CasebookSearchPage() {
               {FILTER_DIMS.map((d) => (
                 <FacetGroup key={d} dim={d} facets={data.facets[d] ?? []} selected={params[d as keyof CasebookSearchParams]} onSelect={(v) => update({ [d]: v })} />
               ))}
-              <fieldset>
-                <legend className="mb-2 text-sm font-bold text-ink-800">{facetTitles.year}</legend>
-                <form
-                  className="flex flex-wrap items-end gap-2"
-                  onSubmit={(e) => {
-                    e.preventDefault();
-                    update({ yearFrom: years.from || undefined, yearTo: years.to || undefined });
-                  }}
-                >
-                  <label className="text-sm text-ink-700">
-                    From
-                    <input className={`${inputClass} w-24`} inputMode="numeric" pattern="[0-9]{4}" value={years.from} onChange={(e) => setYears({ ...years, from: e.target.value })} />
-                  </label>
-                  <label className="text-sm text-ink-700">
-                    To
-                    <input className={`${inputClass} w-24`} inputMode="numeric" pattern="[0-9]{4}" value={years.to} onChange={(e) => setYears({ ...years, to: e.target.value })} />
-                  </label>
-                  <button type="submit" className={buttonClass.secondary}>
-                    Apply
-                  </button>
-                </form>
-                <div className="mt-2 flex flex-wrap gap-1.5">
-                  {(data.facets.year ?? []).slice(0, 12).map((y) => (
-                    <button
-                      key={y.value}
-                      type="button"
-                      className="min-h-11 rounded-full border border-ink-200 bg-white px-3 text-sm hover:border-ink-400"
-                      onClick={() => {
-                        setYears({ from: y.value, to: y.value });
-                        update({ yearFrom: y.value, yearTo: y.value });
-                      }}
-                    >
-                      {y.label} <span className="text-xs text-ink-500">{y.count}</span>
-                    </button>
-                  ))}
-                </div>
-              </fieldset>
+              <YearFilter
+                years={years}
+                onYears={setYears}
+                facets={data.facets.year ?? []}
+                onApply={(from, to) => update({ yearFrom: from || undefined, yearTo: to || undefined })}
+              />
             </>
           ) : null}
         </aside>
@@ -163,19 +137,7 @@ export function CasebookSearchPage() {
               ))}
             </div>
           ) : data && data.total === 0 ? (
-            <div className="rounded-xl border border-dashed border-ink-300 bg-white p-6 text-center">
-              {params.q || active.length ? (
-                <>
-                  <p className="font-semibold">No resolved case matches that yet.</p>
-                  <p className="mt-1 text-sm text-ink-600">Try fewer words, a trouble code on its own, or remove a filter.</p>
-                </>
-              ) : (
-                <>
-                  <p className="font-semibold">The casebook is empty so far.</p>
-                  <p className="mt-1 text-sm text-ink-600">Every case whose fix the shop confirms joins it, anonymised.</p>
-                </>
-              )}
-            </div>
+            <NoResults filtered={!!params.q || active.length > 0} />
           ) : data ? (
             <>
               <ResultList results={data.results} />
@@ -184,6 +146,80 @@ export function CasebookSearchPage() {
           ) : null}
         </section>
       </div>
+    </div>
+  );
+}
+
+type Years = { from: string; to: string };
+
+/** The model-year filter: a from–to range, or one of the years found, as chips. */
+function YearFilter({
+  years,
+  onYears,
+  facets,
+  onApply,
+}: {
+  years: Years;
+  onYears: (y: Years) => void;
+  facets: FacetCount[];
+  onApply: (from: string, to: string) => void;
+}) {
+  return (
+    <fieldset>
+      <legend className="mb-2 text-sm font-bold text-ink-800">{facetTitles.year}</legend>
+      <form
+        className="flex flex-wrap items-end gap-2"
+        onSubmit={(e) => {
+          e.preventDefault();
+          onApply(years.from, years.to);
+        }}
+      >
+        <label className="text-sm text-ink-700">
+          From
+          <input className={`${inputClass} w-24`} inputMode="numeric" pattern="[0-9]{4}" value={years.from} onChange={(e) => onYears({ ...years, from: e.target.value })} />
+        </label>
+        <label className="text-sm text-ink-700">
+          To
+          <input className={`${inputClass} w-24`} inputMode="numeric" pattern="[0-9]{4}" value={years.to} onChange={(e) => onYears({ ...years, to: e.target.value })} />
+        </label>
+        <button type="submit" className={buttonClass.secondary}>
+          Apply
+        </button>
+      </form>
+      <div className="mt-2 flex flex-wrap gap-1.5">
+        {facets.slice(0, 12).map((y) => (
+          <button
+            key={y.value}
+            type="button"
+            className="min-h-11 rounded-full border border-ink-200 bg-white px-3 text-sm hover:border-ink-400"
+            onClick={() => {
+              onYears({ from: y.value, to: y.value });
+              onApply(y.value, y.value);
+            }}
+          >
+            {y.label} <span className="text-xs text-ink-500">{y.count}</span>
+          </button>
+        ))}
+      </div>
+    </fieldset>
+  );
+}
+
+/** No result: an empty casebook, or nothing matching the search and filters. */
+function NoResults({ filtered }: { filtered: boolean }) {
+  return (
+    <div className="rounded-xl border border-dashed border-ink-300 bg-white p-6 text-center">
+      {filtered ? (
+        <>
+          <p className="font-semibold">No resolved case matches that yet.</p>
+          <p className="mt-1 text-sm text-ink-600">Try fewer words, a trouble code on its own, or remove a filter.</p>
+        </>
+      ) : (
+        <>
+          <p className="font-semibold">The casebook is empty so far.</p>
+          <p className="mt-1 text-sm text-ink-600">Every case whose fix the shop confirms joins it, anonymised.</p>
+        </>
+      )}
     </div>
   );
 }

@@ -11,7 +11,7 @@ import { comparisonFor } from "../../../features/analysis/lib/comparison";
 import { isAnalysisResult } from "../../../features/analysis/lib/metrics";
 import { TraceViewer } from "../../../features/traces/components/trace-viewer";
 import { TraceUnitsNote, TraceWarnings } from "../../../features/traces/components/trace-details";
-import { sharedUnits, traceUnits } from "../../../features/traces/lib/units";
+import { sharedUnits, traceUnits } from "../../../lib/trace-units";
 import type { TraceInfo } from "../../../features/traces/types";
 
 /** A case's trace as the viewer takes it (the settings are checked by the server at upload). */

@@ -2,7 +2,7 @@ import { useMemo, useRef, useState } from "react";
 import { useQueryClient } from "@tanstack/react-query";
 import { TraceViewer, type TraceViewerHandle } from "../../../features/traces/components/trace-viewer";
 import { AnnotationList } from "../../../features/traces/components/annotation-list";
-import { traceUnits } from "../../../features/traces/lib/units";
+import { traceUnits } from "../../../lib/trace-units";
 import type { Annotation, MarkDraft, TraceInfo } from "../../../features/traces/types";
 import { useCaseRoom, type CaseRoom } from "../../../features/live/hooks/use-case-room";
 import { useFollow } from "../../../features/live/hooks/use-follow";

@@ -1,4 +1,4 @@
-import { scopeSetting, type ChannelUnits } from "../../traces/lib/units";
+import { scopeSetting, type ChannelUnits } from "../../../lib/trace-units";
 
 const probeNames: Record<string, string> = {
   "capacitive-secondary": "Capacitive pickup",

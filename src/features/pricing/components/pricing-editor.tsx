@@ -1,4 +1,4 @@
-import { useEffect, useState } from "react";
+import { useState } from "react";
 import { formatCents, parseCents } from "../../../../shared/domain/money";
 import { pricingUpdateSchema } from "../../../../shared/schemas/queue";
 import { buttonClass, Card, inputClass, Notice } from "../../../components/ui/form";
@@ -33,9 +33,8 @@ export function PricingEditor() {
   const save = useUpdatePricing();
   const [d, setD] = useState<ReturnType<typeof toDraft> | null>(null);
   const [problem, setProblem] = useState<string | null>(null);
-  useEffect(() => {
-    if (q.data && !d) setD(toDraft(q.data));
-  }, [q.data, d]);
+  // the draft starts from the first price list loaded, set while rendering (no extra effect pass)
+  if (q.data && !d) setD(toDraft(q.data));
   if (q.isError) return <Notice tone="error" title="Pricing is not available">{q.error.message}</Notice>;
   if (!q.data || !d) return <div className="h-40 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading pricing" />;
   const currency = q.data.currency;

@@ -2,8 +2,7 @@ import { useEffect, useMemo, useRef, useState, type RefObject } from "react";
 import { useReportWindow } from "../api/get-window";
 import { figureGeometry, figureWindow, scaleFigure, type FigureMark } from "../lib/figure";
 import type { ReportTrace } from "../api/get-report";
-import { formatLevel, traceUnits } from "../../traces/lib/units";
-import { unitSentence } from "../../traces/components/trace-details";
+import { formatLevel, traceUnits, unitSentence } from "../../../lib/trace-units";
 
 /**
  * The figure's frame for a drawing `width` pixels wide: one SVG unit is one screen pixel, so its

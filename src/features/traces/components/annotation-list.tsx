@@ -1,5 +1,5 @@
 import type { Annotation, AnnotationKind } from "../types";
-import { formatLevel, formatTime, type ChannelUnits } from "../lib/units";
+import { formatLevel, formatTime, type ChannelUnits } from "../../../lib/trace-units";
 
 export interface AnnotationListProps {
   annotations: Annotation[];

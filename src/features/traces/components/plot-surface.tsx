@@ -4,7 +4,7 @@ import "uplot/dist/uPlot.min.css";
 import type { AnnotationKind } from "../types";
 import type { CursorPositions } from "../lib/readout";
 import { gridLines, labelEvery } from "../lib/grid";
-import { formatTicks } from "../lib/units";
+import { formatTicks } from "../../../lib/trace-units";
 import type { Span } from "../lib/zoom";
 import { PLOT_COLORS } from "../lib/palette";
 import type { PlotModel, PlotTransient } from "../plot/model";

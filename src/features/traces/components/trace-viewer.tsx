@@ -4,7 +4,7 @@ import { useViewer, type ViewerState } from "../hooks/use-viewer";
 import { handleViewerKey } from "../hooks/viewer-keys";
 import { panBy, sameWindow, zoomCentre } from "../lib/zoom";
 import { cursorReadout, perDivText } from "../lib/readout";
-import { formatTime } from "../lib/units";
+import { formatTime } from "../../../lib/trace-units";
 import { PlotSurface } from "./plot-surface";
 import { AnnotationList } from "./annotation-list";
 import { MarkPrompt } from "./mark-prompt";

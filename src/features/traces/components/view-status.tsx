@@ -1,7 +1,7 @@
 import type { Ref } from "react";
 import type { AnnotationKind } from "../types";
 import { perDivText } from "../lib/readout";
-import { formatTime } from "../lib/units";
+import { formatTime } from "../../../lib/trace-units";
 
 const TOOL_HINT: Record<AnnotationKind, string> = {
   pin: "Tap or click on the trace to pin it.",

@@ -4,7 +4,7 @@ import type { TraceInfo, TraceWindowData } from "../types";
 import { traceBounds } from "../lib/capture-view";
 import { bucketsFor } from "../lib/buckets";
 import { alignmentLevel, alignmentTime, refineWindow } from "../lib/alignment";
-import type { ChannelUnits } from "../lib/units";
+import type { ChannelUnits } from "../../../lib/trace-units";
 
 export type AlignSource = "event" | "crossing" | "start";
 export type Alignment = Record<string, { time: number; source: AlignSource }>;

@@ -4,7 +4,7 @@ import type { MarkGesture } from "../plot/gestures";
 import type { MarkPreview, TraceLayer } from "../plot/model";
 import { layerOf } from "../plot/pin-level";
 import { traceLevelAt } from "../lib/snap";
-import { formatLevel, formatTime, type ChannelUnits } from "../lib/units";
+import { formatLevel, formatTime, type ChannelUnits } from "../../../lib/trace-units";
 
 export interface MarkToolsInput {
   canMark: boolean;

@@ -4,7 +4,7 @@ import { captureView, PRE_TRIGGER_FRACTION, traceBounds, unionRange, type Captur
 import { clampWindow, sameWindow, zoomLimits, type Span, type ZoomLimits } from "../lib/zoom";
 import { jumpWindow } from "../lib/overlay-geometry";
 import { firingFocus, firstEventLength } from "../lib/overlay-focus";
-import type { ChannelUnits } from "../lib/units";
+import type { ChannelUnits } from "../../../lib/trace-units";
 import type { Alignment } from "./use-alignment";
 import { useFrameThrottle } from "./use-frame-throttle";
 

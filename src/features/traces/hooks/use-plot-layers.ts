@@ -7,7 +7,7 @@ import { fitRange, type CaptureView } from "../lib/capture-view";
 import { divisionStep } from "../lib/grid";
 import { traceColor } from "../lib/palette";
 import type { Span } from "../lib/zoom";
-import type { ChannelUnits } from "../lib/units";
+import type { ChannelUnits } from "../../../lib/trace-units";
 
 export interface LayersInput {
   traces: TraceInfo[];

@@ -5,7 +5,7 @@ import type { CaptureView } from "../lib/capture-view";
 import type { CursorPositions } from "../lib/readout";
 import { eventMarkers } from "../lib/overlay-geometry";
 import { PLOT_COLORS, traceColor } from "../lib/palette";
-import type { ChannelUnits } from "../lib/units";
+import type { ChannelUnits } from "../../../lib/trace-units";
 
 export interface PlotModelInput {
   traces: TraceInfo[];

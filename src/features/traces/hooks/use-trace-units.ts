@@ -1,6 +1,6 @@
 import { useCallback, useMemo } from "react";
 import type { TraceInfo } from "../types";
-import { channelUnits, traceUnits, type ChannelUnits } from "../lib/units";
+import { channelUnits, traceUnits, type ChannelUnits } from "../../../lib/trace-units";
 
 export interface TraceUnits {
   /** each trace's channels' unit models (shared/trace/units), by trace id */

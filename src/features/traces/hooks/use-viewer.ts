@@ -13,7 +13,7 @@ import { usePlotModel } from "./use-plot-model";
 import { useFrameThrottle } from "./use-frame-throttle";
 import { sameWindow } from "../lib/zoom";
 import { defaultCursors, type CursorPositions } from "../lib/readout";
-import { formatLevel, formatTime } from "../lib/units";
+import { formatLevel, formatTime } from "../../../lib/trace-units";
 import { plotAreaWidth } from "../plot/layout";
 
 const NONE: never[] = [];

@@ -1,7 +1,7 @@
 /** The capture view: the screen the technician saw, from the trace's capture settings. */
 import { SCREEN_DIVISIONS_X, SCREEN_DIVISIONS_Y, screenVoltageRange } from "../../../../shared/schemas/capture-settings";
 import type { TraceInfo } from "../types";
-import { traceUnits, type ChannelUnits } from "./units";
+import { traceUnits, type ChannelUnits } from "../../../lib/trace-units";
 
 /** Where the trigger sits on the screen when the trigger point is known (10–20 % pre-trigger). */
 export const PRE_TRIGGER_FRACTION = 0.15;

@@ -1,7 +1,7 @@
 /** Geometry of what the viewer draws over the plot (events, annotations, cursors), and hit tests. Pure. */
 import type { Annotation, TraceAnalysis } from "../types";
 import type { CursorPositions } from "./readout";
-import { toPhysical, type ChannelUnits } from "./units";
+import { toPhysical, type ChannelUnits } from "../../../lib/trace-units";
 
 /**
  * A value of the analysis, in `analysis.unit`, in the channel's physical unit on the plot (shared
