@@ -19,7 +19,7 @@ import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
 import { median, percentile, type BenchResult } from "./types";
-import { openDatabase } from "../server/db/client";
+import { openFile } from "../server/db/client";
 import { insertCasebookEntries } from "../server/services/casebook";
 import { CasebookSearchEngine, plainFtsSearch, type CasebookSearchQuery } from "../server/services/casebook-search-engine";
 import { searchCasebook, stopCasebookSearch, warmCasebookSearch } from "../server/services/casebook-search";
@@ -43,20 +43,21 @@ export default async function bench(): Promise<BenchResult[]> {
   const file = path.join(dir, "bench.db");
   const results: BenchResult[] = [];
   try {
-    const db = openDatabase(file);
+    const db = openFile(file);
+    const raw = db.sqlite!;
     // ---- 100,000 dense entries, with patterns (about a third are ignition cases)
     const t0 = process.hrtime.bigint();
     const BATCH = 10_000;
     for (let b = 0; b < ENTRIES / BATCH; b++) {
-      insertCasebookEntries(db, syntheticEntries(BATCH, 1000 + b, { dense: true }).map((e, i) => ({ ...e, publishedAt: new Date(Date.UTC(2020, 0, 1) + (b * BATCH + i) * 60_000) })), { scrub: false });
+      await insertCasebookEntries(db, syntheticEntries(BATCH, 1000 + b, { dense: true }).map((e, i) => ({ ...e, publishedAt: new Date(Date.UTC(2020, 0, 1) + (b * BATCH + i) * 60_000) })), { scrub: false });
     }
-    db.$client.exec("INSERT INTO casebook_fts(casebook_fts) VALUES ('optimize')");
+    raw.exec("INSERT INTO casebook_fts(casebook_fts) VALUES ('optimize')");
     const buildS = ms(t0) / 1000;
     results.push({ name: "build: 100,000 dense entries inserted with the FTS triggers", value: buildS, unit: "s" });
 
     // ---- the query mix
-    db.$client.exec("CREATE VIRTUAL TABLE IF NOT EXISTS temp.cb_vocab USING fts5vocab(main, casebook_fts, 'row')");
-    const common = db.$client
+    raw.exec("CREATE VIRTUAL TABLE IF NOT EXISTS temp.cb_vocab USING fts5vocab(main, casebook_fts, 'row')");
+    const common = raw
       .prepare("SELECT term, doc FROM temp.cb_vocab WHERE term NOT LIKE 'x%q' ORDER BY doc DESC LIMIT 6")
       .all() as { term: string; doc: number }[];
     const mix: CasebookSearchQuery[] = [
@@ -104,19 +105,19 @@ export default async function bench(): Promise<BenchResult[]> {
     // ---- the engine, in-thread on a read-only connection: cold, then warm
     const engine = new CasebookSearchEngine(ro);
     let t = process.hrtime.bigint();
-    engine.refresh();
+    await engine.refresh();
     results.push({ name: "engine: load of the facet arrays (once per worker)", value: ms(t), unit: "ms" });
     const cold: number[] = [];
     for (const q of mix) {
       t = process.hrtime.bigint();
-      engine.search(q);
+      await engine.search(q);
       cold.push(ms(t));
     }
     const warm: number[] = [];
     for (let r = 0; r < ROUNDS; r++) {
       for (const q of mix) {
         t = process.hrtime.bigint();
-        engine.search(q);
+        await engine.search(q);
         warm.push(ms(t));
       }
     }
@@ -176,10 +177,10 @@ export default async function bench(): Promise<BenchResult[]> {
     // ---- similar cases over 100,000 vectors
     const rng = createRng(77);
     const ix = new SimilarIndex();
-    const vecDb = openDatabase(path.join(dir, "vectors.db"));
-    const ins = vecDb.$client.prepare("INSERT INTO casebook_vector (entry_id, version, vector, pattern, kinds) VALUES (?, 1, ?, '{}', '')");
-    vecDb.$client.pragma("foreign_keys = OFF");
-    vecDb.$client.transaction(() => {
+    const vecDb = openFile(path.join(dir, "vectors.db")).sqlite!;
+    const ins = vecDb.prepare("INSERT INTO casebook_vector (entry_id, version, vector, pattern, kinds) VALUES (?, 1, ?, '{}', '')");
+    vecDb.pragma("foreign_keys = OFF");
+    vecDb.transaction(() => {
       for (let i = 0; i < VECTORS; i++) {
         const v = patternVector(syntheticPattern(rng));
         ix.put(`e${i}`, v, true);
@@ -194,7 +195,7 @@ export default async function bench(): Promise<BenchResult[]> {
       simTimes.push(ms(t));
     }
     const naiveTimes: number[] = [];
-    const all = vecDb.$client.prepare("SELECT entry_id, vector FROM casebook_vector").raw();
+    const all = vecDb.prepare("SELECT entry_id, vector FROM casebook_vector").raw();
     for (const q of queries.slice(0, 10)) {
       t = process.hrtime.bigint();
       const scored = (all.all() as [string, Buffer][]).map(([id, b]) => ({ id, d: featureDistance(q, vectorFromBlob(b)) }));
@@ -206,8 +207,8 @@ export default async function bench(): Promise<BenchResult[]> {
     results.push({ name: "baseline: similar lookup reading every vector from SQLite, median", value: naive.median, unit: "ms" });
     results.push({ name: "similar lookup over 100,000 vectors in memory: median", value: sim.median, unit: "ms", baseline: "read from SQLite", ratio: sim.median / naive.median });
     results.push({ name: "similar lookup over 100,000 vectors in memory: p95", value: sim.p95, unit: "ms", goal: "< 50 ms", pass: sim.p95 < 50 });
-    vecDb.$client.close();
-    db.$client.close();
+    vecDb.close();
+    await db.close();
   } finally {
     fs.rmSync(dir, { recursive: true, force: true });
   }

@@ -35,13 +35,13 @@ interface Rig {
   close(): Promise<void>;
 }
 
-async function liveRig(): Promise<Rig & { count(): number }> {
+async function liveRig(): Promise<Rig & { count(): Promise<number> }> {
   const server = await startTestServer();
   const team = await createShopTeam(server);
   const e = await createExpert(server);
   const tech = await signIn(server, team.technicians[0]);
   const expert = await signIn(server, e);
-  const c = insertLiveCase(server.ctx, { shopId: team.shop.id, createdBy: team.technicians[0].id, expertId: e.id });
+  const c = (await insertLiveCase(server.ctx, { shopId: team.shop.id, createdBy: team.technicians[0].id, expertId: e.id }));
   const url = `http://127.0.0.1:${server.port}`;
   const join = async (cookie: string) => {
     const s = await connected(liveClient(url, { cookie }));
@@ -62,7 +62,12 @@ async function liveRig(): Promise<Rig & { count(): number }> {
     onReceive(fn) {
       receivers.forEach((s, r) => s.on("annotation:created", (a: AnnotationRecord) => fn(r, a.id, a.seq)));
     },
-    count: () => server.ctx.db.select({ n: sql<number>`count(*)` }).from(schema.annotation).where(eq(schema.annotation.caseId, c.caseId)).get()!.n,
+    count: async () =>
+      Number(
+        (await server.ctx.db.read((tx) =>
+          tx.select({ n: sql<number>`count(*)` }).from(schema.annotation).where(eq(schema.annotation.caseId, c.caseId)).get(),
+        ))!.n,
+      ),
     async close() {
       for (const s of [sender, ...receivers]) s.disconnect();
       await server.close();
@@ -206,7 +211,7 @@ export default async function bench(): Promise<BenchResult[]> {
 
   const liveSusRig = await liveRig();
   const liveSus = await sustained(liveSusRig, 0);
-  const stored = liveSusRig.count();
+  const stored = await liveSusRig.count();
   await liveSusRig.close();
 
   const bareMed = median(bareTimes);

@@ -218,7 +218,9 @@ async function chooseToVisible(file: string): Promise<BenchResult> {
     const compressS = (compressedAt - t0) / 1000;
     const tailS = visibleS - compressS;
     await compressing;
-    const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, answer.trace.id)).get();
+    const row = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.trace).where(eq(schema.trace.id, answer.trace.id)).get(),
+    );
     if (!row) throw new Error("the trace was not stored");
     const ratio = visibleS / rawS;
     return {

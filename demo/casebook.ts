@@ -365,6 +365,6 @@ export function toCasebookInput(e: DemoCasebookEntry, expertId: string | null, n
 export async function seedCasebook(ctx: AppContext, users: Record<string, CreatedUser>): Promise<number> {
   const now = ctx.now();
   const inputs = demoCasebookEntries().map((e) => toCasebookInput(e, users[e.expert]?.id ?? null, now));
-  insertCasebookEntries(ctx.db, inputs, { now });
-  return ctx.db.select({ n: count() }).from(schema.casebookEntry).get()?.n ?? 0;
+  await insertCasebookEntries(ctx.db, inputs, { now });
+  return (await ctx.db.read((tx) => tx.select({ n: count() }).from(schema.casebookEntry).get()))?.n ?? 0;
 }

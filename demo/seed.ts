@@ -42,6 +42,7 @@ import { DEMO_ADMIN, DEMO_EXPERTS, DEMO_SHOPS } from "./people";
 import { DEMO_CASES, type DemoCase } from "./cases";
 import type { DemoTrace } from "./traces";
 import { seedCasebook } from "./casebook";
+import { syncDb } from "../server/db/client";
 
 export { DEMO_PASSWORD, DEMO_SIGN_INS };
 
@@ -200,11 +201,11 @@ async function runStory(
       const tr = traces[m.trace];
       const pos = m.at(tr.truth);
       const input = annotationCreateSchema.parse({ traceId: traceRows[m.trace].id, kind: m.kind, ...pos, ...(m.label ? { label: m.label } : {}) });
-      createAnnotation(ctx, withColor(ctx.db, who), caseId, input);
+      await createAnnotation(ctx, await ctx.db.read((tx) => withColor(tx, who)), caseId, input);
     } else {
       const msg = msgs[item.i];
       const who = msg.by === "expert" ? expert : tech;
-      postMessage(ctx, withColor(ctx.db, who), caseId, { text: msg.text, ...(msg.request ? { request: dataRequestSchema.parse(msg.request) } : {}) });
+      await postMessage(ctx, await ctx.db.read((tx) => withColor(tx, who)), caseId, { text: msg.text, ...(msg.request ? { request: dataRequestSchema.parse(msg.request) } : {}) });
       if (msg.request && c.requestData) await requestData(ctx, expert, caseId, c.requestData.message);
     }
   }
@@ -275,7 +276,8 @@ export async function seedDemo(ctx: AppContext, opts: { log?: (line: string) => 
       }
       const ts = performance.now();
       await runStory(ctx, clock, c, out.users, out, log);
-      const status = getCaseRow(ctx.db, out.cases[c.key])?.status as CaseStatus | undefined;
+      const row = await ctx.db.read((tx) => getCaseRow(tx, out.cases[c.key]));
+      const status = row?.status as CaseStatus | undefined;
       if (status !== c.final) throw new Error(`demo seed: case "${c.key}" ended ${status ?? "missing"}, expected ${c.final}`);
       out.timings[`case:${c.key}`] = Math.round(performance.now() - ts);
       log(`case ${c.key}: ${c.final} (${out.timings[`case:${c.key}`]} ms)`);
@@ -299,7 +301,7 @@ export async function seedDemo(ctx: AppContext, opts: { log?: (line: string) => 
  * data was already there.
  */
 export async function seedDemoIfEmpty(ctx: AppContext): Promise<boolean> {
-  const n = ctx.db.select({ n: count() }).from(schema.user).get()?.n ?? 0;
+  const n = (await ctx.db.read((tx) => tx.select({ n: count() }).from(schema.user).get()))?.n ?? 0;
   if (n > 0) return false;
   const r = await seedDemo(ctx);
   ctx.logger.info({ timings: r.timings, cases: Object.keys(r.cases).length, casebook: r.casebookEntries }, "demo seeded");
@@ -307,6 +309,7 @@ export async function seedDemoIfEmpty(ctx: AppContext): Promise<boolean> {
 }
 
 /** For tests: the user row of a demo e-mail. */
-export function demoUserId(ctx: AppContext, email: string): string | undefined {
-  return ctx.db.select({ id: schema.user.id }).from(schema.user).where(eq(schema.user.email, email)).get()?.id;
+export async function demoUserId(ctx: AppContext, email: string): Promise<string | undefined> {
+  const row = await ctx.db.read((tx) => tx.select({ id: schema.user.id }).from(schema.user).where(eq(schema.user.email, email)).get());
+  return row?.id;
 }

@@ -35,9 +35,8 @@ import {
 const WEBHOOK_SECRET_DEFAULT = "whsec_burnline_local";
 
 /**
- * The environment of every app node (and of the one-off prepare step). The nodes still share one
- * SQLite file on this machine; once the app speaks to the libSQL server and Redis, the switch is the
- * DATABASE_URL line below: `DATABASE_URL: plan.libsqlUrl` (REDIS_URL is already passed).
+ * The environment of every app node (and of the one-off prepare step): the libSQL server, Redis,
+ * the shared data folder and the fakes started once.
  */
 function nodeEnv(plan: ClusterPlan, fakes: LocalFakes, port: number): NodeJS.ProcessEnv {
   return {
@@ -46,7 +45,7 @@ function nodeEnv(plan: ClusterPlan, fakes: LocalFakes, port: number): NodeJS.Pro
     HOST: "127.0.0.1",
     PUBLIC_URL: process.env.PUBLIC_URL || plan.frontUrl,
     DATA_DIR: plan.dataDir,
-    DATABASE_URL: plan.sqliteFile,
+    DATABASE_URL: plan.libsqlUrl,
     REDIS_URL: plan.redisUrl,
     ...fakes.nodeEnv,
   };
@@ -93,7 +92,7 @@ interface Prepared {
 
 /** Migrations and the demo seed, once, in a child process with the nodes' environment. */
 async function prepare(sup: Supervisor, plan: ClusterPlan, fakes: LocalFakes): Promise<Prepared> {
-  const env = { ...nodeEnv(plan, fakes, 0), CLUSTER_LIBSQL_URL: plan.libsqlUrl };
+  const env = nodeEnv(plan, fakes, 0);
   const p = sup.start("prepare", process.execPath, ["--import", "tsx", "scripts/cluster/prepare.ts"], { env, critical: false });
   await new Promise<void>((resolve) => (p.exited ? resolve() : p.child.once("exit", () => resolve())));
   // the log is appended to across runs: this run's line is the last one
@@ -136,7 +135,7 @@ function printSummary(plan: ClusterPlan, prepared: Prepared, fakes: LocalFakes):
   plan.nodePorts.forEach((p, i) => say(`  node ${i + 1}`.padEnd(20) + `http://127.0.0.1:${p}`));
   say(`  Redis             ${plan.redisUrl}`);
   const migrations = prepared.libsqlMigrations === null ? "" : `, ${prepared.libsqlMigrations} migrations applied`;
-  say(`  libSQL server     ${plan.libsqlUrl}${migrations} (the nodes share ${rel(plan.sqliteFile)} until they speak to it)`);
+  say(`  libSQL server     ${plan.libsqlUrl}${migrations} (its database in ${rel(plan.libsqlDir)}/)`);
   say(`  mail catcher      smtp://127.0.0.1:${fakes.mail.port} (caught mail in ${rel(path.join(plan.dataDir, "mail"))}/)`);
   say(`  Stripe fake       ${fakes.stripe.url}`);
   say(`  data              ${plan.dataDir} (logs in ${rel(plan.logsDir)}/)`);

@@ -14,8 +14,8 @@ export type { EnqueueOptions, OutboxMail };
 export interface Mailer {
   /** Queues the mail; resolves with the outbox row id as `messageId`. */
   send(mail: OutboxMail, opts?: EnqueueOptions): Promise<{ messageId: string }>;
-  /** The same, synchronously, for use inside a transaction (`opts.tx`); returns the row ids. */
-  enqueue(mail: OutboxMail, opts?: EnqueueOptions): string[];
+  /** The same (inside the unit `opts.tx` when given); returns the row ids. */
+  enqueue(mail: OutboxMail, opts?: EnqueueOptions): Promise<string[]>;
   /** Resolves when every queued mail has been sent or given up (tests, shutdown). */
   drain(timeoutMs?: number): Promise<void>;
 }
@@ -24,7 +24,10 @@ export interface Mailer {
 export interface Realtime {
   toCase(caseId: string, event: string, payload: unknown): void;
   toUser(userId: string, event: string, payload: unknown): void;
+  /** drops every live connection of the user, on every node */
   disconnectUser(userId: string): void;
+  /** drops the live connections opened with one session (sign-out), on every node */
+  disconnectSession(sessionId: string): void;
 }
 
 /** The demo accounts shown on the sign-in page in demo mode (from the entry point; server/ never imports demo/). */
@@ -54,4 +57,4 @@ export interface AppContext {
   demo: DemoAccounts | null;
 }
 
-export const noRealtime: Realtime = { toCase() {}, toUser() {}, disconnectUser() {} };
+export const noRealtime: Realtime = { toCase() {}, toUser() {}, disconnectUser() {}, disconnectSession() {} };

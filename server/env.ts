@@ -14,7 +14,16 @@ export const envSchema = z.object({
   PORT: z.coerce.number().int().min(0).max(65535).default(3000),
   HOST: z.string().default("0.0.0.0"),
   PUBLIC_URL: z.string().url().optional(),
+  /** a SQLite file (embedded, one node) or a libSQL server: libsql://…, http(s)://… (several nodes) */
   DATABASE_URL: z.string().default("data/burnline.db"),
+  /** sent to the libSQL server when set (the hosted service needs one) */
+  DATABASE_AUTH_TOKEN: z.string().optional(),
+  /** at most this many units of work of one node open on the libSQL server at once */
+  DATABASE_CONCURRENCY: z.coerce.number().int().min(1).max(1000).default(32),
+  /** redis://… turns on the socket.io Redis streams adapter, shared presence and BullMQ queues (several nodes) */
+  REDIS_URL: z.string().url().optional(),
+  /** how often the queue's timed moves run, ms (default 30 s) */
+  QUEUE_SWEEP_MS: z.coerce.number().int().min(200).optional(),
   DATA_DIR: z.string().default("data"),
   AUTH_SECRET: z.string().min(32).default("burnline-local-development-secret-change-me-0001"),
   /** seed and show the demo scenario; defaults to on outside production, refused in production */

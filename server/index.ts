@@ -3,7 +3,7 @@ import path from "node:path";
 import type { Logger } from "pino";
 import Stripe from "stripe";
 import { loadEnv, type Env } from "./env";
-import { openDatabase } from "./db/client";
+import { openDatabase, type Db } from "./db/client";
 import { createApp } from "./app";
 import { noRealtime, type AppContext, type DemoPlugin } from "./context";
 import { createMailer } from "./integrations/mailer";
@@ -11,10 +11,11 @@ import { createStripeClient } from "./integrations/payments";
 import { startMailCatcher } from "./fakes/smtp";
 import { startFakeStripe } from "./fakes/stripe/index";
 import { attachRealtime } from "./realtime/index";
-import { startBackground } from "./services/background";
+import { connectRedis, type SharedRedis } from "./cluster/redis";
+import { startBackground, type Sweep } from "./services/background";
 import { workflowSweeps } from "./workflow/sweeps";
 import { stopUploadPool } from "./uploads/pool";
-import { reconcileDataFolder, startReconcileTimer } from "./uploads/reconcile";
+import { RECONCILE_EVERY_MS, reconcileDataFolder, startReconcileTimer } from "./uploads/reconcile";
 import { stopCasebookSearch, warmCasebookSearch } from "./services/casebook-search";
 import { createLogger } from "./logging";
 import { createReadiness, healthAnswer, type Readiness } from "./readiness";
@@ -78,14 +79,25 @@ export async function startServer(
       ? env
       : { ...env, PORT: port, publicUrl: env.PUBLIC_URL ?? `http://localhost:${port}` };
 
-  let db: ReturnType<typeof openDatabase>;
+  let db: Db;
   try {
-    db = openDatabase(env.DATABASE_URL);
+    db = await openDatabase(env.DATABASE_URL, { authToken: env.DATABASE_AUTH_TOKEN, concurrency: env.DATABASE_CONCURRENCY });
   } catch (err) {
     server.close();
     throw err;
   }
   parts.database();
+
+  let redis: SharedRedis | null = null;
+  if (env.REDIS_URL) {
+    try {
+      redis = await connectRedis(env.REDIS_URL, log);
+    } catch (err) {
+      server.close();
+      await db.close();
+      throw err;
+    }
+  }
 
   let mailCatcher: RunningServer["mailCatcher"] = null;
   let smtp = { host: env.SMTP_HOST, port: env.SMTP_PORT };
@@ -137,14 +149,20 @@ export async function startServer(
     readiness,
     demo: demo ? { password: demo.password, signIns: demo.signIns } : null,
   };
-  // leftovers of a crash go before the first request can start an upload
-  await reconcileDataFolder(ctx, { startup: true });
-  const reconcileTimer = startReconcileTimer(ctx);
+  // leftovers of a crash go before the first request can start an upload (on several nodes, only
+  // what is past the grace period: the others may be writing; and the periodic pass is a shared job)
+  await reconcileDataFolder(ctx, { startup: true, shared: !!redis });
+  const reconcileTimer = redis ? { stop() {} } : startReconcileTimer(ctx);
   const app = createApp(ctx, { clientDir: path.resolve("dist/client") });
   handler = app;
-  const realtime = attachRealtime(server, ctx, app.locals.auth);
+  const realtime = await attachRealtime(server, ctx, app.locals.auth, { redis });
   ctx.realtime = realtime;
-  const background = startBackground(ctx, workflowSweeps);
+  const reconcile: Sweep = {
+    name: "data-folder",
+    everyMs: RECONCILE_EVERY_MS,
+    run: (c) => reconcileDataFolder(c, { shared: true }),
+  };
+  const background = await startBackground(ctx, redis ? [...sweepsFor(env), reconcile] : sweepsFor(env), redis);
   // Built ahead of the first request outside tests (tests build them on first use, which is as
   // correct and spares every test server the start-up work).
   if (env.NODE_ENV !== "test") {
@@ -178,7 +196,7 @@ export async function startServer(
     ready,
     async close() {
       readiness.stopping();
-      background.stop();
+      await background.stop();
       await dispatcher.stop();
       reconcileTimer.stop();
       await realtime.close();
@@ -189,9 +207,15 @@ export async function startServer(
       await mailCatcher?.close();
       await stopCasebookSearch(ctx);
       if (--running === 0) await stopUploadPool();
-      db.$client.close();
+      await redis?.close();
+      await db.close();
     },
   };
+}
+
+/** The workflow's sweeps, the queue sweep's period set by QUEUE_SWEEP_MS when given. */
+function sweepsFor(env: Env): Sweep[] {
+  return workflowSweeps.map((s) => (s.name === "queue" && env.QUEUE_SWEEP_MS ? { ...s, everyMs: env.QUEUE_SWEEP_MS } : s));
 }
 
 /** Answers while the app is being built: health (503 with what is pending), liveness (200), anything else 503. */

@@ -43,6 +43,6 @@ export async function createExpert(on: HasCtx, opts: CreateExpertOptions = {}): 
     decidedAt: st === "pending" ? null : ctx.now(),
     createdAt: ctx.now(),
   };
-  ctx.db.insert(schema.expertProfile).values(profile).run();
+  await ctx.db.write((tx) => tx.insert(schema.expertProfile).values(profile).run());
   return { ...user, profile };
 }

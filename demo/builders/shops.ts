@@ -15,6 +15,6 @@ export async function createShop(on: HasCtx, opts: { name?: string; id?: string 
     stripeCustomerId: null,
     createdAt: ctx.now(),
   };
-  ctx.db.insert(schema.shop).values(row).run();
+  await ctx.db.write((tx) => tx.insert(schema.shop).values(row).run());
   return row;
 }

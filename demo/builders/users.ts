@@ -62,11 +62,13 @@ export async function createUser(on: HasCtx, opts: CreateUserOptions = {}): Prom
   const password = opts.password ?? FACTORY_PASSWORD;
   const hash = await cachedHash(password);
   const now = ctx.now();
-  ctx.db.transaction((tx) => {
-    tx.insert(schema.user)
+  await ctx.db.write(async (tx) => {
+    await tx
+      .insert(schema.user)
       .values({ id, name, email, emailVerified: opts.emailVerified ?? true, role, shopId, color: opts.color ?? null, createdAt: now, updatedAt: now })
       .run();
-    tx.insert(schema.account)
+    await tx
+      .insert(schema.account)
       .values({ id: crypto.randomUUID(), accountId: id, providerId: "credential", userId: id, password: hash, createdAt: now, updatedAt: now })
       .run();
   });

@@ -33,8 +33,6 @@ export interface ClusterPlan {
   stripePort: number;
   redisUrl: string;
   libsqlUrl: string;
-  /** the database file the nodes share until they speak to the libSQL server */
-  sqliteFile: string;
   logsDir: string;
   /** generated configs and the pid list */
   runDir: string;
@@ -68,7 +66,6 @@ export function clusterPlan(env: NodeJS.ProcessEnv = process.env): ClusterPlan {
     stripePort,
     redisUrl: `redis://127.0.0.1:${redisPort}`,
     libsqlUrl: `http://127.0.0.1:${libsqlPort}`,
-    sqliteFile: path.join(dataDir, "burnline.db"),
     logsDir: path.join(dataDir, "logs"),
     runDir: path.join(dataDir, "cluster"),
     redisDir: path.join(dataDir, "redis"),

@@ -71,7 +71,7 @@ export function createAuth(ctx: AppContext) {
     basePath: AUTH_BASE_PATH,
     secret: env.AUTH_SECRET,
     trustedOrigins: trustedOrigins(ctx),
-    database: drizzleAdapter(ctx.db, {
+    database: drizzleAdapter(ctx.db.orm, {
       provider: "sqlite",
       schema: { user: schema.user, session: schema.session, account: schema.account, verification: schema.verification, rateLimit: schema.rateLimit },
     }),
@@ -122,10 +122,18 @@ export function createAuth(ctx: AppContext) {
       session: {
         create: {
           before: async (session) => {
-            const u = ctx.db.select({ deactivatedAt: schema.user.deactivatedAt }).from(schema.user).where(eq(schema.user.id, session.userId)).get();
+            const u = await ctx.db.read((tx) =>
+              tx.select({ deactivatedAt: schema.user.deactivatedAt }).from(schema.user).where(eq(schema.user.id, session.userId)).get(),
+            );
             if (!u || u.deactivatedAt) {
               throw new APIError("FORBIDDEN", { code: "ACCOUNT_DEACTIVATED", message: "This account has been removed from its shop. Ask the shop's owner for a new invitation." });
             }
+          },
+        },
+        // signing out (or a reset that ends the sessions): the session's sockets close on every node
+        delete: {
+          after: async (session) => {
+            ctx.realtime.disconnectSession(String(session.id));
           },
         },
       },
@@ -171,7 +179,7 @@ async function guarded(
   const ip = request.headers.get(CLIENT_IP_HEADER) ?? "0.0.0.0";
   if (path === "/sign-in/email") return throttledSignIn(ctx, handler, request, ip, String(body.email));
   if (path === "/request-password-reset") {
-    const retryAfter = hitRateLimit(ctx, `app|${ip}|request-password-reset`, RESET_REQUEST_RULE);
+    const retryAfter = await hitRateLimit(ctx, `app|${ip}|request-password-reset`, RESET_REQUEST_RULE);
     if (retryAfter !== null) {
       return tooMany("rate_limited", `Too many attempts. Wait ${retryAfter} seconds, then try again.`, retryAfter);
     }
@@ -199,7 +207,7 @@ async function throttledSignIn(
   ip: string,
   email: string,
 ): Promise<Response> {
-  const gate = reserveSignIn(ctx, ip, email);
+  const gate = await reserveSignIn(ctx, ip, email);
   if ("scope" in gate) {
     return gate.scope === "address"
       ? tooMany("rate_limited", `Too many attempts. Wait ${gate.retryAfter} seconds, then try again.`, gate.retryAfter)
@@ -216,8 +224,8 @@ async function throttledSignIn(
     outcome = await signInOutcome(res);
     return res;
   } finally {
-    const { notifyOwner } = gate.settle(outcome);
-    if (notifyOwner) afterResponse(() => mailOwnerAboutFailures(ctx, email));
+    const { notifyOwner } = await gate.settle(outcome);
+    if (notifyOwner) afterResponse(() => void mailOwnerAboutFailures(ctx, email));
   }
 }
 
@@ -238,12 +246,12 @@ async function signInOutcome(res: Response): Promise<Outcome> {
   return "other";
 }
 
-function mailOwnerAboutFailures(ctx: AppContext, email: string): void {
+async function mailOwnerAboutFailures(ctx: AppContext, email: string): Promise<void> {
   try {
-    const u = ctx.db.select().from(schema.user).where(eq(schema.user.email, email.toLowerCase())).get();
+    const u = await ctx.db.read((tx) => tx.select().from(schema.user).where(eq(schema.user.email, email.toLowerCase())).get());
     if (!u || u.deactivatedAt) return;
     const content = mails.signInFailures(u.name, `${ctx.env.publicUrl}/forgot-password`);
-    void sendMail(ctx, u.email, content, { kind: "sign_in_failures" });
+    await sendMail(ctx, u.email, content, { kind: "sign_in_failures" });
   } catch (err) {
     ctx.logger.error({ err }, "could not queue the failed sign-in notice");
   }

@@ -24,13 +24,8 @@ export function renderAccountMail(m: MailContent): { subject: string; text: stri
  * write it inside the transaction that makes the change it reports.
  */
 export async function sendMail(ctx: AppContext, to: string, m: MailContent, opts: EnqueueOptions = {}): Promise<void> {
-  enqueueAccountMail(ctx, to, m, opts);
-}
-
-/** The same, synchronously (for use inside a transaction). */
-export function enqueueAccountMail(ctx: AppContext, to: string, m: MailContent, opts: EnqueueOptions = {}): void {
   const r = renderAccountMail(m);
-  ctx.mailer.enqueue({ to, subject: r.subject, text: r.text, html: r.html }, { kind: opts.kind ?? "account", ...opts });
+  await ctx.mailer.enqueue({ to, subject: r.subject, text: r.text, html: r.html }, { kind: opts.kind ?? "account", ...opts });
 }
 
 /**

@@ -15,17 +15,17 @@ export interface RateRule {
  * rest are refused until it closes), stored in the `rate_limit` table better-auth also uses.
  * Returns null when the request may pass, else the seconds until the window closes.
  */
-export function hitRateLimit(ctx: AppContext, key: string, rule: RateRule): number | null {
+export async function hitRateLimit(ctx: AppContext, key: string, rule: RateRule): Promise<number | null> {
   const now = ctx.now().getTime();
   const windowMs = rule.window * 1000;
-  const row = ctx.db.get<{ count: number; last_request: number }>(sql`
+  const [row] = await ctx.db.write((tx) => tx.all<{ count: number; last_request: number }>(sql`
     INSERT INTO rate_limit (id, key, count, last_request) VALUES (${crypto.randomUUID()}, ${key}, 1, ${now})
     ON CONFLICT(key) DO UPDATE SET
       count = CASE WHEN ${now} - rate_limit.last_request >= ${windowMs} THEN 1 ELSE rate_limit.count + 1 END,
       last_request = CASE WHEN ${now} - rate_limit.last_request >= ${windowMs}
         THEN ${now} ELSE rate_limit.last_request END
-    RETURNING count, last_request`);
-  if (row && row.count > rule.max) return Math.max(1, Math.ceil((row.last_request + windowMs - now) / 1000));
+    RETURNING count, last_request`));
+  if (row && Number(row.count) > rule.max) return Math.max(1, Math.ceil((Number(row.last_request) + windowMs - now) / 1000));
   return null;
 }
 
@@ -40,9 +40,10 @@ export function rateLimited(retryAfter: number): HttpError {
  */
 export function rateLimit(ctx: AppContext, name: string, rule: RateRule): RequestHandler {
   return (req, res, next) => {
-    const retryAfter = hitRateLimit(ctx, `app|${normaliseIp(req.ip ?? req.socket.remoteAddress)}|${name}`, rule);
-    if (retryAfter === null) return next();
-    res.setHeader("Retry-After", String(retryAfter));
-    next(rateLimited(retryAfter));
+    hitRateLimit(ctx, `app|${normaliseIp(req.ip ?? req.socket.remoteAddress)}|${name}`, rule).then((retryAfter) => {
+      if (retryAfter === null) return next();
+      res.setHeader("Retry-After", String(retryAfter));
+      next(rateLimited(retryAfter));
+    }, next);
   };
 }

@@ -13,12 +13,13 @@
  *   failures reaches the threshold, the account's owner is mailed (once per run).
  *
  * An attempt reserves its place before the password is checked (the counters are updated in the
- * same immediate transaction that reads them), so simultaneous attempts are counted one by one;
+ * same write unit that reads them, on whichever node the attempt arrives), so simultaneous attempts are counted one by one;
  * an attempt that ends neither in a wrong password nor in a success gives its place back.
  */
 import { createHash } from "node:crypto";
 import { sql } from "drizzle-orm";
 import type { AppContext } from "../context";
+import type { Tx } from "../db/client";
 
 export const ADDRESS_RULE = { window: 60, max: 5 } as const;
 export const ACCOUNT_FREE_FAILURES = 6;
@@ -31,7 +32,7 @@ export type Outcome = "success" | "failure" | "other";
 
 export interface Reservation {
   /** Records how the attempt ended; returns true when this failure is the one to tell the owner about. */
-  settle(outcome: Outcome): { notifyOwner: boolean };
+  settle(outcome: Outcome): Promise<{ notifyOwner: boolean }>;
 }
 
 /** The wait, in seconds, before attempt number failures+1 once `failures` have failed in a row. */
@@ -53,74 +54,67 @@ interface Row {
  * Checks both limits for one attempt and, when it may go ahead, reserves it. Returns the refusal
  * (with the seconds to wait) or the reservation to settle once the attempt's outcome is known.
  */
-export function reserveSignIn(ctx: AppContext, ip: string, email: string): Refusal | Reservation {
+export async function reserveSignIn(ctx: AppContext, ip: string, email: string): Promise<Refusal | Reservation> {
   const now = ctx.now().getTime();
   const aKey = addressKey(ip);
   const kKey = accountKey(email);
-  const read = (key: string) =>
-    ctx.db.get<Row | undefined>(sql`SELECT count, last_request FROM rate_limit WHERE key = ${key}`);
-  const write = (key: string, count: number, last: number) =>
-    ctx.db
-      .run(sql`INSERT INTO rate_limit (id, key, count, last_request)
+  // (all, not get: drizzle's libSQL driver fails a raw get that finds no row)
+  const read = async (tx: Tx, key: string): Promise<Row | undefined> =>
+    (await tx.all<Row>(sql`SELECT count, last_request FROM rate_limit WHERE key = ${key}`))[0];
+  const write = (tx: Tx, key: string, count: number, last: number) =>
+    tx.run(sql`INSERT INTO rate_limit (id, key, count, last_request)
         VALUES (${crypto.randomUUID()}, ${key}, ${count}, ${last})
       ON CONFLICT(key) DO UPDATE SET count = excluded.count, last_request = excluded.last_request`);
 
   type Decision = Refusal | { failures: number; addressStart: number };
-  const decided = ctx.db.transaction(
-    (): Decision => {
-      const windowMs = ADDRESS_RULE.window * 1000;
-      let address = read(aKey);
-      if (address && now - address.last_request >= windowMs) address = undefined;
-      if (address && address.count >= ADDRESS_RULE.max) {
-        return {
-          scope: "address" as const,
-          retryAfter: Math.max(1, Math.ceil((address.last_request + windowMs - now) / 1000)),
-        };
-      }
-      let account = read(kKey);
-      if (account && now - account.last_request >= ACCOUNT_FORGET_AFTER_S * 1000) account = undefined;
-      const failures = account?.count ?? 0;
-      const wait = accountDelaySeconds(failures) * 1000;
-      if (account && wait > 0 && now < account.last_request + wait) {
-        return {
-          scope: "account" as const,
-          retryAfter: Math.max(1, Math.ceil((account.last_request + wait - now) / 1000)),
-        };
-      }
-      write(aKey, (address?.count ?? 0) + 1, address?.last_request ?? now);
-      write(kKey, failures + 1, now);
-      return { failures: failures + 1, addressStart: address?.last_request ?? now };
-    },
-    { behavior: "immediate" },
-  );
+  const decided = await ctx.db.write(async (tx): Promise<Decision> => {
+    const windowMs = ADDRESS_RULE.window * 1000;
+    let address = await read(tx, aKey);
+    if (address && now - Number(address.last_request) >= windowMs) address = undefined;
+    if (address && Number(address.count) >= ADDRESS_RULE.max) {
+      return {
+        scope: "address" as const,
+        retryAfter: Math.max(1, Math.ceil((Number(address.last_request) + windowMs - now) / 1000)),
+      };
+    }
+    let account = await read(tx, kKey);
+    if (account && now - Number(account.last_request) >= ACCOUNT_FORGET_AFTER_S * 1000) account = undefined;
+    const failures = Number(account?.count ?? 0);
+    const wait = accountDelaySeconds(failures) * 1000;
+    if (account && wait > 0 && now < Number(account.last_request) + wait) {
+      return {
+        scope: "account" as const,
+        retryAfter: Math.max(1, Math.ceil((Number(account.last_request) + wait - now) / 1000)),
+      };
+    }
+    const addressStart = address ? Number(address.last_request) : now;
+    await write(tx, aKey, Number(address?.count ?? 0) + 1, addressStart);
+    await write(tx, kKey, failures + 1, now);
+    return { failures: failures + 1, addressStart };
+  });
   if ("scope" in decided) return decided;
   const { failures, addressStart } = decided;
   // now and then, forget what no rule looks at any more (addresses typed once, old runs of failures)
   if (Math.random() < 0.01) {
-    ctx.db.run(
-      sql`DELETE FROM rate_limit WHERE key LIKE 'signin-%' AND last_request < ${now - ACCOUNT_FORGET_AFTER_S * 1000}`,
-    );
+    const before = now - ACCOUNT_FORGET_AFTER_S * 1000;
+    await ctx.db.write((tx) => tx.run(sql`DELETE FROM rate_limit WHERE key LIKE 'signin-%' AND last_request < ${before}`));
   }
 
   let settled = false;
   return {
-    settle(outcome) {
+    async settle(outcome) {
       if (settled) return { notifyOwner: false };
       settled = true;
-      ctx.db.transaction(
-        () => {
-          // the address counts failures only
-          if (outcome !== "failure")
-            ctx.db.run(
-              sql`UPDATE rate_limit SET count = MAX(0, count - 1)
+      await ctx.db.write(async (tx) => {
+        // the address counts failures only
+        if (outcome !== "failure")
+          await tx.run(
+            sql`UPDATE rate_limit SET count = MAX(0, count - 1)
                 WHERE key = ${aKey} AND last_request = ${addressStart}`,
-            );
-          if (outcome === "success") ctx.db.run(sql`DELETE FROM rate_limit WHERE key = ${kKey}`);
-          else if (outcome === "other")
-            ctx.db.run(sql`UPDATE rate_limit SET count = MAX(0, count - 1) WHERE key = ${kKey}`);
-        },
-        { behavior: "immediate" },
-      );
+          );
+        if (outcome === "success") await tx.run(sql`DELETE FROM rate_limit WHERE key = ${kKey}`);
+        else if (outcome === "other") await tx.run(sql`UPDATE rate_limit SET count = MAX(0, count - 1) WHERE key = ${kKey}`);
+      });
       return { notifyOwner: outcome === "failure" && failures === ACCOUNT_FREE_FAILURES };
     },
   };

@@ -2,6 +2,7 @@ import type { ErrorRequestHandler, RequestHandler } from "express";
 import { ZodError } from "zod";
 import { HttpError } from "./errors";
 import { zodIssues } from "./validate";
+import { TransactionTimeoutError } from "../db/unit-of-work";
 
 export const notFoundHandler: RequestHandler = (req, res) => {
   res.status(404).json({ error: { code: "not_found", message: `No such endpoint: ${req.method} ${req.path}` } });
@@ -34,6 +35,11 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
       status = 400;
       body = { code: "bad_upload", message: `Upload refused: ${err.message}` };
     }
+  } else if (err instanceof TransactionTimeoutError) {
+    // the libSQL server took the unit's write lock back: nothing of it was stored (docs/api.md)
+    status = 503;
+    body = { code: "database_busy", message: "The database was too busy to finish this; nothing was saved. Try again." };
+    res.set("Retry-After", "1");
   } else if (typeof err?.status === "number" && err.status >= 400 && err.status < 500) {
     status = err.status;
     body = { code: "bad_request", message: String(err.expose ? err.message : "Bad request.") };

@@ -4,7 +4,9 @@
  * and also looks every `pollMs` for retries that came due and rows other processes queued.
  *
  * Each row is claimed with a conditional update before it is sent and marked sent only by its
- * claimant, so two dispatchers on one database never send one row twice. A failed attempt is
+ * claimant, so two dispatchers on one database — in one process or on several nodes sharing a
+ * libSQL server — never send one row twice. Every node runs one; each polls, and the node that
+ * queued a mail wakes its own at once. A failed attempt is
  * retried with exponential backoff (base × 2^(attempt−1), ±20 % jitter, capped); a permanent SMTP
  * refusal (5xx reply) or the last attempt gives the row up. A claim older than `leaseMs` (its
  * dispatcher died in mid-send) is taken back; that is the one case where a mail may go out twice.
@@ -86,6 +88,7 @@ export function startMailDispatcher(opts: DispatcherOptions): MailDispatcher {
   const now = opts.now ?? (() => new Date());
   const random = opts.random ?? Math.random;
   const log = opts.logger;
+  const db = opts.db;
   let stopped = false;
   let running: Promise<void> | null = null;
   let again = false;
@@ -101,14 +104,15 @@ export function startMailDispatcher(opts: DispatcherOptions): MailDispatcher {
         ...(row.htmlBody ? { html: row.htmlBody } : {}),
         ...(row.replyTo ? { replyTo: row.replyTo } : {}),
       });
-      if (!markSent(opts.db, row.id, id, info.messageId, now()))
+      if (!(await db.write((tx) => markSent(tx, row.id, id, info.messageId, now()))))
         log.warn({ mailId: row.id }, "mail sent, but its claim had been taken over");
       else log.debug({ mailId: row.id, kind: row.kind }, "mail sent");
       return true;
     } catch (err) {
       const giveUp = permanent(err) || row.attempts >= cfg.maxAttempts;
       const retryAt = giveUp ? null : new Date(now().getTime() + retryDelayMs(row.attempts, cfg, random));
-      markFailed(opts.db, row.id, id, String((err as Error)?.message ?? err).slice(0, 500), retryAt);
+      const why = String((err as Error)?.message ?? err).slice(0, 500);
+      await db.write((tx) => markFailed(tx, row.id, id, why, retryAt));
       if (giveUp) log.error({ err, mailId: row.id, kind: row.kind, attempts: row.attempts }, "mail given up");
       else
         log.warn({ err, mailId: row.id, kind: row.kind, attempts: row.attempts, retryAt }, "mail not sent; will retry");
@@ -121,11 +125,11 @@ export function startMailDispatcher(opts: DispatcherOptions): MailDispatcher {
     for (;;) {
       const t = now();
       const stale = new Date(t.getTime() - cfg.leaseMs);
-      const ids = dueRows(opts.db, t, stale, 20);
+      const ids = await db.read((tx) => dueRows(tx, t, stale, 20));
       let claimed = 0;
       for (const rowId of ids) {
         if (stopped) return sent;
-        const row = claimRow(opts.db, rowId, id, now(), stale);
+        const row = await db.write((tx) => claimRow(tx, rowId, id, now(), stale));
         if (!row) continue;
         claimed++;
         if (await sendOne(row)) sent++;
@@ -134,16 +138,22 @@ export function startMailDispatcher(opts: DispatcherOptions): MailDispatcher {
     }
     if (now().getTime() - lastPrune > 3600_000) {
       lastPrune = now().getTime();
-      const removed = pruneOutbox(opts.db, new Date(lastPrune - 7 * DAY));
+      const removed = await db.write((tx) => pruneOutbox(tx, new Date(lastPrune - 7 * DAY)));
       if (removed) log.debug({ removed }, "old outbox rows removed");
     }
     return sent;
   }
 
-  function schedule() {
+  async function schedule() {
+    if (stopped) return;
+    let due: Date | null = null;
+    try {
+      due = await db.read((tx) => nextDueAt(tx));
+    } catch (err) {
+      log.error({ err }, "mail dispatcher could not read the outbox");
+    }
     if (stopped) return;
     if (timer) clearTimeout(timer);
-    const due = nextDueAt(opts.db);
     const wait = due ? Math.max(0, Math.min(cfg.pollMs, due.getTime() - now().getTime())) : cfg.pollMs;
     timer = setTimeout(kick, wait);
     timer.unref();
@@ -166,13 +176,13 @@ export function startMailDispatcher(opts: DispatcherOptions): MailDispatcher {
       } while (again && !stopped);
     })().finally(() => {
       running = null;
-      schedule();
+      void schedule();
     });
   }
 
   async function drain(timeoutMs = 10_000): Promise<void> {
     const until = Date.now() + timeoutMs;
-    while (unsentCount(opts.db) > 0) {
+    while ((await db.read((tx) => unsentCount(tx))) > 0) {
       if (Date.now() > until) throw new Error(`mail outbox not drained within ${timeoutMs} ms`);
       kick();
       await (running ?? new Promise((r) => setTimeout(r, 25)));
@@ -180,7 +190,7 @@ export function startMailDispatcher(opts: DispatcherOptions): MailDispatcher {
     }
   }
 
-  schedule();
+  void schedule();
   return {
     id,
     kick,

@@ -6,14 +6,14 @@
  * one dispatcher only.
  */
 import { and, asc, eq, inArray, lt, lte, sql } from "drizzle-orm";
-import type { Db } from "../db/client";
+import type { Tx } from "../db/client";
 import { schema } from "../db/client";
 
 const { mailOutbox } = schema;
 
 export type OutboxRow = typeof mailOutbox.$inferSelect;
-/** The database or a transaction handle of it (what `db.transaction((tx) => …)` passes). */
-export type MailWriter = Db | Parameters<Parameters<Db["transaction"]>[0]>[0];
+/** A unit's handle (what `db.write(async (tx) => …)` passes). */
+export type MailWriter = Tx;
 
 export interface OutboxMail {
   to: string | string[];
@@ -30,8 +30,8 @@ export interface EnqueueOptions {
   kind?: string;
 }
 
-/** Writes one row per recipient and returns the ids. Synchronous, so it runs inside a transaction. */
-export function enqueueMail(db: MailWriter, mail: OutboxMail, opts: { kind?: string; now?: Date } = {}): string[] {
+/** Writes one row per recipient (inside the caller's unit) and returns the ids. */
+export async function enqueueMail(tx: Tx, mail: OutboxMail, opts: { kind?: string; now?: Date } = {}): Promise<string[]> {
   const now = opts.now ?? new Date();
   const recipients = ([] as string[])
     .concat(mail.to)
@@ -51,13 +51,13 @@ export function enqueueMail(db: MailWriter, mail: OutboxMail, opts: { kind?: str
     nextAttemptAt: now,
     createdAt: now,
   }));
-  db.insert(mailOutbox).values(rows).run();
+  await tx.insert(mailOutbox).values(rows).run();
   return rows.map((r) => r.id);
 }
 
 /** Ids of rows due now, oldest first (pending ones, and `sending` ones whose claim has gone stale). */
-export function dueRows(db: Db, now: Date, staleBefore: Date, limit: number): string[] {
-  return db
+export async function dueRows(tx: Tx, now: Date, staleBefore: Date, limit: number): Promise<string[]> {
+  const rows = await tx
     .select({ id: mailOutbox.id })
     .from(mailOutbox)
     .where(
@@ -66,23 +66,23 @@ export function dueRows(db: Db, now: Date, staleBefore: Date, limit: number): st
     )
     .orderBy(asc(mailOutbox.createdAt), asc(mailOutbox.id))
     .limit(limit)
-    .all()
-    .map((r) => r.id);
+    .all();
+  return rows.map((r) => r.id);
 }
 
 /**
  * Claims one row for `dispatcherId`: pending and due → sending. The update is conditional, so of
- * two dispatchers that try the same row exactly one gets `changes === 1` and sends it. A claim
- * older than `staleBefore` (its dispatcher died mid-send) may be taken over.
+ * two dispatchers that try the same row (on one node or several) exactly one gets the row back
+ * and sends it. A claim older than `staleBefore` (its dispatcher died mid-send) may be taken over.
  */
-export function claimRow(
-  db: Db,
+export async function claimRow(
+  tx: Tx,
   id: string,
   dispatcherId: string,
   now: Date,
   staleBefore: Date,
-): OutboxRow | undefined {
-  const r = db
+): Promise<OutboxRow | undefined> {
+  return tx
     .update(mailOutbox)
     .set({ status: "sending", claimedBy: dispatcherId, claimedAt: now, attempts: sql`${mailOutbox.attempts} + 1` })
     .where(
@@ -92,67 +92,78 @@ export function claimRow(
           OR (${mailOutbox.status} = 'sending' AND ${mailOutbox.claimedAt} < ${staleBefore.getTime()}))`,
       ),
     )
-    .run();
-  if (r.changes !== 1) return undefined;
-  return db.select().from(mailOutbox).where(eq(mailOutbox.id, id)).get();
+    .returning()
+    .get();
 }
 
 /** Sent: only by the dispatcher holding the claim. The body (one-time links) is cleared. */
-export function markSent(db: Db, id: string, dispatcherId: string, messageId: string, now: Date): boolean {
-  const r = db
+export async function markSent(tx: Tx, id: string, dispatcherId: string, messageId: string, now: Date): Promise<boolean> {
+  const r = await tx
     .update(mailOutbox)
     .set({ status: "sent", sentAt: now, messageId, textBody: null, htmlBody: null, lastError: null })
     .where(and(eq(mailOutbox.id, id), eq(mailOutbox.status, "sending"), eq(mailOutbox.claimedBy, dispatcherId)))
-    .run();
-  return r.changes === 1;
+    .returning({ id: mailOutbox.id })
+    .all();
+  return r.length === 1;
 }
 
 /** A failed attempt: back to pending at `retryAt`, or given up (`failed`, body cleared) when retryAt is null. */
-export function markFailed(db: Db, id: string, dispatcherId: string, error: string, retryAt: Date | null): boolean {
+export async function markFailed(
+  tx: Tx,
+  id: string,
+  dispatcherId: string,
+  error: string,
+  retryAt: Date | null,
+): Promise<boolean> {
   const set =
     retryAt === null
       ? { status: "failed" as const, lastError: error, textBody: null, htmlBody: null, claimedBy: null }
       : { status: "pending" as const, lastError: error, nextAttemptAt: retryAt, claimedBy: null, claimedAt: null };
-  const r = db
+  const r = await tx
     .update(mailOutbox)
     .set(set)
     .where(and(eq(mailOutbox.id, id), eq(mailOutbox.status, "sending"), eq(mailOutbox.claimedBy, dispatcherId)))
-    .run();
-  return r.changes === 1;
+    .returning({ id: mailOutbox.id })
+    .all();
+  return r.length === 1;
 }
 
 /** Rows not yet sent or given up (pending or sending). */
-export function unsentCount(db: Db): number {
-  return db
+export async function unsentCount(tx: Tx): Promise<number> {
+  const r = await tx
     .select({ n: sql<number>`count(*)` })
     .from(mailOutbox)
     .where(inArray(mailOutbox.status, ["pending", "sending"]))
-    .get()!.n;
+    .get();
+  return Number(r?.n ?? 0);
 }
 
 /** The earliest time a pending row is due, or null. */
-export function nextDueAt(db: Db): Date | null {
-  const r = db
+export async function nextDueAt(tx: Tx): Promise<Date | null> {
+  const r = await tx
     .select({ t: sql<number | null>`min(${mailOutbox.nextAttemptAt})` })
     .from(mailOutbox)
     .where(eq(mailOutbox.status, "pending"))
     .get();
-  return r?.t == null ? null : new Date(r.t);
+  return r?.t == null ? null : new Date(Number(r.t));
 }
 
 /** Removes sent and given-up rows older than `before` (their bodies are already gone). */
-export function pruneOutbox(db: Db, before: Date): number {
-  return db
+export async function pruneOutbox(tx: Tx, before: Date): Promise<number> {
+  const gone = await tx
     .delete(mailOutbox)
     .where(and(inArray(mailOutbox.status, ["sent", "failed"]), lt(mailOutbox.createdAt, before)))
-    .run().changes;
+    .returning({ id: mailOutbox.id })
+    .all();
+  return gone.length;
 }
 
 /** Pending rows due by `at` (for tests and the health view). */
-export function pendingDueBy(db: Db, at: Date): number {
-  return db
+export async function pendingDueBy(tx: Tx, at: Date): Promise<number> {
+  const r = await tx
     .select({ n: sql<number>`count(*)` })
     .from(mailOutbox)
     .where(and(eq(mailOutbox.status, "pending"), lte(mailOutbox.nextAttemptAt, at)))
-    .get()!.n;
+    .get();
+  return Number(r?.n ?? 0);
 }

@@ -10,7 +10,7 @@
  */
 import { and, eq, inArray, sql } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema, type Db, type SyncTx, type Tx } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import { assertCents } from "../../shared/domain/money";
 import type { LedgerBalanceView } from "../../shared/views/money";
 
@@ -68,32 +68,23 @@ export async function recordLedger(tx: Tx, e: LedgerInput): Promise<boolean> {
 }
 
 export type LedgerBalance = LedgerBalanceView;
-type SyncDb = Db | SyncTx;
 
-/**
- * The balance of one case's money, or of everything with "all". Answers at once on the embedded
- * database (tests and the demo check it there) and as a promise inside a unit.
- */
-export function ledgerBalance(db: SyncDb, scope?: string): LedgerBalance;
-export function ledgerBalance(tx: Tx, scope?: string): Promise<LedgerBalance>;
-export function ledgerBalance(db: SyncDb | Tx, scope: string = "all"): LedgerBalance | Promise<LedgerBalance> {
+/** The balance of one case's money, or of everything with "all" (inside the caller's unit). */
+export async function ledgerBalance(tx: Tx, scope: string = "all"): Promise<LedgerBalance> {
   const where = scope === "all" ? undefined : eq(ledgerEntry.caseId, scope);
-  const sumsQ = (db as Tx)
+  const sums = await tx
     .select({ kind: ledgerEntry.kind, total: sql<number>`coalesce(sum(${ledgerEntry.amountCents}), 0)` })
     .from(ledgerEntry)
     .where(where)
     .groupBy(ledgerEntry.kind)
     .all();
   const heldWhere = scope === "all" ? eq(payment.status, "authorized") : and(eq(payment.status, "authorized"), eq(payment.caseId, scope));
-  const heldQ = (db as Tx)
+  const held = await tx
     .select({ total: sql<number>`coalesce(sum(${payment.amountCents}), 0)` })
     .from(payment)
     .where(heldWhere)
     .get();
-  if (sumsQ instanceof Promise || heldQ instanceof Promise) {
-    return Promise.all([sumsQ, heldQ]).then(([sums, held]) => balanceOf(sums, Number(held?.total ?? 0)));
-  }
-  return balanceOf(sumsQ, Number(heldQ?.total ?? 0));
+  return balanceOf(sums, Number(held?.total ?? 0));
 }
 
 function balanceOf(sums: { kind: string; total: number }[], held: number): LedgerBalance {

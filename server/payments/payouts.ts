@@ -110,12 +110,15 @@ async function sendPayout(ctx: AppContext, p: PayoutRow): Promise<PayoutRow> {
       { idempotencyKey: `payout:${p.id}` },
     );
     const now = ctx.now();
-    await ctx.db.write(async (tx) => {
-      await tx
+    // a payout retried by two runs at once (same idempotency key, same transfer): recorded once
+    const paid = await ctx.db.write(async (tx) => {
+      const moved = await tx
         .update(payout)
         .set({ status: "paid", stripeAccountId: account, stripeTransferId: tr.id, paidAt: now, failureMessage: null })
-        .where(eq(payout.id, p.id))
-        .run();
+        .where(and(eq(payout.id, p.id), eq(payout.status, "pending")))
+        .returning({ id: payout.id })
+        .all();
+      if (moved.length === 0) return false;
       await recordLedger(tx, {
         key: `payout:${p.id}`,
         kind: "payout",
@@ -126,8 +129,9 @@ async function sendPayout(ctx: AppContext, p: PayoutRow): Promise<PayoutRow> {
         stripeId: tr.id,
         at: now,
       });
+      return true;
     });
-    await notify(ctx, [p.expertId], notices.payoutSent(p.amountCents, p.currency, tr.id));
+    if (paid) await notify(ctx, [p.expertId], notices.payoutSent(p.amountCents, p.currency, tr.id));
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);
     ctx.logger.error({ err, payoutId: p.id }, "payout failed");
@@ -135,7 +139,7 @@ async function sendPayout(ctx: AppContext, p: PayoutRow): Promise<PayoutRow> {
       tx
         .update(payout)
         .set({ status: "failed", failureMessage: message.slice(0, 500) })
-        .where(eq(payout.id, p.id))
+        .where(and(eq(payout.id, p.id), eq(payout.status, "pending")))
         .run(),
     );
   }

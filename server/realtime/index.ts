@@ -3,32 +3,38 @@
  *
  * - Handshake: the Origin must be one of the app's own (server/app.ts allowedOrigins), checked
  *   before engine.io opens a session; then the session cookie is resolved by better-auth in
- *   `io.use`. No token in the URL. Connection-state recovery is not enabled: a reconnecting client
- *   re-joins with `since` and gets everything it missed from the database instead.
- * - Every event re-reads the session, the user and the case (all synchronous SQLite reads) and asks
- *   the live policy, so signing out or losing access stops the next event; a sweep every
- *   `sweepMs` disconnects sockets whose session or access has gone even if they stay silent.
- * - Writes commit (with the case's next seq) before anything is sent: the sender gets the stored
- *   record in its acknowledgement, the others get it as an event. Writes arriving together share
- *   one commit (./group-commit.ts); their acks and broadcasts still leave in seq order.
- * - Handlers are synchronous from the database read to the room join / broadcast, so a join's
- *   replay and the live events after it neither overlap nor leave a gap.
+ *   `io.use`. No token in the URL. A reconnecting client re-joins with `since` and gets everything
+ *   it missed from the database — also when it comes back on another node, or after the node it
+ *   was on died (the Redis streams adapter could restore a session on another node, but not one
+ *   whose node was killed; the database can).
+ * - Several nodes (REDIS_URL): the socket.io Redis streams adapter carries every room broadcast,
+ *   `disconnectSockets` and the stored records (`live:record`, from node to node) across nodes;
+ *   presence is kept in Redis (./presence.ts). One node: socket.io's in-memory adapter.
+ * - Writes are checked, then stored by the group commit (./group-commit.ts) with the case's next
+ *   seq from the database; the stored record goes to this node's room and to the other nodes,
+ *   and every node sends the records to its sockets in seq order, each once (./delivery.ts).
+ * - Signing out, a removed account or lost access: the session's sockets (`session:<id>` room) or
+ *   the user's (`user:<id>`) are dropped on every node at once; a sweep every `sweepMs` on each
+ *   node also disconnects sockets whose session or access has gone even if they stay silent.
  */
 import type http from "node:http";
 import { inArray } from "drizzle-orm";
-import { Server } from "socket.io";
+import { Server, type ServerOptions } from "socket.io";
+import { createAdapter } from "@socket.io/redis-streams-adapter";
 import type { AppContext, Realtime } from "../context";
 import type { Auth } from "../auth/auth";
 import { allowedOrigins } from "../app";
 import { schema } from "../db/client";
 import { canJoinCase } from "../auth/policies/live";
 import { getCaseRow, type CaseRow } from "../workflow/records";
+import type { SharedRedis } from "../cluster/redis";
 import { groupCommit } from "./group-commit";
-import { PresenceRegistry } from "../services/presence";
+import { localPresence, redisPresence, type Presence } from "./presence";
+import { LiveDelivery, type LiveRecord } from "./delivery";
 import { actorOfSession, actorsOfSessions, sessionIdFromHandshake } from "./session";
 import { caseRoom, userRoom, type ServerToClientEvents } from "../../shared/realtime";
 import { createLive, type Live, type LiveServer, type LiveSocket } from "./live";
-import { onJoin } from "./handlers/join";
+import { onJoin, readReplay } from "./handlers/join";
 import { onAnnotations } from "./handlers/annotations";
 import { onChat } from "./handlers/chat";
 import { onPointer } from "./handlers/pointer";
@@ -36,15 +42,18 @@ import { onPointer } from "./handlers/pointer";
 export interface RealtimeServer extends Realtime {
   /** the socket.io server (tests and benchmarks look at it) */
   readonly io: LiveServer;
-  /** drops the sockets opened with one session (e.g. from a better-auth session delete hook) */
-  disconnectSession(sessionId: string): void;
   close(): Promise<void>;
 }
 
 export interface RealtimeOptions {
   /** how often silent sockets are checked for a gone session or lost access; default 1000 ms */
   sweepMs?: number;
+  /** the shared Redis of several nodes (REDIS_URL), or none */
+  redis?: SharedRedis | null;
 }
+
+/** The room of every socket opened with one session. */
+export const sessionRoom = (sessionId: string) => `session:${sessionId}`;
 
 /** Is this handshake from one of our own pages (or from a non-browser client, which sends no Origin)? */
 export function handshakeOriginAllowed(headers: http.IncomingHttpHeaders, allowed: ReadonlySet<string>): boolean {
@@ -65,16 +74,10 @@ function authenticateSockets(io: LiveServer, ctx: AppContext, auth: Auth, allowe
       if (!handshakeOriginAllowed(socket.request.headers, allowed))
         return fail("origin_refused", "Connections from another site are refused.");
       const sessionId = await sessionIdFromHandshake(socket.request.headers, auth);
-      const actor = sessionId ? actorOfSession(ctx.db, sessionId, ctx.now()) : null;
+      const actor = sessionId ? await ctx.db.read((tx) => actorOfSession(tx, sessionId, ctx.now())) : null;
       if (!sessionId || !actor) return fail("unauthenticated", "Sign in to continue.");
-      socket.data = {
-        sessionId,
-        userId: actor.id,
-        caseId: null,
-        pointer: { last: 0, timer: null, pending: null },
-        view: { last: 0, timer: null, pending: null },
-      };
-      void socket.join(userRoom(actor.id));
+      socket.data = { sessionId, userId: actor.id, caseId: null };
+      void socket.join([userRoom(actor.id), sessionRoom(sessionId)]);
       next();
     } catch (err) {
       ctx.logger.error({ err }, "realtime handshake failed");
@@ -83,58 +86,76 @@ function authenticateSockets(io: LiveServer, ctx: AppContext, auth: Auth, allowe
   });
 }
 
-/** Disconnects sockets whose session has ended or whose case is no longer theirs to read. */
-function sweepSockets(live: Live): void {
+/** Disconnects this node's sockets whose session has ended or whose case is no longer theirs to read. */
+async function sweepSockets(live: Live): Promise<void> {
   const { ctx, io } = live;
-  try {
-    const sockets = [...io.of("/").sockets.values()] as LiveSocket[];
-    if (sockets.length === 0) return;
-    const actors = actorsOfSessions(ctx.db, [...new Set(sockets.map((s) => s.data.sessionId))], ctx.now());
-    const caseIds = [...new Set(sockets.map((s) => s.data.caseId).filter((x): x is string => !!x))];
+  const sockets = [...io.of("/").sockets.values()] as LiveSocket[];
+  if (sockets.length === 0) return;
+  const sessionIds = [...new Set(sockets.map((s) => s.data.sessionId))];
+  const caseIds = [...new Set(sockets.map((s) => s.data.caseId).filter((x): x is string => !!x))];
+  const { actors, cases } = await ctx.db.read(async (tx) => {
+    const actors = await actorsOfSessions(tx, sessionIds, ctx.now());
     const cases = new Map<string, CaseRow>();
     for (let i = 0; i < caseIds.length; i += 500) {
       const chunk = caseIds.slice(i, i + 500);
-      for (const c of ctx.db.select().from(schema.caseTable).where(inArray(schema.caseTable.id, chunk)).all())
+      for (const c of await tx.select().from(schema.caseTable).where(inArray(schema.caseTable.id, chunk)).all())
         cases.set(c.id, c);
     }
-    for (const s of sockets) {
-      const a = actors.get(s.data.sessionId);
-      if (!a || a.id !== s.data.userId) {
-        s.disconnect(true);
-        continue;
-      }
-      if (s.data.caseId) {
-        const c = cases.get(s.data.caseId);
-        if (!c || !canJoinCase(a, c)) s.disconnect(true);
-      }
+    return { actors, cases };
+  });
+  for (const s of sockets) {
+    const a = actors.get(s.data.sessionId);
+    if (!a || a.id !== s.data.userId) {
+      s.disconnect(true);
+      continue;
     }
-  } catch (err) {
-    ctx.logger.error({ err }, "realtime sweep failed");
+    if (s.data.caseId) {
+      const c = cases.get(s.data.caseId);
+      if (!c || !canJoinCase(a, c)) s.disconnect(true);
+    }
   }
 }
 
-export function attachRealtime(
-  server: http.Server,
-  ctx: AppContext,
-  auth: Auth,
-  opts: RealtimeOptions = {},
-): RealtimeServer {
-  const allowed = new Set(allowedOrigins(ctx).map((o) => o.replace(/\/$/, "")));
-  const io: LiveServer = new Server(server, {
+/** socket.io's options: the Redis streams adapter when several nodes share a Redis. */
+function serverOptions(allowed: ReadonlySet<string>, redis: SharedRedis | null): Partial<ServerOptions> {
+  return {
     serveClient: false,
     maxHttpBufferSize: 64 * 1024,
     // Refused before engine.io opens a session: a page of another site never gets a socket.
     allowRequest: (req, cb) =>
-      cb(
-        handshakeOriginAllowed(req.headers, allowed) ? null : "origin_refused",
-        handshakeOriginAllowed(req.headers, allowed),
-      ),
-  });
-  const presence = new PresenceRegistry((caseId) =>
-    io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId)),
-  );
+      cb(handshakeOriginAllowed(req.headers, allowed) ? null : "origin_refused", handshakeOriginAllowed(req.headers, allowed)),
+    ...(redis
+      ? { adapter: createAdapter(redis.connection(), { streamName: "bl:socket.io", maxLen: 10_000, blockTimeInMs: 1000, onlyPlaintext: true }) }
+      : {}),
+  };
+}
+
+export async function attachRealtime(
+  server: http.Server,
+  ctx: AppContext,
+  auth: Auth,
+  opts: RealtimeOptions = {},
+): Promise<RealtimeServer> {
+  const redis = opts.redis ?? null;
+  const allowed = new Set(allowedOrigins(ctx).map((o) => o.replace(/\/$/, "")));
+  const io: LiveServer = new Server(server, serverOptions(allowed, redis));
+  const emitPresence = (caseId: string, snapshot: Parameters<ServerToClientEvents["presence"]>[0]) =>
+    io.local.to(caseRoom(caseId)).emit("presence", snapshot);
+  const presence: Presence = redis ? await redisPresence(redis, emitPresence, ctx.logger) : localPresence(emitPresence);
   const commits = groupCommit(ctx.db, { onError: (err) => ctx.logger.error({ err }, "realtime commit failed") });
-  const live = createLive(ctx, io, presence, commits);
+  const delivery = new LiveDelivery({
+    readSince: (caseId, since) => readReplay(ctx.db, caseId, since),
+    onError: (err) => ctx.logger.error({ err }, "live records could not be read to fill a gap"),
+  });
+  // a record stored here goes to the other nodes (each serves its own sockets in seq order)
+  const publish = (rec: LiveRecord) => {
+    if (redis) io.serverSideEmit("live:record" as never, rec as never);
+  };
+  if (redis)
+    io.on("live:record" as never, (rec: LiveRecord) =>
+      delivery.deliver({ caseId: rec.record.caseId, seq: rec.record.seq, rec }),
+    );
+  const live = createLive(ctx, io, { presence, delivery, commits, publish });
 
   authenticateSockets(io, ctx, auth, allowed);
   io.on("connection", (socket: LiveSocket) => {
@@ -142,9 +163,16 @@ export function attachRealtime(
     onAnnotations(live, socket);
     onChat(live, socket);
     onPointer(live, socket);
-    socket.on("disconnect", () => live.leaveRoom(socket));
+    socket.on("disconnect", () => void live.leaveRoom(socket).catch((err) => ctx.logger.warn({ err }, "leaving the room failed")));
   });
-  const sweepTimer = setInterval(() => sweepSockets(live), opts.sweepMs ?? 1000);
+  let sweeping = false;
+  const sweepTimer = setInterval(() => {
+    if (sweeping) return;
+    sweeping = true;
+    sweepSockets(live)
+      .catch((err) => ctx.logger.error({ err }, "realtime sweep failed"))
+      .finally(() => (sweeping = false));
+  }, opts.sweepMs ?? 1000);
   sweepTimer.unref?.();
 
   return {
@@ -154,13 +182,12 @@ export function attachRealtime(
       // Services announce a changed case as `case:updated` (entity "case"); the room also gets
       // the contract's `case:status` with the status as committed.
       if (event === "case:updated" && (payload as { entity?: string } | null)?.entity === "case") {
-        const c = getCaseRow(ctx.db, caseId);
-        if (c)
-          io.to(caseRoom(caseId)).emit("case:status", {
-            caseId,
-            status: c.status,
-            updatedAt: c.updatedAt.toISOString(),
-          });
+        ctx.db
+          .read((tx) => getCaseRow(tx, caseId))
+          .then((c) => {
+            if (c) io.to(caseRoom(caseId)).emit("case:status", { caseId, status: c.status, updatedAt: c.updatedAt.toISOString() });
+          })
+          .catch((err) => ctx.logger.warn({ err }, "case:status not sent"));
       }
     },
     toUser(userId, event, payload) {
@@ -170,15 +197,18 @@ export function attachRealtime(
       io.in(userRoom(userId)).disconnectSockets(true);
     },
     disconnectSession(sessionId) {
-      for (const s of io.of("/").sockets.values()) if (s.data.sessionId === sessionId) s.disconnect(true);
+      io.in(sessionRoom(sessionId)).disconnectSockets(true);
     },
     async close() {
       clearInterval(sweepTimer);
-      commits.flush();
-      io.disconnectSockets(true);
-      presence.clear();
+      await commits.flush();
+      delivery.close();
+      io.local.disconnectSockets(true);
+      await presence.close().catch(() => {});
       // Not io.close(): that would also close the HTTP server, which startServer closes itself.
       io.engine.close();
+      // the adapter's own Redis connections (its stream reader) end with it
+      await Promise.resolve(io.of("/").adapter.close?.()).catch(() => {});
     },
   };
 }

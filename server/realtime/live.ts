@@ -1,30 +1,28 @@
 /**
- * What every live-review handler shares: the socket.io server, presence, the group commit, and the
- * helpers that read the actor and the joined case fresh on every event and answer acknowledgements.
- * Handlers stay synchronous from the database read to the room join / broadcast (see ./index.ts).
+ * What every live-review handler shares: the socket.io server, presence, the group commit, the
+ * delivery of stored records, and the helpers that check the actor and the joined case and answer
+ * acknowledgements. A write re-reads the session and the case (one read of the database, before
+ * its plan goes into the group commit, whose guard checks them again at the commit); the ephemeral
+ * events (pointer, view, typing) use a check at most `QUIET_CHECK_MS` old.
  */
-import type { Server, Socket } from "socket.io";
 import type { z } from "zod";
-import { inArray } from "drizzle-orm";
+import { eq } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema } from "../db/client";
+import { schema, type Statement, type Tx } from "../db/client";
 import { HttpError, notFound, unauthorized } from "../http/errors";
 import { canJoinCase } from "../auth/policies/live";
-import { getCaseRow, type CaseRow } from "../workflow/records";
-import { runEffects } from "../workflow/effects";
-import type { Effect } from "../workflow/effect";
-import type { LiveActor } from "../services/annotations";
-import type { PresenceRegistry } from "../services/presence";
+import type { CaseFacts } from "../workflow/policy";
+import type { LiveHappening } from "../workflow/live-notices";
+import { liveNoticeSender } from "./notices";
+import { casePolicyQuery, type LiveActor } from "../services/annotations";
+import type { Presence } from "./presence";
 import type { GroupCommit } from "./group-commit";
-import { actorOfSession } from "./session";
+import type { LiveDelivery, LiveRecord } from "./delivery";
+import type { WritePlan } from "./writes";
+import { actorOfRows, sessionUserQuery } from "./session";
 import type { pointerMoveSchema, viewFollowSchema } from "../../shared/schemas/realtime";
-import {
-  caseRoom,
-  POINTER_RATE_HZ,
-  type ClientToServerEvents,
-  type EventError,
-  type ServerToClientEvents,
-} from "../../shared/realtime";
+import { POINTER_RATE_HZ, type EventError } from "../../shared/realtime";
+import type { LiveServer, LiveSocket, SocketData } from "./types";
 
 export interface Throttle<P> {
   last: number;
@@ -32,16 +30,21 @@ export interface Throttle<P> {
   pending: P | null;
 }
 
-export interface SocketData {
-  sessionId: string;
-  userId: string;
-  caseId: string | null;
+
+/** Per-socket state that stays on this node (timers are not data to share). */
+export interface SocketLocal {
   pointer: Throttle<z.infer<typeof pointerMoveSchema>>;
   view: Throttle<z.infer<typeof viewFollowSchema>>;
+  /** the last check of the actor and the joined case (for the ephemeral events) */
+  checked: { at: number; actor: LiveActor; c: CaseFacts } | null;
+  /** the check in flight for the ephemeral events, shared by those that arrive meanwhile */
+  checking?: { caseId: string; p: Promise<Checked> } | null;
 }
 
-export type LiveServer = Server<ClientToServerEvents, ServerToClientEvents, Record<string, never>, SocketData>;
-export type LiveSocket = Socket<ClientToServerEvents, ServerToClientEvents, Record<string, never>, SocketData>;
+export type { LiveServer, LiveSocket, SocketData };
+
+/** How old a check of the actor and the case may be for pointer, view and typing events. */
+export const QUIET_CHECK_MS = 1000;
 
 export function eventError(err: unknown, ctx: AppContext, event: string): EventError {
   if (err instanceof HttpError)
@@ -52,137 +55,185 @@ export function eventError(err: unknown, ctx: AppContext, event: string): EventE
 
 const notJoined = () => new HttpError(409, "not_joined", "Join the case first (case:join).");
 
+/** A write as a handler prepares it: its plan, and the acknowledgement's body once stored. */
+export interface PreparedWrite<W extends { changed: boolean }, A extends object> {
+  plan: WritePlan<W>;
+  /** the stored record, for the room (and the other nodes) */
+  record(w: W): LiveRecord;
+  answer(w: W): A;
+  /** runs after the write is stored and its record on its way (not awaited by the author) */
+  after?(w: W): void;
+}
+
 export interface Live {
   ctx: AppContext;
   io: LiveServer;
-  presence: PresenceRegistry;
-  /** the case a trace belongs to (cached: traces never move) */
-  caseOfTrace(traceId: string): string | undefined;
-  /** the socket's actor, read fresh; a gone session ends the socket */
-  actorOf(socket: LiveSocket): LiveActor;
-  /** the actor and the joined case, still readable by them (else the socket leaves the room) */
-  inRoom(socket: LiveSocket): { actor: LiveActor; caseId: string; c: CaseRow };
-  leaveRoom(socket: LiveSocket): void;
+  presence: Presence;
+  delivery: LiveDelivery;
+  local(socket: LiveSocket): SocketLocal;
+  /** a trace's case, time span and channels (cached: a stored trace never changes) */
+  traceFacts(traceId: string): Promise<TraceFacts | undefined>;
+  /** the socket's actor and the joined case, read fresh (plus `extra` statements in the same read) */
+  check(socket: LiveSocket, extra?: (q: Tx) => Statement[]): Promise<Checked & { extra: unknown[] }>;
+  /** the same, from a check at most QUIET_CHECK_MS old */
+  quietCheck(socket: LiveSocket): Promise<Checked>;
+  leaveRoom(socket: LiveSocket): Promise<void>;
   /** an acknowledged event: the ack gets `{ ok: true, ...result }` or `{ ok: false, error }` */
-  acked<R extends object>(socket: LiveSocket, event: string, ack: unknown, fn: () => R): void;
-  /** an acknowledged write: `prepare` checks now; `run` goes into the group commit; `after` runs once committed */
-  written<R, A extends object>(event: string, ack: unknown, prepare: () => { run: () => R; after: (r: R) => A }): void;
+  acked<R extends object>(event: string, ack: unknown, fn: () => Promise<R>): void;
+  /** an acknowledged write: checked by `prepare`, stored by the group commit, acknowledged in seq order */
+  written<W extends { changed: boolean }, A extends object>(
+    socket: LiveSocket,
+    event: string,
+    ack: unknown,
+    prepare: () => Promise<PreparedWrite<W, A> | { stored: A }>,
+  ): void;
   /** an unacknowledged event; refusals are dropped */
-  quiet(event: string, fn: () => void): void;
+  quiet(event: string, fn: () => Promise<void>): void;
   /** forwards at most POINTER_RATE_HZ per socket; the latest of a burst is sent at the end of the gap */
   throttled<P>(t: Throttle<P>, payload: P, send: (p: P) => void): void;
-  /** the users in a case's room right now */
-  presentUsers(caseId: string): string[];
-  /** runs workflow effects (notices) after a commit, in the background; a failure is logged */
-  runEffects(effects: Effect[]): void;
+  /** the users in a case's room right now (on every node) */
+  presentUsers(caseId: string): Promise<string[]>;
+  /** the notices of a new message or mark, read and sent in the background; a failure is logged */
+  liveNotices(caseId: string, author: { id: string; name: string }, what: LiveHappening): void;
 }
 
-export function createLive(ctx: AppContext, io: LiveServer, presence: PresenceRegistry, commits: GroupCommit): Live {
-  const traceCase = new Map<string, string>();
+export type TraceFacts = Pick<typeof schema.trace.$inferSelect, "caseId" | "t0" | "durationS" | "channels">;
+
+export interface Checked {
+  actor: LiveActor;
+  caseId: string;
+  c: CaseFacts;
+}
+
+export function createLive(
+  ctx: AppContext,
+  io: LiveServer,
+  parts: { presence: Presence; delivery: LiveDelivery; commits: GroupCommit; publish: (d: LiveRecord) => void },
+): Live {
+  const traceFacts = new Map<string, TraceFacts>();
+  const locals = new WeakMap<LiveSocket, SocketLocal>();
   const pointerGapMs = 1000 / POINTER_RATE_HZ;
   const reply = (ack: unknown) => (typeof ack === "function" ? (ack as (r: unknown) => void) : () => {});
+
+  const local = (socket: LiveSocket): SocketLocal => {
+    let l = locals.get(socket);
+    if (!l) {
+      l = { pointer: { last: 0, timer: null, pending: null }, view: { last: 0, timer: null, pending: null }, checked: null };
+      locals.set(socket, l);
+    }
+    return l;
+  };
 
   const live: Live = {
     ctx,
     io,
-    presence,
-    caseOfTrace(traceId) {
-      let c = traceCase.get(traceId);
-      if (c) return c;
-      c = ctx.db
-        .select({ caseId: schema.trace.caseId })
-        .from(schema.trace)
-        .where(inArray(schema.trace.id, [traceId]))
-        .get()?.caseId;
-      if (c) {
-        traceCase.set(traceId, c);
-        if (traceCase.size > 10_000) traceCase.delete(traceCase.keys().next().value!);
+    presence: parts.presence,
+    delivery: parts.delivery,
+    local,
+    async traceFacts(traceId) {
+      let t = traceFacts.get(traceId);
+      if (t) return t;
+      const { trace } = schema;
+      const cols = { caseId: trace.caseId, t0: trace.t0, durationS: trace.durationS, channels: trace.channels };
+      t = await ctx.db.read((tx) => tx.select(cols).from(trace).where(eq(trace.id, traceId)).get());
+      if (t) {
+        traceFacts.set(traceId, t);
+        if (traceFacts.size > 10_000) traceFacts.delete(traceFacts.keys().next().value!);
       }
-      return c;
+      return t;
     },
-    actorOf(socket) {
-      const actor = actorOfSession(ctx.db, socket.data.sessionId, ctx.now());
+    async check(socket, extra) {
+      const caseId = socket.data.caseId;
+      const now = ctx.now();
+      const [users, cases, ...more] = (await ctx.db.batch("read", (q) => [
+        sessionUserQuery(q, socket.data.sessionId, now),
+        casePolicyQuery(q, caseId ?? ""),
+        ...(extra ? extra(q) : []),
+      ])) as [Parameters<typeof actorOfRows>[0], Awaited<ReturnType<typeof casePolicyQuery>>, ...unknown[]];
+      const actor = actorOfRows(users);
       if (!actor || actor.id !== socket.data.userId) {
         setImmediate(() => socket.disconnect(true));
         throw unauthorized();
       }
-      return actor;
-    },
-    inRoom(socket) {
-      const actor = live.actorOf(socket);
-      const caseId = socket.data.caseId;
-      if (!caseId) throw notJoined();
-      const c = getCaseRow(ctx.db, caseId);
-      if (!c || !canJoinCase(actor, c)) {
-        live.leaveRoom(socket);
+      if (!caseId || socket.data.caseId !== caseId) throw notJoined();
+      const row = cases[0];
+      if (!row || !canJoinCase(actor, row)) {
+        await live.leaveRoom(socket);
         throw notFound("Case");
       }
-      return { actor, caseId, c };
+      local(socket).checked = { at: Date.now(), actor, c: row };
+      return { actor, caseId, c: row, extra: more };
     },
-    leaveRoom(socket) {
+    async quietCheck(socket) {
+      const l = local(socket);
+      const caseId = socket.data.caseId;
+      if (!caseId) throw notJoined();
+      if (l.checked && l.checked.c.id === caseId && Date.now() - l.checked.at < QUIET_CHECK_MS)
+        return { actor: l.checked.actor, caseId, c: l.checked.c };
+      // a burst of events shares one check
+      if (l.checking?.caseId === caseId) return l.checking.p;
+      const p = live.check(socket).finally(() => {
+        if (l.checking?.p === p) l.checking = null;
+      });
+      l.checking = { caseId, p };
+      return p;
+    },
+    async leaveRoom(socket) {
       const caseId = socket.data.caseId;
       if (!caseId) return;
       socket.data.caseId = null;
-      for (const t of [socket.data.pointer, socket.data.view]) {
+      const l = local(socket);
+      l.checked = null;
+      for (const t of [l.pointer, l.view]) {
         if (t.timer) clearTimeout(t.timer);
         t.timer = null;
         t.pending = null;
       }
-      void socket.leave(caseRoom(caseId));
-      const { changed, userLeft } = presence.leave(caseId, socket.id, socket.data.userId);
+      parts.delivery.leave(socket, caseId);
+      void socket.leave(`case:${caseId}`);
+      const { userLeft } = await parts.presence.leave(caseId, socket.id, socket.data.userId);
       // The user's pointer leaves the others' plots with their last socket.
-      if (userLeft)
-        io.to(caseRoom(caseId)).emit("pointer", {
-          caseId,
-          userId: socket.data.userId,
-          name: "",
-          color: "",
-          traceId: null,
+      if (userLeft) io.to(`case:${caseId}`).emit("pointer", { caseId, userId: socket.data.userId, name: "", color: "", traceId: null });
+    },
+    acked(event, ack, fn) {
+      fn().then(
+        (result) => reply(ack)({ ok: true, ...result }),
+        (err: unknown) => reply(ack)({ ok: false, error: eventError(err, ctx, event) }),
+      );
+    },
+    written(socket, event, ack, prepare) {
+      const refuse = (err: unknown) => reply(ack)({ ok: false, error: eventError(err, ctx, event) });
+      prepare().then((job) => {
+        if ("stored" in job) return reply(ack)({ ok: true, ...job.stored });
+        parts.commits.enqueue(job.plan, (err, w) => {
+          if (err || !w) return refuse(err ?? new Error("no result"));
+          let body: object;
+          try {
+            body = job.answer(w);
+          } catch (e) {
+            return refuse(e);
+          }
+          const answer = () => reply(ack)({ ok: true, ...body });
+          if (!w.changed) return answer();
+          const rec = job.record(w);
+          parts.publish(rec);
+          parts.delivery.deliver({ caseId: job.plan.caseId, seq: rec.record.seq, rec, origin: { socketId: socket.id, ack: answer } });
+          if (job.after) {
+            try {
+              job.after(w);
+            } catch (e) {
+              eventError(e, ctx, event);
+            }
+          }
         });
-      if (changed) io.to(caseRoom(caseId)).emit("presence", presence.snapshot(caseId));
+      }, refuse);
     },
-    acked(socket, event, ack, fn) {
-      let result;
-      try {
-        result = fn();
-      } catch (err) {
-        reply(ack)({ ok: false, error: eventError(err, ctx, event) });
-        return;
-      }
-      reply(ack)({ ok: true, ...result });
-    },
-    written(event, ack, prepare) {
-      let job: ReturnType<typeof prepare>;
-      try {
-        job = prepare();
-      } catch (err) {
-        reply(ack)({ ok: false, error: eventError(err, ctx, event) });
-        return;
-      }
-      commits.enqueue(job.run, (err, r) => {
-        if (err) return reply(ack)({ ok: false, error: eventError(err, ctx, event) });
-        let body;
-        try {
-          body = job.after(r as never);
-        } catch (e) {
-          return reply(ack)({ ok: false, error: eventError(e, ctx, event) });
-        }
-        reply(ack)({ ok: true, ...body });
-      });
-    },
+    presentUsers: (caseId) => parts.presence.users(caseId),
+    liveNotices: liveNoticeSender(ctx, parts.presence),
     quiet(event, fn) {
-      try {
-        fn();
-      } catch (err) {
+      fn().catch((err: unknown) => {
         if (!(err instanceof HttpError)) eventError(err, ctx, event);
-      }
-    },
-    presentUsers(caseId) {
-      return presence.snapshot(caseId).participants.map((p) => p.userId);
-    },
-    runEffects(effects) {
-      if (effects.length === 0) return;
-      runEffects(ctx, effects).catch((err: unknown) => ctx.logger.error({ err }, "live notices failed"));
+      });
     },
     throttled(t, payload, send) {
       const now = Date.now();

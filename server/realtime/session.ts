@@ -1,14 +1,13 @@
 /**
  * Sessions of sockets. The handshake is authenticated by better-auth from the session cookie
- * (no token in the URL); after that each event re-reads the session and its user synchronously,
- * so a signed-out, expired or removed account stops at its next event.
+ * (no token in the URL); after that each write re-reads the session and its user (other events
+ * at most a second old), so a signed-out, expired or removed account stops at its next event.
  */
 import type { IncomingHttpHeaders } from "node:http";
-import { and, eq, gt, inArray, sql } from "drizzle-orm";
+import { and, eq, gt, inArray } from "drizzle-orm";
 import { fromNodeHeaders } from "better-auth/node";
 import type { Auth } from "../auth/auth";
-import type { Db } from "../db/client";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import { knownRole, type Actor } from "../auth/session";
 import type { LiveActor } from "../services/annotations";
 import type { Role } from "../../shared/domain/case-status";
@@ -42,30 +41,32 @@ function toActor(u: UserRow): LiveActor | null {
 
 const userCols = { id: user.id, email: user.email, name: user.name, role: user.role, shopId: user.shopId, color: user.color, deactivatedAt: user.deactivatedAt };
 
-const prepared = new WeakMap<Db, ReturnType<typeof prepareLookup>>();
-function prepareLookup(db: Db) {
-  return db
+/** The query of a live session's user (empty when the session is gone or expired). */
+export function sessionUserQuery(tx: Tx, sessionId: string, now: Date) {
+  return tx
     .select({ ...userCols })
     .from(session)
     .innerJoin(user, eq(user.id, session.userId))
-    .where(and(eq(session.id, sql.placeholder("id")), gt(session.expiresAt, sql.placeholder("now"))))
-    .prepare();
+    .where(and(eq(session.id, sessionId), gt(session.expiresAt, now)))
+    .limit(1);
 }
 
-/** The actor of a live session, or null when the session is gone, expired, or its account removed. Runs on every event. */
-export function actorOfSession(db: Db, sessionId: string, now: Date): LiveActor | null {
-  let q = prepared.get(db);
-  if (!q) prepared.set(db, (q = prepareLookup(db)));
-  const r = q.get({ id: sessionId, now: now.getTime() });
-  return r ? toActor(r) : null;
+/** The actor of a session's query result, or null when the session is gone, expired, or its account removed. */
+export function actorOfRows(rows: UserRow[]): LiveActor | null {
+  return rows[0] ? toActor(rows[0]) : null;
+}
+
+/** The actor of a live session, or null when the session is gone, expired, or its account removed. */
+export async function actorOfSession(tx: Tx, sessionId: string, now: Date): Promise<LiveActor | null> {
+  return actorOfRows(await sessionUserQuery(tx, sessionId, now));
 }
 
 /** The live actors of many sessions at once (for the periodic sweep); missing ones are absent. */
-export function actorsOfSessions(db: Db, sessionIds: string[], now: Date): Map<string, LiveActor> {
+export async function actorsOfSessions(tx: Tx, sessionIds: string[], now: Date): Promise<Map<string, LiveActor>> {
   const out = new Map<string, LiveActor>();
   for (let i = 0; i < sessionIds.length; i += 500) {
     const chunk = sessionIds.slice(i, i + 500);
-    const rows = db
+    const rows = await tx
       .select({ sessionId: session.id, ...userCols })
       .from(session)
       .innerJoin(user, eq(user.id, session.userId))

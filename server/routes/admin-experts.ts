@@ -19,7 +19,7 @@ export function adminExpertRoutes(ctx: AppContext, auth: Auth): Router {
     const { status } = parseQuery(expertListQuerySchema, req);
     const actor = await requireActor(req, auth);
     expertPolicy.authorize(actor, "list", null);
-    const rows = experts.listExperts(ctx, status);
+    const rows = await experts.listExperts(ctx, status);
     res.json({
       experts: rows.map((row) => ({
         ...experts.presentProfile(row.profile),
@@ -40,7 +40,7 @@ export function adminExpertRoutes(ctx: AppContext, auth: Auth): Router {
       const { note } = parseBody(expertDecisionSchema, req);
       const actor = await requireActor(req, auth);
       expertPolicy.authorize(actor, "list", null);
-      const profile = experts.getExpertProfile(ctx, userId);
+      const profile = await experts.getExpertProfile(ctx, userId);
       if (!profile) throw notFound("Expert");
       const resource = { userId, status: profile.status as ExpertStatus };
       expertPolicy.authorize(actor, "decide", resource);

@@ -17,7 +17,7 @@ export function annotationRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const { since } = parseQuery(sinceQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const out = annotationsSince(ctx, actor, id, since ?? 0);
+    const out = await annotationsSince(ctx, actor, id, since ?? 0);
     res.set("Cache-Control", "private, no-store");
     res.json(out);
   });

@@ -26,11 +26,7 @@ export function casebookRoutes(ctx: AppContext, auth: Auth): Router {
     // load the search worker's arrays and the similar-case vectors before the first request needs them
     setTimeout(() => {
       void warmCasebookSearch(ctx).catch((err) => ctx.logger.warn({ err }, "casebook search warm-up failed"));
-      try {
-        similarIndex(ctx.db);
-      } catch (err) {
-        ctx.logger.warn({ err }, "similar-case index warm-up failed");
-      }
+      similarIndex(ctx.db).catch((err) => ctx.logger.warn({ err }, "similar-case index warm-up failed"));
     }, 2000).unref();
   }
 
@@ -38,20 +34,20 @@ export function casebookRoutes(ctx: AppContext, auth: Auth): Router {
     const q = parseQuery(casebookSearchQuerySchema, req);
     await requireActor(req, auth);
     const out = await searchCasebook(ctx, q);
-    res.json({ ...out, results: withHelpfulCounts(ctx.db, out.results) });
+    res.json({ ...out, results: await ctx.db.read((tx) => withHelpfulCounts(tx, out.results)) });
   });
 
   r.get("/casebook/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    res.json(readEntry(ctx, actor, id));
+    res.json(await readEntry(ctx, actor, id));
   });
 
   r.post("/casebook/:id/vote", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const { helpful } = parseBody(casebookVoteSchema, req);
     const actor = await requireActor(req, auth);
-    res.json(voteEntry(ctx, actor, id, helpful));
+    res.json(await voteEntry(ctx, actor, id, helpful));
   });
 
   /** The min/max window of one of an entry's published traces (the samples only). */
@@ -59,8 +55,8 @@ export function casebookRoutes(ctx: AppContext, auth: Auth): Router {
     const { id, traceId } = parseParams(entryTraceParams, req);
     const q = parseQuery(traceWindowQuerySchema, req);
     const actor = await requireActor(req, auth);
-    entryTrace(ctx, actor, id, traceId);
-    const t = getTraceRow(ctx, traceId);
+    await entryTrace(ctx, actor, id, traceId);
+    const t = await getTraceRow(ctx, traceId);
     if (!t) throw notFound("Trace");
     res.set("Cache-Control", "private, max-age=3600");
     res.json(await traceWindow(ctx, t, q));
@@ -71,25 +67,25 @@ export function casebookRoutes(ctx: AppContext, auth: Auth): Router {
     const { limit } = parseQuery(similarQuerySchema, req);
     const actor = await requireActor(req, auth);
     const c = await viewableCase(ctx, actor, id);
-    res.json(similarForCase(ctx, c.id, limit));
+    res.json(await similarForCase(ctx, c.id, limit));
   });
 
   r.get("/admin/casebook/hidden", async (req, res) => {
     const actor = await requireActor(req, auth);
-    res.json({ items: listHiddenEntries(ctx, actor) });
+    res.json({ items: await listHiddenEntries(ctx, actor) });
   });
 
   r.patch("/admin/casebook/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const patch = parseBody(casebookEditSchema, req);
     const actor = await requireActor(req, auth);
-    res.json(editEntry(ctx, actor, id, patch));
+    res.json(await editEntry(ctx, actor, id, patch));
   });
 
   r.get("/experts/:id/record", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    res.json(expertRecord(ctx, actor, id));
+    res.json(await expertRecord(ctx, actor, id));
   });
 
   return r;

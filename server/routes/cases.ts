@@ -8,17 +8,20 @@ import { parseBody, parseParams, parseQuery } from "../http/validate";
 import { caseDraftSchema, caseListQuerySchema, casePatchSchema } from "../../shared/schemas/case";
 import { idParamSchema } from "../../shared/schemas/traces";
 import { createCase, listCases, patchCase, presentCase } from "../services/cases";
-import { caseComparison, listTraces, presentTrace } from "../services/traces";
+import { caseComparison, listTraces, presentTrace, tracesOfCase } from "../services/traces";
 import { listPhotos, presentPhoto } from "../services/photos";
 import { historyView, viewableCase } from "../workflow/queries";
 import type { CaseRow } from "../workflow/records";
 
 /** The case as every reader gets it: vehicle, decoded VIN, codes, traces, photos, comparison, abilities. */
-export function caseDetail(ctx: AppContext, actor: Actor, c: CaseRow) {
-  const traces = listTraces(ctx, c.id);
+export async function caseDetail(ctx: AppContext, actor: Actor, c: CaseRow) {
+  const { traces, photos } = await ctx.db.read(async (tx) => ({
+    traces: await tracesOfCase(tx, c.id),
+    photos: await listPhotos(tx, c.id),
+  }));
   return presentCase(c, actor, {
     traces: traces.map(presentTrace),
-    photos: listPhotos(ctx, c.id).map(presentPhoto),
+    photos: photos.map(presentPhoto),
     comparison: caseComparison(traces),
   });
 }
@@ -34,7 +37,7 @@ export function caseRoutes(ctx: AppContext, auth: Auth): Router {
     const input = parseBody(caseDraftSchema, req);
     const actor = await requireActor(req, auth);
     assertCanCreateCase(actor);
-    res.status(201).json(caseDetail(ctx, actor, await createCase(ctx, actor, input)));
+    res.status(201).json(await caseDetail(ctx, actor, await createCase(ctx, actor, input)));
   });
 
   r.get("/cases", async (req, res) => {
@@ -46,14 +49,14 @@ export function caseRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/cases/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    res.json(caseDetail(ctx, actor, await viewableCase(ctx, actor, id)));
+    res.json(await caseDetail(ctx, actor, await viewableCase(ctx, actor, id)));
   });
 
   r.patch("/cases/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const patch = parseBody(casePatchSchema, req);
     const actor = await requireActor(req, auth);
-    res.json(caseDetail(ctx, actor, await patchCase(ctx, actor, id, patch)));
+    res.json(await caseDetail(ctx, actor, await patchCase(ctx, actor, id, patch)));
   });
 
   /** The case's history (the same as GET …/history, without the status). */
@@ -67,7 +70,7 @@ export function caseRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
     const c = await viewableCase(ctx, actor, id);
-    res.json({ comparison: caseComparison(listTraces(ctx, c.id)) });
+    res.json({ comparison: caseComparison(await listTraces(ctx, c.id)) });
   });
 
   return r;

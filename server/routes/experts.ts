@@ -20,7 +20,7 @@ export function expertRoutes(ctx: AppContext, auth: Auth): Router {
 
   const own = async (req: Parameters<typeof requireActor>[0]) => {
     const actor = await requireActor(req, auth, ["expert"]);
-    const profile = experts.getExpertProfile(ctx, actor.id);
+    const profile = await experts.getExpertProfile(ctx, actor.id);
     if (!profile) throw notFound("Expert profile");
     return { actor, profile, resource: { userId: profile.userId, status: profile.status as ExpertStatus } };
   };

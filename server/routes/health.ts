@@ -16,7 +16,7 @@ const present = (a: Actor): Me => ({ id: a.id, email: a.email, name: a.name, rol
  */
 export function healthRoutes(ctx: AppContext, auth: Auth): Router {
   const r = Router();
-  r.get("/health", (_req, res) => {
+  r.get("/health", async (_req, res) => {
     res.set("Cache-Control", "no-store");
     const { status, body } = healthAnswer(ctx.readiness.state());
     if (status !== 200) {
@@ -24,7 +24,7 @@ export function healthRoutes(ctx: AppContext, auth: Auth): Router {
       return res.status(status).json(body);
     }
     try {
-      ctx.db.get(sql`select 1 as ok`);
+      await ctx.db.read((tx) => tx.all(sql`select 1 as ok`));
       res.json(body);
     } catch {
       res

@@ -14,7 +14,7 @@ export function messageRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const { since } = parseQuery(sinceQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const out = messagesSince(ctx, actor, id, since ?? 0);
+    const out = await messagesSince(ctx, actor, id, since ?? 0);
     res.set("Cache-Control", "private, no-store");
     res.json(out);
   });

@@ -28,7 +28,7 @@ export function photoRoutes(ctx: AppContext, auth: Auth): Router {
   r.post("/cases/:id/photos", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    assertCaseAction(actor, getCaseRow(ctx.db, id), "addPhoto");
+    assertCaseAction(actor, await ctx.db.read((tx) => getCaseRow(tx, id)), "addPhoto");
     try {
       await runMiddleware(upload, req, res);
       const file = uploadedFile(req);
@@ -44,7 +44,7 @@ export function photoRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/photos/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const p = getPhotoRow(ctx, id);
+    const p = await getPhotoRow(ctx, id);
     await viewableCase(ctx, actor, p?.caseId ?? "", "Photo");
     const abs = photoFilePath(ctx, p!);
     const stat = await fs.promises.stat(abs);
@@ -62,8 +62,9 @@ export function photoRoutes(ctx: AppContext, auth: Auth): Router {
   r.delete("/photos/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const p = getPhotoRow(ctx, id);
-    assertCaseAction(actor, p ? getCaseRow(ctx.db, p.caseId) : undefined, "deletePhoto", "Photo");
+    const p = await getPhotoRow(ctx, id);
+    const c = p ? await ctx.db.read((tx) => getCaseRow(tx, p.caseId)) : undefined;
+    assertCaseAction(actor, c, "deletePhoto", "Photo");
     await deletePhoto(ctx, actor, p!);
     res.status(204).end();
   });

@@ -25,8 +25,8 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
     res.status(202).json(await shops.signUpShopOwner(ctx, input));
   });
 
-  const loadShop = (shopId: string) => {
-    const shop = shops.getShop(ctx, shopId);
+  const loadShop = async (shopId: string) => {
+    const shop = await shops.getShop(ctx, shopId);
     if (!shop) throw notFound("Shop");
     return shop;
   };
@@ -34,7 +34,7 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/shops/:shopId", async (req, res) => {
     const { shopId } = parseParams(shopParams, req);
     const actor = await requireActor(req, auth);
-    const shop = loadShop(shopId);
+    const shop = await loadShop(shopId);
     shopPolicy.authorize(actor, "view", shop);
     res.json({ shop: { id: shop.id, name: shop.name, createdAt: shop.createdAt.toISOString() }, abilities: shopPolicy.abilities(actor, shop) });
   });
@@ -42,9 +42,9 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/shops/:shopId/team", async (req, res) => {
     const { shopId } = parseParams(shopParams, req);
     const actor = await requireActor(req, auth);
-    const shop = loadShop(shopId);
+    const shop = await loadShop(shopId);
     shopPolicy.authorize(actor, "listMembers", shop);
-    const members = shops.listMembers(ctx, shop.id).map((m) => ({
+    const members = (await shops.listMembers(ctx, shop.id)).map((m) => ({
       id: m.id,
       name: m.name,
       email: m.email,
@@ -52,7 +52,7 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
       joinedAt: m.createdAt.toISOString(),
       abilities: userPolicy.abilities(actor, { id: m.id, role: m.role as Role, shopId: m.shopId, deactivatedAt: m.deactivatedAt }),
     }));
-    const invites = shopPolicy.can(actor, "invite", shop) ? shops.listPendingInvites(ctx, shop.id).map(shops.presentInvite) : [];
+    const invites = shopPolicy.can(actor, "invite", shop) ? (await shops.listPendingInvites(ctx, shop.id)).map(shops.presentInvite) : [];
     res.json({ shop: { id: shop.id, name: shop.name }, members, invites, abilities: shopPolicy.abilities(actor, shop) });
   });
 
@@ -60,7 +60,7 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
     const { shopId } = parseParams(shopParams, req);
     const input = parseBody(inviteTechnicianSchema, req);
     const actor = await requireActor(req, auth);
-    const shop = loadShop(shopId);
+    const shop = await loadShop(shopId);
     shopPolicy.authorize(actor, "invite", shop);
     try {
       const { invite } = await shops.createInvite(ctx, actor, shop, input);
@@ -77,27 +77,27 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
   r.delete("/shops/:shopId/invites/:inviteId", async (req, res) => {
     const { shopId, inviteId } = parseParams(inviteParams, req);
     const actor = await requireActor(req, auth);
-    const shop = loadShop(shopId);
+    const shop = await loadShop(shopId);
     shopPolicy.authorize(actor, "invite", shop);
-    shops.revokeInvite(ctx, shop.id, inviteId);
+    await shops.revokeInvite(ctx, shop.id, inviteId);
     res.status(204).end();
   });
 
   r.delete("/shops/:shopId/members/:userId", async (req, res) => {
     const { shopId, userId } = parseParams(memberParams, req);
     const actor = await requireActor(req, auth);
-    const shop = loadShop(shopId);
+    const shop = await loadShop(shopId);
     shopPolicy.authorize(actor, "removeMember", shop);
-    const target = findUserById(ctx, userId);
+    const target = await findUserById(ctx, userId);
     if (!target || target.shopId !== shop.id || target.deactivatedAt) throw notFound("Team member");
     userPolicy.authorize(actor, "remove", { id: target.id, role: target.role as Role, shopId: target.shopId, deactivatedAt: target.deactivatedAt });
-    shops.removeMember(ctx, target.id);
+    await shops.removeMember(ctx, target.id);
     res.status(204).end();
   });
 
   r.post("/invites/preview", rateLimit(ctx, "invites/preview", { window: 600, max: 30 }), async (req, res) => {
     const { token } = parseBody(invitePreviewSchema, req);
-    const found = shops.findUsableInvite(ctx, token);
+    const found = await shops.findUsableInvite(ctx, token);
     if (!found) throw new HttpError(404, "invite_invalid", shops.INVITE_GONE);
     res.json({ email: found.invite.email, name: found.invite.name, shopName: found.shopName, expiresAt: found.invite.expiresAt.toISOString() });
   });

@@ -17,16 +17,16 @@ import { deleteTrace, getTraceRow, presentTrace, traceWindow, type TraceRow } fr
 export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   const r = Router();
   /** The trace and its case, or 404 when either is missing or the actor may not see the case. */
-  const loadReadable = (actorCheck: (c: CaseRow | undefined) => void, id: string): TraceRow => {
-    const t = getTraceRow(ctx, id);
-    actorCheck(t ? getCaseRow(ctx.db, t.caseId) : undefined);
+  const loadReadable = async (actorCheck: (c: CaseRow | undefined) => void, id: string): Promise<TraceRow> => {
+    const t = await getTraceRow(ctx, id);
+    actorCheck(t ? await ctx.db.read((tx) => getCaseRow(tx, t.caseId)) : undefined);
     return t!;
   };
 
   r.get("/traces/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const t = getTraceRow(ctx, id);
+    const t = await getTraceRow(ctx, id);
     await viewableCase(ctx, actor, t?.caseId ?? "", "Trace");
     res.json(presentTrace(t!));
   });
@@ -36,7 +36,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const q = parseQuery(traceWindowQuerySchema, req);
     const actor = await requireActor(req, auth);
-    const t = traceForWindow(ctx, actor, id);
+    const t = await traceForWindow(ctx, actor, id);
     const w = await traceWindow(ctx, t, q);
     res.set("Cache-Control", "private, max-age=3600");
     res.json(w);
@@ -45,7 +45,7 @@ export function traceRoutes(ctx: AppContext, auth: Auth): Router {
   r.delete("/traces/:id", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const t = loadReadable((c) => assertCanDeleteTrace(actor, c), id);
+    const t = await loadReadable((c) => assertCanDeleteTrace(actor, c), id);
     await deleteTrace(ctx, actor, t);
     res.status(204).end();
   });

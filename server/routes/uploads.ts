@@ -42,7 +42,7 @@ export function uploadRoutes(ctx: AppContext, auth: Auth): Router {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
     // Authorized before the body is read: nobody streams 200 MB into a case they cannot change.
-    assertCanAddTrace(actor, getCaseRow(ctx.db, id));
+    assertCanAddTrace(actor, await ctx.db.read((tx) => getCaseRow(tx, id)));
     if (!req.is("multipart/form-data")) {
       throw badRequest(
         "bad_upload",
@@ -136,8 +136,8 @@ export function uploadRoutes(ctx: AppContext, auth: Auth): Router {
   r.get("/traces/:id/original", async (req, res) => {
     const { id } = parseParams(idParamSchema, req);
     const actor = await requireActor(req, auth);
-    const t = getTraceRow(ctx, id);
-    assertCanReadTrace(actor, t ? getCaseRow(ctx.db, t.caseId) : undefined);
+    const t = await getTraceRow(ctx, id);
+    assertCanReadTrace(actor, t ? await ctx.db.read((tx) => getCaseRow(tx, t.caseId)) : undefined);
     const abs = originalFilePath(ctx, t!);
     const stat = await fs.promises.stat(abs);
     const name = t!.originalName ?? `${t!.name}.csv`;

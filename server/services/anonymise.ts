@@ -10,15 +10,13 @@
  * shop's members and invitees, the expert, the authors of annotations, the shop's name.
  */
 import { and, asc, eq, isNull } from "drizzle-orm";
-import type { Db } from "../db/client";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import { maskVin, scrubDeep, scrubText, type ScrubContext } from "../../shared/domain/anonymise";
 import { parseDtc } from "../../shared/domain/dtc";
 import { symptomLabels, type Symptom } from "../../shared/schemas/case";
 import type { CasebookAnnotation, CasebookEntryBody, CasebookTrace, CasebookVehicle } from "../../shared/schemas/casebook";
-import { caseComparison, listTraces, type TraceRow } from "./traces";
+import { caseComparison, type TraceRow } from "./traces";
 import { casePattern, type CasePattern } from "./similar";
-import type { AppContext } from "../context";
 
 type CaseRow = typeof schema.caseTable.$inferSelect;
 
@@ -53,7 +51,7 @@ export interface CasebookEntryInput {
 }
 
 /** The names, addresses and VIN the scrubber must remove for this case. */
-export function scrubContextForCase(db: Db, c: CaseRow): ScrubContext {
+export async function scrubContextForCase(tx: Tx, c: CaseRow): Promise<ScrubContext> {
   const names: (string | null)[] = [];
   const emails: (string | null)[] = [];
   const addUser = (u: { name: string | null; email: string | null } | undefined) => {
@@ -61,18 +59,24 @@ export function scrubContextForCase(db: Db, c: CaseRow): ScrubContext {
     names.push(u.name);
     emails.push(u.email);
   };
-  for (const u of db.select({ name: schema.user.name, email: schema.user.email }).from(schema.user).where(eq(schema.user.shopId, c.shopId)).all()) addUser(u);
-  for (const i of db.select({ name: schema.invite.name, email: schema.invite.email }).from(schema.invite).where(eq(schema.invite.shopId, c.shopId)).all()) addUser(i);
+  const { user, invite, annotation, caseAnswer, caseConfirmation, shop } = schema;
+  for (const u of await tx.select({ name: user.name, email: user.email }).from(user).where(eq(user.shopId, c.shopId)).all()) addUser(u);
+  for (const i of await tx.select({ name: invite.name, email: invite.email }).from(invite).where(eq(invite.shopId, c.shopId)).all())
+    addUser(i);
   const userIds = new Set<string>();
   if (c.expertId) userIds.add(c.expertId);
   if (c.createdBy) userIds.add(c.createdBy);
-  for (const a of db.select({ id: schema.annotation.authorId }).from(schema.annotation).where(eq(schema.annotation.caseId, c.id)).all()) if (a.id) userIds.add(a.id);
-  for (const a of db.select({ id: schema.caseAnswer.expertId }).from(schema.caseAnswer).where(eq(schema.caseAnswer.caseId, c.id)).all()) if (a.id) userIds.add(a.id);
-  for (const a of db.select({ id: schema.caseConfirmation.userId }).from(schema.caseConfirmation).where(eq(schema.caseConfirmation.caseId, c.id)).all()) if (a.id) userIds.add(a.id);
-  for (const id of userIds) addUser(db.select({ name: schema.user.name, email: schema.user.email }).from(schema.user).where(eq(schema.user.id, id)).get());
-  const shop = db.select({ name: schema.shop.name }).from(schema.shop).where(eq(schema.shop.id, c.shopId)).get();
-  return { names, emails, organisations: [shop?.name ?? null], vin: c.vin };
+  const authors = [
+    ...(await tx.select({ id: annotation.authorId }).from(annotation).where(eq(annotation.caseId, c.id)).all()),
+    ...(await tx.select({ id: caseAnswer.expertId }).from(caseAnswer).where(eq(caseAnswer.caseId, c.id)).all()),
+    ...(await tx.select({ id: caseConfirmation.userId }).from(caseConfirmation).where(eq(caseConfirmation.caseId, c.id)).all()),
+  ];
+  for (const a of authors) if (a.id) userIds.add(a.id);
+  for (const id of userIds) addUser(await tx.select({ name: user.name, email: user.email }).from(user).where(eq(user.id, id)).get());
+  const shopRow = await tx.select({ name: shop.name }).from(shop).where(eq(shop.id, c.shopId)).get();
+  return { names, emails, organisations: [shopRow?.name ?? null], vin: c.vin };
 }
+
 
 /** Settings fields that describe the capture, not the people (free-text ones are scrubbed). */
 const SAFE_SETTINGS = [
@@ -140,31 +144,42 @@ function roundMileage(m: number | null): number | null {
 
 /**
  * The anonymised entry of a resolved case, or null when it is not resolved or has no answer.
- * Reads only; the caller writes it (server/services/casebook.ts).
+ * Reads only (inside the caller's unit); the caller writes it (server/services/casebook.ts).
  */
-export function anonymiseCase(ctx: AppContext, caseId: string, entryId: string): CasebookEntryInput | null {
-  const db = ctx.db;
-  const c = db.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get();
+export async function anonymiseCase(tx: Tx, caseId: string, entryId: string): Promise<CasebookEntryInput | null> {
+  const c = await tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get();
   if (!c || c.status !== "resolved") return null;
-  const answer = db.select().from(schema.caseAnswer).where(eq(schema.caseAnswer.caseId, caseId)).orderBy(asc(schema.caseAnswer.round), asc(schema.caseAnswer.createdAt)).all().at(-1);
+  const answers = await tx
+    .select()
+    .from(schema.caseAnswer)
+    .where(eq(schema.caseAnswer.caseId, caseId))
+    .orderBy(asc(schema.caseAnswer.round), asc(schema.caseAnswer.createdAt))
+    .all();
+  const answer = answers.at(-1);
   if (!answer) return null;
-  const confirmation = db
+  const confirmations = await tx
     .select()
     .from(schema.caseConfirmation)
     .where(and(eq(schema.caseConfirmation.caseId, caseId), eq(schema.caseConfirmation.fixed, true)))
     .orderBy(asc(schema.caseConfirmation.createdAt))
-    .all()
-    .at(-1);
-  const scrub = scrubContextForCase(db, c);
-  const traces = listTraces(ctx, caseId);
+    .all();
+  const confirmation = confirmations.at(-1);
+  const scrub = await scrubContextForCase(tx, c);
+  const traces: TraceRow[] = await tx
+    .select()
+    .from(schema.trace)
+    .where(eq(schema.trace.caseId, caseId))
+    .orderBy(asc(schema.trace.createdAt), asc(schema.trace.id))
+    .all();
   const published = traces.map((t, i) => publishTrace(entryId, t, i, scrub));
   const traceIds = new Set(traces.map((t) => t.id));
-  const annotations: CasebookAnnotation[] = db
+  const marks = await tx
     .select()
     .from(schema.annotation)
     .where(and(eq(schema.annotation.caseId, caseId), isNull(schema.annotation.deletedAt)))
     .orderBy(asc(schema.annotation.seq))
-    .all()
+    .all();
+  const annotations: CasebookAnnotation[] = marks
     .filter((a) => traceIds.has(a.traceId))
     .map((a, i) => ({
       id: `${entryId}-a${i + 1}`,

@@ -37,6 +37,7 @@
  * reports it handled, so every matching row comes back).
  */
 import type Database from "better-sqlite3";
+import { BM25_CALL, sqliteEngineSource, type EngineReader, type EngineSource, type EntryRow } from "./casebook-search-source";
 import type { CasebookSearchHit, CasebookSearchResult, FacetCount, FacetDim } from "../../shared/schemas/casebook";
 
 export { SNIPPET_OPEN, SNIPPET_CLOSE, facetDims } from "../../shared/schemas/casebook";
@@ -44,8 +45,6 @@ export type { CasebookSearchHit, CasebookSearchResult, FacetCount, FacetDim } fr
 
 /** The indexed content columns, their bm25 weights, and the facet-token column (weight 0). */
 export const CONTENT_COLUMNS = ["vehicle", "complaint", "symptoms", "codes", "diagnosis", "root_cause", "fix"] as const;
-const BM25_WEIGHTS = [2.0, 1.0, 0.8, 2.0, 1.2, 1.5, 1.0, 0.0];
-const BM25_CALL = `bm25(casebook_fts, ${BM25_WEIGHTS.join(", ")})`;
 
 /** How many of the newest results bm25 ranks. */
 export const RANK_WINDOW = 1000;
@@ -380,22 +379,6 @@ function dictId(d: Dict, key: string | null, label: string | null): number {
   return id;
 }
 
-interface EntryRow {
-  doc_id: number;
-  id: string;
-  make: string | null;
-  make_key: string | null;
-  model: string | null;
-  model_key: string | null;
-  year: number | null;
-  engine: string | null;
-  engine_key: string | null;
-  system: string | null;
-  code_list: string;
-  confirmed: number;
-  hidden: number;
-  rev: number;
-}
 
 const YEAR_BASE = 1900;
 const CODE_SLOTS = 4;
@@ -430,46 +413,16 @@ export class CasebookSearchEngine {
     code: newDict(),
   };
   private phraseCache = new Map<string, Bitmap>();
-  private stmts: ReturnType<CasebookSearchEngine["prepare"]>;
+  private readonly source: EngineSource;
 
   private readonly rankWindow: number;
   private readonly commonDocs: number;
-  private keep: Uint32Array | null = null;
 
-  constructor(
-    private readonly db: Database.Database,
-    opts: { rankWindow?: number; commonDocs?: number } = {},
-  ) {
+  /** `db`: a better-sqlite3 connection, or any EngineSource (a libSQL server: casebook-search-source.ts). */
+  constructor(db: Database.Database | EngineSource, opts: { rankWindow?: number; commonDocs?: number } = {}) {
     this.rankWindow = opts.rankWindow ?? RANK_WINDOW;
     this.commonDocs = opts.commonDocs ?? COMMON_DOCS;
-    // the filters of the ranking query: true for the documents of the current result set
-    db.function("casebook_keep", { deterministic: false }, (rowid: unknown) => {
-      const k = this.keep;
-      const d = Number(rowid);
-      return k !== null && (k[d >>> 5] & (1 << (d & 31))) !== 0 ? 1 : 0;
-    });
-    this.stmts = this.prepare();
-  }
-
-  private prepare() {
-    const db = this.db;
-    return {
-      maxRev: db.prepare("SELECT coalesce(max(rev), 0) AS rev FROM casebook_entry"),
-      changed: db.prepare(
-        "SELECT doc_id, id, make, make_key, model, model_key, year, engine, engine_key, system, code_list, confirmed, hidden, rev FROM casebook_entry WHERE rev > ? ORDER BY rev",
-      ),
-      phraseRowids: db.prepare("SELECT rowid FROM casebook_fts WHERE casebook_fts MATCH ?").pluck(),
-      phraseHas: db.prepare("SELECT 1 FROM casebook_fts WHERE casebook_fts MATCH ? AND rowid = ?").pluck(),
-      rank: db.prepare(`SELECT rowid AS doc, ${BM25_CALL} AS s FROM casebook_fts WHERE casebook_fts MATCH ? ORDER BY rowid DESC LIMIT ?`).raw(),
-      rankKeep: db.prepare(`SELECT rowid AS doc, ${BM25_CALL} AS s FROM casebook_fts WHERE casebook_fts MATCH ? AND casebook_keep(rowid) ORDER BY rowid DESC LIMIT ?`).raw(),
-      // diagnosis (4), complaint (1), root cause (5), fix (6), else the best column: the first with a match wins
-      snippet: db
-        .prepare(
-          `SELECT ${[4, 1, 5, 6, -1].map((c) => `snippet(casebook_fts, ${c}, char(2), char(3), '…', 18)`).join(", ")} FROM casebook_fts WHERE casebook_fts MATCH ? AND rowid = ?`,
-        )
-        .raw(),
-      rows: db.prepare("SELECT doc_id, id, title, vehicle, year, make, model, engine, code_list, root_cause, diagnosis, complaint, fix, symptoms, confirmed, published_at FROM casebook_entry WHERE doc_id = ?"),
-    };
+    this.source = "read" in db && typeof db.read === "function" ? (db as EngineSource) : sqliteEngineSource(db as Database.Database);
   }
 
   stats(): EngineStats {
@@ -505,12 +458,13 @@ export class CasebookSearchEngine {
   }
 
   /** Loads entries changed since the last call (all of them the first time) and patches the phrase cache. */
-  refresh(): void {
+  async refresh(reader?: EngineReader): Promise<void> {
+    if (!reader) return this.source.read((r) => this.refresh(r));
     // entries are hidden, never deleted; a rev that went backwards (a restored file) reloads all
-    const head = this.stmts.maxRev.get() as { rev: number };
+    const head = { rev: await reader.maxRev() };
     if (head.rev === this.rev) return;
     if (head.rev < this.rev) this.reset();
-    const rows = this.stmts.changed.all(this.rev < 0 ? -1 : this.rev) as EntryRow[];
+    const rows: EntryRow[] = await reader.changed(this.rev < 0 ? -1 : this.rev);
     const patch = this.rev >= 0 && rows.length * this.phraseCache.size <= PATCH_LIMIT;
     if (!patch) this.phraseCache.clear();
     for (const r of rows) {
@@ -538,7 +492,7 @@ export class CasebookSearchEngine {
       if (patch) {
         for (const [match, bm] of this.phraseCache) {
           if (r.hidden) bm.clear(d);
-          else if (this.stmts.phraseHas.get(match, BigInt(d))) bm.set(d);
+          else if (await reader.phraseHas(match, d)) bm.set(d);
           else bm.clear(d);
         }
       }
@@ -565,7 +519,7 @@ export class CasebookSearchEngine {
   }
 
   /** The entries matching one phrase in the content columns (cached, least recently used dropped). */
-  private phraseBitmap(phrase: string): Bitmap {
+  private async phraseBitmap(r: EngineReader, phrase: string): Promise<Bitmap> {
     const match = contentMatch([phrase]);
     const hit = this.phraseCache.get(match);
     if (hit) {
@@ -574,18 +528,19 @@ export class CasebookSearchEngine {
       return hit;
     }
     const bm = new Bitmap(this.cap);
-    for (const d of this.stmts.phraseRowids.all(match) as number[]) bm.set(d);
+    for (const d of await r.phraseRowids(match)) bm.set(d);
     this.phraseCache.set(match, bm);
     while (this.phraseCache.size > CACHE_SIZE) this.phraseCache.delete(this.phraseCache.keys().next().value!);
     return bm;
   }
 
-  search(input: CasebookSearchQuery): CasebookSearchResult {
-    return this.db.transaction(() => this.searchInSnapshot(input))();
+  /** One search, read in one snapshot. */
+  search(input: CasebookSearchQuery): Promise<CasebookSearchResult> {
+    return this.source.read((r) => this.searchInSnapshot(r, input));
   }
 
-  private searchInSnapshot(input: CasebookSearchQuery): CasebookSearchResult {
-    this.refresh();
+  private async searchInSnapshot(r: EngineReader, input: CasebookSearchQuery): Promise<CasebookSearchResult> {
+    await this.refresh(r);
     const phrases = queryPhrases(input.q);
     const sort: "relevance" | "recent" = input.sort === "recent" || phrases.length === 0 ? "recent" : "relevance";
     const pageSize = Math.max(1, Math.min(100, input.pageSize ?? PAGE_SIZE));
@@ -611,7 +566,7 @@ export class CasebookSearchEngine {
     let match: Uint32Array | null = null;
     const phraseDocs: number[] = [];
     for (const p of phrases) {
-      const bm = this.phraseBitmap(p);
+      const bm = await this.phraseBitmap(r, p);
       phraseDocs.push(bm.count());
       match = match ? intersect(match, bm.words) : bm.words;
     }
@@ -645,24 +600,19 @@ export class CasebookSearchEngine {
     const start = (page - 1) * pageSize;
     const pageDocs: { doc: number; score: number | null }[] = [];
     let ranking: CasebookSearchResult["ranking"] = { method: "recent", candidates: total, exact: true };
-    const rankPlan = phrases.length ? this.rankPlan(phrases, phraseDocs) : null;
+    const rankPlan = phrases.length ? await this.rankPlan(r, phrases, phraseDocs) : null;
     const rankMatch = rankPlan ? rankPlan.match : null;
     let ranked: [number, number][] = [];
     if (total > 0 && start < total && sort === "relevance") {
       if (rankPlan && rankPlan.match) {
         if (unfiltered) {
-          ranked = this.stmts.rank.all(rankPlan.match, this.rankWindow) as [number, number][];
+          ranked = await r.rank(rankPlan.match, this.rankWindow);
         } else {
           // the most selective filter goes into the MATCH as a facet token (FTS5 then skips
           // through its doclist); all filters are checked exactly by casebook_keep (the result set)
           const tag = this.selectiveTag(input, fYear ? [yFrom, yTo] : null);
           const fullMatch = tag ? `${rankPlan.match} AND tags : (${tag})` : rankPlan.match;
-          this.keep = res;
-          try {
-            ranked = this.stmts.rankKeep.all(fullMatch, this.rankWindow) as [number, number][];
-          } finally {
-            this.keep = null;
-          }
+          ranked = await r.rankKept(fullMatch, this.rankWindow, res);
         }
         ranked.sort((a, b) => a[1] - b[1] || b[0] - a[0]);
         ranking = { method: "bm25", candidates: ranked.length, exact: ranked.length >= total && rankPlan.complete };
@@ -687,7 +637,8 @@ export class CasebookSearchEngine {
     }
 
     const snippetMatch = phrases.length ? contentMatch([phrases.map(exactForm).join(" OR ")]) : null;
-    const results = pageDocs.map(({ doc, score }) => this.hit(doc, score, snippetMatch, queryTokens(input.q)));
+    const results: CasebookSearchHit[] = [];
+    for (const { doc, score } of pageDocs) results.push(await this.hit(r, doc, score, snippetMatch, queryTokens(input.q)));
     return {
       total,
       page,
@@ -711,25 +662,25 @@ export class CasebookSearchEngine {
    *   over their whole doclist each time.
    * `complete` is false when the expression leaves matches out of the ranking.
    */
-  private rankPlan(phrases: string[], docs: number[]): { match: string | null; complete: boolean } {
+  private async rankPlan(r: EngineReader, phrases: string[], docs: number[]): Promise<{ match: string | null; complete: boolean }> {
     const n = this.visibleCount();
     const keep: string[] = [];
     let complete = true;
-    phrases.forEach((p, i) => {
+    for (const [i, p] of phrases.entries()) {
       let phrase = p;
       let df = docs[i];
       if (p.endsWith("*")) {
         const exact = exactForm(p);
-        const e = this.phraseBitmap(exact).count();
+        const e = (await this.phraseBitmap(r, exact)).count();
         if (e > 0) {
           if (e < df) complete = false;
           phrase = exact;
           df = e;
         }
       }
-      if (df > n / 2 && df > this.commonDocs) return;
+      if (df > n / 2 && df > this.commonDocs) continue;
       keep.push(phrase);
-    });
+    }
     return { match: keep.length ? contentMatch(keep) : null, complete };
   }
 
@@ -832,8 +783,14 @@ export class CasebookSearchEngine {
     return { visible: this.visible, make: this.make, model: this.model, year: this.year, engine: this.engine, system: this.system, confirmed: this.confirmed, code4: this.code4, codeMore: this.codeMore };
   }
 
-  private hit(doc: number, score: number | null, snippetMatch: string | null, tokens: string[]): CasebookSearchHit {
-    const r = this.stmts.rows.get(doc) as {
+  private async hit(
+    reader: EngineReader,
+    doc: number,
+    score: number | null,
+    snippetMatch: string | null,
+    tokens: string[],
+  ): Promise<CasebookSearchHit> {
+    const r = (await reader.row(doc)) as {
       id: string;
       title: string;
       vehicle: string;
@@ -854,7 +811,7 @@ export class CasebookSearchEngine {
     // snippet() of FTS5 with the words as complete words (cheap); a row that matched only through
     // the start of a longer word gets its snippet here instead
     if (snippetMatch) {
-      const cols = (this.stmts.snippet.get(snippetMatch, BigInt(doc)) as string[] | undefined) ?? [];
+      const cols = (await reader.snippet(snippetMatch, doc)) ?? [];
       snippet = cols.find((x) => x && x.includes(SNIPPET_OPEN_CHAR)) ?? "";
     }
     if (!snippet && tokens.length) snippet = prefixSnippet([r.diagnosis, r.complaint, r.root_cause, r.fix, r.symptoms, r.vehicle], tokens);

@@ -3,14 +3,12 @@
  * count), helpful votes, moderation (hide, edit) and an expert's record; similar cases by
  * waveform pattern. Search itself is in casebook-search.ts (a worker thread).
  *
- * Publishing is called by the answers service once a fix is confirmed (its case-resolved hook
- * loads this module and calls `publishCaseToCasebook`). It is idempotent: a case is published
- * once; a failure is logged and never undoes the confirmation.
+ * Publishing is called by the workflow once a fix is confirmed (an effect after its commit). It is
+ * idempotent: a case is published once; a failure is logged and never undoes the confirmation.
  */
-import { and, desc, eq, inArray, sql } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import type { AppContext } from "../context";
-import type { Db } from "../db/client";
-import { schema } from "../db/client";
+import { schema, type Db, type Tx } from "../db/client";
 import type { Actor } from "../auth/session";
 import { casebookPolicy, type CasebookEntryForPolicy } from "../auth/policies/casebook";
 import { notFound } from "../http/errors";
@@ -28,10 +26,9 @@ import type {
 import { anonymiseCase, describeCodes, type CasebookEntryInput } from "./anonymise";
 import { facetKey, facetTags, vehicleLabel } from "./casebook-search-engine";
 import { casePattern, entryPattern, FEATURE_VERSION, hasWaveformFeatures, patternVector, similarIndex, similarityReasons, vectorToBlob } from "./similar";
-import { listTraces } from "./traces";
 
 export type CasebookEntryRow = typeof schema.casebookEntry.$inferSelect;
-const { casebookEntry, casebookVote, casebookView } = schema;
+const { casebookEntry, casebookVote, casebookView, casebookVector } = schema;
 
 export type { CasebookEntryInput } from "./anonymise";
 
@@ -146,9 +143,14 @@ function indexedText(body: CasebookEntryBody) {
   };
 }
 
-function nextRev(db: Db): number {
-  return ((db.$client.prepare("SELECT coalesce(max(rev), 0) FROM casebook_entry").pluck().get() as number) ?? 0) + 1;
+/** The next revision of the casebook (entries changed since a rev are what the search and the similar index reload). */
+async function nextRev(tx: Tx): Promise<number> {
+  const r = await tx.select({ rev: sql<number>`coalesce(max(${casebookEntry.rev}), 0)` }).from(casebookEntry).get();
+  return Number(r?.rev ?? 0) + 1;
 }
+
+/** Rows per INSERT statement in a bulk insert (28 columns each: well under SQLite's variable limit). */
+const INSERT_CHUNK = 200;
 
 /**
  * Inserts entries in one transaction (FTS kept in step by the triggers, vectors alongside). For
@@ -156,69 +158,82 @@ function nextRev(db: Db): number {
  * scrub (e-mail addresses, phone numbers, VINs) unless `scrub: false` (the benchmark's synthetic
  * data). Entries are inserted oldest first, so doc ids follow the publishing order.
  */
-export function insertCasebookEntries(db: Db, inputs: readonly CasebookEntryInput[], opts: { now?: Date; scrub?: boolean } = {}): string[] {
+export async function insertCasebookEntries(
+  db: Db,
+  inputs: readonly CasebookEntryInput[],
+  opts: { now?: Date; scrub?: boolean } = {},
+): Promise<string[]> {
+  return db.write((tx) => insertEntriesIn(tx, inputs, opts));
+}
+
+/** insertCasebookEntries inside the caller's write unit. */
+export async function insertEntriesIn(
+  tx: Tx,
+  inputs: readonly CasebookEntryInput[],
+  opts: { now?: Date; scrub?: boolean } = {},
+): Promise<string[]> {
   const now = opts.now ?? new Date();
-  const sorted = [...inputs].sort((a, b) => (a.publishedAt?.getTime() ?? now.getTime()) - (b.publishedAt?.getTime() ?? now.getTime()));
-  const c = db.$client;
-  const cols = [
-    "id", "case_id", "expert_id", "title", "vehicle", "complaint", "symptoms", "codes", "diagnosis", "root_cause", "fix", "tags",
-    "make", "make_key", "model", "model_key", "year", "engine", "engine_key", "system", "code_list", "confirmed", "rating", "body",
-    "hidden", "rev", "published_at", "updated_at",
-  ];
-  const ins = c.prepare(`INSERT INTO casebook_entry (${cols.join(", ")}) VALUES (${cols.map(() => "?").join(", ")})`);
-  const vec = c.prepare("INSERT OR REPLACE INTO casebook_vector (entry_id, version, vector, pattern, kinds) VALUES (?, ?, ?, ?, ?)");
-  const ids: string[] = [];
-  c.transaction(() => {
-    let rev = nextRev(db);
-    for (const input of sorted) {
-      const { row, vector } = buildRow(input, rev++, now, opts.scrub !== false);
-      ins.run(
-        row.id, row.caseId, row.expertId, row.title, row.vehicle, row.complaint, row.symptoms, row.codes, row.diagnosis, row.rootCause, row.fix, row.tags,
-        row.make, row.makeKey, row.model, row.modelKey, row.year, row.engine, row.engineKey, row.system, JSON.stringify(row.codeList), row.confirmed ? 1 : 0, row.rating ?? null,
-        JSON.stringify(row.body), 0, row.rev, (row.publishedAt as Date).getTime(), (row.updatedAt as Date).getTime(),
-      );
-      if (vector) vec.run(row.id, vector.version, vector.vector, JSON.stringify(vector.pattern), vector.kinds);
-      ids.push(row.id);
+  const at = (e: CasebookEntryInput) => e.publishedAt?.getTime() ?? now.getTime();
+  const sorted = [...inputs].sort((a, b) => at(a) - at(b));
+  let rev = await nextRev(tx);
+  const built = sorted.map((input) => buildRow(input, rev++, now, opts.scrub !== false));
+  for (let i = 0; i < built.length; i += INSERT_CHUNK) {
+    const chunk = built.slice(i, i + INSERT_CHUNK);
+    await tx.insert(casebookEntry).values(chunk.map((b) => b.row)).run();
+    const vectors = chunk.filter((b) => b.vector).map((b) => ({ entryId: b.row.id!, ...b.vector! }));
+    if (vectors.length) {
+      await tx
+        .insert(casebookVector)
+        .values(vectors)
+        .onConflictDoUpdate({
+          target: casebookVector.entryId,
+          set: {
+            version: sql`excluded.version`,
+            vector: sql`excluded.vector`,
+            pattern: sql`excluded.pattern`,
+            kinds: sql`excluded.kinds`,
+          },
+        })
+        .run();
     }
-  })();
-  return ids;
+  }
+  return built.map((b) => b.row.id!);
 }
 
 /**
  * Publishes a resolved case as an anonymised entry (once; later calls return the same entry).
- * Returns the entry id, or null when the case is not resolved or has no answer.
+ * Returns the entry id, or null when the case is not resolved or has no answer. Read, anonymised
+ * and written in one unit; of two nodes publishing the same case at once, the unique case_id
+ * (checked first, inside the unit) keeps one.
  */
-export function publishCaseToCasebook(ctx: AppContext, caseId: string): string | null {
-  const existing = ctx.db.select({ id: casebookEntry.id }).from(casebookEntry).where(eq(casebookEntry.caseId, caseId)).get();
-  if (existing) return existing.id;
-  const entryId = crypto.randomUUID();
-  const input = anonymiseCase(ctx, caseId, entryId);
-  if (!input) return null;
-  try {
+export async function publishCaseToCasebook(ctx: AppContext, caseId: string): Promise<string | null> {
+  const now = ctx.now();
+  const out = await ctx.db.write(async (tx) => {
+    const existing = await tx.select({ id: casebookEntry.id }).from(casebookEntry).where(eq(casebookEntry.caseId, caseId)).get();
+    if (existing) return { id: existing.id, created: false };
+    const entryId = crypto.randomUUID();
+    const input = await anonymiseCase(tx, caseId, entryId);
+    if (!input) return null;
     // already scrubbed with the case's names; the generic pass again is harmless
-    insertCasebookEntries(ctx.db, [{ ...input, publishedAt: ctx.now() }], { now: ctx.now() });
-  } catch (err) {
-    // two confirmations racing: the unique case_id keeps one
-    const again = ctx.db.select({ id: casebookEntry.id }).from(casebookEntry).where(eq(casebookEntry.caseId, caseId)).get();
-    if (again) return again.id;
-    throw err;
-  }
-  ctx.logger.info({ caseId, entryId }, "case published to the casebook");
-  return entryId;
+    await insertEntriesIn(tx, [{ ...input, publishedAt: now }], { now });
+    return { id: entryId, created: true };
+  });
+  if (out?.created) ctx.logger.info({ caseId, entryId: out.id }, "case published to the casebook");
+  return out?.id ?? null;
 }
 
 // ---------------------------------------------------------------------------------------------
 // Reading
 
-export function getEntryRow(db: Db, id: string): CasebookEntryRow | undefined {
-  return db.select().from(casebookEntry).where(eq(casebookEntry.id, id)).get();
+export async function getEntryRow(tx: Tx, id: string): Promise<CasebookEntryRow | undefined> {
+  return tx.select().from(casebookEntry).where(eq(casebookEntry.id, id)).get();
 }
 
 const forPolicy = (r: CasebookEntryRow): CasebookEntryForPolicy => ({ hidden: r.hidden, expertId: r.expertId });
 
-function helpfulCounts(db: Db, ids: string[]): Map<string, number> {
+async function helpfulCounts(tx: Tx, ids: string[]): Promise<Map<string, number>> {
   if (ids.length === 0) return new Map();
-  const rows = db
+  const rows = await tx
     .select({ id: casebookVote.entryId, n: sql<number>`count(*)` })
     .from(casebookVote)
     .where(inArray(casebookVote.entryId, ids))
@@ -228,16 +243,21 @@ function helpfulCounts(db: Db, ids: string[]): Map<string, number> {
 }
 
 /** Adds helpful-vote counts to search hits (one query for the page). */
-export function withHelpfulCounts<T extends { id: string }>(db: Db, hits: T[]): (T & { helpfulCount: number })[] {
-  const counts = helpfulCounts(db, hits.map((h) => h.id));
+export async function withHelpfulCounts<T extends { id: string }>(tx: Tx, hits: T[]): Promise<(T & { helpfulCount: number })[]> {
+  const counts = await helpfulCounts(
+    tx,
+    hits.map((h) => h.id),
+  );
   return hits.map((h) => ({ ...h, helpfulCount: counts.get(h.id) ?? 0 }));
 }
 
-export function presentEntry(db: Db, actor: Actor, r: CasebookEntryRow): CasebookEntryView {
+export async function presentEntry(tx: Tx, actor: Actor, r: CasebookEntryRow): Promise<CasebookEntryView> {
   const body = r.body as unknown as CasebookEntryBody;
-  const helpfulCount = helpfulCounts(db, [r.id]).get(r.id) ?? 0;
-  const viewCount = Number(db.select({ n: sql<number>`count(*)` }).from(casebookView).where(eq(casebookView.entryId, r.id)).get()?.n ?? 0);
-  const voted = !!db.select({ x: casebookVote.entryId }).from(casebookVote).where(and(eq(casebookVote.entryId, r.id), eq(casebookVote.userId, actor.id))).get();
+  const helpfulCount = (await helpfulCounts(tx, [r.id])).get(r.id) ?? 0;
+  const views = await tx.select({ n: sql<number>`count(*)` }).from(casebookView).where(eq(casebookView.entryId, r.id)).get();
+  const viewCount = Number(views?.n ?? 0);
+  const mine = and(eq(casebookVote.entryId, r.id), eq(casebookVote.userId, actor.id));
+  const voted = !!(await tx.select({ x: casebookVote.entryId }).from(casebookVote).where(mine).get());
   const abilities = casebookPolicy.abilities(actor, forPolicy(r));
   return {
     ...body,
@@ -256,38 +276,50 @@ export function presentEntry(db: Db, actor: Actor, r: CasebookEntryRow): Caseboo
 }
 
 /** GET /api/casebook/:id — the entry, counting the reader once. */
-export function readEntry(ctx: AppContext, actor: Actor, id: string): CasebookEntryView {
-  const r = getEntryRow(ctx.db, id);
-  if (!r) throw notFound("Casebook entry");
-  casebookPolicy.authorize(actor, "read", forPolicy(r));
+export async function readEntry(ctx: AppContext, actor: Actor, id: string): Promise<CasebookEntryView> {
   const now = ctx.now();
-  ctx.db
-    .insert(casebookView)
-    .values({ entryId: r.id, userId: actor.id, firstAt: now, lastAt: now, count: 1 })
-    .onConflictDoUpdate({ target: [casebookView.entryId, casebookView.userId], set: { lastAt: now, count: sql`${casebookView.count} + 1` } })
-    .run();
-  return presentEntry(ctx.db, actor, r);
+  return ctx.db.write(async (tx) => {
+    const r = await getEntryRow(tx, id);
+    if (!r) throw notFound("Casebook entry");
+    casebookPolicy.authorize(actor, "read", forPolicy(r));
+    await tx
+      .insert(casebookView)
+      .values({ entryId: r.id, userId: actor.id, firstAt: now, lastAt: now, count: 1 })
+      .onConflictDoUpdate({
+        target: [casebookView.entryId, casebookView.userId],
+        set: { lastAt: now, count: sql`${casebookView.count} + 1` },
+      })
+      .run();
+    return presentEntry(tx, actor, r);
+  });
 }
 
 /** POST /api/casebook/:id/vote — one helpful vote per user (repeating it changes nothing). */
-export function voteEntry(ctx: AppContext, actor: Actor, id: string, helpful: boolean): { helpfulCount: number; voted: boolean } {
-  const r = getEntryRow(ctx.db, id);
-  if (!r) throw notFound("Casebook entry");
-  casebookPolicy.authorize(actor, "vote", forPolicy(r));
-  if (helpful) {
-    ctx.db.insert(casebookVote).values({ entryId: r.id, userId: actor.id, createdAt: ctx.now() }).onConflictDoNothing().run();
-  } else {
-    ctx.db.delete(casebookVote).where(and(eq(casebookVote.entryId, r.id), eq(casebookVote.userId, actor.id))).run();
-  }
-  return { helpfulCount: helpfulCounts(ctx.db, [r.id]).get(r.id) ?? 0, voted: helpful };
+export async function voteEntry(
+  ctx: AppContext,
+  actor: Actor,
+  id: string,
+  helpful: boolean,
+): Promise<{ helpfulCount: number; voted: boolean }> {
+  const now = ctx.now();
+  return ctx.db.write(async (tx) => {
+    const r = await getEntryRow(tx, id);
+    if (!r) throw notFound("Casebook entry");
+    casebookPolicy.authorize(actor, "vote", forPolicy(r));
+    if (helpful) {
+      await tx.insert(casebookVote).values({ entryId: r.id, userId: actor.id, createdAt: now }).onConflictDoNothing().run();
+    } else {
+      await tx
+        .delete(casebookVote)
+        .where(and(eq(casebookVote.entryId, r.id), eq(casebookVote.userId, actor.id)))
+        .run();
+    }
+    return { helpfulCount: (await helpfulCounts(tx, [r.id])).get(r.id) ?? 0, voted: helpful };
+  });
 }
 
-/** PATCH /api/admin/casebook/:id — hide/unhide and edit the text; the FTS triggers follow. */
-export function editEntry(ctx: AppContext, actor: Actor, id: string, patch: CasebookEditInput): CasebookEntryView {
-  const r = getEntryRow(ctx.db, id);
-  if (!r) throw notFound("Casebook entry");
-  casebookPolicy.authorize(actor, "moderate", forPolicy(r));
-  const now = ctx.now();
+/** What a moderation patch changes in the entry's row. */
+function moderationSet(r: CasebookEntryRow, patch: CasebookEditInput, actor: Actor, now: Date) {
   const body = structuredClone(r.body) as unknown as CasebookEntryBody;
   if (patch.complaint !== undefined) body.complaint = generic(patch.complaint);
   if (patch.diagnosis !== undefined) body.answer.diagnosis = generic(patch.diagnosis);
@@ -295,7 +327,9 @@ export function editEntry(ctx: AppContext, actor: Actor, id: string, patch: Case
   if (patch.fix !== undefined) body.answer.fix = generic(patch.fix);
   if (patch.testsToConfirm !== undefined) body.answer.testsToConfirm = generic(patch.testsToConfirm);
   const set: Partial<typeof casebookEntry.$inferInsert> = { updatedAt: now, editedBy: actor.id };
-  const textChanged = ["complaint", "diagnosis", "rootCause", "fix", "testsToConfirm"].some((k) => (patch as Record<string, unknown>)[k] !== undefined);
+  const textChanged = ["complaint", "diagnosis", "rootCause", "fix", "testsToConfirm"].some(
+    (k) => (patch as Record<string, unknown>)[k] !== undefined,
+  );
   if (textChanged) Object.assign(set, { body: body as unknown as Record<string, unknown>, ...indexedText(body) });
   if (patch.title !== undefined) set.title = generic(patch.title);
   if (patch.hidden !== undefined) {
@@ -304,56 +338,91 @@ export function editEntry(ctx: AppContext, actor: Actor, id: string, patch: Case
     set.hiddenBy = patch.hidden ? actor.id : null;
     set.hiddenReason = patch.hidden ? (patch.hiddenReason ?? r.hiddenReason ?? null) : null;
   } else if (patch.hiddenReason !== undefined) set.hiddenReason = patch.hiddenReason;
-  ctx.db.transaction((tx) => {
-    const rev = (ctx.db.$client.prepare("SELECT coalesce(max(rev), 0) FROM casebook_entry").pluck().get() as number) + 1;
-    tx.update(casebookEntry)
-      .set({ ...set, rev })
+  return set;
+}
+
+/** PATCH /api/admin/casebook/:id — hide/unhide and edit the text; the FTS triggers follow. */
+export async function editEntry(ctx: AppContext, actor: Actor, id: string, patch: CasebookEditInput): Promise<CasebookEntryView> {
+  const now = ctx.now();
+  const view = await ctx.db.write(async (tx) => {
+    const r = await getEntryRow(tx, id);
+    if (!r) throw notFound("Casebook entry");
+    casebookPolicy.authorize(actor, "moderate", forPolicy(r));
+    const rev = await nextRev(tx);
+    await tx
+      .update(casebookEntry)
+      .set({ ...moderationSet(r, patch, actor, now), rev })
       .where(eq(casebookEntry.id, r.id))
       .run();
+    return presentEntry(tx, actor, (await getEntryRow(tx, r.id))!);
   });
-  ctx.logger.info({ entryId: r.id, by: actor.id, fields: Object.keys(patch) }, "casebook entry moderated");
-  return presentEntry(ctx.db, actor, getEntryRow(ctx.db, r.id)!);
+  ctx.logger.info({ entryId: id, by: actor.id, fields: Object.keys(patch) }, "casebook entry moderated");
+  return view;
 }
 
 /** Hidden entries for the moderation list, newest first. */
-export function listHiddenEntries(ctx: AppContext, actor: Actor) {
+export async function listHiddenEntries(ctx: AppContext, actor: Actor) {
   casebookPolicy.authorize(actor, "moderate", { hidden: true, expertId: null });
-  return ctx.db
-    .select({ id: casebookEntry.id, title: casebookEntry.title, hiddenReason: casebookEntry.hiddenReason, hiddenAt: casebookEntry.hiddenAt })
-    .from(casebookEntry)
-    .where(eq(casebookEntry.hidden, true))
-    .orderBy(desc(casebookEntry.hiddenAt))
-    .limit(200)
-    .all();
+  const cols = {
+    id: casebookEntry.id,
+    title: casebookEntry.title,
+    hiddenReason: casebookEntry.hiddenReason,
+    hiddenAt: casebookEntry.hiddenAt,
+  };
+  return ctx.db.read((tx) =>
+    tx.select(cols).from(casebookEntry).where(eq(casebookEntry.hidden, true)).orderBy(desc(casebookEntry.hiddenAt)).limit(200).all(),
+  );
 }
 
 /** An expert's casebook record: visible entries of theirs, confirmed ones, helpful votes and readers. */
-export function expertRecord(ctx: AppContext, actor: Actor, expertId: string): ExpertCasebookRecord {
-  const expert = ctx.db.select({ id: schema.user.id, role: schema.user.role }).from(schema.user).where(eq(schema.user.id, expertId)).get();
-  if (!expert || expert.role !== "expert") throw notFound("Expert");
-  const entries = ctx.db
-    .select({ id: casebookEntry.id, confirmed: casebookEntry.confirmed })
-    .from(casebookEntry)
-    .where(and(eq(casebookEntry.expertId, expertId), eq(casebookEntry.hidden, false)))
-    .orderBy(desc(casebookEntry.publishedAt))
-    .all();
-  const ids = entries.map((e) => e.id);
-  let helpfulVotes = 0;
-  let views = 0;
-  if (ids.length) {
-    helpfulVotes = Number(ctx.db.select({ n: sql<number>`count(*)` }).from(casebookVote).innerJoin(casebookEntry, eq(casebookEntry.id, casebookVote.entryId)).where(and(eq(casebookEntry.expertId, expertId), eq(casebookEntry.hidden, false))).get()?.n ?? 0);
-    views = Number(ctx.db.select({ n: sql<number>`count(*)` }).from(casebookView).innerJoin(casebookEntry, eq(casebookEntry.id, casebookView.entryId)).where(and(eq(casebookEntry.expertId, expertId), eq(casebookEntry.hidden, false))).get()?.n ?? 0);
-  }
-  const own = actor.id === expertId || actor.role === "admin";
-  return { expertId, entries: entries.length, confirmed: entries.filter((e) => e.confirmed).length, helpfulVotes, views, ...(own ? { entryIds: ids } : {}) };
+export async function expertRecord(ctx: AppContext, actor: Actor, expertId: string): Promise<ExpertCasebookRecord> {
+  return ctx.db.read(async (tx) => {
+    const { user } = schema;
+    const expert = await tx.select({ id: user.id, role: user.role }).from(user).where(eq(user.id, expertId)).get();
+    if (!expert || expert.role !== "expert") throw notFound("Expert");
+    const visible = and(eq(casebookEntry.expertId, expertId), eq(casebookEntry.hidden, false));
+    const entries = await tx
+      .select({ id: casebookEntry.id, confirmed: casebookEntry.confirmed })
+      .from(casebookEntry)
+      .where(visible)
+      .orderBy(desc(casebookEntry.publishedAt))
+      .all();
+    const ids = entries.map((e) => e.id);
+    let helpfulVotes = 0;
+    let views = 0;
+    if (ids.length) {
+      const votes = await tx
+        .select({ n: sql<number>`count(*)` })
+        .from(casebookVote)
+        .innerJoin(casebookEntry, eq(casebookEntry.id, casebookVote.entryId))
+        .where(visible)
+        .get();
+      const reads = await tx
+        .select({ n: sql<number>`count(*)` })
+        .from(casebookView)
+        .innerJoin(casebookEntry, eq(casebookEntry.id, casebookView.entryId))
+        .where(visible)
+        .get();
+      helpfulVotes = Number(votes?.n ?? 0);
+      views = Number(reads?.n ?? 0);
+    }
+    const own = actor.id === expertId || actor.role === "admin";
+    const confirmed = entries.filter((e) => e.confirmed).length;
+    return { expertId, entries: entries.length, confirmed, helpfulVotes, views, ...(own ? { entryIds: ids } : {}) };
+  });
 }
 
 // ---------------------------------------------------------------------------------------------
 // Traces of an entry
 
 /** The published trace of an entry, when the actor may read the entry. */
-export function entryTrace(ctx: AppContext, actor: Actor, entryId: string, traceId: string): { entry: CasebookEntryRow; trace: CasebookTrace } {
-  const r = getEntryRow(ctx.db, entryId);
+export async function entryTrace(
+  ctx: AppContext,
+  actor: Actor,
+  entryId: string,
+  traceId: string,
+): Promise<{ entry: CasebookEntryRow; trace: CasebookTrace }> {
+  const r = await ctx.db.read((tx) => getEntryRow(tx, entryId));
   if (!r || !casebookPolicy.can(actor, "read", forPolicy(r))) throw notFound("Trace");
   const t = ((r.body as unknown as CasebookEntryBody).traces ?? []).find((x) => x.id === traceId);
   if (!t) throw notFound("Trace");
@@ -361,8 +430,8 @@ export function entryTrace(ctx: AppContext, actor: Actor, entryId: string, trace
 }
 
 /** The casebook entry a trace was published with (as the policy sees it), or null when it was not. */
-export function publishedEntryOfTrace(db: Db, traceId: string): CasebookEntryForPolicy | null {
-  const row = db
+export async function publishedEntryOfTrace(tx: Tx, traceId: string): Promise<CasebookEntryForPolicy | null> {
+  const row = await tx
     .select({ e: casebookEntry })
     .from(schema.trace)
     .innerJoin(casebookEntry, eq(casebookEntry.caseId, schema.trace.caseId))
@@ -377,41 +446,48 @@ export function publishedEntryOfTrace(db: Db, traceId: string): CasebookEntryFor
 // Similar cases
 
 /** GET /api/cases/:id/similar — the entries nearest to this case's waveform pattern, with reasons. */
-export function similarForCase(ctx: AppContext, caseId: string, limit = 5): SimilarCasesResult {
-  const traces = listTraces(ctx, caseId);
+export async function similarForCase(ctx: AppContext, caseId: string, limit = 5): Promise<SimilarCasesResult> {
+  const { trace } = schema;
+  const traces = await ctx.db.read((tx) =>
+    tx.select().from(trace).where(eq(trace.caseId, caseId)).orderBy(asc(trace.createdAt), asc(trace.id)).all(),
+  );
   const pattern = casePattern(traces.map((t) => ({ settings: t.settings, analysis: t.analysis })));
   const v = patternVector(pattern);
   if (!hasWaveformFeatures(v)) {
-    return { caseId, note: traces.length ? "None of this case's traces has been measured yet." : "Add a trace to compare this case with the casebook.", results: [] };
+    const note = traces.length ? "None of this case's traces has been measured yet." : "Add a trace to compare this case with the casebook.";
+    return { caseId, note, results: [] };
   }
-  const own = ctx.db.select({ id: casebookEntry.id }).from(casebookEntry).where(eq(casebookEntry.caseId, caseId)).get();
-  const ix = similarIndex(ctx.db);
-  const matches = ix.nearest(v, limit, own ? new Set([own.id]) : undefined);
-  if (matches.length === 0) return { caseId, note: "The casebook has no entries with measured traces yet.", results: [] };
-  const rows = ctx.db
-    .select({ id: casebookEntry.id, title: casebookEntry.title, year: casebookEntry.year, make: casebookEntry.make, model: casebookEntry.model, engine: casebookEntry.engine, codeList: casebookEntry.codeList, rootCause: casebookEntry.rootCause, hidden: casebookEntry.hidden })
-    .from(casebookEntry)
-    .where(inArray(casebookEntry.id, matches.map((m) => m.entryId)))
-    .all();
-  const byId = new Map(rows.map((r) => [r.id, r]));
-  const helpful = helpfulCounts(ctx.db, matches.map((m) => m.entryId));
-  const results: SimilarCase[] = [];
-  for (const m of matches) {
-    const r = byId.get(m.entryId);
-    if (!r || r.hidden) continue;
-    const p = entryPattern(ctx.db, m.entryId);
-    results.push({
-      id: r.id,
-      title: r.title,
-      vehicle: vehicleLabel(r),
-      codes: r.codeList,
-      rootCause: r.rootCause,
-      similarity: m.similarity,
-      distance: m.distance,
-      reasons: p ? similarityReasons(pattern, p) : [],
-      helpfulCount: helpful.get(r.id) ?? 0,
-    });
-  }
-  return { caseId, note: null, results };
+  const ix = await similarIndex(ctx.db);
+  return ctx.db.read(async (tx) => {
+    const own = await tx.select({ id: casebookEntry.id }).from(casebookEntry).where(eq(casebookEntry.caseId, caseId)).get();
+    const matches = ix.nearest(v, limit, own ? new Set([own.id]) : undefined);
+    if (matches.length === 0) return { caseId, note: "The casebook has no entries with measured traces yet.", results: [] };
+    const ids = matches.map((m) => m.entryId);
+    const e = casebookEntry;
+    const rows = await tx
+      .select({ id: e.id, title: e.title, year: e.year, make: e.make, model: e.model, engine: e.engine, codeList: e.codeList, rootCause: e.rootCause, hidden: e.hidden })
+      .from(e)
+      .where(inArray(e.id, ids))
+      .all();
+    const byId = new Map(rows.map((r) => [r.id, r]));
+    const helpful = await helpfulCounts(tx, ids);
+    const results: SimilarCase[] = [];
+    for (const m of matches) {
+      const r = byId.get(m.entryId);
+      if (!r || r.hidden) continue;
+      const p = await entryPattern(tx, m.entryId);
+      results.push({
+        id: r.id,
+        title: r.title,
+        vehicle: vehicleLabel(r),
+        codes: r.codeList,
+        rootCause: r.rootCause,
+        similarity: m.similarity,
+        distance: m.distance,
+        reasons: p ? similarityReasons(pattern, p) : [],
+        helpfulCount: helpful.get(r.id) ?? 0,
+      });
+    }
+    return { caseId, note: null, results };
+  });
 }
-

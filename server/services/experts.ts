@@ -16,7 +16,7 @@ export type ExpertProfileRow = typeof schema.expertProfile.$inferSelect;
  */
 export async function applyAsExpert(ctx: AppContext, input: ExpertApplicationInput): Promise<typeof SIGN_UP_ACCEPTED> {
   const passwordHash = await hashPassword(input.password);
-  const existing = findUserByEmail(ctx, input.email);
+  const existing = await findUserByEmail(ctx, input.email);
   if (existing) {
     await sendAlreadyRegistered(ctx, existing).catch((err) => ctx.logger.warn({ err }, "could not send already-registered mail"));
     return SIGN_UP_ACCEPTED;
@@ -25,9 +25,10 @@ export async function applyAsExpert(ctx: AppContext, input: ExpertApplicationInp
   const makes = [...new Set(input.makes.map((m) => m.trim()).filter(Boolean))];
   let userId: string;
   try {
-    userId = ctx.db.transaction((tx) => {
-      const id = insertCredentialUser(tx, { email: input.email, name: input.name, role: "expert", shopId: null, emailVerified: false, passwordHash, now });
-      tx.insert(schema.expertProfile)
+    userId = await ctx.db.write(async (tx) => {
+      const id = await insertCredentialUser(tx, { email: input.email, name: input.name, role: "expert", shopId: null, emailVerified: false, passwordHash, now });
+      await tx
+        .insert(schema.expertProfile)
         .values({ userId: id, systems: [...new Set(input.systems)], makes, bio: input.bio, yearsExperience: input.yearsExperience ?? null, status: "pending", available: false, createdAt: now })
         .run();
       return id;
@@ -39,42 +40,50 @@ export async function applyAsExpert(ctx: AppContext, input: ExpertApplicationInp
   await mailOrUndo(
     ctx,
     () => sendVerification(ctx, { id: userId, email: input.email, name: input.name }),
-    () => ctx.db.delete(schema.user).where(eq(schema.user.id, userId)).run(),
+    () => ctx.db.write((tx) => tx.delete(schema.user).where(eq(schema.user.id, userId)).run()),
   );
   return SIGN_UP_ACCEPTED;
 }
 
-export function getExpertProfile(ctx: AppContext, userId: string): ExpertProfileRow | undefined {
-  return ctx.db.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, userId)).get();
+export async function getExpertProfile(ctx: AppContext, userId: string): Promise<ExpertProfileRow | undefined> {
+  return ctx.db.read((tx) => tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, userId)).get());
 }
 
-export function listExperts(ctx: AppContext, status: ExpertStatus) {
-  return ctx.db
+export async function listExperts(ctx: AppContext, status: ExpertStatus) {
+  return ctx.db.read((tx) =>
+    tx
     .select({ profile: schema.expertProfile, name: schema.user.name, email: schema.user.email, emailVerified: schema.user.emailVerified })
     .from(schema.expertProfile)
     .innerJoin(schema.user, eq(schema.user.id, schema.expertProfile.userId))
     .where(eq(schema.expertProfile.status, status))
     .orderBy(asc(schema.expertProfile.createdAt))
-    .all();
+    .all(),
+  );
 }
 
 /** Approves or rejects a pending application (or re-decides one); mails the expert. */
 export async function decideExpert(ctx: AppContext, actor: Actor, userId: string, decision: "approved" | "rejected", note?: string): Promise<ExpertProfileRow> {
   const now = ctx.now();
-  const profile = getExpertProfile(ctx, userId)!;
-  if (profile.status === decision) throw conflict("already_decided", `This application is already ${decision}.`);
-  ctx.db
-    .update(schema.expertProfile)
-    .set({ status: decision, decidedBy: actor.id, decidedAt: now, ...(decision === "rejected" ? { available: false } : {}) })
-    .where(and(eq(schema.expertProfile.userId, userId)))
-    .run();
-  const user = ctx.db.select().from(schema.user).where(eq(schema.user.id, userId)).get();
-  if (user) {
-    await sendMail(ctx, user.email, mails.expertDecision(user.name, decision === "approved", note, `${ctx.env.publicUrl}/`)).catch((err) =>
-      ctx.logger.warn({ err }, "could not send the expert decision mail"),
-    );
-  }
-  return getExpertProfile(ctx, userId)!;
+  const set = { status: decision, decidedBy: actor.id, decidedAt: now, ...(decision === "rejected" ? { available: false } : {}) };
+  // the decision and its mail (a row of the outbox) are stored together
+  return ctx.db.write(async (tx) => {
+    const profile = await tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, userId)).get();
+    if (!profile) throw notFound("Expert profile");
+    if (profile.status === decision) throw conflict("already_decided", `This application is already ${decision}.`);
+    const updated = await tx
+      .update(schema.expertProfile)
+      .set(set)
+      .where(and(eq(schema.expertProfile.userId, userId), eq(schema.expertProfile.status, profile.status)))
+      .returning()
+      .get();
+    if (!updated) throw conflict("already_decided", "This application was decided meanwhile.");
+    const user = await tx.select().from(schema.user).where(eq(schema.user.id, userId)).get();
+    if (user) {
+      const content = mails.expertDecision(user.name, decision === "approved", note, `${ctx.env.publicUrl}/`);
+      await sendMail(ctx, user.email, content, { tx });
+    }
+    return updated;
+  });
 }
 
 /**

@@ -26,6 +26,8 @@ export interface Notice {
    * instead of a new notice, and no further mail goes out.
    */
   fold?: (count: number) => { title: string; paragraphs: string[] };
+  /** how many happenings of a burst this notice stands for at once (default 1; see `fold`) */
+  times?: number;
 }
 
 /** What the texts need of a case. */

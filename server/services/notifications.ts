@@ -63,7 +63,7 @@ async function storeNotice(
               .get()
           : undefined;
       if (open && n.fold) {
-        const count = open.count + 1;
+        const count = open.count + (n.times ?? 1);
         const t = n.fold(count);
         const [row] = await tx
           .update(notification)
@@ -74,15 +74,17 @@ async function storeNotice(
         rows.push(row);
         folded = true;
       } else {
+        const times = n.fold ? (n.times ?? 1) : 1;
+        const t = times > 1 ? n.fold!(times) : n;
         const row: NotificationRow = {
           id: crypto.randomUUID(),
           userId: u.id,
           kind: n.kind,
           caseId: n.caseId ?? null,
-          title: n.title,
-          body: n.paragraphs.join("\n\n"),
+          title: t.title,
+          body: t.paragraphs.join("\n\n"),
           link: n.link ?? null,
-          count: 1,
+          count: times,
           readAt: null,
           createdAt: now,
         };

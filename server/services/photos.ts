@@ -1,6 +1,6 @@
 import { asc, eq } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import type { Actor } from "../auth/session";
 import { assertCaseAction } from "../auth/policies/cases";
 import type { StoredUpload } from "../uploads/multer";
@@ -18,12 +18,12 @@ export function cleanFileName(name: string | undefined | null, fallback: string)
   return clean || fallback;
 }
 
-export function getPhotoRow(ctx: AppContext, id: string): PhotoRow | undefined {
-  return ctx.db.select().from(photo).where(eq(photo.id, id)).get();
+export async function getPhotoRow(ctx: AppContext, id: string): Promise<PhotoRow | undefined> {
+  return ctx.db.read((tx) => tx.select().from(photo).where(eq(photo.id, id)).get());
 }
 
-export function listPhotos(ctx: AppContext, caseId: string): PhotoRow[] {
-  return ctx.db.select().from(photo).where(eq(photo.caseId, caseId)).orderBy(asc(photo.createdAt), asc(photo.id)).all();
+export async function listPhotos(tx: Tx, caseId: string): Promise<PhotoRow[]> {
+  return tx.select().from(photo).where(eq(photo.caseId, caseId)).orderBy(asc(photo.createdAt), asc(photo.id)).all();
 }
 
 export function presentPhoto(p: PhotoRow) {
@@ -45,40 +45,46 @@ export async function addPhoto(ctx: AppContext, actor: Actor, caseId: string, up
   try {
     placed = await placeContentAddressed(layout, layout.photosDir, upload.path, upload.sha256);
     const now = ctx.now();
-    ctx.db.transaction((tx) => {
+    const rel = placed.rel;
+    const row = await ctx.db.write(async (tx) => {
       // The case may have moved on while the file was arriving: check again inside the transaction.
-      assertCaseAction(actor, getCaseRow(tx, caseId) as CaseRow | undefined, "addPhoto");
-      tx.insert(photo).values({ id, caseId, uploadedBy: actor.id, name, mime, bytes: upload.size, sha256: upload.sha256, path: placed!.rel, createdAt: now }).run();
-      recordCaseEvent(tx, { caseId, actorId: actor.id, type: "photo_added", at: now, data: { photoId: id, name } });
-      touchCase(tx, caseId, now);
+      assertCaseAction(actor, (await getCaseRow(tx, caseId)) as CaseRow | undefined, "addPhoto");
+      const values = { id, caseId, uploadedBy: actor.id, name, mime, bytes: upload.size, sha256: upload.sha256, path: rel, createdAt: now };
+      const inserted = await tx.insert(photo).values(values).returning().get();
+      await recordCaseEvent(tx, { caseId, actorId: actor.id, type: "photo_added", at: now, data: { photoId: id, name } });
+      await touchCase(tx, caseId, now);
+      return inserted;
     });
     committed = true;
     announceCaseChange(ctx, caseId, now, "photo", id);
-    return getPhotoRow(ctx, id)!;
+    return row;
   } finally {
     if (placed) {
       // Keep the file if a row uses it or another upload of the same content is under way.
-      if (!committed && contentInFlight(placed.abs) <= 1 && !photoUsesContent(ctx, upload.sha256)) await removeStoredFile(placed.abs);
+      if (!committed && contentInFlight(placed.abs) <= 1 && !(await photoUsesContent(ctx, upload.sha256)))
+        await removeStoredFile(placed.abs);
       placed.release();
     }
   }
 }
 
-function photoUsesContent(ctx: AppContext, sha256: string): boolean {
-  return ctx.db.select({ id: photo.id }).from(photo).where(eq(photo.sha256, sha256)).limit(1).get() !== undefined;
+async function photoUsesContent(ctx: AppContext, sha256: string): Promise<boolean> {
+  const row = await ctx.db.read((tx) => tx.select({ id: photo.id }).from(photo).where(eq(photo.sha256, sha256)).limit(1).get());
+  return row !== undefined;
 }
 
 /** Removes a photo (draft only, checked by the policy) and its file when no other photo uses it. */
 export async function deletePhoto(ctx: AppContext, actor: Actor, p: PhotoRow): Promise<void> {
   const now = ctx.now();
-  ctx.db.transaction((tx) => {
-    tx.delete(photo).where(eq(photo.id, p.id)).run();
-    recordCaseEvent(tx, { caseId: p.caseId, actorId: actor.id, type: "photo_deleted", at: now, data: { photoId: p.id, name: p.name } });
-    touchCase(tx, p.caseId, now);
+  await ctx.db.write(async (tx) => {
+    await tx.delete(photo).where(eq(photo.id, p.id)).run();
+    const data = { photoId: p.id, name: p.name };
+    await recordCaseEvent(tx, { caseId: p.caseId, actorId: actor.id, type: "photo_deleted", at: now, data });
+    await touchCase(tx, p.caseId, now);
   });
   const layout = storageLayout(ctx.env.dataDir);
   const abs = resolveDataPath(layout.dataDir, p.path);
-  if (contentInFlight(abs) === 0 && !photoUsesContent(ctx, p.sha256)) await removeStoredFile(abs);
+  if (contentInFlight(abs) === 0 && !(await photoUsesContent(ctx, p.sha256))) await removeStoredFile(abs);
   announceCaseChange(ctx, p.caseId, now, "photo", p.id);
 }
 

@@ -1,10 +1,10 @@
 import { and, asc, eq, gt, isNotNull, isNull } from "drizzle-orm";
 import { createHash, randomBytes } from "node:crypto";
 import type { AppContext } from "../context";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import type { Actor } from "../auth/session";
 import { HttpError, conflict, notFound } from "../http/errors";
-import { enqueueAccountMail, mails } from "../auth/mail";
+import { mails, sendMail } from "../auth/mail";
 import { verificationUrl } from "../auth/auth";
 import type { AcceptInviteInput, InviteTechnicianInput, ShopSignUpInput } from "../../shared/schemas/auth";
 import {
@@ -30,7 +30,7 @@ export const INVITE_TTL_DAYS = 7;
  */
 export async function signUpShopOwner(ctx: AppContext, input: ShopSignUpInput): Promise<typeof SIGN_UP_ACCEPTED> {
   const passwordHash = await hashPassword(input.password);
-  const existing = findUserByEmail(ctx, input.email);
+  const existing = await findUserByEmail(ctx, input.email);
   if (existing) {
     await sendAlreadyRegistered(ctx, existing).catch((err) => ctx.logger.warn({ err }, "could not send already-registered mail"));
     return SIGN_UP_ACCEPTED;
@@ -41,11 +41,11 @@ export async function signUpShopOwner(ctx: AppContext, input: ShopSignUpInput): 
   const link = await verificationUrl(ctx, { id: userId, email: input.email });
   try {
     // the shop, the owner and the confirmation mail (in the outbox) exist together or not at all
-    ctx.db.transaction((tx) => {
-      tx.insert(schema.shop).values({ id: shopId, name: input.shopName, createdAt: now }).run();
+    await ctx.db.write(async (tx) => {
+      await tx.insert(schema.shop).values({ id: shopId, name: input.shopName, createdAt: now }).run();
       const owner = { id: userId, email: input.email, name: input.name, role: "owner" as const, shopId };
-      insertCredentialUser(tx, { ...owner, emailVerified: false, passwordHash, now });
-      enqueueAccountMail(ctx, input.email, mails.verifyEmail(input.name, link), { tx, kind: "verify_email" });
+      await insertCredentialUser(tx, { ...owner, emailVerified: false, passwordHash, now });
+      await sendMail(ctx, input.email, mails.verifyEmail(input.name, link), { tx, kind: "verify_email" });
     });
   } catch (err) {
     // a concurrent sign-up with the same address won the unique index: answer as for an existing one
@@ -55,26 +55,30 @@ export async function signUpShopOwner(ctx: AppContext, input: ShopSignUpInput): 
   return SIGN_UP_ACCEPTED;
 }
 
-export function getShop(ctx: AppContext, shopId: string): ShopRow | undefined {
-  return ctx.db.select().from(schema.shop).where(eq(schema.shop.id, shopId)).get();
+export async function getShop(ctx: AppContext, shopId: string): Promise<ShopRow | undefined> {
+  return ctx.db.read((tx) => tx.select().from(schema.shop).where(eq(schema.shop.id, shopId)).get());
 }
 
-export function listMembers(ctx: AppContext, shopId: string) {
-  return ctx.db
+export async function listMembers(ctx: AppContext, shopId: string) {
+  return ctx.db.read((tx) =>
+    tx
     .select({ id: schema.user.id, name: schema.user.name, email: schema.user.email, role: schema.user.role, shopId: schema.user.shopId, createdAt: schema.user.createdAt, deactivatedAt: schema.user.deactivatedAt })
     .from(schema.user)
     .where(and(eq(schema.user.shopId, shopId), isNull(schema.user.deactivatedAt)))
     .orderBy(asc(schema.user.createdAt))
-    .all();
+    .all(),
+  );
 }
 
-export function listPendingInvites(ctx: AppContext, shopId: string) {
-  return ctx.db
+export async function listPendingInvites(ctx: AppContext, shopId: string) {
+  return ctx.db.read((tx) =>
+    tx
     .select({ id: schema.invite.id, email: schema.invite.email, name: schema.invite.name, expiresAt: schema.invite.expiresAt, createdAt: schema.invite.createdAt })
     .from(schema.invite)
     .where(and(eq(schema.invite.shopId, shopId), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, ctx.now())))
     .orderBy(asc(schema.invite.createdAt))
-    .all();
+    .all(),
+  );
 }
 
 export const hashToken = (token: string) => createHash("sha256").update(token).digest("hex");
@@ -93,7 +97,7 @@ export const hashToken = (token: string) => createHash("sha256").update(token).d
  * Someone already in the owner's own team is refused with 409: the owner sees the team anyway.
  */
 export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow, input: InviteTechnicianInput) {
-  const existing = findUserByEmail(ctx, input.email);
+  const existing = await findUserByEmail(ctx, input.email);
   const active = existing && !existing.deactivatedAt ? existing : undefined;
   if (active && active.shopId === shop.id) {
     throw conflict("already_in_team", "This person is already in your team.", { fields: [{ path: "email", message: "Already in your team." }] });
@@ -117,10 +121,10 @@ export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow,
     : mails.invite(shop.name, actor.name, `${ctx.env.publicUrl}/accept-invite?token=${token}`);
   // The limits are counted and the invitation and its mail written in one transaction, so
   // simultaneous invitations cannot slip past a limit together.
-  ctx.db.transaction(
-    (tx) => {
-      checkInviteLimits(tx, shop, actor.id, now);
-      tx.update(schema.invite)
+  await ctx.db.write(async (tx) => {
+      await checkInviteLimits(tx, shop, actor.id, now);
+      await tx
+        .update(schema.invite)
         .set({ revokedAt: now })
         .where(
           and(
@@ -131,11 +135,9 @@ export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow,
           ),
         )
         .run();
-      tx.insert(schema.invite).values(row).run();
-      enqueueAccountMail(ctx, input.email, content, { tx, kind: "invite" });
-    },
-    { behavior: "immediate" },
-  );
+      await tx.insert(schema.invite).values(row).run();
+      await sendMail(ctx, input.email, content, { tx, kind: "invite" });
+  });
   return { invite: presentInvite(row), token: active ? null : token };
 }
 
@@ -153,13 +155,12 @@ export const INVITE_LIMITS = {
   establishedAfterDays: 7,
 } as const;
 
-type Tx = Parameters<Parameters<AppContext["db"]["transaction"]>[0]>[0];
 const HOUR = 3600_000;
 
 /** True when the shop is old enough and has paid for at least one case. */
-export function isEstablishedShop(tx: Tx | AppContext["db"], shop: ShopRow, now: Date): boolean {
+export async function isEstablishedShop(tx: Tx, shop: ShopRow, now: Date): Promise<boolean> {
   if (now.getTime() - shop.createdAt.getTime() < INVITE_LIMITS.establishedAfterDays * 24 * HOUR) return false;
-  const paid = tx
+  const paid = await tx
     .select({ id: schema.payment.id })
     .from(schema.payment)
     .where(and(eq(schema.payment.shopId, shop.id), isNotNull(schema.payment.authorizedAt)))
@@ -168,8 +169,8 @@ export function isEstablishedShop(tx: Tx | AppContext["db"], shop: ShopRow, now:
   return !!paid;
 }
 
-function checkInviteLimits(tx: Tx, shop: ShopRow, userId: string, now: Date): void {
-  const dayCap = isEstablishedShop(tx, shop, now) ? INVITE_LIMITS.establishedShopPerDay : INVITE_LIMITS.newShopPerDay;
+async function checkInviteLimits(tx: Tx, shop: ShopRow, userId: string, now: Date): Promise<void> {
+  const dayCap = (await isEstablishedShop(tx, shop, now)) ? INVITE_LIMITS.establishedShopPerDay : INVITE_LIMITS.newShopPerDay;
   const checks = [
     { scope: "user_hour", windowMs: HOUR, max: INVITE_LIMITS.perUserPerHour, who: eq(schema.invite.invitedBy, userId) },
     { scope: "shop_hour", windowMs: HOUR, max: INVITE_LIMITS.perShopPerHour, who: eq(schema.invite.shopId, shop.id) },
@@ -177,7 +178,7 @@ function checkInviteLimits(tx: Tx, shop: ShopRow, userId: string, now: Date): vo
   ] as const;
   let refusal: { scope: string; retryAfter: number; max: number; windowMs: number } | null = null;
   for (const c of checks) {
-    const times = tx
+    const times = await tx
       .select({ at: schema.invite.createdAt })
       .from(schema.invite)
       .where(and(c.who, gt(schema.invite.createdAt, new Date(now.getTime() - c.windowMs))))
@@ -213,23 +214,29 @@ export function presentInvite(i: Pick<InviteRow, "id" | "email" | "name" | "expi
   return { id: i.id, email: i.email, name: i.name, expiresAt: i.expiresAt.toISOString(), createdAt: i.createdAt.toISOString() };
 }
 
-export function revokeInvite(ctx: AppContext, shopId: string, inviteId: string): void {
-  const r = ctx.db
-    .update(schema.invite)
-    .set({ revokedAt: ctx.now() })
-    .where(and(eq(schema.invite.id, inviteId), eq(schema.invite.shopId, shopId), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt)))
-    .run();
-  if (r.changes === 0) throw notFound("Invitation");
+export async function revokeInvite(ctx: AppContext, shopId: string, inviteId: string): Promise<void> {
+  const r = await ctx.db.write((tx) =>
+    tx
+      .update(schema.invite)
+      .set({ revokedAt: ctx.now() })
+      .where(and(eq(schema.invite.id, inviteId), eq(schema.invite.shopId, shopId), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt)))
+      .returning({ id: schema.invite.id })
+      .all(),
+  );
+  if (r.length === 0) throw notFound("Invitation");
 }
 
 /** The usable invitation behind a token, or undefined (unknown, used, revoked or expired). */
-export function findUsableInvite(ctx: AppContext, token: string) {
-  return ctx.db
-    .select({ invite: schema.invite, shopName: schema.shop.name })
-    .from(schema.invite)
-    .innerJoin(schema.shop, eq(schema.shop.id, schema.invite.shopId))
-    .where(and(eq(schema.invite.tokenHash, hashToken(token)), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, ctx.now())))
-    .get();
+export async function findUsableInvite(ctx: AppContext, token: string) {
+  const now = ctx.now();
+  return ctx.db.read((tx) =>
+    tx
+      .select({ invite: schema.invite, shopName: schema.shop.name })
+      .from(schema.invite)
+      .innerJoin(schema.shop, eq(schema.shop.id, schema.invite.shopId))
+      .where(and(eq(schema.invite.tokenHash, hashToken(token)), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, now)))
+      .get(),
+  );
 }
 
 export const INVITE_GONE = "This invitation link is not valid any more: it has been used, replaced or has expired (links work for 7 days). Ask the shop's owner to send a new one.";
@@ -239,38 +246,41 @@ export const INVITE_GONE = "This invitation link is not valid any more: it has b
  * (the link proved the address), and uses the token up. All in one transaction.
  */
 export async function acceptInvite(ctx: AppContext, input: AcceptInviteInput): Promise<{ email: string; shopId: string; userId: string }> {
-  const found = findUsableInvite(ctx, input.token);
+  const found = await findUsableInvite(ctx, input.token);
   if (!found) throw new HttpError(404, "invite_invalid", INVITE_GONE);
   const passwordHash = await hashPassword(input.password);
   const now = ctx.now();
   const { invite } = found;
-  return ctx.db.transaction((tx) => {
-    const used = tx
+  return ctx.db.write(async (tx) => {
+    const used = await tx
       .update(schema.invite)
       .set({ acceptedAt: now })
       .where(and(eq(schema.invite.id, invite.id), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, now)))
-      .run();
-    if (used.changes !== 1) throw new HttpError(404, "invite_invalid", INVITE_GONE);
-    const existing = tx.select().from(schema.user).where(eq(schema.user.email, invite.email)).get();
+      .returning({ id: schema.invite.id })
+      .all();
+    if (used.length !== 1) throw new HttpError(404, "invite_invalid", INVITE_GONE);
+    const existing = await tx.select().from(schema.user).where(eq(schema.user.email, invite.email)).get();
     if (existing && !existing.deactivatedAt) throw conflict("already_registered", "This e-mail address already has an account: sign in instead.");
     if (existing) {
       // a technician removed earlier and invited again: same account, new password, back in a shop
-      tx.update(schema.user)
+      await tx
+        .update(schema.user)
         .set({ name: input.name, role: "technician", shopId: invite.shopId, emailVerified: true, deactivatedAt: null, updatedAt: now })
         .where(eq(schema.user.id, existing.id))
         .run();
-      tx.delete(schema.account).where(and(eq(schema.account.userId, existing.id), eq(schema.account.providerId, "credential"))).run();
-      tx.insert(schema.account)
+      await tx.delete(schema.account).where(and(eq(schema.account.userId, existing.id), eq(schema.account.providerId, "credential"))).run();
+      await tx
+        .insert(schema.account)
         .values({ id: crypto.randomUUID(), accountId: existing.id, providerId: "credential", userId: existing.id, password: passwordHash, createdAt: now, updatedAt: now })
         .run();
       return { email: invite.email, shopId: invite.shopId, userId: existing.id };
     }
-    const userId = insertCredentialUser(tx, { email: invite.email, name: input.name, role: "technician", shopId: invite.shopId, emailVerified: true, passwordHash, now });
+    const userId = await insertCredentialUser(tx, { email: invite.email, name: input.name, role: "technician", shopId: invite.shopId, emailVerified: true, passwordHash, now });
     return { email: invite.email, shopId: invite.shopId, userId };
   });
 }
 
 /** The owner removes a technician: the account is deactivated, its sessions and sockets closed. */
-export function removeMember(ctx: AppContext, userId: string): void {
-  deactivateUser(ctx, userId);
+export async function removeMember(ctx: AppContext, userId: string): Promise<void> {
+  await deactivateUser(ctx, userId);
 }

@@ -9,9 +9,8 @@
  * answers "which entries are nearest" with a weighted distance, and each match comes with its
  * reasons in words ("coil 4 burn 0.6 ms against 1.5 ms on the others, like this case").
  */
-import { eq } from "drizzle-orm";
-import type { Db } from "../db/client";
-import { schema } from "../db/client";
+import { asc, eq, gt, sql } from "drizzle-orm";
+import { schema, type Db, type Tx } from "../db/client";
 import { median } from "../../shared/analysis/stats";
 
 export const FEATURE_VERSION = 1;
@@ -398,21 +397,23 @@ export class SimilarIndex {
     return out;
   }
 
-  /** Loads what changed in the casebook since the last call (everything the first time). */
-  sync(db: Db): void {
-    const head = db.$client.prepare("SELECT coalesce(max(rev), 0) FROM casebook_entry").pluck().get() as number;
+  /** Loads what changed in the casebook since the last call (everything the first time), inside the caller's unit. */
+  async sync(tx: Tx): Promise<void> {
+    const { casebookEntry, casebookVector } = schema;
+    const head = Number((await tx.select({ rev: sql<number>`coalesce(max(${casebookEntry.rev}), 0)` }).from(casebookEntry).get())?.rev ?? 0);
     if (head === this.rev) return;
-    const rows = db.$client
-      .prepare(
-        "SELECT e.id, e.hidden, v.vector, v.version FROM casebook_entry e LEFT JOIN casebook_vector v ON v.entry_id = e.id WHERE e.rev > ? ORDER BY e.rev",
-      )
-      .raw()
-      .all(this.rev) as [string, number, Buffer | null, number | null][];
-    for (const [id, hidden, blob, version] of rows) {
-      const vec = blob && version === FEATURE_VERSION ? vectorFromBlob(blob) : null;
-      this.put(id, vec, !hidden);
+    const rows = await tx
+      .select({ id: casebookEntry.id, hidden: casebookEntry.hidden, vector: casebookVector.vector, version: casebookVector.version })
+      .from(casebookEntry)
+      .leftJoin(casebookVector, eq(casebookVector.entryId, casebookEntry.id))
+      .where(gt(casebookEntry.rev, this.rev))
+      .orderBy(asc(casebookEntry.rev))
+      .all();
+    for (const r of rows) {
+      const vec = r.vector && r.version === FEATURE_VERSION ? vectorFromBlob(r.vector) : null;
+      this.put(r.id, vec, !r.hidden);
     }
-    this.rev = head;
+    this.rev = Math.max(this.rev, head);
   }
 }
 
@@ -420,27 +421,33 @@ export function vectorToBlob(v: Float32Array): Buffer {
   return Buffer.from(v.buffer.slice(v.byteOffset, v.byteOffset + FEATURE_DIMS * 4));
 }
 
-export function vectorFromBlob(b: Buffer): Float32Array {
-  const copy = new Uint8Array(b.byteLength);
-  copy.set(b);
+export function vectorFromBlob(b: Uint8Array | ArrayBuffer): Float32Array {
+  const bytes = b instanceof Uint8Array ? b : new Uint8Array(b);
+  const copy = new Uint8Array(bytes.byteLength);
+  copy.set(bytes);
   return new Float32Array(copy.buffer, 0, Math.min(FEATURE_DIMS, copy.byteLength >> 2));
 }
 
 const indexes = new WeakMap<Db, SimilarIndex>();
 
 /** The index of this database, loaded on first use and brought up to date on every call. */
-export function similarIndex(db: Db): SimilarIndex {
+export async function similarIndex(db: Db): Promise<SimilarIndex> {
   let ix = indexes.get(db);
   if (!ix) {
     ix = new SimilarIndex();
     indexes.set(db, ix);
   }
-  ix.sync(db);
-  return ix;
+  const index = ix;
+  await db.read((tx) => index.sync(tx));
+  return index;
 }
 
 /** The stored pattern of an entry. */
-export function entryPattern(db: Db, entryId: string): CasePattern | null {
-  const row = db.select({ pattern: schema.casebookVector.pattern }).from(schema.casebookVector).where(eq(schema.casebookVector.entryId, entryId)).get();
+export async function entryPattern(tx: Tx, entryId: string): Promise<CasePattern | null> {
+  const row = await tx
+    .select({ pattern: schema.casebookVector.pattern })
+    .from(schema.casebookVector)
+    .where(eq(schema.casebookVector.entryId, entryId))
+    .get();
   return (row?.pattern as unknown as CasePattern) ?? null;
 }

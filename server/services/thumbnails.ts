@@ -146,10 +146,14 @@ async function traceThumbnail(ctx: AppContext, tr: typeof schema.trace.$inferSel
  * 404 when the entry is missing or the actor may not read it (a hidden entry, for all but admins).
  */
 export async function entryThumbnail(ctx: AppContext, actor: Actor, entryId: string): Promise<Thumbnail> {
-  const e = ctx.db.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.id, entryId)).get();
+  const e = await ctx.db.read((tx) =>
+    tx.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.id, entryId)).get(),
+  );
   if (!e || !casebookPolicy.can(actor, "read", { hidden: e.hidden, expertId: e.expertId })) throw notFound("Casebook entry");
   const first = ((e.body as unknown as CasebookEntryBody).traces ?? [])[0];
-  const tr = first ? ctx.db.select().from(schema.trace).where(eq(schema.trace.id, first.id)).get() : undefined;
+  const tr = first
+    ? await ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, first.id)).get())
+    : undefined;
   if (!tr) {
     const svg = emptyThumbnailSvg();
     return { svg, etag: etagOf(svg) };

@@ -12,11 +12,12 @@ import { expertProfileOf, getCaseRow } from "../workflow/records";
 import { getTraceRow, type TraceRow } from "./traces";
 import { publishedEntryOfTrace } from "./casebook";
 
-export function traceForWindow(ctx: AppContext, actor: Actor, traceId: string): TraceRow {
-  const t = getTraceRow(ctx, traceId);
+export async function traceForWindow(ctx: AppContext, actor: Actor, traceId: string): Promise<TraceRow> {
+  const t = await getTraceRow(ctx, traceId);
   if (!t) throw notFound("Trace");
-  const c = getCaseRow(ctx.db, t.caseId);
-  if (!mayReadTraceWindow(actor, expertProfileOf(ctx.db, actor), c, publishedEntryOfTrace(ctx.db, t.id)))
-    throw notFound("Trace");
+  const allowed = await ctx.db.read(async (tx) =>
+    mayReadTraceWindow(actor, await expertProfileOf(tx, actor), await getCaseRow(tx, t.caseId), await publishedEntryOfTrace(tx, t.id)),
+  );
+  if (!allowed) throw notFound("Trace");
   return t;
 }

@@ -1,7 +1,7 @@
 import fs from "node:fs";
 import { asc, eq } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import type { Actor } from "../auth/session";
 import { badRequest } from "../http/errors";
 import { openTraceData, type TraceData } from "../traces/store";
@@ -18,12 +18,17 @@ import { contentInFlight, removeStoredFile, resolveDataPath } from "./storage";
 export type TraceRow = typeof schema.trace.$inferSelect;
 const { trace } = schema;
 
-export function getTraceRow(ctx: AppContext, id: string): TraceRow | undefined {
-  return ctx.db.select().from(trace).where(eq(trace.id, id)).get();
+export async function getTraceRow(ctx: AppContext, id: string): Promise<TraceRow | undefined> {
+  return ctx.db.read((tx) => tx.select().from(trace).where(eq(trace.id, id)).get());
 }
 
-export function listTraces(ctx: AppContext, caseId: string): TraceRow[] {
-  return ctx.db.select().from(trace).where(eq(trace.caseId, caseId)).orderBy(asc(trace.createdAt), asc(trace.id)).all();
+/** A case's traces, oldest first (inside the caller's unit). */
+export async function tracesOfCase(tx: Tx, caseId: string): Promise<TraceRow[]> {
+  return tx.select().from(trace).where(eq(trace.caseId, caseId)).orderBy(asc(trace.createdAt), asc(trace.id)).all();
+}
+
+export async function listTraces(ctx: AppContext, caseId: string): Promise<TraceRow[]> {
+  return ctx.db.read((tx) => tracesOfCase(tx, caseId));
 }
 
 /** The JSON of a trace: its metadata (never the samples; those come from the window endpoint). */
@@ -59,28 +64,31 @@ export function traceDataFilePath(ctx: AppContext, t: TraceRow): string {
   return resolveDataPath(ctx.env.dataDir, t.dataPath);
 }
 
-function traceUsesContent(ctx: AppContext, sha256: string): boolean {
-  return ctx.db.select({ id: trace.id }).from(trace).where(eq(trace.sha256, sha256)).limit(1).get() !== undefined;
+async function traceUsesContent(ctx: AppContext, sha256: string): Promise<boolean> {
+  const row = await ctx.db.read((tx) =>
+    tx.select({ id: trace.id }).from(trace).where(eq(trace.sha256, sha256)).limit(1).get(),
+  );
+  return row !== undefined;
 }
 
 /** Removes a trace (draft only, checked by the policy): its row, its parsed data, and its original when no other trace uses it. */
 export async function deleteTrace(ctx: AppContext, actor: Actor, t: TraceRow): Promise<void> {
   const now = ctx.now();
-  ctx.db.transaction((tx) => {
-    tx.delete(trace).where(eq(trace.id, t.id)).run();
-    recordCaseEvent(tx, {
+  await ctx.db.write(async (tx) => {
+    await tx.delete(trace).where(eq(trace.id, t.id)).run();
+    await recordCaseEvent(tx, {
       caseId: t.caseId,
       actorId: actor.id,
       type: "trace_deleted",
       at: now,
       data: { traceId: t.id, name: t.name },
     });
-    touchCase(tx, t.caseId, now);
+    await touchCase(tx, t.caseId, now);
   });
   forgetOpenTrace(traceDataFilePath(ctx, t));
   await removeStoredFile(traceDataFilePath(ctx, t));
   const original = originalFilePath(ctx, t);
-  if (contentInFlight(original) === 0 && !traceUsesContent(ctx, t.sha256)) await removeStoredFile(original);
+  if (contentInFlight(original) === 0 && !(await traceUsesContent(ctx, t.sha256))) await removeStoredFile(original);
   announceCaseChange(ctx, t.caseId, now, "trace", t.id);
 }
 

@@ -10,7 +10,7 @@ import fs from "node:fs";
 import path from "node:path";
 import { eq } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import type { Actor } from "../auth/session";
 import { assertCanAddTrace } from "../auth/policies/traces";
 import { HttpError } from "../http/errors";
@@ -81,8 +81,11 @@ export function busyError(err: PoolFullError): HttpError {
   });
 }
 
-function traceUsesContent(ctx: AppContext, sha256: string): boolean {
-  return ctx.db.select({ id: trace.id }).from(trace).where(eq(trace.sha256, sha256)).limit(1).get() !== undefined;
+async function traceUsesContent(ctx: AppContext, sha256: string): Promise<boolean> {
+  const row = await ctx.db.read((tx) =>
+    tx.select({ id: trace.id }).from(trace).where(eq(trace.sha256, sha256)).limit(1).get(),
+  );
+  return row !== undefined;
 }
 
 /** "coil4.csv.gz" → "coil4.csv": the trace's default name is the file's, without the compression. */
@@ -103,9 +106,10 @@ export async function ingestTrace(
   fields: { settings: CaptureSettings; name?: string },
   tracker?: UploadTracker,
   read?: PrereadCapture,
+  onStore?: OnStore,
 ): Promise<TraceRow> {
   try {
-    const row = await runPipeline(ctx, actor, caseId, capture, fields, tracker, read);
+    const row = await runPipeline(ctx, actor, caseId, capture, fields, tracker, read, onStore);
     tracker?.stored(row.id);
     return row;
   } catch (err) {
@@ -118,6 +122,9 @@ export async function ingestTrace(
     throw err;
   }
 }
+
+/** Runs in the unit that stores the trace (e.g. marking a resumable upload's claim done). */
+export type OnStore = (tx: Tx, traceId: string) => Promise<void>;
 
 /** A capture read while it arrived (a follower): its trace id and the pass's result. */
 export interface PrereadCapture {
@@ -142,6 +149,7 @@ async function runPipeline(
   fields: { settings: CaptureSettings; name?: string },
   tracker?: UploadTracker,
   read?: PrereadCapture,
+  onStore?: OnStore,
 ): Promise<TraceRow> {
   const layout = storageLayout(ctx.env.dataDir);
   const id = read?.traceId ?? crypto.randomUUID();
@@ -209,27 +217,29 @@ async function runPipeline(
       originalName,
       createdAt: now,
     };
-    ctx.db.transaction((tx) => {
+    const stored = await ctx.db.write(async (tx) => {
       // The case may have moved on while the file was arriving and being read.
-      assertCanAddTrace(actor, getCaseRow(tx, caseId) as CaseRow | undefined);
-      tx.insert(trace).values(row).run();
-      recordCaseEvent(tx, {
+      assertCanAddTrace(actor, (await getCaseRow(tx, caseId)) as CaseRow | undefined);
+      const inserted = await tx.insert(trace).values(row).returning().get();
+      await recordCaseEvent(tx, {
         caseId,
         actorId: actor.id,
         type: "trace_added",
         at: now,
         data: { traceId: id, name, samples: row.samples },
       });
-      touchCase(tx, caseId, now);
+      await touchCase(tx, caseId, now);
+      await onStore?.(tx, id);
+      return inserted;
     });
     committed = true;
     announceCaseChange(ctx, caseId, now, "trace", id);
-    return ctx.db.select().from(trace).where(eq(trace.id, id)).get()!;
+    return stored;
   } finally {
     if (!committed) {
       await fs.promises.rm(dataFile ?? dataTarget, { force: true }).catch(() => {});
       await fs.promises.rm(copy ?? copyTarget, { force: true }).catch(() => {});
-      if (placed && contentInFlight(placed.abs) <= 1 && !traceUsesContent(ctx, sha256))
+      if (placed && contentInFlight(placed.abs) <= 1 && !(await traceUsesContent(ctx, sha256)))
         await removeStoredFile(placed.abs);
     }
     placed?.release();

@@ -12,7 +12,10 @@
  *   ORPHAN_GRACE_MINUTES (an upload writes its files just before its row); at start nothing of
  *   this process is in flight, so the grace does not apply then.
  * Files held by an upload in flight (server/services/storage.ts holdFile, contentInFlight) are
- * never touched. One server process per data folder (SQLite and the uploads' locks assume it).
+ * never touched. When several nodes share the data folder (`shared`), what another node is
+ * writing is not held in this process: temp files then also wait out the grace period, the start
+ * of a node removes nothing without it, and the periodic pass runs once per period for all nodes
+ * (a job of the shared queue, server/index.ts) instead of on every node.
  */
 import fs from "node:fs";
 import path from "node:path";
@@ -36,6 +39,8 @@ export interface ReconcileRemoval {
 export interface ReconcileOptions {
   /** at start: nothing of this process is in flight, stored orphans go without a grace period */
   startup?: boolean;
+  /** other nodes share the data folder: what this process does not hold may still be theirs */
+  shared?: boolean;
   now?: Date;
 }
 
@@ -71,7 +76,9 @@ async function statOf(p: string): Promise<fs.Stats | null> {
 export async function reconcileDataFolder(ctx: AppContext, opts: ReconcileOptions = {}): Promise<ReconcileRemoval[]> {
   const layout = storageLayout(ctx.env.dataDir);
   const now = (opts.now ?? ctx.now()).getTime();
-  const grace = opts.startup ? 0 : ctx.env.ORPHAN_GRACE_MINUTES * 60_000;
+  const sharedGrace = ctx.env.ORPHAN_GRACE_MINUTES * 60_000;
+  // at start nothing of this process is in flight — but on several nodes the others' may be
+  const grace = opts.startup && !opts.shared ? 0 : sharedGrace;
   const expiry = ctx.env.UPLOAD_EXPIRY_HOURS * 3600_000;
   const removed: ReconcileRemoval[] = [];
 
@@ -83,16 +90,28 @@ export async function reconcileDataFolder(ctx: AppContext, opts: ReconcileOption
   };
   const old = (s: fs.Stats, age: number) => now - s.mtimeMs >= age;
 
+  // A temp file no upload of this process holds is a leftover — unless other nodes share the folder:
+  // then it may be theirs, and it is a leftover once it has not been written to for the grace period.
+  const orphanTemp = async (abs: string) => {
+    if (fileIsHeld(abs)) return false;
+    if (!opts.shared) return true;
+    const s = await statOf(abs);
+    return !!s && old(s, sharedGrace);
+  };
   // multipart temp files and compressed copies being made
   for (const name of await list(layout.tempDir)) {
     const abs = path.join(layout.tempDir, name);
-    if (!fileIsHeld(abs)) await remove(abs, "temp file");
+    if (await orphanTemp(abs)) await remove(abs, "temp file");
   }
 
   // channel files: half-written ones, and complete ones no row references
   const referenced = new Set<string>();
   const originals = new Set<string>();
-  for (const t of ctx.db.select({ d: schema.trace.dataPath, o: schema.trace.originalPath }).from(schema.trace).all()) {
+  const { rows, photoRows } = await ctx.db.read(async (tx) => ({
+    rows: await tx.select({ d: schema.trace.dataPath, o: schema.trace.originalPath }).from(schema.trace).all(),
+    photoRows: await tx.select({ p: schema.photo.path }).from(schema.photo).all(),
+  }));
+  for (const t of rows) {
     referenced.add(t.d);
     originals.add(t.o);
   }
@@ -100,7 +119,7 @@ export async function reconcileDataFolder(ctx: AppContext, opts: ReconcileOption
     const abs = path.join(layout.tracesDir, name);
     const tmp = /^(.+\.trace)\.[0-9a-f]+\.tmp$/.exec(name);
     if (tmp) {
-      if (!fileIsHeld(path.join(layout.tracesDir, tmp[1]))) await remove(abs, "temp file");
+      if (!fileIsHeld(path.join(layout.tracesDir, tmp[1])) && (await orphanTemp(abs))) await remove(abs, "temp file");
       continue;
     }
     if (!name.endsWith(".trace") || referenced.has(relativeDataPath(layout.dataDir, abs)) || fileIsHeld(abs)) continue;
@@ -109,13 +128,7 @@ export async function reconcileDataFolder(ctx: AppContext, opts: ReconcileOption
   }
 
   // originals and photos no row references
-  const photos = new Set(
-    ctx.db
-      .select({ p: schema.photo.path })
-      .from(schema.photo)
-      .all()
-      .map((p) => p.p),
-  );
+  const photos = new Set(photoRows.map((p) => p.p));
   for (const [root, keep, why] of [
     [layout.originalsDir, originals, "unreferenced original"],
     [layout.photosDir, photos, "unreferenced photo"],
@@ -130,7 +143,7 @@ export async function reconcileDataFolder(ctx: AppContext, opts: ReconcileOption
     }
   }
 
-  await reconcileTus(layout.tusDir, { now, expiry, startup: !!opts.startup }, remove);
+  await reconcileTus(layout.tusDir, { now, expiry, startup: !!opts.startup && !opts.shared }, remove);
 
   if (removed.length) {
     const bytes = removed.reduce((n, r) => n + r.bytes, 0);
@@ -176,8 +189,11 @@ async function reconcileTus(
   }
 }
 
+/** How often the data folder is reconciled after the start. */
+export const RECONCILE_EVERY_MS = 15 * 60_000;
+
 /** Reconciles now and then every `everyMs`; the timer never keeps the process alive. */
-export function startReconcileTimer(ctx: AppContext, everyMs = 15 * 60_000): { stop(): void } {
+export function startReconcileTimer(ctx: AppContext, everyMs = RECONCILE_EVERY_MS): { stop(): void } {
   const timer = setInterval(() => {
     reconcileDataFolder(ctx).catch((err) => ctx.logger.error({ err }, "data folder reconcile failed"));
   }, everyMs);

@@ -28,7 +28,8 @@ import { noteNewMaterial } from "../workflow/commands/data";
 import { getTraceRow, presentTrace } from "../services/traces";
 import { storageLayout } from "../services/storage";
 import { RESUMABLE_UPLOAD_PATH, uploadMetadataSchema, type UploadMetadata } from "../../shared/schemas/uploads";
-import { ingestTrace } from "./pipeline";
+import { ingestTrace, type OnStore } from "./pipeline";
+import { claimUpload } from "./claims";
 import type { IngestRefusal } from "./ingest";
 import { Followers } from "./followers";
 import { trackUpload, uploadTracker, type UploadTracker } from "./progress";
@@ -210,7 +211,32 @@ class ResumableUploadService {
     this.followers.start({ id: upload.id, encoding: m.encoding, settings: m.settings }, () => uploadTracker(upload.id));
   }
 
+  /** The answer for an upload whose trace is stored (a sender that lost the first answer, or another node's). */
+  private async doneAnswer(traceId: string): Promise<FinishAnswer> {
+    const row = await getTraceRow(this.ctx, traceId);
+    const body = JSON.stringify(row ? { trace: presentTrace(row) } : { trace: null });
+    return { status_code: 200, headers: { "Content-Type": "application/json" }, body };
+  }
+
   private async finish(upload: Upload, actor: Actor): Promise<FinishAnswer> {
+    // one reader across nodes (./claims.ts)
+    const claim = await claimUpload(this.ctx, upload.id);
+    if (claim.state === "done") return this.doneAnswer(claim.traceId);
+    if (claim.state === "elsewhere")
+      throw tusError(
+        new HttpError(409, "being_read", "This capture is being read on another server; ask again in a moment."),
+      );
+    try {
+      return await this.finishClaimed(upload, actor, claim.onStore);
+    } catch (err) {
+      await claim.release();
+      throw err;
+    } finally {
+      claim.stop();
+    }
+  }
+
+  private async finishClaimed(upload: Upload, actor: Actor, onStore: OnStore): Promise<FinishAnswer> {
     const m = metadataOf(upload);
     const tracker = trackerFor(this.ctx, upload);
     const source = path.join(this.layout.tusDir, upload.id);
@@ -229,6 +255,7 @@ class ResumableUploadService {
         { settings: m.settings, name: m.name },
         tracker,
         preread,
+        onStore,
       );
       await this.store.markDone(upload.id, row.id, this.ctx.now());
       await noteNewMaterial(this.ctx, m.caseId, actor.id);
@@ -274,7 +301,8 @@ class ResumableUploadService {
     if (req.method === "PATCH" && !info.done) {
       // the case may have been submitted or withdrawn since: stop taking bytes for it
       try {
-        assertCanAddTrace(actor, getCaseRow(this.ctx.db, String(info.metadata?.caseId)));
+        const caseId = String(info.metadata?.caseId);
+        assertCanAddTrace(actor, await this.ctx.db.read((tx) => getCaseRow(tx, caseId)));
       } catch (err) {
         if (err instanceof HttpError) throw tusError(err);
         throw err;
@@ -316,7 +344,7 @@ class ResumableUploadService {
     const actor = actorOf(req);
     try {
       const m = parseWith(uploadMetadataSchema, upload.metadata ?? {}, "upload metadata");
-      assertCanAddTrace(actor, getCaseRow(this.ctx.db, m.caseId));
+      assertCanAddTrace(actor, await this.ctx.db.read((tx) => getCaseRow(tx, m.caseId)));
       const limit = this.ctx.env.MAX_TRACE_BYTES;
       if (m.fileBytes !== undefined && m.fileBytes > limit) {
         throw new HttpError(413, "too_large", `The file is over the ${Math.round(limit / 1048576)} MB limit.`);
@@ -340,12 +368,8 @@ class ResumableUploadService {
     if (refusal) throw tusError(refusalError(refusal));
     if (!this.finishing.has(upload.id)) {
       const info = await this.store.info(upload.id);
-      if (info?.done) {
-        // the same answer again for a sender that lost the first one
-        const row = getTraceRow(this.ctx, info.done.traceId);
-        const body = JSON.stringify(row ? { trace: presentTrace(row) } : { trace: null });
-        return { status_code: 200, headers: { "Content-Type": "application/json" }, body };
-      }
+      // the same answer again for a sender that lost the first one
+      if (info?.done) return this.doneAnswer(info.done.traceId);
     }
     return this.startFinish(upload, actor);
   }
@@ -398,7 +422,8 @@ export function createResumableUploads(ctx: AppContext): ResumableUploads {
     disableTerminationForFinishedUploads: true,
     namingFunction: () => crypto.randomUUID().replace(/-/g, ""),
     getFileIdFromRequest: (_req, lastPath) => (lastPath && ID.test(lastPath) ? lastPath : undefined),
-    locker: new MemoryLocker(), // one server process per data folder
+    // a lock per process; across nodes the upload's claim (./claims.ts) decides who reads it
+    locker: new MemoryLocker(),
     onIncomingRequest: (req, id) => service.onIncomingRequest(req, id),
     onUploadCreate: (req, upload) => service.onUploadCreate(req, upload),
     onUploadFinish: (req, upload) => service.onUploadFinish(req, upload),

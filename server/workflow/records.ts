@@ -9,7 +9,7 @@
  */
 import { and, asc, eq } from "drizzle-orm";
 import type { AppContext } from "../context";
-import { schema, type Db, type SyncTx, type Tx } from "../db/client";
+import { schema, type Tx } from "../db/client";
 import { conflict, notFound } from "../http/errors";
 import { canTransition, caseStatusWords, type CaseStatus } from "../../shared/domain/case-status";
 import type { HistoryEntryView } from "../../shared/views/workflow";
@@ -18,7 +18,6 @@ import { caseReadiness, type CaseReadiness } from "../../shared/domain/case-read
 export type CaseRow = typeof schema.caseTable.$inferSelect;
 export type QueueStateRow = typeof schema.caseQueueState.$inferSelect;
 export type ExpertProfileRow = typeof schema.expertProfile.$inferSelect;
-type SyncDb = Db | SyncTx;
 
 const { caseTable, caseEvent, caseQueueState } = schema;
 
@@ -26,10 +25,8 @@ const { caseTable, caseEvent, caseQueueState } = schema;
 // Reading
 
 /** The case row, or undefined. */
-export function getCaseRow(db: SyncDb, id: string): CaseRow | undefined;
-export function getCaseRow(tx: Tx, id: string): Promise<CaseRow | undefined>;
-export function getCaseRow(db: SyncDb | Tx, id: string): CaseRow | undefined | Promise<CaseRow | undefined> {
-  return (db as Tx).select().from(caseTable).where(eq(caseTable.id, id)).get();
+export async function getCaseRow(tx: Tx, id: string): Promise<CaseRow | undefined> {
+  return tx.select().from(caseTable).where(eq(caseTable.id, id)).get();
 }
 
 /** The case row; 404 when there is none. */
@@ -40,13 +37,9 @@ export async function requireCase(tx: Tx, id: string): Promise<CaseRow> {
 }
 
 /** The actor's expert profile (experts only), for the policy. */
-export function expertProfileOf(db: SyncDb, actor: { id: string; role: string }): ExpertProfileRow | null;
-export function expertProfileOf(tx: Tx, actor: { id: string; role: string }): Promise<ExpertProfileRow | null>;
-export function expertProfileOf(db: SyncDb | Tx, actor: { id: string; role: string }) {
-  // (awaiting a plain value is fine, so the async overload may answer null at once)
+export async function expertProfileOf(tx: Tx, actor: { id: string; role: string }): Promise<ExpertProfileRow | null> {
   if (actor.role !== "expert") return null;
-  const q = (db as Tx).select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, actor.id)).get();
-  return q instanceof Promise ? q.then((r) => r ?? null) : (q ?? null);
+  return (await tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, actor.id)).get()) ?? null;
 }
 
 /** The vehicle columns of a case as the API shows them. */
@@ -98,10 +91,8 @@ export interface CaseEventInput {
 }
 
 /** Records one entry of the case's history (in the transaction that did it). */
-export function recordCaseEvent(db: SyncDb, e: CaseEventInput): void;
-export function recordCaseEvent(tx: Tx, e: CaseEventInput): Promise<void>;
-export function recordCaseEvent(db: SyncDb | Tx, e: CaseEventInput): void | Promise<void> {
-  const r = (db as Tx)
+export async function recordCaseEvent(tx: Tx, e: CaseEventInput): Promise<void> {
+  await tx
     .insert(caseEvent)
     .values({
       caseId: e.caseId,
@@ -113,15 +104,11 @@ export function recordCaseEvent(db: SyncDb | Tx, e: CaseEventInput): void | Prom
       at: e.at,
     })
     .run();
-  return r instanceof Promise ? r.then(() => undefined) : undefined;
 }
 
 /** Marks the case changed (for lists and caches), in the transaction that changed it. */
-export function touchCase(db: SyncDb, caseId: string, at: Date): void;
-export function touchCase(tx: Tx, caseId: string, at: Date): Promise<void>;
-export function touchCase(db: SyncDb | Tx, caseId: string, at: Date): void | Promise<void> {
-  const r = (db as Tx).update(caseTable).set({ updatedAt: at }).where(eq(caseTable.id, caseId)).run();
-  return r instanceof Promise ? r.then(() => undefined) : undefined;
+export async function touchCase(tx: Tx, caseId: string, at: Date): Promise<void> {
+  await tx.update(caseTable).set({ updatedAt: at }).where(eq(caseTable.id, caseId)).run();
 }
 
 /** The history of a case, oldest first, with each actor's name and role. */

@@ -46,6 +46,9 @@ export async function sweepWidenOffers(ctx: AppContext): Promise<number> {
     await perform(ctx, async (tx, fx) => {
       const c = await getCaseRow(tx, id);
       if (!c || c.status !== "queued") return;
+      // once: a second run (another node, a job run again after its node died) finds it widened
+      const qs = await tx.select().from(caseQueueState).where(eq(caseQueueState.caseId, id)).get();
+      if (qs?.offersWidenedAt) return;
       const offered = await widenOffers(tx, c, now, `unclaimed after ${minutes} minutes`);
       const p = await currentPayment(tx, id);
       fx.push({ kind: "notify", to: offered, notice: notices.caseOffered(noticeCase(c), p ? noticePayment(p) : null) });
@@ -77,7 +80,14 @@ export async function sweepDeadlineWarnings(ctx: AppContext): Promise<number> {
     const leftMs = c.deadlineAt!.getTime() - now.getTime();
     if (leftMs > Math.max(15 * 60_000, ((window ?? 24 * 60) * 60_000) / 5)) continue;
     await perform(ctx, async (tx, fx) => {
-      await updateQueueState(tx, c.id, now, { deadlineWarnedAt: now });
+      // once: a second run (another node, a job run again after its node died) finds it warned
+      const warnedNow = await tx
+        .update(caseQueueState)
+        .set({ deadlineWarnedAt: now, updatedAt: now })
+        .where(and(eq(caseQueueState.caseId, c.id), isNull(caseQueueState.deadlineWarnedAt)))
+        .returning({ caseId: caseQueueState.caseId })
+        .all();
+      if (warnedNow.length === 0) return;
       const claimed = c.status === "claimed" && !!c.expertId;
       const to = claimed ? [c.expertId!] : await offeredExperts(tx, c.id);
       fx.push({
@@ -277,6 +287,6 @@ export async function runQueueSweeps(ctx: AppContext): Promise<Record<string, nu
 
 /** The workflow's sweeps for server/services/background.ts (registered in server/index.ts). */
 export const workflowSweeps: readonly Sweep[] = [
-  { name: "queue", everyMs: 30_000, run: async (ctx) => void (await runQueueSweeps(ctx)) },
-  { name: "payouts", everyMs: 24 * 3600_000, run: async (ctx) => void (await runPayouts(ctx, null)) },
+  { name: "queue", everyMs: 30_000, run: (ctx) => runQueueSweeps(ctx) },
+  { name: "payouts", everyMs: 24 * 3600_000, run: async (ctx) => (await runPayouts(ctx, null)).length },
 ];

@@ -101,12 +101,14 @@ beforeAll(async () => {
     admin: await signIn(server, await createAdmin(server)),
   };
   // a case the expert works on now (chat), one answered and charged (a receipt, earnings), one of another shop
-  seeded.claimed = insertLiveCase(server.ctx, {
-    shopId: shopA.shop.id,
-    createdBy: shopA.technicians[0].id,
-    expertId: expert.id,
-  }).caseId;
-  seeded.answered = insertDraftCase(test, { shopId: shopA.shop.id, createdBy: shopA.technicians[0].id });
+  seeded.claimed = (
+    await insertLiveCase(server.ctx, {
+      shopId: shopA.shop.id,
+      createdBy: shopA.technicians[0].id,
+      expertId: expert.id,
+    })
+  ).caseId;
+  seeded.answered = await insertDraftCase(test, { shopId: shopA.shop.id, createdBy: shopA.technicians[0].id });
   // one secondary-ignition capture (the project's generator: 2000 rpm, 1.5 ms burn) for the report's figure
   const capture = generateSecondary({
     seed: 7,
@@ -139,7 +141,7 @@ beforeAll(async () => {
   await server.fakeStripe!.idle();
   const billing = await agents.owner.get("/api/billing");
   seeded.receipt = billing.body.payments.find((p: { caseId: string }) => p.caseId === seeded.answered).id;
-  seeded.queuedB = insertDraftCase(test, { shopId: shopB.shop.id, createdBy: shopB.technicians[0].id, make: "Korrin" });
+  seeded.queuedB = await insertDraftCase(test, { shopId: shopB.shop.id, createdBy: shopB.technicians[0].id, make: "Korrin" });
   await submitAndPay(test, await signIn(server, shopB.technicians[0]), seeded.queuedB);
 
   launched = await launchBrowser();

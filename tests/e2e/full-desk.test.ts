@@ -1,3 +1,4 @@
+import { sql } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, test } from "vitest";
 import fs from "node:fs";
 import os from "node:os";
@@ -194,7 +195,9 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     await shot(exp, SHOTS, "08-expert-pins-the-short-burn", { viewport: true });
 
     // the mark as stored lies inside the short spark line of coil 2 (generator's truth)
-    const rows = server.ctx.db.$client.prepare("SELECT trace_id AS traceId, kind, t0 FROM annotation WHERE case_id = ?").all(caseId) as { traceId: string; kind: string; t0: number }[];
+    const rows = await server.ctx.db.read((tx) =>
+      tx.all<{ traceId: string; kind: string; t0: number }>(sql`SELECT trace_id AS traceId, kind, t0 FROM annotation WHERE case_id = ${caseId}`),
+    );
     expect(rows).toHaveLength(1);
     expect(rows[0].kind).toBe("pin");
     expect(rows[0].t0).toBeGreaterThan(odd.timeS);

@@ -72,8 +72,8 @@ async function publishedEntry(agent: SignedInAgent, expertId: string): Promise<s
   const id = await newCase(agent, "Misfire on cylinder 2 when warm");
   const { body } = await upload(id, 2, agent);
   const t: CasebookTrace = { id: body.id, name: "Coil 2", kind: body.kind, samples: body.samples, sampleRateHz: body.sampleRateHz, t0: body.t0, durationS: body.durationS, channels: body.channels, settings: body.settings, analysis: body.analysis, windowUrl: `/api/traces/${body.id}/window` };
-  server.ctx.db.update(schema.caseTable).set({ status: "resolved", expertId }).where(eq(schema.caseTable.id, id)).run();
-  const [entryId] = insertCasebookEntries(server.ctx.db, [
+  (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "resolved", expertId }).where(eq(schema.caseTable.id, id)).run()));
+  const [entryId] = await insertCasebookEntries(server.ctx.db, [
     {
       caseId: id,
       expertId,
@@ -105,7 +105,7 @@ beforeAll(async () => {
     firstFireS.push(truth.events[0].timeS);
   }
   // the expert has claimed the case (set directly: the paid queue is tested on its own)
-  server.ctx.db.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
+  (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run()));
   launched = await launchBrowser();
 }, 180_000);
 

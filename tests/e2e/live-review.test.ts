@@ -131,7 +131,7 @@ test("the expert's pin appears on the tech's plot and the tech's reply in the ex
     .field("settings", JSON.stringify({ kind: "secondary-ignition", probe: "capacitive-secondary", voltsPerDiv: 2, timePerDivS: 0.002, cylinder: 4 }))
     .attach("file", Buffer.from(captureCsv()), "cyl4-secondary.csv");
   expect(up.status).toBe(201);
-  server.ctx.db.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
+  (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run()));
 
   const techCtx = await contextFor(tech, base);
   const expCtx = await contextFor(expert, base);

@@ -64,11 +64,10 @@ async function claimedCase() {
       system: "ignition",
     });
   const caseId = created.body.id as string;
-  server.ctx.db
-    .update(schema.caseTable)
+  (await server.ctx.db.write((tx) => tx.update(schema.caseTable)
     .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
     .where(eq(schema.caseTable.id, caseId))
-    .run();
+    .run()));
   const techCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
   watchErrors(techCtx, errors, "tech");
   const tech = await techCtx.newPage();
@@ -122,11 +121,10 @@ describe("a large capture over a link that drops", () => {
         system: "ignition",
       });
     const caseId = created.body.id as string;
-    server.ctx.db
-      .update(schema.caseTable)
+    (await server.ctx.db.write((tx) => tx.update(schema.caseTable)
       .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
       .where(eq(schema.caseTable.id, caseId))
-      .run();
+      .run()));
 
     const techCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
     const expCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
@@ -183,7 +181,7 @@ describe("a large capture over a link that drops", () => {
 
     // what went over the link: the compressed file (as stored) and little more; the part after the cut
     // continued from the server's last byte instead of starting again
-    const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).get()!;
+    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).get()))!;
     expect(row.samples).toBe(samples);
     const compressed = fs.statSync(path.join(server.dir, row.originalPath)).size;
     expect(cutAt).toBeGreaterThan(compressed * 0.3);
@@ -261,7 +259,7 @@ describe("a large capture over a link that drops", () => {
     await shot(tech, SHOTS, "07-after-reload", { viewport: true });
     await again.getByText(/^Uploaded/).waitFor({ timeout: 90_000 });
     expect(await again.getByText(/^Uploaded/).innerText()).toContain(`${c.samples.toLocaleString("en-US")} samples`);
-    const rows = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all();
+    const rows = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all()));
     expect(rows).toHaveLength(1);
     const compressed = fs.statSync(path.join(server.dir, rows[0].originalPath)).size;
     // the page itself is reloaded over the same link (small requests); the capture went over once

@@ -209,7 +209,7 @@ beforeAll(async () => {
     expect(up.status, JSON.stringify(up.body)).toBe(201);
   }
   // the expert has claimed the case (set directly: the paid queue is tested on its own)
-  server.ctx.db.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
+  (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run()));
   launched = await launchBrowser();
 });
 

@@ -12,10 +12,9 @@ export async function waitForOutboxDrained(server: { ctx: AppContext }, timeoutM
 }
 
 /** The outbox rows (newest last), e.g. to check that a mail was queued without waiting for it. */
-export function outboxRows(server: { ctx: AppContext }) {
-  return server.ctx.db
-    .select()
+export async function outboxRows(server: { ctx: AppContext }) {
+  return (await server.ctx.db.read((tx) => tx.select()
     .from(schema.mailOutbox)
-    .all()
+    .all()))
     .sort((a, b) => a.createdAt.getTime() - b.createdAt.getTime());
 }

@@ -31,11 +31,10 @@ export interface DraftCaseOptions {
 }
 
 /** A draft case ready to submit (system, make and complaint filled in). */
-export function insertDraftCase(server: TestServer, o: DraftCaseOptions): string {
+export async function insertDraftCase(server: TestServer, o: DraftCaseOptions): Promise<string> {
   const id = crypto.randomUUID();
   const now = server.ctx.now();
-  server.ctx.db
-    .insert(schema.caseTable)
+  (await server.ctx.db.write((tx) => tx.insert(schema.caseTable)
     .values({
       id,
       shopId: o.shopId,
@@ -52,7 +51,7 @@ export function insertDraftCase(server: TestServer, o: DraftCaseOptions): string
       createdAt: now,
       updatedAt: now,
     })
-    .run();
+    .run()));
   return id;
 }
 
@@ -84,12 +83,12 @@ export async function submitAndPay(server: TestServer, agent: SignedInAgent, cas
   return { submit: res.body as { checkoutUrl: string; paymentId: string; amountCents: number }, sessionId, pay: payBody, paymentIntentId: payBody.payment_intent?.id ?? null };
 }
 
-export function caseRow(server: TestServer, caseId: string) {
-  return server.ctx.db.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get()!;
+export async function caseRow(server: TestServer, caseId: string) {
+  return (await server.ctx.db.read((tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get()))!;
 }
 
-export function paymentsOf(server: TestServer, caseId: string) {
-  return server.ctx.db.select().from(schema.payment).where(eq(schema.payment.caseId, caseId)).all();
+export async function paymentsOf(server: TestServer, caseId: string) {
+  return (await server.ctx.db.read((tx) => tx.select().from(schema.payment).where(eq(schema.payment.caseId, caseId)).all()));
 }
 
 /** The fake's record of a PaymentIntent (the outside view of the money). */
@@ -103,11 +102,11 @@ export function fakeIntent(server: TestServer, id: string) {
  * `requires_capture` (Stripe API reference, PaymentIntent.status), with the same amounts; captured
  * money equals the fake's amount_received.
  */
-export function expectLedgerBalanced(server: TestServer, caseId: string | "all" = "all"): LedgerBalance {
-  const b = ledgerBalance(server.ctx.db, caseId);
+export async function expectLedgerBalanced(server: TestServer, caseId: string | "all" = "all"): Promise<LedgerBalance> {
+  const b = await server.ctx.db.read((tx) => ledgerBalance(tx, caseId));
   expect(b.problems, b.problems.join("; ")).toEqual([]);
   expect(b.authorizedCents).toBe(b.capturedCents + b.releasedCents + b.heldCents);
-  const payments = caseId === "all" ? server.ctx.db.select().from(schema.payment).all() : paymentsOf(server, caseId);
+  const payments = caseId === "all" ? (await server.ctx.db.read((tx) => tx.select().from(schema.payment).all())) : (await paymentsOf(server, caseId));
   let fakeHeld = 0;
   let fakeCaptured = 0;
   for (const p of payments) {

@@ -42,14 +42,14 @@ beforeEach(() => {
 afterAll(async () => server?.close());
 afterEach(async () => {
   await server.fakeStripe!.idle();
-  expectLedgerBalanced(server, "all");
+  (await expectLedgerBalanced(server, "all"));
 });
 
 async function claimedCase() {
   const t = await createShopTeam(server, { technicians: 1 });
   const tech = await signIn(server, t.technicians[0]);
   const owner = await signIn(server, t.owner);
-  const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
   const paid = await submitAndPay(server, tech, caseId);
   const e = await signIn(server, expert);
   expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
@@ -72,7 +72,7 @@ describe("answer", () => {
     const pi = fakeIntent(server, piId);
     expect(pi.status).toBe("succeeded");
     expect(pi.amount_received).toBe(4900);
-    const b = expectLedgerBalanced(server, caseId);
+    const b = (await expectLedgerBalanced(server, caseId));
     expect(b).toMatchObject({ authorizedCents: 4900, capturedCents: 4900, heldCents: 0, deskShareCents: 980, expertEarningsCents: 3920 });
 
     const answered = await server.mailCatcher!.waitFor((m) => m.to.includes(technicians[0].email) && /^Answer ready/.test(m.subject));
@@ -100,13 +100,13 @@ describe("answer", () => {
     const other = await signIn(server, await createExpert(server, { systems: ["ignition"] }));
     expect((await other.post(`/api/cases/${caseId}/answer`).send(ANSWER)).status).toBe(404);
     expect((await tech.post(`/api/cases/${caseId}/answer`).send(ANSWER)).status).toBe(403);
-    expect(caseRow(server, caseId).status).toBe("claimed");
+    expect((await caseRow(server, caseId)).status).toBe("claimed");
     expect(fakeIntent(server, piId).status).toBe("requires_capture");
   });
 
   it("never captures at or after the hold's capture_before: the hold is released instead", async () => {
     const { caseId, e, piId } = await claimedCase();
-    const p = paymentsOf(server, caseId)[0];
+    const p = (await paymentsOf(server, caseId))[0];
     // capture_before = authorisation + 7 days (Stripe's hold validity for online card payments)
     const charge = server.fakeStripe!.state.charges[fakeIntent(server, piId).latest_charge!];
     expect(p.captureBefore!.getTime()).toBe(charge.payment_method_details.card.capture_before! * 1000);
@@ -120,7 +120,7 @@ describe("answer", () => {
     expect(pi.status).toBe("canceled");
     // no capture reached Stripe at all
     expect(server.fakeStripe!.events("charge.captured").filter((ev) => (ev.data.object as { payment_intent: string }).payment_intent === piId)).toEqual([]);
-    expect(expectLedgerBalanced(server, caseId)).toMatchObject({ capturedCents: 0, releasedCents: 4900, heldCents: 0 });
+    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ capturedCents: 0, releasedCents: 4900, heldCents: 0 });
   });
 
   it("a hold that lapses at Stripe while the case is open ends it as refunded", async () => {
@@ -129,9 +129,9 @@ describe("answer", () => {
     try {
       await server.fakeStripe!.idle();
       expect(fakeIntent(server, piId)).toMatchObject({ status: "canceled", cancellation_reason: "automatic" });
-      expect(caseRow(server, caseId).status).toBe("refunded");
+      expect((await caseRow(server, caseId)).status).toBe("refunded");
       await server.mailCatcher!.waitFor((m) => m.to.includes(technicians[0].email) && /^Hold released/.test(m.subject));
-      expect(expectLedgerBalanced(server, caseId)).toMatchObject({ releasedCents: 4900, heldCents: 0 });
+      expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ releasedCents: 4900, heldCents: 0 });
     } finally {
       // later tests authorise fresh holds at the fake's moved clock; their capture_before lies a week after it
     }
@@ -154,7 +154,7 @@ describe("confirmation", () => {
       onCaseResolved.splice(onCaseResolved.indexOf(hook), 1);
     }
     expect(seen).toEqual([caseId]);
-    expect((await expertRecords(server.ctx.db)).get(expert.id)).toMatchObject({ resolved: expect.any(Number), rating: expect.any(Number) });
+    expect((await server.ctx.db.read((tx) => expertRecords(tx))).get(expert.id)).toMatchObject({ resolved: expect.any(Number), rating: expect.any(Number) });
     await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Fix confirmed/.test(m.subject));
     expect((await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true })).status).toBe(409);
 
@@ -169,7 +169,7 @@ describe("confirmation", () => {
       ["fix_confirmed", "technician", "resolved"],
     ]);
     expect(hist.body.items.every((i: { at: string }) => !Number.isNaN(Date.parse(i.at)))).toBe(true);
-    expect(expectLedgerBalanced(server, caseId).capturedCents).toBe(4900);
+    expect((await expectLedgerBalanced(server, caseId)).capturedCents).toBe(4900);
   });
 
   it("not fixed → back to the same expert once; the second answer captures nothing more; not fixed again → closed", async () => {
@@ -177,14 +177,14 @@ describe("confirmation", () => {
     expect((await e.post(`/api/cases/${caseId}/answer`).send(ANSWER)).status).toBe(201);
     const first = await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: false, note: "Still misfires when hot." });
     expect(first.body).toMatchObject({ status: "claimed", outcome: "reopened" });
-    expect(caseRow(server, caseId).expertId).toBe(expert.id);
+    expect((await caseRow(server, caseId)).expertId).toBe(expert.id);
     await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Not fixed yet/.test(m.subject) && m.text.includes("Still misfires when hot"));
 
     const second = await e.post(`/api/cases/${caseId}/answer`).send({ ...ANSWER, diagnosis: "Injector 3 drips when hot." });
     expect(second.status).toBe(201);
     expect(second.body.answer.round).toBe(2);
     expect(fakeIntent(server, piId).amount_received).toBe(4900);
-    const captures = server.ctx.db.select().from(schema.ledgerEntry).where(eq(schema.ledgerEntry.caseId, caseId)).all().filter((x) => x.kind === "capture");
+    const captures = (await server.ctx.db.read((tx) => tx.select().from(schema.ledgerEntry).where(eq(schema.ledgerEntry.caseId, caseId)).all())).filter((x) => x.kind === "capture");
     expect(captures).toHaveLength(1);
 
     const last = await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: false });
@@ -199,12 +199,12 @@ describe("confirmation", () => {
     expect((await e.post(`/api/cases/${caseId}/answer`).send(ANSWER)).status).toBe(201);
     clock.advance(6 * 86_400_000);
     expect(await sweepCloseAnswered(server.ctx)).toBe(0);
-    expect(caseRow(server, caseId).status).toBe("answered");
+    expect((await caseRow(server, caseId)).status).toBe("answered");
     clock.advance(86_400_000 + 1000);
     expect(await sweepCloseAnswered(server.ctx)).toBeGreaterThanOrEqual(1);
-    expect(caseRow(server, caseId).status).toBe("closed");
+    expect((await caseRow(server, caseId)).status).toBe("closed");
     // the money stays captured: closing is not a refund
-    expect(expectLedgerBalanced(server, caseId)).toMatchObject({ capturedCents: 4900, refundedCents: 0 });
+    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ capturedCents: 4900, refundedCents: 0 });
     await flushMail(server);
     expect(mailsTo(server, expert.email, /^Closed/)).toEqual([]); // in-app only
     const n = await (await signIn(server, expert)).get("/api/notifications");

@@ -19,7 +19,7 @@
  *   tests/generators/secondary.ts.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { eq } from "drizzle-orm";
+import { eq, sql } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createAdmin, createExpert, createShopTeam, signIn, type CreatedExpert, type CreatedUser, type ShopTeam, type SignedInAgent } from "../factories";
 import { submitAndPay } from "../helpers/queue-flow";
@@ -96,10 +96,9 @@ beforeAll(async () => {
   expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
   // the expert's mark on coil 4 (marks are made over the live socket; written here directly)
   const now = new Date();
-  server.ctx.db
-    .insert(schema.annotation)
+  (await server.ctx.db.write((tx) => tx.insert(schema.annotation)
     .values({ id: crypto.randomUUID(), caseId, traceId: traceIds[3], authorId: expert.id, kind: "span", t0: 0.001, t1: 0.0016, label: `Short burn here — ${EXPERT_NAME}, ${PLANTED.phones[1]}`, color: "#c0392b", seq: 9001, createdAt: now, updatedAt: now })
-    .run();
+    .run()));
   const answer = await e.post(`/api/cases/${caseId}/answer`).send({
     diagnosis: `Coil 4 burn time is 0.6 ms against 1.5 ms on the others with a steep spark line: the coil's secondary winding is breaking down and misfiring under load. ${TECH_NAME}, ring me on ${PLANTED.phones[1]} if unsure. ${EXPERT_NAME}`,
     rootCause: "Coil 4 secondary winding insulation breakdown (internal arcing).",
@@ -110,7 +109,7 @@ beforeAll(async () => {
   const conf = await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true, rating: 5, note: `New coil fitted by ${TECH_NAME}; misfire gone. ${PLANTED.emails[1]}` });
   expect(conf.status, JSON.stringify(conf.body)).toBe(200);
   expect(conf.body.outcome).toBe("resolved");
-  const row = server.ctx.db.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.caseId, caseId)).get();
+  const row = (await server.ctx.db.read((tx) => tx.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.caseId, caseId)).get()));
   expect(row, "the case-resolved hook published the case").toBeTruthy();
   entryId = row!.id;
 }, 120_000);
@@ -160,8 +159,8 @@ describe("publishing and search", () => {
 
   it("keeps nothing private: planted addresses, numbers, names, the shop and the VIN serial are gone from the stored entry and the index", async () => {
     const db = server.ctx.db;
-    const row = db.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.id, entryId)).get()!;
-    const vec = db.select().from(schema.casebookVector).where(eq(schema.casebookVector.entryId, entryId)).get();
+    const row = (await db.read((tx) => tx.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.id, entryId)).get()))!;
+    const vec = await db.read((tx) => tx.select().from(schema.casebookVector).where(eq(schema.casebookVector.entryId, entryId)).get());
     // case_id and expert_id are the desk's links back (the expert's record, the case's own panel);
     // they are checked separately below: never in what a reader receives
     const stored = JSON.stringify({ ...row, caseId: null, expertId: null }) + JSON.stringify(vec?.pattern ?? {});
@@ -203,8 +202,11 @@ describe("publishing and search", () => {
     // the trace names were the uploads' file names (with the tech's name): replaced
     expect((row.body as { traces: { name: string }[] }).traces.map((t) => t.name)).toEqual([1, 2, 3, 4].map((n) => `Coil ${n} · secondary ignition`));
     // the words of the index (fts5vocab lists every token FTS5 stored)
-    db.$client.exec("CREATE VIRTUAL TABLE IF NOT EXISTS temp.casebook_vocab USING fts5vocab(main, casebook_fts, 'row')");
-    const terms = new Set(db.$client.prepare("SELECT term FROM temp.casebook_vocab").pluck().all() as string[]);
+    const vocab = await db.write(async (tx) => {
+      await tx.run(sql`CREATE VIRTUAL TABLE IF NOT EXISTS temp.casebook_vocab USING fts5vocab(main, casebook_fts, 'row')`);
+      return tx.all<{ term: string }>(sql`SELECT term FROM temp.casebook_vocab`);
+    });
+    const terms = new Set(vocab.map((r) => r.term));
     for (const w of ["quarrymoor", "whitlock", "dana", "oskar", "brandtner", "falkenrath", "ine", "ines", "feldhau", "feldhaus", "042788", "0143", "0178", "0958", "900123", "7946"]) {
       expect(terms.has(w), `index term "${w}"`).toBe(false);
     }
@@ -282,7 +284,7 @@ describe("moderation", () => {
     expect((await search(otherTech, { q: "ingress" })).body.results.map((r: { id: string }) => r.id)).toEqual([entryId]);
     expect((await search(otherTech, { q: "pressure wash" })).body.total).toBe(1);
     // FTS5's own check: the index equals its content (the visible entries)
-    server.ctx.db.$client.prepare("INSERT INTO casebook_fts(casebook_fts, rank) VALUES ('integrity-check', 1)").run();
+    await server.ctx.db.write((tx) => tx.run(sql`INSERT INTO casebook_fts(casebook_fts, rank) VALUES ('integrity-check', 1)`));
   });
 });
 

@@ -33,7 +33,7 @@ const draft = (over: Record<string, unknown> = {}) => ({
   ...over,
 });
 
-const count = (table: any) => server.ctx.db.select({ n: sql<number>`count(*)` }).from(table).get()!.n;
+const count = async (table: any) => (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(table).get()))!.n;
 
 beforeAll(async () => {
   server = await startTestServer();
@@ -75,9 +75,9 @@ describe("POST /api/cases", () => {
     expect(c.abilities).toEqual({ read: true, edit: true, addTrace: true, deleteTrace: true, addPhoto: true, deletePhoto: true });
     expect(c.readiness).toEqual({ complete: true, issues: [] });
 
-    const row = server.ctx.db.select().from(schema.caseTable).where(eq(schema.caseTable.id, c.id)).get()!;
+    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, c.id)).get()))!;
     expect(row.createdBy).toBe(shopA.technicians[0].id);
-    const events = server.ctx.db.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, c.id)).all();
+    const events = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, c.id)).all()));
     expect(events.map((e) => e.type)).toEqual(["created"]);
   });
 
@@ -120,22 +120,22 @@ describe("POST /api/cases", () => {
     ["an unknown system", { system: "warp-drive" }, "system"],
     ["an unknown field", { colour: "red" }, ""],
   ])("refuses %s with 400, names the field, and saves nothing", async (_label, body, path) => {
-    const casesBefore = count(schema.caseTable);
-    const eventsBefore = count(schema.caseEvent);
+    const casesBefore = (await count(schema.caseTable));
+    const eventsBefore = (await count(schema.caseEvent));
     const res = await techA.post("/api/cases").send(body);
     expect(res.status).toBe(400);
     expect(res.body.error.code).toBe("validation_failed");
     expect(res.body.error.details.fields.map((f: any) => f.path)).toContain(path);
-    expect(count(schema.caseTable)).toBe(casesBefore);
-    expect(count(schema.caseEvent)).toBe(eventsBefore);
+    expect((await count(schema.caseTable))).toBe(casesBefore);
+    expect((await count(schema.caseEvent))).toBe(eventsBefore);
   });
 
   it("answers 401 when signed out, 403 for experts and admins (only shops open cases)", async () => {
-    const before = count(schema.caseTable);
+    const before = (await count(schema.caseTable));
     expect((await request(server.url).post("/api/cases").send(draft())).status).toBe(401);
     expect((await expert.post("/api/cases").send(draft())).status).toBe(403);
     expect((await admin.post("/api/cases").send(draft())).status).toBe(403);
-    expect(count(schema.caseTable)).toBe(before);
+    expect((await count(schema.caseTable))).toBe(before);
   });
 });
 
@@ -172,7 +172,7 @@ describe("PATCH /api/cases/:id", () => {
 
   it("edits only drafts: a submitted case answers 409 and is unchanged", async () => {
     const created = (await techA.post("/api/cases").send(draft())).body;
-    server.ctx.db.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, created.id)).run();
+    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, created.id)).run()));
     const res = await techA.patch(`/api/cases/${created.id}`).send({ complaint: "changed after submission" });
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe("case_locked");
@@ -207,7 +207,7 @@ describe("GET /api/cases (the shop's list)", () => {
     await mk(a, "astaro", { vehicle: { make: "Astaro", model: "Bellweather", year: 2012 }, complaint: "Hesitation on the motorway", codes: ["P0171", "P0304"], system: "fuel" });
     await mk(a, "percent", { vehicle: { make: "Astaro", model: "Dune" }, complaint: "Stalls at 50% throttle" });
     for (let i = 0; i < 3; i++) await mk(b, `other${i}`, { vehicle: { make: "Veltra", model: "Sorrel" }, complaint: "Rough idle when cold", codes: ["P0301"] });
-    listServer.ctx.db.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, ids.korrin)).run();
+    (await listServer.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, ids.korrin)).run()));
   });
   afterAll(async () => {
     await listServer?.close();
@@ -322,7 +322,7 @@ describe("tenant isolation on the case routes", () => {
     for (const r of routes(caseId)) expect((await call(expert, r)).status, `${r.method} ${r.path}`).toBe(404);
     expect((await expert.get("/api/cases")).body.items.map((c: any) => c.id)).not.toContain(caseId);
 
-    server.ctx.db.update(schema.caseTable).set({ expertId, status: "claimed", claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run();
+    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ expertId, status: "claimed", claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run()));
     const res = await expert.get(`/api/cases/${caseId}`);
     expect(res.status).toBe(200);
     expect(res.body.abilities).toEqual({ read: true, edit: false, addTrace: false, deleteTrace: false, addPhoto: false, deletePhoto: false });

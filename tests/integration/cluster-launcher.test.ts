@@ -146,6 +146,23 @@ describe.skipIf(missing.length > 0)(`npm run cluster with two nodes${skipReason}
     }
   });
 
+  it("runs the nodes on the libSQL server: a session made on node 1 is known to node 2; no SQLite file", async () => {
+    const [one, two] = plan.nodePorts.map((p) => `http://127.0.0.1:${p}`);
+    const origin = `http://localhost:${plan.port}`;
+    const signIn = await fetch(`${one}/api/auth/sign-in/email`, {
+      method: "POST",
+      headers: { "content-type": "application/json", origin },
+      body: JSON.stringify(DEMO_TECH),
+    });
+    expect(signIn.status).toBe(200);
+    const me = await fetch(`${two}/api/me`, { headers: { cookie: cookiesOf(signIn) } });
+    expect(me.status).toBe(200);
+    expect(((await me.json()) as { email: string }).email).toBe(DEMO_TECH.email);
+    // the demo seeded once is the libSQL server's (its folder), not a file of the nodes
+    const sqliteFiles = fs.readdirSync(dataDir).filter((f) => /\.(db|sqlite)$/.test(f));
+    expect(sqliteFiles).toEqual([]);
+  });
+
   it("keeps a long-polling socket.io client on one node through the balancer (sticky cookie)", async () => {
     const front = `http://127.0.0.1:${plan.port}`;
     const origin = `http://localhost:${plan.port}`;

@@ -29,7 +29,7 @@ beforeAll(async () => {
   server = await startTestServer();
   // seedDemoIfEmpty is what `npm start` calls; seedDemo returns the ids the checks need, so the
   // first run goes through seedDemo and the empty-check is exercised on the second call below.
-  const before = server.ctx.db.select({ n: count() }).from(schema.user).get()!.n;
+  const before = (await server.ctx.db.read((tx) => tx.select({ n: count() }).from(schema.user).get()))!.n;
   expect(before).toBe(0);
   result = await seedDemo(server.ctx);
   seeded = true;
@@ -41,28 +41,28 @@ afterAll(async () => {
   await server?.close();
 });
 
-function tableCounts() {
-  const n = (t: any) => server.ctx.db.select({ n: count() }).from(t).get()!.n;
+async function tableCounts() {
+  const n = async (t: any) => (await server.ctx.db.read((tx) => tx.select({ n: count() }).from(t).get()))!.n;
   return {
-    users: n(schema.user),
-    shops: n(schema.shop),
-    cases: n(schema.caseTable),
-    traces: n(schema.trace),
-    annotations: n(schema.annotation),
-    messages: n(schema.message),
-    payments: n(schema.payment),
-    events: n(schema.caseEvent),
+    users: (await n(schema.user)),
+    shops: (await n(schema.shop)),
+    cases: (await n(schema.caseTable)),
+    traces: (await n(schema.trace)),
+    annotations: (await n(schema.annotation)),
+    messages: (await n(schema.message)),
+    payments: (await n(schema.payment)),
+    events: (await n(schema.caseEvent)),
   };
 }
 
 describe("the demo scenario", () => {
-  it("has a case in every state of the desk", () => {
+  it("has a case in every state of the desk", async () => {
     expect(seeded).toBe(true);
-    const rows = server.ctx.db.select({ status: schema.caseTable.status }).from(schema.caseTable).all();
+    const rows = (await server.ctx.db.read((tx) => tx.select({ status: schema.caseTable.status }).from(schema.caseTable).all()));
     // the list of states is the product's own (shared/domain/case-status.ts)
     expect(new Set(rows.map((r) => r.status))).toEqual(new Set(caseStatuses));
     for (const c of DEMO_CASES) {
-      const row = server.ctx.db.select().from(schema.caseTable).where(eq(schema.caseTable.id, result.cases[c.key])).get()!;
+      const row = (await server.ctx.db.read((tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, result.cases[c.key])).get()))!;
       expect(row.status, c.key).toBe(c.final);
     }
     expect(result.skipped).toEqual([]);
@@ -77,18 +77,18 @@ describe("the demo scenario", () => {
     }
   });
 
-  it("stores every generated capture byte for byte, each with an analysis", () => {
+  it("stores every generated capture byte for byte, each with an analysis", async () => {
     for (const c of DEMO_CASES) {
       const ids = result.traces[c.key];
       const gen = generated.get(c.key)!;
       expect(ids.length, c.key).toBe(gen.length);
-      gen.forEach((g, i) => {
-        const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, ids[i])).get()!;
+      for (const [i, g] of gen.entries()) {
+        const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, ids[i])).get()))!;
         // content address = SHA-256 of the bytes (FIPS 180-4, Node's crypto)
         expect(row.sha256).toBe(crypto.createHash("sha256").update(g.csv, "utf8").digest("hex"));
         expect(row.analysis, `${c.key} ${g.name}`).not.toBeNull();
         expect((row.analysis as { kind: string }).kind).toBe(g.settings.kind);
-      });
+      }
     }
   });
 
@@ -119,10 +119,12 @@ describe("the demo scenario", () => {
     }
   });
 
-  it("flags the sticking injector by its late pintle close", () => {
+  it("flags the sticking injector by its late pintle close", async () => {
     const ids = result.traces["needs-data-injector"];
     const gen = generated.get("needs-data-injector")!;
-    const rows = ids.map((id) => server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, id)).get()!);
+    const rows = await Promise.all(
+      ids.map(async (id) => (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!),
+    );
     rows.forEach((r, i) => {
       // the generator's truth: the hump delay it put in (0.7 ms, 1.8 ms when sticking "late")
       const truth = (gen[i].truth as { pulses: { humpDelayMs: number | null }[] }).pulses[0].humpDelayMs!;
@@ -131,10 +133,10 @@ describe("the demo scenario", () => {
     });
   });
 
-  it("keeps the marks and the chat of the live cases", () => {
+  it("keeps the marks and the chat of the live cases", async () => {
     const live = result.cases["live-coil"];
-    const marks = server.ctx.db.select().from(schema.annotation).where(eq(schema.annotation.caseId, live)).all();
-    const msgs = server.ctx.db.select().from(schema.message).where(eq(schema.message.caseId, live)).all();
+    const marks = (await server.ctx.db.read((tx) => tx.select().from(schema.annotation).where(eq(schema.annotation.caseId, live)).all()));
+    const msgs = (await server.ctx.db.read((tx) => tx.select().from(schema.message).where(eq(schema.message.caseId, live)).all()));
     expect(marks.map((m) => m.kind).sort()).toEqual(["level", "note", "pin", "span"]);
     expect(msgs.length).toBe(4);
     // the span covers the odd coil's first spark line as the generator made it
@@ -144,30 +146,30 @@ describe("the demo scenario", () => {
     expect(span.t0).toBeCloseTo(odd.events[0].timeS, 9);
     expect(span.t1! - span.t0).toBeCloseTo(odd.events[0].burnTimeMs / 1000, 9);
     const waiting = result.cases["needs-data-injector"];
-    const requests = server.ctx.db.select().from(schema.message).where(eq(schema.message.caseId, waiting)).all().filter((m) => m.kind === "data_request");
+    const requests = (await server.ctx.db.read((tx) => tx.select().from(schema.message).where(eq(schema.message.caseId, waiting)).all())).filter((m) => m.kind === "data_request");
     expect(requests.length).toBe(1);
   });
 
-  it("moved the money as the states say, through the Stripe fake", () => {
-    const pay = (key: string) => server.ctx.db.select().from(schema.payment).where(eq(schema.payment.caseId, result.cases[key])).all();
+  it("moved the money as the states say, through the Stripe fake", async () => {
+    const pay = async (key: string) => (await server.ctx.db.read((tx) => tx.select().from(schema.payment).where(eq(schema.payment.caseId, result.cases[key])).all()));
     // manual capture: held while queued/claimed, captured at the answer, released when withdrawn or refunded before an answer
-    expect(pay("queued-gap").map((p) => p.status)).toEqual(["authorized"]);
-    expect(pay("live-coil").map((p) => p.status)).toEqual(["authorized"]);
-    expect(pay("answered-compression").map((p) => p.status)).toEqual(["captured"]);
-    expect(pay("resolved-reluctor").map((p) => p.status)).toEqual(["captured"]);
-    expect(pay("withdrawn").map((p) => p.status)).toEqual(["released"]);
-    expect(pay("refunded").map((p) => p.status)).toEqual(["released"]);
-    expect(pay("awaiting-payment").map((p) => p.status)).toEqual(["pending"]);
-    expect(pay("draft")).toEqual([]);
+    expect((await pay("queued-gap")).map((p) => p.status)).toEqual(["authorized"]);
+    expect((await pay("live-coil")).map((p) => p.status)).toEqual(["authorized"]);
+    expect((await pay("answered-compression")).map((p) => p.status)).toEqual(["captured"]);
+    expect((await pay("resolved-reluctor")).map((p) => p.status)).toEqual(["captured"]);
+    expect((await pay("withdrawn")).map((p) => p.status)).toEqual(["released"]);
+    expect((await pay("refunded")).map((p) => p.status)).toEqual(["released"]);
+    expect((await pay("awaiting-payment")).map((p) => p.status)).toEqual(["pending"]);
+    expect((await pay("draft"))).toEqual([]);
     // 4242 4242 4242 4242 is Stripe's published "succeeds" card (docs.stripe.com/testing#cards)
-    expect(pay("resolved-reluctor")[0].cardLast4).toBe("4242");
-    const b = ledgerBalance(server.ctx.db, "all");
+    expect((await pay("resolved-reluctor"))[0].cardLast4).toBe("4242");
+    const b = await server.ctx.db.read((tx) => ledgerBalance(tx, "all"));
     expect(b.problems).toEqual([]);
     expect(b.authorizedCents).toBe(b.capturedCents + b.releasedCents + b.heldCents);
   });
 
   it("fills the casebook with about 200 entries across makes and systems, the demo's resolved cases among them", async () => {
-    const entries = server.ctx.db.select().from(schema.casebookEntry).all();
+    const entries = (await server.ctx.db.read((tx) => tx.select().from(schema.casebookEntry).all()));
     const published = entries.filter((e) => e.caseId).map((e) => e.caseId);
     expect(published.sort()).toEqual([result.cases["resolved-reluctor"], result.cases["resolved-fouled"]].sort());
     expect(entries.length).toBe(result.casebookEntries);
@@ -204,9 +206,9 @@ describe("the demo scenario", () => {
 
   it("does nothing when called again", async () => {
     await whenMailSent();
-    const before = tableCounts();
+    const before = (await tableCounts());
     expect(before.cases).toBe(DEMO_CASES.length);
     expect(await seedDemoIfEmpty(server.ctx)).toBe(false);
-    expect(tableCounts()).toEqual(before);
+    expect((await tableCounts())).toEqual(before);
   });
 });

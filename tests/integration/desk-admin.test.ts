@@ -35,7 +35,7 @@ afterAll(async () => server?.close());
 const HOUR = 3_600_000;
 
 /** A case straight into the database, in a state with a deadline `leftMs` away (of a `windowMs` window). */
-function insertCase(o: {
+async function insertCase(o: {
   shopId: string;
   createdBy: string;
   status: string;
@@ -43,30 +43,32 @@ function insertCase(o: {
   leftMs?: number;
   windowMs?: number;
   updatedAgoMs?: number;
-}): string {
+}): Promise<string> {
   const now = server.ctx.now().getTime();
   const id = crypto.randomUUID();
   const deadline = o.leftMs === undefined ? null : new Date(now + o.leftMs);
   const submitted = deadline && o.windowMs ? new Date(deadline.getTime() - o.windowMs) : null;
-  server.ctx.db
-    .insert(schema.caseTable)
-    .values({
-      id,
-      shopId: o.shopId,
-      createdBy: o.createdBy,
-      status: o.status,
-      make: "Veltra",
-      model: "Quillon",
-      year: 2018,
-      complaint: "Misfire under load",
-      system: "ignition",
-      expertId: o.expertId ?? null,
-      deadlineAt: deadline,
-      submittedAt: submitted,
-      createdAt: new Date(now - 5 * HOUR),
-      updatedAt: new Date(now - (o.updatedAgoMs ?? 0)),
-    })
-    .run();
+  await server.ctx.db.write((tx) =>
+    tx
+      .insert(schema.caseTable)
+      .values({
+        id,
+        shopId: o.shopId,
+        createdBy: o.createdBy,
+        status: o.status,
+        make: "Veltra",
+        model: "Quillon",
+        year: 2018,
+        complaint: "Misfire under load",
+        system: "ignition",
+        expertId: o.expertId ?? null,
+        deadlineAt: deadline,
+        submittedAt: submitted,
+        createdAt: new Date(now - 5 * HOUR),
+        updatedAt: new Date(now - (o.updatedAgoMs ?? 0)),
+      })
+      .run(),
+  );
   return id;
 }
 
@@ -79,7 +81,7 @@ describe("the admin's case list", () => {
     const tb = b.technicians[0].id;
     const c = {
       // a 24 h window with 30 min left: under an hour → at risk
-      atRiskSoon: insertCase({
+      atRiskSoon: await insertCase({
         shopId: a.shop.id,
         createdBy: ta,
         status: "queued",
@@ -87,7 +89,7 @@ describe("the admin's case list", () => {
         windowMs: 24 * HOUR,
       }),
       // a 24 h window with 5 h left: above an hour and above a quarter (6 h)? no: 5 h < 6 h → at risk
-      atRiskShare: insertCase({
+      atRiskShare: await insertCase({
         shopId: b.shop.id,
         createdBy: tb,
         status: "claimed",
@@ -95,7 +97,7 @@ describe("the admin's case list", () => {
         leftMs: 5 * HOUR,
         windowMs: 24 * HOUR,
       }),
-      overdue: insertCase({
+      overdue: await insertCase({
         shopId: b.shop.id,
         createdBy: tb,
         status: "queued",
@@ -103,7 +105,7 @@ describe("the admin's case list", () => {
         windowMs: 2 * HOUR,
       }),
       // a 24 h window with 20 h left: fine
-      fine: insertCase({
+      fine: await insertCase({
         shopId: a.shop.id,
         createdBy: ta,
         status: "claimed",
@@ -112,7 +114,7 @@ describe("the admin's case list", () => {
         windowMs: 24 * HOUR,
       }),
       // waiting for data: the deadline is paused, never "at risk"
-      paused: insertCase({
+      paused: await insertCase({
         shopId: a.shop.id,
         createdBy: ta,
         status: "needs_data",
@@ -120,8 +122,8 @@ describe("the admin's case list", () => {
         leftMs: 0.1 * HOUR,
         windowMs: 24 * HOUR,
       }),
-      draft: insertCase({ shopId: b.shop.id, createdBy: tb, status: "draft", updatedAgoMs: HOUR }),
-      resolved: insertCase({ shopId: a.shop.id, createdBy: ta, status: "resolved", expertId: ex.id }),
+      draft: await insertCase({ shopId: b.shop.id, createdBy: tb, status: "draft", updatedAgoMs: HOUR }),
+      resolved: await insertCase({ shopId: a.shop.id, createdBy: ta, status: "resolved", expertId: ex.id }),
     };
     const mine = new Set(Object.values(c));
     const list = async (q: string) => {
@@ -161,18 +163,20 @@ describe("the admin's case list", () => {
   it("tells each reader what a case waits on", async () => {
     const t = await createShopTeam(server, { technicians: 1 });
     const ex = await createExpert(server, { systems: ["ignition"], name: "Orla Penrose" });
-    const id = insertCase({
+    const id = await insertCase({
       shopId: t.shop.id,
       createdBy: t.technicians[0].id,
       status: "needs_data",
       expertId: ex.id,
       leftMs: HOUR,
     });
-    server.ctx.db
-      .insert(schema.caseQueueState)
-      .values({ caseId: id, needsDataMessage: "Capture coil 2 at 2500 rpm, please.", updatedAt: server.ctx.now() })
-      .run();
-    const answered = insertCase({
+    await server.ctx.db.write((tx) =>
+      tx
+        .insert(schema.caseQueueState)
+        .values({ caseId: id, needsDataMessage: "Capture coil 2 at 2500 rpm, please.", updatedAt: server.ctx.now() })
+        .run(),
+    );
+    const answered = await insertCase({
       shopId: t.shop.id,
       createdBy: t.technicians[0].id,
       status: "answered",
@@ -208,7 +212,7 @@ describe("the admin's actions", () => {
   async function paidCase() {
     const t = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, t.technicians[0]);
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     await submitAndPay(server, tech, caseId);
     return { t, tech, caseId, owner: await signIn(server, t.owner) };
   }
@@ -262,7 +266,9 @@ describe("deleting a draft", () => {
       .field("settings", JSON.stringify({ kind: "generic", voltsPerDiv: 2, timePerDivS: 0.002 }))
       .attach("file", Buffer.from(csv), { filename: "delete-me.csv", contentType: "text/csv" });
     expect(up.status, JSON.stringify(up.body)).toBe(201);
-    const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.caseId, id)).get()!;
+    const row = (await server.ctx.db.read((tx) =>
+      tx.select().from(schema.trace).where(eq(schema.trace.caseId, id)).get(),
+    ))!;
     const files = [row.dataPath, row.originalPath].map((p) => path.resolve(server.dir, p));
     for (const f of files) expect(fs.existsSync(f), f).toBe(true);
 
@@ -276,12 +282,12 @@ describe("deleting a draft", () => {
     expect((await tech.get(`/api/cases/${id}`)).status).toBe(404);
     for (const f of files) expect(fs.existsSync(f), f).toBe(false);
 
-    const submitted = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const submitted = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     await submitAndPay(server, tech, submitted);
     const refused = await tech.delete(`/api/cases/${submitted}`);
     expect(refused.status).toBe(409);
     expect(refused.body.error.code).toBe("case_locked");
-    expect(caseRow(server, submitted).status).toBe("queued");
+    expect((await caseRow(server, submitted)).status).toBe("queued");
   });
 });
 
@@ -290,7 +296,7 @@ describe("receipts and the casebook link", () => {
     const t = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, t.technicians[0]);
     const owner = await signIn(server, t.owner);
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     await submitAndPay(server, tech, caseId);
     const e = await signIn(server, await createExpert(server, { systems: ["ignition"] }));
     expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);

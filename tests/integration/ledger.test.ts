@@ -31,13 +31,13 @@ beforeAll(async () => {
 afterAll(async () => server?.close());
 afterEach(async () => {
   await server.fakeStripe!.idle();
-  expectLedgerBalanced(server, "all");
+  (await expectLedgerBalanced(server, "all"));
 });
 
 async function answeredCase(tier = "standard") {
   const t = await createShopTeam(server, { technicians: 1 });
   const tech = await signIn(server, t.technicians[0]);
-  const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
   const paid = await submitAndPay(server, tech, caseId, { tier });
   const e = await signIn(server, expert);
   expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
@@ -74,13 +74,13 @@ describe("admin pricing", () => {
     expect(put.body.tiers.map((t: { id: string; priceCents: number }) => [t.id, t.priceCents])).toEqual([["standard", 12345], ["priority", 19900]]);
 
     const { caseId } = await answeredCase();
-    const b = expectLedgerBalanced(server, caseId);
+    const b = (await expectLedgerBalanced(server, caseId));
     expect(b).toMatchObject({ capturedCents: 12345, deskShareCents: 1851, expertEarningsCents: 10494 });
     // back to the defaults for the other tests
     const reset = await admin.put("/api/admin/pricing").send({ ...body, deskShareBasisPoints: 2000, firstWaveSize: 3, widenAfterMinutes: 30, closeAnsweredAfterDays: 7, tiers: [{ ...body.tiers[0], priceCents: 4900 }, { ...body.tiers[1], priceCents: 12900 }] });
     expect(reset.status).toBe(200);
     // the case paid at the old price keeps it
-    expect(caseRow(server, caseId).priceCents).toBe(12345);
+    expect((await caseRow(server, caseId)).priceCents).toBe(12345);
   });
 });
 
@@ -92,7 +92,7 @@ describe("refunds", () => {
     expect(res.body.payment.status).toBe("refunded");
     const charge = server.fakeStripe!.state.charges[fakeIntent(server, piId).latest_charge!];
     expect(charge.amount_refunded).toBe(4900);
-    const b = expectLedgerBalanced(server, caseId);
+    const b = (await expectLedgerBalanced(server, caseId));
     expect(b).toMatchObject({ capturedCents: 4900, refundedCents: 4900, deskShareCents: 0, expertEarningsCents: 0 });
     await server.mailCatcher!.waitFor((m) => m.to.includes(owner.email) && /^Refund/.test(m.subject));
     // a second refund is refused
@@ -104,13 +104,13 @@ describe("refunds", () => {
   it("an admin refund of a queued case cancels the hold and ends the case as refunded", async () => {
     const t = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, t.technicians[0]);
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
     const paid = await submitAndPay(server, tech, caseId);
     const res = await admin.post(`/api/admin/cases/${caseId}/refund`).send({});
     expect(res.status).toBe(200);
     expect(res.body.status).toBe("refunded");
     expect(fakeIntent(server, paid.paymentIntentId!).status).toBe("canceled");
-    expect(expectLedgerBalanced(server, caseId)).toMatchObject({ releasedCents: 4900, capturedCents: 0 });
+    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ releasedCents: 4900, capturedCents: 0 });
   });
 });
 
@@ -147,7 +147,7 @@ describe("payouts, earnings, billing", () => {
     expect(after.body.payouts[0]).toMatchObject({ status: "paid", amountCents: owed });
     expect(after.body.cases.every((c: { grossCents: number; deskCents: number; expertCents: number }) => c.deskCents + c.expertCents === c.grossCents)).toBe(true);
     await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Payout sent/.test(m.subject));
-    expect(ledgerBalance(server.ctx.db).payoutCents).toBeGreaterThanOrEqual(owed);
+    expect((await server.ctx.db.read((tx) => ledgerBalance(tx))).payoutCents).toBeGreaterThanOrEqual(owed);
     // nothing left: another run pays nothing
     const again = await admin.post("/api/admin/payouts").send({ expertId: expert.id });
     expect(again.body.payouts).toEqual([]);
@@ -195,7 +195,7 @@ describe("notifications", () => {
   it("a declined card creates an in-app notice but no mail", async () => {
     const t = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, t.technicians[0]);
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
     await submitAndPay(server, tech, caseId, { card: CARDS.declined });
     const list = await tech.get("/api/notifications");
     expect(list.body.items.map((i: { kind: string }) => i.kind)).toContain("payment_failed");

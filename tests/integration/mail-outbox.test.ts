@@ -14,9 +14,9 @@ import path from "node:path";
 import request from "supertest";
 import { pino } from "pino";
 import { eq } from "drizzle-orm";
-import { openDatabase, schema, type Db } from "../../server/db/client";
+import { schema, type Db } from "../../server/db/client";
 import { startMailCatcher } from "../../server/fakes/smtp";
-import { startTestServer, type TestServer } from "../helpers/test-app";
+import { openTestDatabase, startTestServer, type TestServer } from "../helpers/test-app";
 import { enqueueMail } from "../../server/mail/outbox";
 import { startMailDispatcher, type MailTransport } from "../../server/mail/dispatcher";
 
@@ -29,13 +29,9 @@ afterAll(async () => {
   for (const c of cleanups.splice(0).reverse()) await c();
 });
 
-function tempDb(): Db {
-  const dir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-outbox-"));
-  const db = openDatabase(path.join(dir, "outbox.db"));
-  cleanups.push(() => {
-    db.$client.close();
-    fs.rmSync(dir, { recursive: true, force: true });
-  });
+async function tempDb(): Promise<Db> {
+  const { db, close } = await openTestDatabase();
+  cleanups.push(close);
   return db;
 }
 
@@ -47,11 +43,11 @@ async function freePort(): Promise<number> {
   return port;
 }
 
-const rows = (db: Db) => db.select().from(schema.mailOutbox).all();
+const rows = (db: Db) => db.read((tx) => tx.select().from(schema.mailOutbox).all());
 
 describe("two dispatchers on one database", () => {
   test("every row is sent exactly once, however the two interleave", async () => {
-    const db = tempDb();
+    const db = await tempDb();
     const sentIds: string[] = [];
     // a transport that takes a little while, so the two dispatchers overlap on every row
     const slow = (who: string): MailTransport => ({
@@ -61,10 +57,10 @@ describe("two dispatchers on one database", () => {
         return { messageId: `${who}-${m.subject}` };
       },
     });
-    const ids = Array.from(
-      { length: 60 },
-      (_, i) => enqueueMail(db, { to: `r${i}@example.test`, subject: `m${i}`, text: "x" })[0],
-    );
+    const ids: string[] = [];
+    for (let i = 0; i < 60; i++) {
+      ids.push((await db.write((tx) => enqueueMail(tx, { to: `r${i}@example.test`, subject: `m${i}`, text: "x" })))[0]);
+    }
     const a = startMailDispatcher({ db, transport: slow("a"), logger: silent, id: "a", pollMs: 60_000 });
     const b = startMailDispatcher({ db, transport: slow("b"), logger: silent, id: "b", pollMs: 60_000 });
     cleanups.push(async () => {
@@ -75,7 +71,7 @@ describe("two dispatchers on one database", () => {
     await Promise.all([a.drain(), b.drain()]);
     expect(sentIds.length).toBe(60);
     expect(new Set(sentIds).size).toBe(60);
-    const all = rows(db);
+    const all = await rows(db);
     expect(all.map((r) => r.status)).toEqual(new Array(60).fill("sent"));
     expect(new Set(all.map((r) => r.id))).toEqual(new Set(ids));
     // both took part (otherwise the test proves nothing about two dispatchers)
@@ -87,7 +83,7 @@ describe("two dispatchers on one database", () => {
 
 describe("retries", () => {
   test("a transient failure is retried with a doubling delay; a 5xx refusal is given up at once", async () => {
-    const db = tempDb();
+    const db = await tempDb();
     let clock = Date.parse("2030-01-01T00:00:00Z");
     const failuresLeft = new Map<string, number>([["flaky", 3]]);
     const tried: string[] = [];
@@ -116,13 +112,13 @@ describe("retries", () => {
       pollMs: 60_000,
     });
     cleanups.push(() => d.stop());
-    enqueueMail(db, { to: "a@example.test", subject: "flaky", text: "x" }, { now: now() });
-    enqueueMail(db, { to: "b@example.test", subject: "refused", text: "x" }, { now: now() });
+    await db.write((tx) => enqueueMail(tx, { to: "a@example.test", subject: "flaky", text: "x" }, { now: now() }));
+    await db.write((tx) => enqueueMail(tx, { to: "b@example.test", subject: "refused", text: "x" }, { now: now() }));
 
     const delays: number[] = [];
     for (let attempt = 1; attempt <= 3; attempt++) {
       await d.runOnce();
-      const row = rows(db).find((r) => r.subject === "flaky")!;
+      const row = (await rows(db)).find((r) => r.subject === "flaky")!;
       expect(row.status).toBe("pending");
       expect(row.attempts).toBe(attempt);
       delays.push(row.nextAttemptAt.getTime() - clock);
@@ -136,10 +132,10 @@ describe("retries", () => {
     // base × 2^(attempt−1) with the jitter at its middle (random 0.5 → factor 1): 1 s, 2 s, 4 s
     expect(delays).toEqual([1000, 2000, 4000]);
     await d.runOnce();
-    const flaky = rows(db).find((r) => r.subject === "flaky")!;
+    const flaky = (await rows(db)).find((r) => r.subject === "flaky")!;
     expect(flaky.status).toBe("sent");
     expect(flaky.attempts).toBe(4);
-    const refused = rows(db).find((r) => r.subject === "refused")!;
+    const refused = (await rows(db)).find((r) => r.subject === "refused")!;
     expect(refused.status).toBe("failed");
     expect(refused.attempts).toBe(1);
     expect(refused.lastError).toMatch(/550/);
@@ -147,13 +143,18 @@ describe("retries", () => {
   });
 
   test("a claim left by a dispatcher that died in mid-send is taken back after the lease", async () => {
-    const db = tempDb();
+    const db = await tempDb();
     let clock = Date.parse("2030-01-01T00:00:00Z");
-    const [id] = enqueueMail(db, { to: "c@example.test", subject: "orphan", text: "x" }, { now: new Date(clock) });
-    db.update(schema.mailOutbox)
-      .set({ status: "sending", claimedBy: "dead", claimedAt: new Date(clock), attempts: 1 })
-      .where(eq(schema.mailOutbox.id, id))
-      .run();
+    const [id] = await db.write((tx) =>
+      enqueueMail(tx, { to: "c@example.test", subject: "orphan", text: "x" }, { now: new Date(clock) }),
+    );
+    await db.write((tx) =>
+      tx
+        .update(schema.mailOutbox)
+        .set({ status: "sending", claimedBy: "dead", claimedAt: new Date(clock), attempts: 1 })
+        .where(eq(schema.mailOutbox.id, id))
+        .run(),
+    );
     const sent: string[] = [];
     const d = startMailDispatcher({
       db,
@@ -185,7 +186,7 @@ describe("on a running server", () => {
       .send({ shopName: "Slatebrook Garage", name: "Ira Penn", email, password: "Dwell-angle-plateau-61" });
     // the account and its confirmation mail are in the database; sending is the dispatcher's job
     expect(res.status).toBe(202);
-    const queued = rows(s.ctx.db).filter((r) => r.toAddress === email);
+    const queued = (await rows(s.ctx.db)).filter((r) => r.toAddress === email);
     expect(queued.length).toBe(1);
 
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-outbox-smtp-"));
@@ -199,6 +200,6 @@ describe("on a running server", () => {
     expect(mail.subject).toMatch(/confirm/i);
     await s.ctx.mailer.drain(10_000);
     expect(catcher.messages().filter((m) => m.to.includes(email)).length).toBe(1);
-    expect(rows(s.ctx.db).find((r) => r.toAddress === email)!.status).toBe("sent");
+    expect((await rows(s.ctx.db)).find((r) => r.toAddress === email)!.status).toBe("sent");
   }, 40_000);
 });

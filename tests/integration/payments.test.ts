@@ -26,8 +26,8 @@ beforeAll(async () => {
   await createExpert(server, { systems: ["ignition"], makes: [] });
 });
 afterAll(async () => server?.close());
-afterEach(() => {
-  expectLedgerBalanced(server, "all");
+afterEach(async () => {
+  (await expectLedgerBalanced(server, "all"));
 });
 
 async function team() {
@@ -39,7 +39,7 @@ async function team() {
 describe("submit and pay", () => {
   it("pay → signed webhook → queued, with the deadline of the tier and a 'paid' mail", async () => {
     const t = await team();
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
 
     const pricing = await t.tech.get("/api/pricing");
     expect(pricing.status).toBe(200);
@@ -54,7 +54,7 @@ describe("submit and pay", () => {
     expect(new URL(submit.checkoutUrl).hostname).toBe(new URL(server.url).hostname);
     expect(submit.amountCents).toBe(standard.priceCents);
 
-    const c = caseRow(server, caseId);
+    const c = (await caseRow(server, caseId));
     expect(c.status).toBe("queued");
     // deadline = authorisation time + 24 h (the tier's window), within the test's run time
     expect(c.deadlineAt!.getTime()).toBeGreaterThanOrEqual(before + 24 * 3600_000);
@@ -84,13 +84,13 @@ describe("submit and pay", () => {
 
     const payment = await t.tech.get(`/api/cases/${caseId}/payment`);
     expect(payment.body.payment).toMatchObject({ status: "authorized", amountCents: standard.priceCents, cardLast4: "4242" });
-    expectLedgerBalanced(server, caseId);
-    expect(expectLedgerBalanced(server, caseId).heldCents).toBe(standard.priceCents);
+    (await expectLedgerBalanced(server, caseId));
+    expect((await expectLedgerBalanced(server, caseId)).heldCents).toBe(standard.priceCents);
   });
 
   it("the success URL returns the browser to the case page", async () => {
     const t = await team();
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
     const res = await t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "priority" });
     expect(res.status).toBe(201);
     const session = server.fakeStripe!.state.checkoutSessions[sessionIdOf(res.body.checkoutUrl)];
@@ -103,18 +103,18 @@ describe("submit and pay", () => {
     expect(paid.status).toBe(303);
     expect(paid.headers.get("location")).toBe(`${server.url}/cases/${caseId}?paid=1&session_id=${session.id}`);
     await server.fakeStripe!.idle();
-    expect(caseRow(server, caseId).status).toBe("queued");
+    expect((await caseRow(server, caseId)).status).toBe("queued");
     // the priority tier's deadline: 2 h
-    const c = caseRow(server, caseId);
+    const c = (await caseRow(server, caseId));
     expect(c.deadlineAt!.getTime() - c.submittedAt!.getTime()).toBe(2 * 3600_000);
   });
 
   it("a declined card leaves the case awaiting payment with a clear message and no 'paid' mail", async () => {
     const t = await team();
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
     const { pay } = await submitAndPay(server, t.tech, caseId, { card: CARDS.declined });
     expect(pay.ok).toBe(false);
-    expect(caseRow(server, caseId).status).toBe("awaiting_payment");
+    expect((await caseRow(server, caseId)).status).toBe("awaiting_payment");
 
     const wf = await t.tech.get(`/api/cases/${caseId}/payment`);
     expect(wf.body.status).toBe("awaiting_payment");
@@ -128,8 +128,8 @@ describe("submit and pay", () => {
     await flushMail(server);
     expect(mailsTo(server, t.technicians[0].email, /Paid/i)).toEqual([]);
     expect(mailsTo(server, t.owner.email, /Paid/i)).toEqual([]);
-    expect(paymentsOf(server, caseId).every((p) => p.status !== "authorized")).toBe(true);
-    expect(expectLedgerBalanced(server, caseId).authorizedCents).toBe(0);
+    expect((await paymentsOf(server, caseId)).every((p) => p.status !== "authorized")).toBe(true);
+    expect((await expectLedgerBalanced(server, caseId)).authorizedCents).toBe(0);
 
     // Insufficient funds has its own wording; then a good card on a new attempt goes through.
     const second = await submitAndPay(server, t.tech, caseId, { card: CARDS.insufficient });
@@ -138,17 +138,17 @@ describe("submit and pay", () => {
     expect(again.body.payment.message).toMatch(/insufficient funds/);
     const third = await submitAndPay(server, t.tech, caseId, { card: CARDS.ok });
     expect(third.pay.ok).toBe(true);
-    expect(caseRow(server, caseId).status).toBe("queued");
+    expect((await caseRow(server, caseId)).status).toBe("queued");
     // the earlier attempts' sessions were expired when the new one was made (Stripe: expire a session)
     const s1 = server.fakeStripe!.state.checkoutSessions[second.sessionId];
     expect(s1.status).toBe("expired");
-    expect(expectLedgerBalanced(server, caseId).heldCents).toBe(DEFAULT_TIERS[0].priceCents);
+    expect((await expectLedgerBalanced(server, caseId)).heldCents).toBe(DEFAULT_TIERS[0].priceCents);
   });
 
   it("one Stripe customer per shop, created once", async () => {
     const t = await team();
-    const a = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
-    const b = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const a = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const b = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
     const before = Object.keys(server.fakeStripe!.state.customers).length;
     const [ra, rb] = await Promise.all([
       t.tech.post(`/api/cases/${a}/submit`).send({ tier: "standard" }),
@@ -193,20 +193,20 @@ describe("submit and pay", () => {
   it("refuses an unknown tier, an incomplete case, another shop's case and a paid case", async () => {
     const t = await team();
     const other = await team();
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
     const bad = await t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "platinum" });
     expect(bad.status).toBe(400);
     expect(bad.body.error.code).toBe("unknown_tier");
     const foreign = await other.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" });
     expect(foreign.status).toBe(404);
-    const incomplete = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id, system: null });
+    const incomplete = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id, system: null }));
     const inc = await t.tech.post(`/api/cases/${incomplete}/submit`).send({ tier: "standard" });
     expect(inc.status).toBe(409);
     expect(inc.body.error).toMatchObject({ code: "case_incomplete", details: { missing: ["system"] } });
-    expect(caseRow(server, incomplete).status).toBe("draft");
+    expect((await caseRow(server, incomplete)).status).toBe("draft");
     await submitAndPay(server, t.tech, caseId);
     const twice = await t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" });
     expect(twice.status).toBe(409);
-    expect(caseRow(server, caseId).status).toBe("queued");
+    expect((await caseRow(server, caseId)).status).toBe("queued");
   });
 });

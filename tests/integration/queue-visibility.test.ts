@@ -23,7 +23,7 @@ describe("a queued case before and after the claim", () => {
   it("approved experts see it and its traces; pending experts and other shops get 404; after a claim only the claimer", async () => {
     const team = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, team.technicians[0]);
-    const caseId = insertDraftCase(server, { shopId: team.shop.id, createdBy: team.technicians[0].id });
+    const caseId = (await insertDraftCase(server, { shopId: team.shop.id, createdBy: team.technicians[0].id }));
     const up = await tech.post(`/api/cases/${caseId}/traces`).field("settings", settings).attach("file", Buffer.from(csv), "coil1.csv");
     expect(up.status, JSON.stringify(up.body)).toBe(201);
     // a real 1×1 PNG (PNG signature, ISO/IEC 15948): the photo shown on the case page
@@ -31,7 +31,7 @@ describe("a queued case before and after the claim", () => {
     const photo = await tech.post(`/api/cases/${caseId}/photos`).attach("file", png, "bay.png");
     expect(photo.status, JSON.stringify(photo.body)).toBe(201);
     await submitAndPay(server, tech, caseId);
-    expect(caseRow(server, caseId).status).toBe("queued");
+    expect((await caseRow(server, caseId)).status).toBe("queued");
 
     const approved = await createExpert(server, { systems: ["ignition"], makes: [], status: "approved", available: true });
     const other = await createExpert(server, { systems: ["ignition"], makes: [], status: "approved", available: true });
@@ -59,9 +59,9 @@ describe("a queued case before and after the claim", () => {
     // The expert asks for another capture; the tech's upload hands the case back.
     const ask = await a.post(`/api/cases/${caseId}/request-data`).set("Origin", server.url).send({ message: "Capture coil 2 at 1 ms/div, 2 kV/div" });
     expect(ask.status, JSON.stringify(ask.body)).toBe(200);
-    expect(caseRow(server, caseId).status).toBe("needs_data");
+    expect((await caseRow(server, caseId)).status).toBe("needs_data");
     const again = await tech.post(`/api/cases/${caseId}/traces`).field("settings", settings).attach("file", Buffer.from(csv), "coil2.csv");
     expect(again.status, JSON.stringify(again.body)).toBe(201);
-    expect(caseRow(server, caseId).status).toBe("claimed");
+    expect((await caseRow(server, caseId)).status).toBe("claimed");
   });
 });

@@ -26,12 +26,12 @@ beforeAll(async () => {
 afterAll(async () => server?.close());
 afterEach(async () => {
   await server.fakeStripe!.idle();
-  expectLedgerBalanced(server, "all");
+  (await expectLedgerBalanced(server, "all"));
 });
 
 /** Every expert is approved elsewhere in this file; park them so each test controls who is available. */
-function parkAllExperts() {
-  server.ctx.db.update(schema.expertProfile).set({ available: false }).run();
+async function parkAllExperts() {
+  (await server.ctx.db.write((tx) => tx.update(schema.expertProfile).set({ available: false }).run()));
 }
 
 async function shop() {
@@ -41,17 +41,17 @@ async function shop() {
 
 async function paidCase(opts: { system?: string; make?: string; tier?: string } = {}) {
   const t = await shop();
-  const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id, system: opts.system, make: opts.make });
+  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id, system: opts.system, make: opts.make }));
   const paid = await submitAndPay(server, t.tech, caseId, { tier: opts.tier });
-  expect(caseRow(server, caseId).status).toBe("queued");
+  expect((await caseRow(server, caseId)).status).toBe("queued");
   return { ...t, caseId, paid };
 }
 
-const offersOf = (caseId: string) => server.ctx.db.select().from(schema.caseOffer).where(eq(schema.caseOffer.caseId, caseId)).all();
+const offersOf = async (caseId: string) => (await server.ctx.db.read((tx) => tx.select().from(schema.caseOffer).where(eq(schema.caseOffer.caseId, caseId)).all()));
 
 describe("routing", () => {
   it("offers a case to matching experts only; one without the specialty or the make is not offered it", async () => {
-    parkAllExperts();
+    (await parkAllExperts());
     const match = await createExpert(server, { systems: ["ignition", "fuel"], makes: [] });
     const makeMatch = await createExpert(server, { systems: ["ignition"], makes: ["Veltra"] });
     const wrongSystem = await createExpert(server, { systems: ["fuel", "networks"], makes: [] });
@@ -60,7 +60,7 @@ describe("routing", () => {
     const pending = await createExpert(server, { systems: ["ignition"], makes: [], status: "pending" });
 
     const { caseId } = await paidCase({ system: "ignition", make: "Veltra" });
-    const offered = offersOf(caseId);
+    const offered = (await offersOf(caseId));
     expect(offered.map((o) => o.expertId).sort()).toEqual([match.id, makeMatch.id].sort());
     // ranked by match: the expert naming the case's make comes before "any make"
     expect(offered.find((o) => o.expertId === makeMatch.id)!.rank).toBe(1);
@@ -92,31 +92,31 @@ describe("routing", () => {
   });
 
   it("ranks by load: an expert at the limit of open cases is not offered", async () => {
-    parkAllExperts();
+    (await parkAllExperts());
     const busy = await createExpert(server, { systems: ["starting-charging"], maxOpenCases: 1 });
     const free = await createExpert(server, { systems: ["starting-charging"], maxOpenCases: 3 });
     const first = await paidCase({ system: "starting-charging" });
     const busyAgent = await signIn(server, busy);
     expect((await busyAgent.post(`/api/cases/${first.caseId}/claim`)).status).toBe(200);
     const second = await paidCase({ system: "starting-charging" });
-    expect(offersOf(second.caseId).map((o) => o.expertId)).toEqual([free.id]);
+    expect((await offersOf(second.caseId)).map((o) => o.expertId)).toEqual([free.id]);
     // claiming above the limit is refused with 409 and changes nothing
     const over = await busyAgent.post(`/api/cases/${second.caseId}/claim`);
     expect(over.status).toBe(409);
     expect(over.body.error.code).toBe("load_limit");
-    expect(caseRow(server, second.caseId).status).toBe("queued");
+    expect((await caseRow(server, second.caseId)).status).toBe("queued");
   });
 
   it("widens an unclaimed offer to every available approved expert after the set time", async () => {
-    parkAllExperts();
+    (await parkAllExperts());
     const specialist = await createExpert(server, { systems: ["sensors"] });
     const generalist = await createExpert(server, { systems: ["fuel"] });
     const { caseId } = await paidCase({ system: "sensors" });
-    expect(offersOf(caseId).map((o) => o.expertId)).toEqual([specialist.id]);
+    expect((await offersOf(caseId)).map((o) => o.expertId)).toEqual([specialist.id]);
     expect(await sweepWidenOffers(server.ctx)).toBe(0); // not yet: the default is 30 minutes
     clock.advance(31 * 60_000);
     await sweepWidenOffers(server.ctx);
-    const after = offersOf(caseId);
+    const after = (await offersOf(caseId));
     expect(after.map((o) => o.expertId)).toContain(generalist.id);
     expect(after.find((o) => o.expertId === generalist.id)!.wave).toBe(2);
     await server.mailCatcher!.waitFor((m) => m.to.includes(generalist.email) && /^Case offered/.test(m.subject));
@@ -124,22 +124,22 @@ describe("routing", () => {
     const n = after.length;
     clock.advance(31 * 60_000);
     await sweepWidenOffers(server.ctx);
-    expect(offersOf(caseId).length).toBe(n);
+    expect((await offersOf(caseId)).length).toBe(n);
     await runQueueSweeps(server.ctx);
   });
 
   it("experts set themselves available or away", async () => {
-    parkAllExperts();
+    (await parkAllExperts());
     const e = await createExpert(server, { systems: ["networks"], available: false });
     const agent = await signIn(server, e);
     const none = await paidCase({ system: "networks" });
     // nobody available and matching: widened at once to the available experts (none here)
-    expect(offersOf(none.caseId).filter((o) => o.expertId === e.id)).toEqual([]);
+    expect((await offersOf(none.caseId)).filter((o) => o.expertId === e.id)).toEqual([]);
     const on = await agent.put("/api/queue/availability").send({ available: true });
     expect(on.status).toBe(200);
     expect((await agent.get("/api/queue")).body.me).toMatchObject({ available: true, openCases: 0, maxOpenCases: 3 });
     const next = await paidCase({ system: "networks" });
-    expect(offersOf(next.caseId).map((o) => o.expertId)).toEqual([e.id]);
+    expect((await offersOf(next.caseId)).map((o) => o.expertId)).toEqual([e.id]);
     expect((await agent.put("/api/queue/availability").send({ available: "yes" })).status).toBe(400);
     const tech = (await shop()).tech;
     expect((await tech.put("/api/queue/availability").send({ available: true })).status).toBe(403);
@@ -160,10 +160,10 @@ describe("claims", () => {
     expect(statuses).toEqual([200, 409, 409, 409]);
     const winner = results.findIndex((r) => r.status === 200);
     for (const r of results.filter((x) => x.status === 409)) expect(r.body.error).toMatchObject({ code: "already_claimed", message: "Another expert claimed this case first." });
-    const c = caseRow(server, caseId);
+    const c = (await caseRow(server, caseId));
     expect(c.status).toBe("claimed");
     expect(c.expertId).toBe(experts[winner].id);
-    const claims = server.ctx.db.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all().filter((e) => e.type === "claimed");
+    const claims = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all())).filter((e) => e.type === "claimed");
     expect(claims).toHaveLength(1);
     await server.mailCatcher!.waitFor((m) => m.to.includes(technicians[0].email) && /^An expert took your case/.test(m.subject));
     // the winner sees it among their own cases
@@ -182,7 +182,7 @@ describe("claims", () => {
     expect(rel.body).toMatchObject({ status: "queued", expertId: null });
     expect((await other.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
 
-    const deadline = caseRow(server, caseId).deadlineAt!.getTime();
+    const deadline = (await caseRow(server, caseId)).deadlineAt!.getTime();
     expect((await other.post(`/api/cases/${caseId}/request-data`).send({ message: "" })).status).toBe(400);
     const ask = await other.post(`/api/cases/${caseId}/request-data`).send({ message: "Please capture secondary on cylinder 3 at 2500 rpm." });
     expect(ask.status).toBe(200);
@@ -196,12 +196,12 @@ describe("claims", () => {
     // a missed-deadline sweep does not touch a case waiting for data
     clock.advance(60 * 60_000);
     await sweepDeadlines(server.ctx);
-    expect(caseRow(server, caseId).status).toBe("needs_data");
+    expect((await caseRow(server, caseId)).status).toBe("needs_data");
     const sent = await tech.post(`/api/cases/${caseId}/data-sent`).send({ note: "Uploaded two captures." });
     expect(sent.status).toBe(200);
     expect(sent.body.status).toBe("claimed");
     // the deadline moved on by the hour spent waiting
-    expect(caseRow(server, caseId).deadlineAt!.getTime() - deadline).toBeGreaterThanOrEqual(60 * 60_000);
+    expect((await caseRow(server, caseId)).deadlineAt!.getTime() - deadline).toBeGreaterThanOrEqual(60 * 60_000);
     await server.mailCatcher!.waitFor((m) => m.to.includes(experts[1].email) && /^The shop answered your request/.test(m.subject));
   });
 
@@ -211,13 +211,12 @@ describe("claims", () => {
     expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
     expect((await e.post(`/api/cases/${caseId}/request-data`).send({ message: "A photo of the coil connector, please." })).status).toBe(200);
     clock.advance(5 * 60_000);
-    server.ctx.db
-      .insert(schema.photo)
+    (await server.ctx.db.write((tx) => tx.insert(schema.photo)
       .values({ id: crypto.randomUUID(), caseId, uploadedBy: technicians[0].id, name: "connector.jpg", mime: "image/jpeg", bytes: 1000, sha256: "0".repeat(64), path: "photos/x.jpg", createdAt: server.ctx.now() })
-      .run();
+      .run()));
     await runQueueSweeps(server.ctx);
-    expect(caseRow(server, caseId).status).toBe("claimed");
-    const types = server.ctx.db.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all().map((x) => x.type);
+    expect((await caseRow(server, caseId)).status).toBe("claimed");
+    const types = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all())).map((x) => x.type);
     expect(types).toContain("data_uploaded");
     // hand it back so the later tests' experts are not at their limit
     expect((await e.post(`/api/cases/${caseId}/release`)).status).toBe(200);
@@ -226,7 +225,7 @@ describe("claims", () => {
 
 describe("withdraw, deadlines, invalid moves", () => {
   it("withdraw before claim cancels the hold; after a claim it is refused with 409", async () => {
-    parkAllExperts();
+    (await parkAllExperts());
     const expert = await createExpert(server, { systems: ["fuel"] });
     const { caseId, tech, paid } = await paidCase({ system: "fuel" });
     expect(fakeIntent(server, paid.paymentIntentId!).status).toBe("requires_capture");
@@ -236,30 +235,30 @@ describe("withdraw, deadlines, invalid moves", () => {
     const pi = fakeIntent(server, paid.paymentIntentId!);
     expect(pi.status).toBe("canceled");
     expect(pi.amount_received).toBe(0);
-    expect(expectLedgerBalanced(server, caseId)).toMatchObject({ heldCents: 0, capturedCents: 0, releasedCents: pi.amount });
+    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ heldCents: 0, capturedCents: 0, releasedCents: pi.amount });
 
     const second = await paidCase({ system: "fuel" });
     expect((await (await signIn(server, expert)).post(`/api/cases/${second.caseId}/claim`)).status).toBe(200);
     const late = await second.tech.post(`/api/cases/${second.caseId}/withdraw`);
     expect(late.status).toBe(409);
     expect(late.body.error.code).toBe("invalid_transition");
-    expect(caseRow(server, second.caseId).status).toBe("claimed");
+    expect((await caseRow(server, second.caseId)).status).toBe("claimed");
     expect(fakeIntent(server, second.paid.paymentIntentId!).status).toBe("requires_capture");
   });
 
   it("a draft can be withdrawn without any payment", async () => {
     const t = await shop();
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
     const w = await t.tech.post(`/api/cases/${caseId}/withdraw`);
     expect(w.status).toBe(200);
-    expect(caseRow(server, caseId).status).toBe("withdrawn");
-    expect(paymentsOf(server, caseId)).toEqual([]);
+    expect((await caseRow(server, caseId)).status).toBe("withdrawn");
+    expect((await paymentsOf(server, caseId))).toEqual([]);
     const again = await t.tech.post(`/api/cases/${caseId}/withdraw`);
     expect(again.status).toBe(409);
   });
 
   it("a missed deadline cancels the hold with no capture, marks the case refunded and tells the shop", async () => {
-    parkAllExperts();
+    (await parkAllExperts());
     const expert = await createExpert(server, { systems: ["engine-mechanical"] });
     const queued = await paidCase({ system: "engine-mechanical", tier: "priority" });
     const claimed = await paidCase({ system: "engine-mechanical", tier: "priority" });
@@ -269,16 +268,16 @@ describe("withdraw, deadlines, invalid moves", () => {
     clock.advance(100 * 60_000 + 1000);
     await runQueueSweeps(server.ctx);
     await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Deadline near/.test(m.subject));
-    expect(caseRow(server, claimed.caseId).status).toBe("claimed");
+    expect((await caseRow(server, claimed.caseId)).status).toBe("claimed");
 
     clock.advance(21 * 60_000);
     await runQueueSweeps(server.ctx);
     for (const x of [queued, claimed]) {
-      expect(caseRow(server, x.caseId).status).toBe("refunded");
+      expect((await caseRow(server, x.caseId)).status).toBe("refunded");
       const pi = fakeIntent(server, x.paid.paymentIntentId!);
       expect(pi.status).toBe("canceled");
       expect(pi.amount_received).toBe(0);
-      const b = expectLedgerBalanced(server, x.caseId);
+      const b = (await expectLedgerBalanced(server, x.caseId));
       expect(b.capturedCents).toBe(0);
       expect(b.releasedCents).toBe(pi.amount);
       const m = await server.mailCatcher!.waitFor((mm) => mm.to.includes(x.technicians[0].email) && /^Deadline missed, nothing charged/.test(mm.subject));
@@ -294,25 +293,25 @@ describe("withdraw, deadlines, invalid moves", () => {
 
   it("an invalid transition answers 409 and changes nothing", async () => {
     const t = await shop();
-    const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
-    const before = caseRow(server, caseId);
+    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const before = (await caseRow(server, caseId));
     const confirm = await t.tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true });
     expect(confirm.status).toBe(409);
     expect(confirm.body.error.code).toBe("invalid_transition");
     const sent = await t.tech.post(`/api/cases/${caseId}/data-sent`).send({});
     expect(sent.status).toBe(409);
-    const after = caseRow(server, caseId);
+    const after = (await caseRow(server, caseId));
     expect(after.status).toBe("draft");
     expect(after.updatedAt.getTime()).toBe(before.updatedAt.getTime());
-    const events = server.ctx.db.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all();
+    const events = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all()));
     expect(events).toEqual([]);
     // a technician cannot claim (403), and nobody signed out can (401)
-    parkAllExperts();
+    (await parkAllExperts());
     await createExpert(server, { systems: ["other"] });
     const { caseId: q } = await paidCase({ system: "other" });
     expect((await t.tech.post(`/api/cases/${q}/claim`)).status).toBe(403);
     const { default: request } = await import("supertest");
     expect((await request(server.url).post(`/api/cases/${q}/claim`)).status).toBe(401);
-    expect(caseRow(server, q).status).toBe("queued");
+    expect((await caseRow(server, q)).status).toBe("queued");
   });
 });

@@ -19,12 +19,11 @@ export interface LiveCase {
  * 0.1 s capture on channel "A". The trace's data files are not written: the live layer only reads
  * the row (time span and channels).
  */
-export function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shopId: string; createdBy: string; expertId?: string | null; status?: string }): LiveCase {
+export async function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shopId: string; createdBy: string; expertId?: string | null; status?: string }): Promise<LiveCase> {
   const now = ctx.now();
   const caseId = crypto.randomUUID();
   const traceId = crypto.randomUUID();
-  ctx.db
-    .insert(schema.caseTable)
+  (await ctx.db.write((tx) => tx.insert(schema.caseTable)
     .values({
       id: caseId,
       shopId: opts.shopId,
@@ -39,9 +38,8 @@ export function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shop
       createdAt: now,
       updatedAt: now,
     })
-    .run();
-  ctx.db
-    .insert(schema.trace)
+    .run()));
+  (await ctx.db.write((tx) => tx.insert(schema.trace)
     .values({
       id: traceId,
       caseId,
@@ -60,7 +58,7 @@ export function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shop
       channels: [{ name: "A", unit: "V", min: -5, max: 30 }],
       createdAt: now,
     })
-    .run();
+    .run()));
   return { caseId, traceId };
 }
 
@@ -107,14 +105,15 @@ export function connected(s: LiveClient): Promise<LiveClient> {
   });
 }
 
-/** Emits an acknowledged event and resolves with the acknowledgement. */
+/** Emits an acknowledged event and resolves with the acknowledgement (rejects after `timeoutMs`). */
 export function ask<E extends keyof ClientToServerEvents>(
   s: LiveClient,
   event: E,
   payload: Parameters<ClientToServerEvents[E]>[0],
+  timeoutMs = 10_000,
 ): Promise<Parameters<Extract<Parameters<ClientToServerEvents[E]>[1], (...a: any[]) => void>>[0]> {
   return new Promise((resolve, reject) => {
-    const timer = setTimeout(() => reject(new Error(`no acknowledgement of ${event}`)), 10_000);
+    const timer = setTimeout(() => reject(new Error(`no acknowledgement of ${event}`)), timeoutMs);
     (s.emit as any)(event, payload, (res: any) => {
       clearTimeout(timer);
       resolve(res);

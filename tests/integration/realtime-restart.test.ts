@@ -70,12 +70,12 @@ describe("a server killed right after an acknowledgement", () => {
     const { child, port } = await startChild();
 
     // users and a claimed case, written straight into the same SQLite file
-    const db = openDatabase(env.DATABASE_URL, { migrate: false });
+    const db = await openDatabase(env.DATABASE_URL, { migrate: false });
     const ctx = { db, now: () => new Date() } as unknown as AppContext;
     const team = await createShopTeam(ctx);
     const e = await createExpert(ctx);
-    const c = insertLiveCase(ctx, { shopId: team.shop.id, createdBy: team.technicians[0].id, expertId: e.id });
-    db.$client.close();
+    const c = (await insertLiveCase(ctx, { shopId: team.shop.id, createdBy: team.technicians[0].id, expertId: e.id }));
+    await db.close();
 
     const expert = await signIn({ port }, e);
     const url = `http://127.0.0.1:${port}`;

@@ -26,7 +26,7 @@ let admin: SignedInAgent;
 let expertId: string;
 const open: LiveClient[] = [];
 
-const count = (table: any, where?: any) => server.ctx.db.select({ n: sql<number>`count(*)` }).from(table).where(where).get()!.n;
+const count = async (table: any, where?: any) => (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(table).where(where).get()))!.n;
 
 async function client(agent: SignedInAgent, opts: Parameters<typeof liveClient>[1] = {}): Promise<LiveClient> {
   const s = liveClient(server.url.replace("localhost", "127.0.0.1"), { cookie: agent.cookie, ...opts });
@@ -41,8 +41,8 @@ async function joined(agent: SignedInAgent, caseId: string, since?: number, opts
   return { s, ack };
 }
 
-function newCase(): LiveCase {
-  return insertLiveCase(server.ctx, { shopId: shopA.shop.id, createdBy: shopA.technicians[0].id, expertId });
+async function newCase(): Promise<LiveCase> {
+  return (await insertLiveCase(server.ctx, { shopId: shopA.shop.id, createdBy: shopA.technicians[0].id, expertId }));
 }
 
 beforeAll(async () => {
@@ -66,7 +66,7 @@ afterAll(async () => {
 
 describe("joining a case", () => {
   it("lets the shop's tech, the claimed expert and an admin in, with presence and abilities", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const tech = await joined(techA, c.caseId);
     expect(tech.ack).toMatchObject({ ok: true, caseId: c.caseId, seq: 0, annotations: [], messages: [], reset: false, caseStatus: "claimed" });
     expect(tech.ack.abilities).toEqual({ annotate: true, chat: true, requestData: false });
@@ -89,7 +89,7 @@ describe("joining a case", () => {
   });
 
   it("refuses a member of another shop and an expert who did not claim the case: error acks, nothing stored, nothing received", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const tech = await joined(techA, c.caseId);
 
     const intruders = [await client(techB), await client(otherExpert)];
@@ -117,28 +117,28 @@ describe("joining a case", () => {
     await ask(tech.s, "chat:send", { text: "Plug 4 gap checked" });
     await sleep(200);
     expect(received).toEqual([]);
-    expect(count(schema.annotation, eq(schema.annotation.caseId, c.caseId))).toBe(1);
-    expect(count(schema.message, eq(schema.message.caseId, c.caseId))).toBe(1);
+    expect((await count(schema.annotation, eq(schema.annotation.caseId, c.caseId)))).toBe(1);
+    expect((await count(schema.message, eq(schema.message.caseId, c.caseId)))).toBe(1);
   });
 
   it("validates payloads and refuses marks off the trace", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const { s } = await joined(techA, c.caseId);
     const bad = await ask(s, "annotation:create", { traceId: c.traceId, kind: "span", t0: 0.01 } as any);
     expect(bad).toMatchObject({ ok: false, error: { code: "validation_failed" } });
     expect((bad as any).error.details.fields[0].path).toBe("t1");
     const off = await ask(s, "annotation:create", { traceId: c.traceId, kind: "pin", t0: 5 });
     expect(off).toMatchObject({ ok: false, error: { code: "validation_failed" } });
-    const other = newCase();
+    const other = (await newCase());
     const foreignTrace = await ask(s, "annotation:create", { traceId: other.traceId, kind: "pin", t0: 0.01 });
     expect(foreignTrace).toMatchObject({ ok: false, error: { code: "not_found" } });
-    expect(count(schema.annotation, eq(schema.annotation.caseId, c.caseId))).toBe(0);
+    expect((await count(schema.annotation, eq(schema.annotation.caseId, c.caseId)))).toBe(0);
   });
 });
 
 describe("annotations", () => {
   it("two clients see each other's annotations in the same order, each with the stored seq", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const tech = await joined(techA, c.caseId);
     const exp = await joined(expert, c.caseId);
     const seen = { tech: [] as AnnotationRecord[], exp: [] as AnnotationRecord[] };
@@ -171,7 +171,7 @@ describe("annotations", () => {
   });
 
   it("updates and deletes by the author get a new seq; a replay since reproduces the final state", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const tech = await joined(techA, c.caseId);
     const exp = await joined(expert, c.caseId);
     const mk = async (t0: number, label: string) => {
@@ -210,18 +210,18 @@ describe("annotations", () => {
   });
 
   it("a retried create with the same clientId is stored once", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const { s } = await joined(techA, c.caseId);
     const payload = { traceId: c.traceId, kind: "note" as const, t0: 0.05, label: "Coil 4 connector was loose", clientId: "retry-test-0001" };
     const first = await ask(s, "annotation:create", payload);
     const second = await ask(s, "annotation:create", payload);
     expect(first.ok && second.ok).toBe(true);
     expect(second.ok && second.annotation.id).toBe(first.ok && first.annotation.id);
-    expect(count(schema.annotation, eq(schema.annotation.caseId, c.caseId))).toBe(1);
+    expect((await count(schema.annotation, eq(schema.annotation.caseId, c.caseId)))).toBe(1);
   });
 
   it("a client that drops during a burst of 500 annotations gets every missed one exactly once after reconnecting with since", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const exp = await joined(expert, c.caseId);
     const techSocket = liveClient(server.url.replace("localhost", "127.0.0.1"), { cookie: techA.cookie, reconnection: true, reconnectionDelay: 300 });
     open.push(techSocket);
@@ -276,7 +276,7 @@ describe("annotations", () => {
 
 describe("chat, data requests, presence, pointers, follow", () => {
   it("chat messages and a request for more data reach the room after the commit", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const tech = await joined(techA, c.caseId);
     const exp = await joined(expert, c.caseId);
     const techGot: MessageRecord[] = [];
@@ -309,7 +309,7 @@ describe("chat, data requests, presence, pointers, follow", () => {
   });
 
   it("shares typing, pointers and the followed view", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const tech = await joined(techA, c.caseId);
     const exp = await joined(expert, c.caseId);
     const presence: PresencePayload[] = [];
@@ -374,7 +374,7 @@ describe("the handshake and the session", () => {
   it("drops a signed-out user's socket, and refuses it afterwards", async () => {
     const u = shopA.technicians[0];
     const agent = await signIn(server, u);
-    const c = newCase();
+    const c = (await newCase());
     const { s } = await joined(agent, c.caseId);
     const reasons: string[] = [];
     s.on("disconnect", (r) => reasons.push(r));
@@ -388,12 +388,12 @@ describe("the handshake and the session", () => {
   });
 
   it("drops the sockets of a user when access is lost (disconnectUser) and when the case moves to another expert", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const exp = await joined(expert, c.caseId);
     const reasons: string[] = [];
     exp.s.on("disconnect", (r) => reasons.push(r));
     const other = await createExpert(server);
-    server.ctx.db.update(schema.caseTable).set({ expertId: other.id }).where(and(eq(schema.caseTable.id, c.caseId))).run();
+    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ expertId: other.id }).where(and(eq(schema.caseTable.id, c.caseId))).run()));
     await until(() => reasons.length > 0, 4000, "disconnect after losing the case");
     expect(reasons[0]).toBe("io server disconnect");
 
@@ -409,17 +409,17 @@ describe("the handshake and the session", () => {
     const s = await client(agent);
     const reasons: string[] = [];
     s.on("disconnect", (r) => reasons.push(r));
-    server.ctx.db.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, shopB.owner.id)).run();
+    (await server.ctx.db.write((tx) => tx.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, shopB.owner.id)).run()));
     try {
       await until(() => reasons.length > 0, 4000, "disconnect after the role change");
       expect(reasons[0]).toBe("io server disconnect");
     } finally {
-      server.ctx.db.update(schema.user).set({ role: "owner" }).where(eq(schema.user.id, shopB.owner.id)).run();
+      (await server.ctx.db.write((tx) => tx.update(schema.user).set({ role: "owner" }).where(eq(schema.user.id, shopB.owner.id)).run()));
     }
   });
 
   it("a new upload by the tech reaches the expert in the room as case:updated (entity trace), its analysis stored", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const exp = await joined(expert, c.caseId);
     const got: { entity: string; id: string }[] = [];
     exp.s.on("case:updated", (u) => got.push(u));
@@ -432,13 +432,13 @@ describe("the handshake and the session", () => {
       .attach("file", Buffer.from(lines.join("\n") + "\n"), "cyl4-again.csv");
     expect(up.status).toBe(201);
     await until(() => got.some((u) => u.entity === "trace" && u.id === up.body.id), 3000, "case:updated for the trace");
-    const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()!;
+    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()))!;
     expect(row.caseId).toBe(c.caseId);
     expect(row.analysis).not.toBeNull(); // analysed before the commit that the event follows
   });
 
   it("pushes messages from other services to the case room (ctx.realtime.toCase)", async () => {
-    const c = newCase();
+    const c = (await newCase());
     const tech = await joined(techA, c.caseId);
     const got: unknown[] = [];
     tech.s.on("case:status", (p) => got.push(p));

@@ -60,7 +60,7 @@ async function newCase(agent: SignedInAgent): Promise<string> {
 
 const tusFiles = () =>
   fs.existsSync(path.join(server.dir, "tmp", "tus")) ? fs.readdirSync(path.join(server.dir, "tmp", "tus")).sort() : [];
-const traceRow = (id: string) => server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, id)).get()!;
+const traceRow = async (id: string) => (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!;
 const sha = (b: Buffer) => crypto.createHash("sha256").update(b).digest("hex");
 
 beforeAll(async () => {
@@ -128,7 +128,7 @@ describe("a resumable upload", () => {
         expect(t2[k], k).toEqual(t1[k]);
       }
       // the stored channel files are the same bytes, and both originals inflate to the file
-      const [r1, r2] = [traceRow(t1.id), traceRow(t2.id)];
+      const [r1, r2] = [await traceRow(t1.id), await traceRow(t2.id)];
       expect(sha(fs.readFileSync(path.join(server.dir, r2.dataPath)))).toBe(
         sha(fs.readFileSync(path.join(server.dir, r1.dataPath))),
       );
@@ -192,7 +192,7 @@ describe("a resumable upload", () => {
     expect((await post(meta(caseA, { fileBytes: String(21 * 1024 * 1024) }))).status).toBe(413);
     expect((await post(meta(caseA), tech.cookie, String(25 * 1024 * 1024))).status).toBe(413); // Upload-Length over the limit
     const submitted = await newCase(tech);
-    server.ctx.db.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, submitted)).run();
+    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, submitted)).run()));
     const locked = await post(meta(submitted));
     expect(locked.status).toBe(409);
     expect(locked.json.error.code).toBe("case_locked");
@@ -278,13 +278,13 @@ describe("an upload whose last byte arrived but was never read (the server stopp
         { timeout: 20_000 },
       )
       .toBe("stored");
-    expect(traceRow(status.traceId).samples).toBe(capture.samples);
+    expect((await traceRow(status.traceId)).samples).toBe(capture.samples);
     // asking again does not store it twice
-    const count = () => server.ctx.db.select().from(schema.trace).all().length;
-    const before = count();
+    const count = async () => (await server.ctx.db.read((tx) => tx.select().from(schema.trace).all())).length;
+    const before = await count();
     await tusRequest(server, "HEAD", loc, { Cookie: tech.cookie });
     await new Promise((r) => setTimeout(r, 500));
-    expect(count()).toBe(before);
+    expect(await count()).toBe(before);
   });
 });
 
@@ -379,7 +379,7 @@ describe("gzip bombs over the resumable path", () => {
     try {
       expect(size).toBeLessThan(2 * 1024 * 1024);
       const files = dataFiles(server.dir);
-      const rows = server.ctx.db.select().from(schema.trace).all().length;
+      const rows = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).all())).length;
       const err: any = await tusUpload(
         server.url,
         tech.cookie,
@@ -390,7 +390,7 @@ describe("gzip bombs over the resumable path", () => {
       expect(err.status).toBe(413);
       expect(err.body.error).toMatchObject({ code: "too_large", details: { reason: "compression-ratio" } });
       expect(dataFiles(server.dir)).toEqual(files);
-      expect(server.ctx.db.select().from(schema.trace).all().length).toBe(rows);
+      expect((await server.ctx.db.read((tx) => tx.select().from(schema.trace).all())).length).toBe(rows);
     } finally {
       fs.rmSync(bombFile, { force: true });
     }
@@ -447,11 +447,10 @@ describe("abandoned uploads", () => {
 describe("progress on the case room", () => {
   it("the expert's socket sees the capture arrive, get checked and measured, and stored", async () => {
     const caseId = await newCase(tech);
-    server.ctx.db
-      .update(schema.caseTable)
+    (await server.ctx.db.write((tx) => tx.update(schema.caseTable)
       .set({ status: "claimed", expertId, claimedAt: new Date() })
       .where(eq(schema.caseTable.id, caseId))
-      .run();
+      .run()));
     const socket = connectClient(server.url, {
       transports: ["websocket"],
       extraHeaders: { Cookie: expert.cookie },

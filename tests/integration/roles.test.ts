@@ -49,7 +49,7 @@ test("a user whose stored role is not one of the known roles is denied everythin
   const team = await createShopTeam(s, { technicians: 1 });
   const ag = await signIn(s, team.technicians[0]);
   expect((await ag.get("/api/me")).status).toBe(200);
-  s.ctx.db.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, team.technicians[0].id)).run();
+  (await s.ctx.db.write((tx) => tx.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, team.technicians[0].id)).run()));
   const me = await ag.get("/api/me");
   expect(me.status).toBe(401);
   expect(me.body.error.code).toBe("unauthenticated");
@@ -159,7 +159,7 @@ describe("expert application and review", () => {
     expect(approve.body.profile.status).toBe("approved");
     const mail = await waitForMail(s, email, "approved", decisionSince);
     expect(mail.text).toContain("Welcome aboard.");
-    const row = s.ctx.db.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, entry.userId)).get()!;
+    const row = (await s.ctx.db.read((tx) => tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, entry.userId)).get()))!;
     expect(row.decidedBy).not.toBeNull();
 
     const on = await applicant.patch("/api/experts/me").send({ available: true });

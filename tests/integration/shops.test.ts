@@ -39,7 +39,7 @@ describe("invitations", () => {
 
     // Only the token's SHA-256 is stored (the link carries the token itself): OWASP Forgot Password
     // Cheat Sheet, store one-time tokens securely; docs/api.md states it for invitations.
-    const row = s.ctx.db.select().from(schema.invite).where(eq(schema.invite.email, email)).get()!;
+    const row = (await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.email, email)).get()))!;
     expect(row.tokenHash).toBe(hashToken(token));
     expect(row.tokenHash).not.toContain(token);
     // 7 days: our stated lifetime (docs/api.md, INVITE_TTL_DAYS); the length itself is common practice, no source
@@ -77,11 +77,11 @@ describe("invitations", () => {
 
     // one-time (docs/api.md "one-time link"; OWASP Forgot Password Cheat Sheet: tokens are single
     // use): the same link again is refused and nothing more is created
-    const users = s.ctx.db.select({ n: count() }).from(schema.user).get()!.n;
+    const users = (await s.ctx.db.read((tx) => tx.select({ n: count() }).from(schema.user).get()))!.n;
     const reuse = await request(base).post("/api/invites/accept").send({ token, name: "Someone Else", password: "Joining-the-bay-78" });
     expect(reuse.status).toBe(404);
     expect(reuse.body.error.code).toBe("invite_invalid");
-    expect(s.ctx.db.select({ n: count() }).from(schema.user).get()!.n).toBe(users);
+    expect((await s.ctx.db.read((tx) => tx.select({ n: count() }).from(schema.user).get()))!.n).toBe(users);
   });
 
   test("an invitation expires after 7 days", async () => {
@@ -98,7 +98,7 @@ describe("invitations", () => {
     } finally {
       s.ctx.now = realNow;
     }
-    expect(s.ctx.db.select().from(schema.user).where(eq(schema.user.email, "late-tech@example.test")).get()).toBeUndefined();
+    expect((await s.ctx.db.read((tx) => tx.select().from(schema.user).where(eq(schema.user.email, "late-tech@example.test")).get()))).toBeUndefined();
   });
 
   test("a revoked or replaced invitation no longer works", async () => {
@@ -159,9 +159,9 @@ describe("invitations", () => {
       expect(notice.links.some((l) => /token=/.test(l))).toBe(false);
     }
     // The accounts are as they were.
-    const rowOf = (id: string) => s.ctx.db.select().from(schema.user).where(eq(schema.user.id, id)).get()!;
-    expect(rowOf(expert.id)).toMatchObject({ role: "expert", shopId: null, deactivatedAt: null });
-    expect(rowOf(otherTech.id)).toMatchObject({ role: "technician", shopId: elsewhere.shop.id, deactivatedAt: null });
+    const rowOf = async (id: string) => (await s.ctx.db.read((tx) => tx.select().from(schema.user).where(eq(schema.user.id, id)).get()))!;
+    expect((await rowOf(expert.id))).toMatchObject({ role: "expert", shopId: null, deactivatedAt: null });
+    expect((await rowOf(otherTech.id))).toMatchObject({ role: "technician", shopId: elsewhere.shop.id, deactivatedAt: null });
     expect((await (await signIn(s, otherTech)).get("/api/me")).body).toMatchObject({ role: "technician", shopId: elsewhere.shop.id });
 
     for (const r of answers) {
@@ -179,7 +179,7 @@ describe("invitations", () => {
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe("already_in_team");
     expect(res.body.error.details.fields[0].path).toBe("email");
-    expect(s.ctx.db.select().from(schema.invite).where(eq(schema.invite.email, member.email)).all()).toEqual([]);
+    expect((await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.email, member.email)).all()))).toEqual([]);
     expect(s.mailCatcher!.messages().some((m) => m.to.includes(member.email) && /invited you/i.test(m.subject))).toBe(false);
   });
 
@@ -190,7 +190,7 @@ describe("invitations", () => {
     const res = await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: "not an address" });
     expect(res.status).toBe(400);
     expect(res.body.error.details.fields).toEqual([{ path: "email", message: expect.any(String) }]);
-    expect(s.ctx.db.select().from(schema.invite).where(eq(schema.invite.shopId, team.shop.id)).all()).toEqual([]);
+    expect((await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.shopId, team.shop.id)).all()))).toEqual([]);
     const accept = await request(base).post("/api/invites/accept").send({ token: "short", name: "", password: "12345678" });
     expect(accept.status).toBe(400);
     expect(accept.body.error.details.fields.map((f: { path: string }) => f.path).sort()).toEqual(["name", "password", "token"]);
@@ -217,7 +217,7 @@ describe("removing a technician", () => {
     // Project rule (issue 2: the owner removes technicians; docs/api.md: sessions deleted, live
     // connections closed); OWASP Session Management Cheat Sheet: invalidate sessions server-side.
     expect(disconnected).toEqual([techUser.id]);
-    expect(s.ctx.db.select().from(schema.session).where(eq(schema.session.userId, techUser.id)).all()).toEqual([]);
+    expect((await s.ctx.db.read((tx) => tx.select().from(schema.session).where(eq(schema.session.userId, techUser.id)).all()))).toEqual([]);
     expect((await tech.get("/api/me")).status).toBe(401);
     const again = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", nextTestIp()).send({ email: techUser.email, password: techUser.password });
     // docs/api.md (sign-in): a removed technician gets 403 account_deactivated.

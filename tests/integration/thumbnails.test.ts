@@ -46,7 +46,7 @@ beforeAll(async () => {
   const b = up.body;
   traceT0 = b.t0;
   const t: CasebookTrace = { id: b.id, name: "Coil 2", kind: b.kind, samples: b.samples, sampleRateHz: b.sampleRateHz, t0: b.t0, durationS: b.durationS, channels: b.channels, settings: b.settings, analysis: b.analysis, windowUrl: `/api/traces/${b.id}/window` };
-  [entryId, emptyId] = insertCasebookEntries(server.ctx.db, [
+  [entryId, emptyId] = await insertCasebookEntries(server.ctx.db, [
     { caseId: created.body.id, expertId: e.id, vehicle: { year: 2017, make: "Veltra", model: "Orvane" }, complaint: "Misfire", diagnosis: "Coil 2", rootCause: "Coil 2", fix: "Coil 2", traces: [t] },
     { vehicle: { year: 2016, make: "Veltra", model: "Orvane" }, complaint: "No traces here", diagnosis: "—", rootCause: "—", fix: "—", traces: [], publishedAt: new Date(Date.now() + 1000) },
   ]);
@@ -102,12 +102,12 @@ describe("casebook thumbnails", () => {
 
   it("are authorised like the entry: signed out 401, hidden 404 but for admins, unknown 404", async () => {
     expect((await request(server.url).get(`/api/casebook/${entryId}/thumbnail.svg`)).status).toBe(401);
-    server.ctx.db.update(schema.casebookEntry).set({ hidden: true }).where(eq(schema.casebookEntry.id, entryId)).run();
+    (await server.ctx.db.write((tx) => tx.update(schema.casebookEntry).set({ hidden: true }).where(eq(schema.casebookEntry.id, entryId)).run()));
     try {
       expect((await tech.get(`/api/casebook/${entryId}/thumbnail.svg`)).status).toBe(404);
       expect((await admin.get(`/api/casebook/${entryId}/thumbnail.svg`)).status).toBe(200);
     } finally {
-      server.ctx.db.update(schema.casebookEntry).set({ hidden: false }).where(eq(schema.casebookEntry.id, entryId)).run();
+      (await server.ctx.db.write((tx) => tx.update(schema.casebookEntry).set({ hidden: false }).where(eq(schema.casebookEntry.id, entryId)).run()));
     }
     expect((await tech.get(`/api/casebook/no-such-entry/thumbnail.svg`)).status).toBe(404);
   });

@@ -122,8 +122,8 @@ function upload(agent: any, caseId: string, body: string | Buffer, filename = "c
     .attach("file", Buffer.isBuffer(body) ? body : Buffer.from(body), { filename, contentType: "text/csv" });
 }
 
-function storedAnalysis(id: string) {
-  return server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, id)).get()!.analysis;
+async function storedAnalysis(id: string) {
+  return (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!.analysis;
 }
 
 function filesUnder(dir: string): string[] {
@@ -163,10 +163,10 @@ describe("POST /api/cases/:id/traces", () => {
     expect(t.settings).toMatchObject({ voltsPerDiv: 2, timePerDivS: 0.001, triggerLevel: 1.5, cylinder: 4, triggerMode: "auto", coupling: "dc" });
     // measured once at upload (shared/analysis), stored with the trace: the kind from the settings
     expect(t.analysis).toMatchObject({ kind: "secondary-ignition", channel: "A" });
-    expect(storedAnalysis(t.id)).toEqual(t.analysis);
+    expect((await storedAnalysis(t.id))).toEqual(t.analysis);
 
     const sha = crypto.createHash("sha256").update(g.text).digest("hex");
-    const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, t.id)).get()!;
+    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, t.id)).get()))!;
     expect(row.sha256).toBe(sha);
     // kept gzip-compressed (RFC 1952), addressed by the SHA-256 of the plain bytes; node:zlib inflates it back
     expect(row.originalPath).toBe(`originals/${sha.slice(0, 2)}/${sha}.gz`);
@@ -206,7 +206,7 @@ describe("POST /api/cases/:id/traces", () => {
     const r2 = await upload(ownerA, caseId, g.text, "second.csv");
     expect(r1.status).toBe(201);
     expect(r2.status).toBe(201);
-    const rows = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all();
+    const rows = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all()));
     expect(rows).toHaveLength(2);
     expect(rows[0].originalPath).toBe(rows[1].originalPath);
     // removing one keeps the file for the other
@@ -352,9 +352,9 @@ describe("DELETE /api/traces/:id", () => {
     const caseId = await newCase(techA);
     const g = generate(300, { seed: 21 });
     const up = await upload(techA, caseId, g.text);
-    const row = server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()!;
+    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()))!;
     expect((await ownerA.delete(`/api/traces/${up.body.id}`)).status).toBe(204);
-    expect(server.ctx.db.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()).toBeUndefined();
+    expect((await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()))).toBeUndefined();
     expect(fs.existsSync(path.join(server.dir, row.originalPath))).toBe(false);
     expect(fs.existsSync(path.join(server.dir, row.dataPath))).toBe(false);
     expect((await techA.get(`/api/traces/${up.body.id}`)).status).toBe(404);
@@ -362,7 +362,7 @@ describe("DELETE /api/traces/:id", () => {
     expect(ev).toEqual(["created", "trace_added", "trace_deleted"]);
 
     const up2 = await upload(techA, caseId, generate(300, { seed: 22 }).text);
-    server.ctx.db.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, caseId)).run();
+    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, caseId)).run()));
     const res = await techA.delete(`/api/traces/${up2.body.id}`);
     expect(res.status).toBe(409);
     expect((await techA.get(`/api/traces/${up2.body.id}`)).status).toBe(200);
@@ -382,7 +382,7 @@ describe("tenant isolation on the trace routes", () => {
   });
 
   const readRoutes = () => [`/api/traces/${traceId}`, `/api/traces/${traceId}/window?width=10`, `/api/traces/${traceId}/original`];
-  const traceCount = () => server.ctx.db.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all().length;
+  const traceCount = async () => (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all())).length;
 
   it("another shop's technician and owner get 404 on every trace route and change nothing", async () => {
     for (const who of [techB, ownerB]) {
@@ -394,7 +394,7 @@ describe("tenant isolation on the trace routes", () => {
       expect((await who.delete(`/api/traces/${traceId}`)).status).toBe(404);
       expect((await upload(who, caseId, generate(50).text)).status).toBe(404);
     }
-    expect(traceCount()).toBe(1);
+    expect((await traceCount())).toBe(1);
     expect(filesUnder(path.join(server.dir, "tmp"))).toEqual([]);
   });
 
@@ -403,7 +403,7 @@ describe("tenant isolation on the trace routes", () => {
     for (const p of readRoutes()) expect((await anon.get(p)).status, p).toBe(401);
     expect((await anon.delete(`/api/traces/${traceId}`)).status).toBe(401);
     expect((await upload(anon, caseId, generate(50).text)).status).toBe(401);
-    expect(traceCount()).toBe(1);
+    expect((await traceCount())).toBe(1);
   });
 
   it("an expert who has not claimed the case gets 404; once claimed they read but do not change", async () => {
@@ -411,11 +411,11 @@ describe("tenant isolation on the trace routes", () => {
     expect((await expert.delete(`/api/traces/${traceId}`)).status).toBe(404);
     expect((await upload(expert, caseId, generate(50).text)).status).toBe(404);
 
-    server.ctx.db.update(schema.caseTable).set({ expertId, status: "claimed" }).where(eq(schema.caseTable.id, caseId)).run();
+    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ expertId, status: "claimed" }).where(eq(schema.caseTable.id, caseId)).run()));
     for (const p of readRoutes()) expect((await expert.get(p)).status, p).toBe(200);
     expect((await expert.delete(`/api/traces/${traceId}`)).status).toBe(403);
     expect((await upload(expert, caseId, generate(50).text)).status).toBe(403);
-    expect(traceCount()).toBe(1);
+    expect((await traceCount())).toBe(1);
     // while claimed the shop may still add a capture the expert asked for
     expect((await upload(techA, caseId, generate(60, { seed: 41 }).text)).status).toBe(201);
   });

@@ -24,11 +24,10 @@ const capture = captureCsv({ seed: 9 });
 const settingsJson = JSON.stringify(uploadSettings);
 const BOUNDARY = "----burnline-hardening";
 
-const rows = () =>
-  server.ctx.db
-    .select({ n: sql<number>`count(*)` })
+const rows = async () =>
+  (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` })
     .from(schema.trace)
-    .get()!.n;
+    .get()))!.n;
 
 /** A multipart body by hand: the settings field, then the file part with the given header lines. */
 function multipart(
@@ -94,12 +93,12 @@ const mp = (
 
 async function expectNothingLeft(run: () => Promise<{ status: number; body: any }>, status: number, code: string) {
   const files = dataFiles(server.dir);
-  const before = rows();
+  const before = await rows();
   const res = await run();
   expect(res.status, JSON.stringify(res.body)).toBe(status);
   expect(res.body.error.code).toBe(code);
   expect(dataFiles(server.dir)).toEqual(files);
-  expect(rows()).toBe(before);
+  expect(await rows()).toBe(before);
   return res;
 }
 

@@ -48,21 +48,21 @@ function dataFiles(): string[] {
     .filter((p) => fs.statSync(path.join(server.dir, p)).isFile())
     .sort();
 }
-const rows = () => ({
-  traces: server.ctx.db.select({ n: sql<number>`count(*)` }).from(schema.trace).get()!.n,
-  photos: server.ctx.db.select({ n: sql<number>`count(*)` }).from(schema.photo).get()!.n,
-  events: server.ctx.db.select({ n: sql<number>`count(*)` }).from(schema.caseEvent).get()!.n,
+const rows = async () => ({
+  traces: (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(schema.trace).get()))!.n,
+  photos: (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(schema.photo).get()))!.n,
+  events: (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(schema.caseEvent).get()))!.n,
 });
 
 /** Runs a refused request and checks that nothing was left behind. */
 async function expectNothingLeft(run: () => Promise<request.Response>, status: number): Promise<request.Response> {
   const files = dataFiles();
-  const before = rows();
+  const before = (await rows());
   const res = await run();
   expect(res.status, JSON.stringify(res.body)).toBe(status);
   expect(res.body.error).toEqual(expect.objectContaining({ code: expect.any(String), message: expect.any(String) }));
   expect(dataFiles()).toEqual(files);
-  expect(rows()).toEqual(before);
+  expect((await rows())).toEqual(before);
   expect(fs.readdirSync(path.join(server.dir, "tmp", "uploads"))).toEqual([]);
   return res;
 }
@@ -175,7 +175,7 @@ describe("refused trace uploads leave nothing behind", () => {
   });
 
   it("an upload the client abandons half-way leaves no temp file and no row", async () => {
-    const before = rows();
+    const before = (await rows());
     const files = dataFiles();
     const boundary = "----burnline-test-boundary";
     const head = Buffer.from(
@@ -215,7 +215,7 @@ describe("refused trace uploads leave nothing behind", () => {
     for (let i = 0; i < 200 && fs.readdirSync(dir).length > 0; i++) await new Promise((r) => setTimeout(r, 10));
     expect(fs.readdirSync(dir)).toEqual([]);
     expect(dataFiles()).toEqual(files);
-    expect(rows()).toEqual(before);
+    expect((await rows())).toEqual(before);
   });
 
   it("two uploads at once both succeed, and the server answers other requests meanwhile", async () => {

@@ -30,13 +30,13 @@ afterAll(async () => server?.close());
 afterEach(async () => {
   server.fakeStripe!.releaseDeliveries();
   await server.fakeStripe!.idle();
-  expectLedgerBalanced(server, "all");
+  (await expectLedgerBalanced(server, "all"));
 });
 
 async function newCase() {
   const t = await createShopTeam(server, { technicians: 1 });
   const tech = await signIn(server, t.technicians[0]);
-  const caseId = insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
   const res = await tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" });
   expect(res.status).toBe(201);
   return { t, tech, caseId, sessionId: sessionIdOf(res.body.checkoutUrl) };
@@ -61,7 +61,7 @@ function post(payload: string, signature?: string) {
 const header = (payload: string, opts: { secret?: string; timestamp?: number } = {}) =>
   Stripe.webhooks.generateTestHeaderString({ payload, secret: opts.secret ?? SECRET, timestamp: opts.timestamp ?? Math.floor(Date.now() / 1000) });
 
-const eventCount = () => Number(server.ctx.db.select({ n: sql<number>`count(*)` }).from(schema.stripeEvent).get()!.n);
+const eventCount = async () => Number((await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(schema.stripeEvent).get()))!.n);
 
 describe("signature verification", () => {
   it("refuses a wrong secret, one changed byte, a timestamp 301 s old and one 600 s ahead with 400, and applies nothing", async () => {
@@ -71,7 +71,7 @@ describe("signature verification", () => {
     const completed = server.fakeStripe!.events("checkout.session.completed").find((e) => (e.data.object as { id: string }).id === sessionId)!;
     const payload = JSON.stringify(completed, null, 2);
     const now = Math.floor(Date.now() / 1000);
-    const before = eventCount();
+    const before = (await eventCount());
 
     const wrongSecret = await post(payload, header(payload, { secret: "whsec_not_the_right_one" }));
     expect(wrongSecret.status).toBe(400);
@@ -100,14 +100,14 @@ describe("signature verification", () => {
 
     // every refusal has the product's error shape
     for (const r of [wrongSecret, changed, old, future, missing]) expect(Object.keys(r.body.error).sort()).toEqual(["code", "message"]);
-    expect(eventCount()).toBe(before);
-    expect(caseRow(server, caseId).status).toBe("awaiting_payment");
+    expect((await eventCount())).toBe(before);
+    expect((await caseRow(server, caseId)).status).toBe("awaiting_payment");
 
     // positive control: the same payload, correctly signed 299 s ago (inside the tolerance), applies
     const ok = await post(payload, header(payload, { timestamp: now - 299 }));
     expect(ok.status).toBe(200);
     expect(ok.body).toMatchObject({ received: true, id: completed.id, outcome: "applied" });
-    expect(caseRow(server, caseId).status).toBe("queued");
+    expect((await caseRow(server, caseId)).status).toBe("queued");
   });
 
   it("a webhook needs no Origin check and no session (signed by the sender)", async () => {
@@ -135,16 +135,16 @@ describe("exactly once, any order", () => {
     server.fakeStripe!.releaseDeliveries();
     await server.fakeStripe!.idle();
 
-    expect(caseRow(server, caseId).status).toBe("queued");
-    const hist = server.ctx.db.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all();
+    expect((await caseRow(server, caseId)).status).toBe("queued");
+    const hist = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all()));
     expect(hist.filter((e) => e.type === "payment_authorized")).toHaveLength(1);
-    const entries = server.ctx.db.select().from(schema.ledgerEntry).where(eq(schema.ledgerEntry.caseId, caseId)).all();
+    const entries = (await server.ctx.db.read((tx) => tx.select().from(schema.ledgerEntry).where(eq(schema.ledgerEntry.caseId, caseId)).all()));
     expect(entries.filter((e) => e.kind === "authorization")).toHaveLength(1);
-    const offers = server.ctx.db.select().from(schema.caseOffer).where(eq(schema.caseOffer.caseId, caseId)).all();
+    const offers = (await server.ctx.db.read((tx) => tx.select().from(schema.caseOffer).where(eq(schema.caseOffer.caseId, caseId)).all()));
     expect(offers.length).toBe(new Set(offers.map((o) => o.expertId)).size);
     await flushMail(server);
     expect(mailsTo(server, t.technicians[0].email, /^Paid and queued/)).toHaveLength(1);
-    expect(server.ctx.db.select().from(schema.stripeEvent).where(eq(schema.stripeEvent.id, completed.id)).all()).toHaveLength(1);
+    expect((await server.ctx.db.read((tx) => tx.select().from(schema.stripeEvent).where(eq(schema.stripeEvent.id, completed.id)).all()))).toHaveLength(1);
   });
 
   it("events in reverse order (a decline, then success on the same checkout) end queued, once", async () => {
@@ -152,7 +152,7 @@ describe("exactly once, any order", () => {
     server.fakeStripe!.holdDeliveries();
     expect(pay(sessionId, CARDS.declined).ok).toBe(false);
     expect(pay(sessionId, CARDS.ok).ok).toBe(true);
-    const pi = paymentsOf(server, caseId)[0];
+    const pi = (await paymentsOf(server, caseId))[0];
     const piId = server.fakeStripe!.state.checkoutSessions[sessionId].payment_intent!;
     // the failure events were created before the success events
     const types = eventsFor(piId).map((e) => e.type);
@@ -160,15 +160,15 @@ describe("exactly once, any order", () => {
     server.fakeStripe!.releaseDeliveries({ reverse: true });
     await server.fakeStripe!.idle();
 
-    expect(caseRow(server, caseId).status).toBe("queued");
-    const p = paymentsOf(server, caseId).find((x) => x.id === pi.id)!;
+    expect((await caseRow(server, caseId)).status).toBe("queued");
+    const p = (await paymentsOf(server, caseId)).find((x) => x.id === pi.id)!;
     expect(p.status).toBe("authorized");
     expect(p.failureMessage).toBeNull();
     const wf = await (await signIn(server, t.technicians[0])).get(`/api/cases/${caseId}/workflow`);
     expect(wf.body.paymentMessage).toBeNull();
     await flushMail(server);
     expect(mailsTo(server, t.technicians[0].email, /^Paid and queued/)).toHaveLength(1);
-    expect(expectLedgerBalanced(server, caseId).heldCents).toBe(p.amountCents);
+    expect((await expectLedgerBalanced(server, caseId)).heldCents).toBe(p.amountCents);
   });
 
   it("events shuffled after a withdrawal do not bring the case back", async () => {
@@ -178,15 +178,15 @@ describe("exactly once, any order", () => {
     // the authorisation reaches us, then the shop withdraws; the other events arrive afterwards
     const capturable = server.fakeStripe!.events("payment_intent.amount_capturable_updated").at(-1)!;
     expect((await server.fakeStripe!.redeliver(capturable.id)).status).toBe(200);
-    expect(caseRow(server, caseId).status).toBe("queued");
+    expect((await caseRow(server, caseId)).status).toBe("queued");
     const w = await tech.post(`/api/cases/${caseId}/withdraw`);
     expect(w.status).toBe(200);
     server.fakeStripe!.releaseDeliveries({ reverse: true });
     await server.fakeStripe!.idle();
-    expect(caseRow(server, caseId).status).toBe("withdrawn");
+    expect((await caseRow(server, caseId)).status).toBe("withdrawn");
     const piId = server.fakeStripe!.state.checkoutSessions[sessionId].payment_intent!;
     expect(server.fakeStripe!.state.paymentIntents[piId].status).toBe("canceled");
-    expect(expectLedgerBalanced(server, caseId)).toMatchObject({ heldCents: 0, capturedCents: 0 });
+    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ heldCents: 0, capturedCents: 0 });
   });
 
   it("a checkout paid for a case that was withdrawn meanwhile is released at once", async () => {
@@ -197,7 +197,7 @@ describe("exactly once, any order", () => {
     expect(server.fakeStripe!.state.checkoutSessions[sessionId].status).toBe("expired");
     expect(pay(sessionId, CARDS.ok).ok).toBe(false);
     await server.fakeStripe!.idle();
-    expect(caseRow(server, caseId).status).toBe("withdrawn");
+    expect((await caseRow(server, caseId)).status).toBe("withdrawn");
   });
 
   it("two checkouts of one case both paid (the first one's webhooks late): one hold kept, the other cancelled", async () => {
@@ -212,10 +212,10 @@ describe("exactly once, any order", () => {
     server.fakeStripe!.releaseDeliveries({ reverse: true });
     await server.fakeStripe!.idle();
 
-    expect(caseRow(server, caseId).status).toBe("queued");
+    expect((await caseRow(server, caseId)).status).toBe("queued");
     const pis = [first, second].map((s) => server.fakeStripe!.state.paymentIntents[server.fakeStripe!.state.checkoutSessions[s].payment_intent!]);
     expect(pis.map((p) => p.status)).toEqual(["canceled", "requires_capture"]);
-    const b = expectLedgerBalanced(server, caseId);
+    const b = (await expectLedgerBalanced(server, caseId));
     expect(b.heldCents).toBe(pis[1].amount);
     expect(b.releasedCents).toBe(pis[0].amount);
   });

@@ -6,4 +6,5 @@ export * from "./queue";
 export * from "./live";
 export * from "./casebook";
 export * from "./mail";
+export * from "./uploads";
 export * from "./desk";

@@ -34,17 +34,21 @@ export async function deleteDraft(ctx: AppContext, actor: Actor, caseId: string)
     return { traces, photos };
   });
   // The rows are gone; now their files, unless another trace or photo holds the same content.
-  const stillUsed = (table: typeof trace | typeof photo, sha256: string) =>
-    ctx.db.select({ id: table.id }).from(table).where(eq(table.sha256, sha256)).limit(1).get() !== undefined;
+  const stillUsed = async (table: typeof trace | typeof photo, sha256: string) => {
+    const row = await ctx.db.read((tx) =>
+      tx.select({ id: table.id }).from(table).where(eq(table.sha256, sha256)).limit(1).get(),
+    );
+    return row !== undefined;
+  };
   for (const t of result.traces) {
     forgetOpenTrace(traceDataFilePath(ctx, t));
     await removeStoredFile(traceDataFilePath(ctx, t));
     const original = originalFilePath(ctx, t);
-    if (contentInFlight(original) === 0 && !stillUsed(trace, t.sha256)) await removeStoredFile(original);
+    if (contentInFlight(original) === 0 && !(await stillUsed(trace, t.sha256))) await removeStoredFile(original);
   }
   for (const p of result.photos) {
     const abs = photoFilePath(ctx, p);
-    if (contentInFlight(abs) === 0 && !stillUsed(photo, p.sha256)) await removeStoredFile(abs);
+    if (contentInFlight(abs) === 0 && !(await stillUsed(photo, p.sha256))) await removeStoredFile(abs);
   }
   return { id: caseId, deleted: true, traces: result.traces.length, photos: result.photos.length };
 }

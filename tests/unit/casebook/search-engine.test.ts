@@ -9,7 +9,7 @@
  * first) and the pages.
  */
 import { beforeAll, describe, expect, it } from "vitest";
-import { openDatabase, type Db } from "../../../server/db/client";
+import { openFile, type Db } from "../../../server/db/client";
 import { insertCasebookEntries } from "../../../server/services/casebook";
 import { CasebookSearchEngine, contentMatch, facetKey, queryPhrases, RANK_WINDOW, type CasebookSearchQuery, type FacetCount, type FacetDim } from "../../../server/services/casebook-search-engine";
 import { CASEBOOK_ENGINES, CASEBOOK_MAKES, syntheticEntries } from "../../factories/casebook";
@@ -31,16 +31,18 @@ interface Row {
 }
 
 let db: Db;
+let sqlite: NonNullable<Db["sqlite"]>;
 let engine: CasebookSearchEngine;
 
-beforeAll(() => {
-  db = openDatabase(":memory:");
-  insertCasebookEntries(db, syntheticEntries(300, 11, { dense: true }), { now: new Date(Date.UTC(2026, 0, 1)) });
-  engine = new CasebookSearchEngine(db.$client);
+beforeAll(async () => {
+  db = openFile(":memory:");
+  sqlite = db.sqlite!;
+  await insertCasebookEntries(db, syntheticEntries(300, 11, { dense: true }), { now: new Date(Date.UTC(2026, 0, 1)) });
+  engine = new CasebookSearchEngine(sqlite);
 });
 
 function rows(): Row[] {
-  return db.$client.prepare("SELECT doc_id, id, make, model, year, engine, system, code_list, confirmed, hidden FROM casebook_entry").all() as Row[];
+  return sqlite.prepare("SELECT doc_id, id, make, model, year, engine, system, code_list, confirmed, hidden FROM casebook_entry").all() as Row[];
 }
 
 /** The reference answer, by brute force. */
@@ -51,14 +53,14 @@ function reference(q: CasebookSearchQuery) {
   const score = new Map<number, number>();
   let complete = true;
   if (phrases.length) {
-    const ids = (m: string) => new Set(db.$client.prepare("SELECT rowid FROM casebook_fts WHERE casebook_fts MATCH ?").pluck().all(m) as number[]);
+    const ids = (m: string) => new Set(sqlite.prepare("SELECT rowid FROM casebook_fts WHERE casebook_fts MATCH ?").pluck().all(m) as number[]);
     const matchedIds = ids(contentMatch(phrases));
     matched = all.filter((r) => matchedIds.has(r.doc_id));
     // the documented ranking rule: bm25 (FTS5's own) over the words as complete words; where the
     // last word is only the start of longer words in some entries, those follow the ranked ones
     const last = phrases[phrases.length - 1];
     const exact = last.endsWith("*") && ids(contentMatch([last.slice(0, -1)])).size > 0 ? [...phrases.slice(0, -1), last.slice(0, -1)] : phrases;
-    for (const r of db.$client.prepare(`SELECT rowid AS doc, ${BM25} AS s FROM casebook_fts WHERE casebook_fts MATCH ?`).all(contentMatch(exact)) as { doc: number; s: number }[]) score.set(r.doc, r.s);
+    for (const r of sqlite.prepare(`SELECT rowid AS doc, ${BM25} AS s FROM casebook_fts WHERE casebook_fts MATCH ?`).all(contentMatch(exact)) as { doc: number; s: number }[]) score.set(r.doc, r.s);
   }
   const codes = (r: Row) => JSON.parse(r.code_list) as string[];
   const tests: Record<FacetDim, (r: Row) => boolean> = {
@@ -125,13 +127,13 @@ function randomQuery(rng: ReturnType<typeof createRng>): CasebookSearchQuery {
 }
 
 describe("casebook search engine vs a brute-force reference", () => {
-  it("agrees on totals, facet counts, order and pages for 200 generated searches", () => {
+  it("agrees on totals, facet counts, order and pages for 200 generated searches", async () => {
     const rng = createRng(2024);
     let nonEmpty = 0;
     let filtered = 0;
     for (let i = 0; i < 200; i++) {
       const q = randomQuery(rng);
-      const got = engine.search(q);
+      const got = (await engine.search(q));
       const ref = reference(q);
       const label = JSON.stringify(q);
       expect(got.total, label).toBe(ref.total);
@@ -156,14 +158,14 @@ describe("casebook search engine vs a brute-force reference", () => {
     expect(filtered).toBeGreaterThan(100);
   });
 
-  it("beyond the ranked window: bm25 over the newest results, then the older ones newest first, each once", () => {
-    const small = new CasebookSearchEngine(db.$client, { rankWindow: 25 });
+  it("beyond the ranked window: bm25 over the newest results, then the older ones newest first, each once", async () => {
+    const small = new CasebookSearchEngine(sqlite, { rankWindow: 25 });
     const ref = reference({ q: "coil", pageSize: 1000 });
     expect(ref.total).toBeGreaterThan(40);
     const pages: string[] = [];
-    let first: ReturnType<CasebookSearchEngine["search"]> | null = null;
+    let first: Awaited<ReturnType<CasebookSearchEngine["search"]>> | null = null;
     for (let p = 1; p <= Math.ceil(ref.total / 10); p++) {
-      const r = small.search({ q: "coil", page: p, pageSize: 10 });
+      const r = (await small.search({ q: "coil", page: p, pageSize: 10 }));
       if (p === 1) first = r;
       expect(r.total).toBe(ref.total);
       pages.push(...r.results.map((x) => x.id));
@@ -176,64 +178,64 @@ describe("casebook search engine vs a brute-force reference", () => {
     expect(RANK_WINDOW).toBeGreaterThan(300); // so the 200 searches above were all ranked in full
   });
 
-  it("leaves words found in more than half of the entries out of bm25 (FTS5 gives them its idf floor) and orders by recency when nothing is left", () => {
+  it("leaves words found in more than half of the entries out of bm25 (FTS5 gives them its idf floor) and orders by recency when nothing is left", async () => {
     // SQLite's fts5_aux.c: idf = log((N − n + 0.5) / (n + 0.5)), and 1e-6 when that is ≤ 0
-    const e = new CasebookSearchEngine(db.$client, { commonDocs: 10 });
-    const every = e.search({ q: "recapture", pageSize: 100 }); // in every entry's tests-to-confirm
+    const e = new CasebookSearchEngine(sqlite, { commonDocs: 10 });
+    const every = (await e.search({ q: "recapture", pageSize: 100 })); // in every entry's tests-to-confirm
     expect(every.total).toBe(300);
     expect(every.ranking).toEqual({ method: "recent", candidates: 300, exact: false });
     const docIds = rows().sort((a, b) => b.doc_id - a.doc_id).map((r) => r.id);
     expect(every.results.map((r) => r.id)).toEqual(docIds.slice(0, 100));
     // with a rarer word beside it, the order is bm25's over the rarer word alone
-    const both = e.search({ q: "recapture boot", pageSize: 100 });
-    const alone = new CasebookSearchEngine(db.$client).search({ q: "boot", pageSize: 100 });
+    const both = (await e.search({ q: "recapture boot", pageSize: 100 }));
+    const alone = (await new CasebookSearchEngine(sqlite).search({ q: "boot", pageSize: 100 }));
     expect(both.total).toBe(alone.total);
     expect(both.results.map((r) => r.id)).toEqual(alone.results.map((r) => r.id));
   });
 
-  it("matches whole words and prefixes as typed, on words whose porter stem is the word itself", () => {
+  it("matches whole words and prefixes as typed, on words whose porter stem is the word itself", async () => {
     // "coil", "boot" and "crank" end in no suffix of Porter's (1980) rules, so the raw word check is the reference
-    const all = db.$client.prepare("SELECT doc_id, vehicle, complaint, symptoms, codes, diagnosis, root_cause, fix FROM casebook_entry").all() as Record<string, string | number>[];
+    const all = sqlite.prepare("SELECT doc_id, vehicle, complaint, symptoms, codes, diagnosis, root_cause, fix FROM casebook_entry").all() as Record<string, string | number>[];
     const words = (r: Record<string, string | number>) => new Set(Object.entries(r).filter(([k]) => k !== "doc_id").flatMap(([, v]) => String(v).toLowerCase().match(/[\p{L}\p{N}]+/gu) ?? []));
     for (const w of ["coil", "boot", "crank"]) {
       const expected = all.filter((r) => words(r).has(w)).length;
-      expect(engine.search({ q: `${w} ` }).total).toBeGreaterThan(0);
+      expect((await engine.search({ q: `${w} ` })).total).toBeGreaterThan(0);
       // the last word is a prefix: "coil" also finds "coils" (none in the corpus) — count with the prefix rule
       const withPrefix = all.filter((r) => [...words(r)].some((x) => x.startsWith(w))).length;
-      expect(engine.search({ q: w }).total, w).toBe(withPrefix);
+      expect((await engine.search({ q: w })).total, w).toBe(withPrefix);
       expect(withPrefix).toBeGreaterThanOrEqual(expected);
     }
   });
 
-  it("never passes the user's text to MATCH raw: operators and quotes are words", () => {
+  it("never passes the user's text to MATCH raw: operators and quotes are words", async () => {
     for (const q of ['coil" OR "x', "coil OR zzzz", "coil NOT boot", "NEAR(coil boot)", "{fix}: coil", "coil*", "-coil", "^coil", "coil AND", '"', "*", "(", "a:b"]) {
-      expect(() => engine.search({ q }), q).not.toThrow();
+      await expect(engine.search({ q }), q).resolves.toBeDefined();
     }
     // "OR" is a word here, not the FTS5 operator: coil OR zzzz needs all three words
-    expect(engine.search({ q: "coil OR zzzz" }).total).toBe(0);
-    expect(engine.search({ q: "coil NOT boot" }).total).toBe(0);
-    expect(engine.search({ q: '"' }).total).toBe(engine.search({}).total); // no words: everything
+    expect((await engine.search({ q: "coil OR zzzz" })).total).toBe(0);
+    expect((await engine.search({ q: "coil NOT boot" })).total).toBe(0);
+    expect((await engine.search({ q: '"' })).total).toBe((await engine.search({})).total); // no words: everything
   });
 
-  it("stays in step with edits, hiding and unhiding (the phrase cache is patched)", () => {
-    const before = engine.search({ q: "coil" }).total;
-    const target = (engine.search({ q: "coil" }).results[0]).id;
-    const rev = () => (db.$client.prepare("SELECT max(rev) FROM casebook_entry").pluck().get() as number) + 1;
-    db.$client.prepare("UPDATE casebook_entry SET hidden = 1, rev = ? WHERE id = ?").run(rev(), target);
-    expect(engine.search({ q: "coil" }).total).toBe(before - 1);
-    expect(engine.search({ q: "coil" }).results.map((r) => r.id)).not.toContain(target);
-    db.$client.prepare("UPDATE casebook_entry SET hidden = 0, fix = 'Replaced the quixotic harness', rev = ? WHERE id = ?").run(rev(), target);
-    expect(engine.search({ q: "quixotic" }).results.map((r) => r.id)).toEqual([target]);
-    expect(engine.search({ q: "coil" }).total).toBe(reference({ q: "coil" }).total);
+  it("stays in step with edits, hiding and unhiding (the phrase cache is patched)", async () => {
+    const before = (await engine.search({ q: "coil" })).total;
+    const target = ((await engine.search({ q: "coil" })).results[0]).id;
+    const rev = () => (sqlite.prepare("SELECT max(rev) FROM casebook_entry").pluck().get() as number) + 1;
+    sqlite.prepare("UPDATE casebook_entry SET hidden = 1, rev = ? WHERE id = ?").run(rev(), target);
+    expect((await engine.search({ q: "coil" })).total).toBe(before - 1);
+    expect((await engine.search({ q: "coil" })).results.map((r) => r.id)).not.toContain(target);
+    sqlite.prepare("UPDATE casebook_entry SET hidden = 0, fix = 'Replaced the quixotic harness', rev = ? WHERE id = ?").run(rev(), target);
+    expect((await engine.search({ q: "quixotic" })).results.map((r) => r.id)).toEqual([target]);
+    expect((await engine.search({ q: "coil" })).total).toBe(reference({ q: "coil" }).total);
     // many changes at once: the cache is dropped and rebuilt
     const ids = rows().slice(0, 150).map((r) => r.id);
-    const up = db.$client.prepare("UPDATE casebook_entry SET hidden = 1, rev = ? WHERE id = ?");
-    db.$client.transaction(() => ids.forEach((id) => up.run(rev(), id)))();
-    expect(engine.search({ q: "coil" }).total).toBe(reference({ q: "coil" }).total);
-    expect(engine.search({}).total).toBe(150);
-    const un = db.$client.prepare("UPDATE casebook_entry SET hidden = 0, rev = ? WHERE id = ?");
-    db.$client.transaction(() => ids.forEach((id) => un.run(rev(), id)))();
-    expect(engine.search({}).total).toBe(300);
-    db.$client.prepare("INSERT INTO casebook_fts(casebook_fts, rank) VALUES ('integrity-check', 1)").run();
+    const up = sqlite.prepare("UPDATE casebook_entry SET hidden = 1, rev = ? WHERE id = ?");
+    sqlite.transaction(() => ids.forEach((id) => up.run(rev(), id)))();
+    expect((await engine.search({ q: "coil" })).total).toBe(reference({ q: "coil" }).total);
+    expect((await engine.search({})).total).toBe(150);
+    const un = sqlite.prepare("UPDATE casebook_entry SET hidden = 0, rev = ? WHERE id = ?");
+    sqlite.transaction(() => ids.forEach((id) => un.run(rev(), id)))();
+    expect((await engine.search({})).total).toBe(300);
+    sqlite.prepare("INSERT INTO casebook_fts(casebook_fts, rank) VALUES ('integrity-check', 1)").run();
   });
 });

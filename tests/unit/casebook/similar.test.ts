@@ -12,7 +12,7 @@ import { generateSecondary } from "../../generators/secondary";
 import { casePattern, featureDistance, FEATURE_DIMS, patternVector, SimilarIndex, similarIndex, similarityReasons, type CasePattern, type PatternTrace } from "../../../server/services/similar";
 import { syntheticEntries, syntheticPattern } from "../../factories/casebook";
 import { createRng } from "../../helpers/prng";
-import { openDatabase } from "../../../server/db/client";
+import { openFile } from "../../../server/db/client";
 import { insertCasebookEntries } from "../../../server/services/casebook";
 
 /** Four coil-on-plug captures, one per coil, measured as at upload. */
@@ -90,15 +90,16 @@ describe("ranking", () => {
     expect(ix.nearest(patternVector(query), 1)[0].entryId).toBe("look-alike");
   });
 
-  it("loads the vectors from the casebook once and follows publishing and hiding", () => {
-    const db = openDatabase(":memory:");
-    insertCasebookEntries(db, syntheticEntries(200, 3), { scrub: false });
+  it("loads the vectors from the casebook once and follows publishing and hiding", async () => {
+    const db = openFile(":memory:");
+    await insertCasebookEntries(db, syntheticEntries(200, 3), { scrub: false });
     const p: CasePattern = syntheticPattern(createRng(1), { oddCoil: 3, burnMs: 1.6, oddBurnMs: 0.3, rpm: 1234, cylinders: 4 });
-    const [id] = insertCasebookEntries(db, [{ ...syntheticEntries(1, 4)[0], pattern: p }]);
+    const [id] = await insertCasebookEntries(db, [{ ...syntheticEntries(1, 4)[0], pattern: p }]);
     const v = patternVector(p);
-    expect(similarIndex(db).nearest(v, 1)[0]).toMatchObject({ entryId: id, distance: 0, similarity: 1 });
-    const rev = (db.$client.prepare("SELECT max(rev) FROM casebook_entry").pluck().get() as number) + 1;
-    db.$client.prepare("UPDATE casebook_entry SET hidden = 1, rev = ? WHERE id = ?").run(rev, id);
-    expect(similarIndex(db).nearest(v, 3).map((m) => m.entryId)).not.toContain(id);
+    expect((await similarIndex(db)).nearest(v, 1)[0]).toMatchObject({ entryId: id, distance: 0, similarity: 1 });
+    const sqlite = db.sqlite!;
+    const rev = (sqlite.prepare("SELECT max(rev) FROM casebook_entry").pluck().get() as number) + 1;
+    sqlite.prepare("UPDATE casebook_entry SET hidden = 1, rev = ? WHERE id = ?").run(rev, id);
+    expect((await similarIndex(db)).nearest(v, 3).map((m) => m.entryId)).not.toContain(id);
   });
 });
