@@ -81,7 +81,10 @@ export async function startServer(
 
   let db: Db;
   try {
-    db = await openDatabase(env.DATABASE_URL, { authToken: env.DATABASE_AUTH_TOKEN, concurrency: env.DATABASE_CONCURRENCY });
+    db = await openDatabase(env.DATABASE_URL, {
+      authToken: env.DATABASE_AUTH_TOKEN,
+      concurrency: env.DATABASE_CONCURRENCY,
+    });
   } catch (err) {
     server.close();
     throw err;
@@ -102,7 +105,11 @@ export async function startServer(
   let mailCatcher: RunningServer["mailCatcher"] = null;
   let smtp = { host: env.SMTP_HOST, port: env.SMTP_PORT };
   if (!env.SMTP_HOST) {
-    mailCatcher = await startMailCatcher({ port: env.MAIL_CATCHER_PORT, host: "127.0.0.1", storeDir: path.join(env.dataDir, "mail") });
+    mailCatcher = await startMailCatcher({
+      port: env.MAIL_CATCHER_PORT,
+      host: "127.0.0.1",
+      storeDir: path.join(env.dataDir, "mail"),
+    });
     smtp = { host: "127.0.0.1", port: mailCatcher.port };
   }
   const transport = createMailer({
@@ -120,7 +127,9 @@ export async function startServer(
 
   let fakeStripe: RunningServer["fakeStripe"] = null;
   let apiBase = env.STRIPE_API_BASE;
-  const realStripe = env.STRIPE_SECRET_KEY.startsWith("sk_live_") || (env.STRIPE_SECRET_KEY.startsWith("sk_test_") && !env.STRIPE_SECRET_KEY.startsWith("sk_test_burnline"));
+  const realStripe =
+    env.STRIPE_SECRET_KEY.startsWith("sk_live_") ||
+    (env.STRIPE_SECRET_KEY.startsWith("sk_test_") && !env.STRIPE_SECRET_KEY.startsWith("sk_test_burnline"));
   if (!apiBase && !realStripe) {
     // The hosted checkout opens on the app's own host name (localhost vs 127.0.0.1), so the browser
     // comes back to the app with the same cookies; on a LAN name it listens where the app does.
@@ -215,7 +224,9 @@ export async function startServer(
 
 /** The workflow's sweeps, the queue sweep's period set by QUEUE_SWEEP_MS when given. */
 function sweepsFor(env: Env): Sweep[] {
-  return workflowSweeps.map((s) => (s.name === "queue" && env.QUEUE_SWEEP_MS ? { ...s, everyMs: env.QUEUE_SWEEP_MS } : s));
+  return workflowSweeps.map((s) =>
+    s.name === "queue" && env.QUEUE_SWEEP_MS ? { ...s, everyMs: env.QUEUE_SWEEP_MS } : s,
+  );
 }
 
 /** Answers while the app is being built: health (503 with what is pending), liveness (200), anything else 503. */

@@ -72,7 +72,6 @@ export interface CrankTruth {
   peakV: number;
 }
 
-
 export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTruth> {
   const rng = createRng(opts.seed ?? 1);
   const rate = opts.sampleRateHz ?? 100e3;
@@ -138,7 +137,7 @@ export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTr
     // the last tooth before each gap passing the sensor: its centre
     for (const last of lastBeforeGap) {
       const rel = th - last * PITCH;
-      const prevRel = (th - omega / rate) - last * PITCH;
+      const prevRel = th - omega / rate - last * PITCH;
       if (prevRel < 0 && rel >= 0) gapTimes.push(t - rel / omega);
     }
     theta += omega / rate;
@@ -147,7 +146,10 @@ export function generateCrank(opts: CrankOptions = {}): GeneratedCapture<CrankTr
   const settings: CaptureSettingsInput = {
     kind: "crank",
     probe: "direct",
-    voltsPerDiv: Math.max(0.5, Math.ceil((kV * omega0 * (1 + ripple) * 1.3) / (SIGMA * Math.sqrt(Math.E)) / 4 * 10) / 10),
+    voltsPerDiv: Math.max(
+      0.5,
+      Math.ceil(((kV * omega0 * (1 + ripple) * 1.3) / (SIGMA * Math.sqrt(Math.E)) / 4) * 10) / 10,
+    ),
     timePerDivS: duration / 10,
     sensor: "crankshaft position (VR)",
   };

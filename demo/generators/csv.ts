@@ -41,7 +41,9 @@ export function renderCsv(trace: ParsedTrace, opts: CsvOptions = {}): string {
   const n = trace.samples;
   const head: string[] = [];
   if (timeUnit !== "none") {
-    head.push(style === "paren" ? `Time (${timeUnit})` : style === "bracket" ? `Time [${timeUnit}]` : `Time_${timeUnit}`);
+    head.push(
+      style === "paren" ? `Time (${timeUnit})` : style === "bracket" ? `Time [${timeUnit}]` : `Time_${timeUnit}`,
+    );
   }
   for (const c of trace.channels) head.push(`${c.name} (${valueUnit})`);
 

@@ -197,7 +197,8 @@ function eventKv(
   const dt = t - m.tApex;
   const cusp = o.tip === "breakdown";
   if (cusp) y += breakdownTip(m.peak, o.reserve, sr, sf, dt);
-  else if (Math.abs(dt) < 12 * Math.max(sr, sf)) y += m.peak * Math.exp(-(dt * dt) / (2 * (dt < 0 ? sr * sr : sf * sf)));
+  else if (Math.abs(dt) < 12 * Math.max(sr, sf))
+    y += m.peak * Math.exp(-(dt * dt) / (2 * (dt < 0 ? sr * sr : sf * sf)));
   if (t >= m.tApex && t < m.tEnd) {
     const onset = cusp ? 1 - Math.exp(-dt / sf) : smoothstep(dt / (3 * sf));
     const mid = (m.tApex + m.tEnd) / 2;

@@ -3,8 +3,21 @@
  * same capture) and parameterised, and returns { trace: ParsedTrace, truth, settings }; renderCsv
  * writes any of them as a scope export (delimiter, decimal comma, time and value units, metadata).
  */
-export { generateSecondary, ringingPeaksOf, type SecondaryOptions, type SecondaryTruth, type SecondaryEventTruth, type SecondaryFault, type GeneratedCapture } from "./secondary";
-export { generateCompression, type CompressionOptions, type CompressionTruth, type CompressionStrokeTruth } from "./compression";
+export {
+  generateSecondary,
+  ringingPeaksOf,
+  type SecondaryOptions,
+  type SecondaryTruth,
+  type SecondaryEventTruth,
+  type SecondaryFault,
+  type GeneratedCapture,
+} from "./secondary";
+export {
+  generateCompression,
+  type CompressionOptions,
+  type CompressionTruth,
+  type CompressionStrokeTruth,
+} from "./compression";
 export { generateInjector, type InjectorOptions, type InjectorTruth, type InjectorPulseTruth } from "./injector";
 export { generateCrank, type CrankOptions, type CrankTruth } from "./crank";
 export { renderCsv, type CsvOptions } from "./csv";

@@ -127,7 +127,8 @@ export function generateInjector(opts: InjectorOptions = {}): GeneratedCapture<I
   const truthPulses: InjectorPulseTruth[] = pulses.map((p) => ({
     timeS: p.tOn,
     pulseWidthMs: (p.tOff - p.tOn) * 1e3,
-    turnOffPeak: (clampV ?? spikeV) + (humpV > 0 ? humpV * Math.exp(-0.5 * ((SPIKE_RISE - humpDelay) / HUMP_SIGMA) ** 2) : 0),
+    turnOffPeak:
+      (clampV ?? spikeV) + (humpV > 0 ? humpV * Math.exp(-0.5 * ((SPIKE_RISE - humpDelay) / HUMP_SIGMA) ** 2) : 0),
     clamped: clampV != null,
     humpDelayMs: humpV > 0 ? humpDelay * 1e3 : null,
     humpHeight: humpV > 0 ? humpV : null,

@@ -135,7 +135,9 @@ function eventY(e: EventModel, t: number): number {
   let y = 0;
   if (e.tOn != null && t >= e.tOn && t < e.tFire + TP) {
     const u = t - e.tOn;
-    const d = -e.dwellStep * (0.5 + 0.5 * Math.exp(-u / 0.3e-3)) - 0.6 * e.dwellStep * Math.exp(-u / 80e-6) * Math.cos(2 * Math.PI * 12e3 * u);
+    const d =
+      -e.dwellStep * (0.5 + 0.5 * Math.exp(-u / 0.3e-3)) -
+      0.6 * e.dwellStep * Math.exp(-u / 80e-6) * Math.cos(2 * Math.PI * 12e3 * u);
     y += t < e.tFire ? d : d * (1 - smoothstep((t - e.tFire) / TP));
   }
   if (t >= e.tFire && t < e.tFire + SPIKE_SPAN) {
@@ -349,9 +351,10 @@ export function generateSecondary(opts: SecondaryOptions = {}): GeneratedCapture
   const trace = makeTrace(rate, [{ name: "A", unit: "V", values }]);
   const maxAbs = Math.max(Math.abs(trace.channels[0].max - baseV), Math.abs(trace.channels[0].min - baseV));
   // the screen: ground in the middle, 4 divisions each side; a clipped capture's ceiling is the screen edge
-  const voltsPerDiv = opts.clip?.high != null || opts.clip?.low != null
-    ? Math.max(Math.abs((opts.clip.high ?? 0) - baseV), Math.abs((opts.clip.low ?? 0) - baseV)) / 4
-    : niceUp((maxAbs * 1.25) / 4);
+  const voltsPerDiv =
+    opts.clip?.high != null || opts.clip?.low != null
+      ? Math.max(Math.abs((opts.clip.high ?? 0) - baseV), Math.abs((opts.clip.low ?? 0) - baseV)) / 4
+      : niceUp((maxAbs * 1.25) / 4);
   return {
     trace,
     truth: {

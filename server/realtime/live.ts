@@ -30,7 +30,6 @@ export interface Throttle<P> {
   pending: P | null;
 }
 
-
 /** Per-socket state that stays on this node (timers are not data to share). */
 export interface SocketLocal {
   pointer: Throttle<z.infer<typeof pointerMoveSchema>>;
@@ -118,7 +117,11 @@ export function createLive(
   const local = (socket: LiveSocket): SocketLocal => {
     let l = locals.get(socket);
     if (!l) {
-      l = { pointer: { last: 0, timer: null, pending: null }, view: { last: 0, timer: null, pending: null }, checked: null };
+      l = {
+        pointer: { last: 0, timer: null, pending: null },
+        view: { last: 0, timer: null, pending: null },
+        checked: null,
+      };
       locals.set(socket, l);
     }
     return l;
@@ -193,7 +196,14 @@ export function createLive(
       void socket.leave(`case:${caseId}`);
       const { userLeft } = await parts.presence.leave(caseId, socket.id, socket.data.userId);
       // The user's pointer leaves the others' plots with their last socket.
-      if (userLeft) io.to(`case:${caseId}`).emit("pointer", { caseId, userId: socket.data.userId, name: "", color: "", traceId: null });
+      if (userLeft)
+        io.to(`case:${caseId}`).emit("pointer", {
+          caseId,
+          userId: socket.data.userId,
+          name: "",
+          color: "",
+          traceId: null,
+        });
     },
     acked(event, ack, fn) {
       fn().then(
@@ -217,7 +227,12 @@ export function createLive(
           if (!w.changed) return answer();
           const rec = job.record(w);
           parts.publish(rec);
-          parts.delivery.deliver({ caseId: job.plan.caseId, seq: rec.record.seq, rec, origin: { socketId: socket.id, ack: answer } });
+          parts.delivery.deliver({
+            caseId: job.plan.caseId,
+            seq: rec.record.seq,
+            rec,
+            origin: { socketId: socket.id, ack: answer },
+          });
           if (job.after) {
             try {
               job.after(w);

@@ -187,7 +187,8 @@ export async function redisPresence(redis: SharedRedis, emit: EmitPresence, logg
       if (!removed) return { userLeft: false };
       const userLeft = !(await userStillIn(caseId, userId));
       if (userLeft) await r.hdel(k.typing(caseId), userId);
-      if ((await r.hlen(k.sockets(caseId))) === 0) await r.multi().del(k.view(caseId), k.typing(caseId)).srem(k.rooms, caseId).exec();
+      if ((await r.hlen(k.sockets(caseId))) === 0)
+        await r.multi().del(k.view(caseId), k.typing(caseId)).srem(k.rooms, caseId).exec();
       await announce(caseId);
       return { userLeft };
     },
@@ -210,7 +211,8 @@ export async function redisPresence(redis: SharedRedis, emit: EmitPresence, logg
     },
     snapshot,
     async setView(v) {
-      if ((await r.hlen(k.sockets(v.caseId))) > 0) await r.set(k.view(v.caseId), JSON.stringify(v), "PX", 24 * 3600_000);
+      if ((await r.hlen(k.sockets(v.caseId))) > 0)
+        await r.set(k.view(v.caseId), JSON.stringify(v), "PX", 24 * 3600_000);
     },
     async view(caseId) {
       const raw = await r.get(k.view(caseId));

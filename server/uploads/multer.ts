@@ -56,7 +56,10 @@ export class HashingDiskStorage implements StorageEngine {
   _handleFile(
     req: Request,
     file: Express.Multer.File,
-    cb: (error?: Error | null, info?: Partial<Express.Multer.File> & { sha256?: string; detected?: string | null }) => void,
+    cb: (
+      error?: Error | null,
+      info?: Partial<Express.Multer.File> & { sha256?: string; detected?: string | null },
+    ) => void,
   ): void {
     const stream = file.stream;
     if (stream.destroyed) return cb(new MulterError("LIMIT_UNEXPECTED_FILE"));
@@ -126,7 +129,8 @@ export class HashingDiskStorage implements StorageEngine {
     stream.on("end", () => {
       if (settled) return;
       if (deferred) return fail(deferred.err);
-      if ((stream as Readable & { truncated?: boolean }).truncated) return fail(new MulterError("LIMIT_FILE_SIZE", file.fieldname));
+      if ((stream as Readable & { truncated?: boolean }).truncated)
+        return fail(new MulterError("LIMIT_FILE_SIZE", file.fieldname));
       if (!sniffed && !runSniff()) return;
       out.end();
     });

@@ -9,9 +9,22 @@
  * No React, no DOM.
  */
 import type { TraceChannelMeta } from "../../shared/trace/types";
-import { channelUnits, formatQuantity, parseUnit, type ChannelUnits, type UnitSettings } from "../../shared/trace/units";
+import {
+  channelUnits,
+  formatQuantity,
+  parseUnit,
+  type ChannelUnits,
+  type UnitSettings,
+} from "../../shared/trace/units";
 
-export { channelUnits, formatQuantity, normaliseUnit, parseUnit, scopeSetting, type ChannelUnits } from "../../shared/trace/units";
+export {
+  channelUnits,
+  formatQuantity,
+  normaliseUnit,
+  parseUnit,
+  scopeSetting,
+  type ChannelUnits,
+} from "../../shared/trace/units";
 
 const PREFIXES: { p: string; f: number }[] = [
   { p: "G", f: 1e9 },
@@ -126,7 +139,8 @@ export function formatTicks(values: number[], step: number, unit: string | null 
 }
 
 function plainTick(x: number, step: number, unit: string): string {
-  for (let d = 0; d <= 9; d++) if (Math.abs(Number(x.toFixed(d)) - x) <= step * 1e-3) return `${trimZeros(x.toFixed(d))} ${unit}`;
+  for (let d = 0; d <= 9; d++)
+    if (Math.abs(Number(x.toFixed(d)) - x) <= step * 1e-3) return `${trimZeros(x.toFixed(d))} ${unit}`;
   return `${x} ${unit}`;
 }
 
@@ -139,11 +153,18 @@ function fixedTicks(values: number[], step: number, unit: string): string[] {
 function unitSettings(settings: object | undefined): UnitSettings {
   const s = (settings ?? {}) as Record<string, unknown>;
   const num = (x: unknown) => (typeof x === "number" ? x : undefined);
-  return { probe: typeof s.probe === "string" ? s.probe : undefined, kvPerVolt: num(s.kvPerVolt), mvPerAmp: num(s.mvPerAmp) };
+  return {
+    probe: typeof s.probe === "string" ? s.probe : undefined,
+    kvPerVolt: num(s.kvPerVolt),
+    mvPerAmp: num(s.mvPerAmp),
+  };
 }
 
 /** The unit model of a trace's channel (the first by default). */
-export function traceUnits(trace: { channels: { unit: string | null }[]; settings?: object }, channel = 0): ChannelUnits {
+export function traceUnits(
+  trace: { channels: { unit: string | null }[]; settings?: object },
+  channel = 0,
+): ChannelUnits {
   return channelUnits(trace.channels[channel]?.unit ?? null, unitSettings(trace.settings));
 }
 
@@ -169,8 +190,14 @@ export function formatPhysical(value: number, cu: ChannelUnits, digits = 3): str
 export { formatQuantity as formatWithPrefix };
 
 /** What the units of a trace are and where they come from, in a sentence (the trace's details). */
-export function unitSentence(cu: ChannelUnits, channel?: Pick<TraceChannelMeta, "unitWritten" | "scaledFrom" | "unitFrom">): string {
-  const shown = cu.source === "file" && cu.quantity === "other" ? `Levels are shown in ${cu.unit}, as exported.` : `Levels are shown in ${cu.unit} ${cu.label}.`;
+export function unitSentence(
+  cu: ChannelUnits,
+  channel?: Pick<TraceChannelMeta, "unitWritten" | "scaledFrom" | "unitFrom">,
+): string {
+  const shown =
+    cu.source === "file" && cu.quantity === "other"
+      ? `Levels are shown in ${cu.unit}, as exported.`
+      : `Levels are shown in ${cu.unit} ${cu.label}.`;
   const parts = [shown];
   if (cu.note) parts.push(cu.note);
   if (channel?.unitWritten) parts.push(`The file writes the unit as “${channel.unitWritten}”.`);

@@ -60,7 +60,8 @@ async function newCase(agent: SignedInAgent): Promise<string> {
 
 const tusFiles = () =>
   fs.existsSync(path.join(server.dir, "tmp", "tus")) ? fs.readdirSync(path.join(server.dir, "tmp", "tus")).sort() : [];
-const traceRow = async (id: string) => (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!;
+const traceRow = async (id: string) =>
+  (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!;
 const sha = (b: Buffer) => crypto.createHash("sha256").update(b).digest("hex");
 
 beforeAll(async () => {
@@ -192,7 +193,9 @@ describe("a resumable upload", () => {
     expect((await post(meta(caseA, { fileBytes: String(21 * 1024 * 1024) }))).status).toBe(413);
     expect((await post(meta(caseA), tech.cookie, String(25 * 1024 * 1024))).status).toBe(413); // Upload-Length over the limit
     const submitted = await newCase(tech);
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, submitted)).run()));
+    await server.ctx.db.write((tx) =>
+      tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, submitted)).run(),
+    );
     const locked = await post(meta(submitted));
     expect(locked.status).toBe(409);
     expect(locked.json.error.code).toBe("case_locked");
@@ -447,10 +450,13 @@ describe("abandoned uploads", () => {
 describe("progress on the case room", () => {
   it("the expert's socket sees the capture arrive, get checked and measured, and stored", async () => {
     const caseId = await newCase(tech);
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable)
-      .set({ status: "claimed", expertId, claimedAt: new Date() })
-      .where(eq(schema.caseTable.id, caseId))
-      .run()));
+    await server.ctx.db.write((tx) =>
+      tx
+        .update(schema.caseTable)
+        .set({ status: "claimed", expertId, claimedAt: new Date() })
+        .where(eq(schema.caseTable.id, caseId))
+        .run(),
+    );
     const socket = connectClient(server.url, {
       transports: ["websocket"],
       extraHeaders: { Cookie: expert.cookie },

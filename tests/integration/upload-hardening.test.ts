@@ -25,9 +25,12 @@ const settingsJson = JSON.stringify(uploadSettings);
 const BOUNDARY = "----burnline-hardening";
 
 const rows = async () =>
-  (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` })
-    .from(schema.trace)
-    .get()))!.n;
+  (await server.ctx.db.read((tx) =>
+    tx
+      .select({ n: sql<number>`count(*)` })
+      .from(schema.trace)
+      .get(),
+  ))!.n;
 
 /** A multipart body by hand: the settings field, then the file part with the given header lines. */
 function multipart(

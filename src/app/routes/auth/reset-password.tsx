@@ -21,7 +21,10 @@ export function ResetPasswordPage() {
   const reset = useResetPassword();
   const [done, setDone] = useState(false);
   const [formError, setFormError] = useState<{ code: string; message: string } | null>(null);
-  const form = useForm<Values, unknown, z.output<typeof resetPasswordSchema>>({ resolver: zodResolver(resetPasswordSchema), defaultValues: { token, newPassword: "" } });
+  const form = useForm<Values, unknown, z.output<typeof resetPasswordSchema>>({
+    resolver: zodResolver(resetPasswordSchema),
+    defaultValues: { token, newPassword: "" },
+  });
   const newPassword = useWatch({ control: form.control, name: "newPassword" });
   const submit = form.handleSubmit(async (values) => {
     setFormError(null);
@@ -76,7 +79,13 @@ export function ResetPasswordPage() {
       ) : null}
       <form onSubmit={submit} noValidate className="mt-4 space-y-4">
         <input type="hidden" {...form.register("token")} />
-        <PasswordField label="New password" autoComplete="new-password" hint={passwordHint} error={form.formState.errors.newPassword?.message} {...form.register("newPassword")} />
+        <PasswordField
+          label="New password"
+          autoComplete="new-password"
+          hint={passwordHint}
+          error={form.formState.errors.newPassword?.message}
+          {...form.register("newPassword")}
+        />
         {form.formState.errors.newPassword ? null : <PasswordStrength password={newPassword ?? ""} />}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={reset.isPending}>
           {reset.isPending ? "Saving…" : "Set the new password"}

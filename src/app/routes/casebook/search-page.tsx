@@ -1,6 +1,10 @@
 import { useState, type FormEvent } from "react";
 import { useSearchParams } from "react-router-dom";
-import { useCasebookSearch, SEARCH_PARAM_NAMES, type CasebookSearchParams } from "../../../features/casebook/api/search-casebook";
+import {
+  useCasebookSearch,
+  SEARCH_PARAM_NAMES,
+  type CasebookSearchParams,
+} from "../../../features/casebook/api/search-casebook";
 import { ActiveFilters, FacetGroup } from "../../../features/casebook/components/facet-chips";
 import { Pagination, ResultList } from "../../../features/casebook/components/result-list";
 import { buttonClass, inputClass } from "../../../features/casebook/components/ui";
@@ -12,7 +16,9 @@ const FILTER_DIMS: FacetDim[] = ["make", "model", "engine", "system", "code", "c
 /** /casebook — search resolved cases by vehicle, code, symptom and fix; facets as filter chips. */
 export function CasebookSearchPage() {
   const [sp, setSp] = useSearchParams();
-  const params: CasebookSearchParams = Object.fromEntries(SEARCH_PARAM_NAMES.map((k) => [k, sp.get(k) ?? undefined]).filter(([, v]) => v !== undefined));
+  const params: CasebookSearchParams = Object.fromEntries(
+    SEARCH_PARAM_NAMES.map((k) => [k, sp.get(k) ?? undefined]).filter(([, v]) => v !== undefined),
+  );
   const q = useCasebookSearch(params);
   const [text, setText] = useState(params.q ?? "");
   const [years, setYears] = useState({ from: params.yearFrom ?? "", to: params.yearTo ?? "" });
@@ -45,16 +51,26 @@ export function CasebookSearchPage() {
     const v = params[d as keyof CasebookSearchParams];
     if (!v) continue;
     const f = data?.facets[d]?.find((x) => x.value === v);
-    const label = d === "system" ? (systemNames[v] ?? v) : d === "confirmed" ? (v === "true" ? "Fix confirmed" : "Not confirmed") : (f?.label ?? v);
+    const label =
+      d === "system"
+        ? (systemNames[v] ?? v)
+        : d === "confirmed"
+          ? v === "true"
+            ? "Fix confirmed"
+            : "Not confirmed"
+          : (f?.label ?? v);
     active.push({ key: d, label: `${facetTitles[d]}: ${label}` });
   }
-  if (params.yearFrom || params.yearTo) active.push({ key: "years", label: `Model year ${params.yearFrom ?? "…"}–${params.yearTo ?? "…"}` });
+  if (params.yearFrom || params.yearTo)
+    active.push({ key: "years", label: `Model year ${params.yearFrom ?? "…"}–${params.yearTo ?? "…"}` });
 
   return (
     <div className="space-y-5">
       <header>
         <h1 className="text-2xl font-bold">Casebook</h1>
-        <p className="text-ink-600">Resolved cases, anonymised: find the fix by vehicle, trouble code, symptom or what the waveform showed.</p>
+        <p className="text-ink-600">
+          Resolved cases, anonymised: find the fix by vehicle, trouble code, symptom or what the waveform showed.
+        </p>
       </header>
 
       <form role="search" onSubmit={submit} className="flex flex-wrap gap-2">
@@ -75,7 +91,11 @@ export function CasebookSearchPage() {
         </button>
         <label className="flex items-center gap-2 text-sm font-semibold text-ink-700">
           Sort
-          <select className={`${inputClass} w-auto`} value={params.sort ?? "relevance"} onChange={(e) => update({ sort: e.target.value === "relevance" ? undefined : e.target.value })}>
+          <select
+            className={`${inputClass} w-auto`}
+            value={params.sort ?? "relevance"}
+            onChange={(e) => update({ sort: e.target.value === "relevance" ? undefined : e.target.value })}
+          >
             <option value="relevance">Best match</option>
             <option value="recent">Newest</option>
           </select>
@@ -92,11 +112,21 @@ export function CasebookSearchPage() {
         >
           {filtersOpen ? "Hide the filters" : "Filter by make, model, code…"}
         </button>
-        <aside id="casebook-filters" aria-label="Filters" className={`space-y-4 ${filtersOpen ? "" : "hidden"} lg:block`}>
+        <aside
+          id="casebook-filters"
+          aria-label="Filters"
+          className={`space-y-4 ${filtersOpen ? "" : "hidden"} lg:block`}
+        >
           {data ? (
             <>
               {FILTER_DIMS.map((d) => (
-                <FacetGroup key={d} dim={d} facets={data.facets[d] ?? []} selected={params[d as keyof CasebookSearchParams]} onSelect={(v) => update({ [d]: v })} />
+                <FacetGroup
+                  key={d}
+                  dim={d}
+                  facets={data.facets[d] ?? []}
+                  selected={params[d as keyof CasebookSearchParams]}
+                  onSelect={(v) => update({ [d]: v })}
+                />
               ))}
               <YearFilter
                 years={years}
@@ -176,11 +206,23 @@ function YearFilter({
       >
         <label className="text-sm text-ink-700">
           From
-          <input className={`${inputClass} w-24`} inputMode="numeric" pattern="[0-9]{4}" value={years.from} onChange={(e) => onYears({ ...years, from: e.target.value })} />
+          <input
+            className={`${inputClass} w-24`}
+            inputMode="numeric"
+            pattern="[0-9]{4}"
+            value={years.from}
+            onChange={(e) => onYears({ ...years, from: e.target.value })}
+          />
         </label>
         <label className="text-sm text-ink-700">
           To
-          <input className={`${inputClass} w-24`} inputMode="numeric" pattern="[0-9]{4}" value={years.to} onChange={(e) => onYears({ ...years, to: e.target.value })} />
+          <input
+            className={`${inputClass} w-24`}
+            inputMode="numeric"
+            pattern="[0-9]{4}"
+            value={years.to}
+            onChange={(e) => onYears({ ...years, to: e.target.value })}
+          />
         </label>
         <button type="submit" className={buttonClass.secondary}>
           Apply

@@ -43,7 +43,15 @@ function useUnread(room: CaseRoom, chatInView: boolean): number {
   return chatInView || seen === null ? 0 : others.filter((m) => (m.seq ?? 0) > seen).length;
 }
 
-function OwnMarkActions({ room, mark, onRemoved }: { room: CaseRoom; mark: CaseRoom["annotations"][number]; onRemoved: () => void }) {
+function OwnMarkActions({
+  room,
+  mark,
+  onRemoved,
+}: {
+  room: CaseRoom;
+  mark: CaseRoom["annotations"][number];
+  onRemoved: () => void;
+}) {
   return (
     <div className="flex flex-wrap items-center gap-2 px-3 text-sm sm:px-0">
       <span className="text-ink-700">Your mark{mark.label ? ` “${mark.label}”` : ""}:</span>
@@ -57,7 +65,11 @@ function OwnMarkActions({ room, mark, onRemoved }: { room: CaseRoom; mark: CaseR
       >
         Edit label
       </button>
-      <button type="button" className="min-h-11 rounded-lg px-3 font-semibold text-alarm-600 hover:bg-alarm-500/10" onClick={() => void room.deleteMark(mark.id).then((r) => r.ok && onRemoved())}>
+      <button
+        type="button"
+        className="min-h-11 rounded-lg px-3 font-semibold text-alarm-600 hover:bg-alarm-500/10"
+        onClick={() => void room.deleteMark(mark.id).then((r) => r.ok && onRemoved())}
+      >
         Remove
       </button>
     </div>
@@ -71,7 +83,15 @@ function OwnMarkActions({ room, mark, onRemoved }: { room: CaseRoom; mark: CaseR
  * tap away in a sheet raised from a dock at the bottom of the screen. Composes the trace viewer
  * (features/traces) with the live room (features/live).
  */
-export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: string; traces: TraceInfo[]; flaggedTraceId?: string }) {
+export function LiveReview({
+  caseId,
+  traces: given,
+  flaggedTraceId,
+}: {
+  caseId: string;
+  traces: TraceInfo[];
+  flaggedTraceId?: string;
+}) {
   const qc = useQueryClient();
   const traces = useStableTraces(given);
   const incoming = useIncomingUploads(caseId);
@@ -90,7 +110,10 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
   const unread = useUnread(room, desk || sheet === "chat");
   const shop = room.you?.role === "technician" || room.you?.role === "owner";
 
-  const pointers = useMemo(() => room.pointers.filter((p) => traces.some((t) => t.id === p.traceId)), [room.pointers, traces]);
+  const pointers = useMemo(
+    () => room.pointers.filter((p) => traces.some((t) => t.id === p.traceId)),
+    [room.pointers, traces],
+  );
   const selectedMark = room.annotations.find((a) => a.id === selected && !a.pending);
   const canEditSelected = !!selectedMark && selectedMark.authorId === room.you?.userId && room.abilities.annotate;
 
@@ -98,7 +121,11 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
     room.sendMessage(text, request);
     // A request for more data also moves a claimed case to "waiting for data" (the queue's endpoint).
     if (request && room.caseStatus === "claimed") {
-      void api.post(`/api/cases/${encodeURIComponent(caseId)}/request-data`, { message: describeRequest(request, text).slice(0, 2000) }).catch(() => {});
+      void api
+        .post(`/api/cases/${encodeURIComponent(caseId)}/request-data`, {
+          message: describeRequest(request, text).slice(0, 2000),
+        })
+        .catch(() => {});
     }
   };
   /** a mark chosen in the sheet's list: lower the sheet and show it on the plot */
@@ -145,14 +172,33 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
         </h2>
         {phone ? <PresenceList participants={room.participants} youId={room.you?.userId} compact /> : null}
         <div className="min-w-0 flex-1">
-          <ConnectionBanner connection={room.connection} problem={room.problem} onRetry={() => window.location.reload()} />
+          <ConnectionBanner
+            connection={room.connection}
+            problem={room.problem}
+            onRetry={() => window.location.reload()}
+          />
         </div>
-        {phone && room.you ? <FollowToggle following={follow.following} onChange={follow.setFollowing} leaderName={follow.leader?.name} side={shop ? "expert" : "technician"} compact /> : null}
+        {phone && room.you ? (
+          <FollowToggle
+            following={follow.following}
+            onChange={follow.setFollowing}
+            leaderName={follow.leader?.name}
+            side={shop ? "expert" : "technician"}
+            compact
+          />
+        ) : null}
       </div>
       {phone ? null : (
         <div className="flex flex-wrap items-end justify-between gap-3">
           <PresenceList participants={room.participants} youId={room.you?.userId} />
-          {room.you ? <FollowToggle following={follow.following} onChange={follow.setFollowing} leaderName={follow.leader?.name} side={shop ? "expert" : "technician"} /> : null}
+          {room.you ? (
+            <FollowToggle
+              following={follow.following}
+              onChange={follow.setFollowing}
+              leaderName={follow.leader?.name}
+              side={shop ? "expert" : "technician"}
+            />
+          ) : null}
         </div>
       )}
       <div className={desk ? "grid grid-cols-[minmax(0,1fr)_22rem] gap-4" : ""}>
@@ -177,7 +223,9 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
           ) : (
             <p className="px-3 text-ink-600 sm:px-0">No traces on this case yet.</p>
           )}
-          {canEditSelected ? <OwnMarkActions room={room} mark={selectedMark} onRemoved={() => setSelected(null)} /> : null}
+          {canEditSelected ? (
+            <OwnMarkActions room={room} mark={selectedMark} onRemoved={() => setSelected(null)} />
+          ) : null}
         </div>
         {desk ? chat : null}
       </div>
@@ -188,7 +236,16 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
           onOpen={setSheet}
           tabs={[
             { id: "chat", label: "Chat", badge: unread ? `${unread} new` : null, content: chat },
-            ...(phone ? [{ id: "marks", label: "Marks", badge: room.annotations.length ? String(room.annotations.length) : null, content: markList }] : []),
+            ...(phone
+              ? [
+                  {
+                    id: "marks",
+                    label: "Marks",
+                    badge: room.annotations.length ? String(room.annotations.length) : null,
+                    content: markList,
+                  },
+                ]
+              : []),
           ]}
         />
       )}

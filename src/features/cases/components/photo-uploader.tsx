@@ -43,7 +43,8 @@ export function PhotoUploader({
   const [refusals, setRefusals] = useState<string[]>([]);
   const seq = useRef(0);
 
-  const patch = (key: string, p: Partial<Item>) => setItems((xs) => xs.map((x) => (x.key === key ? { ...x, ...p } : x)));
+  const patch = (key: string, p: Partial<Item>) =>
+    setItems((xs) => xs.map((x) => (x.key === key ? { ...x, ...p } : x)));
 
   async function start(files: File[]) {
     if (!files.length) return;
@@ -127,18 +128,20 @@ export function PhotoUploader({
       ) : null}
 
       {!disabled ? (
-      <div
-        {...getRootProps({
-          className: `flex min-h-24 cursor-pointer flex-col items-center justify-center rounded-xl border-2 border-dashed px-4 py-5 text-center ${
-            isDragActive ? "border-kiln-500 bg-kiln-50" : "border-ink-300 bg-ink-50 hover:border-kiln-400"
-          } ${disabled ? "pointer-events-none opacity-50" : ""}`,
-          "aria-label": "Add photos: JPEG, PNG or WebP, up to 15 MB each",
-        })}
-      >
-        <input {...getInputProps()} />
-        <p className="font-semibold text-ink-800">{isDragActive ? "Drop the photos here" : "Add photos"}</p>
-        <p className="text-sm text-ink-500">Tap to choose or take a picture, or drop files. JPEG, PNG or WebP, up to 15 MB.</p>
-      </div>
+        <div
+          {...getRootProps({
+            className: `flex min-h-24 cursor-pointer flex-col items-center justify-center rounded-xl border-2 border-dashed px-4 py-5 text-center ${
+              isDragActive ? "border-kiln-500 bg-kiln-50" : "border-ink-300 bg-ink-50 hover:border-kiln-400"
+            } ${disabled ? "pointer-events-none opacity-50" : ""}`,
+            "aria-label": "Add photos: JPEG, PNG or WebP, up to 15 MB each",
+          })}
+        >
+          <input {...getInputProps()} />
+          <p className="font-semibold text-ink-800">{isDragActive ? "Drop the photos here" : "Add photos"}</p>
+          <p className="text-sm text-ink-500">
+            Tap to choose or take a picture, or drop files. JPEG, PNG or WebP, up to 15 MB.
+          </p>
+        </div>
       ) : null}
 
       {refusals.length ? (

@@ -18,7 +18,14 @@ const toDraft = (p: AdminPricing) => ({
   widenAfterMinutes: String(p.widenAfterMinutes),
   firstWaveSize: String(p.firstWaveSize),
   closeAnsweredAfterDays: String(p.closeAnsweredAfterDays),
-  tiers: p.tiers.map<TierDraft>((t) => ({ id: t.id, label: t.label, description: t.description ?? "", price: (t.priceCents / 100).toFixed(2), deadlineHours: String(t.deadlineMinutes / 60), active: t.active })),
+  tiers: p.tiers.map<TierDraft>((t) => ({
+    id: t.id,
+    label: t.label,
+    description: t.description ?? "",
+    price: (t.priceCents / 100).toFixed(2),
+    deadlineHours: String(t.deadlineMinutes / 60),
+    active: t.active,
+  })),
 });
 
 /** "20" or "12.5" (percent, at most two decimals) → basis points as an integer, or NaN. */
@@ -35,11 +42,18 @@ export function PricingEditor() {
   const [problem, setProblem] = useState<string | null>(null);
   // the draft starts from the first price list loaded, set while rendering (no extra effect pass)
   if (q.data && !d) setD(toDraft(q.data));
-  if (q.isError) return <Notice tone="error" title="Pricing is not available">{q.error.message}</Notice>;
-  if (!q.data || !d) return <div className="h-40 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading pricing" />;
+  if (q.isError)
+    return (
+      <Notice tone="error" title="Pricing is not available">
+        {q.error.message}
+      </Notice>
+    );
+  if (!q.data || !d)
+    return <div className="h-40 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading pricing" />;
   const currency = q.data.currency;
 
-  const setTier = (i: number, patch: Partial<TierDraft>) => setD({ ...d, tiers: d.tiers.map((t, j) => (j === i ? { ...t, ...patch } : t)) });
+  const setTier = (i: number, patch: Partial<TierDraft>) =>
+    setD({ ...d, tiers: d.tiers.map((t, j) => (j === i ? { ...t, ...patch } : t)) });
   const submit = () => {
     setProblem(null);
     const input = {
@@ -84,16 +98,48 @@ export function PricingEditor() {
     >
       <Card title="The desk">
         <div className="grid gap-4 sm:grid-cols-2 lg:grid-cols-4">
-          {num("Desk's share (%)", d.deskSharePercent, (v) => setD({ ...d, deskSharePercent: v }), "Of each charged case; the expert gets the rest.")}
-          {num("Offer first to (experts)", d.firstWaveSize, (v) => setD({ ...d, firstWaveSize: v }), "The best-matching available experts.")}
-          {num("Offer to everyone after (min)", d.widenAfterMinutes, (v) => setD({ ...d, widenAfterMinutes: v }), "When nobody has claimed the case.")}
-          {num("Close unconfirmed after (days)", d.closeAnsweredAfterDays, (v) => setD({ ...d, closeAnsweredAfterDays: v }), "After the answer.")}
+          {num(
+            "Desk's share (%)",
+            d.deskSharePercent,
+            (v) => setD({ ...d, deskSharePercent: v }),
+            "Of each charged case; the expert gets the rest.",
+          )}
+          {num(
+            "Offer first to (experts)",
+            d.firstWaveSize,
+            (v) => setD({ ...d, firstWaveSize: v }),
+            "The best-matching available experts.",
+          )}
+          {num(
+            "Offer to everyone after (min)",
+            d.widenAfterMinutes,
+            (v) => setD({ ...d, widenAfterMinutes: v }),
+            "When nobody has claimed the case.",
+          )}
+          {num(
+            "Close unconfirmed after (days)",
+            d.closeAnsweredAfterDays,
+            (v) => setD({ ...d, closeAnsweredAfterDays: v }),
+            "After the answer.",
+          )}
         </div>
       </Card>
       <Card
         title="Tiers"
         actions={
-          <button type="button" className={buttonClass.secondary} onClick={() => setD({ ...d, tiers: [...d.tiers, { id: "", label: "", description: "", price: "", deadlineHours: "24", active: true }] })}>
+          <button
+            type="button"
+            className={buttonClass.secondary}
+            onClick={() =>
+              setD({
+                ...d,
+                tiers: [
+                  ...d.tiers,
+                  { id: "", label: "", description: "", price: "", deadlineHours: "24", active: true },
+                ],
+              })
+            }
+          >
             Add a tier
           </button>
         }
@@ -104,7 +150,12 @@ export function PricingEditor() {
               <legend className="px-1 text-sm font-semibold text-ink-700">{t.label || "New tier"}</legend>
               <label className="sm:col-span-1">
                 <span className="mb-1 block text-sm font-semibold">Code</span>
-                <input className={inputClass} value={t.id} onChange={(e) => setTier(i, { id: e.target.value })} disabled={q.data.tiers.some((x) => x.id === t.id) && t.id !== ""} />
+                <input
+                  className={inputClass}
+                  value={t.id}
+                  onChange={(e) => setTier(i, { id: e.target.value })}
+                  disabled={q.data.tiers.some((x) => x.id === t.id) && t.id !== ""}
+                />
               </label>
               <label className="sm:col-span-2">
                 <span className="mb-1 block text-sm font-semibold">Name</span>
@@ -112,27 +163,58 @@ export function PricingEditor() {
               </label>
               <label>
                 <span className="mb-1 block text-sm font-semibold">Price ({currency.toUpperCase()})</span>
-                <input className={inputClass} inputMode="decimal" value={t.price} onChange={(e) => setTier(i, { price: e.target.value })} />
-                <span className="mt-1 block text-xs text-ink-500">{parseCents(t.price) !== null ? formatCents(parseCents(t.price)!, currency.toUpperCase()) : "e.g. 49.00"}</span>
+                <input
+                  className={inputClass}
+                  inputMode="decimal"
+                  value={t.price}
+                  onChange={(e) => setTier(i, { price: e.target.value })}
+                />
+                <span className="mt-1 block text-xs text-ink-500">
+                  {parseCents(t.price) !== null
+                    ? formatCents(parseCents(t.price)!, currency.toUpperCase())
+                    : "e.g. 49.00"}
+                </span>
               </label>
               <label>
                 <span className="mb-1 block text-sm font-semibold">Answer within (h)</span>
-                <input className={inputClass} inputMode="decimal" value={t.deadlineHours} onChange={(e) => setTier(i, { deadlineHours: e.target.value })} />
+                <input
+                  className={inputClass}
+                  inputMode="decimal"
+                  value={t.deadlineHours}
+                  onChange={(e) => setTier(i, { deadlineHours: e.target.value })}
+                />
               </label>
               <label className="flex items-center gap-2 self-end pb-2">
-                <input type="checkbox" className="h-5 w-5 accent-kiln-500" checked={t.active} onChange={(e) => setTier(i, { active: e.target.checked })} />
+                <input
+                  type="checkbox"
+                  className="h-5 w-5 accent-kiln-500"
+                  checked={t.active}
+                  onChange={(e) => setTier(i, { active: e.target.checked })}
+                />
                 <span className="text-sm font-semibold">Offered</span>
               </label>
               <label className="sm:col-span-6">
                 <span className="mb-1 block text-sm font-semibold">Description</span>
-                <input className={inputClass} value={t.description} onChange={(e) => setTier(i, { description: e.target.value })} />
+                <input
+                  className={inputClass}
+                  value={t.description}
+                  onChange={(e) => setTier(i, { description: e.target.value })}
+                />
               </label>
             </fieldset>
           ))}
         </div>
       </Card>
-      {problem ? <Notice tone="error" title="Check the prices">{problem}</Notice> : null}
-      {save.error ? <Notice tone="error" title="Not saved">{save.error.message}</Notice> : null}
+      {problem ? (
+        <Notice tone="error" title="Check the prices">
+          {problem}
+        </Notice>
+      ) : null}
+      {save.error ? (
+        <Notice tone="error" title="Not saved">
+          {save.error.message}
+        </Notice>
+      ) : null}
       {save.isSuccess ? <Notice tone="success">Saved. New prices apply to cases submitted from now on.</Notice> : null}
       <button type="submit" className={buttonClass.primary} disabled={save.isPending}>
         {save.isPending ? "Saving…" : "Save the prices"}

@@ -185,8 +185,8 @@ function UploadedCard({ item, titleId, onRemove }: { item: UploadItem; titleId: 
           {item.fileName}
         </p>
         <p className="text-sm text-ink-600">
-          Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}
-          . It is listed with the case's traces.
+          Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}.
+          It is listed with the case's traces.
         </p>
       </div>
       <button type="button" className={btn.secondary} onClick={onRemove}>
@@ -203,9 +203,7 @@ function UploadProgress({ item }: { item: UploadItem }) {
       <progress
         className="h-3 w-full accent-kiln-500"
         max={1}
-        value={
-          item.upload?.phase === "server" || item.upload?.phase === "compressing" ? undefined : item.progress
-        }
+        value={item.upload?.phase === "server" || item.upload?.phase === "compressing" ? undefined : item.progress}
         aria-label={`Uploading ${item.fileName}`}
       />
       <p className="text-sm text-ink-600" aria-live="polite" data-testid="upload-progress">

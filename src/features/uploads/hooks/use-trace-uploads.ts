@@ -292,4 +292,3 @@ function recheck(draft: SettingsDraft, it: UploadItem): SettingsErrors {
   for (const k of Object.keys(it.errors) as (keyof SettingsErrors)[]) if (r.errors[k]) out[k] = r.errors[k];
   return out;
 }
-

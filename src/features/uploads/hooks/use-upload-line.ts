@@ -124,10 +124,7 @@ export function useUploadLine(
     done.current = onUploaded;
   });
 
-  const runNext = useCallback(
-    () => startNext({ waiting, current, jobs, done }, itemsRef, patch),
-    [itemsRef, patch],
-  );
+  const runNext = useCallback(() => startNext({ waiting, current, jobs, done }, itemsRef, patch), [itemsRef, patch]);
 
   // The compressor is loaded now, while online: a capture chosen offline is compressed all the same.
   useEffect(() => warmCompressor(), []);
