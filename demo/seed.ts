@@ -42,7 +42,6 @@ import { DEMO_ADMIN, DEMO_EXPERTS, DEMO_SHOPS } from "./people";
 import { DEMO_CASES, type DemoCase } from "./cases";
 import type { DemoTrace } from "./traces";
 import { seedCasebook } from "./casebook";
-import { syncDb } from "../server/db/client";
 
 export { DEMO_PASSWORD, DEMO_SIGN_INS };
 

@@ -417,7 +417,7 @@ export function stripSessionTokens(body: unknown): boolean {
 /** better-auth answers `{ code, message }`; the rest of the API answers `{ error: { code, message, details? } }`. */
 async function withOurErrors(res: Response): Promise<Response> {
   if (res.status < 400) return res;
-  let body: any = null;
+  let body: { code?: unknown; message?: unknown; error?: { code?: unknown } } | null;
   try {
     const text = await res.clone().text();
     body = text ? JSON.parse(text) : null;

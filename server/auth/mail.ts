@@ -39,6 +39,7 @@ export async function sendMail(ctx: AppContext, to: string, m: MailContent, opts
  */
 export function quoted(userText: string): string {
   const oneLine = userText
+    // eslint-disable-next-line no-control-regex -- control characters are exactly what is removed
     .replace(/[\u0000-\u001f\u007f\u2028\u2029]+/g, " ")
     .replace(/\s+/g, " ")
     .trim();

@@ -509,7 +509,7 @@ export class CasebookSearchEngine {
       this.system[d] = dictId(this.dicts.system, facetKey(r.system), r.system);
       this.year[d] = r.year != null && r.year >= YEAR_BASE && r.year < YEAR_BASE + YEAR_SLOTS ? r.year - YEAR_BASE : 0;
       this.confirmed[d] = r.confirmed ? 1 : 0;
-      let list: string[] = [];
+      let list: string[];
       try {
         list = JSON.parse(r.code_list) as string[];
       } catch {
@@ -876,7 +876,7 @@ export class CasebookSearchEngine {
     if (!snippet && tokens.length)
       snippet = prefixSnippet([r.diagnosis, r.complaint, r.root_cause, r.fix, r.symptoms, r.vehicle], tokens);
     if (!snippet) snippet = clip(r.diagnosis || r.complaint, 200);
-    let codes: string[] = [];
+    let codes: string[];
     try {
       codes = JSON.parse(r.code_list) as string[];
     } catch {

@@ -22,6 +22,7 @@ const { photo } = schema;
 export function cleanFileName(name: string | undefined | null, fallback: string): string {
   const base = (name ?? "").split(/[\\/]/).pop() ?? "";
   const clean = base
+    // eslint-disable-next-line no-control-regex -- control characters are exactly what is removed
     .replace(/[\u0000-\u001f\u007f"]/g, "")
     .trim()
     .slice(0, 200);

@@ -4,7 +4,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import type { BrowserContext, Page } from "playwright-core";
-import { createExpert, createShopTeam, type CreatedExpert, type ShopTeam } from "../factories";
+import { createExpert, createShopTeam } from "../factories";
 import { generateSecondary, type SecondaryTruth } from "../generators/secondary";
 import { renderCsv } from "../generators/csv";
 import { vinCheckDigit } from "../../shared/domain/vin";
@@ -42,8 +42,6 @@ const CODE = "P0302";
 
 let server: E2EServer;
 let launched: LaunchedBrowser;
-let team: ShopTeam;
-let expert: CreatedExpert;
 let techCtx: BrowserContext;
 let expertCtx: BrowserContext;
 let tech: Page;
@@ -55,12 +53,12 @@ const errors: string[] = [];
 
 beforeAll(async () => {
   server = await startE2EServer();
-  team = await createShopTeam(server, {
+  await createShopTeam(server, {
     name: "Millrace Garage",
     owner: { email: "owner@millrace.test", name: "Petra Lowe", password: PASSWORD },
     technician: { email: "jo@millrace.test", name: "Jo Brennan", password: PASSWORD },
   });
-  expert = await createExpert(server, {
+  await createExpert(server, {
     email: "rosa@experts.test",
     name: "Rosa Quint",
     password: PASSWORD,

@@ -69,8 +69,10 @@ async function pixelsOf(page: Page, color: string): Promise<number> {
     const b = parseInt(hex.slice(5, 7), 16);
     let n = 0;
     // runs in the page (this file is type-checked without the DOM library)
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- runs in the page; this file is type-checked without the DOM library
     const doc = (globalThis as any).document;
     const section = doc.querySelector('section[aria-labelledby="live-title"]');
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- a canvas element of the page (no DOM types here)
     for (const c of Array.from((section?.querySelectorAll("canvas") ?? []) as ArrayLike<any>)) {
       const ctx = c.getContext("2d");
       if (!ctx || !c.width || !c.height) continue;

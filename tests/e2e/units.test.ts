@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, test } from "vitest";
 import path from "node:path";
 import request from "supertest";
 import { eq } from "drizzle-orm";
-import type { BrowserContext, Locator, Page } from "playwright-core";
+import type { BrowserContext, Page } from "playwright-core";
 import { schema } from "../../server/db/client";
 import { createExpert, createShopTeam, signIn, type SignedInAgent } from "../factories";
 import {

@@ -1,4 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { SQLiteTable } from "drizzle-orm/sqlite-core";
 import request from "supertest";
 import { eq, sql } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
@@ -41,7 +42,7 @@ const draft = (over: Record<string, unknown> = {}) => ({
   ...over,
 });
 
-const count = async (table: any) =>
+const count = async (table: SQLiteTable) =>
   (await server.ctx.db.read((tx) =>
     tx
       .select({ n: sql<number>`count(*)` })
@@ -86,7 +87,7 @@ describe("POST /api/cases", () => {
     });
     expect(c.vinWarnings).toEqual([]);
     // SAE J2012: P0304 is the generic cylinder-4 misfire code; P0171 is lean, bank 1.
-    expect(c.codes.map((x: any) => x.code)).toEqual(["P0304", "P0171"]);
+    expect(c.codes.map((x: { code: unknown }) => x.code)).toEqual(["P0304", "P0171"]);
     expect(c.codes[0]).toMatchObject({ system: "powertrain", generic: true, misfireCylinder: 4 });
     expect(c.codes[0].description).toMatch(/4/);
     expect(c.codes[1].description).toMatch(/lean/i);
@@ -117,7 +118,7 @@ describe("POST /api/cases", () => {
     expect(res.status).toBe(201);
     expect(res.body.status).toBe("draft");
     expect(res.body.readiness.complete).toBe(false);
-    const paths = res.body.readiness.issues.map((i: any) => i.path);
+    const paths = res.body.readiness.issues.map((i: { path: unknown }) => i.path);
     expect(paths).toEqual(expect.arrayContaining(["vehicle.make", "vehicle.model", "complaint", "system"]));
   });
 
@@ -139,7 +140,7 @@ describe("POST /api/cases", () => {
     expect(res.body.vinWarnings).toEqual([expect.objectContaining({ code: "check-digit", expected: "X" })]);
     expect(res.body.vinDecoded.checkDigitValid).toBe(false);
     expect(res.body.readiness.complete).toBe(false);
-    expect(res.body.readiness.issues.map((i: any) => i.path)).toContain("vehicle.vin");
+    expect(res.body.readiness.issues.map((i: { path: unknown }) => i.path)).toContain("vehicle.vin");
 
     const fixed = await techA.patch(`/api/cases/${res.body.id}`).send({ vehicle: { vinCheckOverride: true } });
     expect(fixed.status).toBe(200);
@@ -160,7 +161,7 @@ describe("POST /api/cases", () => {
     const res = await techA.post("/api/cases").send(body);
     expect(res.status).toBe(400);
     expect(res.body.error.code).toBe("validation_failed");
-    expect(res.body.error.details.fields.map((f: any) => f.path)).toContain(path);
+    expect(res.body.error.details.fields.map((f: { path: unknown }) => f.path)).toContain(path);
     expect(await count(schema.caseTable)).toBe(casesBefore);
     expect(await count(schema.caseEvent)).toBe(eventsBefore);
   });
@@ -192,12 +193,12 @@ describe("PATCH /api/cases/:id", () => {
       year: null,
     });
     expect(res.body.complaint).toBe("Misfire only above 3000 rpm");
-    expect(res.body.codes.map((c: any) => c.code)).toEqual(["P0304", "P0171"]);
+    expect(res.body.codes.map((c: { code: unknown }) => c.code)).toEqual(["P0304", "P0171"]);
     expect(res.body.conditions).toEqual({ temperature: "hot", load: ["load"], occurrence: "intermittent" });
 
     const ev = await techA.get(`/api/cases/${created.id}/events`);
     expect(ev.status).toBe(200);
-    expect(ev.body.items.map((e: any) => e.type)).toEqual(["created", "edited"]);
+    expect(ev.body.items.map((e: { type: unknown }) => e.type)).toEqual(["created", "edited"]);
     expect(ev.body.items[1].data.fields).toEqual(
       expect.arrayContaining(["mileage", "year", "complaint", "conditions"]),
     );
@@ -208,7 +209,7 @@ describe("PATCH /api/cases/:id", () => {
     const created = (await techA.post("/api/cases").send(draft())).body;
     const res = await techA.patch(`/api/cases/${created.id}`).send({ complaint: "ok", vehicle: { vin: "SHORT" } });
     expect(res.status).toBe(400);
-    expect(res.body.error.details.fields.map((f: any) => f.path)).toContain("vehicle.vin");
+    expect(res.body.error.details.fields.map((f: { path: unknown }) => f.path)).toContain("vehicle.vin");
     const after = (await techA.get(`/api/cases/${created.id}`)).body;
     expect(after.complaint).toBe(created.complaint);
     expect(after.vehicle.vin).toBe(VALID_VIN);
@@ -281,7 +282,7 @@ describe("GET /api/cases (the shop's list)", () => {
     await listServer?.close();
   });
 
-  const idsOf = (res: request.Response) => res.body.items.map((c: any) => c.id);
+  const idsOf = (res: request.Response) => res.body.items.map((c: { id: unknown }) => c.id);
 
   it("lists only the actor's shop, newest first by default, with total and counts", async () => {
     const res = await a.get("/api/cases");
@@ -290,9 +291,9 @@ describe("GET /api/cases (the shop's list)", () => {
     expect(res.body.page).toBe(1);
     expect(res.body.pageSize).toBe(20);
     expect(idsOf(res)).toEqual([ids.percent, ids.astaro, ids.korrin, ids.veltra]);
-    const astaro = res.body.items.find((c: any) => c.id === ids.astaro);
+    const astaro = res.body.items.find((c: { id: string }) => c.id === ids.astaro);
     expect(astaro).toMatchObject({ status: "draft", title: "2012 Astaro Bellweather", traceCount: 0, photoCount: 0 });
-    expect(astaro.codes.map((c: any) => c.code)).toEqual(["P0171", "P0304"]);
+    expect(astaro.codes.map((c: { code: unknown }) => c.code)).toEqual(["P0171", "P0304"]);
     const other = await b.get("/api/cases");
     expect(other.body.total).toBe(3);
     expect(idsOf(other)).not.toContain(ids.veltra);
@@ -356,7 +357,7 @@ describe("GET /api/cases (the shop's list)", () => {
     ]) {
       const res = await a.get(`/api/cases?${qs}`);
       expect(res.status, qs).toBe(400);
-      expect(res.body.error.details.fields.map((f: any) => f.path)).toContain(path);
+      expect(res.body.error.details.fields.map((f: { path: unknown }) => f.path)).toContain(path);
     }
   });
 
@@ -377,6 +378,7 @@ describe("tenant isolation on the case routes", () => {
     { method: "get", path: `/api/cases/${id}/events` },
     { method: "get", path: `/api/cases/${id}/comparison` },
   ];
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- a supertest agent called by the method's name
   const call = (agent: any, r: { method: string; path: string; body?: unknown }) => {
     const req = agent[r.method](r.path);
     return r.body ? req.send(r.body) : req;
@@ -391,7 +393,7 @@ describe("tenant isolation on the case routes", () => {
       }
     }
     expect((await techA.get(`/api/cases/${caseId}`)).body.complaint).toBe(draft().complaint);
-    expect((await techB.get("/api/cases")).body.items.map((c: any) => c.id)).not.toContain(caseId);
+    expect((await techB.get("/api/cases")).body.items.map((c: { id: unknown }) => c.id)).not.toContain(caseId);
   });
 
   it("a signed-out request gets 401 on every case route", async () => {
@@ -403,7 +405,7 @@ describe("tenant isolation on the case routes", () => {
 
   it("an expert who has not claimed the case gets 404; once claimed they read it but cannot edit", async () => {
     for (const r of routes(caseId)) expect((await call(expert, r)).status, `${r.method} ${r.path}`).toBe(404);
-    expect((await expert.get("/api/cases")).body.items.map((c: any) => c.id)).not.toContain(caseId);
+    expect((await expert.get("/api/cases")).body.items.map((c: { id: unknown }) => c.id)).not.toContain(caseId);
 
     await server.ctx.db.write((tx) =>
       tx
@@ -424,7 +426,7 @@ describe("tenant isolation on the case routes", () => {
     });
     expect((await expert.get(`/api/cases/${caseId}/events`)).status).toBe(200);
     expect((await expert.patch(`/api/cases/${caseId}`).send({ complaint: "x" })).status).toBe(403);
-    expect((await expert.get("/api/cases")).body.items.map((c: any) => c.id)).toContain(caseId);
+    expect((await expert.get("/api/cases")).body.items.map((c: { id: unknown }) => c.id)).toContain(caseId);
     // the shop may still add material while claimed, but not edit
     const tech = (await techA.get(`/api/cases/${caseId}`)).body.abilities;
     expect(tech).toMatchObject({ edit: false, addTrace: true, addPhoto: true, deleteTrace: false });

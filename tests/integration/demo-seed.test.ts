@@ -1,4 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { SQLiteTable } from "drizzle-orm/sqlite-core";
 import crypto from "node:crypto";
 import { count, eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
@@ -42,7 +43,7 @@ afterAll(async () => {
 });
 
 async function tableCounts() {
-  const n = async (t: any) => (await server.ctx.db.read((tx) => tx.select({ n: count() }).from(t).get()))!.n;
+  const n = async (t: SQLiteTable) => (await server.ctx.db.read((tx) => tx.select({ n: count() }).from(t).get()))!.n;
   return {
     users: await n(schema.user),
     shops: await n(schema.shop),
@@ -140,7 +141,7 @@ describe("the demo scenario", () => {
     rows.forEach((r, i) => {
       // the generator's truth: the hump delay it put in (0.7 ms, 1.8 ms when sticking "late")
       const truth = (gen[i].truth as { pulses: { humpDelayMs: number | null }[] }).pulses[0].humpDelayMs!;
-      const measured = (r.analysis as any).summary.humpDelayMs.median as number;
+      const measured = (r.analysis as { summary: { humpDelayMs: { median: number } } }).summary.humpDelayMs.median;
       expect(Math.abs(measured - truth), `injector ${i + 1}`).toBeLessThan(0.1);
     });
   });

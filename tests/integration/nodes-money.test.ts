@@ -25,7 +25,6 @@ import { createExpert, createShopTeam, signIn } from "../factories/index";
 import { CARDS, insertDraftCase, sessionIdOf } from "../helpers/queue-flow";
 import type { TestServer } from "../helpers/test-app";
 import { nodesMissing, startNodes, WEBHOOK_SECRET, type NodeRig } from "../helpers/nodes";
-import { until } from "./realtime-helpers";
 
 const missing = nodesMissing();
 if (missing) console.warn(`several-node tests skipped: missing ${missing}`);

@@ -170,7 +170,7 @@ describe("claims", () => {
   });
 
   it("concurrent claims: exactly one winner, the others get 409", async () => {
-    const { caseId, technicians, tech } = await paidCase({ system: "ignition" });
+    const { caseId, technicians } = await paidCase({ system: "ignition" });
     const agents = await Promise.all(experts.map((e) => signIn(server, e)));
     const results = await Promise.all(agents.map((a) => a.post(`/api/cases/${caseId}/claim`)));
     const statuses = results.map((r) => r.status).sort();
@@ -239,7 +239,7 @@ describe("claims", () => {
   });
 
   it("a new trace uploaded while waiting for data moves the case back to the expert", async () => {
-    const { caseId, technicians, tech } = await paidCase({ system: "ignition" });
+    const { caseId, technicians } = await paidCase({ system: "ignition" });
     const e = await signIn(server, experts[2]);
     expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
     expect(

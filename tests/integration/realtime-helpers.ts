@@ -120,10 +120,10 @@ export function ask<E extends keyof ClientToServerEvents>(
   event: E,
   payload: Parameters<ClientToServerEvents[E]>[0],
   timeoutMs = 10_000,
-): Promise<Parameters<Extract<Parameters<ClientToServerEvents[E]>[1], (...a: any[]) => void>>[0]> {
+): Promise<Parameters<Extract<Parameters<ClientToServerEvents[E]>[1], (...a: never[]) => void>>[0]> {
   return new Promise((resolve, reject) => {
     const timer = setTimeout(() => reject(new Error(`no acknowledgement of ${event}`)), timeoutMs);
-    (s.emit as any)(event, payload, (res: any) => {
+    (s.emit as unknown as (e: E, p: unknown, ack: (res: never) => void) => void)(event, payload, (res) => {
       clearTimeout(timer);
       resolve(res);
     });

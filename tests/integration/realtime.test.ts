@@ -1,6 +1,7 @@
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
+import type { SQLiteTable } from "drizzle-orm/sqlite-core";
 import http from "node:http";
-import { and, eq, sql } from "drizzle-orm";
+import { and, eq, sql, type SQL } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createAdmin, createExpert, createShopTeam, signIn, type ShopTeam, type SignedInAgent } from "../factories";
 import { schema } from "../../server/db/client";
@@ -42,7 +43,7 @@ let admin: SignedInAgent;
 let expertId: string;
 const open: LiveClient[] = [];
 
-const count = async (table: any, where?: any) =>
+const count = async (table: SQLiteTable, where?: SQL) =>
   (await server.ctx.db.read((tx) =>
     tx
       .select({ n: sql<number>`count(*)` })
@@ -176,9 +177,15 @@ describe("joining a case", () => {
   it("validates payloads and refuses marks off the trace", async () => {
     const c = await newCase();
     const { s } = await joined(techA, c.caseId);
-    const bad = await ask(s, "annotation:create", { traceId: c.traceId, kind: "span", t0: 0.01 } as any);
+    const bad = await ask(s, "annotation:create", {
+      traceId: c.traceId,
+      kind: "span",
+      t0: 0.01,
+    } as unknown as Parameters<typeof ask<"annotation:create">>[2]);
     expect(bad).toMatchObject({ ok: false, error: { code: "validation_failed" } });
-    expect((bad as any).error.details.fields[0].path).toBe("t1");
+    expect(
+      (bad as unknown as { error: { details: { fields: { path: string }[] } } }).error.details.fields[0].path,
+    ).toBe("t1");
     const off = await ask(s, "annotation:create", { traceId: c.traceId, kind: "pin", t0: 5 });
     expect(off).toMatchObject({ ok: false, error: { code: "validation_failed" } });
     const other = await newCase();
@@ -265,7 +272,10 @@ describe("annotations", () => {
     ]);
     // applying the replay to what the tech had gives exactly the stored final state
     const state = new Map<string, AnnotationRecord>([[a1.id, a1]]);
-    for (const a of replay.ack.annotations) a.deletedAt ? state.delete(a.id) : state.set(a.id, a);
+    for (const a of replay.ack.annotations) {
+      if (a.deletedAt) state.delete(a.id);
+      else state.set(a.id, a);
+    }
     const fresh = await joined(techA, c.caseId, 0);
     expect([...state.values()].sort((x, y) => x.seq - y.seq)).toEqual(fresh.ack.annotations);
     expect(fresh.ack.annotations.map((a) => a.label)).toEqual(["three", "two, moved"]);

@@ -43,13 +43,11 @@ beforeAll(async () => {
   const e = await createExpert(server);
   tech = await signIn(server, team.technicians[0]);
   admin = await signIn(server, await createAdmin(server));
-  const created = await tech
-    .post("/api/cases")
-    .send({
-      vehicle: { year: 2017, make: "Veltra", model: "Orvane" },
-      complaint: "Misfire on cylinder 2",
-      system: "ignition",
-    });
+  const created = await tech.post("/api/cases").send({
+    vehicle: { year: 2017, make: "Veltra", model: "Orvane" },
+    complaint: "Misfire on cylinder 2",
+    system: "ignition",
+  });
   expect(created.status).toBe(201);
   const up = await request(server.url)
     .post(`/api/cases/${created.body.id}/traces`)

@@ -131,18 +131,17 @@ function bruteWindow(
 }
 
 async function newCase(agent: SignedInAgent): Promise<string> {
-  const res = await agent
-    .post("/api/cases")
-    .send({
-      vehicle: { make: "Astaro", model: "Dune" },
-      complaint: "Misfire at idle",
-      codes: ["P0304"],
-      system: "ignition",
-    });
+  const res = await agent.post("/api/cases").send({
+    vehicle: { make: "Astaro", model: "Dune" },
+    complaint: "Misfire at idle",
+    codes: ["P0304"],
+    system: "ignition",
+  });
   expect(res.status).toBe(201);
   return res.body.id;
 }
 
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- a supertest agent of any signed-in user
 function upload(agent: any, caseId: string, body: string | Buffer, filename = "capture.csv", s: unknown = settings) {
   return agent
     .post(`/api/cases/${caseId}/traces`)
@@ -186,7 +185,7 @@ describe("POST /api/cases/:id/traces", () => {
     // 2000 samples, 10 µs apart → 100 kHz, 2000 / 100 kHz = 20 ms
     expect(t).toMatchObject({ samples: 2000, sampleRateHz: 100_000, name: "coil4.csv", kind: "secondary-ignition" });
     expect(t.durationS).toBeCloseTo(0.02, 12);
-    expect(t.channels.map((c: any) => [c.name, c.unit])).toEqual([
+    expect(t.channels.map((c: { name: string; unit: string }) => [c.name, c.unit])).toEqual([
       ["A", "V"],
       ["B", "V"],
     ]);
@@ -217,7 +216,7 @@ describe("POST /api/cases/:id/traces", () => {
     expect(filesUnder(path.join(server.dir, "tmp"))).toEqual([]);
 
     const c = (await techA.get(`/api/cases/${caseId}`)).body;
-    expect(c.traces.map((x: any) => x.id)).toEqual([t.id]);
+    expect(c.traces.map((x: { id: unknown }) => x.id)).toEqual([t.id]);
     expect(Object.keys(c.traces[0])).toEqual(
       expect.arrayContaining([
         "id",
@@ -231,7 +230,7 @@ describe("POST /api/cases/:id/traces", () => {
         "analysis",
       ]),
     );
-    const ev = (await techA.get(`/api/cases/${caseId}/events`)).body.items.map((e: any) => e.type);
+    const ev = (await techA.get(`/api/cases/${caseId}/events`)).body.items.map((e: { type: unknown }) => e.type);
     expect(ev).toEqual(["created", "trace_added"]);
   });
 
@@ -310,9 +309,11 @@ describe("POST /api/cases/:id/traces", () => {
 describe("GET /api/traces/:id/window", () => {
   let uniformId: string;
   let uniform: Generated;
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the trace's JSON answer
   let uniformMeta: any;
   let unevenId: string;
   let uneven: Generated;
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the trace's JSON answer
   let unevenMeta: any;
 
   beforeAll(async () => {
@@ -417,9 +418,13 @@ describe("comparison across a case's traces", () => {
     const c = (await techA.get(`/api/cases/${caseId}`)).body;
     expect(c.comparison.kind).toBe("secondary-ignition");
     expect(c.comparison.traceIds).toEqual(ids);
-    const burn = c.comparison.metrics.find((m: any) => m.metric === "burnTimeMs");
-    expect(burn.values.map((v: any) => v.traceId)).toEqual(ids);
-    expect(c.comparison.outliers.map((o: any) => [o.traceId, o.metric])).toEqual([[ids[3], "burnTimeMs"]]);
+    const burn = c.comparison.metrics.find(
+      (m: { metric: string; values: { traceId: unknown }[] }) => m.metric === "burnTimeMs",
+    );
+    expect(burn.values.map((v: { traceId: unknown }) => v.traceId)).toEqual(ids);
+    expect(c.comparison.outliers.map((o: { traceId: string; metric: string }) => [o.traceId, o.metric])).toEqual([
+      [ids[3], "burnTimeMs"],
+    ]);
     const again = await techA.get(`/api/cases/${caseId}/comparison`);
     expect(again.status).toBe(200);
     expect(again.body.comparison).toEqual(c.comparison);
@@ -462,7 +467,7 @@ describe("DELETE /api/traces/:id", () => {
     expect(fs.existsSync(path.join(server.dir, row.originalPath))).toBe(false);
     expect(fs.existsSync(path.join(server.dir, row.dataPath))).toBe(false);
     expect((await techA.get(`/api/traces/${up.body.id}`)).status).toBe(404);
-    const ev = (await techA.get(`/api/cases/${caseId}/events`)).body.items.map((e: any) => e.type);
+    const ev = (await techA.get(`/api/cases/${caseId}/events`)).body.items.map((e: { type: unknown }) => e.type);
     expect(ev).toEqual(["created", "trace_added", "trace_deleted"]);
 
     const up2 = await upload(techA, caseId, generate(300, { seed: 22 }).text);

@@ -98,6 +98,7 @@ async function expectNothingLeft(run: () => Promise<request.Response>, status: n
 
 /** `s` null: no settings field at all. */
 const uploadTrace = (
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- a supertest agent of any signed-in user
   agent: any,
   body: Buffer | string,
   filename = "capture.csv",
@@ -108,6 +109,7 @@ const uploadTrace = (
   if (s !== null) req = req.field("settings", typeof s === "string" ? s : JSON.stringify(s));
   return req.attach("file", Buffer.isBuffer(body) ? body : Buffer.from(body), { filename, contentType });
 };
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- a supertest agent of any signed-in user
 const uploadPhoto = (agent: any, body: Buffer, filename: string, contentType: string, id = caseId) =>
   agent.post(`/api/cases/${id}/photos`).attach("file", body, { filename, contentType });
 
@@ -189,7 +191,7 @@ describe("refused trace uploads leave nothing behind", () => {
   ])("%s: 400 naming the field", async (_label, s, field) => {
     const res = await expectNothingLeft(() => uploadTrace(tech, csv(20), "c.csv", s), 400);
     expect(res.body.error.code).toBe("validation_failed");
-    expect(res.body.error.details.fields.map((f: any) => f.path)).toContain(field);
+    expect(res.body.error.details.fields.map((f: { path: unknown }) => f.path)).toContain(field);
   });
 
   it("no time column and no sample rate: 400 from the parser", async () => {
@@ -307,7 +309,7 @@ describe("photos", () => {
       expect(got.headers["x-content-type-options"]).toBe("nosniff");
       expect(Buffer.compare(got.body as Buffer, body)).toBe(0);
       const c = (await tech.get(`/api/cases/${caseId}`)).body;
-      expect(c.photos.map((p: any) => p.id)).toContain(res.body.id);
+      expect(c.photos.map((p: { id: unknown }) => p.id)).toContain(res.body.id);
     },
   );
 

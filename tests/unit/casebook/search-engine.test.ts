@@ -115,7 +115,7 @@ function reference(q: CasebookSearchQuery) {
       if (d === "code") for (const c of new Set(codes(r))) bump(c, c);
       if (d === "confirmed") bump(r.confirmed ? "true" : "false", r.confirmed ? "Fix confirmed" : "Not confirmed");
     }
-    let list = [...counts].map(([value, c]) => ({ value, label: c.label, count: c.count }));
+    const list = [...counts].map(([value, c]) => ({ value, label: c.label, count: c.count }));
     if (d === "year") list.sort((a, b) => Number(b.value) - Number(a.value));
     else if (d === "confirmed") list.sort((a, b) => (a.value === "true" ? -1 : 1) - (b.value === "true" ? -1 : 1));
     else list.sort((a, b) => b.count - a.count || a.label.localeCompare(b.label));
