@@ -63,6 +63,40 @@ function MakesInput({
   );
 }
 
+/** One checkbox per system the expert specialises in, kept as a list in the form. */
+function SystemsChecks({
+  value,
+  onChange,
+  onBlur,
+}: {
+  value: Values["systems"];
+  onChange: (v: Values["systems"]) => void;
+  onBlur: () => void;
+}) {
+  return (
+    <div className="grid grid-cols-1 gap-2 min-[420px]:grid-cols-2 md:grid-cols-3">
+      {expertSystems.map((s) => {
+        const checked = value.includes(s);
+        return (
+          <label
+            key={s}
+            className={`flex min-h-11 cursor-pointer items-center gap-3 rounded-lg border px-3 py-2 text-sm has-[:focus-visible]:ring-2 has-[:focus-visible]:ring-kiln-400 ${checked ? "border-kiln-500 bg-kiln-50" : "border-ink-200 bg-white"}`}
+          >
+            <input
+              type="checkbox"
+              className="h-5 w-5 accent-kiln-600"
+              checked={checked}
+              onBlur={onBlur}
+              onChange={(e) => onChange(e.target.checked ? [...value, s] : value.filter((x) => x !== s))}
+            />
+            {systemLabels[s]}
+          </label>
+        );
+      })}
+    </div>
+  );
+}
+
 /** The expert application: specialties, makes and experience; the desk approves it. */
 export function ApplyPage() {
   const apply = useApplyExpert();
@@ -142,28 +176,7 @@ export function ApplyPage() {
             control={form.control}
             name="systems"
             render={({ field }) => (
-              <div className="grid grid-cols-1 gap-2 min-[420px]:grid-cols-2 md:grid-cols-3">
-                {expertSystems.map((s) => {
-                  const checked = field.value.includes(s);
-                  return (
-                    <label
-                      key={s}
-                      className={`flex min-h-11 cursor-pointer items-center gap-3 rounded-lg border px-3 py-2 text-sm has-[:focus-visible]:ring-2 has-[:focus-visible]:ring-kiln-400 ${checked ? "border-kiln-500 bg-kiln-50" : "border-ink-200 bg-white"}`}
-                    >
-                      <input
-                        type="checkbox"
-                        className="h-5 w-5 accent-kiln-600"
-                        checked={checked}
-                        onBlur={field.onBlur}
-                        onChange={(e) =>
-                          field.onChange(e.target.checked ? [...field.value, s] : field.value.filter((x) => x !== s))
-                        }
-                      />
-                      {systemLabels[s]}
-                    </label>
-                  );
-                })}
-              </div>
+              <SystemsChecks value={field.value} onChange={field.onChange} onBlur={field.onBlur} />
             )}
           />
           {systemsError ? (

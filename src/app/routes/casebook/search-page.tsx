@@ -9,7 +9,7 @@ import { ActiveFilters, FacetGroup } from "../../../features/casebook/components
 import { Pagination, ResultList } from "../../../features/casebook/components/result-list";
 import { buttonClass, inputClass } from "../../../features/casebook/components/ui";
 import { facetTitles, systemNames } from "../../../features/casebook/lib/labels";
-import type { FacetCount, FacetDim } from "../../../../shared/schemas/casebook";
+import type { CasebookSearchResult, FacetCount, FacetDim } from "../../../../shared/schemas/casebook";
 
 const FILTER_DIMS: FacetDim[] = ["make", "model", "engine", "system", "code", "confirmed"];
 
@@ -46,23 +46,7 @@ export function CasebookSearchPage() {
   };
 
   const data = q.data;
-  const active: { key: string; label: string }[] = [];
-  for (const d of FILTER_DIMS) {
-    const v = params[d as keyof CasebookSearchParams];
-    if (!v) continue;
-    const f = data?.facets[d]?.find((x) => x.value === v);
-    const label =
-      d === "system"
-        ? (systemNames[v] ?? v)
-        : d === "confirmed"
-          ? v === "true"
-            ? "Fix confirmed"
-            : "Not confirmed"
-          : (f?.label ?? v);
-    active.push({ key: d, label: `${facetTitles[d]}: ${label}` });
-  }
-  if (params.yearFrom || params.yearTo)
-    active.push({ key: "years", label: `Model year ${params.yearFrom ?? "…"}–${params.yearTo ?? "…"}` });
+  const active = activeFilters(params, data);
 
   return (
     <div className="space-y-5">
@@ -73,34 +57,13 @@ export function CasebookSearchPage() {
         </p>
       </header>
 
-      <form role="search" onSubmit={submit} className="flex flex-wrap gap-2">
-        <label htmlFor="casebook-q" className="sr-only">
-          Search the casebook
-        </label>
-        <input
-          id="casebook-q"
-          type="search"
-          className={`${inputClass} min-w-[12rem] flex-1`}
-          placeholder="e.g. misfire coil 4, P0303, crank sensor hot"
-          value={text}
-          maxLength={200}
-          onChange={(e) => setText(e.target.value)}
-        />
-        <button type="submit" className={buttonClass.primary}>
-          Search
-        </button>
-        <label className="flex items-center gap-2 text-sm font-semibold text-ink-700">
-          Sort
-          <select
-            className={`${inputClass} w-auto`}
-            value={params.sort ?? "relevance"}
-            onChange={(e) => update({ sort: e.target.value === "relevance" ? undefined : e.target.value })}
-          >
-            <option value="relevance">Best match</option>
-            <option value="recent">Newest</option>
-          </select>
-        </label>
-      </form>
+      <SearchForm
+        text={text}
+        onText={setText}
+        onSubmit={submit}
+        sort={params.sort ?? "relevance"}
+        onSort={(sort) => update({ sort: sort === "relevance" ? undefined : sort })}
+      />
 
       <div className="grid gap-5 lg:grid-cols-[minmax(0,18rem)_minmax(0,1fr)]">
         <button
@@ -177,6 +140,72 @@ export function CasebookSearchPage() {
         </section>
       </div>
     </div>
+  );
+}
+
+type ActiveFilter = { key: string; label: string };
+
+/** The filters in force, as chips: each dimension's value by its label, then the model-year range. */
+function activeFilters(params: CasebookSearchParams, data: CasebookSearchResult | undefined): ActiveFilter[] {
+  const active: ActiveFilter[] = [];
+  for (const d of FILTER_DIMS) {
+    const v = params[d as keyof CasebookSearchParams];
+    if (!v) continue;
+    const f = data?.facets[d]?.find((x) => x.value === v);
+    const label =
+      d === "system"
+        ? (systemNames[v] ?? v)
+        : d === "confirmed"
+          ? v === "true"
+            ? "Fix confirmed"
+            : "Not confirmed"
+          : (f?.label ?? v);
+    active.push({ key: d, label: `${facetTitles[d]}: ${label}` });
+  }
+  if (params.yearFrom || params.yearTo)
+    active.push({ key: "years", label: `Model year ${params.yearFrom ?? "…"}–${params.yearTo ?? "…"}` });
+  return active;
+}
+
+/** The search box and the sort order. */
+function SearchForm({
+  text,
+  onText,
+  onSubmit,
+  sort,
+  onSort,
+}: {
+  text: string;
+  onText: (text: string) => void;
+  onSubmit: (e: FormEvent) => void;
+  sort: string;
+  onSort: (sort: string) => void;
+}) {
+  return (
+    <form role="search" onSubmit={onSubmit} className="flex flex-wrap gap-2">
+      <label htmlFor="casebook-q" className="sr-only">
+        Search the casebook
+      </label>
+      <input
+        id="casebook-q"
+        type="search"
+        className={`${inputClass} min-w-[12rem] flex-1`}
+        placeholder="e.g. misfire coil 4, P0303, crank sensor hot"
+        value={text}
+        maxLength={200}
+        onChange={(e) => onText(e.target.value)}
+      />
+      <button type="submit" className={buttonClass.primary}>
+        Search
+      </button>
+      <label className="flex items-center gap-2 text-sm font-semibold text-ink-700">
+        Sort
+        <select className={`${inputClass} w-auto`} value={sort} onChange={(e) => onSort(e.target.value)}>
+          <option value="relevance">Best match</option>
+          <option value="recent">Newest</option>
+        </select>
+      </label>
+    </form>
   );
 }
 

@@ -77,6 +77,53 @@ function OwnMarkActions({
 }
 
 /**
+ * The title with the connection's state, who is here and follow mode: one row on a phone (compact),
+ * the presence and follow toggle on a row of their own elsewhere.
+ */
+function LiveHeader({ room, follow, phone }: { room: CaseRoom; follow: ReturnType<typeof useFollow>; phone: boolean }) {
+  const shop = room.you?.role === "technician" || room.you?.role === "owner";
+  return (
+    <>
+      <div className={`flex flex-wrap items-center gap-x-3 gap-y-2 ${phone ? "px-3" : ""}`}>
+        <h2 id="live-title" className="text-lg font-bold text-ink-900">
+          Live review
+        </h2>
+        {phone ? <PresenceList participants={room.participants} youId={room.you?.userId} compact /> : null}
+        <div className="min-w-0 flex-1">
+          <ConnectionBanner
+            connection={room.connection}
+            problem={room.problem}
+            onRetry={() => window.location.reload()}
+          />
+        </div>
+        {phone && room.you ? (
+          <FollowToggle
+            following={follow.following}
+            onChange={follow.setFollowing}
+            leaderName={follow.leader?.name}
+            side={shop ? "expert" : "technician"}
+            compact
+          />
+        ) : null}
+      </div>
+      {phone ? null : (
+        <div className="flex flex-wrap items-end justify-between gap-3">
+          <PresenceList participants={room.participants} youId={room.you?.userId} />
+          {room.you ? (
+            <FollowToggle
+              following={follow.following}
+              onChange={follow.setFollowing}
+              leaderName={follow.leader?.name}
+              side={shop ? "expert" : "technician"}
+            />
+          ) : null}
+        </div>
+      )}
+    </>
+  );
+}
+
+/**
  * The live review of a case: the traces with everyone's marks and pointers, follow mode, who is
  * here, and the chat with requests for more data. On a desk the plot and the chat sit side by side;
  * on a tablet or a phone the plot takes the width and the chat (with the marks, on a phone) is one
@@ -108,7 +155,6 @@ export function LiveReview({
   const viewer = useRef<TraceViewerHandle>(null);
   const viewerBox = useRef<HTMLDivElement>(null);
   const unread = useUnread(room, desk || sheet === "chat");
-  const shop = room.you?.role === "technician" || room.you?.role === "owner";
 
   const pointers = useMemo(
     () => room.pointers.filter((p) => traces.some((t) => t.id === p.traceId)),
@@ -166,41 +212,7 @@ export function LiveReview({
       aria-labelledby="live-title"
       className={`space-y-3 bg-white ${phone ? "-mx-4 border-y border-ink-200 pt-3 pb-2" : "rounded-xl border border-ink-200 p-4 shadow-sm sm:p-5"}`}
     >
-      <div className={`flex flex-wrap items-center gap-x-3 gap-y-2 ${phone ? "px-3" : ""}`}>
-        <h2 id="live-title" className="text-lg font-bold text-ink-900">
-          Live review
-        </h2>
-        {phone ? <PresenceList participants={room.participants} youId={room.you?.userId} compact /> : null}
-        <div className="min-w-0 flex-1">
-          <ConnectionBanner
-            connection={room.connection}
-            problem={room.problem}
-            onRetry={() => window.location.reload()}
-          />
-        </div>
-        {phone && room.you ? (
-          <FollowToggle
-            following={follow.following}
-            onChange={follow.setFollowing}
-            leaderName={follow.leader?.name}
-            side={shop ? "expert" : "technician"}
-            compact
-          />
-        ) : null}
-      </div>
-      {phone ? null : (
-        <div className="flex flex-wrap items-end justify-between gap-3">
-          <PresenceList participants={room.participants} youId={room.you?.userId} />
-          {room.you ? (
-            <FollowToggle
-              following={follow.following}
-              onChange={follow.setFollowing}
-              leaderName={follow.leader?.name}
-              side={shop ? "expert" : "technician"}
-            />
-          ) : null}
-        </div>
-      )}
+      <LiveHeader room={room} follow={follow} phone={phone} />
       <div className={desk ? "grid grid-cols-[minmax(0,1fr)_22rem] gap-4" : ""}>
         <div ref={viewerBox} className="min-w-0 scroll-mt-2 space-y-2">
           <IncomingUploads uploads={incoming.uploads} youId={room.you?.userId} />

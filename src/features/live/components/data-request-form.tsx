@@ -9,6 +9,78 @@ const TIME_UNITS = { ms: 1e-3, µs: 1e-6, s: 1 } as const;
 
 const num = (s: string) => (s.trim() === "" ? undefined : Number(s.replace(",", ".")));
 
+type TimeUnit = keyof typeof TIME_UNITS;
+
+/** The form's text as typed. */
+interface RequestFields {
+  capture: DataRequest["capture"];
+  cylinder: string;
+  vdiv: string;
+  tdiv: string;
+  tunit: TimeUnit;
+  trig: string;
+  slope: "" | "rising" | "falling";
+  conditions: string;
+}
+
+/** The request from the form's text: empty boxes are left out, the time/division is in seconds. */
+function parseRequest(f: RequestFields) {
+  const t = num(f.tdiv);
+  const settings = {
+    ...(num(f.vdiv) !== undefined ? { voltsPerDiv: num(f.vdiv) } : {}),
+    ...(t !== undefined ? { timePerDivS: t * TIME_UNITS[f.tunit] } : {}),
+    ...(num(f.trig) !== undefined ? { triggerLevel: num(f.trig) } : {}),
+    ...(f.slope ? { triggerSlope: f.slope } : {}),
+  };
+  return dataRequestSchema.safeParse({
+    capture: f.capture,
+    ...(num(f.cylinder) !== undefined ? { cylinder: num(f.cylinder) } : {}),
+    ...(Object.keys(settings).length ? { settings } : {}),
+    ...(f.conditions.trim() ? { conditions: f.conditions.trim() } : {}),
+  });
+}
+
+/** The time per division: a number and its unit. */
+function TimePerDivField({
+  id,
+  value,
+  onValue,
+  unit,
+  onUnit,
+}: {
+  id: string;
+  value: string;
+  onValue: (v: string) => void;
+  unit: TimeUnit;
+  onUnit: (u: TimeUnit) => void;
+}) {
+  return (
+    <div className="text-sm font-semibold text-ink-700">
+      <label htmlFor={id}>Time/division</label>
+      <div className="flex gap-2">
+        <input
+          id={id}
+          className={field}
+          inputMode="decimal"
+          placeholder="e.g. 2"
+          value={value}
+          onChange={(e) => onValue(e.target.value)}
+        />
+        <select
+          aria-label="Time unit"
+          className={`${field} w-24`}
+          value={unit}
+          onChange={(e) => onUnit(e.target.value as TimeUnit)}
+        >
+          {Object.keys(TIME_UNITS).map((u) => (
+            <option key={u}>{u}</option>
+          ))}
+        </select>
+      </div>
+    </div>
+  );
+}
+
 /** The expert's request for more data: which capture, on which cylinder, with which scope settings. */
 export function DataRequestForm({
   onSubmit,
@@ -24,28 +96,16 @@ export function DataRequestForm({
   const [cylinder, setCylinder] = useState("");
   const [vdiv, setVdiv] = useState("");
   const [tdiv, setTdiv] = useState("");
-  const [tunit, setTunit] = useState<keyof typeof TIME_UNITS>("ms");
+  const [tunit, setTunit] = useState<TimeUnit>("ms");
   const [trig, setTrig] = useState("");
-  const [slope, setSlope] = useState<"" | "rising" | "falling">("");
+  const [slope, setSlope] = useState<RequestFields["slope"]>("");
   const [conditions, setConditions] = useState("");
   const [text, setText] = useState("");
   const [error, setError] = useState<string | null>(null);
 
   const submit = (e: FormEvent) => {
     e.preventDefault();
-    const t = num(tdiv);
-    const settings = {
-      ...(num(vdiv) !== undefined ? { voltsPerDiv: num(vdiv) } : {}),
-      ...(t !== undefined ? { timePerDivS: t * TIME_UNITS[tunit] } : {}),
-      ...(num(trig) !== undefined ? { triggerLevel: num(trig) } : {}),
-      ...(slope ? { triggerSlope: slope } : {}),
-    };
-    const parsed = dataRequestSchema.safeParse({
-      capture,
-      ...(num(cylinder) !== undefined ? { cylinder: num(cylinder) } : {}),
-      ...(Object.keys(settings).length ? { settings } : {}),
-      ...(conditions.trim() ? { conditions: conditions.trim() } : {}),
-    });
+    const parsed = parseRequest({ capture, cylinder, vdiv, tdiv, tunit, trig, slope, conditions });
     if (!parsed.success) {
       const i = parsed.error.issues[0];
       setError(`${i.path.join(".") || "request"}: ${i.message}`);
@@ -97,29 +157,7 @@ export function DataRequestForm({
             onChange={(e) => setVdiv(e.target.value)}
           />
         </label>
-        <div className="text-sm font-semibold text-ink-700">
-          <label htmlFor={`${id}-t`}>Time/division</label>
-          <div className="flex gap-2">
-            <input
-              id={`${id}-t`}
-              className={field}
-              inputMode="decimal"
-              placeholder="e.g. 2"
-              value={tdiv}
-              onChange={(e) => setTdiv(e.target.value)}
-            />
-            <select
-              aria-label="Time unit"
-              className={`${field} w-24`}
-              value={tunit}
-              onChange={(e) => setTunit(e.target.value as keyof typeof TIME_UNITS)}
-            >
-              {Object.keys(TIME_UNITS).map((u) => (
-                <option key={u}>{u}</option>
-              ))}
-            </select>
-          </div>
-        </div>
+        <TimePerDivField id={`${id}-t`} value={tdiv} onValue={setTdiv} unit={tunit} onUnit={setTunit} />
         <label className="block text-sm font-semibold text-ink-700">
           Trigger level (V)
           <input

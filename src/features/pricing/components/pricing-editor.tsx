@@ -34,6 +34,78 @@ function percentToBp(s: string): number {
   return c === null ? Number.NaN : c;
 }
 
+/** One tier: its code (fixed once saved), name, price, answer deadline, whether it is offered. */
+function TierFields({
+  tier,
+  currency,
+  codeLocked,
+  onChange,
+}: {
+  tier: TierDraft;
+  currency: string;
+  codeLocked: boolean;
+  onChange: (patch: Partial<TierDraft>) => void;
+}) {
+  return (
+    <fieldset className="grid gap-3 rounded-lg border border-ink-200 p-3 sm:grid-cols-6">
+      <legend className="px-1 text-sm font-semibold text-ink-700">{tier.label || "New tier"}</legend>
+      <label className="sm:col-span-1">
+        <span className="mb-1 block text-sm font-semibold">Code</span>
+        <input
+          className={inputClass}
+          value={tier.id}
+          onChange={(e) => onChange({ id: e.target.value })}
+          disabled={codeLocked}
+        />
+      </label>
+      <label className="sm:col-span-2">
+        <span className="mb-1 block text-sm font-semibold">Name</span>
+        <input className={inputClass} value={tier.label} onChange={(e) => onChange({ label: e.target.value })} />
+      </label>
+      <label>
+        <span className="mb-1 block text-sm font-semibold">Price ({currency.toUpperCase()})</span>
+        <input
+          className={inputClass}
+          inputMode="decimal"
+          value={tier.price}
+          onChange={(e) => onChange({ price: e.target.value })}
+        />
+        <span className="mt-1 block text-xs text-ink-500">
+          {parseCents(tier.price) !== null
+            ? formatCents(parseCents(tier.price)!, currency.toUpperCase())
+            : "e.g. 49.00"}
+        </span>
+      </label>
+      <label>
+        <span className="mb-1 block text-sm font-semibold">Answer within (h)</span>
+        <input
+          className={inputClass}
+          inputMode="decimal"
+          value={tier.deadlineHours}
+          onChange={(e) => onChange({ deadlineHours: e.target.value })}
+        />
+      </label>
+      <label className="flex items-center gap-2 self-end pb-2">
+        <input
+          type="checkbox"
+          className="h-5 w-5 accent-kiln-500"
+          checked={tier.active}
+          onChange={(e) => onChange({ active: e.target.checked })}
+        />
+        <span className="text-sm font-semibold">Offered</span>
+      </label>
+      <label className="sm:col-span-6">
+        <span className="mb-1 block text-sm font-semibold">Description</span>
+        <input
+          className={inputClass}
+          value={tier.description}
+          onChange={(e) => onChange({ description: e.target.value })}
+        />
+      </label>
+    </fieldset>
+  );
+}
+
 /** The admin's price list: tiers (price, answer deadline), the desk's share and the queue's timings. */
 export function PricingEditor() {
   const q = useAdminPricing();
@@ -146,62 +218,13 @@ export function PricingEditor() {
       >
         <div className="space-y-4">
           {d.tiers.map((t, i) => (
-            <fieldset key={i} className="grid gap-3 rounded-lg border border-ink-200 p-3 sm:grid-cols-6">
-              <legend className="px-1 text-sm font-semibold text-ink-700">{t.label || "New tier"}</legend>
-              <label className="sm:col-span-1">
-                <span className="mb-1 block text-sm font-semibold">Code</span>
-                <input
-                  className={inputClass}
-                  value={t.id}
-                  onChange={(e) => setTier(i, { id: e.target.value })}
-                  disabled={q.data.tiers.some((x) => x.id === t.id) && t.id !== ""}
-                />
-              </label>
-              <label className="sm:col-span-2">
-                <span className="mb-1 block text-sm font-semibold">Name</span>
-                <input className={inputClass} value={t.label} onChange={(e) => setTier(i, { label: e.target.value })} />
-              </label>
-              <label>
-                <span className="mb-1 block text-sm font-semibold">Price ({currency.toUpperCase()})</span>
-                <input
-                  className={inputClass}
-                  inputMode="decimal"
-                  value={t.price}
-                  onChange={(e) => setTier(i, { price: e.target.value })}
-                />
-                <span className="mt-1 block text-xs text-ink-500">
-                  {parseCents(t.price) !== null
-                    ? formatCents(parseCents(t.price)!, currency.toUpperCase())
-                    : "e.g. 49.00"}
-                </span>
-              </label>
-              <label>
-                <span className="mb-1 block text-sm font-semibold">Answer within (h)</span>
-                <input
-                  className={inputClass}
-                  inputMode="decimal"
-                  value={t.deadlineHours}
-                  onChange={(e) => setTier(i, { deadlineHours: e.target.value })}
-                />
-              </label>
-              <label className="flex items-center gap-2 self-end pb-2">
-                <input
-                  type="checkbox"
-                  className="h-5 w-5 accent-kiln-500"
-                  checked={t.active}
-                  onChange={(e) => setTier(i, { active: e.target.checked })}
-                />
-                <span className="text-sm font-semibold">Offered</span>
-              </label>
-              <label className="sm:col-span-6">
-                <span className="mb-1 block text-sm font-semibold">Description</span>
-                <input
-                  className={inputClass}
-                  value={t.description}
-                  onChange={(e) => setTier(i, { description: e.target.value })}
-                />
-              </label>
-            </fieldset>
+            <TierFields
+              key={i}
+              tier={t}
+              currency={currency}
+              codeLocked={q.data.tiers.some((x) => x.id === t.id) && t.id !== ""}
+              onChange={(patch) => setTier(i, patch)}
+            />
           ))}
         </div>
       </Card>
