@@ -135,13 +135,11 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
   r.post("/invites/accept", rateLimit(ctx, "invites/accept", { window: 600, max: 10 }), async (req, res) => {
     const input = parseBody(acceptInviteSchema, req);
     const done = await shops.acceptInvite(ctx, input);
-    res
-      .status(201)
-      .json({
-        ok: true,
-        email: done.email,
-        message: "Your account is ready. Sign in with your e-mail address and the password you chose.",
-      });
+    res.status(201).json({
+      ok: true,
+      email: done.email,
+      message: "Your account is ready. Sign in with your e-mail address and the password you chose.",
+    });
   });
 
   return r;
