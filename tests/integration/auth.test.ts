@@ -194,6 +194,11 @@ describe("password reset", () => {
         .post("/api/auth/request-password-reset")
         .set("X-Forwarded-For", ip())
         .send({ email: u.email });
+      // the reset is carried out after the answer (server/auth/auth.ts): the clock stands still
+      // until its link is stored (on a libSQL server that is a few round trips later)
+      const stored = () =>
+        s.ctx.db.read((tx) => tx.select().from(schema.verification).where(eq(schema.verification.value, u.id)).all());
+      for (let i = 0; i < 400 && (await stored()).length === 0; i++) await new Promise((r) => setTimeout(r, 25));
     } finally {
       vi.useRealTimers();
     }

@@ -295,11 +295,12 @@ describe("publishing and search", () => {
       [1, 2, 3, 4].map((n) => `Coil ${n} · secondary ignition`),
     );
     // the words of the index (fts5vocab lists every token FTS5 stored)
+    // (beside the index in its own database and dropped again: the libSQL server refuses temp. tables)
     const vocab = await db.write(async (tx) => {
-      await tx.run(
-        sql`CREATE VIRTUAL TABLE IF NOT EXISTS temp.casebook_vocab USING fts5vocab(main, casebook_fts, 'row')`,
-      );
-      return tx.all<{ term: string }>(sql`SELECT term FROM temp.casebook_vocab`);
+      await tx.run(sql`CREATE VIRTUAL TABLE IF NOT EXISTS casebook_vocab USING fts5vocab(casebook_fts, 'row')`);
+      const rows = await tx.all<{ term: string }>(sql`SELECT term FROM casebook_vocab`);
+      await tx.run(sql`DROP TABLE casebook_vocab`);
+      return rows;
     });
     const terms = new Set(vocab.map((r) => r.term));
     for (const w of [
@@ -396,10 +397,12 @@ describe("moderation", () => {
       entryId,
     );
 
-    const edit = await adminAgent.patch(`/api/admin/casebook/${entryId}`).send({
-      hidden: false,
-      diagnosis: "Coil 4 secondary arcing to the plug well; water ingress after a pressure wash.",
-    });
+    const edit = await adminAgent
+      .patch(`/api/admin/casebook/${entryId}`)
+      .send({
+        hidden: false,
+        diagnosis: "Coil 4 secondary arcing to the plug well; water ingress after a pressure wash.",
+      });
     expect(edit.status).toBe(200);
     expect((await search(otherTech, { q: "steep" })).body.total).toBe(0); // the old diagnosis left the index
     expect((await search(otherTech, { q: "winding" })).body.total).toBe(1); // still in the root cause
