@@ -397,12 +397,10 @@ describe("moderation", () => {
       entryId,
     );
 
-    const edit = await adminAgent
-      .patch(`/api/admin/casebook/${entryId}`)
-      .send({
-        hidden: false,
-        diagnosis: "Coil 4 secondary arcing to the plug well; water ingress after a pressure wash.",
-      });
+    const edit = await adminAgent.patch(`/api/admin/casebook/${entryId}`).send({
+      hidden: false,
+      diagnosis: "Coil 4 secondary arcing to the plug well; water ingress after a pressure wash.",
+    });
     expect(edit.status).toBe(200);
     expect((await search(otherTech, { q: "steep" })).body.total).toBe(0); // the old diagnosis left the index
     expect((await search(otherTech, { q: "winding" })).body.total).toBe(1); // still in the root cause
