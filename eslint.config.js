@@ -31,7 +31,10 @@ export default tseslint.config(
     plugins: { "import-x": importX },
     settings: {
       "import-x/resolver-next": [
-        createTypeScriptImportResolver({ project: ["tsconfig.json", "src/tsconfig.json"], noWarnOnMultipleProjects: true }),
+        createTypeScriptImportResolver({
+          project: ["tsconfig.json", "src/tsconfig.json"],
+          noWarnOnMultipleProjects: true,
+        }),
       ],
       "import-x/parsers": { "@typescript-eslint/parser": [".ts", ".tsx"] },
       "import-x/extensions": [".ts", ".tsx", ".js", ".mjs"],
@@ -48,7 +51,11 @@ export default tseslint.config(
             { target: "./shared", from: "./tests", message: "shared/ imports neither side." },
             { target: "./server", from: "./tests", message: "server/ never imports tests/." },
             { target: "./server", from: "./demo", message: "server/ never imports demo/." },
-            { target: "./demo", from: "./tests", message: "The demo runs in production builds: it never imports tests/." },
+            {
+              target: "./demo",
+              from: "./tests",
+              message: "The demo runs in production builds: it never imports tests/.",
+            },
             { target: "./src", from: "./server", message: "The client talks to the server over HTTP only." },
             ...featureZones,
           ],

@@ -12,11 +12,10 @@ import vm from "node:vm";
 import { analyzeTrace } from "../shared/analysis/analyze";
 import { compareTraces } from "../shared/analysis/compare";
 import { parseTraceText } from "../shared/trace/parse";
-import { renderCsv } from "../tests/generators/csv";
-import { generateCrank } from "../tests/generators/crank";
-import { generateSecondary } from "../tests/generators/secondary";
+import { renderCsv } from "../demo/generators/csv";
+import { generateCrank } from "../demo/generators/crank";
+import { generateSecondary } from "../demo/generators/secondary";
 import { median, type BenchResult } from "./types";
-
 
 /** A full garbage collection, so one step's garbage is not collected in the next one's time. */
 function gcNow(): void {
@@ -70,16 +69,18 @@ export default async function bench(): Promise<BenchResult[]> {
   const events = (analyzeTrace(parsed, settings).summary as { eventCount: number }).eventCount;
   // 1 s at 1 MS/s and 1000 rpm: 1000/60 revolutions
   const crank = generateCrank({ seed: 2, sampleRateHz: 1e6, rpm: 1000, revolutions: 1000 / 60 });
-  const run = interleaved(
-    5,
-    () => parseTraceText(text),
-    [() => analyzeTrace(parsed, settings), () => analyzeTrace(crank.trace, {}, { kind: "crank" })],
-  );
+  const run = interleaved(5, () => parseTraceText(text), [
+    () => analyzeTrace(parsed, settings),
+    () => analyzeTrace(crank.trace, {}, { kind: "crank" }),
+  ]);
   const parseMs = run.parseMs;
   const [analysisMs, crankMs] = run.ms;
   const [ratio, crankRatio] = run.ratio;
 
-  const results = Array.from({ length: 16 }, (_, i) => ({ file: `c${i}.csv`, ...analyzeTrace(generateSecondary({ seed: 10 + i, events: 2, rpm: 3000 }).trace) }));
+  const results = Array.from({ length: 16 }, (_, i) => ({
+    file: `c${i}.csv`,
+    ...analyzeTrace(generateSecondary({ seed: 10 + i, events: 2, rpm: 3000 }).trace),
+  }));
   const compareMs = timeMs(20, () => compareTraces(results));
 
   return [

@@ -17,7 +17,14 @@ import { sql, eq } from "drizzle-orm";
 import { median, percentile, type BenchResult } from "./types";
 import { startTestServer } from "../tests/helpers/test-app";
 import { createExpert, createShopTeam, signIn } from "../tests/factories";
-import { insertLiveCase, liveClient, connected, ask, until, type LiveClient } from "../tests/integration/realtime-helpers";
+import {
+  insertLiveCase,
+  liveClient,
+  connected,
+  ask,
+  until,
+  type LiveClient,
+} from "../tests/integration/realtime-helpers";
 import { schema } from "../server/db/client";
 import type { AnnotationRecord } from "../shared/realtime";
 
@@ -41,7 +48,11 @@ async function liveRig(): Promise<Rig & { count(): Promise<number> }> {
   const e = await createExpert(server);
   const tech = await signIn(server, team.technicians[0]);
   const expert = await signIn(server, e);
-  const c = (await insertLiveCase(server.ctx, { shopId: team.shop.id, createdBy: team.technicians[0].id, expertId: e.id }));
+  const c = await insertLiveCase(server.ctx, {
+    shopId: team.shop.id,
+    createdBy: team.technicians[0].id,
+    expertId: e.id,
+  });
   const url = `http://127.0.0.1:${server.port}`;
   const join = async (cookie: string) => {
     const s = await connected(liveClient(url, { cookie }));
@@ -54,10 +65,14 @@ async function liveRig(): Promise<Rig & { count(): Promise<number> }> {
   for (let i = 0; i < CLIENTS; i++) receivers.push(await join(i % 2 ? expert.cookie : tech.cookie));
   return {
     send(i, onAck) {
-      sender.emit("annotation:create", { traceId: c.traceId, kind: "pin", t0: ((i % 1000) + 1) * 1e-4, level: 12.5, label: `m${i}` }, (r) => {
-        if (!r.ok) throw new Error(JSON.stringify(r));
-        onAck(r.annotation.id);
-      });
+      sender.emit(
+        "annotation:create",
+        { traceId: c.traceId, kind: "pin", t0: ((i % 1000) + 1) * 1e-4, level: 12.5, label: `m${i}` },
+        (r) => {
+          if (!r.ok) throw new Error(JSON.stringify(r));
+          onAck(r.annotation.id);
+        },
+      );
     },
     onReceive(fn) {
       receivers.forEach((s, r) => s.on("annotation:created", (a: AnnotationRecord) => fn(r, a.id, a.seq)));
@@ -65,7 +80,11 @@ async function liveRig(): Promise<Rig & { count(): Promise<number> }> {
     count: async () =>
       Number(
         (await server.ctx.db.read((tx) =>
-          tx.select({ n: sql<number>`count(*)` }).from(schema.annotation).where(eq(schema.annotation.caseId, c.caseId)).get(),
+          tx
+            .select({ n: sql<number>`count(*)` })
+            .from(schema.annotation)
+            .where(eq(schema.annotation.caseId, c.caseId))
+            .get(),
         ))!.n,
       ),
     async close() {
@@ -101,7 +120,11 @@ async function bareRig(): Promise<Rig> {
   await new Promise((r) => setTimeout(r, 50));
   return {
     send(i, onAck) {
-      sender.emit("relay", { traceId: "t", kind: "pin", t0: ((i % 1000) + 1) * 1e-4, level: 12.5, label: `m${i}` }, (r: { annotation: { id: string } }) => onAck(r.annotation.id));
+      sender.emit(
+        "relay",
+        { traceId: "t", kind: "pin", t0: ((i % 1000) + 1) * 1e-4, level: 12.5, label: `m${i}` },
+        (r: { annotation: { id: string } }) => onAck(r.annotation.id),
+      );
     },
     onReceive(fn) {
       receivers.forEach((s, r) => s.on("relayed", (a: { id: string; seq: number }) => fn(r, a.id, a.seq)));
@@ -118,7 +141,14 @@ async function bareRig(): Promise<Rig> {
 /** Sequential round trips: time until the ack and all CLIENTS deliveries of one item are in. */
 async function roundTrips(rig: Rig, n: number, offset: number): Promise<number[]> {
   const times: number[] = [];
-  let pending: { id: string | null; got: number; acked: boolean; t0: number; done: () => void; early: Map<string, number> } | null = null;
+  let pending: {
+    id: string | null;
+    got: number;
+    acked: boolean;
+    t0: number;
+    done: () => void;
+    early: Map<string, number>;
+  } | null = null;
   const early = new Map<string, number>();
   rig.onReceive((_r, id) => {
     if (pending && pending.id === id) {
@@ -129,11 +159,18 @@ async function roundTrips(rig: Rig, n: number, offset: number): Promise<number[]
   for (let i = 0; i < n; i++) {
     await new Promise<void>((resolve) => {
       const t0 = performance.now();
-      pending = { id: null, got: 0, acked: false, t0, early, done: () => {
-        times.push(performance.now() - t0);
-        pending = null;
-        resolve();
-      } };
+      pending = {
+        id: null,
+        got: 0,
+        acked: false,
+        t0,
+        early,
+        done: () => {
+          times.push(performance.now() - t0);
+          pending = null;
+          resolve();
+        },
+      };
       rig.send(offset + i, (id) => {
         const p = pending!;
         p.id = id;
@@ -148,8 +185,16 @@ async function roundTrips(rig: Rig, n: number, offset: number): Promise<number[]
 }
 
 /** Keeps IN_FLIGHT sends outstanding for SUSTAIN_MS; returns the delivered rate and the loss check. */
-async function sustained(rig: Rig, offset: number): Promise<{ rate: number; acked: number; lost: number; duplicates: number; outOfOrder: number }> {
-  const perClient = Array.from({ length: CLIENTS }, () => ({ ids: new Set<string>(), dup: 0, lastSeq: 0, disorder: 0 }));
+async function sustained(
+  rig: Rig,
+  offset: number,
+): Promise<{ rate: number; acked: number; lost: number; duplicates: number; outOfOrder: number }> {
+  const perClient = Array.from({ length: CLIENTS }, () => ({
+    ids: new Set<string>(),
+    dup: 0,
+    lastSeq: 0,
+    disorder: 0,
+  }));
   let delivered = 0;
   let lastDelivery = 0;
   rig.onReceive((r, id, seq) => {
@@ -218,12 +263,27 @@ export default async function bench(): Promise<BenchResult[]> {
   const bareP99 = percentile(bareTimes, 99);
   const med = median(liveTimes);
   const p99 = percentile(liveTimes, 99);
-  const lossFree = liveSus.lost === 0 && liveSus.duplicates === 0 && liveSus.outOfOrder === 0 && stored === liveSus.acked;
+  const lossFree =
+    liveSus.lost === 0 && liveSus.duplicates === 0 && liveSus.outOfOrder === 0 && stored === liveSus.acked;
   return [
     { name: `bare socket.io relay to ${CLIENTS} clients, median`, value: bareMed, unit: "ms" },
     { name: `bare socket.io relay to ${CLIENTS} clients, p99`, value: bareP99, unit: "ms" },
-    { name: `annotation round trip to ${CLIENTS} clients (commit included), median`, value: med, unit: "ms", baseline: "bare socket.io relay median", ratio: med / bareMed },
-    { name: `annotation round trip to ${CLIENTS} clients (commit included), p99`, value: p99, unit: "ms", baseline: "bare socket.io relay p99", ratio: p99 / bareP99, goal: "p99 < 25 ms", pass: p99 < 25 },
+    {
+      name: `annotation round trip to ${CLIENTS} clients (commit included), median`,
+      value: med,
+      unit: "ms",
+      baseline: "bare socket.io relay median",
+      ratio: med / bareMed,
+    },
+    {
+      name: `annotation round trip to ${CLIENTS} clients (commit included), p99`,
+      value: p99,
+      unit: "ms",
+      baseline: "bare socket.io relay p99",
+      ratio: p99 / bareP99,
+      goal: "p99 < 25 ms",
+      pass: p99 < 25,
+    },
     { name: `bare socket.io relay, sustained to ${CLIENTS} clients`, value: bareSus.rate, unit: "items/s" },
     {
       name: `annotations sustained to ${CLIENTS} clients (${liveSus.acked} stored; lost ${liveSus.lost}, duplicated ${liveSus.duplicates}, out of order ${liveSus.outOfOrder})`,

@@ -80,7 +80,9 @@ async function oursParseAndStore(file: string, dir: string, id: string): Promise
 /** Runs a streamed parse in a child process and reads its peak RSS. */
 function peakParseMemory(csv: string, dir: string): { baseBytes: number; deltaBytes: number } {
   const script = path.join(dir, "memory-child.mts");
-  const parseFile = pathToFileURL(path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../server/traces/parse-file.ts")).href;
+  const parseFile = pathToFileURL(
+    path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../server/traces/parse-file.ts"),
+  ).href;
   fs.writeFileSync(
     script,
     [

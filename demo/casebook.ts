@@ -69,7 +69,8 @@ const STORIES: FaultStory[] = [
     codes: (c) => [p030(c)],
     symptoms: ["misfire", "hesitation"],
     complaint: (c) => `Stumble under boost, cylinder ${c} misfire counter rising.`,
-    diagnosis: (c) => `High firing line and a short, high spark line on cylinder ${c}: the gap needs more voltage than the others.`,
+    diagnosis: (c) =>
+      `High firing line and a short, high spark line on cylinder ${c}: the gap needs more voltage than the others.`,
     rootCause: (c) => `Worn spark plug on cylinder ${c}, gap opened up well past specification.`,
     fix: () => "Replace the plugs as a set, gapped to the manufacturer's specification.",
     testsToConfirm: "Firing lines within a few kV of each other at a steady 2000 rpm.",
@@ -116,7 +117,8 @@ const STORIES: FaultStory[] = [
     diagnosis: (c) => `Injector ${c}'s pintle-closing hump comes late compared with the others.`,
     rootCause: (c) => `Sticking injector ${c}, dripping after shut-down.`,
     fix: (c) => `Replace injector ${c} (and its seals).`,
-    testsToConfirm: "Injector voltage captures with the hump at the same delay on every cylinder; fuel pressure holds after key-off.",
+    testsToConfirm:
+      "Injector voltage captures with the hump at the same delay on every cylinder; fuel pressure holds after key-off.",
     traceKind: "injector",
   },
   {
@@ -342,7 +344,13 @@ export function demoCasebookEntries(n = 200, seed = 2718): DemoCasebookEntry[] {
 export function toCasebookInput(e: DemoCasebookEntry, expertId: string | null, now: Date): CasebookEntryInput {
   return {
     expertId,
-    vehicle: { year: e.year, make: e.make, model: e.model, engine: e.engine, fuel: /hybrid/.test(e.engine) ? "hybrid" : "gasoline" },
+    vehicle: {
+      year: e.year,
+      make: e.make,
+      model: e.model,
+      engine: e.engine,
+      fuel: /hybrid/.test(e.engine) ? "hybrid" : "gasoline",
+    },
     complaint: e.complaint,
     symptoms: e.symptoms.map((x) => symptomLabels[x as Symptom] ?? x),
     codes: e.codes,

@@ -128,4 +128,9 @@ export const DEMO_EXPERTS: DemoExpert[] = [
   },
 ];
 
-export const DEMO_ADMIN: DemoPerson = { key: "admin", email: "admin@burnline.test", name: "Desk Admin", color: "#444444" };
+export const DEMO_ADMIN: DemoPerson = {
+  key: "admin",
+  email: "admin@burnline.test",
+  name: "Desk Admin",
+  color: "#444444",
+};

@@ -29,10 +29,13 @@ function remove(p: string, removed: string[]): void {
 
 async function main(): Promise<void> {
   const env = loadEnv(process.env);
-  if (env.NODE_ENV === "production") throw new Error("demo:reset deletes the database; it is refused with NODE_ENV=production.");
+  if (env.NODE_ENV === "production")
+    throw new Error("demo:reset deletes the database; it is refused with NODE_ENV=production.");
   if (!env.DEMO) throw new Error("demo:reset needs DEMO on (it is the default); DEMO is set to false.");
   if (await portAnswers(env.PORT)) {
-    throw new Error(`Burnline is running on port ${env.PORT}. Stop it first (Ctrl+C where \`npm start\` runs), then run \`npm run demo:reset\` again.`);
+    throw new Error(
+      `Burnline is running on port ${env.PORT}. Stop it first (Ctrl+C where \`npm start\` runs), then run \`npm run demo:reset\` again.`,
+    );
   }
 
   const started = performance.now();
@@ -40,16 +43,29 @@ async function main(): Promise<void> {
   const dbFile = path.resolve(env.DATABASE_URL.replace(/^file:/, ""));
   for (const suffix of ["", "-wal", "-shm", "-journal"]) remove(dbFile + suffix, removed);
   const layout = storageLayout(env.dataDir);
-  for (const dir of [layout.originalsDir, layout.tracesDir, layout.photosDir, path.dirname(layout.tempDir), path.join(env.dataDir, "mail")]) remove(dir, removed);
+  for (const dir of [
+    layout.originalsDir,
+    layout.tracesDir,
+    layout.photosDir,
+    path.dirname(layout.tempDir),
+    path.join(env.dataDir, "mail"),
+  ])
+    remove(dir, removed);
   remove(path.join(env.dataDir, "fake-stripe.json"), removed);
-  console.log(removed.length ? `Removed:\n${removed.map((r) => `  ${path.relative(process.cwd(), r) || r}`).join("\n")}` : "Nothing to remove.");
+  console.log(
+    removed.length
+      ? `Removed:\n${removed.map((r) => `  ${path.relative(process.cwd(), r) || r}`).join("\n")}`
+      : "Nothing to remove.",
+  );
 
   // The same start as `npm start` (same ports, so the stored checkout and return links stay valid).
   const server = await startServer({ LOG_LEVEL: process.env.LOG_LEVEL ?? "warn" });
   try {
     const result = await seedDemo(server.ctx, { log: (line) => console.log(line) });
     const counts = Object.keys(result.cases).length;
-    console.log(`\nSeeded ${counts} cases, ${Object.values(result.traces).flat().length} traces, ${result.casebookEntries} casebook entries in ${(result.timings.total / 1000).toFixed(1)} s.`);
+    console.log(
+      `\nSeeded ${counts} cases, ${Object.values(result.traces).flat().length} traces, ${result.casebookEntries} casebook entries in ${(result.timings.total / 1000).toFixed(1)} s.`,
+    );
     if (result.skipped.length) console.log(`Left out (no local Stripe fake to pay them): ${result.skipped.join(", ")}`);
     console.log(`\nDemo sign-ins (password "${DEMO_PASSWORD}"):`);
     for (const s of DEMO_SIGN_INS) console.log(`  ${s.email.padEnd(24)} ${s.label}`);

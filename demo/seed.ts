@@ -42,7 +42,6 @@ import { DEMO_ADMIN, DEMO_EXPERTS, DEMO_SHOPS } from "./people";
 import { DEMO_CASES, type DemoCase } from "./cases";
 import type { DemoTrace } from "./traces";
 import { seedCasebook } from "./casebook";
-import { syncDb } from "../server/db/client";
 
 export { DEMO_PASSWORD, DEMO_SIGN_INS };
 
@@ -99,7 +98,13 @@ async function uploadTrace(ctx: AppContext, actor: Actor, caseId: string, t: Dem
   try {
     const sha256 = crypto.createHash("sha256").update(bytes).digest("hex");
     const settings = captureSettingsSchema.parse(t.settings);
-    return await addTrace(ctx, actor, caseId, { path: file, size: bytes.length, sha256, originalname: t.file, detected: "text" }, { settings, name: t.name });
+    return await addTrace(
+      ctx,
+      actor,
+      caseId,
+      { path: file, size: bytes.length, sha256, originalname: t.file, detected: "text" },
+      { settings, name: t.name },
+    );
   } finally {
     await fs.promises.rm(file, { force: true });
   }
@@ -116,8 +121,13 @@ async function payCheckout(ctx: AppContext, checkoutUrl: string, paymentId: stri
   const base = fakeStripeBase(ctx)!;
   const m = /\/checkout\/(cs_[A-Za-z0-9_]+)/.exec(checkoutUrl);
   if (!m) throw new Error(`demo seed: not a checkout URL of the local fake: ${checkoutUrl}`);
-  const res = await fetch(`${base}/_test/checkout/${m[1]}/pay`, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify({ card: TEST_CARD }) });
-  if (!res.ok) throw new Error(`demo seed: the fake checkout refused the test card (${res.status}): ${await res.text()}`);
+  const res = await fetch(`${base}/_test/checkout/${m[1]}/pay`, {
+    method: "POST",
+    headers: { "content-type": "application/json" },
+    body: JSON.stringify({ card: TEST_CARD }),
+  });
+  if (!res.ok)
+    throw new Error(`demo seed: the fake checkout refused the test card (${res.status}): ${await res.text()}`);
   // The webhook does the same a moment later; reading the payment now does not wait for it (idempotent).
   await refreshPayment(ctx, paymentId);
 }
@@ -200,12 +210,20 @@ async function runStory(
       const who = m.by === "expert" ? expert : tech;
       const tr = traces[m.trace];
       const pos = m.at(tr.truth);
-      const input = annotationCreateSchema.parse({ traceId: traceRows[m.trace].id, kind: m.kind, ...pos, ...(m.label ? { label: m.label } : {}) });
+      const input = annotationCreateSchema.parse({
+        traceId: traceRows[m.trace].id,
+        kind: m.kind,
+        ...pos,
+        ...(m.label ? { label: m.label } : {}),
+      });
       await createAnnotation(ctx, await ctx.db.read((tx) => withColor(tx, who)), caseId, input);
     } else {
       const msg = msgs[item.i];
       const who = msg.by === "expert" ? expert : tech;
-      await postMessage(ctx, await ctx.db.read((tx) => withColor(tx, who)), caseId, { text: msg.text, ...(msg.request ? { request: dataRequestSchema.parse(msg.request) } : {}) });
+      await postMessage(ctx, await ctx.db.read((tx) => withColor(tx, who)), caseId, {
+        text: msg.text,
+        ...(msg.request ? { request: dataRequestSchema.parse(msg.request) } : {}),
+      });
       if (msg.request && c.requestData) await requestData(ctx, expert, caseId, c.requestData.message);
     }
   }
@@ -240,9 +258,23 @@ export async function seedDemo(ctx: AppContext, opts: { log?: (line: string) => 
     clock.at(-120 * 24 * 60);
     for (const s of DEMO_SHOPS) {
       const shop = await createShop(ctx, { name: s.name });
-      out.users[s.owner.key] = await createUser(ctx, { role: "owner", shopId: shop.id, email: s.owner.email, name: s.owner.name, password: DEMO_PASSWORD, color: s.owner.color });
+      out.users[s.owner.key] = await createUser(ctx, {
+        role: "owner",
+        shopId: shop.id,
+        email: s.owner.email,
+        name: s.owner.name,
+        password: DEMO_PASSWORD,
+        color: s.owner.color,
+      });
       for (const t of s.technicians) {
-        out.users[t.key] = await createUser(ctx, { role: "technician", shopId: shop.id, email: t.email, name: t.name, password: DEMO_PASSWORD, color: t.color });
+        out.users[t.key] = await createUser(ctx, {
+          role: "technician",
+          shopId: shop.id,
+          email: t.email,
+          name: t.name,
+          password: DEMO_PASSWORD,
+          color: t.color,
+        });
       }
     }
     for (const e of DEMO_EXPERTS) {
@@ -262,7 +294,12 @@ export async function seedDemo(ctx: AppContext, opts: { log?: (line: string) => 
       });
     }
     clock.at(-150 * 24 * 60);
-    out.users.admin = await createAdmin(ctx, { email: DEMO_ADMIN.email, name: DEMO_ADMIN.name, password: DEMO_PASSWORD, color: DEMO_ADMIN.color });
+    out.users.admin = await createAdmin(ctx, {
+      email: DEMO_ADMIN.email,
+      name: DEMO_ADMIN.name,
+      password: DEMO_PASSWORD,
+      color: DEMO_ADMIN.color,
+    });
     out.timings.people = Math.round(performance.now() - started);
 
     // Cases, oldest first, so every open case's deadline lies ahead of the clock.
@@ -278,7 +315,8 @@ export async function seedDemo(ctx: AppContext, opts: { log?: (line: string) => 
       await runStory(ctx, clock, c, out.users, out, log);
       const row = await ctx.db.read((tx) => getCaseRow(tx, out.cases[c.key]));
       const status = row?.status as CaseStatus | undefined;
-      if (status !== c.final) throw new Error(`demo seed: case "${c.key}" ended ${status ?? "missing"}, expected ${c.final}`);
+      if (status !== c.final)
+        throw new Error(`demo seed: case "${c.key}" ended ${status ?? "missing"}, expected ${c.final}`);
       out.timings[`case:${c.key}`] = Math.round(performance.now() - ts);
       log(`case ${c.key}: ${c.final} (${out.timings[`case:${c.key}`]} ms)`);
     }
@@ -291,7 +329,8 @@ export async function seedDemo(ctx: AppContext, opts: { log?: (line: string) => 
   } finally {
     clock.restore();
   }
-  if (out.skipped.length) ctx.logger.warn({ skipped: out.skipped }, "demo seed: no local Stripe fake, paid cases left out");
+  if (out.skipped.length)
+    ctx.logger.warn({ skipped: out.skipped }, "demo seed: no local Stripe fake, paid cases left out");
   out.timings.total = Math.round(performance.now() - started);
   return out;
 }
@@ -304,12 +343,17 @@ export async function seedDemoIfEmpty(ctx: AppContext): Promise<boolean> {
   const n = (await ctx.db.read((tx) => tx.select({ n: count() }).from(schema.user).get()))?.n ?? 0;
   if (n > 0) return false;
   const r = await seedDemo(ctx);
-  ctx.logger.info({ timings: r.timings, cases: Object.keys(r.cases).length, casebook: r.casebookEntries }, "demo seeded");
+  ctx.logger.info(
+    { timings: r.timings, cases: Object.keys(r.cases).length, casebook: r.casebookEntries },
+    "demo seeded",
+  );
   return true;
 }
 
 /** For tests: the user row of a demo e-mail. */
 export async function demoUserId(ctx: AppContext, email: string): Promise<string | undefined> {
-  const row = await ctx.db.read((tx) => tx.select({ id: schema.user.id }).from(schema.user).where(eq(schema.user.email, email)).get());
+  const row = await ctx.db.read((tx) =>
+    tx.select({ id: schema.user.id }).from(schema.user).where(eq(schema.user.email, email)).get(),
+  );
   return row?.id;
 }

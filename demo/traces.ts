@@ -1,13 +1,18 @@
 /**
- * The demo's captures, made by the project's own signal generators (tests/generators) with fixed
+ * The demo's captures, made by the project's own signal generators (demo/generators) with fixed
  * seeds, so every seed gives the same files and the same truth. Sizes are kept modest (tens of
  * thousands of samples) so the whole demo seeds in seconds.
  */
-import { generateSecondary, type GeneratedCapture, type SecondaryFault, type SecondaryTruth } from "../tests/generators/secondary";
-import { generateCompression, type CompressionTruth } from "../tests/generators/compression";
-import { generateInjector, type InjectorTruth } from "../tests/generators/injector";
-import { generateCrank, type CrankTruth } from "../tests/generators/crank";
-import { renderCsv, type CsvOptions } from "../tests/generators/csv";
+import {
+  generateSecondary,
+  type GeneratedCapture,
+  type SecondaryFault,
+  type SecondaryTruth,
+} from "./generators/secondary";
+import { generateCompression, type CompressionTruth } from "./generators/compression";
+import { generateInjector, type InjectorTruth } from "./generators/injector";
+import { generateCrank, type CrankTruth } from "./generators/crank";
+import { renderCsv, type CsvOptions } from "./generators/csv";
 import type { CaptureSettingsInput } from "../shared/schemas/capture-settings";
 
 export interface DemoTrace<T = unknown> {
@@ -22,8 +27,22 @@ export interface DemoTrace<T = unknown> {
   fault: string | null;
 }
 
-function build<T>(name: string, file: string, g: GeneratedCapture<T>, extra: Partial<CaptureSettingsInput>, fault: string | null, csv: CsvOptions = {}): DemoTrace<T> {
-  return { name, file, csv: renderCsv(g.trace, { timeUnit: "ms", ...csv }), settings: { ...g.settings, ...extra }, truth: g.truth, fault };
+function build<T>(
+  name: string,
+  file: string,
+  g: GeneratedCapture<T>,
+  extra: Partial<CaptureSettingsInput>,
+  fault: string | null,
+  csv: CsvOptions = {},
+): DemoTrace<T> {
+  return {
+    name,
+    file,
+    csv: renderCsv(g.trace, { timeUnit: "ms", ...csv }),
+    settings: { ...g.settings, ...extra },
+    truth: g.truth,
+    fault,
+  };
 }
 
 /**
@@ -42,9 +61,22 @@ export function coilSet(opts: {
   const out: DemoTrace<SecondaryTruth>[] = [];
   for (let cyl = 1; cyl <= opts.cylinders; cyl++) {
     const fault = opts.faults[cyl] ?? "none";
-    const g = generateSecondary({ seed: opts.seed + cyl, sampleRateHz: opts.sampleRateHz, rpm: opts.rpm, events: opts.events, fault, kvPerVolt: 10 });
+    const g = generateSecondary({
+      seed: opts.seed + cyl,
+      sampleRateHz: opts.sampleRateHz,
+      rpm: opts.rpm,
+      events: opts.events,
+      fault,
+      kvPerVolt: 10,
+    });
     out.push(
-      build(`Coil ${cyl}`, `${opts.filePrefix}_cyl${cyl}.csv`, g, { cylinder: cyl, coil: cyl, kvPerVolt: 10, triggerLevel: 0.3, triggerSlope: "rising" }, fault === "none" ? null : fault),
+      build(
+        `Coil ${cyl}`,
+        `${opts.filePrefix}_cyl${cyl}.csv`,
+        g,
+        { cylinder: cyl, coil: cyl, kvPerVolt: 10, triggerLevel: 0.3, triggerSlope: "rising" },
+        fault === "none" ? null : fault,
+      ),
     );
   }
   return out;
@@ -53,7 +85,13 @@ export function coilSet(opts: {
 /** Starter current through a clamp while cranking with the injectors disabled; one weak cylinder. */
 export function compressionCapture(seed: number, lowPosition: number): DemoTrace<CompressionTruth> {
   const g = generateCompression({ seed, lowPosition, lowFactor: 0.7, cylinders: 4, durationS: 1.6 });
-  return build("Starter current, cranking (relative compression)", "cranking_current.csv", g, { triggerSource: "A" }, `low compression at stroke position ${lowPosition}`);
+  return build(
+    "Starter current, cranking (relative compression)",
+    "cranking_current.csv",
+    g,
+    { triggerSource: "A" },
+    `low compression at stroke position ${lowPosition}`,
+  );
 }
 
 /** One injector's control side per cylinder; the given cylinder's pintle closes late (sticking). */
@@ -61,7 +99,15 @@ export function injectorSet(seed: number, cylinders: number, sticking: number): 
   const out: DemoTrace<InjectorTruth>[] = [];
   for (let cyl = 1; cyl <= cylinders; cyl++) {
     const g = generateInjector({ seed: seed + cyl, sticking: cyl === sticking ? "late" : "none", events: 2 });
-    out.push(build(`Injector ${cyl}`, `inj${cyl}_driver.csv`, g, { cylinder: cyl, circuit: `injector ${cyl} control` }, cyl === sticking ? "sticking (late pintle close)" : null));
+    out.push(
+      build(
+        `Injector ${cyl}`,
+        `inj${cyl}_driver.csv`,
+        g,
+        { cylinder: cyl, circuit: `injector ${cyl} control` },
+        cyl === sticking ? "sticking (late pintle close)" : null,
+      ),
+    );
   }
   return out;
 }
@@ -69,5 +115,11 @@ export function injectorSet(seed: number, cylinders: number, sticking: number): 
 /** Crankshaft VR sensor over a 60-2 wheel with one damaged tooth. */
 export function crankCapture(seed: number, damagedTooth: number | null): DemoTrace<CrankTruth> {
   const g = generateCrank({ seed, damagedTooth, rpm: 1000, revolutions: 2.5 });
-  return build("Crank sensor at idle", "ckp_idle.csv", g, {}, damagedTooth ? `damaged reluctor tooth ${damagedTooth}` : null);
+  return build(
+    "Crank sensor at idle",
+    "ckp_idle.csv",
+    g,
+    {},
+    damagedTooth ? `damaged reluctor tooth ${damagedTooth}` : null,
+  );
 }

@@ -8,8 +8,21 @@ import { vinCheckDigit } from "../shared/domain/vin";
 
 /** Model-year codes of position 10 for 2010–2024 (the 30-year cycle without I, O, Q, U, Z, 0). */
 const YEAR_CODES: Record<number, string> = {
-  2010: "A", 2011: "B", 2012: "C", 2013: "D", 2014: "E", 2015: "F", 2016: "G", 2017: "H",
-  2018: "J", 2019: "K", 2020: "L", 2021: "M", 2022: "N", 2023: "P", 2024: "R",
+  2010: "A",
+  2011: "B",
+  2012: "C",
+  2013: "D",
+  2014: "E",
+  2015: "F",
+  2016: "G",
+  2017: "H",
+  2018: "J",
+  2019: "K",
+  2020: "L",
+  2021: "M",
+  2022: "N",
+  2023: "P",
+  2024: "R",
 };
 
 /** Invented manufacturer prefixes (positions 1–3) per invented make. */
@@ -24,10 +37,15 @@ export function demoVin(make: string, descriptor: string, year: number, serial: 
   if (!wmi) throw new Error(`no demo prefix for make ${make}`);
   if (!/^[A-HJ-NPR-Z0-9]{5}$/.test(descriptor)) throw new Error(`descriptor must be 5 VIN characters: ${descriptor}`);
   // position 7 (the descriptor's 4th character) is a letter for 2010 and later (49 CFR 565.15(b))
-  if (!/[A-Z]/.test(descriptor[3])) throw new Error(`descriptor's 4th character must be a letter for a model year from 2010: ${descriptor}`);
+  if (!/[A-Z]/.test(descriptor[3]))
+    throw new Error(`descriptor's 4th character must be a letter for a model year from 2010: ${descriptor}`);
   const yc = YEAR_CODES[year];
   if (!yc) throw new Error(`no year code for ${year}`);
-  const tail = `A${"BCD"[serial % 3]}${String(serial % 100).padStart(2, "0")}${String(serial % 1000).padStart(3, "0")}`.slice(0, 7);
+  const tail =
+    `A${"BCD"[serial % 3]}${String(serial % 100).padStart(2, "0")}${String(serial % 1000).padStart(3, "0")}`.slice(
+      0,
+      7,
+    );
   const draft = `${wmi}${descriptor}0${yc}${tail}`;
   return draft.slice(0, 8) + vinCheckDigit(draft) + draft.slice(9);
 }

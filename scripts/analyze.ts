@@ -69,14 +69,18 @@ function parseArgs(argv: string[]): Args {
   };
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
-    const [flag, inline] = a.startsWith("--") && a.includes("=") ? [a.slice(0, a.indexOf("=")), a.slice(a.indexOf("=") + 1)] : [a, undefined];
+    const [flag, inline] =
+      a.startsWith("--") && a.includes("=")
+        ? [a.slice(0, a.indexOf("=")), a.slice(a.indexOf("=") + 1)]
+        : [a, undefined];
     const value = () => (inline !== undefined ? inline : argv[++i]);
     switch (flag) {
       case "--json":
         break;
       case "--kind": {
         const k = value();
-        if (!(traceKinds as readonly string[]).includes(k ?? "")) throw new UsageError(`--kind must be one of ${traceKinds.join(", ")}`);
+        if (!(traceKinds as readonly string[]).includes(k ?? ""))
+          throw new UsageError(`--kind must be one of ${traceKinds.join(", ")}`);
         kind = k as TraceKind;
         break;
       }
@@ -88,15 +92,15 @@ function parseArgs(argv: string[]): Args {
         break;
       case "--probe": {
         const p = value();
-        if (!(probeKinds as readonly string[]).includes(p ?? "")) throw new UsageError(`--probe must be one of ` +
-          `${probeKinds.join(", ")}`);
+        if (!(probeKinds as readonly string[]).includes(p ?? ""))
+          throw new UsageError(`--probe must be one of ` + `${probeKinds.join(", ")}`);
         settings.probe = p as ProbeKind;
         break;
       }
       case "--ground-offset":
         settings.groundOffsetDiv = num(flag, value());
-        if (Math.abs(settings.groundOffsetDiv) > 4) throw new UsageError("--ground-offset must be between -4 and " +
-          "4 divisions");
+        if (Math.abs(settings.groundOffsetDiv) > 4)
+          throw new UsageError("--ground-offset must be between -4 and " + "4 divisions");
         break;
       case "--cylinder":
         settings.cylinder = num(flag, value(), { positive: true, integer: true });

@@ -59,7 +59,10 @@ async function checkPorts(plan: ClusterPlan): Promise<void> {
   const all = [plan.port, ...plan.nodePorts, plan.redisPort, plan.libsqlPort, plan.mailPort, plan.stripePort];
   const busy: number[] = [];
   for (const p of all) if (!(await portFree(p))) busy.push(p);
-  if (busy.length) throw new Error(`Port${busy.length > 1 ? "s" : ""} ${busy.join(", ")} already in use (a cluster or \`npm start\` still running?). Stop it or choose another PORT.`);
+  if (busy.length)
+    throw new Error(
+      `Port${busy.length > 1 ? "s" : ""} ${busy.join(", ")} already in use (a cluster or \`npm start\` still running?). Stop it or choose another PORT.`,
+    );
 }
 
 function writeConfigs(plan: ClusterPlan): { haproxy: string; redis: string } {
@@ -72,12 +75,22 @@ function writeConfigs(plan: ClusterPlan): { haproxy: string; redis: string } {
 }
 
 /** A process's exit as a reason for waitFor to give up. */
-const exitReason = (p: Supervised) => () => (p.exited ? `exited (${p.exited.signal ?? `code ${p.exited.code}`}); its log ${p.logFile}:\n${tail(p.logFile)}` : null);
+const exitReason = (p: Supervised) => () =>
+  p.exited ? `exited (${p.exited.signal ?? `code ${p.exited.code}`}); its log ${p.logFile}:\n${tail(p.logFile)}` : null;
 
 async function startStores(sup: Supervisor, plan: ClusterPlan, bins: Binaries, redisConf: string): Promise<void> {
   const redis = sup.start("redis", bins.redis, [redisConf]);
-  const sqldArgs = ["--db-path", plan.libsqlDir, "--http-listen-addr", `127.0.0.1:${plan.libsqlPort}`, "--no-welcome", "--disable-metrics"];
-  const libsql = sup.start("libsql", bins.sqld, sqldArgs, { env: { ...process.env, RUST_LOG: process.env.RUST_LOG ?? "warn" } });
+  const sqldArgs = [
+    "--db-path",
+    plan.libsqlDir,
+    "--http-listen-addr",
+    `127.0.0.1:${plan.libsqlPort}`,
+    "--no-welcome",
+    "--disable-metrics",
+  ];
+  const libsql = sup.start("libsql", bins.sqld, sqldArgs, {
+    env: { ...process.env, RUST_LOG: process.env.RUST_LOG ?? "warn" },
+  });
   await Promise.all([
     waitFor("Redis", () => redisPing(plan.redisPort), 15_000, exitReason(redis)),
     waitFor("The libSQL server", () => httpOk(`${plan.libsqlUrl}/health`), 15_000, exitReason(libsql)),
@@ -93,20 +106,32 @@ interface Prepared {
 /** Migrations and the demo seed, once, in a child process with the nodes' environment. */
 async function prepare(sup: Supervisor, plan: ClusterPlan, fakes: LocalFakes): Promise<Prepared> {
   const env = nodeEnv(plan, fakes, 0);
-  const p = sup.start("prepare", process.execPath, ["--import", "tsx", "scripts/cluster/prepare.ts"], { env, critical: false });
+  const p = sup.start("prepare", process.execPath, ["--import", "tsx", "scripts/cluster/prepare.ts"], {
+    env,
+    critical: false,
+  });
   await new Promise<void>((resolve) => (p.exited ? resolve() : p.child.once("exit", () => resolve())));
   // the log is appended to across runs: this run's line is the last one
-  const line = fs.readFileSync(p.logFile, "utf8").split("\n").findLast((l) => l.startsWith("PREPARED "));
-  if (p.exited?.code !== 0 || !line) throw new Error(`Preparing the database failed; its log ${p.logFile}:\n${tail(p.logFile)}`);
+  const line = fs
+    .readFileSync(p.logFile, "utf8")
+    .split("\n")
+    .findLast((l) => l.startsWith("PREPARED "));
+  if (p.exited?.code !== 0 || !line)
+    throw new Error(`Preparing the database failed; its log ${p.logFile}:\n${tail(p.logFile)}`);
   return JSON.parse(line.slice("PREPARED ".length)) as Prepared;
 }
 
 async function startNodes(sup: Supervisor, plan: ClusterPlan, fakes: LocalFakes): Promise<void> {
   const started = plan.nodePorts.map((port, i) =>
-    sup.start(`node-${i + 1}`, process.execPath, ["--import", "tsx", "scripts/start.ts"], { env: nodeEnv(plan, fakes, port), critical: false }),
+    sup.start(`node-${i + 1}`, process.execPath, ["--import", "tsx", "scripts/start.ts"], {
+      env: nodeEnv(plan, fakes, port),
+      critical: false,
+    }),
   );
   await Promise.all(
-    started.map((p, i) => waitFor(`Node ${i + 1}`, () => httpOk(`http://127.0.0.1:${plan.nodePorts[i]}/api/health`), 60_000, exitReason(p))),
+    started.map((p, i) =>
+      waitFor(`Node ${i + 1}`, () => httpOk(`http://127.0.0.1:${plan.nodePorts[i]}/api/health`), 60_000, exitReason(p)),
+    ),
   );
 }
 
@@ -136,7 +161,9 @@ function printSummary(plan: ClusterPlan, prepared: Prepared, fakes: LocalFakes):
   say(`  Redis             ${plan.redisUrl}`);
   const migrations = prepared.libsqlMigrations === null ? "" : `, ${prepared.libsqlMigrations} migrations applied`;
   say(`  libSQL server     ${plan.libsqlUrl}${migrations} (its database in ${rel(plan.libsqlDir)}/)`);
-  say(`  mail catcher      smtp://127.0.0.1:${fakes.mail.port} (caught mail in ${rel(path.join(plan.dataDir, "mail"))}/)`);
+  say(
+    `  mail catcher      smtp://127.0.0.1:${fakes.mail.port} (caught mail in ${rel(path.join(plan.dataDir, "mail"))}/)`,
+  );
   say(`  Stripe fake       ${fakes.stripe.url}`);
   say(`  data              ${plan.dataDir} (logs in ${rel(plan.logsDir)}/)`);
   if (prepared.demo) {
@@ -191,8 +218,13 @@ async function main(): Promise<void> {
   }, 1000).unref();
   sup.onUnexpectedExit = (p) => {
     const how = p.exited?.signal ?? `code ${p.exited?.code}`;
-    if (!p.critical) return p.name.startsWith("node-") && say(`${p.name} exited (${how}); the balancer sends its traffic to the others.`);
-    console.error(`${p.name} stopped unexpectedly (${how}); stopping the cluster. Its log ${p.logFile}:\n${tail(p.logFile)}`);
+    if (!p.critical)
+      return (
+        p.name.startsWith("node-") && say(`${p.name} exited (${how}); the balancer sends its traffic to the others.`)
+      );
+    console.error(
+      `${p.name} stopped unexpectedly (${how}); stopping the cluster. Its log ${p.logFile}:\n${tail(p.logFile)}`,
+    );
     void stop(1);
   };
 
@@ -200,11 +232,20 @@ async function main(): Promise<void> {
     await startStores(sup, plan, bins, cfg.redis);
     const webhookSecret = process.env.STRIPE_WEBHOOK_SECRET || WEBHOOK_SECRET_DEFAULT;
     const webhookUrl = `${plan.frontUrl}/api/webhooks/stripe`;
-    fakes = await startLocalFakes({ dataDir: plan.dataDir, mailPort: plan.mailPort, stripePort: plan.stripePort, webhookUrl, webhookSecret });
+    fakes = await startLocalFakes({
+      dataDir: plan.dataDir,
+      mailPort: plan.mailPort,
+      stripePort: plan.stripePort,
+      webhookUrl,
+      webhookSecret,
+    });
     const prepared = await prepare(sup, plan, fakes);
     await startNodes(sup, plan, fakes);
     await startBalancer(sup, plan, bins, cfg.haproxy);
-    fs.writeFileSync(path.join(plan.runDir, "pids.json"), JSON.stringify({ launcher: process.pid, ...sup.pids() }, null, 2));
+    fs.writeFileSync(
+      path.join(plan.runDir, "pids.json"),
+      JSON.stringify({ launcher: process.pid, ...sup.pids() }, null, 2),
+    );
     printSummary(plan, prepared, fakes);
   } catch (err) {
     console.error(err instanceof Error ? err.message : err);

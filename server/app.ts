@@ -33,7 +33,10 @@ export function createApp(ctx: AppContext, opts: { clientDir?: string } = {}): C
       logger: ctx.logger,
       customLogLevel: requestLogLevel(ctx.env),
       autoLogging: { ignore: (req) => req.url === "/api/health" || req.url === "/api/health/live" },
-      serializers: { req: (req) => ({ id: req.id, method: req.method, url: redactUrl(req.url) }), res: (res) => ({ statusCode: res.statusCode }) },
+      serializers: {
+        req: (req) => ({ id: req.id, method: req.method, url: redactUrl(req.url) }),
+        res: (res) => ({ statusCode: res.statusCode }),
+      },
     }),
   );
   app.use(
@@ -44,7 +47,12 @@ export function createApp(ctx: AppContext, opts: { clientDir?: string } = {}): C
           "img-src": ["'self'", "data:", "blob:"],
           "style-src": ["'self'", "'unsafe-inline'"],
           "connect-src": ["'self'", "ws:", "wss:"],
-          "form-action": ["'self'", ...(ctx.env.STRIPE_API_BASE ? [ctx.env.STRIPE_API_BASE] : []), "http://localhost:*", "http://127.0.0.1:*"],
+          "form-action": [
+            "'self'",
+            ...(ctx.env.STRIPE_API_BASE ? [ctx.env.STRIPE_API_BASE] : []),
+            "http://localhost:*",
+            "http://127.0.0.1:*",
+          ],
           "upgrade-insecure-requests": null,
         },
       },
@@ -53,7 +61,10 @@ export function createApp(ctx: AppContext, opts: { clientDir?: string } = {}): C
   );
 
   const isWebhook = (p: string) => p.startsWith("/api/webhooks/");
-  app.use("/api", crossSiteGuard(allowedOrigins(ctx), (p) => isWebhook("/api" + p)));
+  app.use(
+    "/api",
+    crossSiteGuard(allowedOrigins(ctx), (p) => isWebhook("/api" + p)),
+  );
   // JSON routes take JSON only (415 otherwise); uploads take multipart; webhooks take their raw body.
   const bodyType = requireBodyType();
   app.use("/api", (req, res, next) => (isWebhook("/api" + req.path) ? next() : bodyType(req, res, next)));

@@ -44,8 +44,16 @@ export const envSchema = z.object({
   STRIPE_WEBHOOK_SECRET: z.string().default("whsec_burnline_local"),
   STRIPE_API_BASE: z.string().url().optional(),
   FAKE_STRIPE_PORT: z.coerce.number().int().min(0).default(3012),
-  MAX_TRACE_BYTES: z.coerce.number().int().positive().default(200 * 1024 * 1024),
-  MAX_PHOTO_BYTES: z.coerce.number().int().positive().default(15 * 1024 * 1024),
+  MAX_TRACE_BYTES: z.coerce
+    .number()
+    .int()
+    .positive()
+    .default(200 * 1024 * 1024),
+  MAX_PHOTO_BYTES: z.coerce
+    .number()
+    .int()
+    .positive()
+    .default(15 * 1024 * 1024),
   /** upload pool threads (server/uploads/pool.ts); 0 = one per core but one, at least one */
   UPLOAD_WORKERS: z.coerce.number().int().min(0).max(64).default(0),
   /** captures that may wait for a pool thread before new ones are refused with 503 busy */
@@ -63,7 +71,12 @@ export const envSchema = z.object({
   TAX_RATE_PERCENT: z.coerce.number().min(0).max(100).default(7.5),
 });
 
-export type Env = Omit<z.infer<typeof envSchema>, "DEMO"> & { DEMO: boolean; publicUrl: string; dataDir: string; secureCookies: boolean };
+export type Env = Omit<z.infer<typeof envSchema>, "DEMO"> & {
+  DEMO: boolean;
+  publicUrl: string;
+  dataDir: string;
+  secureCookies: boolean;
+};
 
 export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
   const parsed = envSchema.safeParse(source);
@@ -74,9 +87,12 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
   const e = parsed.data;
   if (e.NODE_ENV === "production") {
     const problems: string[] = [];
-    if (e.AUTH_SECRET.startsWith("burnline-local-")) problems.push("AUTH_SECRET: set a secret of your own in production");
-    if (e.STRIPE_WEBHOOK_SECRET === "whsec_burnline_local") problems.push("STRIPE_WEBHOOK_SECRET: set the webhook signing secret of your Stripe account");
-    if (e.STRIPE_SECRET_KEY.startsWith("sk_test_burnline")) problems.push("STRIPE_SECRET_KEY: set the secret key of your Stripe account");
+    if (e.AUTH_SECRET.startsWith("burnline-local-"))
+      problems.push("AUTH_SECRET: set a secret of your own in production");
+    if (e.STRIPE_WEBHOOK_SECRET === "whsec_burnline_local")
+      problems.push("STRIPE_WEBHOOK_SECRET: set the webhook signing secret of your Stripe account");
+    if (e.STRIPE_SECRET_KEY.startsWith("sk_test_burnline"))
+      problems.push("STRIPE_SECRET_KEY: set the secret key of your Stripe account");
     if (e.DEMO) problems.push("DEMO: the demo accounts have a published password; they cannot be on in production");
     if (problems.length) throw new Error(`Invalid configuration:\n${problems.map((p) => `  ${p}`).join("\n")}`);
   }

@@ -1,7 +1,7 @@
 import http from "node:http";
 import path from "node:path";
 import type { Logger } from "pino";
-import Stripe from "stripe";
+import type Stripe from "stripe";
 import { loadEnv, type Env } from "./env";
 import { openDatabase, type Db } from "./db/client";
 import { createApp } from "./app";
@@ -81,7 +81,10 @@ export async function startServer(
 
   let db: Db;
   try {
-    db = await openDatabase(env.DATABASE_URL, { authToken: env.DATABASE_AUTH_TOKEN, concurrency: env.DATABASE_CONCURRENCY });
+    db = await openDatabase(env.DATABASE_URL, {
+      authToken: env.DATABASE_AUTH_TOKEN,
+      concurrency: env.DATABASE_CONCURRENCY,
+    });
   } catch (err) {
     server.close();
     throw err;
@@ -99,43 +102,12 @@ export async function startServer(
     }
   }
 
-  let mailCatcher: RunningServer["mailCatcher"] = null;
-  let smtp = { host: env.SMTP_HOST, port: env.SMTP_PORT };
-  if (!env.SMTP_HOST) {
-    mailCatcher = await startMailCatcher({ port: env.MAIL_CATCHER_PORT, host: "127.0.0.1", storeDir: path.join(env.dataDir, "mail") });
-    smtp = { host: "127.0.0.1", port: mailCatcher.port };
-  }
-  const transport = createMailer({
-    host: smtp.host!,
-    port: smtp.port!,
-    secure: env.SMTP_SECURE,
-    user: env.SMTP_USER,
-    pass: env.SMTP_PASS,
-    from: env.MAIL_FROM,
-    pool: true,
-  });
+  const { mailCatcher, transport } = await startMail(env);
   const pollMs = env.NODE_ENV === "test" ? 500 : undefined;
   const dispatcher = startMailDispatcher({ db, transport, logger: log, ...(pollMs ? { pollMs } : {}) });
   parts.mail();
 
-  let fakeStripe: RunningServer["fakeStripe"] = null;
-  let apiBase = env.STRIPE_API_BASE;
-  const realStripe = env.STRIPE_SECRET_KEY.startsWith("sk_live_") || (env.STRIPE_SECRET_KEY.startsWith("sk_test_") && !env.STRIPE_SECRET_KEY.startsWith("sk_test_burnline"));
-  if (!apiBase && !realStripe) {
-    // The hosted checkout opens on the app's own host name (localhost vs 127.0.0.1), so the browser
-    // comes back to the app with the same cookies; on a LAN name it listens where the app does.
-    const publicHost = new URL(resolvedEnv.publicUrl).hostname;
-    fakeStripe = await startFakeStripe({
-      port: env.FAKE_STRIPE_PORT,
-      host: LOOPBACK_NAMES.has(publicHost) ? "127.0.0.1" : env.HOST,
-      publicHost,
-      webhookSecret: env.STRIPE_WEBHOOK_SECRET,
-      webhookUrl: `http://127.0.0.1:${port}/api/webhooks/stripe`,
-      stateFile: env.NODE_ENV === "test" ? undefined : path.join(env.dataDir, "fake-stripe.json"),
-    });
-    apiBase = fakeStripe.url;
-  }
-  const stripe: Stripe = createStripeClient({ secretKey: env.STRIPE_SECRET_KEY, apiBase });
+  const { fakeStripe, apiBase, stripe } = await startPayments(env, resolvedEnv, port);
   parts.payments();
 
   const ctx: AppContext = {
@@ -213,9 +185,60 @@ export async function startServer(
   };
 }
 
+/** The mail transport: the configured SMTP server, or the local mail catcher when none is set. */
+async function startMail(env: Env) {
+  let mailCatcher: RunningServer["mailCatcher"] = null;
+  let smtp = { host: env.SMTP_HOST, port: env.SMTP_PORT };
+  if (!env.SMTP_HOST) {
+    mailCatcher = await startMailCatcher({
+      port: env.MAIL_CATCHER_PORT,
+      host: "127.0.0.1",
+      storeDir: path.join(env.dataDir, "mail"),
+    });
+    smtp = { host: "127.0.0.1", port: mailCatcher.port };
+  }
+  const transport = createMailer({
+    host: smtp.host!,
+    port: smtp.port!,
+    secure: env.SMTP_SECURE,
+    user: env.SMTP_USER,
+    pass: env.SMTP_PASS,
+    from: env.MAIL_FROM,
+    pool: true,
+  });
+  return { mailCatcher, transport };
+}
+
+/** The payment service's SDK client: the real service when configured, or the local fake started here. */
+async function startPayments(env: Env, resolvedEnv: Env, port: number) {
+  let fakeStripe: RunningServer["fakeStripe"] = null;
+  let apiBase = env.STRIPE_API_BASE;
+  const realStripe =
+    env.STRIPE_SECRET_KEY.startsWith("sk_live_") ||
+    (env.STRIPE_SECRET_KEY.startsWith("sk_test_") && !env.STRIPE_SECRET_KEY.startsWith("sk_test_burnline"));
+  if (!apiBase && !realStripe) {
+    // The hosted checkout opens on the app's own host name (localhost vs 127.0.0.1), so the browser
+    // comes back to the app with the same cookies; on a LAN name it listens where the app does.
+    const publicHost = new URL(resolvedEnv.publicUrl).hostname;
+    fakeStripe = await startFakeStripe({
+      port: env.FAKE_STRIPE_PORT,
+      host: LOOPBACK_NAMES.has(publicHost) ? "127.0.0.1" : env.HOST,
+      publicHost,
+      webhookSecret: env.STRIPE_WEBHOOK_SECRET,
+      webhookUrl: `http://127.0.0.1:${port}/api/webhooks/stripe`,
+      stateFile: env.NODE_ENV === "test" ? undefined : path.join(env.dataDir, "fake-stripe.json"),
+    });
+    apiBase = fakeStripe.url;
+  }
+  const stripe: Stripe = createStripeClient({ secretKey: env.STRIPE_SECRET_KEY, apiBase });
+  return { fakeStripe, apiBase, stripe };
+}
+
 /** The workflow's sweeps, the queue sweep's period set by QUEUE_SWEEP_MS when given. */
 function sweepsFor(env: Env): Sweep[] {
-  return workflowSweeps.map((s) => (s.name === "queue" && env.QUEUE_SWEEP_MS ? { ...s, everyMs: env.QUEUE_SWEEP_MS } : s));
+  return workflowSweeps.map((s) =>
+    s.name === "queue" && env.QUEUE_SWEEP_MS ? { ...s, everyMs: env.QUEUE_SWEEP_MS } : s,
+  );
 }
 
 /** Answers while the app is being built: health (503 with what is pending), liveness (200), anything else 503. */

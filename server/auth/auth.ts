@@ -73,7 +73,13 @@ export function createAuth(ctx: AppContext) {
     trustedOrigins: trustedOrigins(ctx),
     database: drizzleAdapter(ctx.db.orm, {
       provider: "sqlite",
-      schema: { user: schema.user, session: schema.session, account: schema.account, verification: schema.verification, rateLimit: schema.rateLimit },
+      schema: {
+        user: schema.user,
+        session: schema.session,
+        account: schema.account,
+        verification: schema.verification,
+        rateLimit: schema.rateLimit,
+      },
     }),
     emailAndPassword: {
       enabled: true,
@@ -123,10 +129,17 @@ export function createAuth(ctx: AppContext) {
         create: {
           before: async (session) => {
             const u = await ctx.db.read((tx) =>
-              tx.select({ deactivatedAt: schema.user.deactivatedAt }).from(schema.user).where(eq(schema.user.id, session.userId)).get(),
+              tx
+                .select({ deactivatedAt: schema.user.deactivatedAt })
+                .from(schema.user)
+                .where(eq(schema.user.id, session.userId))
+                .get(),
             );
             if (!u || u.deactivatedAt) {
-              throw new APIError("FORBIDDEN", { code: "ACCOUNT_DEACTIVATED", message: "This account has been removed from its shop. Ask the shop's owner for a new invitation." });
+              throw new APIError("FORBIDDEN", {
+                code: "ACCOUNT_DEACTIVATED",
+                message: "This account has been removed from its shop. Ask the shop's owner for a new invitation.",
+              });
             }
           },
         },
@@ -240,7 +253,10 @@ async function signInOutcome(res: Response): Promise<Outcome> {
     const code = await res
       .clone()
       .json()
-      .then((b: unknown) => (b as { code?: string } | null)?.code, () => undefined);
+      .then(
+        (b: unknown) => (b as { code?: string } | null)?.code,
+        () => undefined,
+      );
     if (code === "EMAIL_NOT_VERIFIED" || code === "ACCOUNT_DEACTIVATED") return "success";
   }
   return "other";
@@ -248,7 +264,9 @@ async function signInOutcome(res: Response): Promise<Outcome> {
 
 async function mailOwnerAboutFailures(ctx: AppContext, email: string): Promise<void> {
   try {
-    const u = await ctx.db.read((tx) => tx.select().from(schema.user).where(eq(schema.user.email, email.toLowerCase())).get());
+    const u = await ctx.db.read((tx) =>
+      tx.select().from(schema.user).where(eq(schema.user.email, email.toLowerCase())).get(),
+    );
     if (!u || u.deactivatedAt) return;
     const content = mails.signInFailures(u.name, `${ctx.env.publicUrl}/forgot-password`);
     await sendMail(ctx, u.email, content, { kind: "sign_in_failures" });
@@ -270,8 +288,18 @@ function trustedOrigins(ctx: AppContext): string[] {
 }
 
 /** A verification link for an account our own routes created (same token better-auth's /verify-email checks). */
-export async function verificationUrl(ctx: AppContext, user: { id: string; email: string }, callbackPath = "/sign-in?verified=1"): Promise<string> {
-  const token = await createEmailVerificationToken(ctx.env.AUTH_SECRET, user.email, undefined, EMAIL_VERIFICATION_TTL_S, { userId: user.id });
+export async function verificationUrl(
+  ctx: AppContext,
+  user: { id: string; email: string },
+  callbackPath = "/sign-in?verified=1",
+): Promise<string> {
+  const token = await createEmailVerificationToken(
+    ctx.env.AUTH_SECRET,
+    user.email,
+    undefined,
+    EMAIL_VERIFICATION_TTL_S,
+    { userId: user.id },
+  );
   return `${ctx.env.publicUrl}${AUTH_BASE_PATH}/verify-email?token=${token}&callbackURL=${encodeURIComponent(callbackPath)}`;
 }
 
@@ -279,7 +307,10 @@ function jsonError(status: number, code: string, message: string, details?: unkn
   const h = new Headers(headers);
   h.set("content-type", "application/json; charset=utf-8");
   h.delete("content-length");
-  return new Response(JSON.stringify({ error: { code, message, ...(details !== undefined ? { details } : {}) } }), { status, headers: h });
+  return new Response(JSON.stringify({ error: { code, message, ...(details !== undefined ? { details } : {}) } }), {
+    status,
+    headers: h,
+  });
 }
 
 /** Our schemas (field messages, common-password refusal on reset/change) run before better-auth's own checks. */
@@ -306,7 +337,12 @@ async function validateFirst(
   if (!parsed.success) {
     const fields = zodIssues(parsed.error);
     const first = fields[0];
-    return jsonError(400, "validation_failed", `Check the request body: ${first ? `${first.path ? first.path + ": " : ""}${first.message}` : "invalid input"}`, { fields });
+    return jsonError(
+      400,
+      "validation_failed",
+      `Check the request body: ${first ? `${first.path ? first.path + ": " : ""}${first.message}` : "invalid input"}`,
+      { fields },
+    );
   }
   const headers = new Headers(request.headers);
   headers.delete("content-length");
@@ -315,12 +351,27 @@ async function validateFirst(
 }
 
 const MESSAGES: Record<string, [code: string, message: string]> = {
-  INVALID_EMAIL_OR_PASSWORD: ["invalid_credentials", "The e-mail address or the password is wrong. Check both, or reset your password."],
-  EMAIL_NOT_VERIFIED: ["email_not_verified", "Confirm your e-mail address first: open the link in the mail we sent you. We have just sent a new one."],
-  INVALID_TOKEN: ["invalid_token", "This link is not valid any more: it has been used or has expired. Ask for a new one."],
+  INVALID_EMAIL_OR_PASSWORD: [
+    "invalid_credentials",
+    "The e-mail address or the password is wrong. Check both, or reset your password.",
+  ],
+  EMAIL_NOT_VERIFIED: [
+    "email_not_verified",
+    "Confirm your e-mail address first: open the link in the mail we sent you. We have just sent a new one.",
+  ],
+  INVALID_TOKEN: [
+    "invalid_token",
+    "This link is not valid any more: it has been used or has expired. Ask for a new one.",
+  ],
   TOKEN_EXPIRED: ["invalid_token", "This link has expired. Ask for a new one."],
-  ACCOUNT_DEACTIVATED: ["account_deactivated", "This account has been removed from its shop. Ask the shop's owner for a new invitation."],
-  EMAIL_PASSWORD_SIGN_UP_DISABLED: ["not_found", "Sign up a shop at /api/shops/sign-up or apply as an expert at /api/experts/apply."],
+  ACCOUNT_DEACTIVATED: [
+    "account_deactivated",
+    "This account has been removed from its shop. Ask the shop's owner for a new invitation.",
+  ],
+  EMAIL_PASSWORD_SIGN_UP_DISABLED: [
+    "not_found",
+    "Sign up a shop at /api/shops/sign-up or apply as an expert at /api/experts/apply.",
+  ],
   INVALID_PASSWORD: ["invalid_password", "The current password is wrong."],
 };
 
@@ -366,7 +417,7 @@ export function stripSessionTokens(body: unknown): boolean {
 /** better-auth answers `{ code, message }`; the rest of the API answers `{ error: { code, message, details? } }`. */
 async function withOurErrors(res: Response): Promise<Response> {
   if (res.status < 400) return res;
-  let body: any = null;
+  let body: { code?: unknown; message?: unknown; error?: { code?: unknown } } | null;
   try {
     const text = await res.clone().text();
     body = text ? JSON.parse(text) : null;
@@ -378,19 +429,50 @@ async function withOurErrors(res: Response): Promise<Response> {
   if (res.status === 429) {
     const retry = Number(res.headers.get("x-retry-after") ?? 60);
     headers.set("Retry-After", String(retry));
-    return jsonError(429, "rate_limited", `Too many attempts. Wait ${retry} seconds, then try again.`, { retryAfterSeconds: retry }, headers);
+    return jsonError(
+      429,
+      "rate_limited",
+      `Too many attempts. Wait ${retry} seconds, then try again.`,
+      { retryAfterSeconds: retry },
+      headers,
+    );
   }
   const upstream = String(body?.code ?? "");
   if (upstream === "PASSWORD_TOO_SHORT" || upstream === "PASSWORD_TOO_LONG") {
     const message = upstream === "PASSWORD_TOO_SHORT" ? "Use at least 8 characters." : "Use at most 128 characters.";
-    return jsonError(400, "validation_failed", `Check the request body: password: ${message}`, { fields: [{ path: "password", message }] }, headers);
+    return jsonError(
+      400,
+      "validation_failed",
+      `Check the request body: password: ${message}`,
+      { fields: [{ path: "password", message }] },
+      headers,
+    );
   }
   if (upstream === "VALIDATION_ERROR") {
-    return jsonError(400, "validation_failed", `Check the request: ${body?.message ?? "invalid input"}`, undefined, headers);
+    return jsonError(
+      400,
+      "validation_failed",
+      `Check the request: ${body?.message ?? "invalid input"}`,
+      undefined,
+      headers,
+    );
   }
   const mapped = MESSAGES[upstream];
-  if (mapped) return jsonError(upstream === "EMAIL_PASSWORD_SIGN_UP_DISABLED" ? 404 : res.status, mapped[0], mapped[1], undefined, headers);
+  if (mapped)
+    return jsonError(
+      upstream === "EMAIL_PASSWORD_SIGN_UP_DISABLED" ? 404 : res.status,
+      mapped[0],
+      mapped[1],
+      undefined,
+      headers,
+    );
   if (res.status === 404) return jsonError(404, "not_found", "No such endpoint.", undefined, headers);
-  const code = upstream ? upstream.toLowerCase() : res.status === 403 ? "forbidden" : res.status === 401 ? "unauthenticated" : "bad_request";
+  const code = upstream
+    ? upstream.toLowerCase()
+    : res.status === 403
+      ? "forbidden"
+      : res.status === 401
+        ? "unauthenticated"
+        : "bad_request";
   return jsonError(res.status, code, String(body?.message ?? res.statusText ?? "Request refused."), undefined, headers);
 }

@@ -25,7 +25,10 @@ export function renderAccountMail(m: MailContent): { subject: string; text: stri
  */
 export async function sendMail(ctx: AppContext, to: string, m: MailContent, opts: EnqueueOptions = {}): Promise<void> {
   const r = renderAccountMail(m);
-  await ctx.mailer.enqueue({ to, subject: r.subject, text: r.text, html: r.html }, { kind: opts.kind ?? "account", ...opts });
+  await ctx.mailer.enqueue(
+    { to, subject: r.subject, text: r.text, html: r.html },
+    { kind: opts.kind ?? "account", ...opts },
+  );
 }
 
 /**
@@ -35,7 +38,11 @@ export async function sendMail(ctx: AppContext, to: string, m: MailContent, opts
  * in a subject: subjects carry no user-chosen text at all.
  */
 export function quoted(userText: string): string {
-  const oneLine = userText.replace(/[\u0000-\u001f\u007f\u2028\u2029]+/g, " ").replace(/\s+/g, " ").trim();
+  const oneLine = userText
+    // eslint-disable-next-line no-control-regex -- control characters are exactly what is removed
+    .replace(/[\u0000-\u001f\u007f\u2028\u2029]+/g, " ")
+    .replace(/\s+/g, " ")
+    .trim();
   const cut = oneLine.length > 80 ? `${oneLine.slice(0, 79)}…` : oneLine;
   const unlinked = cut
     .replace(/\b([a-z][a-z0-9+.-]*):\/\//gi, "$1 ")
@@ -73,9 +80,13 @@ export const mails = {
   resetPassword: (name: string, url: string): MailContent => ({
     subject: "Reset your Burnline password",
     heading: greeting(name),
-    lines: ["We received a request to reset your password. Choose a new one with the link below.", "Resetting signs you out everywhere."],
+    lines: [
+      "We received a request to reset your password. Choose a new one with the link below.",
+      "Resetting signs you out everywhere.",
+    ],
     action: { label: "Choose a new password", url },
-    footer: "The link works once, for 1 hour. If you did not ask for this, ignore this mail: your password stays as it is.",
+    footer:
+      "The link works once, for 1 hour. If you did not ask for this, ignore this mail: your password stays as it is.",
   }),
   /**
    * Invitations: the subject is fixed (names chosen by users never appear in it); the body quotes
@@ -124,8 +135,12 @@ export const mails = {
     subject: approved ? "Your Burnline expert application is approved" : "Your Burnline expert application",
     heading: greeting(name),
     lines: approved
-      ? ["Your application to review cases on Burnline is approved. Sign in and set yourself available to start taking cases from the queue."]
-      : ["Thank you for applying to review cases on Burnline. We are not able to approve your application at this time."],
+      ? [
+          "Your application to review cases on Burnline is approved. Sign in and set yourself available to start taking cases from the queue.",
+        ]
+      : [
+          "Thank you for applying to review cases on Burnline. We are not able to approve your application at this time.",
+        ],
     ...(note ? { footer: `Note from the desk: ${note}` } : {}),
     action: { label: "Open Burnline", url },
   }),

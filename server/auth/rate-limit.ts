@@ -18,14 +18,17 @@ export interface RateRule {
 export async function hitRateLimit(ctx: AppContext, key: string, rule: RateRule): Promise<number | null> {
   const now = ctx.now().getTime();
   const windowMs = rule.window * 1000;
-  const [row] = await ctx.db.write((tx) => tx.all<{ count: number; last_request: number }>(sql`
+  const [row] = await ctx.db.write((tx) =>
+    tx.all<{ count: number; last_request: number }>(sql`
     INSERT INTO rate_limit (id, key, count, last_request) VALUES (${crypto.randomUUID()}, ${key}, 1, ${now})
     ON CONFLICT(key) DO UPDATE SET
       count = CASE WHEN ${now} - rate_limit.last_request >= ${windowMs} THEN 1 ELSE rate_limit.count + 1 END,
       last_request = CASE WHEN ${now} - rate_limit.last_request >= ${windowMs}
         THEN ${now} ELSE rate_limit.last_request END
-    RETURNING count, last_request`));
-  if (row && Number(row.count) > rule.max) return Math.max(1, Math.ceil((Number(row.last_request) + windowMs - now) / 1000));
+    RETURNING count, last_request`),
+  );
+  if (row && Number(row.count) > rule.max)
+    return Math.max(1, Math.ceil((Number(row.last_request) + windowMs - now) / 1000));
   return null;
 }
 

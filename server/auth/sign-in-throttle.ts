@@ -97,7 +97,9 @@ export async function reserveSignIn(ctx: AppContext, ip: string, email: string):
   // now and then, forget what no rule looks at any more (addresses typed once, old runs of failures)
   if (Math.random() < 0.01) {
     const before = now - ACCOUNT_FORGET_AFTER_S * 1000;
-    await ctx.db.write((tx) => tx.run(sql`DELETE FROM rate_limit WHERE key LIKE 'signin-%' AND last_request < ${before}`));
+    await ctx.db.write((tx) =>
+      tx.run(sql`DELETE FROM rate_limit WHERE key LIKE 'signin-%' AND last_request < ${before}`),
+    );
   }
 
   let settled = false;
@@ -113,7 +115,8 @@ export async function reserveSignIn(ctx: AppContext, ip: string, email: string):
                 WHERE key = ${aKey} AND last_request = ${addressStart}`,
           );
         if (outcome === "success") await tx.run(sql`DELETE FROM rate_limit WHERE key = ${kKey}`);
-        else if (outcome === "other") await tx.run(sql`UPDATE rate_limit SET count = MAX(0, count - 1) WHERE key = ${kKey}`);
+        else if (outcome === "other")
+          await tx.run(sql`UPDATE rate_limit SET count = MAX(0, count - 1) WHERE key = ${kKey}`);
       });
       return { notifyOwner: outcome === "failure" && failures === ACCOUNT_FREE_FAILURES };
     },

@@ -34,7 +34,7 @@ export async function connectRedis(url: string, logger: Logger): Promise<SharedR
     await client.ping();
   } catch (err) {
     client.disconnect();
-    throw new Error(`Redis at ${url} does not answer: ${(err as Error).message}`);
+    throw new Error(`Redis at ${url} does not answer: ${(err as Error).message}`, { cause: err });
   }
   return {
     url,

@@ -37,7 +37,10 @@ export interface Db extends UnitOfWork {
    * (one `BEGIN … COMMIT` batch); all or nothing. Each result is what awaiting the statement gives:
    * rows for a select or a `.returning()`; use `.returning()` where the outcome matters.
    */
-  batch<T extends readonly [Statement, ...Statement[]]>(mode: "read" | "write", build: (q: Tx) => T): Promise<BatchResponse<T>>;
+  batch<T extends readonly [Statement, ...Statement[]]>(
+    mode: "read" | "write",
+    build: (q: Tx) => T,
+  ): Promise<BatchResponse<T>>;
   /** drizzle on the driver itself, outside units: for better-auth's adapter only */
   readonly orm: Orm;
   /** the better-sqlite3 connection of the `file` driver (null on libSQL) */

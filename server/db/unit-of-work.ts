@@ -67,7 +67,11 @@ export class TransactionTimeoutError extends UnitOfWorkError {
 /** Is this a libSQL client error saying the server has ended the transaction (its lock was taken back)? */
 export function isTransactionTimeout(err: unknown): boolean {
   // drizzle wraps the driver's error (DrizzleQueryError, the driver's one as `cause`)
-  for (let e = err as { code?: unknown; message?: unknown; cause?: unknown } | null, depth = 0; e && depth < 5; depth++) {
+  for (
+    let e = err as { code?: unknown; message?: unknown; cause?: unknown } | null, depth = 0;
+    e && depth < 5;
+    depth++
+  ) {
     if (e.code === "TRANSACTION_TIMEOUT" || /TRANSACTION_TIMEOUT/.test(String(e.message ?? ""))) return true;
     e = e.cause as typeof e;
   }
@@ -228,20 +232,23 @@ export class Gate {
       return await fn();
     } finally {
       const next = this.waiting.shift();
-      if (next) next(); // the turn passes on: `active` stays the same
+      if (next)
+        next(); // the turn passes on: `active` stays the same
       else this.active--;
     }
   }
 }
 
-type LibSQLSessionParts = ConstructorParameters<typeof LibSQLSession> extends [unknown, infer D, infer S, infer O, ...unknown[]]
-  ? { dialect: D; schema: S; options: O }
-  : never;
+type LibSQLSessionParts =
+  ConstructorParameters<typeof LibSQLSession> extends [unknown, infer D, infer S, infer O, ...unknown[]]
+    ? { dialect: D; schema: S; options: O }
+    : never;
 
 function readOnly<T extends object>(tx: T): T {
   return new Proxy(tx, {
     get(target, prop, receiver) {
-      if (typeof prop === "string" && WRITES.has(prop)) throw new UnitOfWorkError(`"${prop}" inside a read unit; use db.write.`);
+      if (typeof prop === "string" && WRITES.has(prop))
+        throw new UnitOfWorkError(`"${prop}" inside a read unit; use db.write.`);
       return Reflect.get(target, prop, receiver);
     },
   });

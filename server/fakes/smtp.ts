@@ -75,7 +75,7 @@ function addressText(a: AddressObject | AddressObject[] | undefined): string {
   if (!a) return "";
   return (Array.isArray(a) ? a : [a])
     .flatMap((x) => x.value)
-    .map((v) => (v.name ? `${v.name} <${v.address ?? ""}>` : v.address ?? ""))
+    .map((v) => (v.name ? `${v.name} <${v.address ?? ""}>` : (v.address ?? "")))
     .join(", ");
 }
 

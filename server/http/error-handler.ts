@@ -30,7 +30,10 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (err?.name === "MulterError") {
     if (err.code === "LIMIT_FILE_SIZE") {
       status = 413;
-      body = { code: "too_large", message: `The file is over the size limit${err.field ? ` for "${err.field}"` : ""}.` };
+      body = {
+        code: "too_large",
+        message: `The file is over the size limit${err.field ? ` for "${err.field}"` : ""}.`,
+      };
     } else {
       status = 400;
       body = { code: "bad_upload", message: `Upload refused: ${err.message}` };
@@ -38,13 +41,17 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (err instanceof TransactionTimeoutError) {
     // the libSQL server took the unit's write lock back: nothing of it was stored (docs/api.md)
     status = 503;
-    body = { code: "database_busy", message: "The database was too busy to finish this; nothing was saved. Try again." };
+    body = {
+      code: "database_busy",
+      message: "The database was too busy to finish this; nothing was saved. Try again.",
+    };
     res.set("Retry-After", "1");
   } else if (typeof err?.status === "number" && err.status >= 400 && err.status < 500) {
     status = err.status;
     body = { code: "bad_request", message: String(err.expose ? err.message : "Bad request.") };
   }
-  if (status >= 500) (req as any).log?.error({ err }, "request failed");
+  // pino-http sets req.log; an app built without it (some tests) has none
+  if (status >= 500) req.log?.error({ err }, "request failed");
   if (res.headersSent) return;
   res.status(status).json({ error: body });
 };

@@ -23,6 +23,7 @@ export function parseWith<S extends z.ZodType>(schema: S, value: unknown, where 
   return r.data;
 }
 
-export const parseBody = <S extends z.ZodType>(schema: S, req: Request) => parseWith(schema, req.body ?? {}, "request body");
+export const parseBody = <S extends z.ZodType>(schema: S, req: Request) =>
+  parseWith(schema, req.body ?? {}, "request body");
 export const parseQuery = <S extends z.ZodType>(schema: S, req: Request) => parseWith(schema, req.query, "query");
 export const parseParams = <S extends z.ZodType>(schema: S, req: Request) => parseWith(schema, req.params, "address");

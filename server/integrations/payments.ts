@@ -66,10 +66,7 @@ export const WEBHOOK_TOLERANCE_SECONDS = 300;
 export const WEBHOOK_FUTURE_SKEW_SECONDS = 30;
 
 export type WebhookVerificationCode =
-  | "signature_missing"
-  | "signature_invalid"
-  | "timestamp_too_old"
-  | "timestamp_in_future";
+  "signature_missing" | "signature_invalid" | "timestamp_too_old" | "timestamp_in_future";
 
 /** A webhook that must be refused; the route answers 400 with this code. */
 export class WebhookVerificationError extends Error {
@@ -122,7 +119,14 @@ export function verifyWebhook(
 
   let event: Stripe.Event;
   try {
-    event = Stripe.webhooks.constructEvent(rawBody, header, secret, WEBHOOK_TOLERANCE_SECONDS, undefined, nowSeconds * 1000);
+    event = Stripe.webhooks.constructEvent(
+      rawBody,
+      header,
+      secret,
+      WEBHOOK_TOLERANCE_SECONDS,
+      undefined,
+      nowSeconds * 1000,
+    );
   } catch (err) {
     if (err instanceof Stripe.errors.StripeSignatureVerificationError) {
       const tooOld = /tolerance/i.test(err.message);

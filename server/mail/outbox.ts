@@ -31,7 +31,11 @@ export interface EnqueueOptions {
 }
 
 /** Writes one row per recipient (inside the caller's unit) and returns the ids. */
-export async function enqueueMail(tx: Tx, mail: OutboxMail, opts: { kind?: string; now?: Date } = {}): Promise<string[]> {
+export async function enqueueMail(
+  tx: Tx,
+  mail: OutboxMail,
+  opts: { kind?: string; now?: Date } = {},
+): Promise<string[]> {
   const now = opts.now ?? new Date();
   const recipients = ([] as string[])
     .concat(mail.to)
@@ -97,7 +101,13 @@ export async function claimRow(
 }
 
 /** Sent: only by the dispatcher holding the claim. The body (one-time links) is cleared. */
-export async function markSent(tx: Tx, id: string, dispatcherId: string, messageId: string, now: Date): Promise<boolean> {
+export async function markSent(
+  tx: Tx,
+  id: string,
+  dispatcherId: string,
+  messageId: string,
+  now: Date,
+): Promise<boolean> {
   const r = await tx
     .update(mailOutbox)
     .set({ status: "sent", sentAt: now, messageId, textBody: null, htmlBody: null, lastError: null })

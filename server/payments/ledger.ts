@@ -78,7 +78,10 @@ export async function ledgerBalance(tx: Tx, scope: string = "all"): Promise<Ledg
     .where(where)
     .groupBy(ledgerEntry.kind)
     .all();
-  const heldWhere = scope === "all" ? eq(payment.status, "authorized") : and(eq(payment.status, "authorized"), eq(payment.caseId, scope));
+  const heldWhere =
+    scope === "all"
+      ? eq(payment.status, "authorized")
+      : and(eq(payment.status, "authorized"), eq(payment.caseId, scope));
   const held = await tx
     .select({ total: sql<number>`coalesce(sum(${payment.amountCents}), 0)` })
     .from(payment)
@@ -102,10 +105,14 @@ function balanceOf(sums: { kind: string; total: number }[], held: number): Ledge
     problems: [],
   };
   if (b.authorizedCents !== b.capturedCents + b.releasedCents + b.heldCents) {
-    b.problems.push(`authorised ${b.authorizedCents} ≠ captured ${b.capturedCents} + released ${b.releasedCents} + held ${b.heldCents}`);
+    b.problems.push(
+      `authorised ${b.authorizedCents} ≠ captured ${b.capturedCents} + released ${b.releasedCents} + held ${b.heldCents}`,
+    );
   }
   if (b.capturedCents - b.refundedCents !== b.deskShareCents + b.expertEarningsCents) {
-    b.problems.push(`captured ${b.capturedCents} − refunded ${b.refundedCents} ≠ desk ${b.deskShareCents} + experts ${b.expertEarningsCents}`);
+    b.problems.push(
+      `captured ${b.capturedCents} − refunded ${b.refundedCents} ≠ desk ${b.deskShareCents} + experts ${b.expertEarningsCents}`,
+    );
   }
   if (b.refundedCents > b.capturedCents) b.problems.push(`refunded ${b.refundedCents} > captured ${b.capturedCents}`);
   b.balanced = b.problems.length === 0;
@@ -117,11 +124,19 @@ export async function ledgerForCase(tx: Tx, caseId: string) {
 }
 
 /** An expert's earnings and payouts so far, in cents. */
-export async function expertTotals(tx: Tx, expertId: string): Promise<{ earnedCents: number; reversedCents: number; paidCents: number }> {
+export async function expertTotals(
+  tx: Tx,
+  expertId: string,
+): Promise<{ earnedCents: number; reversedCents: number; paidCents: number }> {
   const rows = await tx
     .select({ kind: ledgerEntry.kind, total: sql<number>`coalesce(sum(${ledgerEntry.amountCents}), 0)` })
     .from(ledgerEntry)
-    .where(and(eq(ledgerEntry.expertId, expertId), inArray(ledgerEntry.kind, ["expert_earning", "expert_earning_reversal", "payout"])))
+    .where(
+      and(
+        eq(ledgerEntry.expertId, expertId),
+        inArray(ledgerEntry.kind, ["expert_earning", "expert_earning_reversal", "payout"]),
+      ),
+    )
     .groupBy(ledgerEntry.kind)
     .all();
   const by = (k: string) => Number(rows.find((r) => r.kind === k)?.total ?? 0);

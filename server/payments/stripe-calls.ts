@@ -34,7 +34,7 @@ export function isUnreachable(err: unknown): boolean {
   return (
     err instanceof Stripe.errors.StripeConnectionError ||
     err instanceof Stripe.errors.StripeAPIError ||
-    (err as { statusCode?: number })?.statusCode! >= 500
+    ((err as { statusCode?: number } | null)?.statusCode ?? 0) >= 500
   );
 }
 

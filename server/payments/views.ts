@@ -62,9 +62,15 @@ export async function receiptFor(ctx: AppContext, shopId: string | null, payment
     return {
       receiptNumber: receiptNumber(p),
       seller: { name: env.SELLER_NAME, address: env.SELLER_ADDRESS, taxId: env.SELLER_TAX_ID },
-      tax: taxBp > 0
-        ? { label: env.TAX_LABEL, basisPoints: taxBp, cents: includedTaxCents(p.amountCents, taxBp), pricesIncludeTax: true }
-        : null,
+      tax:
+        taxBp > 0
+          ? {
+              label: env.TAX_LABEL,
+              basisPoints: taxBp,
+              cents: includedTaxCents(p.amountCents, taxBp),
+              pricesIncludeTax: true,
+            }
+          : null,
       shopName: s.name,
       caseId: c.id,
       caseLabel: caseLabel(c),

@@ -64,7 +64,9 @@ export interface DeliveryOptions {
 }
 
 /** The event a record goes out as. */
-export function eventOf(rec: LiveRecord): "annotation:created" | "annotation:updated" | "annotation:deleted" | "chat:message" {
+export function eventOf(
+  rec: LiveRecord,
+): "annotation:created" | "annotation:updated" | "annotation:deleted" | "chat:message" {
   if (rec.kind === "message") return "chat:message";
   const a = rec.record;
   if (a.deletedAt) return "annotation:deleted";
@@ -104,7 +106,12 @@ export class LiveDelivery {
    * Joins `socket` to the case's stream: `read` is the replay (called once the socket is added);
    * `send` sends the join's acknowledgement with it. What the room served meanwhile follows.
    */
-  join<T>(socket: LiveSocket, caseId: string, read: () => Promise<Replay & T>, send: (replay: Replay & T) => void): Promise<void> {
+  join<T>(
+    socket: LiveSocket,
+    caseId: string,
+    read: () => Promise<Replay & T>,
+    send: (replay: Replay & T) => void,
+  ): Promise<void> {
     const room = this.room(caseId);
     const step = room.joins.then(async () => {
       this.leaveOthers(socket, caseId);
@@ -157,7 +164,15 @@ export class LiveDelivery {
   private room(caseId: string): Room {
     let room = this.rooms.get(caseId);
     if (!room) {
-      room = { caseId, head: null, pending: new Map(), members: new Map(), gapTimer: null, joins: Promise.resolve(), filling: false };
+      room = {
+        caseId,
+        head: null,
+        pending: new Map(),
+        members: new Map(),
+        gapTimer: null,
+        joins: Promise.resolve(),
+        filling: false,
+      };
       this.rooms.set(caseId, room);
     }
     return room;

@@ -40,7 +40,7 @@ export function groupCommit(db: Db, opts: { maxBatch?: number; onError?: (err: u
   };
 
   async function runBatch(batch: Job<{ changed: boolean }>[]): Promise<void> {
-    let outcomes: { changed: boolean }[] | null = null;
+    let outcomes: { changed: boolean }[] | null;
     try {
       const counts: number[] = [];
       const results = (await db.batch("write", (q) => {

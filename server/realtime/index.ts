@@ -123,9 +123,19 @@ function serverOptions(allowed: ReadonlySet<string>, redis: SharedRedis | null):
     maxHttpBufferSize: 64 * 1024,
     // Refused before engine.io opens a session: a page of another site never gets a socket.
     allowRequest: (req, cb) =>
-      cb(handshakeOriginAllowed(req.headers, allowed) ? null : "origin_refused", handshakeOriginAllowed(req.headers, allowed)),
+      cb(
+        handshakeOriginAllowed(req.headers, allowed) ? null : "origin_refused",
+        handshakeOriginAllowed(req.headers, allowed),
+      ),
     ...(redis
-      ? { adapter: createAdapter(redis.connection(), { streamName: "bl:socket.io", maxLen: 10_000, blockTimeInMs: 1000, onlyPlaintext: true }) }
+      ? {
+          adapter: createAdapter(redis.connection(), {
+            streamName: "bl:socket.io",
+            maxLen: 10_000,
+            blockTimeInMs: 1000,
+            onlyPlaintext: true,
+          }),
+        }
       : {}),
   };
 }
@@ -163,7 +173,10 @@ export async function attachRealtime(
     onAnnotations(live, socket);
     onChat(live, socket);
     onPointer(live, socket);
-    socket.on("disconnect", () => void live.leaveRoom(socket).catch((err) => ctx.logger.warn({ err }, "leaving the room failed")));
+    socket.on(
+      "disconnect",
+      () => void live.leaveRoom(socket).catch((err) => ctx.logger.warn({ err }, "leaving the room failed")),
+    );
   });
   let sweeping = false;
   const sweepTimer = setInterval(() => {
@@ -185,7 +198,12 @@ export async function attachRealtime(
         ctx.db
           .read((tx) => getCaseRow(tx, caseId))
           .then((c) => {
-            if (c) io.to(caseRoom(caseId)).emit("case:status", { caseId, status: c.status, updatedAt: c.updatedAt.toISOString() });
+            if (c)
+              io.to(caseRoom(caseId)).emit("case:status", {
+                caseId,
+                status: c.status,
+                updatedAt: c.updatedAt.toISOString(),
+              });
           })
           .catch((err) => ctx.logger.warn({ err }, "case:status not sent"));
       }

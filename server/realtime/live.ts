@@ -30,7 +30,6 @@ export interface Throttle<P> {
   pending: P | null;
 }
 
-
 /** Per-socket state that stays on this node (timers are not data to share). */
 export interface SocketLocal {
   pointer: Throttle<z.infer<typeof pointerMoveSchema>>;
@@ -112,13 +111,16 @@ export function createLive(
 ): Live {
   const traceFacts = new Map<string, TraceFacts>();
   const locals = new WeakMap<LiveSocket, SocketLocal>();
-  const pointerGapMs = 1000 / POINTER_RATE_HZ;
   const reply = (ack: unknown) => (typeof ack === "function" ? (ack as (r: unknown) => void) : () => {});
 
   const local = (socket: LiveSocket): SocketLocal => {
     let l = locals.get(socket);
     if (!l) {
-      l = { pointer: { last: 0, timer: null, pending: null }, view: { last: 0, timer: null, pending: null }, checked: null };
+      l = {
+        pointer: { last: 0, timer: null, pending: null },
+        view: { last: 0, timer: null, pending: null },
+        checked: null,
+      };
       locals.set(socket, l);
     }
     return l;
@@ -130,18 +132,7 @@ export function createLive(
     presence: parts.presence,
     delivery: parts.delivery,
     local,
-    async traceFacts(traceId) {
-      let t = traceFacts.get(traceId);
-      if (t) return t;
-      const { trace } = schema;
-      const cols = { caseId: trace.caseId, t0: trace.t0, durationS: trace.durationS, channels: trace.channels };
-      t = await ctx.db.read((tx) => tx.select(cols).from(trace).where(eq(trace.id, traceId)).get());
-      if (t) {
-        traceFacts.set(traceId, t);
-        if (traceFacts.size > 10_000) traceFacts.delete(traceFacts.keys().next().value!);
-      }
-      return t;
-    },
+    traceFacts: (traceId) => cachedTraceFacts(ctx, traceFacts, traceId),
     async check(socket, extra) {
       const caseId = socket.data.caseId;
       const now = ctx.now();
@@ -193,7 +184,14 @@ export function createLive(
       void socket.leave(`case:${caseId}`);
       const { userLeft } = await parts.presence.leave(caseId, socket.id, socket.data.userId);
       // The user's pointer leaves the others' plots with their last socket.
-      if (userLeft) io.to(`case:${caseId}`).emit("pointer", { caseId, userId: socket.data.userId, name: "", color: "", traceId: null });
+      if (userLeft)
+        io.to(`case:${caseId}`).emit("pointer", {
+          caseId,
+          userId: socket.data.userId,
+          name: "",
+          color: "",
+          traceId: null,
+        });
     },
     acked(event, ack, fn) {
       fn().then(
@@ -217,7 +215,12 @@ export function createLive(
           if (!w.changed) return answer();
           const rec = job.record(w);
           parts.publish(rec);
-          parts.delivery.deliver({ caseId: job.plan.caseId, seq: rec.record.seq, rec, origin: { socketId: socket.id, ack: answer } });
+          parts.delivery.deliver({
+            caseId: job.plan.caseId,
+            seq: rec.record.seq,
+            rec,
+            origin: { socketId: socket.id, ack: answer },
+          });
           if (job.after) {
             try {
               job.after(w);
@@ -235,29 +238,52 @@ export function createLive(
         if (!(err instanceof HttpError)) eventError(err, ctx, event);
       });
     },
-    throttled(t, payload, send) {
-      const now = Date.now();
-      if (!t.timer && now - t.last >= pointerGapMs) {
-        t.last = now;
-        send(payload);
-        return;
-      }
-      t.pending = payload;
-      if (t.timer) return;
-      t.timer = setTimeout(
-        () => {
-          t.timer = null;
-          const p = t.pending;
-          t.pending = null;
-          if (p) {
-            t.last = Date.now();
-            send(p);
-          }
-        },
-        Math.max(0, pointerGapMs - (now - t.last)),
-      );
-      t.timer.unref?.();
-    },
+    throttled: throttledSender(1000 / POINTER_RATE_HZ),
   };
   return live;
+}
+
+/** A trace's case and extent, read once per node (a trace's facts never change once stored). */
+async function cachedTraceFacts(
+  ctx: AppContext,
+  cache: Map<string, TraceFacts>,
+  traceId: string,
+): Promise<TraceFacts | undefined> {
+  let t = cache.get(traceId);
+  if (t) return t;
+  const { trace } = schema;
+  const cols = { caseId: trace.caseId, t0: trace.t0, durationS: trace.durationS, channels: trace.channels };
+  t = await ctx.db.read((tx) => tx.select(cols).from(trace).where(eq(trace.id, traceId)).get());
+  if (t) {
+    cache.set(traceId, t);
+    if (cache.size > 10_000) cache.delete(cache.keys().next().value!);
+  }
+  return t;
+}
+
+/** Sends at most one payload per gap; the latest one waiting is sent when the gap has passed. */
+function throttledSender(gapMs: number): Live["throttled"] {
+  return (t, payload, send) => {
+    const now = Date.now();
+    if (!t.timer && now - t.last >= gapMs) {
+      t.last = now;
+      send(payload);
+      return;
+    }
+    t.pending = payload;
+    if (t.timer) return;
+    t.timer = setTimeout(
+      () => {
+        t.timer = null;
+        const p = t.pending;
+        t.pending = null;
+        if (p) {
+          t.last = Date.now();
+          send(p);
+        }
+      },
+      Math.max(0, gapMs - (now - t.last)),
+    );
+    t.timer.unref?.();
+  };
 }

@@ -79,6 +79,27 @@ interface Entry extends PresenceMember {
   socket: string;
 }
 
+/** One participant per person (their sockets counted), typing while their typing mark is ahead of now. */
+function participantsOf(list: Entry[], typing: Record<string, string>, now: number): Participant[] {
+  const users = new Map<string, Participant>();
+  for (const e of list) {
+    const p = users.get(e.userId);
+    if (p) p.connections++;
+    else
+      users.set(e.userId, {
+        userId: e.userId,
+        name: e.name,
+        role: e.role as Role,
+        color: e.color,
+        typing: Number(typing[e.userId] ?? 0) > now,
+        connections: 1,
+      });
+  }
+  const participants = [...users.values()];
+  participants.sort((a, b) => (a.role === b.role ? a.name.localeCompare(b.name) : a.role < b.role ? -1 : 1));
+  return participants;
+}
+
 /** Several nodes: presence kept in Redis, changes announced to every node. */
 export async function redisPresence(redis: SharedRedis, emit: EmitPresence, logger: Logger): Promise<Presence> {
   const r: Redis = redis.client;
@@ -118,24 +139,7 @@ export async function redisPresence(redis: SharedRedis, emit: EmitPresence, logg
 
   async function snapshot(caseId: string): Promise<PresencePayload> {
     const [list, typing] = await Promise.all([entries(caseId), r.hgetall(k.typing(caseId))]);
-    const now = Date.now();
-    const users = new Map<string, Participant>();
-    for (const e of list) {
-      const p = users.get(e.userId);
-      if (p) p.connections++;
-      else
-        users.set(e.userId, {
-          userId: e.userId,
-          name: e.name,
-          role: e.role as Role,
-          color: e.color,
-          typing: Number(typing[e.userId] ?? 0) > now,
-          connections: 1,
-        });
-    }
-    const participants = [...users.values()];
-    participants.sort((a, b) => (a.role === b.role ? a.name.localeCompare(b.name) : a.role < b.role ? -1 : 1));
-    return { caseId, participants };
+    return { caseId, participants: participantsOf(list, typing, Date.now()) };
   }
 
   /** Every node (this one included) sends the room's new snapshot to its sockets. */
@@ -187,7 +191,8 @@ export async function redisPresence(redis: SharedRedis, emit: EmitPresence, logg
       if (!removed) return { userLeft: false };
       const userLeft = !(await userStillIn(caseId, userId));
       if (userLeft) await r.hdel(k.typing(caseId), userId);
-      if ((await r.hlen(k.sockets(caseId))) === 0) await r.multi().del(k.view(caseId), k.typing(caseId)).srem(k.rooms, caseId).exec();
+      if ((await r.hlen(k.sockets(caseId))) === 0)
+        await r.multi().del(k.view(caseId), k.typing(caseId)).srem(k.rooms, caseId).exec();
       await announce(caseId);
       return { userLeft };
     },
@@ -210,7 +215,8 @@ export async function redisPresence(redis: SharedRedis, emit: EmitPresence, logg
     },
     snapshot,
     async setView(v) {
-      if ((await r.hlen(k.sockets(v.caseId))) > 0) await r.set(k.view(v.caseId), JSON.stringify(v), "PX", 24 * 3600_000);
+      if ((await r.hlen(k.sockets(v.caseId))) > 0)
+        await r.set(k.view(v.caseId), JSON.stringify(v), "PX", 24 * 3600_000);
     },
     async view(caseId) {
       const raw = await r.get(k.view(caseId));

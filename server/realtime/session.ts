@@ -39,7 +39,15 @@ function toActor(u: UserRow): LiveActor | null {
   return { ...actor, color: authorColor({ id: u.id, role, color: u.color }) };
 }
 
-const userCols = { id: user.id, email: user.email, name: user.name, role: user.role, shopId: user.shopId, color: user.color, deactivatedAt: user.deactivatedAt };
+const userCols = {
+  id: user.id,
+  email: user.email,
+  name: user.name,
+  role: user.role,
+  shopId: user.shopId,
+  color: user.color,
+  deactivatedAt: user.deactivatedAt,
+};
 
 /** The query of a live session's user (empty when the session is gone or expired). */
 export function sessionUserQuery(tx: Tx, sessionId: string, now: Date) {

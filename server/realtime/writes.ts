@@ -27,7 +27,13 @@ import {
   type LiveActor,
   type Written,
 } from "../services/annotations";
-import { newMessageRow, presentMessage, type MessageInput, type MessageRow, type PostedMessage } from "../services/messages";
+import {
+  newMessageRow,
+  presentMessage,
+  type MessageInput,
+  type MessageRow,
+  type PostedMessage,
+} from "../services/messages";
 import { markSeenIn, seenStatements } from "../services/reading";
 import type { AnnotationCreate } from "../../shared/schemas/realtime";
 
@@ -72,7 +78,8 @@ function seqSteps(q: Tx, caseId: string, guard: SQL): { steps: Statement[]; seq:
 
 function only<T>(results: unknown[], what: string): T {
   const rows = results[2] as T[];
-  if (!Array.isArray(rows) || rows.length !== 1) throw new Error(`the batched ${what} wrote ${rows?.length ?? "no"} rows`);
+  if (!Array.isArray(rows) || rows.length !== 1)
+    throw new Error(`the batched ${what} wrote ${rows?.length ?? "no"} rows`);
   return rows[0];
 }
 
@@ -90,7 +97,13 @@ export function planCreateMark(
     caseId: c.id,
     statements(q) {
       const { steps, seq } = seqSteps(q, c.id, caseUnchanged(c));
-      return [...steps, q.insert(annotation).values({ ...values, seq }).returning()];
+      return [
+        ...steps,
+        q
+          .insert(annotation)
+          .values({ ...values, seq })
+          .returning(),
+      ];
     },
     read: (results) => ({ record: presentAnnotation(only<AnnotationRow>(results, "mark"), actor.name), changed: true }),
     exact,
@@ -110,7 +123,14 @@ export function planChangeMark(
     statements(q) {
       const guard = sql`${caseUnchanged(c)} AND ${markUnchanged(cur)}`;
       const { steps, seq } = seqSteps(q, c.id, guard);
-      return [...steps, q.update(annotation).set({ ...set, seq }).where(eq(annotation.id, cur.id)).returning()];
+      return [
+        ...steps,
+        q
+          .update(annotation)
+          .set({ ...set, seq })
+          .where(eq(annotation.id, cur.id))
+          .returning(),
+      ];
     },
     read: (results) => ({ record: presentAnnotation(only<AnnotationRow>(results, "mark"), actor.name), changed: true }),
     exact,
@@ -130,7 +150,13 @@ export function planMessage(
     caseId: c.id,
     statements(q) {
       const { steps, seq } = seqSteps(q, c.id, caseUnchanged(c));
-      return [...steps, q.insert(message).values({ ...row, seq }).returning()];
+      return [
+        ...steps,
+        q
+          .insert(message)
+          .values({ ...row, seq })
+          .returning(),
+      ];
     },
     read: (results) => ({
       record: presentMessage(only<MessageRow>(results, "message"), { name: actor.name, role: actor.role }),

@@ -26,7 +26,10 @@ export function adminExpertRoutes(ctx: AppContext, auth: Auth): Router {
         name: row.name,
         email: row.email,
         emailVerified: row.emailVerified,
-        abilities: expertPolicy.abilities(actor, { userId: row.profile.userId, status: row.profile.status as ExpertStatus }),
+        abilities: expertPolicy.abilities(actor, {
+          userId: row.profile.userId,
+          status: row.profile.status as ExpertStatus,
+        }),
       })),
     });
   });
@@ -45,7 +48,10 @@ export function adminExpertRoutes(ctx: AppContext, auth: Auth): Router {
       const resource = { userId, status: profile.status as ExpertStatus };
       expertPolicy.authorize(actor, "decide", resource);
       const updated = await experts.decideExpert(ctx, actor, userId, decision, note);
-      res.json({ profile: experts.presentProfile(updated), abilities: expertPolicy.abilities(actor, { userId, status: updated.status as ExpertStatus }) });
+      res.json({
+        profile: experts.presentProfile(updated),
+        abilities: expertPolicy.abilities(actor, { userId, status: updated.status as ExpertStatus }),
+      });
     });
   }
 

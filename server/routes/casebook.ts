@@ -5,11 +5,25 @@ import { requireActor } from "../auth/session";
 import { parseBody, parseParams, parseQuery } from "../http/validate";
 import { notFound } from "../http/errors";
 import { idParamSchema, traceWindowQuerySchema } from "../../shared/schemas/traces";
-import { casebookEditSchema, casebookSearchQuerySchema, casebookVoteSchema, similarQuerySchema } from "../../shared/schemas/casebook";
+import {
+  casebookEditSchema,
+  casebookSearchQuerySchema,
+  casebookVoteSchema,
+  similarQuerySchema,
+} from "../../shared/schemas/casebook";
 import { getTraceRow, traceWindow } from "../services/traces";
 import { searchCasebook, warmCasebookSearch } from "../services/casebook-search";
 import { viewableCase } from "../workflow/queries";
-import { editEntry, entryTrace, expertRecord, listHiddenEntries, readEntry, similarForCase, voteEntry, withHelpfulCounts } from "../services/casebook";
+import {
+  editEntry,
+  entryTrace,
+  expertRecord,
+  listHiddenEntries,
+  readEntry,
+  similarForCase,
+  voteEntry,
+  withHelpfulCounts,
+} from "../services/casebook";
 import { similarIndex } from "../services/similar";
 import { z } from "zod";
 

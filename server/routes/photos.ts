@@ -1,5 +1,5 @@
 import fs from "node:fs";
-import { Router } from "express";
+import { Router, type Response } from "express";
 import type { AppContext } from "../context";
 import type { Auth } from "../auth/auth";
 import { requireActor } from "../auth/session";
@@ -78,7 +78,7 @@ export function asciiName(name: string): string {
 }
 
 /** Streams a file to the response; errors before the first byte go to the error handler. */
-export function pipeFile(abs: string, res: import("express").Response): Promise<void> {
+export function pipeFile(abs: string, res: Response): Promise<void> {
   return new Promise((resolve, reject) => {
     const s = fs.createReadStream(abs);
     s.on("error", (err) => {

@@ -6,7 +6,12 @@ import { shopPolicy, userPolicy } from "../auth/policies/index";
 import { rateLimit } from "../auth/rate-limit";
 import { parseBody, parseParams } from "../http/validate";
 import { HttpError, notFound } from "../http/errors";
-import { acceptInviteSchema, invitePreviewSchema, inviteTechnicianSchema, shopSignUpSchema } from "../../shared/schemas/auth";
+import {
+  acceptInviteSchema,
+  invitePreviewSchema,
+  inviteTechnicianSchema,
+  shopSignUpSchema,
+} from "../../shared/schemas/auth";
 import { z } from "zod";
 import { findUserById } from "../services/accounts";
 import * as shops from "../services/shops";
@@ -36,7 +41,10 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
     const actor = await requireActor(req, auth);
     const shop = await loadShop(shopId);
     shopPolicy.authorize(actor, "view", shop);
-    res.json({ shop: { id: shop.id, name: shop.name, createdAt: shop.createdAt.toISOString() }, abilities: shopPolicy.abilities(actor, shop) });
+    res.json({
+      shop: { id: shop.id, name: shop.name, createdAt: shop.createdAt.toISOString() },
+      abilities: shopPolicy.abilities(actor, shop),
+    });
   });
 
   r.get("/shops/:shopId/team", async (req, res) => {
@@ -50,10 +58,22 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
       email: m.email,
       role: m.role as Role,
       joinedAt: m.createdAt.toISOString(),
-      abilities: userPolicy.abilities(actor, { id: m.id, role: m.role as Role, shopId: m.shopId, deactivatedAt: m.deactivatedAt }),
+      abilities: userPolicy.abilities(actor, {
+        id: m.id,
+        role: m.role as Role,
+        shopId: m.shopId,
+        deactivatedAt: m.deactivatedAt,
+      }),
     }));
-    const invites = shopPolicy.can(actor, "invite", shop) ? (await shops.listPendingInvites(ctx, shop.id)).map(shops.presentInvite) : [];
-    res.json({ shop: { id: shop.id, name: shop.name }, members, invites, abilities: shopPolicy.abilities(actor, shop) });
+    const invites = shopPolicy.can(actor, "invite", shop)
+      ? (await shops.listPendingInvites(ctx, shop.id)).map(shops.presentInvite)
+      : [];
+    res.json({
+      shop: { id: shop.id, name: shop.name },
+      members,
+      invites,
+      abilities: shopPolicy.abilities(actor, shop),
+    });
   });
 
   r.post("/shops/:shopId/invites", async (req, res) => {
@@ -90,7 +110,12 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
     shopPolicy.authorize(actor, "removeMember", shop);
     const target = await findUserById(ctx, userId);
     if (!target || target.shopId !== shop.id || target.deactivatedAt) throw notFound("Team member");
-    userPolicy.authorize(actor, "remove", { id: target.id, role: target.role as Role, shopId: target.shopId, deactivatedAt: target.deactivatedAt });
+    userPolicy.authorize(actor, "remove", {
+      id: target.id,
+      role: target.role as Role,
+      shopId: target.shopId,
+      deactivatedAt: target.deactivatedAt,
+    });
     await shops.removeMember(ctx, target.id);
     res.status(204).end();
   });
@@ -99,13 +124,22 @@ export function shopRoutes(ctx: AppContext, auth: Auth): Router {
     const { token } = parseBody(invitePreviewSchema, req);
     const found = await shops.findUsableInvite(ctx, token);
     if (!found) throw new HttpError(404, "invite_invalid", shops.INVITE_GONE);
-    res.json({ email: found.invite.email, name: found.invite.name, shopName: found.shopName, expiresAt: found.invite.expiresAt.toISOString() });
+    res.json({
+      email: found.invite.email,
+      name: found.invite.name,
+      shopName: found.shopName,
+      expiresAt: found.invite.expiresAt.toISOString(),
+    });
   });
 
   r.post("/invites/accept", rateLimit(ctx, "invites/accept", { window: 600, max: 10 }), async (req, res) => {
     const input = parseBody(acceptInviteSchema, req);
     const done = await shops.acceptInvite(ctx, input);
-    res.status(201).json({ ok: true, email: done.email, message: "Your account is ready. Sign in with your e-mail address and the password you chose." });
+    res.status(201).json({
+      ok: true,
+      email: done.email,
+      message: "Your account is ready. Sign in with your e-mail address and the password you chose.",
+    });
   });
 
   return r;

@@ -28,16 +28,42 @@ export async function findUserById(ctx: AppContext, id: string): Promise<UserRow
  */
 export async function insertCredentialUser(
   tx: Tx,
-  u: { id?: string; email: string; name: string; role: Role; shopId: string | null; emailVerified: boolean; passwordHash: string; now: Date },
+  u: {
+    id?: string;
+    email: string;
+    name: string;
+    role: Role;
+    shopId: string | null;
+    emailVerified: boolean;
+    passwordHash: string;
+    now: Date;
+  },
 ): Promise<string> {
   const id = u.id ?? crypto.randomUUID();
   await tx
     .insert(schema.user)
-    .values({ id, name: u.name, email: u.email.toLowerCase(), emailVerified: u.emailVerified, role: u.role, shopId: u.shopId, createdAt: u.now, updatedAt: u.now })
+    .values({
+      id,
+      name: u.name,
+      email: u.email.toLowerCase(),
+      emailVerified: u.emailVerified,
+      role: u.role,
+      shopId: u.shopId,
+      createdAt: u.now,
+      updatedAt: u.now,
+    })
     .run();
   await tx
     .insert(schema.account)
-    .values({ id: crypto.randomUUID(), accountId: id, providerId: "credential", userId: id, password: u.passwordHash, createdAt: u.now, updatedAt: u.now })
+    .values({
+      id: crypto.randomUUID(),
+      accountId: id,
+      providerId: "credential",
+      userId: id,
+      password: u.passwordHash,
+      createdAt: u.now,
+      updatedAt: u.now,
+    })
     .run();
   return id;
 }
@@ -70,14 +96,22 @@ export async function sendAlreadyRegistered(ctx: AppContext, user: { email: stri
  * what was created (`undo`) so a retry starts clean, and answer 503. (Sending happens later, from
  * the outbox, with retries; an SMTP server that is down no longer fails the request.)
  */
-export async function mailOrUndo(ctx: AppContext, send: () => Promise<void>, undo: () => Promise<unknown>): Promise<void> {
+export async function mailOrUndo(
+  ctx: AppContext,
+  send: () => Promise<void>,
+  undo: () => Promise<unknown>,
+): Promise<void> {
   try {
     await send();
   } catch (err) {
     ctx.logger.error({ err }, "account mail failed; undoing the sign-up");
     await undo();
     const { HttpError } = await import("../http/errors");
-    throw new HttpError(503, "mail_unavailable", "We could not send the confirmation mail just now, so nothing was saved. Try again in a minute.");
+    throw new HttpError(
+      503,
+      "mail_unavailable",
+      "We could not send the confirmation mail just now, so nothing was saved. Try again in a minute.",
+    );
   }
 }
 

@@ -123,9 +123,13 @@ export function checkOnTrace(
     }
   }
   if (a.channel != null && !t.channels.some((c) => c.name === a.channel)) {
-    throw badRequest("validation_failed", `Check channel: this trace has ${t.channels.map((c) => c.name).join(", ")}.`, {
-      fields: [{ path: "channel", message: "No such channel." }],
-    });
+    throw badRequest(
+      "validation_failed",
+      `Check channel: this trace has ${t.channels.map((c) => c.name).join(", ")}.`,
+      {
+        fields: [{ path: "channel", message: "No such channel." }],
+      },
+    );
   }
 }
 
@@ -157,12 +161,18 @@ export async function priorMark(tx: Tx, authorId: string, clientId: string | und
     .from(annotation)
     .where(and(eq(annotation.authorId, authorId), eq(annotation.clientId, clientId)))
     .get();
-  if (prior && prior.caseId !== caseId) throw badRequest("client_id_reused", "This clientId belongs to a mark on another case.");
+  if (prior && prior.caseId !== caseId)
+    throw badRequest("client_id_reused", "This clientId belongs to a mark on another case.");
   return prior;
 }
 
 /** The new mark's row, before its seq is known. */
-export function newMarkRow(now: Date, actor: LiveActor, caseId: string, input: AnnotationCreate): Omit<AnnotationRow, "seq"> {
+export function newMarkRow(
+  now: Date,
+  actor: LiveActor,
+  caseId: string,
+  input: AnnotationCreate,
+): Omit<AnnotationRow, "seq"> {
   return {
     id: crypto.randomUUID(),
     caseId,
@@ -223,7 +233,11 @@ export async function loadOwn(tx: Tx, actor: LiveActor, caseId: string, id: stri
 }
 
 /** The new values of an updated mark, checked against its kind and its trace. */
-export function updatedValues(cur: AnnotationRow, input: AnnotationUpdate, t: Pick<TraceRow, "t0" | "durationS" | "channels">) {
+export function updatedValues(
+  cur: AnnotationRow,
+  input: AnnotationUpdate,
+  t: Pick<TraceRow, "t0" | "durationS" | "channels">,
+) {
   const next = {
     t0: input.t0 !== undefined ? input.t0 : cur.t0,
     t1: input.t1 !== undefined ? input.t1 : cur.t1,
@@ -267,7 +281,12 @@ export async function updateAnnotationIn(
 }
 
 /** The author removes a mark: it stays as a tombstone with a new seq, so replays remove it too. */
-export async function deleteAnnotation(ctx: AppContext, actor: LiveActor, caseId: string, id: string): Promise<Written> {
+export async function deleteAnnotation(
+  ctx: AppContext,
+  actor: LiveActor,
+  caseId: string,
+  id: string,
+): Promise<Written> {
   const now = ctx.now();
   return ctx.db.write((tx) => deleteAnnotationIn(tx, now, actor, caseId, id));
 }

@@ -14,7 +14,12 @@ import { schema, type Tx } from "../db/client";
 import { maskVin, scrubDeep, scrubText, type ScrubContext } from "../../shared/domain/anonymise";
 import { parseDtc } from "../../shared/domain/dtc";
 import { symptomLabels, type Symptom } from "../../shared/schemas/case";
-import type { CasebookAnnotation, CasebookEntryBody, CasebookTrace, CasebookVehicle } from "../../shared/schemas/casebook";
+import type {
+  CasebookAnnotation,
+  CasebookEntryBody,
+  CasebookTrace,
+  CasebookVehicle,
+} from "../../shared/schemas/casebook";
 import { caseComparison, type TraceRow } from "./traces";
 import { casePattern, type CasePattern } from "./similar";
 
@@ -60,8 +65,17 @@ export async function scrubContextForCase(tx: Tx, c: CaseRow): Promise<ScrubCont
     emails.push(u.email);
   };
   const { user, invite, annotation, caseAnswer, caseConfirmation, shop } = schema;
-  for (const u of await tx.select({ name: user.name, email: user.email }).from(user).where(eq(user.shopId, c.shopId)).all()) addUser(u);
-  for (const i of await tx.select({ name: invite.name, email: invite.email }).from(invite).where(eq(invite.shopId, c.shopId)).all())
+  for (const u of await tx
+    .select({ name: user.name, email: user.email })
+    .from(user)
+    .where(eq(user.shopId, c.shopId))
+    .all())
+    addUser(u);
+  for (const i of await tx
+    .select({ name: invite.name, email: invite.email })
+    .from(invite)
+    .where(eq(invite.shopId, c.shopId))
+    .all())
     addUser(i);
   const userIds = new Set<string>();
   if (c.expertId) userIds.add(c.expertId);
@@ -69,14 +83,18 @@ export async function scrubContextForCase(tx: Tx, c: CaseRow): Promise<ScrubCont
   const authors = [
     ...(await tx.select({ id: annotation.authorId }).from(annotation).where(eq(annotation.caseId, c.id)).all()),
     ...(await tx.select({ id: caseAnswer.expertId }).from(caseAnswer).where(eq(caseAnswer.caseId, c.id)).all()),
-    ...(await tx.select({ id: caseConfirmation.userId }).from(caseConfirmation).where(eq(caseConfirmation.caseId, c.id)).all()),
+    ...(await tx
+      .select({ id: caseConfirmation.userId })
+      .from(caseConfirmation)
+      .where(eq(caseConfirmation.caseId, c.id))
+      .all()),
   ];
   for (const a of authors) if (a.id) userIds.add(a.id);
-  for (const id of userIds) addUser(await tx.select({ name: user.name, email: user.email }).from(user).where(eq(user.id, id)).get());
+  for (const id of userIds)
+    addUser(await tx.select({ name: user.name, email: user.email }).from(user).where(eq(user.id, id)).get());
   const shopRow = await tx.select({ name: shop.name }).from(shop).where(eq(shop.id, c.shopId)).get();
   return { names, emails, organisations: [shopRow?.name ?? null], vin: c.vin };
 }
-
 
 /** Settings fields that describe the capture, not the people (free-text ones are scrubbed). */
 const SAFE_SETTINGS = [
@@ -113,7 +131,8 @@ function traceName(t: TraceRow, i: number): string {
 export function publishTrace(entryId: string, t: TraceRow, i: number, scrub: ScrubContext): CasebookTrace {
   const s = (t.settings ?? {}) as Record<string, unknown>;
   const settings: Record<string, unknown> = {};
-  for (const k of SAFE_SETTINGS) if (s[k] !== undefined) settings[k] = typeof s[k] === "string" ? scrubText(s[k] as string, scrub) : s[k];
+  for (const k of SAFE_SETTINGS)
+    if (s[k] !== undefined) settings[k] = typeof s[k] === "string" ? scrubText(s[k] as string, scrub) : s[k];
   const analysis = t.analysis ? scrubAnalysis(t.analysis, scrub) : null;
   return {
     id: t.id,
@@ -123,7 +142,12 @@ export function publishTrace(entryId: string, t: TraceRow, i: number, scrub: Scr
     sampleRateHz: t.sampleRateHz,
     t0: t.t0,
     durationS: t.durationS,
-    channels: (t.channels ?? []).map((c, k) => ({ name: scrubText(c.name, scrub) || `Channel ${k + 1}`, unit: c.unit, min: c.min, max: c.max })),
+    channels: (t.channels ?? []).map((c, k) => ({
+      name: scrubText(c.name, scrub) || `Channel ${k + 1}`,
+      unit: c.unit,
+      min: c.min,
+      max: c.max,
+    })),
     settings,
     analysis,
     windowUrl: `/api/casebook/${encodeURIComponent(entryId)}/traces/${encodeURIComponent(t.id)}/window`,
@@ -195,7 +219,8 @@ export async function anonymiseCase(tx: Tx, caseId: string, entryId: string): Pr
   const comparison = caseComparison(traces);
   const codes = (c.codes ?? []).map((x) => String(x).toUpperCase());
   const conditions: Record<string, unknown> = {};
-  for (const [k, v] of Object.entries(c.conditions ?? {})) if (["temperature", "load", "occurrence"].includes(k)) conditions[k] = v;
+  for (const [k, v] of Object.entries(c.conditions ?? {}))
+    if (["temperature", "load", "occurrence"].includes(k)) conditions[k] = v;
   return {
     id: entryId,
     caseId: c.id,

@@ -60,7 +60,10 @@ function startTimers(ctx: AppContext, sweeps: readonly Sweep[]): Background {
 
 async function startQueued(ctx: AppContext, sweeps: readonly Sweep[], redis: SharedRedis): Promise<Background> {
   // BullMQ needs connections that retry forever (maxRetriesPerRequest: null) on a Redis that never evicts
-  const queue = new Queue(SWEEP_QUEUE, { connection: redis.connection({ maxRetriesPerRequest: null }), prefix: QUEUE_PREFIX });
+  const queue = new Queue(SWEEP_QUEUE, {
+    connection: redis.connection({ maxRetriesPerRequest: null }),
+    prefix: QUEUE_PREFIX,
+  });
   for (const s of sweeps) {
     await queue.upsertJobScheduler(
       s.name,

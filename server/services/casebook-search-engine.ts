@@ -37,7 +37,13 @@
  * reports it handled, so every matching row comes back).
  */
 import type Database from "better-sqlite3";
-import { BM25_CALL, sqliteEngineSource, type EngineReader, type EngineSource, type EntryRow } from "./casebook-search-source";
+import {
+  BM25_CALL,
+  sqliteEngineSource,
+  type EngineReader,
+  type EngineSource,
+  type EntryRow,
+} from "./casebook-search-source";
 import type { CasebookSearchHit, CasebookSearchResult, FacetCount, FacetDim } from "../../shared/schemas/casebook";
 
 export { SNIPPET_OPEN, SNIPPET_CLOSE, facetDims } from "../../shared/schemas/casebook";
@@ -77,7 +83,11 @@ export interface CasebookSearchQuery {
 /** Lower-case letters-and-digits tokens of the user's text, as unicode61 would split it. */
 export function queryTokens(q: string | null | undefined): string[] {
   if (!q) return [];
-  const toks = q.normalize("NFKC").toLowerCase().match(/[\p{L}\p{N}]+/gu) ?? [];
+  const toks =
+    q
+      .normalize("NFKC")
+      .toLowerCase()
+      .match(/[\p{L}\p{N}]+/gu) ?? [];
   return toks.filter((t) => t.length <= 64).slice(0, MAX_TERMS);
 }
 
@@ -110,7 +120,14 @@ function hex(s: string): string {
   return out;
 }
 
-const TAG_PREFIX: Record<Exclude<FacetDim, "confirmed">, string> = { make: "xmk", model: "xmd", year: "xyr", engine: "xen", system: "xsy", code: "xcd" };
+const TAG_PREFIX: Record<Exclude<FacetDim, "confirmed">, string> = {
+  make: "xmk",
+  model: "xmd",
+  year: "xyr",
+  engine: "xen",
+  system: "xsy",
+  code: "xcd",
+};
 
 /**
  * The facet token of a value for the `tags` column: "x" + dimension + hex of the key + "q". Only
@@ -345,7 +362,18 @@ function scan(docs: Int32Array, a: ScanArrays, f: ScanFilters, c: ScanCounts, re
   return total;
 }
 
-const NO_FILTERS: ScanFilters = { unfiltered: true, make: -1, model: -1, year: false, yearLo: 0, yearHi: 0, engine: -1, system: -1, code: -1, confirmed: -1 };
+const NO_FILTERS: ScanFilters = {
+  unfiltered: true,
+  make: -1,
+  model: -1,
+  year: false,
+  yearLo: 0,
+  yearHi: 0,
+  engine: -1,
+  system: -1,
+  code: -1,
+  confirmed: -1,
+};
 
 /** A phrase without its prefix star. */
 function exactForm(phrase: string): string {
@@ -378,7 +406,6 @@ function dictId(d: Dict, key: string | null, label: string | null): number {
   } else if (label) d.labels[id] = label;
   return id;
 }
-
 
 const YEAR_BASE = 1900;
 const CODE_SLOTS = 4;
@@ -422,7 +449,10 @@ export class CasebookSearchEngine {
   constructor(db: Database.Database | EngineSource, opts: { rankWindow?: number; commonDocs?: number } = {}) {
     this.rankWindow = opts.rankWindow ?? RANK_WINDOW;
     this.commonDocs = opts.commonDocs ?? COMMON_DOCS;
-    this.source = "read" in db && typeof db.read === "function" ? (db as EngineSource) : sqliteEngineSource(db as Database.Database);
+    this.source =
+      "read" in db && typeof db.read === "function"
+        ? (db as EngineSource)
+        : sqliteEngineSource(db as Database.Database);
   }
 
   stats(): EngineStats {
@@ -479,7 +509,7 @@ export class CasebookSearchEngine {
       this.system[d] = dictId(this.dicts.system, facetKey(r.system), r.system);
       this.year[d] = r.year != null && r.year >= YEAR_BASE && r.year < YEAR_BASE + YEAR_SLOTS ? r.year - YEAR_BASE : 0;
       this.confirmed[d] = r.confirmed ? 1 : 0;
-      let list: string[] = [];
+      let list: string[];
       try {
         list = JSON.parse(r.code_list) as string[];
       } catch {
@@ -572,7 +602,8 @@ export class CasebookSearchEngine {
     }
 
     // ---- one pass: total, the result bitmap, facet counts (each dimension without its own filter)
-    const unfiltered = fMake === -1 && fModel === -1 && !fYear && fEngine === -1 && fSystem === -1 && fCode === -1 && fConfirmed === -1;
+    const unfiltered =
+      fMake === -1 && fModel === -1 && !fYear && fEngine === -1 && fSystem === -1 && fCode === -1 && fConfirmed === -1;
     let counts: ScanCounts;
     let result: Bitmap;
     let total: number;
@@ -589,7 +620,18 @@ export class CasebookSearchEngine {
       total = scan(
         docs,
         this.scanArrays(),
-        { unfiltered, make: fMake, model: fModel, year: fYear, yearLo: yFrom ?? 0, yearHi: yTo ?? YEAR_SLOTS, engine: fEngine, system: fSystem, code: fCode, confirmed: fConfirmed },
+        {
+          unfiltered,
+          make: fMake,
+          model: fModel,
+          year: fYear,
+          yearLo: yFrom ?? 0,
+          yearHi: yTo ?? YEAR_SLOTS,
+          engine: fEngine,
+          system: fSystem,
+          code: fCode,
+          confirmed: fConfirmed,
+        },
         counts,
         result.words,
       );
@@ -623,7 +665,8 @@ export class CasebookSearchEngine {
       }
     }
     const inRanked = new Set<number>();
-    for (const [doc, s] of ranked.slice(start, start + pageSize)) pageDocs.push({ doc, score: Number((-s).toPrecision(6)) });
+    for (const [doc, s] of ranked.slice(start, start + pageSize))
+      pageDocs.push({ doc, score: Number((-s).toPrecision(6)) });
     if (total > 0 && pageDocs.length < pageSize && start + pageDocs.length < total) {
       // past the ranked ones (or not ranked): the remaining results, newest first
       for (const [doc] of ranked) inRanked.add(doc);
@@ -638,7 +681,8 @@ export class CasebookSearchEngine {
 
     const snippetMatch = phrases.length ? contentMatch([phrases.map(exactForm).join(" OR ")]) : null;
     const results: CasebookSearchHit[] = [];
-    for (const { doc, score } of pageDocs) results.push(await this.hit(r, doc, score, snippetMatch, queryTokens(input.q)));
+    for (const { doc, score } of pageDocs)
+      results.push(await this.hit(r, doc, score, snippetMatch, queryTokens(input.q)));
     return {
       total,
       page,
@@ -662,7 +706,11 @@ export class CasebookSearchEngine {
    *   over their whole doclist each time.
    * `complete` is false when the expression leaves matches out of the ranking.
    */
-  private async rankPlan(r: EngineReader, phrases: string[], docs: number[]): Promise<{ match: string | null; complete: boolean }> {
+  private async rankPlan(
+    r: EngineReader,
+    phrases: string[],
+    docs: number[],
+  ): Promise<{ match: string | null; complete: boolean }> {
     const n = this.visibleCount();
     const keep: string[] = [];
     let complete = true;
@@ -736,7 +784,8 @@ export class CasebookSearchEngine {
       const id = this.dicts.code.ids.get(input.code.trim().toUpperCase());
       consider(`"${facetTag("code", input.code)}"`, id === undefined ? 0 : all.code[id]);
     }
-    if (input.confirmed !== undefined) consider(`"${facetTag("confirmed", input.confirmed)}"`, all.confirmed[input.confirmed ? 1 : 0]);
+    if (input.confirmed !== undefined)
+      consider(`"${facetTag("confirmed", input.confirmed)}"`, all.confirmed[input.confirmed ? 1 : 0]);
     if (years) {
       const [lo, hi] = years;
       const tokens: string[] = [];
@@ -780,7 +829,17 @@ export class CasebookSearchEngine {
   }
 
   private scanArrays(): ScanArrays {
-    return { visible: this.visible, make: this.make, model: this.model, year: this.year, engine: this.engine, system: this.system, confirmed: this.confirmed, code4: this.code4, codeMore: this.codeMore };
+    return {
+      visible: this.visible,
+      make: this.make,
+      model: this.model,
+      year: this.year,
+      engine: this.engine,
+      system: this.system,
+      confirmed: this.confirmed,
+      code4: this.code4,
+      codeMore: this.codeMore,
+    };
   }
 
   private async hit(
@@ -814,9 +873,10 @@ export class CasebookSearchEngine {
       const cols = (await reader.snippet(snippetMatch, doc)) ?? [];
       snippet = cols.find((x) => x && x.includes(SNIPPET_OPEN_CHAR)) ?? "";
     }
-    if (!snippet && tokens.length) snippet = prefixSnippet([r.diagnosis, r.complaint, r.root_cause, r.fix, r.symptoms, r.vehicle], tokens);
+    if (!snippet && tokens.length)
+      snippet = prefixSnippet([r.diagnosis, r.complaint, r.root_cause, r.fix, r.symptoms, r.vehicle], tokens);
     if (!snippet) snippet = clip(r.diagnosis || r.complaint, 200);
-    let codes: string[] = [];
+    let codes: string[];
     try {
       codes = JSON.parse(r.code_list) as string[];
     } catch {
@@ -835,16 +895,30 @@ export class CasebookSearchEngine {
     };
   }
 
-  private presentFacets(c: { make: Int32Array; model: Int32Array; engine: Int32Array; system: Int32Array; code: Int32Array; year: Int32Array; confirmed: Int32Array }): Record<FacetDim, FacetCount[]> {
-    const fromDict = (dim: "make" | "model" | "engine" | "system" | "code", counts: Int32Array, limit: number): FacetCount[] => {
+  private presentFacets(c: {
+    make: Int32Array;
+    model: Int32Array;
+    engine: Int32Array;
+    system: Int32Array;
+    code: Int32Array;
+    year: Int32Array;
+    confirmed: Int32Array;
+  }): Record<FacetDim, FacetCount[]> {
+    const fromDict = (
+      dim: "make" | "model" | "engine" | "system" | "code",
+      counts: Int32Array,
+      limit: number,
+    ): FacetCount[] => {
       const out: FacetCount[] = [];
       const keys = [...this.dicts[dim].ids.keys()];
-      for (let i = 0; i < counts.length; i++) if (counts[i] > 0) out.push({ value: keys[i], label: this.dicts[dim].labels[i], count: counts[i] });
+      for (let i = 0; i < counts.length; i++)
+        if (counts[i] > 0) out.push({ value: keys[i], label: this.dicts[dim].labels[i], count: counts[i] });
       out.sort((a, b) => b.count - a.count || a.label.localeCompare(b.label));
       return out.slice(0, limit);
     };
     const years: FacetCount[] = [];
-    for (let y = YEAR_SLOTS - 1; y > 0; y--) if (c.year[y] > 0) years.push({ value: String(y + YEAR_BASE), label: String(y + YEAR_BASE), count: c.year[y] });
+    for (let y = YEAR_SLOTS - 1; y > 0; y--)
+      if (c.year[y] > 0) years.push({ value: String(y + YEAR_BASE), label: String(y + YEAR_BASE), count: c.year[y] });
     const confirmed: FacetCount[] = [];
     if (c.confirmed[1] > 0) confirmed.push({ value: "true", label: "Fix confirmed", count: c.confirmed[1] });
     if (c.confirmed[0] > 0) confirmed.push({ value: "false", label: "Not confirmed", count: c.confirmed[0] });
@@ -879,7 +953,11 @@ export function prefixSnippet(texts: string[], tokens: string[]): string {
     if (at < 0) continue;
     const from = Math.max(0, at - 6);
     const to = Math.min(words.length, from + 18);
-    const out = words.slice(from, to).map((w) => w.replace(/[\p{L}\p{N}]+/gu, (m) => (isHit(m) ? `${SNIPPET_OPEN_CHAR}${m}${SNIPPET_CLOSE_CHAR}` : m)));
+    const out = words
+      .slice(from, to)
+      .map((w) =>
+        w.replace(/[\p{L}\p{N}]+/gu, (m) => (isHit(m) ? `${SNIPPET_OPEN_CHAR}${m}${SNIPPET_CLOSE_CHAR}` : m)),
+      );
     return `${from > 0 ? "…" : ""}${out.join(" ")}${to < words.length ? "…" : ""}`;
   }
   return "";
@@ -888,7 +966,12 @@ const SNIPPET_OPEN_CHAR = "\u0002";
 const SNIPPET_CLOSE_CHAR = "\u0003";
 
 /** "2016 Veltra Quillon 2.0 I4" from the entry's facet columns. */
-export function vehicleLabel(r: { year: number | null; make: string | null; model: string | null; engine: string | null }): string {
+export function vehicleLabel(r: {
+  year: number | null;
+  make: string | null;
+  model: string | null;
+  engine: string | null;
+}): string {
   return [r.year, r.make, r.model, r.engine].filter((x) => x != null && String(x).trim() !== "").join(" ");
 }
 
@@ -905,7 +988,11 @@ export function plainFtsSearch(db: Database.Database, q: string, limit = PAGE_SI
   const phrases = queryPhrases(q);
   if (phrases.length === 0) return { total: 0, ids: [] };
   const m = contentMatch(phrases);
-  const total = (db.prepare("SELECT count(*) FROM casebook_fts WHERE casebook_fts MATCH ?").pluck().get(m) as number) ?? 0;
-  const ids = db.prepare(`SELECT rowid FROM casebook_fts WHERE casebook_fts MATCH ? ORDER BY ${BM25_CALL} LIMIT ?`).pluck().all(m, limit) as number[];
+  const total =
+    (db.prepare("SELECT count(*) FROM casebook_fts WHERE casebook_fts MATCH ?").pluck().get(m) as number) ?? 0;
+  const ids = db
+    .prepare(`SELECT rowid FROM casebook_fts WHERE casebook_fts MATCH ? ORDER BY ${BM25_CALL} LIMIT ?`)
+    .pluck()
+    .all(m, limit) as number[];
   return { total, ids };
 }

@@ -94,7 +94,9 @@ const kept = (keep: Uint32Array, d: number) => (keep[d >>> 5] & (1 << (d & 31)))
 export function sqliteEngineSource(db: Database.Database): EngineSource {
   let keep: Uint32Array | null = null;
   // the filter of the ranking query: true for the documents of the current result set
-  db.function("casebook_keep", { deterministic: false }, (rowid: unknown) => (keep !== null && kept(keep, Number(rowid)) ? 1 : 0));
+  db.function("casebook_keep", { deterministic: false }, (rowid: unknown) =>
+    keep !== null && kept(keep, Number(rowid)) ? 1 : 0,
+  );
   const st = {
     maxRev: db.prepare(SQL.maxRev),
     changed: db.prepare(SQL.changed),

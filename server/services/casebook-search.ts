@@ -46,7 +46,7 @@ class SearchWorker {
       )) as T;
     } catch (err) {
       if ((err as Error)?.name === "AbortError" || (err as Error)?.name === "TimeoutError")
-        throw new Error("the casebook search took too long");
+        throw new Error("the casebook search took too long", { cause: err });
       throw err;
     }
   }

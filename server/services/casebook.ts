@@ -25,7 +25,16 @@ import type {
 } from "../../shared/schemas/casebook";
 import { anonymiseCase, describeCodes, type CasebookEntryInput } from "./anonymise";
 import { facetKey, facetTags, vehicleLabel } from "./casebook-search-engine";
-import { casePattern, entryPattern, FEATURE_VERSION, hasWaveformFeatures, patternVector, similarIndex, similarityReasons, vectorToBlob } from "./similar";
+import {
+  casePattern,
+  entryPattern,
+  FEATURE_VERSION,
+  hasWaveformFeatures,
+  patternVector,
+  similarIndex,
+  similarityReasons,
+  vectorToBlob,
+} from "./similar";
 
 export type CasebookEntryRow = typeof schema.casebookEntry.$inferSelect;
 const { casebookEntry, casebookVote, casebookView, casebookVector } = schema;
@@ -36,7 +45,9 @@ export type { CasebookEntryInput } from "./anonymise";
 // Writing
 
 function vehicleLine(v: CasebookEntryInput["vehicle"]): string {
-  return [v.year, v.make, v.model, v.engine, v.fuel, v.transmission].filter((x) => x != null && String(x).trim() !== "").join(" ");
+  return [v.year, v.make, v.model, v.engine, v.fuel, v.transmission]
+    .filter((x) => x != null && String(x).trim() !== "")
+    .join(" ");
 }
 
 function firstSentence(s: string, max = 90): string {
@@ -48,7 +59,9 @@ function firstSentence(s: string, max = 90): string {
 
 /** The entry's title: the vehicle and the root cause in a few words. */
 export function entryTitle(e: Pick<CasebookEntryInput, "vehicle" | "rootCause" | "diagnosis">): string {
-  const v = [e.vehicle.year, e.vehicle.make, e.vehicle.model, e.vehicle.engine].filter((x) => x != null && String(x).trim() !== "").join(" ");
+  const v = [e.vehicle.year, e.vehicle.make, e.vehicle.model, e.vehicle.engine]
+    .filter((x) => x != null && String(x).trim() !== "")
+    .join(" ");
   const cause = firstSentence(e.rootCause || e.diagnosis || "");
   return v ? (cause ? `${v}: ${cause}` : v) : cause || "Casebook entry";
 }
@@ -86,18 +99,34 @@ function buildRow(input: CasebookEntryInput, rev: number, now: Date, scrub: bool
     system: input.system ?? null,
     testsDone: s(input.testsDone),
     partsReplaced: s(input.partsReplaced),
-    answer: { diagnosis: s(input.diagnosis), rootCause: s(input.rootCause), fix: s(input.fix), testsToConfirm: s(input.testsToConfirm), round: input.round ?? 1 },
+    answer: {
+      diagnosis: s(input.diagnosis),
+      rootCause: s(input.rootCause),
+      fix: s(input.fix),
+      testsToConfirm: s(input.testsToConfirm),
+      round: input.round ?? 1,
+    },
     outcome: { confirmed: input.confirmed ?? true, note: s(input.outcomeNote), rating: input.rating ?? null },
     traces: input.traces ?? [],
     annotations: input.annotations ?? [],
     comparison: input.comparison ?? null,
   };
-  const facets = { make: vehicle.make, model: vehicle.model, year: vehicle.year, engine: vehicle.engine, system: body.system, codes, confirmed: body.outcome.confirmed };
+  const facets = {
+    make: vehicle.make,
+    model: vehicle.model,
+    year: vehicle.year,
+    engine: vehicle.engine,
+    system: body.system,
+    codes,
+    confirmed: body.outcome.confirmed,
+  };
   const row: typeof casebookEntry.$inferInsert = {
     id,
     caseId: input.caseId ?? null,
     expertId: input.expertId ?? null,
-    title: s(input.title ?? entryTitle({ vehicle, rootCause: body.answer.rootCause, diagnosis: body.answer.diagnosis })),
+    title: s(
+      input.title ?? entryTitle({ vehicle, rootCause: body.answer.rootCause, diagnosis: body.answer.diagnosis }),
+    ),
     ...indexedText(body),
     tags: facetTags(facets),
     make: vehicle.make,
@@ -120,7 +149,12 @@ function buildRow(input: CasebookEntryInput, rev: number, now: Date, scrub: bool
   let vector: BuiltRow["vector"] = null;
   if (input.pattern) {
     const v = patternVector(input.pattern);
-    vector = { version: FEATURE_VERSION, vector: vectorToBlob(v), pattern: input.pattern as unknown as Record<string, unknown>, kinds: input.pattern.kinds.join(" ") };
+    vector = {
+      version: FEATURE_VERSION,
+      vector: vectorToBlob(v),
+      pattern: input.pattern as unknown as Record<string, unknown>,
+      kinds: input.pattern.kinds.join(" "),
+    };
   }
   return { row, vector };
 }
@@ -145,7 +179,10 @@ function indexedText(body: CasebookEntryBody) {
 
 /** The next revision of the casebook (entries changed since a rev are what the search and the similar index reload). */
 async function nextRev(tx: Tx): Promise<number> {
-  const r = await tx.select({ rev: sql<number>`coalesce(max(${casebookEntry.rev}), 0)` }).from(casebookEntry).get();
+  const r = await tx
+    .select({ rev: sql<number>`coalesce(max(${casebookEntry.rev}), 0)` })
+    .from(casebookEntry)
+    .get();
   return Number(r?.rev ?? 0) + 1;
 }
 
@@ -179,7 +216,10 @@ export async function insertEntriesIn(
   const built = sorted.map((input) => buildRow(input, rev++, now, opts.scrub !== false));
   for (let i = 0; i < built.length; i += INSERT_CHUNK) {
     const chunk = built.slice(i, i + INSERT_CHUNK);
-    await tx.insert(casebookEntry).values(chunk.map((b) => b.row)).run();
+    await tx
+      .insert(casebookEntry)
+      .values(chunk.map((b) => b.row))
+      .run();
     const vectors = chunk.filter((b) => b.vector).map((b) => ({ entryId: b.row.id!, ...b.vector! }));
     if (vectors.length) {
       await tx
@@ -209,7 +249,11 @@ export async function insertEntriesIn(
 export async function publishCaseToCasebook(ctx: AppContext, caseId: string): Promise<string | null> {
   const now = ctx.now();
   const out = await ctx.db.write(async (tx) => {
-    const existing = await tx.select({ id: casebookEntry.id }).from(casebookEntry).where(eq(casebookEntry.caseId, caseId)).get();
+    const existing = await tx
+      .select({ id: casebookEntry.id })
+      .from(casebookEntry)
+      .where(eq(casebookEntry.caseId, caseId))
+      .get();
     if (existing) return { id: existing.id, created: false };
     const entryId = crypto.randomUUID();
     const input = await anonymiseCase(tx, caseId, entryId);
@@ -243,7 +287,10 @@ async function helpfulCounts(tx: Tx, ids: string[]): Promise<Map<string, number>
 }
 
 /** Adds helpful-vote counts to search hits (one query for the page). */
-export async function withHelpfulCounts<T extends { id: string }>(tx: Tx, hits: T[]): Promise<(T & { helpfulCount: number })[]> {
+export async function withHelpfulCounts<T extends { id: string }>(
+  tx: Tx,
+  hits: T[],
+): Promise<(T & { helpfulCount: number })[]> {
   const counts = await helpfulCounts(
     tx,
     hits.map((h) => h.id),
@@ -254,7 +301,11 @@ export async function withHelpfulCounts<T extends { id: string }>(tx: Tx, hits: 
 export async function presentEntry(tx: Tx, actor: Actor, r: CasebookEntryRow): Promise<CasebookEntryView> {
   const body = r.body as unknown as CasebookEntryBody;
   const helpfulCount = (await helpfulCounts(tx, [r.id])).get(r.id) ?? 0;
-  const views = await tx.select({ n: sql<number>`count(*)` }).from(casebookView).where(eq(casebookView.entryId, r.id)).get();
+  const views = await tx
+    .select({ n: sql<number>`count(*)` })
+    .from(casebookView)
+    .where(eq(casebookView.entryId, r.id))
+    .get();
   const viewCount = Number(views?.n ?? 0);
   const mine = and(eq(casebookVote.entryId, r.id), eq(casebookVote.userId, actor.id));
   const voted = !!(await tx.select({ x: casebookVote.entryId }).from(casebookVote).where(mine).get());
@@ -307,7 +358,11 @@ export async function voteEntry(
     if (!r) throw notFound("Casebook entry");
     casebookPolicy.authorize(actor, "vote", forPolicy(r));
     if (helpful) {
-      await tx.insert(casebookVote).values({ entryId: r.id, userId: actor.id, createdAt: now }).onConflictDoNothing().run();
+      await tx
+        .insert(casebookVote)
+        .values({ entryId: r.id, userId: actor.id, createdAt: now })
+        .onConflictDoNothing()
+        .run();
     } else {
       await tx
         .delete(casebookVote)
@@ -342,7 +397,12 @@ function moderationSet(r: CasebookEntryRow, patch: CasebookEditInput, actor: Act
 }
 
 /** PATCH /api/admin/casebook/:id — hide/unhide and edit the text; the FTS triggers follow. */
-export async function editEntry(ctx: AppContext, actor: Actor, id: string, patch: CasebookEditInput): Promise<CasebookEntryView> {
+export async function editEntry(
+  ctx: AppContext,
+  actor: Actor,
+  id: string,
+  patch: CasebookEditInput,
+): Promise<CasebookEntryView> {
   const now = ctx.now();
   const view = await ctx.db.write(async (tx) => {
     const r = await getEntryRow(tx, id);
@@ -370,7 +430,13 @@ export async function listHiddenEntries(ctx: AppContext, actor: Actor) {
     hiddenAt: casebookEntry.hiddenAt,
   };
   return ctx.db.read((tx) =>
-    tx.select(cols).from(casebookEntry).where(eq(casebookEntry.hidden, true)).orderBy(desc(casebookEntry.hiddenAt)).limit(200).all(),
+    tx
+      .select(cols)
+      .from(casebookEntry)
+      .where(eq(casebookEntry.hidden, true))
+      .orderBy(desc(casebookEntry.hiddenAt))
+      .limit(200)
+      .all(),
   );
 }
 
@@ -454,18 +520,35 @@ export async function similarForCase(ctx: AppContext, caseId: string, limit = 5)
   const pattern = casePattern(traces.map((t) => ({ settings: t.settings, analysis: t.analysis })));
   const v = patternVector(pattern);
   if (!hasWaveformFeatures(v)) {
-    const note = traces.length ? "None of this case's traces has been measured yet." : "Add a trace to compare this case with the casebook.";
+    const note = traces.length
+      ? "None of this case's traces has been measured yet."
+      : "Add a trace to compare this case with the casebook.";
     return { caseId, note, results: [] };
   }
   const ix = await similarIndex(ctx.db);
   return ctx.db.read(async (tx) => {
-    const own = await tx.select({ id: casebookEntry.id }).from(casebookEntry).where(eq(casebookEntry.caseId, caseId)).get();
+    const own = await tx
+      .select({ id: casebookEntry.id })
+      .from(casebookEntry)
+      .where(eq(casebookEntry.caseId, caseId))
+      .get();
     const matches = ix.nearest(v, limit, own ? new Set([own.id]) : undefined);
-    if (matches.length === 0) return { caseId, note: "The casebook has no entries with measured traces yet.", results: [] };
+    if (matches.length === 0)
+      return { caseId, note: "The casebook has no entries with measured traces yet.", results: [] };
     const ids = matches.map((m) => m.entryId);
     const e = casebookEntry;
     const rows = await tx
-      .select({ id: e.id, title: e.title, year: e.year, make: e.make, model: e.model, engine: e.engine, codeList: e.codeList, rootCause: e.rootCause, hidden: e.hidden })
+      .select({
+        id: e.id,
+        title: e.title,
+        year: e.year,
+        make: e.make,
+        model: e.model,
+        engine: e.engine,
+        codeList: e.codeList,
+        rootCause: e.rootCause,
+        hidden: e.hidden,
+      })
       .from(e)
       .where(inArray(e.id, ids))
       .all();

@@ -22,7 +22,14 @@ import {
   deadlineRisk,
   RUNNING_DEADLINE_STATES,
 } from "../../shared/domain/deadline-risk";
-import { announceCaseChange, getCaseRow, readinessOfRow, recordCaseEvent, vehicleOf, type CaseRow } from "../workflow/records";
+import {
+  announceCaseChange,
+  getCaseRow,
+  readinessOfRow,
+  recordCaseEvent,
+  vehicleOf,
+  type CaseRow,
+} from "../workflow/records";
 
 export type { PresentedCode };
 type CaseInsert = typeof schema.caseTable.$inferInsert;
@@ -66,7 +73,11 @@ function columnsFrom(input: CaseDraft, current?: CaseRow): Partial<CaseInsert> {
 }
 
 /** A new draft for the actor's shop, with its "created" event. */
-export async function createCase(ctx: AppContext, actor: Actor & { shopId: string }, input: CaseDraft): Promise<CaseRow> {
+export async function createCase(
+  ctx: AppContext,
+  actor: Actor & { shopId: string },
+  input: CaseDraft,
+): Promise<CaseRow> {
   const now = ctx.now();
   const id = crypto.randomUUID();
   const row: CaseInsert = {
@@ -99,10 +110,16 @@ export async function patchCase(ctx: AppContext, actor: Actor, caseId: string, p
     const current = await getCaseRow(tx, caseId);
     assertCaseAction(actor, current, "edit");
     const cols = columnsFrom(patch, current);
-    const same = (k: string) => JSON.stringify((current as Record<string, unknown>)[k] ?? null) === JSON.stringify((cols as Record<string, unknown>)[k] ?? null);
+    const same = (k: string) =>
+      JSON.stringify((current as Record<string, unknown>)[k] ?? null) ===
+      JSON.stringify((cols as Record<string, unknown>)[k] ?? null);
     const changed = Object.keys(cols).filter((k) => !same(k));
     if (changed.length === 0) return { row: current, changed };
-    await tx.update(caseTable).set({ ...cols, updatedAt: now }).where(eq(caseTable.id, caseId)).run();
+    await tx
+      .update(caseTable)
+      .set({ ...cols, updatedAt: now })
+      .where(eq(caseTable.id, caseId))
+      .run();
     await recordCaseEvent(tx, { caseId, actorId: actor.id, type: "edited", at: now, data: { fields: changed } });
     return { row: (await getCaseRow(tx, caseId))!, changed };
   });
@@ -125,8 +142,19 @@ const likeAny = (cols: SQL[], token: string) => {
   );
 };
 
-const vehicleCols = (): SQL[] => [sql`${caseTable.vin}`, sql`${caseTable.make}`, sql`${caseTable.model}`, sql`${caseTable.engine}`, sql`CAST(${caseTable.year} AS TEXT)`];
-const textCols = (): SQL[] => [...vehicleCols(), sql`${caseTable.complaint}`, sql`${caseTable.codes}`, sql`${caseTable.title}`];
+const vehicleCols = (): SQL[] => [
+  sql`${caseTable.vin}`,
+  sql`${caseTable.make}`,
+  sql`${caseTable.model}`,
+  sql`${caseTable.engine}`,
+  sql`CAST(${caseTable.year} AS TEXT)`,
+];
+const textCols = (): SQL[] => [
+  ...vehicleCols(),
+  sql`${caseTable.complaint}`,
+  sql`${caseTable.codes}`,
+  sql`${caseTable.title}`,
+];
 
 function scopeWhere(scope: CaseListScope): SQL | undefined {
   switch (scope.kind) {
@@ -141,7 +169,11 @@ function scopeWhere(scope: CaseListScope): SQL | undefined {
   }
 }
 
-const tokens = (s: string | undefined) => (s ?? "").split(/\s+/).filter((t) => t !== "").slice(0, 10);
+const tokens = (s: string | undefined) =>
+  (s ?? "")
+    .split(/\s+/)
+    .filter((t) => t !== "")
+    .slice(0, 10);
 
 const RUNNING = sql.join(
   RUNNING_DEADLINE_STATES.map((st) => sql`${st}`),
@@ -262,7 +294,14 @@ export async function listCases(
   const unread = unreadSql(actor.id);
   const expertUser = alias(schema.user, "expert_user");
   const { total, rows } = await ctx.db.read(async (tx) => ({
-    total: (await tx.select({ n: sql<number>`count(*)` }).from(caseTable).where(where).get())?.n ?? 0,
+    total:
+      (
+        await tx
+          .select({ n: sql<number>`count(*)` })
+          .from(caseTable)
+          .where(where)
+          .get()
+      )?.n ?? 0,
     rows: await tx
       .select({
         c: caseTable,
@@ -310,7 +349,11 @@ export function presentCodes(codes: string[] | null | undefined): PresentedCode[
 
 export function presentVehicle(c: CaseRow): CaseVehicleView {
   const v = vehicleOf(c);
-  return { ...v, vinCheckOverride: !!v.vinCheckOverride, mileageUnit: (v.mileageUnit as CaseVehicleView["mileageUnit"]) ?? null };
+  return {
+    ...v,
+    vinCheckOverride: !!v.vinCheckOverride,
+    mileageUnit: (v.mileageUnit as CaseVehicleView["mileageUnit"]) ?? null,
+  };
 }
 
 function vinDecodedOf(vin: string | null): VinDecoded | null {
@@ -381,7 +424,11 @@ export function presentCaseSummary(c: CaseRow, x: SummaryExtras): CaseSummaryVie
   } satisfies CaseSummaryView;
 }
 
-export function presentCase<T, P, X>(c: CaseRow, actor: Actor, extra: { traces: T[]; photos: P[]; comparison: X | null }): CaseView<T, P, X> {
+export function presentCase<T, P, X>(
+  c: CaseRow,
+  actor: Actor,
+  extra: { traces: T[]; photos: P[]; comparison: X | null },
+): CaseView<T, P, X> {
   return {
     id: c.id,
     status: c.status as CaseStatus,

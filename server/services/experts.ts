@@ -6,7 +6,15 @@ import { conflict, notFound } from "../http/errors";
 import { expertPolicy } from "../auth/policies/experts";
 import { mails, sendMail } from "../auth/mail";
 import type { ExpertApplicationInput, ExpertStatus } from "../../shared/schemas/auth";
-import { SIGN_UP_ACCEPTED, findUserByEmail, hashPassword, insertCredentialUser, mailOrUndo, sendAlreadyRegistered, sendVerification } from "./accounts";
+import {
+  SIGN_UP_ACCEPTED,
+  findUserByEmail,
+  hashPassword,
+  insertCredentialUser,
+  mailOrUndo,
+  sendAlreadyRegistered,
+  sendVerification,
+} from "./accounts";
 
 export type ExpertProfileRow = typeof schema.expertProfile.$inferSelect;
 
@@ -18,7 +26,9 @@ export async function applyAsExpert(ctx: AppContext, input: ExpertApplicationInp
   const passwordHash = await hashPassword(input.password);
   const existing = await findUserByEmail(ctx, input.email);
   if (existing) {
-    await sendAlreadyRegistered(ctx, existing).catch((err) => ctx.logger.warn({ err }, "could not send already-registered mail"));
+    await sendAlreadyRegistered(ctx, existing).catch((err) =>
+      ctx.logger.warn({ err }, "could not send already-registered mail"),
+    );
     return SIGN_UP_ACCEPTED;
   }
   const now = ctx.now();
@@ -26,10 +36,27 @@ export async function applyAsExpert(ctx: AppContext, input: ExpertApplicationInp
   let userId: string;
   try {
     userId = await ctx.db.write(async (tx) => {
-      const id = await insertCredentialUser(tx, { email: input.email, name: input.name, role: "expert", shopId: null, emailVerified: false, passwordHash, now });
+      const id = await insertCredentialUser(tx, {
+        email: input.email,
+        name: input.name,
+        role: "expert",
+        shopId: null,
+        emailVerified: false,
+        passwordHash,
+        now,
+      });
       await tx
         .insert(schema.expertProfile)
-        .values({ userId: id, systems: [...new Set(input.systems)], makes, bio: input.bio, yearsExperience: input.yearsExperience ?? null, status: "pending", available: false, createdAt: now })
+        .values({
+          userId: id,
+          systems: [...new Set(input.systems)],
+          makes,
+          bio: input.bio,
+          yearsExperience: input.yearsExperience ?? null,
+          status: "pending",
+          available: false,
+          createdAt: now,
+        })
         .run();
       return id;
     });
@@ -46,25 +73,43 @@ export async function applyAsExpert(ctx: AppContext, input: ExpertApplicationInp
 }
 
 export async function getExpertProfile(ctx: AppContext, userId: string): Promise<ExpertProfileRow | undefined> {
-  return ctx.db.read((tx) => tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, userId)).get());
+  return ctx.db.read((tx) =>
+    tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, userId)).get(),
+  );
 }
 
 export async function listExperts(ctx: AppContext, status: ExpertStatus) {
   return ctx.db.read((tx) =>
     tx
-    .select({ profile: schema.expertProfile, name: schema.user.name, email: schema.user.email, emailVerified: schema.user.emailVerified })
-    .from(schema.expertProfile)
-    .innerJoin(schema.user, eq(schema.user.id, schema.expertProfile.userId))
-    .where(eq(schema.expertProfile.status, status))
-    .orderBy(asc(schema.expertProfile.createdAt))
-    .all(),
+      .select({
+        profile: schema.expertProfile,
+        name: schema.user.name,
+        email: schema.user.email,
+        emailVerified: schema.user.emailVerified,
+      })
+      .from(schema.expertProfile)
+      .innerJoin(schema.user, eq(schema.user.id, schema.expertProfile.userId))
+      .where(eq(schema.expertProfile.status, status))
+      .orderBy(asc(schema.expertProfile.createdAt))
+      .all(),
   );
 }
 
 /** Approves or rejects a pending application (or re-decides one); mails the expert. */
-export async function decideExpert(ctx: AppContext, actor: Actor, userId: string, decision: "approved" | "rejected", note?: string): Promise<ExpertProfileRow> {
+export async function decideExpert(
+  ctx: AppContext,
+  actor: Actor,
+  userId: string,
+  decision: "approved" | "rejected",
+  note?: string,
+): Promise<ExpertProfileRow> {
   const now = ctx.now();
-  const set = { status: decision, decidedBy: actor.id, decidedAt: now, ...(decision === "rejected" ? { available: false } : {}) };
+  const set = {
+    status: decision,
+    decidedBy: actor.id,
+    decidedAt: now,
+    ...(decision === "rejected" ? { available: false } : {}),
+  };
   // the decision and its mail (a row of the outbox) are stored together
   return ctx.db.write(async (tx) => {
     const profile = await tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, userId)).get();
@@ -94,7 +139,10 @@ export async function setOwnAvailability(ctx: AppContext, actor: Actor, availabl
   return ctx.db.write(async (tx) => {
     const profile = await tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, actor.id)).get();
     if (!profile) throw notFound("Expert profile");
-    expertPolicy.authorize(actor, "setAvailability", { userId: profile.userId, status: profile.status as ExpertStatus });
+    expertPolicy.authorize(actor, "setAvailability", {
+      userId: profile.userId,
+      status: profile.status as ExpertStatus,
+    });
     await tx.update(schema.expertProfile).set({ available }).where(eq(schema.expertProfile.userId, actor.id)).run();
     return { ...profile, available };
   });

@@ -78,7 +78,12 @@ export async function priorMessage(tx: Tx, authorId: string, clientId: string | 
 }
 
 /** The new message's row, before its seq is known. */
-export function newMessageRow(now: Date, actor: LiveActor, caseId: string, input: MessageInput): Omit<MessageRow, "seq"> {
+export function newMessageRow(
+  now: Date,
+  actor: LiveActor,
+  caseId: string,
+  input: MessageInput,
+): Omit<MessageRow, "seq"> {
   return {
     id: crypto.randomUUID(),
     caseId,

@@ -125,9 +125,7 @@ export const notices = {
       title: `Case offered: ${c.label}`,
       paragraphs: [
         `A ${p?.tierLabel ?? ""} case matching your specialties is waiting in the queue${vehicle ? ` (${vehicle}, ${c.system ?? "system not given"})` : ""}. The answer is due by ${utc(c.deadlineAt) || "soon"}.`,
-        ...(earning != null && p
-          ? [`Your share when you answer: ${money(earning, p.currency)}.`]
-          : []),
+        ...(earning != null && p ? [`Your share when you answer: ${money(earning, p.currency)}.`] : []),
         "The first expert to claim it takes it.",
       ],
       link: "/queue",
@@ -318,7 +316,10 @@ export const notices = {
     kind: "new_mark",
     caseId: c.id,
     title: `${authorName} marked a trace: ${c.label}`,
-    paragraphs: [`${authorName} added a ${what}${label ? `: “${label.slice(0, 200)}”` : "."}`, "Open the case to see it on the trace."],
+    paragraphs: [
+      `${authorName} added a ${what}${label ? `: “${label.slice(0, 200)}”` : "."}`,
+      "Open the case to see it on the trace.",
+    ],
     link: casePath(c),
     actionLabel: "See the mark",
     fold: (n) => ({

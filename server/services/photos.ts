@@ -6,7 +6,14 @@ import { assertCaseAction } from "../auth/policies/cases";
 import type { StoredUpload } from "../uploads/multer";
 import { imageExtensions, type ImageMime } from "../uploads/magic";
 import { announceCaseChange, getCaseRow, recordCaseEvent, touchCase, type CaseRow } from "../workflow/records";
-import { contentInFlight, placeContentAddressed, removeStoredFile, resolveDataPath, storageLayout, type PlacedFile } from "./storage";
+import {
+  contentInFlight,
+  placeContentAddressed,
+  removeStoredFile,
+  resolveDataPath,
+  storageLayout,
+  type PlacedFile,
+} from "./storage";
 
 export type PhotoRow = typeof schema.photo.$inferSelect;
 const { photo } = schema;
@@ -14,7 +21,11 @@ const { photo } = schema;
 /** A display name from the uploader's file name: no folders, no control characters, bounded. */
 export function cleanFileName(name: string | undefined | null, fallback: string): string {
   const base = (name ?? "").split(/[\\/]/).pop() ?? "";
-  const clean = base.replace(/[\u0000-\u001f\u007f"]/g, "").trim().slice(0, 200);
+  const clean = base
+    // eslint-disable-next-line no-control-regex -- control characters are exactly what is removed
+    .replace(/[\u0000-\u001f\u007f"]/g, "")
+    .trim()
+    .slice(0, 200);
   return clean || fallback;
 }
 
@@ -27,7 +38,16 @@ export async function listPhotos(tx: Tx, caseId: string): Promise<PhotoRow[]> {
 }
 
 export function presentPhoto(p: PhotoRow) {
-  return { id: p.id, caseId: p.caseId, name: p.name, mime: p.mime, bytes: p.bytes, url: `/api/photos/${p.id}`, uploadedBy: p.uploadedBy, createdAt: p.createdAt };
+  return {
+    id: p.id,
+    caseId: p.caseId,
+    name: p.name,
+    mime: p.mime,
+    bytes: p.bytes,
+    url: `/api/photos/${p.id}`,
+    uploadedBy: p.uploadedBy,
+    createdAt: p.createdAt,
+  };
 }
 
 /**
@@ -35,7 +55,12 @@ export function presentPhoto(p: PhotoRow) {
  * file to its content-addressed place and writes the row and the "photo_added" event in one
  * transaction. On failure nothing stays: no row, and the file only if it was there before.
  */
-export async function addPhoto(ctx: AppContext, actor: Actor, caseId: string, upload: StoredUpload & { detected: ImageMime }): Promise<PhotoRow> {
+export async function addPhoto(
+  ctx: AppContext,
+  actor: Actor,
+  caseId: string,
+  upload: StoredUpload & { detected: ImageMime },
+): Promise<PhotoRow> {
   const layout = storageLayout(ctx.env.dataDir);
   const id = crypto.randomUUID();
   const mime = upload.detected;
@@ -49,9 +74,25 @@ export async function addPhoto(ctx: AppContext, actor: Actor, caseId: string, up
     const row = await ctx.db.write(async (tx) => {
       // The case may have moved on while the file was arriving: check again inside the transaction.
       assertCaseAction(actor, (await getCaseRow(tx, caseId)) as CaseRow | undefined, "addPhoto");
-      const values = { id, caseId, uploadedBy: actor.id, name, mime, bytes: upload.size, sha256: upload.sha256, path: rel, createdAt: now };
+      const values = {
+        id,
+        caseId,
+        uploadedBy: actor.id,
+        name,
+        mime,
+        bytes: upload.size,
+        sha256: upload.sha256,
+        path: rel,
+        createdAt: now,
+      };
       const inserted = await tx.insert(photo).values(values).returning().get();
-      await recordCaseEvent(tx, { caseId, actorId: actor.id, type: "photo_added", at: now, data: { photoId: id, name } });
+      await recordCaseEvent(tx, {
+        caseId,
+        actorId: actor.id,
+        type: "photo_added",
+        at: now,
+        data: { photoId: id, name },
+      });
       await touchCase(tx, caseId, now);
       return inserted;
     });
@@ -69,7 +110,9 @@ export async function addPhoto(ctx: AppContext, actor: Actor, caseId: string, up
 }
 
 async function photoUsesContent(ctx: AppContext, sha256: string): Promise<boolean> {
-  const row = await ctx.db.read((tx) => tx.select({ id: photo.id }).from(photo).where(eq(photo.sha256, sha256)).limit(1).get());
+  const row = await ctx.db.read((tx) =>
+    tx.select({ id: photo.id }).from(photo).where(eq(photo.sha256, sha256)).limit(1).get(),
+  );
   return row !== undefined;
 }
 

@@ -82,7 +82,14 @@ export class PresenceRegistry {
   snapshot(caseId: string): PresencePayload {
     const room = this.rooms.get(caseId);
     const participants: Participant[] = room
-      ? [...room.values()].map((e) => ({ userId: e.userId, name: e.name, role: e.role, color: e.color, typing: e.typing, connections: e.sockets.size }))
+      ? [...room.values()].map((e) => ({
+          userId: e.userId,
+          name: e.name,
+          role: e.role,
+          color: e.color,
+          typing: e.typing,
+          connections: e.sockets.size,
+        }))
       : [];
     participants.sort((a, b) => (a.role === b.role ? a.name.localeCompare(b.name) : a.role < b.role ? -1 : 1));
     return { caseId, participants };
@@ -97,7 +104,8 @@ export class PresenceRegistry {
   }
 
   clear(): void {
-    for (const room of this.rooms.values()) for (const e of room.values()) if (e.typingTimer) clearTimeout(e.typingTimer);
+    for (const room of this.rooms.values())
+      for (const e of room.values()) if (e.typingTimer) clearTimeout(e.typingTimer);
     this.rooms.clear();
     this.views.clear();
   }

@@ -36,10 +36,30 @@ export interface Pricing {
 
 /** The product's starting price list (invented figures for a new desk; an admin changes them). */
 export const DEFAULT_TIERS: readonly Omit<Tier, "sortOrder">[] = [
-  { id: "standard", label: "Standard", description: "An expert's answer within 24 hours.", priceCents: 4900, deadlineMinutes: 24 * 60, active: true },
-  { id: "priority", label: "Priority", description: "An expert's answer within 2 hours, for a car on the lift.", priceCents: 12900, deadlineMinutes: 2 * 60, active: true },
+  {
+    id: "standard",
+    label: "Standard",
+    description: "An expert's answer within 24 hours.",
+    priceCents: 4900,
+    deadlineMinutes: 24 * 60,
+    active: true,
+  },
+  {
+    id: "priority",
+    label: "Priority",
+    description: "An expert's answer within 2 hours, for a car on the lift.",
+    priceCents: 12900,
+    deadlineMinutes: 2 * 60,
+    active: true,
+  },
 ];
-export const DEFAULT_SETTINGS = { currency: "usd", deskShareBasisPoints: 2000, firstWaveSize: 3, widenAfterMinutes: 30, closeAnsweredAfterDays: 7 } as const;
+export const DEFAULT_SETTINGS = {
+  currency: "usd",
+  deskShareBasisPoints: 2000,
+  firstWaveSize: 3,
+  widenAfterMinutes: 30,
+  closeAnsweredAfterDays: 7,
+} as const;
 
 async function ensureDefaults(tx: Tx, now: Date): Promise<void> {
   const s = await tx.select().from(deskSettings).where(eq(deskSettings.id, 1)).get();
@@ -93,7 +113,11 @@ export async function publicPricing(tx: Tx): Promise<{ currency: string; tiers: 
 }
 
 /** Replaces the price list. Tiers left out are kept but deactivated (old payments name them). */
-export async function updatePricing(ctx: AppContext, actor: Actor, input: z.output<typeof pricingUpdateSchema>): Promise<Pricing> {
+export async function updatePricing(
+  ctx: AppContext,
+  actor: Actor,
+  input: z.output<typeof pricingUpdateSchema>,
+): Promise<Pricing> {
   const now = ctx.now();
   return ctx.db.write(async (tx) => {
     await ensureDefaults(tx, now);
@@ -113,7 +137,11 @@ export async function updatePricing(ctx: AppContext, actor: Actor, input: z.outp
     const keep = new Set(input.tiers.map((t) => t.id));
     for (const t of await tx.select().from(pricingTier).all()) {
       if (!keep.has(t.id) && t.active) {
-        await tx.update(pricingTier).set({ active: false, updatedBy: actor.id, updatedAt: now }).where(eq(pricingTier.id, t.id)).run();
+        await tx
+          .update(pricingTier)
+          .set({ active: false, updatedBy: actor.id, updatedAt: now })
+          .where(eq(pricingTier.id, t.id))
+          .run();
       }
     }
     for (const [i, t] of input.tiers.entries()) {
@@ -142,7 +170,13 @@ export async function quoteTier(tx: Tx, tierId: string): Promise<{ tier: Tier; p
   const pricing = await getPricing(tx);
   const tier = pricing.tiers.find((t) => t.id === tierId && t.active);
   if (!tier) {
-    throw badRequest("unknown_tier", `There is no tier "${tierId}". Choose one of: ${pricing.tiers.filter((t) => t.active).map((t) => t.id).join(", ")}.`);
+    throw badRequest(
+      "unknown_tier",
+      `There is no tier "${tierId}". Choose one of: ${pricing.tiers
+        .filter((t) => t.active)
+        .map((t) => t.id)
+        .join(", ")}.`,
+    );
   }
   return { tier, pricing };
 }

@@ -32,7 +32,9 @@ export async function signUpShopOwner(ctx: AppContext, input: ShopSignUpInput): 
   const passwordHash = await hashPassword(input.password);
   const existing = await findUserByEmail(ctx, input.email);
   if (existing) {
-    await sendAlreadyRegistered(ctx, existing).catch((err) => ctx.logger.warn({ err }, "could not send already-registered mail"));
+    await sendAlreadyRegistered(ctx, existing).catch((err) =>
+      ctx.logger.warn({ err }, "could not send already-registered mail"),
+    );
     return SIGN_UP_ACCEPTED;
   }
   const now = ctx.now();
@@ -62,22 +64,43 @@ export async function getShop(ctx: AppContext, shopId: string): Promise<ShopRow 
 export async function listMembers(ctx: AppContext, shopId: string) {
   return ctx.db.read((tx) =>
     tx
-    .select({ id: schema.user.id, name: schema.user.name, email: schema.user.email, role: schema.user.role, shopId: schema.user.shopId, createdAt: schema.user.createdAt, deactivatedAt: schema.user.deactivatedAt })
-    .from(schema.user)
-    .where(and(eq(schema.user.shopId, shopId), isNull(schema.user.deactivatedAt)))
-    .orderBy(asc(schema.user.createdAt))
-    .all(),
+      .select({
+        id: schema.user.id,
+        name: schema.user.name,
+        email: schema.user.email,
+        role: schema.user.role,
+        shopId: schema.user.shopId,
+        createdAt: schema.user.createdAt,
+        deactivatedAt: schema.user.deactivatedAt,
+      })
+      .from(schema.user)
+      .where(and(eq(schema.user.shopId, shopId), isNull(schema.user.deactivatedAt)))
+      .orderBy(asc(schema.user.createdAt))
+      .all(),
   );
 }
 
 export async function listPendingInvites(ctx: AppContext, shopId: string) {
   return ctx.db.read((tx) =>
     tx
-    .select({ id: schema.invite.id, email: schema.invite.email, name: schema.invite.name, expiresAt: schema.invite.expiresAt, createdAt: schema.invite.createdAt })
-    .from(schema.invite)
-    .where(and(eq(schema.invite.shopId, shopId), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, ctx.now())))
-    .orderBy(asc(schema.invite.createdAt))
-    .all(),
+      .select({
+        id: schema.invite.id,
+        email: schema.invite.email,
+        name: schema.invite.name,
+        expiresAt: schema.invite.expiresAt,
+        createdAt: schema.invite.createdAt,
+      })
+      .from(schema.invite)
+      .where(
+        and(
+          eq(schema.invite.shopId, shopId),
+          isNull(schema.invite.acceptedAt),
+          isNull(schema.invite.revokedAt),
+          gt(schema.invite.expiresAt, ctx.now()),
+        ),
+      )
+      .orderBy(asc(schema.invite.createdAt))
+      .all(),
   );
 }
 
@@ -100,7 +123,9 @@ export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow,
   const existing = await findUserByEmail(ctx, input.email);
   const active = existing && !existing.deactivatedAt ? existing : undefined;
   if (active && active.shopId === shop.id) {
-    throw conflict("already_in_team", "This person is already in your team.", { fields: [{ path: "email", message: "Already in your team." }] });
+    throw conflict("already_in_team", "This person is already in your team.", {
+      fields: [{ path: "email", message: "Already in your team." }],
+    });
   }
   const token = randomBytes(32).toString("base64url");
   const now = ctx.now();
@@ -122,21 +147,21 @@ export async function createInvite(ctx: AppContext, actor: Actor, shop: ShopRow,
   // The limits are counted and the invitation and its mail written in one transaction, so
   // simultaneous invitations cannot slip past a limit together.
   await ctx.db.write(async (tx) => {
-      await checkInviteLimits(tx, shop, actor.id, now);
-      await tx
-        .update(schema.invite)
-        .set({ revokedAt: now })
-        .where(
-          and(
-            eq(schema.invite.shopId, shop.id),
-            eq(schema.invite.email, input.email),
-            isNull(schema.invite.acceptedAt),
-            isNull(schema.invite.revokedAt),
-          ),
-        )
-        .run();
-      await tx.insert(schema.invite).values(row).run();
-      await sendMail(ctx, input.email, content, { tx, kind: "invite" });
+    await checkInviteLimits(tx, shop, actor.id, now);
+    await tx
+      .update(schema.invite)
+      .set({ revokedAt: now })
+      .where(
+        and(
+          eq(schema.invite.shopId, shop.id),
+          eq(schema.invite.email, input.email),
+          isNull(schema.invite.acceptedAt),
+          isNull(schema.invite.revokedAt),
+        ),
+      )
+      .run();
+    await tx.insert(schema.invite).values(row).run();
+    await sendMail(ctx, input.email, content, { tx, kind: "invite" });
   });
   return { invite: presentInvite(row), token: active ? null : token };
 }
@@ -170,7 +195,9 @@ export async function isEstablishedShop(tx: Tx, shop: ShopRow, now: Date): Promi
 }
 
 async function checkInviteLimits(tx: Tx, shop: ShopRow, userId: string, now: Date): Promise<void> {
-  const dayCap = (await isEstablishedShop(tx, shop, now)) ? INVITE_LIMITS.establishedShopPerDay : INVITE_LIMITS.newShopPerDay;
+  const dayCap = (await isEstablishedShop(tx, shop, now))
+    ? INVITE_LIMITS.establishedShopPerDay
+    : INVITE_LIMITS.newShopPerDay;
   const checks = [
     { scope: "user_hour", windowMs: HOUR, max: INVITE_LIMITS.perUserPerHour, who: eq(schema.invite.invitedBy, userId) },
     { scope: "shop_hour", windowMs: HOUR, max: INVITE_LIMITS.perShopPerHour, who: eq(schema.invite.shopId, shop.id) },
@@ -211,7 +238,13 @@ function formatWait(seconds: number): string {
 }
 
 export function presentInvite(i: Pick<InviteRow, "id" | "email" | "name" | "expiresAt" | "createdAt">) {
-  return { id: i.id, email: i.email, name: i.name, expiresAt: i.expiresAt.toISOString(), createdAt: i.createdAt.toISOString() };
+  return {
+    id: i.id,
+    email: i.email,
+    name: i.name,
+    expiresAt: i.expiresAt.toISOString(),
+    createdAt: i.createdAt.toISOString(),
+  };
 }
 
 export async function revokeInvite(ctx: AppContext, shopId: string, inviteId: string): Promise<void> {
@@ -219,7 +252,14 @@ export async function revokeInvite(ctx: AppContext, shopId: string, inviteId: st
     tx
       .update(schema.invite)
       .set({ revokedAt: ctx.now() })
-      .where(and(eq(schema.invite.id, inviteId), eq(schema.invite.shopId, shopId), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt)))
+      .where(
+        and(
+          eq(schema.invite.id, inviteId),
+          eq(schema.invite.shopId, shopId),
+          isNull(schema.invite.acceptedAt),
+          isNull(schema.invite.revokedAt),
+        ),
+      )
       .returning({ id: schema.invite.id })
       .all(),
   );
@@ -234,18 +274,29 @@ export async function findUsableInvite(ctx: AppContext, token: string) {
       .select({ invite: schema.invite, shopName: schema.shop.name })
       .from(schema.invite)
       .innerJoin(schema.shop, eq(schema.shop.id, schema.invite.shopId))
-      .where(and(eq(schema.invite.tokenHash, hashToken(token)), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, now)))
+      .where(
+        and(
+          eq(schema.invite.tokenHash, hashToken(token)),
+          isNull(schema.invite.acceptedAt),
+          isNull(schema.invite.revokedAt),
+          gt(schema.invite.expiresAt, now),
+        ),
+      )
       .get(),
   );
 }
 
-export const INVITE_GONE = "This invitation link is not valid any more: it has been used, replaced or has expired (links work for 7 days). Ask the shop's owner to send a new one.";
+export const INVITE_GONE =
+  "This invitation link is not valid any more: it has been used, replaced or has expired (links work for 7 days). Ask the shop's owner to send a new one.";
 
 /**
  * Accepts an invitation: creates the technician's account in the inviting shop, already verified
  * (the link proved the address), and uses the token up. All in one transaction.
  */
-export async function acceptInvite(ctx: AppContext, input: AcceptInviteInput): Promise<{ email: string; shopId: string; userId: string }> {
+export async function acceptInvite(
+  ctx: AppContext,
+  input: AcceptInviteInput,
+): Promise<{ email: string; shopId: string; userId: string }> {
   const found = await findUsableInvite(ctx, input.token);
   if (!found) throw new HttpError(404, "invite_invalid", INVITE_GONE);
   const passwordHash = await hashPassword(input.password);
@@ -255,27 +306,61 @@ export async function acceptInvite(ctx: AppContext, input: AcceptInviteInput): P
     const used = await tx
       .update(schema.invite)
       .set({ acceptedAt: now })
-      .where(and(eq(schema.invite.id, invite.id), isNull(schema.invite.acceptedAt), isNull(schema.invite.revokedAt), gt(schema.invite.expiresAt, now)))
+      .where(
+        and(
+          eq(schema.invite.id, invite.id),
+          isNull(schema.invite.acceptedAt),
+          isNull(schema.invite.revokedAt),
+          gt(schema.invite.expiresAt, now),
+        ),
+      )
       .returning({ id: schema.invite.id })
       .all();
     if (used.length !== 1) throw new HttpError(404, "invite_invalid", INVITE_GONE);
     const existing = await tx.select().from(schema.user).where(eq(schema.user.email, invite.email)).get();
-    if (existing && !existing.deactivatedAt) throw conflict("already_registered", "This e-mail address already has an account: sign in instead.");
+    if (existing && !existing.deactivatedAt)
+      throw conflict("already_registered", "This e-mail address already has an account: sign in instead.");
     if (existing) {
       // a technician removed earlier and invited again: same account, new password, back in a shop
       await tx
         .update(schema.user)
-        .set({ name: input.name, role: "technician", shopId: invite.shopId, emailVerified: true, deactivatedAt: null, updatedAt: now })
+        .set({
+          name: input.name,
+          role: "technician",
+          shopId: invite.shopId,
+          emailVerified: true,
+          deactivatedAt: null,
+          updatedAt: now,
+        })
         .where(eq(schema.user.id, existing.id))
         .run();
-      await tx.delete(schema.account).where(and(eq(schema.account.userId, existing.id), eq(schema.account.providerId, "credential"))).run();
+      await tx
+        .delete(schema.account)
+        .where(and(eq(schema.account.userId, existing.id), eq(schema.account.providerId, "credential")))
+        .run();
       await tx
         .insert(schema.account)
-        .values({ id: crypto.randomUUID(), accountId: existing.id, providerId: "credential", userId: existing.id, password: passwordHash, createdAt: now, updatedAt: now })
+        .values({
+          id: crypto.randomUUID(),
+          accountId: existing.id,
+          providerId: "credential",
+          userId: existing.id,
+          password: passwordHash,
+          createdAt: now,
+          updatedAt: now,
+        })
         .run();
       return { email: invite.email, shopId: invite.shopId, userId: existing.id };
     }
-    const userId = await insertCredentialUser(tx, { email: invite.email, name: input.name, role: "technician", shopId: invite.shopId, emailVerified: true, passwordHash, now });
+    const userId = await insertCredentialUser(tx, {
+      email: invite.email,
+      name: input.name,
+      role: "technician",
+      shopId: invite.shopId,
+      emailVerified: true,
+      passwordHash,
+      now,
+    });
     return { email: invite.email, shopId: invite.shopId, userId };
   });
 }

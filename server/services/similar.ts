@@ -16,7 +16,16 @@ import { median } from "../../shared/analysis/stats";
 export const FEATURE_VERSION = 1;
 
 /** Findings that describe the vehicle rather than the capture (capture-quality remarks are left out). */
-export const PATTERN_FINDINGS = ["no-events", "erratic-firing", "low-compression", "slow-cranking", "no-pintle-hump", "no-gap", "tooth-count", "damaged-tooth"] as const;
+export const PATTERN_FINDINGS = [
+  "no-events",
+  "erratic-firing",
+  "low-compression",
+  "slow-cranking",
+  "no-pintle-hump",
+  "no-gap",
+  "tooth-count",
+  "damaged-tooth",
+] as const;
 const KINDS = ["secondary-ignition", "relative-compression", "injector", "crank"] as const;
 
 const FINDING_WORDS: Record<string, string> = {
@@ -116,7 +125,13 @@ function traceLabel(t: PatternTrace, i: number): string {
   return `trace ${i + 1}`;
 }
 
-const METRIC_UNIT: Record<OddMetric, string> = { burnTimeMs: "ms", peak: "*", burnLevel: "*", oscillations: "", pulseWidthMs: "ms" };
+const METRIC_UNIT: Record<OddMetric, string> = {
+  burnTimeMs: "ms",
+  peak: "*",
+  burnLevel: "*",
+  oscillations: "",
+  pulseWidthMs: "ms",
+};
 
 /** The member of `items` farthest from the median of the others (log ratio; difference for counts). */
 function oddOne(items: { label: string; value: number }[], metric: OddMetric, unit: string): OddFact | null {
@@ -148,15 +163,20 @@ function oddOne(items: { label: string; value: number }[], metric: OddMetric, un
 /** The pattern of a case from its traces' stored analyses. */
 export function casePattern(traces: readonly PatternTrace[]): CasePattern {
   const analysed = traces.filter((t) => t.analysis && typeof t.analysis.kind === "string");
-  const kinds = [...new Set(analysed.map((t) => String(t.analysis!.kind)))].filter((k) => (KINDS as readonly string[]).includes(k)).sort();
+  const kinds = [...new Set(analysed.map((t) => String(t.analysis!.kind)))]
+    .filter((k) => (KINDS as readonly string[]).includes(k))
+    .sort();
   const findings = new Set<string>();
   for (const t of analysed) {
     for (const f of (t.analysis!.findings as { code?: string; severity?: string }[] | undefined) ?? []) {
-      if (f?.code && (PATTERN_FINDINGS as readonly string[]).includes(f.code) && f.severity !== "info") findings.add(f.code);
+      if (f?.code && (PATTERN_FINDINGS as readonly string[]).includes(f.code) && f.severity !== "info")
+        findings.add(f.code);
     }
   }
   const sec = analysed.map((t, i) => ({ t, i })).filter(({ t }) => t.analysis!.kind === "secondary-ignition");
-  const rpms = analysed.map((t) => num((t.analysis!.summary as Summary | undefined)?.rpm)).filter((x): x is number => x != null && x > 0);
+  const rpms = analysed
+    .map((t) => num((t.analysis!.summary as Summary | undefined)?.rpm))
+    .filter((x): x is number => x != null && x > 0);
   const odd: OddFact[] = [];
   let burn: number | null = null;
   let osc: number | null = null;
@@ -166,7 +186,9 @@ export function casePattern(traces: readonly PatternTrace[]): CasePattern {
     compared = sec.length;
     const unit = String(sec[0].t.analysis!.unit ?? "V");
     const per = (metric: OddMetric) =>
-      sec.map(({ t, i }) => ({ label: traceLabel(t, i), value: num((t.analysis!.summary as Summary)?.[metric]) })).filter((x): x is { label: string; value: number } => x.value != null);
+      sec
+        .map(({ t, i }) => ({ label: traceLabel(t, i), value: num((t.analysis!.summary as Summary)?.[metric]) }))
+        .filter((x): x is { label: string; value: number } => x.value != null);
     for (const m of ["burnTimeMs", "peak", "burnLevel", "oscillations"] as OddMetric[]) {
       const f = oddOne(per(m), m, METRIC_UNIT[m] === "*" ? unit : METRIC_UNIT[m]);
       if (f) odd.push(f);
@@ -176,12 +198,16 @@ export function casePattern(traces: readonly PatternTrace[]): CasePattern {
   } else if (sec.length === 1) {
     // one trace with several firings (one pickup on a shared lead, or waste spark): compare firings
     const a = sec[0].t.analysis!;
-    const events = ((a.events as Record<string, unknown>[] | undefined) ?? []).filter((e) => e && typeof e === "object");
+    const events = ((a.events as Record<string, unknown>[] | undefined) ?? []).filter(
+      (e) => e && typeof e === "object",
+    );
     const unit = String(a.unit ?? "V");
     compared = events.length;
     if (events.length >= 3) {
       for (const m of ["burnTimeMs", "peak", "burnLevel", "oscillations"] as OddMetric[]) {
-        const items = events.map((e, k) => ({ label: `firing ${k + 1} of ${events.length}`, value: num(e[m]) })).filter((x): x is { label: string; value: number } => x.value != null);
+        const items = events
+          .map((e, k) => ({ label: `firing ${k + 1} of ${events.length}`, value: num(e[m]) }))
+          .filter((x): x is { label: string; value: number } => x.value != null);
         const f = oddOne(items, m, METRIC_UNIT[m] === "*" ? unit : METRIC_UNIT[m]);
         if (f) odd.push(f);
       }
@@ -192,7 +218,9 @@ export function casePattern(traces: readonly PatternTrace[]): CasePattern {
   const inj = analysed.filter((t) => t.analysis!.kind === "injector");
   if (inj.length >= 2) {
     const f = oddOne(
-      inj.map((t, i) => ({ label: traceLabel(t, i), value: num((t.analysis!.summary as Summary)?.pulseWidthMs) })).filter((x): x is { label: string; value: number } => x.value != null),
+      inj
+        .map((t, i) => ({ label: traceLabel(t, i), value: num((t.analysis!.summary as Summary)?.pulseWidthMs) }))
+        .filter((x): x is { label: string; value: number } => x.value != null),
       "pulseWidthMs",
       "ms",
     );
@@ -200,9 +228,11 @@ export function casePattern(traces: readonly PatternTrace[]): CasePattern {
   }
   let lowCompression: CasePattern["lowCompression"] = null;
   for (const t of analysed.filter((t) => t.analysis!.kind === "relative-compression")) {
-    const positions = ((t.analysis!.summary as Summary)?.positions as { position: number; relativePct: number }[] | undefined) ?? [];
+    const positions =
+      ((t.analysis!.summary as Summary)?.positions as { position: number; relativePct: number }[] | undefined) ?? [];
     for (const p of positions) {
-      if (typeof p?.relativePct === "number" && (lowCompression == null || p.relativePct < lowCompression.relativePct)) lowCompression = { position: p.position, relativePct: p.relativePct };
+      if (typeof p?.relativePct === "number" && (lowCompression == null || p.relativePct < lowCompression.relativePct))
+        lowCompression = { position: p.position, relativePct: p.relativePct };
     }
   }
   return {
@@ -273,7 +303,13 @@ function fmt(x: number): string {
   return x.toFixed(2).replace(/0$/, "").replace(/\.0$/, "");
 }
 
-const METRIC_WORDS: Record<OddMetric, string> = { burnTimeMs: "burn", peak: "firing line", burnLevel: "spark line", oscillations: "coil ringing", pulseWidthMs: "injector pulse" };
+const METRIC_WORDS: Record<OddMetric, string> = {
+  burnTimeMs: "burn",
+  peak: "firing line",
+  burnLevel: "spark line",
+  oscillations: "coil ringing",
+  pulseWidthMs: "injector pulse",
+};
 
 function isOdd(o: OddFact | undefined): o is OddFact {
   if (!o) return false;
@@ -299,20 +335,41 @@ export function similarityReasons(query: CasePattern, entry: CasePattern, max = 
     const a = query.odd.find((o) => o.metric === m);
     const b = entry.odd.find((o) => o.metric === m);
     if (!isOdd(a) || !isOdd(b)) continue;
-    const sameWay = m === "oscillations" ? Math.sign(a.ratio) === Math.sign(b.ratio) : Math.sign(Math.log(a.ratio)) === Math.sign(Math.log(b.ratio));
+    const sameWay =
+      m === "oscillations"
+        ? Math.sign(a.ratio) === Math.sign(b.ratio)
+        : Math.sign(Math.log(a.ratio)) === Math.sign(Math.log(b.ratio));
     if (sameWay) out.push(`${describeOdd(b)}, like this case`);
   }
-  if (query.lowCompression && entry.lowCompression && query.lowCompression.relativePct < 85 && entry.lowCompression.relativePct < 85) {
-    out.push(`one cylinder at ${fmt(entry.lowCompression.relativePct)} % relative compression, like this case (${fmt(query.lowCompression.relativePct)} %)`);
+  if (
+    query.lowCompression &&
+    entry.lowCompression &&
+    query.lowCompression.relativePct < 85 &&
+    entry.lowCompression.relativePct < 85
+  ) {
+    out.push(
+      `one cylinder at ${fmt(entry.lowCompression.relativePct)} % relative compression, like this case (${fmt(query.lowCompression.relativePct)} %)`,
+    );
   }
   const shared = entry.findings.filter((f) => query.findings.includes(f) && f !== "low-compression");
   if (shared.length) out.push(`also flagged: ${shared.map((f) => FINDING_WORDS[f] ?? f).join(", ")}`);
-  if (out.length === 0 && query.burnTimeMs != null && entry.burnTimeMs != null && Math.abs(query.burnTimeMs - entry.burnTimeMs) <= 0.3) {
+  if (
+    out.length === 0 &&
+    query.burnTimeMs != null &&
+    entry.burnTimeMs != null &&
+    Math.abs(query.burnTimeMs - entry.burnTimeMs) <= 0.3
+  ) {
     const evenA = !isOdd(query.odd.find((o) => o.metric === "burnTimeMs"));
     const evenB = !isOdd(entry.odd.find((o) => o.metric === "burnTimeMs"));
-    out.push(`burn time ${fmt(entry.burnTimeMs)} ms${evenA && evenB ? " and even across the coils" : ""}, close to this case's ${fmt(query.burnTimeMs)} ms`);
+    out.push(
+      `burn time ${fmt(entry.burnTimeMs)} ms${evenA && evenB ? " and even across the coils" : ""}, close to this case's ${fmt(query.burnTimeMs)} ms`,
+    );
   }
-  if (query.rpm != null && entry.rpm != null && Math.abs(query.rpm - entry.rpm) <= 0.2 * Math.max(query.rpm, entry.rpm)) {
+  if (
+    query.rpm != null &&
+    entry.rpm != null &&
+    Math.abs(query.rpm - entry.rpm) <= 0.2 * Math.max(query.rpm, entry.rpm)
+  ) {
     out.push(`captured at ${fmt(entry.rpm)} rpm (this case ${fmt(query.rpm)} rpm)`);
   }
   if (out.length === 0) out.push("the nearest waveform pattern in the casebook");
@@ -392,7 +449,11 @@ export class SimilarIndex {
     for (let j = 0; j < k; j++) {
       if (bestI[j] < 0) break;
       const dist = Math.sqrt(bestD[j]);
-      out.push({ entryId: this.ids[bestI[j]], distance: Math.round(dist * 1000) / 1000, similarity: Math.round((1 / (1 + dist)) * 1000) / 1000 });
+      out.push({
+        entryId: this.ids[bestI[j]],
+        distance: Math.round(dist * 1000) / 1000,
+        similarity: Math.round((1 / (1 + dist)) * 1000) / 1000,
+      });
     }
     return out;
   }
@@ -400,10 +461,22 @@ export class SimilarIndex {
   /** Loads what changed in the casebook since the last call (everything the first time), inside the caller's unit. */
   async sync(tx: Tx): Promise<void> {
     const { casebookEntry, casebookVector } = schema;
-    const head = Number((await tx.select({ rev: sql<number>`coalesce(max(${casebookEntry.rev}), 0)` }).from(casebookEntry).get())?.rev ?? 0);
+    const head = Number(
+      (
+        await tx
+          .select({ rev: sql<number>`coalesce(max(${casebookEntry.rev}), 0)` })
+          .from(casebookEntry)
+          .get()
+      )?.rev ?? 0,
+    );
     if (head === this.rev) return;
     const rows = await tx
-      .select({ id: casebookEntry.id, hidden: casebookEntry.hidden, vector: casebookVector.vector, version: casebookVector.version })
+      .select({
+        id: casebookEntry.id,
+        hidden: casebookEntry.hidden,
+        vector: casebookVector.vector,
+        version: casebookVector.version,
+      })
       .from(casebookEntry)
       .leftJoin(casebookVector, eq(casebookVector.entryId, casebookEntry.id))
       .where(gt(casebookEntry.rev, this.rev))

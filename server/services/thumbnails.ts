@@ -109,7 +109,8 @@ export function renderThumbnailSvg(win: TraceWindow, range: { t0: number; t1: nu
     lower.push(`${x} ${f1(Y(s.min[k]))}`);
   }
   const band = `M${upper.join("L")}L${lower.reverse().join("L")}Z`;
-  const zero = vMin < 0 && vMax > 0 ? `<path d="M${pad} ${f1(Y(0))}H${w - pad}" stroke="${COLORS.zero}" stroke-width="1"/>` : "";
+  const zero =
+    vMin < 0 && vMax > 0 ? `<path d="M${pad} ${f1(Y(0))}H${w - pad}" stroke="${COLORS.zero}" stroke-width="1"/>` : "";
   return (
     `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${w} ${h}" width="${w}" height="${h}">` +
     `<rect width="${w}" height="${h}" rx="4" fill="${COLORS.area}"/>${zero}` +
@@ -127,7 +128,8 @@ function remember(key: string, t: Thumbnail): Thumbnail {
   return t;
 }
 
-const etagOf = (svg: string) => `"th${RENDER_VERSION}-${createHash("sha256").update(svg).digest("base64url").slice(0, 27)}"`;
+const etagOf = (svg: string) =>
+  `"th${RENDER_VERSION}-${createHash("sha256").update(svg).digest("base64url").slice(0, 27)}"`;
 
 /** The thumbnail of a stored trace, rendered once per trace content (sha256 of its file) and analysis. */
 async function traceThumbnail(ctx: AppContext, tr: typeof schema.trace.$inferSelect): Promise<Thumbnail> {
@@ -149,7 +151,8 @@ export async function entryThumbnail(ctx: AppContext, actor: Actor, entryId: str
   const e = await ctx.db.read((tx) =>
     tx.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.id, entryId)).get(),
   );
-  if (!e || !casebookPolicy.can(actor, "read", { hidden: e.hidden, expertId: e.expertId })) throw notFound("Casebook entry");
+  if (!e || !casebookPolicy.can(actor, "read", { hidden: e.hidden, expertId: e.expertId }))
+    throw notFound("Casebook entry");
   const first = ((e.body as unknown as CasebookEntryBody).traces ?? [])[0];
   const tr = first
     ? await ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, first.id)).get())

@@ -16,7 +16,12 @@ export async function traceForWindow(ctx: AppContext, actor: Actor, traceId: str
   const t = await getTraceRow(ctx, traceId);
   if (!t) throw notFound("Trace");
   const allowed = await ctx.db.read(async (tx) =>
-    mayReadTraceWindow(actor, await expertProfileOf(tx, actor), await getCaseRow(tx, t.caseId), await publishedEntryOfTrace(tx, t.id)),
+    mayReadTraceWindow(
+      actor,
+      await expertProfileOf(tx, actor),
+      await getCaseRow(tx, t.caseId),
+      await publishedEntryOfTrace(tx, t.id),
+    ),
   );
   if (!allowed) throw notFound("Trace");
   return t;

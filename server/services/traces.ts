@@ -1,4 +1,3 @@
-import fs from "node:fs";
 import { asc, eq } from "drizzle-orm";
 import type { AppContext } from "../context";
 import { schema, type Tx } from "../db/client";

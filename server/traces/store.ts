@@ -30,7 +30,13 @@ import fs from "node:fs";
 import fsp from "node:fs/promises";
 import path from "node:path";
 import { randomBytes } from "node:crypto";
-import { channelMeta, type ParsedTrace, type TraceChannel, type TraceChannelMeta, type TraceWindow } from "../../shared/trace/types";
+import {
+  channelMeta,
+  type ParsedTrace,
+  type TraceChannel,
+  type TraceChannelMeta,
+  type TraceWindow,
+} from "../../shared/trace/types";
 import { buildPyramid, BlockScanner, PYRAMID_BASE_BLOCK, type MinMaxLevel } from "../../shared/trace/pyramid";
 import { assembleWindow, bucketBoundaries, bucketOf, checkWindow } from "../../shared/trace/decimate";
 
@@ -81,7 +87,8 @@ export interface TraceData {
 const ID_PATTERN = /^[A-Za-z0-9][A-Za-z0-9_-]{0,127}$/;
 
 function assertLittleEndian() {
-  if (new Uint8Array(new Uint16Array([1]).buffer)[0] !== 1) throw new Error("trace data files need a little-endian host");
+  if (new Uint8Array(new Uint16Array([1]).buffer)[0] !== 1)
+    throw new Error("trace data files need a little-endian host");
 }
 
 const align8 = (x: number) => (x + 7) & ~7;
@@ -102,7 +109,11 @@ type Section = Uint8Array | ((write: (bytes: Uint8Array) => Promise<void>) => Pr
  * Writes the parsed trace to `<dir>/<id>.trace`, with its min/max pyramid. Atomic: written to a
  * temp file beside it and renamed into place; on failure nothing is left behind.
  */
-export async function writeTraceData(dir: string, id: string, trace: ParsedTrace): Promise<{ path: string; bytes: number }> {
+export async function writeTraceData(
+  dir: string,
+  id: string,
+  trace: ParsedTrace,
+): Promise<{ path: string; bytes: number }> {
   assertLittleEndian();
   const finalPath = traceDataPath(dir, id);
   const n = trace.samples;
@@ -351,7 +362,10 @@ export async function openTraceData(file: string): Promise<TraceData> {
     for (let k = 0; k <= width; k++) if (coarse[k] > 0) need.add(coarse[k] - 1);
     const blocks = new Map<number, Float64Array>();
     const timeAt = D + hdr.time.offset;
-    for (const [j0, j1] of toRuns([...need].sort((a, b) => a - b), nBlocks)) {
+    for (const [j0, j1] of toRuns(
+      [...need].sort((a, b) => a - b),
+      nBlocks,
+    )) {
       const s = j0 * BS;
       const e = Math.min(n, j1 * BS);
       const buf = new ArrayBuffer((e - s) * 8);
@@ -479,7 +493,10 @@ export async function readChannels(file: string): Promise<ParsedTrace> {
         }
       }
     }
-    const channels: TraceChannel[] = header.channels.map(({ levels: _levels, ...meta }, ci) => ({ ...meta, values: out[ci] }));
+    const channels: TraceChannel[] = header.channels.map(({ levels: _levels, ...meta }, ci) => ({
+      ...meta,
+      values: out[ci],
+    }));
     const time = header.time ? await readF64(fh, dataStart + header.time.offset, n) : null;
     return {
       samples: n,

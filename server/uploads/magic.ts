@@ -18,7 +18,11 @@ export function detectImageType(head: Uint8Array): ImageMime | null {
   return null;
 }
 
-export const imageExtensions: Record<ImageMime, string> = { "image/jpeg": "jpg", "image/png": "png", "image/webp": "webp" };
+export const imageExtensions: Record<ImageMime, string> = {
+  "image/jpeg": "jpg",
+  "image/png": "png",
+  "image/webp": "webp",
+};
 
 /** Bytes looked at to decide whether an upload is text. */
 export const TEXT_SNIFF_BYTES = 8192;
@@ -55,12 +59,18 @@ export function checkTextStart(head: Uint8Array): TextCheck {
     }
   }
   if (head.length >= 2 && ((head[0] === 0xff && head[1] === 0xfe) || (head[0] === 0xfe && head[1] === 0xff))) {
-    return { ok: false, reason: "This file is UTF-16 text; export the capture as CSV in UTF-8 (or plain ASCII) and upload it again." };
+    return {
+      ok: false,
+      reason: "This file is UTF-16 text; export the capture as CSV in UTF-8 (or plain ASCII) and upload it again.",
+    };
   }
   for (let i = 0; i < head.length; i++) {
     const b = head[i];
     if (b < 0x20 && b !== 0x09 && b !== 0x0a && b !== 0x0c && b !== 0x0d) {
-      return { ok: false, reason: `This file is not CSV or TSV text (binary byte 0x${b.toString(16).padStart(2, "0")} at offset ${i}).` };
+      return {
+        ok: false,
+        reason: `This file is not CSV or TSV text (binary byte 0x${b.toString(16).padStart(2, "0")} at offset ${i}).`,
+      };
     }
   }
   return { ok: true };

@@ -1,7 +1,7 @@
 import crypto from "node:crypto";
 import fs from "node:fs";
 import path from "node:path";
-import { Transform } from "node:stream";
+import { Transform, type Readable } from "node:stream";
 import zlib from "node:zlib";
 import type { Request, RequestHandler } from "express";
 import multer, { MulterError, type StorageEngine } from "multer";
@@ -56,10 +56,13 @@ export class HashingDiskStorage implements StorageEngine {
   _handleFile(
     req: Request,
     file: Express.Multer.File,
-    cb: (error?: any, info?: Partial<Express.Multer.File> & { sha256?: string; detected?: string | null }) => void,
+    cb: (
+      error?: Error | null,
+      info?: Partial<Express.Multer.File> & { sha256?: string; detected?: string | null },
+    ) => void,
   ): void {
     const stream = file.stream;
-    if (stream.destroyed) return cb(new MulterError("LIMIT_UNEXPECTED_FILE" as any));
+    if (stream.destroyed) return cb(new MulterError("LIMIT_UNEXPECTED_FILE"));
     fs.mkdirSync(this.dir, { recursive: true });
     const filename = `${crypto.randomBytes(16).toString("hex")}.part`;
     const target = path.join(this.dir, filename);
@@ -84,7 +87,7 @@ export class HashingDiskStorage implements StorageEngine {
       out.destroy();
       fs.rm(target, { force: true }, () => {
         release();
-        cb(err);
+        cb(err as Error); // what was thrown or emitted, passed on as it is (multer hands it to the error handler)
       });
     };
     const runSniff = (): boolean => {
@@ -126,7 +129,8 @@ export class HashingDiskStorage implements StorageEngine {
     stream.on("end", () => {
       if (settled) return;
       if (deferred) return fail(deferred.err);
-      if ((stream as any).truncated) return fail(new MulterError("LIMIT_FILE_SIZE", file.fieldname));
+      if ((stream as Readable & { truncated?: boolean }).truncated)
+        return fail(new MulterError("LIMIT_FILE_SIZE", file.fieldname));
       if (!sniffed && !runSniff()) return;
       out.end();
     });

@@ -170,7 +170,7 @@ async function reconcileTus(
       const id = name.slice(0, -5);
       const data = path.join(dir, id);
       if (fileIsHeld(data)) continue;
-      let info: { creation_date?: string; done?: { at: string } } | null = null;
+      let info: { creation_date?: string; done?: { at: string } } | null;
       try {
         info = JSON.parse(await fs.promises.readFile(abs, "utf8"));
       } catch {

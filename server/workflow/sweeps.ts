@@ -15,7 +15,7 @@ import { currentPayment } from "../payments/store";
 import type { CaseStatus } from "../../shared/domain/case-status";
 import { perform, runEffects } from "./effects";
 import { noticeCase, noticePayment } from "./notice-data";
-import { getCaseRow, shopRecipients, transition, updateQueueState, type CaseRow } from "./records";
+import { getCaseRow, shopRecipients, transition, type CaseRow } from "./records";
 import { offeredExperts, widenOffers } from "./routing";
 import { noteNewMaterial } from "./commands/data";
 

@@ -67,8 +67,10 @@ export function differencePhrase(metric: string, kind: string, value: number, ot
   const name = words?.name ?? metric;
   if (others === 0 || !Number.isFinite(others))
     return `${name} ${formatQuantity(value, unit)} against none on the others`;
-  return `${name} ${pct(value, others)} % ` +
-    `${dir ? (words?.up ?? "above the others") : (words?.down ?? "below the others")}`;
+  return (
+    `${name} ${pct(value, others)} % ` +
+    `${dir ? (words?.up ?? "above the others") : (words?.down ?? "below the others")}`
+  );
 }
 
 function fmtCount(x: number): string {
@@ -79,10 +81,11 @@ function fmtCount(x: number): string {
 export function placementPhrase(scale: number): { detail: string; advice: string } {
   const p = Math.round(Math.abs(1 - scale) * 100);
   return {
-    detail: `every voltage about ${p} % ${scale < 1 ? "lower" : "higher"} than on the others, with the same burn ` +
+    detail:
+      `every voltage about ${p} % ${scale < 1 ? "lower" : "higher"} than on the others, with the same burn ` +
       `time, ringing and shape: this looks like where the pickup sat, not a fault in the cylinder`,
     advice:
       "Lay the pickup flat on top of the coil, in the same spot as on the others, and capture this cylinder " +
-        "again before judging its voltages.",
+      "again before judging its voltages.",
   };
 }

@@ -30,12 +30,7 @@ export interface InrushTail {
  * on the logarithm) on the early decay (90 % down to 35 % of the peak, before any turn upward);
  * null when it does not decay.
  */
-export function inrushTail(
-  x: Float32Array,
-  hiIdx: number,
-  base: number,
-  rate: number,
-): InrushTail | null {
+export function inrushTail(x: Float32Array, hiIdx: number, base: number, rate: number): InrushTail | null {
   // the smoothed peak can sit a sample or two from the raw one
   let k0 = hiIdx;
   for (let k = Math.max(0, hiIdx - 5); k < Math.min(x.length, hiIdx + 10); k++) if (x[k] > x[k0]) k0 = k;

@@ -355,7 +355,6 @@ function summaryOf(
 }
 
 export function analyzeCompression(p: Prepared, ctx: CompressionContext): CompressionAnalysis {
-  const s = ctx.settings;
   const N = Math.max(1, Math.round(ctx.cylinders ?? 4));
   const dc = decimate(p);
   const measurements = measurePrepared(p, p.toPhysical);
@@ -367,7 +366,7 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
       message: `No compression strokes found: ${why}.`,
       advice:
         "Clamp round the battery's main cable (all of the starter current), crank for at least two seconds with " +
-          "the engine disabled as the maker directs, and start the capture before the key is turned.",
+        "the engine disabled as the maker directs, and start the capture before the key is turned.",
       caution: true,
     });
     const empty = summaryOf([], [], N, false);
@@ -421,7 +420,8 @@ export function analyzeCompression(p: Prepared, ctx: CompressionContext): Compre
         ? {
             timePerDivS: tpd,
             voltsPerDiv: null,
-            reason: `two engine cycles (2 × 120/rpm = ${fmt((240 / rpm) * 1e3, 3)} ms at ${Math.round(rpm)} rpm) ` +
+            reason:
+              `two engine cycles (2 × 120/rpm = ${fmt((240 / rpm) * 1e3, 3)} ms at ${Math.round(rpm)} rpm) ` +
               `across the 10 divisions, after the inrush (common practice, no source)`,
             text: `${fmtTime(tpd)}/div`,
           }
@@ -472,7 +472,8 @@ function reviewCompression(
       code: "low-compression",
       severity: "warning",
       message: `Compression stroke ${q} of every ${N} draws ${Math.round(pct)} % of the highest current peak (below ${LOW_COMPRESSION_PCT} %): that cylinder is suspect.`,
-      advice: `Confirm with a compression or leak-down test on that cylinder. To know which cylinder stroke ${q} ` +
+      advice:
+        `Confirm with a compression or leak-down test on that cylinder. To know which cylinder stroke ${q} ` +
         `is, capture cylinder 1's ignition on a second channel and count along the firing order.`,
       caution: true,
     });

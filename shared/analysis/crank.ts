@@ -227,7 +227,8 @@ export function analyzeCrank(p: Prepared, ctx: CrankContext): CrankAnalysis {
         ? {
             timePerDivS: oneRev,
             voltsPerDiv: vpd,
-            reason: `one revolution (60/rpm = ${fmt((60 / rpm) * 1e3, 3)} ms) with its gap across 8 of the 10 ` +
+            reason:
+              `one revolution (60/rpm = ${fmt((60 / rpm) * 1e3, 3)} ms) with its gap across 8 of the 10 ` +
               `divisions (common practice, no source)`,
             text: `${fmtTime(oneRev)}/div${vpd != null ? `, ${setting(p, vpd, "div")}` : ""}`,
           }
@@ -265,7 +266,8 @@ function reviewCrank(
     drafts.push({
       code: "no-gap",
       severity: "warning",
-      message: `No missing-tooth gap among ${teeth.length} teeth: the capture is shorter than a revolution, or ` +
+      message:
+        `No missing-tooth gap among ${teeth.length} teeth: the capture is shorter than a revolution, or ` +
         `the wheel has no gap. Without the wheel's pattern no rpm is given.`,
       advice: "Capture at least two full revolutions, so the gap shows twice.",
       caution: true,
@@ -283,7 +285,7 @@ function reviewCrank(
       }. No rpm is given.`,
       advice:
         "Capture at least two full revolutions; if the wheel has several gaps or an uncommon pattern, read the " +
-          "rpm from another signal.",
+        "rpm from another signal.",
       caution: true,
     });
   }
@@ -296,7 +298,8 @@ function reviewCrank(
       drafts.push({
         code: "tooth-count",
         severity: "warning",
-        message: `${off.join(", ")} teeth counted between gaps instead of ${wheel.teethPerRev} (a ` +
+        message:
+          `${off.join(", ")} teeth counted between gaps instead of ${wheel.teethPerRev} (a ` +
           `${wheel.pattern} wheel): teeth are missed or extra edges are seen.`,
         advice: "Check the sensor's air gap and wiring, and the wheel for damage or debris.",
         caution: true,
@@ -308,7 +311,8 @@ function reviewCrank(
     drafts.push({
       code: "damaged-tooth",
       severity: "warning",
-      message: `Tooth ${damaged.join(", ")} (counted from the gap) reads weak or missing in the sensor signal: a ` +
+      message:
+        `Tooth ${damaged.join(", ")} (counted from the gap) reads weak or missing in the sensor signal: a ` +
         `damaged tooth or debris on the wheel.`,
       advice:
         "Inspect the reluctor wheel at that tooth (count from the gap in the direction of rotation) as the maker's procedure describes.",
@@ -321,7 +325,7 @@ function reviewCrank(
       severity: "info",
       message:
         "Each tooth gives a negative lobe before its positive one: the sensor's two wires are probably swapped " +
-          "(or the probe is).",
+        "(or the probe is).",
       advice:
         "Check the sensor's wiring against the maker's diagram; some control units read a reversed sensor late or not at all.",
       caution: true,
@@ -331,7 +335,8 @@ function reviewCrank(
     drafts.push({
       code: "undersampled",
       severity: "warning",
-      message: `Only ${Math.round(T * p.rate)} samples per tooth at ${fmtRate(p.rate)}: tooth edges and ` +
+      message:
+        `Only ${Math.round(T * p.rate)} samples per tooth at ${fmtRate(p.rate)}: tooth edges and ` +
         `amplitudes are read coarsely.`,
       advice: `Capture at ${fmtRate(niceCeil(40 / T))} or faster.`,
       caution: true,

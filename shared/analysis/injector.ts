@@ -254,7 +254,8 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
     findings.push({
       code: "clamped",
       severity: "info",
-      message: `The driver clamps the turn-off spike at about ${formatQuantity(lvl ?? 0, unit)}: the spike's ` +
+      message:
+        `The driver clamps the turn-off spike at about ${formatQuantity(lvl ?? 0, unit)}: the spike's ` +
         `height says nothing about the coil here.`,
       advice: "Judge the coil from the current ramp or a resistance test instead of the spike height.",
     });
@@ -265,7 +266,7 @@ export function analyzeInjector(p: Prepared, ctx: InjectorContext): InjectorAnal
       severity: "warning",
       message:
         "No pintle-closing hump after the turn-off spike: the injector may be sticking, or the hump is too small " +
-          "to see.",
+        "to see.",
       advice:
         "Compare with the other injectors at the same settings; a hump present on the others but missing here points to this injector. Confirm with a flow or balance test by the maker's procedure.",
       caution: true,

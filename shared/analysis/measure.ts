@@ -7,7 +7,13 @@ export type { Measurements } from "./types";
  * State levels by the histogram method of IEEE Std 181-2011 (transitions, pulses and related
  * waveforms): split the histogram at its middle and take the mode of each half.
  */
-export function stateLevels(v: ArrayLike<number>, a: number, b: number, min: number, max: number): { base: number; top: number } {
+export function stateLevels(
+  v: ArrayLike<number>,
+  a: number,
+  b: number,
+  min: number,
+  max: number,
+): { base: number; top: number } {
   if (!(max > min)) return { base: min, top: max };
   const BINS = 256;
   const counts = new Uint32Array(BINS);

@@ -80,7 +80,8 @@ export function clippedFinding(
     code: "clipped",
     severity: "warning",
     message: `The trace sits flat against the ${where} of the scope's range${at}: ${what} read low.`,
-    advice: `Raise volts/division${vpd}, or move the ground offset ${clip.top ? "down" : "up"}, so the whole ` +
+    advice:
+      `Raise volts/division${vpd}, or move the ground offset ${clip.top ? "down" : "up"}, so the whole ` +
       `waveform stays on the screen, then capture again.`,
     caution: true,
   };
@@ -105,7 +106,8 @@ export function triggerBeyondFinding(
   return {
     code: "trigger-above-signal",
     severity: "warning",
-    message: `The trigger level (${setting(p, settings.triggerLevel)}) is beyond anything the signal reaches ` +
+    message:
+      `The trigger level (${setting(p, settings.triggerLevel)}) is beyond anything the signal reaches ` +
       `(${physical(p, p.min)} to ${physical(p, p.max)}), so the scope would never trigger on it.`,
     advice: `Bring the trigger level inside the waveform.${sugg}`,
     caution: true,

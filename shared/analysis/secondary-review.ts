@@ -100,11 +100,12 @@ function noiseFinding(r: SecondaryReviewInput): FindingDraft | null {
   return {
     code: "noisy",
     severity: "warning",
-    message: `Noisy capture: the noise (${physical(p, lv.noise)} RMS) is ` +
+    message:
+      `Noisy capture: the noise (${physical(p, lv.noise)} RMS) is ` +
       `${Math.round((100 * lv.noise) / burnLevelY)} % of the spark line's level.`,
     advice:
       "Lay the pickup flat on top of the coil, as close as it goes, away from the other coils' wiring; keep the " +
-        "scope's ground lead short and on clean engine ground.",
+      "scope's ground lead short and on clean engine ground.",
     caution: true,
   };
 }
@@ -133,7 +134,8 @@ function triggerFinding(r: SecondaryReviewInput, sugg: number | null): FindingDr
     return {
       code: "trigger-above-signal",
       severity: "warning",
-      message: `The trigger level (${level}) is beyond anything the signal reaches, so the scope would never ` +
+      message:
+        `The trigger level (${level}) is beyond anything the signal reaches, so the scope would never ` +
         `trigger on it.`,
       advice: `Bring the trigger level inside the firing lines.${better}`,
       caution: true,
@@ -143,7 +145,8 @@ function triggerFinding(r: SecondaryReviewInput, sugg: number | null): FindingDr
     return {
       code: "trigger-below-noise",
       severity: "warning",
-      message: `The trigger level (${level}) sits within the baseline's noise (about ${physical(p, lv.noise)}), ` +
+      message:
+        `The trigger level (${level}) sits within the baseline's noise (about ${physical(p, lv.noise)}), ` +
         `so the display would trigger at random.`,
       advice: `Raise the trigger level clear of the noise and the spark line.${better}`,
       caution: true,
@@ -172,9 +175,10 @@ function framing(r: SecondaryReviewInput): Framing {
   const oneEvent = {
     timePerDivS: tpd,
     voltsPerDiv: vpd,
-    reason: `one event (${dwellMsMed ? "dwell, " : ""}firing line, spark line and ringing, about ` +
+    reason:
+      `one event (${dwellMsMed ? "dwell, " : ""}firing line, spark line and ringing, about ` +
       `${fmt(spanMs, 2)} ms) across 8 of the 10 divisions with 10–20 % pre-trigger; the highest firing line at ` +
-    `about 80 % of the divisions ${lv.sign > 0 ? "above" : "below"} ground (common practice, no source)`,
+      `about 80 % of the divisions ${lv.sign > 0 ? "above" : "below"} ground (common practice, no source)`,
     text: `${fmtTime(tpd)}/div${vpdText}`,
   };
   let allCylinders: Suggestions["allCylinders"] = null;
@@ -184,7 +188,8 @@ function framing(r: SecondaryReviewInput): Framing {
     allCylinders = {
       timePerDivS: t,
       voltsPerDiv: vpd,
-      reason: `one engine cycle (120/rpm = ${fmt(cycle * 1e3, 3)} ms at ${Math.round(summary.rpm)} rpm) across ` +
+      reason:
+        `one engine cycle (120/rpm = ${fmt(cycle * 1e3, 3)} ms at ${Math.round(summary.rpm)} rpm) across ` +
         `the 10 divisions, so every cylinder fires once on screen (common practice, no source)`,
       text: `${fmtTime(t)}/div${vpdText}`,
     };
@@ -238,11 +243,12 @@ function erraticFinding(r: SecondaryReviewInput): FindingDraft | null {
   return {
     code: "erratic-firing",
     severity: "warning",
-    message: `The firing line changes from event to event: ${odd.length} of ${events.length} firing lines are ` +
+    message:
+      `The firing line changes from event to event: ${odd.length} of ${events.length} firing lines are ` +
       `${Math.floor(pct)} % or more away from the usual ${physical(p, z.median / p.toPhysical)}.`,
     advice:
       "An erratic firing line on one coil points to the coil breaking down or a plug or lead fault; compare with " +
-        "the other cylinders, then test the coil by the maker's procedure.",
+      "the other cylinders, then test the coil by the maker's procedure.",
     caution: true,
   };
 }
@@ -257,7 +263,7 @@ export function reviewSecondary(r: SecondaryReviewInput): { findings: Finding[];
       message: "The firing lines point below the baseline (inverted capture). They are measured as magnitudes.",
       advice:
         "Use the scope's invert function, or turn the pickup over on the coil, so the firing lines point up; set " +
-          "the trigger slope to match.",
+        "the trigger slope to match.",
       caution: true,
     });
   }
@@ -269,7 +275,7 @@ export function reviewSecondary(r: SecondaryReviewInput): { findings: Finding[];
       message: "No firing events found in this capture.",
       advice:
         "Check that the pickup sits flat on the coil or clips round the plug lead, that the engine was running, " +
-          "and that time/division is long enough to hold at least one firing (one engine cycle is 120/rpm seconds).",
+        "and that time/division is long enough to hold at least one firing (one engine cycle is 120/rpm seconds).",
       caution: true,
     });
   }
@@ -282,7 +288,8 @@ export function reviewSecondary(r: SecondaryReviewInput): { findings: Finding[];
     drafts.push({
       code: "cylinders-assumed",
       severity: "info",
-      message: `The number of cylinders was not given; ${r.summary.firingsPerCycle} was assumed for the rpm of a ` +
+      message:
+        `The number of cylinders was not given; ${r.summary.firingsPerCycle} was assumed for the rpm of a ` +
         `pickup that sees every cylinder's firing.`,
       advice: "Enter the engine's number of cylinders in the capture settings.",
     });

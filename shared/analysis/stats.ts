@@ -95,7 +95,12 @@ export function histogramQuantile(
 }
 
 /** Median of values[start, end) (histogram method, see histogramQuantile). */
-export function fastMedian(values: NumArray, start = 0, end = values.length, bounds?: { min: number; max: number }): number {
+export function fastMedian(
+  values: NumArray,
+  start = 0,
+  end = values.length,
+  bounds?: { min: number; max: number },
+): number {
   let lo = Infinity;
   let hi = -Infinity;
   if (bounds) {

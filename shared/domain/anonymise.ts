@@ -46,27 +46,291 @@ export interface ScrubContext {
  * Chip, Skip, Van, Amber, April, May, June, Summer, Faith, Iris, Ivy, Ruby, Pearl, Dawn, Sky…).
  */
 export const GIVEN_NAMES: readonly string[] = [
-  "Aaron", "Abigail", "Adam", "Adrian", "Agnes", "Ahmed", "Aidan", "Aisha", "Alan", "Albert", "Alberto", "Alejandro", "Alex", "Alexander",
-  "Alexandra", "Alfred", "Ali", "Alice", "Alicia", "Alison", "Allison", "Amanda", "Amelia", "Amy", "Ana", "Andrea", "Andreas", "Andrew",
-  "Andy", "Angela", "Anita", "Ann", "Anna", "Anne", "Annie", "Anthony", "Antonio", "Arthur", "Ashley", "Barbara", "Beatrice", "Becky",
-  "Ben", "Benjamin", "Bernard", "Beth", "Betty", "Beverly", "Bob", "Bobby", "Brandon", "Brenda", "Brian", "Bruce", "Bryan", "Caroline",
-  "Carl", "Carla", "Carlos", "Carmen", "Carol", "Catherine", "Charles", "Charlie", "Charlotte", "Chloe", "Chris", "Christian", "Christina",
-  "Christine", "Christopher", "Claire", "Clara", "Craig", "Cynthia", "Daniel", "Daniela", "Danny", "David", "Debbie", "Deborah", "Denise",
-  "Dennis", "Diana", "Diane", "Diego", "Dimitri", "Dominic", "Donald", "Donna", "Doris", "Dorothy", "Douglas", "Dylan", "Edward", "Eleanor",
-  "Elena", "Elizabeth", "Ella", "Ellen", "Emily", "Emma", "Eric", "Erik", "Ethan", "Eva", "Evelyn", "Fatima", "Felix", "Fernando", "Fiona",
-  "Francesca", "Francis", "Francisco", "Gary", "George", "Georgia", "Gerald", "Gloria", "Gordon", "Gregory", "Hannah", "Harold", "Harry",
-  "Heather", "Helen", "Henry", "Hugo", "Ian", "Isaac", "Isabel", "Isabella", "Ivan", "Jacob", "James", "Jamie", "Jane", "Janet", "Jason",
-  "Javier", "Jean", "Jeff", "Jeffrey", "Jennifer", "Jenny", "Jeremy", "Jessica", "Joan", "Joanna", "Joe", "Joel", "John", "Johnny",
-  "Jonathan", "Jorge", "Jose", "Joseph", "Joshua", "Juan", "Judith", "Judy", "Julia", "Julian", "Julie", "Justin", "Karen", "Karl",
-  "Kate", "Katherine", "Kathleen", "Kathy", "Katie", "Keith", "Kelly", "Kenneth", "Kevin", "Kim", "Kimberly", "Klaus", "Larry", "Laura",
-  "Lauren", "Leo", "Leon", "Linda", "Lisa", "Liam", "Lily", "Lucas", "Lucy", "Luis", "Luke", "Maria", "Marie", "Marco", "Margaret",
-  "Maria", "Marilyn", "Mario", "Martha", "Martin", "Mary", "Matthew", "Megan", "Melissa", "Michael", "Michelle", "Miguel", "Mike",
-  "Mohammed", "Muhammad", "Monica", "Nancy", "Natalie", "Nathan", "Nicholas", "Nicole", "Noah", "Oliver", "Olivia", "Omar", "Oscar",
-  "Pablo", "Pamela", "Patricia", "Patrick", "Paul", "Paula", "Pedro", "Peter", "Philip", "Phillip", "Rachel", "Rafael", "Raymond", "Rebecca",
-  "Richard", "Robert", "Roberto", "Robin", "Roger", "Ronald", "Ruth", "Ryan", "Samantha", "Samuel", "Sandra", "Sara", "Sarah", "Scott",
-  "Sean", "Sebastian", "Sergio", "Sharon", "Shirley", "Simon", "Sofia", "Sophia", "Sophie", "Stefan", "Stephanie", "Stephen", "Steve",
-  "Steven", "Susan", "Tamara", "Teresa", "Thomas", "Timothy", "Tina", "Todd", "Tom", "Tommy", "Tony", "Tracy", "Valerie", "Vanessa",
-  "Vincent", "Virginia", "Walter", "Wayne", "William", "Yusuf", "Zachary", "Zoe",
+  "Aaron",
+  "Abigail",
+  "Adam",
+  "Adrian",
+  "Agnes",
+  "Ahmed",
+  "Aidan",
+  "Aisha",
+  "Alan",
+  "Albert",
+  "Alberto",
+  "Alejandro",
+  "Alex",
+  "Alexander",
+  "Alexandra",
+  "Alfred",
+  "Ali",
+  "Alice",
+  "Alicia",
+  "Alison",
+  "Allison",
+  "Amanda",
+  "Amelia",
+  "Amy",
+  "Ana",
+  "Andrea",
+  "Andreas",
+  "Andrew",
+  "Andy",
+  "Angela",
+  "Anita",
+  "Ann",
+  "Anna",
+  "Anne",
+  "Annie",
+  "Anthony",
+  "Antonio",
+  "Arthur",
+  "Ashley",
+  "Barbara",
+  "Beatrice",
+  "Becky",
+  "Ben",
+  "Benjamin",
+  "Bernard",
+  "Beth",
+  "Betty",
+  "Beverly",
+  "Bob",
+  "Bobby",
+  "Brandon",
+  "Brenda",
+  "Brian",
+  "Bruce",
+  "Bryan",
+  "Caroline",
+  "Carl",
+  "Carla",
+  "Carlos",
+  "Carmen",
+  "Carol",
+  "Catherine",
+  "Charles",
+  "Charlie",
+  "Charlotte",
+  "Chloe",
+  "Chris",
+  "Christian",
+  "Christina",
+  "Christine",
+  "Christopher",
+  "Claire",
+  "Clara",
+  "Craig",
+  "Cynthia",
+  "Daniel",
+  "Daniela",
+  "Danny",
+  "David",
+  "Debbie",
+  "Deborah",
+  "Denise",
+  "Dennis",
+  "Diana",
+  "Diane",
+  "Diego",
+  "Dimitri",
+  "Dominic",
+  "Donald",
+  "Donna",
+  "Doris",
+  "Dorothy",
+  "Douglas",
+  "Dylan",
+  "Edward",
+  "Eleanor",
+  "Elena",
+  "Elizabeth",
+  "Ella",
+  "Ellen",
+  "Emily",
+  "Emma",
+  "Eric",
+  "Erik",
+  "Ethan",
+  "Eva",
+  "Evelyn",
+  "Fatima",
+  "Felix",
+  "Fernando",
+  "Fiona",
+  "Francesca",
+  "Francis",
+  "Francisco",
+  "Gary",
+  "George",
+  "Georgia",
+  "Gerald",
+  "Gloria",
+  "Gordon",
+  "Gregory",
+  "Hannah",
+  "Harold",
+  "Harry",
+  "Heather",
+  "Helen",
+  "Henry",
+  "Hugo",
+  "Ian",
+  "Isaac",
+  "Isabel",
+  "Isabella",
+  "Ivan",
+  "Jacob",
+  "James",
+  "Jamie",
+  "Jane",
+  "Janet",
+  "Jason",
+  "Javier",
+  "Jean",
+  "Jeff",
+  "Jeffrey",
+  "Jennifer",
+  "Jenny",
+  "Jeremy",
+  "Jessica",
+  "Joan",
+  "Joanna",
+  "Joe",
+  "Joel",
+  "John",
+  "Johnny",
+  "Jonathan",
+  "Jorge",
+  "Jose",
+  "Joseph",
+  "Joshua",
+  "Juan",
+  "Judith",
+  "Judy",
+  "Julia",
+  "Julian",
+  "Julie",
+  "Justin",
+  "Karen",
+  "Karl",
+  "Kate",
+  "Katherine",
+  "Kathleen",
+  "Kathy",
+  "Katie",
+  "Keith",
+  "Kelly",
+  "Kenneth",
+  "Kevin",
+  "Kim",
+  "Kimberly",
+  "Klaus",
+  "Larry",
+  "Laura",
+  "Lauren",
+  "Leo",
+  "Leon",
+  "Linda",
+  "Lisa",
+  "Liam",
+  "Lily",
+  "Lucas",
+  "Lucy",
+  "Luis",
+  "Luke",
+  "Maria",
+  "Marie",
+  "Marco",
+  "Margaret",
+  "Maria",
+  "Marilyn",
+  "Mario",
+  "Martha",
+  "Martin",
+  "Mary",
+  "Matthew",
+  "Megan",
+  "Melissa",
+  "Michael",
+  "Michelle",
+  "Miguel",
+  "Mike",
+  "Mohammed",
+  "Muhammad",
+  "Monica",
+  "Nancy",
+  "Natalie",
+  "Nathan",
+  "Nicholas",
+  "Nicole",
+  "Noah",
+  "Oliver",
+  "Olivia",
+  "Omar",
+  "Oscar",
+  "Pablo",
+  "Pamela",
+  "Patricia",
+  "Patrick",
+  "Paul",
+  "Paula",
+  "Pedro",
+  "Peter",
+  "Philip",
+  "Phillip",
+  "Rachel",
+  "Rafael",
+  "Raymond",
+  "Rebecca",
+  "Richard",
+  "Robert",
+  "Roberto",
+  "Robin",
+  "Roger",
+  "Ronald",
+  "Ruth",
+  "Ryan",
+  "Samantha",
+  "Samuel",
+  "Sandra",
+  "Sara",
+  "Sarah",
+  "Scott",
+  "Sean",
+  "Sebastian",
+  "Sergio",
+  "Sharon",
+  "Shirley",
+  "Simon",
+  "Sofia",
+  "Sophia",
+  "Sophie",
+  "Stefan",
+  "Stephanie",
+  "Stephen",
+  "Steve",
+  "Steven",
+  "Susan",
+  "Tamara",
+  "Teresa",
+  "Thomas",
+  "Timothy",
+  "Tina",
+  "Todd",
+  "Tom",
+  "Tommy",
+  "Tony",
+  "Tracy",
+  "Valerie",
+  "Vanessa",
+  "Vincent",
+  "Virginia",
+  "Walter",
+  "Wayne",
+  "William",
+  "Yusuf",
+  "Zachary",
+  "Zoe",
 ];
 
 /**
@@ -128,7 +392,8 @@ function escapeRegExp(s: string): string {
 }
 
 /** Simplified RFC 5322 addr-spec: dot-atom local part, a domain with at least one dot. */
-export const EMAIL_RE = /[A-Za-z0-9!#$%&'*+/=?^_`{|}~-]+(?:\.[A-Za-z0-9!#$%&'*+/=?^_`{|}~-]+)*@(?:[A-Za-z0-9](?:[A-Za-z0-9-]*[A-Za-z0-9])?\.)+[A-Za-z]{2,}/g;
+export const EMAIL_RE =
+  /[A-Za-z0-9!#$%&'*+/=?^_`{|}~-]+(?:\.[A-Za-z0-9!#$%&'*+/=?^_`{|}~-]+)*@(?:[A-Za-z0-9](?:[A-Za-z0-9-]*[A-Za-z0-9])?\.)+[A-Za-z]{2,}/g;
 
 /** The written forms of a telephone number (see the file comment); each match is checked for 7–15 digits. */
 const PHONE_RES: RegExp[] = [
@@ -202,7 +467,7 @@ export function scrubVins(text: string, vin?: string | null): string {
 
 /** Removes control characters (keeps tab and newline) and the snippet markers U+0002/U+0003. */
 export function stripControls(text: string): string {
-  // eslint-disable-next-line no-control-regex
+  // eslint-disable-next-line no-control-regex -- removing control characters is what this does
   return text.replace(/[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F\u200B-\u200F\u2028\u2029\uFEFF]/g, "");
 }
 
@@ -218,7 +483,10 @@ function wordPattern(word: string, flags: string): RegExp {
 /** A capitalised occurrence that does not start a sentence (for common-word name parts). */
 function capitalisedInside(word: string): RegExp {
   const cap = word[0].toUpperCase() + word.slice(1).toLowerCase();
-  return new RegExp(`(?<=[${L}0-9,;:)]\\s+)(?:${escapeRegExp(cap)}|${escapeRegExp(word.toUpperCase())})${WORD_AFTER}(?:['’]s)?`, "g");
+  return new RegExp(
+    `(?<=[${L}0-9,;:)]\\s+)(?:${escapeRegExp(cap)}|${escapeRegExp(word.toUpperCase())})${WORD_AFTER}(?:['’]s)?`,
+    "g",
+  );
 }
 
 function namePatterns(ctx: ScrubContext): NamePattern[] {
@@ -229,7 +497,8 @@ function namePatterns(ctx: ScrubContext): NamePattern[] {
     seen.add(key);
     pats.push(p);
   };
-  const full = (s: string, replacement: string) => add(`full:${s.toLowerCase()}`, { re: wordPattern(s, "gi"), replacement });
+  const full = (s: string, replacement: string) =>
+    add(`full:${s.toLowerCase()}`, { re: wordPattern(s, "gi"), replacement });
   const part = (w: string, replacement: string, generic: Set<string>) => {
     const lw = w.toLowerCase();
     if (lw.length < 2 || /^\d+$/.test(lw)) return;
@@ -242,8 +511,11 @@ function namePatterns(ctx: ScrubContext): NamePattern[] {
   // longest first, so "Harrowvale Motor Bay" goes before "Harrowvale"
   for (const o of [...orgs].sort((a, b) => b.length - a.length)) full(o, REDACTED.shop);
   for (const n of [...names].sort((a, b) => b.length - a.length)) full(n, REDACTED.name);
-  for (const o of orgs) for (const w of o.split(/[^A-Za-zÀ-ÖØ-öø-ÿĀ-ſ0-9'’]+/).filter(Boolean)) part(w, REDACTED.shop, GENERIC_BUSINESS_WORDS);
-  for (const n of names) for (const w of n.split(/[^A-Za-zÀ-ÖØ-öø-ÿĀ-ſ'’-]+/).filter(Boolean)) part(w, REDACTED.name, ORDINARY_WORDS);
+  for (const o of orgs)
+    for (const w of o.split(/[^A-Za-zÀ-ÖØ-öø-ÿĀ-ſ0-9'’]+/).filter(Boolean))
+      part(w, REDACTED.shop, GENERIC_BUSINESS_WORDS);
+  for (const n of names)
+    for (const w of n.split(/[^A-Za-zÀ-ÖØ-öø-ÿĀ-ſ'’-]+/).filter(Boolean)) part(w, REDACTED.name, ORDINARY_WORDS);
   for (const e of ctx.emails ?? []) {
     const local = (e ?? "").split("@")[0]?.trim();
     if (!local || local.length < 3) continue;
@@ -257,12 +529,18 @@ function namePatterns(ctx: ScrubContext): NamePattern[] {
   return pats;
 }
 
-const HONORIFIC_RE = new RegExp(`${WORD_BEFORE}(?:${HONORIFICS})\\.?\\s+[A-ZÀ-ÖØ-Þ][${L}'’\\-]+(?:\\s+[A-ZÀ-ÖØ-Þ][${L}'’\\-]+)?`, "g");
+const HONORIFIC_RE = new RegExp(
+  `${WORD_BEFORE}(?:${HONORIFICS})\\.?\\s+[A-ZÀ-ÖØ-Þ][${L}'’\\-]+(?:\\s+[A-ZÀ-ÖØ-Þ][${L}'’\\-]+)?`,
+  "g",
+);
 
 let givenNamesRe: RegExp | null = null;
 function givenNamesPattern(list: readonly string[]): RegExp {
   if (list === GIVEN_NAMES && givenNamesRe) return givenNamesRe;
-  const alt = [...new Set(list)].sort((a, b) => b.length - a.length).map(escapeRegExp).join("|");
+  const alt = [...new Set(list)]
+    .sort((a, b) => b.length - a.length)
+    .map(escapeRegExp)
+    .join("|");
   const re = new RegExp(`${WORD_BEFORE}(?:${alt})${WORD_AFTER}(?:['’]s)?`, "g");
   if (list === GIVEN_NAMES) givenNamesRe = re;
   return re;
@@ -283,7 +561,9 @@ export function scrubText(text: string | null | undefined, ctx: ScrubContext = {
   out = out.replace(HONORIFIC_RE, REDACTED.name);
   if (ctx.givenNames !== false) out = out.replace(givenNamesPattern(ctx.givenNames ?? GIVEN_NAMES), REDACTED.name);
   // "[name] [name]" → "[name]"
-  out = out.replace(/\[name\](?:[\s.,]+\[name\])+/g, REDACTED.name).replace(/\[shop\](?:[\s.,]+\[shop\])+/g, REDACTED.shop);
+  out = out
+    .replace(/\[name\](?:[\s.,]+\[name\])+/g, REDACTED.name)
+    .replace(/\[shop\](?:[\s.,]+\[shop\])+/g, REDACTED.shop);
   return out;
 }
 

@@ -98,7 +98,10 @@ sensorBlock(340, "Camshaft position sensor A (bank 1 or single sensor)");
 add("P0350", "Ignition coil primary or secondary circuit fault");
 const COIL_LETTERS = "ABCDEFGHIJKL";
 for (let i = 0; i < 12; i++) {
-  add(coilCode(i), `Ignition coil ${COIL_LETTERS[i]} primary or secondary circuit fault (which cylinder coil ${COIL_LETTERS[i]} serves is the maker's assignment)`);
+  add(
+    coilCode(i),
+    `Ignition coil ${COIL_LETTERS[i]} primary or secondary circuit fault (which cylinder coil ${COIL_LETTERS[i]} serves is the maker's assignment)`,
+  );
 }
 
 // Exhaust gas recirculation

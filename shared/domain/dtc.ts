@@ -190,8 +190,12 @@ export function parseDtc(code: string): ParsedDtc | DtcParseError {
  * `03 00` → P0300, `C1 00` → U0100. (00 00 decodes to P0000, which responses use as padding.)
  */
 export function decodeDtcBytes(a: number, b: number): string {
-  for (const [name, v] of [["a", a], ["b", b]] as const) {
-    if (!Number.isInteger(v) || v < 0 || v > 255) throw new RangeError(`Byte ${name} must be an integer 0–255, got ${v}.`);
+  for (const [name, v] of [
+    ["a", a],
+    ["b", b],
+  ] as const) {
+    if (!Number.isInteger(v) || v < 0 || v > 255)
+      throw new RangeError(`Byte ${name} must be an integer 0–255, got ${v}.`);
   }
   const letter = "PCBU"[a >> 6];
   const d1 = (a >> 4) & 0x3;

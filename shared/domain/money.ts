@@ -22,7 +22,10 @@ export function isCents(value: unknown): value is number {
  * Rounding: the desk's share is rounded DOWN to a whole cent; the expert receives the rest, so
  * deskCents + expertCents === totalCents always and any odd fraction of a cent goes to the expert.
  */
-export function splitCents(totalCents: number, deskShareBasisPoints: number): { deskCents: number; expertCents: number } {
+export function splitCents(
+  totalCents: number,
+  deskShareBasisPoints: number,
+): { deskCents: number; expertCents: number } {
   assertCents(totalCents, "totalCents", true);
   if (!Number.isInteger(deskShareBasisPoints) || deskShareBasisPoints < 0 || deskShareBasisPoints > 10000) {
     throw new RangeError(`deskShareBasisPoints must be an integer 0–10000, got ${String(deskShareBasisPoints)}.`);
@@ -37,7 +40,11 @@ export function splitCents(totalCents: number, deskShareBasisPoints: number): { 
  * total from `fromCents` to `toCents`), computed as split(to) − split(from), so that however a total
  * is taken in pieces the pieces' shares add up to the share of the whole — no cent drifts.
  */
-export function splitBetween(fromCents: number, toCents: number, deskShareBasisPoints: number): { deskCents: number; expertCents: number } {
+export function splitBetween(
+  fromCents: number,
+  toCents: number,
+  deskShareBasisPoints: number,
+): { deskCents: number; expertCents: number } {
   if (toCents < fromCents) throw new RangeError(`toCents (${toCents}) must not be below fromCents (${fromCents}).`);
   const a = splitCents(fromCents, deskShareBasisPoints);
   const b = splitCents(toCents, deskShareBasisPoints);
@@ -93,7 +100,9 @@ export function formatCents(cents: number, currency = "USD", locale = "en-US"): 
  */
 export function parseCents(text: string): number | null {
   const t = String(text ?? "").trim();
-  const m = /^(-)?\s*\$?\s*([1-9]\d{0,2}(?:,\d{3})+|\d+)(?:\.(\d{1,2}))?$/.exec(t) ?? /^\$\s*(-)\s*([1-9]\d{0,2}(?:,\d{3})+|\d+)(?:\.(\d{1,2}))?$/.exec(t);
+  const m =
+    /^(-)?\s*\$?\s*([1-9]\d{0,2}(?:,\d{3})+|\d+)(?:\.(\d{1,2}))?$/.exec(t) ??
+    /^\$\s*(-)\s*([1-9]\d{0,2}(?:,\d{3})+|\d+)(?:\.(\d{1,2}))?$/.exec(t);
   if (!m) return null;
   const units = Number(m[2].replace(/,/g, ""));
   const cents = units * 100 + Number((m[3] ?? "").padEnd(2, "0"));

@@ -15,7 +15,8 @@ export interface PidValue {
 }
 
 function byte(v: number, name: string): number {
-  if (!Number.isInteger(v) || v < 0 || v > 255) throw new RangeError(`${name} must be an integer byte 0–255, got ${v}.`);
+  if (!Number.isInteger(v) || v < 0 || v > 255)
+    throw new RangeError(`${name} must be an integer byte 0–255, got ${v}.`);
   return v;
 }
 
@@ -64,7 +65,12 @@ interface PidDef {
 export const pidDefinitions: Readonly<Record<number, PidDef>> = {
   0x04: { name: "Calculated engine load", unit: "%", bytes: 1, decode: (a) => engineLoadPercent(a) },
   0x05: { name: "Engine coolant temperature", unit: "°C", bytes: 1, decode: (a) => coolantTempC(a) },
-  0x0b: { name: "Intake manifold absolute pressure", unit: "kPa", bytes: 1, decode: (a) => intakeManifoldPressureKpa(a) },
+  0x0b: {
+    name: "Intake manifold absolute pressure",
+    unit: "kPa",
+    bytes: 1,
+    decode: (a) => intakeManifoldPressureKpa(a),
+  },
   0x0c: { name: "Engine speed", unit: "rpm", bytes: 2, decode: (a, b) => engineRpm(a, b) },
   0x0d: { name: "Vehicle speed", unit: "km/h", bytes: 1, decode: (a) => vehicleSpeedKmh(a) },
   0x0f: { name: "Intake air temperature", unit: "°C", bytes: 1, decode: (a) => intakeAirTempC(a) },
@@ -78,6 +84,7 @@ export const pidDefinitions: Readonly<Record<number, PidDef>> = {
 export function decodePid(pid: number, data: readonly number[]): PidValue {
   const def = pidDefinitions[pid];
   if (!def) throw new RangeError(`PID ${pid.toString(16).toUpperCase().padStart(2, "0")} is not supported.`);
-  if (data.length < def.bytes) throw new RangeError(`PID ${pid.toString(16).toUpperCase().padStart(2, "0")} needs ${def.bytes} data byte(s).`);
+  if (data.length < def.bytes)
+    throw new RangeError(`PID ${pid.toString(16).toUpperCase().padStart(2, "0")} needs ${def.bytes} data byte(s).`);
   return { pid, name: def.name, unit: def.unit, value: def.decode(data[0], def.bytes === 2 ? data[1] : 0) };
 }

@@ -65,9 +65,29 @@ const VIN_ALLOWED = /^[A-HJ-NPR-Z0-9]$/;
 
 /** Transliteration of letters to values (49 CFR 565, Table IV). Digits are their own value. */
 const TRANSLITERATION: Readonly<Record<string, number>> = {
-  A: 1, B: 2, C: 3, D: 4, E: 5, F: 6, G: 7, H: 8,
-  J: 1, K: 2, L: 3, M: 4, N: 5, P: 7, R: 9,
-  S: 2, T: 3, U: 4, V: 5, W: 6, X: 7, Y: 8, Z: 9,
+  A: 1,
+  B: 2,
+  C: 3,
+  D: 4,
+  E: 5,
+  F: 6,
+  G: 7,
+  H: 8,
+  J: 1,
+  K: 2,
+  L: 3,
+  M: 4,
+  N: 5,
+  P: 7,
+  R: 9,
+  S: 2,
+  T: 3,
+  U: 4,
+  V: 5,
+  W: 6,
+  X: 7,
+  Y: 8,
+  Z: 9,
 };
 
 /** Weight factor by position 1–17 (49 CFR 565, Table V). Position 9 (the check digit) weighs 0. */
@@ -78,9 +98,7 @@ export const VIN_WEIGHTS: readonly number[] = [8, 7, 6, 5, 4, 3, 2, 10, 0, 9, 8,
  * 1980–2009 cycle; the same code means +30 in the 2010–2039 cycle. I, O, Q, U, Z and 0 are never used.
  */
 const YEAR_CODES = "ABCDEFGHJKLMNPRSTVWXY123456789";
-const YEAR_BY_CODE: Readonly<Record<string, number>> = Object.fromEntries(
-  [...YEAR_CODES].map((c, i) => [c, 1980 + i]),
-);
+const YEAR_BY_CODE: Readonly<Record<string, number>> = Object.fromEntries([...YEAR_CODES].map((c, i) => [c, 1980 + i]));
 
 /** Trim, uppercase, and drop spaces and dashes (as people write VINs on paper). */
 export function normalizeVin(s: string): string {

@@ -126,7 +126,10 @@ export const LIMITS = {
 // Field helpers
 
 const isBlank = (v: unknown) =>
-  v === null || v === undefined || (typeof v === "string" && v.trim() === "") || (typeof v === "number" && Number.isNaN(v));
+  v === null ||
+  v === undefined ||
+  (typeof v === "string" && v.trim() === "") ||
+  (typeof v === "number" && Number.isNaN(v));
 
 /** "" / null / NaN → null; numeric strings → numbers; anything else passes through. */
 const blankToNull = (v: unknown) => {
@@ -212,13 +215,25 @@ const symptomsField = uniqueList(symptoms, "Choose symptoms from the checklist."
 
 const fields = {
   vin: vinField,
-  vinCheckOverride: z.boolean({ error: "Choose whether to keep a VIN despite its warnings (e.g. a check digit that does not match)." }),
-  year: wholeNumber("Year", LIMITS.yearMin, LIMITS.yearMax, `Enter a model year between ${LIMITS.yearMin} and ${LIMITS.yearMax}.`),
+  vinCheckOverride: z.boolean({
+    error: "Choose whether to keep a VIN despite its warnings (e.g. a check digit that does not match).",
+  }),
+  year: wholeNumber(
+    "Year",
+    LIMITS.yearMin,
+    LIMITS.yearMax,
+    `Enter a model year between ${LIMITS.yearMin} and ${LIMITS.yearMax}.`,
+  ),
   make: text("Make", LIMITS.make),
   model: text("Model", LIMITS.model),
   engine: text("Engine", LIMITS.engine),
   fuel: choice(fuels, "Choose a fuel from the list."),
-  mileage: wholeNumber("Mileage", 0, LIMITS.mileageMax, `Enter the odometer reading as a whole number from 0 to ${LIMITS.mileageMax.toLocaleString("en-US")}.`),
+  mileage: wholeNumber(
+    "Mileage",
+    0,
+    LIMITS.mileageMax,
+    `Enter the odometer reading as a whole number from 0 to ${LIMITS.mileageMax.toLocaleString("en-US")}.`,
+  ),
   mileageUnit: z.enum(mileageUnits, { error: "Choose km or mi." }),
   transmission: choice(transmissions, "Choose a transmission from the list."),
 };
@@ -339,8 +354,22 @@ function queryInt(label: string, min: number, max: number, def: number) {
 
 export const caseListQuerySchema = z.object({
   status: z.preprocess(queryValue, z.enum(caseStatuses, { error: "Unknown case status." }).optional()),
-  q: z.preprocess(queryValue, z.string({ error: "Search text must be text." }).trim().max(200, { error: "Search text is too long (at most 200 characters)." }).optional()),
-  vehicle: z.preprocess(queryValue, z.string({ error: "Vehicle filter must be text." }).trim().max(200, { error: "Vehicle filter is too long (at most 200 characters)." }).optional()),
+  q: z.preprocess(
+    queryValue,
+    z
+      .string({ error: "Search text must be text." })
+      .trim()
+      .max(200, { error: "Search text is too long (at most 200 characters)." })
+      .optional(),
+  ),
+  vehicle: z.preprocess(
+    queryValue,
+    z
+      .string({ error: "Vehicle filter must be text." })
+      .trim()
+      .max(200, { error: "Vehicle filter is too long (at most 200 characters)." })
+      .optional(),
+  ),
   page: queryInt("Page", 1, Number.MAX_SAFE_INTEGER, 1),
   pageSize: queryInt("Page size", 1, LIMITS.pageSizeMax, 20),
   sort: z.preprocess(queryValue, z.enum(caseSortFields, { error: "Unknown sort field." }).optional()),
@@ -384,7 +413,9 @@ export function vehicleVinWarnings(vehicle: {
   if (!vehicle.vin || vehicle.vinCheckOverride) return [];
   const check = validateVin(vehicle.vin);
   if (!check.ok) return [];
-  const out: { code: string; message: string; expected?: string }[] = check.warnings.map(({ code, message, expected }) => ({ code, message, expected }));
+  const out: { code: string; message: string; expected?: string }[] = check.warnings.map(
+    ({ code, message, expected }) => ({ code, message, expected }),
+  );
   const year = vehicle.year;
   if (typeof year === "number" && Number.isInteger(year)) {
     const vinYear = decodeVin(check.vin).modelYear;

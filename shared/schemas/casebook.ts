@@ -34,7 +34,10 @@ export const casebookSearchQuerySchema = z
     page: opt(z.coerce.number().int().min(1).max(500)).transform((v) => v ?? 1),
     pageSize: opt(z.coerce.number().int().min(1).max(50)).transform((v) => v ?? 20),
   })
-  .refine((v) => v.yearFrom == null || v.yearTo == null || v.yearFrom <= v.yearTo, { path: ["yearTo"], message: "The end year comes before the start year." });
+  .refine((v) => v.yearFrom == null || v.yearTo == null || v.yearFrom <= v.yearTo, {
+    path: ["yearTo"],
+    message: "The end year comes before the start year.",
+  });
 export type CasebookSearchQueryInput = z.input<typeof casebookSearchQuerySchema>;
 export type CasebookSearchQueryParsed = z.output<typeof casebookSearchQuerySchema>;
 
@@ -59,7 +62,9 @@ export const casebookEditSchema = z
 export type CasebookEditInput = z.input<typeof casebookEditSchema>;
 
 /** GET /api/cases/:id/similar */
-export const similarQuerySchema = z.object({ limit: opt(z.coerce.number().int().min(1).max(20)).transform((v) => v ?? 5) });
+export const similarQuerySchema = z.object({
+  limit: opt(z.coerce.number().int().min(1).max(20)).transform((v) => v ?? 5),
+});
 
 // ---------------------------------------------------------------------------------------------
 // Responses

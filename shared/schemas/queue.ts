@@ -6,7 +6,8 @@ import { z } from "zod";
 import { noticeTopics } from "../domain/notice-topics";
 
 const trimmed = (max: number) => z.string().trim().max(max);
-const required = (label: string, max: number) => z.string().trim().min(1, `${label} is required.`).max(max, `${label} is too long (at most ${max} characters).`);
+const required = (label: string, max: number) =>
+  z.string().trim().min(1, `${label} is required.`).max(max, `${label} is too long (at most ${max} characters).`);
 
 export const tierIdSchema = z
   .string()
@@ -22,11 +23,17 @@ export type SubmitCaseInput = z.infer<typeof submitCaseSchema>;
 export const pricingTierSchema = z.object({
   id: tierIdSchema,
   label: required("Label", 60),
-  description: trimmed(300).nullish().transform((v) => (v ? v : null)),
+  description: trimmed(300)
+    .nullish()
+    .transform((v) => (v ? v : null)),
   /** integer cents; Stripe refuses card charges under 50 cents in USD/EUR */
   priceCents: z.number().int("Price must be whole cents.").min(50, "Price must be at least 50 cents.").max(99_999_999),
   /** answer deadline after payment; at most 6 days, inside a card hold's 7-day validity */
-  deadlineMinutes: z.number().int().min(15, "A deadline shorter than 15 minutes cannot be met.").max(6 * 24 * 60, "The deadline must end inside the card hold (6 days at most)."),
+  deadlineMinutes: z
+    .number()
+    .int()
+    .min(15, "A deadline shorter than 15 minutes cannot be met.")
+    .max(6 * 24 * 60, "The deadline must end inside the card hold (6 days at most)."),
   active: z.boolean().default(true),
 });
 export type PricingTierInput = z.infer<typeof pricingTierSchema>;
@@ -42,17 +49,24 @@ export const pricingUpdateSchema = z
       .default("usd"),
     deskShareBasisPoints: z.number().int().min(0).max(10_000),
     firstWaveSize: z.number().int().min(1).max(50).default(3),
-    widenAfterMinutes: z.number().int().min(1).max(24 * 60).default(30),
+    widenAfterMinutes: z
+      .number()
+      .int()
+      .min(1)
+      .max(24 * 60)
+      .default(30),
     closeAnsweredAfterDays: z.number().int().min(1).max(90).default(7),
     tiers: z.array(pricingTierSchema).min(1, "Keep at least one tier.").max(10),
   })
   .superRefine((v, ctx) => {
     const seen = new Set<string>();
     v.tiers.forEach((t, i) => {
-      if (seen.has(t.id)) ctx.addIssue({ code: "custom", path: ["tiers", i, "id"], message: `Tier "${t.id}" appears twice.` });
+      if (seen.has(t.id))
+        ctx.addIssue({ code: "custom", path: ["tiers", i, "id"], message: `Tier "${t.id}" appears twice.` });
       seen.add(t.id);
     });
-    if (!v.tiers.some((t) => t.active)) ctx.addIssue({ code: "custom", path: ["tiers"], message: "Keep at least one tier active." });
+    if (!v.tiers.some((t) => t.active))
+      ctx.addIssue({ code: "custom", path: ["tiers"], message: "Keep at least one tier active." });
   });
 export type PricingUpdateInput = z.input<typeof pricingUpdateSchema>;
 
@@ -105,7 +119,9 @@ export const reassignSchema = z.object({
 /** PUT /api/me/notice-settings: one entry per topic to change (shared/domain/notice-topics.ts). */
 export const noticeSettingsSchema = z.object({
   topics: z
-    .array(z.object({ topic: z.enum(noticeTopics, { error: "Unknown topic." }), inApp: z.boolean(), mail: z.boolean() }))
+    .array(
+      z.object({ topic: z.enum(noticeTopics, { error: "Unknown topic." }), inApp: z.boolean(), mail: z.boolean() }),
+    )
     .min(1, "Name at least one topic.")
     .max(noticeTopics.length),
 });

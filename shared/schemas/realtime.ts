@@ -22,7 +22,8 @@ const id = (what: string) =>
     .trim()
     .min(1, { error: `${what} is required.` })
     .max(64, { error: `${what} is too long.` });
-const time = (what: string) => z.number({ error: `${what} must be a number (seconds).` }).finite({ error: `${what} must be a finite number.` });
+const time = (what: string) =>
+  z.number({ error: `${what} must be a number (seconds).` }).finite({ error: `${what} must be a finite number.` });
 const volts = z.number({ error: "level must be a number." }).finite({ error: "level must be a finite number." });
 /** A client-made id (e.g. crypto.randomUUID()) that makes a retried create idempotent. */
 const clientId = z
@@ -31,29 +32,43 @@ const clientId = z
   .min(8, { error: "clientId must have 8–64 characters." })
   .max(64, { error: "clientId must have 8–64 characters." })
   .regex(/^[A-Za-z0-9_-]+$/, { error: "clientId may use letters, digits, - and _ only." });
-const label = z.string().trim().max(MAX_LABEL, { error: `Keep the label under ${MAX_LABEL} characters.` });
+const label = z
+  .string()
+  .trim()
+  .max(MAX_LABEL, { error: `Keep the label under ${MAX_LABEL} characters.` });
 const channel = z.string().trim().min(1).max(80);
 
 /** `case:join` — enter a case's room; `since` is the last seq the client has applied (0 or absent: nothing). */
 export const caseJoinSchema = z
   .object({
     caseId: id("caseId"),
-    since: z.number().int({ error: "since must be a whole number." }).min(0, { error: "since cannot be negative." }).optional(),
+    since: z
+      .number()
+      .int({ error: "since must be a whole number." })
+      .min(0, { error: "since cannot be negative." })
+      .optional(),
   })
   .strict();
 export type CaseJoin = z.infer<typeof caseJoinSchema>;
 
 /** What each kind needs: a span has an end, a level has a voltage, a note has text. */
-function checkKind(a: { kind: AnnotationKind; t0?: number; t1?: number | null; level?: number | null; label?: string | null }, ctx: z.RefinementCtx) {
+function checkKind(
+  a: { kind: AnnotationKind; t0?: number; t1?: number | null; level?: number | null; label?: string | null },
+  ctx: z.RefinementCtx,
+) {
   if (a.kind === "span") {
     if (a.t1 == null) ctx.addIssue({ code: "custom", path: ["t1"], message: "A span needs its end time t1." });
-    else if (a.t0 != null && a.t1 === a.t0) ctx.addIssue({ code: "custom", path: ["t1"], message: "A span needs an end time different from its start." });
+    else if (a.t0 != null && a.t1 === a.t0)
+      ctx.addIssue({ code: "custom", path: ["t1"], message: "A span needs an end time different from its start." });
   } else if (a.t1 != null) {
     ctx.addIssue({ code: "custom", path: ["t1"], message: "Only a span has an end time." });
   }
-  if (a.kind === "level" && a.level == null) ctx.addIssue({ code: "custom", path: ["level"], message: "A level line needs its level." });
-  if ((a.kind === "span" || a.kind === "note") && a.level != null) ctx.addIssue({ code: "custom", path: ["level"], message: `A ${a.kind} has no level.` });
-  if (a.kind === "note" && !a.label) ctx.addIssue({ code: "custom", path: ["label"], message: "Write the note's text." });
+  if (a.kind === "level" && a.level == null)
+    ctx.addIssue({ code: "custom", path: ["level"], message: "A level line needs its level." });
+  if ((a.kind === "span" || a.kind === "note") && a.level != null)
+    ctx.addIssue({ code: "custom", path: ["level"], message: `A ${a.kind} has no level.` });
+  if (a.kind === "note" && !a.label)
+    ctx.addIssue({ code: "custom", path: ["label"], message: "Write the note's text." });
 }
 
 /** `annotation:create` */
@@ -89,7 +104,13 @@ export type AnnotationUpdate = z.infer<typeof annotationUpdateSchema>;
 
 /** Checks a mark after an update has been merged into it (same rules as a new one). */
 export const annotationShapeSchema = z
-  .object({ kind: z.enum(annotationKinds), t0: time("t0"), t1: z.number().nullable().optional(), level: z.number().nullable().optional(), label: z.string().nullable().optional() })
+  .object({
+    kind: z.enum(annotationKinds),
+    t0: time("t0"),
+    t1: z.number().nullable().optional(),
+    level: z.number().nullable().optional(),
+    label: z.string().nullable().optional(),
+  })
   .superRefine(checkKind);
 
 /** `annotation:delete` */
@@ -119,7 +140,12 @@ export const dataRequestSchema = z
   .object({
     capture: z.enum(traceKinds, { error: `capture must be one of ${traceKinds.join(", ")}.` }),
     /** the cylinder to connect to; absent = not cylinder-specific */
-    cylinder: z.number().int().min(1, { error: "Cylinders are numbered from 1." }).max(16, { error: "At most 16 cylinders." }).optional(),
+    cylinder: z
+      .number()
+      .int()
+      .min(1, { error: "Cylinders are numbered from 1." })
+      .max(16, { error: "At most 16 cylinders." })
+      .optional(),
     settings: requestedSettingsSchema.optional(),
     /** engine conditions during the capture, e.g. "warm, 2500 rpm, then snap throttle" */
     conditions: z.string().trim().max(500, { error: "Keep the conditions under 500 characters." }).optional(),
@@ -130,7 +156,11 @@ export type DataRequest = z.infer<typeof dataRequestSchema>;
 /** `chat:send` — a text message, or (with `request`) a request for more data with optional text. */
 export const chatSendSchema = z
   .object({
-    text: z.string().trim().max(MAX_MESSAGE, { error: `Keep the message under ${MAX_MESSAGE} characters.` }).default(""),
+    text: z
+      .string()
+      .trim()
+      .max(MAX_MESSAGE, { error: `Keep the message under ${MAX_MESSAGE} characters.` })
+      .default(""),
     request: dataRequestSchema.optional(),
     clientId: clientId.optional(),
   })
@@ -167,6 +197,10 @@ export const sinceQuerySchema = z.object({
       const x = queryValue(v);
       return typeof x === "string" && /^\s*\d+\s*$/.test(x) ? Number(x) : x;
     },
-    z.number({ error: "since must be a whole number." }).int({ error: "since must be a whole number." }).min(0).optional(),
+    z
+      .number({ error: "since must be a whole number." })
+      .int({ error: "since must be a whole number." })
+      .min(0)
+      .optional(),
   ),
 });

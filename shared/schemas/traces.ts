@@ -55,7 +55,10 @@ export const traceWindowQuerySchema = z
         .default(DEFAULT_WINDOW_WIDTH),
     ),
   })
-  .refine((q) => q.t0 === undefined || q.t1 === undefined || q.t1 > q.t0, { error: "t1 must be later than t0.", path: ["t1"] });
+  .refine((q) => q.t0 === undefined || q.t1 === undefined || q.t1 > q.t0, {
+    error: "t1 must be later than t0.",
+    path: ["t1"],
+  });
 export type TraceWindowQuery = z.output<typeof traceWindowQuerySchema>;
 
 /**
@@ -69,7 +72,7 @@ export interface TraceWindowResponse {
 
 /** The JSON of the multipart field `settings`: a string holding the capture settings. */
 export const settingsFieldSchema = z
-  .string({ error: "Send the capture settings as JSON in the field \"settings\"." })
+  .string({ error: 'Send the capture settings as JSON in the field "settings".' })
   .transform((s, ctx) => {
     try {
       return JSON.parse(s) as unknown;
@@ -84,6 +87,10 @@ export const settingsFieldSchema = z
 export const traceUploadFieldsSchema = z.object({
   settings: settingsFieldSchema,
   /** a name for the trace; defaults to the file's name */
-  name: z.string({ error: "The name must be text." }).trim().max(120, { error: "The name is too long (at most 120 characters)." }).optional(),
+  name: z
+    .string({ error: "The name must be text." })
+    .trim()
+    .max(120, { error: "The name is too long (at most 120 characters)." })
+    .optional(),
 });
 export type TraceUploadFields = z.output<typeof traceUploadFieldsSchema>;

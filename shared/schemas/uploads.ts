@@ -4,6 +4,7 @@
  * name keeps every character the tech gave it.
  */
 import { z } from "zod";
+import type { UploadStage } from "../realtime";
 import { settingsFieldSchema } from "./traces";
 
 /** Where uploads are created (POST) and continued (HEAD, PATCH, DELETE on `<path>/<id>`). */
@@ -33,7 +34,7 @@ export type UploadMetadata = z.output<typeof uploadMetadataSchema>;
 export interface UploadStatusResponse {
   id: string;
   caseId: string;
-  stage: import("../realtime").UploadStage;
+  stage: UploadStage;
   receivedBytes: number;
   totalBytes: number | null;
   queuePosition: number | null;

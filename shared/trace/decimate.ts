@@ -38,7 +38,8 @@ export const EDGE_SNAP = 1e-9;
 
 /** Throws RangeError unless t0 < t1 are finite and width is a whole number in 1…MAX_DECIMATE_WIDTH. */
 export function checkWindow(t0: number, t1: number, width: number): void {
-  if (!Number.isFinite(t0) || !Number.isFinite(t1) || !(t1 > t0)) throw new RangeError("the window needs finite t0 < t1");
+  if (!Number.isFinite(t0) || !Number.isFinite(t1) || !(t1 > t0))
+    throw new RangeError("the window needs finite t0 < t1");
   if (!Number.isInteger(width) || width < 1 || width > MAX_DECIMATE_WIDTH) {
     throw new RangeError(`width must be a whole number from 1 to ${MAX_DECIMATE_WIDTH}`);
   }
@@ -110,7 +111,14 @@ export function bucketBoundaries(
  * without a search: b[k] = ⌈(edge(k) − δ − tr0)·rate⌉, then moved by whole samples until
  * sample b[k] is the first whose time (computed as sampleTime does) is ≥ edge(k) − δ.
  */
-export function uniformBoundaries(n: number, tr0: number, rate: number, t0: number, t1: number, width: number): Int32Array {
+export function uniformBoundaries(
+  n: number,
+  tr0: number,
+  rate: number,
+  t0: number,
+  t1: number,
+  width: number,
+): Int32Array {
   const b = new Int32Array(width + 1);
   const snap = edgeSnap(t0, t1, width);
   let prev = 0;

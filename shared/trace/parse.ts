@@ -159,7 +159,13 @@ export function createTraceAccumulator(opts: ParseTraceOptions = {}): TraceAccum
   let estimated = false;
 
   function start(d: Decision) {
-    const s = new SampleStore(d.layout, maxSamples, meta, () => delimiter, () => channelLabels(d.layout, meta).map((l) => l.name));
+    const s = new SampleStore(
+      d.layout,
+      maxSamples,
+      meta,
+      () => delimiter,
+      () => channelLabels(d.layout, meta).map((l) => l.name),
+    );
     store = s;
     s.notedThrough = d.notedThrough;
     preRagged = d.ragged;

@@ -142,7 +142,13 @@ function scanLevel(level: MinMaxLevel, j0: number, j1: number, acc: MinMaxAcc) {
  * samples only at the ends. Raw samples read lie in the 64-sample blocks holding `a` and `b`
  * (for b − a < 128 with no full block inside, the range lies within those two blocks).
  */
-export function rangeMinMax(raw: RawScanner, levels: readonly MinMaxLevel[], a: number, b: number, acc: MinMaxAcc): void {
+export function rangeMinMax(
+  raw: RawScanner,
+  levels: readonly MinMaxLevel[],
+  a: number,
+  b: number,
+  acc: MinMaxAcc,
+): void {
   if (b <= a) return;
   let top = levels.length - 1;
   let A = 0;

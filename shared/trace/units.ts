@@ -74,7 +74,11 @@ const WORDS: Record<string, string> = {
  */
 export function normaliseUnit(unit: string | null | undefined): string | null {
   if (unit == null) return null;
-  const u = unit.trim().replace(/^[([]\s*/, "").replace(/\s*[)\]]$/, "").trim();
+  const u = unit
+    .trim()
+    .replace(/^[([]\s*/, "")
+    .replace(/\s*[)\]]$/, "")
+    .trim();
   if (!u) return null;
   const word = WORDS[u.toLowerCase()];
   if (word) {
@@ -206,7 +210,9 @@ export function channelUnits(fileUnit: string | null | undefined, settings: Unit
       perScope: 1,
       source: "file",
       label: "at the plug",
-      note: pickup ? `The file states ${file}, so the pickup scale (${settings.kvPerVolt} kV/V) is not applied again.` : null,
+      note: pickup
+        ? `The file states ${file}, so the pickup scale (${settings.kvPerVolt} kV/V) is not applied again.`
+        : null,
     };
   }
 

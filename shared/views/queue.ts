@@ -3,7 +3,8 @@
  * (which builds them) and the client (which reads them). Times are ISO strings; money is integer cents.
  */
 
-export type PaymentStatus = "creating" | "pending" | "failed" | "expired" | "authorized" | "captured" | "released" | "refunded";
+export type PaymentStatus =
+  "creating" | "pending" | "failed" | "expired" | "authorized" | "captured" | "released" | "refunded";
 
 export interface QueueItem {
   id: string;

@@ -56,7 +56,10 @@ export const router = createBrowserRouter([
           { path: "casebook", element: <CasebookSearchPage /> },
           { path: "casebook/:id", element: <CasebookEntryPage /> },
           { path: "settings/notices", element: <NoticeSettingsPage /> },
-          { element: <RequireAuth roles={["owner", "technician"]} />, children: [{ path: "team", element: <TeamPage /> }] },
+          {
+            element: <RequireAuth roles={["owner", "technician"]} />,
+            children: [{ path: "team", element: <TeamPage /> }],
+          },
           {
             // admins read any shop's billing (?shopId=…) and receipts
             element: <RequireAuth roles={["owner", "admin"]} />,
@@ -65,10 +68,19 @@ export const router = createBrowserRouter([
               { path: "billing/receipts/:paymentId", element: <ReceiptPage /> },
             ],
           },
-          { element: <RequireAuth roles={["expert", "admin"]} />, children: [{ path: "queue", element: <QueuePage /> }] },
+          {
+            element: <RequireAuth roles={["expert", "admin"]} />,
+            children: [{ path: "queue", element: <QueuePage /> }],
+          },
           { element: <RequireAuth roles={["expert"]} />, children: [{ path: "earnings", element: <EarningsPage /> }] },
-          { element: <RequireAuth roles={["admin"]} />, children: [{ path: "admin/pricing", element: <AdminPricingPage /> }] },
-          { element: <RequireAuth roles={["admin"]} />, children: [{ path: "admin/experts", element: <AdminExpertsPage /> }] },
+          {
+            element: <RequireAuth roles={["admin"]} />,
+            children: [{ path: "admin/pricing", element: <AdminPricingPage /> }],
+          },
+          {
+            element: <RequireAuth roles={["admin"]} />,
+            children: [{ path: "admin/experts", element: <AdminExpertsPage /> }],
+          },
         ],
       },
       { path: "*", element: <NotFoundPage /> },

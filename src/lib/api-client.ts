@@ -15,10 +15,23 @@ async function handle<T>(res: Response): Promise<T> {
   const text = await res.text();
   const body = text ? safeJson(text) : null;
   if (!res.ok) {
-    const e = (body as any)?.error ?? (body as any);
-    throw new ApiError(res.status, e?.code ?? "http_" + res.status, e?.message ?? res.statusText ?? "Request failed", e?.details);
+    // the server answers `{ error: { code, message, details? } }`; anything else falls back below
+    const b = body as (ApiErrorFields & { error?: ApiErrorFields }) | null;
+    const e = b?.error ?? b;
+    throw new ApiError(
+      res.status,
+      e?.code ?? "http_" + res.status,
+      e?.message ?? res.statusText ?? "Request failed",
+      e?.details,
+    );
   }
   return body as T;
+}
+
+interface ApiErrorFields {
+  code?: string;
+  message?: string;
+  details?: ApiError["details"];
 }
 
 function safeJson(text: string): unknown {
@@ -48,7 +61,12 @@ export const api = {
  * Multipart upload with progress (fetch has no upload progress; XMLHttpRequest does).
  * Resolves with the parsed JSON, rejects with ApiError.
  */
-export function upload<T>(url: string, form: FormData, onProgress?: (fraction: number) => void, signal?: AbortSignal): Promise<T> {
+export function upload<T>(
+  url: string,
+  form: FormData,
+  onProgress?: (fraction: number) => void,
+  signal?: AbortSignal,
+): Promise<T> {
   return new Promise((resolve, reject) => {
     const xhr = new XMLHttpRequest();
     xhr.open("POST", url);
@@ -58,7 +76,8 @@ export function upload<T>(url: string, form: FormData, onProgress?: (fraction: n
       const res = new Response(xhr.responseText || null, { status: xhr.status });
       handle<T>(res).then(resolve, reject);
     };
-    xhr.onerror = () => reject(new ApiError(0, "network", "The upload was interrupted. Check the connection and try again."));
+    xhr.onerror = () =>
+      reject(new ApiError(0, "network", "The upload was interrupted. Check the connection and try again."));
     xhr.onabort = () => reject(new ApiError(0, "aborted", "Upload cancelled."));
     signal?.addEventListener("abort", () => xhr.abort());
     xhr.send(form);

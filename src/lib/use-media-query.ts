@@ -11,7 +11,7 @@ export function useMediaQuery(query: string): boolean {
     },
     [query],
   );
-  const get = () => (typeof window !== "undefined" && !!window.matchMedia && window.matchMedia(query).matches);
+  const get = () => typeof window !== "undefined" && !!window.matchMedia && window.matchMedia(query).matches;
   return useSyncExternalStore(subscribe, get, () => false);
 }
 

@@ -39,7 +39,12 @@ function fakeSocket() {
           seq: 0,
           annotations: [],
           messages: [],
-          presence: { caseId: CASE_ID, participants: [{ userId: "u-exp", name: "Sam Okafor", role: "expert", color: "#8a3d74", typing: false, connections: 1 }] },
+          presence: {
+            caseId: CASE_ID,
+            participants: [
+              { userId: "u-exp", name: "Sam Okafor", role: "expert", color: "#8a3d74", typing: false, connections: 1 },
+            ],
+          },
           view: null,
           you: { userId: "u-exp", name: "Sam Okafor", role: "expert", color: "#8a3d74" },
           abilities: { annotate: true, chat: true, requestData: true },
@@ -57,11 +62,27 @@ function fakeSocket() {
   return sock;
 }
 
-const analysis = { kind: "secondary-ignition", unit: "V", events: [], summary: { eventCount: 2, rpm: 1500, polarity: "positive", noise: 0.002 }, findings: [] };
+const analysis = {
+  kind: "secondary-ignition",
+  unit: "V",
+  events: [],
+  summary: { eventCount: 2, rpm: 1500, polarity: "positive", noise: 0.002 },
+  findings: [],
+};
 const liveCase = {
   id: CASE_ID,
   status: "claimed",
-  vehicle: { vin: null, year: 2018, make: "Veltra", model: "Orvane", engine: "1.8 I4", fuel: null, mileage: null, mileageUnit: null, transmission: null },
+  vehicle: {
+    vin: null,
+    year: 2018,
+    make: "Veltra",
+    model: "Orvane",
+    engine: "1.8 I4",
+    fuel: null,
+    mileage: null,
+    mileageUnit: null,
+    transmission: null,
+  },
   complaint: "Misfire on cylinder 2 under load",
   codes: ["P0302"],
   system: "ignition",
@@ -72,16 +93,37 @@ const liveCase = {
   notes: null,
   photos: [],
   abilities: { read: true },
-  traces: ids.map((id, i) => ({ ...SIGNAL_TRACE, id, name: `coil${i + 1}.csv`, kind: "secondary-ignition", settings: { ...SIGNAL_TRACE.settings, cylinder: i + 1 }, analysis })),
+  traces: ids.map((id, i) => ({
+    ...SIGNAL_TRACE,
+    id,
+    name: `coil${i + 1}.csv`,
+    kind: "secondary-ignition",
+    settings: { ...SIGNAL_TRACE.settings, cylinder: i + 1 },
+    analysis,
+  })),
   // cylinder 2's burn time stands out (the modified z-score rule's verdict, as the server sends it)
   comparison: {
-    metrics: [{ metric: "burnTimeMs", unit: "ms", median: 1.5, values: [{ traceId: ids[0], value: 1.5 }, { traceId: ids[1], value: 0.75 }, { traceId: ids[2], value: 1.5 }] }],
+    metrics: [
+      {
+        metric: "burnTimeMs",
+        unit: "ms",
+        median: 1.5,
+        values: [
+          { traceId: ids[0], value: 1.5 },
+          { traceId: ids[1], value: 0.75 },
+          { traceId: ids[2], value: 1.5 },
+        ],
+      },
+    ],
     outliers: [{ traceId: ids[1], metric: "burnTimeMs", value: 0.75, median: 1.5, score: -6.7 }],
   },
 };
 
 function renderCase() {
-  installWindowFetch({ [`/api/cases/${CASE_ID}`]: liveCase, "/api/me": { id: "u-exp", name: "Sam Okafor", role: "expert" } });
+  installWindowFetch({
+    [`/api/cases/${CASE_ID}`]: liveCase,
+    "/api/me": { id: "u-exp", name: "Sam Okafor", role: "expert" },
+  });
   const qc = new QueryClient({ defaultOptions: { queries: { retry: false } } });
   return render(
     <QueryClientProvider client={qc}>
@@ -122,7 +164,9 @@ describe("the live case page", () => {
     expect(screen.queryAllByRole("button", { name: /\((\+|−|0|c|p|s|l|n)\)$/ })).toEqual([]);
 
     // one tap: the chat, ready to write
-    fireEvent.click(within(screen.getByRole("navigation", { name: "Chat and marks" })).getByRole("button", { name: /^Chat/ }));
+    fireEvent.click(
+      within(screen.getByRole("navigation", { name: "Chat and marks" })).getByRole("button", { name: /^Chat/ }),
+    );
     const sheet = screen.getByRole("dialog", { name: "Chat and marks" });
     expect(within(sheet).getByRole("textbox", { name: "Message" })).toBeTruthy();
     expect(screen.queryByText("Enter sends · Shift+Enter starts a new line")).toBeNull();

@@ -62,7 +62,19 @@ installMatchMedia({ width: 1280, touch: false });
 
 /** uPlot builds its series paths as Path2D objects (none drawn here: the layers draw the traces). */
 class Path2DStub {}
-for (const m of ["addPath", "arc", "arcTo", "bezierCurveTo", "closePath", "ellipse", "lineTo", "moveTo", "quadraticCurveTo", "rect", "roundRect"]) {
+for (const m of [
+  "addPath",
+  "arc",
+  "arcTo",
+  "bezierCurveTo",
+  "closePath",
+  "ellipse",
+  "lineTo",
+  "moveTo",
+  "quadraticCurveTo",
+  "rect",
+  "roundRect",
+]) {
   (Path2DStub.prototype as unknown as Record<string, () => void>)[m] = () => {};
 }
 if (typeof globalThis.Path2D === "undefined") globalThis.Path2D = Path2DStub as unknown as typeof Path2D;
@@ -73,7 +85,20 @@ export function installDom(screen: Screen, box = { width: 800, height: 400 }): v
     return canvasContext(this);
   } as never);
   installMatchMedia(screen);
-  vi.spyOn(Element.prototype, "getBoundingClientRect").mockImplementation(() => ({ x: 0, y: 0, left: 0, top: 0, width: box.width, height: box.height, right: box.width, bottom: box.height, toJSON: () => ({}) }) as DOMRect);
+  vi.spyOn(Element.prototype, "getBoundingClientRect").mockImplementation(
+    () =>
+      ({
+        x: 0,
+        y: 0,
+        left: 0,
+        top: 0,
+        width: box.width,
+        height: box.height,
+        right: box.width,
+        bottom: box.height,
+        toJSON: () => ({}),
+      }) as DOMRect,
+  );
   globalThis.ResizeObserver = class {
     observe() {}
     unobserve() {}
@@ -87,7 +112,15 @@ export function installDom(screen: Screen, box = { width: 800, height: 400 }): v
  * firing spike of 8 V from 5.00 to 5.02 ms, a spark line at 1.5 V until 6.5 ms, then 0 V; 20 ms at
  * 100 kS/s.
  */
-export const SIGNAL = { rateHz: 100_000, durationS: 0.02, fireS: 0.005, spikeEndS: 0.00502, sparkEndS: 0.0065, spikeV: 8, sparkV: 1.5 };
+export const SIGNAL = {
+  rateHz: 100_000,
+  durationS: 0.02,
+  fireS: 0.005,
+  spikeEndS: 0.00502,
+  sparkEndS: 0.0065,
+  spikeV: 8,
+  sparkV: 1.5,
+};
 
 export function signalAt(t: number): number {
   if (t >= SIGNAL.fireS && t < SIGNAL.spikeEndS) return SIGNAL.spikeV;
@@ -109,11 +142,23 @@ export function installWindowFetch(json: Record<string, unknown> = {}): { urls: 
     const url = new URL(String(input), "http://localhost");
     urls.push(url.pathname + url.search);
     if (/\/window$/.test(url.pathname)) {
-      const w = decimateMinMax(src, Number(url.searchParams.get("t0")), Number(url.searchParams.get("t1")), Number(url.searchParams.get("width")));
+      const w = decimateMinMax(
+        src,
+        Number(url.searchParams.get("t0")),
+        Number(url.searchParams.get("t1")),
+        Number(url.searchParams.get("width")),
+      );
       return new Response(JSON.stringify(w), { status: 200, headers: { "Content-Type": "application/json" } });
     }
-    if (url.pathname in json) return new Response(JSON.stringify(json[url.pathname]), { status: 200, headers: { "Content-Type": "application/json" } });
-    return new Response(JSON.stringify({ error: { code: "not_found", message: "Not in this test." } }), { status: 404, headers: { "Content-Type": "application/json" } });
+    if (url.pathname in json)
+      return new Response(JSON.stringify(json[url.pathname]), {
+        status: 200,
+        headers: { "Content-Type": "application/json" },
+      });
+    return new Response(JSON.stringify({ error: { code: "not_found", message: "Not in this test." } }), {
+      status: 404,
+      headers: { "Content-Type": "application/json" },
+    });
   }) as typeof fetch;
   return { urls };
 }

@@ -20,17 +20,21 @@ const pageErrors: string[] = [];
 beforeAll(async () => {
   await build({ configFile: path.resolve("vite.config.ts"), logLevel: "error" });
   dir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-e2e-accounts-"));
-  server = await startServer({
-    NODE_ENV: "development",
-    PORT: "0",
-    HOST: "127.0.0.1",
-    DATABASE_URL: path.join(dir, "db.sqlite"),
-    DATA_DIR: dir,
-    MAIL_CATCHER_PORT: "0",
-    FAKE_STRIPE_PORT: "0",
-    LOG_LEVEL: "silent",
-    DEMO: "true",
-  }, undefined, { demo: demoPlugin });
+  server = await startServer(
+    {
+      NODE_ENV: "development",
+      PORT: "0",
+      HOST: "127.0.0.1",
+      DATABASE_URL: path.join(dir, "db.sqlite"),
+      DATA_DIR: dir,
+      MAIL_CATCHER_PORT: "0",
+      FAKE_STRIPE_PORT: "0",
+      LOG_LEVEL: "silent",
+      DEMO: "true",
+    },
+    undefined,
+    { demo: demoPlugin },
+  );
   // the demo is seeded before the server reports ready (as `npm start` does)
   await server.ready;
   browser = await chromium.launch({ executablePath, args: ["--no-sandbox"] });
@@ -106,7 +110,11 @@ test("a demo account signs in from the keyboard on the sign-in page", async () =
   await page.getByRole("button", { name: /admin@burnline\.test/ }).focus();
   await page.keyboard.press("Enter");
   await page.getByRole("heading", { name: "Experts awaiting approval" }).waitFor();
-  expect(await page.evaluate(() => fetch("/api/me").then((r) => r.json()))).toMatchObject({ email: "admin@burnline.test", role: "admin", shopId: null });
+  expect(await page.evaluate(() => fetch("/api/me").then((r) => r.json()))).toMatchObject({
+    email: "admin@burnline.test",
+    role: "admin",
+    shopId: null,
+  });
   await ctx.close();
 });
 
@@ -149,7 +157,10 @@ test("the sign-up form explains why a password is refused", async () => {
   // the dictionaries came later than the first page, as separate scripts
   expect(scripts.length).toBeGreaterThan(firstPage);
   await page.getByRole("button", { name: "Create the shop" }).click();
-  await page.getByText(/Burnline's own name/).first().waitFor();
+  await page
+    .getByText(/Burnline's own name/)
+    .first()
+    .waitFor();
   await page.getByLabel("Password", { exact: true }).fill("Quiet-lathe-orbit-73");
   await meter.getByText(/hard to guess\./i).waitFor();
   await ctx.close();

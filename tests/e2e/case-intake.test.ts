@@ -6,7 +6,14 @@ import type { BrowserContext, Locator, Page, Route } from "playwright-core";
 import { createShopTeam } from "../factories";
 import { generateSecondary, renderCsv, type SecondaryTruth } from "../generators";
 import { SCREEN_DIVISIONS_X, screenVoltageRange } from "../../shared/schemas/capture-settings";
-import { launchBrowser, signInThroughPage, startE2EServer, watchErrors, type E2EServer, type LaunchedBrowser } from "./helpers/browser";
+import {
+  launchBrowser,
+  signInThroughPage,
+  startE2EServer,
+  watchErrors,
+  type E2EServer,
+  type LaunchedBrowser,
+} from "./helpers/browser";
 
 /**
  * Case intake as a new technician does it, in a real browser at a phone width and at a tablet
@@ -62,7 +69,8 @@ const captures: Capture[] = [];
 
 beforeAll(async () => {
   fs.mkdirSync(SHOT_DIR, { recursive: true });
-  for (const f of fs.readdirSync(SHOT_DIR)) if (f.startsWith("case-intake-") && f.endsWith(".png")) fs.rmSync(path.join(SHOT_DIR, f));
+  for (const f of fs.readdirSync(SHOT_DIR))
+    if (f.startsWith("case-intake-") && f.endsWith(".png")) fs.rmSync(path.join(SHOT_DIR, f));
 
   server = await startE2EServer();
   await createShopTeam(server, {
@@ -76,11 +84,44 @@ beforeAll(async () => {
   fileDir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-e2e-intake-"));
   const plan = [
     // one firing, 10.4 ms long: 1 ms/div; peak about 0.81 V: 0.2 V/div with ground 3 div below centre
-    { cylinder: 1, gen: { events: 1 }, timePerDiv: "1", timeUnit: "ms", voltsPerDiv: "0.2", groundOffsetDiv: "-3", timePerDivS: 1e-3, voltsPerDivV: 0.2, groundDiv: -3, perDivText: "1 ms/div · 200 mV/div" },
+    {
+      cylinder: 1,
+      gen: { events: 1 },
+      timePerDiv: "1",
+      timeUnit: "ms",
+      voltsPerDiv: "0.2",
+      groundOffsetDiv: "-3",
+      timePerDivS: 1e-3,
+      voltsPerDivV: 0.2,
+      groundDiv: -3,
+      perDivText: "1 ms/div · 200 mV/div",
+    },
     // the same capture length on a slower time base, ground in the middle
-    { cylinder: 2, gen: { events: 1 }, timePerDiv: "2", timeUnit: "ms", voltsPerDiv: "0.5", groundOffsetDiv: "0", timePerDivS: 2e-3, voltsPerDivV: 0.5, groundDiv: 0, perDivText: "2 ms/div · 500 mV/div" },
+    {
+      cylinder: 2,
+      gen: { events: 1 },
+      timePerDiv: "2",
+      timeUnit: "ms",
+      voltsPerDiv: "0.5",
+      groundOffsetDiv: "0",
+      timePerDivS: 2e-3,
+      voltsPerDivV: 0.5,
+      groundDiv: 0,
+      perDivText: "2 ms/div · 500 mV/div",
+    },
     // two firings at 2000 rpm, 70 ms long: 10 ms/div; ground 2 div below centre
-    { cylinder: 3, gen: { events: 2 }, timePerDiv: "10", timeUnit: "ms", voltsPerDiv: "0.2", groundOffsetDiv: "-2", timePerDivS: 10e-3, voltsPerDivV: 0.2, groundDiv: -2, perDivText: "10 ms/div · 200 mV/div" },
+    {
+      cylinder: 3,
+      gen: { events: 2 },
+      timePerDiv: "10",
+      timeUnit: "ms",
+      voltsPerDiv: "0.2",
+      groundOffsetDiv: "-2",
+      timePerDivS: 10e-3,
+      voltsPerDivV: 0.2,
+      groundDiv: -2,
+      perDivText: "10 ms/div · 200 mV/div",
+    },
   ] as const;
   for (const p of plan) {
     const g = generateSecondary({ seed: 70 + p.cylinder, sampleRateHz: 1_000_000, rpm: 2000, ...p.gen });
@@ -106,7 +147,10 @@ async function shot(page: Page, width: number, step: string, fullPage = true): P
 /** No sideways scrolling of the page itself (a phone user must never pan the whole page). */
 async function expectNoHorizontalOverflow(page: Page, where: string): Promise<void> {
   // a string expression: the tests' TypeScript has no DOM library
-  const m = (await page.evaluate("({ scroll: document.documentElement.scrollWidth, inner: window.innerWidth })")) as { scroll: number; inner: number };
+  const m = (await page.evaluate("({ scroll: document.documentElement.scrollWidth, inner: window.innerWidth })")) as {
+    scroll: number;
+    inner: number;
+  };
   expect(m.scroll, `${where}: page ${m.scroll} px wide in a ${m.inner} px window`).toBeLessThanOrEqual(m.inner + 1);
 }
 
@@ -119,7 +163,9 @@ async function numberAttr(l: Locator, name: string): Promise<number> {
 async function fillSettings(card: Locator, c: Capture): Promise<void> {
   // the kind is only guessed from the file (a single firing reads as "Other / generic"): the tech sets it
   await card.getByRole("combobox", { name: "Kind of capture" }).selectOption({ label: "Secondary ignition" });
-  await expect.poll(() => card.getByRole("combobox", { name: "Probe or pickup" }).inputValue()).toBe("capacitive-secondary");
+  await expect
+    .poll(() => card.getByRole("combobox", { name: "Probe or pickup" }).inputValue())
+    .toBe("capacitive-secondary");
   await card.getByRole("textbox", { name: "Cylinder", exact: true }).fill(String(c.cylinder));
   await card.getByRole("textbox", { name: /^Engine cylinders/ }).fill("4");
   await card.getByRole("textbox", { name: /^Vertical \(V\/div\)/ }).fill(c.voltsPerDiv);
@@ -131,7 +177,11 @@ async function fillSettings(card: Locator, c: Capture): Promise<void> {
 describe.sequential("case intake in a real browser", () => {
   for (const vp of VIEWPORTS) {
     test(`${vp.label} (${vp.width}×${vp.height}): a case with a VIN, two codes and three traces; each trace opens at its capture view`, async () => {
-      const ctx: BrowserContext = await launched.browser.newContext({ viewport: { width: vp.width, height: vp.height }, isMobile: vp.label === "phone", hasTouch: true });
+      const ctx: BrowserContext = await launched.browser.newContext({
+        viewport: { width: vp.width, height: vp.height },
+        isMobile: vp.label === "phone",
+        hasTouch: true,
+      });
       watchErrors(ctx, errors, vp.label);
       const page = await ctx.newPage();
       try {
@@ -155,7 +205,9 @@ describe.sequential("case intake in a real browser", () => {
         await page.getByRole("textbox", { name: "Make", exact: true }).fill("Veltra");
         await page.getByRole("textbox", { name: "Model", exact: true }).fill("Sorrel");
         await page.getByRole("textbox", { name: /^Engine/ }).fill("2.2 L four-cylinder");
-        await page.getByRole("textbox", { name: "What the customer reports" }).fill("Stumbles and shakes at idle once warm; the check-engine light flashes under load.");
+        await page
+          .getByRole("textbox", { name: "What the customer reports" })
+          .fill("Stumbles and shakes at idle once warm; the check-engine light flashes under load.");
         await page.getByRole("checkbox", { name: "Misfire" }).check();
 
         // ---- two trouble codes, each with its description (SAE J2012: P0304 cylinder 4 misfire detected; P0351 ignition coil A primary/secondary circuit)
@@ -252,7 +304,9 @@ describe.sequential("case intake in a real browser", () => {
           const t0 = await numberAttr(plot, "data-window-t0");
           const t1 = await numberAttr(plot, "data-window-t1");
           const span = SCREEN_DIVISIONS_X * c.timePerDivS;
-          expect(Math.abs(t1 - t0 - span), `cylinder ${c.cylinder}: Δt ${t1 - t0} s against ${span} s`).toBeLessThan(span * 1e-6);
+          expect(Math.abs(t1 - t0 - span), `cylinder ${c.cylinder}: Δt ${t1 - t0} s against ${span} s`).toBeLessThan(
+            span * 1e-6,
+          );
           // the screen shows the capture's first firing (the generator's truth), inside the recording
           expect(t0).toBeGreaterThanOrEqual(-1e-9);
           expect(t0).toBeLessThan(c.truth.events[0].timeS);
@@ -262,17 +316,30 @@ describe.sequential("case intake in a real browser", () => {
           const vMin = await numberAttr(plot, "data-vmin");
           const vMax = await numberAttr(plot, "data-vmax");
           const expected = screenVoltageRange({ voltsPerDiv: c.voltsPerDivV, groundOffsetDiv: c.groundDiv });
-          expect(Math.abs(vMin - expected.min), `cylinder ${c.cylinder}: bottom ${vMin} V against ${expected.min} V`).toBeLessThan(1e-9);
-          expect(Math.abs(vMax - expected.max), `cylinder ${c.cylinder}: top ${vMax} V against ${expected.max} V`).toBeLessThan(1e-9);
+          expect(
+            Math.abs(vMin - expected.min),
+            `cylinder ${c.cylinder}: bottom ${vMin} V against ${expected.min} V`,
+          ).toBeLessThan(1e-9);
+          expect(
+            Math.abs(vMax - expected.max),
+            `cylinder ${c.cylinder}: top ${vMax} V against ${expected.max} V`,
+          ).toBeLessThan(1e-9);
           // the hand-computed range agrees with the shared formula: ground at (4 + offset) divisions from the bottom
           expect(Math.abs(expected.min - -(4 + c.groundDiv) * c.voltsPerDivV)).toBeLessThan(1e-12);
           expect(Math.abs(expected.max - (4 - c.groundDiv) * c.voltsPerDivV)).toBeLessThan(1e-12);
 
           // what the user reads: the screen's scales under the plot, and "Capture view" greyed as already there
-          expect(await viewer.getByText(/\/div · .*\/div/).first().innerText()).toBe(c.perDivText);
+          expect(
+            await viewer
+              .getByText(/\/div · .*\/div/)
+              .first()
+              .innerText(),
+          ).toBe(c.perDivText);
           expect(await viewer.getByRole("button", { name: /^Back to capture view/ }).isDisabled()).toBe(true);
           await expectNoHorizontalOverflow(page, `case page, cylinder ${c.cylinder}`);
-          await viewer.screenshot({ path: path.join(SHOT_DIR, `case-intake-${vp.width}-07-trace-cylinder-${c.cylinder}.png`) });
+          await viewer.screenshot({
+            path: path.join(SHOT_DIR, `case-intake-${vp.width}-07-trace-cylinder-${c.cylinder}.png`),
+          });
         }
       } finally {
         await ctx.close();

@@ -141,7 +141,11 @@ beforeAll(async () => {
   await server.fakeStripe!.idle();
   const billing = await agents.owner.get("/api/billing");
   seeded.receipt = billing.body.payments.find((p: { caseId: string }) => p.caseId === seeded.answered).id;
-  seeded.queuedB = await insertDraftCase(test, { shopId: shopB.shop.id, createdBy: shopB.technicians[0].id, make: "Korrin" });
+  seeded.queuedB = await insertDraftCase(test, {
+    shopId: shopB.shop.id,
+    createdBy: shopB.technicians[0].id,
+    make: "Korrin",
+  });
   await submitAndPay(test, await signIn(server, shopB.technicians[0]), seeded.queuedB);
 
   launched = await launchBrowser();

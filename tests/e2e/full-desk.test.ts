@@ -4,11 +4,20 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import type { BrowserContext, Page } from "playwright-core";
-import { createExpert, createShopTeam, type CreatedExpert, type ShopTeam } from "../factories";
+import { createExpert, createShopTeam } from "../factories";
 import { generateSecondary, type SecondaryTruth } from "../generators/secondary";
 import { renderCsv } from "../generators/csv";
 import { vinCheckDigit } from "../../shared/domain/vin";
-import { launchBrowser, screenshotDir, shot, signInThroughPage, startE2EServer, watchErrors, type E2EServer, type LaunchedBrowser } from "./helpers/browser";
+import {
+  launchBrowser,
+  screenshotDir,
+  shot,
+  signInThroughPage,
+  startE2EServer,
+  watchErrors,
+  type E2EServer,
+  type LaunchedBrowser,
+} from "./helpers/browser";
 
 /**
  * The whole desk in a real browser, as its two users walk it: a technician opens a case with a
@@ -33,8 +42,6 @@ const CODE = "P0302";
 
 let server: E2EServer;
 let launched: LaunchedBrowser;
-let team: ShopTeam;
-let expert: CreatedExpert;
 let techCtx: BrowserContext;
 let expertCtx: BrowserContext;
 let tech: Page;
@@ -46,16 +53,29 @@ const errors: string[] = [];
 
 beforeAll(async () => {
   server = await startE2EServer();
-  team = await createShopTeam(server, {
+  await createShopTeam(server, {
     name: "Millrace Garage",
     owner: { email: "owner@millrace.test", name: "Petra Lowe", password: PASSWORD },
     technician: { email: "jo@millrace.test", name: "Jo Brennan", password: PASSWORD },
   });
-  expert = await createExpert(server, { email: "rosa@experts.test", name: "Rosa Quint", password: PASSWORD, systems: ["ignition"], makes: ["Veltra"] });
+  await createExpert(server, {
+    email: "rosa@experts.test",
+    name: "Rosa Quint",
+    password: PASSWORD,
+    systems: ["ignition"],
+    makes: ["Veltra"],
+  });
 
   fileDir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-e2e-traces-"));
   for (const cyl of [1, 2, 3]) {
-    const g = generateSecondary({ seed: 40 + cyl, sampleRateHz: 1_000_000, rpm: 2000, events: 2, kvPerVolt: 10, burnTimeMs: cyl === 2 ? 0.75 : 1.5 });
+    const g = generateSecondary({
+      seed: 40 + cyl,
+      sampleRateHz: 1_000_000,
+      rpm: 2000,
+      events: 2,
+      kvPerVolt: 10,
+      burnTimeMs: cyl === 2 ? 0.75 : 1.5,
+    });
     const file = path.join(fileDir, `arden_coil${cyl}.csv`);
     fs.writeFileSync(file, renderCsv(g.trace, { timeUnit: "ms" }));
     files.push({ path: file, truth: g.truth });
@@ -85,12 +105,16 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     await tech.getByRole("textbox", { name: "Make", exact: true }).fill("Veltra");
     await tech.getByRole("textbox", { name: "Model", exact: true }).fill("Orvane");
     await tech.getByRole("textbox", { name: /^Engine/ }).fill("1.8 I4");
-    await tech.getByRole("textbox", { name: "What the customer reports" }).fill("Misfire on cylinder 2 under load, worse when the engine is hot.");
+    await tech
+      .getByRole("textbox", { name: "What the customer reports" })
+      .fill("Misfire on cylinder 2 under load, worse when the engine is hot.");
     await tech.getByRole("checkbox", { name: "Misfire" }).check();
     await tech.getByPlaceholder("e.g. P0304").fill(CODE);
     await tech.getByPlaceholder("e.g. P0304").press("Enter");
     await tech.getByRole("radio", { name: "Ignition" }).check();
-    await tech.getByRole("textbox", { name: /^Tests already done/ }).fill("Swapped coils 2 and 3: the misfire stayed on cylinder 2.");
+    await tech
+      .getByRole("textbox", { name: /^Tests already done/ })
+      .fill("Swapped coils 2 and 3: the misfire stayed on cylinder 2.");
     // the VIN fills in the model year (position 10: H, with a letter in position 7: 2017; 49 CFR 565.15(b))
     await expect.poll(() => tech.getByRole("textbox", { name: /^Model year/ }).inputValue()).toBe("2017");
 
@@ -124,7 +148,10 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     // each coil's burn time and engine speed against the generator's truth
     for (const [i, f] of files.entries()) {
       const m = tech.getByRole("region", { name: `Measurements of Coil ${i + 1}` });
-      const burnCell = m.getByRole("row", { name: /^Burn time/ }).getByRole("cell").first();
+      const burnCell = m
+        .getByRole("row", { name: /^Burn time/ })
+        .getByRole("cell")
+        .first();
       const burnMs = parseFloat(await burnCell.innerText());
       const truth = f.truth.events.reduce((a, e) => a + e.burnTimeMs, 0) / f.truth.events.length;
       expect(Math.abs(burnMs - truth) / truth, `coil ${i + 1} burn ${burnMs} ms vs ${truth} ms`).toBeLessThan(0.05);
@@ -156,7 +183,9 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     await signInThroughPage(exp, server.url, "rosa@experts.test", PASSWORD);
     await exp.goto(server.url + "/queue");
     const offered = exp.getByRole("region", { name: /Offered to you/ });
-    const offer = offered.getByRole("article").filter({ has: exp.getByRole("heading", { name: /2017 Veltra Orvane/ }) });
+    const offer = offered
+      .getByRole("article")
+      .filter({ has: exp.getByRole("heading", { name: /2017 Veltra Orvane/ }) });
     await offer.waitFor();
     expect(await offer.innerText()).toContain(CODE);
     expect(await offer.innerText()).toContain("3 traces");
@@ -168,7 +197,11 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     await shot(exp, SHOTS, "07-expert-claimed");
     // the technician's open page follows without a reload (a queued case's page checks every 10 s)
     await tech.getByText("With an expert").first().waitFor({ timeout: 20_000 });
-    await tech.getByRole("region", { name: "Live review" }).getByRole("listitem").filter({ hasText: "Rosa Quint" }).waitFor({ timeout: 20_000 });
+    await tech
+      .getByRole("region", { name: "Live review" })
+      .getByRole("listitem")
+      .filter({ hasText: "Rosa Quint" })
+      .waitFor({ timeout: 20_000 });
   });
 
   test("5. the expert pins the short burn on the odd coil; the technician sees it live and replies", async () => {
@@ -181,7 +214,7 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     // the capture view spans 0–100 ms across the plot area; aim a third of the way into coil 2's
     // first spark line (the generator's truth: its firing time and burn time)
     const odd = files[1].truth.events[0];
-    const aimS = odd.timeS + (odd.burnTimeMs / 1000) / 3;
+    const aimS = odd.timeS + odd.burnTimeMs / 1000 / 3;
     const over = live.locator(".u-over").first();
     const box = (await over.boundingBox())!;
     await exp.mouse.click(box.x + (aimS / 0.1) * box.width, box.y + box.height * 0.45);
@@ -196,7 +229,9 @@ describe.sequential("the whole desk, two people in two browsers", () => {
 
     // the mark as stored lies inside the short spark line of coil 2 (generator's truth)
     const rows = await server.ctx.db.read((tx) =>
-      tx.all<{ traceId: string; kind: string; t0: number }>(sql`SELECT trace_id AS traceId, kind, t0 FROM annotation WHERE case_id = ${caseId}`),
+      tx.all<{ traceId: string; kind: string; t0: number }>(
+        sql`SELECT trace_id AS traceId, kind, t0 FROM annotation WHERE case_id = ${caseId}`,
+      ),
     );
     expect(rows).toHaveLength(1);
     expect(rows[0].kind).toBe("pin");
@@ -209,26 +244,47 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     await techLive.scrollIntoViewIfNeeded();
     await shot(tech, SHOTS, "09-tech-sees-the-pin-live", { viewport: true });
     const chat = techLive.getByRole("region", { name: "Chat" });
-    await chat.getByRole("textbox", { name: "Message" }).fill("Got it. The boot on coil 2 has a carbon track, I'll swap the coil and recheck.");
+    await chat
+      .getByRole("textbox", { name: "Message" })
+      .fill("Got it. The boot on coil 2 has a carbon track, I'll swap the coil and recheck.");
     await chat.getByRole("textbox", { name: "Message" }).press("Enter");
-    await exp.getByRole("region", { name: "Chat" }).getByText(/carbon track/).waitFor({ timeout: 20_000 });
+    await exp
+      .getByRole("region", { name: "Chat" })
+      .getByText(/carbon track/)
+      .waitFor({ timeout: 20_000 });
     await shot(exp, SHOTS, "10-expert-sees-the-reply", { viewport: true });
   });
 
   test("6. the expert answers and the technician confirms the fix", async () => {
     expect(caseId, "step 1 made the case").not.toBe("");
     const work = exp.getByRole("region", { name: "Your work on this case" });
-    await work.getByRole("textbox", { name: "Diagnosis" }).fill("Coil 2's spark line is half as long as the others' and its firing line is uneven: the coil is leaking energy.");
-    await work.getByRole("textbox", { name: "Root cause" }).fill("Coil 2 breaking down, tracking through the boot to the plug well.");
-    await work.getByRole("textbox", { name: "Recommended fix" }).fill("Replace coil 2 and its boot; clean the plug well.");
-    await work.getByRole("textbox", { name: "Tests to confirm the fix" }).fill("A new capture at 2000 rpm: coil 2's burn time within 10 % of the others.");
+    await work
+      .getByRole("textbox", { name: "Diagnosis" })
+      .fill(
+        "Coil 2's spark line is half as long as the others' and its firing line is uneven: the coil is leaking energy.",
+      );
+    await work
+      .getByRole("textbox", { name: "Root cause" })
+      .fill("Coil 2 breaking down, tracking through the boot to the plug well.");
+    await work
+      .getByRole("textbox", { name: "Recommended fix" })
+      .fill("Replace coil 2 and its boot; clean the plug well.");
+    await work
+      .getByRole("textbox", { name: "Tests to confirm the fix" })
+      .fill("A new capture at 2000 rpm: coil 2's burn time within 10 % of the others.");
     await shot(exp, SHOTS, "11-expert-writes-the-answer");
     await work.getByRole("button", { name: "Send the answer" }).click();
-    await exp.getByText(/answer|Answered/i).first().waitFor();
+    await exp
+      .getByText(/answer|Answered/i)
+      .first()
+      .waitFor();
 
     // the technician's open page gets the answer without a reload (the live room's status message)
     await tech.getByRole("heading", { name: "Did the fix work?" }).waitFor({ timeout: 15_000 });
-    await tech.getByText(/Coil 2 breaking down/).first().waitFor();
+    await tech
+      .getByText(/Coil 2 breaking down/)
+      .first()
+      .waitFor();
     await shot(tech, SHOTS, "12-tech-reads-the-answer");
     const form = tech.locator("form").filter({ has: tech.getByRole("radiogroup", { name: "Fix result" }) });
     await form.getByRole("radio", { name: "Yes, it is fixed" }).check();
@@ -250,10 +306,14 @@ describe.sequential("the whole desk, two people in two browsers", () => {
     expect(await hit.innerText()).toContain(CODE);
     await shot(tech, SHOTS, "14-casebook-search-by-code");
     await hit.getByRole("link").first().click();
-    await tech.getByText(/Coil 2 breaking down/).first().waitFor();
+    await tech
+      .getByText(/Coil 2 breaking down/)
+      .first()
+      .waitFor();
     const text = await tech.locator("main").innerText();
     // anonymised: no shop, no people, no VIN serial (positions 12–17)
-    for (const secret of ["Millrace", "Jo Brennan", "Petra Lowe", "Rosa Quint", VIN, VIN.slice(11)]) expect(text, secret).not.toContain(secret);
+    for (const secret of ["Millrace", "Jo Brennan", "Petra Lowe", "Rosa Quint", VIN, VIN.slice(11)])
+      expect(text, secret).not.toContain(secret);
     await shot(tech, SHOTS, "15-casebook-entry");
   });
 
@@ -280,7 +340,9 @@ describe.sequential("the whole desk, two people in two browsers", () => {
       }
       // the notices panel opens inside the screen
       await tech.getByRole("button", { name: /^Notices/ }).click();
-      const panel = tech.locator(`#${await tech.getByRole("button", { name: /^Notices/ }).getAttribute("aria-controls")}`);
+      const panel = tech.locator(
+        `#${await tech.getByRole("button", { name: /^Notices/ }).getAttribute("aria-controls")}`,
+      );
       await panel.waitFor();
       const box = (await panel.boundingBox())!;
       expect(box.x, `notices panel left edge at ${width} px`).toBeGreaterThanOrEqual(0);

@@ -8,7 +8,15 @@ import { createExpert, createShopTeam, signIn, syntheticPattern, type SignedInAg
 import { generateSecondary, renderCsv } from "../generators";
 import { createRng } from "../helpers/prng";
 import type { CasebookTrace } from "../../shared/schemas/casebook";
-import { launchBrowser, screenshotDir, shot, startE2EServer, watchErrors, type E2EServer, type LaunchedBrowser } from "./helpers/browser";
+import {
+  launchBrowser,
+  screenshotDir,
+  shot,
+  startE2EServer,
+  watchErrors,
+  type E2EServer,
+  type LaunchedBrowser,
+} from "./helpers/browser";
 
 /**
  * The live case page as its people use it (issue 13), in headless Chromium at 390, 820 and 1440 px:
@@ -44,13 +52,26 @@ const traceIds: string[] = [];
 const firstFireS: number[] = [];
 
 function capture(coil: number) {
-  return generateSecondary({ seed: 40 + coil, sampleRateHz: 200_000, rpm: 1500, events: 2, durationS: 0.1, peakV: 0.8, burnLevelV: BURN_LEVEL_V, burnTimeMs: BURN_MS[coil - 1] });
+  return generateSecondary({
+    seed: 40 + coil,
+    sampleRateHz: 200_000,
+    rpm: 1500,
+    events: 2,
+    durationS: 0.1,
+    peakV: 0.8,
+    burnLevelV: BURN_LEVEL_V,
+    burnTimeMs: BURN_MS[coil - 1],
+  });
 }
 
 async function upload(id: string, coil: number, agent: SignedInAgent) {
   const g = capture(coil);
   const settings = { ...g.settings, timePerDivS: 0.01, cylinder: coil };
-  const up = await request(server.url).post(`/api/cases/${id}/traces`).set("Cookie", agent.cookie).field("settings", JSON.stringify(settings)).attach("file", Buffer.from(renderCsv(g.trace)), `coil${coil}.csv`);
+  const up = await request(server.url)
+    .post(`/api/cases/${id}/traces`)
+    .set("Cookie", agent.cookie)
+    .field("settings", JSON.stringify(settings))
+    .attach("file", Buffer.from(renderCsv(g.trace)), `coil${coil}.csv`);
   expect(up.status, JSON.stringify(up.body)).toBe(201);
   return { body: up.body as CasebookTrace & { analysis: { events: { timeS: number }[] } }, truth: g.truth };
 }
@@ -71,8 +92,22 @@ async function newCase(agent: SignedInAgent, complaint: string): Promise<string>
 async function publishedEntry(agent: SignedInAgent, expertId: string): Promise<string> {
   const id = await newCase(agent, "Misfire on cylinder 2 when warm");
   const { body } = await upload(id, 2, agent);
-  const t: CasebookTrace = { id: body.id, name: "Coil 2", kind: body.kind, samples: body.samples, sampleRateHz: body.sampleRateHz, t0: body.t0, durationS: body.durationS, channels: body.channels, settings: body.settings, analysis: body.analysis, windowUrl: `/api/traces/${body.id}/window` };
-  (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "resolved", expertId }).where(eq(schema.caseTable.id, id)).run()));
+  const t: CasebookTrace = {
+    id: body.id,
+    name: "Coil 2",
+    kind: body.kind,
+    samples: body.samples,
+    sampleRateHz: body.sampleRateHz,
+    t0: body.t0,
+    durationS: body.durationS,
+    channels: body.channels,
+    settings: body.settings,
+    analysis: body.analysis,
+    windowUrl: `/api/traces/${body.id}/window`,
+  };
+  await server.ctx.db.write((tx) =>
+    tx.update(schema.caseTable).set({ status: "resolved", expertId }).where(eq(schema.caseTable.id, id)).run(),
+  );
   const [entryId] = await insertCasebookEntries(server.ctx.db, [
     {
       caseId: id,
@@ -105,7 +140,13 @@ beforeAll(async () => {
     firstFireS.push(truth.events[0].timeS);
   }
   // the expert has claimed the case (set directly: the paid queue is tested on its own)
-  (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run()));
+  await server.ctx.db.write((tx) =>
+    tx
+      .update(schema.caseTable)
+      .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
+      .where(eq(schema.caseTable.id, caseId))
+      .run(),
+  );
   launched = await launchBrowser();
 }, 180_000);
 
@@ -114,14 +155,29 @@ afterAll(async () => {
   await server?.close();
 });
 
-async function pageAs(agent: SignedInAgent, who: string, w: (typeof WIDTHS)[number]): Promise<{ ctx: BrowserContext; page: Page }> {
-  const ctx = await launched.browser.newContext({ viewport: { width: w.width, height: w.height }, hasTouch: w.touch, isMobile: w.mobile });
+async function pageAs(
+  agent: SignedInAgent,
+  who: string,
+  w: (typeof WIDTHS)[number],
+): Promise<{ ctx: BrowserContext; page: Page }> {
+  const ctx = await launched.browser.newContext({
+    viewport: { width: w.width, height: w.height },
+    hasTouch: w.touch,
+    isMobile: w.mobile,
+  });
   watchErrors(ctx, errors, `${who}@${w.width}`);
   const host = new URL(server.url).hostname;
   await ctx.addCookies(
     agent.cookie.split("; ").map((c) => {
       const i = c.indexOf("=");
-      return { name: c.slice(0, i), value: c.slice(i + 1), domain: host, path: "/", httpOnly: true, sameSite: "Lax" as const };
+      return {
+        name: c.slice(0, i),
+        value: c.slice(i + 1),
+        domain: host,
+        path: "/",
+        httpOnly: true,
+        sameSite: "Lax" as const,
+      };
     }),
   );
   return { ctx, page: await ctx.newPage() };
@@ -134,7 +190,14 @@ function watchWindows(page: Page) {
   const parse = (r: Request) => {
     const u = new URL(r.url());
     const m = /^\/api\/traces\/([^/]+)\/window$/.exec(u.pathname);
-    return m ? { traceId: decodeURIComponent(m[1]), t0: Number(u.searchParams.get("t0")), t1: Number(u.searchParams.get("t1")), width: Number(u.searchParams.get("width")) } : null;
+    return m
+      ? {
+          traceId: decodeURIComponent(m[1]),
+          t0: Number(u.searchParams.get("t0")),
+          t1: Number(u.searchParams.get("t1")),
+          width: Number(u.searchParams.get("width")),
+        }
+      : null;
   };
   page.on("request", (r) => {
     const w = parse(r);
@@ -151,7 +214,9 @@ const live = (p: Page) => p.locator('section[aria-labelledby="live-title"]');
 async function noSidewaysScroll(page: Page): Promise<void> {
   const { scroll, client } = await page.evaluate(() => {
     // runs in the page (this file is type-checked without the DOM library)
-    const el = (globalThis as unknown as { document: { documentElement: { scrollWidth: number; clientWidth: number } } }).document.documentElement;
+    const el = (
+      globalThis as unknown as { document: { documentElement: { scrollWidth: number; clientWidth: number } } }
+    ).document.documentElement;
     return { scroll: el.scrollWidth, client: el.clientWidth };
   });
   expect(scroll, "the page's width against the viewport's").toBeLessThanOrEqual(client);
@@ -187,7 +252,10 @@ describe.sequential("the live case page at 390, 820 and 1440 px", () => {
         // live viewer shows coil 2 and each trace's card one trace
         expect(net.failed).toEqual([]);
         const charts: Record<string, number> = { [traceIds[0]]: 1, [traceIds[1]]: 2, [traceIds[2]]: 1 };
-        for (const id of traceIds) expect(net.asked.filter((r) => r.traceId === id).length, `requests for ${id}`).toBeLessThanOrEqual(charts[id]);
+        for (const id of traceIds)
+          expect(net.asked.filter((r) => r.traceId === id).length, `requests for ${id}`).toBeLessThanOrEqual(
+            charts[id],
+          );
         expect(net.asked.length).toBeGreaterThanOrEqual(3);
         // one bucket per pixel of the plot area over the view and a quarter either side: at most
         // 1.5 × the page's width (rounded up to 32 px), far below 768 on the phone
@@ -206,11 +274,17 @@ describe.sequential("the live case page at 390, 820 and 1440 px", () => {
           expect(ib.y + ib.height, "the message box inside the screen").toBeLessThanOrEqual(w.height);
           await input.fill(`Capturing coil 2 again at ${w.width} px`);
           await page.getByRole("button", { name: "Send message" }).tap();
-          await page.getByRole("list", { name: "Messages" }).getByText(`Capturing coil 2 again at ${w.width} px`).waitFor();
+          await page
+            .getByRole("list", { name: "Messages" })
+            .getByText(`Capturing coil 2 again at ${w.width} px`)
+            .waitFor();
           await shot(page, shots, `${w.width}-tech-chat-sheet`, { viewport: true });
           await noSidewaysScroll(page);
           if (w.label === "phone") {
-            await page.getByRole("dialog", { name: "Chat and marks" }).getByRole("tab", { name: /^Marks/ }).tap();
+            await page
+              .getByRole("dialog", { name: "Chat and marks" })
+              .getByRole("tab", { name: /^Marks/ })
+              .tap();
             await page.getByRole("dialog", { name: "Chat and marks" }).getByText("No marks yet.").waitFor();
             await shot(page, shots, `${w.width}-tech-marks-sheet`, { viewport: true });
           }
@@ -273,13 +347,25 @@ describe.sequential("the live case page at 390, 820 and 1440 px", () => {
         await similar.scrollIntoViewIfNeeded();
         const thumb = similar.locator("img[data-thumbnail]").first();
         await thumb.waitFor();
-        await expect.poll(() => thumb.evaluate((img) => ((img as { complete: boolean }).complete ? (img as { naturalWidth: number }).naturalWidth : 0))).toBe(160);
+        await expect
+          .poll(() =>
+            thumb.evaluate((img) =>
+              (img as { complete: boolean }).complete ? (img as { naturalWidth: number }).naturalWidth : 0,
+            ),
+          )
+          .toBe(160);
         await similar.screenshot({ path: `${shots}/${w.width}-similar-cases.png` });
         await page.goto(`${server.url}/casebook`);
         const hit = page.getByRole("article").filter({ hasText: "Veltra Orvane" }).first();
         await hit.waitFor();
         const ht = hit.locator("img[data-thumbnail]");
-        await expect.poll(() => ht.evaluate((img) => ((img as { complete: boolean }).complete ? (img as { naturalWidth: number }).naturalWidth : 0))).toBe(160);
+        await expect
+          .poll(() =>
+            ht.evaluate((img) =>
+              (img as { complete: boolean }).complete ? (img as { naturalWidth: number }).naturalWidth : 0,
+            ),
+          )
+          .toBe(160);
         await shot(page, shots, `${w.width}-casebook-hits`, { viewport: true });
         await noSidewaysScroll(page);
       } finally {
@@ -315,9 +401,19 @@ describe.sequential("the live case page at 390, 820 and 1440 px", () => {
         // the tool put itself down: the next drag zooms
         expect(await pin.getAttribute("aria-pressed")).toBe("false");
         await expect
-          .poll(async () => ((await expert.get(`/api/cases/${caseId}/annotations`)).body.annotations as { label: string }[]).some((a) => a.label === `spark line at ${w.width}`))
+          .poll(async () =>
+            ((await expert.get(`/api/cases/${caseId}/annotations`)).body.annotations as { label: string }[]).some(
+              (a) => a.label === `spark line at ${w.width}`,
+            ),
+          )
           .toBe(true);
-        const stored = ((await expert.get(`/api/cases/${caseId}/annotations`)).body.annotations as { label: string; level: number; t0: number }[]).find((a) => a.label === `spark line at ${w.width}`)!;
+        const stored = (
+          (await expert.get(`/api/cases/${caseId}/annotations`)).body.annotations as {
+            label: string;
+            level: number;
+            t0: number;
+          }[]
+        ).find((a) => a.label === `spark line at ${w.width}`)!;
         // its level is the spark line's (generator: 0.15 V at the pickup, ±10 % for the slope, the
         // noise and one pixel of time), far from the click's height near the top of the screen
         expect(stored.level).toBeGreaterThan(BURN_LEVEL_V * 0.8);

@@ -48,7 +48,14 @@ async function contextFor(agent: SignedInAgent, base: string): Promise<BrowserCo
   await ctx.addCookies(
     agent.cookie.split("; ").map((c) => {
       const i = c.indexOf("=");
-      return { name: c.slice(0, i), value: c.slice(i + 1), domain: host, path: "/", httpOnly: true, sameSite: "Lax" as const };
+      return {
+        name: c.slice(0, i),
+        value: c.slice(i + 1),
+        domain: host,
+        path: "/",
+        httpOnly: true,
+        sameSite: "Lax" as const,
+      };
     }),
   );
   return ctx;
@@ -62,13 +69,17 @@ async function pixelsOf(page: Page, color: string): Promise<number> {
     const b = parseInt(hex.slice(5, 7), 16);
     let n = 0;
     // runs in the page (this file is type-checked without the DOM library)
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- runs in the page; this file is type-checked without the DOM library
     const doc = (globalThis as any).document;
     const section = doc.querySelector('section[aria-labelledby="live-title"]');
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- a canvas element of the page (no DOM types here)
     for (const c of Array.from((section?.querySelectorAll("canvas") ?? []) as ArrayLike<any>)) {
       const ctx = c.getContext("2d");
       if (!ctx || !c.width || !c.height) continue;
       const d = ctx.getImageData(0, 0, c.width, c.height).data;
-      for (let i = 0; i < d.length; i += 4) if (d[i + 3] > 200 && Math.abs(d[i] - r) <= 6 && Math.abs(d[i + 1] - g) <= 6 && Math.abs(d[i + 2] - b) <= 6) n++;
+      for (let i = 0; i < d.length; i += 4)
+        if (d[i + 3] > 200 && Math.abs(d[i] - r) <= 6 && Math.abs(d[i + 1] - g) <= 6 && Math.abs(d[i + 2] - b) <= 6)
+          n++;
     }
     return n;
   }, color);
@@ -97,7 +108,15 @@ beforeAll(async () => {
     headless: true,
     // playwright-core gives each launch a fresh temporary --user-data-dir of its own (mkdtemp
     // "playwright_chromiumdev_profile-…"); passing one here is refused by launch().
-    args: ["--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run", "--disable-background-networking", "--disable-component-update", "--disable-sync"],
+    args: [
+      "--no-sandbox",
+      "--disable-gpu",
+      "--disable-quic",
+      "--no-first-run",
+      "--disable-background-networking",
+      "--disable-component-update",
+      "--disable-sync",
+    ],
   });
 });
 
@@ -117,7 +136,15 @@ test("the expert's pin appears on the tech's plot and the tech's reply in the ex
   // the tech opens a case and uploads a capture; then the expert has claimed it (set directly: the
   // paid queue is tested on its own)
   const created = await tech.post("/api/cases").send({
-    vehicle: { vin: "1M8GDM9AXKP042788", year: 2019, make: "Veltra", model: "Sorrel", engine: "2.0 I4", mileage: 84210, mileageUnit: "km" },
+    vehicle: {
+      vin: "1M8GDM9AXKP042788",
+      year: 2019,
+      make: "Veltra",
+      model: "Sorrel",
+      engine: "2.0 I4",
+      mileage: 84210,
+      mileageUnit: "km",
+    },
     complaint: "Misfire on cylinder 4 under load when warm",
     codes: ["P0304"],
     system: "ignition",
@@ -128,10 +155,25 @@ test("the expert's pin appears on the tech's plot and the tech's reply in the ex
   const up = await request(base)
     .post(`/api/cases/${caseId}/traces`)
     .set("Cookie", tech.cookie)
-    .field("settings", JSON.stringify({ kind: "secondary-ignition", probe: "capacitive-secondary", voltsPerDiv: 2, timePerDivS: 0.002, cylinder: 4 }))
+    .field(
+      "settings",
+      JSON.stringify({
+        kind: "secondary-ignition",
+        probe: "capacitive-secondary",
+        voltsPerDiv: 2,
+        timePerDivS: 0.002,
+        cylinder: 4,
+      }),
+    )
     .attach("file", Buffer.from(captureCsv()), "cyl4-secondary.csv");
   expect(up.status).toBe(201);
-  (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run()));
+  await server.ctx.db.write((tx) =>
+    tx
+      .update(schema.caseTable)
+      .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
+      .where(eq(schema.caseTable.id, caseId))
+      .run(),
+  );
 
   const techCtx = await contextFor(tech, base);
   const expCtx = await contextFor(expert, base);
@@ -159,12 +201,18 @@ test("the expert's pin appears on the tech's plot and the tech's reply in the ex
   const plot = live(expPage).locator('[role="img"]').first();
   const box = (await plot.boundingBox())!;
   await expPage.mouse.click(box.x + box.width * 0.5, box.y + box.height * 0.4);
-  await live(expPage).getByLabel(/Label for the new pin/).fill("Firing line too high");
-  await live(expPage).getByLabel(/Label for the new pin/).press("Enter");
+  await live(expPage)
+    .getByLabel(/Label for the new pin/)
+    .fill("Firing line too high");
+  await live(expPage)
+    .getByLabel(/Label for the new pin/)
+    .press("Enter");
   await live(expPage).getByText("Firing line too high").first().waitFor();
 
   // it appears on the tech's plot and in the list beside it
-  await live(techPage).getByRole("button", { name: /Pin · Firing line too high/ }).waitFor({ timeout: 10_000 });
+  await live(techPage)
+    .getByRole("button", { name: /Pin · Firing line too high/ })
+    .waitFor({ timeout: 10_000 });
   await expect.poll(() => pixelsOf(techPage, expertColor), { timeout: 10_000 }).toBeGreaterThan(before + 20);
   await techPage.screenshot({ path: path.join(shots, "live-review-tech.png"), fullPage: true });
 
@@ -172,7 +220,10 @@ test("the expert's pin appears on the tech's plot and the tech's reply in the ex
   const input = live(techPage).getByLabel("Message", { exact: true });
   await input.fill("Plug gap on 4 is 1.4 mm, capturing again now");
   await input.press("Enter");
-  await live(expPage).getByRole("list", { name: "Messages" }).getByText("Plug gap on 4 is 1.4 mm, capturing again now").waitFor({ timeout: 10_000 });
+  await live(expPage)
+    .getByRole("list", { name: "Messages" })
+    .getByText("Plug gap on 4 is 1.4 mm, capturing again now")
+    .waitFor({ timeout: 10_000 });
   await expPage.screenshot({ path: path.join(shots, "live-review-expert.png"), fullPage: true });
 
   // the tech's connection drops (the network goes away, then the server loses the socket): the page
@@ -185,22 +236,46 @@ test("the expert's pin appears on the tech's plot and the tech's reply in the ex
   await live(techPage).screenshot({ path: path.join(shots, "live-review-tech-reconnecting.png") });
   if ((await pinTool.getAttribute("aria-pressed")) !== "true") await pinTool.click(); // the tool stays chosen after a mark
   await expPage.mouse.click(box.x + box.width * 0.3, box.y + box.height * 0.5);
-  await live(expPage).getByLabel(/Label for the new pin/).fill("Spark line short");
-  await live(expPage).getByLabel(/Label for the new pin/).press("Enter");
-  await live(expPage).getByRole("button", { name: /Pin · Spark line short/ }).waitFor();
-  expect(await live(techPage).getByRole("button", { name: /Pin · Spark line short/ }).count()).toBe(0);
+  await live(expPage)
+    .getByLabel(/Label for the new pin/)
+    .fill("Spark line short");
+  await live(expPage)
+    .getByLabel(/Label for the new pin/)
+    .press("Enter");
+  await live(expPage)
+    .getByRole("button", { name: /Pin · Spark line short/ })
+    .waitFor();
+  expect(
+    await live(techPage)
+      .getByRole("button", { name: /Pin · Spark line short/ })
+      .count(),
+  ).toBe(0);
   await techCtx.setOffline(false);
   await live(techPage).locator('[data-connection="live"]').waitFor({ timeout: 20_000 });
-  await live(techPage).getByRole("button", { name: /Pin · Spark line short/ }).waitFor({ timeout: 10_000 });
-  expect(await live(techPage).getByRole("button", { name: /Pin · / }).count()).toBe(2);
+  await live(techPage)
+    .getByRole("button", { name: /Pin · Spark line short/ })
+    .waitFor({ timeout: 10_000 });
+  expect(
+    await live(techPage)
+      .getByRole("button", { name: /Pin · / })
+      .count(),
+  ).toBe(2);
 
   // stored once each, with the case's seq
   const marks = await tech.get(`/api/cases/${caseId}/annotations`);
   expect(marks.body.annotations).toHaveLength(2);
-  expect(marks.body.annotations[0]).toMatchObject({ kind: "pin", label: "Firing line too high", authorId: e.id, color: expertColor, seq: 1 });
+  expect(marks.body.annotations[0]).toMatchObject({
+    kind: "pin",
+    label: "Firing line too high",
+    authorId: e.id,
+    color: expertColor,
+    seq: 1,
+  });
   expect(marks.body.annotations[1]).toMatchObject({ kind: "pin", label: "Spark line short", seq: 3 });
   const msgs = await expert.get(`/api/cases/${caseId}/messages`);
-  expect(msgs.body.messages.map((m: { text: string; seq: number }) => [m.text, m.seq])).toEqual([["Plug gap on 4 is 1.4 mm, capturing again now", 2]]);
+  expect(msgs.body.messages.map((m: { text: string; seq: number }) => [m.text, m.seq])).toEqual([
+    ["Plug gap on 4 is 1.4 mm, capturing again now", 2],
+  ]);
   expect(pageErrors).toEqual([]);
   await techCtx.close();
   await expCtx.close();

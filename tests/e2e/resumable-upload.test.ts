@@ -56,18 +56,19 @@ async function claimedCase() {
   const team = await createShopTeam(server, { technician: { name: "Jordan Keane" } });
   const e = await createExpert(server, { name: "Quinn Haddad" });
   const api = await signIn(server, team.technicians[0]);
-  const created = await api
-    .post("/api/cases")
-    .send({
-      vehicle: { make: "Veltra", model: "Sorrel", year: 2019 },
-      complaint: "Misfire when warm",
-      system: "ignition",
-    });
+  const created = await api.post("/api/cases").send({
+    vehicle: { make: "Veltra", model: "Sorrel", year: 2019 },
+    complaint: "Misfire when warm",
+    system: "ignition",
+  });
   const caseId = created.body.id as string;
-  (await server.ctx.db.write((tx) => tx.update(schema.caseTable)
-    .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
-    .where(eq(schema.caseTable.id, caseId))
-    .run()));
+  await server.ctx.db.write((tx) =>
+    tx
+      .update(schema.caseTable)
+      .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
+      .where(eq(schema.caseTable.id, caseId))
+      .run(),
+  );
   const techCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
   watchErrors(techCtx, errors, "tech");
   const tech = await techCtx.newPage();
@@ -113,18 +114,19 @@ describe("a large capture over a link that drops", () => {
     const team = await createShopTeam(server, { technician: { name: "Robin Marsh" } });
     const e = await createExpert(server, { name: "Sam Okafor" });
     const api = await signIn(server, team.technicians[0]);
-    const created = await api
-      .post("/api/cases")
-      .send({
-        vehicle: { make: "Veltra", model: "Sorrel", year: 2019 },
-        complaint: "Misfire when warm",
-        system: "ignition",
-      });
+    const created = await api.post("/api/cases").send({
+      vehicle: { make: "Veltra", model: "Sorrel", year: 2019 },
+      complaint: "Misfire when warm",
+      system: "ignition",
+    });
     const caseId = created.body.id as string;
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable)
-      .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
-      .where(eq(schema.caseTable.id, caseId))
-      .run()));
+    await server.ctx.db.write((tx) =>
+      tx
+        .update(schema.caseTable)
+        .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
+        .where(eq(schema.caseTable.id, caseId))
+        .run(),
+    );
 
     const techCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
     const expCtx = await launched.browser.newContext({ viewport: { width: 1280, height: 900 } });
@@ -181,7 +183,9 @@ describe("a large capture over a link that drops", () => {
 
     // what went over the link: the compressed file (as stored) and little more; the part after the cut
     // continued from the server's last byte instead of starting again
-    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).get()))!;
+    const row = (await server.ctx.db.read((tx) =>
+      tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).get(),
+    ))!;
     expect(row.samples).toBe(samples);
     const compressed = fs.statSync(path.join(server.dir, row.originalPath)).size;
     expect(cutAt).toBeGreaterThan(compressed * 0.3);
@@ -259,7 +263,9 @@ describe("a large capture over a link that drops", () => {
     await shot(tech, SHOTS, "07-after-reload", { viewport: true });
     await again.getByText(/^Uploaded/).waitFor({ timeout: 90_000 });
     expect(await again.getByText(/^Uploaded/).innerText()).toContain(`${c.samples.toLocaleString("en-US")} samples`);
-    const rows = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all()));
+    const rows = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all(),
+    );
     expect(rows).toHaveLength(1);
     const compressed = fs.statSync(path.join(server.dir, rows[0].originalPath)).size;
     // the page itself is reloaded over the same link (small requests); the capture went over once

@@ -2,10 +2,18 @@ import { afterAll, beforeAll, describe, expect, test } from "vitest";
 import path from "node:path";
 import request from "supertest";
 import { eq } from "drizzle-orm";
-import type { BrowserContext, Locator, Page } from "playwright-core";
+import type { BrowserContext, Page } from "playwright-core";
 import { schema } from "../../server/db/client";
 import { createExpert, createShopTeam, signIn, type SignedInAgent } from "../factories";
-import { launchBrowser, screenshotDir, shot, startE2EServer, watchErrors, type E2EServer, type LaunchedBrowser } from "./helpers/browser";
+import {
+  launchBrowser,
+  screenshotDir,
+  shot,
+  startE2EServer,
+  watchErrors,
+  type E2EServer,
+  type LaunchedBrowser,
+} from "./helpers/browser";
 
 /**
  * One unit model in every view (issue 11), in a real browser at 820 px: a secondary capture in
@@ -74,7 +82,8 @@ function secondaryKv(f: Firing, seed: number): Float64Array {
       const u = t - tf;
       if (u >= -3e-3 && u < 0) v += -0.2 * f.burnKv * (1 - Math.exp(-(u + 3e-3) / 0.2e-3));
       else if (u >= 0 && u < burnS) v += Math.max(f.peakKv * (u / tauR) * Math.exp(1 - u / tauR), f.burnKv);
-      else if (u >= burnS && u < burnS + 3e-3) v += 1.5 * f.burnKv * Math.exp(-(u - burnS) / tauRing) * Math.cos(2 * Math.PI * fRing * (u - burnS));
+      else if (u >= burnS && u < burnS + 3e-3)
+        v += 1.5 * f.burnKv * Math.exp(-(u - burnS) / tauRing) * Math.cos(2 * Math.PI * fRing * (u - burnS));
     }
     out[i] = v + 0.01 * noise();
   }
@@ -142,14 +151,31 @@ function captures(): Capture[] {
     const cylinder = k + 1;
     const kv = secondaryKv(f, cylinder);
     const exportedInKv = cylinder === 2;
-    const base = { kind: "secondary-ignition", probe: "capacitive-secondary", kvPerVolt: KV_PER_V, timePerDivS: 5e-3, groundOffsetDiv: -2, cylinder, cylinders: 4 };
+    const base = {
+      kind: "secondary-ignition",
+      probe: "capacitive-secondary",
+      kvPerVolt: KV_PER_V,
+      timePerDivS: 5e-3,
+      groundOffsetDiv: -2,
+      cylinder,
+      cylinders: 4,
+    };
     return {
       file: exportedInKv ? "cyl2-export-kv.csv" : `cyl${cylinder}-pickup.csv`,
       label: `Cylinder ${cylinder}`,
-      text: exportedInKv ? csv("Time (s),Channel A (kV)", kv, RATE_SEC, 4) : csv("Time (s),Channel A (V)", kv.map((x) => x / KV_PER_V), RATE_SEC, 5),
+      text: exportedInKv
+        ? csv("Time (s),Channel A (kV)", kv, RATE_SEC, 4)
+        : csv(
+            "Time (s),Channel A (V)",
+            kv.map((x) => x / KV_PER_V),
+            RATE_SEC,
+            5,
+          ),
       // a trigger above the firing lines, so that the review has something to say about a level:
       // 1.5 V on the scope × 10 kV/V = 15 kV; the kV export's trigger is typed in kV (15 kV)
-      settings: exportedInKv ? { ...base, voltsPerDiv: 5, triggerLevel: 15 } : { ...base, voltsPerDiv: 0.5, triggerLevel: 1.5 },
+      settings: exportedInKv
+        ? { ...base, voltsPerDiv: 5, triggerLevel: 15 }
+        : { ...base, voltsPerDiv: 0.5, triggerLevel: 1.5 },
       unit: "kV",
       factor: exportedInKv ? 1 : KV_PER_V,
       // 0.5 V/div × 10 kV/V = 5 kV/div; the export's 5 kV/div as typed
@@ -162,9 +188,23 @@ function captures(): Capture[] {
   out.push({
     file: "starter-clamp.csv",
     label: "starter-clamp.csv",
-    text: csv("Time (s),Channel A (V)", amps.map((a) => (a * MV_PER_A) / 1000), RATE_CRANK, 4),
+    text: csv(
+      "Time (s),Channel A (V)",
+      amps.map((a) => (a * MV_PER_A) / 1000),
+      RATE_CRANK,
+      4,
+    ),
     // 10 V/div on the scope ÷ 0.1 V/A = 100 A/div; a trigger of 90 V = 900 A, above the 550 A inrush
-    settings: { kind: "relative-compression", probe: "current-clamp", mvPerAmp: MV_PER_A, voltsPerDiv: 10, groundOffsetDiv: -3, timePerDivS: 0.2, cylinders: 4, triggerLevel: 90 },
+    settings: {
+      kind: "relative-compression",
+      probe: "current-clamp",
+      mvPerAmp: MV_PER_A,
+      voltsPerDiv: 10,
+      groundOffsetDiv: -3,
+      timePerDivS: 0.2,
+      cylinders: 4,
+      triggerLevel: 90,
+    },
     unit: "A",
     factor: 1000 / MV_PER_A,
     perDiv: "100 A/div",
@@ -209,7 +249,13 @@ beforeAll(async () => {
     expect(up.status, JSON.stringify(up.body)).toBe(201);
   }
   // the expert has claimed the case (set directly: the paid queue is tested on its own)
-  (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "claimed", expertId: e.id, claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run()));
+  await server.ctx.db.write((tx) =>
+    tx
+      .update(schema.caseTable)
+      .set({ status: "claimed", expertId: e.id, claimedAt: new Date() })
+      .where(eq(schema.caseTable.id, caseId))
+      .run(),
+  );
   launched = await launchBrowser();
 });
 
@@ -225,7 +271,14 @@ async function expertPage(): Promise<{ ctx: BrowserContext; page: Page }> {
   await ctx.addCookies(
     expert.cookie.split("; ").map((c) => {
       const i = c.indexOf("=");
-      return { name: c.slice(0, i), value: c.slice(i + 1), domain: host, path: "/", httpOnly: true, sameSite: "Lax" as const };
+      return {
+        name: c.slice(0, i),
+        value: c.slice(i + 1),
+        domain: host,
+        path: "/",
+        httpOnly: true,
+        sameSite: "Lax" as const,
+      };
     }),
   );
   const page = await ctx.newPage();
@@ -262,7 +315,12 @@ describe.sequential(`one unit in every view, at ${W} px`, () => {
         const labels = (await plot.getAttribute("data-level-labels"))?.split("|") ?? [];
         expect(labels.length, `${c.label}: level labels`).toBeGreaterThan(1);
         for (const l of labels) expect(l, `${c.label}: axis label`).toMatch(new RegExp(`^-?[\\d.,]+ ${c.unit}$`));
-        expect(await viewer.getByText(/\/div · .*\/div/).first().innerText()).toMatch(new RegExp(`· ${c.perDiv.replace("/", "\\/")}$`));
+        expect(
+          await viewer
+            .getByText(/\/div · .*\/div/)
+            .first()
+            .innerText(),
+        ).toMatch(new RegExp(`· ${c.perDiv.replace("/", "\\/")}$`));
 
         // cursors: Δ in the same unit ("ΔA" through the clamp)
         await viewer.getByRole("button", { name: "Cursors (c)" }).click();
@@ -289,10 +347,21 @@ describe.sequential(`one unit in every view, at ${W} px`, () => {
         const itemText = await item.innerText();
         expect(quantities(itemText).length).toBe(1);
         const shown = numberBefore(itemText, c.unit);
-        await expect.poll(async () => (await expert.get(`/api/cases/${caseId}/annotations`)).body.annotations.some((a: { label: string }) => a.label === label)).toBe(true);
-        const stored = (await expert.get(`/api/cases/${caseId}/annotations`)).body.annotations.find((a: { label: string }) => a.label === label);
+        await expect
+          .poll(async () =>
+            (await expert.get(`/api/cases/${caseId}/annotations`)).body.annotations.some(
+              (a: { label: string }) => a.label === label,
+            ),
+          )
+          .toBe(true);
+        const stored = (await expert.get(`/api/cases/${caseId}/annotations`)).body.annotations.find(
+          (a: { label: string }) => a.label === label,
+        );
         // stored in the file's unit: × 10 kV/V (pickup), × 1 (kV export), ÷ 0.1 V/A (clamp) gives what is shown, to its 3 figures
-        expect(Math.abs(stored.level * c.factor - shown), `${c.label}: stored ${stored.level} × ${c.factor} against ${shown} shown`).toBeLessThanOrEqual(Math.abs(shown) * 0.006 + 1e-9);
+        expect(
+          Math.abs(stored.level * c.factor - shown),
+          `${c.label}: stored ${stored.level} × ${c.factor} against ${shown} shown`,
+        ).toBeLessThanOrEqual(Math.abs(shown) * 0.006 + 1e-9);
         // a mark tool puts itself down after one mark (issue 13): it is not armed for the next trace
         expect(await viewer.getByRole("button", { name: "Level (l)" }).getAttribute("aria-pressed")).toBe("false");
         await viewer.screenshot({ path: path.join(shots, `viewer-${c.file.replace(".csv", "")}.png`) });
@@ -312,9 +381,13 @@ describe.sequential(`one unit in every view, at ${W} px`, () => {
         await card.scrollIntoViewIfNeeded();
         // the settings as typed on the scope, with the physical value beside them
         const chips = await card.getByRole("list", { name: "Capture settings" }).getByRole("listitem").allInnerTexts();
-        expect(chips.some((x) => c.settingsChip.test(x)), `${c.label}: ${chips.join(" | ")}`).toBe(true);
+        expect(
+          chips.some((x) => c.settingsChip.test(x)),
+          `${c.label}: ${chips.join(" | ")}`,
+        ).toBe(true);
         const cardText = await card.innerText();
-        if (c.file === "cyl2-export-kv.csv") expect(cardText).toMatch(/states kV, so the pickup scale \(10 kV\/V\) is not applied again/);
+        if (c.file === "cyl2-export-kv.csv")
+          expect(cardText).toMatch(/states kV, so the pickup scale \(10 kV\/V\) is not applied again/);
 
         // the measurement table, against the model's truth
         const table = card.getByRole("region", { name: `Measurements of ${c.label}` });
@@ -322,7 +395,10 @@ describe.sequential(`one unit in every view, at ${W} px`, () => {
         const text = await cell.innerText();
         expect(text, `${c.label}: ${text}`).toMatch(new RegExp(` ${c.unit}$`));
         const value = numberBefore(text, c.unit);
-        expect(Math.abs(value - c.metric.truth) / c.metric.truth, `${c.label}: ${value} ${c.unit} against ${c.metric.truth} ${c.unit}`).toBeLessThan(c.metric.tolerance);
+        expect(
+          Math.abs(value - c.metric.truth) / c.metric.truth,
+          `${c.label}: ${value} ${c.unit} against ${c.metric.truth} ${c.unit}`,
+        ).toBeLessThan(c.metric.tolerance);
         for (const q of quantities(await table.innerText())) {
           if (/[VA]$/.test(q)) expect(q, `${c.label}: measurement ${q}`).toMatch(new RegExp(` ${c.unit}$`));
         }
@@ -331,10 +407,14 @@ describe.sequential(`one unit in every view, at ${W} px`, () => {
         // in volts appears only as typed on the scope, beside its physical value
         const review = await card.getByRole("region", { name: `Findings for ${c.label}` }).innerText();
         const levels = quantities(review);
-        expect(levels.some((q) => q.endsWith(` ${c.unit}`)), `${c.label}: review "${review}"`).toBe(true);
+        expect(
+          levels.some((q) => q.endsWith(` ${c.unit}`)),
+          `${c.label}: review "${review}"`,
+        ).toBe(true);
         for (const sentence of review.split(/(?<=[.:;])\s+/)) {
           for (const q of quantities(sentence)) {
-            if (!q.endsWith(` ${c.unit}`) && !q.endsWith(`${c.unit}/div`)) expect(sentence, `${c.label}: "${q}" in "${sentence}"`).toMatch(/on the scope/);
+            if (!q.endsWith(` ${c.unit}`) && !q.endsWith(`${c.unit}/div`))
+              expect(sentence, `${c.label}: "${q}" in "${sentence}"`).toMatch(/on the scope/);
           }
         }
       }

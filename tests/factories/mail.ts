@@ -2,7 +2,10 @@ import type { CaughtMail } from "../../server/fakes/smtp";
 
 /** A server that runs the local SMTP catcher (TestServer, RunningServer). */
 export interface HasCatcher {
-  mailCatcher: { waitFor(p: (m: CaughtMail) => boolean, timeoutMs?: number): Promise<CaughtMail>; messages(): CaughtMail[] } | null;
+  mailCatcher: {
+    waitFor(p: (m: CaughtMail) => boolean, timeoutMs?: number): Promise<CaughtMail>;
+    messages(): CaughtMail[];
+  } | null;
 }
 
 /** Waits for the next mail to `to` whose subject contains `subject` (case-insensitive), caught after `since`. */
@@ -10,7 +13,9 @@ export async function waitForMail(server: HasCatcher, to: string, subject = "", 
   if (!server.mailCatcher) throw new Error("waitForMail: this server has no mail catcher (SMTP_HOST is set)");
   const addr = to.toLowerCase();
   const after = since?.toISOString() ?? "";
-  return server.mailCatcher.waitFor((m) => m.to.includes(addr) && m.subject.toLowerCase().includes(subject.toLowerCase()) && m.date >= after);
+  return server.mailCatcher.waitFor(
+    (m) => m.to.includes(addr) && m.subject.toLowerCase().includes(subject.toLowerCase()) && m.date >= after,
+  );
 }
 
 /** The first link of a mail whose path starts with `pathPrefix`, as a path + query to request from the test server. */

@@ -32,7 +32,10 @@ export function nextTestIp(): string {
  */
 export async function signIn(server: HasPort, creds: { email: string; password: string }): Promise<SignedInAgent> {
   const agent = request.agent(baseUrl(server));
-  const res = await agent.post("/api/auth/sign-in/email").set("X-Forwarded-For", nextTestIp()).send({ email: creds.email, password: creds.password });
+  const res = await agent
+    .post("/api/auth/sign-in/email")
+    .set("X-Forwarded-For", nextTestIp())
+    .send({ email: creds.email, password: creds.password });
   if (res.status !== 200) throw new Error(`signIn(${creds.email}) failed: ${res.status} ${JSON.stringify(res.body)}`);
   const setCookie = ([] as string[]).concat(res.headers["set-cookie"] ?? []);
   const cookie = setCookie.map((c) => c.split(";")[0]).join("; ");

@@ -12,7 +12,12 @@ import type { AddressInfo } from "node:net";
 import { afterEach, beforeEach } from "vitest";
 import type Stripe from "stripe";
 import { startMailCatcher, type MailCatcher } from "../../server/fakes/smtp";
-import { randomWebhookSecret, startFakeStripe, type FakeStripe, type FakeStripeOptions } from "../../server/fakes/stripe/index";
+import {
+  randomWebhookSecret,
+  startFakeStripe,
+  type FakeStripe,
+  type FakeStripeOptions,
+} from "../../server/fakes/stripe/index";
 import { createMailer, type Mailer } from "../../server/integrations/mailer";
 import { createStripeClient } from "../../server/integrations/payments";
 

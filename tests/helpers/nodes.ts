@@ -87,7 +87,11 @@ export async function startNodes(count: number, env: Record<string, string> = {}
   });
   // migrated once, before any node starts (as the launcher's prepare step does)
   const db = await openDatabase(sqld.url);
-  const ctx = { db, now: () => new Date(), logger: { info() {}, warn() {}, error() {}, debug() {} } } as unknown as AppContext;
+  const ctx = {
+    db,
+    now: () => new Date(),
+    logger: { info() {}, warn() {}, error() {}, debug() {} },
+  } as unknown as AppContext;
   const nodes: AppNode[] = [];
 
   const startNode = async (index: number, extra: Record<string, string> = {}): Promise<AppNode> => {

@@ -13,8 +13,7 @@ export async function waitForOutboxDrained(server: { ctx: AppContext }, timeoutM
 
 /** The outbox rows (newest last), e.g. to check that a mail was queued without waiting for it. */
 export async function outboxRows(server: { ctx: AppContext }) {
-  return (await server.ctx.db.read((tx) => tx.select()
-    .from(schema.mailOutbox)
-    .all()))
-    .sort((a, b) => a.createdAt.getTime() - b.createdAt.getTime());
+  return (await server.ctx.db.read((tx) => tx.select().from(schema.mailOutbox).all())).sort(
+    (a, b) => a.createdAt.getTime() - b.createdAt.getTime(),
+  );
 }

@@ -34,24 +34,27 @@ export interface DraftCaseOptions {
 export async function insertDraftCase(server: TestServer, o: DraftCaseOptions): Promise<string> {
   const id = crypto.randomUUID();
   const now = server.ctx.now();
-  (await server.ctx.db.write((tx) => tx.insert(schema.caseTable)
-    .values({
-      id,
-      shopId: o.shopId,
-      createdBy: o.createdBy,
-      status: "draft",
-      title: o.title ?? null,
-      year: 2016,
-      make: o.make === undefined ? "Veltra" : o.make,
-      model: "Quillon",
-      engine: "2.0 I4",
-      complaint: o.complaint === undefined ? "Intermittent misfire on cylinder 3 under load" : o.complaint,
-      codes: ["P0303"],
-      system: o.system === undefined ? "ignition" : o.system,
-      createdAt: now,
-      updatedAt: now,
-    })
-    .run()));
+  await server.ctx.db.write((tx) =>
+    tx
+      .insert(schema.caseTable)
+      .values({
+        id,
+        shopId: o.shopId,
+        createdBy: o.createdBy,
+        status: "draft",
+        title: o.title ?? null,
+        year: 2016,
+        make: o.make === undefined ? "Veltra" : o.make,
+        model: "Quillon",
+        engine: "2.0 I4",
+        complaint: o.complaint === undefined ? "Intermittent misfire on cylinder 3 under load" : o.complaint,
+        codes: ["P0303"],
+        system: o.system === undefined ? "ignition" : o.system,
+        createdAt: now,
+        updatedAt: now,
+      })
+      .run(),
+  );
   return id;
 }
 
@@ -69,8 +72,16 @@ export function sessionIdOf(checkoutUrl: string): string {
 }
 
 /** POST /submit, then pay on the fake's checkout with `card`; waits until every webhook was delivered. */
-export async function submitAndPay(server: TestServer, agent: SignedInAgent, caseId: string, opts: { tier?: string; card?: string } = {}) {
-  const res = await agent.post(`/api/cases/${caseId}/submit`).set("Origin", server.url).send({ tier: opts.tier ?? "standard" });
+export async function submitAndPay(
+  server: TestServer,
+  agent: SignedInAgent,
+  caseId: string,
+  opts: { tier?: string; card?: string } = {},
+) {
+  const res = await agent
+    .post(`/api/cases/${caseId}/submit`)
+    .set("Origin", server.url)
+    .send({ tier: opts.tier ?? "standard" });
   expect(res.status, JSON.stringify(res.body)).toBe(201);
   const sessionId = sessionIdOf(res.body.checkoutUrl);
   const paid = await fetch(`${server.fakeStripe!.url}/_test/checkout/${sessionId}/pay`, {
@@ -80,15 +91,24 @@ export async function submitAndPay(server: TestServer, agent: SignedInAgent, cas
   });
   const payBody = (await paid.json()) as { ok: boolean; payment_intent: { id: string } | null };
   await server.fakeStripe!.idle();
-  return { submit: res.body as { checkoutUrl: string; paymentId: string; amountCents: number }, sessionId, pay: payBody, paymentIntentId: payBody.payment_intent?.id ?? null };
+  return {
+    submit: res.body as { checkoutUrl: string; paymentId: string; amountCents: number },
+    sessionId,
+    pay: payBody,
+    paymentIntentId: payBody.payment_intent?.id ?? null,
+  };
 }
 
 export async function caseRow(server: TestServer, caseId: string) {
-  return (await server.ctx.db.read((tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get()))!;
+  return (await server.ctx.db.read((tx) =>
+    tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get(),
+  ))!;
 }
 
 export async function paymentsOf(server: TestServer, caseId: string) {
-  return (await server.ctx.db.read((tx) => tx.select().from(schema.payment).where(eq(schema.payment.caseId, caseId)).all()));
+  return await server.ctx.db.read((tx) =>
+    tx.select().from(schema.payment).where(eq(schema.payment.caseId, caseId)).all(),
+  );
 }
 
 /** The fake's record of a PaymentIntent (the outside view of the money). */
@@ -106,7 +126,10 @@ export async function expectLedgerBalanced(server: TestServer, caseId: string | 
   const b = await server.ctx.db.read((tx) => ledgerBalance(tx, caseId));
   expect(b.problems, b.problems.join("; ")).toEqual([]);
   expect(b.authorizedCents).toBe(b.capturedCents + b.releasedCents + b.heldCents);
-  const payments = caseId === "all" ? (await server.ctx.db.read((tx) => tx.select().from(schema.payment).all())) : (await paymentsOf(server, caseId));
+  const payments =
+    caseId === "all"
+      ? await server.ctx.db.read((tx) => tx.select().from(schema.payment).all())
+      : await paymentsOf(server, caseId);
   let fakeHeld = 0;
   let fakeCaptured = 0;
   for (const p of payments) {

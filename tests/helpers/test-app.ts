@@ -27,7 +27,9 @@ export async function testDatabaseUrl(dir: string): Promise<{ url: string; stop:
  */
 export async function startTestServer(overrides: Record<string, string> = {}): Promise<TestServer> {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-test-"));
-  const database = overrides.DATABASE_URL ? { url: overrides.DATABASE_URL, stop: async () => {} } : await testDatabaseUrl(dir);
+  const database = overrides.DATABASE_URL
+    ? { url: overrides.DATABASE_URL, stop: async () => {} }
+    : await testDatabaseUrl(dir);
   let server: RunningServer;
   try {
     server = await startServer(

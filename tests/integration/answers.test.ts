@@ -14,7 +14,17 @@ import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from
 import { eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createExpert, createShopTeam, signIn, type CreatedExpert } from "../factories";
-import { caseRow, expectLedgerBalanced, fakeIntent, flushMail, insertDraftCase, mailsTo, movableClock, paymentsOf, submitAndPay } from "../helpers/queue-flow";
+import {
+  caseRow,
+  expectLedgerBalanced,
+  fakeIntent,
+  flushMail,
+  insertDraftCase,
+  mailsTo,
+  movableClock,
+  paymentsOf,
+  submitAndPay,
+} from "../helpers/queue-flow";
 import { schema } from "../../server/db/client";
 import { onCaseResolved } from "../../server/workflow/hooks";
 import { sweepCloseAnswered } from "../../server/workflow/sweeps";
@@ -26,10 +36,12 @@ let expert: CreatedExpert;
 let clock: ReturnType<typeof movableClock>;
 
 const ANSWER = {
-  diagnosis: "Secondary burn time on cylinder 3 is short with a rising spark line: the coil boot is tracking to ground.",
+  diagnosis:
+    "Secondary burn time on cylinder 3 is short with a rising spark line: the coil boot is tracking to ground.",
   rootCause: "Cracked coil boot on cylinder 3.",
   recommendedFix: "Replace the cylinder 3 coil boot and inspect the spark plug well for oil.",
-  testsToConfirm: "Recapture secondary on cylinder 3 at idle and at 2500 rpm; compare burn time with the other cylinders.",
+  testsToConfirm:
+    "Recapture secondary on cylinder 3 at idle and at 2500 rpm; compare burn time with the other cylinders.",
 };
 
 beforeAll(async () => {
@@ -42,14 +54,14 @@ beforeEach(() => {
 afterAll(async () => server?.close());
 afterEach(async () => {
   await server.fakeStripe!.idle();
-  (await expectLedgerBalanced(server, "all"));
+  await expectLedgerBalanced(server, "all");
 });
 
 async function claimedCase() {
   const t = await createShopTeam(server, { technicians: 1 });
   const tech = await signIn(server, t.technicians[0]);
   const owner = await signIn(server, t.owner);
-  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+  const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
   const paid = await submitAndPay(server, tech, caseId);
   const e = await signIn(server, expert);
   expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
@@ -67,18 +79,32 @@ describe("answer", () => {
 
     const res = await e.post(`/api/cases/${caseId}/answer`).send(ANSWER);
     expect(res.status).toBe(201);
-    expect(res.body).toMatchObject({ status: "answered", captured: true, answer: { round: 1, safetyNote: ignitionSafetyNote } });
+    expect(res.body).toMatchObject({
+      status: "answered",
+      captured: true,
+      answer: { round: 1, safetyNote: ignitionSafetyNote },
+    });
 
     const pi = fakeIntent(server, piId);
     expect(pi.status).toBe("succeeded");
     expect(pi.amount_received).toBe(4900);
-    const b = (await expectLedgerBalanced(server, caseId));
-    expect(b).toMatchObject({ authorizedCents: 4900, capturedCents: 4900, heldCents: 0, deskShareCents: 980, expertEarningsCents: 3920 });
+    const b = await expectLedgerBalanced(server, caseId);
+    expect(b).toMatchObject({
+      authorizedCents: 4900,
+      capturedCents: 4900,
+      heldCents: 0,
+      deskShareCents: 980,
+      expertEarningsCents: 3920,
+    });
 
-    const answered = await server.mailCatcher!.waitFor((m) => m.to.includes(technicians[0].email) && /^Answer ready/.test(m.subject));
+    const answered = await server.mailCatcher!.waitFor(
+      (m) => m.to.includes(technicians[0].email) && /^Answer ready/.test(m.subject),
+    );
     expect(answered.text).toContain("coil boot");
     expect(answered.text).toContain("tens of kilovolts");
-    const receipt = await server.mailCatcher!.waitFor((m) => m.to.includes(t.owner.user.email) && /^Receipt/.test(m.subject));
+    const receipt = await server.mailCatcher!.waitFor(
+      (m) => m.to.includes(t.owner.user.email) && /^Receipt/.test(m.subject),
+    );
     expect(receipt.text).toContain("$49.00");
     expect(receipt.text).toMatch(/Receipt number BL-\d{8}-[0-9A-F]{8}/);
 
@@ -119,8 +145,16 @@ describe("answer", () => {
     expect(pi.amount_received).toBe(0);
     expect(pi.status).toBe("canceled");
     // no capture reached Stripe at all
-    expect(server.fakeStripe!.events("charge.captured").filter((ev) => (ev.data.object as { payment_intent: string }).payment_intent === piId)).toEqual([]);
-    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ capturedCents: 0, releasedCents: 4900, heldCents: 0 });
+    expect(
+      server
+        .fakeStripe!.events("charge.captured")
+        .filter((ev) => (ev.data.object as { payment_intent: string }).payment_intent === piId),
+    ).toEqual([]);
+    expect(await expectLedgerBalanced(server, caseId)).toMatchObject({
+      capturedCents: 0,
+      releasedCents: 4900,
+      heldCents: 0,
+    });
   });
 
   it("a hold that lapses at Stripe while the case is open ends it as refunded", async () => {
@@ -131,7 +165,7 @@ describe("answer", () => {
       expect(fakeIntent(server, piId)).toMatchObject({ status: "canceled", cancellation_reason: "automatic" });
       expect((await caseRow(server, caseId)).status).toBe("refunded");
       await server.mailCatcher!.waitFor((m) => m.to.includes(technicians[0].email) && /^Hold released/.test(m.subject));
-      expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ releasedCents: 4900, heldCents: 0 });
+      expect(await expectLedgerBalanced(server, caseId)).toMatchObject({ releasedCents: 4900, heldCents: 0 });
     } finally {
       // later tests authorise fresh holds at the fake's moved clock; their capture_before lies a week after it
     }
@@ -147,20 +181,27 @@ describe("confirmation", () => {
     onCaseResolved.push(hook);
     try {
       expect((await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true, rating: 6 })).status).toBe(400);
-      const res = await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true, note: "New boot, misfire gone.", rating: 5 });
+      const res = await tech
+        .post(`/api/cases/${caseId}/confirm`)
+        .send({ fixed: true, note: "New boot, misfire gone.", rating: 5 });
       expect(res.status).toBe(200);
       expect(res.body).toMatchObject({ status: "resolved", outcome: "resolved" });
     } finally {
       onCaseResolved.splice(onCaseResolved.indexOf(hook), 1);
     }
     expect(seen).toEqual([caseId]);
-    expect((await server.ctx.db.read((tx) => expertRecords(tx))).get(expert.id)).toMatchObject({ resolved: expect.any(Number), rating: expect.any(Number) });
+    expect((await server.ctx.db.read((tx) => expertRecords(tx))).get(expert.id)).toMatchObject({
+      resolved: expect.any(Number),
+      rating: expect.any(Number),
+    });
     await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Fix confirmed/.test(m.subject));
     expect((await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true })).status).toBe(409);
 
     // who did what when
     const hist = await tech.get(`/api/cases/${caseId}/history`);
-    const steps = hist.body.items.filter((i: { toStatus: string | null }) => i.toStatus).map((i: { type: string; actorRole: string | null; toStatus: string }) => [i.type, i.actorRole, i.toStatus]);
+    const steps = hist.body.items
+      .filter((i: { toStatus: string | null }) => i.toStatus)
+      .map((i: { type: string; actorRole: string | null; toStatus: string }) => [i.type, i.actorRole, i.toStatus]);
     expect(steps).toEqual([
       ["submitted", "technician", "awaiting_payment"],
       ["payment_authorized", null, "queued"],
@@ -175,16 +216,27 @@ describe("confirmation", () => {
   it("not fixed → back to the same expert once; the second answer captures nothing more; not fixed again → closed", async () => {
     const { caseId, e, tech, piId } = await claimedCase();
     expect((await e.post(`/api/cases/${caseId}/answer`).send(ANSWER)).status).toBe(201);
-    const first = await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: false, note: "Still misfires when hot." });
+    const first = await tech
+      .post(`/api/cases/${caseId}/confirm`)
+      .send({ fixed: false, note: "Still misfires when hot." });
     expect(first.body).toMatchObject({ status: "claimed", outcome: "reopened" });
     expect((await caseRow(server, caseId)).expertId).toBe(expert.id);
-    await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Not fixed yet/.test(m.subject) && m.text.includes("Still misfires when hot"));
+    await server.mailCatcher!.waitFor(
+      (m) =>
+        m.to.includes(expert.email) && /^Not fixed yet/.test(m.subject) && m.text.includes("Still misfires when hot"),
+    );
 
-    const second = await e.post(`/api/cases/${caseId}/answer`).send({ ...ANSWER, diagnosis: "Injector 3 drips when hot." });
+    const second = await e
+      .post(`/api/cases/${caseId}/answer`)
+      .send({ ...ANSWER, diagnosis: "Injector 3 drips when hot." });
     expect(second.status).toBe(201);
     expect(second.body.answer.round).toBe(2);
     expect(fakeIntent(server, piId).amount_received).toBe(4900);
-    const captures = (await server.ctx.db.read((tx) => tx.select().from(schema.ledgerEntry).where(eq(schema.ledgerEntry.caseId, caseId)).all())).filter((x) => x.kind === "capture");
+    const captures = (
+      await server.ctx.db.read((tx) =>
+        tx.select().from(schema.ledgerEntry).where(eq(schema.ledgerEntry.caseId, caseId)).all(),
+      )
+    ).filter((x) => x.kind === "capture");
     expect(captures).toHaveLength(1);
 
     const last = await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: false });
@@ -204,10 +256,12 @@ describe("confirmation", () => {
     expect(await sweepCloseAnswered(server.ctx)).toBeGreaterThanOrEqual(1);
     expect((await caseRow(server, caseId)).status).toBe("closed");
     // the money stays captured: closing is not a refund
-    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ capturedCents: 4900, refundedCents: 0 });
+    expect(await expectLedgerBalanced(server, caseId)).toMatchObject({ capturedCents: 4900, refundedCents: 0 });
     await flushMail(server);
     expect(mailsTo(server, expert.email, /^Closed/)).toEqual([]); // in-app only
     const n = await (await signIn(server, expert)).get("/api/notifications");
-    expect(n.body.items.some((i: { kind: string; caseId: string }) => i.kind === "case_closed" && i.caseId === caseId)).toBe(true);
+    expect(
+      n.body.items.some((i: { kind: string; caseId: string }) => i.kind === "case_closed" && i.caseId === caseId),
+    ).toBe(true);
   });
 });

@@ -79,7 +79,7 @@ describe("password reset takes the same time for registered and unknown addresse
       // Before the outbox the registered address took the SMTP client's whole timeout (10 s).
       expect(median(known)).toBeLessThan(2.5 * median(unknown) + 15);
       // The structural fact: the mails are queued for the registered address only, after the answers.
-      const queued = async () => (await slow.ctx.db.read((tx) => tx.select().from(schema.mailOutbox).all()));
+      const queued = async () => await slow.ctx.db.read((tx) => tx.select().from(schema.mailOutbox).all());
       const deadline = Date.now() + 5000;
       while ((await queued()).length < 25 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
       const rows = await queued();
@@ -209,28 +209,22 @@ describe("weak passwords are refused with the reason (item 11)", () => {
   });
 
   test("the reason names the product's own words for the demo password", async () => {
-    const res = await request(base)
-      .post("/api/shops/sign-up")
-      .set("X-Forwarded-For", ip())
-      .send({
-        shopName: "Harlow Fen Garage",
-        name: "Ada Quill",
-        email: "weak-demo@example.test",
-        password: "burnline-demo",
-      });
+    const res = await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", ip()).send({
+      shopName: "Harlow Fen Garage",
+      name: "Ada Quill",
+      email: "weak-demo@example.test",
+      password: "burnline-demo",
+    });
     expect(res.body.error.details.fields[0].message).toMatch(/Burnline/);
   });
 
   test("a password made of the person's own shop name is refused", async () => {
-    const res = await request(base)
-      .post("/api/shops/sign-up")
-      .set("X-Forwarded-For", ip())
-      .send({
-        shopName: "Corrow Brook Motors",
-        name: "Ada Quill",
-        email: "own-words@example.test",
-        password: "CorrowBrookMotors1",
-      });
+    const res = await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", ip()).send({
+      shopName: "Corrow Brook Motors",
+      name: "Ada Quill",
+      email: "own-words@example.test",
+      password: "CorrowBrookMotors1",
+    });
     expect(res.status).toBe(400);
     expect(res.body.error.details.fields[0].message).toMatch(/shop name/);
   });
@@ -265,15 +259,12 @@ describe("weak passwords are refused with the reason (item 11)", () => {
   });
 
   test("a strong password is accepted, and an account stored with the demo password still signs in", async () => {
-    const res = await request(base)
-      .post("/api/shops/sign-up")
-      .set("X-Forwarded-For", ip())
-      .send({
-        shopName: "Harlow Fen Garage",
-        name: "Ada Quill",
-        email: "strong@example.test",
-        password: "Quiet-lathe-orbit-73",
-      });
+    const res = await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", ip()).send({
+      shopName: "Harlow Fen Garage",
+      name: "Ada Quill",
+      email: "strong@example.test",
+      password: "Quiet-lathe-orbit-73",
+    });
     expect(res.status).toBe(202);
     // the demo accounts are written directly by the seed, not through the sign-up rule
     const demoLike = await createUser(s, { password: "burnline-demo" });

@@ -5,7 +5,12 @@ import { baseUrl, createUser, nextTestIp } from "../factories/index";
 
 let s: TestServer;
 beforeAll(async () => {
-  s = await startTestServer({ NODE_ENV: "production", AUTH_SECRET: "production-like-test-secret-0123456789abcdef", STRIPE_SECRET_KEY: "sk_test_production_like_key", STRIPE_WEBHOOK_SECRET: "whsec_production_like_secret" });
+  s = await startTestServer({
+    NODE_ENV: "production",
+    AUTH_SECRET: "production-like-test-secret-0123456789abcdef",
+    STRIPE_SECRET_KEY: "sk_test_production_like_key",
+    STRIPE_WEBHOOK_SECRET: "whsec_production_like_secret",
+  });
 });
 afterAll(async () => {
   await s?.close();
@@ -13,7 +18,10 @@ afterAll(async () => {
 
 test("in production the session cookie is Secure, HttpOnly, SameSite=Lax and carries the __Secure- prefix", async () => {
   const u = await createUser(s);
-  const res = await request(baseUrl(s)).post("/api/auth/sign-in/email").set("X-Forwarded-For", nextTestIp()).send({ email: u.email, password: u.password });
+  const res = await request(baseUrl(s))
+    .post("/api/auth/sign-in/email")
+    .set("X-Forwarded-For", nextTestIp())
+    .send({ email: u.email, password: u.password });
   expect(res.status).toBe(200);
   const cookies: string[] = ([] as string[]).concat(res.headers["set-cookie"] ?? []);
   const session = cookies.find((c) => c.includes("session_token="));

@@ -34,18 +34,24 @@ describe("sign-up, e-mail verification, sign-in", () => {
   test("a shop owner signs up, the verification mail arrives over SMTP, unverified sign-in is refused, the link verifies, sign-in works", async () => {
     const email = "new-owner@example.test";
     const password = "Coil-ringing-3141";
-    const before = (await counts());
+    const before = await counts();
     const since = new Date();
-    const res = await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", ip()).send({ shopName: "Quarry Road Garage", name: "Lee Ashby", email, password });
+    const res = await request(base)
+      .post("/api/shops/sign-up")
+      .set("X-Forwarded-For", ip())
+      .send({ shopName: "Quarry Road Garage", name: "Lee Ashby", email, password });
     expect(res.status).toBe(202);
-    expect((await counts())).toEqual({ users: before.users + 1, shops: before.shops + 1, accounts: before.accounts + 1 });
+    expect(await counts()).toEqual({ users: before.users + 1, shops: before.shops + 1, accounts: before.accounts + 1 });
 
     // The mail went through a real SMTP conversation with the catcher (server/fakes/smtp.ts).
     const mail = await waitForMail(s, email, "confirm", since);
     const verifyPath = linkPath(mail, "/api/auth/verify-email");
 
     // Requirement of the issue: e-mail verification before the first sign-in.
-    const unverified = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", ip()).send({ email, password });
+    const unverified = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", ip())
+      .send({ email, password });
     expect(unverified.status).toBe(403);
     expect(unverified.body.error.code).toBe("email_not_verified");
     expect(unverified.headers["set-cookie"]).toBeUndefined();
@@ -67,7 +73,9 @@ describe("sign-up, e-mail verification, sign-in", () => {
 
     const me = await agent.get("/api/me");
     expect(me.status).toBe(200);
-    const shop = (await s.ctx.db.read((tx) => tx.select().from(schema.shop).where(eq(schema.shop.name, "Quarry Road Garage")).get()))!;
+    const shop = (await s.ctx.db.read((tx) =>
+      tx.select().from(schema.shop).where(eq(schema.shop.name, "Quarry Road Garage")).get(),
+    ))!;
     expect(me.body).toEqual({ id: expect.any(String), email, name: "Lee Ashby", role: "owner", shopId: shop.id });
 
     const out = await agent.post("/api/auth/sign-out").send({});
@@ -77,15 +85,21 @@ describe("sign-up, e-mail verification, sign-in", () => {
 
   test("a second sign-up with a registered address answers exactly as the first and changes nothing", async () => {
     const email = "twice@example.test";
-    const first = await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", ip()).send({ shopName: "First Garage", name: "A One", email, password: "Burn-plateau-2718" });
-    const before = (await counts());
+    const first = await request(base)
+      .post("/api/shops/sign-up")
+      .set("X-Forwarded-For", ip())
+      .send({ shopName: "First Garage", name: "A One", email, password: "Burn-plateau-2718" });
+    const before = await counts();
     const since = new Date();
-    const second = await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", ip()).send({ shopName: "Second Garage", name: "A Two", email, password: "Other-plateau-2718" });
+    const second = await request(base)
+      .post("/api/shops/sign-up")
+      .set("X-Forwarded-For", ip())
+      .send({ shopName: "Second Garage", name: "A Two", email, password: "Other-plateau-2718" });
     // OWASP Authentication Cheat Sheet, "Authentication and Error Messages": account creation must
     // not reveal whether an address is registered.
     expect(second.status).toBe(first.status);
     expect(second.body).toEqual(first.body);
-    expect((await counts())).toEqual(before);
+    expect(await counts()).toEqual(before);
     const notice = await waitForMail(s, email, "already have", since);
     expect(notice.text).toContain("already has an account");
   });
@@ -100,8 +114,14 @@ describe("sign-up, e-mail verification, sign-in", () => {
 describe("sign-in errors and rate limit", () => {
   test("wrong password and unknown user give the same status and body", async () => {
     const u = await createUser(s, { role: "technician" });
-    const wrong = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", ip()).send({ email: u.email, password: "not-the-password-1" });
-    const unknown = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", ip()).send({ email: "nobody-here@example.test", password: "not-the-password-1" });
+    const wrong = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email, password: "not-the-password-1" });
+    const unknown = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", ip())
+      .send({ email: "nobody-here@example.test", password: "not-the-password-1" });
     // OWASP Authentication Cheat Sheet: respond with a generic message whether the user id or the password was wrong.
     expect(wrong.status).toBe(401);
     expect(unknown.status).toBe(wrong.status);
@@ -115,11 +135,18 @@ describe("sign-in errors and rate limit", () => {
     const statuses: number[] = [];
     for (let i = 0; i < 5; i++) {
       // a header of our own that a client might try to forge is overwritten by the server
-      const r = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", attacker).set("X-Burnline-Client-Ip", `203.0.113.${i}`).send({ email: u.email, password: "guess-guess-" + i });
+      const r = await request(base)
+        .post("/api/auth/sign-in/email")
+        .set("X-Forwarded-For", attacker)
+        .set("X-Burnline-Client-Ip", `203.0.113.${i}`)
+        .send({ email: u.email, password: "guess-guess-" + i });
       statuses.push(r.status);
     }
     expect(statuses).toEqual([401, 401, 401, 401, 401]);
-    const blocked = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", attacker).send({ email: u.email, password: u.password });
+    const blocked = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", attacker)
+      .send({ email: u.email, password: u.password });
     // RFC 6585 §4: 429 Too Many Requests, optionally with Retry-After (RFC 9110 §10.2.3, seconds).
     expect(blocked.status).toBe(429);
     expect(blocked.body.error.code).toBe("rate_limited");
@@ -128,7 +155,10 @@ describe("sign-in errors and rate limit", () => {
     expect(retry).toBeLessThanOrEqual(60);
     expect(blocked.headers["set-cookie"]).toBeUndefined();
 
-    const elsewhere = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", ip()).send({ email: u.email, password: u.password });
+    const elsewhere = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email, password: u.password });
     expect(elsewhere.status).toBe(200);
   });
 
@@ -136,7 +166,10 @@ describe("sign-in errors and rate limit", () => {
     const from = ip();
     const statuses: number[] = [];
     for (let i = 0; i < 6; i++) {
-      const r = await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", from).send({ shopName: "x", name: "", email: "bad", password: "short" });
+      const r = await request(base)
+        .post("/api/shops/sign-up")
+        .set("X-Forwarded-For", from)
+        .send({ shopName: "x", name: "", email: "bad", password: "short" });
       statuses.push(r.status);
     }
     expect(statuses).toEqual([400, 400, 400, 400, 400, 429]);
@@ -157,7 +190,10 @@ describe("password reset", () => {
     vi.useFakeTimers({ toFake: ["Date"], now: issuedAt });
     let known: request.Response;
     try {
-      known = await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: u.email });
+      known = await request(base)
+        .post("/api/auth/request-password-reset")
+        .set("X-Forwarded-For", ip())
+        .send({ email: u.email });
       // the reset is carried out after the answer (server/auth/auth.ts): the clock stands still
       // until its link is stored (on a libSQL server that is a few round trips later)
       const stored = () =>
@@ -166,7 +202,10 @@ describe("password reset", () => {
     } finally {
       vi.useRealTimers();
     }
-    const unknown = await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: "ghost@example.test" });
+    const unknown = await request(base)
+      .post("/api/auth/request-password-reset")
+      .set("X-Forwarded-For", ip())
+      .send({ email: "ghost@example.test" });
     // OWASP Forgot Password Cheat Sheet: "Return a consistent message for both existent and non-existent accounts."
     expect(known.status).toBe(200);
     expect(unknown.status).toBe(known.status);
@@ -175,44 +214,79 @@ describe("password reset", () => {
     const mail = await waitForMail(s, u.email, "reset", since);
     const token = linkParam(mail, "/reset-password", "token");
     // The token is stored hashed, not as sent (OWASP Forgot Password Cheat Sheet: store tokens securely).
-    const rows = (await s.ctx.db.read((tx) => tx.select().from(schema.verification).where(eq(schema.verification.value, u.id)).all()));
+    const rows = await s.ctx.db.read((tx) =>
+      tx.select().from(schema.verification).where(eq(schema.verification.value, u.id)).all(),
+    );
     expect(rows.length).toBe(1);
     expect(rows[0].identifier).not.toContain(token);
     // ... and expires exactly 1 hour after it was issued (requirement of the issue).
     expect(rows[0].expiresAt.getTime()).toBe(issuedAt.getTime() + 3600_000);
 
-    const common = await request(base).post("/api/auth/reset-password").set("X-Forwarded-For", ip()).send({ token, newPassword: "password123" });
+    const common = await request(base)
+      .post("/api/auth/reset-password")
+      .set("X-Forwarded-For", ip())
+      .send({ token, newPassword: "password123" });
     // NIST SP 800-63B §5.1.1.2: refuse passwords found in lists of commonly used values.
     expect(common.status).toBe(400);
-    expect(common.body.error.details.fields).toEqual([{ path: "newPassword", message: expect.stringMatching(/common/) }]);
+    expect(common.body.error.details.fields).toEqual([
+      { path: "newPassword", message: expect.stringMatching(/common/) },
+    ]);
 
     const newPassword = "Fresh-firing-line-88";
-    const reset = await request(base).post("/api/auth/reset-password").set("X-Forwarded-For", ip()).send({ token, newPassword });
+    const reset = await request(base)
+      .post("/api/auth/reset-password")
+      .set("X-Forwarded-For", ip())
+      .send({ token, newPassword });
     expect(reset.status).toBe(200);
     // OWASP Forgot Password Cheat Sheet: tokens are single use.
-    const again = await request(base).post("/api/auth/reset-password").set("X-Forwarded-For", ip()).send({ token, newPassword: "Another-firing-line-88" });
+    const again = await request(base)
+      .post("/api/auth/reset-password")
+      .set("X-Forwarded-For", ip())
+      .send({ token, newPassword: "Another-firing-line-88" });
     expect(again.status).toBe(400);
     expect(again.body.error.code).toBe("invalid_token");
 
     // Sessions revoked on reset (requirement of the issue; OWASP Session Management Cheat Sheet).
     expect((await session.get("/api/me")).status).toBe(401);
-    const old = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", ip()).send({ email: u.email, password: u.password });
+    const old = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email, password: u.password });
     expect(old.status).toBe(401);
-    const fresh = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", ip()).send({ email: u.email, password: newPassword });
+    const fresh = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email, password: newPassword });
     expect(fresh.status).toBe(200);
   });
 
   test("an expired reset link is refused", async () => {
     const u = await createUser(s);
     const since = new Date();
-    await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: u.email }).expect(200);
+    await request(base)
+      .post("/api/auth/request-password-reset")
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email })
+      .expect(200);
     const token = linkParam(await waitForMail(s, u.email, "reset", since), "/reset-password", "token");
     // Move the stored expiry just past now (the same as waiting out the hour).
-    (await s.ctx.db.write((tx) => tx.update(schema.verification).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(schema.verification.value, u.id)).run()));
-    const res = await request(base).post("/api/auth/reset-password").set("X-Forwarded-For", ip()).send({ token, newPassword: "Late-but-long-enough-1" });
+    await s.ctx.db.write((tx) =>
+      tx
+        .update(schema.verification)
+        .set({ expiresAt: new Date(Date.now() - 1000) })
+        .where(eq(schema.verification.value, u.id))
+        .run(),
+    );
+    const res = await request(base)
+      .post("/api/auth/reset-password")
+      .set("X-Forwarded-For", ip())
+      .send({ token, newPassword: "Late-but-long-enough-1" });
     expect(res.status).toBe(400);
     expect(res.body.error.code).toBe("invalid_token");
-    const still = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", ip()).send({ email: u.email, password: u.password });
+    const still = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email, password: u.password });
     expect(still.status).toBe(200);
   });
 });
@@ -220,38 +294,55 @@ describe("password reset", () => {
 describe("cross-site requests", () => {
   test("a foreign Origin is refused on better-auth's endpoints and on ours, and nothing is created", async () => {
     const u = await createUser(s);
-    const before = (await counts());
+    const before = await counts();
     // OWASP CSRF Prevention Cheat Sheet, "Verifying Origin With Standard Headers" and "Fetch Metadata".
-    const signInRes = await request(base).post("/api/auth/sign-in/email").set("Origin", "https://evil.example").send({ email: u.email, password: u.password });
+    const signInRes = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("Origin", "https://evil.example")
+      .send({ email: u.email, password: u.password });
     expect(signInRes.status).toBe(403);
     expect(signInRes.body.error.code).toBe("cross_site");
     expect(signInRes.headers["set-cookie"]).toBeUndefined();
 
-    const signUp = await request(base).post("/api/shops/sign-up").set("Origin", "https://evil.example").send({ shopName: "Evil Garage", name: "E", email: "evil@example.test", password: "Cross-site-attempt-1" });
+    const signUp = await request(base)
+      .post("/api/shops/sign-up")
+      .set("Origin", "https://evil.example")
+      .send({ shopName: "Evil Garage", name: "E", email: "evil@example.test", password: "Cross-site-attempt-1" });
     expect(signUp.status).toBe(403);
-    const fetchMeta = await request(base).post("/api/shops/sign-up").set("Sec-Fetch-Site", "cross-site").send({ shopName: "Evil Garage", name: "E", email: "evil@example.test", password: "Cross-site-attempt-1" });
+    const fetchMeta = await request(base)
+      .post("/api/shops/sign-up")
+      .set("Sec-Fetch-Site", "cross-site")
+      .send({ shopName: "Evil Garage", name: "E", email: "evil@example.test", password: "Cross-site-attempt-1" });
     expect(fetchMeta.status).toBe(403);
-    expect((await counts())).toEqual(before);
+    expect(await counts()).toEqual(before);
 
     // the app's own origin passes the guard
-    const same = await request(base).post("/api/auth/sign-in/email").set("Origin", s.ctx.env.publicUrl).set("X-Forwarded-For", ip()).send({ email: u.email, password: u.password });
+    const same = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("Origin", s.ctx.env.publicUrl)
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email, password: u.password });
     expect(same.status).toBe(200);
   });
 });
 
 describe("malformed input", () => {
   test("malformed JSON answers 400 and changes nothing", async () => {
-    const before = (await counts());
+    const before = await counts();
     for (const path of ["/api/shops/sign-up", "/api/auth/sign-in/email", "/api/experts/apply"]) {
-      const res = await request(base).post(path).set("X-Forwarded-For", ip()).set("Content-Type", "application/json").send('{"shopName": "x", ');
+      const res = await request(base)
+        .post(path)
+        .set("X-Forwarded-For", ip())
+        .set("Content-Type", "application/json")
+        .send('{"shopName": "x", ');
       expect(res.status, path).toBe(400);
       expect(res.body.error.code, path).toBe("malformed_json");
     }
-    expect((await counts())).toEqual(before);
+    expect(await counts()).toEqual(before);
   });
 
   test("schema violations answer 400 with field details and change nothing", async () => {
-    const before = (await counts());
+    const before = await counts();
     const res = await request(base)
       .post("/api/shops/sign-up")
       .set("X-Forwarded-For", ip())
@@ -262,18 +353,37 @@ describe("malformed input", () => {
     expect(paths).toEqual(["email", "password", "shopName"]);
     for (const f of res.body.error.details.fields) expect(f.message.length).toBeGreaterThan(5);
 
-    const common = await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", ip()).send({ shopName: "Valid Name", name: "Someone", email: "valid@example.test", password: "password1" });
+    const common = await request(base)
+      .post("/api/shops/sign-up")
+      .set("X-Forwarded-For", ip())
+      .send({ shopName: "Valid Name", name: "Someone", email: "valid@example.test", password: "password1" });
     expect(common.status).toBe(400);
     expect(common.body.error.details.fields).toEqual([{ path: "password", message: expect.stringMatching(/common/) }]);
 
-    const signInRes = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", ip()).send({ email: "nope" });
+    const signInRes = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", ip())
+      .send({ email: "nope" });
     expect(signInRes.status).toBe(400);
-    expect(signInRes.body.error.details.fields.map((f: { path: string }) => f.path).sort()).toEqual(["email", "password"]);
+    expect(signInRes.body.error.details.fields.map((f: { path: string }) => f.path).sort()).toEqual([
+      "email",
+      "password",
+    ]);
 
-    const expert = await request(base).post("/api/experts/apply").set("X-Forwarded-For", ip()).send({ name: "X", email: "x@example.test", password: "Long-enough-pass-1", systems: ["teleportation"], makes: [], bio: "short" });
+    const expert = await request(base)
+      .post("/api/experts/apply")
+      .set("X-Forwarded-For", ip())
+      .send({
+        name: "X",
+        email: "x@example.test",
+        password: "Long-enough-pass-1",
+        systems: ["teleportation"],
+        makes: [],
+        bio: "short",
+      });
     expect(expert.status).toBe(400);
     expect(expert.body.error.details.fields.map((f: { path: string }) => f.path).sort()).toEqual(["bio", "systems.0"]);
-    expect((await counts())).toEqual(before);
+    expect(await counts()).toEqual(before);
   });
 });
 
@@ -281,14 +391,29 @@ describe("password storage", () => {
   test("a stored hash is argon2id with m = 19456 KiB, t = 2, p = 1 and verifies with the reference library", async () => {
     const email = "hash-check@example.test";
     const password = "Secondary-ignition-kV-40";
-    await request(base).post("/api/shops/sign-up").set("X-Forwarded-For", ip()).send({ shopName: "Hash Garage", name: "H", email, password }).expect(202);
-    const user = (await s.ctx.db.read((tx) => tx.select().from(schema.user).where(eq(schema.user.email, email)).get()))!;
-    const acct = (await s.ctx.db.read((tx) => tx.select().from(schema.account).where(eq(schema.account.userId, user.id)).get()))!;
+    await request(base)
+      .post("/api/shops/sign-up")
+      .set("X-Forwarded-For", ip())
+      .send({ shopName: "Hash Garage", name: "H", email, password })
+      .expect(202);
+    const user = (await s.ctx.db.read((tx) =>
+      tx.select().from(schema.user).where(eq(schema.user.email, email)).get(),
+    ))!;
+    const acct = (await s.ctx.db.read((tx) =>
+      tx.select().from(schema.account).where(eq(schema.account.userId, user.id)).get(),
+    ))!;
     // PHC string format (github.com/P-H-C/phc-string-format): $argon2id$v=19$<k=v,...>$salt$hash;
     // the parameter order is not fixed by the format, so parse them as a map.
-    const m = /^\$argon2id\$v=(\d+)\$([a-z]=\d+(?:,[a-z]=\d+)*)\$([A-Za-z0-9+/]+)\$([A-Za-z0-9+/]+)$/.exec(acct.password!);
+    const m = /^\$argon2id\$v=(\d+)\$([a-z]=\d+(?:,[a-z]=\d+)*)\$([A-Za-z0-9+/]+)\$([A-Za-z0-9+/]+)$/.exec(
+      acct.password!,
+    );
     expect(m).not.toBeNull();
-    const params = Object.fromEntries(m![2].split(",").map((kv) => kv.split("=")).map(([k, v]) => [k, Number(v)]));
+    const params = Object.fromEntries(
+      m![2]
+        .split(",")
+        .map((kv) => kv.split("="))
+        .map(([k, v]) => [k, Number(v)]),
+    );
     expect(Number(m![1])).toBe(19); // RFC 9106 §3.1: version number 0x13
     // OWASP Password Storage Cheat Sheet: argon2id, minimum m=19456 (19 MiB), t=2, p=1.
     expect(params.m).toBeGreaterThanOrEqual(19456);
@@ -303,7 +428,11 @@ describe("development inbox", () => {
   test("GET /api/dev/mail lists caught mails with links and /dev/mail shows them as a page", async () => {
     const u = await createUser(s);
     const since = new Date();
-    await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: u.email }).expect(200);
+    await request(base)
+      .post("/api/auth/request-password-reset")
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email })
+      .expect(200);
     const mail = await waitForMail(s, u.email, "reset", since);
     const list = await request(base).get("/api/dev/mail");
     expect(list.status).toBe(200);
@@ -369,7 +498,11 @@ describe("development inbox is for this machine only", () => {
   test("a client on another machine gets 404 with the error format, as for a path that does not exist", async () => {
     const u = await createUser(s);
     const since = new Date();
-    await request(base).post("/api/auth/request-password-reset").set("X-Forwarded-For", ip()).send({ email: u.email }).expect(200);
+    await request(base)
+      .post("/api/auth/request-password-reset")
+      .set("X-Forwarded-For", ip())
+      .send({ email: u.email })
+      .expect(200);
     const mail = await waitForMail(s, u.email, "reset", since);
     // 192.168.1.20: an RFC 1918 private address, i.e. a machine on the same LAN.
     const lan = appSeenFrom("192.168.1.20");
@@ -383,7 +516,10 @@ describe("development inbox is for this machine only", () => {
     for (const peer of ["127.0.0.1", "::1", "::ffff:127.0.0.1"]) {
       const res = await request(appSeenFrom(peer)).get("/api/dev/mail");
       expect(res.status, peer).toBe(200);
-      expect(res.body.mails.some((m: { id: string }) => m.id === mail.id), peer).toBe(true);
+      expect(
+        res.body.mails.some((m: { id: string }) => m.id === mail.id),
+        peer,
+      ).toBe(true);
     }
   });
 
@@ -407,36 +543,44 @@ describe("development inbox is for this machine only", () => {
   const lanAddress = Object.values(os.networkInterfaces())
     .flat()
     .find((i) => i && i.family === "IPv4" && !i.internal)?.address;
-  test.skipIf(!lanAddress)("over a real connection from this machine's network address (not loopback) the inbox answers 404", async () => {
-    const open = await startTestServer({ HOST: "0.0.0.0" });
-    try {
-      const get = (p: string) =>
-        new Promise<{ status: number; body: string }>((resolve, reject) => {
-          http
-            .get({ host: lanAddress, port: open.port, path: p, localAddress: lanAddress }, (res) => {
-              let body = "";
-              res.setEncoding("utf8");
-              res.on("data", (c) => (body += c));
-              res.on("end", () => resolve({ status: res.statusCode ?? 0, body }));
-            })
-            .on("error", reject);
-        });
-      for (const p of paths) {
-        const res = await get(p);
-        expect(res.status, p).toBe(404);
-        expect(JSON.parse(res.body).error.code).toBe("not_found");
+  test.skipIf(!lanAddress)(
+    "over a real connection from this machine's network address (not loopback) the inbox answers 404",
+    async () => {
+      const open = await startTestServer({ HOST: "0.0.0.0" });
+      try {
+        const get = (p: string) =>
+          new Promise<{ status: number; body: string }>((resolve, reject) => {
+            http
+              .get({ host: lanAddress, port: open.port, path: p, localAddress: lanAddress }, (res) => {
+                let body = "";
+                res.setEncoding("utf8");
+                res.on("data", (c) => (body += c));
+                res.on("end", () => resolve({ status: res.statusCode ?? 0, body }));
+              })
+              .on("error", reject);
+          });
+        for (const p of paths) {
+          const res = await get(p);
+          expect(res.status, p).toBe(404);
+          expect(JSON.parse(res.body).error.code).toBe("not_found");
+        }
+        // the same server answers its own machine over loopback
+        expect((await request(baseUrl(open)).get("/api/dev/mail")).status).toBe(200);
+      } finally {
+        await open.close();
       }
-      // the same server answers its own machine over loopback
-      expect((await request(baseUrl(open)).get("/api/dev/mail")).status).toBe(200);
-    } finally {
-      await open.close();
-    }
-  });
+    },
+  );
 
   test("a mail shown as sent is sandboxed, so script in it cannot run on the app's origin", async () => {
     const to = "sandbox-check@example.test";
     const since = new Date();
-    await s.ctx.mailer.send({ to, subject: "Script inside", text: "plain part", html: '<p>hello</p><script>fetch("/api/me")</script>' });
+    await s.ctx.mailer.send({
+      to,
+      subject: "Script inside",
+      text: "plain part",
+      html: '<p>hello</p><script>fetch("/api/me")</script>',
+    });
     const mail = await waitForMail(s, to, "script inside", since);
     const res = await request(base).get(`/dev/mail/${mail.id}`);
     expect(res.status).toBe(200);

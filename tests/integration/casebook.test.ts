@@ -21,7 +21,16 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq, sql } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
-import { createAdmin, createExpert, createShopTeam, signIn, type CreatedExpert, type CreatedUser, type ShopTeam, type SignedInAgent } from "../factories";
+import {
+  createAdmin,
+  createExpert,
+  createShopTeam,
+  signIn,
+  type CreatedExpert,
+  type CreatedUser,
+  type ShopTeam,
+  type SignedInAgent,
+} from "../factories";
 import { submitAndPay } from "../helpers/queue-flow";
 import { generateSecondary } from "../generators/secondary";
 import { renderCsv } from "../generators/csv";
@@ -41,7 +50,7 @@ let otherTech: SignedInAgent;
 let adminAgent: SignedInAgent;
 let caseId: string;
 let entryId: string;
-let traceIds: string[] = [];
+const traceIds: string[] = [];
 
 const VIN = "1M8GDM9AXKP042788";
 const SHOP_NAME = "Quarrymoor Ignition Works";
@@ -58,7 +67,10 @@ async function uploadTrace(agent: SignedInAgent, id: string, coil: number, burnT
   const res = await agent
     .post(`/api/cases/${id}/traces`)
     .field("settings", JSON.stringify({ ...g.settings, coil, cylinder: coil }))
-    .attach("file", Buffer.from(renderCsv(g.trace, { timeUnit: "ms" })), { filename: `${TECH_NAME} coil ${coil}.csv`, contentType: "text/csv" });
+    .attach("file", Buffer.from(renderCsv(g.trace, { timeUnit: "ms" })), {
+      filename: `${TECH_NAME} coil ${coil}.csv`,
+      contentType: "text/csv",
+    });
   expect(res.status, JSON.stringify(res.body)).toBe(201);
   return res.body as { id: string; analysis: { summary: { burnTimeMs: { median: number } } } };
 }
@@ -71,8 +83,18 @@ async function newCase(agent: SignedInAgent, body: Record<string, unknown>): Pro
 
 beforeAll(async () => {
   server = await startTestServer();
-  expert = await createExpert(server, { name: EXPERT_NAME, email: `ines.f.${Date.now()}@example.com`, systems: ["ignition"], maxOpenCases: 20 });
-  team = await createShopTeam(server, { name: SHOP_NAME, technicians: 1, owner: { name: OWNER_NAME }, technician: { name: TECH_NAME } });
+  expert = await createExpert(server, {
+    name: EXPERT_NAME,
+    email: `ines.f.${Date.now()}@example.com`,
+    systems: ["ignition"],
+    maxOpenCases: 20,
+  });
+  team = await createShopTeam(server, {
+    name: SHOP_NAME,
+    technicians: 1,
+    owner: { name: OWNER_NAME },
+    technician: { name: TECH_NAME },
+  });
   other = await createShopTeam(server, { technicians: 1 });
   admin = await createAdmin(server);
   tech = await signIn(server, team.technicians[0]);
@@ -82,7 +104,15 @@ beforeAll(async () => {
   adminAgent = await signIn(server, admin);
 
   caseId = await newCase(tech, {
-    vehicle: { vin: VIN, year: 2019, make: "Veltra", model: "Quillon", engine: "2.0 I4 turbo", mileage: 84_321, mileageUnit: "km" },
+    vehicle: {
+      vin: VIN,
+      year: 2019,
+      make: "Veltra",
+      model: "Quillon",
+      engine: "2.0 I4 turbo",
+      mileage: 84_321,
+      mileageUnit: "km",
+    },
     complaint: `Misfire under load on the motorway. Customer Mrs Feldhaus (call ${PLANTED.phones[0]} or ${PLANTED.phones[2]}) says it started after a wash. Ask ${TECH_NAME} at ${SHOP_NAME}, ${PLANTED.emails[0]}.`,
     codes: ["P0304"],
     system: "ignition",
@@ -91,25 +121,47 @@ beforeAll(async () => {
     partsReplaced: "Spark plugs (new, gapped to spec)",
     notes: "Private note: customer owes us for the last job.",
   });
-  for (const coil of [1, 2, 3, 4]) traceIds.push((await uploadTrace(tech, caseId, coil, coil === 4 ? 0.6 : 1.5, 40 + coil)).id);
+  for (const coil of [1, 2, 3, 4])
+    traceIds.push((await uploadTrace(tech, caseId, coil, coil === 4 ? 0.6 : 1.5, 40 + coil)).id);
   await submitAndPay(server, tech, caseId);
   expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
   // the expert's mark on coil 4 (marks are made over the live socket; written here directly)
   const now = new Date();
-  (await server.ctx.db.write((tx) => tx.insert(schema.annotation)
-    .values({ id: crypto.randomUUID(), caseId, traceId: traceIds[3], authorId: expert.id, kind: "span", t0: 0.001, t1: 0.0016, label: `Short burn here — ${EXPERT_NAME}, ${PLANTED.phones[1]}`, color: "#c0392b", seq: 9001, createdAt: now, updatedAt: now })
-    .run()));
+  await server.ctx.db.write((tx) =>
+    tx
+      .insert(schema.annotation)
+      .values({
+        id: crypto.randomUUID(),
+        caseId,
+        traceId: traceIds[3],
+        authorId: expert.id,
+        kind: "span",
+        t0: 0.001,
+        t1: 0.0016,
+        label: `Short burn here — ${EXPERT_NAME}, ${PLANTED.phones[1]}`,
+        color: "#c0392b",
+        seq: 9001,
+        createdAt: now,
+        updatedAt: now,
+      })
+      .run(),
+  );
   const answer = await e.post(`/api/cases/${caseId}/answer`).send({
     diagnosis: `Coil 4 burn time is 0.6 ms against 1.5 ms on the others with a steep spark line: the coil's secondary winding is breaking down and misfiring under load. ${TECH_NAME}, ring me on ${PLANTED.phones[1]} if unsure. ${EXPERT_NAME}`,
     rootCause: "Coil 4 secondary winding insulation breakdown (internal arcing).",
     recommendedFix: `Replace ignition coil 4; inspect the plug well for water after the wash. Questions: ${PLANTED.emails[2]}.`,
-    testsToConfirm: "Recapture secondary on coil 4 at idle and at 2500 rpm under load; burn time should match the other coils (about 1.5 ms).",
+    testsToConfirm:
+      "Recapture secondary on coil 4 at idle and at 2500 rpm under load; burn time should match the other coils (about 1.5 ms).",
   });
   expect(answer.status, JSON.stringify(answer.body)).toBe(201);
-  const conf = await tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true, rating: 5, note: `New coil fitted by ${TECH_NAME}; misfire gone. ${PLANTED.emails[1]}` });
+  const conf = await tech
+    .post(`/api/cases/${caseId}/confirm`)
+    .send({ fixed: true, rating: 5, note: `New coil fitted by ${TECH_NAME}; misfire gone. ${PLANTED.emails[1]}` });
   expect(conf.status, JSON.stringify(conf.body)).toBe(200);
   expect(conf.body.outcome).toBe("resolved");
-  const row = (await server.ctx.db.read((tx) => tx.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.caseId, caseId)).get()));
+  const row = await server.ctx.db.read((tx) =>
+    tx.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.caseId, caseId)).get(),
+  );
   expect(row, "the case-resolved hook published the case").toBeTruthy();
   entryId = row!.id;
 }, 120_000);
@@ -119,14 +171,28 @@ afterAll(async () => {
   await server?.close();
 });
 
-const search = (agent: SignedInAgent, params: Record<string, string>) => agent.get("/api/casebook/search").query(params);
+const search = (agent: SignedInAgent, params: Record<string, string>) =>
+  agent.get("/api/casebook/search").query(params);
 
 describe("publishing and search", () => {
   it("finds the resolved case by a word of its diagnosis, a stemmed form, its code and its make", async () => {
-    for (const q of ["breakdown", "winding", "misfiring", "misfire", "misfires", "P0304", "Veltra", "veltra quillon", "insul"]) {
+    for (const q of [
+      "breakdown",
+      "winding",
+      "misfiring",
+      "misfire",
+      "misfires",
+      "P0304",
+      "Veltra",
+      "veltra quillon",
+      "insul",
+    ]) {
       const res = await search(otherTech, { q });
       expect(res.status, q).toBe(200);
-      expect(res.body.results.map((r: { id: string }) => r.id), q).toContain(entryId);
+      expect(
+        res.body.results.map((r: { id: string }) => r.id),
+        q,
+      ).toContain(entryId);
     }
     const byCode = await search(otherTech, { code: "P0304" });
     expect(byCode.body.results.map((r: { id: string }) => r.id)).toEqual([entryId]);
@@ -141,7 +207,9 @@ describe("publishing and search", () => {
     const res = await search(otherTech, { q: "winding" });
     expect(Object.keys(res.body)).toEqual(expect.arrayContaining(["total", "results", "facets"]));
     const hit = res.body.results[0];
-    expect(Object.keys(hit)).toEqual(expect.arrayContaining(["id", "title", "vehicle", "codes", "rootCause", "snippet", "score"]));
+    expect(Object.keys(hit)).toEqual(
+      expect.arrayContaining(["id", "title", "vehicle", "codes", "rootCause", "snippet", "score"]),
+    );
     expect(hit.codes).toEqual(["P0304"]);
     expect(hit.snippet).toContain(`${SNIPPET_OPEN}winding${SNIPPET_CLOSE}`);
     expect(hit.title).toMatch(/^2019 Veltra Quillon 2\.0 I4 turbo: Coil 4 secondary winding insulation breakdown/);
@@ -151,21 +219,44 @@ describe("publishing and search", () => {
     expect(entry.body.safetyNote).toMatch(/manufacturer's procedure, local codes and licensed practice/);
     expect(entry.body.answer.rootCause).toMatch(/insulation breakdown/);
     expect(entry.body.outcome).toMatchObject({ confirmed: true, rating: 5 });
-    expect(entry.body.vehicle).toMatchObject({ year: 2019, make: "Veltra", model: "Quillon", mileage: 84_000, vinModel: "1M8GDM9A*KP******" });
+    expect(entry.body.vehicle).toMatchObject({
+      year: 2019,
+      make: "Veltra",
+      model: "Quillon",
+      mileage: 84_000,
+      vinModel: "1M8GDM9A*KP******",
+    });
     expect(entry.body.traces).toHaveLength(4);
-    expect(entry.body.annotations).toEqual([expect.objectContaining({ traceId: traceIds[3], kind: "span", t0: 0.001, t1: 0.0016, label: "Short burn here — [name], [phone]" })]);
-    expect(entry.body.comparison.outliers.map((o: { traceId: string; metric: string }) => [o.traceId, o.metric])).toContainEqual([traceIds[3], "burnTimeMs"]);
+    expect(entry.body.annotations).toEqual([
+      expect.objectContaining({
+        traceId: traceIds[3],
+        kind: "span",
+        t0: 0.001,
+        t1: 0.0016,
+        label: "Short burn here — [name], [phone]",
+      }),
+    ]);
+    expect(
+      entry.body.comparison.outliers.map((o: { traceId: string; metric: string }) => [o.traceId, o.metric]),
+    ).toContainEqual([traceIds[3], "burnTimeMs"]);
   });
 
   it("keeps nothing private: planted addresses, numbers, names, the shop and the VIN serial are gone from the stored entry and the index", async () => {
     const db = server.ctx.db;
-    const row = (await db.read((tx) => tx.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.id, entryId)).get()))!;
-    const vec = await db.read((tx) => tx.select().from(schema.casebookVector).where(eq(schema.casebookVector.entryId, entryId)).get());
+    const row = (await db.read((tx) =>
+      tx.select().from(schema.casebookEntry).where(eq(schema.casebookEntry.id, entryId)).get(),
+    ))!;
+    const vec = await db.read((tx) =>
+      tx.select().from(schema.casebookVector).where(eq(schema.casebookVector.entryId, entryId)).get(),
+    );
     // case_id and expert_id are the desk's links back (the expert's record, the case's own panel);
     // they are checked separately below: never in what a reader receives
     const stored = JSON.stringify({ ...row, caseId: null, expertId: null }) + JSON.stringify(vec?.pattern ?? {});
-    const served = JSON.stringify((await otherTech.get(`/api/casebook/${entryId}`)).body) + JSON.stringify((await search(otherTech, { q: "winding" })).body);
-    for (const id of [caseId, expert.id, team.shop.id, team.technicians[0].id, team.owner.id]) expect(served, "a link back in the response").not.toContain(id);
+    const served =
+      JSON.stringify((await otherTech.get(`/api/casebook/${entryId}`)).body) +
+      JSON.stringify((await search(otherTech, { q: "winding" })).body);
+    for (const id of [caseId, expert.id, team.shop.id, team.technicians[0].id, team.owner.id])
+      expect(served, "a link back in the response").not.toContain(id);
     const planted = [
       ...PLANTED.emails,
       ...PLANTED.phones,
@@ -200,7 +291,9 @@ describe("publishing and search", () => {
       expect(served.toLowerCase(), `"${p}" in the response`).not.toContain(p.toLowerCase());
     }
     // the trace names were the uploads' file names (with the tech's name): replaced
-    expect((row.body as { traces: { name: string }[] }).traces.map((t) => t.name)).toEqual([1, 2, 3, 4].map((n) => `Coil ${n} · secondary ignition`));
+    expect((row.body as { traces: { name: string }[] }).traces.map((t) => t.name)).toEqual(
+      [1, 2, 3, 4].map((n) => `Coil ${n} · secondary ignition`),
+    );
     // the words of the index (fts5vocab lists every token FTS5 stored)
     // (beside the index in its own database and dropped again: the libSQL server refuses temp. tables)
     const vocab = await db.write(async (tx) => {
@@ -210,7 +303,24 @@ describe("publishing and search", () => {
       return rows;
     });
     const terms = new Set(vocab.map((r) => r.term));
-    for (const w of ["quarrymoor", "whitlock", "dana", "oskar", "brandtner", "falkenrath", "ine", "ines", "feldhau", "feldhaus", "042788", "0143", "0178", "0958", "900123", "7946"]) {
+    for (const w of [
+      "quarrymoor",
+      "whitlock",
+      "dana",
+      "oskar",
+      "brandtner",
+      "falkenrath",
+      "ine",
+      "ines",
+      "feldhau",
+      "feldhaus",
+      "042788",
+      "0143",
+      "0178",
+      "0958",
+      "900123",
+      "7946",
+    ]) {
       expect(terms.has(w), `index term "${w}"`).toBe(false);
     }
     expect(terms.has("wind")).toBe(true); // porter: "winding" → "wind" (Porter 1980, step 1b)
@@ -250,7 +360,10 @@ describe("votes and views", () => {
     expect(v2.body).toEqual({ helpfulCount: 1, voted: true });
     expect((await owner.post(`/api/casebook/${entryId}/vote`).send({})).body).toEqual({ helpfulCount: 2, voted: true });
     expect((await e.post(`/api/casebook/${entryId}/vote`).send({ helpful: true })).status).toBe(403);
-    expect((await owner.post(`/api/casebook/${entryId}/vote`).send({ helpful: false })).body).toEqual({ helpfulCount: 1, voted: false });
+    expect((await owner.post(`/api/casebook/${entryId}/vote`).send({ helpful: false })).body).toEqual({
+      helpfulCount: 1,
+      voted: false,
+    });
     const read = (await otherTech.get(`/api/casebook/${entryId}`)).body;
     expect(read).toMatchObject({ helpfulCount: 1, voted: true, abilities: { vote: true, moderate: false } });
     const hit = (await search(otherTech, { q: "winding" })).body.results[0];
@@ -271,37 +384,60 @@ describe("moderation", () => {
   it("hides and edits an entry with the index in step", async () => {
     expect((await otherTech.patch(`/api/admin/casebook/${entryId}`).send({ hidden: true })).status).toBe(403);
     expect((await search(otherTech, { q: "steep" })).body.total).toBe(1); // a word only the first diagnosis has
-    const hide = await adminAgent.patch(`/api/admin/casebook/${entryId}`).send({ hidden: true, hiddenReason: "checking a detail" });
+    const hide = await adminAgent
+      .patch(`/api/admin/casebook/${entryId}`)
+      .send({ hidden: true, hiddenReason: "checking a detail" });
     expect(hide.status, JSON.stringify(hide.body)).toBe(200);
     expect(hide.body).toMatchObject({ hidden: true, hiddenReason: "checking a detail" });
     expect((await search(otherTech, { q: "winding" })).body.total).toBe(0);
     expect((await search(otherTech, {})).body.results.map((r: { id: string }) => r.id)).not.toContain(entryId);
     expect((await otherTech.get(`/api/casebook/${entryId}`)).status).toBe(404);
     expect((await otherTech.get(`/api/traces/${traceIds[3]}/window`)).status).toBe(404);
-    expect((await adminAgent.get("/api/admin/casebook/hidden")).body.items.map((i: { id: string }) => i.id)).toContain(entryId);
+    expect((await adminAgent.get("/api/admin/casebook/hidden")).body.items.map((i: { id: string }) => i.id)).toContain(
+      entryId,
+    );
 
-    const edit = await adminAgent.patch(`/api/admin/casebook/${entryId}`).send({ hidden: false, diagnosis: "Coil 4 secondary arcing to the plug well; water ingress after a pressure wash." });
+    const edit = await adminAgent.patch(`/api/admin/casebook/${entryId}`).send({
+      hidden: false,
+      diagnosis: "Coil 4 secondary arcing to the plug well; water ingress after a pressure wash.",
+    });
     expect(edit.status).toBe(200);
     expect((await search(otherTech, { q: "steep" })).body.total).toBe(0); // the old diagnosis left the index
     expect((await search(otherTech, { q: "winding" })).body.total).toBe(1); // still in the root cause
-    expect((await search(otherTech, { q: "ingress" })).body.results.map((r: { id: string }) => r.id)).toEqual([entryId]);
+    expect((await search(otherTech, { q: "ingress" })).body.results.map((r: { id: string }) => r.id)).toEqual([
+      entryId,
+    ]);
     expect((await search(otherTech, { q: "pressure wash" })).body.total).toBe(1);
     // FTS5's own check: the index equals its content (the visible entries)
-    await server.ctx.db.write((tx) => tx.run(sql`INSERT INTO casebook_fts(casebook_fts, rank) VALUES ('integrity-check', 1)`));
+    await server.ctx.db.write((tx) =>
+      tx.run(sql`INSERT INTO casebook_fts(casebook_fts, rank) VALUES ('integrity-check', 1)`),
+    );
   });
 });
 
 describe("similar cases", () => {
   it("offers the published case first to a new case with the same odd-coil pattern, with the reason in words", async () => {
-    const id2 = await newCase(otherTech, { vehicle: { year: 2018, make: "Korrin", model: "Vale" }, complaint: "Intermittent misfire", codes: ["P0302"], system: "ignition" });
-    expect((await otherTech.get(`/api/cases/${id2}/similar`)).body).toMatchObject({ results: [], note: expect.stringMatching(/Add a trace/) });
+    const id2 = await newCase(otherTech, {
+      vehicle: { year: 2018, make: "Korrin", model: "Vale" },
+      complaint: "Intermittent misfire",
+      codes: ["P0302"],
+      system: "ignition",
+    });
+    expect((await otherTech.get(`/api/cases/${id2}/similar`)).body).toMatchObject({
+      results: [],
+      note: expect.stringMatching(/Add a trace/),
+    });
     for (const coil of [1, 2, 3, 4]) await uploadTrace(otherTech, id2, coil, coil === 2 ? 0.65 : 1.45, 70 + coil);
     const res = await otherTech.get(`/api/cases/${id2}/similar`);
     expect(res.status).toBe(200);
     expect(res.body.results[0].id).toBe(entryId);
-    expect(res.body.results[0].reasons[0]).toMatch(/^coil 4 burn 0\.[56]\d? ms against 1\.[45]\d? ms on the others, like this case$/);
+    expect(res.body.results[0].reasons[0]).toMatch(
+      /^coil 4 burn 0\.[56]\d? ms against 1\.[45]\d? ms on the others, like this case$/,
+    );
     // the shop's own case does not offer its own entry
-    expect((await tech.get(`/api/cases/${caseId}/similar`)).body.results.map((r: { id: string }) => r.id)).not.toContain(entryId);
+    expect(
+      (await tech.get(`/api/cases/${caseId}/similar`)).body.results.map((r: { id: string }) => r.id),
+    ).not.toContain(entryId);
     // another shop may not ask about this case
     expect((await otherTech.get(`/api/cases/${caseId}/similar`)).status).toBe(404);
   });

@@ -1,9 +1,16 @@
 import { describe, expect, it } from "vitest";
-import { assertCaseAction, caseAbilities, caseActions, caseListScope, casePolicy, type CaseForPolicy } from "../../server/auth/policies/cases";
+import {
+  assertCaseAction,
+  caseAbilities,
+  caseActions,
+  caseListScope,
+  casePolicy,
+  type CaseForPolicy,
+} from "../../server/auth/policies/cases";
 import { tracePolicy } from "../../server/auth/policies/traces";
 import type { Actor } from "../../server/auth/session";
 import { caseStatuses } from "../../shared/domain/case-status";
-import { HttpError } from "../../server/http/errors";
+import type { HttpError } from "../../server/http/errors";
 
 /**
  * The case policy as a table (the product's rules, docs/api.md "Cases and traces"): the shop's
@@ -15,7 +22,12 @@ const owner: Actor = { id: "o1", email: "o@x.test", name: "O", role: "owner", sh
 const otherTech: Actor = { id: "t2", email: "t2@x.test", name: "T2", role: "technician", shopId: "shopB" };
 const expert: Actor = { id: "e1", email: "e@x.test", name: "E", role: "expert", shopId: null };
 const admin: Actor = { id: "a1", email: "a@x.test", name: "A", role: "admin", shopId: null };
-const caseIn = (status: string, expertId: string | null = null): CaseForPolicy => ({ id: "c1", shopId: "shopA", status, expertId });
+const caseIn = (status: string, expertId: string | null = null): CaseForPolicy => ({
+  id: "c1",
+  shopId: "shopA",
+  status,
+  expertId,
+});
 
 const statusOf = (fn: () => void): number | null => {
   try {

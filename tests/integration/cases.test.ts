@@ -1,4 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { SQLiteTable } from "drizzle-orm/sqlite-core";
 import request from "supertest";
 import { eq, sql } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
@@ -25,7 +26,15 @@ let expertId: string;
 let admin: SignedInAgent;
 
 const draft = (over: Record<string, unknown> = {}) => ({
-  vehicle: { vin: VALID_VIN.toLowerCase(), year: 1989, make: "Veltra", model: "Sorrel", engine: "2.0 I4", mileage: 84210, mileageUnit: "km" },
+  vehicle: {
+    vin: VALID_VIN.toLowerCase(),
+    year: 1989,
+    make: "Veltra",
+    model: "Sorrel",
+    engine: "2.0 I4",
+    mileage: 84210,
+    mileageUnit: "km",
+  },
   complaint: "Intermittent misfire under load when warm",
   codes: ["p0304", "P0171"],
   system: "ignition",
@@ -33,7 +42,13 @@ const draft = (over: Record<string, unknown> = {}) => ({
   ...over,
 });
 
-const count = async (table: any) => (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(table).get()))!.n;
+const count = async (table: SQLiteTable) =>
+  (await server.ctx.db.read((tx) =>
+    tx
+      .select({ n: sql<number>`count(*)` })
+      .from(table)
+      .get(),
+  ))!.n;
 
 beforeAll(async () => {
   server = await startTestServer();
@@ -63,21 +78,38 @@ describe("POST /api/cases", () => {
     expect(c.vehicle).toMatchObject({ year: 1989, make: "Veltra", model: "Sorrel", mileage: 84210, mileageUnit: "km" });
     // 49 CFR 565.15: position 10 "K" with a digit in position 7 → the 1980–2009 cycle → 1989;
     // first character 1 → North America (WMI regions, from memory).
-    expect(c.vinDecoded).toMatchObject({ wmi: "1M8", region: "North America", modelYear: 1989, checkDigit: "X", checkDigitValid: true });
+    expect(c.vinDecoded).toMatchObject({
+      wmi: "1M8",
+      region: "North America",
+      modelYear: 1989,
+      checkDigit: "X",
+      checkDigitValid: true,
+    });
     expect(c.vinWarnings).toEqual([]);
     // SAE J2012: P0304 is the generic cylinder-4 misfire code; P0171 is lean, bank 1.
-    expect(c.codes.map((x: any) => x.code)).toEqual(["P0304", "P0171"]);
+    expect(c.codes.map((x: { code: unknown }) => x.code)).toEqual(["P0304", "P0171"]);
     expect(c.codes[0]).toMatchObject({ system: "powertrain", generic: true, misfireCylinder: 4 });
     expect(c.codes[0].description).toMatch(/4/);
     expect(c.codes[1].description).toMatch(/lean/i);
     expect(c.traces).toEqual([]);
     expect(c.photos).toEqual([]);
-    expect(c.abilities).toEqual({ read: true, edit: true, addTrace: true, deleteTrace: true, addPhoto: true, deletePhoto: true });
+    expect(c.abilities).toEqual({
+      read: true,
+      edit: true,
+      addTrace: true,
+      deleteTrace: true,
+      addPhoto: true,
+      deletePhoto: true,
+    });
     expect(c.readiness).toEqual({ complete: true, issues: [] });
 
-    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, c.id)).get()))!;
+    const row = (await server.ctx.db.read((tx) =>
+      tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, c.id)).get(),
+    ))!;
     expect(row.createdBy).toBe(shopA.technicians[0].id);
-    const events = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, c.id)).all()));
+    const events = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, c.id)).all(),
+    );
     expect(events.map((e) => e.type)).toEqual(["created"]);
   });
 
@@ -86,25 +118,29 @@ describe("POST /api/cases", () => {
     expect(res.status).toBe(201);
     expect(res.body.status).toBe("draft");
     expect(res.body.readiness.complete).toBe(false);
-    const paths = res.body.readiness.issues.map((i: any) => i.path);
+    const paths = res.body.readiness.issues.map((i: { path: unknown }) => i.path);
     expect(paths).toEqual(expect.arrayContaining(["vehicle.make", "vehicle.model", "complaint", "system"]));
   });
 
   it("warns when the year typed differs from the VIN's model year", async () => {
     // 49 CFR 565.15: 1M8GDM9AXKP042788 has K in position 10 and a digit in position 7 → 1989.
-    const res = await techA.post("/api/cases").send(draft({ vehicle: { vin: VALID_VIN, year: 2019, make: "Veltra", model: "Sorrel" } }));
+    const res = await techA
+      .post("/api/cases")
+      .send(draft({ vehicle: { vin: VALID_VIN, year: 2019, make: "Veltra", model: "Sorrel" } }));
     expect(res.status).toBe(201);
     expect(res.body.vinWarnings).toEqual([expect.objectContaining({ code: "year-mismatch", expected: "1989" })]);
   });
 
   it("keeps a VIN whose check digit is wrong as a warning the tech can override", async () => {
-    const res = await techA.post("/api/cases").send(draft({ vehicle: { vin: WRONG_CHECK_VIN, make: "Korrin", model: "Vale" } }));
+    const res = await techA
+      .post("/api/cases")
+      .send(draft({ vehicle: { vin: WRONG_CHECK_VIN, make: "Korrin", model: "Vale" } }));
     expect(res.status).toBe(201);
     // 49 CFR 565.15: the other sixteen characters call for X in position 9.
     expect(res.body.vinWarnings).toEqual([expect.objectContaining({ code: "check-digit", expected: "X" })]);
     expect(res.body.vinDecoded.checkDigitValid).toBe(false);
     expect(res.body.readiness.complete).toBe(false);
-    expect(res.body.readiness.issues.map((i: any) => i.path)).toContain("vehicle.vin");
+    expect(res.body.readiness.issues.map((i: { path: unknown }) => i.path)).toContain("vehicle.vin");
 
     const fixed = await techA.patch(`/api/cases/${res.body.id}`).send({ vehicle: { vinCheckOverride: true } });
     expect(fixed.status).toBe(200);
@@ -120,43 +156,52 @@ describe("POST /api/cases", () => {
     ["an unknown system", { system: "warp-drive" }, "system"],
     ["an unknown field", { colour: "red" }, ""],
   ])("refuses %s with 400, names the field, and saves nothing", async (_label, body, path) => {
-    const casesBefore = (await count(schema.caseTable));
-    const eventsBefore = (await count(schema.caseEvent));
+    const casesBefore = await count(schema.caseTable);
+    const eventsBefore = await count(schema.caseEvent);
     const res = await techA.post("/api/cases").send(body);
     expect(res.status).toBe(400);
     expect(res.body.error.code).toBe("validation_failed");
-    expect(res.body.error.details.fields.map((f: any) => f.path)).toContain(path);
-    expect((await count(schema.caseTable))).toBe(casesBefore);
-    expect((await count(schema.caseEvent))).toBe(eventsBefore);
+    expect(res.body.error.details.fields.map((f: { path: unknown }) => f.path)).toContain(path);
+    expect(await count(schema.caseTable)).toBe(casesBefore);
+    expect(await count(schema.caseEvent)).toBe(eventsBefore);
   });
 
   it("answers 401 when signed out, 403 for experts and admins (only shops open cases)", async () => {
-    const before = (await count(schema.caseTable));
+    const before = await count(schema.caseTable);
     expect((await request(server.url).post("/api/cases").send(draft())).status).toBe(401);
     expect((await expert.post("/api/cases").send(draft())).status).toBe(403);
     expect((await admin.post("/api/cases").send(draft())).status).toBe(403);
-    expect((await count(schema.caseTable))).toBe(before);
+    expect(await count(schema.caseTable)).toBe(before);
   });
 });
 
 describe("PATCH /api/cases/:id", () => {
   it("merges a patch into a draft: absent keys unchanged, null clears, nested objects key by key", async () => {
-    const created = (await techA.post("/api/cases").send(draft({ conditions: { temperature: "hot", load: ["load"] } }))).body;
+    const created = (await techA.post("/api/cases").send(draft({ conditions: { temperature: "hot", load: ["load"] } })))
+      .body;
     const res = await ownerA.patch(`/api/cases/${created.id}`).send({
       vehicle: { mileage: 90000, year: null },
       complaint: "Misfire only above 3000 rpm",
       conditions: { occurrence: "intermittent" },
     });
     expect(res.status).toBe(200);
-    expect(res.body.vehicle).toMatchObject({ vin: VALID_VIN, make: "Veltra", model: "Sorrel", mileage: 90000, year: null });
+    expect(res.body.vehicle).toMatchObject({
+      vin: VALID_VIN,
+      make: "Veltra",
+      model: "Sorrel",
+      mileage: 90000,
+      year: null,
+    });
     expect(res.body.complaint).toBe("Misfire only above 3000 rpm");
-    expect(res.body.codes.map((c: any) => c.code)).toEqual(["P0304", "P0171"]);
+    expect(res.body.codes.map((c: { code: unknown }) => c.code)).toEqual(["P0304", "P0171"]);
     expect(res.body.conditions).toEqual({ temperature: "hot", load: ["load"], occurrence: "intermittent" });
 
     const ev = await techA.get(`/api/cases/${created.id}/events`);
     expect(ev.status).toBe(200);
-    expect(ev.body.items.map((e: any) => e.type)).toEqual(["created", "edited"]);
-    expect(ev.body.items[1].data.fields).toEqual(expect.arrayContaining(["mileage", "year", "complaint", "conditions"]));
+    expect(ev.body.items.map((e: { type: unknown }) => e.type)).toEqual(["created", "edited"]);
+    expect(ev.body.items[1].data.fields).toEqual(
+      expect.arrayContaining(["mileage", "year", "complaint", "conditions"]),
+    );
     expect(ev.body.items[1].actorId).toBe(shopA.owner.id);
   });
 
@@ -164,7 +209,7 @@ describe("PATCH /api/cases/:id", () => {
     const created = (await techA.post("/api/cases").send(draft())).body;
     const res = await techA.patch(`/api/cases/${created.id}`).send({ complaint: "ok", vehicle: { vin: "SHORT" } });
     expect(res.status).toBe(400);
-    expect(res.body.error.details.fields.map((f: any) => f.path)).toContain("vehicle.vin");
+    expect(res.body.error.details.fields.map((f: { path: unknown }) => f.path)).toContain("vehicle.vin");
     const after = (await techA.get(`/api/cases/${created.id}`)).body;
     expect(after.complaint).toBe(created.complaint);
     expect(after.vehicle.vin).toBe(VALID_VIN);
@@ -172,7 +217,9 @@ describe("PATCH /api/cases/:id", () => {
 
   it("edits only drafts: a submitted case answers 409 and is unchanged", async () => {
     const created = (await techA.post("/api/cases").send(draft())).body;
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, created.id)).run()));
+    await server.ctx.db.write((tx) =>
+      tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, created.id)).run(),
+    );
     const res = await techA.patch(`/api/cases/${created.id}`).send({ complaint: "changed after submission" });
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe("case_locked");
@@ -202,18 +249,40 @@ describe("GET /api/cases (the shop's list)", () => {
       // distinct creation times for a stable order
       await new Promise((r) => setTimeout(r, 5));
     };
-    await mk(a, "veltra", { vehicle: { make: "Veltra", model: "Sorrel", year: 2016 }, complaint: "Rough idle when cold", codes: ["P0301"], system: "ignition" });
-    await mk(a, "korrin", { vehicle: { make: "Korrin", model: "Vale", year: 2021 }, complaint: "No start after rain", codes: ["P0335"], system: "starting-charging" });
-    await mk(a, "astaro", { vehicle: { make: "Astaro", model: "Bellweather", year: 2012 }, complaint: "Hesitation on the motorway", codes: ["P0171", "P0304"], system: "fuel" });
+    await mk(a, "veltra", {
+      vehicle: { make: "Veltra", model: "Sorrel", year: 2016 },
+      complaint: "Rough idle when cold",
+      codes: ["P0301"],
+      system: "ignition",
+    });
+    await mk(a, "korrin", {
+      vehicle: { make: "Korrin", model: "Vale", year: 2021 },
+      complaint: "No start after rain",
+      codes: ["P0335"],
+      system: "starting-charging",
+    });
+    await mk(a, "astaro", {
+      vehicle: { make: "Astaro", model: "Bellweather", year: 2012 },
+      complaint: "Hesitation on the motorway",
+      codes: ["P0171", "P0304"],
+      system: "fuel",
+    });
     await mk(a, "percent", { vehicle: { make: "Astaro", model: "Dune" }, complaint: "Stalls at 50% throttle" });
-    for (let i = 0; i < 3; i++) await mk(b, `other${i}`, { vehicle: { make: "Veltra", model: "Sorrel" }, complaint: "Rough idle when cold", codes: ["P0301"] });
-    (await listServer.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, ids.korrin)).run()));
+    for (let i = 0; i < 3; i++)
+      await mk(b, `other${i}`, {
+        vehicle: { make: "Veltra", model: "Sorrel" },
+        complaint: "Rough idle when cold",
+        codes: ["P0301"],
+      });
+    await listServer.ctx.db.write((tx) =>
+      tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, ids.korrin)).run(),
+    );
   });
   afterAll(async () => {
     await listServer?.close();
   });
 
-  const idsOf = (res: request.Response) => res.body.items.map((c: any) => c.id);
+  const idsOf = (res: request.Response) => res.body.items.map((c: { id: unknown }) => c.id);
 
   it("lists only the actor's shop, newest first by default, with total and counts", async () => {
     const res = await a.get("/api/cases");
@@ -222,9 +291,9 @@ describe("GET /api/cases (the shop's list)", () => {
     expect(res.body.page).toBe(1);
     expect(res.body.pageSize).toBe(20);
     expect(idsOf(res)).toEqual([ids.percent, ids.astaro, ids.korrin, ids.veltra]);
-    const astaro = res.body.items.find((c: any) => c.id === ids.astaro);
+    const astaro = res.body.items.find((c: { id: string }) => c.id === ids.astaro);
     expect(astaro).toMatchObject({ status: "draft", title: "2012 Astaro Bellweather", traceCount: 0, photoCount: 0 });
-    expect(astaro.codes.map((c: any) => c.code)).toEqual(["P0171", "P0304"]);
+    expect(astaro.codes.map((c: { code: unknown }) => c.code)).toEqual(["P0171", "P0304"]);
     const other = await b.get("/api/cases");
     expect(other.body.total).toBe(3);
     expect(idsOf(other)).not.toContain(ids.veltra);
@@ -257,10 +326,25 @@ describe("GET /api/cases (the shop's list)", () => {
   });
 
   it("sorts by vehicle and year in either direction", async () => {
-    expect(idsOf(await a.get("/api/cases?sort=vehicle&dir=asc"))).toEqual([ids.astaro, ids.percent, ids.korrin, ids.veltra]);
-    expect(idsOf(await a.get("/api/cases?sort=vehicle&dir=desc"))).toEqual([ids.veltra, ids.korrin, ids.percent, ids.astaro]);
+    expect(idsOf(await a.get("/api/cases?sort=vehicle&dir=asc"))).toEqual([
+      ids.astaro,
+      ids.percent,
+      ids.korrin,
+      ids.veltra,
+    ]);
+    expect(idsOf(await a.get("/api/cases?sort=vehicle&dir=desc"))).toEqual([
+      ids.veltra,
+      ids.korrin,
+      ids.percent,
+      ids.astaro,
+    ]);
     // SQLite sorts NULL first ascending (sqlite.org/lang_select.html#orderby)
-    expect(idsOf(await a.get("/api/cases?sort=year&dir=asc"))).toEqual([ids.percent, ids.astaro, ids.veltra, ids.korrin]);
+    expect(idsOf(await a.get("/api/cases?sort=year&dir=asc"))).toEqual([
+      ids.percent,
+      ids.astaro,
+      ids.veltra,
+      ids.korrin,
+    ]);
   });
 
   it("refuses a bad query with 400 naming the parameter", async () => {
@@ -273,7 +357,7 @@ describe("GET /api/cases (the shop's list)", () => {
     ]) {
       const res = await a.get(`/api/cases?${qs}`);
       expect(res.status, qs).toBe(400);
-      expect(res.body.error.details.fields.map((f: any) => f.path)).toContain(path);
+      expect(res.body.error.details.fields.map((f: { path: unknown }) => f.path)).toContain(path);
     }
   });
 
@@ -294,6 +378,7 @@ describe("tenant isolation on the case routes", () => {
     { method: "get", path: `/api/cases/${id}/events` },
     { method: "get", path: `/api/cases/${id}/comparison` },
   ];
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- a supertest agent called by the method's name
   const call = (agent: any, r: { method: string; path: string; body?: unknown }) => {
     const req = agent[r.method](r.path);
     return r.body ? req.send(r.body) : req;
@@ -308,7 +393,7 @@ describe("tenant isolation on the case routes", () => {
       }
     }
     expect((await techA.get(`/api/cases/${caseId}`)).body.complaint).toBe(draft().complaint);
-    expect((await techB.get("/api/cases")).body.items.map((c: any) => c.id)).not.toContain(caseId);
+    expect((await techB.get("/api/cases")).body.items.map((c: { id: unknown }) => c.id)).not.toContain(caseId);
   });
 
   it("a signed-out request gets 401 on every case route", async () => {
@@ -320,15 +405,28 @@ describe("tenant isolation on the case routes", () => {
 
   it("an expert who has not claimed the case gets 404; once claimed they read it but cannot edit", async () => {
     for (const r of routes(caseId)) expect((await call(expert, r)).status, `${r.method} ${r.path}`).toBe(404);
-    expect((await expert.get("/api/cases")).body.items.map((c: any) => c.id)).not.toContain(caseId);
+    expect((await expert.get("/api/cases")).body.items.map((c: { id: unknown }) => c.id)).not.toContain(caseId);
 
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ expertId, status: "claimed", claimedAt: new Date() }).where(eq(schema.caseTable.id, caseId)).run()));
+    await server.ctx.db.write((tx) =>
+      tx
+        .update(schema.caseTable)
+        .set({ expertId, status: "claimed", claimedAt: new Date() })
+        .where(eq(schema.caseTable.id, caseId))
+        .run(),
+    );
     const res = await expert.get(`/api/cases/${caseId}`);
     expect(res.status).toBe(200);
-    expect(res.body.abilities).toEqual({ read: true, edit: false, addTrace: false, deleteTrace: false, addPhoto: false, deletePhoto: false });
+    expect(res.body.abilities).toEqual({
+      read: true,
+      edit: false,
+      addTrace: false,
+      deleteTrace: false,
+      addPhoto: false,
+      deletePhoto: false,
+    });
     expect((await expert.get(`/api/cases/${caseId}/events`)).status).toBe(200);
     expect((await expert.patch(`/api/cases/${caseId}`).send({ complaint: "x" })).status).toBe(403);
-    expect((await expert.get("/api/cases")).body.items.map((c: any) => c.id)).toContain(caseId);
+    expect((await expert.get("/api/cases")).body.items.map((c: { id: unknown }) => c.id)).toContain(caseId);
     // the shop may still add material while claimed, but not edit
     const tech = (await techA.get(`/api/cases/${caseId}`)).body.abilities;
     expect(tech).toMatchObject({ edit: false, addTrace: true, addPhoto: true, deleteTrace: false });

@@ -19,7 +19,7 @@ async function checkoutUrlOn(overrides: Record<string, string>): Promise<{ serve
   servers.push(server);
   const team = await createShopTeam(server, { technicians: 1 });
   const tech = await signIn(server, team.technicians[0]);
-  const caseId = (await insertDraftCase(server, { shopId: team.shop.id, createdBy: team.technicians[0].id }));
+  const caseId = await insertDraftCase(server, { shopId: team.shop.id, createdBy: team.technicians[0].id });
   const res = await tech.post(`/api/cases/${caseId}/submit`).set("Origin", server.url).send({ tier: "standard" });
   expect(res.status, JSON.stringify(res.body)).toBe(201);
   return { server, url: new URL(res.body.checkoutUrl) };

@@ -47,7 +47,10 @@ function alive(pid: number): boolean {
 
 /** The cookies of a response as one Cookie header value. */
 function cookiesOf(res: Response): string {
-  return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+  return res.headers
+    .getSetCookie()
+    .map((c) => c.split(";")[0])
+    .join("; ");
 }
 
 function client(url: string, transport: "polling" | "websocket", cookie: string, origin: string): Client {
@@ -91,7 +94,10 @@ describe.skipIf(missing.length > 0)(`npm run cluster with two nodes${skipReason}
     dataDir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-cluster-"));
     const env = { ...process.env, PORT: String(await freeBlock()), NODES: "2", DATA_DIR: dataDir, LOG_LEVEL: "warn" };
     plan = clusterPlan(env);
-    launcher = spawn(process.execPath, ["--import", "tsx", "scripts/cluster.ts", "--no-build"], { env, stdio: ["ignore", "pipe", "pipe"] });
+    launcher = spawn(process.execPath, ["--import", "tsx", "scripts/cluster.ts", "--no-build"], {
+      env,
+      stdio: ["ignore", "pipe", "pipe"],
+    });
     launcher.stderr!.on("data", (d) => (out += String(d)));
     await new Promise<void>((resolve, reject) => {
       const timer = setTimeout(() => reject(new Error(`launcher not ready in 100 s:\n${out}`)), 100_000);
@@ -186,7 +192,9 @@ describe.skipIf(missing.length > 0)(`npm run cluster with two nodes${skipReason}
     expect(s.io.engine.transport.name).toBe("polling");
     // The session is the sticky node's alone: the other node does not know its sid.
     const other = plan.nodePorts[node === "node1" ? 1 : 0];
-    const probe = await fetch(`http://127.0.0.1:${other}/socket.io/?EIO=4&transport=polling&sid=${s.io.engine.id}`, { headers: { origin } });
+    const probe = await fetch(`http://127.0.0.1:${other}/socket.io/?EIO=4&transport=polling&sid=${s.io.engine.id}`, {
+      headers: { origin },
+    });
     expect(probe.status).toBe(400);
     expect(await probe.json()).toMatchObject({ code: 1, message: "Session ID unknown" });
     expect(s.connected).toBe(true);

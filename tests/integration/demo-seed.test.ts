@@ -1,4 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { SQLiteTable } from "drizzle-orm/sqlite-core";
 import crypto from "node:crypto";
 import { count, eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
@@ -42,27 +43,31 @@ afterAll(async () => {
 });
 
 async function tableCounts() {
-  const n = async (t: any) => (await server.ctx.db.read((tx) => tx.select({ n: count() }).from(t).get()))!.n;
+  const n = async (t: SQLiteTable) => (await server.ctx.db.read((tx) => tx.select({ n: count() }).from(t).get()))!.n;
   return {
-    users: (await n(schema.user)),
-    shops: (await n(schema.shop)),
-    cases: (await n(schema.caseTable)),
-    traces: (await n(schema.trace)),
-    annotations: (await n(schema.annotation)),
-    messages: (await n(schema.message)),
-    payments: (await n(schema.payment)),
-    events: (await n(schema.caseEvent)),
+    users: await n(schema.user),
+    shops: await n(schema.shop),
+    cases: await n(schema.caseTable),
+    traces: await n(schema.trace),
+    annotations: await n(schema.annotation),
+    messages: await n(schema.message),
+    payments: await n(schema.payment),
+    events: await n(schema.caseEvent),
   };
 }
 
 describe("the demo scenario", () => {
   it("has a case in every state of the desk", async () => {
     expect(seeded).toBe(true);
-    const rows = (await server.ctx.db.read((tx) => tx.select({ status: schema.caseTable.status }).from(schema.caseTable).all()));
+    const rows = await server.ctx.db.read((tx) =>
+      tx.select({ status: schema.caseTable.status }).from(schema.caseTable).all(),
+    );
     // the list of states is the product's own (shared/domain/case-status.ts)
     expect(new Set(rows.map((r) => r.status))).toEqual(new Set(caseStatuses));
     for (const c of DEMO_CASES) {
-      const row = (await server.ctx.db.read((tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, result.cases[c.key])).get()))!;
+      const row = (await server.ctx.db.read((tx) =>
+        tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, result.cases[c.key])).get(),
+      ))!;
       expect(row.status, c.key).toBe(c.final);
     }
     expect(result.skipped).toEqual([]);
@@ -83,7 +88,9 @@ describe("the demo scenario", () => {
       const gen = generated.get(c.key)!;
       expect(ids.length, c.key).toBe(gen.length);
       for (const [i, g] of gen.entries()) {
-        const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, ids[i])).get()))!;
+        const row = (await server.ctx.db.read((tx) =>
+          tx.select().from(schema.trace).where(eq(schema.trace.id, ids[i])).get(),
+        ))!;
         // content address = SHA-256 of the bytes (FIPS 180-4, Node's crypto)
         expect(row.sha256).toBe(crypto.createHash("sha256").update(g.csv, "utf8").digest("hex"));
         expect(row.analysis, `${c.key} ${g.name}`).not.toBeNull();
@@ -95,7 +102,10 @@ describe("the demo scenario", () => {
   it("flags the planted faulty coil as the odd one out, and only it", async () => {
     const tech = await signIn(server, { email: "tech@burnline.test", password: DEMO_PASSWORD });
     const theo = await signIn(server, { email: "theo.varga@cinderwick.test", password: DEMO_PASSWORD });
-    for (const [key, agent] of [["live-coil", tech], ["queued-gap", theo]] as const) {
+    for (const [key, agent] of [
+      ["live-coil", tech],
+      ["queued-gap", theo],
+    ] as const) {
       const gen = generated.get(key)!;
       const ids = result.traces[key];
       // the generator's truth: which coil was given a fault, and each coil's burn time
@@ -123,20 +133,27 @@ describe("the demo scenario", () => {
     const ids = result.traces["needs-data-injector"];
     const gen = generated.get("needs-data-injector")!;
     const rows = await Promise.all(
-      ids.map(async (id) => (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!),
+      ids.map(
+        async (id) =>
+          (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!,
+      ),
     );
     rows.forEach((r, i) => {
       // the generator's truth: the hump delay it put in (0.7 ms, 1.8 ms when sticking "late")
       const truth = (gen[i].truth as { pulses: { humpDelayMs: number | null }[] }).pulses[0].humpDelayMs!;
-      const measured = (r.analysis as any).summary.humpDelayMs.median as number;
+      const measured = (r.analysis as { summary: { humpDelayMs: { median: number } } }).summary.humpDelayMs.median;
       expect(Math.abs(measured - truth), `injector ${i + 1}`).toBeLessThan(0.1);
     });
   });
 
   it("keeps the marks and the chat of the live cases", async () => {
     const live = result.cases["live-coil"];
-    const marks = (await server.ctx.db.read((tx) => tx.select().from(schema.annotation).where(eq(schema.annotation.caseId, live)).all()));
-    const msgs = (await server.ctx.db.read((tx) => tx.select().from(schema.message).where(eq(schema.message.caseId, live)).all()));
+    const marks = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.annotation).where(eq(schema.annotation.caseId, live)).all(),
+    );
+    const msgs = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.message).where(eq(schema.message.caseId, live)).all(),
+    );
     expect(marks.map((m) => m.kind).sort()).toEqual(["level", "note", "pin", "span"]);
     expect(msgs.length).toBe(4);
     // the span covers the odd coil's first spark line as the generator made it
@@ -146,12 +163,17 @@ describe("the demo scenario", () => {
     expect(span.t0).toBeCloseTo(odd.events[0].timeS, 9);
     expect(span.t1! - span.t0).toBeCloseTo(odd.events[0].burnTimeMs / 1000, 9);
     const waiting = result.cases["needs-data-injector"];
-    const requests = (await server.ctx.db.read((tx) => tx.select().from(schema.message).where(eq(schema.message.caseId, waiting)).all())).filter((m) => m.kind === "data_request");
+    const requests = (
+      await server.ctx.db.read((tx) => tx.select().from(schema.message).where(eq(schema.message.caseId, waiting)).all())
+    ).filter((m) => m.kind === "data_request");
     expect(requests.length).toBe(1);
   });
 
   it("moved the money as the states say, through the Stripe fake", async () => {
-    const pay = async (key: string) => (await server.ctx.db.read((tx) => tx.select().from(schema.payment).where(eq(schema.payment.caseId, result.cases[key])).all()));
+    const pay = async (key: string) =>
+      await server.ctx.db.read((tx) =>
+        tx.select().from(schema.payment).where(eq(schema.payment.caseId, result.cases[key])).all(),
+      );
     // manual capture: held while queued/claimed, captured at the answer, released when withdrawn or refunded before an answer
     expect((await pay("queued-gap")).map((p) => p.status)).toEqual(["authorized"]);
     expect((await pay("live-coil")).map((p) => p.status)).toEqual(["authorized"]);
@@ -160,7 +182,7 @@ describe("the demo scenario", () => {
     expect((await pay("withdrawn")).map((p) => p.status)).toEqual(["released"]);
     expect((await pay("refunded")).map((p) => p.status)).toEqual(["released"]);
     expect((await pay("awaiting-payment")).map((p) => p.status)).toEqual(["pending"]);
-    expect((await pay("draft"))).toEqual([]);
+    expect(await pay("draft")).toEqual([]);
     // 4242 4242 4242 4242 is Stripe's published "succeeds" card (docs.stripe.com/testing#cards)
     expect((await pay("resolved-reluctor"))[0].cardLast4).toBe("4242");
     const b = await server.ctx.db.read((tx) => ledgerBalance(tx, "all"));
@@ -169,7 +191,7 @@ describe("the demo scenario", () => {
   });
 
   it("fills the casebook with about 200 entries across makes and systems, the demo's resolved cases among them", async () => {
-    const entries = (await server.ctx.db.read((tx) => tx.select().from(schema.casebookEntry).all()));
+    const entries = await server.ctx.db.read((tx) => tx.select().from(schema.casebookEntry).all());
     const published = entries.filter((e) => e.caseId).map((e) => e.caseId);
     expect(published.sort()).toEqual([result.cases["resolved-reluctor"], result.cases["resolved-fouled"]].sort());
     expect(entries.length).toBe(result.casebookEntries);
@@ -206,9 +228,9 @@ describe("the demo scenario", () => {
 
   it("does nothing when called again", async () => {
     await whenMailSent();
-    const before = (await tableCounts());
+    const before = await tableCounts();
     expect(before.cases).toBe(DEMO_CASES.length);
     expect(await seedDemoIfEmpty(server.ctx)).toBe(false);
-    expect((await tableCounts())).toEqual(before);
+    expect(await tableCounts()).toEqual(before);
   });
 });

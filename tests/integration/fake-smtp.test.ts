@@ -24,12 +24,21 @@ describe("mail catcher with the mailer adapter", () => {
   });
 
   it("catches a mail sent with nodemailer and waitFor finds it with its links", async () => {
-    const { text, html } = renderMail("Confirm your e-mail address", ["Welcome to the desk.", "Click below to confirm."], {
-      label: "Confirm address",
-      url: "http://localhost:3000/verify?token=abc123&next=%2Fhome",
-    });
+    const { text, html } = renderMail(
+      "Confirm your e-mail address",
+      ["Welcome to the desk.", "Click below to confirm."],
+      {
+        label: "Confirm address",
+        url: "http://localhost:3000/verify?token=abc123&next=%2Fhome",
+      },
+    );
     const waiting = fakes.mail.waitFor((m) => m.to.includes("tech@burnline.test"), 5000);
-    const sent = await fakes.mailer.send({ to: "Tech@Burnline.test", subject: "Confirm your e-mail address", text, html });
+    const sent = await fakes.mailer.send({
+      to: "Tech@Burnline.test",
+      subject: "Confirm your e-mail address",
+      text,
+      html,
+    });
     expect(sent.messageId).toMatch(/^<.+@.+>$/); // RFC 5322 msg-id form, as nodemailer generates it
     const mail = await waiting;
     expect(mail.subject).toBe("Confirm your e-mail address");
@@ -45,7 +54,13 @@ describe("mail catcher with the mailer adapter", () => {
 
   it("keeps Bcc recipients from the envelope and lists messages oldest first", async () => {
     const transport = nodemailer.createTransport({ host: "127.0.0.1", port: fakes.mail.port, secure: false });
-    await transport.sendMail({ from: TEST_MAIL_FROM, to: "owner@burnline.test", bcc: "audit@burnline.test", subject: "First", text: "one" });
+    await transport.sendMail({
+      from: TEST_MAIL_FROM,
+      to: "owner@burnline.test",
+      bcc: "audit@burnline.test",
+      subject: "First",
+      text: "one",
+    });
     await transport.sendMail({ from: TEST_MAIL_FROM, to: "owner@burnline.test", subject: "Second", text: "two" });
     transport.close();
     const all = fakes.mail.messages();
@@ -57,7 +72,13 @@ describe("mail catcher with the mailer adapter", () => {
   });
 
   it("accepts any credentials without TLS, as a local catcher should", async () => {
-    const mailer = createMailer({ host: "127.0.0.1", port: fakes.mail.port, user: "anyone", pass: "anything", from: TEST_MAIL_FROM });
+    const mailer = createMailer({
+      host: "127.0.0.1",
+      port: fakes.mail.port,
+      user: "anyone",
+      pass: "anything",
+      from: TEST_MAIL_FROM,
+    });
     await expect(mailer.verify()).resolves.toBe(true);
     await mailer.send({ to: "expert@burnline.test", subject: "With auth", text: "hello" });
     mailer.close();
@@ -87,7 +108,11 @@ describe("mail storage for the development inbox", () => {
   it("writes one JSON file per message and loads them again after a restart", async () => {
     catcher = await startMailCatcher({ port: 0, storeDir: dir });
     const mailer = createMailer({ host: "127.0.0.1", port: catcher.port, from: TEST_MAIL_FROM });
-    await mailer.send({ to: "owner@burnline.test", subject: "Invite", text: "Join at https://burnline.test/invite/xyz." });
+    await mailer.send({
+      to: "owner@burnline.test",
+      subject: "Invite",
+      text: "Join at https://burnline.test/invite/xyz.",
+    });
     mailer.close();
     const mail = await catcher.waitFor((m) => m.subject === "Invite", 5000);
     expect(readdirSync(dir)).toEqual([`${mail.id}.json`]);

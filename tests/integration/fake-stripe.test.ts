@@ -46,7 +46,14 @@ async function testPay(fake: FakeStripe, sessionId: string, card: string) {
     headers: { "content-type": "application/json" },
     body: JSON.stringify({ card }),
   });
-  return { status: res.status, body: (await res.json()) as { ok: boolean; error?: Stripe.StripeRawError; payment_intent: Stripe.PaymentIntent | null } };
+  return {
+    status: res.status,
+    body: (await res.json()) as {
+      ok: boolean;
+      error?: Stripe.StripeRawError;
+      payment_intent: Stripe.PaymentIntent | null;
+    },
+  };
 }
 
 async function manualCaptureSession(amount = 4900, extra: Partial<Stripe.Checkout.SessionCreateParams> = {}) {
@@ -54,7 +61,10 @@ async function manualCaptureSession(amount = 4900, extra: Partial<Stripe.Checkou
     {
       mode: "payment",
       line_items: [
-        { quantity: 1, price_data: { currency: "usd", unit_amount: amount, product_data: { name: "Second opinion, standard" } } },
+        {
+          quantity: 1,
+          price_data: { currency: "usd", unit_amount: amount, product_data: { name: "Second opinion, standard" } },
+        },
       ],
       payment_intent_data: { capture_method: "manual", metadata: { case_id: "case_1" } },
       success_url: "http://127.0.0.1:9/cases/case_1?paid={CHECKOUT_SESSION_ID}",
@@ -81,7 +91,11 @@ describe("customers", () => {
     const fixedNow = 1_900_000_000; // 2030-03-17T17:46:40Z
     const own = await startFakes({ stripe: { now: () => fixedNow } });
     try {
-      const c = await own.stripeClient.customers.create({ email: "owner@burnline.test", name: "Veltra Motors", metadata: { shop_id: "s1" } });
+      const c = await own.stripeClient.customers.create({
+        email: "owner@burnline.test",
+        name: "Veltra Motors",
+        metadata: { shop_id: "s1" },
+      });
       expect(c.id).toMatch(/^cus_/);
       expect(c.object).toBe("customer");
       expect(c.livemode).toBe(false);
@@ -119,7 +133,10 @@ describe("checkout with manual capture", () => {
     const session = await stripe.checkout.sessions.create({
       mode: "payment",
       line_items: [
-        { quantity: 2, price_data: { currency: "usd", unit_amount: 1250, product_data: { name: "Extra trace review" } } },
+        {
+          quantity: 2,
+          price_data: { currency: "usd", unit_amount: 1250, product_data: { name: "Extra trace review" } },
+        },
         { quantity: 1, price_data: { currency: "usd", unit_amount: 4900, product_data: { name: "Second opinion" } } },
       ],
       payment_intent_data: { capture_method: "manual" },
@@ -167,10 +184,17 @@ describe("checkout with manual capture", () => {
 
     await fakes.stripe.idle();
     const types = receiver.received.map((r) => JSON.parse(r.rawBody.toString("utf8")).type as string);
-    expect(types).toEqual(expect.arrayContaining(["checkout.session.completed", "payment_intent.amount_capturable_updated"]));
+    expect(types).toEqual(
+      expect.arrayContaining(["checkout.session.completed", "payment_intent.amount_capturable_updated"]),
+    );
     // Every delivery passes the SDK's own signature check (oracle: stripe.webhooks.constructEvent, 300 s tolerance).
     for (const r of receiver.received) {
-      const ev = stripe.webhooks.constructEvent(r.rawBody, String(r.headers["stripe-signature"]), fakes.webhookSecret, 300);
+      const ev = stripe.webhooks.constructEvent(
+        r.rawBody,
+        String(r.headers["stripe-signature"]),
+        fakes.webhookSecret,
+        300,
+      );
       expect(ev.id).toMatch(/^evt_/);
       expect(ev.object).toBe("event");
       expect(ev.livemode).toBe(false);
@@ -225,7 +249,9 @@ describe("checkout with manual capture", () => {
     expect(err).toBeInstanceOf(Stripe.errors.StripeInvalidRequestError);
     expect(err).toMatchObject({ code: "payment_intent_unexpected_state" });
     await fakes.stripe.idle();
-    expect(fakes.stripe.events("payment_intent.canceled").map((e) => (e.data.object as Stripe.PaymentIntent).id)).toEqual([pi.id]);
+    expect(
+      fakes.stripe.events("payment_intent.canceled").map((e) => (e.data.object as Stripe.PaymentIntent).id),
+    ).toEqual([pi.id]);
     const balance = await stripe.balance.retrieve();
     expect(balance.available.find((b) => b.currency === "usd")?.amount ?? 0).toBe(0);
   });
@@ -277,11 +303,20 @@ describe("test cards", () => {
     const session = await manualCaptureSession(4900);
     const res = await testPay(fakes.stripe, session.id, card);
     expect(res.status).toBe(402);
-    expect(res.body.error).toMatchObject({ type: "card_error", code: "card_declined", decline_code: declineCode, message });
+    expect(res.body.error).toMatchObject({
+      type: "card_error",
+      code: "card_declined",
+      decline_code: declineCode,
+      message,
+    });
     const pi = await stripe.paymentIntents.retrieve(res.body.payment_intent!.id);
     expect(pi.status).toBe("requires_payment_method");
     expect(pi.amount_capturable).toBe(0);
-    expect(pi.last_payment_error).toMatchObject({ type: "card_error", code: "card_declined", decline_code: declineCode });
+    expect(pi.last_payment_error).toMatchObject({
+      type: "card_error",
+      code: "card_declined",
+      decline_code: declineCode,
+    });
     const s = await stripe.checkout.sessions.retrieve(session.id);
     expect(s.status).toBe("open");
     await fakes.stripe.idle();
@@ -361,11 +396,22 @@ describe("only test cards", () => {
     const session = await manualCaptureSession(4900);
     const html = await (await fetch(session.url!)).text();
     // docs.stripe.com/testing: the test numbers and their outcomes.
-    for (const n of ["4242 4242 4242 4242", "4000 0000 0000 0002", "4000 0000 0000 9995", "4000 0000 0000 0069", "4000 0000 0000 0127", "5555 5555 5555 4444"]) {
+    for (const n of [
+      "4242 4242 4242 4242",
+      "4000 0000 0000 0002",
+      "4000 0000 0000 9995",
+      "4000 0000 0000 0069",
+      "4000 0000 0000 0127",
+      "5555 5555 5555 4444",
+    ]) {
       expect(html).toContain(`<code>${n}</code>`);
     }
     const form = new URLSearchParams({ card_number: notListed, expiry: "12/40", cvc: "123" });
-    const res = await fetch(`${fakes.stripe.url}/checkout/${session.id}/pay`, { method: "POST", body: form, redirect: "manual" });
+    const res = await fetch(`${fakes.stripe.url}/checkout/${session.id}/pay`, {
+      method: "POST",
+      body: form,
+      redirect: "manual",
+    });
     expect(res.status).toBe(400);
     const page = await res.text();
     expect(page).toContain('role="alert"');
@@ -381,14 +427,21 @@ describe("only test cards", () => {
       const c1 = createStripeClient({ secretKey: TEST_STRIPE_KEY, apiBase: first.url, maxNetworkRetries: 0 });
       const session = await c1.checkout.sessions.create({
         mode: "payment",
-        line_items: [{ quantity: 1, price_data: { currency: "usd", unit_amount: 4900, product_data: { name: "Second opinion" } } }],
+        line_items: [
+          { quantity: 1, price_data: { currency: "usd", unit_amount: 4900, product_data: { name: "Second opinion" } } },
+        ],
         payment_intent_data: { capture_method: "manual" },
         success_url: "http://127.0.0.1:9/ok",
       });
       expect(first.pay(session.id, "4000 0000 0000 0002").ok).toBe(false);
       const paid = first.pay(session.id, "4242 4242 4242 4242");
       expect(paid.ok).toBe(true);
-      const viaToken = await c1.paymentIntents.create({ amount: 4900, currency: "usd", capture_method: "manual", payment_method: "pm_card_mastercard" });
+      const viaToken = await c1.paymentIntents.create({
+        amount: 4900,
+        currency: "usd",
+        capture_method: "manual",
+        payment_method: "pm_card_mastercard",
+      });
       await first.close();
 
       const saved = readFileSync(stateFile, "utf8");
@@ -397,8 +450,14 @@ describe("only test cards", () => {
         expect(JSON.stringify(first.state)).not.toContain(digits);
       }
       // docs.stripe.com/api/payment_methods/object: card.brand and card.last4 describe the card.
-      const pms = Object.values(first.state.paymentMethods).map((pm) => [pm.card.brand, pm.card.last4]).sort();
-      expect(pms).toEqual([["mastercard", "4444"], ["visa", "0002"], ["visa", "4242"]]);
+      const pms = Object.values(first.state.paymentMethods)
+        .map((pm) => [pm.card.brand, pm.card.last4])
+        .sort();
+      expect(pms).toEqual([
+        ["mastercard", "4444"],
+        ["visa", "0002"],
+        ["visa", "4242"],
+      ]);
 
       const second = await startFakeStripe({ webhookSecret: "whsec_x", stateFile });
       try {
@@ -435,7 +494,12 @@ describe("only test cards", () => {
 describe("idempotency", () => {
   // docs.stripe.com/api/idempotent_requests: same key → the first result is returned again;
   // the same key with other parameters → idempotency_error (StripeIdempotencyError in the SDK).
-  const params: Stripe.PaymentIntentCreateParams = { amount: 4900, currency: "usd", capture_method: "manual", metadata: { case_id: "c9" } };
+  const params: Stripe.PaymentIntentCreateParams = {
+    amount: 4900,
+    currency: "usd",
+    capture_method: "manual",
+    metadata: { case_id: "c9" },
+  };
 
   it("replays the first answer for the same key and parameters", async () => {
     const first = await stripe.paymentIntents.create(params, { idempotencyKey: "case-c9-submit-1" });
@@ -456,7 +520,12 @@ describe("idempotency", () => {
   });
 
   it("replays a card decline too (the request had started executing)", async () => {
-    const declined = { amount: 4900, currency: "usd", payment_method: "pm_card_chargeDeclined", confirm: true } as const;
+    const declined = {
+      amount: 4900,
+      currency: "usd",
+      payment_method: "pm_card_chargeDeclined",
+      confirm: true,
+    } as const;
     const attempt = () =>
       stripe.paymentIntents.create(declined, { idempotencyKey: "decline-1" }).then(
         () => null,
@@ -477,7 +546,10 @@ describe("refunds, accounts, transfers", () => {
     const { pi } = await authorised(4900);
     await stripe.paymentIntents.capture(pi.id);
     // docs.stripe.com/api/refunds/create: refund against a payment_intent; amount defaults to the remainder.
-    const r1 = await stripe.refunds.create({ payment_intent: pi.id, amount: 1900 }, { idempotencyKey: `refund-${pi.id}-1` });
+    const r1 = await stripe.refunds.create(
+      { payment_intent: pi.id, amount: 1900 },
+      { idempotencyKey: `refund-${pi.id}-1` },
+    );
     expect(r1.id).toMatch(/^re_/);
     expect(r1).toMatchObject({ object: "refund", amount: 1900, status: "succeeded", payment_intent: pi.id });
     const over = await stripe.refunds.create({ payment_intent: pi.id, amount: 3001 }).catch((e: unknown) => e);
@@ -513,7 +585,13 @@ describe("refunds, accounts, transfers", () => {
     expect(acct.id).toMatch(/^acct_/);
     expect(acct.capabilities?.transfers).toBe("active");
     const tr = await stripe.transfers.create(
-      { amount: 3430, currency: "usd", destination: acct.id, source_transaction: captured.latest_charge as string, metadata: { case_id: "case_1" } },
+      {
+        amount: 3430,
+        currency: "usd",
+        destination: acct.id,
+        source_transaction: captured.latest_charge as string,
+        metadata: { case_id: "case_1" },
+      },
       { idempotencyKey: "payout-case_1" },
     );
     expect(tr.id).toMatch(/^tr_/);
@@ -522,10 +600,17 @@ describe("refunds, accounts, transfers", () => {
     const balance = await stripe.balance.retrieve();
     expect(balance.available.find((b) => b.currency === "usd")?.amount).toBe(4900 - 3430);
     const tooMuch = await stripe.transfers
-      .create({ amount: 1471, currency: "usd", destination: acct.id, source_transaction: captured.latest_charge as string })
+      .create({
+        amount: 1471,
+        currency: "usd",
+        destination: acct.id,
+        source_transaction: captured.latest_charge as string,
+      })
       .catch((e: unknown) => e);
     expect(tooMuch).toMatchObject({ statusCode: 400, code: "balance_insufficient" });
-    const unknown = await stripe.transfers.create({ amount: 100, currency: "usd", destination: "acct_missing" }).catch((e: unknown) => e);
+    const unknown = await stripe.transfers
+      .create({ amount: 100, currency: "usd", destination: "acct_missing" })
+      .catch((e: unknown) => e);
     expect(unknown).toMatchObject({ statusCode: 400, code: "resource_missing", param: "destination" });
     await fakes.stripe.idle();
     expect(fakes.stripe.events("transfer.created").map((e) => (e.data.object as Stripe.Transfer).id)).toEqual([tr.id]);
@@ -591,7 +676,9 @@ describe("webhook delivery", () => {
     expect(receiver.received).toHaveLength(0);
     fakes.stripe.releaseDeliveries({ reverse: true });
     await fakes.stripe.idle();
-    const ids = receiver.received.map((r) => ((JSON.parse(r.rawBody.toString("utf8")) as Stripe.Event).data.object as Stripe.Customer).id);
+    const ids = receiver.received.map(
+      (r) => ((JSON.parse(r.rawBody.toString("utf8")) as Stripe.Event).data.object as Stripe.Customer).id,
+    );
     expect(ids.sort()).toEqual([a.id, b.id].sort());
   });
 });
@@ -644,10 +731,12 @@ describe("verifyWebhook", () => {
   });
 
   it("refuses a timestamp 301 s old and accepts one 300 s old (300 s tolerance)", () => {
-    expect(codeOf(() => verifyWebhook(Buffer.from(payload), signPayload(payload, secret, now - 301), secret, now))).toBe(
-      "timestamp_too_old",
-    );
-    expect(codeOf(() => verifyWebhook(Buffer.from(payload), signPayload(payload, secret, now - 300), secret, now))).toBe("accepted");
+    expect(
+      codeOf(() => verifyWebhook(Buffer.from(payload), signPayload(payload, secret, now - 301), secret, now)),
+    ).toBe("timestamp_too_old");
+    expect(
+      codeOf(() => verifyWebhook(Buffer.from(payload), signPayload(payload, secret, now - 300), secret, now)),
+    ).toBe("accepted");
   });
 
   it("refuses a timestamp 600 s in the future, which the SDK alone lets through", () => {
@@ -685,7 +774,11 @@ describe("hosted checkout page", () => {
     expect(html).toContain('href="http://127.0.0.1:9/cases/case_1"');
 
     const form = new URLSearchParams({ card_number: "4242 4242 4242 4242", expiry: "12 / 40", cvc: "123" });
-    const res = await fetch(`${fakes.stripe.url}/checkout/${session.id}/pay`, { method: "POST", body: form, redirect: "manual" });
+    const res = await fetch(`${fakes.stripe.url}/checkout/${session.id}/pay`, {
+      method: "POST",
+      body: form,
+      redirect: "manual",
+    });
     expect(res.status).toBe(303);
     expect(res.headers.get("location")).toBe(`http://127.0.0.1:9/cases/case_1?paid=${session.id}`);
     const s = await stripe.checkout.sessions.retrieve(session.id, { expand: ["payment_intent"] });
@@ -695,7 +788,11 @@ describe("hosted checkout page", () => {
   it("shows the decline message on the page and stays on it", async () => {
     const session = await manualCaptureSession(4900);
     const form = new URLSearchParams({ card_number: "4000 0000 0000 0002", expiry: "12/40", cvc: "123" });
-    const res = await fetch(`${fakes.stripe.url}/checkout/${session.id}/pay`, { method: "POST", body: form, redirect: "manual" });
+    const res = await fetch(`${fakes.stripe.url}/checkout/${session.id}/pay`, {
+      method: "POST",
+      body: form,
+      redirect: "manual",
+    });
     expect(res.status).toBe(402);
     const html = await res.text();
     expect(html).toContain('role="alert"');
@@ -705,7 +802,12 @@ describe("hosted checkout page", () => {
   it("escapes session data in the page", async () => {
     const session = await stripe.checkout.sessions.create({
       mode: "payment",
-      line_items: [{ quantity: 1, price_data: { currency: "usd", unit_amount: 4900, product_data: { name: '<script>alert("x")</script>' } } }],
+      line_items: [
+        {
+          quantity: 1,
+          price_data: { currency: "usd", unit_amount: 4900, product_data: { name: '<script>alert("x")</script>' } },
+        },
+      ],
       success_url: "http://127.0.0.1:9/ok",
     });
     const html = await (await fetch(session.url!)).text();
@@ -716,16 +818,24 @@ describe("hosted checkout page", () => {
 
 describe("configuration", () => {
   it("refuses to send a live key to a custom apiBase", () => {
-    expect(() => createStripeClient({ secretKey: "sk_live_abc", apiBase: fakes.stripe.url })).toThrow(/live secret key/);
+    expect(() => createStripeClient({ secretKey: "sk_live_abc", apiBase: fakes.stripe.url })).toThrow(
+      /live secret key/,
+    );
   });
 
   it("with a configured secret key, accepts exactly that key and refuses others of the same or another length", async () => {
     const own = await startFakes({ stripe: { secretKey: "sk_test_exactly_this_key" } });
     try {
-      const call = (key: string) => fetch(`${own.stripe.url}/v1/balance`, { headers: { authorization: `Bearer ${key}` } });
+      const call = (key: string) =>
+        fetch(`${own.stripe.url}/v1/balance`, { headers: { authorization: `Bearer ${key}` } });
       expect((await call("sk_test_exactly_this_key")).status).toBe(200);
       // docs.stripe.com/api/authentication: a wrong key answers 401.
-      for (const wrong of ["sk_test_exactly_this_kex", "sk_test_exactly_this_ke", "sk_test_exactly_this_key_", "sk_test_other"]) {
+      for (const wrong of [
+        "sk_test_exactly_this_kex",
+        "sk_test_exactly_this_ke",
+        "sk_test_exactly_this_key_",
+        "sk_test_other",
+      ]) {
         const res = await call(wrong);
         expect(res.status, wrong).toBe(401);
         expect(((await res.json()) as { error: { code: string } }).error.code, wrong).toBe("api_key_invalid");
@@ -757,7 +867,9 @@ describe("configuration", () => {
       await first.close();
       const second = await startFakeStripe({ webhookSecret: "whsec_x", stateFile });
       const c2 = createStripeClient({ secretKey: TEST_STRIPE_KEY, apiBase: second.url, maxNetworkRetries: 0 });
-      expect((await c2.customers.retrieve(customer.id)) as Stripe.Customer).toMatchObject({ email: "persist@burnline.test" });
+      expect((await c2.customers.retrieve(customer.id)) as Stripe.Customer).toMatchObject({
+        email: "persist@burnline.test",
+      });
       await second.close();
     } finally {
       rmSync(dir, { recursive: true, force: true });

@@ -56,17 +56,23 @@ describe("invitation limits", () => {
     expect(retry).toBeGreaterThan(3600);
     expect(retry).toBeLessThanOrEqual(24 * 3600);
     // nothing was created or sent for the refused ones
-    expect((await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.shopId, team.shop.id)).all())).length).toBe(15);
+    expect(
+      (await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.shopId, team.shop.id)).all()))
+        .length,
+    ).toBe(15);
   });
 
   test("an established shop (a week old, has paid for a case) is not held to the new shop's daily cap", async () => {
     const team = await createShopTeam(s, { technicians: 1 });
-    (await s.ctx.db.write((tx) => tx.update(schema.shop)
-      .set({ createdAt: new Date(s.ctx.now().getTime() - 30 * 24 * 3600_000) })
-      .where(eq(schema.shop.id, team.shop.id))
-      .run()));
+    await s.ctx.db.write((tx) =>
+      tx
+        .update(schema.shop)
+        .set({ createdAt: new Date(s.ctx.now().getTime() - 30 * 24 * 3600_000) })
+        .where(eq(schema.shop.id, team.shop.id))
+        .run(),
+    );
     const tech = await signIn(s, team.technicians[0]);
-    const caseId = (await insertDraftCase(s, { shopId: team.shop.id, createdBy: team.technicians[0].id }));
+    const caseId = await insertDraftCase(s, { shopId: team.shop.id, createdBy: team.technicians[0].id });
     await submitAndPay(s, tech, caseId);
     const owner = await signIn(s, team.owner);
     const statuses: number[] = [];

@@ -21,7 +21,12 @@ let server: TestServer;
 let expert: CreatedExpert;
 let admin: Awaited<ReturnType<typeof signIn>>;
 
-const ANSWER = { diagnosis: "Open secondary on 2.", rootCause: "Coil 2 winding open.", recommendedFix: "Replace coil 2.", testsToConfirm: "Recapture secondary on 2." };
+const ANSWER = {
+  diagnosis: "Open secondary on 2.",
+  rootCause: "Coil 2 winding open.",
+  recommendedFix: "Replace coil 2.",
+  testsToConfirm: "Recapture secondary on 2.",
+};
 
 beforeAll(async () => {
   server = await startTestServer();
@@ -31,13 +36,13 @@ beforeAll(async () => {
 afterAll(async () => server?.close());
 afterEach(async () => {
   await server.fakeStripe!.idle();
-  (await expectLedgerBalanced(server, "all"));
+  await expectLedgerBalanced(server, "all");
 });
 
 async function answeredCase(tier = "standard") {
   const t = await createShopTeam(server, { technicians: 1 });
   const tech = await signIn(server, t.technicians[0]);
-  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+  const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
   const paid = await submitAndPay(server, tech, caseId, { tier });
   const e = await signIn(server, expert);
   expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
@@ -65,19 +70,36 @@ describe("admin pricing", () => {
       ],
     };
     // validation: fractional cents, a share over 100 %, a duplicate tier
-    expect((await admin.put("/api/admin/pricing").send({ ...body, tiers: [{ ...body.tiers[0], priceCents: 49.5 }] })).status).toBe(400);
+    expect(
+      (await admin.put("/api/admin/pricing").send({ ...body, tiers: [{ ...body.tiers[0], priceCents: 49.5 }] })).status,
+    ).toBe(400);
     expect((await admin.put("/api/admin/pricing").send({ ...body, deskShareBasisPoints: 10001 })).status).toBe(400);
-    expect((await admin.put("/api/admin/pricing").send({ ...body, tiers: [body.tiers[0], body.tiers[0]] })).status).toBe(400);
+    expect(
+      (await admin.put("/api/admin/pricing").send({ ...body, tiers: [body.tiers[0], body.tiers[0]] })).status,
+    ).toBe(400);
     expect((await tech.put("/api/admin/pricing").send(body)).status).toBe(403);
     const put = await admin.put("/api/admin/pricing").send(body);
     expect(put.status).toBe(200);
-    expect(put.body.tiers.map((t: { id: string; priceCents: number }) => [t.id, t.priceCents])).toEqual([["standard", 12345], ["priority", 19900]]);
+    expect(put.body.tiers.map((t: { id: string; priceCents: number }) => [t.id, t.priceCents])).toEqual([
+      ["standard", 12345],
+      ["priority", 19900],
+    ]);
 
     const { caseId } = await answeredCase();
-    const b = (await expectLedgerBalanced(server, caseId));
+    const b = await expectLedgerBalanced(server, caseId);
     expect(b).toMatchObject({ capturedCents: 12345, deskShareCents: 1851, expertEarningsCents: 10494 });
     // back to the defaults for the other tests
-    const reset = await admin.put("/api/admin/pricing").send({ ...body, deskShareBasisPoints: 2000, firstWaveSize: 3, widenAfterMinutes: 30, closeAnsweredAfterDays: 7, tiers: [{ ...body.tiers[0], priceCents: 4900 }, { ...body.tiers[1], priceCents: 12900 }] });
+    const reset = await admin.put("/api/admin/pricing").send({
+      ...body,
+      deskShareBasisPoints: 2000,
+      firstWaveSize: 3,
+      widenAfterMinutes: 30,
+      closeAnsweredAfterDays: 7,
+      tiers: [
+        { ...body.tiers[0], priceCents: 4900 },
+        { ...body.tiers[1], priceCents: 12900 },
+      ],
+    });
     expect(reset.status).toBe(200);
     // the case paid at the old price keeps it
     expect((await caseRow(server, caseId)).priceCents).toBe(12345);
@@ -92,7 +114,7 @@ describe("refunds", () => {
     expect(res.body.payment.status).toBe("refunded");
     const charge = server.fakeStripe!.state.charges[fakeIntent(server, piId).latest_charge!];
     expect(charge.amount_refunded).toBe(4900);
-    const b = (await expectLedgerBalanced(server, caseId));
+    const b = await expectLedgerBalanced(server, caseId);
     expect(b).toMatchObject({ capturedCents: 4900, refundedCents: 4900, deskShareCents: 0, expertEarningsCents: 0 });
     await server.mailCatcher!.waitFor((m) => m.to.includes(owner.email) && /^Refund/.test(m.subject));
     // a second refund is refused
@@ -104,13 +126,13 @@ describe("refunds", () => {
   it("an admin refund of a queued case cancels the hold and ends the case as refunded", async () => {
     const t = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, t.technicians[0]);
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const paid = await submitAndPay(server, tech, caseId);
     const res = await admin.post(`/api/admin/cases/${caseId}/refund`).send({});
     expect(res.status).toBe(200);
     expect(res.body.status).toBe("refunded");
     expect(fakeIntent(server, paid.paymentIntentId!).status).toBe("canceled");
-    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ releasedCents: 4900, capturedCents: 0 });
+    expect(await expectLedgerBalanced(server, caseId)).toMatchObject({ releasedCents: 4900, capturedCents: 0 });
   });
 });
 
@@ -130,12 +152,20 @@ describe("payouts, earnings, billing", () => {
     // two runs at once pay the amount once
     const [a, b] = await Promise.all([admin.post("/api/admin/payouts").send({}), runPayouts(server.ctx, null)]);
     expect(a.status).toBe(200);
-    const all = [...a.body.payouts, ...b.map((p) => ({ expertId: p.expertId, amountCents: p.amountCents, status: p.status, transferId: p.stripeTransferId }))].filter(
-      (p: { expertId: string }) => p.expertId === expert.id,
-    );
+    const all = [
+      ...a.body.payouts,
+      ...b.map((p) => ({
+        expertId: p.expertId,
+        amountCents: p.amountCents,
+        status: p.status,
+        transferId: p.stripeTransferId,
+      })),
+    ].filter((p: { expertId: string }) => p.expertId === expert.id);
     expect(all).toHaveLength(1);
     expect(all[0]).toMatchObject({ amountCents: owed, status: "paid" });
-    const transfers = Object.values(server.fakeStripe!.state.transfers).filter((x) => x.metadata.expertId === expert.id);
+    const transfers = Object.values(server.fakeStripe!.state.transfers).filter(
+      (x) => x.metadata.expertId === expert.id,
+    );
     expect(transfers).toHaveLength(1);
     const tr = server.fakeStripe!.state.transfers[all[0].transferId];
     expect(tr.amount).toBe(owed);
@@ -145,7 +175,12 @@ describe("payouts, earnings, billing", () => {
     const after = await e.get("/api/earnings");
     expect(after.body.totals).toMatchObject({ paidCents: owed, unpaidCents: 0 });
     expect(after.body.payouts[0]).toMatchObject({ status: "paid", amountCents: owed });
-    expect(after.body.cases.every((c: { grossCents: number; deskCents: number; expertCents: number }) => c.deskCents + c.expertCents === c.grossCents)).toBe(true);
+    expect(
+      after.body.cases.every(
+        (c: { grossCents: number; deskCents: number; expertCents: number }) =>
+          c.deskCents + c.expertCents === c.grossCents,
+      ),
+    ).toBe(true);
     await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Payout sent/.test(m.subject));
     expect((await server.ctx.db.read((tx) => ledgerBalance(tx))).payoutCents).toBeGreaterThanOrEqual(owed);
     // nothing left: another run pays nothing
@@ -164,7 +199,12 @@ describe("payouts, earnings, billing", () => {
     expect(row).toMatchObject({ status: "captured", tierLabel: "Priority", amountCents: 12900, cardLast4: "4242" });
     const receipt = await o.get(`/api/billing/receipts/${row.id}`);
     expect(receipt.status).toBe(200);
-    expect(receipt.body).toMatchObject({ receiptNumber: row.receiptNumber, shopName: shop.name, amountCents: 12900, currency: "usd" });
+    expect(receipt.body).toMatchObject({
+      receiptNumber: row.receiptNumber,
+      shopName: shop.name,
+      amountCents: 12900,
+      currency: "usd",
+    });
 
     const tech = await signIn(server, (await createShopTeam(server)).technicians[0]);
     expect((await tech.get("/api/billing")).status).toBe(403);
@@ -179,7 +219,9 @@ describe("notifications", () => {
     const { tech, caseId } = await answeredCase();
     const list = await tech.get("/api/notifications");
     expect(list.status).toBe(200);
-    const kinds = list.body.items.filter((i: { caseId: string }) => i.caseId === caseId).map((i: { kind: string }) => i.kind);
+    const kinds = list.body.items
+      .filter((i: { caseId: string }) => i.caseId === caseId)
+      .map((i: { kind: string }) => i.kind);
     expect(kinds).toEqual(expect.arrayContaining(["payment_authorized", "case_claimed", "case_answered", "receipt"]));
     expect(list.body.unread).toBeGreaterThanOrEqual(4);
     const first = list.body.items[0];
@@ -195,7 +237,7 @@ describe("notifications", () => {
   it("a declined card creates an in-app notice but no mail", async () => {
     const t = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, t.technicians[0]);
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     await submitAndPay(server, tech, caseId, { card: CARDS.declined });
     const list = await tech.get("/api/notifications");
     expect(list.body.items.map((i: { kind: string }) => i.kind)).toContain("payment_failed");

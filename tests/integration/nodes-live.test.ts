@@ -10,7 +10,16 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { and, eq } from "drizzle-orm";
 import { schema } from "../../server/db/client";
 import { createExpert, createShopTeam, signIn, type SignedInAgent } from "../factories/index";
-import { ask, connected, insertLiveCase, liveClient, sleep, until, type LiveCase, type LiveClient } from "./realtime-helpers";
+import {
+  ask,
+  connected,
+  insertLiveCase,
+  liveClient,
+  sleep,
+  until,
+  type LiveCase,
+  type LiveClient,
+} from "./realtime-helpers";
 import { nodesMissing, startNodes, type NodeRig } from "../helpers/nodes";
 import type { AnnotationRecord, JoinOk, PresencePayload } from "../../shared/realtime";
 
@@ -51,7 +60,11 @@ const newCase = (): Promise<LiveCase> =>
 
 /** A connected socket on node `i` with the agent's session cookie and the front's Origin. */
 async function socketOn(i: number, who: SignedInAgent, opts: { reconnection?: boolean } = {}): Promise<LiveClient> {
-  const s = liveClient(rig.nodes[i].url, { cookie: who.cookie, origin: rig.front, reconnection: opts.reconnection ?? false });
+  const s = liveClient(rig.nodes[i].url, {
+    cookie: who.cookie,
+    origin: rig.front,
+    reconnection: opts.reconnection ?? false,
+  });
   open.push(s);
   return connected(s);
 }
@@ -69,7 +82,12 @@ function stream(s: LiveClient): AnnotationRecord[] {
   return got;
 }
 
-const mark = (c: LiveCase, label: string, i: number) => ({ traceId: c.traceId, kind: "pin" as const, t0: ((i % 900) + 1) * 1e-4, label });
+const mark = (c: LiveCase, label: string, i: number) => ({
+  traceId: c.traceId,
+  kind: "pin" as const,
+  t0: ((i % 900) + 1) * 1e-4,
+  label,
+});
 
 describe.skipIf(!!missing)("live review on two nodes", { timeout: 120_000 }, () => {
   it("marks made on node 1 and node 2 at once reach both clients in the same order: the seq order", async () => {
@@ -113,17 +131,21 @@ describe.skipIf(!!missing)("live review on two nodes", { timeout: 120_000 }, () 
     await join(a, c.caseId);
     await join(b, c.caseId);
     const acks = await Promise.all(
-      Array.from({ length: 200 }, (_, i) =>
-        ask(i % 2 ? b : a, "annotation:create", mark(c, `m${i}`, i), SLOW_MS),
-      ),
+      Array.from({ length: 200 }, (_, i) => ask(i % 2 ? b : a, "annotation:create", mark(c, `m${i}`, i), SLOW_MS)),
     );
     const seqs = acks.map((r) => (r.ok ? r.annotation.seq : -1)).sort((x, y) => x - y);
     expect(seqs).toEqual(Array.from({ length: 200 }, (_, i) => i + 1));
     const stored = await rig.db.read((tx) =>
-      tx.select({ seq: schema.annotation.seq }).from(schema.annotation).where(eq(schema.annotation.caseId, c.caseId)).all(),
+      tx
+        .select({ seq: schema.annotation.seq })
+        .from(schema.annotation)
+        .where(eq(schema.annotation.caseId, c.caseId))
+        .all(),
     );
     expect(stored.map((r) => r.seq).sort((x, y) => x - y)).toEqual(seqs);
-    const head = await rig.db.read((tx) => tx.select().from(schema.caseSeq).where(eq(schema.caseSeq.caseId, c.caseId)).get());
+    const head = await rig.db.read((tx) =>
+      tx.select().from(schema.caseSeq).where(eq(schema.caseSeq.caseId, c.caseId)).get(),
+    );
     expect(head?.seq).toBe(200);
     // the shop's owner, not in the room, is told of every mark: bursts fold into one notice whose
     // count is the number of marks, whichever node stored them and however they were grouped
@@ -135,9 +157,9 @@ describe.skipIf(!!missing)("live review on two nodes", { timeout: 120_000 }, () 
           .where(and(eq(schema.notification.userId, team.owner.id), eq(schema.notification.caseId, c.caseId)))
           .all(),
       );
-    await expect.poll(async () => (await ownerNotice()).map((n) => [n.kind, n.count]), { timeout: SLOW_MS }).toEqual([
-      ["new_mark", 200],
-    ]);
+    await expect
+      .poll(async () => (await ownerNotice()).map((n) => [n.kind, n.count]), { timeout: SLOW_MS })
+      .toEqual([["new_mark", 200]]);
   });
 
   it("presence counts the people in the room across nodes", async () => {

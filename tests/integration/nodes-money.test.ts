@@ -25,7 +25,6 @@ import { createExpert, createShopTeam, signIn } from "../factories/index";
 import { CARDS, insertDraftCase, sessionIdOf } from "../helpers/queue-flow";
 import type { TestServer } from "../helpers/test-app";
 import { nodesMissing, startNodes, WEBHOOK_SECRET, type NodeRig } from "../helpers/nodes";
-import { until } from "./realtime-helpers";
 
 const missing = nodesMissing();
 if (missing) console.warn(`several-node tests skipped: missing ${missing}`);
@@ -58,7 +57,11 @@ async function paidCase() {
 function postEvent(nodeUrl: string, event: unknown) {
   const payload = JSON.stringify(event);
   const signature = Stripe.webhooks.generateTestHeaderString({ payload, secret: WEBHOOK_SECRET });
-  return request(nodeUrl).post("/api/webhooks/stripe").set("Content-Type", "application/json").set("Stripe-Signature", signature).send(payload);
+  return request(nodeUrl)
+    .post("/api/webhooks/stripe")
+    .set("Content-Type", "application/json")
+    .set("Stripe-Signature", signature)
+    .send(payload);
 }
 
 describe.skipIf(!!missing)("payments and the queue on two nodes", () => {
@@ -99,7 +102,10 @@ describe.skipIf(!!missing)("payments and the queue on two nodes", () => {
   });
 
   it("two experts claiming one case on different nodes at once: one wins, the other gets 409", async () => {
-    const [e1, e2] = [await createExpert(rig.ctx, { systems: ["ignition"] }), await createExpert(rig.ctx, { systems: ["ignition"] })];
+    const [e1, e2] = [
+      await createExpert(rig.ctx, { systems: ["ignition"] }),
+      await createExpert(rig.ctx, { systems: ["ignition"] }),
+    ];
     const { caseId } = await paidCase();
     rig.fakes.stripe.releaseDeliveries();
     await rig.fakes.stripe.idle();
@@ -129,8 +135,16 @@ describe.skipIf(!!missing)("payments and the queue on two nodes", () => {
     const caseId = await insertDraftCase(asServer(), { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const longAgo = new Date(Date.now() - 60 * 86_400_000); // far past the closing delay (days, docs/api.md)
     await rig.db.write(async (tx) => {
-      await tx.update(schema.caseTable).set({ status: "answered", expertId: e.id, claimedAt: longAgo }).where(eq(schema.caseTable.id, caseId)).run();
-      await tx.insert(schema.caseQueueState).values({ caseId, answeredAt: longAgo, updatedAt: longAgo }).onConflictDoUpdate({ target: schema.caseQueueState.caseId, set: { answeredAt: longAgo } }).run();
+      await tx
+        .update(schema.caseTable)
+        .set({ status: "answered", expertId: e.id, claimedAt: longAgo })
+        .where(eq(schema.caseTable.id, caseId))
+        .run();
+      await tx
+        .insert(schema.caseQueueState)
+        .values({ caseId, answeredAt: longAgo, updatedAt: longAgo })
+        .onConflictDoUpdate({ target: schema.caseQueueState.caseId, set: { answeredAt: longAgo } })
+        .run();
     });
     const redis = new Redis(rig.redis.url, { maxRetriesPerRequest: null });
     const queue = new Queue(SWEEP_QUEUE, { connection: redis, prefix: QUEUE_PREFIX });
@@ -138,7 +152,8 @@ describe.skipIf(!!missing)("payments and the queue on two nodes", () => {
       const runsBefore = (await queue.getJobs(["completed"])).filter((j) => j.name === "queue").length;
       const started = Date.now();
       const closed = async () =>
-        (await rig.db.read((tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get()))?.status === "closed";
+        (await rig.db.read((tx) => tx.select().from(schema.caseTable).where(eq(schema.caseTable.id, caseId)).get()))
+          ?.status === "closed";
       for (let i = 0; i < 100 && !(await closed()); i++) await new Promise((r) => setTimeout(r, 100));
       expect(await closed()).toBe(true);
       // let several more periods pass: nothing happens to the case again

@@ -15,7 +15,17 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import Stripe from "stripe";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createShopTeam, signIn, createExpert } from "../factories";
-import { CARDS, caseRow, expectLedgerBalanced, flushMail, insertDraftCase, mailsTo, paymentsOf, sessionIdOf, submitAndPay } from "../helpers/queue-flow";
+import {
+  CARDS,
+  caseRow,
+  expectLedgerBalanced,
+  flushMail,
+  insertDraftCase,
+  mailsTo,
+  paymentsOf,
+  sessionIdOf,
+  submitAndPay,
+} from "../helpers/queue-flow";
 import { DEFAULT_TIERS } from "../../server/services/pricing";
 
 let server: TestServer;
@@ -27,7 +37,7 @@ beforeAll(async () => {
 });
 afterAll(async () => server?.close());
 afterEach(async () => {
-  (await expectLedgerBalanced(server, "all"));
+  await expectLedgerBalanced(server, "all");
 });
 
 async function team() {
@@ -39,7 +49,7 @@ async function team() {
 describe("submit and pay", () => {
   it("pay → signed webhook → queued, with the deadline of the tier and a 'paid' mail", async () => {
     const t = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
 
     const pricing = await t.tech.get("/api/pricing");
     expect(pricing.status).toBe(200);
@@ -54,7 +64,7 @@ describe("submit and pay", () => {
     expect(new URL(submit.checkoutUrl).hostname).toBe(new URL(server.url).hostname);
     expect(submit.amountCents).toBe(standard.priceCents);
 
-    const c = (await caseRow(server, caseId));
+    const c = await caseRow(server, caseId);
     expect(c.status).toBe("queued");
     // deadline = authorisation time + 24 h (the tier's window), within the test's run time
     expect(c.deadlineAt!.getTime()).toBeGreaterThanOrEqual(before + 24 * 3600_000);
@@ -71,26 +81,34 @@ describe("submit and pay", () => {
     expect(pi.amount_capturable).toBe(standard.priceCents);
     expect(pi.metadata.caseId).toBe(caseId);
 
-    const paid = await server.mailCatcher!.waitFor((m) => m.to.includes(t.technicians[0].email) && /^Paid and queued/.test(m.subject));
+    const paid = await server.mailCatcher!.waitFor(
+      (m) => m.to.includes(t.technicians[0].email) && /^Paid and queued/.test(m.subject),
+    );
     expect(paid.text).toContain("$49.00");
     // the owner hears too
     await server.mailCatcher!.waitFor((m) => m.to.includes(t.owner.email) && /^Paid and queued/.test(m.subject));
 
     const hist = await t.tech.get(`/api/cases/${caseId}/history`);
     expect(hist.status).toBe(200);
-    expect(hist.body.items.map((e: { type: string }) => e.type)).toEqual(expect.arrayContaining(["submitted", "payment_authorized"]));
+    expect(hist.body.items.map((e: { type: string }) => e.type)).toEqual(
+      expect.arrayContaining(["submitted", "payment_authorized"]),
+    );
     const authorised = hist.body.items.find((e: { type: string }) => e.type === "payment_authorized");
     expect(authorised).toMatchObject({ fromStatus: "awaiting_payment", toStatus: "queued" });
 
     const payment = await t.tech.get(`/api/cases/${caseId}/payment`);
-    expect(payment.body.payment).toMatchObject({ status: "authorized", amountCents: standard.priceCents, cardLast4: "4242" });
-    (await expectLedgerBalanced(server, caseId));
+    expect(payment.body.payment).toMatchObject({
+      status: "authorized",
+      amountCents: standard.priceCents,
+      cardLast4: "4242",
+    });
+    await expectLedgerBalanced(server, caseId);
     expect((await expectLedgerBalanced(server, caseId)).heldCents).toBe(standard.priceCents);
   });
 
   it("the success URL returns the browser to the case page", async () => {
     const t = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const res = await t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "priority" });
     expect(res.status).toBe(201);
     const session = server.fakeStripe!.state.checkoutSessions[sessionIdOf(res.body.checkoutUrl)];
@@ -99,19 +117,23 @@ describe("submit and pay", () => {
     expect(session.amount_total).toBe(DEFAULT_TIERS[1].priceCents);
     // the hosted page's form posts the card and redirects (303) to the success URL with the id filled in
     const form = new URLSearchParams({ card_number: "4242 4242 4242 4242", expiry: "12/40", cvc: "123" });
-    const paid = await fetch(`${server.fakeStripe!.url}/checkout/${session.id}/pay`, { method: "POST", body: form, redirect: "manual" });
+    const paid = await fetch(`${server.fakeStripe!.url}/checkout/${session.id}/pay`, {
+      method: "POST",
+      body: form,
+      redirect: "manual",
+    });
     expect(paid.status).toBe(303);
     expect(paid.headers.get("location")).toBe(`${server.url}/cases/${caseId}?paid=1&session_id=${session.id}`);
     await server.fakeStripe!.idle();
     expect((await caseRow(server, caseId)).status).toBe("queued");
     // the priority tier's deadline: 2 h
-    const c = (await caseRow(server, caseId));
+    const c = await caseRow(server, caseId);
     expect(c.deadlineAt!.getTime() - c.submittedAt!.getTime()).toBe(2 * 3600_000);
   });
 
   it("a declined card leaves the case awaiting payment with a clear message and no 'paid' mail", async () => {
     const t = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const { pay } = await submitAndPay(server, t.tech, caseId, { card: CARDS.declined });
     expect(pay.ok).toBe(false);
     expect((await caseRow(server, caseId)).status).toBe("awaiting_payment");
@@ -147,8 +169,8 @@ describe("submit and pay", () => {
 
   it("one Stripe customer per shop, created once", async () => {
     const t = await team();
-    const a = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
-    const b = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const a = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const b = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const before = Object.keys(server.fakeStripe!.state.customers).length;
     const [ra, rb] = await Promise.all([
       t.tech.post(`/api/cases/${a}/submit`).send({ tier: "standard" }),
@@ -175,14 +197,22 @@ describe("submit and pay", () => {
     const key = `test-${crypto.randomUUID()}`;
     const count = () => Object.keys(server.fakeStripe!.state.paymentIntents).length;
     const before = count();
-    const first = await stripe.paymentIntents.create({ amount: 4900, currency: "usd", capture_method: "manual" }, { idempotencyKey: key });
-    const second = await stripe.paymentIntents.create({ amount: 4900, currency: "usd", capture_method: "manual" }, { idempotencyKey: key });
+    const first = await stripe.paymentIntents.create(
+      { amount: 4900, currency: "usd", capture_method: "manual" },
+      { idempotencyKey: key },
+    );
+    const second = await stripe.paymentIntents.create(
+      { amount: 4900, currency: "usd", capture_method: "manual" },
+      { idempotencyKey: key },
+    );
     expect(second.id).toBe(first.id);
     expect(count()).toBe(before + 1);
-    const err = await stripe.paymentIntents.create({ amount: 5000, currency: "usd", capture_method: "manual" }, { idempotencyKey: key }).then(
-      () => null,
-      (e: unknown) => e,
-    );
+    const err = await stripe.paymentIntents
+      .create({ amount: 5000, currency: "usd", capture_method: "manual" }, { idempotencyKey: key })
+      .then(
+        () => null,
+        (e: unknown) => e,
+      );
     expect(err).toBeInstanceOf(Stripe.errors.StripeIdempotencyError);
     expect((err as Stripe.errors.StripeError).type).toBe("StripeIdempotencyError");
     expect(count()).toBe(before + 1);
@@ -193,13 +223,17 @@ describe("submit and pay", () => {
   it("refuses an unknown tier, an incomplete case, another shop's case and a paid case", async () => {
     const t = await team();
     const other = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const bad = await t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "platinum" });
     expect(bad.status).toBe(400);
     expect(bad.body.error.code).toBe("unknown_tier");
     const foreign = await other.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" });
     expect(foreign.status).toBe(404);
-    const incomplete = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id, system: null }));
+    const incomplete = await insertDraftCase(server, {
+      shopId: t.shop.id,
+      createdBy: t.technicians[0].id,
+      system: null,
+    });
     const inc = await t.tech.post(`/api/cases/${incomplete}/submit`).send({ tier: "standard" });
     expect(inc.status).toBe(409);
     expect(inc.body.error).toMatchObject({ code: "case_incomplete", details: { missing: ["system"] } });

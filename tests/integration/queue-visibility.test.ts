@@ -16,24 +16,39 @@ beforeAll(async () => {
 });
 afterAll(async () => server?.close());
 
-const csv = "Time (ms),A (V)\n" + Array.from({ length: 400 }, (_, i) => `${(i * 0.01).toFixed(2)},${i === 100 ? 8 : 0.2}`).join("\n") + "\n";
+const csv =
+  "Time (ms),A (V)\n" +
+  Array.from({ length: 400 }, (_, i) => `${(i * 0.01).toFixed(2)},${i === 100 ? 8 : 0.2}`).join("\n") +
+  "\n";
 const settings = JSON.stringify({ kind: "generic", probe: "direct", voltsPerDiv: 2, timePerDivS: 0.0005 });
 
 describe("a queued case before and after the claim", () => {
   it("approved experts see it and its traces; pending experts and other shops get 404; after a claim only the claimer", async () => {
     const team = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, team.technicians[0]);
-    const caseId = (await insertDraftCase(server, { shopId: team.shop.id, createdBy: team.technicians[0].id }));
-    const up = await tech.post(`/api/cases/${caseId}/traces`).field("settings", settings).attach("file", Buffer.from(csv), "coil1.csv");
+    const caseId = await insertDraftCase(server, { shopId: team.shop.id, createdBy: team.technicians[0].id });
+    const up = await tech
+      .post(`/api/cases/${caseId}/traces`)
+      .field("settings", settings)
+      .attach("file", Buffer.from(csv), "coil1.csv");
     expect(up.status, JSON.stringify(up.body)).toBe(201);
     // a real 1×1 PNG (PNG signature, ISO/IEC 15948): the photo shown on the case page
-    const png = Buffer.from("89504e470d0a1a0a0000000d4948445200000001000000010806000000" + "1f15c4890000000d49444154789c6360000002000154a24f5d0000000049454e44ae426082", "hex");
+    const png = Buffer.from(
+      "89504e470d0a1a0a0000000d4948445200000001000000010806000000" +
+        "1f15c4890000000d49444154789c6360000002000154a24f5d0000000049454e44ae426082",
+      "hex",
+    );
     const photo = await tech.post(`/api/cases/${caseId}/photos`).attach("file", png, "bay.png");
     expect(photo.status, JSON.stringify(photo.body)).toBe(201);
     await submitAndPay(server, tech, caseId);
     expect((await caseRow(server, caseId)).status).toBe("queued");
 
-    const approved = await createExpert(server, { systems: ["ignition"], makes: [], status: "approved", available: true });
+    const approved = await createExpert(server, {
+      systems: ["ignition"],
+      makes: [],
+      status: "approved",
+      available: true,
+    });
     const other = await createExpert(server, { systems: ["ignition"], makes: [], status: "approved", available: true });
     const pending = await createExpert(server, { systems: ["ignition"], makes: [], status: "pending" });
     const stranger = await signIn(server, (await createShopTeam(server, { technicians: 1 })).technicians[0]);
@@ -57,10 +72,16 @@ describe("a queued case before and after the claim", () => {
     expect((await o.get(`/api/photos/${photo.body.id}`)).status).toBe(404);
 
     // The expert asks for another capture; the tech's upload hands the case back.
-    const ask = await a.post(`/api/cases/${caseId}/request-data`).set("Origin", server.url).send({ message: "Capture coil 2 at 1 ms/div, 2 kV/div" });
+    const ask = await a
+      .post(`/api/cases/${caseId}/request-data`)
+      .set("Origin", server.url)
+      .send({ message: "Capture coil 2 at 1 ms/div, 2 kV/div" });
     expect(ask.status, JSON.stringify(ask.body)).toBe(200);
     expect((await caseRow(server, caseId)).status).toBe("needs_data");
-    const again = await tech.post(`/api/cases/${caseId}/traces`).field("settings", settings).attach("file", Buffer.from(csv), "coil2.csv");
+    const again = await tech
+      .post(`/api/cases/${caseId}/traces`)
+      .field("settings", settings)
+      .attach("file", Buffer.from(csv), "coil2.csv");
     expect(again.status, JSON.stringify(again.body)).toBe(201);
     expect((await caseRow(server, caseId)).status).toBe("claimed");
   });

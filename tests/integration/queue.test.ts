@@ -12,7 +12,17 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createExpert, createShopTeam, signIn, type CreatedExpert } from "../factories";
-import { caseRow, expectLedgerBalanced, fakeIntent, flushMail, insertDraftCase, mailsTo, movableClock, paymentsOf, submitAndPay } from "../helpers/queue-flow";
+import {
+  caseRow,
+  expectLedgerBalanced,
+  fakeIntent,
+  flushMail,
+  insertDraftCase,
+  mailsTo,
+  movableClock,
+  paymentsOf,
+  submitAndPay,
+} from "../helpers/queue-flow";
 import { schema } from "../../server/db/client";
 import { runQueueSweeps, sweepDeadlines, sweepWidenOffers } from "../../server/workflow/sweeps";
 
@@ -26,12 +36,12 @@ beforeAll(async () => {
 afterAll(async () => server?.close());
 afterEach(async () => {
   await server.fakeStripe!.idle();
-  (await expectLedgerBalanced(server, "all"));
+  await expectLedgerBalanced(server, "all");
 });
 
 /** Every expert is approved elsewhere in this file; park them so each test controls who is available. */
 async function parkAllExperts() {
-  (await server.ctx.db.write((tx) => tx.update(schema.expertProfile).set({ available: false }).run()));
+  await server.ctx.db.write((tx) => tx.update(schema.expertProfile).set({ available: false }).run());
 }
 
 async function shop() {
@@ -41,17 +51,23 @@ async function shop() {
 
 async function paidCase(opts: { system?: string; make?: string; tier?: string } = {}) {
   const t = await shop();
-  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id, system: opts.system, make: opts.make }));
+  const caseId = await insertDraftCase(server, {
+    shopId: t.shop.id,
+    createdBy: t.technicians[0].id,
+    system: opts.system,
+    make: opts.make,
+  });
   const paid = await submitAndPay(server, t.tech, caseId, { tier: opts.tier });
   expect((await caseRow(server, caseId)).status).toBe("queued");
   return { ...t, caseId, paid };
 }
 
-const offersOf = async (caseId: string) => (await server.ctx.db.read((tx) => tx.select().from(schema.caseOffer).where(eq(schema.caseOffer.caseId, caseId)).all()));
+const offersOf = async (caseId: string) =>
+  await server.ctx.db.read((tx) => tx.select().from(schema.caseOffer).where(eq(schema.caseOffer.caseId, caseId)).all());
 
 describe("routing", () => {
   it("offers a case to matching experts only; one without the specialty or the make is not offered it", async () => {
-    (await parkAllExperts());
+    await parkAllExperts();
     const match = await createExpert(server, { systems: ["ignition", "fuel"], makes: [] });
     const makeMatch = await createExpert(server, { systems: ["ignition"], makes: ["Veltra"] });
     const wrongSystem = await createExpert(server, { systems: ["fuel", "networks"], makes: [] });
@@ -60,7 +76,7 @@ describe("routing", () => {
     const pending = await createExpert(server, { systems: ["ignition"], makes: [], status: "pending" });
 
     const { caseId } = await paidCase({ system: "ignition", make: "Veltra" });
-    const offered = (await offersOf(caseId));
+    const offered = await offersOf(caseId);
     expect(offered.map((o) => o.expertId).sort()).toEqual([match.id, makeMatch.id].sort());
     // ranked by match: the expert naming the case's make comes before "any make"
     expect(offered.find((o) => o.expertId === makeMatch.id)!.rank).toBe(1);
@@ -69,7 +85,8 @@ describe("routing", () => {
     await server.mailCatcher!.waitFor((m) => m.to.includes(match.email) && /^Case offered/.test(m.subject));
     await server.mailCatcher!.waitFor((m) => m.to.includes(makeMatch.email) && /^Case offered/.test(m.subject));
     await flushMail(server);
-    for (const e of [wrongSystem, wrongMake, away, pending]) expect(mailsTo(server, e.email, /^Case offered/)).toEqual([]);
+    for (const e of [wrongSystem, wrongMake, away, pending])
+      expect(mailsTo(server, e.email, /^Case offered/)).toEqual([]);
 
     // The queue view: offers first for the matched expert; the unmatched one sees it in the whole queue.
     const a = await signIn(server, match);
@@ -92,7 +109,7 @@ describe("routing", () => {
   });
 
   it("ranks by load: an expert at the limit of open cases is not offered", async () => {
-    (await parkAllExperts());
+    await parkAllExperts();
     const busy = await createExpert(server, { systems: ["starting-charging"], maxOpenCases: 1 });
     const free = await createExpert(server, { systems: ["starting-charging"], maxOpenCases: 3 });
     const first = await paidCase({ system: "starting-charging" });
@@ -108,7 +125,7 @@ describe("routing", () => {
   });
 
   it("widens an unclaimed offer to every available approved expert after the set time", async () => {
-    (await parkAllExperts());
+    await parkAllExperts();
     const specialist = await createExpert(server, { systems: ["sensors"] });
     const generalist = await createExpert(server, { systems: ["fuel"] });
     const { caseId } = await paidCase({ system: "sensors" });
@@ -116,7 +133,7 @@ describe("routing", () => {
     expect(await sweepWidenOffers(server.ctx)).toBe(0); // not yet: the default is 30 minutes
     clock.advance(31 * 60_000);
     await sweepWidenOffers(server.ctx);
-    const after = (await offersOf(caseId));
+    const after = await offersOf(caseId);
     expect(after.map((o) => o.expertId)).toContain(generalist.id);
     expect(after.find((o) => o.expertId === generalist.id)!.wave).toBe(2);
     await server.mailCatcher!.waitFor((m) => m.to.includes(generalist.email) && /^Case offered/.test(m.subject));
@@ -129,7 +146,7 @@ describe("routing", () => {
   });
 
   it("experts set themselves available or away", async () => {
-    (await parkAllExperts());
+    await parkAllExperts();
     const e = await createExpert(server, { systems: ["networks"], available: false });
     const agent = await signIn(server, e);
     const none = await paidCase({ system: "networks" });
@@ -153,19 +170,29 @@ describe("claims", () => {
   });
 
   it("concurrent claims: exactly one winner, the others get 409", async () => {
-    const { caseId, technicians, tech } = await paidCase({ system: "ignition" });
+    const { caseId, technicians } = await paidCase({ system: "ignition" });
     const agents = await Promise.all(experts.map((e) => signIn(server, e)));
     const results = await Promise.all(agents.map((a) => a.post(`/api/cases/${caseId}/claim`)));
     const statuses = results.map((r) => r.status).sort();
     expect(statuses).toEqual([200, 409, 409, 409]);
     const winner = results.findIndex((r) => r.status === 200);
-    for (const r of results.filter((x) => x.status === 409)) expect(r.body.error).toMatchObject({ code: "already_claimed", message: "Another expert claimed this case first." });
-    const c = (await caseRow(server, caseId));
+    for (const r of results.filter((x) => x.status === 409))
+      expect(r.body.error).toMatchObject({
+        code: "already_claimed",
+        message: "Another expert claimed this case first.",
+      });
+    const c = await caseRow(server, caseId);
     expect(c.status).toBe("claimed");
     expect(c.expertId).toBe(experts[winner].id);
-    const claims = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all())).filter((e) => e.type === "claimed");
+    const claims = (
+      await server.ctx.db.read((tx) =>
+        tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all(),
+      )
+    ).filter((e) => e.type === "claimed");
     expect(claims).toHaveLength(1);
-    await server.mailCatcher!.waitFor((m) => m.to.includes(technicians[0].email) && /^An expert took your case/.test(m.subject));
+    await server.mailCatcher!.waitFor(
+      (m) => m.to.includes(technicians[0].email) && /^An expert took your case/.test(m.subject),
+    );
     // the winner sees it among their own cases
     const mine = await agents[winner].get("/api/queue");
     expect(mine.body.mine.map((i: { id: string }) => i.id)).toContain(caseId);
@@ -184,10 +211,14 @@ describe("claims", () => {
 
     const deadline = (await caseRow(server, caseId)).deadlineAt!.getTime();
     expect((await other.post(`/api/cases/${caseId}/request-data`).send({ message: "" })).status).toBe(400);
-    const ask = await other.post(`/api/cases/${caseId}/request-data`).send({ message: "Please capture secondary on cylinder 3 at 2500 rpm." });
+    const ask = await other
+      .post(`/api/cases/${caseId}/request-data`)
+      .send({ message: "Please capture secondary on cylinder 3 at 2500 rpm." });
     expect(ask.status).toBe(200);
     expect(ask.body.status).toBe("needs_data");
-    const mail = await server.mailCatcher!.waitFor((m) => m.to.includes(technicians[0].email) && /^More data requested/.test(m.subject));
+    const mail = await server.mailCatcher!.waitFor(
+      (m) => m.to.includes(technicians[0].email) && /^More data requested/.test(m.subject),
+    );
     expect(mail.text).toContain("cylinder 3 at 2500 rpm");
     const wf = await tech.get(`/api/cases/${caseId}/workflow`);
     expect(wf.body.needsDataMessage).toContain("cylinder 3");
@@ -202,21 +233,43 @@ describe("claims", () => {
     expect(sent.body.status).toBe("claimed");
     // the deadline moved on by the hour spent waiting
     expect((await caseRow(server, caseId)).deadlineAt!.getTime() - deadline).toBeGreaterThanOrEqual(60 * 60_000);
-    await server.mailCatcher!.waitFor((m) => m.to.includes(experts[1].email) && /^The shop answered your request/.test(m.subject));
+    await server.mailCatcher!.waitFor(
+      (m) => m.to.includes(experts[1].email) && /^The shop answered your request/.test(m.subject),
+    );
   });
 
   it("a new trace uploaded while waiting for data moves the case back to the expert", async () => {
-    const { caseId, technicians, tech } = await paidCase({ system: "ignition" });
+    const { caseId, technicians } = await paidCase({ system: "ignition" });
     const e = await signIn(server, experts[2]);
     expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
-    expect((await e.post(`/api/cases/${caseId}/request-data`).send({ message: "A photo of the coil connector, please." })).status).toBe(200);
+    expect(
+      (await e.post(`/api/cases/${caseId}/request-data`).send({ message: "A photo of the coil connector, please." }))
+        .status,
+    ).toBe(200);
     clock.advance(5 * 60_000);
-    (await server.ctx.db.write((tx) => tx.insert(schema.photo)
-      .values({ id: crypto.randomUUID(), caseId, uploadedBy: technicians[0].id, name: "connector.jpg", mime: "image/jpeg", bytes: 1000, sha256: "0".repeat(64), path: "photos/x.jpg", createdAt: server.ctx.now() })
-      .run()));
+    await server.ctx.db.write((tx) =>
+      tx
+        .insert(schema.photo)
+        .values({
+          id: crypto.randomUUID(),
+          caseId,
+          uploadedBy: technicians[0].id,
+          name: "connector.jpg",
+          mime: "image/jpeg",
+          bytes: 1000,
+          sha256: "0".repeat(64),
+          path: "photos/x.jpg",
+          createdAt: server.ctx.now(),
+        })
+        .run(),
+    );
     await runQueueSweeps(server.ctx);
     expect((await caseRow(server, caseId)).status).toBe("claimed");
-    const types = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all())).map((x) => x.type);
+    const types = (
+      await server.ctx.db.read((tx) =>
+        tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all(),
+      )
+    ).map((x) => x.type);
     expect(types).toContain("data_uploaded");
     // hand it back so the later tests' experts are not at their limit
     expect((await e.post(`/api/cases/${caseId}/release`)).status).toBe(200);
@@ -225,7 +278,7 @@ describe("claims", () => {
 
 describe("withdraw, deadlines, invalid moves", () => {
   it("withdraw before claim cancels the hold; after a claim it is refused with 409", async () => {
-    (await parkAllExperts());
+    await parkAllExperts();
     const expert = await createExpert(server, { systems: ["fuel"] });
     const { caseId, tech, paid } = await paidCase({ system: "fuel" });
     expect(fakeIntent(server, paid.paymentIntentId!).status).toBe("requires_capture");
@@ -235,7 +288,11 @@ describe("withdraw, deadlines, invalid moves", () => {
     const pi = fakeIntent(server, paid.paymentIntentId!);
     expect(pi.status).toBe("canceled");
     expect(pi.amount_received).toBe(0);
-    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ heldCents: 0, capturedCents: 0, releasedCents: pi.amount });
+    expect(await expectLedgerBalanced(server, caseId)).toMatchObject({
+      heldCents: 0,
+      capturedCents: 0,
+      releasedCents: pi.amount,
+    });
 
     const second = await paidCase({ system: "fuel" });
     expect((await (await signIn(server, expert)).post(`/api/cases/${second.caseId}/claim`)).status).toBe(200);
@@ -248,17 +305,17 @@ describe("withdraw, deadlines, invalid moves", () => {
 
   it("a draft can be withdrawn without any payment", async () => {
     const t = await shop();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const w = await t.tech.post(`/api/cases/${caseId}/withdraw`);
     expect(w.status).toBe(200);
     expect((await caseRow(server, caseId)).status).toBe("withdrawn");
-    expect((await paymentsOf(server, caseId))).toEqual([]);
+    expect(await paymentsOf(server, caseId)).toEqual([]);
     const again = await t.tech.post(`/api/cases/${caseId}/withdraw`);
     expect(again.status).toBe(409);
   });
 
   it("a missed deadline cancels the hold with no capture, marks the case refunded and tells the shop", async () => {
-    (await parkAllExperts());
+    await parkAllExperts();
     const expert = await createExpert(server, { systems: ["engine-mechanical"] });
     const queued = await paidCase({ system: "engine-mechanical", tier: "priority" });
     const claimed = await paidCase({ system: "engine-mechanical", tier: "priority" });
@@ -277,15 +334,21 @@ describe("withdraw, deadlines, invalid moves", () => {
       const pi = fakeIntent(server, x.paid.paymentIntentId!);
       expect(pi.status).toBe("canceled");
       expect(pi.amount_received).toBe(0);
-      const b = (await expectLedgerBalanced(server, x.caseId));
+      const b = await expectLedgerBalanced(server, x.caseId);
       expect(b.capturedCents).toBe(0);
       expect(b.releasedCents).toBe(pi.amount);
-      const m = await server.mailCatcher!.waitFor((mm) => mm.to.includes(x.technicians[0].email) && /^Deadline missed, nothing charged/.test(mm.subject));
+      const m = await server.mailCatcher!.waitFor(
+        (mm) => mm.to.includes(x.technicians[0].email) && /^Deadline missed, nothing charged/.test(mm.subject),
+      );
       expect(m.text).toMatch(/nothing was charged/);
     }
     await server.mailCatcher!.waitFor((m) => m.to.includes(expert.email) && /^Deadline missed/.test(m.subject));
     // answering after the deadline is refused (409, the case is refunded) and captures nothing
-    const late = await (await signIn(server, expert)).post(`/api/cases/${claimed.caseId}/answer`).send({ diagnosis: "x", rootCause: "y", recommendedFix: "z", testsToConfirm: "w" });
+    const late = await (
+      await signIn(server, expert)
+    )
+      .post(`/api/cases/${claimed.caseId}/answer`)
+      .send({ diagnosis: "x", rootCause: "y", recommendedFix: "z", testsToConfirm: "w" });
     expect(late.status).toBe(409);
     expect(late.body.error.code).toBe("invalid_transition");
     expect(fakeIntent(server, claimed.paid.paymentIntentId!).amount_received).toBe(0);
@@ -293,20 +356,22 @@ describe("withdraw, deadlines, invalid moves", () => {
 
   it("an invalid transition answers 409 and changes nothing", async () => {
     const t = await shop();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
-    const before = (await caseRow(server, caseId));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
+    const before = await caseRow(server, caseId);
     const confirm = await t.tech.post(`/api/cases/${caseId}/confirm`).send({ fixed: true });
     expect(confirm.status).toBe(409);
     expect(confirm.body.error.code).toBe("invalid_transition");
     const sent = await t.tech.post(`/api/cases/${caseId}/data-sent`).send({});
     expect(sent.status).toBe(409);
-    const after = (await caseRow(server, caseId));
+    const after = await caseRow(server, caseId);
     expect(after.status).toBe("draft");
     expect(after.updatedAt.getTime()).toBe(before.updatedAt.getTime());
-    const events = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all()));
+    const events = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all(),
+    );
     expect(events).toEqual([]);
     // a technician cannot claim (403), and nobody signed out can (401)
-    (await parkAllExperts());
+    await parkAllExperts();
     await createExpert(server, { systems: ["other"] });
     const { caseId: q } = await paidCase({ system: "other" });
     expect((await t.tech.post(`/api/cases/${q}/claim`)).status).toBe(403);

@@ -19,46 +19,55 @@ export interface LiveCase {
  * 0.1 s capture on channel "A". The trace's data files are not written: the live layer only reads
  * the row (time span and channels).
  */
-export async function insertLiveCase(ctx: Pick<AppContext, "db" | "now">, opts: { shopId: string; createdBy: string; expertId?: string | null; status?: string }): Promise<LiveCase> {
+export async function insertLiveCase(
+  ctx: Pick<AppContext, "db" | "now">,
+  opts: { shopId: string; createdBy: string; expertId?: string | null; status?: string },
+): Promise<LiveCase> {
   const now = ctx.now();
   const caseId = crypto.randomUUID();
   const traceId = crypto.randomUUID();
-  (await ctx.db.write((tx) => tx.insert(schema.caseTable)
-    .values({
-      id: caseId,
-      shopId: opts.shopId,
-      createdBy: opts.createdBy,
-      status: opts.status ?? (opts.expertId ? "claimed" : "draft"),
-      make: "Veltra",
-      model: "Sorrel",
-      year: 2019,
-      complaint: "Misfire on cylinder 4 under load",
-      expertId: opts.expertId ?? null,
-      claimedAt: opts.expertId ? now : null,
-      createdAt: now,
-      updatedAt: now,
-    })
-    .run()));
-  (await ctx.db.write((tx) => tx.insert(schema.trace)
-    .values({
-      id: traceId,
-      caseId,
-      uploadedBy: opts.createdBy,
-      name: "cyl4-secondary.csv",
-      kind: "secondary-ignition",
-      settings: { kind: "secondary-ignition", voltsPerDiv: 5, timePerDivS: 0.01 },
-      sha256: "0".repeat(64),
-      originalBytes: 1,
-      originalPath: "originals/none",
-      dataPath: "traces/none",
-      samples: 10_000,
-      sampleRateHz: 100_000,
-      t0: 0,
-      durationS: 0.1,
-      channels: [{ name: "A", unit: "V", min: -5, max: 30 }],
-      createdAt: now,
-    })
-    .run()));
+  await ctx.db.write((tx) =>
+    tx
+      .insert(schema.caseTable)
+      .values({
+        id: caseId,
+        shopId: opts.shopId,
+        createdBy: opts.createdBy,
+        status: opts.status ?? (opts.expertId ? "claimed" : "draft"),
+        make: "Veltra",
+        model: "Sorrel",
+        year: 2019,
+        complaint: "Misfire on cylinder 4 under load",
+        expertId: opts.expertId ?? null,
+        claimedAt: opts.expertId ? now : null,
+        createdAt: now,
+        updatedAt: now,
+      })
+      .run(),
+  );
+  await ctx.db.write((tx) =>
+    tx
+      .insert(schema.trace)
+      .values({
+        id: traceId,
+        caseId,
+        uploadedBy: opts.createdBy,
+        name: "cyl4-secondary.csv",
+        kind: "secondary-ignition",
+        settings: { kind: "secondary-ignition", voltsPerDiv: 5, timePerDivS: 0.01 },
+        sha256: "0".repeat(64),
+        originalBytes: 1,
+        originalPath: "originals/none",
+        dataPath: "traces/none",
+        samples: 10_000,
+        sampleRateHz: 100_000,
+        t0: 0,
+        durationS: 0.1,
+        channels: [{ name: "A", unit: "V", min: -5, max: 30 }],
+        createdAt: now,
+      })
+      .run(),
+  );
   return { caseId, traceId };
 }
 
@@ -111,10 +120,10 @@ export function ask<E extends keyof ClientToServerEvents>(
   event: E,
   payload: Parameters<ClientToServerEvents[E]>[0],
   timeoutMs = 10_000,
-): Promise<Parameters<Extract<Parameters<ClientToServerEvents[E]>[1], (...a: any[]) => void>>[0]> {
+): Promise<Parameters<Extract<Parameters<ClientToServerEvents[E]>[1], (...a: never[]) => void>>[0]> {
   return new Promise((resolve, reject) => {
     const timer = setTimeout(() => reject(new Error(`no acknowledgement of ${event}`)), timeoutMs);
-    (s.emit as any)(event, payload, (res: any) => {
+    (s.emit as unknown as (e: E, p: unknown, ack: (res: never) => void) => void)(event, payload, (res) => {
       clearTimeout(timer);
       resolve(res);
     });

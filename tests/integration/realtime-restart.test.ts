@@ -74,7 +74,7 @@ describe("a server killed right after an acknowledgement", () => {
     const ctx = { db, now: () => new Date() } as unknown as AppContext;
     const team = await createShopTeam(ctx);
     const e = await createExpert(ctx);
-    const c = (await insertLiveCase(ctx, { shopId: team.shop.id, createdBy: team.technicians[0].id, expertId: e.id }));
+    const c = await insertLiveCase(ctx, { shopId: team.shop.id, createdBy: team.technicians[0].id, expertId: e.id });
     await db.close();
 
     const expert = await signIn({ port }, e);

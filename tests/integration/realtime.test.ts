@@ -1,11 +1,28 @@
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
+import type { SQLiteTable } from "drizzle-orm/sqlite-core";
 import http from "node:http";
-import { and, eq, sql } from "drizzle-orm";
+import { and, eq, sql, type SQL } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createAdmin, createExpert, createShopTeam, signIn, type ShopTeam, type SignedInAgent } from "../factories";
 import { schema } from "../../server/db/client";
-import type { AnnotationRecord, JoinOk, MessageRecord, PointerPayload, PresencePayload, ViewPayload } from "../../shared/realtime";
-import { ask, connected, insertLiveCase, liveClient, sleep, until, type LiveCase, type LiveClient } from "./realtime-helpers";
+import type {
+  AnnotationRecord,
+  JoinOk,
+  MessageRecord,
+  PointerPayload,
+  PresencePayload,
+  ViewPayload,
+} from "../../shared/realtime";
+import {
+  ask,
+  connected,
+  insertLiveCase,
+  liveClient,
+  sleep,
+  until,
+  type LiveCase,
+  type LiveClient,
+} from "./realtime-helpers";
 
 /**
  * Live review over socket.io with real clients on loopback. Expected behaviour comes from the
@@ -26,7 +43,14 @@ let admin: SignedInAgent;
 let expertId: string;
 const open: LiveClient[] = [];
 
-const count = async (table: any, where?: any) => (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(table).where(where).get()))!.n;
+const count = async (table: SQLiteTable, where?: SQL) =>
+  (await server.ctx.db.read((tx) =>
+    tx
+      .select({ n: sql<number>`count(*)` })
+      .from(table)
+      .where(where)
+      .get(),
+  ))!.n;
 
 async function client(agent: SignedInAgent, opts: Parameters<typeof liveClient>[1] = {}): Promise<LiveClient> {
   const s = liveClient(server.url.replace("localhost", "127.0.0.1"), { cookie: agent.cookie, ...opts });
@@ -34,7 +58,12 @@ async function client(agent: SignedInAgent, opts: Parameters<typeof liveClient>[
   return connected(s);
 }
 
-async function joined(agent: SignedInAgent, caseId: string, since?: number, opts: Parameters<typeof liveClient>[1] = {}): Promise<{ s: LiveClient; ack: JoinOk }> {
+async function joined(
+  agent: SignedInAgent,
+  caseId: string,
+  since?: number,
+  opts: Parameters<typeof liveClient>[1] = {},
+): Promise<{ s: LiveClient; ack: JoinOk }> {
   const s = await client(agent, opts);
   const ack = await ask(s, "case:join", since === undefined ? { caseId } : { caseId, since });
   if (!ack.ok) throw new Error(`join refused: ${JSON.stringify(ack)}`);
@@ -42,7 +71,7 @@ async function joined(agent: SignedInAgent, caseId: string, since?: number, opts
 }
 
 async function newCase(): Promise<LiveCase> {
-  return (await insertLiveCase(server.ctx, { shopId: shopA.shop.id, createdBy: shopA.technicians[0].id, expertId }));
+  return await insertLiveCase(server.ctx, { shopId: shopA.shop.id, createdBy: shopA.technicians[0].id, expertId });
 }
 
 beforeAll(async () => {
@@ -66,9 +95,17 @@ afterAll(async () => {
 
 describe("joining a case", () => {
   it("lets the shop's tech, the claimed expert and an admin in, with presence and abilities", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const tech = await joined(techA, c.caseId);
-    expect(tech.ack).toMatchObject({ ok: true, caseId: c.caseId, seq: 0, annotations: [], messages: [], reset: false, caseStatus: "claimed" });
+    expect(tech.ack).toMatchObject({
+      ok: true,
+      caseId: c.caseId,
+      seq: 0,
+      annotations: [],
+      messages: [],
+      reset: false,
+      caseStatus: "claimed",
+    });
     expect(tech.ack.abilities).toEqual({ annotate: true, chat: true, requestData: false });
     expect(tech.ack.you.userId).toBe(shopA.technicians[0].id);
     expect(tech.ack.you.color).toMatch(/^#[0-9a-f]{6}$/i);
@@ -77,10 +114,16 @@ describe("joining a case", () => {
     tech.s.on("presence", (p) => presenceSeen.push(p));
     const exp = await joined(expert, c.caseId);
     expect(exp.ack.abilities).toEqual({ annotate: true, chat: true, requestData: true });
-    expect(exp.ack.presence.participants.map((p) => p.userId).sort()).toEqual([expertId, shopA.technicians[0].id].sort());
+    expect(exp.ack.presence.participants.map((p) => p.userId).sort()).toEqual(
+      [expertId, shopA.technicians[0].id].sort(),
+    );
     // the expert and the tech draw in different colours (desk and shop palettes do not overlap)
     expect(exp.ack.you.color).not.toBe(tech.ack.you.color);
-    await until(() => presenceSeen.some((p) => p.participants.some((x) => x.userId === expertId)), 2000, "presence of the expert at the tech");
+    await until(
+      () => presenceSeen.some((p) => p.participants.some((x) => x.userId === expertId)),
+      2000,
+      "presence of the expert at the tech",
+    );
 
     const adm = await joined(admin, c.caseId);
     expect(adm.ack.abilities).toEqual({ annotate: false, chat: false, requestData: false });
@@ -89,7 +132,7 @@ describe("joining a case", () => {
   });
 
   it("refuses a member of another shop and an expert who did not claim the case: error acks, nothing stored, nothing received", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const tech = await joined(techA, c.caseId);
 
     const intruders = [await client(techB), await client(otherExpert)];
@@ -100,7 +143,12 @@ describe("joining a case", () => {
       const join = await ask(s, "case:join", { caseId: c.caseId });
       // another tenant's case answers like a missing one (DEVELOPERS.md decision 5)
       expect(join).toEqual({ ok: false, error: { code: "not_found", message: "Case not found." } });
-      const create = await ask(s, "annotation:create", { traceId: c.traceId, kind: "pin", t0: 0.02, label: "not mine" });
+      const create = await ask(s, "annotation:create", {
+        traceId: c.traceId,
+        kind: "pin",
+        t0: 0.02,
+        label: "not mine",
+      });
       expect(create).toMatchObject({ ok: false, error: { code: "not_joined" } });
       const chat = await ask(s, "chat:send", { text: "hello?" });
       expect(chat).toMatchObject({ ok: false, error: { code: "not_joined" } });
@@ -112,33 +160,44 @@ describe("joining a case", () => {
     expect((await otherExpert.get(`/api/cases/${c.caseId}/messages`)).status).toBe(404);
 
     // activity in the room reaches none of them
-    const a = await ask(tech.s, "annotation:create", { traceId: c.traceId, kind: "pin", t0: 0.03, label: "firing line" });
+    const a = await ask(tech.s, "annotation:create", {
+      traceId: c.traceId,
+      kind: "pin",
+      t0: 0.03,
+      label: "firing line",
+    });
     expect(a.ok).toBe(true);
     await ask(tech.s, "chat:send", { text: "Plug 4 gap checked" });
     await sleep(200);
     expect(received).toEqual([]);
-    expect((await count(schema.annotation, eq(schema.annotation.caseId, c.caseId)))).toBe(1);
-    expect((await count(schema.message, eq(schema.message.caseId, c.caseId)))).toBe(1);
+    expect(await count(schema.annotation, eq(schema.annotation.caseId, c.caseId))).toBe(1);
+    expect(await count(schema.message, eq(schema.message.caseId, c.caseId))).toBe(1);
   });
 
   it("validates payloads and refuses marks off the trace", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const { s } = await joined(techA, c.caseId);
-    const bad = await ask(s, "annotation:create", { traceId: c.traceId, kind: "span", t0: 0.01 } as any);
+    const bad = await ask(s, "annotation:create", {
+      traceId: c.traceId,
+      kind: "span",
+      t0: 0.01,
+    } as unknown as Parameters<typeof ask<"annotation:create">>[2]);
     expect(bad).toMatchObject({ ok: false, error: { code: "validation_failed" } });
-    expect((bad as any).error.details.fields[0].path).toBe("t1");
+    expect(
+      (bad as unknown as { error: { details: { fields: { path: string }[] } } }).error.details.fields[0].path,
+    ).toBe("t1");
     const off = await ask(s, "annotation:create", { traceId: c.traceId, kind: "pin", t0: 5 });
     expect(off).toMatchObject({ ok: false, error: { code: "validation_failed" } });
-    const other = (await newCase());
+    const other = await newCase();
     const foreignTrace = await ask(s, "annotation:create", { traceId: other.traceId, kind: "pin", t0: 0.01 });
     expect(foreignTrace).toMatchObject({ ok: false, error: { code: "not_found" } });
-    expect((await count(schema.annotation, eq(schema.annotation.caseId, c.caseId)))).toBe(0);
+    expect(await count(schema.annotation, eq(schema.annotation.caseId, c.caseId))).toBe(0);
   });
 });
 
 describe("annotations", () => {
   it("two clients see each other's annotations in the same order, each with the stored seq", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const tech = await joined(techA, c.caseId);
     const exp = await joined(expert, c.caseId);
     const seen = { tech: [] as AnnotationRecord[], exp: [] as AnnotationRecord[] };
@@ -150,10 +209,14 @@ describe("annotations", () => {
     const refused: unknown[] = [];
     for (let i = 0; i < 40; i++) {
       const who = i % 2 === 0 ? { k: "tech" as const, s: tech.s } : { k: "exp" as const, s: exp.s };
-      who.s.emit("annotation:create", { traceId: c.traceId, kind: "pin", t0: 0.001 * (i + 1), level: 10 + i, label: `#${i}`, channel: "A" }, (r) => {
-        if (r.ok) seen[who.k].push(r.annotation);
-        else refused.push(r);
-      });
+      who.s.emit(
+        "annotation:create",
+        { traceId: c.traceId, kind: "pin", t0: 0.001 * (i + 1), level: 10 + i, label: `#${i}`, channel: "A" },
+        (r) => {
+          if (r.ok) seen[who.k].push(r.annotation);
+          else refused.push(r);
+        },
+      );
     }
     await until(() => seen.tech.length === 40 && seen.exp.length === 40, 5000, "all 40 at both");
     expect(refused).toEqual([]);
@@ -161,7 +224,13 @@ describe("annotations", () => {
     expect(order(seen.tech)).toEqual(order(seen.exp));
     const seqs = seen.tech.map((a) => a.seq);
     expect(seqs).toEqual(Array.from({ length: 40 }, (_, i) => i + 1)); // strictly increasing per case, from 1
-    expect(seen.tech.find((a) => a.label === "#1")).toMatchObject({ authorId: expertId, kind: "pin", level: 11, channel: "A", deletedAt: null });
+    expect(seen.tech.find((a) => a.label === "#1")).toMatchObject({
+      authorId: expertId,
+      kind: "pin",
+      level: 11,
+      channel: "A",
+      deletedAt: null,
+    });
 
     // the stored record matches what was sent
     const rest = await techA.get(`/api/cases/${c.caseId}/annotations`);
@@ -171,7 +240,7 @@ describe("annotations", () => {
   });
 
   it("updates and deletes by the author get a new seq; a replay since reproduces the final state", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const tech = await joined(techA, c.caseId);
     const exp = await joined(expert, c.caseId);
     const mk = async (t0: number, label: string) => {
@@ -203,27 +272,40 @@ describe("annotations", () => {
     ]);
     // applying the replay to what the tech had gives exactly the stored final state
     const state = new Map<string, AnnotationRecord>([[a1.id, a1]]);
-    for (const a of replay.ack.annotations) a.deletedAt ? state.delete(a.id) : state.set(a.id, a);
+    for (const a of replay.ack.annotations) {
+      if (a.deletedAt) state.delete(a.id);
+      else state.set(a.id, a);
+    }
     const fresh = await joined(techA, c.caseId, 0);
     expect([...state.values()].sort((x, y) => x.seq - y.seq)).toEqual(fresh.ack.annotations);
     expect(fresh.ack.annotations.map((a) => a.label)).toEqual(["three", "two, moved"]);
   });
 
   it("a retried create with the same clientId is stored once", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const { s } = await joined(techA, c.caseId);
-    const payload = { traceId: c.traceId, kind: "note" as const, t0: 0.05, label: "Coil 4 connector was loose", clientId: "retry-test-0001" };
+    const payload = {
+      traceId: c.traceId,
+      kind: "note" as const,
+      t0: 0.05,
+      label: "Coil 4 connector was loose",
+      clientId: "retry-test-0001",
+    };
     const first = await ask(s, "annotation:create", payload);
     const second = await ask(s, "annotation:create", payload);
     expect(first.ok && second.ok).toBe(true);
     expect(second.ok && second.annotation.id).toBe(first.ok && first.annotation.id);
-    expect((await count(schema.annotation, eq(schema.annotation.caseId, c.caseId)))).toBe(1);
+    expect(await count(schema.annotation, eq(schema.annotation.caseId, c.caseId))).toBe(1);
   });
 
   it("a client that drops during a burst of 500 annotations gets every missed one exactly once after reconnecting with since", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const exp = await joined(expert, c.caseId);
-    const techSocket = liveClient(server.url.replace("localhost", "127.0.0.1"), { cookie: techA.cookie, reconnection: true, reconnectionDelay: 300 });
+    const techSocket = liveClient(server.url.replace("localhost", "127.0.0.1"), {
+      cookie: techA.cookie,
+      reconnection: true,
+      reconnectionDelay: 300,
+    });
     open.push(techSocket);
 
     // the client side of the protocol: apply records above lastSeq, re-join with since on every connect
@@ -254,7 +336,12 @@ describe("annotations", () => {
     const acked: AnnotationRecord[] = [];
     let dropped = false;
     for (let i = 0; i < 500; i++) {
-      const p = ask(exp.s, "annotation:create", { traceId: c.traceId, kind: "pin", t0: (i + 1) * 0.0001, label: `b${i}` }).then((r) => {
+      const p = ask(exp.s, "annotation:create", {
+        traceId: c.traceId,
+        kind: "pin",
+        t0: (i + 1) * 0.0001,
+        label: `b${i}`,
+      }).then((r) => {
         if (!r.ok) throw new Error(JSON.stringify(r));
         acked.push(r.annotation);
       });
@@ -276,7 +363,7 @@ describe("annotations", () => {
 
 describe("chat, data requests, presence, pointers, follow", () => {
   it("chat messages and a request for more data reach the room after the commit", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const tech = await joined(techA, c.caseId);
     const exp = await joined(expert, c.caseId);
     const techGot: MessageRecord[] = [];
@@ -284,9 +371,17 @@ describe("chat, data requests, presence, pointers, follow", () => {
     tech.s.on("chat:message", (m) => techGot.push(m));
     exp.s.on("chat:message", (m) => expGot.push(m));
 
-    const request = { capture: "secondary-ignition" as const, cylinder: 4, settings: { voltsPerDiv: 5, timePerDivS: 0.002, triggerSlope: "rising" as const }, conditions: "warm, 2500 rpm" };
+    const request = {
+      capture: "secondary-ignition" as const,
+      cylinder: 4,
+      settings: { voltsPerDiv: 5, timePerDivS: 0.002, triggerSlope: "rising" as const },
+      conditions: "warm, 2500 rpm",
+    };
     const r = await ask(exp.s, "chat:send", { text: "Please capture cylinder 4 at 2 ms/div", request });
-    expect(r).toMatchObject({ ok: true, message: { kind: "data_request", request, authorId: expertId, authorRole: "expert", seq: 1 } });
+    expect(r).toMatchObject({
+      ok: true,
+      message: { kind: "data_request", request, authorId: expertId, authorRole: "expert", seq: 1 },
+    });
     const techRequest = await ask(tech.s, "chat:send", { text: "", request });
     expect(techRequest).toMatchObject({ ok: false, error: { code: "forbidden" } });
     const reply = await ask(tech.s, "chat:send", { text: "Capturing now" });
@@ -309,7 +404,7 @@ describe("chat, data requests, presence, pointers, follow", () => {
   });
 
   it("shares typing, pointers and the followed view", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const tech = await joined(techA, c.caseId);
     const exp = await joined(expert, c.caseId);
     const presence: PresencePayload[] = [];
@@ -320,7 +415,11 @@ describe("chat, data requests, presence, pointers, follow", () => {
     tech.s.on("view", (v) => views.push(v));
 
     exp.s.emit("chat:typing", { typing: true });
-    await until(() => presence.some((p) => p.participants.find((x) => x.userId === expertId)?.typing === true), 2000, "typing");
+    await until(
+      () => presence.some((p) => p.participants.find((x) => x.userId === expertId)?.typing === true),
+      2000,
+      "typing",
+    );
 
     // 50 moves in a burst are coalesced (at most 20 per second are forwarded); the last one arrives
     for (let i = 0; i < 50; i++) exp.s.emit("pointer:move", { traceId: c.traceId, t: 0.001 * i, v: i });
@@ -343,7 +442,10 @@ describe("chat, data requests, presence, pointers, follow", () => {
 
 describe("the handshake and the session", () => {
   it("refuses a foreign Origin at the handshake, and a handshake without a session", async () => {
-    const evil = liveClient(server.url.replace("localhost", "127.0.0.1"), { cookie: techA.cookie, origin: "http://attacker.example" });
+    const evil = liveClient(server.url.replace("localhost", "127.0.0.1"), {
+      cookie: techA.cookie,
+      origin: "http://attacker.example",
+    });
     open.push(evil);
     await expect(connected(evil)).rejects.toBeTruthy();
     expect(evil.connected).toBe(false);
@@ -353,10 +455,14 @@ describe("the handshake and the session", () => {
     const status = (origin: string) =>
       new Promise<number>((resolve, reject) => {
         http
-          .get(`http://127.0.0.1:${server.port}/socket.io/?EIO=4&transport=polling`, { headers: { origin, cookie: techA.cookie } }, (res) => {
-            res.resume();
-            resolve(res.statusCode ?? 0);
-          })
+          .get(
+            `http://127.0.0.1:${server.port}/socket.io/?EIO=4&transport=polling`,
+            { headers: { origin, cookie: techA.cookie } },
+            (res) => {
+              res.resume();
+              resolve(res.statusCode ?? 0);
+            },
+          )
           .on("error", reject);
       });
     expect(await status("http://attacker.example")).toBe(403);
@@ -374,7 +480,7 @@ describe("the handshake and the session", () => {
   it("drops a signed-out user's socket, and refuses it afterwards", async () => {
     const u = shopA.technicians[0];
     const agent = await signIn(server, u);
-    const c = (await newCase());
+    const c = await newCase();
     const { s } = await joined(agent, c.caseId);
     const reasons: string[] = [];
     s.on("disconnect", (r) => reasons.push(r));
@@ -388,12 +494,18 @@ describe("the handshake and the session", () => {
   });
 
   it("drops the sockets of a user when access is lost (disconnectUser) and when the case moves to another expert", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const exp = await joined(expert, c.caseId);
     const reasons: string[] = [];
     exp.s.on("disconnect", (r) => reasons.push(r));
     const other = await createExpert(server);
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ expertId: other.id }).where(and(eq(schema.caseTable.id, c.caseId))).run()));
+    await server.ctx.db.write((tx) =>
+      tx
+        .update(schema.caseTable)
+        .set({ expertId: other.id })
+        .where(and(eq(schema.caseTable.id, c.caseId)))
+        .run(),
+    );
     await until(() => reasons.length > 0, 4000, "disconnect after losing the case");
     expect(reasons[0]).toBe("io server disconnect");
 
@@ -409,36 +521,46 @@ describe("the handshake and the session", () => {
     const s = await client(agent);
     const reasons: string[] = [];
     s.on("disconnect", (r) => reasons.push(r));
-    (await server.ctx.db.write((tx) => tx.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, shopB.owner.id)).run()));
+    await server.ctx.db.write((tx) =>
+      tx.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, shopB.owner.id)).run(),
+    );
     try {
       await until(() => reasons.length > 0, 4000, "disconnect after the role change");
       expect(reasons[0]).toBe("io server disconnect");
     } finally {
-      (await server.ctx.db.write((tx) => tx.update(schema.user).set({ role: "owner" }).where(eq(schema.user.id, shopB.owner.id)).run()));
+      await server.ctx.db.write((tx) =>
+        tx.update(schema.user).set({ role: "owner" }).where(eq(schema.user.id, shopB.owner.id)).run(),
+      );
     }
   });
 
   it("a new upload by the tech reaches the expert in the room as case:updated (entity trace), its analysis stored", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const exp = await joined(expert, c.caseId);
     const got: { entity: string; id: string }[] = [];
     exp.s.on("case:updated", (u) => got.push(u));
     // 2000 samples at 100 kS/s: one 8 V spike then a 1.5 V line (invented data, only its arrival matters)
     const lines = ["Time (s),Channel A (V)"];
-    for (let i = 0; i < 2000; i++) lines.push(`${(i / 100_000).toFixed(6)},${i >= 500 && i < 502 ? 8 : i >= 502 && i < 650 ? 1.5 : 0}`);
+    for (let i = 0; i < 2000; i++)
+      lines.push(`${(i / 100_000).toFixed(6)},${i >= 500 && i < 502 ? 8 : i >= 502 && i < 650 ? 1.5 : 0}`);
     const up = await techA
       .post(`/api/cases/${c.caseId}/traces`)
-      .field("settings", JSON.stringify({ kind: "secondary-ignition", voltsPerDiv: 2, timePerDivS: 0.002, cylinder: 4 }))
+      .field(
+        "settings",
+        JSON.stringify({ kind: "secondary-ignition", voltsPerDiv: 2, timePerDivS: 0.002, cylinder: 4 }),
+      )
       .attach("file", Buffer.from(lines.join("\n") + "\n"), "cyl4-again.csv");
     expect(up.status).toBe(201);
     await until(() => got.some((u) => u.entity === "trace" && u.id === up.body.id), 3000, "case:updated for the trace");
-    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()))!;
+    const row = (await server.ctx.db.read((tx) =>
+      tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get(),
+    ))!;
     expect(row.caseId).toBe(c.caseId);
     expect(row.analysis).not.toBeNull(); // analysed before the commit that the event follows
   });
 
   it("pushes messages from other services to the case room (ctx.realtime.toCase)", async () => {
-    const c = (await newCase());
+    const c = await newCase();
     const tech = await joined(techA, c.caseId);
     const got: unknown[] = [];
     tech.s.on("case:status", (p) => got.push(p));

@@ -60,7 +60,8 @@ async function newCase(agent: SignedInAgent): Promise<string> {
 
 const tusFiles = () =>
   fs.existsSync(path.join(server.dir, "tmp", "tus")) ? fs.readdirSync(path.join(server.dir, "tmp", "tus")).sort() : [];
-const traceRow = async (id: string) => (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!;
+const traceRow = async (id: string) =>
+  (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!;
 const sha = (b: Buffer) => crypto.createHash("sha256").update(b).digest("hex");
 
 beforeAll(async () => {
@@ -150,6 +151,7 @@ describe("a resumable upload", () => {
   it("with its length declared only at the end (the browser compresses while it sends), is stored the same", async () => {
     const caseId = await newCase(tech);
     const pieces = [gz.subarray(0, 100_000), gz.subarray(100_000, 300_000), gz.subarray(300_000)];
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- what the tus client reports, read field by field below
     const result = await new Promise<any>((resolve, reject) => {
       import("tus-js-client").then((tus) => {
         const up = new tus.Upload(Readable.from(pieces), {
@@ -192,7 +194,9 @@ describe("a resumable upload", () => {
     expect((await post(meta(caseA, { fileBytes: String(21 * 1024 * 1024) }))).status).toBe(413);
     expect((await post(meta(caseA), tech.cookie, String(25 * 1024 * 1024))).status).toBe(413); // Upload-Length over the limit
     const submitted = await newCase(tech);
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, submitted)).run()));
+    await server.ctx.db.write((tx) =>
+      tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, submitted)).run(),
+    );
     const locked = await post(meta(submitted));
     expect(locked.status).toBe(409);
     expect(locked.json.error.code).toBe("case_locked");
@@ -268,6 +272,7 @@ describe("an upload whose last byte arrived but was never read (the server stopp
     fs.writeFileSync(path.join(server.dir, "tmp", "tus", id), gz);
     const head = await tusRequest(server, "HEAD", loc, { Cookie: tech.cookie });
     expect(head.headers.get("upload-offset")).toBe(String(gz.length));
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the upload status answer, read field by field below
     let status: any = null;
     await expect
       .poll(
@@ -380,6 +385,7 @@ describe("gzip bombs over the resumable path", () => {
       expect(size).toBeLessThan(2 * 1024 * 1024);
       const files = dataFiles(server.dir);
       const rows = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).all())).length;
+      // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the tus client's error with its originalResponse
       const err: any = await tusUpload(
         server.url,
         tech.cookie,
@@ -447,10 +453,13 @@ describe("abandoned uploads", () => {
 describe("progress on the case room", () => {
   it("the expert's socket sees the capture arrive, get checked and measured, and stored", async () => {
     const caseId = await newCase(tech);
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable)
-      .set({ status: "claimed", expertId, claimedAt: new Date() })
-      .where(eq(schema.caseTable.id, caseId))
-      .run()));
+    await server.ctx.db.write((tx) =>
+      tx
+        .update(schema.caseTable)
+        .set({ status: "claimed", expertId, claimedAt: new Date() })
+        .where(eq(schema.caseTable.id, caseId))
+        .run(),
+    );
     const socket = connectClient(server.url, {
       transports: ["websocket"],
       extraHeaders: { Cookie: expert.cookie },
@@ -459,7 +468,9 @@ describe("progress on the case room", () => {
     const seen: UploadProgressPayload[] = [];
     socket.on("upload:progress", (p) => seen.push(p));
     try {
-      const joined: any = await new Promise((resolve) => socket.emit("case:join", { caseId, since: 0 }, resolve));
+      const joined: { ok: boolean } = await new Promise((resolve) =>
+        socket.emit("case:join", { caseId, since: 0 }, resolve),
+      );
       expect(joined.ok, JSON.stringify(joined)).toBe(true);
       const res = await tusUpload(server.url, tech.cookie, gz, meta(caseId), { chunkSize: 64 * 1024 });
       await new Promise((r) => setTimeout(r, 100));

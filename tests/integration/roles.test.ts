@@ -2,7 +2,19 @@ import { afterAll, beforeAll, describe, expect, test } from "vitest";
 import request from "supertest";
 import { eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
-import { baseUrl, createAdmin, createExpert, createShopTeam, linkPath, nextTestIp, signIn, waitForMail, type SignedInAgent, type ShopTeam, type CreatedExpert } from "../factories/index";
+import {
+  baseUrl,
+  createAdmin,
+  createExpert,
+  createShopTeam,
+  linkPath,
+  nextTestIp,
+  signIn,
+  waitForMail,
+  type SignedInAgent,
+  type ShopTeam,
+  type CreatedExpert,
+} from "../factories/index";
 import { schema } from "../../server/db/client";
 
 // Rule of the issue: another tenant's record answers 404 (its existence is not disclosed), the
@@ -14,7 +26,8 @@ let a: ShopTeam;
 let b: ShopTeam;
 let expert: CreatedExpert;
 let pending: CreatedExpert;
-const as: Record<"tech" | "owner" | "otherTech" | "otherOwner" | "expert" | "pending" | "admin", SignedInAgent> = {} as never;
+const as: Record<"tech" | "owner" | "otherTech" | "otherOwner" | "expert" | "pending" | "admin", SignedInAgent> =
+  {} as never;
 
 beforeAll(async () => {
   s = await startTestServer();
@@ -49,7 +62,9 @@ test("a user whose stored role is not one of the known roles is denied everythin
   const team = await createShopTeam(s, { technicians: 1 });
   const ag = await signIn(s, team.technicians[0]);
   expect((await ag.get("/api/me")).status).toBe(200);
-  (await s.ctx.db.write((tx) => tx.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, team.technicians[0].id)).run()));
+  await s.ctx.db.write((tx) =>
+    tx.update(schema.user).set({ role: "superuser" }).where(eq(schema.user.id, team.technicians[0].id)).run(),
+  );
   const me = await ag.get("/api/me");
   expect(me.status).toBe(401);
   expect(me.body.error.code).toBe("unauthenticated");
@@ -61,7 +76,11 @@ test("a user whose stored role is not one of the known roles is denied everythin
 
 describe("each role reaches only its routes", () => {
   type Who = keyof typeof as;
-  const cases: { name: string; run: (ag: SignedInAgent) => Promise<request.Response>; expect: Partial<Record<Who | "anon", number>> }[] = [
+  const cases: {
+    name: string;
+    run: (ag: SignedInAgent) => Promise<request.Response>;
+    expect: Partial<Record<Who | "anon", number>>;
+  }[] = [
     {
       name: "GET own shop's team (shop A)",
       run: (ag) => ag.get(`/api/shops/${a.shop.id}/team`),
@@ -74,7 +93,10 @@ describe("each role reaches only its routes", () => {
     },
     {
       name: "POST an invitation into shop A",
-      run: (ag) => ag.post(`/api/shops/${a.shop.id}/invites`).send({ email: `inv-${Math.random().toString(36).slice(2)}@example.test` }),
+      run: (ag) =>
+        ag
+          .post(`/api/shops/${a.shop.id}/invites`)
+          .send({ email: `inv-${Math.random().toString(36).slice(2)}@example.test` }),
       expect: { tech: 403, otherTech: 404, otherOwner: 404, expert: 404, pending: 404, admin: 403 },
     },
     {
@@ -127,9 +149,24 @@ describe("each role reaches only its routes", () => {
   });
 
   test("responses carry the abilities the policy computed", async () => {
-    expect((await as.tech.get(`/api/shops/${a.shop.id}`)).body.abilities).toEqual({ view: true, listMembers: true, invite: false, removeMember: false, manageBilling: false });
-    expect((await as.owner.get(`/api/shops/${a.shop.id}`)).body.abilities).toEqual({ view: true, listMembers: true, invite: true, removeMember: true, manageBilling: true });
-    expect((await as.pending.get("/api/experts/me")).body.abilities).toMatchObject({ view: true, setAvailability: false });
+    expect((await as.tech.get(`/api/shops/${a.shop.id}`)).body.abilities).toEqual({
+      view: true,
+      listMembers: true,
+      invite: false,
+      removeMember: false,
+      manageBilling: false,
+    });
+    expect((await as.owner.get(`/api/shops/${a.shop.id}`)).body.abilities).toEqual({
+      view: true,
+      listMembers: true,
+      invite: true,
+      removeMember: true,
+      manageBilling: true,
+    });
+    expect((await as.pending.get("/api/experts/me")).body.abilities).toMatchObject({
+      view: true,
+      setAvailability: false,
+    });
   });
 });
 
@@ -141,13 +178,29 @@ describe("expert application and review", () => {
     const apply = await request(baseUrl(s))
       .post("/api/experts/apply")
       .set("X-Forwarded-For", nextTestIp())
-      .send({ name: "Ira Vance", email, password, systems: ["ignition", "fuel"], makes: ["Korrin", "Astaro"], bio: "Fifteen years of ignition and fuel diagnostics on the bench.", yearsExperience: 15 });
+      .send({
+        name: "Ira Vance",
+        email,
+        password,
+        systems: ["ignition", "fuel"],
+        makes: ["Korrin", "Astaro"],
+        bio: "Fifteen years of ignition and fuel diagnostics on the bench.",
+        yearsExperience: 15,
+      });
     expect(apply.status).toBe(202);
-    await request(baseUrl(s)).get(linkPath(await waitForMail(s, email, "confirm", since), "/api/auth/verify-email")).expect(302);
+    await request(baseUrl(s))
+      .get(linkPath(await waitForMail(s, email, "confirm", since), "/api/auth/verify-email"))
+      .expect(302);
 
     const list = await as.admin.get("/api/admin/experts?status=pending");
     const entry = list.body.experts.find((e: { email: string }) => e.email === email);
-    expect(entry).toMatchObject({ status: "pending", systems: ["ignition", "fuel"], makes: ["Korrin", "Astaro"], emailVerified: true, abilities: { decide: true } });
+    expect(entry).toMatchObject({
+      status: "pending",
+      systems: ["ignition", "fuel"],
+      makes: ["Korrin", "Astaro"],
+      emailVerified: true,
+      abilities: { decide: true },
+    });
 
     const applicant = await signIn(s, { email, password });
     expect((await applicant.get("/api/me")).body).toMatchObject({ role: "expert", shopId: null });
@@ -159,7 +212,9 @@ describe("expert application and review", () => {
     expect(approve.body.profile.status).toBe("approved");
     const mail = await waitForMail(s, email, "approved", decisionSince);
     expect(mail.text).toContain("Welcome aboard.");
-    const row = (await s.ctx.db.read((tx) => tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, entry.userId)).get()))!;
+    const row = (await s.ctx.db.read((tx) =>
+      tx.select().from(schema.expertProfile).where(eq(schema.expertProfile.userId, entry.userId)).get(),
+    ))!;
     expect(row.decidedBy).not.toBeNull();
 
     const on = await applicant.patch("/api/experts/me").send({ available: true });

@@ -39,7 +39,9 @@ describe("invitations", () => {
 
     // Only the token's SHA-256 is stored (the link carries the token itself): OWASP Forgot Password
     // Cheat Sheet, store one-time tokens securely; docs/api.md states it for invitations.
-    const row = (await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.email, email)).get()))!;
+    const row = (await s.ctx.db.read((tx) =>
+      tx.select().from(schema.invite).where(eq(schema.invite.email, email)).get(),
+    ))!;
     expect(row.tokenHash).toBe(hashToken(token));
     expect(row.tokenHash).not.toContain(token);
     // 7 days: our stated lifetime (docs/api.md, INVITE_TTL_DAYS); the length itself is common practice, no source
@@ -54,7 +56,9 @@ describe("invitations", () => {
     expect(preview.status).toBe(200);
     expect(preview.body).toMatchObject({ email, shopName: "Lowfield Motors" });
 
-    const accept = await request(base).post("/api/invites/accept").send({ token, name: "Noor Tate", password: "Joining-the-bay-77" });
+    const accept = await request(base)
+      .post("/api/invites/accept")
+      .send({ token, name: "Noor Tate", password: "Joining-the-bay-77" });
     expect(accept.status).toBe(201);
     expect(accept.body.email).toBe(email);
 
@@ -62,7 +66,13 @@ describe("invitations", () => {
     // address before the first sign-in; docs/api.md: "verified by the link").
     const tech = await signIn(s, { email, password: "Joining-the-bay-77" });
     const me = await tech.get("/api/me");
-    expect(me.body).toEqual({ id: expect.any(String), email, name: "Noor Tate", role: "technician", shopId: team.shop.id });
+    expect(me.body).toEqual({
+      id: expect.any(String),
+      email,
+      name: "Noor Tate",
+      role: "technician",
+      shopId: team.shop.id,
+    });
 
     // Project rule (issue 2): invite → accept → member of the shop.
     const team2 = await owner.get(`/api/shops/${team.shop.id}/team`);
@@ -73,12 +83,17 @@ describe("invitations", () => {
     expect(team2.body.invites).toEqual([]);
     // abilities computed by the policy (shared/conventions.md: responses carry the computed
     // abilities; docs/api.md: the owner removes technicians only, not the owner)
-    expect(team2.body.members.map((m: { abilities: { remove: boolean } }) => m.abilities.remove)).toEqual([false, true]);
+    expect(team2.body.members.map((m: { abilities: { remove: boolean } }) => m.abilities.remove)).toEqual([
+      false,
+      true,
+    ]);
 
     // one-time (docs/api.md "one-time link"; OWASP Forgot Password Cheat Sheet: tokens are single
     // use): the same link again is refused and nothing more is created
     const users = (await s.ctx.db.read((tx) => tx.select({ n: count() }).from(schema.user).get()))!.n;
-    const reuse = await request(base).post("/api/invites/accept").send({ token, name: "Someone Else", password: "Joining-the-bay-78" });
+    const reuse = await request(base)
+      .post("/api/invites/accept")
+      .send({ token, name: "Someone Else", password: "Joining-the-bay-78" });
     expect(reuse.status).toBe(404);
     expect(reuse.body.error.code).toBe("invite_invalid");
     expect((await s.ctx.db.read((tx) => tx.select({ n: count() }).from(schema.user).get()))!.n).toBe(users);
@@ -92,13 +107,19 @@ describe("invitations", () => {
     const realNow = s.ctx.now;
     s.ctx.now = () => new Date(Date.now() + 7 * 24 * 3600 * 1000 + 1000);
     try {
-      const res = await request(base).post("/api/invites/accept").send({ token, name: "Late", password: "Too-late-for-this-1" });
+      const res = await request(base)
+        .post("/api/invites/accept")
+        .send({ token, name: "Late", password: "Too-late-for-this-1" });
       expect(res.status).toBe(404);
       expect(res.body.error.code).toBe("invite_invalid");
     } finally {
       s.ctx.now = realNow;
     }
-    expect((await s.ctx.db.read((tx) => tx.select().from(schema.user).where(eq(schema.user.email, "late-tech@example.test")).get()))).toBeUndefined();
+    expect(
+      await s.ctx.db.read((tx) =>
+        tx.select().from(schema.user).where(eq(schema.user.email, "late-tech@example.test")).get(),
+      ),
+    ).toBeUndefined();
   });
 
   test("a revoked or replaced invitation no longer works", async () => {
@@ -137,14 +158,22 @@ describe("invitations", () => {
       name: r.body.invite?.name,
       lifetimeMs: Date.parse(r.body.invite?.expiresAt) - Date.parse(r.body.invite?.createdAt),
     });
-    expect(shape(answers[0])).toEqual({ status: 201, keys: ["invite"], inviteKeys: ["createdAt", "email", "expiresAt", "id", "name"], name: "New Tech", lifetimeMs: 7 * 24 * 3600 * 1000 });
+    expect(shape(answers[0])).toEqual({
+      status: 201,
+      keys: ["invite"],
+      inviteKeys: ["createdAt", "email", "expiresAt", "id", "name"],
+      name: "New Tech",
+      lifetimeMs: 7 * 24 * 3600 * 1000,
+    });
     expect(shape(answers[1])).toEqual(shape(answers[0]));
     expect(shape(answers[2])).toEqual(shape(answers[0]));
     expect(answers.map((r) => r.body.invite.email)).toEqual([fresh, expert.email, otherTech.email]);
 
     // The team list shows all three as pending, and each can be withdrawn the same way.
     const listed = await owner.get(`/api/shops/${team.shop.id}/team`);
-    expect(listed.body.invites.map((i: { email: string }) => i.email).sort()).toEqual([fresh, expert.email, otherTech.email].sort());
+    expect(listed.body.invites.map((i: { email: string }) => i.email).sort()).toEqual(
+      [fresh, expert.email, otherTech.email].sort(),
+    );
 
     // The new address gets a link to accept; a registered address gets a notice without one
     // (project rule (issue 2): an account belongs to one shop; an invitation must not move it).
@@ -159,10 +188,18 @@ describe("invitations", () => {
       expect(notice.links.some((l) => /token=/.test(l))).toBe(false);
     }
     // The accounts are as they were.
-    const rowOf = async (id: string) => (await s.ctx.db.read((tx) => tx.select().from(schema.user).where(eq(schema.user.id, id)).get()))!;
-    expect((await rowOf(expert.id))).toMatchObject({ role: "expert", shopId: null, deactivatedAt: null });
-    expect((await rowOf(otherTech.id))).toMatchObject({ role: "technician", shopId: elsewhere.shop.id, deactivatedAt: null });
-    expect((await (await signIn(s, otherTech)).get("/api/me")).body).toMatchObject({ role: "technician", shopId: elsewhere.shop.id });
+    const rowOf = async (id: string) =>
+      (await s.ctx.db.read((tx) => tx.select().from(schema.user).where(eq(schema.user.id, id)).get()))!;
+    expect(await rowOf(expert.id)).toMatchObject({ role: "expert", shopId: null, deactivatedAt: null });
+    expect(await rowOf(otherTech.id)).toMatchObject({
+      role: "technician",
+      shopId: elsewhere.shop.id,
+      deactivatedAt: null,
+    });
+    expect((await (await signIn(s, otherTech)).get("/api/me")).body).toMatchObject({
+      role: "technician",
+      shopId: elsewhere.shop.id,
+    });
 
     for (const r of answers) {
       expect((await owner.delete(`/api/shops/${team.shop.id}/invites/${r.body.invite.id}`)).status).toBe(204);
@@ -179,8 +216,12 @@ describe("invitations", () => {
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe("already_in_team");
     expect(res.body.error.details.fields[0].path).toBe("email");
-    expect((await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.email, member.email)).all()))).toEqual([]);
-    expect(s.mailCatcher!.messages().some((m) => m.to.includes(member.email) && /invited you/i.test(m.subject))).toBe(false);
+    expect(
+      await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.email, member.email)).all()),
+    ).toEqual([]);
+    expect(s.mailCatcher!.messages().some((m) => m.to.includes(member.email) && /invited you/i.test(m.subject))).toBe(
+      false,
+    );
   });
 
   test("an invalid invitation body answers 400 with field details and creates nothing", async () => {
@@ -190,10 +231,18 @@ describe("invitations", () => {
     const res = await owner.post(`/api/shops/${team.shop.id}/invites`).send({ email: "not an address" });
     expect(res.status).toBe(400);
     expect(res.body.error.details.fields).toEqual([{ path: "email", message: expect.any(String) }]);
-    expect((await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.shopId, team.shop.id)).all()))).toEqual([]);
-    const accept = await request(base).post("/api/invites/accept").send({ token: "short", name: "", password: "12345678" });
+    expect(
+      await s.ctx.db.read((tx) => tx.select().from(schema.invite).where(eq(schema.invite.shopId, team.shop.id)).all()),
+    ).toEqual([]);
+    const accept = await request(base)
+      .post("/api/invites/accept")
+      .send({ token: "short", name: "", password: "12345678" });
     expect(accept.status).toBe(400);
-    expect(accept.body.error.details.fields.map((f: { path: string }) => f.path).sort()).toEqual(["name", "password", "token"]);
+    expect(accept.body.error.details.fields.map((f: { path: string }) => f.path).sort()).toEqual([
+      "name",
+      "password",
+      "token",
+    ]);
   });
 });
 
@@ -217,9 +266,14 @@ describe("removing a technician", () => {
     // Project rule (issue 2: the owner removes technicians; docs/api.md: sessions deleted, live
     // connections closed); OWASP Session Management Cheat Sheet: invalidate sessions server-side.
     expect(disconnected).toEqual([techUser.id]);
-    expect((await s.ctx.db.read((tx) => tx.select().from(schema.session).where(eq(schema.session.userId, techUser.id)).all()))).toEqual([]);
+    expect(
+      await s.ctx.db.read((tx) => tx.select().from(schema.session).where(eq(schema.session.userId, techUser.id)).all()),
+    ).toEqual([]);
     expect((await tech.get("/api/me")).status).toBe(401);
-    const again = await request(base).post("/api/auth/sign-in/email").set("X-Forwarded-For", nextTestIp()).send({ email: techUser.email, password: techUser.password });
+    const again = await request(base)
+      .post("/api/auth/sign-in/email")
+      .set("X-Forwarded-For", nextTestIp())
+      .send({ email: techUser.email, password: techUser.password });
     // docs/api.md (sign-in): a removed technician gets 403 account_deactivated.
     expect(again.status).toBe(403);
     expect(again.body.error.code).toBe("account_deactivated");
@@ -231,9 +285,19 @@ describe("removing a technician", () => {
 
     // docs/api.md: a later invitation reactivates the removed account (same id, same shop).
     const { token } = await invite(owner, team.shop.id, techUser.email);
-    expect((await request(base).post("/api/invites/accept").send({ token, name: techUser.name, password: "Back-in-the-bay-21" })).status).toBe(201);
+    expect(
+      (
+        await request(base)
+          .post("/api/invites/accept")
+          .send({ token, name: techUser.name, password: "Back-in-the-bay-21" })
+      ).status,
+    ).toBe(201);
     const back = await signIn(s, { email: techUser.email, password: "Back-in-the-bay-21" });
-    expect((await back.get("/api/me")).body).toMatchObject({ id: techUser.id, role: "technician", shopId: team.shop.id });
+    expect((await back.get("/api/me")).body).toMatchObject({
+      id: techUser.id,
+      role: "technician",
+      shopId: team.shop.id,
+    });
   });
 
   test("the owner cannot remove themselves", async () => {

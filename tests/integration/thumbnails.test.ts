@@ -26,7 +26,15 @@ let tech: SignedInAgent;
 let admin: SignedInAgent;
 let entryId = "";
 let emptyId = "";
-const g = generateSecondary({ seed: 77, sampleRateHz: 200_000, rpm: 1500, events: 1, peakV: 0.8, burnLevelV: 0.15, burnTimeMs: 1.5 });
+const g = generateSecondary({
+  seed: 77,
+  sampleRateHz: 200_000,
+  rpm: 1500,
+  events: 1,
+  peakV: 0.8,
+  burnLevelV: 0.15,
+  burnTimeMs: 1.5,
+});
 let traceT0 = 0;
 
 beforeAll(async () => {
@@ -35,7 +43,11 @@ beforeAll(async () => {
   const e = await createExpert(server);
   tech = await signIn(server, team.technicians[0]);
   admin = await signIn(server, await createAdmin(server));
-  const created = await tech.post("/api/cases").send({ vehicle: { year: 2017, make: "Veltra", model: "Orvane" }, complaint: "Misfire on cylinder 2", system: "ignition" });
+  const created = await tech.post("/api/cases").send({
+    vehicle: { year: 2017, make: "Veltra", model: "Orvane" },
+    complaint: "Misfire on cylinder 2",
+    system: "ignition",
+  });
   expect(created.status).toBe(201);
   const up = await request(server.url)
     .post(`/api/cases/${created.body.id}/traces`)
@@ -45,10 +57,39 @@ beforeAll(async () => {
   expect(up.status, JSON.stringify(up.body)).toBe(201);
   const b = up.body;
   traceT0 = b.t0;
-  const t: CasebookTrace = { id: b.id, name: "Coil 2", kind: b.kind, samples: b.samples, sampleRateHz: b.sampleRateHz, t0: b.t0, durationS: b.durationS, channels: b.channels, settings: b.settings, analysis: b.analysis, windowUrl: `/api/traces/${b.id}/window` };
+  const t: CasebookTrace = {
+    id: b.id,
+    name: "Coil 2",
+    kind: b.kind,
+    samples: b.samples,
+    sampleRateHz: b.sampleRateHz,
+    t0: b.t0,
+    durationS: b.durationS,
+    channels: b.channels,
+    settings: b.settings,
+    analysis: b.analysis,
+    windowUrl: `/api/traces/${b.id}/window`,
+  };
   [entryId, emptyId] = await insertCasebookEntries(server.ctx.db, [
-    { caseId: created.body.id, expertId: e.id, vehicle: { year: 2017, make: "Veltra", model: "Orvane" }, complaint: "Misfire", diagnosis: "Coil 2", rootCause: "Coil 2", fix: "Coil 2", traces: [t] },
-    { vehicle: { year: 2016, make: "Veltra", model: "Orvane" }, complaint: "No traces here", diagnosis: "—", rootCause: "—", fix: "—", traces: [], publishedAt: new Date(Date.now() + 1000) },
+    {
+      caseId: created.body.id,
+      expertId: e.id,
+      vehicle: { year: 2017, make: "Veltra", model: "Orvane" },
+      complaint: "Misfire",
+      diagnosis: "Coil 2",
+      rootCause: "Coil 2",
+      fix: "Coil 2",
+      traces: [t],
+    },
+    {
+      vehicle: { year: 2016, make: "Veltra", model: "Orvane" },
+      complaint: "No traces here",
+      diagnosis: "—",
+      rootCause: "—",
+      fix: "—",
+      traces: [],
+      publishedAt: new Date(Date.now() + 1000),
+    },
   ]);
 });
 
@@ -76,14 +117,22 @@ describe("casebook thumbnails", () => {
     expect(r.headers["content-type"]).toMatch(/^image\/svg\+xml/);
     expect(r.headers["cache-control"]).toMatch(/private/);
     const svg = svgOf(r);
-    expect(svg).toMatch(new RegExp(`^<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${THUMB.width} ${THUMB.height}"`));
+    expect(svg).toMatch(
+      new RegExp(`^<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${THUMB.width} ${THUMB.height}"`),
+    );
     expect(svg).not.toMatch(/<script|<text|on\w+=/i);
     const pts = bandPoints(svg);
     expect(pts.length).toBeGreaterThan(20);
     const top = pts.reduce((a, b) => (b.y < a.y ? b : a));
     // where the firing line is: its time in the thumbnail's window, mapped onto the inner width
     const analysis = { events: [{ timeS: g.truth.events[0].timeS - g.trace.t0 + traceT0, burnTimeMs: 1.5 }] };
-    const w = thumbnailWindow({ samples: g.trace.samples, t0: traceT0, durationS: g.trace.durationS, settings: {}, analysis });
+    const w = thumbnailWindow({
+      samples: g.trace.samples,
+      t0: traceT0,
+      durationS: g.trace.durationS,
+      settings: {},
+      analysis,
+    });
     const xFire = THUMB.pad + ((analysis.events[0].timeS - w.t0) / (w.t1 - w.t0)) * (THUMB.width - 2 * THUMB.pad);
     // within 2 px (a bucket is 3.53 ms / 320 = 11 µs; the apex is 8 µs after the firing starts)
     expect(Math.abs(top.x - xFire)).toBeLessThan(2);
@@ -102,12 +151,16 @@ describe("casebook thumbnails", () => {
 
   it("are authorised like the entry: signed out 401, hidden 404 but for admins, unknown 404", async () => {
     expect((await request(server.url).get(`/api/casebook/${entryId}/thumbnail.svg`)).status).toBe(401);
-    (await server.ctx.db.write((tx) => tx.update(schema.casebookEntry).set({ hidden: true }).where(eq(schema.casebookEntry.id, entryId)).run()));
+    await server.ctx.db.write((tx) =>
+      tx.update(schema.casebookEntry).set({ hidden: true }).where(eq(schema.casebookEntry.id, entryId)).run(),
+    );
     try {
       expect((await tech.get(`/api/casebook/${entryId}/thumbnail.svg`)).status).toBe(404);
       expect((await admin.get(`/api/casebook/${entryId}/thumbnail.svg`)).status).toBe(200);
     } finally {
-      (await server.ctx.db.write((tx) => tx.update(schema.casebookEntry).set({ hidden: false }).where(eq(schema.casebookEntry.id, entryId)).run()));
+      await server.ctx.db.write((tx) =>
+        tx.update(schema.casebookEntry).set({ hidden: false }).where(eq(schema.casebookEntry.id, entryId)).run(),
+      );
     }
     expect((await tech.get(`/api/casebook/no-such-entry/thumbnail.svg`)).status).toBe(404);
   });

@@ -23,7 +23,9 @@ beforeAll(async () => {
   server = await startTestServer({ MAX_TRACE_BYTES: String(4 * 1024 * 1024) });
   const a = await createShopTeam(server);
   tech = await signIn(server, a.technicians[0]);
-  const res = await tech.post("/api/cases").send({ vehicle: { make: "Korrin", model: "Vale" }, complaint: "No start", system: "ignition" });
+  const res = await tech
+    .post("/api/cases")
+    .send({ vehicle: { make: "Korrin", model: "Vale" }, complaint: "No start", system: "ignition" });
   caseId = res.body.id;
 });
 afterAll(async () => {
@@ -48,7 +50,10 @@ describe("trace import through the upload", () => {
   });
 
   it("a units row of words: the unit is kept normalised, with the word the file wrote; skipped rows are reported", async () => {
-    const rows = Array.from({ length: 400 }, (_, i) => `${(i * 1e-5).toExponential(4)},${(Math.sin(i / 9) * 4).toFixed(3)}`);
+    const rows = Array.from(
+      { length: 400 },
+      (_, i) => `${(i * 1e-5).toExponential(4)},${(Math.sin(i / 9) * 4).toFixed(3)}`,
+    );
     rows[10] = "1.0e-4"; // line 13 (names = line 1, units = line 2)
     const res = await upload(["X,CH1", "Second,Volt", ...rows].join("\n"));
     expect(res.status, JSON.stringify(res.body)).toBe(201);

@@ -28,7 +28,15 @@ let ownerB: SignedInAgent;
 let expert: SignedInAgent;
 let expertId: string;
 
-const settings = { kind: "secondary-ignition", probe: "capacitive-secondary", kvPerVolt: 10, voltsPerDiv: 2, timePerDivS: 0.001, triggerLevel: 1.5, cylinder: 4 };
+const settings = {
+  kind: "secondary-ignition",
+  probe: "capacitive-secondary",
+  kvPerVolt: 10,
+  voltsPerDiv: 2,
+  timePerDivS: 0.001,
+  triggerLevel: 1.5,
+  cylinder: 4,
+};
 
 /** Seeded PRNG (mulberry32), so the generated data are the same on every run. */
 function rng(seed: number) {
@@ -60,7 +68,9 @@ function generate(n: number, opts: { rateHz?: number; uneven?: boolean; seed?: n
   const lines: string[] = [opts.uneven ? "Time (s),A (V),B (V)" : "Time (us),A (V),B (V)"];
   let t = 0;
   for (let i = 0; i < n; i++) {
-    const x = Number((2 * Math.sin((2 * Math.PI * 50 * i) / rate) + (r() - 0.5) * 0.2 + (i % 997 === 0 ? 9 : 0)).toPrecision(6));
+    const x = Number(
+      (2 * Math.sin((2 * Math.PI * 50 * i) / rate) + (r() - 0.5) * 0.2 + (i % 997 === 0 ? 9 : 0)).toPrecision(6),
+    );
     const y = Number((Math.cos((2 * Math.PI * 50 * i) / rate) - (i % 1009 === 0 ? 5 : 0)).toPrecision(6));
     a.push(x);
     b.push(y);
@@ -82,7 +92,14 @@ function generate(n: number, opts: { rateHz?: number; uneven?: boolean; seed?: n
  * moved earlier by a rounding allowance δ (so a sample lying on an edge, like 130 µs at 1 MS/s,
  * belongs to the bucket that starts there). Membership is decided by comparison with the edges.
  */
-function bruteWindow(g: Generated, tr: { t0: number; sampleRateHz: number }, t0: number, t1: number, width: number, names: string[]) {
+function bruteWindow(
+  g: Generated,
+  tr: { t0: number; sampleRateHz: number },
+  t0: number,
+  t1: number,
+  width: number,
+  names: string[],
+) {
   const span = t1 - t0;
   const edge = (k: number) => (k >= width ? t1 : t0 + (k * span) / width);
   const delta = (1e-9 * span) / width + 8 * Number.EPSILON * Math.max(Math.abs(t0), Math.abs(t1));
@@ -105,16 +122,26 @@ function bruteWindow(g: Generated, tr: { t0: number; sampleRateHz: number }, t0:
   const ks = [...buckets.keys()].sort((x, y) => x - y);
   return {
     t: ks.map((k) => t0 + (k * span) / width),
-    series: names.map((name, c) => ({ name, min: ks.map((k) => buckets.get(k)!.min[c]), max: ks.map((k) => buckets.get(k)!.max[c]) })),
+    series: names.map((name, c) => ({
+      name,
+      min: ks.map((k) => buckets.get(k)!.min[c]),
+      max: ks.map((k) => buckets.get(k)!.max[c]),
+    })),
   };
 }
 
 async function newCase(agent: SignedInAgent): Promise<string> {
-  const res = await agent.post("/api/cases").send({ vehicle: { make: "Astaro", model: "Dune" }, complaint: "Misfire at idle", codes: ["P0304"], system: "ignition" });
+  const res = await agent.post("/api/cases").send({
+    vehicle: { make: "Astaro", model: "Dune" },
+    complaint: "Misfire at idle",
+    codes: ["P0304"],
+    system: "ignition",
+  });
   expect(res.status).toBe(201);
   return res.body.id;
 }
 
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- a supertest agent of any signed-in user
 function upload(agent: any, caseId: string, body: string | Buffer, filename = "capture.csv", s: unknown = settings) {
   return agent
     .post(`/api/cases/${caseId}/traces`)
@@ -123,7 +150,8 @@ function upload(agent: any, caseId: string, body: string | Buffer, filename = "c
 }
 
 async function storedAnalysis(id: string) {
-  return (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!.analysis;
+  return (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, id)).get()))!
+    .analysis;
 }
 
 function filesUnder(dir: string): string[] {
@@ -157,16 +185,28 @@ describe("POST /api/cases/:id/traces", () => {
     // 2000 samples, 10 µs apart → 100 kHz, 2000 / 100 kHz = 20 ms
     expect(t).toMatchObject({ samples: 2000, sampleRateHz: 100_000, name: "coil4.csv", kind: "secondary-ignition" });
     expect(t.durationS).toBeCloseTo(0.02, 12);
-    expect(t.channels.map((c: any) => [c.name, c.unit])).toEqual([["A", "V"], ["B", "V"]]);
+    expect(t.channels.map((c: { name: string; unit: string }) => [c.name, c.unit])).toEqual([
+      ["A", "V"],
+      ["B", "V"],
+    ]);
     expect(t.channels[0].max).toBe(Math.fround(Math.max(...g.values[0])));
     expect(t.channels[1].min).toBe(Math.fround(Math.min(...g.values[1])));
-    expect(t.settings).toMatchObject({ voltsPerDiv: 2, timePerDivS: 0.001, triggerLevel: 1.5, cylinder: 4, triggerMode: "auto", coupling: "dc" });
+    expect(t.settings).toMatchObject({
+      voltsPerDiv: 2,
+      timePerDivS: 0.001,
+      triggerLevel: 1.5,
+      cylinder: 4,
+      triggerMode: "auto",
+      coupling: "dc",
+    });
     // measured once at upload (shared/analysis), stored with the trace: the kind from the settings
     expect(t.analysis).toMatchObject({ kind: "secondary-ignition", channel: "A" });
-    expect((await storedAnalysis(t.id))).toEqual(t.analysis);
+    expect(await storedAnalysis(t.id)).toEqual(t.analysis);
 
     const sha = crypto.createHash("sha256").update(g.text).digest("hex");
-    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, t.id)).get()))!;
+    const row = (await server.ctx.db.read((tx) =>
+      tx.select().from(schema.trace).where(eq(schema.trace.id, t.id)).get(),
+    ))!;
     expect(row.sha256).toBe(sha);
     // kept gzip-compressed (RFC 1952), addressed by the SHA-256 of the plain bytes; node:zlib inflates it back
     expect(row.originalPath).toBe(`originals/${sha.slice(0, 2)}/${sha}.gz`);
@@ -176,18 +216,65 @@ describe("POST /api/cases/:id/traces", () => {
     expect(filesUnder(path.join(server.dir, "tmp"))).toEqual([]);
 
     const c = (await techA.get(`/api/cases/${caseId}`)).body;
-    expect(c.traces.map((x: any) => x.id)).toEqual([t.id]);
-    expect(Object.keys(c.traces[0])).toEqual(expect.arrayContaining(["id", "name", "samples", "sampleRateHz", "durationS", "channels", "settings", "kind", "analysis"]));
-    const ev = (await techA.get(`/api/cases/${caseId}/events`)).body.items.map((e: any) => e.type);
+    expect(c.traces.map((x: { id: unknown }) => x.id)).toEqual([t.id]);
+    expect(Object.keys(c.traces[0])).toEqual(
+      expect.arrayContaining([
+        "id",
+        "name",
+        "samples",
+        "sampleRateHz",
+        "durationS",
+        "channels",
+        "settings",
+        "kind",
+        "analysis",
+      ]),
+    );
+    const ev = (await techA.get(`/api/cases/${caseId}/events`)).body.items.map((e: { type: unknown }) => e.type);
     expect(ev).toEqual(["created", "trace_added"]);
   });
 
   it.each([
-    ["semicolons with decimal commas and a [ms] time column", "Time [ms];Coil (V)\n0;0,5\n0,02;1,5\n0,04;2,5\n0,06;3,5\n0,08;4,5\n", {}, 5, 50_000, [0.5, 1.5]],
-    ["tab-separated with a _us time column and scientific notation", "t_us\tA\n0\t1e-3\n20\t2E-3\n40\t3e-3\n60\t4e-3\n", {}, 4, 50_000, [1e-3, 2e-3]],
-    ["metadata and comment lines before the header", "# exported by a bench scope\nModel,XYZ\n\nTime (s),A (V)\n0,1\n0.001,2\n0.002,3\n0.003,4\n", {}, 4, 1000, [1, 2]],
-    ["no time column, with the stated sample rate", "A (V),B (V)\n1,2\n3,4\n5,6\n7,8\n", { sampleRateHz: 25_000 }, 4, 25_000, [1, 3]],
-    ["CRLF line ends and a (µs) time column", "Time (µs),A (V)\r\n0,1\r\n5,2\r\n10,3\r\n15,4\r\n", {}, 4, 200_000, [1, 2]],
+    [
+      "semicolons with decimal commas and a [ms] time column",
+      "Time [ms];Coil (V)\n0;0,5\n0,02;1,5\n0,04;2,5\n0,06;3,5\n0,08;4,5\n",
+      {},
+      5,
+      50_000,
+      [0.5, 1.5],
+    ],
+    [
+      "tab-separated with a _us time column and scientific notation",
+      "t_us\tA\n0\t1e-3\n20\t2E-3\n40\t3e-3\n60\t4e-3\n",
+      {},
+      4,
+      50_000,
+      [1e-3, 2e-3],
+    ],
+    [
+      "metadata and comment lines before the header",
+      "# exported by a bench scope\nModel,XYZ\n\nTime (s),A (V)\n0,1\n0.001,2\n0.002,3\n0.003,4\n",
+      {},
+      4,
+      1000,
+      [1, 2],
+    ],
+    [
+      "no time column, with the stated sample rate",
+      "A (V),B (V)\n1,2\n3,4\n5,6\n7,8\n",
+      { sampleRateHz: 25_000 },
+      4,
+      25_000,
+      [1, 3],
+    ],
+    [
+      "CRLF line ends and a (µs) time column",
+      "Time (µs),A (V)\r\n0,1\r\n5,2\r\n10,3\r\n15,4\r\n",
+      {},
+      4,
+      200_000,
+      [1, 2],
+    ],
   ])("accepts %s", async (_label, text, extra, samples, rate, firstValues) => {
     // expected rates: time step 0.02 ms → 50 kHz; 20 µs → 50 kHz; 1 ms → 1 kHz; 5 µs → 200 kHz (f = 1/Δt)
     const caseId = await newCase(techA);
@@ -206,7 +293,9 @@ describe("POST /api/cases/:id/traces", () => {
     const r2 = await upload(ownerA, caseId, g.text, "second.csv");
     expect(r1.status).toBe(201);
     expect(r2.status).toBe(201);
-    const rows = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all()));
+    const rows = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all(),
+    );
     expect(rows).toHaveLength(2);
     expect(rows[0].originalPath).toBe(rows[1].originalPath);
     // removing one keeps the file for the other
@@ -220,9 +309,11 @@ describe("POST /api/cases/:id/traces", () => {
 describe("GET /api/traces/:id/window", () => {
   let uniformId: string;
   let uniform: Generated;
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the trace's JSON answer
   let uniformMeta: any;
   let unevenId: string;
   let uneven: Generated;
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the trace's JSON answer
   let unevenMeta: any;
 
   beforeAll(async () => {
@@ -307,22 +398,33 @@ describe("comparison across a case's traces", () => {
     // the generator's truth). Outliers: modified z-score of Iglewicz and Hoaglin (1993), |M| > 3.5.
     for (const cyl of [1, 2, 3, 4]) {
       const g = generateSecondary({ seed: cyl, sampleRateHz: 200_000, events: 3, burnTimeMs: cyl === 4 ? 0.7 : 1.5 });
-      const res = await upload(techA, caseId, renderCsv(g.trace, { timeUnit: "ms" }), `cyl${cyl}.csv`, { ...g.settings, cylinder: cyl });
+      const res = await upload(techA, caseId, renderCsv(g.trace, { timeUnit: "ms" }), `cyl${cyl}.csv`, {
+        ...g.settings,
+        cylinder: cyl,
+      });
       expect(res.status, JSON.stringify(res.body)).toBe(201);
       expect(res.body.analysis.summary.burnTimeMs.median).toBeCloseTo(cyl === 4 ? 0.7 : 1.5, 0);
       ids.push(res.body.id);
       if (cyl === 1) expect((await techA.get(`/api/cases/${caseId}`)).body.comparison).toBeNull(); // one trace: nothing to compare
     }
     // a trace of another kind is left out of the comparison
-    const other = await upload(techA, caseId, generate(2000, { seed: 51 }).text, "sensor.csv", { voltsPerDiv: 1, timePerDivS: 0.002, kind: "generic" });
+    const other = await upload(techA, caseId, generate(2000, { seed: 51 }).text, "sensor.csv", {
+      voltsPerDiv: 1,
+      timePerDivS: 0.002,
+      kind: "generic",
+    });
     expect(other.status).toBe(201);
 
     const c = (await techA.get(`/api/cases/${caseId}`)).body;
     expect(c.comparison.kind).toBe("secondary-ignition");
     expect(c.comparison.traceIds).toEqual(ids);
-    const burn = c.comparison.metrics.find((m: any) => m.metric === "burnTimeMs");
-    expect(burn.values.map((v: any) => v.traceId)).toEqual(ids);
-    expect(c.comparison.outliers.map((o: any) => [o.traceId, o.metric])).toEqual([[ids[3], "burnTimeMs"]]);
+    const burn = c.comparison.metrics.find(
+      (m: { metric: string; values: { traceId: unknown }[] }) => m.metric === "burnTimeMs",
+    );
+    expect(burn.values.map((v: { traceId: unknown }) => v.traceId)).toEqual(ids);
+    expect(c.comparison.outliers.map((o: { traceId: string; metric: string }) => [o.traceId, o.metric])).toEqual([
+      [ids[3], "burnTimeMs"],
+    ]);
     const again = await techA.get(`/api/cases/${caseId}/comparison`);
     expect(again.status).toBe(200);
     expect(again.body.comparison).toEqual(c.comparison);
@@ -335,11 +437,14 @@ describe("GET /api/traces/:id/original", () => {
     const text = "Time (ms);A (V)\n0;1,25\n0,1;2,5\n0,2;3,75\n0,3;5\n";
     const up = await upload(techA, caseId, text, "bay 3 coil.csv");
     expect(up.status).toBe(201);
-    const res = await techA.get(`/api/traces/${up.body.id}/original`).buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on("data", (c: Buffer) => chunks.push(c));
-      r.on("end", () => cb(null, Buffer.concat(chunks)));
-    });
+    const res = await techA
+      .get(`/api/traces/${up.body.id}/original`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on("data", (c: Buffer) => chunks.push(c));
+        r.on("end", () => cb(null, Buffer.concat(chunks)));
+      });
     expect(res.status).toBe(200);
     expect(res.headers["content-disposition"]).toMatch(/^attachment; filename="bay 3 coil\.csv"/);
     expect(res.headers["x-content-type-options"]).toBe("nosniff");
@@ -352,17 +457,23 @@ describe("DELETE /api/traces/:id", () => {
     const caseId = await newCase(techA);
     const g = generate(300, { seed: 21 });
     const up = await upload(techA, caseId, g.text);
-    const row = (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()))!;
+    const row = (await server.ctx.db.read((tx) =>
+      tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get(),
+    ))!;
     expect((await ownerA.delete(`/api/traces/${up.body.id}`)).status).toBe(204);
-    expect((await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()))).toBeUndefined();
+    expect(
+      await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.id, up.body.id)).get()),
+    ).toBeUndefined();
     expect(fs.existsSync(path.join(server.dir, row.originalPath))).toBe(false);
     expect(fs.existsSync(path.join(server.dir, row.dataPath))).toBe(false);
     expect((await techA.get(`/api/traces/${up.body.id}`)).status).toBe(404);
-    const ev = (await techA.get(`/api/cases/${caseId}/events`)).body.items.map((e: any) => e.type);
+    const ev = (await techA.get(`/api/cases/${caseId}/events`)).body.items.map((e: { type: unknown }) => e.type);
     expect(ev).toEqual(["created", "trace_added", "trace_deleted"]);
 
     const up2 = await upload(techA, caseId, generate(300, { seed: 22 }).text);
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, caseId)).run()));
+    await server.ctx.db.write((tx) =>
+      tx.update(schema.caseTable).set({ status: "queued" }).where(eq(schema.caseTable.id, caseId)).run(),
+    );
     const res = await techA.delete(`/api/traces/${up2.body.id}`);
     expect(res.status).toBe(409);
     expect((await techA.get(`/api/traces/${up2.body.id}`)).status).toBe(200);
@@ -381,8 +492,14 @@ describe("tenant isolation on the trace routes", () => {
     traceId = up.body.id;
   });
 
-  const readRoutes = () => [`/api/traces/${traceId}`, `/api/traces/${traceId}/window?width=10`, `/api/traces/${traceId}/original`];
-  const traceCount = async () => (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all())).length;
+  const readRoutes = () => [
+    `/api/traces/${traceId}`,
+    `/api/traces/${traceId}/window?width=10`,
+    `/api/traces/${traceId}/original`,
+  ];
+  const traceCount = async () =>
+    (await server.ctx.db.read((tx) => tx.select().from(schema.trace).where(eq(schema.trace.caseId, caseId)).all()))
+      .length;
 
   it("another shop's technician and owner get 404 on every trace route and change nothing", async () => {
     for (const who of [techB, ownerB]) {
@@ -394,7 +511,7 @@ describe("tenant isolation on the trace routes", () => {
       expect((await who.delete(`/api/traces/${traceId}`)).status).toBe(404);
       expect((await upload(who, caseId, generate(50).text)).status).toBe(404);
     }
-    expect((await traceCount())).toBe(1);
+    expect(await traceCount()).toBe(1);
     expect(filesUnder(path.join(server.dir, "tmp"))).toEqual([]);
   });
 
@@ -403,7 +520,7 @@ describe("tenant isolation on the trace routes", () => {
     for (const p of readRoutes()) expect((await anon.get(p)).status, p).toBe(401);
     expect((await anon.delete(`/api/traces/${traceId}`)).status).toBe(401);
     expect((await upload(anon, caseId, generate(50).text)).status).toBe(401);
-    expect((await traceCount())).toBe(1);
+    expect(await traceCount()).toBe(1);
   });
 
   it("an expert who has not claimed the case gets 404; once claimed they read but do not change", async () => {
@@ -411,11 +528,13 @@ describe("tenant isolation on the trace routes", () => {
     expect((await expert.delete(`/api/traces/${traceId}`)).status).toBe(404);
     expect((await upload(expert, caseId, generate(50).text)).status).toBe(404);
 
-    (await server.ctx.db.write((tx) => tx.update(schema.caseTable).set({ expertId, status: "claimed" }).where(eq(schema.caseTable.id, caseId)).run()));
+    await server.ctx.db.write((tx) =>
+      tx.update(schema.caseTable).set({ expertId, status: "claimed" }).where(eq(schema.caseTable.id, caseId)).run(),
+    );
     for (const p of readRoutes()) expect((await expert.get(p)).status, p).toBe(200);
     expect((await expert.delete(`/api/traces/${traceId}`)).status).toBe(403);
     expect((await upload(expert, caseId, generate(50).text)).status).toBe(403);
-    expect((await traceCount())).toBe(1);
+    expect(await traceCount()).toBe(1);
     // while claimed the shop may still add a capture the expert asked for
     expect((await upload(techA, caseId, generate(60, { seed: 41 }).text)).status).toBe(201);
   });

@@ -25,9 +25,12 @@ const settingsJson = JSON.stringify(uploadSettings);
 const BOUNDARY = "----burnline-hardening";
 
 const rows = async () =>
-  (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` })
-    .from(schema.trace)
-    .get()))!.n;
+  (await server.ctx.db.read((tx) =>
+    tx
+      .select({ n: sql<number>`count(*)` })
+      .from(schema.trace)
+      .get(),
+  ))!.n;
 
 /** A multipart body by hand: the settings field, then the file part with the given header lines. */
 function multipart(
@@ -49,6 +52,7 @@ function multipart(
 function post(
   body: Buffer | (() => AsyncIterable<Buffer>),
   headers: Record<string, string>,
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the JSON answer (or its text), read field by field
 ): Promise<{ status: number; body: any }> {
   return new Promise((resolve, reject) => {
     const req = http.request(
@@ -64,7 +68,7 @@ function post(
         res.on("data", (c) => chunks.push(c));
         res.on("end", () => {
           const text = Buffer.concat(chunks).toString("utf8");
-          let json: any = null;
+          let json: unknown;
           try {
             json = JSON.parse(text);
           } catch {
@@ -91,6 +95,7 @@ const mp = (
   opts: Parameters<typeof multipart>[2] = {},
 ) => post(multipart(file, name, opts), { "Content-Type": `multipart/form-data; boundary=${BOUNDARY}`, ...extra });
 
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- the JSON answer, read field by field
 async function expectNothingLeft(run: () => Promise<{ status: number; body: any }>, status: number, code: string) {
   const files = dataFiles(server.dir);
   const before = await rows();
@@ -237,6 +242,7 @@ describe("malformed multipart answers 400 bad_upload, never 500", () => {
       `--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="a.jpg"\r\nContent-Type: image/jpeg\r\n\r\n\xff\xd8\xff\xe0`,
       "latin1",
     );
+    // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the JSON answer, read field by field
     const res = await new Promise<{ status: number; body: any }>((resolve) => {
       const req = http.request(
         {

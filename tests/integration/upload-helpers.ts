@@ -52,10 +52,20 @@ export async function zeroBomb(file: string, gib = 1): Promise<number> {
   return fs.statSync(file).size;
 }
 
+/**
+ * A JSON answer of the upload routes as these tests read it (docs/api.md "Uploads"): `trace` on
+ * success, `error` on a refusal. Both are declared present so a test reads the one it expects; an
+ * answer without it fails the test's expectation, not the type check.
+ */
+export interface UploadAnswer {
+  trace: { id: string; samples: number; originalName: string; [field: string]: unknown };
+  error: { code: string; message: string; details?: unknown };
+}
+
 export interface TusResult {
   url: string;
   status: number;
-  body: any;
+  body: UploadAnswer;
   requests: { method: string; offset: string | undefined }[];
 }
 
@@ -124,13 +134,14 @@ export async function tusRequest(
     body,
   });
   const text = await res.text();
-  let json: any = null;
+  let json: UploadAnswer | null;
   try {
-    json = text ? JSON.parse(text) : null;
+    json = text ? (JSON.parse(text) as UploadAnswer) : null;
   } catch {
     json = null;
   }
-  return { status: res.status, headers: res.headers, text, json };
+  // null when the answer has no body (HEAD, 204): a test reads `json` only from answers that carry one
+  return { status: res.status, headers: res.headers, text, json: json as UploadAnswer };
 }
 
 /** Upload-Metadata header value (tus: comma-separated `key base64(value)` pairs). */

@@ -19,9 +19,23 @@ import { checkTextStart, detectImageType } from "../../server/uploads/magic";
  *   WebP  "RIFF" size "WEBP"         — RFC 9649, section 2
  *   ZIP   50 4B 03 04                — PKWARE APPNOTE.TXT, local file header signature
  */
-const JPEG = Buffer.concat([Buffer.from([0xff, 0xd8, 0xff, 0xe0, 0x00, 0x10]), Buffer.from("JFIF\0"), Buffer.alloc(200, 7)]);
-const PNG = Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]), Buffer.from([0, 0, 0, 13]), Buffer.from("IHDR"), Buffer.alloc(200, 1)]);
-const WEBP = Buffer.concat([Buffer.from("RIFF"), Buffer.from([0xc8, 0, 0, 0]), Buffer.from("WEBPVP8 "), Buffer.alloc(200, 3)]);
+const JPEG = Buffer.concat([
+  Buffer.from([0xff, 0xd8, 0xff, 0xe0, 0x00, 0x10]),
+  Buffer.from("JFIF\0"),
+  Buffer.alloc(200, 7),
+]);
+const PNG = Buffer.concat([
+  Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
+  Buffer.from([0, 0, 0, 13]),
+  Buffer.from("IHDR"),
+  Buffer.alloc(200, 1),
+]);
+const WEBP = Buffer.concat([
+  Buffer.from("RIFF"),
+  Buffer.from([0xc8, 0, 0, 0]),
+  Buffer.from("WEBPVP8 "),
+  Buffer.alloc(200, 3),
+]);
 const ZIP = Buffer.concat([Buffer.from([0x50, 0x4b, 0x03, 0x04, 0x14, 0, 0, 0]), Buffer.alloc(300, 0)]);
 
 const LIMIT = 64 * 1024;
@@ -49,30 +63,53 @@ function dataFiles(): string[] {
     .sort();
 }
 const rows = async () => ({
-  traces: (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(schema.trace).get()))!.n,
-  photos: (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(schema.photo).get()))!.n,
-  events: (await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(schema.caseEvent).get()))!.n,
+  traces: (await server.ctx.db.read((tx) =>
+    tx
+      .select({ n: sql<number>`count(*)` })
+      .from(schema.trace)
+      .get(),
+  ))!.n,
+  photos: (await server.ctx.db.read((tx) =>
+    tx
+      .select({ n: sql<number>`count(*)` })
+      .from(schema.photo)
+      .get(),
+  ))!.n,
+  events: (await server.ctx.db.read((tx) =>
+    tx
+      .select({ n: sql<number>`count(*)` })
+      .from(schema.caseEvent)
+      .get(),
+  ))!.n,
 });
 
 /** Runs a refused request and checks that nothing was left behind. */
 async function expectNothingLeft(run: () => Promise<request.Response>, status: number): Promise<request.Response> {
   const files = dataFiles();
-  const before = (await rows());
+  const before = await rows();
   const res = await run();
   expect(res.status, JSON.stringify(res.body)).toBe(status);
   expect(res.body.error).toEqual(expect.objectContaining({ code: expect.any(String), message: expect.any(String) }));
   expect(dataFiles()).toEqual(files);
-  expect((await rows())).toEqual(before);
+  expect(await rows()).toEqual(before);
   expect(fs.readdirSync(path.join(server.dir, "tmp", "uploads"))).toEqual([]);
   return res;
 }
 
 /** `s` null: no settings field at all. */
-const uploadTrace = (agent: any, body: Buffer | string, filename = "capture.csv", s: unknown = settings, contentType = "text/csv") => {
+const uploadTrace = (
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- a supertest agent of any signed-in user
+  agent: any,
+  body: Buffer | string,
+  filename = "capture.csv",
+  s: unknown = settings,
+  contentType = "text/csv",
+) => {
   let req = agent.post(`/api/cases/${caseId}/traces`);
   if (s !== null) req = req.field("settings", typeof s === "string" ? s : JSON.stringify(s));
   return req.attach("file", Buffer.isBuffer(body) ? body : Buffer.from(body), { filename, contentType });
 };
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- a supertest agent of any signed-in user
 const uploadPhoto = (agent: any, body: Buffer, filename: string, contentType: string, id = caseId) =>
   agent.post(`/api/cases/${id}/photos`).attach("file", body, { filename, contentType });
 
@@ -84,7 +121,9 @@ beforeAll(async () => {
   otherTech = await signIn(server, b.technicians[0]);
   otherOwner = await signIn(server, b.owner);
   expert = await signIn(server, await createExpert(server));
-  const res = await tech.post("/api/cases").send({ vehicle: { make: "Korrin", model: "Vale" }, complaint: "No start", system: "ignition" });
+  const res = await tech
+    .post("/api/cases")
+    .send({ vehicle: { make: "Korrin", model: "Vale" }, complaint: "No start", system: "ignition" });
   caseId = res.body.id;
   // one accepted upload first, so "nothing left" is checked against a data directory that has content
   expect((await uploadTrace(tech, csv(50))).status).toBe(201);
@@ -95,7 +134,9 @@ afterAll(async () => {
 
 describe("refused trace uploads leave nothing behind", () => {
   it("text in a numeric column: 400 naming the line and the reason", async () => {
-    const text = csv(20).replace("0.05,", "0.05,x").replace(/0\.05,x[^\n]*/, "0.05,abc");
+    const text = csv(20)
+      .replace("0.05,", "0.05,x")
+      .replace(/0\.05,x[^\n]*/, "0.05,abc");
     const res = await expectNothingLeft(() => uploadTrace(tech, text), 400);
     expect(res.body.error.code).toBe("trace_unreadable");
     // header is line 1, the row of i = 5 (time 0.05) is line 7
@@ -150,7 +191,7 @@ describe("refused trace uploads leave nothing behind", () => {
   ])("%s: 400 naming the field", async (_label, s, field) => {
     const res = await expectNothingLeft(() => uploadTrace(tech, csv(20), "c.csv", s), 400);
     expect(res.body.error.code).toBe("validation_failed");
-    expect(res.body.error.details.fields.map((f: any) => f.path)).toContain(field);
+    expect(res.body.error.details.fields.map((f: { path: unknown }) => f.path)).toContain(field);
   });
 
   it("no time column and no sample rate: 400 from the parser", async () => {
@@ -159,7 +200,10 @@ describe("refused trace uploads leave nothing behind", () => {
   });
 
   it("no file: 400", async () => {
-    const res = await expectNothingLeft(() => tech.post(`/api/cases/${caseId}/traces`).field("settings", JSON.stringify(settings)), 400);
+    const res = await expectNothingLeft(
+      () => tech.post(`/api/cases/${caseId}/traces`).field("settings", JSON.stringify(settings)),
+      400,
+    );
     expect(res.body.error.code).toBe("file_missing");
   });
 
@@ -175,7 +219,7 @@ describe("refused trace uploads leave nothing behind", () => {
   });
 
   it("an upload the client abandons half-way leaves no temp file and no row", async () => {
-    const before = (await rows());
+    const before = await rows();
     const files = dataFiles();
     const boundary = "----burnline-test-boundary";
     const head = Buffer.from(
@@ -190,7 +234,11 @@ describe("refused trace uploads leave nothing behind", () => {
         port: server.port,
         method: "POST",
         path: `/api/cases/${caseId}/traces`,
-        headers: { "Content-Type": `multipart/form-data; boundary=${boundary}`, "Content-Length": String(head.length + 60_000), Cookie: tech.cookie },
+        headers: {
+          "Content-Type": `multipart/form-data; boundary=${boundary}`,
+          "Content-Length": String(head.length + 60_000),
+          Cookie: tech.cookie,
+        },
       });
       req.on("error", () => resolve());
       req.on("response", () => resolve());
@@ -215,7 +263,7 @@ describe("refused trace uploads leave nothing behind", () => {
     for (let i = 0; i < 200 && fs.readdirSync(dir).length > 0; i++) await new Promise((r) => setTimeout(r, 10));
     expect(fs.readdirSync(dir)).toEqual([]);
     expect(dataFiles()).toEqual(files);
-    expect((await rows())).toEqual(before);
+    expect(await rows()).toEqual(before);
   });
 
   it("two uploads at once both succeed, and the server answers other requests meanwhile", async () => {
@@ -237,28 +285,44 @@ describe("photos", () => {
     ["JPEG", JPEG, "image/jpeg"],
     ["PNG", PNG, "image/png"],
     ["WebP", WEBP, "image/webp"],
-  ])("accepts a %s by its first bytes, whatever its name and Content-Type, and serves it with its real type", async (_l, body, mime) => {
-    const res = await uploadPhoto(tech, body, "engine bay.dat", "application/octet-stream");
-    expect(res.status, JSON.stringify(res.body)).toBe(201);
-    expect(res.body).toMatchObject({ mime, bytes: body.length, name: "engine bay.dat", url: `/api/photos/${res.body.id}` });
-    const got = await tech.get(`/api/photos/${res.body.id}`).buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on("data", (c: Buffer) => chunks.push(c));
-      r.on("end", () => cb(null, Buffer.concat(chunks)));
-    });
-    expect(got.status).toBe(200);
-    expect(got.headers["content-type"]).toBe(mime);
-    expect(got.headers["x-content-type-options"]).toBe("nosniff");
-    expect(Buffer.compare(got.body as Buffer, body)).toBe(0);
-    const c = (await tech.get(`/api/cases/${caseId}`)).body;
-    expect(c.photos.map((p: any) => p.id)).toContain(res.body.id);
-  });
+  ])(
+    "accepts a %s by its first bytes, whatever its name and Content-Type, and serves it with its real type",
+    async (_l, body, mime) => {
+      const res = await uploadPhoto(tech, body, "engine bay.dat", "application/octet-stream");
+      expect(res.status, JSON.stringify(res.body)).toBe(201);
+      expect(res.body).toMatchObject({
+        mime,
+        bytes: body.length,
+        name: "engine bay.dat",
+        url: `/api/photos/${res.body.id}`,
+      });
+      const got = await tech
+        .get(`/api/photos/${res.body.id}`)
+        .buffer(true)
+        .parse((r, cb) => {
+          const chunks: Buffer[] = [];
+          r.on("data", (c: Buffer) => chunks.push(c));
+          r.on("end", () => cb(null, Buffer.concat(chunks)));
+        });
+      expect(got.status).toBe(200);
+      expect(got.headers["content-type"]).toBe(mime);
+      expect(got.headers["x-content-type-options"]).toBe("nosniff");
+      expect(Buffer.compare(got.body as Buffer, body)).toBe(0);
+      const c = (await tech.get(`/api/cases/${caseId}`)).body;
+      expect(c.photos.map((p: { id: unknown }) => p.id)).toContain(res.body.id);
+    },
+  );
 
   it.each([
     ["a CSV renamed .jpg and sent as image/jpeg", Buffer.from(csv(10)), "photo.jpg", "image/jpeg"],
     ["a ZIP renamed .png", ZIP, "photo.png", "image/png"],
     ["a GIF (not an accepted type)", Buffer.from("GIF89a" + "\0".repeat(40), "latin1"), "photo.gif", "image/gif"],
-    ["RIFF audio renamed .webp", Buffer.concat([Buffer.from("RIFF"), Buffer.from([40, 0, 0, 0]), Buffer.from("WAVEfmt "), Buffer.alloc(40)]), "a.webp", "image/webp"],
+    [
+      "RIFF audio renamed .webp",
+      Buffer.concat([Buffer.from("RIFF"), Buffer.from([40, 0, 0, 0]), Buffer.from("WAVEfmt "), Buffer.alloc(40)]),
+      "a.webp",
+      "image/webp",
+    ],
   ])("refuses %s with 415 and leaves nothing", async (_l, body, name, type) => {
     const res = await expectNothingLeft(() => uploadPhoto(tech, body, name, type), 415);
     expect(res.body.error.code).toBe("unsupported_type");

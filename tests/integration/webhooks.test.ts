@@ -16,7 +16,16 @@ import { eq, sql } from "drizzle-orm";
 import request from "supertest";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createExpert, createShopTeam, signIn } from "../factories";
-import { CARDS, caseRow, expectLedgerBalanced, flushMail, insertDraftCase, mailsTo, paymentsOf, sessionIdOf } from "../helpers/queue-flow";
+import {
+  CARDS,
+  caseRow,
+  expectLedgerBalanced,
+  flushMail,
+  insertDraftCase,
+  mailsTo,
+  paymentsOf,
+  sessionIdOf,
+} from "../helpers/queue-flow";
 import { schema } from "../../server/db/client";
 
 let server: TestServer;
@@ -30,13 +39,13 @@ afterAll(async () => server?.close());
 afterEach(async () => {
   server.fakeStripe!.releaseDeliveries();
   await server.fakeStripe!.idle();
-  (await expectLedgerBalanced(server, "all"));
+  await expectLedgerBalanced(server, "all");
 });
 
 async function newCase() {
   const t = await createShopTeam(server, { technicians: 1 });
   const tech = await signIn(server, t.technicians[0]);
-  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+  const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
   const res = await tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" });
   expect(res.status).toBe(201);
   return { t, tech, caseId, sessionId: sessionIdOf(res.body.checkoutUrl) };
@@ -59,19 +68,33 @@ function post(payload: string, signature?: string) {
 }
 
 const header = (payload: string, opts: { secret?: string; timestamp?: number } = {}) =>
-  Stripe.webhooks.generateTestHeaderString({ payload, secret: opts.secret ?? SECRET, timestamp: opts.timestamp ?? Math.floor(Date.now() / 1000) });
+  Stripe.webhooks.generateTestHeaderString({
+    payload,
+    secret: opts.secret ?? SECRET,
+    timestamp: opts.timestamp ?? Math.floor(Date.now() / 1000),
+  });
 
-const eventCount = async () => Number((await server.ctx.db.read((tx) => tx.select({ n: sql<number>`count(*)` }).from(schema.stripeEvent).get()))!.n);
+const eventCount = async () =>
+  Number(
+    (await server.ctx.db.read((tx) =>
+      tx
+        .select({ n: sql<number>`count(*)` })
+        .from(schema.stripeEvent)
+        .get(),
+    ))!.n,
+  );
 
 describe("signature verification", () => {
   it("refuses a wrong secret, one changed byte, a timestamp 301 s old and one 600 s ahead with 400, and applies nothing", async () => {
     const { caseId, sessionId } = await newCase();
     server.fakeStripe!.holdDeliveries();
     expect(pay(sessionId, CARDS.ok).ok).toBe(true);
-    const completed = server.fakeStripe!.events("checkout.session.completed").find((e) => (e.data.object as { id: string }).id === sessionId)!;
+    const completed = server
+      .fakeStripe!.events("checkout.session.completed")
+      .find((e) => (e.data.object as { id: string }).id === sessionId)!;
     const payload = JSON.stringify(completed, null, 2);
     const now = Math.floor(Date.now() / 1000);
-    const before = (await eventCount());
+    const before = await eventCount();
 
     const wrongSecret = await post(payload, header(payload, { secret: "whsec_not_the_right_one" }));
     expect(wrongSecret.status).toBe(400);
@@ -99,8 +122,9 @@ describe("signature verification", () => {
     expect(missing.body.error.code).toBe("signature_missing");
 
     // every refusal has the product's error shape
-    for (const r of [wrongSecret, changed, old, future, missing]) expect(Object.keys(r.body.error).sort()).toEqual(["code", "message"]);
-    expect((await eventCount())).toBe(before);
+    for (const r of [wrongSecret, changed, old, future, missing])
+      expect(Object.keys(r.body.error).sort()).toEqual(["code", "message"]);
+    expect(await eventCount()).toBe(before);
     expect((await caseRow(server, caseId)).status).toBe("awaiting_payment");
 
     // positive control: the same payload, correctly signed 299 s ago (inside the tolerance), applies
@@ -111,8 +135,18 @@ describe("signature verification", () => {
   });
 
   it("a webhook needs no Origin check and no session (signed by the sender)", async () => {
-    const payload = JSON.stringify({ id: "evt_unrelated_1", object: "event", type: "customer.updated", data: { object: { id: "cus_x", object: "customer" } } });
-    const res = await request(server.url).post("/api/webhooks/stripe").set("Origin", "https://elsewhere.example").set("Stripe-Signature", header(payload)).set("Content-Type", "application/json").send(payload);
+    const payload = JSON.stringify({
+      id: "evt_unrelated_1",
+      object: "event",
+      type: "customer.updated",
+      data: { object: { id: "cus_x", object: "customer" } },
+    });
+    const res = await request(server.url)
+      .post("/api/webhooks/stripe")
+      .set("Origin", "https://elsewhere.example")
+      .set("Stripe-Signature", header(payload))
+      .set("Content-Type", "application/json")
+      .send(payload);
     expect(res.status).toBe(200);
     expect(res.body.outcome).toBe("ignored");
   });
@@ -123,7 +157,9 @@ describe("exactly once, any order", () => {
     const { t, caseId, sessionId } = await newCase();
     server.fakeStripe!.holdDeliveries();
     expect(pay(sessionId, CARDS.ok).ok).toBe(true);
-    const completed = server.fakeStripe!.events("checkout.session.completed").find((e) => (e.data.object as { id: string }).id === sessionId)!;
+    const completed = server
+      .fakeStripe!.events("checkout.session.completed")
+      .find((e) => (e.data.object as { id: string }).id === sessionId)!;
 
     const concurrent = await Promise.all([1, 2, 3].map(() => server.fakeStripe!.redeliver(completed.id)));
     expect(concurrent.every((d) => d.status === 200)).toBe(true);
@@ -136,15 +172,25 @@ describe("exactly once, any order", () => {
     await server.fakeStripe!.idle();
 
     expect((await caseRow(server, caseId)).status).toBe("queued");
-    const hist = (await server.ctx.db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all()));
+    const hist = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all(),
+    );
     expect(hist.filter((e) => e.type === "payment_authorized")).toHaveLength(1);
-    const entries = (await server.ctx.db.read((tx) => tx.select().from(schema.ledgerEntry).where(eq(schema.ledgerEntry.caseId, caseId)).all()));
+    const entries = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.ledgerEntry).where(eq(schema.ledgerEntry.caseId, caseId)).all(),
+    );
     expect(entries.filter((e) => e.kind === "authorization")).toHaveLength(1);
-    const offers = (await server.ctx.db.read((tx) => tx.select().from(schema.caseOffer).where(eq(schema.caseOffer.caseId, caseId)).all()));
+    const offers = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.caseOffer).where(eq(schema.caseOffer.caseId, caseId)).all(),
+    );
     expect(offers.length).toBe(new Set(offers.map((o) => o.expertId)).size);
     await flushMail(server);
     expect(mailsTo(server, t.technicians[0].email, /^Paid and queued/)).toHaveLength(1);
-    expect((await server.ctx.db.read((tx) => tx.select().from(schema.stripeEvent).where(eq(schema.stripeEvent.id, completed.id)).all()))).toHaveLength(1);
+    expect(
+      await server.ctx.db.read((tx) =>
+        tx.select().from(schema.stripeEvent).where(eq(schema.stripeEvent.id, completed.id)).all(),
+      ),
+    ).toHaveLength(1);
   });
 
   it("events in reverse order (a decline, then success on the same checkout) end queued, once", async () => {
@@ -156,7 +202,9 @@ describe("exactly once, any order", () => {
     const piId = server.fakeStripe!.state.checkoutSessions[sessionId].payment_intent!;
     // the failure events were created before the success events
     const types = eventsFor(piId).map((e) => e.type);
-    expect(types.indexOf("payment_intent.payment_failed")).toBeLessThan(types.indexOf("payment_intent.amount_capturable_updated"));
+    expect(types.indexOf("payment_intent.payment_failed")).toBeLessThan(
+      types.indexOf("payment_intent.amount_capturable_updated"),
+    );
     server.fakeStripe!.releaseDeliveries({ reverse: true });
     await server.fakeStripe!.idle();
 
@@ -186,7 +234,7 @@ describe("exactly once, any order", () => {
     expect((await caseRow(server, caseId)).status).toBe("withdrawn");
     const piId = server.fakeStripe!.state.checkoutSessions[sessionId].payment_intent!;
     expect(server.fakeStripe!.state.paymentIntents[piId].status).toBe("canceled");
-    expect((await expectLedgerBalanced(server, caseId))).toMatchObject({ heldCents: 0, capturedCents: 0 });
+    expect(await expectLedgerBalanced(server, caseId)).toMatchObject({ heldCents: 0, capturedCents: 0 });
   });
 
   it("a checkout paid for a case that was withdrawn meanwhile is released at once", async () => {
@@ -213,9 +261,11 @@ describe("exactly once, any order", () => {
     await server.fakeStripe!.idle();
 
     expect((await caseRow(server, caseId)).status).toBe("queued");
-    const pis = [first, second].map((s) => server.fakeStripe!.state.paymentIntents[server.fakeStripe!.state.checkoutSessions[s].payment_intent!]);
+    const pis = [first, second].map(
+      (s) => server.fakeStripe!.state.paymentIntents[server.fakeStripe!.state.checkoutSessions[s].payment_intent!],
+    );
     expect(pis.map((p) => p.status)).toEqual(["canceled", "requires_capture"]);
-    const b = (await expectLedgerBalanced(server, caseId));
+    const b = await expectLedgerBalanced(server, caseId);
     expect(b.heldCents).toBe(pis[1].amount);
     expect(b.releasedCents).toBe(pis[0].amount);
   });

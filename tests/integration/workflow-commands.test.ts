@@ -26,7 +26,7 @@ afterAll(async () => server?.close());
 async function claimedBy(expertAgent: SignedInAgent) {
   const t = await createShopTeam(server, { technicians: 1 });
   const tech = await signIn(server, t.technicians[0]);
-  const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+  const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
   await submitAndPay(server, tech, caseId);
   expect((await expertAgent.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
   return { ...t, tech, caseId };
@@ -40,7 +40,7 @@ describe("reassign (admins)", () => {
     const a = await signIn(server, first);
     const b = await signIn(server, second);
     const { caseId, tech } = await claimedBy(a);
-    const before = (await caseRow(server, caseId));
+    const before = await caseRow(server, caseId);
 
     expect((await tech.post(`/api/admin/cases/${caseId}/reassign`).send({ expertId: second.id })).status).toBe(403);
     expect((await a.post(`/api/admin/cases/${caseId}/reassign`).send({ expertId: second.id })).status).toBe(403);
@@ -53,7 +53,7 @@ describe("reassign (admins)", () => {
     const r = await admin.post(`/api/admin/cases/${caseId}/reassign`).send({ expertId: second.id });
     expect(r.status, JSON.stringify(r.body)).toBe(200);
     expect(r.body).toMatchObject({ id: caseId, status: "claimed", expertId: second.id });
-    const after = (await caseRow(server, caseId));
+    const after = await caseRow(server, caseId);
     expect(after.deadlineAt!.getTime()).toBe(before.deadlineAt!.getTime());
     // the new expert works on it; the first no longer sees it
     expect((await b.get(`/api/cases/${caseId}`)).status).toBe(200);
@@ -62,10 +62,9 @@ describe("reassign (admins)", () => {
       (await b.post(`/api/cases/${caseId}/request-data`).send({ message: "Capture coil 1 at idle, please." })).status,
     ).toBe(200);
     await server.mailCatcher!.waitFor((m) => m.to.includes(second.email) && /^Case handed to you/.test(m.subject));
-    const notices = (await server.ctx.db.read((tx) => tx.select()
-      .from(schema.notification)
-      .where(eq(schema.notification.userId, first.id))
-      .all()));
+    const notices = await server.ctx.db.read((tx) =>
+      tx.select().from(schema.notification).where(eq(schema.notification.userId, first.id)).all(),
+    );
     expect(notices.some((n) => n.kind === "case_reassigned" && n.caseId === caseId)).toBe(true);
     const history = await tech.get(`/api/cases/${caseId}/history`);
     expect(
@@ -76,7 +75,7 @@ describe("reassign (admins)", () => {
     // a queued case is claimed, not reassigned
     const { caseId: queued } = await (async () => {
       const t = await createShopTeam(server, { technicians: 1 });
-      const id = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+      const id = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
       await submitAndPay(server, await signIn(server, t.technicians[0]), id);
       return { caseId: id };
     })();
@@ -116,7 +115,7 @@ describe("the workflow panel of a draft", () => {
   it("answers the shop with the price list and the submit ability (the read changes nothing)", async () => {
     const t = await createShopTeam(server, { technicians: 1 });
     const tech = await signIn(server, t.technicians[0]);
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const w = await tech.get(`/api/cases/${caseId}/workflow`);
     expect(w.status, JSON.stringify(w.body)).toBe(200);
     expect(w.body).toMatchObject({
@@ -127,7 +126,9 @@ describe("the workflow panel of a draft", () => {
     });
     expect(w.body.pricing.tiers.map((x: { id: string }) => x.id)).toEqual(["standard", "priority"]);
     expect(
-      (await server.ctx.db.read((tx) => tx.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, caseId)).all())),
+      await server.ctx.db.read((tx) =>
+        tx.select().from(schema.caseQueueState).where(eq(schema.caseQueueState.caseId, caseId)).all(),
+      ),
     ).toEqual([]);
   });
 });

@@ -59,7 +59,7 @@ beforeAll(async () => {
 afterAll(async () => server?.close());
 afterEach(async () => {
   await server.fakeStripe!.idle();
-  (await expectLedgerBalanced(server, "all"));
+  await expectLedgerBalanced(server, "all");
 });
 
 async function team() {
@@ -75,7 +75,7 @@ describe("item 4: a refund racing the expert's answer", () => {
     const outcomes: string[] = [];
     for (let i = 0; i < 7; i++) {
       const t = await team();
-      const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+      const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
       const { paymentIntentId } = await submitAndPay(server, t.tech, caseId);
       expect((await e.post(`/api/cases/${caseId}/claim`)).status).toBe(200);
 
@@ -107,7 +107,7 @@ describe("item 4: a refund racing the expert's answer", () => {
         expect(refund.body.error.message.length).toBeGreaterThan(10);
       }
       outcomes.push(`${refund.status}/${answer.status}/${pi.status}`);
-      (await expectLedgerBalanced(server, caseId));
+      await expectLedgerBalanced(server, caseId);
     }
     expect(outcomes).toHaveLength(7);
   });
@@ -116,7 +116,7 @@ describe("item 4: a refund racing the expert's answer", () => {
 describe("item 5: one open checkout per case", () => {
   it("three simultaneous submits: the same session or 409, and at most one session can be paid", async () => {
     const t = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const results = await Promise.all(
       [1, 2, 3].map(() => t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" })),
     );
@@ -149,7 +149,7 @@ describe("item 5: one open checkout per case", () => {
 
   it("a later submit replaces the open checkout and expires it at the payment service", async () => {
     const t = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const first = await t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "standard" });
     expect(first.status).toBe(201);
     const second = await t.tech.post(`/api/cases/${caseId}/submit`).send({ tier: "priority" });
@@ -163,7 +163,7 @@ describe("item 5: one open checkout per case", () => {
 describe("item 6: a case's payment is the shop's and the desk's business", () => {
   it("experts get no payment details and cannot make the server call the payment service", async () => {
     const t = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     await submitAndPay(server, t.tech, caseId);
     const other = await team();
     const approved = await signIn(server, await createExpert(server, { systems: ["ignition"] }));
@@ -235,21 +235,25 @@ describe("item 7: a webhook about a payment that is not ours", () => {
       expect(r.status, `${JSON.parse(p).type}: ${JSON.stringify(r.body)}`).toBeGreaterThanOrEqual(200);
       expect(r.status).toBeLessThan(300);
       expect(r.body).toMatchObject({ received: true, outcome: "ignored" });
-      const stored = (await server.ctx.db.read((tx) => tx.select()
-        .from(schema.stripeEvent)
-        .where(eq(schema.stripeEvent.id, JSON.parse(p).id))
-        .get()));
+      const stored = await server.ctx.db.read((tx) =>
+        tx
+          .select()
+          .from(schema.stripeEvent)
+          .where(eq(schema.stripeEvent.id, JSON.parse(p).id))
+          .get(),
+      );
       expect(stored?.outcome).toBe("ignored");
     }
   });
 });
 
 describe("item 12: bodies that are not the type the route takes", () => {
-  const caseCount = async () => (await server.ctx.db.read((tx) => tx.select({ n: count() }).from(schema.caseTable).get()))!.n;
+  const caseCount = async () =>
+    (await server.ctx.db.read((tx) => tx.select({ n: count() }).from(schema.caseTable).get()))!.n;
 
   it("a form-encoded POST /api/cases answers 415 and creates nothing", async () => {
     const t = await team();
-    const before = (await caseCount());
+    const before = await caseCount();
     const r = await t.tech
       .post("/api/cases")
       .set("Content-Type", "application/x-www-form-urlencoded")
@@ -258,16 +262,16 @@ describe("item 12: bodies that are not the type the route takes", () => {
     expect(r.body.error.code).toBe("unsupported_type");
     const plain = await t.tech.post("/api/cases").set("Content-Type", "text/plain").send('{"complaint":"misfire"}');
     expect(plain.status).toBe(415);
-    expect((await caseCount())).toBe(before);
+    expect(await caseCount()).toBe(before);
     // positive control: the same request as JSON creates the draft
     const ok = await t.tech.post("/api/cases").send({ complaint: "misfire" });
     expect(ok.status).toBe(201);
-    expect((await caseCount())).toBe(before + 1);
+    expect(await caseCount()).toBe(before + 1);
   });
 
   it("a form-encoded withdraw answers 415 and leaves the case as it was", async () => {
     const t = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const r = await t.tech
       .post(`/api/cases/${caseId}/withdraw`)
       .set("Content-Type", "application/x-www-form-urlencoded")
@@ -285,7 +289,7 @@ describe("item 12: bodies that are not the type the route takes", () => {
 
   it("PATCH, PUT and admin routes refuse other types too; multipart uploads keep multipart", async () => {
     const t = await team();
-    const caseId = (await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id }));
+    const caseId = await insertDraftCase(server, { shopId: t.shop.id, createdBy: t.technicians[0].id });
     const patch = await t.tech
       .patch(`/api/cases/${caseId}`)
       .set("Content-Type", "application/x-www-form-urlencoded")

@@ -16,17 +16,21 @@ export type CasebookAction = (typeof casebookActions)[number];
  * an entry may mark it helpful, except the desk (staff do not rate the content they moderate) and
  * the expert who wrote it. Only admins hide, unhide and edit entries.
  */
-export const casebookPolicy = definePolicy<CasebookAction, CasebookEntryForPolicy>("Casebook entry", casebookActions, (actor, action, e) => {
-  const admin = actor.role === "admin";
-  if (e.hidden && !admin) return "hide";
-  switch (action) {
-    case "read":
-      return "allow";
-    case "vote":
-      if (admin) return "forbid";
-      if (e.expertId != null && e.expertId === actor.id) return "forbid";
-      return "allow";
-    case "moderate":
-      return admin ? "allow" : "forbid";
-  }
-});
+export const casebookPolicy = definePolicy<CasebookAction, CasebookEntryForPolicy>(
+  "Casebook entry",
+  casebookActions,
+  (actor, action, e) => {
+    const admin = actor.role === "admin";
+    if (e.hidden && !admin) return "hide";
+    switch (action) {
+      case "read":
+        return "allow";
+      case "vote":
+        if (admin) return "forbid";
+        if (e.expertId != null && e.expertId === actor.id) return "forbid";
+        return "allow";
+      case "moderate":
+        return admin ? "allow" : "forbid";
+    }
+  },
+);

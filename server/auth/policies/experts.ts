@@ -14,14 +14,18 @@ export type ExpertAction = (typeof expertActions)[number];
  * Expert profiles. The desk (admins) lists applications and approves or rejects them; an expert
  * sees their own profile and, once approved, sets themselves available or away.
  */
-export const expertPolicy = definePolicy<ExpertAction, ExpertResource | null>("Expert", expertActions, (actor, action, profile) => {
-  if (actor.role === "admin") return action === "setAvailability" ? "forbid" : "allow";
-  if (action === "list" || action === "decide") return "forbid";
-  if (!profile || profile.userId !== actor.id) return actor.role === "expert" ? "hide" : "forbid";
-  switch (action) {
-    case "view":
-      return "allow";
-    case "setAvailability":
-      return profile.status === "approved" ? "allow" : "forbid";
-  }
-});
+export const expertPolicy = definePolicy<ExpertAction, ExpertResource | null>(
+  "Expert",
+  expertActions,
+  (actor, action, profile) => {
+    if (actor.role === "admin") return action === "setAvailability" ? "forbid" : "allow";
+    if (action === "list" || action === "decide") return "forbid";
+    if (!profile || profile.userId !== actor.id) return actor.role === "expert" ? "hide" : "forbid";
+    switch (action) {
+      case "view":
+        return "allow";
+      case "setAvailability":
+        return profile.status === "approved" ? "allow" : "forbid";
+    }
+  },
+);

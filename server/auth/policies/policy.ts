@@ -27,7 +27,11 @@ export interface Policy<A extends string, R> {
 /**
  * @param name  what the resource is called in a 404 ("Shop not found.")
  */
-export function definePolicy<A extends string, R>(name: string, actions: readonly A[], decide: (actor: Actor, action: A, resource: R) => Decision): Policy<A, R> {
+export function definePolicy<A extends string, R>(
+  name: string,
+  actions: readonly A[],
+  decide: (actor: Actor, action: A, resource: R) => Decision,
+): Policy<A, R> {
   return {
     name,
     actions,

@@ -31,18 +31,27 @@ export function assertCanAddTrace<C extends CaseForPolicy>(actor: Actor, c: C | 
 
 /** Trace rules in the shared Policy form; the resource is the trace's case. */
 export const traceActions = ["read", "download", "delete"] as const;
-export const tracePolicy = definePolicy<(typeof traceActions)[number], CaseForPolicy>("Trace", traceActions, (actor, action, c) => {
-  const a = traceAbilities(actor, c);
-  if (!a.read) return "hide";
-  return a[action] ? "allow" : "forbid";
-});
+export const tracePolicy = definePolicy<(typeof traceActions)[number], CaseForPolicy>(
+  "Trace",
+  traceActions,
+  (actor, action, c) => {
+    const a = traceAbilities(actor, c);
+    if (!a.read) return "hide";
+    return a[action] ? "allow" : "forbid";
+  },
+);
 
 /**
  * A trace's min/max window (what the trace viewer plots): whoever may view its case (readers, and
  * approved experts on a queued case), or any reader of the casebook entry the trace was published
  * with. `entry` is that entry when the trace is among its published traces, else null.
  */
-export function mayReadTraceWindow(actor: Actor, profile: ExpertFacts | null, c: CaseForPolicy | null | undefined, entry: CasebookEntryForPolicy | null): boolean {
+export function mayReadTraceWindow(
+  actor: Actor,
+  profile: ExpertFacts | null,
+  c: CaseForPolicy | null | undefined,
+  entry: CasebookEntryForPolicy | null,
+): boolean {
   if (c && canViewCase(actor, profile, c)) return true;
   return entry !== null && casebookPolicy.can(actor, "read", entry);
 }

@@ -24,7 +24,8 @@ export const userPolicy = definePolicy<UserAction, UserResource>("User", userAct
     case "view":
       return "allow";
     case "remove":
-      if (actor.role === "owner" && sameShop && !self && target.role === "technician" && !target.deactivatedAt) return "allow";
+      if (actor.role === "owner" && sameShop && !self && target.role === "technician" && !target.deactivatedAt)
+        return "allow";
       return "forbid";
   }
 });

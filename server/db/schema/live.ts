@@ -74,5 +74,8 @@ export const message = sqliteTable(
     seq: integer("seq").notNull(),
     createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull(),
   },
-  (t) => [uniqueIndex("message_case_seq_idx").on(t.caseId, t.seq), uniqueIndex("message_client_idx").on(t.authorId, t.clientId)],
+  (t) => [
+    uniqueIndex("message_case_seq_idx").on(t.caseId, t.seq),
+    uniqueIndex("message_client_idx").on(t.authorId, t.clientId),
+  ],
 );

@@ -111,7 +111,11 @@ export const ledgerEntry = sqliteTable(
     note: text("note"),
     at: integer("at", { mode: "timestamp_ms" }).notNull(),
   },
-  (t) => [index("ledger_case_idx").on(t.caseId), index("ledger_expert_idx").on(t.expertId, t.kind), index("ledger_payment_idx").on(t.paymentId)],
+  (t) => [
+    index("ledger_case_idx").on(t.caseId),
+    index("ledger_expert_idx").on(t.expertId, t.kind),
+    index("ledger_payment_idx").on(t.paymentId),
+  ],
 );
 
 /** Stripe events already applied: the primary key makes each apply exactly once. */

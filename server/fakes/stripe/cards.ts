@@ -45,8 +45,7 @@ export function groupedCardNumber(digits: string): string {
 }
 
 export type CardOutcome =
-  | { ok: true }
-  | { ok: false; code: string; declineCode?: string; message: string; declined: boolean };
+  { ok: true } | { ok: false; code: string; declineCode?: string; message: string; declined: boolean };
 
 export interface CardInput {
   number: string;
@@ -92,7 +91,11 @@ const DECLINES: Record<string, { code: string; declineCode?: string; message: st
     message: "Your card has insufficient funds.",
   },
   "4000000000000069": { code: "expired_card", declineCode: "expired_card", message: "Your card has expired." },
-  "4000000000000127": { code: "incorrect_cvc", declineCode: "incorrect_cvc", message: "Your card's security code is incorrect." },
+  "4000000000000127": {
+    code: "incorrect_cvc",
+    declineCode: "incorrect_cvc",
+    message: "Your card's security code is incorrect.",
+  },
 };
 
 /** Stripe's test PaymentMethod tokens usable with `payment_method=` on PaymentIntent confirm. */
@@ -115,14 +118,29 @@ export function evaluateCard(card: CardInput, nowSeconds: number): CardOutcome {
     return { ok: false, code: "incorrect_number", message: "Your card number is incorrect.", declined: false };
   }
   if (!Number.isInteger(card.expMonth) || card.expMonth < 1 || card.expMonth > 12) {
-    return { ok: false, code: "invalid_expiry_month", message: "Your card's expiration month is invalid.", declined: false };
+    return {
+      ok: false,
+      code: "invalid_expiry_month",
+      message: "Your card's expiration month is invalid.",
+      declined: false,
+    };
   }
   const now = new Date(nowSeconds * 1000);
   const year = card.expYear < 100 ? 2000 + card.expYear : card.expYear;
   const nowYear = now.getUTCFullYear();
   const nowMonth = now.getUTCMonth() + 1;
-  if (!Number.isInteger(year) || year < nowYear || year > nowYear + 50 || (year === nowYear && card.expMonth < nowMonth)) {
-    return { ok: false, code: "invalid_expiry_year", message: "Your card's expiration year is invalid.", declined: false };
+  if (
+    !Number.isInteger(year) ||
+    year < nowYear ||
+    year > nowYear + 50 ||
+    (year === nowYear && card.expMonth < nowMonth)
+  ) {
+    return {
+      ok: false,
+      code: "invalid_expiry_year",
+      message: "Your card's expiration year is invalid.",
+      declined: false,
+    };
   }
   const cvcLength = cardBrand(digits) === "amex" ? 4 : 3;
   if (!new RegExp(`^\\d{${cvcLength}}$`).test(card.cvc)) {

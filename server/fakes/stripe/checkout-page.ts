@@ -69,7 +69,11 @@ export interface PageState {
   expiry?: string;
 }
 
-export function renderCheckoutPage(session: CheckoutSessionObject, items: LineItemObject[], state: PageState = {}): string {
+export function renderCheckoutPage(
+  session: CheckoutSessionObject,
+  items: LineItemObject[],
+  state: PageState = {},
+): string {
   const total = formatAmount(session.amount_total, session.currency);
   if (session.status === "complete") {
     return layout(
@@ -95,9 +99,7 @@ ${session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Return to
         )}</td></tr>`,
     )
     .join("\n");
-  const error = state.error
-    ? `<p class="error" role="alert" id="payment-error">${escapeHtml(state.error)}</p>`
-    : "";
+  const error = state.error ? `<p class="error" role="alert" id="payment-error">${escapeHtml(state.error)}</p>` : "";
   return layout(
     "Test checkout",
     `<h1>Test checkout</h1>

@@ -17,7 +17,14 @@
  *   funds pending for a while unless a transfer names its `source_transaction`).
  */
 import { createHash, randomBytes } from "node:crypto";
-import { cardBrand, evaluateCard, normaliseCardNumber, TEST_PAYMENT_METHOD_TOKENS, testCardNumber, type CardInput } from "./cards";
+import {
+  cardBrand,
+  evaluateCard,
+  normaliseCardNumber,
+  TEST_PAYMENT_METHOD_TOKENS,
+  testCardNumber,
+  type CardInput,
+} from "./cards";
 import {
   arr,
   bool,
@@ -35,7 +42,7 @@ import {
   unexpectedState,
   type StripeErrorBody,
 } from "./errors";
-import type { FormObject } from "./form";
+import type { FormObject, FormValue } from "./form";
 import {
   emptyState,
   type AccountObject,
@@ -134,7 +141,12 @@ export class FakeStripeEngine {
 
   // ------------------------------------------------------------------ events
 
-  private emit(type: string, object: unknown, ctx: RequestContext | null, previous?: Record<string, unknown>): EventObject {
+  private emit(
+    type: string,
+    object: unknown,
+    ctx: RequestContext | null,
+    previous?: Record<string, unknown>,
+  ): EventObject {
     const event: EventObject = {
       id: randomId("evt_"),
       object: "event",
@@ -158,9 +170,19 @@ export class FakeStripeEngine {
   }
 
   listEvents(params: FormObject): ListObject<EventObject> {
-    rejectUnknown(params, ["type", "types", "limit", "starting_after", "ending_before", "created", "expand", "delivery_success"]);
+    rejectUnknown(params, [
+      "type",
+      "types",
+      "limit",
+      "starting_after",
+      "ending_before",
+      "created",
+      "expand",
+      "delivery_success",
+    ]);
     const limit = int(params, "limit", { min: 1 }) ?? 10;
-    if (limit > 100) throw invalidRequest("This value must be less than or equal to 100.", "parameter_invalid_integer", "limit");
+    if (limit > 100)
+      throw invalidRequest("This value must be less than or equal to 100.", "parameter_invalid_integer", "limit");
     const type = str(params, "type");
     const types = arr(params, "types")?.map(String);
     let data = [...this.state.events].reverse();
@@ -335,7 +357,7 @@ export class FakeStripeEngine {
 
   // ------------------------------------------------------------------ checkout sessions
 
-  createCheckoutSession(params: FormObject, ctx: RequestContext): CheckoutSessionObject {
+  createCheckoutSession(params: FormObject, _ctx: RequestContext): CheckoutSessionObject {
     rejectUnknown(params, [
       "mode",
       "line_items",
@@ -358,7 +380,11 @@ export class FakeStripeEngine {
     ]);
     const mode = str(params, "mode", { required: true });
     if (mode !== "payment") {
-      throw invalidRequest(`The local fake supports only mode=payment (got ${mode}).`, "parameter_invalid_string", "mode");
+      throw invalidRequest(
+        `The local fake supports only mode=payment (got ${mode}).`,
+        "parameter_invalid_string",
+        "mode",
+      );
     }
     const uiMode = str(params, "ui_mode");
     if (uiMode && uiMode !== "hosted") {
@@ -369,66 +395,25 @@ export class FakeStripeEngine {
     const customer = this.customerParam(params);
     const customerEmail = str(params, "customer_email") ?? null;
     if (customer && customerEmail) {
-      throw invalidRequest("You may only specify one of these parameters: customer, customer_email.", undefined, "customer_email");
+      throw invalidRequest(
+        "You may only specify one of these parameters: customer, customer_email.",
+        undefined,
+        "customer_email",
+      );
     }
     const pmTypes = (arr(params, "payment_method_types") ?? ["card"]).map(String);
     if (pmTypes.some((t) => t !== "card")) {
-      throw invalidRequest("The local fake supports only the card payment method.", "parameter_invalid_string", "payment_method_types");
+      throw invalidRequest(
+        "The local fake supports only the card payment method.",
+        "parameter_invalid_string",
+        "payment_method_types",
+      );
     }
 
     const rawItems = arr(params, "line_items");
     if (!rawItems || rawItems.length === 0) throw missingParam("line_items");
     const sessionId = randomId("cs_test_", 58);
-    let cur: string | null = null;
-    let total = 0;
-    const items: LineItemObject[] = rawItems.map((raw, i) => {
-      const p = `line_items[${i}]`;
-      if (typeof raw !== "object" || Array.isArray(raw)) throw invalidRequest(`Invalid object: ${p}`, "parameter_invalid_object", p);
-      rejectUnknown(raw, ["price_data", "quantity", "price", "adjustable_quantity"], p);
-      if (raw.price !== undefined) {
-        throw invalidRequest(
-          `No such price: '${String(raw.price)}' (the local fake supports only price_data).`,
-          "resource_missing",
-          `${p}[price]`,
-        );
-      }
-      const pd = obj(raw, "price_data", `${p}[price_data]`);
-      if (!pd) throw missingParam(`${p}[price_data]`);
-      rejectUnknown(pd, ["currency", "unit_amount", "product_data", "product", "tax_behavior"], `${p}[price_data]`);
-      const itemCur = currency(pd, "currency", { required: true, param: `${p}[price_data][currency]` })!;
-      const unit = int(pd, "unit_amount", { required: true, min: 0, param: `${p}[price_data][unit_amount]` })!;
-      const quantity = int(raw, "quantity", { required: true, min: 1, param: `${p}[quantity]` })!;
-      const productData = obj(pd, "product_data", `${p}[price_data][product_data]`);
-      if (!productData) throw missingParam(`${p}[price_data][product_data]`);
-      rejectUnknown(productData, ["name", "description", "metadata", "images", "tax_code"], `${p}[price_data][product_data]`);
-      const name = str(productData, "name", { required: true, param: `${p}[price_data][product_data][name]` })!;
-      if (cur && cur !== itemCur) {
-        throw invalidRequest("All line items must use the same currency.", "parameter_invalid_string", `${p}[price_data][currency]`);
-      }
-      cur = itemCur;
-      total += unit * quantity;
-      return {
-        id: randomId("li_"),
-        object: "item",
-        amount_discount: 0,
-        amount_subtotal: unit * quantity,
-        amount_tax: 0,
-        amount_total: unit * quantity,
-        currency: itemCur,
-        description: name,
-        price: {
-          id: randomId("price_"),
-          object: "price",
-          active: false,
-          currency: itemCur,
-          product: randomId("prod_", 14),
-          type: "one_time",
-          unit_amount: unit,
-        },
-        quantity,
-      };
-    });
-    const sessionCurrency = cur as unknown as string;
+    const { items, currency: sessionCurrency, total } = lineItemsFrom(rawItems);
     if (total < minimumAmount(sessionCurrency)) {
       throw invalidRequest(
         `The Checkout Session's total amount due must add up to at least ${minimumAmount(sessionCurrency)} ${sessionCurrency}.`,
@@ -437,48 +422,10 @@ export class FakeStripeEngine {
       );
     }
 
-    const pid = obj(params, "payment_intent_data") ?? {};
-    rejectUnknown(
-      pid,
-      [
-        "capture_method",
-        "metadata",
-        "description",
-        "receipt_email",
-        "statement_descriptor",
-        "statement_descriptor_suffix",
-        "transfer_group",
-        "setup_future_usage",
-      ],
-      "payment_intent_data",
-    );
-    const intentData: SessionIntentData = {
-      capture_method:
-        oneOf(pid, "capture_method", ["automatic", "automatic_async", "manual"] as const, "payment_intent_data[capture_method]") ??
-        "automatic_async",
-      metadata: metadata(pid, "metadata", "payment_intent_data") ?? {},
-      description: str(pid, "description") ?? null,
-      receipt_email: str(pid, "receipt_email") ?? null,
-      statement_descriptor: str(pid, "statement_descriptor") ?? null,
-      statement_descriptor_suffix: str(pid, "statement_descriptor_suffix") ?? null,
-      transfer_group: str(pid, "transfer_group") ?? null,
-      setup_future_usage: oneOf(pid, "setup_future_usage", ["on_session", "off_session"] as const) ?? null,
-    };
+    const intentData = sessionIntentDataFrom(params);
 
     const now = this.now();
-    let expiresAt = now + SESSION_DEFAULT_LIFETIME_SECONDS;
-    const requestedExpiry = int(params, "expires_at");
-    if (requestedExpiry !== undefined) {
-      // Stripe: expires_at must be 30 minutes to 24 hours after creation.
-      if (requestedExpiry < now + 30 * 60 || requestedExpiry > now + SESSION_DEFAULT_LIFETIME_SECONDS) {
-        throw invalidRequest(
-          "The `expires_at` timestamp must be between 30 minutes and 24 hours from Checkout Session creation.",
-          "parameter_invalid_integer",
-          "expires_at",
-        );
-      }
-      expiresAt = requestedExpiry;
-    }
+    const expiresAt = sessionExpiry(params, now);
 
     const session: CheckoutSessionObject = {
       id: sessionId,
@@ -584,7 +531,12 @@ export class FakeStripeEngine {
         ok: false,
         session,
         paymentIntent: session.payment_intent ? this.state.paymentIntents[session.payment_intent] : null,
-        error: { type: "card_error", code: outcome.code, message: outcome.message, doc_url: `https://stripe.com/docs/error-codes/${outcome.code.replace(/_/g, "-")}` },
+        error: {
+          type: "card_error",
+          code: outcome.code,
+          message: outcome.message,
+          doc_url: `https://stripe.com/docs/error-codes/${outcome.code.replace(/_/g, "-")}`,
+        },
         validationError: true,
       };
     }
@@ -608,7 +560,8 @@ export class FakeStripeEngine {
       session.payment_intent = pi.id;
       this.emit("payment_intent.created", pi, ctx);
     }
-    const email = session.customer_email ?? (session.customer ? this.state.customers[session.customer]?.email ?? null : null);
+    const email =
+      session.customer_email ?? (session.customer ? (this.state.customers[session.customer]?.email ?? null) : null);
     const result = this.attemptPayment(pi, card, ctx, email);
     if (!result.ok) {
       return { ok: false, session, paymentIntent: pi, error: result.error };
@@ -703,13 +656,18 @@ export class FakeStripeEngine {
     assertAmount(amount, cur);
     const pmTypes = arr(params, "payment_method_types")?.map(String);
     if (pmTypes && pmTypes.some((t) => t !== "card")) {
-      throw invalidRequest("The local fake supports only the card payment method.", "parameter_invalid_string", "payment_method_types");
+      throw invalidRequest(
+        "The local fake supports only the card payment method.",
+        "parameter_invalid_string",
+        "payment_method_types",
+      );
     }
     const pi = this.newPaymentIntent({
       amount,
       currency: cur,
       customer: this.customerParam(params),
-      capture_method: oneOf(params, "capture_method", ["automatic", "automatic_async", "manual"] as const) ?? "automatic_async",
+      capture_method:
+        oneOf(params, "capture_method", ["automatic", "automatic_async", "manual"] as const) ?? "automatic_async",
       metadata: metadata(params) ?? {},
       description: str(params, "description") ?? null,
       receipt_email: str(params, "receipt_email") ?? null,
@@ -746,12 +704,22 @@ export class FakeStripeEngine {
   }
 
   updatePaymentIntent(id: string, params: FormObject, ctx: RequestContext): PaymentIntentObject {
-    rejectUnknown(params, ["metadata", "description", "receipt_email", "amount", "statement_descriptor", "transfer_group", "expand"]);
+    rejectUnknown(params, [
+      "metadata",
+      "description",
+      "receipt_email",
+      "amount",
+      "statement_descriptor",
+      "transfer_group",
+      "expand",
+    ]);
     const pi = this.retrievePaymentIntent(id);
     const previous: Record<string, unknown> = {};
     if (params.amount !== undefined) {
       if (!["requires_payment_method", "requires_confirmation"].includes(pi.status)) {
-        throw unexpectedState(`This PaymentIntent's amount could not be updated because it has a status of ${pi.status}.`);
+        throw unexpectedState(
+          `This PaymentIntent's amount could not be updated because it has a status of ${pi.status}.`,
+        );
       }
       const amount = int(params, "amount", { required: true })!;
       assertAmount(amount, pi.currency);
@@ -773,10 +741,20 @@ export class FakeStripeEngine {
   }
 
   confirmPaymentIntent(id: string, params: FormObject, ctx: RequestContext): PaymentIntentObject {
-    rejectUnknown(params, ["payment_method", "return_url", "off_session", "receipt_email", "setup_future_usage", "error_on_requires_action", "expand"]);
+    rejectUnknown(params, [
+      "payment_method",
+      "return_url",
+      "off_session",
+      "receipt_email",
+      "setup_future_usage",
+      "error_on_requires_action",
+      "expand",
+    ]);
     const pi = this.retrievePaymentIntent(id);
     if (this.state.intentSession[pi.id]) {
-      throw unexpectedState("This PaymentIntent was created by a Checkout Session and is confirmed through its hosted page.");
+      throw unexpectedState(
+        "This PaymentIntent was created by a Checkout Session and is confirmed through its hosted page.",
+      );
     }
     if (!["requires_payment_method", "requires_confirmation", "requires_action"].includes(pi.status)) {
       throw unexpectedState(
@@ -792,7 +770,10 @@ export class FakeStripeEngine {
     const receipt = str(params, "receipt_email");
     if (receipt) pi.receipt_email = receipt;
     const number = this.cardNumberOf(this.state.paymentMethods[pi.payment_method]);
-    if (!number) throw unexpectedState("This PaymentMethod is not one of the test cards the local fake accepts; attach a test card (docs.stripe.com/testing).");
+    if (!number)
+      throw unexpectedState(
+        "This PaymentMethod is not one of the test cards the local fake accepts; attach a test card (docs.stripe.com/testing).",
+      );
     this.confirmWithNumber(pi, number, ctx);
     return pi;
   }
@@ -873,7 +854,10 @@ export class FakeStripeEngine {
     const now = this.now();
     const outcome = evaluateCard(card, now);
     const attached = pi.payment_method ? this.state.paymentMethods[pi.payment_method] : undefined;
-    const pm = attached && this.cardNumberOf(attached) === normaliseCardNumber(card.number) ? attached : this.newPaymentMethod(card, pi.customer, email);
+    const pm =
+      attached && this.cardNumberOf(attached) === normaliseCardNumber(card.number)
+        ? attached
+        : this.newPaymentMethod(card, pi.customer, email);
     if (!outcome.ok && !outcome.declined) {
       const error: StripeErrorBody = {
         type: "card_error",
@@ -978,7 +962,10 @@ export class FakeStripeEngine {
       pi.status = "requires_capture";
       pi.amount_capturable = pi.amount;
       this.emit("charge.succeeded", charge, ctx);
-      this.emit("payment_intent.amount_capturable_updated", pi, ctx, { amount_capturable: 0, status: "requires_payment_method" });
+      this.emit("payment_intent.amount_capturable_updated", pi, ctx, {
+        amount_capturable: 0,
+        status: "requires_payment_method",
+      });
     } else {
       charge.captured = true;
       charge.amount_captured = pi.amount;
@@ -993,7 +980,14 @@ export class FakeStripeEngine {
   }
 
   capturePaymentIntent(id: string, params: FormObject, ctx: RequestContext): PaymentIntentObject {
-    rejectUnknown(params, ["amount_to_capture", "metadata", "statement_descriptor", "statement_descriptor_suffix", "final_capture", "expand"]);
+    rejectUnknown(params, [
+      "amount_to_capture",
+      "metadata",
+      "statement_descriptor",
+      "statement_descriptor_suffix",
+      "final_capture",
+      "expand",
+    ]);
     const pi = this.retrievePaymentIntent(id);
     if (pi.status === "canceled" && pi.cancellation_reason === "automatic") {
       throw invalidRequest(
@@ -1034,8 +1028,19 @@ export class FakeStripeEngine {
     rejectUnknown(params, ["cancellation_reason", "expand"]);
     const pi = this.retrievePaymentIntent(id);
     const reason =
-      oneOf(params, "cancellation_reason", ["duplicate", "fraudulent", "requested_by_customer", "abandoned"] as const) ?? null;
-    const cancelable = ["requires_payment_method", "requires_capture", "requires_confirmation", "requires_action", "processing"];
+      oneOf(params, "cancellation_reason", [
+        "duplicate",
+        "fraudulent",
+        "requested_by_customer",
+        "abandoned",
+      ] as const) ?? null;
+    const cancelable = [
+      "requires_payment_method",
+      "requires_capture",
+      "requires_confirmation",
+      "requires_action",
+      "processing",
+    ];
     if (!cancelable.includes(pi.status)) {
       throw unexpectedState(
         `You cannot cancel this PaymentIntent because it has a status of ${pi.status}. Only a PaymentIntent with one of the ` +
@@ -1084,7 +1089,11 @@ export class FakeStripeEngine {
     const chargeParam = str(params, "charge");
     if (!piId && !chargeParam) throw missingParam("payment_intent");
     if (piId && chargeParam) {
-      throw invalidRequest("You may only specify one of these parameters: charge, payment_intent.", undefined, "charge");
+      throw invalidRequest(
+        "You may only specify one of these parameters: charge, payment_intent.",
+        undefined,
+        "charge",
+      );
     }
     let pi: PaymentIntentObject;
     let charge: ChargeObject;
@@ -1111,7 +1120,11 @@ export class FakeStripeEngine {
       charge = found;
       pi = this.state.paymentIntents[charge.payment_intent];
       if (!charge.captured || charge.status !== "succeeded") {
-        throw invalidRequest(`Charge ${charge.id} has not been captured and cannot be refunded.`, "charge_not_refundable", "charge");
+        throw invalidRequest(
+          `Charge ${charge.id} has not been captured and cannot be refunded.`,
+          "charge_not_refundable",
+          "charge",
+        );
       }
     }
     const refundable = charge.amount_captured - charge.amount_refunded;
@@ -1183,7 +1196,11 @@ export class FakeStripeEngine {
     const capabilities: AccountObject["capabilities"] = {};
     for (const [name, value] of Object.entries(caps)) {
       if (typeof value !== "object" || Array.isArray(value)) {
-        throw invalidRequest(`Invalid object: capabilities[${name}]`, "parameter_invalid_object", `capabilities[${name}]`);
+        throw invalidRequest(
+          `Invalid object: capabilities[${name}]`,
+          "parameter_invalid_object",
+          `capabilities[${name}]`,
+        );
       }
       // Simplification: a requested capability is active at once (no onboarding in the fake).
       capabilities[name] = value.requested === "true" ? "active" : "inactive";
@@ -1191,7 +1208,8 @@ export class FakeStripeEngine {
     const acct: AccountObject = {
       id: randomId("acct_", 16),
       object: "account",
-      business_type: oneOf(params, "business_type", ["individual", "company", "non_profit", "government_entity"] as const) ?? null,
+      business_type:
+        oneOf(params, "business_type", ["individual", "company", "non_profit", "government_entity"] as const) ?? null,
       capabilities,
       charges_enabled: capabilities.card_payments === "active",
       country: (str(params, "country") ?? "US").toUpperCase(),
@@ -1215,7 +1233,16 @@ export class FakeStripeEngine {
   }
 
   createTransfer(params: FormObject, ctx: RequestContext): TransferObject {
-    rejectUnknown(params, ["amount", "currency", "destination", "description", "metadata", "transfer_group", "source_transaction", "expand"]);
+    rejectUnknown(params, [
+      "amount",
+      "currency",
+      "destination",
+      "description",
+      "metadata",
+      "transfer_group",
+      "source_transaction",
+      "expand",
+    ]);
     const cur = currency(params)!;
     const amount = int(params, "amount", { required: true, min: 1 })!;
     const destination = str(params, "destination", { required: true })!;
@@ -1233,7 +1260,11 @@ export class FakeStripeEngine {
       const charge = this.state.charges[source];
       if (!charge) throw invalidRequest(`No such charge: '${source}'`, "resource_missing", "source_transaction");
       if (charge.currency !== cur) {
-        throw invalidRequest("The currency of source_transaction's balance transaction must match the transfer currency.", undefined, "currency");
+        throw invalidRequest(
+          "The currency of source_transaction's balance transaction must match the transfer currency.",
+          undefined,
+          "currency",
+        );
       }
       const alreadyTransferred = Object.values(this.state.transfers)
         .filter((t) => t.source_transaction === source)
@@ -1310,4 +1341,120 @@ function mergeMetadata(current: Metadata, update: FormObject): Metadata {
     else out[k] = v;
   }
   return out;
+}
+
+/** A checkout session's line items (price_data only), their one currency and their total. */
+function lineItemsFrom(rawItems: FormValue[]): { items: LineItemObject[]; currency: string; total: number } {
+  let cur: string | null = null;
+  let total = 0;
+  const items: LineItemObject[] = rawItems.map((raw, i) => {
+    const p = `line_items[${i}]`;
+    if (typeof raw !== "object" || Array.isArray(raw))
+      throw invalidRequest(`Invalid object: ${p}`, "parameter_invalid_object", p);
+    rejectUnknown(raw, ["price_data", "quantity", "price", "adjustable_quantity"], p);
+    if (raw.price !== undefined) {
+      throw invalidRequest(
+        `No such price: '${String(raw.price)}' (the local fake supports only price_data).`,
+        "resource_missing",
+        `${p}[price]`,
+      );
+    }
+    const pd = obj(raw, "price_data", `${p}[price_data]`);
+    if (!pd) throw missingParam(`${p}[price_data]`);
+    rejectUnknown(pd, ["currency", "unit_amount", "product_data", "product", "tax_behavior"], `${p}[price_data]`);
+    const itemCur = currency(pd, "currency", { required: true, param: `${p}[price_data][currency]` })!;
+    const unit = int(pd, "unit_amount", { required: true, min: 0, param: `${p}[price_data][unit_amount]` })!;
+    const quantity = int(raw, "quantity", { required: true, min: 1, param: `${p}[quantity]` })!;
+    const productData = obj(pd, "product_data", `${p}[price_data][product_data]`);
+    if (!productData) throw missingParam(`${p}[price_data][product_data]`);
+    rejectUnknown(
+      productData,
+      ["name", "description", "metadata", "images", "tax_code"],
+      `${p}[price_data][product_data]`,
+    );
+    const name = str(productData, "name", { required: true, param: `${p}[price_data][product_data][name]` })!;
+    if (cur && cur !== itemCur) {
+      throw invalidRequest(
+        "All line items must use the same currency.",
+        "parameter_invalid_string",
+        `${p}[price_data][currency]`,
+      );
+    }
+    cur = itemCur;
+    total += unit * quantity;
+    return {
+      id: randomId("li_"),
+      object: "item",
+      amount_discount: 0,
+      amount_subtotal: unit * quantity,
+      amount_tax: 0,
+      amount_total: unit * quantity,
+      currency: itemCur,
+      description: name,
+      price: {
+        id: randomId("price_"),
+        object: "price",
+        active: false,
+        currency: itemCur,
+        product: randomId("prod_", 14),
+        type: "one_time",
+        unit_amount: unit,
+      },
+      quantity,
+    };
+  });
+  return { items, currency: cur as unknown as string, total };
+}
+
+/** The payment intent a checkout session will create, from its payment_intent_data. */
+function sessionIntentDataFrom(params: FormObject): SessionIntentData {
+  const pid = obj(params, "payment_intent_data") ?? {};
+  rejectUnknown(
+    pid,
+    [
+      "capture_method",
+      "metadata",
+      "description",
+      "receipt_email",
+      "statement_descriptor",
+      "statement_descriptor_suffix",
+      "transfer_group",
+      "setup_future_usage",
+    ],
+    "payment_intent_data",
+  );
+  return {
+    capture_method:
+      oneOf(
+        pid,
+        "capture_method",
+        ["automatic", "automatic_async", "manual"] as const,
+        "payment_intent_data[capture_method]",
+      ) ?? "automatic_async",
+    metadata: metadata(pid, "metadata", "payment_intent_data") ?? {},
+    description: str(pid, "description") ?? null,
+    receipt_email: str(pid, "receipt_email") ?? null,
+    statement_descriptor: str(pid, "statement_descriptor") ?? null,
+    statement_descriptor_suffix: str(pid, "statement_descriptor_suffix") ?? null,
+    transfer_group: str(pid, "transfer_group") ?? null,
+    setup_future_usage: oneOf(pid, "setup_future_usage", ["on_session", "off_session"] as const) ?? null,
+  };
+}
+
+/** When a checkout session expires: 24 hours, or the requested time within Stripe's bounds. */
+function sessionExpiry(params: FormObject, now: number): number {
+  let expiresAt = now + SESSION_DEFAULT_LIFETIME_SECONDS;
+  const requestedExpiry = int(params, "expires_at");
+  if (requestedExpiry !== undefined) {
+    // Stripe: expires_at must be 30 minutes to 24 hours after creation.
+    if (requestedExpiry < now + 30 * 60 || requestedExpiry > now + SESSION_DEFAULT_LIFETIME_SECONDS) {
+      throw invalidRequest(
+        "The `expires_at` timestamp must be between 30 minutes and 24 hours from Checkout Session creation.",
+        "parameter_invalid_integer",
+        "expires_at",
+      );
+    }
+    expiresAt = requestedExpiry;
+  }
+  return expiresAt;
 }

@@ -68,7 +68,11 @@ export function rejectUnknown(params: FormObject, allowed: readonly string[], pr
   }
 }
 
-export function str(params: FormObject, key: string, opts: { required?: boolean; param?: string } = {}): string | undefined {
+export function str(
+  params: FormObject,
+  key: string,
+  opts: { required?: boolean; param?: string } = {},
+): string | undefined {
   const v = params[key];
   const name = opts.param ?? key;
   if (v === undefined || v === "") {
@@ -104,16 +108,17 @@ export function bool(params: FormObject, key: string): boolean | undefined {
   throw invalidRequest(`Invalid boolean: ${raw}`, "parameter_invalid_boolean", key);
 }
 
-export function oneOf<T extends string>(params: FormObject, key: string, values: readonly T[], param?: string): T | undefined {
+export function oneOf<T extends string>(
+  params: FormObject,
+  key: string,
+  values: readonly T[],
+  param?: string,
+): T | undefined {
   const raw = str(params, key, { param });
   if (raw === undefined) return undefined;
   if (!(values as readonly string[]).includes(raw)) {
     const name = param ?? key;
-    throw invalidRequest(
-      `Invalid ${name}: must be one of ${values.join(", ")}`,
-      "parameter_invalid_string",
-      name,
-    );
+    throw invalidRequest(`Invalid ${name}: must be one of ${values.join(", ")}`, "parameter_invalid_string", name);
   }
   return raw as T;
 }
@@ -142,24 +147,37 @@ export function metadata(params: FormObject, key = "metadata", prefix?: string):
   const v = params[key];
   if (v === undefined) return undefined;
   if (v === "") return {};
-  if (typeof v === "string" || Array.isArray(v)) throw invalidRequest(`Invalid object: ${name}`, "parameter_invalid_object", name);
+  if (typeof v === "string" || Array.isArray(v))
+    throw invalidRequest(`Invalid object: ${name}`, "parameter_invalid_object", name);
   const out: Record<string, string> = {};
   const keys = Object.keys(v);
   if (keys.length > 50) throw invalidRequest("Metadata can have at most 50 keys.", "parameter_invalid_object", name);
   for (const k of keys) {
     const val = v[k];
-    if (typeof val !== "string") throw invalidRequest(`Invalid string: ${name}[${k}]`, "parameter_invalid_string", `${name}[${k}]`);
-    if (k.length > 40) throw invalidRequest("Metadata keys can be at most 40 characters.", "parameter_invalid_string", `${name}[${k}]`);
-    if (val.length > 500) throw invalidRequest("Metadata values can be at most 500 characters.", "parameter_invalid_string", `${name}[${k}]`);
+    if (typeof val !== "string")
+      throw invalidRequest(`Invalid string: ${name}[${k}]`, "parameter_invalid_string", `${name}[${k}]`);
+    if (k.length > 40)
+      throw invalidRequest("Metadata keys can be at most 40 characters.", "parameter_invalid_string", `${name}[${k}]`);
+    if (val.length > 500)
+      throw invalidRequest(
+        "Metadata values can be at most 500 characters.",
+        "parameter_invalid_string",
+        `${name}[${k}]`,
+      );
     if (val !== "") out[k] = val;
   }
   return out;
 }
 
-export function currency(params: FormObject, key = "currency", opts: { required?: boolean; param?: string } = { required: true }): string | undefined {
+export function currency(
+  params: FormObject,
+  key = "currency",
+  opts: { required?: boolean; param?: string } = { required: true },
+): string | undefined {
   const raw = str(params, key, opts);
   if (raw === undefined) return undefined;
   const c = raw.toLowerCase();
-  if (!/^[a-z]{3}$/.test(c)) throw invalidRequest(`Invalid currency: ${raw}.`, "parameter_invalid_string", opts.param ?? key);
+  if (!/^[a-z]{3}$/.test(c))
+    throw invalidRequest(`Invalid currency: ${raw}.`, "parameter_invalid_string", opts.param ?? key);
   return c;
 }

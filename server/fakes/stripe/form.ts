@@ -18,7 +18,7 @@ function splitKey(key: string): string[] | null {
   if (first === -1) return [key];
   const parts = [key.slice(0, first)];
   const rest = key.slice(first);
-  const re = /\[([^\[\]]*)\]/g;
+  const re = /\[([^[\]]*)\]/g;
   let consumed = 0;
   let m: RegExpExecArray | null;
   while ((m = re.exec(rest)) !== null) {
@@ -79,7 +79,12 @@ function arrayify(value: FormValue): FormValue {
   const keys = Object.keys(value);
   for (const k of keys) value[k] = arrayify(value[k]);
   const isDenseIndex =
-    keys.length > 0 && keys.every((k) => /^\d+$/.test(k)) && keys.map(Number).sort((a, b) => a - b).every((n, i) => n === i);
+    keys.length > 0 &&
+    keys.every((k) => /^\d+$/.test(k)) &&
+    keys
+      .map(Number)
+      .sort((a, b) => a - b)
+      .every((n, i) => n === i);
   if (isDenseIndex) {
     return keys
       .map(Number)

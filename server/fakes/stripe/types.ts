@@ -48,7 +48,9 @@ export interface PaymentMethodObject {
   id: string;
   object: "payment_method";
   billing_details: { address: null; email: string | null; name: string | null; phone: null };
-  card: CardDetails & { checks: { address_line1_check: null; address_postal_code_check: null; cvc_check: "pass" | "fail" } };
+  card: CardDetails & {
+    checks: { address_line1_check: null; address_postal_code_check: null; cvc_check: "pass" | "fail" };
+  };
   created: number;
   customer: string | null;
   livemode: false;
@@ -230,7 +232,14 @@ export interface CheckoutSessionObject {
   currency: string;
   customer: string | null;
   customer_creation: "if_required" | null;
-  customer_details: { email: string | null; name: string | null; address: null; phone: null; tax_exempt: "none"; tax_ids: [] } | null;
+  customer_details: {
+    email: string | null;
+    name: string | null;
+    address: null;
+    phone: null;
+    tax_exempt: "none";
+    tax_ids: [];
+  } | null;
   customer_email: string | null;
   expires_at: number;
   invoice: null;

@@ -116,7 +116,10 @@ export class WebhookDispatcher {
     job.attempt++;
     const record = await this.post(job.url, job.payload, job.event, job.attempt);
     const willRetry = !record.ok && !this.closed && job.attempt < this.opts.retry.maxAttempts;
-    const delay = Math.min(this.opts.retry.baseMs * 2 ** (job.attempt - 1), this.opts.retry.maxDelayMs ?? 60 * 60 * 1000);
+    const delay = Math.min(
+      this.opts.retry.baseMs * 2 ** (job.attempt - 1),
+      this.opts.retry.maxDelayMs ?? 60 * 60 * 1000,
+    );
     if (willRetry) record.retryInMs = delay;
     this.deliveries.push(record);
     this.opts.log?.(
@@ -161,7 +164,7 @@ export class WebhookDispatcher {
       return { ...base, status: res.status, ok, responseBody: text.slice(0, 500), durationMs: Date.now() - startedAt };
     } catch (err) {
       const e = err as Error & { cause?: { code?: string } };
-      const error = controller.signal.aborted ? "timeout" : e.cause?.code ?? e.message;
+      const error = controller.signal.aborted ? "timeout" : (e.cause?.code ?? e.message);
       return { ...base, status: null, ok: false, error, durationMs: Date.now() - startedAt };
     } finally {
       clearTimeout(timer);

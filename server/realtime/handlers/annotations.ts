@@ -13,7 +13,11 @@ import {
   type AnnotationRow,
   type Written,
 } from "../../services/annotations";
-import { annotationCreateSchema, annotationDeleteSchema, annotationUpdateSchema } from "../../../shared/schemas/realtime";
+import {
+  annotationCreateSchema,
+  annotationDeleteSchema,
+  annotationUpdateSchema,
+} from "../../../shared/schemas/realtime";
 import { planChangeMark, planCreateMark, withReaders } from "../writes";
 import type { Checked, Live, LiveSocket, PreparedWrite } from "../live";
 
@@ -24,7 +28,9 @@ const answer = (w: Written) => ({ annotation: w.record });
 
 /** The author's live mark, checked as the exact path checks it (see services/annotations.ts loadOwn). */
 async function ownMark(live: Live, socket: LiveSocket, id: string): Promise<Checked & { cur: AnnotationRow }> {
-  const { actor, caseId, c, extra } = await live.check(socket, (q) => [q.select().from(annotation).where(eq(annotation.id, id)).limit(1)]);
+  const { actor, caseId, c, extra } = await live.check(socket, (q) => [
+    q.select().from(annotation).where(eq(annotation.id, id)).limit(1),
+  ]);
   assertLiveWrite(actor, c, "annotate");
   const cur = (extra[0] as AnnotationRow[])[0];
   if (!cur || cur.caseId !== caseId || cur.deletedAt) throw notFound("Annotation");
@@ -37,31 +43,43 @@ export function onAnnotations(live: Live, socket: LiveSocket): void {
   const { ctx } = live;
 
   socket.on("annotation:create", (raw, ack) =>
-    live.written(socket, "annotation:create", ack, async (): Promise<PreparedWrite<Written, object> | { stored: object }> => {
-      const p = parseWith(annotationCreateSchema, raw, "event");
-      const present = live.presentUsers(socket.data.caseId ?? "").catch(() => [] as string[]);
-      const { actor, caseId, c, extra } = await live.check(socket, (q) =>
-        p.clientId
-          ? [q.select().from(annotation).where(and(eq(annotation.authorId, socket.data.userId), eq(annotation.clientId, p.clientId))).limit(1)]
-          : [],
-      );
-      assertLiveWrite(actor, c, "annotate");
-      const prior = p.clientId ? (extra[0] as AnnotationRow[])[0] : undefined;
-      if (prior) {
-        if (prior.caseId !== caseId) throw badRequest("client_id_reused", "This clientId belongs to a mark on another case.");
-        return { stored: { annotation: presentAnnotation(prior, actor.name) } };
-      }
-      const t = await live.traceFacts(p.traceId);
-      if (!t || t.caseId !== caseId) throw notFound("Trace");
-      checkOnTrace(t, p);
-      const now = ctx.now();
-      const exact = (tx: Parameters<typeof createAnnotationIn>[0]) => createAnnotationIn(tx, now, actor, caseId, p);
-      // everybody in the room sees the mark now: read for them too (server/services/reading.ts)
-      const plan = withReaders(planCreateMark(c, now, actor, p, exact), [actor.id, ...(await present)], now);
-      const after = (w: Written) =>
-        live.liveNotices(caseId, actor, { kind: "mark", mark: w.record.kind, label: w.record.label });
-      return { plan, record: asMark, answer, after };
-    }),
+    live.written(
+      socket,
+      "annotation:create",
+      ack,
+      async (): Promise<PreparedWrite<Written, object> | { stored: object }> => {
+        const p = parseWith(annotationCreateSchema, raw, "event");
+        const present = live.presentUsers(socket.data.caseId ?? "").catch(() => [] as string[]);
+        const { actor, caseId, c, extra } = await live.check(socket, (q) =>
+          p.clientId
+            ? [
+                q
+                  .select()
+                  .from(annotation)
+                  .where(and(eq(annotation.authorId, socket.data.userId), eq(annotation.clientId, p.clientId)))
+                  .limit(1),
+              ]
+            : [],
+        );
+        assertLiveWrite(actor, c, "annotate");
+        const prior = p.clientId ? (extra[0] as AnnotationRow[])[0] : undefined;
+        if (prior) {
+          if (prior.caseId !== caseId)
+            throw badRequest("client_id_reused", "This clientId belongs to a mark on another case.");
+          return { stored: { annotation: presentAnnotation(prior, actor.name) } };
+        }
+        const t = await live.traceFacts(p.traceId);
+        if (!t || t.caseId !== caseId) throw notFound("Trace");
+        checkOnTrace(t, p);
+        const now = ctx.now();
+        const exact = (tx: Parameters<typeof createAnnotationIn>[0]) => createAnnotationIn(tx, now, actor, caseId, p);
+        // everybody in the room sees the mark now: read for them too (server/services/reading.ts)
+        const plan = withReaders(planCreateMark(c, now, actor, p, exact), [actor.id, ...(await present)], now);
+        const after = (w: Written) =>
+          live.liveNotices(caseId, actor, { kind: "mark", mark: w.record.kind, label: w.record.label });
+        return { plan, record: asMark, answer, after };
+      },
+    ),
   );
 
   socket.on("annotation:update", (raw, ack) =>

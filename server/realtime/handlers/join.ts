@@ -32,55 +32,63 @@ export async function readReplay(db: Db, caseId: string, since: number): Promise
 export function onJoin(live: Live, socket: LiveSocket): void {
   const { ctx, presence, delivery } = live;
   const reply = (ack: unknown, body: unknown) => typeof ack === "function" && (ack as (b: unknown) => void)(body);
-  socket.on("case:join", (raw, ack) =>
-    void (async () => {
-      const p = parseWith(caseJoinSchema, raw, "event");
-      const now = ctx.now();
-      const [users, cases] = await ctx.db.batch("read", (q) => [
-        sessionUserQuery(q, socket.data.sessionId, now),
-        q.select().from(schema.caseTable).where(eq(schema.caseTable.id, p.caseId)).limit(1),
-      ]);
-      const actor = actorOfRows(users);
-      if (!actor || actor.id !== socket.data.userId) {
-        setImmediate(() => socket.disconnect(true));
-        throw unauthorized();
-      }
-      const c: CaseRow | undefined = cases[0];
-      assertCanJoinCase(actor, c);
-      if (socket.data.caseId && socket.data.caseId !== c.id) await live.leaveRoom(socket);
-      const already = socket.data.caseId === c.id;
-      socket.data.caseId = c.id;
-      live.local(socket).checked = { at: Date.now(), actor, c };
-      void socket.join(caseRoom(c.id));
-      if (!already) await presence.join(c.id, socket.id, { userId: actor.id, name: actor.name, role: actor.role, color: actor.color });
-      // Added to the case's stream first, then the replay is read: every record committed before is
-      // in it, every one after comes after the acknowledgement (./delivery.ts).
-      const read = async () => {
-        const first = await readReplay(ctx.db, c.id, p.since ?? 0);
-        // a `since` ahead of the case: the client's copy is from another database; send it all
-        const reset = (p.since ?? 0) > first.head;
-        const replay = reset ? await readReplay(ctx.db, c.id, 0) : first;
-        // the record up to its head is in the replay: read, with the notices about it
-        await markSeen(ctx.db, c.id, [actor.id], replay.head, ctx.now());
-        const [snap, view] = await Promise.all([presence.snapshot(c.id), presence.view(c.id)]);
-        return { ...replay, reset, snap, view };
-      };
-      await delivery.join(socket, c.id, read, (r) => {
-        const ok: JoinOk = {
-          ok: true,
-          caseId: c.id,
-          seq: r.head,
-          reset: r.reset,
-          annotations: r.annotations,
-          messages: r.messages,
-          presence: r.snap,
-          view: r.view,
-          you: { userId: actor.id, name: actor.name, role: actor.role, color: actor.color },
-          abilities: liveAbilities(actor, c),
-          caseStatus: c.status,
+  socket.on(
+    "case:join",
+    (raw, ack) =>
+      void (async () => {
+        const p = parseWith(caseJoinSchema, raw, "event");
+        const now = ctx.now();
+        const [users, cases] = await ctx.db.batch("read", (q) => [
+          sessionUserQuery(q, socket.data.sessionId, now),
+          q.select().from(schema.caseTable).where(eq(schema.caseTable.id, p.caseId)).limit(1),
+        ]);
+        const actor = actorOfRows(users);
+        if (!actor || actor.id !== socket.data.userId) {
+          setImmediate(() => socket.disconnect(true));
+          throw unauthorized();
+        }
+        const c: CaseRow | undefined = cases[0];
+        assertCanJoinCase(actor, c);
+        if (socket.data.caseId && socket.data.caseId !== c.id) await live.leaveRoom(socket);
+        const already = socket.data.caseId === c.id;
+        socket.data.caseId = c.id;
+        live.local(socket).checked = { at: Date.now(), actor, c };
+        void socket.join(caseRoom(c.id));
+        if (!already)
+          await presence.join(c.id, socket.id, {
+            userId: actor.id,
+            name: actor.name,
+            role: actor.role,
+            color: actor.color,
+          });
+        // Added to the case's stream first, then the replay is read: every record committed before is
+        // in it, every one after comes after the acknowledgement (./delivery.ts).
+        const read = async () => {
+          const first = await readReplay(ctx.db, c.id, p.since ?? 0);
+          // a `since` ahead of the case: the client's copy is from another database; send it all
+          const reset = (p.since ?? 0) > first.head;
+          const replay = reset ? await readReplay(ctx.db, c.id, 0) : first;
+          // the record up to its head is in the replay: read, with the notices about it
+          await markSeen(ctx.db, c.id, [actor.id], replay.head, ctx.now());
+          const [snap, view] = await Promise.all([presence.snapshot(c.id), presence.view(c.id)]);
+          return { ...replay, reset, snap, view };
         };
-        reply(ack, ok);
-      });
-    })().catch((err: unknown) => reply(ack, { ok: false, error: eventError(err, ctx, "case:join") })),
+        await delivery.join(socket, c.id, read, (r) => {
+          const ok: JoinOk = {
+            ok: true,
+            caseId: c.id,
+            seq: r.head,
+            reset: r.reset,
+            annotations: r.annotations,
+            messages: r.messages,
+            presence: r.snap,
+            view: r.view,
+            you: { userId: actor.id, name: actor.name, role: actor.role, color: actor.color },
+            abilities: liveAbilities(actor, c),
+            caseStatus: c.status,
+          };
+          reply(ack, ok);
+        });
+      })().catch((err: unknown) => reply(ack, { ok: false, error: eventError(err, ctx, "case:join") })),
   );
 }

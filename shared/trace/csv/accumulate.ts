@@ -92,16 +92,27 @@ export class SampleStore {
 
   private fieldLabel(col: number): string {
     const L = this.layout;
-    return col === L.timeIdx ? `the time column (${columnLabel(col)})` : `${columnLabel(col)} (${quote(this.names()[L.valueIdx.indexOf(col)])})`;
+    return col === L.timeIdx
+      ? `the time column (${columnLabel(col)})`
+      : `${columnLabel(col)} (${quote(this.names()[L.valueIdx.indexOf(col)])})`;
   }
 
   private textError(rowLine: number, col: number, s: string): never {
-    const nonDecimal = /^\s*0[xXbBoO]/.test(s) ? " in decimal notation (hexadecimal, binary and octal values are not read)" : "";
-    throw new TraceParseError("text-in-numeric-column", `${this.fieldLabel(col)} has ${quote(s)}, which is not a number${nonDecimal}`, rowLine);
+    const nonDecimal = /^\s*0[xXbBoO]/.test(s)
+      ? " in decimal notation (hexadecimal, binary and octal values are not read)"
+      : "";
+    throw new TraceParseError(
+      "text-in-numeric-column",
+      `${this.fieldLabel(col)} has ${quote(s)}, which is not a number${nonDecimal}`,
+      rowLine,
+    );
   }
 
   private rangeError(rowLine: number, col: number, s: string): never {
-    const limit = col === this.layout.timeIdx ? "a time this reader can hold" : `the largest value a channel holds (±3.4e38, single precision)`;
+    const limit =
+      col === this.layout.timeIdx
+        ? "a time this reader can hold"
+        : `the largest value a channel holds (±3.4e38, single precision)`;
     throw new TraceParseError(
       "value-out-of-range",
       `${this.fieldLabel(col)} has ${quote(s)}, which is beyond ${limit}; check the export's units or number format`,

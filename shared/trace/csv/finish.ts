@@ -41,7 +41,11 @@ export function channelLabels(layout: Layout, meta: Metadata): ChannelLabel[] {
     const head = layout.heads[k];
     let name = head?.name ?? "";
     if (!name || (nv === 1 && isGenericValueName(name) && meta.source)) {
-      const fromMeta = meta.namesByNumber.get(k + 1) ?? meta.columnNames.get(col) ?? listed(meta.names, k, col) ?? (nv === 1 ? meta.source : null);
+      const fromMeta =
+        meta.namesByNumber.get(k + 1) ??
+        meta.columnNames.get(col) ??
+        listed(meta.names, k, col) ??
+        (nv === 1 ? meta.source : null);
       if (fromMeta?.trim()) name = fromMeta.trim();
     }
     if (!name) name = layout.hasHeader ? `Column ${col + 1}` : String.fromCharCode(65 + k);
@@ -81,7 +85,9 @@ function timing(inp: FinishInput, rows: number) {
     if (layout.clock) {
       const first = t[0];
       for (let i = 0; i < rows; i++) t[i] -= first;
-      warnings.push(`the time column holds dates and times of day; time is counted from the first row's (line ${layout.firstDataLine})`);
+      warnings.push(
+        `the time column holds dates and times of day; time is counted from the first row's (line ${layout.firstDataLine})`,
+      );
     }
     t0 = t[0];
     const span = t[rows - 1] - t0;
@@ -96,7 +102,9 @@ function timing(inp: FinishInput, rows: number) {
     } else {
       sampleRateHz = (rows - 1) / span;
       timeOut = store.cap > rows * 1.125 ? t.slice(0, rows) : t.subarray(0, rows);
-      warnings.push(`the time column is not evenly spaced (mean sample rate ${tidyRate(sampleRateHz)} Hz); every sample's time is kept`);
+      warnings.push(
+        `the time column is not evenly spaced (mean sample rate ${tidyRate(sampleRateHz)} Hz); every sample's time is kept`,
+      );
     }
     if (statedRateHz !== undefined && Math.abs(statedRateHz - sampleRateHz) > 0.01 * sampleRateHz) {
       warnings.push(
@@ -137,7 +145,9 @@ function timeUnitFromMetadata(inp: FinishInput, rateFromColumn: number): number 
     [1e-9, "ns"],
   ] as const) {
     if (Math.abs(ratio / f - 1) < 0.01) {
-      warnings.push(`line ${meta.rateLine} states a sample interval ${unit === "ms" ? "1000" : unit === "µs" ? "10⁶" : "10⁹"} times shorter than the time column's steps; the time column was read in ${unit}`);
+      warnings.push(
+        `line ${meta.rateLine} states a sample interval ${unit === "ms" ? "1000" : unit === "µs" ? "10⁶" : "10⁹"} times shorter than the time column's steps; the time column was read in ${unit}`,
+      );
       return f;
     }
   }
@@ -196,10 +206,13 @@ function channelOf(inp: FinishInput, j: number, label: ChannelLabel, rows: numbe
     if (x > max) max = x;
   }
   if (store.infinite[j] > 0 && Number.isFinite(min)) {
-    for (let i = 0; i < rows; i++) if (v[i] === Infinity) v[i] = max;
-    else if (v[i] === -Infinity) v[i] = min;
+    for (let i = 0; i < rows; i++)
+      if (v[i] === Infinity) v[i] = max;
+      else if (v[i] === -Infinity) v[i] = min;
     const k = store.infinite[j];
-    warnings.push(`${k} ${plural(k, "sample")} of ${label.name} ${plural(k, "was", "were")} written as infinity (over the scope's range); set to the channel's highest or lowest value`);
+    warnings.push(
+      `${k} ${plural(k, "sample")} of ${label.name} ${plural(k, "was", "were")} written as infinity (over the scope's range); set to the channel's highest or lowest value`,
+    );
   }
   fillMissing(inp, j, v, rows, label.name);
   let unit = label.unit;
@@ -214,8 +227,15 @@ function channelOf(inp: FinishInput, j: number, label: ChannelLabel, rows: numbe
     unit = meta.adc.unit ?? unit;
     unitFrom = "metadata";
     scaledFrom = `ADC codes × ${f}${meta.adc.unit ? ` ${meta.adc.unit}` : ""} per code (line ${meta.adc.line})`;
-    warnings.push(`line ${meta.adc.line}: ${label.name} holds whole numbers and the file states ${f}${meta.adc.unit ? ` ${meta.adc.unit}` : ""} per ADC code; the values were multiplied by it`);
-  } else if (whole && unitFrom === "metadata" && meta.verticalScale && Math.max(Math.abs(min), Math.abs(max)) > 20 * meta.verticalScale) {
+    warnings.push(
+      `line ${meta.adc.line}: ${label.name} holds whole numbers and the file states ${f}${meta.adc.unit ? ` ${meta.adc.unit}` : ""} per ADC code; the values were multiplied by it`,
+    );
+  } else if (
+    whole &&
+    unitFrom === "metadata" &&
+    meta.verticalScale &&
+    Math.max(Math.abs(min), Math.abs(max)) > 20 * meta.verticalScale
+  ) {
     // a screen holds about ten divisions: whole numbers far beyond them are ADC codes, not the unit
     warnings.push(
       `${label.name} holds whole numbers up to ${Math.max(Math.abs(min), Math.abs(max))} where the screen holds about ±${5 * meta.verticalScale} ${unit} (${meta.verticalScale} ${unit}/div): they read as raw ADC codes, and the file states no scale per code, so they are kept as codes`,
@@ -256,7 +276,11 @@ export function finishTrace(inp: FinishInput): ParsedTrace {
   }
   if (rows < 2) {
     // the line of the data (its one row), where the tech looks for what is missing
-    throw new TraceParseError("too-few-samples", `the file has ${rows} data ${plural(rows, "row")}; a trace needs at least 2`, layout.firstDataLine);
+    throw new TraceParseError(
+      "too-few-samples",
+      `the file has ${rows} data ${plural(rows, "row")}; a trace needs at least 2`,
+      layout.firstDataLine,
+    );
   }
   const { t0, sampleRateHz, timeOut } = timing(inp, rows);
   const labels = channelLabels(layout, meta);

@@ -17,6 +17,7 @@ import { TraceParseError } from "../types";
 export const MAX_LINE_CHARS = 64 * 1024;
 
 /** Control characters other than tab (09), line feed (0A), form feed (0C) and carriage return (0D). */
+// eslint-disable-next-line no-control-regex -- matching control characters is the point: they mark a binary file
 const BINARY = /[\x00-\x08\x0B\x0E-\x1F]/;
 
 function hex(c: string): string {

@@ -19,8 +19,8 @@ export const TIME_UNITS: Record<string, number> = {
   ms: 1e-3,
   msec: 1e-3,
   us: 1e-6,
-  "µs": 1e-6,
-  "μs": 1e-6,
+  µs: 1e-6,
+  μs: 1e-6,
   "\uFFFDs": 1e-6, // µ from a Latin-1 file read as UTF-8
   usec: 1e-6,
   ns: 1e-9,
@@ -39,7 +39,22 @@ export function isTimeUnit(unit: string | null): boolean {
 }
 
 /** Units of a column that numbers the samples ("Sequence" in a units row, "(#)", "pts"). */
-const INDEX_UNITS = new Set(["sequence", "seq", "index", "idx", "#", "no", "no.", "n", "sample", "samples", "pts", "pt", "points", "point"]);
+const INDEX_UNITS = new Set([
+  "sequence",
+  "seq",
+  "index",
+  "idx",
+  "#",
+  "no",
+  "no.",
+  "n",
+  "sample",
+  "samples",
+  "pts",
+  "pt",
+  "points",
+  "point",
+]);
 
 /** Column names that number the samples rather than measure anything. */
 const INDEX_NAMES = new Set([
@@ -216,11 +231,16 @@ export function isSectionMarker(row: string[], count: number): boolean {
   if (fields.length !== 1) return false;
   const t = fields[0].trim().toLowerCase();
   if (/^\[[^\]]*\]$/.test(t)) return true;
-  return /^(#\s*)?((waveform|wave|sample|raw|measured|curve)\s*)?(data|values|points|samples)(\s*(points|values|section|start|begin|follows))?\s*:?$/.test(t)
-    || /^(begin|start)\s*(of\s*)?data$/.test(t);
+  return (
+    /^(#\s*)?((waveform|wave|sample|raw|measured|curve)\s*)?(data|values|points|samples)(\s*(points|values|section|start|begin|follows))?\s*:?$/.test(
+      t,
+    ) || /^(begin|start)\s*(of\s*)?data$/.test(t)
+  );
 }
 
 /** Names that say "a value" without naming the channel; the channel's name is then taken from metadata. */
 export function isGenericValueName(name: string): boolean {
-  return ["value", "values", "y", "data", "amplitude", "ampl", "voltage", "signal", "level", "volt", "volts"].includes(name.trim().toLowerCase());
+  return ["value", "values", "y", "data", "amplitude", "ampl", "voltage", "signal", "level", "volt", "volts"].includes(
+    name.trim().toLowerCase(),
+  );
 }

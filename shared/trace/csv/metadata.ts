@@ -32,7 +32,8 @@ const RATE_UNITS: Record<string, number> = {
  * The number at the start of a metadata value: digits with `.` `,` and (only between digits)
  * spaces, then an optional exponent; the unit follows.
  */
-const METADATA_NUMBER = /^([-+]?)((?:\d|[.,](?=\d))(?:[\d.,]|[ \u00a0\u2009\u202f](?=\d))*)([eE][-+]?\d+)?\s*([a-zA-Zµμ\uFFFD/]*)/;
+const METADATA_NUMBER =
+  /^([-+]?)((?:\d|[.,](?=\d))(?:[\d.,]|[ \u00a0\u2009\u202f](?=\d))*)([eE][-+]?\d+)?\s*([a-zA-Zµμ\uFFFD/]*)/;
 
 /** Keys that give the time between samples. */
 const INTERVAL_KEY = new RegExp(
@@ -53,7 +54,8 @@ const INTERVAL_KEY = new RegExp(
   "i",
 );
 /** Keys that give the number of samples per second. */
-const RATE_KEY = /(sampl\w*?[\s_]*(rate|frequency|freq)|^fs\b|^(scan|logging|acquisition|record(ing)?)[\s_]*(rate|frequency)\b)/i;
+const RATE_KEY =
+  /(sampl\w*?[\s_]*(rate|frequency|freq)|^fs\b|^(scan|logging|acquisition|record(ing)?)[\s_]*(rate|frequency)\b)/i;
 
 /** Comment marks and quotes at the start of a metadata line. */
 const LEAD = /^[\s#;%!*/"']+/;
@@ -83,7 +85,6 @@ function groupedNumber(mantissa: string, hasExponent: boolean): number | "ambigu
   if (m) return +`${m[1].replace(/[ \u00a0\u2009\u202f]/g, "")}.${m[2] ?? "0"}`;
   return undefined;
 }
-
 
 /** A number with its unit at the start of a value ("0.08uS", "40.00mV", "1,000,000 Hz"), or why not. */
 type ValueRead = { value: number; unit: string } | { unreadable: string } | undefined;
@@ -157,7 +158,12 @@ export function keyValue(fields: string[]): { key: string; values: string[] } | 
     values = fields.slice(1);
   }
   key = key.replace(/["']/g, "").replace(/\s+/g, " ").trim();
-  values = values.map((v) => v.replace(/^[\s:=]+/, "").replace(/^"|"$/g, "").trim());
+  values = values.map((v) =>
+    v
+      .replace(/^[\s:=]+/, "")
+      .replace(/^"|"$/g, "")
+      .trim(),
+  );
   while (values.length && values[0] === "") values.shift();
   while (values.length && values[values.length - 1] === "") values.pop();
   if (!key) return null;
@@ -169,14 +175,19 @@ const SOURCE_KEY = /^(source|channel|ch|trace|trace ?name|signal)$/i;
 const UNIT_KEY = /^((vertical|y|v)\s*_?units?|vunit)$/i;
 const UNIT_LIST_KEY = /^units?$/i;
 const SCALE_KEY = /^(vertical\s*scale|volts?\s*\/\s*div(ision)?|v\/div|y\s*scale)$/i;
-const ADC_KEY = /(per\s*(adc|code|count|lsb|bit)\b|\badc\s*(scale|step|lsb|value|resolution)\b|^lsb\b|^y\s*mult|^ymult|^y\s*increment|^yinc\b|^code\s*(scale|step)\b)/i;
-const START_KEY = /^(start|x\s*start|xstart|start\s*time|x\s*origin|xorigin|x\s*zero|xzero|x0|t0|first\s*(point|sample)\s*time|horizontal\s*origin)$/i;
+const ADC_KEY =
+  /(per\s*(adc|code|count|lsb|bit)\b|\badc\s*(scale|step|lsb|value|resolution)\b|^lsb\b|^y\s*mult|^ymult|^y\s*increment|^yinc\b|^code\s*(scale|step)\b)/i;
+const START_KEY =
+  /^(start|x\s*start|xstart|start\s*time|x\s*origin|xorigin|x\s*zero|xzero|x0|t0|first\s*(point|sample)\s*time|horizontal\s*origin)$/i;
 const NAME_KEY = /^(?:ch(?:annel)?\s*_?\s*(\d+)\s*_?\s*)?(name|label|tag)s?$/i;
 const UNITS_KEY = /^(?:ch(?:annel)?\s*_?\s*(\d+)\s*_?\s*)(unit|units)$/i;
 
 /** A value with an optional unit: "40.00mV" → { 40, "mV" }; "2.000E-01" → { 0.2, "" }. */
 function quantity(text: string): { value: number; unit: string } | null {
-  const m = /^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([a-zA-Zµμ\uFFFD°%]*)\s*(?:\/\s*(?:div|code|count|lsb|adc))?\s*$/.exec(text);
+  const m =
+    /^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([a-zA-Zµμ\uFFFD°%]*)\s*(?:\/\s*(?:div|code|count|lsb|adc))?\s*$/.exec(
+      text,
+    );
   if (!m) return null;
   const value = +m[1];
   return Number.isFinite(value) ? { value, unit: m[2] } : null;
@@ -235,7 +246,11 @@ export class Metadata {
 
   /** Names or units given one per column; true when the key was one of those. */
   private noteColumns(key: string, fields: string[]): boolean {
-    const target = COLUMN_NAME_KEY.test(key) ? this.columnNames : UNIT_KEY.test(key) || UNIT_LIST_KEY.test(key) ? this.columnUnits : null;
+    const target = COLUMN_NAME_KEY.test(key)
+      ? this.columnNames
+      : UNIT_KEY.test(key) || UNIT_LIST_KEY.test(key)
+        ? this.columnUnits
+        : null;
     if (!target || target.size > 0) return target !== null;
     for (let i = 1; i < fields.length; i++) {
       const v = fields[i].trim().replace(/^"|"$/g, "");

@@ -252,19 +252,32 @@ export class Preamble {
   }
 
   /** The names row (and the units row under it) right above the data, if any. */
-  private findHeader(dataStart: number, from: number, to: number): { header: BufferedRow | null; unitsRow: BufferedRow | null } {
+  private findHeader(
+    dataStart: number,
+    from: number,
+    to: number,
+  ): { header: BufferedRow | null; unitsRow: BufferedRow | null } {
     const buf = this.buffered;
     const shape = buf[dataStart].shape;
     const delimiter = this.ctx.delimiter();
     const usable = (b: BufferedRow) =>
-      !allData(b) && !(b.shape === shape && keyBeside(b, from)) && !looksLikeMetadata(b.row, b.count, delimiter) && !isSectionMarker(b.row, b.count);
+      !allData(b) &&
+      !(b.shape === shape && keyBeside(b, from)) &&
+      !looksLikeMetadata(b.row, b.count, delimiter) &&
+      !isSectionMarker(b.row, b.count);
     let h = dataStart - 1;
     while (h >= 0 && (buf[h].count === 0 || allData(buf[h]))) h--;
     if (h < 0 || !usable(buf[h])) return { header: null, unitsRow: null };
     const candidate = buf[h];
     let p = h - 1;
     while (p >= 0 && buf[p].count === 0) p--;
-    if (p >= 0 && looksLikeUnitsRow(candidate.row, from, to) && usable(buf[p]) && buf[p].count >= to && !looksLikeUnitsRow(buf[p].row, from, to)) {
+    if (
+      p >= 0 &&
+      looksLikeUnitsRow(candidate.row, from, to) &&
+      usable(buf[p]) &&
+      buf[p].count >= to &&
+      !looksLikeUnitsRow(buf[p].row, from, to)
+    ) {
       return { header: buf[p], unitsRow: candidate };
     }
     // a units row with no names row above it names no channel
@@ -282,11 +295,19 @@ export class Preamble {
       else if (name) unused++;
     }
     if (unused > 0) {
-      this.ctx.warnings.push(`line ${header.line}: the header names ${header.count} columns but the data have ${to}; extra names ignored`);
+      this.ctx.warnings.push(
+        `line ${header.line}: the header names ${header.count} columns but the data have ${to}; extra names ignored`,
+      );
     }
   }
 
-  private columns(from: number, to: number, header: BufferedRow | null, unitsRow: BufferedRow | null, data: BufferedRow[]): Layout {
+  private columns(
+    from: number,
+    to: number,
+    header: BufferedRow | null,
+    unitsRow: BufferedRow | null,
+    data: BufferedRow[],
+  ): Layout {
     const heads: (ColumnHeader | null)[] = [];
     for (let i = 0; i < to; i++) {
       const rawName = header?.row[i]?.trim() ?? "";
@@ -361,24 +382,33 @@ export class Preamble {
       const axisCounting = isAxisName(h.name) && h.unit == null && rate !== undefined && steps(i).counting;
       if (indexLike || axisCounting) {
         skip.add(i);
-        this.ctx.warnings.push(`${columnLabel(i)} (${quote(h.name || h.unit || "")}) was read as a sample number, not a channel`);
+        this.ctx.warnings.push(
+          `${columnLabel(i)} (${quote(h.name || h.unit || "")}) was read as a sample number, not a channel`,
+        );
       }
     }
     const clockCols: number[] = [];
-    for (let i = from; i < to; i++) if (!skip.has(i) && sample.length && sample.every((b) => isClockField(b.row[i] ?? ""))) clockCols.push(i);
+    for (let i = from; i < to; i++)
+      if (!skip.has(i) && sample.length && sample.every((b) => isClockField(b.row[i] ?? ""))) clockCols.push(i);
     let timeIdx = -1;
     if (clockCols.length) timeIdx = clockCols[clockCols.length - 1];
-    for (let i = from; i < to && timeIdx < 0; i++) if (!skip.has(i) && heads[i] && isTimeLikeName(heads[i]!.name)) timeIdx = i;
-    for (let i = from; i < to && timeIdx < 0; i++) if (!skip.has(i) && heads[i] && isTimeUnit(heads[i]!.unit)) timeIdx = i;
+    for (let i = from; i < to && timeIdx < 0; i++)
+      if (!skip.has(i) && heads[i] && isTimeLikeName(heads[i]!.name)) timeIdx = i;
+    for (let i = from; i < to && timeIdx < 0; i++)
+      if (!skip.has(i) && heads[i] && isTimeUnit(heads[i]!.unit)) timeIdx = i;
     for (const c of clockCols) if (c !== timeIdx) skip.add(c);
     if (timeIdx < 0 && !hasHeader && to - from >= 2) {
       const s = steps(from);
       if (rate === undefined) {
         timeIdx = from;
-        this.ctx.warnings.push(`line ${sample[0]?.line ?? 1}: the file has no header; ${columnLabel(from)} was taken as time in seconds`);
+        this.ctx.warnings.push(
+          `line ${sample[0]?.line ?? 1}: the file has no header; ${columnLabel(from)} was taken as time in seconds`,
+        );
       } else if (s.increasing && s.meanStep > 0 && Math.abs(s.meanStep * rate - 1) < 0.02) {
         timeIdx = from;
-        this.ctx.warnings.push(`line ${sample[0]?.line ?? 1}: the file has no header; ${columnLabel(from)} rises by the sample interval and was taken as time in seconds`);
+        this.ctx.warnings.push(
+          `line ${sample[0]?.line ?? 1}: the file has no header; ${columnLabel(from)} rises by the sample interval and was taken as time in seconds`,
+        );
       }
     }
     return { timeIdx, clock: clockCols.includes(timeIdx), skip };

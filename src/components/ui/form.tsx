@@ -14,7 +14,8 @@ export const buttonClass = {
     "inline-flex min-h-11 items-center justify-center gap-2 rounded-lg border border-ink-300 bg-white px-4 py-2 font-semibold text-ink-800 hover:bg-ink-50 disabled:cursor-not-allowed disabled:opacity-50",
   danger:
     "inline-flex min-h-11 items-center justify-center gap-2 rounded-lg border border-alarm-500 bg-white px-4 py-2 font-semibold text-alarm-600 hover:bg-alarm-500 hover:text-white disabled:cursor-not-allowed disabled:opacity-50",
-  quiet: "inline-flex min-h-11 items-center justify-center gap-2 rounded-lg px-3 py-2 font-semibold text-ink-700 hover:bg-ink-100",
+  quiet:
+    "inline-flex min-h-11 items-center justify-center gap-2 rounded-lg px-3 py-2 font-semibold text-ink-700 hover:bg-ink-100",
 };
 
 interface FieldFrameProps {
@@ -49,23 +50,42 @@ export function FieldFrame({ id, label, hint, error, optional, children }: Field
   );
 }
 
-const describedBy = (id: string, hint: unknown, error: unknown) => [hint ? `${id}-hint` : "", error ? `${id}-error` : ""].filter(Boolean).join(" ") || undefined;
+const describedBy = (id: string, hint: unknown, error: unknown) =>
+  [hint ? `${id}-hint` : "", error ? `${id}-error` : ""].filter(Boolean).join(" ") || undefined;
 
-type InputProps = ComponentPropsWithoutRef<"input"> & { label: ReactNode; hint?: ReactNode; error?: string; optional?: boolean };
+type InputProps = ComponentPropsWithoutRef<"input"> & {
+  label: ReactNode;
+  hint?: ReactNode;
+  error?: string;
+  optional?: boolean;
+};
 
 /** A labelled text input; spread react-hook-form's `register(...)` into it. */
-export const TextField = forwardRef<HTMLInputElement, InputProps>(function TextField({ label, hint, error, optional, id, className, ...rest }, ref) {
+export const TextField = forwardRef<HTMLInputElement, InputProps>(function TextField(
+  { label, hint, error, optional, id, className, ...rest },
+  ref,
+) {
   const auto = useId();
   const fid = id ?? auto;
   return (
     <FieldFrame id={fid} label={label} hint={hint} error={error} optional={optional}>
-      <input ref={ref} id={fid} aria-invalid={error ? true : undefined} aria-describedby={describedBy(fid, hint, error)} className={`${inputClass} ${className ?? ""}`} {...rest} />
+      <input
+        ref={ref}
+        id={fid}
+        aria-invalid={error ? true : undefined}
+        aria-describedby={describedBy(fid, hint, error)}
+        className={`${inputClass} ${className ?? ""}`}
+        {...rest}
+      />
     </FieldFrame>
   );
 });
 
 /** A password input with a show/hide toggle (long passphrases are easier to type when visible). */
-export const PasswordField = forwardRef<HTMLInputElement, Omit<InputProps, "type">>(function PasswordField({ label, hint, error, id, ...rest }, ref) {
+export const PasswordField = forwardRef<HTMLInputElement, Omit<InputProps, "type">>(function PasswordField(
+  { label, hint, error, id, ...rest },
+  ref,
+) {
   const auto = useId();
   const fid = id ?? auto;
   const [shown, setShown] = useState(false);
@@ -83,7 +103,13 @@ export const PasswordField = forwardRef<HTMLInputElement, Omit<InputProps, "type
           autoCapitalize="none"
           {...rest}
         />
-        <button type="button" className={`${buttonClass.secondary} shrink-0 px-3`} aria-pressed={shown} aria-controls={fid} onClick={() => setShown((v) => !v)}>
+        <button
+          type="button"
+          className={`${buttonClass.secondary} shrink-0 px-3`}
+          aria-pressed={shown}
+          aria-controls={fid}
+          onClick={() => setShown((v) => !v)}
+        >
           {shown ? "Hide" : "Show"}
         </button>
       </div>
@@ -91,19 +117,42 @@ export const PasswordField = forwardRef<HTMLInputElement, Omit<InputProps, "type
   );
 });
 
-type TextAreaProps = ComponentPropsWithoutRef<"textarea"> & { label: ReactNode; hint?: ReactNode; error?: string; optional?: boolean };
+type TextAreaProps = ComponentPropsWithoutRef<"textarea"> & {
+  label: ReactNode;
+  hint?: ReactNode;
+  error?: string;
+  optional?: boolean;
+};
 
-export const TextArea = forwardRef<HTMLTextAreaElement, TextAreaProps>(function TextArea({ label, hint, error, optional, id, className, ...rest }, ref) {
+export const TextArea = forwardRef<HTMLTextAreaElement, TextAreaProps>(function TextArea(
+  { label, hint, error, optional, id, className, ...rest },
+  ref,
+) {
   const auto = useId();
   const fid = id ?? auto;
   return (
     <FieldFrame id={fid} label={label} hint={hint} error={error} optional={optional}>
-      <textarea ref={ref} id={fid} aria-invalid={error ? true : undefined} aria-describedby={describedBy(fid, hint, error)} className={`${inputClass} min-h-28 ${className ?? ""}`} {...rest} />
+      <textarea
+        ref={ref}
+        id={fid}
+        aria-invalid={error ? true : undefined}
+        aria-describedby={describedBy(fid, hint, error)}
+        className={`${inputClass} min-h-28 ${className ?? ""}`}
+        {...rest}
+      />
     </FieldFrame>
   );
 });
 
-export function Notice({ tone = "info", title, children }: { tone?: "info" | "success" | "error"; title?: ReactNode; children?: ReactNode }) {
+export function Notice({
+  tone = "info",
+  title,
+  children,
+}: {
+  tone?: "info" | "success" | "error";
+  title?: ReactNode;
+  children?: ReactNode;
+}) {
   const tones = {
     info: "border-ink-200 bg-ink-50 text-ink-800",
     success: "border-verdigris-500 bg-white text-ink-900",
@@ -111,7 +160,10 @@ export function Notice({ tone = "info", title, children }: { tone?: "info" | "su
   };
   const bar = { info: "bg-ink-400", success: "bg-verdigris-500", error: "bg-alarm-500" };
   return (
-    <div role={tone === "error" ? "alert" : "status"} className={`relative overflow-hidden rounded-lg border py-3 pl-5 pr-4 ${tones[tone]}`}>
+    <div
+      role={tone === "error" ? "alert" : "status"}
+      className={`relative overflow-hidden rounded-lg border py-3 pl-5 pr-4 ${tones[tone]}`}
+    >
       <span aria-hidden className={`absolute inset-y-0 left-0 w-1.5 ${bar[tone]}`} />
       {title ? <p className="font-semibold">{title}</p> : null}
       {children ? <div className={`text-sm ${title ? "mt-1" : ""}`}>{children}</div> : null}
@@ -119,9 +171,22 @@ export function Notice({ tone = "info", title, children }: { tone?: "info" | "su
   );
 }
 
-export function Card({ title, children, actions, id }: { title?: ReactNode; children: ReactNode; actions?: ReactNode; id?: string }) {
+export function Card({
+  title,
+  children,
+  actions,
+  id,
+}: {
+  title?: ReactNode;
+  children: ReactNode;
+  actions?: ReactNode;
+  id?: string;
+}) {
   return (
-    <section aria-labelledby={title && id ? `${id}-title` : undefined} className="rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
+    <section
+      aria-labelledby={title && id ? `${id}-title` : undefined}
+      className="rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5"
+    >
       {title || actions ? (
         <div className="mb-3 flex flex-wrap items-center justify-between gap-2">
           {title ? (

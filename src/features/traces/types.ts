@@ -4,7 +4,8 @@ import type { CaptureSettings } from "../../../shared/schemas/capture-settings";
  * Capture settings as the viewer needs them: volts/division and time/division are required to
  * frame the capture view; everything else is optional (defaults as in the shared schema).
  */
-export type TraceSettings = Pick<CaptureSettings, "voltsPerDiv" | "timePerDivS"> & Partial<Omit<CaptureSettings, "voltsPerDiv" | "timePerDivS">>;
+export type TraceSettings = Pick<CaptureSettings, "voltsPerDiv" | "timePerDivS"> &
+  Partial<Omit<CaptureSettings, "voltsPerDiv" | "timePerDivS">>;
 
 export interface TraceChannelInfo {
   name: string;

@@ -34,7 +34,9 @@ export interface LaunchedBrowser {
  */
 export async function launchBrowser(): Promise<LaunchedBrowser> {
   if (!fs.existsSync(CHROMIUM_PATH)) {
-    throw new Error(`No Chromium at ${CHROMIUM_PATH}. Install Debian's package (apt-get install chromium) or set CHROMIUM_PATH.`);
+    throw new Error(
+      `No Chromium at ${CHROMIUM_PATH}. Install Debian's package (apt-get install chromium) or set CHROMIUM_PATH.`,
+    );
   }
   const browser = await chromium.launch({ executablePath: CHROMIUM_PATH, headless: true, args: CHROMIUM_ARGS });
   return {
@@ -106,7 +108,8 @@ function attach(page: Page, into: string[], label: string) {
   page.on("pageerror", (e) => into.push(`${label} pageerror: ${String(e)}`));
   page.on("console", (m) => {
     // a failed request shows as "Failed to load resource" (e.g. the 401 of a signed-out /api/me): not a page error
-    if (m.type() === "error" && !m.text().startsWith("Failed to load resource")) into.push(`${label} console: ${m.text()}`);
+    if (m.type() === "error" && !m.text().startsWith("Failed to load resource"))
+      into.push(`${label} console: ${m.text()}`);
   });
 }
 

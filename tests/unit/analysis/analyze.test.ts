@@ -13,9 +13,13 @@ describe("analyzeTrace: one entry for every kind", () => {
     "two samples": makeTrace(1000, [{ name: "A", unit: "V", values: new Float32Array([1, 2]) }]),
     flat: makeTrace(1e6, [{ name: "A", unit: "V", values: new Float32Array(5000).fill(0.3) }]),
     "all zero, no unit": makeTrace(1e6, [{ name: "A", unit: null, values: new Float32Array(5000) }]),
-    "noise only": makeTrace(1e6, [{ name: "A", unit: "mV", values: Float32Array.from({ length: 20000 }, () => r.normal()) }]),
+    "noise only": makeTrace(1e6, [
+      { name: "A", unit: "mV", values: Float32Array.from({ length: 20000 }, () => r.normal()) },
+    ]),
     "uneven time": {
-      ...makeTrace(1e4, [{ name: "A", unit: "V", values: Float32Array.from({ length: 1000 }, (_, i) => Math.sin(i / 7)) }]),
+      ...makeTrace(1e4, [
+        { name: "A", unit: "V", values: Float32Array.from({ length: 1000 }, (_, i) => Math.sin(i / 7)) },
+      ]),
       time: Float64Array.from({ length: 1000 }, (_, i) => i * 1e-4 + (i % 3) * 3e-5),
     },
   };
@@ -45,7 +49,11 @@ describe("analyzeTrace: one entry for every kind", () => {
     expect(whole.channel).toBe("coil 2");
     expect(whole.summary.eventCount).toBe(3);
     const t1 = g.truth.events[1].timeS;
-    const part = analyzeTrace(two, {}, { channel: 1, window: { startS: t1 - 0.01, endS: t1 + 0.015 } }) as SecondaryResult;
+    const part = analyzeTrace(
+      two,
+      {},
+      { channel: 1, window: { startS: t1 - 0.01, endS: t1 + 0.015 } },
+    ) as SecondaryResult;
     expect(part.summary.eventCount).toBe(1);
     expect(part.events[0].timeS).toBeCloseTo(whole.events[1].timeS, 6);
     expect(part.measurements.startS).toBeGreaterThanOrEqual(t1 - 0.01);

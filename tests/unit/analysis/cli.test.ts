@@ -25,7 +25,13 @@ function cli(args: string[]) {
 beforeAll(() => {
   dir = fs.mkdtempSync(path.join(os.tmpdir(), "burnline-analyze-"));
   for (let i = 0; i < 4; i++) {
-    const g = generateSecondary({ seed: 90 + i, sampleRateHz: 1e6, events: 2, rpm: 3000, fault: i === 1 ? "fouled-plug" : "none" });
+    const g = generateSecondary({
+      seed: 90 + i,
+      sampleRateHz: 1e6,
+      events: 2,
+      rpm: 3000,
+      fault: i === 1 ? "fouled-plug" : "none",
+    });
     const f = path.join(dir, `coil${i + 1}.csv`);
     fs.writeFileSync(f, renderCsv(g.trace, i === 3 ? { delimiter: ";", decimal: ",", valueUnit: "mV" } : {}));
     files.push(f);
@@ -67,8 +73,13 @@ describe("npm run analyze speaks the unit model", () => {
     const g = generateStarter({ seed: 5, crankingRpm: 200, cylinders: 4, mvPerAmp: 100, sampleRateHz: 5e3 });
     const f = path.join(dir, "starter.csv");
     fs.writeFileSync(f, renderCsv(g.trace));
-    const res = cli([f, "--kind", "relative-compression", "--probe", "current-clamp", "--mv-per-amp", "100"]
-      .concat(["--cylinders", "4", "--json"]));
+    const res = cli(
+      [f, "--kind", "relative-compression", "--probe", "current-clamp", "--mv-per-amp", "100"].concat([
+        "--cylinders",
+        "4",
+        "--json",
+      ]),
+    );
     expect(res.stderr).toBe("");
     const doc = JSON.parse(res.stdout);
     expect(doc.unit).toBe("A");
@@ -80,7 +91,18 @@ describe("npm run analyze speaks the unit model", () => {
 
 describe("npm run analyze", () => {
   it("one file: one object in the contract's shape, equal to analyzeTrace's result", () => {
-    const res = cli([files[0], "--kv-per-volt", "10", "--volts-per-div", "0.2", "--time-per-div", "0.005", "--trigger-level", "0.3", "--json"]);
+    const res = cli([
+      files[0],
+      "--kv-per-volt",
+      "10",
+      "--volts-per-div",
+      "0.2",
+      "--time-per-div",
+      "0.005",
+      "--trigger-level",
+      "0.3",
+      "--json",
+    ]);
     expect(res.stderr).toBe("");
     expect(res.status).toBe(0);
     const doc = JSON.parse(res.stdout);
@@ -93,14 +115,27 @@ describe("npm run analyze", () => {
     expect(doc.trace.warnings).toEqual([]);
     expect(doc.trace.sampleRateHz).toBe(1e6);
     expect(doc.events.length).toBe(2);
-    for (const key of ["timeS", "peak", "burnTimeMs", "burnLevel", "oscillations"]) expect(typeof doc.events[0][key]).toBe("number");
+    for (const key of ["timeS", "peak", "burnTimeMs", "burnLevel", "oscillations"])
+      expect(typeof doc.events[0][key]).toBe("number");
     expect(doc.summary.eventCount).toBe(2);
     expect(Math.abs(doc.summary.rpm - 3000)).toBeLessThan(30);
-    for (const m of ["peak", "burnTimeMs", "burnLevel", "oscillations"]) expect(Object.keys(doc.summary[m])).toEqual(["median", "min", "max"]);
+    for (const m of ["peak", "burnTimeMs", "burnLevel", "oscillations"])
+      expect(Object.keys(doc.summary[m])).toEqual(["median", "min", "max"]);
     expect(doc.findings).toEqual([]);
     // the per-file object minus file/trace is exactly what the server stores from analyzeTrace
     const text = fs.readFileSync(files[0], "utf8");
-    const direct = analyzeTrace(parseTraceText(text), { kind: "secondary-ignition", wasteSpark: false, voltsPerDiv: 0.2, timePerDivS: 0.005, triggerLevel: 0.3, kvPerVolt: 10 }, { kind: "secondary-ignition", kvPerVolt: 10, wasteSpark: false });
+    const direct = analyzeTrace(
+      parseTraceText(text),
+      {
+        kind: "secondary-ignition",
+        wasteSpark: false,
+        voltsPerDiv: 0.2,
+        timePerDivS: 0.005,
+        triggerLevel: 0.3,
+        kvPerVolt: 10,
+      },
+      { kind: "secondary-ignition", kvPerVolt: 10, wasteSpark: false },
+    );
     const { file: _f, trace: _t, ...rest } = doc;
     expect(rest).toEqual(JSON.parse(JSON.stringify(direct)));
   });
@@ -113,7 +148,10 @@ describe("npm run analyze", () => {
     expect(doc.traces.map((t: { file: string }) => t.file)).toEqual([...files, path.join(dir, "one.csv")]);
     // the millivolt file reads in volts like the others
     expect(doc.traces[3].unit).toBe("V");
-    expect(Math.abs(doc.traces[3].summary.peak.median - doc.traces[0].summary.peak.median) / doc.traces[0].summary.peak.median).toBeLessThan(0.1);
+    expect(
+      Math.abs(doc.traces[3].summary.peak.median - doc.traces[0].summary.peak.median) /
+        doc.traces[0].summary.peak.median,
+    ).toBeLessThan(0.1);
     expect(doc.traces[4].summary.eventCount).toBe(1);
     expect(doc.traces[4].summary.rpm).toBeNull();
     expect(Object.keys(doc.comparison)).toEqual(["metrics", "outliers", "statements"]);
@@ -137,7 +175,9 @@ describe("npm run analyze", () => {
     expect(res.stderr).not.toMatch(/\bat .*\.ts:\d+/); // no stack trace
     const missing = cli([path.join(dir, "missing.csv"), "--json"]);
     expect(missing.status).toBe(2);
-    expect(missing.stderr.split("\n").filter(Boolean)).toEqual([`analyze: ${path.join(dir, "missing.csv")}: cannot read the file: no such file`]);
+    expect(missing.stderr.split("\n").filter(Boolean)).toEqual([
+      `analyze: ${path.join(dir, "missing.csv")}: cannot read the file: no such file`,
+    ]);
   });
 
   it("any failure says so in one line on stderr: work left unfinished, an error thrown outside the main chain", () => {

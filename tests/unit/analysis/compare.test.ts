@@ -28,12 +28,20 @@ describe("comparison across cylinders (secondary ignition)", () => {
     const peak = c.metrics.find((m) => m.metric === "peak")!;
     expect(peak.unit).toBe("kV");
     expect(peak.values.map((v) => v.file)).toEqual(results.map((r) => r.file));
-    peak.values.forEach((v, i) => expect(v.value).toBe((results[i].summary as { peak: { median: number } }).peak.median));
+    peak.values.forEach((v, i) =>
+      expect(v.value).toBe((results[i].summary as { peak: { median: number } }).peak.median),
+    );
     // issue 11: placement-free measures (firing line ÷ its spark line, slope relative to the level)
     // beside the absolute ones
-    expect(c.metrics.map((m) => m.metric)).toEqual(
-      ["peak", "burnTimeMs", "burnLevel", "oscillations", "dwellMs", "firingToSpark", "sparkSlopePctPerMs"],
-    );
+    expect(c.metrics.map((m) => m.metric)).toEqual([
+      "peak",
+      "burnTimeMs",
+      "burnLevel",
+      "oscillations",
+      "dwellMs",
+      "firingToSpark",
+      "sparkSlopePctPerMs",
+    ]);
     expect(c.statements).toEqual([]);
   });
 
@@ -41,10 +49,28 @@ describe("comparison across cylinders (secondary ignition)", () => {
   // high firing line + short burn: wide gap; low firing line + long burn: fouled plug;
   // missing ringing: shorted turns (from memory); a coil breaking down fires low and short
   it.each([
-    ["wide-gap", [["peak", 1], ["burnTimeMs", -1]]],
-    ["fouled-plug", [["peak", -1], ["burnTimeMs", 1]]],
+    [
+      "wide-gap",
+      [
+        ["peak", 1],
+        ["burnTimeMs", -1],
+      ],
+    ],
+    [
+      "fouled-plug",
+      [
+        ["peak", -1],
+        ["burnTimeMs", 1],
+      ],
+    ],
     ["shorted-turns", [["oscillations", -1]]],
-    ["coil-breakdown", [["peak", -1], ["burnTimeMs", -1]]],
+    [
+      "coil-breakdown",
+      [
+        ["peak", -1],
+        ["burnTimeMs", -1],
+      ],
+    ],
   ] as const)("the cylinder with a %s is the odd one out, and only it", (fault, expected) => {
     for (const [seed, size, index] of [
       [11, 4, 2],
@@ -65,7 +91,11 @@ describe("comparison across cylinders (secondary ignition)", () => {
   });
 
   it("labels outliers by traceId when the results carry one (the server's form)", () => {
-    const results = secondarySet(4, 21, { index: 1, fault: "wide-gap" }).map((r, i) => ({ ...r, file: undefined, traceId: `t${i}` }));
+    const results = secondarySet(4, 21, { index: 1, fault: "wide-gap" }).map((r, i) => ({
+      ...r,
+      file: undefined,
+      traceId: `t${i}`,
+    }));
     const c = compareTraces(results);
     expect(c.outliers.every((o) => o.traceId === "t1" && o.file === undefined)).toBe(true);
   });
@@ -84,7 +114,12 @@ describe("comparison across cylinders (secondary ignition)", () => {
 describe("comparison across injectors", () => {
   const set = (odd?: { index: number; sticking: InjectorOptions["sticking"] }) =>
     Array.from({ length: 4 }, (_, i) => {
-      const g = generateInjector({ seed: 300 + i, sampleRateHz: 500e3, rpm: 2000, sticking: odd && odd.index === i ? odd.sticking : "none" });
+      const g = generateInjector({
+        seed: 300 + i,
+        sampleRateHz: 500e3,
+        rpm: 2000,
+        sticking: odd && odd.index === i ? odd.sticking : "none",
+      });
       return { file: `inj${i + 1}.csv`, ...analyzeTrace(g.trace, {}, { kind: "injector" }) };
     });
 

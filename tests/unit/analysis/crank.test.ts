@@ -21,7 +21,10 @@ describe("crank sensor on a 60-2 wheel", () => {
   });
 
   it.each([
-    ["cranking, 250 rpm with speed ripple", { seed: 2, rpm: 250, ripple: 0.15, rippleHz: 8, sampleRateHz: 50e3, revolutions: 2.2 }],
+    [
+      "cranking, 250 rpm with speed ripple",
+      { seed: 2, rpm: 250, ripple: 0.15, rippleHz: 8, sampleRateHz: 50e3, revolutions: 2.2 },
+    ],
     ["idle, 800 rpm", { seed: 3, rpm: 800 }],
     ["3000 rpm at 200 kS/s", { seed: 4, rpm: 3000, sampleRateHz: 200e3, revolutions: 3 }],
     ["6000 rpm at 500 kS/s", { seed: 5, rpm: 6000, sampleRateHz: 500e3, revolutions: 3 }],

@@ -40,10 +40,7 @@ describe("firing-line height: the same event at any adequate sample rate", () =>
       "rise 6 µs, collapse 3 µs, volts at the scope through 10 kV/V",
       { riseUs: 6, fallUs: 3, fileUnit: "V", kvPerVolt: 10 },
     ],
-    [
-      "rise 12 µs, collapse 6 µs, millivolts through 20 kV/V",
-      { riseUs: 12, fallUs: 6, fileUnit: "mV", kvPerVolt: 20 },
-    ],
+    ["rise 12 µs, collapse 6 µs, millivolts through 20 kV/V", { riseUs: 12, fallUs: 6, fileUnit: "mV", kvPerVolt: 20 }],
     ["symmetric 10 µs apex, inverted, baseline at 0.4 kV", { riseUs: 10, fallUs: 10, polarity: -1, baselineKv: 0.4 }],
     [
       "rise 5 µs, collapse 3 µs, 14 kV, noisy (0.15 kV), turbulent spark line",

@@ -30,10 +30,13 @@ describe("saturated injector: generated captures with known truth", () => {
       const tp = t.pulses[k];
       expect(Math.abs(e.timeS - tp.timeS)).toBeLessThan(3 / g.trace.sampleRateHz);
       // pulse width within 1 % or two sample intervals
-      expect(Math.abs(e.pulseWidthMs - tp.pulseWidthMs)).toBeLessThan(Math.max(0.01 * tp.pulseWidthMs, 2e3 / g.trace.sampleRateHz));
+      expect(Math.abs(e.pulseWidthMs - tp.pulseWidthMs)).toBeLessThan(
+        Math.max(0.01 * tp.pulseWidthMs, 2e3 / g.trace.sampleRateHz),
+      );
       expect(e.clamped).toBe(tp.clamped);
       // the spike is tens of microseconds wide: its height holds within 5 % from 1 MS/s, or when clamped
-      if (g.trace.sampleRateHz >= 1e6 || tp.clamped) expect(Math.abs(e.turnOffPeak - tp.turnOffPeak) / tp.turnOffPeak).toBeLessThan(0.05);
+      if (g.trace.sampleRateHz >= 1e6 || tp.clamped)
+        expect(Math.abs(e.turnOffPeak - tp.turnOffPeak) / tp.turnOffPeak).toBeLessThan(0.05);
       else expect(e.turnOffPeak).toBeLessThan(tp.turnOffPeak * 1.02);
       if (tp.clamped) expect(Math.abs(e.clampLevel! - tp.turnOffPeak) / tp.turnOffPeak).toBeLessThan(0.02);
       if (tp.humpDelayMs == null) expect(e.humpDelayMs).toBeNull();
@@ -49,14 +52,22 @@ describe("saturated injector: generated captures with known truth", () => {
   });
 
   it("readings sit in the trade's ranges for a warm idle (soft bounds)", () => {
-    const r = analyzeTrace(generateInjector({ seed: 20, sampleRateHz: 1e6 }).trace, {}, { kind: "injector" }) as InjectorResult;
+    const r = analyzeTrace(
+      generateInjector({ seed: 20, sampleRateHz: 1e6 }).trace,
+      {},
+      { kind: "injector" },
+    ) as InjectorResult;
     // pulse width 1.5–4 ms at idle, 2.5–3.5 ms warm (trade reference)
     expect(r.summary.pulseWidthMs.median!).toBeGreaterThanOrEqual(2.5);
     expect(r.summary.pulseWidthMs.median!).toBeLessThanOrEqual(3.5);
     // turn-off spike 50–100 V unless the driver clamps it (from memory)
     expect(r.summary.turnOffPeak.median!).toBeGreaterThanOrEqual(50);
     expect(r.summary.turnOffPeak.median!).toBeLessThanOrEqual(100);
-    const c = analyzeTrace(generateInjector({ seed: 21, sampleRateHz: 1e6, clampV: 38, events: 1 }).trace, {}, { kind: "injector" }) as InjectorResult;
+    const c = analyzeTrace(
+      generateInjector({ seed: 21, sampleRateHz: 1e6, clampV: 38, events: 1 }).trace,
+      {},
+      { kind: "injector" },
+    ) as InjectorResult;
     // clamped often at 35–40 V or 60–80 V (from memory)
     expect(c.summary.turnOffPeak.median!).toBeGreaterThanOrEqual(35);
     expect(c.summary.turnOffPeak.median!).toBeLessThanOrEqual(40);

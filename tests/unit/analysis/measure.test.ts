@@ -47,7 +47,7 @@ describe("generic measurements", () => {
 
   it.each([
     ["sine 1234.5 Hz", 50_000, (t: number) => Math.sin(2 * Math.PI * 1234.5 * t), 0.05],
-    ["square 60 Hz, 30 % duty", 20_000, (t: number) => (((t * 60) % 1) < 0.3 ? 5 : 0), 0.1],
+    ["square 60 Hz, 30 % duty", 20_000, (t: number) => ((t * 60) % 1 < 0.3 ? 5 : 0), 0.1],
     ["sine 7.1 kHz", 500_000, (t: number) => 0.3 * Math.sin(2 * Math.PI * 7100 * t + 1), 0.01],
   ] as const)("frequency of a %s matches the FFT of fft.js", (_name, rate, f, noise) => {
     const v = wave(1 << 15, rate, f, noise, 5);
@@ -60,7 +60,7 @@ describe("generic measurements", () => {
 
   it("duty cycle of a square wave", () => {
     const rate = 100_000;
-    const v = wave(50_000, rate, (t) => (((t * 200) % 1) < 0.3 ? 12 : 0.2), 0.05);
+    const v = wave(50_000, rate, (t) => ((t * 200) % 1 < 0.3 ? 12 : 0.2), 0.05);
     const m = measure({ values: v, sampleRateHz: rate });
     expect(m.dutyCyclePct!).toBeGreaterThan(29.5);
     expect(m.dutyCyclePct!).toBeLessThan(30.5);

@@ -74,43 +74,47 @@ describe("a pickup placed differently is not a fault", () => {
     },
   );
 
-  it("healthy coils: no statement, no outlier; the placement-free measures are compared beside the absolute " +
-    "ones", () => {
-    const c = compareTraces(coils(5, 5, null).map((x) => x.result));
-    expect(c.outliers).toEqual([]);
-    expect(c.statements).toEqual([]);
-    expect(c.metrics.map((m) => m.metric)).toEqual(
-      expect.arrayContaining(["peak", "burnTimeMs", "oscillations", "firingToSpark", "sparkSlopePctPerMs"]),
-    );
-    expect(c.metrics.find((m) => m.metric === "firingToSpark")!.unit).toBe("ratio");
-  });
+  it(
+    "healthy coils: no statement, no outlier; the placement-free measures are compared beside the absolute " + "ones",
+    () => {
+      const c = compareTraces(coils(5, 5, null).map((x) => x.result));
+      expect(c.outliers).toEqual([]);
+      expect(c.statements).toEqual([]);
+      expect(c.metrics.map((m) => m.metric)).toEqual(
+        expect.arrayContaining(["peak", "burnTimeMs", "oscillations", "firingToSpark", "sparkSlopePctPerMs"]),
+      );
+      expect(c.metrics.find((m) => m.metric === "firingToSpark")!.unit).toBe("ratio");
+    },
+  );
 });
 
 describe("a real difference is said in plain words, the statistic kept for experts", () => {
-  it("a low firing line with a short burn: 'Cylinder 3: firing line 40 % below the others, burn time 44 % " +
-    "shorter'", () => {
-    // the issue's example: 0.6 × the firing line, 0.56 × the burn time
-    const set = coils(4, 6, { index: 2, opts: { peakKv: 6, burnMs: 1.5 * 0.56 } });
-    const c = compareTraces(set.map((x) => x.result));
-    const s = c.statements.find((x) => x.cylinder === 3)!;
-    expect(s.kind).toBe("different");
-    expect(c.statements.length).toBe(1);
-    const others = set.filter((_, i) => i !== 2);
-    // expected from the generator's parameters: the coil against the others' median (simple-statistics)
-    const peakPct = Math.round(100 * (1 - 6 / ss.median(others.map((x) => x.opts.peakKv!))));
-    const burnPct = Math.round(100 * (1 - (1.5 * 0.56) / ss.median(others.map((x) => x.opts.burnMs!))));
-    const got = /^Cylinder 3: firing line (\d+) % below the others, burn time (\d+) % shorter/.exec(s.text);
-    expect(got, s.text).not.toBeNull();
-    expect(Math.abs(Number(got![1]) - peakPct)).toBeLessThanOrEqual(3);
-    expect(Math.abs(Number(got![2]) - burnPct)).toBeLessThanOrEqual(3);
-    expect(s.metrics).toEqual(expect.arrayContaining(["peak", "burnTimeMs"]));
-    expect(s.text).not.toMatch(STATS_WORDS);
-    // the statistic stays as data: both metrics flagged with |M| > 3.5 (Iglewicz & Hoaglin)
-    for (const m of ["peak", "burnTimeMs"]) {
-      const o = c.outliers.find((x) => x.metric === m && x.traceId === "3")!;
-      expect(Math.abs(o.score)).toBeGreaterThan(3.5);
-    }
-  });
+  it(
+    "a low firing line with a short burn: 'Cylinder 3: firing line 40 % below the others, burn time 44 % " + "shorter'",
+    () => {
+      // the issue's example: 0.6 × the firing line, 0.56 × the burn time
+      const set = coils(4, 6, { index: 2, opts: { peakKv: 6, burnMs: 1.5 * 0.56 } });
+      const c = compareTraces(set.map((x) => x.result));
+      const s = c.statements.find((x) => x.cylinder === 3)!;
+      expect(s.kind).toBe("different");
+      expect(c.statements.length).toBe(1);
+      const others = set.filter((_, i) => i !== 2);
+      // expected from the generator's parameters: the coil against the others' median (simple-statistics)
+      const peakPct = Math.round(100 * (1 - 6 / ss.median(others.map((x) => x.opts.peakKv!))));
+      const burnPct = Math.round(100 * (1 - (1.5 * 0.56) / ss.median(others.map((x) => x.opts.burnMs!))));
+      const got = /^Cylinder 3: firing line (\d+) % below the others, burn time (\d+) % shorter/.exec(s.text);
+      expect(got, s.text).not.toBeNull();
+      expect(Math.abs(Number(got![1]) - peakPct)).toBeLessThanOrEqual(3);
+      expect(Math.abs(Number(got![2]) - burnPct)).toBeLessThanOrEqual(3);
+      expect(s.metrics).toEqual(expect.arrayContaining(["peak", "burnTimeMs"]));
+      expect(s.text).not.toMatch(STATS_WORDS);
+      // the statistic stays as data: both metrics flagged with |M| > 3.5 (Iglewicz & Hoaglin)
+      for (const m of ["peak", "burnTimeMs"]) {
+        const o = c.outliers.find((x) => x.metric === m && x.traceId === "3")!;
+        expect(Math.abs(o.score)).toBeGreaterThan(3.5);
+      }
+    },
+  );
 
   it("a scaled coil whose burn is also short is a real difference, not placement", () => {
     const set = coils(4, 7, { index: 1, opts: { coupling: 0.75, burnMs: 0.8 } });
@@ -142,34 +146,43 @@ describe("with few cylinders, one placement coil does not hide a real fault", ()
   // spread the fault is judged against; with its coupling taken out the fault stands out.
   it.each([
     ["fouled plug (6 kV, 0.95 kV spark line, 2.0 ms)", 0.8, FOULED, "below", "longer"],
-    ["wide gap (14.5 kV, 2.4 kV spark line, 0.8 ms)", 1.25, { peakKv: 14.5, levelKv: 2.4, burnMs: 0.8 }, "above", "shorter"],
+    [
+      "wide gap (14.5 kV, 2.4 kV spark line, 0.8 ms)",
+      1.25,
+      { peakKv: 14.5, levelKv: 2.4, burnMs: 0.8 },
+      "above",
+      "shorter",
+    ],
     ["fouled plug (6 kV, 0.95 kV spark line, 2.0 ms)", 0.7, FOULED, "below", "longer"],
-  ] as [string, number, IgnitionOptions, string, string][])("cylinder 4: %s; cylinder 2's pickup coupling %s", (_n, k, fault, fl, burn) => {
-    for (const seed of [11, 12, 13]) {
-      const set = coils(4, seed, [
-        { index: 1, opts: { coupling: k } },
-        { index: 3, opts: fault },
-      ]);
-      const c = compareTraces(set.map((x) => x.result));
-      const byCyl = new Map(c.statements.map((s) => [s.cylinder, s]));
-      // cylinder 2: placement, its scale the coupling (the coil's own ±3 % beside it), no outlier
-      const p = byCyl.get(2);
-      expect(p?.kind, `seed ${seed}: ${JSON.stringify(c.statements)}`).toBe("placement");
-      expect(Math.abs(p!.scale! - k) / k).toBeLessThan(0.06);
-      expect(c.outliers.filter((o) => o.traceId === "2")).toEqual([]);
-      // cylinder 4: its firing line and burn time named in plain words, against the others
-      const f = byCyl.get(4);
-      expect(f?.kind).toBe("different");
-      expect(f!.text).toMatch(new RegExp(`firing line \\d+ % ${fl} the others`));
-      expect(f!.text).toMatch(new RegExp(`burn time \\d+ % ${burn}`));
-      expect(f!.text).not.toMatch(STATS_WORDS);
-      // the firing line's difference against the healthy coils' (model parameters, ±4 points)
-      const healthy = [0, 2].map((i) => set[i].opts.peakKv!);
-      const want = Math.round(100 * Math.abs(1 - fault.peakKv! / ss.median(healthy)));
-      const got = Number(/firing line (\d+) %/.exec(f!.text)![1]);
-      expect(Math.abs(got - want)).toBeLessThanOrEqual(4);
-      // cylinders 1 and 3: nothing
-      expect(byCyl.has(1) || byCyl.has(3)).toBe(false);
-    }
-  });
+  ] as [string, number, IgnitionOptions, string, string][])(
+    "cylinder 4: %s; cylinder 2's pickup coupling %s",
+    (_n, k, fault, fl, burn) => {
+      for (const seed of [11, 12, 13]) {
+        const set = coils(4, seed, [
+          { index: 1, opts: { coupling: k } },
+          { index: 3, opts: fault },
+        ]);
+        const c = compareTraces(set.map((x) => x.result));
+        const byCyl = new Map(c.statements.map((s) => [s.cylinder, s]));
+        // cylinder 2: placement, its scale the coupling (the coil's own ±3 % beside it), no outlier
+        const p = byCyl.get(2);
+        expect(p?.kind, `seed ${seed}: ${JSON.stringify(c.statements)}`).toBe("placement");
+        expect(Math.abs(p!.scale! - k) / k).toBeLessThan(0.06);
+        expect(c.outliers.filter((o) => o.traceId === "2")).toEqual([]);
+        // cylinder 4: its firing line and burn time named in plain words, against the others
+        const f = byCyl.get(4);
+        expect(f?.kind).toBe("different");
+        expect(f!.text).toMatch(new RegExp(`firing line \\d+ % ${fl} the others`));
+        expect(f!.text).toMatch(new RegExp(`burn time \\d+ % ${burn}`));
+        expect(f!.text).not.toMatch(STATS_WORDS);
+        // the firing line's difference against the healthy coils' (model parameters, ±4 points)
+        const healthy = [0, 2].map((i) => set[i].opts.peakKv!);
+        const want = Math.round(100 * Math.abs(1 - fault.peakKv! / ss.median(healthy)));
+        const got = Number(/firing line (\d+) %/.exec(f!.text)![1]);
+        expect(Math.abs(got - want)).toBeLessThanOrEqual(4);
+        // cylinders 1 and 3: nothing
+        expect(byCyl.has(1) || byCyl.has(3)).toBe(false);
+      }
+    },
+  );
 });

@@ -49,8 +49,15 @@ const cases: Case[] = [
   },
   { name: "500 kS/s, 1 event", gen: { seed: 16, sampleRateHz: 500e3, events: 1 } },
   { name: "1 MS/s, 2 events at idle (750 rpm)", gen: { seed: 17, sampleRateHz: 1e6, events: 2, rpm: 750 } },
-  { name: "1 MS/s, inverted, 3 events, kV scale", gen: { seed: 18, sampleRateHz: 1e6, events: 3, rpm: 2500, polarity: -1 }, kvPerVolt: 10 },
-  { name: "1 MS/s, clipped at the top", gen: { seed: 19, sampleRateHz: 1e6, events: 4, rpm: 3000, clip: { high: 0.5 } } },
+  {
+    name: "1 MS/s, inverted, 3 events, kV scale",
+    gen: { seed: 18, sampleRateHz: 1e6, events: 3, rpm: 2500, polarity: -1 },
+    kvPerVolt: 10,
+  },
+  {
+    name: "1 MS/s, clipped at the top",
+    gen: { seed: 19, sampleRateHz: 1e6, events: 4, rpm: 3000, clip: { high: 0.5 } },
+  },
   { name: "2 MS/s, noisy pickup", gen: { seed: 20, sampleRateHz: 2e6, events: 2, rpm: 3000, noiseV: 0.04 } },
   {
     name: "2 MS/s, time in µs with bracket header, millivolts",
@@ -60,8 +67,14 @@ const cases: Case[] = [
   { name: "5 MS/s, 1 event", gen: { seed: 22, sampleRateHz: 5e6, events: 1 } },
   { name: "5 MS/s, inverted and noisy", gen: { seed: 23, sampleRateHz: 5e6, events: 1, polarity: -1, noiseV: 0.03 } },
   { name: "5 MS/s, 2 events at 6000 rpm", gen: { seed: 24, sampleRateHz: 5e6, events: 2, rpm: 6000 } },
-  { name: "1 MS/s, waste spark at 1500 rpm", gen: { seed: 25, sampleRateHz: 1e6, events: 3, rpm: 1500, wasteSpark: true } },
-  { name: "1 MS/s, turn-on not in the capture", gen: { seed: 26, sampleRateHz: 1e6, events: 2, rpm: 3000, dwellMs: null } },
+  {
+    name: "1 MS/s, waste spark at 1500 rpm",
+    gen: { seed: 25, sampleRateHz: 1e6, events: 3, rpm: 1500, wasteSpark: true },
+  },
+  {
+    name: "1 MS/s, turn-on not in the capture",
+    gen: { seed: 26, sampleRateHz: 1e6, events: 2, rpm: 3000, dwellMs: null },
+  },
   {
     name: "1 MS/s, 10 H coil, 4 ringing peaks, long dwell",
     gen: { seed: 27, sampleRateHz: 1e6, events: 2, rpm: 2000, coilInductanceH: 10, ringPeaks: 4, dwellMs: 4.5 },
@@ -80,8 +93,14 @@ const cases: Case[] = [
     gen: { seed: 30, sampleRateHz: 1e6, events: 2, rpm: 3000, noiseV: 0.001 },
     csv: { scientific: true, preamble: ["# exported capture", "Model: bench scope", "Probe: capacitive"] },
   },
-  { name: "40 kS/s, 2 ringing peaks, 3 events", gen: { seed: 31, sampleRateHz: 40e3, events: 3, rpm: 2500, ringPeaks: 2 } },
-  { name: "1 MS/s, shorted turns: no ringing", gen: { seed: 32, sampleRateHz: 1e6, events: 2, rpm: 3000, fault: "shorted-turns" } },
+  {
+    name: "40 kS/s, 2 ringing peaks, 3 events",
+    gen: { seed: 31, sampleRateHz: 40e3, events: 3, rpm: 2500, ringPeaks: 2 },
+  },
+  {
+    name: "1 MS/s, shorted turns: no ringing",
+    gen: { seed: 32, sampleRateHz: 1e6, events: 2, rpm: 3000, fault: "shorted-turns" },
+  },
   { name: "1 MS/s, wide plug gap", gen: { seed: 33, sampleRateHz: 1e6, events: 2, rpm: 3000, fault: "wide-gap" } },
   { name: "1 MS/s, fouled plug", gen: { seed: 34, sampleRateHz: 1e6, events: 2, rpm: 3000, fault: "fouled-plug" } },
   {
@@ -121,19 +140,33 @@ describe("secondary ignition: generated captures with known truth", () => {
     r.events.forEach((e, k) => {
       const te = t.events[k];
       // burn time within max(5 %, 0.1 ms)
-      expect(within(e.burnTimeMs, te.burnTimeMs, Math.max(0.05 * te.burnTimeMs, 0.1)), `burn ${e.burnTimeMs} vs ${te.burnTimeMs}`).toBe(true);
+      expect(
+        within(e.burnTimeMs, te.burnTimeMs, Math.max(0.05 * te.burnTimeMs, 0.1)),
+        `burn ${e.burnTimeMs} vs ${te.burnTimeMs}`,
+      ).toBe(true);
       // oscillations within 1
-      expect(Math.abs(e.oscillations - te.oscillations), `oscillations ${e.oscillations} vs ${te.oscillations}`).toBeLessThanOrEqual(1);
+      expect(
+        Math.abs(e.oscillations - te.oscillations),
+        `oscillations ${e.oscillations} vs ${te.oscillations}`,
+      ).toBeLessThanOrEqual(1);
       // peak within 5 % where the capture can hold it (≥ 1 MS/s, not clipped)
-      if (peakTrusted) expect(within(e.peak, te.peak * kv, 0.05 * te.peak * kv), `peak ${e.peak} vs ${te.peak * kv}`).toBe(true);
+      if (peakTrusted)
+        expect(within(e.peak, te.peak * kv, 0.05 * te.peak * kv), `peak ${e.peak} vs ${te.peak * kv}`).toBe(true);
       else expect(e.peak).toBeLessThanOrEqual(te.peak * kv * 1.02);
-      expect(within(e.burnLevel, te.burnLevel * kv, 0.05 * te.burnLevel * kv + 3 * t.noiseV * kv), `level ${e.burnLevel}`).toBe(true);
+      expect(
+        within(e.burnLevel, te.burnLevel * kv, 0.05 * te.burnLevel * kv + 3 * t.noiseV * kv),
+        `level ${e.burnLevel}`,
+      ).toBe(true);
       expect(Math.abs(e.timeS - te.timeS)).toBeLessThan(2 / t.sampleRateHz + 5e-6);
       if (te.dwellMs == null) expect(e.dwellMs).toBeNull();
       else if (e.dwellMs != null || t.noiseV < 0.15 * te.burnLevel) {
-        expect(within(e.dwellMs!, te.dwellMs, Math.max(0.05 * te.dwellMs, 0.1)), `dwell ${e.dwellMs} vs ${te.dwellMs}`).toBe(true);
+        expect(
+          within(e.dwellMs!, te.dwellMs, Math.max(0.05 * te.dwellMs, 0.1)),
+          `dwell ${e.dwellMs} vs ${te.dwellMs}`,
+        ).toBe(true);
       }
-      if (te.oscillations >= 2 && e.ringingHz != null) expect(within(e.ringingHz, te.ringingHz, 0.03 * te.ringingHz)).toBe(true);
+      if (te.oscillations >= 2 && e.ringingHz != null)
+        expect(within(e.ringingHz, te.ringingHz, 0.03 * te.ringingHz)).toBe(true);
       expect(e.sparkEndS).toBeGreaterThan(e.sparkStartS);
       expect(e.clipped).toBe(te.clipped);
     });
@@ -141,7 +174,10 @@ describe("secondary ignition: generated captures with known truth", () => {
     if (t.rpm == null) expect(r.summary.rpm).toBeNull();
     else expect(within(r.summary.rpm!, t.rpm, 0.01 * t.rpm), `rpm ${r.summary.rpm} vs ${t.rpm}`).toBe(true);
     // the expected findings and no false ones
-    const codes = r.findings.map((f) => f.code).filter((code) => !(c.allow ?? []).includes(code)).sort();
+    const codes = r.findings
+      .map((f) => f.code)
+      .filter((code) => !(c.allow ?? []).includes(code))
+      .sort();
     expect(codes).toEqual(expectedFindings(t));
     if (t.sampleRateHz < 100e3) expect(r.findings.find((f) => f.code === "undersampled")!.severity).toBe("problem");
     // the safety caution once per trace, beside the first advice (issue 11), findings worst first
@@ -159,7 +195,15 @@ describe("secondary ignition: physics and the trade's reference values", () => {
     // formula and worked values: trade reference (LC resonance); 20 H / 50 pF → 5.03 kHz, 10 H → 7.12 kHz
     const f0 = 1 / (2 * Math.PI * Math.sqrt(L * C));
     expect(Math.abs(f0 - f) / f).toBeLessThan(0.001);
-    const g = generateSecondary({ seed: 40, sampleRateHz: 1e6, events: 2, rpm: 3000, coilInductanceH: L, coilCapacitanceF: C, ringPeaks: 5 });
+    const g = generateSecondary({
+      seed: 40,
+      sampleRateHz: 1e6,
+      events: 2,
+      rpm: 3000,
+      coilInductanceH: L,
+      coilCapacitanceF: C,
+      ringPeaks: 5,
+    });
     const r = analyzeTrace(g.trace) as SecondaryResult;
     // light damping lowers the frequency by well under 1 % (ωd = √(ω0² − 1/τ²))
     for (const e of r.events) expect(Math.abs(e.ringingHz! - f0) / f0).toBeLessThan(0.015);
@@ -193,7 +237,7 @@ describe("secondary ignition: physics and the trade's reference values", () => {
   it("samples per burn = burn time × sample rate: 1.5 ms at 1 MS/s is 1500 samples (trade reference)", () => {
     const g = generateSecondary({ seed: 42, sampleRateHz: 1e6, events: 1, burnTimeMs: 1.5, jitter: { burn: 0 } });
     const r = analyzeTrace(g.trace) as SecondaryResult;
-    const samples = ((r.events[0].sparkEndS - r.events[0].sparkStartS) * g.trace.sampleRateHz);
+    const samples = (r.events[0].sparkEndS - r.events[0].sparkStartS) * g.trace.sampleRateHz;
     expect(Math.abs(samples - g.truth.events[0].burnTimeMs * 1e3)).toBeLessThan(100);
     expect(r.findings.some((f) => f.code === "undersampled")).toBe(false);
   });
@@ -211,7 +255,8 @@ describe("secondary ignition: physics and the trade's reference values", () => {
 describe("secondary ignition: capture review from the settings", () => {
   const g = generateSecondary({ seed: 50, sampleRateHz: 1e6, events: 2, rpm: 3000 });
   const base: Partial<CaptureSettings> = { voltsPerDiv: 0.2, timePerDivS: 5e-3 };
-  const codes = (s: Partial<CaptureSettings>) => (analyzeTrace(g.trace, s) as SecondaryResult).findings.map((f) => f.code);
+  const codes = (s: Partial<CaptureSettings>) =>
+    (analyzeTrace(g.trace, s) as SecondaryResult).findings.map((f) => f.code);
 
   it("good settings give no findings", () => {
     expect(codes(base)).toEqual([]);
@@ -242,7 +287,9 @@ describe("secondary ignition: capture review from the settings", () => {
     const r = analyzeTrace(g.trace, { ...base, voltsPerDiv: 0.05 }) as SecondaryResult;
     expect(r.findings.map((f) => f.code)).not.toContain("clipped");
     expect(r.events.some((e) => e.clipped)).toBe(false);
-    r.events.forEach((e, k) => expect(Math.abs(e.peak - g.truth.events[k].peak) / g.truth.events[k].peak).toBeLessThan(0.02));
+    r.events.forEach((e, k) =>
+      expect(Math.abs(e.peak - g.truth.events[k].peak) / g.truth.events[k].peak).toBeLessThan(0.02),
+    );
     const f = r.findings.find((x) => x.code === "framing")!;
     expect(f.message).toMatch(/goes past the top of the screen at 50 mV\/div/);
     // a volts/division whose 4 divisions above ground hold the 0.8 V firing line

@@ -12,12 +12,25 @@
  *   positions 1–8 and 10–11 describe the model, 12–17 are the serial (§565.15(b)–(d)).
  */
 import { describe, expect, it } from "vitest";
-import { maskVin, REDACTED, scrubEmails, scrubPhones, scrubText, stripControls } from "../../../shared/domain/anonymise";
+import {
+  maskVin,
+  REDACTED,
+  scrubEmails,
+  scrubPhones,
+  scrubText,
+  stripControls,
+} from "../../../shared/domain/anonymise";
 import { vinModelPart } from "../../../shared/domain/vin";
 
 describe("e-mail addresses", () => {
   it("removes addr-spec forms, keeps everything around them", () => {
-    for (const a of ["dana@example.com", "dana.whitlock@example.com", "o'brien+shop@mail.example.org", "x_y-z@sub.domain.test", "UPPER@EXAMPLE.COM"]) {
+    for (const a of [
+      "dana@example.com",
+      "dana.whitlock@example.com",
+      "o'brien+shop@mail.example.org",
+      "x_y-z@sub.domain.test",
+      "UPPER@EXAMPLE.COM",
+    ]) {
       expect(scrubEmails(`mail ${a}, thanks`)).toBe(`mail ${REDACTED.email}, thanks`);
     }
   });
@@ -63,9 +76,18 @@ describe("phone numbers", () => {
 });
 
 describe("names", () => {
-  const ctx = { names: ["Dana Whitlock", "Oskar Brandtner", "Al Long"], organisations: ["Quarrymoor Ignition Works"], emails: ["d.whitlock@example.com"] };
+  const ctx = {
+    names: ["Dana Whitlock", "Oskar Brandtner", "Al Long"],
+    organisations: ["Quarrymoor Ignition Works"],
+    emails: ["d.whitlock@example.com"],
+  };
   it("removes the people on the case (full names and their parts) and the shop", () => {
-    expect(scrubText("Dana Whitlock and Whitlock's apprentice saw it; OSKAR confirmed. Quarrymoor Ignition Works, Quarrymoor crew.", ctx)).toBe(
+    expect(
+      scrubText(
+        "Dana Whitlock and Whitlock's apprentice saw it; OSKAR confirmed. Quarrymoor Ignition Works, Quarrymoor crew.",
+        ctx,
+      ),
+    ).toBe(
       `${REDACTED.name} and ${REDACTED.name} apprentice saw it; ${REDACTED.name} confirmed. ${REDACTED.shop} crew.`, // neighbouring placeholders merge
     );
   });
@@ -77,7 +99,9 @@ describe("names", () => {
     expect(scrubText("The ignition works now.", ctx)).toBe("The ignition works now.");
   });
   it("removes the local part of a known address written alone, honorific + surname and listed given names", () => {
-    expect(scrubText("ask whitlock or Mrs Feldhaus; Sarah and John saw it", ctx)).toBe(`ask ${REDACTED.name} or ${REDACTED.name}; ${REDACTED.name} and ${REDACTED.name} saw it`);
+    expect(scrubText("ask whitlock or Mrs Feldhaus; Sarah and John saw it", ctx)).toBe(
+      `ask ${REDACTED.name} or ${REDACTED.name}; ${REDACTED.name} and ${REDACTED.name} saw it`,
+    );
   });
   it("does not treat the trade's capitalised words as names", () => {
     const text = "Mark the spark line. Check coil 4. Max burn 2 ms. Jack the car up. Will recheck.";
@@ -95,7 +119,12 @@ describe("VIN", () => {
   });
   it("masks a VIN in the text and removes the case's serial wherever it appears", () => {
     const out = scrubText(`VIN ${vin.toLowerCase()} checked; serial 042788 stamped on the frame; KP042788`, { vin });
-    expect(out).toBe(`VIN 1M8GDM9A*KP******; serial ${REDACTED.serial} stamped on the frame; KP${REDACTED.serial}`.replace("; serial", " checked; serial"));
+    expect(out).toBe(
+      `VIN 1M8GDM9A*KP******; serial ${REDACTED.serial} stamped on the frame; KP${REDACTED.serial}`.replace(
+        "; serial",
+        " checked; serial",
+      ),
+    );
     expect(out).not.toContain("042788");
   });
 });

@@ -54,9 +54,17 @@ describe("printed trace figure", () => {
   });
 
   it("prints around the marks, else one firing of a secondary capture, never past the trace", () => {
-    const trace = { t0: 0, durationS: 0.33, kind: "secondary-ignition", settings: { timePerDivS: 0.033 }, analysis: { kind: "secondary-ignition", events: [{ timeS: 0.0012 }] } };
+    const trace = {
+      t0: 0,
+      durationS: 0.33,
+      kind: "secondary-ignition",
+      settings: { timePerDivS: 0.033 },
+      analysis: { kind: "secondary-ignition", events: [{ timeS: 0.0012 }] },
+    };
     // one span of 0.6 ms: 1.2 ms (twice the extent) each side
-    const w = figureWindow(trace, [{ id: "s", kind: "span", t0: 0.01, t1: 0.0106, level: null, label: null, color: "#000" }]);
+    const w = figureWindow(trace, [
+      { id: "s", kind: "span", t0: 0.01, t1: 0.0106, level: null, label: null, color: "#000" },
+    ]);
     expect(w.t0).toBeCloseTo(0.0088, 9);
     expect(w.t1).toBeCloseTo(0.0118, 9);
     // one firing: 0.5 ms before the firing line, 5 ms long

@@ -6,7 +6,13 @@
  */
 import { describe, expect, it } from "vitest";
 import Database from "better-sqlite3";
-import { contentMatch, facetTag, facetTags, queryPhrases, queryTokens } from "../../../server/services/casebook-search-engine";
+import {
+  contentMatch,
+  facetTag,
+  facetTags,
+  queryPhrases,
+  queryTokens,
+} from "../../../server/services/casebook-search-engine";
 
 describe("query text", () => {
   it("quotes every word, lower-cased; the last one (2+ characters) becomes a prefix", () => {
@@ -21,15 +27,27 @@ describe("query text", () => {
   });
 
   it("restricts the phrases to the content columns", () => {
-    expect(contentMatch(['"coil"', '"boot"*'])).toBe('{vehicle complaint symptoms codes diagnosis root_cause fix} : ("coil" "boot"*)');
+    expect(contentMatch(['"coil"', '"boot"*'])).toBe(
+      '{vehicle complaint symptoms codes diagnosis root_cause fix} : ("coil" "boot"*)',
+    );
   });
 });
 
 describe("facet tokens", () => {
   it("are single unicode61 tokens that the porter stemmer leaves as written", () => {
     const db = new Database(":memory:");
-    db.exec("CREATE VIRTUAL TABLE t USING fts5(x, tokenize='porter unicode61'); CREATE VIRTUAL TABLE v USING fts5vocab(t, 'row');");
-    const tags = facetTags({ make: "Veltra", model: "Quillon ST", year: 2016, engine: "2.0 I4 turbo", system: "ignition", codes: ["P0303", "p0351"], confirmed: true });
+    db.exec(
+      "CREATE VIRTUAL TABLE t USING fts5(x, tokenize='porter unicode61'); CREATE VIRTUAL TABLE v USING fts5vocab(t, 'row');",
+    );
+    const tags = facetTags({
+      make: "Veltra",
+      model: "Quillon ST",
+      year: 2016,
+      engine: "2.0 I4 turbo",
+      system: "ignition",
+      codes: ["P0303", "p0351"],
+      confirmed: true,
+    });
     db.prepare("INSERT INTO t(x) VALUES (?)").run(tags);
     const terms = db.prepare("SELECT term FROM v ORDER BY term").pluck().all();
     expect(terms).toEqual(tags.split(" ").sort());

@@ -9,7 +9,17 @@
 import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { generateSecondary } from "../../generators/secondary";
-import { casePattern, featureDistance, FEATURE_DIMS, patternVector, SimilarIndex, similarIndex, similarityReasons, type CasePattern, type PatternTrace } from "../../../server/services/similar";
+import {
+  casePattern,
+  featureDistance,
+  FEATURE_DIMS,
+  patternVector,
+  SimilarIndex,
+  similarIndex,
+  similarityReasons,
+  type CasePattern,
+  type PatternTrace,
+} from "../../../server/services/similar";
 import { syntheticEntries, syntheticPattern } from "../../factories/casebook";
 import { createRng } from "../../helpers/prng";
 import { openFile } from "../../../server/db/client";
@@ -18,7 +28,13 @@ import { insertCasebookEntries } from "../../../server/services/casebook";
 /** Four coil-on-plug captures, one per coil, measured as at upload. */
 function coils(burns: number[], opts: { rpm?: number; seed?: number } = {}): PatternTrace[] {
   return burns.map((burnTimeMs, i) => {
-    const g = generateSecondary({ seed: (opts.seed ?? 1) + i, sampleRateHz: 200_000, events: 3, burnTimeMs, rpm: opts.rpm ?? 750 });
+    const g = generateSecondary({
+      seed: (opts.seed ?? 1) + i,
+      sampleRateHz: 200_000,
+      events: 3,
+      burnTimeMs,
+      rpm: opts.rpm ?? 750,
+    });
     const settings = { ...g.settings, coil: i + 1 };
     return { settings, analysis: analyzeTrace(g.trace, settings as never) as unknown as Record<string, unknown> };
   });
@@ -93,7 +109,13 @@ describe("ranking", () => {
   it("loads the vectors from the casebook once and follows publishing and hiding", async () => {
     const db = openFile(":memory:");
     await insertCasebookEntries(db, syntheticEntries(200, 3), { scrub: false });
-    const p: CasePattern = syntheticPattern(createRng(1), { oddCoil: 3, burnMs: 1.6, oddBurnMs: 0.3, rpm: 1234, cylinders: 4 });
+    const p: CasePattern = syntheticPattern(createRng(1), {
+      oddCoil: 3,
+      burnMs: 1.6,
+      oddBurnMs: 0.3,
+      rpm: 1234,
+      cylinders: 4,
+    });
     const [id] = await insertCasebookEntries(db, [{ ...syntheticEntries(1, 4)[0], pattern: p }]);
     const v = patternVector(p);
     expect((await similarIndex(db)).nearest(v, 1)[0]).toMatchObject({ entryId: id, distance: 0, similarity: 1 });

@@ -14,27 +14,44 @@ import { withCautionsOnce } from "../../../src/features/analysis/lib/cautions";
 // firings each; burn 1.5 ms, and 0.75 ms on coil 3 (its stated parameter: half the others').
 function coils(oddIndex: number | null) {
   return [0, 1, 2, 3].map((i) => {
-    const g = generateSecondary({ seed: 300 + i, sampleRateHz: 1e6, events: 2, rpm: 3000, burnTimeMs: i === oddIndex ? 0.75 : 1.5 });
+    const g = generateSecondary({
+      seed: 300 + i,
+      sampleRateHz: 1e6,
+      events: 2,
+      rpm: 3000,
+      burnTimeMs: i === oddIndex ? 0.75 : 1.5,
+    });
     const burns = g.truth.events.map((e) => e.burnTimeMs).sort((a, b) => a - b);
     const truthBurnMs = (burns[(burns.length - 1) >> 1] + burns[burns.length >> 1]) / 2;
-    return { id: `coil-${i + 1}`, label: `Cylinder ${i + 1}`, truthBurnMs, analysis: analyzeTrace(g.trace) as AnalysisResult };
+    return {
+      id: `coil-${i + 1}`,
+      label: `Cylinder ${i + 1}`,
+      truthBurnMs,
+      analysis: analyzeTrace(g.trace) as AnalysisResult,
+    };
   });
 }
 
 describe("the flagged trace opens first", () => {
   it("is the comparison's odd one out (the generator's short-burn coil)", () => {
     const set = coils(2);
-    const c = compareTraces(set.map((t) => ({ kind: t.analysis.kind, unit: t.analysis.unit, summary: t.analysis.summary, traceId: t.id })));
+    const c = compareTraces(
+      set.map((t) => ({ kind: t.analysis.kind, unit: t.analysis.unit, summary: t.analysis.summary, traceId: t.id })),
+    );
     expect(flaggedTraceId(c, set)).toBe("coil-3");
   });
 
   it("else the first trace whose review found a problem; else none (the first trace opens)", () => {
     const set = coils(null);
-    const c = compareTraces(set.map((t) => ({ kind: t.analysis.kind, unit: t.analysis.unit, summary: t.analysis.summary, traceId: t.id })));
+    const c = compareTraces(
+      set.map((t) => ({ kind: t.analysis.kind, unit: t.analysis.unit, summary: t.analysis.summary, traceId: t.id })),
+    );
     expect(c.outliers).toEqual([]);
     expect(flaggedTraceId(c, set)).toBeUndefined();
     const problem: Finding = { code: "clipped", severity: "problem", message: "Clipped", advice: "" };
-    const withProblem = set.map((t, i) => (i === 1 ? { ...t, analysis: { ...t.analysis, findings: [...t.analysis.findings, problem] } } : t));
+    const withProblem = set.map((t, i) =>
+      i === 1 ? { ...t, analysis: { ...t.analysis, findings: [...t.analysis.findings, problem] } } : t,
+    );
     expect(flaggedTraceId(c, withProblem)).toBe("coil-2");
   });
 });
@@ -42,7 +59,9 @@ describe("the flagged trace opens first", () => {
 describe("cylinder-by-cylinder bars", () => {
   it("draw each coil's median burn, the odd coil flagged, burn time first", () => {
     const set = coils(2);
-    const c = compareTraces(set.map((t) => ({ kind: t.analysis.kind, unit: t.analysis.unit, summary: t.analysis.summary, traceId: t.id })));
+    const c = compareTraces(
+      set.map((t) => ({ kind: t.analysis.kind, unit: t.analysis.unit, summary: t.analysis.summary, traceId: t.id })),
+    );
     const charts = comparisonCharts(c, set, null);
     expect(charts[0].metric).toBe("burnTimeMs");
     expect(charts[0].unit).toBe("ms");
@@ -50,7 +69,9 @@ describe("cylinder-by-cylinder bars", () => {
     // the bars' values are the coils' median burn times: the generator's (1.5 ms, 0.75 ms on coil
     // 3, with its 1.5 % event-to-event jitter) within 5 % (the burn's end is read where the spark
     // line gives way to the ringing, a few samples either way)
-    charts[0].items.forEach((it, i) => expect(Math.abs(it.value! - set[i].truthBurnMs)).toBeLessThan(0.05 * set[i].truthBurnMs));
+    charts[0].items.forEach((it, i) =>
+      expect(Math.abs(it.value! - set[i].truthBurnMs)).toBeLessThan(0.05 * set[i].truthBurnMs),
+    );
     expect(charts[0].items[2].name).toBe("Cylinder 3");
     expect(shortLabel("Cylinder 3")).toBe("Cyl 3");
   });
@@ -78,9 +99,16 @@ describe("cylinder-by-cylinder bars", () => {
     // generator: 4 cylinders, one of them (the third stroke after key-on) at 70 % (its stated low
     // factor); the analysis counts positions from the first stroke after the inrush
     const g = generateCompression({ seed: 9, lowPosition: 3, lowFactor: 0.7 });
-    const r = analyzeTrace(g.trace, { kind: "relative-compression", cylinders: 4 }) as AnalysisResult & { kind: "relative-compression" };
+    const r = analyzeTrace(g.trace, { kind: "relative-compression", cylinders: 4 }) as AnalysisResult & {
+      kind: "relative-compression";
+    };
     const l = barLayout(
-      r.summary.positions.map((p) => ({ key: String(p.position), label: `Stroke ${p.position}`, value: p.relativePct, odd: r.summary.lowPositions.includes(p.position) })),
+      r.summary.positions.map((p) => ({
+        key: String(p.position),
+        label: `Stroke ${p.position}`,
+        value: p.relativePct,
+        odd: r.summary.lowPositions.includes(p.position),
+      })),
       { left: 0, width: 400, top: 0, bottom: 100 },
       100,
     );
@@ -97,7 +125,12 @@ describe("cylinder-by-cylinder bars", () => {
 describe("the safety caution, once per trace", () => {
   it("stays beside the first advice that carries it and is dropped from the others", () => {
     // the issue's report: the same caution three times on one trace
-    const f = (code: string): Finding => ({ code: code as Finding["code"], severity: "warning", message: code, advice: `Do this. ${SECONDARY_SAFETY}` });
+    const f = (code: string): Finding => ({
+      code: code as Finding["code"],
+      severity: "warning",
+      message: code,
+      advice: `Do this. ${SECONDARY_SAFETY}`,
+    });
     const out = withCautionsOnce([f("a"), f("b"), f("c")]);
     expect(out.map((x) => x.caution)).toEqual([SECONDARY_SAFETY, null, null]);
     expect(out.every((x) => x.advice === "Do this.")).toBe(true);

@@ -84,7 +84,11 @@ describe("caseCreateSchema", () => {
     const r = caseCreateSchema.parse({ ...goodCase, codes: ["p0304", " P0304", "p-0171", "U0100"] });
     expect(r.codes).toEqual(["P0304", "P0171", "U0100"]);
     // one text box: comma/space separated
-    expect(caseCreateSchema.parse({ ...goodCase, codes: "p0301, p0302;P0301 p1234" }).codes).toEqual(["P0301", "P0302", "P1234"]);
+    expect(caseCreateSchema.parse({ ...goodCase, codes: "p0301, p0302;P0301 p1234" }).codes).toEqual([
+      "P0301",
+      "P0302",
+      "P1234",
+    ]);
     // malformed codes are refused at their index
     const issues = issuesOf(caseCreateSchema, { ...goodCase, codes: ["P0304", "P4300", "X123"] });
     expect(issues.map((i) => i.path)).toEqual(["codes.1", "codes.2"]);
@@ -127,9 +131,15 @@ describe("caseCreateSchema", () => {
     // intermittent or constant) come from fixed lists; a case's status is not set by the form.
     expect(pathsOf(caseCreateSchema, { ...goodCase, system: "brakes" })).toEqual(["system"]);
     expect(pathsOf(caseCreateSchema, { ...goodCase, symptoms: ["misfire", "squeal"] })).toEqual(["symptoms.1"]);
-    expect(pathsOf(caseCreateSchema, { ...goodCase, conditions: { temperature: "warm" } })).toEqual(["conditions.temperature"]);
-    expect(pathsOf(caseCreateSchema, { ...goodCase, conditions: { load: ["idle", "wot"] } })).toEqual(["conditions.load.1"]);
-    expect(pathsOf(caseCreateSchema, { ...goodCase, conditions: { occurrence: "sometimes" } })).toEqual(["conditions.occurrence"]);
+    expect(pathsOf(caseCreateSchema, { ...goodCase, conditions: { temperature: "warm" } })).toEqual([
+      "conditions.temperature",
+    ]);
+    expect(pathsOf(caseCreateSchema, { ...goodCase, conditions: { load: ["idle", "wot"] } })).toEqual([
+      "conditions.load.1",
+    ]);
+    expect(pathsOf(caseCreateSchema, { ...goodCase, conditions: { occurrence: "sometimes" } })).toEqual([
+      "conditions.occurrence",
+    ]);
     expect(pathsOf(caseCreateSchema, { ...goodCase, status: "queued" })).toEqual([""]);
     expect(caseCreateSchema.parse({ ...goodCase, symptoms: ["stall", "stall"] }).symptoms).toEqual(["stall"]);
     expect(symptoms).toContain("check-engine-light-flashing");
@@ -147,7 +157,10 @@ describe("vehicleSchema", () => {
 
   it("refuses a malformed VIN at vehicle.vin, naming the position (49 CFR 565.13)", () => {
     // Source: 49 CFR 565.13 (O never used), 565.15 (17 characters; U never a year code) — docs/trade-reference.md.
-    const issues = issuesOf(caseCreateSchema, { ...goodCase, vehicle: { ...goodCase.vehicle, vin: "1M8GDM9AXKP04278O" } });
+    const issues = issuesOf(caseCreateSchema, {
+      ...goodCase,
+      vehicle: { ...goodCase.vehicle, vin: "1M8GDM9AXKP04278O" },
+    });
     expect(issues.map((i) => i.path)).toEqual(["vehicle.vin"]);
     expect(issues[0].message).toMatch(/Position 17/);
     expect(pathsOf(vehicleSchema, { ...base, vin: "1M8GDM9AXKP0427" })).toEqual(["vin"]);
@@ -175,7 +188,8 @@ describe("vehicleSchema", () => {
       {
         code: "year-mismatch",
         expected: "1989",
-        message: "The VIN gives model year 1989 (position 10), but the year entered is 2019. Check both; the model year can differ from the year the vehicle was built or sold.",
+        message:
+          "The VIN gives model year 1989 (position 10), but the year entered is 2019. Check both; the model year can differ from the year the vehicle was built or sold.",
       },
     ]);
     expect(vehicleVinWarnings(vehicleSchema.parse({ ...base, vin: "1M8GDM9AXKP042788", year: 1989 }))).toEqual([]);
@@ -188,7 +202,10 @@ describe("vehicleSchema", () => {
     expect(vehicleVinWarnings({ vin: "1M8GDM9AXKP042788", year: 2019, vinCheckOverride: true })).toEqual([]);
     // with a wrong check digit too (SGZCZ43D13S812715 needs X, docs/trade-reference.md; '3' in position 10 → 2003,
     // position 7 '3' numeric): both warnings
-    expect(vehicleVinWarnings({ vin: "SGZCZ43D13S812715", year: 2004 }).map((w) => w.code)).toEqual(["check-digit", "year-mismatch"]);
+    expect(vehicleVinWarnings({ vin: "SGZCZ43D13S812715", year: 2004 }).map((w) => w.code)).toEqual([
+      "check-digit",
+      "year-mismatch",
+    ]);
   });
 
   it("a VIN from outside North America without a year code is a warning, not a schema error", () => {
@@ -210,12 +227,17 @@ describe("vehicleSchema", () => {
     for (const bad of [1949, 2051, 1999.5, "19x9", true]) {
       expect(pathsOf(vehicleSchema, { ...base, year: bad }), String(bad)).toEqual(["year"]);
     }
-    expect(issuesOf(vehicleSchema, { ...base, year: 1949 })[0].message).toBe("Enter a model year between 1950 and 2050.");
+    expect(issuesOf(vehicleSchema, { ...base, year: 1949 })[0].message).toBe(
+      "Enter a model year between 1950 and 2050.",
+    );
   });
 
   it("mileage: whole number ≥ 0 with unit km or mi", () => {
     // Product rule (issue 3: mileage); whole numbers in km or mi: project rule.
-    expect(vehicleSchema.parse({ ...base, mileage: 0, mileageUnit: "km" })).toMatchObject({ mileage: 0, mileageUnit: "km" });
+    expect(vehicleSchema.parse({ ...base, mileage: 0, mileageUnit: "km" })).toMatchObject({
+      mileage: 0,
+      mileageUnit: "km",
+    });
     expect(vehicleSchema.parse({ ...base, mileage: "98765" }).mileage).toBe(98765);
     expect(pathsOf(vehicleSchema, { ...base, mileage: -1 })).toEqual(["mileage"]);
     expect(pathsOf(vehicleSchema, { ...base, mileage: 12.5 })).toEqual(["mileage"]);
@@ -230,8 +252,14 @@ describe("vehicleSchema", () => {
     for (const transmission of ["automatic", "manual", "cvt", "dct", "other"]) {
       expect(vehicleSchema.parse({ ...base, transmission }).transmission).toBe(transmission);
     }
-    expect(vehicleSchema.parse({ ...base, fuel: "", transmission: null })).toMatchObject({ fuel: null, transmission: null });
-    expect(pathsOf(vehicleSchema, { ...base, fuel: "kerosene", transmission: "sequential" })).toEqual(["fuel", "transmission"]);
+    expect(vehicleSchema.parse({ ...base, fuel: "", transmission: null })).toMatchObject({
+      fuel: null,
+      transmission: null,
+    });
+    expect(pathsOf(vehicleSchema, { ...base, fuel: "kerosene", transmission: "sequential" })).toEqual([
+      "fuel",
+      "transmission",
+    ]);
   });
 });
 
@@ -240,13 +268,18 @@ describe("caseDraftSchema and casePatchSchema", () => {
     // Product rule (issue 3: "Saved as a draft at any point").
     expect(caseDraftSchema.parse({})).toEqual({});
     expect(caseDraftSchema.parse({ vehicle: {} })).toEqual({ vehicle: {} });
-    expect(caseDraftSchema.parse({ complaint: "", vehicle: { make: "" } })).toEqual({ complaint: "", vehicle: { make: "" } });
+    expect(caseDraftSchema.parse({ complaint: "", vehicle: { make: "" } })).toEqual({
+      complaint: "",
+      vehicle: { make: "" },
+    });
   });
 
   it("applies no defaults (a patch must not overwrite what it does not mention)", () => {
     // Product rule (issue 3: PATCH /api/cases/:id, editable while draft); no defaults: project rule.
     expect(casePatchSchema.parse({ notes: "called customer" })).toEqual({ notes: "called customer" });
-    expect(casePatchSchema.parse({ conditions: { temperature: "hot" } })).toEqual({ conditions: { temperature: "hot" } });
+    expect(casePatchSchema.parse({ conditions: { temperature: "hot" } })).toEqual({
+      conditions: { temperature: "hot" },
+    });
     expect(casePatchSchema.parse({ vehicle: { year: "" } })).toEqual({ vehicle: { year: null } });
   });
 
@@ -273,7 +306,14 @@ describe("caseListQuerySchema", () => {
   it("coerces query strings", () => {
     // Product rule (issue 3: GET /api/cases?status=&q=&page=); the last of repeated keys: project rule.
     expect(
-      caseListQuerySchema.parse({ status: "draft", q: "  misfire ", page: "3", pageSize: "50", sort: "updatedAt", dir: "asc" }),
+      caseListQuerySchema.parse({
+        status: "draft",
+        q: "  misfire ",
+        page: "3",
+        pageSize: "50",
+        sort: "updatedAt",
+        dir: "asc",
+      }),
     ).toEqual({ status: "draft", q: "misfire", page: 3, pageSize: 50, sort: "updatedAt", dir: "asc" });
     expect(caseListQuerySchema.parse({ status: "", q: "", page: "" })).toEqual({ page: 1, pageSize: 20 });
     expect(caseListQuerySchema.parse({ page: ["2", "4"] }).page).toBe(4);
@@ -287,7 +327,11 @@ describe("caseListQuerySchema", () => {
     expect(pathsOf(caseListQuerySchema, { pageSize: "101" })).toEqual(["pageSize"]);
     expect(pathsOf(caseListQuerySchema, { pageSize: "0" })).toEqual(["pageSize"]);
     expect(caseListQuerySchema.parse({ pageSize: "100" }).pageSize).toBe(100);
-    expect(pathsOf(caseListQuerySchema, { status: "lost", sort: "price", dir: "up" })).toEqual(["status", "sort", "dir"]);
+    expect(pathsOf(caseListQuerySchema, { status: "lost", sort: "price", dir: "up" })).toEqual([
+      "status",
+      "sort",
+      "dir",
+    ]);
     expect(issuesOf(caseListQuerySchema, { pageSize: "101" })[0].message).toBe("Page size must be at most 100.");
   });
 });

@@ -195,7 +195,14 @@ describe("Bundled descriptions", () => {
   it("every code in the listed generic ranges has a description", () => {
     // From memory: generic ranges of SAE J2012 powertrain codes (decimal numbering within each block).
     const ranges: [number, number][] = [
-      [100, 124], [200, 212], [300, 312], [325, 344], [350, 362], [400, 404], [440, 456], [505, 507],
+      [100, 124],
+      [200, 212],
+      [300, 312],
+      [325, 344],
+      [350, 362],
+      [400, 404],
+      [440, 456],
+      [505, 507],
     ];
     for (const [from, to] of ranges) {
       for (let n = from; n <= to; n++) {

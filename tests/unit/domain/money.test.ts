@@ -55,7 +55,9 @@ describe("formatCents", () => {
   it("matches Intl.NumberFormat's en-US currency format", () => {
     // Reference: ECMA-402 Intl.NumberFormat (CLDR en-US): "$1,234.56".
     expect(formatCents(123456)).toBe("$1,234.56");
-    expect(formatCents(123456)).toBe(new Intl.NumberFormat("en-US", { style: "currency", currency: "USD" }).format(1234.56));
+    expect(formatCents(123456)).toBe(
+      new Intl.NumberFormat("en-US", { style: "currency", currency: "USD" }).format(1234.56),
+    );
     expect(formatCents(5)).toBe("$0.05");
     expect(formatCents(-5)).toBe(new Intl.NumberFormat("en-US", { style: "currency", currency: "USD" }).format(-0.05));
     expect(formatCents(0)).toBe("$0.00");
@@ -64,8 +66,12 @@ describe("formatCents", () => {
   it("is exact for large amounts and respects the currency's minor units", () => {
     // Reference: Intl.NumberFormat — EUR has 2 minor digits, JPY none (ISO 4217).
     expect(formatCents(900719925474099)).toBe("$9,007,199,254,740.99");
-    expect(formatCents(1234, "EUR", "en-US")).toBe(new Intl.NumberFormat("en-US", { style: "currency", currency: "EUR" }).format(12.34));
-    expect(formatCents(1234, "JPY", "en-US")).toBe(new Intl.NumberFormat("en-US", { style: "currency", currency: "JPY" }).format(1234));
+    expect(formatCents(1234, "EUR", "en-US")).toBe(
+      new Intl.NumberFormat("en-US", { style: "currency", currency: "EUR" }).format(12.34),
+    );
+    expect(formatCents(1234, "JPY", "en-US")).toBe(
+      new Intl.NumberFormat("en-US", { style: "currency", currency: "JPY" }).format(1234),
+    );
   });
 
   it("refuses non-integers", () => {
@@ -119,11 +125,7 @@ describe("splitBetween", () => {
   // reversals are 66/268, 67/267, 67/266 — adding up to 200/801 exactly. Splitting each piece on
   // its own would give 66/268 three times less a cent: 198/803, two cents adrift.
   it("pieces taken in turn add up to the split of the whole", () => {
-    const parts = [
-      splitBetween(0, 334, 2000),
-      splitBetween(334, 668, 2000),
-      splitBetween(668, 1001, 2000),
-    ];
+    const parts = [splitBetween(0, 334, 2000), splitBetween(334, 668, 2000), splitBetween(668, 1001, 2000)];
     expect(parts).toEqual([
       { deskCents: 66, expertCents: 268 },
       { deskCents: 67, expertCents: 267 },

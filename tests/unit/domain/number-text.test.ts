@@ -31,7 +31,9 @@ describe("fmtNum — measurement tables", () => {
   it("three significant digits below 1000", () => {
     // Reference: Number.prototype.toPrecision (ECMA-262) for 3 significant digits.
     for (const x of [999.4, 123.456, 12.345, 1.2345, 0.5, 0.012345, 0.000123, -42.42]) {
-      expect(fmtNum(x), String(x)).toBe(Number(x.toPrecision(3)).toLocaleString("en-US", { maximumFractionDigits: 20 }));
+      expect(fmtNum(x), String(x)).toBe(
+        Number(x.toPrecision(3)).toLocaleString("en-US", { maximumFractionDigits: 20 }),
+      );
     }
     expect(fmtNum(12.345)).toBe("12.3");
     expect(fmtNum(0.000123)).toBe("0.000123");
@@ -72,12 +74,15 @@ describe("parseNumberInput — capture settings fields", () => {
     expect(parseNumberInput(new Intl.NumberFormat("en-US").format(2500.5))).toEqual({ ok: true, value: 2500.5 }); // "2,500.5"
   });
 
-  it("refuses \"1,000\" with a hint: one thousand (thousands comma) or 1.000 (decimal comma)", () => {
+  it('refuses "1,000" with a hint: one thousand (thousands comma) or 1.000 (decimal comma)', () => {
     // "1,000" is one thousand in en-US (Intl.NumberFormat) and 1.000 with a decimal comma
     // (ISO 80000-1 §7.3.2); it used to be read as 1.
     expect(new Intl.NumberFormat("en-US").format(1000)).toBe("1,000");
     const r = parseNumberInput("1,000");
-    expect(r).toEqual({ ok: false, message: "“1,000” could be 1000 or 1.000: write it without the comma (1000) or with a decimal point (1.000)." });
+    expect(r).toEqual({
+      ok: false,
+      message: "“1,000” could be 1000 or 1.000: write it without the comma (1000) or with a decimal point (1.000).",
+    });
     expect(parseNumberInput("12,345").ok).toBe(false);
     expect(parseNumberInput("-1,000").ok).toBe(false);
   });

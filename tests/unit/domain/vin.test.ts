@@ -116,7 +116,12 @@ describe("VIN refusals — 49 CFR 565.13 and 565.15", () => {
 
   it("characters other than A–Z and 0–9 are refused, naming the position", () => {
     // Source: 49 CFR 565.13 — only Roman letters and Arabic numerals.
-    for (const [c, position] of [["#", 5], ["?", 9], ["Ä", 2], [".", 17]] as const) {
+    for (const [c, position] of [
+      ["#", 5],
+      ["?", 9],
+      ["Ä", 2],
+      [".", 17],
+    ] as const) {
       const v = validateVin(at("1M8GDM9AXKP042788", position, c));
       expect(v.ok).toBe(false);
       expect(v.errors[0]).toMatchObject({ code: "character", position });
@@ -136,7 +141,10 @@ describe("VIN refusals — 49 CFR 565.13 and 565.15", () => {
     expect(() => vinModelPart("1M8GDM9ABKP042788")).toThrow(RangeError);
     // every allowed letter but X (49 CFR 565.13 character set, 565.15 check digit)
     for (const c of "ABCDEFGHJKLMNPRSTUVWYZ") {
-      expect(validateVin(at("1M8GDM9AXKP042788", 9, c)).errors.map((e) => e.code), c).toEqual(["check-digit-character"]);
+      expect(
+        validateVin(at("1M8GDM9AXKP042788", 9, c)).errors.map((e) => e.code),
+        c,
+      ).toEqual(["check-digit-character"]);
     }
     // X and the digits are allowed there; a wrong digit is only the overridable check-digit warning
     expect(validateVin("1M8GDM9AXKP042788").ok).toBe(true);
@@ -154,7 +162,10 @@ describe("VIN refusals — 49 CFR 565.13 and 565.15", () => {
     expect(v.errors[0].message).toContain("Position 10");
     // first characters 1–5 are North America (ISO 3779 region table, from memory): all refused
     for (const first of ["1", "2", "3", "4", "5"]) {
-      expect(validateVin(withCheckDigit(at(vin, 1, first))).errors.map((e) => e.code), first).toEqual(["year-character"]);
+      expect(
+        validateVin(withCheckDigit(at(vin, 1, first))).errors.map((e) => e.code),
+        first,
+      ).toEqual(["year-character"]);
     }
   });
 
@@ -190,8 +201,21 @@ describe("VIN model year — position 10, 30-year cycle chosen by position 7 (49
   // Source: docs/trade-reference.md, 49 CFR 565.15 Table II: A=1980/2010 … H=1987/2017, J=1988/2018,
   // P=1993/2023, R=1994/2024, Y=2000/2030, 1–9 = 2001–2009 / 2031–2039.
   const table: [string, number][] = [
-    ["A", 1980], ["H", 1987], ["J", 1988], ["K", 1989], ["N", 1992], ["P", 1993], ["R", 1994],
-    ["S", 1995], ["T", 1996], ["V", 1997], ["W", 1998], ["X", 1999], ["Y", 2000], ["1", 2001], ["9", 2009],
+    ["A", 1980],
+    ["H", 1987],
+    ["J", 1988],
+    ["K", 1989],
+    ["N", 1992],
+    ["P", 1993],
+    ["R", 1994],
+    ["S", 1995],
+    ["T", 1996],
+    ["V", 1997],
+    ["W", 1998],
+    ["X", 1999],
+    ["Y", 2000],
+    ["1", 2001],
+    ["9", 2009],
   ];
 
   it.each(table)("%s → %i or %i+30", (code, year) => {
@@ -227,12 +251,21 @@ describe("VIN model year — position 10, 30-year cycle chosen by position 7 (49
 
 describe("VIN regions — first character (ISO 3779 region table, from memory)", () => {
   it.each([
-    ["1", "North America"], ["3", "North America"], ["5", "North America"],
-    ["S", "Europe"], ["W", "Europe"], ["Z", "Europe"],
-    ["J", "Asia"], ["K", "Asia"], ["R", "Asia"],
-    ["A", "Africa"], ["H", "Africa"],
-    ["6", "Oceania"], ["7", "Oceania"],
-    ["8", "South America"], ["9", "South America"],
+    ["1", "North America"],
+    ["3", "North America"],
+    ["5", "North America"],
+    ["S", "Europe"],
+    ["W", "Europe"],
+    ["Z", "Europe"],
+    ["J", "Asia"],
+    ["K", "Asia"],
+    ["R", "Asia"],
+    ["A", "Africa"],
+    ["H", "Africa"],
+    ["6", "Oceania"],
+    ["7", "Oceania"],
+    ["8", "South America"],
+    ["9", "South America"],
   ])("%s → %s", (c, region) => {
     // From memory: ISO 3779 region table, as given in docs/trade-reference.md.
     expect(vinRegion(c)).toBe(region);

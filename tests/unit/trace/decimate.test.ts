@@ -16,7 +16,15 @@ import { createRng, randomTrace, randomWindow } from "./helpers";
 
 function ramp(n: number, rate: number): ParsedTrace {
   const values = Float32Array.from({ length: n }, (_, i) => i);
-  return { samples: n, sampleRateHz: rate, t0: 0, durationS: n / rate, time: null, channels: [{ name: "A", unit: "V", values, min: 0, max: n - 1 }], warnings: [] };
+  return {
+    samples: n,
+    sampleRateHz: rate,
+    t0: 0,
+    durationS: n / rate,
+    time: null,
+    channels: [{ name: "A", unit: "V", values, min: 0, max: n - 1 }],
+    warnings: [],
+  };
 }
 
 // Sources: the window contract of issue 3 (`GET /api/traces/:id/window`: "bucket k covers its share
@@ -44,7 +52,9 @@ describe("decimateMinMax", () => {
     const w = decimateMinMax(trace, 100e-6, 200e-6, 10);
     expect(w.series).toEqual([{ name: "A", ...expected }]);
     // bucket starts 100, 110, … 190 µs (to the nanosecond; the exact values are edge(k) = t0 + k·span/width)
-    expect(w.t.map((t) => Math.round(t * 1e9))).toEqual([100, 110, 120, 130, 140, 150, 160, 170, 180, 190].map((us) => us * 1000));
+    expect(w.t.map((t) => Math.round(t * 1e9))).toEqual(
+      [100, 110, 120, 130, 140, 150, 160, 170, 180, 190].map((us) => us * 1000),
+    );
     expect(w.t).toEqual(Array.from({ length: 10 }, (_, k) => bucketEdge(100e-6, 200e-6, 10, k)));
     // the same with every sample's time given (the time-array path)
     const uneven: ParsedTrace = { ...trace, time: Float64Array.from({ length: 1000 }, (_, i) => i / 1e6) };
@@ -58,7 +68,10 @@ describe("decimateMinMax", () => {
     // The former floor formula misplaced 18 of these 1000 samples (computed below, as a check that
     // this example is sensitive to the rounding at the edges).
     const trace = ramp(1000, 1e6);
-    const floorMisplaced = Array.from({ length: 1000 }, (_, i) => Math.floor((i / 1e6 / 1e-3) * 100) !== Math.floor(i / 10)).filter(Boolean).length;
+    const floorMisplaced = Array.from(
+      { length: 1000 },
+      (_, i) => Math.floor((i / 1e6 / 1e-3) * 100) !== Math.floor(i / 10),
+    ).filter(Boolean).length;
     expect(floorMisplaced).toBe(18);
     const min = Array.from({ length: 100 }, (_, k) => 10 * k);
     const max = min.map((m) => m + 9);

@@ -7,7 +7,12 @@
  * carriage return — ASCII, ANSI X3.4-1986, control codes 0x00–0x1F).
  */
 import { describe, expect, it } from "vitest";
-import { createTraceAccumulator, MAX_LINE_CHARS, parseTraceText, TRACE_PARSE_ERROR_CODES } from "../../../shared/trace/parse";
+import {
+  createTraceAccumulator,
+  MAX_LINE_CHARS,
+  parseTraceText,
+  TRACE_PARSE_ERROR_CODES,
+} from "../../../shared/trace/parse";
 import { TraceParseError } from "../../../shared/trace/types";
 
 function refusal(fn: () => unknown): TraceParseError {
@@ -131,7 +136,13 @@ describe("binary bytes anywhere in the file", () => {
 
   it("refuses a binary byte in rows fed already split", () => {
     const acc = createTraceAccumulator();
-    const e = refusal(() => acc.pushRows([["Time", "A"], ["0", "1"], ["1", "\u0007"]]));
+    const e = refusal(() =>
+      acc.pushRows([
+        ["Time", "A"],
+        ["0", "1"],
+        ["1", "\u0007"],
+      ]),
+    );
     expect(e).toMatchObject({ code: "binary-content", line: 3 });
   });
 });

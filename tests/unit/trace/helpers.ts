@@ -4,7 +4,7 @@ import { createRng, type Rng } from "../../helpers/prng";
 /** A random trace: n samples, c channels, uniform time or (uneven) random positive steps. */
 export function randomTrace(rng: Rng, n: number, channels: number, uneven: boolean): ParsedTrace {
   const rate = rng.pick([1, 1000, 44_100, 1e6, 2.5e7]);
-  const t0 = rng.range(-1, 1) / rate * rng.int(0, 1000);
+  const t0 = (rng.range(-1, 1) / rate) * rng.int(0, 1000);
   let time: Float64Array | null = null;
   if (uneven) {
     time = new Float64Array(n);
@@ -30,7 +30,15 @@ export function randomTrace(rng: Rng, n: number, channels: number, uneven: boole
     return { name: `Ch${c + 1}`, unit: "V", values, min, max };
   });
   const sampleRateHz = time && n > 1 ? (n - 1) / (time[n - 1] - time[0]) : rate;
-  return { samples: n, sampleRateHz, t0: time ? time[0] : t0, durationS: n / sampleRateHz, time, channels: chans, warnings: [] };
+  return {
+    samples: n,
+    sampleRateHz,
+    t0: time ? time[0] : t0,
+    durationS: n / sampleRateHz,
+    time,
+    channels: chans,
+    warnings: [],
+  };
 }
 
 /** A random window around the trace: may start before it, end after it, or miss it. */

@@ -46,7 +46,9 @@ describe("metadata in columns beside the data", () => {
     ["Vertical Units", "V"],
     ["Vertical Scale", "5.00E-01"],
   ];
-  const text = v.map((x, k) => `${keys[k]?.[0] ?? ""},${keys[k]?.[1] ?? ""},,${(k * dt - 0.01).toPrecision(6)},${x}`).join("\r\n");
+  const text = v
+    .map((x, k) => `${keys[k]?.[0] ?? ""},${keys[k]?.[1] ?? ""},,${(k * dt - 0.01).toPrecision(6)},${x}`)
+    .join("\r\n");
 
   it("reads the values, the time column and the rate, the channel's name and unit from the keys", () => {
     const t = parseTraceText(text);
@@ -64,7 +66,11 @@ describe("sample-number columns with the interval in the header", () => {
     // 2 ns per sample (500 MS/s by definition), first sample at −10.6 µs
     const a = sine(40, 0.8, 5e6, 2e-9);
     const b = a.map((x) => String(-2 * x));
-    const text = ["X,CH1,CH2,Start,Increment,", "Sequence,Volt,Volt,-1.060000e-05,2.000000e-09", ...a.map((x, k) => `${k},${x},${b[k]},`)].join("\n");
+    const text = [
+      "X,CH1,CH2,Start,Increment,",
+      "Sequence,Volt,Volt,-1.060000e-05,2.000000e-09",
+      ...a.map((x, k) => `${k},${x},${b[k]},`),
+    ].join("\n");
     const t = parseTraceText(text);
     expect(t.samples).toBe(40);
     expect(relErr(t.sampleRateHz, 5e8)).toBeLessThan(1e-9);
@@ -82,7 +88,14 @@ describe("sample-number columns with the interval in the header", () => {
   it("`index,CH1_Voltage(mV)` after `Time interval :,0.08uS`", () => {
     // 0.08 µs = 8e-8 s per sample → 12.5 MS/s (micro = 1e-6)
     const v = sine(50, 1500, 1e5, 8e-8);
-    const text = ["Channel\t\t  :,CH1", "Probe attenuation\t  :,10X", "Time interval\t\t  :,0.08uS", "", "index,CH1_Voltage(mV)", ...v.map((x, k) => `${k},${x.toFixed(2)}`)].join("\r\n");
+    const text = [
+      "Channel\t\t  :,CH1",
+      "Probe attenuation\t  :,10X",
+      "Time interval\t\t  :,0.08uS",
+      "",
+      "index,CH1_Voltage(mV)",
+      ...v.map((x, k) => `${k},${x.toFixed(2)}`),
+    ].join("\r\n");
     const t = parseTraceText(text);
     expect(relErr(t.sampleRateHz, 12.5e6)).toBeLessThan(1e-9);
     expect(t.channels[0]).toMatchObject({ unit: "mV" });
@@ -90,9 +103,17 @@ describe("sample-number columns with the interval in the header", () => {
   });
 
   it("a sample number with no interval anywhere is refused, saying what is missing", () => {
-    const e = refusal(() => parseTraceText(`index,CH1 (V)\n${sine(30, 1, 10, 1e-3).map((x, k) => `${k},${x}`).join("\n")}\n`));
+    const e = refusal(() =>
+      parseTraceText(
+        `index,CH1 (V)\n${sine(30, 1, 10, 1e-3)
+          .map((x, k) => `${k},${x}`)
+          .join("\n")}\n`,
+      ),
+    );
     expect(e.code).toBe("no-sample-rate");
-    expect(e.message).toMatch(/numbers its samples but has no time column, and no line states the sample interval or rate/);
+    expect(e.message).toMatch(
+      /numbers its samples but has no time column, and no line states the sample interval or rate/,
+    );
     expect(e.message).toMatch(/enter the sample rate/);
   });
 });
@@ -101,7 +122,9 @@ describe("names and units", () => {
   it("time and channels named by their unit: `in s,C1 in V,C2 in mV`", () => {
     const dt = 1.2e-4;
     const v = sine(30, 3, 100, dt);
-    const text = ["in s,C1 in V,C2 in mV", ...v.map((x, k) => `${(k * dt).toExponential(5)},${x},${x * 1000}`)].join("\r\n");
+    const text = ["in s,C1 in V,C2 in mV", ...v.map((x, k) => `${(k * dt).toExponential(5)},${x},${x * 1000}`)].join(
+      "\r\n",
+    );
     const t = parseTraceText(text);
     expect(relErr(t.sampleRateHz, 1 / dt)).toBeLessThan(1e-9);
     expect(t.channels.map((c) => [c.name, c.unit])).toEqual([
@@ -134,7 +157,11 @@ describe("names and units", () => {
   it("a units row of words names no channel: names come from the row above", () => {
     const dt = 1e-6;
     const v = sine(30, 0.5, 1e4, dt);
-    const text = ["x-axis,1,2", "second,Volt,Ampere", ...v.map((x, k) => `${(k * dt - 1e-5).toExponential(6)},${x},${-x}`)].join("\n");
+    const text = [
+      "x-axis,1,2",
+      "second,Volt,Ampere",
+      ...v.map((x, k) => `${(k * dt - 1e-5).toExponential(6)},${x},${-x}`),
+    ].join("\n");
     const t = parseTraceText(text);
     expect(t.channels.map((c) => [c.name, c.unit])).toEqual([
       ["1", "V"],
@@ -146,7 +173,14 @@ describe("names and units", () => {
   it("one name and unit per column given as key rows, the data after an empty first column", () => {
     // `TraceName,CH1,CH2` and `VUnit,V,A` give each column's name and unit; `HResolution` the interval
     const v = sine(30, 2, 1e3, 1e-5);
-    const text = ["Model,bench", "TraceName,CH1,CH2", "VUnit,V,A", "HResolution,1.0E-05,1.0E-05", "HOffset,0,0", ...v.map((x) => `,${x},${x / 10}`)].join("\n");
+    const text = [
+      "Model,bench",
+      "TraceName,CH1,CH2",
+      "VUnit,V,A",
+      "HResolution,1.0E-05,1.0E-05",
+      "HOffset,0,0",
+      ...v.map((x) => `,${x},${x / 10}`),
+    ].join("\n");
     const t = parseTraceText(text);
     expect(t.samples).toBe(30); // the `HOffset,0,0` row is a key, not a sample
     expect(relErr(t.sampleRateHz, 1e5)).toBeLessThan(1e-9); // 1 / 1e-5 s
@@ -159,7 +193,15 @@ describe("names and units", () => {
   it("a logger header of NAME= lines over blank-separated columns", () => {
     // 100 S/s stated as a rate; the first column rises by 1 / 100 s, so it is the time column
     const v = sine(40, 12, 2, 0.01);
-    const text = ["NAME=bench logger", "SAMPLE_RATE=100", "NAME=Time", "NAME=Battery", "UNIT=s", "UNIT=V", ...v.map((x, k) => `  ${(k * 0.01).toFixed(2)}    ${x}`)].join("\n");
+    const text = [
+      "NAME=bench logger",
+      "SAMPLE_RATE=100",
+      "NAME=Time",
+      "NAME=Battery",
+      "UNIT=s",
+      "UNIT=V",
+      ...v.map((x, k) => `  ${(k * 0.01).toFixed(2)}    ${x}`),
+    ].join("\n");
     const t = parseTraceText(text);
     expect(t.sampleRateHz).toBe(100);
     expect(t.channels.map((c) => [c.name, c.unit])).toEqual([["Battery", "V"]]);
@@ -180,7 +222,14 @@ describe("names and units", () => {
   it("semicolons and decimal commas after `;` comment lines, channels in different units", () => {
     const v = sine(30, 4, 25, 4e-5);
     const dec = (x: number) => String(x).replace(".", ",");
-    const text = [";Device;handheld", ";Sample rate;25000", "Time;Channel A;Channel B", "(ms);(V);(mV)", "", ...v.map((x, k) => `${dec(Number((k * 0.04).toFixed(2)))};${dec(x)};${dec(x * 1000)}`)].join("\n");
+    const text = [
+      ";Device;handheld",
+      ";Sample rate;25000",
+      "Time;Channel A;Channel B",
+      "(ms);(V);(mV)",
+      "",
+      ...v.map((x, k) => `${dec(Number((k * 0.04).toFixed(2)))};${dec(x)};${dec(x * 1000)}`),
+    ].join("\n");
     const t = parseTraceText(text);
     expect(relErr(t.sampleRateHz, 25_000)).toBeLessThan(1e-9); // 0,04 ms per sample
     expect(t.channels.map((c) => [c.name, c.unit])).toEqual([
@@ -217,7 +266,9 @@ describe("the sample interval as headers write it", () => {
 describe("values and time as loggers and scopes write them", () => {
   it("whole numbers with a stated size per ADC code are multiplied by it", () => {
     const codes = Array.from({ length: 40 }, (_, k) => Math.round(50 * Math.sin(k / 4)));
-    const text = ["Sample interval: 1us", "Voltage per ADC value: 40mV", "Waveform Data", ...codes.map(String)].join("\n");
+    const text = ["Sample interval: 1us", "Voltage per ADC value: 40mV", "Waveform Data", ...codes.map(String)].join(
+      "\n",
+    );
     const t = parseTraceText(text);
     expect(t.sampleRateHz).toBe(1e6);
     expect(t.channels[0].unit).toBe("mV");
@@ -228,7 +279,13 @@ describe("values and time as loggers and scopes write them", () => {
   it("whole numbers far beyond a stated screen are kept as codes and say so", () => {
     // 0.2 V/div: a screen of about ten divisions holds ±1 V; codes up to 120 cannot be volts
     const codes = Array.from({ length: 40 }, (_, k) => Math.round(120 * Math.sin(k / 5)));
-    const text = ["Vertical Units,V,", "Vertical Scale,2.000E-01,", "Sampling Period,4.000E-06,", "Waveform Data,", ...codes.map((c) => `${c},`)].join("\n");
+    const text = [
+      "Vertical Units,V,",
+      "Vertical Scale,2.000E-01,",
+      "Sampling Period,4.000E-06,",
+      "Waveform Data,",
+      ...codes.map((c) => `${c},`),
+    ].join("\n");
     const t = parseTraceText(text);
     expect(t.sampleRateHz).toBe(250_000); // 1 / 4e-6 s
     expect(t.channels[0].unit).toBe("counts");
@@ -292,7 +349,10 @@ describe("values and time as loggers and scopes write them", () => {
     // one sample every 0.5 s across midnight
     const start = Date.UTC(2023, 11, 31, 23, 59, 50);
     const stamp = (ms: number) => new Date(ms).toISOString().replace("T", " ").replace("Z", "").replace(/-/g, "/");
-    const text = ["Date Time,Pressure (kPa)", ...Array.from({ length: 40 }, (_, k) => `${stamp(start + k * 500)},${100 + k}`)].join("\n");
+    const text = [
+      "Date Time,Pressure (kPa)",
+      ...Array.from({ length: 40 }, (_, k) => `${stamp(start + k * 500)},${100 + k}`),
+    ].join("\n");
     const t = parseTraceText(text);
     expect(t.sampleRateHz).toBe(2); // 1 / 0.5 s
     expect(t.t0).toBe(0);
@@ -300,7 +360,11 @@ describe("values and time as loggers and scopes write them", () => {
   });
 
   it("a time column without a unit, 1000 times the interval a metadata line states, is in ms", () => {
-    const text = ["Sample interval: 1e-6 s", "Time,A", ...Array.from({ length: 30 }, (_, k) => `${(k * 0.001).toFixed(3)},${k}`)].join("\n");
+    const text = [
+      "Sample interval: 1e-6 s",
+      "Time,A",
+      ...Array.from({ length: 30 }, (_, k) => `${(k * 0.001).toFixed(3)},${k}`),
+    ].join("\n");
     const t = parseTraceText(text);
     expect(t.sampleRateHz).toBe(1e6);
     expect(t.warnings.join(" ")).toMatch(/read in ms/);

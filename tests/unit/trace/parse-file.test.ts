@@ -20,11 +20,22 @@ function expectSame(a: ParsedTrace, b: ParsedTrace) {
   expect(a.durationS).toBe(b.durationS);
   expect(a.warnings).toEqual(b.warnings);
   expect(a.time == null).toBe(b.time == null);
-  if (a.time && b.time) expect(Buffer.from(a.time.buffer, a.time.byteOffset, a.time.byteLength).equals(Buffer.from(b.time.buffer, b.time.byteOffset, b.time.byteLength))).toBe(true);
-  expect(a.channels.map((c) => [c.name, c.unit, c.min, c.max])).toEqual(b.channels.map((c) => [c.name, c.unit, c.min, c.max]));
+  if (a.time && b.time)
+    expect(
+      Buffer.from(a.time.buffer, a.time.byteOffset, a.time.byteLength).equals(
+        Buffer.from(b.time.buffer, b.time.byteOffset, b.time.byteLength),
+      ),
+    ).toBe(true);
+  expect(a.channels.map((c) => [c.name, c.unit, c.min, c.max])).toEqual(
+    b.channels.map((c) => [c.name, c.unit, c.min, c.max]),
+  );
   a.channels.forEach((c, i) => {
     const d = b.channels[i].values;
-    expect(Buffer.from(c.values.buffer, c.values.byteOffset, c.values.byteLength).equals(Buffer.from(d.buffer, d.byteOffset, d.byteLength))).toBe(true);
+    expect(
+      Buffer.from(c.values.buffer, c.values.byteOffset, c.values.byteLength).equals(
+        Buffer.from(d.buffer, d.byteOffset, d.byteLength),
+      ),
+    ).toBe(true);
   });
 }
 
@@ -98,7 +109,10 @@ describe("parseTraceFile (streamed from disk)", () => {
     const rows = Array.from({ length: 50_000 }, (_, i) => `${i},${i}`);
     rows[40_000] = "40000,volts"; // line 40002
     fs.writeFileSync(file, `Time,A\n${rows.join("\n")}\n`);
-    await expect(parseTraceFile(file, { chunkBytes: 4096 })).rejects.toMatchObject({ code: "text-in-numeric-column", line: 40_002 });
+    await expect(parseTraceFile(file, { chunkBytes: 4096 })).rejects.toMatchObject({
+      code: "text-in-numeric-column",
+      line: 40_002,
+    });
     fs.writeFileSync(file, "");
     await expect(parseTraceFile(file)).rejects.toMatchObject({ code: "empty-file" });
   });

@@ -168,7 +168,8 @@ describe("parseTraceText — accepted variants", () => {
   });
 
   it("reads metadata lines before the header, whatever their column count", () => {
-    const text = "Model,XYZ\nSerial,12\n# comment, with a comma\nSample interval: 1e-6\n\nTime (us),Channel A (V),B (V)\n0,1,2\n1,2,3\n2,3,4\n";
+    const text =
+      "Model,XYZ\nSerial,12\n# comment, with a comma\nSample interval: 1e-6\n\nTime (us),Channel A (V),B (V)\n0,1,2\n1,2,3\n2,3,4\n";
     const t = parseTraceText(text);
     expect(t.samples).toBe(3);
     expect(t.sampleRateHz).toBe(1e6);
@@ -230,14 +231,19 @@ describe("parseTraceText — refusals name the code and the line", () => {
 
   it("refuses an empty file", () => {
     // Product rule (issue 3): an empty file is refused; no line to name (line null).
-    expect(refusal(() => parseTraceText(fixture("refuse-empty.csv")))).toMatchObject({ code: "empty-file", line: null });
+    expect(refusal(() => parseTraceText(fixture("refuse-empty.csv")))).toMatchObject({
+      code: "empty-file",
+      line: null,
+    });
     // blank lines only count as empty too (product rule, issue 3)
     expect(refusal(() => parseTraceText("\n \n\n")).code).toBe("empty-file");
   });
 
   it("refuses a file with no rows of numbers", () => {
     // Product rule (issue 3): no numeric rows; a header alone has none.
-    expect(refusal(() => parseTraceText(fixture("refuse-no-numeric-rows.csv")))).toMatchObject({ code: "no-numeric-rows" });
+    expect(refusal(() => parseTraceText(fixture("refuse-no-numeric-rows.csv")))).toMatchObject({
+      code: "no-numeric-rows",
+    });
     expect(refusal(() => parseTraceText("Time (s),Channel A (V)\n")).code).toBe("no-numeric-rows");
   });
 
@@ -260,7 +266,9 @@ describe("parseTraceText — refusals name the code and the line", () => {
 
   it("refuses text in the second data row (not mistaken for a header)", () => {
     // Product rule (issue 3): "1,x" on line 3 (by counting) is data with text in it, not a header.
-    const e = refusal(() => parseTraceText(`Time,A\n0,1\n1,x\n${Array.from({ length: 30 }, (_, i) => `${i + 2},${i}`).join("\n")}`));
+    const e = refusal(() =>
+      parseTraceText(`Time,A\n0,1\n1,x\n${Array.from({ length: 30 }, (_, i) => `${i + 2},${i}`).join("\n")}`),
+    );
     expect(e).toMatchObject({ code: "text-in-numeric-column", line: 3 });
   });
 
@@ -272,10 +280,15 @@ describe("parseTraceText — refusals name the code and the line", () => {
     for (const v of ["0x1A", "0X1a", "0b101", "0o17", " 0x1A"]) {
       const e = refusal(() => parseTraceText(`Time,A\n0,1\n1,${v}\n2,3\n`));
       expect(e, v).toMatchObject({ code: "text-in-numeric-column", line: 3 });
-      expect(e.message).toMatch(/^line 3: column 2 \("A"\) has "0[xXbo]1[0-9Aa]*", which is not a number in decimal notation/);
+      expect(e.message).toMatch(
+        /^line 3: column 2 \("A"\) has "0[xXbo]1[0-9Aa]*", which is not a number in decimal notation/,
+      );
     }
     // hexadecimal in the time column is refused the same way (line 3 by counting)
-    expect(refusal(() => parseTraceText("Time,A\n0,1\n0x2,2\n"))).toMatchObject({ code: "text-in-numeric-column", line: 3 });
+    expect(refusal(() => parseTraceText("Time,A\n0,1\n0x2,2\n"))).toMatchObject({
+      code: "text-in-numeric-column",
+      line: 3,
+    });
     // decimal numbers that start with 0 are still read: "0e5" = 0, "0.5", "05" = 5 (ECMA-262 StrDecimalLiteral)
     expect(values(parseTraceText("Time,A\n0,0e5\n1,0.5\n2,05\n"))).toEqual([0, 0.5, 5]);
   });
@@ -293,7 +306,10 @@ describe("parseTraceText — refusals name the code and the line", () => {
     // 3.4e38 itself is within range (below (2 − 2⁻²³)·2¹²⁷): kept, rounded to single precision
     expect(values(parseTraceText("Time,A\n0,1\n1,3.4e38\n"))).toEqual(f32([1, 3.4e38]));
     // a time beyond double precision (1e400 → Infinity, IEEE 754 binary64) is refused too
-    expect(refusal(() => parseTraceText("Time,A\n0,1\n1e400,2\n"))).toMatchObject({ code: "value-out-of-range", line: 3 });
+    expect(refusal(() => parseTraceText("Time,A\n0,1\n1e400,2\n"))).toMatchObject({
+      code: "value-out-of-range",
+      line: 3,
+    });
   });
 
   it("refuses more samples than a trace may have, with code too-large and the line", () => {
@@ -322,7 +338,10 @@ describe("parseTraceText — refusals name the code and the line", () => {
     const e = refusal(() => parseTraceText(fixture("refuse-time-not-increasing.csv")));
     expect(e).toMatchObject({ code: "time-not-increasing", line: 5 });
     // 0, 2, 1: the third data row (line 4 by counting) goes back in time
-    expect(refusal(() => parseTraceText("Time,A\n0,1\n2,2\n1,3\n"))).toMatchObject({ code: "time-not-increasing", line: 4 });
+    expect(refusal(() => parseTraceText("Time,A\n0,1\n2,2\n1,3\n"))).toMatchObject({
+      code: "time-not-increasing",
+      line: 4,
+    });
   });
 
   it("refuses ragged rows beyond the tolerance (more than 10 rows and more than 0.1 %)", () => {
@@ -350,7 +369,10 @@ describe("parseTraceText — refusals name the code and the line", () => {
 
   it("refuses more than 8 value columns", () => {
     // Product rule (issue 3: "1–8 value columns"); fixture README: refuse-too-many-columns.csv has 9.
-    expect(refusal(() => parseTraceText(fixture("refuse-too-many-columns.csv")))).toMatchObject({ code: "too-many-columns", line: 1 });
+    expect(refusal(() => parseTraceText(fixture("refuse-too-many-columns.csv")))).toMatchObject({
+      code: "too-many-columns",
+      line: 1,
+    });
   });
 
   it("refuses a file with no time column and no sample rate, saying what to do", () => {
@@ -362,7 +384,10 @@ describe("parseTraceText — refusals name the code and the line", () => {
 
   it("refuses a time column with a unit it does not know", () => {
     // Product rule (issue 3: time units (s) (ms) (us) (µs) (ns)); "div" is not a unit of time (BIPM SI Brochure).
-    expect(refusal(() => parseTraceText("Time (div),A\n0,1\n1,2\n"))).toMatchObject({ code: "unknown-time-unit", line: 1 });
+    expect(refusal(() => parseTraceText("Time (div),A\n0,1\n1,2\n"))).toMatchObject({
+      code: "unknown-time-unit",
+      line: 1,
+    });
   });
 
   it("refuses a time column without value columns, and a single sample", () => {
@@ -405,7 +430,13 @@ describe("sample rate from a metadata line with digit grouping", () => {
     // silently a factor of 1000 off).
     expect(new Intl.NumberFormat("en-US").format(1000)).toBe("1,000");
     expect(new Intl.NumberFormat("de-DE", { minimumFractionDigits: 3 }).format(1)).toBe("1,000");
-    for (const line of ["Sample rate: 1,000 Hz", "Sample rate;1.000 Hz", "Sample rate: 12,34,567 Hz", "Sample rate: 1 5 MHz", "Sample rate: 1,0,0 Hz"]) {
+    for (const line of [
+      "Sample rate: 1,000 Hz",
+      "Sample rate;1.000 Hz",
+      "Sample rate: 12,34,567 Hz",
+      "Sample rate: 1 5 MHz",
+      "Sample rate: 1,0,0 Hz",
+    ]) {
       expect(sampleRateFromMetadata(line), line).toBeUndefined();
     }
     // not ambiguous: a decimal comma before fewer or more than three digits, or a leading zero
@@ -427,7 +458,9 @@ describe("sample rate from a metadata line with digit grouping", () => {
     // ambiguous "1,000 Hz": refused as if no rate were stated, naming the line that was not used
     const e = refusal(() => parseTraceText(`Sample rate: 1,000 Hz\n${data}`));
     expect(e).toMatchObject({ code: "no-sample-rate", line: 2 });
-    expect(e.message).toMatch(/line 1 states a sample rate, "1,000 Hz", but its number could be read more than one way/);
+    expect(e.message).toMatch(
+      /line 1 states a sample rate, "1,000 Hz", but its number could be read more than one way/,
+    );
     // … and the stated rate is used (product rule, issue 3)
     expect(parseTraceText(`Sample rate: 1,000 Hz\n${data}`, { sampleRateHz: 1000 }).sampleRateHz).toBe(1000);
   });
@@ -474,7 +507,11 @@ describe("building blocks", () => {
   });
 
   it("gives the same trace whatever the text chunking", () => {
-    const text = fixture("semicolon-decimal-comma.csv") + Array.from({ length: 5000 }, (_, i) => `${(0.008 + i * 0.002).toFixed(3).replace(".", ",")};${i % 11},5`).join("\n");
+    const text =
+      fixture("semicolon-decimal-comma.csv") +
+      Array.from({ length: 5000 }, (_, i) => `${(0.008 + i * 0.002).toFixed(3).replace(".", ",")};${i % 11},5`).join(
+        "\n",
+      );
     const whole = parseTraceText(text);
     for (const size of [1, 7, 4096, 70_000]) {
       const acc = createTraceAccumulator();

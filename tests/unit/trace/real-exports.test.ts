@@ -42,7 +42,9 @@ function findExports(): string | null {
 }
 
 const dir = process.env.BURNLINE_REAL_EXPORTS ?? findExports();
-const manifest: ManifestEntry[] = dir ? (JSON.parse(fs.readFileSync(path.join(dir, "manifest.json"), "utf8")).files as ManifestEntry[]) : [];
+const manifest: ManifestEntry[] = dir
+  ? (JSON.parse(fs.readFileSync(path.join(dir, "manifest.json"), "utf8")).files as ManifestEntry[])
+  : [];
 
 /** The unit the manifest names for channel 1, as the reader reports it (normalised; raw codes as "counts"). */
 function expectedUnit(truth: string): string | null {

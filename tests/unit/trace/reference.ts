@@ -43,6 +43,10 @@ export function bruteForceWindow(src: DecimateSource, t0: number, t1: number, wi
   for (let b = 0; b < width; b++) if (seen[b]) ks.push(b);
   return {
     t: ks.map((b) => edges[b]),
-    series: src.channels.map((c, j) => ({ name: c.name, min: ks.map((b) => mins[j][b]), max: ks.map((b) => maxs[j][b]) })),
+    series: src.channels.map((c, j) => ({
+      name: c.name,
+      min: ks.map((b) => mins[j][b]),
+      max: ks.map((b) => maxs[j][b]),
+    })),
   };
 }

@@ -2,7 +2,14 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { forgetTraceData, openTraceData, openTraceDataCached, readChannels, writeTraceData, TRACE_DATA_MAGIC } from "../../../server/traces/store";
+import {
+  forgetTraceData,
+  openTraceData,
+  openTraceDataCached,
+  readChannels,
+  writeTraceData,
+  TRACE_DATA_MAGIC,
+} from "../../../server/traces/store";
 import { decimateMinMax } from "../../../shared/trace/decimate";
 import type { ParsedTrace } from "../../../shared/trace/types";
 import { bruteForceWindow } from "./reference";
@@ -22,8 +29,20 @@ function expectSameTrace(got: ParsedTrace, want: ParsedTrace) {
   expect(got.warnings).toEqual(want.warnings);
   if (want.time) expect(Array.from(got.time!)).toEqual(Array.from(want.time));
   else expect(got.time).toBeNull();
-  expect(got.channels.map((c) => [c.name, c.unit, c.min, c.max])).toEqual(want.channels.map((c) => [c.name, c.unit, c.min, c.max]));
-  got.channels.forEach((c, i) => expect(Buffer.from(c.values.buffer, c.values.byteOffset, c.values.byteLength).equals(Buffer.from(want.channels[i].values.buffer, want.channels[i].values.byteOffset, want.channels[i].values.byteLength))).toBe(true));
+  expect(got.channels.map((c) => [c.name, c.unit, c.min, c.max])).toEqual(
+    want.channels.map((c) => [c.name, c.unit, c.min, c.max]),
+  );
+  got.channels.forEach((c, i) =>
+    expect(
+      Buffer.from(c.values.buffer, c.values.byteOffset, c.values.byteLength).equals(
+        Buffer.from(
+          want.channels[i].values.buffer,
+          want.channels[i].values.byteOffset,
+          want.channels[i].values.byteLength,
+        ),
+      ),
+    ).toBe(true),
+  );
 }
 
 describe("trace data store", () => {
@@ -98,7 +117,9 @@ describe("trace data store", () => {
     forgetTraceData(file);
     const b = await openTraceDataCached(file);
     expect(b).not.toBe(a);
-    expect(await b.window(trace.t0, trace.t0 + trace.durationS, 100)).toEqual(bruteForceWindow(trace, trace.t0, trace.t0 + trace.durationS, 100));
+    expect(await b.window(trace.t0, trace.t0 + trace.durationS, 100)).toEqual(
+      bruteForceWindow(trace, trace.t0, trace.t0 + trace.durationS, 100),
+    );
   });
 
   it("worked example at 1 MS/s from the stored file: 10 samples in each 10 µs bucket (uniform and time array)", async () => {
@@ -107,13 +128,30 @@ describe("trace data store", () => {
     // its coarse time index and sparse block reads.
     const n = 70_000;
     const values = Float32Array.from({ length: n }, (_, i) => i);
-    const uniform: ParsedTrace = { samples: n, sampleRateHz: 1e6, t0: 0, durationS: n / 1e6, time: null, channels: [{ name: "A", unit: "V", values, min: 0, max: n - 1 }], warnings: [] };
+    const uniform: ParsedTrace = {
+      samples: n,
+      sampleRateHz: 1e6,
+      t0: 0,
+      durationS: n / 1e6,
+      time: null,
+      channels: [{ name: "A", unit: "V", values, min: 0, max: n - 1 }],
+      warnings: [],
+    };
     const withTime: ParsedTrace = { ...uniform, time: Float64Array.from({ length: n }, (_, i) => i / 1e6) };
-    for (const [id, trace] of [["ramp-uniform", uniform], ["ramp-time", withTime]] as const) {
+    for (const [id, trace] of [
+      ["ramp-uniform", uniform],
+      ["ramp-time", withTime],
+    ] as const) {
       const { path: file } = await writeTraceData(dir, id, trace);
       const data = await openTraceData(file);
       const w = await data.window(100e-6, 200e-6, 10);
-      expect(w.series).toEqual([{ name: "A", min: [100, 110, 120, 130, 140, 150, 160, 170, 180, 190], max: [109, 119, 129, 139, 149, 159, 169, 179, 189, 199] }]);
+      expect(w.series).toEqual([
+        {
+          name: "A",
+          min: [100, 110, 120, 130, 140, 150, 160, 170, 180, 190],
+          max: [109, 119, 129, 139, 149, 159, 169, 179, 189, 199],
+        },
+      ]);
       // [60 ms, 61 ms) in 100 buckets: bucket k holds samples 60,000 + 10k … 60,009 + 10k (by hand)
       const late = await data.window(60e-3, 61e-3, 100);
       expect(late.series[0].min).toEqual(Array.from({ length: 100 }, (_, k) => 60_000 + 10 * k));
@@ -137,12 +175,20 @@ describe("channel metadata kept with a trace", () => {
     const { parseTraceText } = await import("../../../shared/trace/parse");
     const { storedChannels } = await import("../../../server/traces/store");
     const volts = parseTraceText("X,CH1\nSecond,Volt\n0,1\n1e-3,2\n2e-3,3\n");
-    const codes = parseTraceText(`Sample interval: 1e-6\nVoltage per ADC value: 40mV\nData\n${[1, -2, 3].join("\n")}\n`);
-    expect(storedChannels(volts)).toEqual([{ name: "CH1", unit: "V", min: 1, max: 3, unitWritten: "Volt", unitFrom: "header" }]);
+    const codes = parseTraceText(
+      `Sample interval: 1e-6\nVoltage per ADC value: 40mV\nData\n${[1, -2, 3].join("\n")}\n`,
+    );
+    expect(storedChannels(volts)).toEqual([
+      { name: "CH1", unit: "V", min: 1, max: 3, unitWritten: "Volt", unitFrom: "header" },
+    ]);
     expect(storedChannels(codes)[0]).toMatchObject({ unit: "mV", unitFrom: "metadata", min: -80, max: 120 });
     const { path: file } = await writeTraceData(dir, "meta-1", codes);
     const back = await readChannels(file);
-    expect(back.channels[0]).toMatchObject({ unit: "mV", unitFrom: "metadata", scaledFrom: "ADC codes × 40 mV per code (line 2)" });
+    expect(back.channels[0]).toMatchObject({
+      unit: "mV",
+      unitFrom: "metadata",
+      scaledFrom: "ADC codes × 40 mV per code (line 2)",
+    });
     const opened = await openTraceData(file);
     expect(opened.header.channels[0]).toMatchObject({ name: "A", unit: "mV", unitFrom: "metadata" });
   });

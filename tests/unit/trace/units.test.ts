@@ -50,7 +50,11 @@ describe("channelUnits", () => {
   });
   it("without a probe scale, values stay volts at the scope", () => {
     expect(channelUnits(null, { probe: "capacitive-secondary" })).toMatchObject({ unit: "V", source: "scope" });
-    expect(channelUnits("mV", { probe: "current-clamp" })).toMatchObject({ unit: "V", quantity: "current", fromFile: 1e-3 });
+    expect(channelUnits("mV", { probe: "current-clamp" })).toMatchObject({
+      unit: "V",
+      quantity: "current",
+      fromFile: 1e-3,
+    });
   });
 });
 

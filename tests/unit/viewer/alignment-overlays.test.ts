@@ -1,5 +1,13 @@
 import { describe, expect, it } from "vitest";
-import { alignmentLevel, alignmentTime, firstCrossing, midLevel, refineWindow, toDisplayTime, toTraceTime } from "../../../src/features/traces/lib/alignment";
+import {
+  alignmentLevel,
+  alignmentTime,
+  firstCrossing,
+  midLevel,
+  refineWindow,
+  toDisplayTime,
+  toTraceTime,
+} from "../../../src/features/traces/lib/alignment";
 import {
   analysisToPlot,
   annotationShapes,
@@ -12,7 +20,7 @@ import {
   type PlotFrame,
 } from "../../../src/features/traces/lib/overlay-geometry";
 import { TRACE_PALETTE, traceColor, withAlpha } from "../../../src/features/traces/lib/palette";
-import { channelUnits } from "../../../src/features/traces/lib/units";
+import { channelUnits } from "../../../src/lib/trace-units";
 import type { Annotation, TraceInfo } from "../../../src/features/traces/types";
 
 const trace = (extra: Partial<TraceInfo> = {}): TraceInfo => ({
@@ -49,7 +57,9 @@ describe("first crossing in min/max buckets (hand-built data)", () => {
 
 describe("alignment for the overlay", () => {
   it("uses the first analysis event when there is one", () => {
-    const tr = trace({ analysis: { kind: "secondary-ignition", unit: "kV", events: [{ timeS: 0.0042 }, { timeS: 0.02 }] } });
+    const tr = trace({
+      analysis: { kind: "secondary-ignition", unit: "kV", events: [{ timeS: 0.0042 }, { timeS: 0.02 }] },
+    });
     expect(alignmentTime(tr)).toEqual({ time: 0.0042, source: "event" });
   });
   it("else the first crossing of the recorded trigger level with its slope in the window data", () => {
@@ -90,7 +100,11 @@ describe("event markers", () => {
   });
 
   it("spans the burn time from the firing line: 1.5 ms from 20 ms ends at 21.5 ms, shifted by the overlay offset", () => {
-    const analysis = { kind: "secondary-ignition", unit: "V", events: [{ timeS: 0.02, peak: 9, burnTimeMs: 1.5, burnLevel: 1.2 }] };
+    const analysis = {
+      kind: "secondary-ignition",
+      unit: "V",
+      events: [{ timeS: 0.02, peak: 9, burnTimeMs: 1.5, burnLevel: 1.2 }],
+    };
     const [m] = eventMarkers(analysis, volts);
     expect(m.tFire).toBe(0.02);
     expect(m.tStart).toBe(0.02);
@@ -103,7 +117,11 @@ describe("event markers", () => {
   });
 
   it("draws the spark line where the analysis found it when it gives its start and end", () => {
-    const analysis = { kind: "secondary-ignition", unit: "V", events: [{ timeS: 0.01, burnTimeMs: 1.4, burnLevel: 1, sparkStartS: 0.01002, sparkEndS: 0.0114 }] };
+    const analysis = {
+      kind: "secondary-ignition",
+      unit: "V",
+      events: [{ timeS: 0.01, burnTimeMs: 1.4, burnLevel: 1, sparkStartS: 0.01002, sparkEndS: 0.0114 }],
+    };
     const [m] = eventMarkers(analysis, volts);
     expect(m.tStart).toBe(0.01002);
     expect(m.tEnd).toBe(0.0114);
@@ -132,7 +150,10 @@ describe("event markers", () => {
 
 describe("alignment level", () => {
   it("takes the trigger level from the scope's unit into the file's: 300 mV typed for a file in mV is 300 mV", () => {
-    const tr = trace({ channels: [{ name: "A", unit: "mV", min: 0, max: 900 }], settings: { voltsPerDiv: 0.2, timePerDivS: 1e-3, triggerLevel: 0.3 } });
+    const tr = trace({
+      channels: [{ name: "A", unit: "mV", min: 0, max: 900 }],
+      settings: { voltsPerDiv: 0.2, timePerDivS: 1e-3, triggerLevel: 0.3 },
+    });
     // scope unit V (shared/trace/units: a file in mV has its settings typed in volts); 0.3 V = 300 mV
     const cu = channelUnits("mV");
     expect(alignmentLevel(tr, null, 1 / cu.scopeFromFile)).toBeCloseTo(300, 9);
@@ -142,7 +163,11 @@ describe("alignment level", () => {
 describe("annotation geometry and hit tests (pixel maths, hand-computed)", () => {
   // 0…10 s over 500 px from x = 0; −10…+6 V over 320 px from y = 0 (top = +6 V)
   const f: PlotFrame = { left: 0, top: 0, width: 500, height: 320, x: (t) => t * 50, y: (v) => ((6 - v) / 16) * 320 };
-  const ann = (a: Partial<Annotation> & Pick<Annotation, "id" | "kind" | "t0">): Annotation => ({ traceId: "a", color: "#000", ...a });
+  const ann = (a: Partial<Annotation> & Pick<Annotation, "id" | "kind" | "t0">): Annotation => ({
+    traceId: "a",
+    color: "#000",
+    ...a,
+  });
   const list = [
     ann({ id: "pin", kind: "pin", t0: 2, level: 0 }),
     ann({ id: "span", kind: "span", t0: 6, t1: 8 }),

@@ -1,5 +1,12 @@
 import { describe, expect, it } from "vitest";
-import { captureTimeWindow, captureView, fitRange, PRE_TRIGGER_FRACTION, traceBounds, unionRange } from "../../../src/features/traces/lib/capture-view";
+import {
+  captureTimeWindow,
+  captureView,
+  fitRange,
+  PRE_TRIGGER_FRACTION,
+  traceBounds,
+  unionRange,
+} from "../../../src/features/traces/lib/capture-view";
 import { divisionStep, gridLines, labelEvery, niceStep, niceStepNear } from "../../../src/features/traces/lib/grid";
 import type { TraceInfo } from "../../../src/features/traces/types";
 
@@ -63,16 +70,26 @@ describe("capture view", () => {
   it("scales the screen and the trigger level by the probe into the physical unit", () => {
     // the settings are typed in the scope's unit (shared/trace/units): 0.5 V/div × 10 kV/V = 5 kV/div,
     // ground at the centre → −20…+20 kV; a 0.3 V trigger is 3 kV at the plug (hand-computed)
-    const pickup = captureView({ ...base, settings: { voltsPerDiv: 0.5, timePerDivS: 1e-3, kvPerVolt: 10, triggerLevel: 0.3 } });
+    const pickup = captureView({
+      ...base,
+      settings: { voltsPerDiv: 0.5, timePerDivS: 1e-3, kvPerVolt: 10, triggerLevel: 0.3 },
+    });
     expect(pickup.voltsPerDiv).toBeCloseTo(5, 12);
     expect(pickup.vMin).toBeCloseTo(-20, 12);
     expect(pickup.vMax).toBeCloseTo(20, 12);
     expect(pickup.triggerLevel).toBeCloseTo(3, 12);
     // a file in kV: its volts/division are in kV already (not scaled again): 5 kV/div
-    const kv = captureView({ ...base, channels: [{ name: "A", unit: "kV", min: -1, max: 9 }], settings: { voltsPerDiv: 5, timePerDivS: 1e-3, kvPerVolt: 10 } });
+    const kv = captureView({
+      ...base,
+      channels: [{ name: "A", unit: "kV", min: -1, max: 9 }],
+      settings: { voltsPerDiv: 5, timePerDivS: 1e-3, kvPerVolt: 10 },
+    });
     expect(kv.voltsPerDiv).toBe(5);
     // a 100 mV/A clamp: 1 V/div ÷ 0.1 V/A = 10 A/div (hand-computed)
-    const clamp = captureView({ ...base, settings: { voltsPerDiv: 1, timePerDivS: 1e-3, probe: "current-clamp", mvPerAmp: 100 } });
+    const clamp = captureView({
+      ...base,
+      settings: { voltsPerDiv: 1, timePerDivS: 1e-3, probe: "current-clamp", mvPerAmp: 100 },
+    });
     expect(clamp.voltsPerDiv).toBeCloseTo(10, 12);
   });
 
@@ -89,7 +106,12 @@ describe("capture view", () => {
 
   it("bounds, unions and fits ranges", () => {
     expect(traceBounds({ t0: 1, durationS: 2 })).toEqual({ start: 1, end: 3 });
-    expect(unionRange([{ vMin: -10, vMax: 6 }, { vMin: -4, vMax: 12 }])).toEqual({ vMin: -10, vMax: 12 });
+    expect(
+      unionRange([
+        { vMin: -10, vMax: 6 },
+        { vMin: -4, vMax: 12 },
+      ]),
+    ).toEqual({ vMin: -10, vMax: 12 });
     // Hand-computed: 5 % margin of a 20 V span is 1 V.
     expect(fitRange(-10, 10)).toEqual({ vMin: -11, vMax: 11 });
   });

@@ -12,12 +12,28 @@ import type { TraceLayer } from "../../../src/features/traces/plot/model";
 // A secondary-ignition capture from the project's generator (tests/generators/secondary.ts) with
 // stated parameters: 1 MS/s, one firing at 750 rpm, firing line 0.8 V above the baseline, spark
 // line 0.15 V for 1.5 ms, spark-line slope −0.01 V/ms, noise 2 mV RMS (generator defaults).
-const g = generateSecondary({ seed: 5, sampleRateHz: 1e6, events: 1, peakV: 0.8, burnLevelV: 0.15, burnTimeMs: 1.5, noiseV: 0.002 });
+const g = generateSecondary({
+  seed: 5,
+  sampleRateHz: 1e6,
+  events: 1,
+  peakV: 0.8,
+  burnLevelV: 0.15,
+  burnTimeMs: 1.5,
+  noiseV: 0.002,
+});
 const ev = g.truth.events[0];
 const src = g.trace;
 const layer = (t0: number, t1: number, width: number): TraceLayer => {
   const w = decimateMinMax(src, t0, t1, width);
-  return { key: "t:0", traceId: "t", channel: src.channels[0].name, color: "#000", t: w.t, min: w.series[0].min, max: w.series[0].max };
+  return {
+    key: "t:0",
+    traceId: "t",
+    channel: src.channels[0].name,
+    color: "#000",
+    t: w.t,
+    min: w.series[0].min,
+    max: w.series[0].max,
+  };
 };
 
 describe("pins stand on the trace (lib/snap, the pins layer)", () => {
@@ -65,10 +81,15 @@ describe("pins stand on the trace (lib/snap, the pins layer)", () => {
 describe("a pointer's name label never covers the trace (lib/pointer-label)", () => {
   const plot = { left: 0, top: 0, right: 400, bottom: 200 };
   // rectangles overlap when their ranges overlap on both axes (plane geometry)
-  const overlaps = (b: { y: number; h: number }, band: { top: number; bottom: number }) => b.y < band.bottom && b.y + b.h > band.top;
+  const overlaps = (b: { y: number; h: number }, band: { top: number; bottom: number }) =>
+    b.y < band.bottom && b.y + b.h > band.top;
 
   it("goes above or below the band under its columns, inside the plot", () => {
-    for (const band of [{ top: 90, bottom: 110 }, { top: 20, bottom: 150 }, { top: 60, bottom: 190 }]) {
+    for (const band of [
+      { top: 90, bottom: 110 },
+      { top: 20, bottom: 150 },
+      { top: 60, bottom: 190 },
+    ]) {
       for (const py of [30, 100, 170]) {
         const at = placePointerLabel(200, py, 80, 16, plot, () => band);
         expect(at.overlaps).toBe(false);
@@ -121,7 +142,16 @@ describe("a chart asks for its window at its plot's width", () => {
     // 28 (right padding) = 302 px; the view plus a quarter either side covers 453 px, rounded up
     // to 32 px: 480 buckets, one per pixel (hand-computed)
     expect(plotAreaWidth(390)).toBe(302);
-    const trace = { id: "t", name: "t", samples: 100_000, sampleRateHz: 1e6, durationS: 0.1, t0: 0, channels: [], settings: { voltsPerDiv: 1, timePerDivS: 0.001 } };
+    const trace = {
+      id: "t",
+      name: "t",
+      samples: 100_000,
+      sampleRateHz: 1e6,
+      durationS: 0.1,
+      t0: 0,
+      channels: [],
+      settings: { voltsPerDiv: 1, timePerDivS: 0.001 },
+    };
     const p = windowParams(trace, 0, { t0: 0.04, t1: 0.05 }, plotAreaWidth(390))!;
     expect(p.width).toBe(480);
     expect(p.width).toBeLessThan(768);

@@ -1,6 +1,16 @@
 import { describe, expect, it } from "vitest";
 import { cursorReadout, defaultCursors, perDivText } from "../../../src/features/traces/lib/readout";
-import { channelUnits, formatFrequency, formatInUnit, formatLevel, formatSI, formatTicks, formatTime, parseUnit, toPhysical } from "../../../src/features/traces/lib/units";
+import {
+  channelUnits,
+  formatFrequency,
+  formatInUnit,
+  formatLevel,
+  formatSI,
+  formatTicks,
+  formatTime,
+  parseUnit,
+  toPhysical,
+} from "../../../src/lib/trace-units";
 
 describe("SI formatting (prefixes from the SI Brochure, 9th edition, BIPM 2019, Table 7)", () => {
   it("chooses the prefix that puts the mantissa in [1, 1000)", () => {

@@ -7,7 +7,9 @@ import { statusLabel } from "../../../features/experts/components/labels";
 export function AdminExpertsPage() {
   const [sp, setSp] = useSearchParams();
   const raw = sp.get("status");
-  const status: ExpertStatus = (expertStatuses as readonly string[]).includes(raw ?? "") ? (raw as ExpertStatus) : "pending";
+  const status: ExpertStatus = (expertStatuses as readonly string[]).includes(raw ?? "")
+    ? (raw as ExpertStatus)
+    : "pending";
   return (
     <div className="space-y-4">
       <h1 className="text-2xl font-bold">Expert applications</h1>

@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { useForm } from "react-hook-form";
+import { useForm, useWatch } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { Link, useNavigate, useSearchParams } from "react-router-dom";
 import type { z } from "zod";
@@ -25,7 +25,8 @@ export function AcceptInvitePage() {
     return (
       <AuthLayout title="Invitation">
         <Notice tone="error" title="This invitation link does not work">
-          {preview.error?.message ?? "The link is incomplete. Open it again from the e-mail."} Invitations work once, for 7 days; the shop's owner can send a new one.
+          {preview.error?.message ?? "The link is incomplete. Open it again from the e-mail."} Invitations work once,
+          for 7 days; the shop's owner can send a new one.
         </Notice>
         <p className="mt-4">
           <Link className={buttonClass.secondary} to={authPages.signIn}>
@@ -44,7 +45,11 @@ function AcceptForm({ token, invite }: { token: string; invite: InvitePreview })
   const signIn = useSignIn();
   const navigate = useNavigate();
   const [formError, setFormError] = useState<string | null>(null);
-  const form = useForm<Values, unknown, z.output<typeof acceptInviteSchema>>({ resolver: zodResolver(acceptInviteSchema), defaultValues: { token, name: invite.name ?? "", password: "" } });
+  const form = useForm<Values, unknown, z.output<typeof acceptInviteSchema>>({
+    resolver: zodResolver(acceptInviteSchema),
+    defaultValues: { token, name: invite.name ?? "", password: "" },
+  });
+  const [password, name] = useWatch({ control: form.control, name: ["password", "name"] });
   const { errors } = form.formState;
 
   const submit = form.handleSubmit(async (values) => {
@@ -60,15 +65,31 @@ function AcceptForm({ token, invite }: { token: string; invite: InvitePreview })
 
   const busy = accept.isPending || signIn.isPending;
   return (
-    <AuthLayout title={`Join ${invite.shopName}`} intro="You were invited as a technician: you open cases and send scope captures for a second opinion.">
-      {formError ? <Notice tone="error" title="Could not create your account">{formError}</Notice> : null}
+    <AuthLayout
+      title={`Join ${invite.shopName}`}
+      intro="You were invited as a technician: you open cases and send scope captures for a second opinion."
+    >
+      {formError ? (
+        <Notice tone="error" title="Could not create your account">
+          {formError}
+        </Notice>
+      ) : null}
       <form onSubmit={submit} noValidate className="mt-4 space-y-4">
-        <TextField label="E-mail address" value={invite.email} readOnly hint="Set by the invitation; you sign in with it." />
+        <TextField
+          label="E-mail address"
+          value={invite.email}
+          readOnly
+          hint="Set by the invitation; you sign in with it."
+        />
         <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
-        <PasswordField label="Choose a password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
-        {errors.password ? null : (
-          <PasswordStrength password={form.watch("password") ?? ""} userInputs={[form.watch("name")]} />
-        )}
+        <PasswordField
+          label="Choose a password"
+          autoComplete="new-password"
+          hint={passwordHint}
+          error={errors.password?.message}
+          {...form.register("password")}
+        />
+        {errors.password ? null : <PasswordStrength password={password ?? ""} userInputs={[name]} />}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={busy}>
           {busy ? "Joining…" : `Join ${invite.shopName}`}
         </button>

@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { Controller, useForm } from "react-hook-form";
+import { Controller, useForm, useWatch } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { Link } from "react-router-dom";
 import type { z } from "zod";
@@ -17,7 +17,17 @@ import { Notice, PasswordField, TextArea, TextField, buttonClass, inputClass } f
 type Values = z.input<typeof expertApplicationSchema>;
 
 /** Makes as one comma-separated text box, kept as a list in the form. */
-function MakesInput({ value, onChange, onBlur, error }: { value: string[]; onChange: (v: string[]) => void; onBlur: () => void; error?: string }) {
+function MakesInput({
+  value,
+  onChange,
+  onBlur,
+  error,
+}: {
+  value: string[];
+  onChange: (v: string[]) => void;
+  onBlur: () => void;
+  error?: string;
+}) {
   const [text, setText] = useState(value.join(", "));
   return (
     <div>
@@ -33,7 +43,12 @@ function MakesInput({ value, onChange, onBlur, error }: { value: string[]; onCha
         onBlur={onBlur}
         onChange={(e) => {
           setText(e.target.value);
-          onChange(e.target.value.split(",").map((m) => m.trim()).filter(Boolean));
+          onChange(
+            e.target.value
+              .split(",")
+              .map((m) => m.trim())
+              .filter(Boolean),
+          );
         }}
       />
       <p id="apply-makes-hint" className="mt-1 text-sm text-ink-500">
@@ -48,6 +63,40 @@ function MakesInput({ value, onChange, onBlur, error }: { value: string[]; onCha
   );
 }
 
+/** One checkbox per system the expert specialises in, kept as a list in the form. */
+function SystemsChecks({
+  value,
+  onChange,
+  onBlur,
+}: {
+  value: Values["systems"];
+  onChange: (v: Values["systems"]) => void;
+  onBlur: () => void;
+}) {
+  return (
+    <div className="grid grid-cols-1 gap-2 min-[420px]:grid-cols-2 md:grid-cols-3">
+      {expertSystems.map((s) => {
+        const checked = value.includes(s);
+        return (
+          <label
+            key={s}
+            className={`flex min-h-11 cursor-pointer items-center gap-3 rounded-lg border px-3 py-2 text-sm has-[:focus-visible]:ring-2 has-[:focus-visible]:ring-kiln-400 ${checked ? "border-kiln-500 bg-kiln-50" : "border-ink-200 bg-white"}`}
+          >
+            <input
+              type="checkbox"
+              className="h-5 w-5 accent-kiln-600"
+              checked={checked}
+              onBlur={onBlur}
+              onChange={(e) => onChange(e.target.checked ? [...value, s] : value.filter((x) => x !== s))}
+            />
+            {systemLabels[s]}
+          </label>
+        );
+      })}
+    </div>
+  );
+}
+
 /** The expert application: specialties, makes and experience; the desk approves it. */
 export function ApplyPage() {
   const apply = useApplyExpert();
@@ -57,6 +106,7 @@ export function ApplyPage() {
     resolver: zodResolver(expertApplicationSchema),
     defaultValues: { name: "", email: "", password: "", systems: [], makes: [], bio: "" },
   });
+  const [password, email, name] = useWatch({ control: form.control, name: ["password", "email", "name"] });
   const { errors } = form.formState;
   const submit = form.handleSubmit(async (values) => {
     setFormError(null);
@@ -64,7 +114,17 @@ export function ApplyPage() {
       await apply.mutateAsync(values);
       setSentTo(values.email);
     } catch (err) {
-      setFormError(applyServerErrors(err, form.setError, ["name", "email", "password", "systems", "makes", "bio", "yearsExperience"]));
+      setFormError(
+        applyServerErrors(err, form.setError, [
+          "name",
+          "email",
+          "password",
+          "systems",
+          "makes",
+          "bio",
+          "yearsExperience",
+        ]),
+      );
     }
   });
 
@@ -76,18 +136,39 @@ export function ApplyPage() {
     );
   }
 
-  const systemsError = errors.systems?.message ?? (Array.isArray(errors.systems) ? errors.systems.find(Boolean)?.message : undefined);
+  const systemsError =
+    errors.systems?.message ?? (Array.isArray(errors.systems) ? errors.systems.find(Boolean)?.message : undefined);
   return (
-    <AuthLayout wide title="Apply as an expert" intro="Review scope captures from independent shops and get paid per case. The desk approves every expert.">
-      {formError ? <Notice tone="error" title="The application was not sent">{formError}</Notice> : null}
+    <AuthLayout
+      wide
+      title="Apply as an expert"
+      intro="Review scope captures from independent shops and get paid per case. The desk approves every expert."
+    >
+      {formError ? (
+        <Notice tone="error" title="The application was not sent">
+          {formError}
+        </Notice>
+      ) : null}
       <form onSubmit={submit} noValidate className="mt-4 grid gap-4 sm:grid-cols-2">
         <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
-        <TextField label="E-mail address" type="email" autoComplete="email" inputMode="email" autoCapitalize="none" error={errors.email?.message} {...form.register("email")} />
+        <TextField
+          label="E-mail address"
+          type="email"
+          autoComplete="email"
+          inputMode="email"
+          autoCapitalize="none"
+          error={errors.email?.message}
+          {...form.register("email")}
+        />
         <div className="sm:col-span-2">
-          <PasswordField label="Password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
-          {errors.password ? null : (
-            <PasswordStrength password={form.watch("password") ?? ""} userInputs={form.watch(["email", "name"])} />
-          )}
+          <PasswordField
+            label="Password"
+            autoComplete="new-password"
+            hint={passwordHint}
+            error={errors.password?.message}
+            {...form.register("password")}
+          />
+          {errors.password ? null : <PasswordStrength password={password ?? ""} userInputs={[email, name]} />}
         </div>
         <fieldset className="sm:col-span-2" aria-describedby={systemsError ? "apply-systems-error" : undefined}>
           <legend className="mb-1 text-sm font-semibold text-ink-800">Systems you specialise in</legend>
@@ -95,26 +176,7 @@ export function ApplyPage() {
             control={form.control}
             name="systems"
             render={({ field }) => (
-              <div className="grid grid-cols-1 gap-2 min-[420px]:grid-cols-2 md:grid-cols-3">
-                {expertSystems.map((s) => {
-                  const checked = field.value.includes(s);
-                  return (
-                    <label
-                      key={s}
-                      className={`flex min-h-11 cursor-pointer items-center gap-3 rounded-lg border px-3 py-2 text-sm has-[:focus-visible]:ring-2 has-[:focus-visible]:ring-kiln-400 ${checked ? "border-kiln-500 bg-kiln-50" : "border-ink-200 bg-white"}`}
-                    >
-                      <input
-                        type="checkbox"
-                        className="h-5 w-5 accent-kiln-600"
-                        checked={checked}
-                        onBlur={field.onBlur}
-                        onChange={(e) => field.onChange(e.target.checked ? [...field.value, s] : field.value.filter((x) => x !== s))}
-                      />
-                      {systemLabels[s]}
-                    </label>
-                  );
-                })}
-              </div>
+              <SystemsChecks value={field.value} onChange={field.onChange} onBlur={field.onBlur} />
             )}
           />
           {systemsError ? (
@@ -127,7 +189,17 @@ export function ApplyPage() {
           <Controller
             control={form.control}
             name="makes"
-            render={({ field }) => <MakesInput value={field.value} onChange={field.onChange} onBlur={field.onBlur} error={errors.makes?.message ?? (Array.isArray(errors.makes) ? errors.makes.find(Boolean)?.message : undefined)} />}
+            render={({ field }) => (
+              <MakesInput
+                value={field.value}
+                onChange={field.onChange}
+                onBlur={field.onBlur}
+                error={
+                  errors.makes?.message ??
+                  (Array.isArray(errors.makes) ? errors.makes.find(Boolean)?.message : undefined)
+                }
+              />
+            )}
           />
         </div>
         <TextField
@@ -138,10 +210,17 @@ export function ApplyPage() {
           min={0}
           max={70}
           error={errors.yearsExperience?.message}
-          {...form.register("yearsExperience", { setValueAs: (v) => (v === "" || v === undefined || v === null ? undefined : Number(v)) })}
+          {...form.register("yearsExperience", {
+            setValueAs: (v) => (v === "" || v === undefined || v === null ? undefined : Number(v)),
+          })}
         />
         <div className="sm:col-span-2">
-          <TextArea label="Your experience" hint="What you diagnose, with which equipment, for how long. 20–2000 characters." error={errors.bio?.message} {...form.register("bio")} />
+          <TextArea
+            label="Your experience"
+            hint="What you diagnose, with which equipment, for how long. 20–2000 characters."
+            error={errors.bio?.message}
+            {...form.register("bio")}
+          />
         </div>
         <div className="sm:col-span-2">
           <button type="submit" className={`${buttonClass.primary} w-full sm:w-auto`} disabled={apply.isPending}>

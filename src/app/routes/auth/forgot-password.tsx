@@ -17,7 +17,10 @@ export function ForgotPasswordPage() {
   const request = useRequestPasswordReset();
   const [done, setDone] = useState(false);
   const [formError, setFormError] = useState<string | null>(null);
-  const form = useForm<Values, unknown, z.output<typeof requestPasswordResetSchema>>({ resolver: zodResolver(requestPasswordResetSchema), defaultValues: { email: "" } });
+  const form = useForm<Values, unknown, z.output<typeof requestPasswordResetSchema>>({
+    resolver: zodResolver(requestPasswordResetSchema),
+    defaultValues: { email: "" },
+  });
   const submit = form.handleSubmit(async (values) => {
     setFormError(null);
     try {
@@ -28,7 +31,10 @@ export function ForgotPasswordPage() {
     }
   });
   return (
-    <AuthLayout title="Reset your password" intro="We send a link that lets you choose a new one. It works once, for 1 hour.">
+    <AuthLayout
+      title="Reset your password"
+      intro="We send a link that lets you choose a new one. It works once, for 1 hour."
+    >
       {done ? (
         <Notice tone="success" title="Check your e-mail">
           If an account uses that address, a reset link is on its way. Resetting signs you out on every device.
@@ -36,9 +42,21 @@ export function ForgotPasswordPage() {
         </Notice>
       ) : (
         <>
-          {formError ? <Notice tone="error" title="Could not send the link">{formError}</Notice> : null}
+          {formError ? (
+            <Notice tone="error" title="Could not send the link">
+              {formError}
+            </Notice>
+          ) : null}
           <form onSubmit={submit} noValidate className="mt-4 space-y-4">
-            <TextField label="E-mail address" type="email" autoComplete="email" inputMode="email" autoCapitalize="none" error={form.formState.errors.email?.message} {...form.register("email")} />
+            <TextField
+              label="E-mail address"
+              type="email"
+              autoComplete="email"
+              inputMode="email"
+              autoCapitalize="none"
+              error={form.formState.errors.email?.message}
+              {...form.register("email")}
+            />
             <button type="submit" className={`${buttonClass.primary} w-full`} disabled={request.isPending}>
               {request.isPending ? "Sending…" : "Send the reset link"}
             </button>

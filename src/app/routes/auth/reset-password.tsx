@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { useForm } from "react-hook-form";
+import { useForm, useWatch } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { Link, useSearchParams } from "react-router-dom";
 import type { z } from "zod";
@@ -21,7 +21,11 @@ export function ResetPasswordPage() {
   const reset = useResetPassword();
   const [done, setDone] = useState(false);
   const [formError, setFormError] = useState<{ code: string; message: string } | null>(null);
-  const form = useForm<Values, unknown, z.output<typeof resetPasswordSchema>>({ resolver: zodResolver(resetPasswordSchema), defaultValues: { token, newPassword: "" } });
+  const form = useForm<Values, unknown, z.output<typeof resetPasswordSchema>>({
+    resolver: zodResolver(resetPasswordSchema),
+    defaultValues: { token, newPassword: "" },
+  });
+  const newPassword = useWatch({ control: form.control, name: "newPassword" });
   const submit = form.handleSubmit(async (values) => {
     setFormError(null);
     try {
@@ -75,8 +79,14 @@ export function ResetPasswordPage() {
       ) : null}
       <form onSubmit={submit} noValidate className="mt-4 space-y-4">
         <input type="hidden" {...form.register("token")} />
-        <PasswordField label="New password" autoComplete="new-password" hint={passwordHint} error={form.formState.errors.newPassword?.message} {...form.register("newPassword")} />
-        {form.formState.errors.newPassword ? null : <PasswordStrength password={form.watch("newPassword") ?? ""} />}
+        <PasswordField
+          label="New password"
+          autoComplete="new-password"
+          hint={passwordHint}
+          error={form.formState.errors.newPassword?.message}
+          {...form.register("newPassword")}
+        />
+        {form.formState.errors.newPassword ? null : <PasswordStrength password={newPassword ?? ""} />}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={reset.isPending}>
           {reset.isPending ? "Saving…" : "Set the new password"}
         </button>

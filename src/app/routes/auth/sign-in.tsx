@@ -28,7 +28,10 @@ export function SignInPage() {
   const from = (location.state as { from?: string } | null)?.from ?? "/";
   const signIn = useSignIn();
   const [formError, setFormError] = useState<{ code: string; message: string } | null>(null);
-  const form = useForm<Values, unknown, z.output<typeof signInSchema>>({ resolver: zodResolver(signInSchema), defaultValues: { email: "", password: "" } });
+  const form = useForm<Values, unknown, z.output<typeof signInSchema>>({
+    resolver: zodResolver(signInSchema),
+    defaultValues: { email: "", password: "" },
+  });
   const { errors } = form.formState;
 
   const submit = form.handleSubmit(async (values) => {
@@ -48,7 +51,11 @@ export function SignInPage() {
   return (
     <AuthLayout title="Sign in" intro="The second-opinion desk for scope captures.">
       <div className="space-y-3">
-        {verified ? <Notice tone="success" title="E-mail address confirmed">You can sign in now.</Notice> : null}
+        {verified ? (
+          <Notice tone="success" title="E-mail address confirmed">
+            You can sign in now.
+          </Notice>
+        ) : null}
         {linkError ? (
           <Notice tone="error" title="That confirmation link did not work">
             It may have expired or been used. Sign in with your password and we will send a fresh link.
@@ -62,8 +69,21 @@ export function SignInPage() {
         ) : null}
       </div>
       <form onSubmit={submit} noValidate className="mt-4 space-y-4">
-        <TextField label="E-mail address" type="email" autoComplete="email" inputMode="email" autoCapitalize="none" error={errors.email?.message} {...form.register("email")} />
-        <PasswordField label="Password" autoComplete="current-password" error={errors.password?.message} {...form.register("password")} />
+        <TextField
+          label="E-mail address"
+          type="email"
+          autoComplete="email"
+          inputMode="email"
+          autoCapitalize="none"
+          error={errors.email?.message}
+          {...form.register("email")}
+        />
+        <PasswordField
+          label="Password"
+          autoComplete="current-password"
+          error={errors.password?.message}
+          {...form.register("password")}
+        />
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={signIn.isPending}>
           {signIn.isPending ? "Signing in…" : "Sign in"}
         </button>

@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { useForm } from "react-hook-form";
+import { useForm, useWatch } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { Link } from "react-router-dom";
 import type { z } from "zod";
@@ -24,6 +24,10 @@ export function SignUpPage() {
     resolver: zodResolver(shopSignUpSchema),
     defaultValues: { shopName: "", name: "", email: "", password: "" },
   });
+  const [password, email, name, shopName] = useWatch({
+    control: form.control,
+    name: ["password", "email", "name", "shopName"],
+  });
   const { errors } = form.formState;
   const submit = form.handleSubmit(async (values) => {
     setFormError(null);
@@ -44,19 +48,40 @@ export function SignUpPage() {
   }
 
   return (
-    <AuthLayout title="Sign up your shop" intro="You become the shop's owner: you invite your technicians and handle billing.">
-      {formError ? <Notice tone="error" title="Sign-up failed">{formError}</Notice> : null}
+    <AuthLayout
+      title="Sign up your shop"
+      intro="You become the shop's owner: you invite your technicians and handle billing."
+    >
+      {formError ? (
+        <Notice tone="error" title="Sign-up failed">
+          {formError}
+        </Notice>
+      ) : null}
       <form onSubmit={submit} noValidate className="mt-4 space-y-4">
-        <TextField label="Shop name" autoComplete="organization" error={errors.shopName?.message} {...form.register("shopName")} />
+        <TextField
+          label="Shop name"
+          autoComplete="organization"
+          error={errors.shopName?.message}
+          {...form.register("shopName")}
+        />
         <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
-        <TextField label="E-mail address" type="email" autoComplete="email" inputMode="email" autoCapitalize="none" error={errors.email?.message} {...form.register("email")} />
-        <PasswordField label="Password" autoComplete="new-password" hint={passwordHint} error={errors.password?.message} {...form.register("password")} />
-        {errors.password ? null : (
-          <PasswordStrength
-            password={form.watch("password") ?? ""}
-            userInputs={form.watch(["email", "name", "shopName"])}
-          />
-        )}
+        <TextField
+          label="E-mail address"
+          type="email"
+          autoComplete="email"
+          inputMode="email"
+          autoCapitalize="none"
+          error={errors.email?.message}
+          {...form.register("email")}
+        />
+        <PasswordField
+          label="Password"
+          autoComplete="new-password"
+          hint={passwordHint}
+          error={errors.password?.message}
+          {...form.register("password")}
+        />
+        {errors.password ? null : <PasswordStrength password={password ?? ""} userInputs={[email, name, shopName]} />}
         <button type="submit" className={`${buttonClass.primary} w-full`} disabled={signUp.isPending}>
           {signUp.isPending ? "Creating the shop…" : "Create the shop"}
         </button>

@@ -11,7 +11,7 @@ import { comparisonFor } from "../../../features/analysis/lib/comparison";
 import { isAnalysisResult } from "../../../features/analysis/lib/metrics";
 import { TraceViewer } from "../../../features/traces/components/trace-viewer";
 import { TraceUnitsNote } from "../../../features/traces/components/trace-details";
-import { sharedUnits, traceUnits } from "../../../features/traces/lib/units";
+import { sharedUnits, traceUnits } from "../../../lib/trace-units";
 import type { Annotation, TraceInfo } from "../../../features/traces/types";
 import type { CasebookEntryView } from "../../../../shared/schemas/casebook";
 import { ApiError } from "../../../lib/api-client";
@@ -31,7 +31,17 @@ function viewerTraces(e: CasebookEntryView): TraceInfo[] {
 }
 
 function viewerAnnotations(e: CasebookEntryView): Annotation[] {
-  return e.annotations.map((a) => ({ id: a.id, traceId: a.traceId, kind: a.kind, t0: a.t0, t1: a.t1, level: a.level, label: a.label, color: a.color, channel: a.channel }));
+  return e.annotations.map((a) => ({
+    id: a.id,
+    traceId: a.traceId,
+    kind: a.kind,
+    t0: a.t0,
+    t1: a.t1,
+    level: a.level,
+    label: a.label,
+    color: a.color,
+    channel: a.channel,
+  }));
 }
 
 /** /casebook/:id — an entry with its traces, measurements and the expert's marks, read-only. */
@@ -52,7 +62,11 @@ export function CasebookEntryPage() {
   if (q.isError) {
     return (
       <div role="alert" className="rounded-xl border border-alarm-500 bg-white p-5">
-        <p className="font-semibold text-alarm-600">{q.error instanceof ApiError && q.error.status === 404 ? "This casebook entry does not exist or has been withdrawn." : `Could not load the entry: ${q.error.message}`}</p>
+        <p className="font-semibold text-alarm-600">
+          {q.error instanceof ApiError && q.error.status === 404
+            ? "This casebook entry does not exist or has been withdrawn."
+            : `Could not load the entry: ${q.error.message}`}
+        </p>
         <Link to={casebookPages.search} className="mt-3 inline-block underline">
           Back to the casebook
         </Link>
@@ -65,7 +79,10 @@ export function CasebookEntryPage() {
 
   return (
     <div className="space-y-5">
-      <Link to={casebookPages.search} className="inline-flex min-h-11 items-center text-sm font-semibold text-ink-600 hover:text-ink-900">
+      <Link
+        to={casebookPages.search}
+        className="inline-flex min-h-11 items-center text-sm font-semibold text-ink-600 hover:text-ink-900"
+      >
         ← Casebook
       </Link>
       <EntryView

@@ -54,7 +54,10 @@ function CaseLoadError({ e }: { e: Error }) {
 function CaseHeader({ c, compact }: { c: CaseDetail; compact: boolean }) {
   return (
     <>
-      <Link to={casePages.list} className={`inline-flex items-center text-sm font-semibold text-ink-600 hover:text-ink-900 ${compact ? "min-h-9" : "min-h-11"}`}>
+      <Link
+        to={casePages.list}
+        className={`inline-flex items-center text-sm font-semibold text-ink-600 hover:text-ink-900 ${compact ? "min-h-9" : "min-h-11"}`}
+      >
         ← Cases
       </Link>
       <header className="flex flex-wrap items-start gap-3">
@@ -123,7 +126,9 @@ export function CasePage() {
   const can = c.abilities ?? {};
   const refresh = () => qc.invalidateQueries({ queryKey: caseKeys.detail(c.id) });
   const liveNow = LIVE_NOW.includes(c.status);
-  const live = LIVE_STATES.includes(c.status) ? <LiveReview caseId={c.id} traces={c.traces.map(viewerInfo)} flaggedTraceId={flagged} /> : null;
+  const live = LIVE_STATES.includes(c.status) ? (
+    <LiveReview caseId={c.id} traces={c.traces.map(viewerInfo)} flaggedTraceId={flagged} />
+  ) : null;
 
   return (
     // below a desk's width the live review's dock is fixed at the screen's bottom: room for it
@@ -137,7 +142,9 @@ export function CasePage() {
           Printable report for the owner
         </Link>
       ) : null}
-      {["draft", "awaiting_payment", "queued", "claimed", "needs_data"].includes(c.status) && c.traces.length ? <SimilarCases caseId={c.id} version={c.traces.length} /> : null}
+      {["draft", "awaiting_payment", "queued", "claimed", "needs_data"].includes(c.status) && c.traces.length ? (
+        <SimilarCases caseId={c.id} version={c.traces.length} />
+      ) : null}
 
       <div className="grid gap-5 lg:grid-cols-2">
         <Section id="vehicle" title="Vehicle">
@@ -148,7 +155,14 @@ export function CasePage() {
         </Section>
       </div>
 
-      <CasePhotos c={c} onDelete={can.deletePhoto ? (p) => confirm(`Remove the photo ${p.name}?`) && del.mutate({ kind: "photo", id: p.id, caseId: c.id }) : undefined} />
+      <CasePhotos
+        c={c}
+        onDelete={
+          can.deletePhoto
+            ? (p) => confirm(`Remove the photo ${p.name}?`) && del.mutate({ kind: "photo", id: p.id, caseId: c.id })
+            : undefined
+        }
+      />
 
       {liveNow ? null : live}
 
@@ -161,9 +175,23 @@ export function CasePage() {
             Could not remove it: {del.error.message}
           </p>
         ) : null}
-        <CaseTraces c={c} flaggedTraceId={flagged} onDeleteTrace={can.deleteTrace ? (t) => confirm(`Remove the trace ${t.name} from this case?`) && del.mutate({ kind: "trace", id: t.id, caseId: c.id }) : undefined} />
+        <CaseTraces
+          c={c}
+          flaggedTraceId={flagged}
+          onDeleteTrace={
+            can.deleteTrace
+              ? (t) =>
+                  confirm(`Remove the trace ${t.name} from this case?`) &&
+                  del.mutate({ kind: "trace", id: t.id, caseId: c.id })
+              : undefined
+          }
+        />
         {can.addTrace ? (
-          <Section id="add-traces" title="Add traces" description="More captures for this case: each gets a preview and its capture settings.">
+          <Section
+            id="add-traces"
+            title="Add traces"
+            description="More captures for this case: each gets a preview and its capture settings."
+          >
             <TraceUploader caseId={c.id} onUploaded={() => void refresh()} />
           </Section>
         ) : null}

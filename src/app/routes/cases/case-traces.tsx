@@ -11,7 +11,7 @@ import { comparisonFor } from "../../../features/analysis/lib/comparison";
 import { isAnalysisResult } from "../../../features/analysis/lib/metrics";
 import { TraceViewer } from "../../../features/traces/components/trace-viewer";
 import { TraceUnitsNote, TraceWarnings } from "../../../features/traces/components/trace-details";
-import { sharedUnits, traceUnits } from "../../../features/traces/lib/units";
+import { sharedUnits, traceUnits } from "../../../lib/trace-units";
 import type { TraceInfo } from "../../../features/traces/types";
 
 /** A case's trace as the viewer takes it (the settings are checked by the server at upload). */
@@ -35,12 +35,19 @@ function TraceCard({ t, flagged, onDelete }: { t: CaseTrace; flagged?: boolean; 
   const label = traceLabel(t);
   const units = useMemo(() => traceUnits(t), [t]);
   return (
-    <article aria-labelledby={`trace-${t.id}`} className="space-y-4 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
+    <article
+      aria-labelledby={`trace-${t.id}`}
+      className="space-y-4 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5"
+    >
       <header className="flex flex-wrap items-start gap-x-3 gap-y-2">
         <div className="min-w-0 flex-1">
           <h3 id={`trace-${t.id}`} className="text-lg font-bold text-ink-900">
             {label}
-            {flagged ? <span className="ml-2 rounded bg-alarm-500 px-1.5 py-0.5 align-middle text-xs font-bold text-white">look here first</span> : null}
+            {flagged ? (
+              <span className="ml-2 rounded bg-alarm-500 px-1.5 py-0.5 align-middle text-xs font-bold text-white">
+                look here first
+              </span>
+            ) : null}
             {label !== t.name ? (
               <>
                 <span className="sr-only"> · </span>
@@ -53,12 +60,20 @@ function TraceCard({ t, flagged, onDelete }: { t: CaseTrace; flagged?: boolean; 
           </p>
         </div>
         {t.originalUrl ? (
-          <a href={t.originalUrl} className="min-h-11 content-center rounded-lg px-3 text-sm font-semibold text-ink-700 hover:bg-ink-100" download>
+          <a
+            href={t.originalUrl}
+            className="min-h-11 content-center rounded-lg px-3 text-sm font-semibold text-ink-700 hover:bg-ink-100"
+            download
+          >
             Original file
           </a>
         ) : null}
         {onDelete ? (
-          <button type="button" onClick={onDelete} className="min-h-11 rounded-lg px-3 text-sm font-semibold text-alarm-600 hover:bg-alarm-500/10">
+          <button
+            type="button"
+            onClick={onDelete}
+            className="min-h-11 rounded-lg px-3 text-sm font-semibold text-alarm-600 hover:bg-alarm-500/10"
+          >
             Remove
           </button>
         ) : null}
@@ -92,7 +107,15 @@ function TraceCard({ t, flagged, onDelete }: { t: CaseTrace; flagged?: boolean; 
  * The traces of a case: the comparison (a table beside its bar charts), the overlay (opened zoomed
  * on the firing events), then each trace with its viewer, review and measurements.
  */
-export function CaseTraces({ c, flaggedTraceId, onDeleteTrace }: { c: CaseDetail; flaggedTraceId?: string; onDeleteTrace?: (t: CaseTrace) => void }) {
+export function CaseTraces({
+  c,
+  flaggedTraceId,
+  onDeleteTrace,
+}: {
+  c: CaseDetail;
+  flaggedTraceId?: string;
+  onDeleteTrace?: (t: CaseTrace) => void;
+}) {
   const [overlay, setOverlay] = useState(false);
   const comparison = useMemo(() => comparisonFor(c.comparison, c.traces), [c.comparison, c.traces]);
   const overlayInfo = useMemo(() => c.traces.map(viewerInfo), [c.traces]);
@@ -103,11 +126,19 @@ export function CaseTraces({ c, flaggedTraceId, onDeleteTrace }: { c: CaseDetail
   return (
     <div className="space-y-5">
       {comparison ? (
-        <section aria-labelledby="comparison-title" className="space-y-3 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
+        <section
+          aria-labelledby="comparison-title"
+          className="space-y-3 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5"
+        >
           <h3 id="comparison-title" className="text-lg font-bold">
             Cylinder to cylinder
           </h3>
-          <ComparisonTable comparison={comparison} traces={labels} units={units} aside={<ComparisonChart comparison={comparison} traces={labels} units={units} />} />
+          <ComparisonTable
+            comparison={comparison}
+            traces={labels}
+            units={units}
+            aside={<ComparisonChart comparison={comparison} traces={labels} units={units} />}
+          />
         </section>
       ) : null}
 
@@ -130,7 +161,12 @@ export function CaseTraces({ c, flaggedTraceId, onDeleteTrace }: { c: CaseDetail
       ) : null}
 
       {c.traces.map((t) => (
-        <TraceCard key={t.id} t={t} flagged={t.id === flaggedTraceId} onDelete={onDeleteTrace ? () => onDeleteTrace(t) : undefined} />
+        <TraceCard
+          key={t.id}
+          t={t}
+          flagged={t.id === flaggedTraceId}
+          onDelete={onDeleteTrace ? () => onDeleteTrace(t) : undefined}
+        />
       ))}
     </div>
   );

@@ -36,7 +36,11 @@ export function CaseDraftPage() {
     const e = detail.error;
     return (
       <div role="alert" className="rounded-xl border border-alarm-500 bg-white p-5">
-        <p className="font-semibold text-alarm-600">{e instanceof ApiError && e.status === 404 ? "This case does not exist or is not yours." : `Could not load the case: ${e.message}`}</p>
+        <p className="font-semibold text-alarm-600">
+          {e instanceof ApiError && e.status === 404
+            ? "This case does not exist or is not yours."
+            : `Could not load the case: ${e.message}`}
+        </p>
         <Link to={casePages.list} className="mt-3 inline-block underline">
           Back to the cases
         </Link>
@@ -55,24 +59,30 @@ export function CaseDraftPage() {
     );
   }
 
-  const ensureCaseId = () => (saveRef.current ? saveRef.current() : Promise.reject(new Error("The form is not ready.")));
+  const ensureCaseId = () =>
+    saveRef.current ? saveRef.current() : Promise.reject(new Error("The form is not ready."));
   const abilities: Partial<CaseDetail["abilities"]> = c?.abilities ?? {};
   const refresh = () => id && qc.invalidateQueries({ queryKey: caseQuery(id).queryKey });
 
   return (
     <div className="space-y-4">
       <div className="flex flex-wrap items-center gap-3">
-        <Link to={id ? casePages.one(id) : casePages.list} className="min-h-11 content-center text-sm font-semibold text-ink-600 hover:text-ink-900">
+        <Link
+          to={id ? casePages.one(id) : casePages.list}
+          className="min-h-11 content-center text-sm font-semibold text-ink-600 hover:text-ink-900"
+        >
           ← {id ? "Case page" : "Cases"}
         </Link>
       </div>
       <div className="flex flex-wrap items-center gap-3">
-        <h1 className="text-2xl font-bold">{id ? (c ? `Draft: ${vehicleTitle(c.vehicle)}` : "Draft") : "Open a case"}</h1>
+        <h1 className="text-2xl font-bold">
+          {id ? (c ? `Draft: ${vehicleTitle(c.vehicle)}` : "Draft") : "Open a case"}
+        </h1>
         <StatusBadge status="draft" />
       </div>
       <p className="text-ink-600">
-        Fill in what you know now; save the draft at any point and come back to it. Once everything the desk needs
-        is in, choose how fast you need the answer and pay at the end of the form.
+        Fill in what you know now; save the draft at any point and come back to it. Once everything the desk needs is
+        in, choose how fast you need the answer and pay at the end of the form.
       </p>
 
       <CaseForm
@@ -80,7 +90,11 @@ export function CaseDraftPage() {
         caseId={id}
         initial={loadForForm ? c : null}
         photos={c?.photos ?? []}
-        onDeletePhoto={abilities.deletePhoto && id ? (p) => confirm(`Remove the photo ${p.name}?`) && del.mutate({ kind: "photo", id: p.id, caseId: id }) : undefined}
+        onDeletePhoto={
+          abilities.deletePhoto && id
+            ? (p) => confirm(`Remove the photo ${p.name}?`) && del.mutate({ kind: "photo", id: p.id, caseId: id })
+            : undefined
+        }
         saveRef={saveRef}
         onCreated={(newId) => {
           setCreatedHere(newId);
@@ -108,7 +122,16 @@ export function CaseDraftPage() {
           description="Scope exports as CSV or TSV, one per cylinder or coil when you compare. Each gets a preview and its capture settings before it goes up."
         >
           {c?.traces.length ? (
-            <TraceList traces={c.traces} onDelete={abilities.deleteTrace && id ? (t) => confirm(`Remove the trace ${t.name} from this case?`) && del.mutate({ kind: "trace", id: t.id, caseId: id }) : undefined} />
+            <TraceList
+              traces={c.traces}
+              onDelete={
+                abilities.deleteTrace && id
+                  ? (t) =>
+                      confirm(`Remove the trace ${t.name} from this case?`) &&
+                      del.mutate({ kind: "trace", id: t.id, caseId: id })
+                  : undefined
+              }
+            />
           ) : null}
           {del.isError ? (
             <p role="alert" className="text-sm font-semibold text-alarm-600">

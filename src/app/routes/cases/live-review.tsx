@@ -2,7 +2,7 @@ import { useMemo, useRef, useState } from "react";
 import { useQueryClient } from "@tanstack/react-query";
 import { TraceViewer, type TraceViewerHandle } from "../../../features/traces/components/trace-viewer";
 import { AnnotationList } from "../../../features/traces/components/annotation-list";
-import { traceUnits } from "../../../features/traces/lib/units";
+import { traceUnits } from "../../../lib/trace-units";
 import type { Annotation, MarkDraft, TraceInfo } from "../../../features/traces/types";
 import { useCaseRoom, type CaseRoom } from "../../../features/live/hooks/use-case-room";
 import { useFollow } from "../../../features/live/hooks/use-follow";
@@ -43,7 +43,15 @@ function useUnread(room: CaseRoom, chatInView: boolean): number {
   return chatInView || seen === null ? 0 : others.filter((m) => (m.seq ?? 0) > seen).length;
 }
 
-function OwnMarkActions({ room, mark, onRemoved }: { room: CaseRoom; mark: CaseRoom["annotations"][number]; onRemoved: () => void }) {
+function OwnMarkActions({
+  room,
+  mark,
+  onRemoved,
+}: {
+  room: CaseRoom;
+  mark: CaseRoom["annotations"][number];
+  onRemoved: () => void;
+}) {
   return (
     <div className="flex flex-wrap items-center gap-2 px-3 text-sm sm:px-0">
       <span className="text-ink-700">Your mark{mark.label ? ` “${mark.label}”` : ""}:</span>
@@ -57,10 +65,61 @@ function OwnMarkActions({ room, mark, onRemoved }: { room: CaseRoom; mark: CaseR
       >
         Edit label
       </button>
-      <button type="button" className="min-h-11 rounded-lg px-3 font-semibold text-alarm-600 hover:bg-alarm-500/10" onClick={() => void room.deleteMark(mark.id).then((r) => r.ok && onRemoved())}>
+      <button
+        type="button"
+        className="min-h-11 rounded-lg px-3 font-semibold text-alarm-600 hover:bg-alarm-500/10"
+        onClick={() => void room.deleteMark(mark.id).then((r) => r.ok && onRemoved())}
+      >
         Remove
       </button>
     </div>
+  );
+}
+
+/**
+ * The title with the connection's state, who is here and follow mode: one row on a phone (compact),
+ * the presence and follow toggle on a row of their own elsewhere.
+ */
+function LiveHeader({ room, follow, phone }: { room: CaseRoom; follow: ReturnType<typeof useFollow>; phone: boolean }) {
+  const shop = room.you?.role === "technician" || room.you?.role === "owner";
+  return (
+    <>
+      <div className={`flex flex-wrap items-center gap-x-3 gap-y-2 ${phone ? "px-3" : ""}`}>
+        <h2 id="live-title" className="text-lg font-bold text-ink-900">
+          Live review
+        </h2>
+        {phone ? <PresenceList participants={room.participants} youId={room.you?.userId} compact /> : null}
+        <div className="min-w-0 flex-1">
+          <ConnectionBanner
+            connection={room.connection}
+            problem={room.problem}
+            onRetry={() => window.location.reload()}
+          />
+        </div>
+        {phone && room.you ? (
+          <FollowToggle
+            following={follow.following}
+            onChange={follow.setFollowing}
+            leaderName={follow.leader?.name}
+            side={shop ? "expert" : "technician"}
+            compact
+          />
+        ) : null}
+      </div>
+      {phone ? null : (
+        <div className="flex flex-wrap items-end justify-between gap-3">
+          <PresenceList participants={room.participants} youId={room.you?.userId} />
+          {room.you ? (
+            <FollowToggle
+              following={follow.following}
+              onChange={follow.setFollowing}
+              leaderName={follow.leader?.name}
+              side={shop ? "expert" : "technician"}
+            />
+          ) : null}
+        </div>
+      )}
+    </>
   );
 }
 
@@ -71,7 +130,15 @@ function OwnMarkActions({ room, mark, onRemoved }: { room: CaseRoom; mark: CaseR
  * tap away in a sheet raised from a dock at the bottom of the screen. Composes the trace viewer
  * (features/traces) with the live room (features/live).
  */
-export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: string; traces: TraceInfo[]; flaggedTraceId?: string }) {
+export function LiveReview({
+  caseId,
+  traces: given,
+  flaggedTraceId,
+}: {
+  caseId: string;
+  traces: TraceInfo[];
+  flaggedTraceId?: string;
+}) {
   const qc = useQueryClient();
   const traces = useStableTraces(given);
   const incoming = useIncomingUploads(caseId);
@@ -88,9 +155,11 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
   const viewer = useRef<TraceViewerHandle>(null);
   const viewerBox = useRef<HTMLDivElement>(null);
   const unread = useUnread(room, desk || sheet === "chat");
-  const shop = room.you?.role === "technician" || room.you?.role === "owner";
 
-  const pointers = useMemo(() => room.pointers.filter((p) => traces.some((t) => t.id === p.traceId)), [room.pointers, traces]);
+  const pointers = useMemo(
+    () => room.pointers.filter((p) => traces.some((t) => t.id === p.traceId)),
+    [room.pointers, traces],
+  );
   const selectedMark = room.annotations.find((a) => a.id === selected && !a.pending);
   const canEditSelected = !!selectedMark && selectedMark.authorId === room.you?.userId && room.abilities.annotate;
 
@@ -98,7 +167,11 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
     room.sendMessage(text, request);
     // A request for more data also moves a claimed case to "waiting for data" (the queue's endpoint).
     if (request && room.caseStatus === "claimed") {
-      void api.post(`/api/cases/${encodeURIComponent(caseId)}/request-data`, { message: describeRequest(request, text).slice(0, 2000) }).catch(() => {});
+      void api
+        .post(`/api/cases/${encodeURIComponent(caseId)}/request-data`, {
+          message: describeRequest(request, text).slice(0, 2000),
+        })
+        .catch(() => {});
     }
   };
   /** a mark chosen in the sheet's list: lower the sheet and show it on the plot */
@@ -139,22 +212,7 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
       aria-labelledby="live-title"
       className={`space-y-3 bg-white ${phone ? "-mx-4 border-y border-ink-200 pt-3 pb-2" : "rounded-xl border border-ink-200 p-4 shadow-sm sm:p-5"}`}
     >
-      <div className={`flex flex-wrap items-center gap-x-3 gap-y-2 ${phone ? "px-3" : ""}`}>
-        <h2 id="live-title" className="text-lg font-bold text-ink-900">
-          Live review
-        </h2>
-        {phone ? <PresenceList participants={room.participants} youId={room.you?.userId} compact /> : null}
-        <div className="min-w-0 flex-1">
-          <ConnectionBanner connection={room.connection} problem={room.problem} onRetry={() => window.location.reload()} />
-        </div>
-        {phone && room.you ? <FollowToggle following={follow.following} onChange={follow.setFollowing} leaderName={follow.leader?.name} side={shop ? "expert" : "technician"} compact /> : null}
-      </div>
-      {phone ? null : (
-        <div className="flex flex-wrap items-end justify-between gap-3">
-          <PresenceList participants={room.participants} youId={room.you?.userId} />
-          {room.you ? <FollowToggle following={follow.following} onChange={follow.setFollowing} leaderName={follow.leader?.name} side={shop ? "expert" : "technician"} /> : null}
-        </div>
-      )}
+      <LiveHeader room={room} follow={follow} phone={phone} />
       <div className={desk ? "grid grid-cols-[minmax(0,1fr)_22rem] gap-4" : ""}>
         <div ref={viewerBox} className="min-w-0 scroll-mt-2 space-y-2">
           <IncomingUploads uploads={incoming.uploads} youId={room.you?.userId} />
@@ -177,7 +235,9 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
           ) : (
             <p className="px-3 text-ink-600 sm:px-0">No traces on this case yet.</p>
           )}
-          {canEditSelected ? <OwnMarkActions room={room} mark={selectedMark} onRemoved={() => setSelected(null)} /> : null}
+          {canEditSelected ? (
+            <OwnMarkActions room={room} mark={selectedMark} onRemoved={() => setSelected(null)} />
+          ) : null}
         </div>
         {desk ? chat : null}
       </div>
@@ -188,7 +248,16 @@ export function LiveReview({ caseId, traces: given, flaggedTraceId }: { caseId: 
           onOpen={setSheet}
           tabs={[
             { id: "chat", label: "Chat", badge: unread ? `${unread} new` : null, content: chat },
-            ...(phone ? [{ id: "marks", label: "Marks", badge: room.annotations.length ? String(room.annotations.length) : null, content: markList }] : []),
+            ...(phone
+              ? [
+                  {
+                    id: "marks",
+                    label: "Marks",
+                    badge: room.annotations.length ? String(room.annotations.length) : null,
+                    content: markList,
+                  },
+                ]
+              : []),
           ]}
         />
       )}

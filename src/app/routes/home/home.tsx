@@ -41,7 +41,11 @@ function TeamSummary({ shopId }: { shopId: string }) {
   return (
     <Card title="Team" id="team-summary">
       <p className="text-sm text-ink-600" aria-live="polite">
-        {team.isPending ? "Loading…" : team.isError ? team.error.message : `${members} ${members === 1 ? "person" : "people"} in ${team.data!.shop.name}${waiting ? `, ${waiting} invitation${waiting === 1 ? "" : "s"} waiting` : ""}.`}
+        {team.isPending
+          ? "Loading…"
+          : team.isError
+            ? team.error.message
+            : `${members} ${members === 1 ? "person" : "people"} in ${team.data!.shop.name}${waiting ? `, ${waiting} invitation${waiting === 1 ? "" : "s"} waiting` : ""}.`}
       </p>
       <p className="mt-3">
         <Link to={teamPages.team} className={buttonClass.secondary}>

@@ -20,13 +20,23 @@ export function CaseReportPage() {
   const { id = "" } = useParams();
   const { c, a, n } = useReport(id);
   if (c.isPending || a.isPending || n.isPending) {
-    return <div className="mx-auto h-96 max-w-3xl animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Preparing the report" />;
+    return (
+      <div
+        className="mx-auto h-96 max-w-3xl animate-pulse rounded-xl bg-ink-100"
+        aria-busy="true"
+        aria-label="Preparing the report"
+      />
+    );
   }
   if (c.isError || a.isError) {
     const e = (c.error ?? a.error)!;
     return (
       <div role="alert" className="rounded-xl border border-alarm-500 bg-white p-5">
-        <p className="font-semibold text-alarm-600">{e instanceof ApiError && e.status === 404 ? "This case does not exist, or it belongs to another shop." : `Could not prepare the report: ${e.message}`}</p>
+        <p className="font-semibold text-alarm-600">
+          {e instanceof ApiError && e.status === 404
+            ? "This case does not exist, or it belongs to another shop."
+            : `Could not prepare the report: ${e.message}`}
+        </p>
       </div>
     );
   }
@@ -36,10 +46,17 @@ export function CaseReportPage() {
     <div className="space-y-4">
       <style>{PRINT_CSS}</style>
       <div className="no-print flex flex-wrap items-center gap-3">
-        <Link to={`/cases/${encodeURIComponent(id)}`} className="inline-flex min-h-11 items-center text-sm font-semibold text-ink-600 hover:text-ink-900">
+        <Link
+          to={`/cases/${encodeURIComponent(id)}`}
+          className="inline-flex min-h-11 items-center text-sm font-semibold text-ink-600 hover:text-ink-900"
+        >
           ← Back to the case
         </Link>
-        <button type="button" onClick={() => window.print()} className="ml-auto inline-flex min-h-11 items-center rounded-lg bg-kiln-500 px-4 font-semibold text-ink-950 hover:bg-kiln-400">
+        <button
+          type="button"
+          onClick={() => window.print()}
+          className="ml-auto inline-flex min-h-11 items-center rounded-lg bg-kiln-500 px-4 font-semibold text-ink-950 hover:bg-kiln-400"
+        >
           Print the report
         </button>
       </div>

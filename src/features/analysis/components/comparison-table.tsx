@@ -40,7 +40,17 @@ export function outlierPhrase(o: Pick<Outlier, "metric" | "value" | "median">): 
   if (!(Math.abs(o.median) > 0)) return `${what} ${fmtNum(o.value)} where the others read ${fmtNum(o.median)}`;
   const pct = Math.round((Math.abs(o.value - o.median) / Math.abs(o.median)) * 100);
   const low = o.value < o.median;
-  const word = DURATION.test(o.metric) ? (low ? "shorter" : "longer") : COUNTS.has(o.metric) ? (low ? "fewer" : "more") : low ? "below the others" : "above the others";
+  const word = DURATION.test(o.metric)
+    ? low
+      ? "shorter"
+      : "longer"
+    : COUNTS.has(o.metric)
+      ? low
+        ? "fewer"
+        : "more"
+      : low
+        ? "below the others"
+        : "above the others";
   return `${what} ${pct} % ${word}`;
 }
 
@@ -73,7 +83,10 @@ function OddOnesOut({ statements }: { statements: ComparisonStatement[] }) {
   return (
     <ul className="space-y-1" aria-label="Odd ones out">
       {statements.map((st, i) => (
-        <li key={`${st.traceId ?? st.file ?? i}-${i}`} className="flex gap-2 rounded-lg border-l-4 border-alarm-500 bg-alarm-500/5 px-3 py-2 text-sm font-semibold text-ink-900">
+        <li
+          key={`${st.traceId ?? st.file ?? i}-${i}`}
+          className="flex gap-2 rounded-lg border-l-4 border-alarm-500 bg-alarm-500/5 px-3 py-2 text-sm font-semibold text-ink-900"
+        >
           <span aria-hidden="true" className="text-alarm-600">
             ●
           </span>
@@ -90,82 +103,109 @@ function OddOnesOut({ statements }: { statements: ComparisonStatement[] }) {
  * plain words; the values that stand out are flagged in the table, and the statistic that decided
  * it (the modified z-score of Iglewicz and Hoaglin with a difference that matters) is one click away.
  */
-export function ComparisonTable({ comparison, traces, units, aside }: { comparison: Comparison; traces: ComparedTrace[]; units?: ChannelUnits | null; aside?: ReactNode }) {
+export function ComparisonTable({
+  comparison,
+  traces,
+  units,
+  aside,
+}: {
+  comparison: Comparison;
+  traces: ComparedTrace[];
+  units?: ChannelUnits | null;
+  aside?: ReactNode;
+}) {
   const labelOf = (id: string | undefined) => traces.find((t) => t.id === id)?.label ?? "Trace";
   const flagged = new Map(comparison.outliers.map((o) => [outlierKey(o.traceId, o.metric), o]));
   const metrics = comparison.metrics.filter((m) => m.values.some((v) => v.value !== null));
   const rowIds = traces.map((t) => t.id);
   const given = (comparison as Comparison & { statements?: ComparisonStatement[] }).statements;
   const statements = Array.isArray(given) && given.length ? given : outlierStatements(comparison, labelOf);
-  const oddIds = new Set([...comparison.outliers.map((o) => o.traceId), ...statements.filter((s) => s.metrics?.length).map((s) => s.traceId)]);
+  const oddIds = new Set([
+    ...comparison.outliers.map((o) => o.traceId),
+    ...statements.filter((s) => s.metrics?.length).map((s) => s.traceId),
+  ]);
   const [open, setOpen] = useState(false);
   const detailsId = useId();
   /** a metric in volts or amperes (or per ms) in the traces' physical unit; other units kept */
   const shown = (x: number | null | undefined, unit: string) => displayMetric(x, unit, units);
 
-  if (!metrics.length) return <p className="text-sm text-ink-600">Nothing to compare yet: the traces have no measured events.</p>;
+  if (!metrics.length)
+    return <p className="text-sm text-ink-600">Nothing to compare yet: the traces have no measured events.</p>;
 
   return (
     <div className="space-y-3">
       <OddOnesOut statements={statements} />
       <div className={aside ? "grid gap-4 xl:grid-cols-[minmax(0,1fr)_minmax(0,1fr)]" : ""}>
-      <div className="self-start overflow-x-auto rounded-lg border border-ink-200">
-        <table className="w-full min-w-[30rem] text-sm">
-          <caption className="sr-only">Comparison across cylinders: each trace's median per metric; values that stand out are flagged</caption>
-          <thead className="bg-ink-50">
-            <tr>
-              <th scope="col" className="sticky left-0 z-10 bg-ink-50 px-3 py-2 text-left font-semibold text-ink-600">
-                Trace
-              </th>
-              {metrics.map((m) => (
-                <th key={m.metric} scope="col" className="px-3 py-2 text-right font-semibold text-ink-600">
-                  {metricLabel(m.metric)}
-                  {shownUnit(shown(null, m.unit).unit) ? <span className="block text-xs font-normal text-ink-500">{shownUnit(shown(null, m.unit).unit)}</span> : null}
+        <div className="self-start overflow-x-auto rounded-lg border border-ink-200">
+          <table className="w-full min-w-[30rem] text-sm">
+            <caption className="sr-only">
+              Comparison across cylinders: each trace's median per metric; values that stand out are flagged
+            </caption>
+            <thead className="bg-ink-50">
+              <tr>
+                <th scope="col" className="sticky left-0 z-10 bg-ink-50 px-3 py-2 text-left font-semibold text-ink-600">
+                  Trace
                 </th>
-              ))}
-            </tr>
-          </thead>
-          <tbody className="divide-y divide-ink-100">
-            {rowIds.map((id) => {
-              const odd = oddIds.has(id);
-              return (
-                <tr key={id} className={odd ? "bg-alarm-500/5" : undefined}>
-                  <th scope="row" className={`sticky left-0 z-10 px-3 py-2 text-left font-semibold text-ink-900 ${odd ? "bg-[#fcf6f5]" : "bg-white"}`}>
-                    <span className="whitespace-nowrap">{labelOf(id)}</span>
-                    {odd ? <span className="mt-0.5 block w-fit whitespace-nowrap rounded bg-alarm-500 px-1.5 py-0.5 text-xs font-bold text-white">odd one out</span> : null}
+                {metrics.map((m) => (
+                  <th key={m.metric} scope="col" className="px-3 py-2 text-right font-semibold text-ink-600">
+                    {metricLabel(m.metric)}
+                    {shownUnit(shown(null, m.unit).unit) ? (
+                      <span className="block text-xs font-normal text-ink-500">
+                        {shownUnit(shown(null, m.unit).unit)}
+                      </span>
+                    ) : null}
                   </th>
-                  {metrics.map((m) => {
-                    const v = m.values.find((x) => x.traceId === id)?.value ?? null;
-                    const o = flagged.get(outlierKey(id, m.metric));
-                    return (
-                      <td
-                        key={m.metric}
-                        className={`px-3 py-2 text-right tabular-nums ${o ? "font-bold text-alarm-600 ring-2 ring-inset ring-alarm-500" : "text-ink-800"}`}
-                      >
-                        {fmtNum(shown(v, m.unit).value)}
-                        {o ? <span className="sr-only"> (stands out)</span> : null}
-                      </td>
-                    );
-                  })}
-                </tr>
-              );
-            })}
-          </tbody>
-          <tfoot className="border-t-2 border-ink-200 bg-ink-50">
-            <tr>
-              <th scope="row" className="sticky left-0 z-10 bg-ink-50 px-3 py-2 text-left font-semibold text-ink-600">
-                Median
-              </th>
-              {metrics.map((m) => (
-                <td key={m.metric} className="px-3 py-2 text-right font-semibold tabular-nums text-ink-700">
-                  {fmtNum(shown(m.median, m.unit).value)}
-                </td>
-              ))}
-            </tr>
-          </tfoot>
-        </table>
-      </div>
-      {aside ? <div className="min-w-0">{aside}</div> : null}
+                ))}
+              </tr>
+            </thead>
+            <tbody className="divide-y divide-ink-100">
+              {rowIds.map((id) => {
+                const odd = oddIds.has(id);
+                return (
+                  <tr key={id} className={odd ? "bg-alarm-500/5" : undefined}>
+                    <th
+                      scope="row"
+                      className={`sticky left-0 z-10 px-3 py-2 text-left font-semibold text-ink-900 ${odd ? "bg-[#fcf6f5]" : "bg-white"}`}
+                    >
+                      <span className="whitespace-nowrap">{labelOf(id)}</span>
+                      {odd ? (
+                        <span className="mt-0.5 block w-fit whitespace-nowrap rounded bg-alarm-500 px-1.5 py-0.5 text-xs font-bold text-white">
+                          odd one out
+                        </span>
+                      ) : null}
+                    </th>
+                    {metrics.map((m) => {
+                      const v = m.values.find((x) => x.traceId === id)?.value ?? null;
+                      const o = flagged.get(outlierKey(id, m.metric));
+                      return (
+                        <td
+                          key={m.metric}
+                          className={`px-3 py-2 text-right tabular-nums ${o ? "font-bold text-alarm-600 ring-2 ring-inset ring-alarm-500" : "text-ink-800"}`}
+                        >
+                          {fmtNum(shown(v, m.unit).value)}
+                          {o ? <span className="sr-only"> (stands out)</span> : null}
+                        </td>
+                      );
+                    })}
+                  </tr>
+                );
+              })}
+            </tbody>
+            <tfoot className="border-t-2 border-ink-200 bg-ink-50">
+              <tr>
+                <th scope="row" className="sticky left-0 z-10 bg-ink-50 px-3 py-2 text-left font-semibold text-ink-600">
+                  Median
+                </th>
+                {metrics.map((m) => (
+                  <td key={m.metric} className="px-3 py-2 text-right font-semibold tabular-nums text-ink-700">
+                    {fmtNum(shown(m.median, m.unit).value)}
+                  </td>
+                ))}
+              </tr>
+            </tfoot>
+          </table>
+        </div>
+        {aside ? <div className="min-w-0">{aside}</div> : null}
       </div>
       {comparison.outliers.length ? (
         <div>
@@ -184,12 +224,20 @@ export function ComparisonTable({ comparison, traces, units, aside }: { comparis
                 {comparison.outliers.map((o) => {
                   const m = shown(o.value, unitOf(comparison, o.metric));
                   const med = shown(o.median, unitOf(comparison, o.metric));
-                  return <li key={outlierKey(o.traceId, o.metric)}>{outlierDetail({ ...o, value: m.value ?? o.value, median: med.value ?? o.median }, labelOf(o.traceId), shownUnit(m.unit))}</li>;
+                  return (
+                    <li key={outlierKey(o.traceId, o.metric)}>
+                      {outlierDetail(
+                        { ...o, value: m.value ?? o.value, median: med.value ?? o.median },
+                        labelOf(o.traceId),
+                        shownUnit(m.unit),
+                      )}
+                    </li>
+                  );
                 })}
               </ul>
               <p>
-                A value stands out when its modified z-score, 0.6745·(x − median)/MAD, is beyond ±3.5 (Iglewicz and Hoaglin, 1993) and it differs from the median by a
-                margin that matters.
+                A value stands out when its modified z-score, 0.6745·(x − median)/MAD, is beyond ±3.5 (Iglewicz and
+                Hoaglin, 1993) and it differs from the median by a margin that matters.
               </p>
             </div>
           ) : null}

@@ -15,13 +15,18 @@ export function CompressionChart({ summary }: { summary: Pick<CompressionSummary
         title="Relative compression: each stroke of the firing sequence as % of the strongest"
         unit="%"
         ceiling={100}
-        items={summary.positions.map((p) => ({ key: String(p.position), label: `Stroke ${p.position}`, value: p.relativePct, odd: low.has(p.position) }))}
+        items={summary.positions.map((p) => ({
+          key: String(p.position),
+          label: `Stroke ${p.position}`,
+          value: p.relativePct,
+          odd: low.has(p.position),
+        }))}
         reference={{ value: LOW_COMPRESSION_PCT, label: `${LOW_COMPRESSION_PCT} % line` }}
         format={(v) => `${Math.round(v)} %`}
       />
       <p className="mt-1 text-xs text-ink-500">
-        Below the {LOW_COMPRESSION_PCT} % line a cylinder is suspect. Stroke 1 is the first compression after the starter's inrush; count along the firing
-        order to name the cylinder.
+        Below the {LOW_COMPRESSION_PCT} % line a cylinder is suspect. Stroke 1 is the first compression after the
+        starter's inrush; count along the firing order to name the cylinder.
       </p>
     </div>
   );

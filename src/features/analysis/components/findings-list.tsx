@@ -21,7 +21,11 @@ export function FindingsList({ findings, ignition }: { findings: Finding[]; igni
   const items = withCautionsOnce(sorted);
   const cautionShown = items.some((x) => x.caution === SECONDARY_SAFETY);
   if (!sorted.length) {
-    return <p className="rounded-lg border border-verdigris-500 bg-white px-3 py-2 text-sm font-semibold text-verdigris-600">The capture review found nothing to remark.</p>;
+    return (
+      <p className="rounded-lg border border-verdigris-500 bg-white px-3 py-2 text-sm font-semibold text-verdigris-600">
+        The capture review found nothing to remark.
+      </p>
+    );
   }
   return (
     <ul className="space-y-2" aria-label="Findings">
@@ -30,7 +34,9 @@ export function FindingsList({ findings, ignition }: { findings: Finding[]; igni
         return (
           <li key={`${f.code}-${i}`} className={`rounded-lg border-l-4 border px-3 py-2 ${t.box}`}>
             <div className="flex flex-wrap items-start gap-2">
-              <span className={`rounded px-1.5 py-0.5 text-xs font-bold uppercase tracking-wide ${t.badge}`}>{t.label}</span>
+              <span className={`rounded px-1.5 py-0.5 text-xs font-bold uppercase tracking-wide ${t.badge}`}>
+                {t.label}
+              </span>
               <p className="min-w-0 flex-1 font-semibold text-ink-900">{f.message}</p>
             </div>
             {advice ? <p className="mt-1 text-sm text-ink-700">{advice}</p> : null}
@@ -49,7 +55,10 @@ export function FindingsList({ findings, ignition }: { findings: Finding[]; igni
 
 function Caution({ text }: { text: string }) {
   return (
-    <p role="note" className="mt-2 flex gap-2 rounded-md bg-white/70 px-2 py-1.5 text-sm text-ink-800 ring-1 ring-alarm-500/40">
+    <p
+      role="note"
+      className="mt-2 flex gap-2 rounded-md bg-white/70 px-2 py-1.5 text-sm text-ink-800 ring-1 ring-alarm-500/40"
+    >
       <span aria-hidden="true" className="font-bold text-alarm-600">
         ⚠
       </span>

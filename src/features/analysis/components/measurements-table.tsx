@@ -27,26 +27,47 @@ function Headline({ r, cu }: { r: AnalysisResult; cu?: ChannelUnits | null }) {
   };
   switch (r.kind) {
     case "secondary-ignition":
-      items.push(["Firing events", fmtNum(r.summary.eventCount)], ["Engine speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"]);
+      items.push(
+        ["Firing events", fmtNum(r.summary.eventCount)],
+        ["Engine speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"],
+      );
       items.push(["Polarity", r.summary.polarity === "negative" ? "Inverted (measured as magnitudes)" : "Positive"]);
       items.push(["Noise on the baseline", phys(r.summary.noise)]);
       break;
     case "relative-compression":
-      items.push(["Compression strokes", fmtNum(r.summary.eventCount)], ["Cranking speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"]);
-      items.push(["Cylinders", fmtNum(r.summary.cylinders)], ["Inrush spike", r.summary.inrushIgnored ? "Ignored" : "Not seen"]);
+      items.push(
+        ["Compression strokes", fmtNum(r.summary.eventCount)],
+        ["Cranking speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"],
+      );
+      items.push(
+        ["Cylinders", fmtNum(r.summary.cylinders)],
+        ["Inrush spike", r.summary.inrushIgnored ? "Ignored" : "Not seen"],
+      );
       break;
     case "injector":
-      items.push(["Pulses", fmtNum(r.summary.eventCount)], ["Engine speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"]);
-      items.push(["Supply", fmtWithUnit(r.summary.supplyV, "V")], ["Driver clamp", r.summary.clamped ? "Clamped" : "Not clamped"]);
+      items.push(
+        ["Pulses", fmtNum(r.summary.eventCount)],
+        ["Engine speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"],
+      );
+      items.push(
+        ["Supply", fmtWithUnit(r.summary.supplyV, "V")],
+        ["Driver clamp", r.summary.clamped ? "Clamped" : "Not clamped"],
+      );
       break;
     case "crank":
-      items.push(["Revolutions (gaps)", fmtNum(r.summary.eventCount)], ["Engine speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"]);
+      items.push(
+        ["Revolutions (gaps)", fmtNum(r.summary.eventCount)],
+        ["Engine speed", r.summary.rpm ? `${fmtNum(r.summary.rpm)} rpm` : "—"],
+      );
       items.push(["Teeth counted", fmtNum(r.summary.toothCount)]);
       items.push(["Amplitude per 1000 rpm", phys(r.summary.amplitudePerKrpm)]);
       if (r.summary.damagedTeeth.length) items.push(["Suspect teeth", r.summary.damagedTeeth.join(", ")]);
       break;
     case "generic":
-      items.push(["Frequency", fmtHz(r.measurements.frequencyHz)], ["Duty cycle", r.measurements.dutyCyclePct === null ? "—" : `${fmtNum(r.measurements.dutyCyclePct)} %`]);
+      items.push(
+        ["Frequency", fmtHz(r.measurements.frequencyHz)],
+        ["Duty cycle", r.measurements.dutyCyclePct === null ? "—" : `${fmtNum(r.measurements.dutyCyclePct)} %`],
+      );
       break;
   }
   return (
@@ -108,7 +129,9 @@ function PositionsTable({ summary }: { summary: Pick<CompressionSummary, "positi
   return (
     <div className="overflow-x-auto rounded-lg border border-ink-200">
       <table className="w-full text-sm">
-        <caption className="px-3 pt-2 text-left text-sm font-semibold text-ink-700">Compression by position in the firing sequence</caption>
+        <caption className="px-3 pt-2 text-left text-sm font-semibold text-ink-700">
+          Compression by position in the firing sequence
+        </caption>
         <thead className="bg-ink-50">
           <tr>
             <th scope="col" className={th}>
@@ -139,7 +162,19 @@ function PositionsTable({ summary }: { summary: Pick<CompressionSummary, "positi
 }
 
 /** Every event with its metrics. */
-function EventsTable({ id, analysis, eventDefs, cell, traceName }: { id: string; analysis: AnalysisResult; eventDefs: MetricDef[]; cell: Cell; traceName: string }) {
+function EventsTable({
+  id,
+  analysis,
+  eventDefs,
+  cell,
+  traceName,
+}: {
+  id: string;
+  analysis: AnalysisResult;
+  eventDefs: MetricDef[];
+  cell: Cell;
+  traceName: string;
+}) {
   return (
     <div id={id} className="max-h-80 overflow-auto rounded-lg border border-ink-200">
       <table className="w-full min-w-[32rem] text-sm">
@@ -178,7 +213,17 @@ function EventsTable({ id, analysis, eventDefs, cell, traceName }: { id: string;
 }
 
 /** Measurements over the whole channel (levels in the channel's physical unit). */
-function WholeChannelTable({ id, m, level, traceName }: { id: string; m: NonNullable<AnalysisResult["measurements"]>; level: (x: number | null | undefined) => string; traceName: string }) {
+function WholeChannelTable({
+  id,
+  m,
+  level,
+  traceName,
+}: {
+  id: string;
+  m: NonNullable<AnalysisResult["measurements"]>;
+  level: (x: number | null | undefined) => string;
+  traceName: string;
+}) {
   const rows: [string, string][] = [
     ["Minimum", level(m.min)],
     ["Maximum", level(m.max)],
@@ -211,13 +256,22 @@ function WholeChannelTable({ id, m, level, traceName }: { id: string; m: NonNull
   );
 }
 
-const toggleClass = "min-h-11 rounded-lg border border-ink-300 bg-white px-3 text-sm font-semibold text-ink-800 hover:bg-ink-50";
+const toggleClass =
+  "min-h-11 rounded-lg border border-ink-300 bg-white px-3 text-sm font-semibold text-ink-800 hover:bg-ink-50";
 
 /**
  * The measurements of one trace: headline numbers, median / min / max of each per-event metric,
  * the whole-channel measurements and, on request, every event.
  */
-export function MeasurementsTable({ analysis, traceName, units }: { analysis: AnalysisResult; traceName: string; units?: ChannelUnits | null }) {
+export function MeasurementsTable({
+  analysis,
+  traceName,
+  units,
+}: {
+  analysis: AnalysisResult;
+  traceName: string;
+  units?: ChannelUnits | null;
+}) {
   const defs = metricsByKind[analysis.kind] ?? [];
   const [showEvents, setShowEvents] = useState(false);
   const [showGeneric, setShowGeneric] = useState(analysis.kind === "generic");
@@ -240,21 +294,39 @@ export function MeasurementsTable({ analysis, traceName, units }: { analysis: An
       ) : analysis.kind !== "generic" ? (
         <p className="text-sm text-ink-600">No events were measured in this trace.</p>
       ) : null}
-      {analysis.kind === "relative-compression" && analysis.summary.positions.length ? <PositionsTable summary={analysis.summary} /> : null}
+      {analysis.kind === "relative-compression" && analysis.summary.positions.length ? (
+        <PositionsTable summary={analysis.summary} />
+      ) : null}
       <div className="flex flex-wrap gap-2">
         {eventDefs.length && analysis.events.length ? (
-          <button type="button" className={toggleClass} aria-expanded={showEvents} aria-controls={eventsId} onClick={() => setShowEvents((v) => !v)}>
+          <button
+            type="button"
+            className={toggleClass}
+            aria-expanded={showEvents}
+            aria-controls={eventsId}
+            onClick={() => setShowEvents((v) => !v)}
+          >
             {showEvents ? "Hide" : "Show"} each event ({analysis.events.length})
           </button>
         ) : null}
         {analysis.kind !== "generic" ? (
-          <button type="button" className={toggleClass} aria-expanded={showGeneric} aria-controls={genericId} onClick={() => setShowGeneric((v) => !v)}>
+          <button
+            type="button"
+            className={toggleClass}
+            aria-expanded={showGeneric}
+            aria-controls={genericId}
+            onClick={() => setShowGeneric((v) => !v)}
+          >
             {showGeneric ? "Hide" : "Show"} whole-channel measurements
           </button>
         ) : null}
       </div>
-      {showEvents ? <EventsTable id={eventsId} analysis={analysis} eventDefs={eventDefs} cell={cell} traceName={traceName} /> : null}
-      {showGeneric && m ? <WholeChannelTable id={genericId} m={m} level={(x) => cell(x, "$")} traceName={traceName} /> : null}
+      {showEvents ? (
+        <EventsTable id={eventsId} analysis={analysis} eventDefs={eventDefs} cell={cell} traceName={traceName} />
+      ) : null}
+      {showGeneric && m ? (
+        <WholeChannelTable id={genericId} m={m} level={(x) => cell(x, "$")} traceName={traceName} />
+      ) : null}
     </div>
   );
 }

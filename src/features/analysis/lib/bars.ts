@@ -35,7 +35,11 @@ export interface BarLayout {
  * Bars across [left, left + width], each in an equal slot with a gap; heights from 0 to the
  * largest value (or `ceiling`, e.g. 100 for percentages), the value axis spanning top…bottom.
  */
-export function barLayout(items: BarInput[], box: { left: number; width: number; top: number; bottom: number }, ceiling?: number): BarLayout {
+export function barLayout(
+  items: BarInput[],
+  box: { left: number; width: number; top: number; bottom: number },
+  ceiling?: number,
+): BarLayout {
   const vals = items.map((i) => i.value).filter((v): v is number => v != null && Number.isFinite(v));
   const max = Math.max(ceiling ?? 0, 0, ...vals);
   const min = Math.min(0, ...vals);

@@ -22,4 +22,3 @@ export function withCautionsOnce(findings: Finding[]): { f: Finding; advice: str
     return { f, advice, caution: first ? caution : null };
   });
 }
-

@@ -7,7 +7,11 @@ import type { BarInput } from "./bars";
 export const shownUnit = (u: string | undefined) => (!u || u === "count" ? "" : u);
 
 /** A comparison metric's value in the traces' physical unit when it is a level (V, kV, A…); other units kept. */
-export function displayMetric(x: number | null | undefined, unit: string, units?: ChannelUnits | null): { value: number | null | undefined; unit: string } {
+export function displayMetric(
+  x: number | null | undefined,
+  unit: string,
+  units?: ChannelUnits | null,
+): { value: number | null | undefined; unit: string } {
   const m = /^(kV|V|mV|A|mA)(\/.+)?$/.exec(unit);
   return m ? physicalMetric(x, `$${m[2] ?? ""}`, m[1], units) : { value: x, unit };
 }
@@ -28,7 +32,12 @@ export interface MetricChart {
 }
 
 /** The comparison's metrics as bar charts: those with an odd one out first, then in the analysis's order. */
-export function comparisonCharts(c: Comparison, traces: { id: string; label: string }[], units?: ChannelUnits | null, max = 4): MetricChart[] {
+export function comparisonCharts(
+  c: Comparison,
+  traces: { id: string; label: string }[],
+  units?: ChannelUnits | null,
+  max = 4,
+): MetricChart[] {
   const flagged = new Set(c.outliers.map((o) => `${o.traceId}\u0000${o.metric}`));
   const charts = c.metrics
     .filter((m) => m.values.filter((v) => v.value != null).length >= 2)

@@ -4,7 +4,12 @@ import { isAnalysisResult } from "./metrics";
 
 /** Does the server's stored comparison have the shape the table reads? */
 export function isComparison(x: unknown): x is Comparison {
-  return !!x && typeof x === "object" && Array.isArray((x as Comparison).metrics) && Array.isArray((x as Comparison).outliers);
+  return (
+    !!x &&
+    typeof x === "object" &&
+    Array.isArray((x as Comparison).metrics) &&
+    Array.isArray((x as Comparison).outliers)
+  );
 }
 
 /**
@@ -21,5 +26,7 @@ export function comparisonFor(server: unknown, traces: { id: string; analysis: u
   const kind = [...counts.entries()].sort((a, b) => b[1] - a[1])[0][0];
   const same = analysed.filter((t) => t.analysis.kind === kind);
   if (same.length < 2) return null;
-  return compareTraces(same.map((t) => ({ kind: t.analysis.kind, unit: t.analysis.unit, summary: t.analysis.summary, traceId: t.id })));
+  return compareTraces(
+    same.map((t) => ({ kind: t.analysis.kind, unit: t.analysis.unit, summary: t.analysis.summary, traceId: t.id })),
+  );
 }

@@ -62,7 +62,13 @@ export const metricLabels: Record<string, string> = {
 };
 
 export function metricLabel(key: string): string {
-  return metricLabels[key] ?? key.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/Ms$/, "").toLowerCase();
+  return (
+    metricLabels[key] ??
+    key
+      .replace(/([a-z])([A-Z])/g, "$1 $2")
+      .replace(/Ms$/, "")
+      .toLowerCase()
+  );
 }
 
 export const resolveUnit = (u: string, resultUnit: string) => u.replace("$", resultUnit);
@@ -72,7 +78,12 @@ export const resolveUnit = (u: string, resultUnit: string) => u.replace("$", res
  * shows: a value in the result's unit ("$", "$/ms") is converted when the channel's unit model is
  * known; other units (ms, Hz, %, V of an injector's supply) are kept.
  */
-export function physicalMetric(x: number | null | undefined, defUnit: string, resultUnit: string, cu?: ChannelUnits | null): { value: number | null | undefined; unit: string } {
+export function physicalMetric(
+  x: number | null | undefined,
+  defUnit: string,
+  resultUnit: string,
+  cu?: ChannelUnits | null,
+): { value: number | null | undefined; unit: string } {
   if (!defUnit.includes("$")) return { value: x, unit: defUnit };
   if (!cu) return { value: x, unit: resolveUnit(defUnit, resultUnit) };
   return { value: typeof x === "number" ? toPhysical(x, resultUnit, cu) : x, unit: defUnit.replace("$", cu.unit) };
@@ -80,5 +91,11 @@ export function physicalMetric(x: number | null | undefined, defUnit: string, re
 
 /** Narrowing: does this stored value look like an analysis result? */
 export function isAnalysisResult(x: unknown): x is AnalysisResult {
-  return !!x && typeof x === "object" && "kind" in x && "summary" in x && Array.isArray((x as { findings?: unknown }).findings);
+  return (
+    !!x &&
+    typeof x === "object" &&
+    "kind" in x &&
+    "summary" in x &&
+    Array.isArray((x as { findings?: unknown }).findings)
+  );
 }

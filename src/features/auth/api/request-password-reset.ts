@@ -4,6 +4,9 @@ import { requestPasswordResetSchema, type RequestPasswordResetInput } from "../.
 import { authPaths } from "./paths";
 
 export const requestPasswordReset = (input: RequestPasswordResetInput) =>
-  api.post<{ status: boolean; message: string }>(authPaths.requestPasswordReset, requestPasswordResetSchema.parse(input));
+  api.post<{ status: boolean; message: string }>(
+    authPaths.requestPasswordReset,
+    requestPasswordResetSchema.parse(input),
+  );
 
 export const useRequestPasswordReset = () => useMutation({ mutationFn: requestPasswordReset });

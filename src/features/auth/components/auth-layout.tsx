@@ -2,7 +2,17 @@ import type { ReactNode } from "react";
 import { LogoMark } from "../../../components/layout/logo";
 
 /** The frame of the signed-out pages: a narrow card, readable on a phone held in one hand. */
-export function AuthLayout({ title, intro, children, wide }: { title: string; intro?: ReactNode; children: ReactNode; wide?: boolean }) {
+export function AuthLayout({
+  title,
+  intro,
+  children,
+  wide,
+}: {
+  title: string;
+  intro?: ReactNode;
+  children: ReactNode;
+  wide?: boolean;
+}) {
   return (
     <div className={`mx-auto w-full ${wide ? "max-w-2xl" : "max-w-md"} py-2 sm:py-6`}>
       <div className="rounded-2xl border border-ink-200 bg-white p-5 shadow-sm sm:p-7">

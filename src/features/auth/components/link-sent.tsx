@@ -6,7 +6,17 @@ import { AuthLayout } from "./auth-layout";
 import { DevMailHint } from "./dev-mail-hint";
 
 /** The page shown after a sign-up or an application: a confirmation link went to `email`. */
-export function LinkSent({ title, noticeTitle, email, children }: { title: string; noticeTitle: string; email: string; children: ReactNode }) {
+export function LinkSent({
+  title,
+  noticeTitle,
+  email,
+  children,
+}: {
+  title: string;
+  noticeTitle: string;
+  email: string;
+  children: ReactNode;
+}) {
   return (
     <AuthLayout title={title}>
       <Notice tone="success" title={noticeTitle}>

@@ -38,11 +38,16 @@ export function PasswordStrength({
     };
   }, []);
 
+  // nothing to estimate (or no estimator yet): the last estimate is dropped
+  const idle = !ready || !password;
+  const [wasIdle, setWasIdle] = useState(idle);
+  if (idle !== wasIdle) {
+    setWasIdle(idle);
+    if (idle) setShown(null);
+  }
+
   useEffect(() => {
-    if (!ready || !password) {
-      setShown(null);
-      return;
-    }
+    if (!ready || !password) return;
     const t = setTimeout(() => {
       const own = inputsKey ? inputsKey.split("\u0000") : [];
       const est = estimatePassword(password, own);

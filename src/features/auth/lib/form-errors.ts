@@ -5,7 +5,11 @@ import { ApiError } from "../../../lib/api-client";
  * Puts the server's field errors (400 `details.fields`) on the form's fields; returns the message
  * to show above the form for everything else (or null when every error found a field).
  */
-export function applyServerErrors<T extends FieldValues>(err: unknown, setError: UseFormSetError<T>, fields: readonly string[]): string | null {
+export function applyServerErrors<T extends FieldValues>(
+  err: unknown,
+  setError: UseFormSetError<T>,
+  fields: readonly string[],
+): string | null {
   if (err instanceof ApiError) {
     const list = err.details?.fields ?? [];
     let unplaced = 0;

@@ -1,9 +1,14 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { api } from "../../../lib/api-client";
-import { casebookEditSchema, type CasebookEditInput, type CasebookEntryView } from "../../../../shared/schemas/casebook";
+import {
+  casebookEditSchema,
+  type CasebookEditInput,
+  type CasebookEntryView,
+} from "../../../../shared/schemas/casebook";
 import { casebookKeys, casebookPaths } from "./paths";
 
-export const moderateEntry = (id: string, input: CasebookEditInput) => api.patch<CasebookEntryView>(casebookPaths.moderate(id), casebookEditSchema.parse(input));
+export const moderateEntry = (id: string, input: CasebookEditInput) =>
+  api.patch<CasebookEntryView>(casebookPaths.moderate(id), casebookEditSchema.parse(input));
 
 /** Admin: hide, unhide or edit an entry; the whole casebook is refetched (search results change). */
 export function useModerateEntry(id: string) {

@@ -18,7 +18,19 @@ export interface CasebookSearchParams {
   page?: string;
 }
 
-export const SEARCH_PARAM_NAMES = ["q", "make", "model", "yearFrom", "yearTo", "engine", "system", "code", "confirmed", "sort", "page"] as const;
+export const SEARCH_PARAM_NAMES = [
+  "q",
+  "make",
+  "model",
+  "yearFrom",
+  "yearTo",
+  "engine",
+  "system",
+  "code",
+  "confirmed",
+  "sort",
+  "page",
+] as const;
 
 export function searchUrl(p: CasebookSearchParams): string {
   const qs = new URLSearchParams();
@@ -33,6 +45,11 @@ export function searchUrl(p: CasebookSearchParams): string {
 export const searchCasebook = (p: CasebookSearchParams) => api.get<CasebookSearchResult>(searchUrl(p));
 
 export const casebookSearchQuery = (p: CasebookSearchParams) =>
-  queryOptions({ queryKey: casebookKeys.search(p), queryFn: () => searchCasebook(p), placeholderData: keepPreviousData, staleTime: 30_000 });
+  queryOptions({
+    queryKey: casebookKeys.search(p),
+    queryFn: () => searchCasebook(p),
+    placeholderData: keepPreviousData,
+    staleTime: 30_000,
+  });
 
 export const useCasebookSearch = (p: CasebookSearchParams) => useQuery(casebookSearchQuery(p));

@@ -32,7 +32,17 @@ function Paragraphs({ text }: { text: string }) {
  * expert's diagnosis, root cause, fix and confirming tests, the shop's outcome, the safety caution,
  * and a slot for the read-only traces (the page puts the trace viewer there).
  */
-export function EntryView({ entry, traces, measurements, moderation }: { entry: CasebookEntryView; traces?: ReactNode; measurements?: ReactNode; moderation?: ReactNode }) {
+export function EntryView({
+  entry,
+  traces,
+  measurements,
+  moderation,
+}: {
+  entry: CasebookEntryView;
+  traces?: ReactNode;
+  measurements?: ReactNode;
+  moderation?: ReactNode;
+}) {
   const v = entry.vehicle;
   return (
     <div className="space-y-5">
@@ -40,12 +50,16 @@ export function EntryView({ entry, traces, measurements, moderation }: { entry: 
         <h1 className="text-2xl font-bold">{entry.title}</h1>
         <p className="text-sm text-ink-600">
           Published {formatDay(entry.publishedAt)}
-          {entry.updatedAt !== entry.publishedAt ? ` · edited ${formatDay(entry.updatedAt)}` : ""} · {entry.viewCount.toLocaleString("en-US")} {entry.viewCount === 1 ? "reader" : "readers"}
+          {entry.updatedAt !== entry.publishedAt ? ` · edited ${formatDay(entry.updatedAt)}` : ""} ·{" "}
+          {entry.viewCount.toLocaleString("en-US")} {entry.viewCount === 1 ? "reader" : "readers"}
           {entry.outcome.confirmed ? " · fix confirmed by the shop" : ""}
           {entry.outcome.rating ? ` · rated ${entry.outcome.rating} of 5` : ""}
         </p>
         {entry.hidden ? (
-          <p role="status" className="rounded-lg border border-alarm-500 bg-white px-3 py-2 text-sm font-semibold text-alarm-600">
+          <p
+            role="status"
+            className="rounded-lg border border-alarm-500 bg-white px-3 py-2 text-sm font-semibold text-alarm-600"
+          >
             Hidden from the casebook{entry.hiddenReason ? `: ${entry.hiddenReason}` : ""}.
           </p>
         ) : null}
@@ -63,7 +77,9 @@ export function EntryView({ entry, traces, measurements, moderation }: { entry: 
             <Fact label="Engine">{v.engine}</Fact>
             <Fact label="Fuel">{v.fuel}</Fact>
             <Fact label="Transmission">{v.transmission}</Fact>
-            <Fact label="Mileage (rounded)">{v.mileage != null ? `${v.mileage.toLocaleString("en-US")} ${v.mileageUnit ?? ""}` : null}</Fact>
+            <Fact label="Mileage (rounded)">
+              {v.mileage != null ? `${v.mileage.toLocaleString("en-US")} ${v.mileageUnit ?? ""}` : null}
+            </Fact>
             <Fact label="VIN (model part)">{v.vinModel ? <span className="font-mono">{v.vinModel}</span> : null}</Fact>
             <Fact label="System">{entry.system ? (systemNames[entry.system] ?? entry.system) : null}</Fact>
           </dl>
@@ -121,7 +137,9 @@ export function EntryView({ entry, traces, measurements, moderation }: { entry: 
             <Paragraphs text={entry.outcome.note} />
           </div>
         ) : null}
-        <p className="rounded-lg border border-kiln-300 bg-kiln-50 px-3 py-2 text-sm text-ink-800">{entry.safetyNote}</p>
+        <p className="rounded-lg border border-kiln-300 bg-kiln-50 px-3 py-2 text-sm text-ink-800">
+          {entry.safetyNote}
+        </p>
       </Panel>
 
       {measurements}

@@ -3,7 +3,14 @@ import { useExpertRecord } from "../api/get-expert-record";
 /** An expert's casebook record: published entries, confirmed fixes, helpful votes, readers. */
 export function ExpertCasebookRecordCard({ expertId }: { expertId: string }) {
   const q = useExpertRecord(expertId);
-  if (q.isPending) return <div className="h-20 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading the casebook record" />;
+  if (q.isPending)
+    return (
+      <div
+        className="h-20 animate-pulse rounded-xl bg-ink-100"
+        aria-busy="true"
+        aria-label="Loading the casebook record"
+      />
+    );
   if (q.isError) return null;
   const r = q.data;
   const stat = (n: number, label: string) => (

@@ -3,7 +3,9 @@ import { facetTitles, systemNames } from "../lib/labels";
 
 const chip = (active: boolean) =>
   `inline-flex min-h-11 items-center gap-2 rounded-full border px-3 py-1.5 text-sm ${
-    active ? "border-kiln-500 bg-kiln-100 font-semibold text-ink-950" : "border-ink-200 bg-white text-ink-800 hover:border-ink-400"
+    active
+      ? "border-kiln-500 bg-kiln-100 font-semibold text-ink-950"
+      : "border-ink-200 bg-white text-ink-800 hover:border-ink-400"
   }`;
 
 export interface FacetGroupProps {
@@ -49,7 +51,9 @@ export function FacetGroup({ dim, facets, selected, onSelect, limit = 8 }: Facet
               title={active ? `Remove the ${title.toLowerCase()} filter` : `Only ${label(dim, f)}`}
             >
               <span>{label(dim, f)}</span>
-              <span className="rounded-full bg-ink-100 px-1.5 text-xs tabular-nums text-ink-700">{f.count.toLocaleString("en-US")}</span>
+              <span className="rounded-full bg-ink-100 px-1.5 text-xs tabular-nums text-ink-700">
+                {f.count.toLocaleString("en-US")}
+              </span>
               {active ? <span aria-hidden="true">×</span> : null}
             </button>
           );
@@ -60,16 +64,34 @@ export function FacetGroup({ dim, facets, selected, onSelect, limit = 8 }: Facet
 }
 
 /** The active filters as removable chips, above the results. */
-export function ActiveFilters({ filters, onRemove, onClear }: { filters: { key: string; label: string }[]; onRemove: (key: string) => void; onClear: () => void }) {
+export function ActiveFilters({
+  filters,
+  onRemove,
+  onClear,
+}: {
+  filters: { key: string; label: string }[];
+  onRemove: (key: string) => void;
+  onClear: () => void;
+}) {
   if (filters.length === 0) return null;
   return (
     <div className="flex flex-wrap items-center gap-2" aria-label="Active filters">
       {filters.map((f) => (
-        <button key={f.key} type="button" className={chip(true)} onClick={() => onRemove(f.key)} aria-label={`Remove filter ${f.label}`}>
+        <button
+          key={f.key}
+          type="button"
+          className={chip(true)}
+          onClick={() => onRemove(f.key)}
+          aria-label={`Remove filter ${f.label}`}
+        >
           {f.label} <span aria-hidden="true">×</span>
         </button>
       ))}
-      <button type="button" className="min-h-11 rounded-lg px-3 text-sm font-semibold text-ink-600 underline hover:text-ink-900" onClick={onClear}>
+      <button
+        type="button"
+        className="min-h-11 rounded-lg px-3 text-sm font-semibold text-ink-600 underline hover:text-ink-900"
+        onClick={onClear}
+      >
         Clear all
       </button>
     </div>

@@ -16,7 +16,10 @@ export function ResultList({ results }: { results: CasebookSearchHit[] }) {
             <div className="flex flex-wrap items-start justify-between gap-x-4 gap-y-2">
               <div className="min-w-0 flex-1">
                 <h3 id={`hit-${r.id}`} className="text-base font-bold text-ink-900">
-                  <Link to={casebookPages.entry(r.id)} className="underline decoration-ink-300 underline-offset-4 hover:decoration-kiln-500">
+                  <Link
+                    to={casebookPages.entry(r.id)}
+                    className="underline decoration-ink-300 underline-offset-4 hover:decoration-kiln-500"
+                  >
                     {r.title}
                   </Link>
                 </h3>
@@ -54,13 +57,23 @@ export function Pagination({ page, pages, onPage }: { page: number; pages: numbe
   const last = Math.min(pages, 500);
   return (
     <nav aria-label="Result pages" className="flex flex-wrap items-center justify-center gap-2">
-      <button type="button" className="min-h-11 rounded-lg border border-ink-300 bg-white px-4 font-semibold disabled:opacity-40" disabled={page <= 1} onClick={() => onPage(page - 1)}>
+      <button
+        type="button"
+        className="min-h-11 rounded-lg border border-ink-300 bg-white px-4 font-semibold disabled:opacity-40"
+        disabled={page <= 1}
+        onClick={() => onPage(page - 1)}
+      >
         ← Previous
       </button>
       <span className="px-2 text-sm text-ink-600" aria-current="page">
         Page {page} of {last.toLocaleString("en-US")}
       </span>
-      <button type="button" className="min-h-11 rounded-lg border border-ink-300 bg-white px-4 font-semibold disabled:opacity-40" disabled={page >= last} onClick={() => onPage(page + 1)}>
+      <button
+        type="button"
+        className="min-h-11 rounded-lg border border-ink-300 bg-white px-4 font-semibold disabled:opacity-40"
+        disabled={page >= last}
+        onClick={() => onPage(page + 1)}
+      >
         Next →
       </button>
     </nav>

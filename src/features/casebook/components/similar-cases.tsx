@@ -9,14 +9,29 @@ import { WaveformThumbnail } from "./waveform-thumbnail";
  * nearest to this case's traces, each with a thumbnail of its waveform and the reason in words. Offered to the technician before
  * paying and to the expert while working.
  */
-export function SimilarCases({ caseId, limit = 5, title = "These may already answer your case", version = 0 }: { caseId: string; limit?: number; title?: string; version?: string | number }) {
+export function SimilarCases({
+  caseId,
+  limit = 5,
+  title = "These may already answer your case",
+  version = 0,
+}: {
+  caseId: string;
+  limit?: number;
+  title?: string;
+  version?: string | number;
+}) {
   const q = useSimilar(caseId, limit, version);
   return (
-    <section aria-labelledby={`similar-${caseId}`} className="no-print min-w-0 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
+    <section
+      aria-labelledby={`similar-${caseId}`}
+      className="no-print min-w-0 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5"
+    >
       <h2 id={`similar-${caseId}`} className="text-lg font-bold text-ink-900">
         {title}
       </h2>
-      <p className="mt-1 text-sm text-ink-600">Resolved cases from the casebook with the nearest measured waveform pattern.</p>
+      <p className="mt-1 text-sm text-ink-600">
+        Resolved cases from the casebook with the nearest measured waveform pattern.
+      </p>
       <div className="mt-3">
         {q.isPending ? (
           <div className="space-y-2" aria-busy="true" aria-label="Looking for similar cases">
@@ -33,8 +48,14 @@ export function SimilarCases({ caseId, limit = 5, title = "These may already ans
           <ol className="space-y-3">
             {q.data.results.map((r) => (
               <li key={r.id} className="flow-root rounded-lg border border-ink-200 p-3">
-                <WaveformThumbnail entryId={r.id} className="float-right mb-1 ml-3 max-[380px]:float-none max-[380px]:ml-0" />
-                <Link to={casebookPages.entry(r.id)} className="font-semibold text-ink-900 underline decoration-ink-300 underline-offset-4 hover:decoration-kiln-500">
+                <WaveformThumbnail
+                  entryId={r.id}
+                  className="float-right mb-1 ml-3 max-[380px]:float-none max-[380px]:ml-0"
+                />
+                <Link
+                  to={casebookPages.entry(r.id)}
+                  className="font-semibold text-ink-900 underline decoration-ink-300 underline-offset-4 hover:decoration-kiln-500"
+                >
                   {r.title}
                 </Link>
                 <div className="mt-1 flex flex-wrap items-center gap-1.5 text-sm text-ink-600">
@@ -49,7 +70,8 @@ export function SimilarCases({ caseId, limit = 5, title = "These may already ans
                   ))}
                 </ul>
                 <p className="mt-1 text-xs text-ink-500">
-                  Match {Math.round(r.similarity * 100)} %{r.helpfulCount ? ` · ${r.helpfulCount} found it helpful` : ""}
+                  Match {Math.round(r.similarity * 100)} %
+                  {r.helpfulCount ? ` · ${r.helpfulCount} found it helpful` : ""}
                 </p>
               </li>
             ))}

@@ -8,7 +8,8 @@ export const attachmentPaths = {
   photo: (id: string) => `/api/photos/${encodeURIComponent(id)}`,
 };
 
-export const deleteAttachment = ({ kind, id }: { kind: "trace" | "photo"; id: string; caseId: string }) => api.del<void>(attachmentPaths[kind](id));
+export const deleteAttachment = ({ kind, id }: { kind: "trace" | "photo"; id: string; caseId: string }) =>
+  api.del<void>(attachmentPaths[kind](id));
 
 export function useDeleteAttachment() {
   const qc = useQueryClient();

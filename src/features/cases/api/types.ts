@@ -38,7 +38,8 @@ export interface PresentedCode {
 export type CaseCode = string | PresentedCode;
 
 /** The codes as plain strings, whichever form the server sent. */
-export const codeStrings = (codes: CaseCode[] | null | undefined): string[] => (codes ?? []).map((c) => (typeof c === "string" ? c : c.code));
+export const codeStrings = (codes: CaseCode[] | null | undefined): string[] =>
+  (codes ?? []).map((c) => (typeof c === "string" ? c : c.code));
 
 /** One trace as listed on its case (the plot fetches its points separately). */
 export interface CaseTrace {

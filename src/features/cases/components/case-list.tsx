@@ -71,11 +71,7 @@ export function UnreadBadge({ unread }: { unread: CaseListItem["unread"] }) {
     unread.marks ? `${unread.marks} mark${unread.marks === 1 ? "" : "s"}` : "",
   ].filter(Boolean);
   if (!parts.length) return <span className="text-ink-400">—</span>;
-  return (
-    <span className={badge}>
-      {parts.join(", ")} new
-    </span>
-  );
+  return <span className={badge}>{parts.join(", ")} new</span>;
 }
 
 /** A text box that reports its value a moment after typing stops. */

@@ -1,5 +1,12 @@
 import { decodeVin, validateVin } from "../../../../shared/domain/vin";
-import { fuelLabels, symptomLabels, transmissionLabels, type Fuel, type Symptom, type Transmission } from "../../../../shared/schemas/case";
+import {
+  fuelLabels,
+  symptomLabels,
+  transmissionLabels,
+  type Fuel,
+  type Symptom,
+  type Transmission,
+} from "../../../../shared/schemas/case";
 import { codeStrings, type CaseDetail } from "../api/types";
 import { loadLabels, occurrenceLabels, systemLabels, temperatureLabels, vehicleTitle } from "../lib/labels";
 import { CodeChip } from "./code-chips";
@@ -33,7 +40,8 @@ export function VehicleSummary({ c }: { c: CaseDetail }) {
             {vin ? <span className="break-all font-mono">{vin}</span> : dash}
             {decoded ? (
               <span className="block text-sm text-ink-600">
-                Model year {decoded.modelYear ?? decoded.modelYearCandidates.join(" or ")} · {decoded.region === "unknown" ? "unknown region" : `built in ${decoded.region}`} · maker code{" "}
+                Model year {decoded.modelYear ?? decoded.modelYearCandidates.join(" or ")} ·{" "}
+                {decoded.region === "unknown" ? "unknown region" : `built in ${decoded.region}`} · maker code{" "}
                 <span className="font-mono">{decoded.manufacturerCode}</span>
               </span>
             ) : null}
@@ -46,8 +54,14 @@ export function VehicleSummary({ c }: { c: CaseDetail }) {
         </div>
         <Row label="Engine">{v.engine || dash}</Row>
         <Row label="Fuel">{v.fuel ? (fuelLabels[v.fuel as Fuel] ?? v.fuel) : dash}</Row>
-        <Row label="Mileage">{v.mileage !== null && v.mileage !== undefined ? `${v.mileage.toLocaleString("en-US")} ${v.mileageUnit ?? "mi"}` : dash}</Row>
-        <Row label="Transmission">{v.transmission ? (transmissionLabels[v.transmission as Transmission] ?? v.transmission) : dash}</Row>
+        <Row label="Mileage">
+          {v.mileage !== null && v.mileage !== undefined
+            ? `${v.mileage.toLocaleString("en-US")} ${v.mileageUnit ?? "mi"}`
+            : dash}
+        </Row>
+        <Row label="Transmission">
+          {v.transmission ? (transmissionLabels[v.transmission as Transmission] ?? v.transmission) : dash}
+        </Row>
       </dl>
       <div>
         <h3 className="text-xs font-semibold uppercase tracking-wide text-ink-500">Trouble codes</h3>
@@ -96,7 +110,9 @@ export function CaseFacts({ c }: { c: CaseDetail }) {
         </Row>
       </div>
       <Row label="Tests done">{c.testsDone ? <span className="whitespace-pre-line">{c.testsDone}</span> : dash}</Row>
-      <Row label="Parts replaced">{c.partsReplaced ? <span className="whitespace-pre-line">{c.partsReplaced}</span> : dash}</Row>
+      <Row label="Parts replaced">
+        {c.partsReplaced ? <span className="whitespace-pre-line">{c.partsReplaced}</span> : dash}
+      </Row>
       {c.notes ? (
         <div className="md:col-span-2">
           <Row label="Notes">

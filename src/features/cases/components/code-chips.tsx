@@ -26,7 +26,9 @@ export function CodeChip({ code, onRemove }: { code: string; onRemove?: () => vo
             </span>
           ))}
         </div>
-        <p className={`text-sm ${p.ok && p.description ? "text-ink-700" : "italic text-ink-500"}`}>{details.description}</p>
+        <p className={`text-sm ${p.ok && p.description ? "text-ink-700" : "italic text-ink-500"}`}>
+          {details.description}
+        </p>
       </div>
       {onRemove ? (
         <button
@@ -63,7 +65,10 @@ export function CodeChips({
   const errId = useId();
 
   function commit(raw: string): boolean {
-    const pieces = raw.split(/[\s,;]+/).map(normalizeDtc).filter(Boolean);
+    const pieces = raw
+      .split(/[\s,;]+/)
+      .map(normalizeDtc)
+      .filter(Boolean);
     if (pieces.length === 0) return true;
     const next = [...value];
     const refused: string[] = [];

@@ -43,7 +43,8 @@ export function PhotoUploader({
   const [refusals, setRefusals] = useState<string[]>([]);
   const seq = useRef(0);
 
-  const patch = (key: string, p: Partial<Item>) => setItems((xs) => xs.map((x) => (x.key === key ? { ...x, ...p } : x)));
+  const patch = (key: string, p: Partial<Item>) =>
+    setItems((xs) => xs.map((x) => (x.key === key ? { ...x, ...p } : x)));
 
   async function start(files: File[]) {
     if (!files.length) return;
@@ -127,18 +128,20 @@ export function PhotoUploader({
       ) : null}
 
       {!disabled ? (
-      <div
-        {...getRootProps({
-          className: `flex min-h-24 cursor-pointer flex-col items-center justify-center rounded-xl border-2 border-dashed px-4 py-5 text-center ${
-            isDragActive ? "border-kiln-500 bg-kiln-50" : "border-ink-300 bg-ink-50 hover:border-kiln-400"
-          } ${disabled ? "pointer-events-none opacity-50" : ""}`,
-          "aria-label": "Add photos: JPEG, PNG or WebP, up to 15 MB each",
-        })}
-      >
-        <input {...getInputProps()} />
-        <p className="font-semibold text-ink-800">{isDragActive ? "Drop the photos here" : "Add photos"}</p>
-        <p className="text-sm text-ink-500">Tap to choose or take a picture, or drop files. JPEG, PNG or WebP, up to 15 MB.</p>
-      </div>
+        <div
+          {...getRootProps({
+            className: `flex min-h-24 cursor-pointer flex-col items-center justify-center rounded-xl border-2 border-dashed px-4 py-5 text-center ${
+              isDragActive ? "border-kiln-500 bg-kiln-50" : "border-ink-300 bg-ink-50 hover:border-kiln-400"
+            } ${disabled ? "pointer-events-none opacity-50" : ""}`,
+            "aria-label": "Add photos: JPEG, PNG or WebP, up to 15 MB each",
+          })}
+        >
+          <input {...getInputProps()} />
+          <p className="font-semibold text-ink-800">{isDragActive ? "Drop the photos here" : "Add photos"}</p>
+          <p className="text-sm text-ink-500">
+            Tap to choose or take a picture, or drop files. JPEG, PNG or WebP, up to 15 MB.
+          </p>
+        </div>
       ) : null}
 
       {refusals.length ? (
@@ -149,40 +152,46 @@ export function PhotoUploader({
         </ul>
       ) : null}
 
-      {items.length ? (
-        <ul className="space-y-2" aria-label="Photo uploads">
-          {items.map((it) => (
-            <li key={it.key} className="rounded-lg border border-ink-200 bg-white px-3 py-2 text-sm">
-              <div className="flex items-center gap-2">
-                <span className="min-w-0 flex-1 truncate font-semibold">{it.file.name}</span>
-                <span className="text-ink-500">{formatBytes(it.file.size)}</span>
-                {it.state === "uploading" ? (
-                  <button type="button" className={buttonClass.quiet} onClick={() => it.abort.abort()}>
-                    Cancel
-                  </button>
-                ) : it.state === "error" ? (
-                  <button type="button" className={buttonClass.quiet} onClick={() => setItems((xs) => xs.filter((x) => x.key !== it.key))}>
-                    Dismiss
-                  </button>
-                ) : null}
-              </div>
-              {it.state === "error" ? (
-                <p role="alert" className="font-semibold text-alarm-600">
-                  {it.error}
-                </p>
-              ) : (
-                <progress
-                  className="mt-1 h-2 w-full accent-kiln-500"
-                  max={1}
-                  value={it.progress}
-                  aria-label={`Uploading ${it.file.name}`}
-                />
-              )}
-              {it.state === "done" ? <p className="text-verdigris-600">Uploaded.</p> : null}
-            </li>
-          ))}
-        </ul>
-      ) : null}
+      <PhotoUploadList items={items} onDismiss={(key) => setItems((xs) => xs.filter((x) => x.key !== key))} />
     </div>
+  );
+}
+
+/** The photos being sent: each with its progress and a cancel, or its refusal and a dismiss. */
+function PhotoUploadList({ items, onDismiss }: { items: Item[]; onDismiss: (key: string) => void }) {
+  if (!items.length) return null;
+  return (
+    <ul className="space-y-2" aria-label="Photo uploads">
+      {items.map((it) => (
+        <li key={it.key} className="rounded-lg border border-ink-200 bg-white px-3 py-2 text-sm">
+          <div className="flex items-center gap-2">
+            <span className="min-w-0 flex-1 truncate font-semibold">{it.file.name}</span>
+            <span className="text-ink-500">{formatBytes(it.file.size)}</span>
+            {it.state === "uploading" ? (
+              <button type="button" className={buttonClass.quiet} onClick={() => it.abort.abort()}>
+                Cancel
+              </button>
+            ) : it.state === "error" ? (
+              <button type="button" className={buttonClass.quiet} onClick={() => onDismiss(it.key)}>
+                Dismiss
+              </button>
+            ) : null}
+          </div>
+          {it.state === "error" ? (
+            <p role="alert" className="font-semibold text-alarm-600">
+              {it.error}
+            </p>
+          ) : (
+            <progress
+              className="mt-1 h-2 w-full accent-kiln-500"
+              max={1}
+              value={it.progress}
+              aria-label={`Uploading ${it.file.name}`}
+            />
+          )}
+          {it.state === "done" ? <p className="text-verdigris-600">Uploaded.</p> : null}
+        </li>
+      ))}
+    </ul>
   );
 }

@@ -31,7 +31,10 @@ function dur(s: number): string {
 function findingsCount(analysis: unknown): { problems: number; warnings: number } | null {
   const f = (analysis as { findings?: { severity?: string }[] } | null)?.findings;
   if (!Array.isArray(f)) return null;
-  return { problems: f.filter((x) => x.severity === "problem").length, warnings: f.filter((x) => x.severity === "warning").length };
+  return {
+    problems: f.filter((x) => x.severity === "problem").length,
+    warnings: f.filter((x) => x.severity === "warning").length,
+  };
 }
 
 /** A compact list of a case's traces (the draft page), with a remove button when allowed. */
@@ -49,12 +52,18 @@ export function TraceList({ traces, onDelete }: { traces: CaseTrace[]; onDelete?
                 {traceLabel(t) !== t.name ? <span className="ml-2 font-normal text-ink-500">{t.name}</span> : null}
               </p>
               <p className="text-sm text-ink-600">
-                {traceKindName(t.kind)} · {t.samples.toLocaleString("en-US")} samples · {rate(t.sampleRateHz)} · {dur(t.durationS)}
+                {traceKindName(t.kind)} · {t.samples.toLocaleString("en-US")} samples · {rate(t.sampleRateHz)} ·{" "}
+                {dur(t.durationS)}
                 {t.bytes ? ` · ${formatBytes(t.bytes)}` : ""}
               </p>
               {fc && (fc.problems || fc.warnings) ? (
                 <p className="text-sm font-semibold text-kiln-700">
-                  {[fc.problems ? `${fc.problems} problem${fc.problems > 1 ? "s" : ""}` : "", fc.warnings ? `${fc.warnings} to check` : ""].filter(Boolean).join(", ")}
+                  {[
+                    fc.problems ? `${fc.problems} problem${fc.problems > 1 ? "s" : ""}` : "",
+                    fc.warnings ? `${fc.warnings} to check` : "",
+                  ]
+                    .filter(Boolean)
+                    .join(", ")}
                 </p>
               ) : null}
             </div>

@@ -1,4 +1,4 @@
-import { scopeSetting, type ChannelUnits } from "../../traces/lib/units";
+import { scopeSetting, type ChannelUnits } from "../../../lib/trace-units";
 
 const probeNames: Record<string, string> = {
   "capacitive-secondary": "Capacitive pickup",
@@ -22,7 +22,15 @@ function si(x: number, unit: string): string {
  * division and the trigger level are in the scope's unit (as typed on the scope), with the physical
  * value beside them when a probe scale applies (shared/trace/units scopeSetting).
  */
-export function TraceSettingsSummary({ settings, unit = "V", units }: { settings: Record<string, unknown>; unit?: string; units?: ChannelUnits }) {
+export function TraceSettingsSummary({
+  settings,
+  unit = "V",
+  units,
+}: {
+  settings: Record<string, unknown>;
+  unit?: string;
+  units?: ChannelUnits;
+}) {
   const s = settings as Record<string, number | string | boolean | undefined>;
   const chips: string[] = [];
   if (typeof s.probe === "string") {
@@ -31,12 +39,20 @@ export function TraceSettingsSummary({ settings, unit = "V", units }: { settings
     if (s.probe === "current-clamp" && typeof s.mvPerAmp === "number") p += ` (${s.mvPerAmp} mV/A)`;
     chips.push(p);
   }
-  if (typeof s.voltsPerDiv === "number") chips.push(units ? scopeSetting(s.voltsPerDiv, units, "div") : `${Number(s.voltsPerDiv.toPrecision(3))} ${unit}/div`);
+  if (typeof s.voltsPerDiv === "number")
+    chips.push(
+      units ? scopeSetting(s.voltsPerDiv, units, "div") : `${Number(s.voltsPerDiv.toPrecision(3))} ${unit}/div`,
+    );
   if (typeof s.timePerDivS === "number") chips.push(`${si(s.timePerDivS, "s")}/div`);
-  if (typeof s.groundOffsetDiv === "number" && s.groundOffsetDiv !== 0) chips.push(`ground ${s.groundOffsetDiv > 0 ? "+" : ""}${s.groundOffsetDiv} div`);
+  if (typeof s.groundOffsetDiv === "number" && s.groundOffsetDiv !== 0)
+    chips.push(`ground ${s.groundOffsetDiv > 0 ? "+" : ""}${s.groundOffsetDiv} div`);
   const trig = [
     typeof s.triggerSource === "string" ? `trigger ${s.triggerSource}` : "trigger",
-    typeof s.triggerLevel === "number" ? (units ? scopeSetting(s.triggerLevel, units) : `${s.triggerLevel} ${unit}`) : null,
+    typeof s.triggerLevel === "number"
+      ? units
+        ? scopeSetting(s.triggerLevel, units)
+        : `${s.triggerLevel} ${unit}`
+      : null,
     typeof s.triggerSlope === "string" ? (s.triggerSlope === "falling" ? "falling" : "rising") : null,
     typeof s.triggerMode === "string" ? s.triggerMode : null,
   ].filter(Boolean);

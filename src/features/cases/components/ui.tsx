@@ -15,12 +15,26 @@ export const buttonClass = {
     "inline-flex min-h-11 items-center justify-center gap-2 rounded-lg bg-kiln-500 px-4 py-2 font-semibold text-ink-950 shadow-sm hover:bg-kiln-400 disabled:opacity-50 disabled:cursor-not-allowed",
   secondary:
     "inline-flex min-h-11 items-center justify-center gap-2 rounded-lg border border-ink-300 bg-white px-4 py-2 font-semibold text-ink-800 hover:bg-ink-50 disabled:opacity-50 disabled:cursor-not-allowed",
-  quiet: "inline-flex min-h-11 items-center justify-center gap-2 rounded-lg px-3 py-2 font-semibold text-ink-700 hover:bg-ink-100",
+  quiet:
+    "inline-flex min-h-11 items-center justify-center gap-2 rounded-lg px-3 py-2 font-semibold text-ink-700 hover:bg-ink-100",
 };
 
-export function Section({ title, children, description, id }: { title: string; description?: ReactNode; children: ReactNode; id?: string }) {
+export function Section({
+  title,
+  children,
+  description,
+  id,
+}: {
+  title: string;
+  description?: ReactNode;
+  children: ReactNode;
+  id?: string;
+}) {
   return (
-    <section aria-labelledby={id ? `${id}-title` : undefined} className="min-w-0 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5">
+    <section
+      aria-labelledby={id ? `${id}-title` : undefined}
+      className="min-w-0 rounded-xl border border-ink-200 bg-white p-4 shadow-sm sm:p-5"
+    >
       <h2 id={id ? `${id}-title` : undefined} className="text-lg font-bold text-ink-900">
         {title}
       </h2>
@@ -62,7 +76,9 @@ export function ChoiceBox({ children, checked }: { children: ReactNode; checked?
   return (
     <label
       className={`flex min-h-11 cursor-pointer items-center gap-3 rounded-lg border px-3 py-2 text-sm has-[:focus-visible]:ring-2 has-[:focus-visible]:ring-kiln-400 ${
-        checked ? "border-kiln-500 bg-kiln-50 text-ink-900" : "border-ink-200 bg-white text-ink-700 hover:border-ink-300"
+        checked
+          ? "border-kiln-500 bg-kiln-50 text-ink-900"
+          : "border-ink-200 bg-white text-ink-700 hover:border-ink-300"
       }`}
     >
       {children}

@@ -38,7 +38,9 @@ export function VinField() {
   }, [vin, decoded, getValues, setValue, formState.isSubmitted]);
 
   // Errors: show character problems at once, the length only once the tech has left the field.
-  const liveErrors = (check?.errors ?? []).filter((e) => e.code !== "empty" && (e.code !== "length" || blurred || vin.length > 17));
+  const liveErrors = (check?.errors ?? []).filter(
+    (e) => e.code !== "empty" && (e.code !== "length" || blurred || vin.length > 17),
+  );
   const schemaError = formState.errors.vehicle?.vin?.message;
   const errorText = schemaError ?? (liveErrors.length ? liveErrors.map((e) => e.message).join(" ") : undefined);
   const warning = check?.warnings.find((w) => w.code === "check-digit");
@@ -79,7 +81,10 @@ export function VinField() {
       <FieldError id={errId} message={errorText} />
 
       {decoded ? (
-        <dl className="mt-2 grid grid-cols-2 gap-x-4 gap-y-1 rounded-lg bg-ink-50 px-3 py-2 text-sm sm:grid-cols-4" aria-label="Decoded from the VIN">
+        <dl
+          className="mt-2 grid grid-cols-2 gap-x-4 gap-y-1 rounded-lg bg-ink-50 px-3 py-2 text-sm sm:grid-cols-4"
+          aria-label="Decoded from the VIN"
+        >
           <div>
             <dt className="text-ink-500">Model year</dt>
             <dd className="font-semibold">{decoded.modelYear ?? decoded.modelYearCandidates.join(" or ")}</dd>
@@ -108,10 +113,12 @@ export function VinField() {
             {warning.message}
           </p>
           <label className="mt-2 flex min-h-11 cursor-pointer items-center gap-3 font-semibold">
-            <input type="checkbox" className="h-5 w-5 accent-kiln-600" {...register("vehicle.vinCheckOverride")} />
-            I checked it against the vehicle — keep this VIN
+            <input type="checkbox" className="h-5 w-5 accent-kiln-600" {...register("vehicle.vinCheckOverride")} />I
+            checked it against the vehicle — keep this VIN
           </label>
-          {override ? <p className="text-verdigris-600">Kept as written; the warning is recorded on the case.</p> : null}
+          {override ? (
+            <p className="text-verdigris-600">Kept as written; the warning is recorded on the case.</p>
+          ) : null}
         </div>
       ) : null}
     </div>

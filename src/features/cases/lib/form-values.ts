@@ -105,7 +105,10 @@ export function toFormPath(path: string | (string | number)[]): FormFieldPath | 
 }
 
 /** The field messages of an API error, split into those the form can show and the rest. */
-export function splitServerErrors(err: ApiError): { fields: { path: FormFieldPath; message: string }[]; other: string[] } {
+export function splitServerErrors(err: ApiError): {
+  fields: { path: FormFieldPath; message: string }[];
+  other: string[];
+} {
   const fields: { path: FormFieldPath; message: string }[] = [];
   const other: string[] = [];
   for (const f of err.details?.fields ?? []) {

@@ -41,11 +41,18 @@ export const systemLabels: Record<VehicleSystem, string> = {
 };
 
 export const temperatureLabels: Record<string, string> = { cold: "Cold engine", hot: "Hot engine", any: "Cold or hot" };
-export const loadLabels: Record<string, string> = { idle: "Idle", cruise: "Cruise", load: "Under load", any: "Any load" };
+export const loadLabels: Record<string, string> = {
+  idle: "Idle",
+  cruise: "Cruise",
+  load: "Under load",
+  any: "Any load",
+};
 export const occurrenceLabels: Record<string, string> = { intermittent: "Intermittent", constant: "Constant" };
 
 /** "2019 Veltra Sorrel" (invented make and model) from whatever parts are known. */
-export function vehicleTitle(v: { year?: number | null; make?: string | null; model?: string | null } | null | undefined): string {
+export function vehicleTitle(
+  v: { year?: number | null; make?: string | null; model?: string | null } | null | undefined,
+): string {
   const parts = [v?.year, v?.make, v?.model].filter((x) => x !== null && x !== undefined && String(x).trim() !== "");
   return parts.length ? parts.join(" ") : "Vehicle not entered yet";
 }

@@ -12,12 +12,21 @@ export const payoutOverviewQuery = queryOptions({ queryKey: earningsKeys.adminPa
 export const usePayoutOverview = () => useQuery(payoutOverviewQuery);
 
 export const runPayouts = (expertId?: string) =>
-  api.post<{ payouts: { id: string; expertId: string; amountCents: number; status: string; transferId: string | null; failureMessage: string | null }[] }>(
-    earningsPaths.adminPayouts,
-    payoutRunSchema.parse({ expertId }),
-  );
+  api.post<{
+    payouts: {
+      id: string;
+      expertId: string;
+      amountCents: number;
+      status: string;
+      transferId: string | null;
+      failureMessage: string | null;
+    }[];
+  }>(earningsPaths.adminPayouts, payoutRunSchema.parse({ expertId }));
 
 export function useRunPayouts() {
   const qc = useQueryClient();
-  return useMutation({ mutationFn: (expertId?: string) => runPayouts(expertId), onSettled: () => qc.invalidateQueries({ queryKey: earningsKeys.adminPayouts }) });
+  return useMutation({
+    mutationFn: (expertId?: string) => runPayouts(expertId),
+    onSettled: () => qc.invalidateQueries({ queryKey: earningsKeys.adminPayouts }),
+  });
 }

@@ -11,13 +11,20 @@ export function PayoutsAdmin({ currency = "usd" }: { currency?: string }) {
     <Card
       title="Payouts to experts"
       actions={
-        <button type="button" className={buttonClass.primary} disabled={run.isPending} onClick={() => run.mutate(undefined)}>
+        <button
+          type="button"
+          className={buttonClass.primary}
+          disabled={run.isPending}
+          onClick={() => run.mutate(undefined)}
+        >
           {run.isPending ? "Paying out…" : "Pay out everything owed"}
         </button>
       }
     >
       {run.data ? (
-        <Notice tone="success">{run.data.payouts.length ? `${run.data.payouts.length} payout(s) made.` : "Nothing was owed."}</Notice>
+        <Notice tone="success">
+          {run.data.payouts.length ? `${run.data.payouts.length} payout(s) made.` : "Nothing was owed."}
+        </Notice>
       ) : null}
       {run.error ? <Notice tone="error">{run.error.message}</Notice> : null}
       {q.data ? (

@@ -5,12 +5,16 @@ import { expertKeys, expertPaths } from "./paths";
 import type { ExpertProfile } from "./types";
 
 export const decideExpert = (userId: string, verb: "approve" | "reject", note?: string) =>
-  api.post<{ profile: ExpertProfile }>(expertPaths.decide(userId, verb), expertDecisionSchema.parse({ note: note || undefined }));
+  api.post<{ profile: ExpertProfile }>(
+    expertPaths.decide(userId, verb),
+    expertDecisionSchema.parse({ note: note || undefined }),
+  );
 
 export function useDecideExpert() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (v: { userId: string; verb: "approve" | "reject"; note?: string }) => decideExpert(v.userId, v.verb, v.note),
+    mutationFn: (v: { userId: string; verb: "approve" | "reject"; note?: string }) =>
+      decideExpert(v.userId, v.verb, v.note),
     onSuccess: () => qc.invalidateQueries({ queryKey: expertKeys.all }),
   });
 }

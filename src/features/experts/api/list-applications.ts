@@ -11,8 +11,10 @@ export interface ExpertApplication extends ExpertProfile {
   abilities: ExpertAbilities;
 }
 
-export const listApplications = (status: ExpertStatus) => api.get<{ experts: ExpertApplication[] }>(expertPaths.list(status));
+export const listApplications = (status: ExpertStatus) =>
+  api.get<{ experts: ExpertApplication[] }>(expertPaths.list(status));
 
-export const applicationsQuery = (status: ExpertStatus) => queryOptions({ queryKey: expertKeys.list(status), queryFn: () => listApplications(status) });
+export const applicationsQuery = (status: ExpertStatus) =>
+  queryOptions({ queryKey: expertKeys.list(status), queryFn: () => listApplications(status) });
 
 export const useExpertApplications = (status: ExpertStatus) => useQuery(applicationsQuery(status));

@@ -5,7 +5,10 @@ import { expertKeys, expertPaths } from "./paths";
 import type { ExpertAbilities, ExpertProfile } from "./types";
 
 export const setAvailability = (available: boolean) =>
-  api.patch<{ profile: ExpertProfile; abilities: ExpertAbilities }>(expertPaths.me, expertAvailabilitySchema.parse({ available }));
+  api.patch<{ profile: ExpertProfile; abilities: ExpertAbilities }>(
+    expertPaths.me,
+    expertAvailabilitySchema.parse({ available }),
+  );
 
 export function useSetAvailability() {
   const qc = useQueryClient();

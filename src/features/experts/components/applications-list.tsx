@@ -16,7 +16,8 @@ function ApplicationItem({ e }: { e: ExpertApplication }) {
         <span className="text-sm text-ink-600">{statusLabel[e.status]}</span>
       </div>
       <p className="break-all text-sm text-ink-600">
-        {e.email} {e.emailVerified ? "" : <span className="font-semibold text-alarm-600">(e-mail not confirmed yet)</span>}
+        {e.email}{" "}
+        {e.emailVerified ? "" : <span className="font-semibold text-alarm-600">(e-mail not confirmed yet)</span>}
       </p>
       <dl className="mt-3 grid gap-x-6 gap-y-1 text-sm sm:grid-cols-[auto_1fr]">
         <dt className="font-semibold text-ink-700">Systems</dt>
@@ -32,20 +33,40 @@ function ApplicationItem({ e }: { e: ExpertApplication }) {
           <label htmlFor={noteId} className="block text-sm font-semibold text-ink-800">
             Note to the applicant <span className="font-normal text-ink-500">(optional, goes into the e-mail)</span>
           </label>
-          <input id={noteId} className={inputClass} value={note} maxLength={1000} onChange={(ev) => setNote(ev.target.value)} />
+          <input
+            id={noteId}
+            className={inputClass}
+            value={note}
+            maxLength={1000}
+            onChange={(ev) => setNote(ev.target.value)}
+          />
           <div className="flex flex-wrap gap-2">
             {e.status !== "approved" ? (
-              <button type="button" className={buttonClass.primary} disabled={decide.isPending} onClick={() => decide.mutate({ userId: e.userId, verb: "approve", note })}>
+              <button
+                type="button"
+                className={buttonClass.primary}
+                disabled={decide.isPending}
+                onClick={() => decide.mutate({ userId: e.userId, verb: "approve", note })}
+              >
                 Approve {e.name}
               </button>
             ) : null}
             {e.status !== "rejected" ? (
-              <button type="button" className={buttonClass.danger} disabled={decide.isPending} onClick={() => decide.mutate({ userId: e.userId, verb: "reject", note })}>
+              <button
+                type="button"
+                className={buttonClass.danger}
+                disabled={decide.isPending}
+                onClick={() => decide.mutate({ userId: e.userId, verb: "reject", note })}
+              >
                 Reject
               </button>
             ) : null}
           </div>
-          {decide.isError ? <p role="alert" className="text-sm font-semibold text-alarm-600">{decide.error.message}</p> : null}
+          {decide.isError ? (
+            <p role="alert" className="text-sm font-semibold text-alarm-600">
+              {decide.error.message}
+            </p>
+          ) : null}
         </div>
       ) : null}
     </li>
@@ -56,8 +77,18 @@ function ApplicationItem({ e }: { e: ExpertApplication }) {
 export function ApplicationsList({ status }: { status: ExpertStatus }) {
   const q = useExpertApplications(status);
   if (q.isPending) return <p className="text-ink-500">Loading applications…</p>;
-  if (q.isError) return <Notice tone="error" title="Applications could not be loaded">{q.error.message}</Notice>;
-  if (q.data.experts.length === 0) return <p className="text-ink-600">{status === "pending" ? "No applications are waiting." : "No applications with this status."}</p>;
+  if (q.isError)
+    return (
+      <Notice tone="error" title="Applications could not be loaded">
+        {q.error.message}
+      </Notice>
+    );
+  if (q.data.experts.length === 0)
+    return (
+      <p className="text-ink-600">
+        {status === "pending" ? "No applications are waiting." : "No applications with this status."}
+      </p>
+    );
   return (
     <ul className="grid gap-3 lg:grid-cols-2">
       {q.data.experts.map((e) => (

@@ -10,13 +10,19 @@ export function ExpertStatusCard() {
   const q = useMyExpertProfile();
   const setAvail = useSetAvailability();
   if (q.isPending) return <p className="text-ink-500">Loading your profile…</p>;
-  if (q.isError) return <Notice tone="error" title="Your profile could not be loaded">{q.error.message}</Notice>;
+  if (q.isError)
+    return (
+      <Notice tone="error" title="Your profile could not be loaded">
+        {q.error.message}
+      </Notice>
+    );
   const { profile, abilities } = q.data;
   return (
     <div className="space-y-4">
       {profile.status === "pending" ? (
         <Notice tone="info" title="Your application is awaiting review">
-          The desk checks every application. You get an e-mail when it is decided; until then the queue stays closed to you.
+          The desk checks every application. You get an e-mail when it is decided; until then the queue stays closed to
+          you.
         </Notice>
       ) : null}
       {profile.status === "rejected" || profile.status === "suspended" ? (
@@ -36,12 +42,25 @@ export function ExpertStatusCard() {
         {abilities.setAvailability ? (
           <div className="mt-4 flex flex-wrap items-center gap-3 border-t border-ink-100 pt-4">
             <p className="text-sm" aria-live="polite">
-              You are <strong className={profile.available ? "text-verdigris-600" : "text-ink-700"}>{profile.available ? "available for new cases" : "away"}</strong>.
+              You are{" "}
+              <strong className={profile.available ? "text-verdigris-600" : "text-ink-700"}>
+                {profile.available ? "available for new cases" : "away"}
+              </strong>
+              .
             </p>
-            <button type="button" className={profile.available ? buttonClass.secondary : buttonClass.primary} disabled={setAvail.isPending} onClick={() => setAvail.mutate(!profile.available)}>
+            <button
+              type="button"
+              className={profile.available ? buttonClass.secondary : buttonClass.primary}
+              disabled={setAvail.isPending}
+              onClick={() => setAvail.mutate(!profile.available)}
+            >
               {profile.available ? "Set me away" : "Set me available"}
             </button>
-            {setAvail.isError ? <p role="alert" className="text-sm font-semibold text-alarm-600">{setAvail.error.message}</p> : null}
+            {setAvail.isError ? (
+              <p role="alert" className="text-sm font-semibold text-alarm-600">
+                {setAvail.error.message}
+              </p>
+            ) : null}
           </div>
         ) : null}
       </Card>

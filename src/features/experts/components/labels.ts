@@ -11,4 +11,9 @@ export const systemLabel: Record<VehicleSystem, string> = {
   other: "Other",
 };
 
-export const statusLabel: Record<ExpertStatus, string> = { pending: "Awaiting review", approved: "Approved", rejected: "Not approved", suspended: "Suspended" };
+export const statusLabel: Record<ExpertStatus, string> = {
+  pending: "Awaiting review",
+  approved: "Approved",
+  rejected: "Not approved",
+  suspended: "Suspended",
+};

@@ -28,7 +28,17 @@ export interface ChatPanelProps {
 }
 
 /** The case's chat: messages in order, requests for more data as cards, who is typing, the composer. */
-export function ChatPanel({ messages, participants, youId, abilities, onSend, onTyping, onDismiss, className, shown = true }: ChatPanelProps) {
+export function ChatPanel({
+  messages,
+  participants,
+  youId,
+  abilities,
+  onSend,
+  onTyping,
+  onDismiss,
+  className,
+  shown = true,
+}: ChatPanelProps) {
   const [text, setText] = useState("");
   const [asking, setAsking] = useState(false);
   const touch = useTouchScreen();
@@ -57,9 +67,17 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
   };
 
   return (
-    <section aria-label="Chat" className={`flex min-h-0 flex-col rounded-xl border border-ink-200 bg-white ${className ?? ""}`}>
+    <section
+      aria-label="Chat"
+      className={`flex min-h-0 flex-col rounded-xl border border-ink-200 bg-white ${className ?? ""}`}
+    >
       <h3 className="border-b border-ink-100 px-3 py-2 text-sm font-semibold text-ink-700">Chat</h3>
-      <ol ref={listRef} className="min-h-40 flex-1 space-y-3 overflow-y-auto px-3 py-3" aria-live="polite" aria-label="Messages">
+      <ol
+        ref={listRef}
+        className="min-h-40 flex-1 space-y-3 overflow-y-auto px-3 py-3"
+        aria-live="polite"
+        aria-label="Messages"
+      >
         {messages.length === 0 ? <li className="text-sm text-ink-500">No messages yet.</li> : null}
         {messages.map((m) => {
           const mine = m.authorId != null && m.authorId === youId;
@@ -77,7 +95,11 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
                 {m.kind === "data_request" && m.request ? (
                   <DataRequestCard request={m.request} text={m.text} authorName={mine ? null : m.authorName} />
                 ) : (
-                  <p className={`whitespace-pre-wrap rounded-lg px-3 py-2 text-sm ${mine ? "bg-ink-800 text-white" : "bg-ink-50 text-ink-900"}`}>{m.text}</p>
+                  <p
+                    className={`whitespace-pre-wrap rounded-lg px-3 py-2 text-sm ${mine ? "bg-ink-800 text-white" : "bg-ink-50 text-ink-900"}`}
+                  >
+                    {m.text}
+                  </p>
                 )}
               </div>
               {m.error && m.clientId ? (
@@ -125,7 +147,11 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
               onKeyDown={onKey}
               className="block min-h-11 w-full min-w-0 flex-1 resize-y rounded-lg border border-ink-300 px-3 py-2 text-base focus:border-kiln-500 focus:outline-none focus:ring-2 focus:ring-kiln-300"
             />
-            <button type="submit" disabled={!text.trim()} className="inline-flex min-h-11 items-center rounded-lg bg-kiln-500 px-4 font-semibold text-ink-950 hover:bg-kiln-400 disabled:opacity-50">
+            <button
+              type="submit"
+              disabled={!text.trim()}
+              className="inline-flex min-h-11 items-center rounded-lg bg-kiln-500 px-4 font-semibold text-ink-950 hover:bg-kiln-400 disabled:opacity-50"
+            >
               Send message
             </button>
           </form>
@@ -135,7 +161,11 @@ export function ChatPanel({ messages, participants, youId, abilities, onSend, on
             </p>
           )}
           {abilities.requestData && !asking ? (
-            <button type="button" onClick={() => setAsking(true)} className="inline-flex min-h-11 items-center rounded-lg border border-kiln-500 px-3 text-sm font-semibold text-kiln-700 hover:bg-kiln-50">
+            <button
+              type="button"
+              onClick={() => setAsking(true)}
+              className="inline-flex min-h-11 items-center rounded-lg border border-kiln-500 px-3 text-sm font-semibold text-kiln-700 hover:bg-kiln-50"
+            >
               Ask for more data…
             </button>
           ) : null}

@@ -6,7 +6,15 @@ export const CAPTURE_CAUTION =
   "Secondary ignition is tens of kilovolts: switch the ignition off before placing or moving a pickup and keep hands and leads clear of coils and plug wires while the engine runs. Follow the vehicle maker's procedure, local codes and licensed practice.";
 
 /** A request for more data as the tech reads it: which capture, which cylinder, which settings. */
-export function DataRequestCard({ request, text, authorName }: { request: DataRequest; text?: string; authorName?: string | null }) {
+export function DataRequestCard({
+  request,
+  text,
+  authorName,
+}: {
+  request: DataRequest;
+  text?: string;
+  authorName?: string | null;
+}) {
   const parts = requestParts(request);
   const s = request.settings ?? {};
   const rows: [string, string][] = [["Capture", parts[0]]];
@@ -16,7 +24,9 @@ export function DataRequestCard({ request, text, authorName }: { request: DataRe
   if (request.conditions) rows.push(["Conditions", request.conditions]);
   return (
     <div className="rounded-lg border-2 border-kiln-300 bg-kiln-50 p-3" aria-label="Request for more data">
-      <p className="text-sm font-bold text-kiln-700">{authorName ? `${authorName} asks for another capture` : "Another capture is requested"}</p>
+      <p className="text-sm font-bold text-kiln-700">
+        {authorName ? `${authorName} asks for another capture` : "Another capture is requested"}
+      </p>
       <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 gap-y-1 text-sm">
         {rows.map(([k, v]) => (
           <div key={k} className="contents">

@@ -26,7 +26,9 @@ export function FollowToggle({
       className={`inline-flex min-h-11 items-center gap-2 rounded-lg border px-3 text-sm font-semibold ${following ? "border-verdigris-600 bg-verdigris-600 text-white" : "border-ink-300 bg-white text-ink-800 hover:bg-ink-50"}`}
     >
       <span aria-hidden="true" className={`relative h-5 w-9 rounded-full ${following ? "bg-white/30" : "bg-ink-200"}`}>
-        <span className={`absolute top-0.5 h-4 w-4 rounded-full bg-white shadow transition-all ${following ? "left-4.5" : "left-0.5"}`} />
+        <span
+          className={`absolute top-0.5 h-4 w-4 rounded-full bg-white shadow transition-all ${following ? "left-4.5" : "left-0.5"}`}
+        />
       </span>
       {compact ? "Follow" : long}
     </button>

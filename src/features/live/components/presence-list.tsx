@@ -6,7 +6,15 @@ const ROLE: Record<string, string> = { technician: "Technician", owner: "Shop ow
  * Who is in the live review now, each in the colour of their marks; "typing…" beside whoever types.
  * `compact` (a phone): initials only, the names and roles kept for screen readers and as tooltips.
  */
-export function PresenceList({ participants, youId, compact = false }: { participants: Participant[]; youId?: string | null; compact?: boolean }) {
+export function PresenceList({
+  participants,
+  youId,
+  compact = false,
+}: {
+  participants: Participant[];
+  youId?: string | null;
+  compact?: boolean;
+}) {
   const nameOf = (p: Participant) => (p.userId === youId ? `${p.name} (you)` : p.name);
   return (
     <div className={compact ? "flex items-center gap-2" : undefined}>
@@ -19,9 +27,17 @@ export function PresenceList({ participants, youId, compact = false }: { partici
             <li
               key={p.userId}
               title={compact ? `${nameOf(p)} · ${ROLE[p.role] ?? p.role}` : undefined}
-              className={compact ? "relative" : "flex min-h-9 items-center gap-2 rounded-full border border-ink-200 bg-white py-1 pl-1 pr-3 text-sm"}
+              className={
+                compact
+                  ? "relative"
+                  : "flex min-h-9 items-center gap-2 rounded-full border border-ink-200 bg-white py-1 pl-1 pr-3 text-sm"
+              }
             >
-              <span aria-hidden="true" className="flex h-7 w-7 items-center justify-center rounded-full text-xs font-bold text-white" style={{ background: p.color }}>
+              <span
+                aria-hidden="true"
+                className="flex h-7 w-7 items-center justify-center rounded-full text-xs font-bold text-white"
+                style={{ background: p.color }}
+              >
                 {p.name.trim().charAt(0).toUpperCase() || "?"}
               </span>
               <span className={compact ? "sr-only" : undefined}>
@@ -29,7 +45,12 @@ export function PresenceList({ participants, youId, compact = false }: { partici
                 <span className="text-ink-500"> · {ROLE[p.role] ?? p.role}</span>
                 {p.typing && p.userId !== youId ? <span className="text-kiln-700"> · typing…</span> : null}
               </span>
-              {compact && p.typing && p.userId !== youId ? <span aria-hidden="true" className="absolute -right-0.5 -bottom-0.5 h-2.5 w-2.5 rounded-full bg-kiln-500 ring-2 ring-white" /> : null}
+              {compact && p.typing && p.userId !== youId ? (
+                <span
+                  aria-hidden="true"
+                  className="absolute -right-0.5 -bottom-0.5 h-2.5 w-2.5 rounded-full bg-kiln-500 ring-2 ring-white"
+                />
+              ) : null}
             </li>
           ))}
         </ul>

@@ -27,7 +27,10 @@ export function ReviewSheet({ tabs, open, onOpen, label }: ReviewSheetProps) {
   return (
     <>
       {open == null ? (
-        <nav aria-label={label} className="fixed inset-x-0 bottom-0 z-30 border-t border-ink-200 bg-white/95 px-3 pt-2 pb-[max(0.5rem,env(safe-area-inset-bottom))] shadow-[0_-4px_16px_rgba(18,26,32,0.12)] backdrop-blur">
+        <nav
+          aria-label={label}
+          className="fixed inset-x-0 bottom-0 z-30 border-t border-ink-200 bg-white/95 px-3 pt-2 pb-[max(0.5rem,env(safe-area-inset-bottom))] shadow-[0_-4px_16px_rgba(18,26,32,0.12)] backdrop-blur"
+        >
           <div className="mx-auto flex max-w-3xl gap-2">
             {tabs.map((t) => (
               <button
@@ -39,7 +42,9 @@ export function ReviewSheet({ tabs, open, onOpen, label }: ReviewSheetProps) {
                 className="inline-flex min-h-11 flex-1 items-center justify-center gap-2 rounded-lg border border-ink-300 bg-white px-3 font-semibold text-ink-900 hover:bg-ink-50"
               >
                 {t.label}
-                {t.badge ? <span className="rounded-full bg-kiln-500 px-2 py-0.5 text-xs font-bold text-ink-950">{t.badge}</span> : null}
+                {t.badge ? (
+                  <span className="rounded-full bg-kiln-500 px-2 py-0.5 text-xs font-bold text-ink-950">{t.badge}</span>
+                ) : null}
               </button>
             ))}
           </div>
@@ -66,16 +71,30 @@ export function ReviewSheet({ tabs, open, onOpen, label }: ReviewSheetProps) {
                 className={`min-h-10 rounded-md px-3 text-sm font-semibold ${open === t.id ? "bg-ink-800 text-white" : "bg-ink-50 text-ink-800 hover:bg-ink-100"}`}
               >
                 {t.label}
-                {t.badge && open !== t.id ? <span className="ml-1.5 rounded-full bg-kiln-500 px-1.5 text-xs text-ink-950">{t.badge}</span> : null}
+                {t.badge && open !== t.id ? (
+                  <span className="ml-1.5 rounded-full bg-kiln-500 px-1.5 text-xs text-ink-950">{t.badge}</span>
+                ) : null}
               </button>
             ))}
           </div>
-          <button type="button" onClick={() => onOpen(null)} className="min-h-10 rounded-md px-3 text-sm font-semibold text-ink-700 hover:bg-ink-100" aria-label="Lower the panel">
+          <button
+            type="button"
+            onClick={() => onOpen(null)}
+            className="min-h-10 rounded-md px-3 text-sm font-semibold text-ink-700 hover:bg-ink-100"
+            aria-label="Lower the panel"
+          >
             Close
           </button>
         </div>
         {tabs.map((t) => (
-          <div key={t.id} id={`${id}-${t.id}`} role="tabpanel" aria-labelledby={`${id}-tab-${t.id}`} hidden={open !== t.id} className="min-h-0 flex-1 overflow-y-auto p-3">
+          <div
+            key={t.id}
+            id={`${id}-${t.id}`}
+            role="tabpanel"
+            aria-labelledby={`${id}-tab-${t.id}`}
+            hidden={open !== t.id}
+            className="min-h-0 flex-1 overflow-y-auto p-3"
+          >
             {t.content}
           </div>
         ))}

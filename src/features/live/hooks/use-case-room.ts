@@ -1,6 +1,12 @@
 import { useEffect, useLayoutEffect, useMemo, useRef, useSyncExternalStore } from "react";
 import { createLiveSocket, type LiveSocket } from "../../../lib/socket";
-import { RoomStore, type ApplyResult, type PendingMark, type PendingMessage, type RoomSnapshot } from "../lib/room-state";
+import {
+  RoomStore,
+  type ApplyResult,
+  type PendingMark,
+  type PendingMessage,
+  type RoomSnapshot,
+} from "../lib/room-state";
 import { newClientId } from "../lib/client-id";
 import type { AnnotationCreate, AnnotationUpdate, DataRequest } from "../../../../shared/schemas/realtime";
 import type {
@@ -92,11 +98,15 @@ function sendMark(link: Link, store: RoomStore, p: PendingMark): void {
 function sendMsg(link: Link, store: RoomStore, p: PendingMessage): void {
   const s = link.socket;
   if (!s || !link.joined) return;
-  s.timeout(ACK_TIMEOUT_MS).emit("chat:send", { text: p.text, ...(p.request ? { request: p.request } : {}), clientId: p.clientId }, (err, res) => {
-    if (err) return;
-    if (res.ok) store.applyMessage(res.message);
-    else store.failPending(p.clientId, res.error.message);
-  });
+  s.timeout(ACK_TIMEOUT_MS).emit(
+    "chat:send",
+    { text: p.text, ...(p.request ? { request: p.request } : {}), clientId: p.clientId },
+    (err, res) => {
+      if (err) return;
+      if (res.ok) store.applyMessage(res.message);
+      else store.failPending(p.clientId, res.error.message);
+    },
+  );
 }
 
 /** Joins (again) with `since` = the last seq applied; sends what is still unsent once joined. */
@@ -138,14 +148,21 @@ function connectRoom(caseId: string, store: RoomStore, link: Link, opts: () => U
   socket.on("disconnect", (reason) => {
     link.joined = false;
     if (reason === "io server disconnect") {
-      store.setConnection("ended", { code: "disconnected", message: "The server closed the live connection: you were signed out or no longer have access to this case." });
+      store.setConnection("ended", {
+        code: "disconnected",
+        message: "The server closed the live connection: you were signed out or no longer have access to this case.",
+      });
     } else if (reason !== "io client disconnect") {
       store.setConnection("reconnecting");
     }
   });
   socket.on("connect_error", (err) => {
     const data = (err as Error & { data?: { code?: string; message?: string } }).data;
-    if (!socket.active) store.setConnection("ended", { code: data?.code ?? "refused", message: data?.message ?? "The live connection was refused. Sign in again." });
+    if (!socket.active)
+      store.setConnection("ended", {
+        code: data?.code ?? "refused",
+        message: data?.message ?? "The live connection was refused. Sign in again.",
+      });
     else store.setConnection(store.getSnapshot().connection === "connecting" ? "connecting" : "reconnecting");
   });
   socket.on("annotation:created", (a) => check(store.applyAnnotation(a)));
@@ -173,12 +190,28 @@ function connectRoom(caseId: string, store: RoomStore, link: Link, opts: () => U
 }
 
 /** An update or removal of a mark, answered by the server's acknowledgement. */
-function ask<E extends "annotation:update" | "annotation:delete">(link: Link, store: RoomStore, event: E, payload: E extends "annotation:update" ? AnnotationUpdate : { id: string }) {
+function ask<E extends "annotation:update" | "annotation:delete">(
+  link: Link,
+  store: RoomStore,
+  event: E,
+  payload: E extends "annotation:update" ? AnnotationUpdate : { id: string },
+) {
   return new Promise<AnnotationAck>((resolve) => {
     const s = link.socket;
-    if (!s || !link.joined) return resolve({ ok: false, error: { code: "offline", message: "Not connected: try again when the connection is back." } });
-    (s.timeout(ACK_TIMEOUT_MS).emit as (e: string, p: unknown, cb: (err: Error | null, res: AnnotationAck) => void) => void)(event, payload, (err, res) => {
-      if (err) return resolve({ ok: false, error: { code: "timeout", message: "No answer from the server: try again." } });
+    if (!s || !link.joined)
+      return resolve({
+        ok: false,
+        error: { code: "offline", message: "Not connected: try again when the connection is back." },
+      });
+    (
+      s.timeout(ACK_TIMEOUT_MS).emit as (
+        e: string,
+        p: unknown,
+        cb: (err: Error | null, res: AnnotationAck) => void,
+      ) => void
+    )(event, payload, (err, res) => {
+      if (err)
+        return resolve({ ok: false, error: { code: "timeout", message: "No answer from the server: try again." } });
       if (res.ok) store.applyAnnotation(res.annotation);
       resolve(res);
     });

@@ -23,10 +23,22 @@ export function useFollow(remoteView: ViewPayload | null, myRole: Role | undefin
   if (state.shop !== shop) setState({ shop, following: shop });
   const following = state.following;
   const setFollowing = (on: boolean) => setState((s) => ({ ...s, following: on }));
-  const fromOtherSide = remoteView && (shop ? remoteView.role === "expert" || remoteView.role === "admin" : remoteView.role === "technician" || remoteView.role === "owner");
+  const fromOtherSide =
+    remoteView &&
+    (shop
+      ? remoteView.role === "expert" || remoteView.role === "admin"
+      : remoteView.role === "technician" || remoteView.role === "owner");
   const viewWindow = useMemo(
-    () => (following && fromOtherSide && remoteView ? { traceId: remoteView.traceId, t0: remoteView.t0, t1: remoteView.t1 } : null),
+    () =>
+      following && fromOtherSide && remoteView
+        ? { traceId: remoteView.traceId, t0: remoteView.t0, t1: remoteView.t1 }
+        : null,
     [following, fromOtherSide, remoteView],
   );
-  return { following, setFollowing, viewWindow, leader: fromOtherSide && remoteView ? { name: remoteView.name, role: remoteView.role } : null };
+  return {
+    following,
+    setFollowing,
+    viewWindow,
+    leader: fromOtherSide && remoteView ? { name: remoteView.name, role: remoteView.role } : null,
+  };
 }

@@ -27,11 +27,23 @@ export function requestParts(r: DataRequest): string[] {
   const out = [captureName(r.capture)];
   if (r.cylinder != null) out.push(`cylinder ${r.cylinder}`);
   const s = r.settings ?? {};
-  if (s.probe) out.push({ "capacitive-secondary": "capacitive pickup", direct: "direct probe", x10: "×10 probe", "current-clamp": "current clamp" }[s.probe]);
+  if (s.probe)
+    out.push(
+      {
+        "capacitive-secondary": "capacitive pickup",
+        direct: "direct probe",
+        x10: "×10 probe",
+        "current-clamp": "current clamp",
+      }[s.probe],
+    );
   if (s.voltsPerDiv != null) out.push(`${formatVolts(s.voltsPerDiv)}/div`);
   if (s.timePerDivS != null) out.push(`${formatSeconds(s.timePerDivS)}/div`);
   if (s.triggerLevel != null || s.triggerSlope) {
-    out.push(`trigger ${s.triggerSlope ?? ""}${s.triggerLevel != null ? ` at ${formatVolts(s.triggerLevel)}` : ""}`.replace(/\s+/g, " ").trim());
+    out.push(
+      `trigger ${s.triggerSlope ?? ""}${s.triggerLevel != null ? ` at ${formatVolts(s.triggerLevel)}` : ""}`
+        .replace(/\s+/g, " ")
+        .trim(),
+    );
   }
   if (s.triggerMode) out.push(`${s.triggerMode} trigger mode`);
   if (s.coupling) out.push(`${s.coupling.toUpperCase()} coupling`);

@@ -1,5 +1,14 @@
 import type { AnnotationCreate, DataRequest } from "../../../../shared/schemas/realtime";
-import type { AnnotationRecord, EventError, JoinOk, LiveAbilities, MessageRecord, Participant, PointerPayload, ViewPayload } from "../../../../shared/realtime";
+import type {
+  AnnotationRecord,
+  EventError,
+  JoinOk,
+  LiveAbilities,
+  MessageRecord,
+  Participant,
+  PointerPayload,
+  ViewPayload,
+} from "../../../../shared/realtime";
 
 /**
  * The client's copy of a case's live record, kept outside React so socket callbacks apply records
@@ -224,7 +233,15 @@ export class RoomStore {
   setPointer(p: PointerPayload): void {
     if (p.userId === this.you?.userId) return;
     if (p.traceId === null || p.t == null || p.v == null) this.pointers.delete(p.userId);
-    else this.pointers.set(p.userId, { userId: p.userId, name: p.name, color: p.color, traceId: p.traceId, t: p.t, v: p.v });
+    else
+      this.pointers.set(p.userId, {
+        userId: p.userId,
+        name: p.name,
+        color: p.color,
+        traceId: p.traceId,
+        t: p.t,
+        v: p.v,
+      });
     this.changed();
   }
   setRemoteView(v: ViewPayload): void {

@@ -11,7 +11,15 @@ export interface AdminPricing {
   firstWaveSize: number;
   widenAfterMinutes: number;
   closeAnsweredAfterDays: number;
-  tiers: { id: string; label: string; description: string | null; priceCents: number; deadlineMinutes: number; active: boolean; sortOrder: number }[];
+  tiers: {
+    id: string;
+    label: string;
+    description: string | null;
+    priceCents: number;
+    deadlineMinutes: number;
+    active: boolean;
+    sortOrder: number;
+  }[];
   updatedAt: string | null;
 }
 
@@ -19,9 +27,13 @@ export const getAdminPricing = () => api.get<AdminPricing>(pricingPaths.admin);
 export const adminPricingQuery = queryOptions({ queryKey: pricingKeys.admin, queryFn: getAdminPricing });
 export const useAdminPricing = () => useQuery(adminPricingQuery);
 
-export const updatePricing = (input: PricingUpdateInput) => api.put<AdminPricing>(pricingPaths.admin, pricingUpdateSchema.parse(input));
+export const updatePricing = (input: PricingUpdateInput) =>
+  api.put<AdminPricing>(pricingPaths.admin, pricingUpdateSchema.parse(input));
 
 export function useUpdatePricing() {
   const qc = useQueryClient();
-  return useMutation({ mutationFn: updatePricing, onSettled: () => qc.invalidateQueries({ queryKey: pricingKeys.all }) });
+  return useMutation({
+    mutationFn: updatePricing,
+    onSettled: () => qc.invalidateQueries({ queryKey: pricingKeys.all }),
+  });
 }

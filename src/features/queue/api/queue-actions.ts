@@ -1,20 +1,29 @@
 import { useMutation, useQueryClient } from "@tanstack/react-query";
 import { api } from "../../../lib/api-client";
-import { answerSchema, availabilitySchema, requestDataSchema, type AnswerInput } from "../../../../shared/schemas/queue";
+import {
+  answerSchema,
+  availabilitySchema,
+  requestDataSchema,
+  type AnswerInput,
+} from "../../../../shared/schemas/queue";
 import { queueKeys, queuePaths } from "./paths";
 
 import type { AnsweredView, AvailabilityView, CaseStateView as CaseState } from "../../../../shared/views/workflow";
 
 export const claimCase = (id: string) => api.post<CaseState>(queuePaths.claim(id));
 export const releaseCase = (id: string) => api.post<CaseState>(queuePaths.release(id));
-export const requestData = (id: string, message: string) => api.post<CaseState>(queuePaths.requestData(id), requestDataSchema.parse({ message }));
-export const answerCase = (id: string, input: AnswerInput) => api.post<AnsweredView>(queuePaths.answer(id), answerSchema.parse(input));
-export const setAvailability = (available: boolean) => api.put<AvailabilityView>(queuePaths.availability, availabilitySchema.parse({ available }));
+export const requestData = (id: string, message: string) =>
+  api.post<CaseState>(queuePaths.requestData(id), requestDataSchema.parse({ message }));
+export const answerCase = (id: string, input: AnswerInput) =>
+  api.post<AnsweredView>(queuePaths.answer(id), answerSchema.parse(input));
+export const setAvailability = (available: boolean) =>
+  api.put<AvailabilityView>(queuePaths.availability, availabilitySchema.parse({ available }));
 
 /** Every queue mutation refreshes the queue and everything under ["cases"]. */
 function useSettle() {
   const qc = useQueryClient();
-  return () => Promise.all([qc.invalidateQueries({ queryKey: queueKeys.queue }), qc.invalidateQueries({ queryKey: ["cases"] })]);
+  return () =>
+    Promise.all([qc.invalidateQueries({ queryKey: queueKeys.queue }), qc.invalidateQueries({ queryKey: ["cases"] })]);
 }
 
 export function useClaimCase() {

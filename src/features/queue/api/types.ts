@@ -1,7 +1,6 @@
 import type { QueueItem, QueueView } from "../../../../shared/views/queue";
 export type { QueueItem, QueueView };
 
-
 /** The part of GET /api/cases/:id/workflow the expert's controls use. */
 export interface ExpertWorkflow {
   id: string;

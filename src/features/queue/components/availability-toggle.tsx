@@ -15,10 +15,18 @@ export function AvailabilityToggle({ available }: { available: boolean }) {
         onClick={() => m.mutate(!available)}
         className={`relative inline-flex h-11 w-20 shrink-0 items-center rounded-full border transition ${on ? "border-verdigris-600 bg-verdigris-500" : "border-ink-300 bg-ink-200"}`}
       >
-        <span className={`inline-block h-9 w-9 rounded-full bg-white shadow transition ${on ? "translate-x-10" : "translate-x-1"}`} />
+        <span
+          className={`inline-block h-9 w-9 rounded-full bg-white shadow transition ${on ? "translate-x-10" : "translate-x-1"}`}
+        />
       </button>
-      <span className="font-semibold text-ink-900">{on ? "Available — new cases are offered to you" : "Away — no new offers"}</span>
-      {m.error ? <span role="alert" className="text-sm font-semibold text-alarm-600">{m.error.message}</span> : null}
+      <span className="font-semibold text-ink-900">
+        {on ? "Available — new cases are offered to you" : "Away — no new offers"}
+      </span>
+      {m.error ? (
+        <span role="alert" className="text-sm font-semibold text-alarm-600">
+          {m.error.message}
+        </span>
+      ) : null}
     </div>
   );
 }

@@ -34,7 +34,8 @@ function left(iso: string | null): { text: string; urgent: boolean } {
  */
 export function QueueBoard({ canClaim, watching = false }: { canClaim: boolean; watching?: boolean }) {
   const q = useQueue();
-  if (q.isPending) return <div className="h-40 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading the queue" />;
+  if (q.isPending)
+    return <div className="h-40 animate-pulse rounded-xl bg-ink-100" aria-busy="true" aria-label="Loading the queue" />;
   if (q.isError) {
     return (
       <Notice tone="error" title="The queue is not available">
@@ -112,7 +113,9 @@ function QueueCard(props: { item: QueueItem; mine?: boolean; canClaim: boolean; 
   const nav = useNavigate();
   const [lost, setLost] = useState<string | null>(null);
   const t = left(item.deadlineAt);
-  const vehicle = [item.vehicle.year, item.vehicle.make, item.vehicle.model, item.vehicle.engine].filter(Boolean).join(" ");
+  const vehicle = [item.vehicle.year, item.vehicle.make, item.vehicle.model, item.vehicle.engine]
+    .filter(Boolean)
+    .join(" ");
   return (
     <article
       className={`h-full rounded-xl border bg-white p-4 shadow-sm ${highlight ? "border-kiln-400" : "border-ink-200"}`}
@@ -121,7 +124,7 @@ function QueueCard(props: { item: QueueItem; mine?: boolean; canClaim: boolean; 
         <div className="min-w-0">
           <h3 className="font-bold text-ink-900">{vehicle || item.label}</h3>
           <p className="text-sm text-ink-600">
-            {item.system ? systemNames[item.system] ?? item.system : "System not given"}
+            {item.system ? (systemNames[item.system] ?? item.system) : "System not given"}
             {item.codes.length ? ` · ${item.codes.join(", ")}` : ""}
             {` · ${item.traceCount} trace${item.traceCount === 1 ? "" : "s"}`}
           </p>
@@ -138,7 +141,11 @@ function QueueCard(props: { item: QueueItem; mine?: boolean; canClaim: boolean; 
           <strong className="text-ink-900">
             {money(watching ? item.priceCents : item.expertShareCents, item.currency)}
           </strong>
-          {mine ? <span className="ml-2 rounded bg-ink-100 px-2 py-0.5 text-xs font-semibold text-ink-700">{item.status.replace("_", " ")}</span> : null}
+          {mine ? (
+            <span className="ml-2 rounded bg-ink-100 px-2 py-0.5 text-xs font-semibold text-ink-700">
+              {item.status.replace("_", " ")}
+            </span>
+          ) : null}
         </p>
         {mine || watching ? (
           <button type="button" className={buttonClass.secondary} onClick={() => nav(queuePages.caseOf(item.id))}>
@@ -152,7 +159,8 @@ function QueueCard(props: { item: QueueItem; mine?: boolean; canClaim: boolean; 
             onClick={() =>
               claim.mutate(item.id, {
                 onSuccess: () => nav(queuePages.caseOf(item.id)),
-                onError: (e) => setLost(e instanceof ApiError && e.status === 409 ? e.message : `Could not claim: ${e.message}`),
+                onError: (e) =>
+                  setLost(e instanceof ApiError && e.status === 409 ? e.message : `Could not claim: ${e.message}`),
               })
             }
           >

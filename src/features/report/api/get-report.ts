@@ -7,7 +7,17 @@ export interface ReportCase {
   id: string;
   status: string;
   title?: string;
-  vehicle: { vin: string | null; year: number | null; make: string | null; model: string | null; engine: string | null; fuel: string | null; mileage: number | null; mileageUnit: string | null; transmission: string | null };
+  vehicle: {
+    vin: string | null;
+    year: number | null;
+    make: string | null;
+    model: string | null;
+    engine: string | null;
+    fuel: string | null;
+    mileage: number | null;
+    mileageUnit: string | null;
+    transmission: string | null;
+  };
   complaint: string | null;
   codes: (string | { code: string; description: string | null })[];
   symptoms: string[];
@@ -66,13 +76,28 @@ export const reportKeys = {
   annotations: (id: string) => ["cases", "report-annotations", id] as const,
 };
 
-export const caseReportQuery = (id: string) => queryOptions({ queryKey: reportKeys.case(id), queryFn: () => api.get<ReportCase>(reportPaths.case(id)) });
-export const answersReportQuery = (id: string) => queryOptions({ queryKey: reportKeys.answers(id), queryFn: () => api.get<{ answers: ReportAnswer[] }>(reportPaths.answers(id)) });
+export const caseReportQuery = (id: string) =>
+  queryOptions({ queryKey: reportKeys.case(id), queryFn: () => api.get<ReportCase>(reportPaths.case(id)) });
+export const answersReportQuery = (id: string) =>
+  queryOptions({
+    queryKey: reportKeys.answers(id),
+    queryFn: () => api.get<{ answers: ReportAnswer[] }>(reportPaths.answers(id)),
+  });
 /** The marks (an empty list when the case never had a live review, or the reader may not join it). */
 export const annotationsReportQuery = (id: string) =>
-  queryOptions({ queryKey: reportKeys.annotations(id), queryFn: () => api.get<{ annotations: ReportAnnotation[] }>(reportPaths.annotations(id)).catch(() => ({ annotations: [] as ReportAnnotation[] })) });
+  queryOptions({
+    queryKey: reportKeys.annotations(id),
+    queryFn: () =>
+      api
+        .get<{ annotations: ReportAnnotation[] }>(reportPaths.annotations(id))
+        .catch(() => ({ annotations: [] as ReportAnnotation[] })),
+  });
 
 /** The case, its answers and its marks, for the printable report. */
 export function useReport(id: string) {
-  return { c: useQuery(caseReportQuery(id)), a: useQuery(answersReportQuery(id)), n: useQuery(annotationsReportQuery(id)) };
+  return {
+    c: useQuery(caseReportQuery(id)),
+    a: useQuery(answersReportQuery(id)),
+    n: useQuery(annotationsReportQuery(id)),
+  };
 }

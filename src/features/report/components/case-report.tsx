@@ -17,7 +17,15 @@ function vehicleLine(v: ReportCase["vehicle"]): string {
  * The report for the vehicle's owner: the vehicle, the complaint, the annotated traces as
  * figures, the diagnosis, the repair and the cautions. Laid out for paper by the print styles.
  */
-export function CaseReport({ c, answer, annotations }: { c: ReportCase; answer: ReportAnswer | null; annotations: ReportAnnotation[] }) {
+export function CaseReport({
+  c,
+  answer,
+  annotations,
+}: {
+  c: ReportCase;
+  answer: ReportAnswer | null;
+  annotations: ReportAnnotation[];
+}) {
   const codes = c.codes.map((x) => (typeof x === "string" ? { code: x, description: null } : x));
   const live = annotations.filter((a) => !a.deletedAt);
   const printed = formatDate(new Date());

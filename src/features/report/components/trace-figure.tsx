@@ -2,8 +2,7 @@ import { useEffect, useMemo, useRef, useState, type RefObject } from "react";
 import { useReportWindow } from "../api/get-window";
 import { figureGeometry, figureWindow, scaleFigure, type FigureMark } from "../lib/figure";
 import type { ReportTrace } from "../api/get-report";
-import { formatLevel, traceUnits } from "../../traces/lib/units";
-import { unitSentence } from "../../traces/components/trace-details";
+import { formatLevel, traceUnits, unitSentence } from "../../../lib/trace-units";
 
 /**
  * The figure's frame for a drawing `width` pixels wide: one SVG unit is one screen pixel, so its
@@ -49,13 +48,30 @@ export function TraceFigure({ trace, marks, index }: { trace: ReportTrace; marks
     () => (scaled ? figureGeometry(scaled.window, scaled.marks, win.t0, win.t1, BOX) : null),
     [scaled, win, BOX],
   );
-  const where = typeof trace.settings.coil === "number" ? `Coil ${trace.settings.coil}` : typeof trace.settings.cylinder === "number" ? `Cylinder ${trace.settings.cylinder}` : null;
+  const where =
+    typeof trace.settings.coil === "number"
+      ? `Coil ${trace.settings.coil}`
+      : typeof trace.settings.cylinder === "number"
+        ? `Cylinder ${trace.settings.cylinder}`
+        : null;
   const title = `Figure ${index + 1}. ${where ? `${where} · ` : ""}${trace.name}`;
   return (
     <figure ref={frame} className="break-inside-avoid space-y-2">
       {g ? (
-        <svg viewBox={`0 0 ${BOX.width} ${BOX.height}`} role="img" aria-label={title} className="h-auto w-full rounded border border-ink-200 bg-white">
-          <rect x={BOX.left} y={BOX.top} width={BOX.width - BOX.left - BOX.right} height={BOX.height - BOX.top - BOX.bottom} fill="#fff" stroke="#c9d3d9" />
+        <svg
+          viewBox={`0 0 ${BOX.width} ${BOX.height}`}
+          role="img"
+          aria-label={title}
+          className="h-auto w-full rounded border border-ink-200 bg-white"
+        >
+          <rect
+            x={BOX.left}
+            y={BOX.top}
+            width={BOX.width - BOX.left - BOX.right}
+            height={BOX.height - BOX.top - BOX.bottom}
+            fill="#fff"
+            stroke="#c9d3d9"
+          />
           {g.levelTicks.map((t) => (
             <g key={`v${t.label}`}>
               <line x1={BOX.left} x2={BOX.width - BOX.right} y1={t.y} y2={t.y} stroke="#e4e9ec" />
@@ -75,8 +91,21 @@ export function TraceFigure({ trace, marks, index }: { trace: ReportTrace; marks
           {g.marks.map((m) =>
             m.kind === "span" ? (
               <g key={m.index}>
-                <rect x={m.x0} y={BOX.top} width={Math.max(1, m.x1 - m.x0)} height={BOX.height - BOX.top - BOX.bottom} fill={marks[m.index].color} opacity="0.18" />
-                <text x={m.x0 + 4} y={BOX.height - BOX.bottom - 6} fontSize="11" fontWeight="bold" fill={marks[m.index].color}>
+                <rect
+                  x={m.x0}
+                  y={BOX.top}
+                  width={Math.max(1, m.x1 - m.x0)}
+                  height={BOX.height - BOX.top - BOX.bottom}
+                  fill={marks[m.index].color}
+                  opacity="0.18"
+                />
+                <text
+                  x={m.x0 + 4}
+                  y={BOX.height - BOX.bottom - 6}
+                  fontSize="11"
+                  fontWeight="bold"
+                  fill={marks[m.index].color}
+                >
                   {m.index + 1}
                 </text>
               </g>
@@ -87,7 +116,19 @@ export function TraceFigure({ trace, marks, index }: { trace: ReportTrace; marks
           {g.marks.map((m) => {
             const color = marks[m.index].color;
             const i = m.index;
-            if (m.kind === "level") return <line key={i} x1={BOX.left} x2={BOX.width - BOX.right} y1={m.y} y2={m.y} stroke={color} strokeWidth="1.5" strokeDasharray="6 3" />;
+            if (m.kind === "level")
+              return (
+                <line
+                  key={i}
+                  x1={BOX.left}
+                  x2={BOX.width - BOX.right}
+                  y1={m.y}
+                  y2={m.y}
+                  stroke={color}
+                  strokeWidth="1.5"
+                  strokeDasharray="6 3"
+                />
+              );
             if (m.kind === "pin" || m.kind === "note")
               return (
                 <g key={i}>
@@ -110,13 +151,16 @@ export function TraceFigure({ trace, marks, index }: { trace: ReportTrace; marks
         <div className="h-48 animate-pulse rounded bg-ink-100" aria-label="Drawing the trace" />
       )}
       <figcaption className="text-sm text-ink-700">
-        <span className="font-semibold">{title}</span> — {((win.t1 - win.t0) * 1000).toFixed(1)} ms shown. {unitSentence(cu, trace.channels[0])}
+        <span className="font-semibold">{title}</span> — {((win.t1 - win.t0) * 1000).toFixed(1)} ms shown.{" "}
+        {unitSentence(cu, trace.channels[0])}
         {marks.length ? (
           <ol className="mt-1 list-decimal pl-5">
             {marks.map((m) => (
               <li key={m.id}>
                 {m.kind === "span" ? "Span" : m.kind === "level" ? "Level" : m.kind === "pin" ? "Pin" : "Note"}
-                {(m.kind === "level" || m.kind === "pin") && m.level != null ? ` at ${formatLevel(m.level * cu.fromFile, unit)}` : ""}
+                {(m.kind === "level" || m.kind === "pin") && m.level != null
+                  ? ` at ${formatLevel(m.level * cu.fromFile, unit)}`
+                  : ""}
                 {m.label ? `: ${m.label}` : ""}
               </li>
             ))}

@@ -43,7 +43,11 @@ export interface FigureGeometry {
   timeTicks: { x: number; label: string; anchor: "start" | "middle" | "end" }[];
   levelTicks: { y: number; label: string }[];
   /** the marks inside the window; `index` is the mark's place in the list given */
-  marks: (({ kind: "span"; x0: number; x1: number } | { kind: "pin" | "note"; x: number; y: number | null } | { kind: "level"; y: number }) & { index: number })[];
+  marks: ((
+    | { kind: "span"; x0: number; x1: number }
+    | { kind: "pin" | "note"; x: number; y: number | null }
+    | { kind: "level"; y: number }
+  ) & { index: number })[];
 }
 
 /** Half the width of a time label such as "12.5 ms" at the figure's 11 px type (about 6 px a character). */
@@ -65,16 +69,33 @@ function fmt(x: number, step: number): string {
  * A window and marks in the file's unit, in the display unit: levels × `factor` (the channel's
  * `fromFile`, shared/trace/units).
  */
-export function scaleFigure(w: FigureWindow, marks: FigureMark[], factor: number): { window: FigureWindow; marks: FigureMark[] } {
+export function scaleFigure(
+  w: FigureWindow,
+  marks: FigureMark[],
+  factor: number,
+): { window: FigureWindow; marks: FigureMark[] } {
   if (factor === 1) return { window: w, marks };
   return {
-    window: { t: w.t, series: w.series.map((s) => ({ name: s.name, min: s.min.map((x) => x * factor), max: s.max.map((x) => x * factor) })) },
+    window: {
+      t: w.t,
+      series: w.series.map((s) => ({
+        name: s.name,
+        min: s.min.map((x) => x * factor),
+        max: s.max.map((x) => x * factor),
+      })),
+    },
     marks: marks.map((m) => (m.level == null ? m : { ...m, level: m.level * factor })),
   };
 }
 
 /** The figure of channel 0 over [t0, t1) in the box; the marks inside the window. */
-export function figureGeometry(w: FigureWindow, marks: FigureMark[], t0: number, t1: number, box: FigureBox): FigureGeometry {
+export function figureGeometry(
+  w: FigureWindow,
+  marks: FigureMark[],
+  t0: number,
+  t1: number,
+  box: FigureBox,
+): FigureGeometry {
   const s = w.series[0] ?? { name: "", min: [], max: [] };
   let vMin = Infinity;
   let vMax = -Infinity;
@@ -124,7 +145,8 @@ export function figureGeometry(w: FigureWindow, marks: FigureMark[], t0: number,
   }
   const vs = niceStep(vMax - vMin, 4);
   const levelTicks: FigureGeometry["levelTicks"] = [];
-  for (let v = Math.ceil(vMin / vs) * vs; v <= vMax + 1e-12; v += vs) levelTicks.push({ y: r(y(v)), label: fmt(v, vs) });
+  for (let v = Math.ceil(vMin / vs) * vs; v <= vMax + 1e-12; v += vs)
+    levelTicks.push({ y: r(y(v)), label: fmt(v, vs) });
   const inside = (t: number) => t >= t0 && t <= t1;
   const out: FigureGeometry["marks"] = [];
   marks.forEach((m, index) => {
@@ -134,7 +156,8 @@ export function figureGeometry(w: FigureWindow, marks: FigureMark[], t0: number,
       if (b > a) out.push({ kind: "span", x0: r(x(a)), x1: r(x(b)), index });
     } else if (m.kind === "level") {
       if (m.level != null) out.push({ kind: "level", y: r(y(m.level)), index });
-    } else if (inside(m.t0)) out.push({ kind: m.kind, x: r(x(m.t0)), y: m.level != null ? r(y(m.level)) : null, index });
+    } else if (inside(m.t0))
+      out.push({ kind: m.kind, x: r(x(m.t0)), y: m.level != null ? r(y(m.level)) : null, index });
   });
   return { envelope, line, vMin, vMax, x, y, timeTicks, levelTicks, marks: out };
 }
@@ -146,12 +169,21 @@ export function figureGeometry(w: FigureWindow, marks: FigureMark[], t0: number,
  * ringing); else the capture view (ten divisions) from the start. Never past the trace.
  */
 export function figureWindow(
-  trace: { t0?: number; durationS: number; kind?: string; settings: Record<string, unknown>; analysis?: { kind?: string; events?: { timeS: number }[] } | null },
+  trace: {
+    t0?: number;
+    durationS: number;
+    kind?: string;
+    settings: Record<string, unknown>;
+    analysis?: { kind?: string; events?: { timeS: number }[] } | null;
+  },
   marks: FigureMark[],
 ): { t0: number; t1: number } {
   const start = trace.t0 ?? 0;
   const end = start + trace.durationS;
-  const div = typeof trace.settings.timePerDivS === "number" && trace.settings.timePerDivS > 0 ? (trace.settings.timePerDivS as number) : trace.durationS / 10;
+  const div =
+    typeof trace.settings.timePerDivS === "number" && trace.settings.timePerDivS > 0
+      ? (trace.settings.timePerDivS as number)
+      : trace.durationS / 10;
   let a: number;
   let b: number;
   const first = trace.analysis?.events?.[0]?.timeS;

@@ -6,7 +6,8 @@ import { submitPaths } from "./paths";
 import type { CheckoutView as CheckoutStarted } from "../../../../shared/views/workflow";
 export type { CheckoutStarted };
 
-export const submitCase = (id: string, input: SubmitCaseInput) => api.post<CheckoutStarted>(submitPaths.submit(id), submitCaseSchema.parse(input));
+export const submitCase = (id: string, input: SubmitCaseInput) =>
+  api.post<CheckoutStarted>(submitPaths.submit(id), submitCaseSchema.parse(input));
 
 export function useSubmitCase(id: string) {
   const qc = useQueryClient();

@@ -52,7 +52,8 @@ export function CaseProgress({ caseId }: { caseId: string }) {
   const wf = useWorkflow(caseId);
   if (!wf.data) return null;
   const w = wf.data;
-  if (w.status === "draft" || (w.status === "awaiting_payment" && w.abilities.submit)) return <CaseHistory caseId={caseId} />;
+  if (w.status === "draft" || (w.status === "awaiting_payment" && w.abilities.submit))
+    return <CaseHistory caseId={caseId} />;
   return (
     <div className="space-y-5">
       <StatusCard w={w} />
@@ -128,12 +129,24 @@ function StatusCard({ w }: { w: Workflow }) {
             <label htmlFor={`sent-${w.id}`} className="block text-sm font-semibold text-ink-800">
               A note for the expert <span className="font-normal text-ink-500">(optional)</span>
             </label>
-            <textarea id={`sent-${w.id}`} value={note} onChange={(e) => setNote(e.target.value)} rows={2} className="block w-full rounded-lg border border-ink-300 px-3 py-2" />
-            <p className="text-sm text-ink-500">Uploading a new trace or photo also sends the case back to the expert.</p>
+            <textarea
+              id={`sent-${w.id}`}
+              value={note}
+              onChange={(e) => setNote(e.target.value)}
+              rows={2}
+              className="block w-full rounded-lg border border-ink-300 px-3 py-2"
+            />
+            <p className="text-sm text-ink-500">
+              Uploading a new trace or photo also sends the case back to the expert.
+            </p>
             <button type="submit" className={buttonClass.primary} disabled={actions.dataSent.isPending}>
               I have sent what was asked
             </button>
-            {actions.dataSent.error ? <p role="alert" className="text-sm font-semibold text-alarm-600">{actions.dataSent.error.message}</p> : null}
+            {actions.dataSent.error ? (
+              <p role="alert" className="text-sm font-semibold text-alarm-600">
+                {actions.dataSent.error.message}
+              </p>
+            ) : null}
           </form>
         ) : null}
         {w.payment ? (
@@ -185,7 +198,9 @@ export function Answers({ answers }: { answers: AnswerView[] }) {
                 </div>
               ))}
             </dl>
-            <p className="rounded-lg border border-kiln-300 bg-kiln-50 px-3 py-2 text-sm text-kiln-700">{a.safetyNote}</p>
+            <p className="rounded-lg border border-kiln-300 bg-kiln-50 px-3 py-2 text-sm text-kiln-700">
+              {a.safetyNote}
+            </p>
           </article>
         ))}
       </div>
@@ -213,25 +228,52 @@ function ConfirmForm({ caseId, secondRound }: { caseId: string; secondRound: boo
             [true, "Yes, it is fixed"],
             [false, secondRound ? "No — close the case" : "No, still not fixed"],
           ].map(([v, label]) => (
-            <label key={String(v)} className={`flex min-h-11 cursor-pointer items-center gap-2 rounded-lg border px-4 ${fixed === v ? "border-kiln-500 bg-kiln-50" : "border-ink-300 bg-white"}`}>
-              <input type="radio" name={`fixed-${caseId}`} checked={fixed === v} onChange={() => setFixed(v as boolean)} className="h-5 w-5 accent-kiln-500" />
+            <label
+              key={String(v)}
+              className={`flex min-h-11 cursor-pointer items-center gap-2 rounded-lg border px-4 ${fixed === v ? "border-kiln-500 bg-kiln-50" : "border-ink-300 bg-white"}`}
+            >
+              <input
+                type="radio"
+                name={`fixed-${caseId}`}
+                checked={fixed === v}
+                onChange={() => setFixed(v as boolean)}
+                className="h-5 w-5 accent-kiln-500"
+              />
               {label as string}
             </label>
           ))}
         </div>
-        {fixed === false && !secondRound ? <p className="text-sm text-ink-600">The case goes back to the same expert for a second answer, at no extra charge.</p> : null}
+        {fixed === false && !secondRound ? (
+          <p className="text-sm text-ink-600">
+            The case goes back to the same expert for a second answer, at no extra charge.
+          </p>
+        ) : null}
         <div>
           <label htmlFor={`note-${caseId}`} className="block text-sm font-semibold text-ink-800">
             What happened <span className="font-normal text-ink-500">(optional)</span>
           </label>
-          <textarea id={`note-${caseId}`} value={note} onChange={(e) => setNote(e.target.value)} rows={3} className="mt-1 block w-full rounded-lg border border-ink-300 px-3 py-2" />
+          <textarea
+            id={`note-${caseId}`}
+            value={note}
+            onChange={(e) => setNote(e.target.value)}
+            rows={3}
+            className="mt-1 block w-full rounded-lg border border-ink-300 px-3 py-2"
+          />
         </div>
         {fixed ? (
           <fieldset>
-            <legend className="text-sm font-semibold text-ink-800">Rate the answer <span className="font-normal text-ink-500">(optional)</span></legend>
+            <legend className="text-sm font-semibold text-ink-800">
+              Rate the answer <span className="font-normal text-ink-500">(optional)</span>
+            </legend>
             <div className="mt-1 flex gap-2">
               {[1, 2, 3, 4, 5].map((n) => (
-                <button key={n} type="button" aria-pressed={rating === n} onClick={() => setRating(rating === n ? null : n)} className={`h-11 w-11 rounded-lg border font-bold ${rating !== null && n <= rating ? "border-kiln-500 bg-kiln-100" : "border-ink-300 bg-white"}`}>
+                <button
+                  key={n}
+                  type="button"
+                  aria-pressed={rating === n}
+                  onClick={() => setRating(rating === n ? null : n)}
+                  className={`h-11 w-11 rounded-lg border font-bold ${rating !== null && n <= rating ? "border-kiln-500 bg-kiln-100" : "border-ink-300 bg-white"}`}
+                >
                   {n}
                 </button>
               ))}
@@ -241,7 +283,11 @@ function ConfirmForm({ caseId, secondRound }: { caseId: string; secondRound: boo
         <button type="submit" className={buttonClass.primary} disabled={fixed === null || confirm.isPending}>
           {confirm.isPending ? "Reporting…" : "Report the result"}
         </button>
-        {confirm.error ? <p role="alert" className="text-sm font-semibold text-alarm-600">{confirm.error.message}</p> : null}
+        {confirm.error ? (
+          <p role="alert" className="text-sm font-semibold text-alarm-600">
+            {confirm.error.message}
+          </p>
+        ) : null}
       </form>
     </Card>
   );
@@ -252,7 +298,10 @@ export function CaseHistory({ caseId }: { caseId: string }) {
   const [open, setOpen] = useState(false);
   const h = useHistory(caseId, open);
   return (
-    <details className="rounded-xl border border-ink-200 bg-white p-4 shadow-sm" onToggle={(e) => setOpen((e.target as HTMLDetailsElement).open)}>
+    <details
+      className="rounded-xl border border-ink-200 bg-white p-4 shadow-sm"
+      onToggle={(e) => setOpen((e.target as HTMLDetailsElement).open)}
+    >
       <summary className="min-h-11 cursor-pointer py-2 font-bold text-ink-900">History</summary>
       {h.isPending && open ? <p className="text-sm text-ink-500">Loading…</p> : null}
       {h.data ? (
@@ -261,7 +310,9 @@ export function CaseHistory({ caseId }: { caseId: string }) {
             <li key={e.id} className="flex flex-wrap gap-x-3">
               <span className="w-40 shrink-0 text-ink-500">{when(e.at)}</span>
               <span className="font-semibold text-ink-900">{eventWords[e.type] ?? e.type}</span>
-              <span className="text-ink-600">{e.actorName ? `by ${e.actorName}${e.actorRole ? ` (${e.actorRole})` : ""}` : "by the desk"}</span>
+              <span className="text-ink-600">
+                {e.actorName ? `by ${e.actorName}${e.actorRole ? ` (${e.actorRole})` : ""}` : "by the desk"}
+              </span>
             </li>
           ))}
         </ol>

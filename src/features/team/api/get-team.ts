@@ -29,6 +29,7 @@ export interface Team {
 
 export const getTeam = (shopId: string) => api.get<Team>(teamPaths.team(shopId));
 
-export const teamQuery = (shopId: string) => queryOptions({ queryKey: teamKeys.team(shopId), queryFn: () => getTeam(shopId) });
+export const teamQuery = (shopId: string) =>
+  queryOptions({ queryKey: teamKeys.team(shopId), queryFn: () => getTeam(shopId) });
 
 export const useTeam = (shopId: string) => useQuery(teamQuery(shopId));

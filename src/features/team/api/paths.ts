@@ -2,8 +2,10 @@
 export const teamPaths = {
   team: (shopId: string) => `/api/shops/${encodeURIComponent(shopId)}/team`,
   invites: (shopId: string) => `/api/shops/${encodeURIComponent(shopId)}/invites`,
-  invite: (shopId: string, inviteId: string) => `/api/shops/${encodeURIComponent(shopId)}/invites/${encodeURIComponent(inviteId)}`,
-  member: (shopId: string, userId: string) => `/api/shops/${encodeURIComponent(shopId)}/members/${encodeURIComponent(userId)}`,
+  invite: (shopId: string, inviteId: string) =>
+    `/api/shops/${encodeURIComponent(shopId)}/invites/${encodeURIComponent(inviteId)}`,
+  member: (shopId: string, userId: string) =>
+    `/api/shops/${encodeURIComponent(shopId)}/members/${encodeURIComponent(userId)}`,
 };
 
 export const teamPages = { team: "/team", billing: "/billing" };

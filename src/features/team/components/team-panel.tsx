@@ -16,7 +16,10 @@ function MemberRow({ shopId, m }: { shopId: string; m: TeamMember }) {
     <li className="flex flex-col gap-2 py-3 sm:flex-row sm:items-center sm:justify-between">
       <div className="min-w-0">
         <p className="font-semibold text-ink-900">
-          {m.name} <span className="ml-1 rounded-full bg-ink-100 px-2 py-0.5 text-xs font-semibold text-ink-700">{roleLabel[m.role] ?? m.role}</span>
+          {m.name}{" "}
+          <span className="ml-1 rounded-full bg-ink-100 px-2 py-0.5 text-xs font-semibold text-ink-700">
+            {roleLabel[m.role] ?? m.role}
+          </span>
         </p>
         <p className="truncate text-sm text-ink-600">{m.email}</p>
         <p className="text-xs text-ink-500">Joined {date(m.joinedAt)}</p>
@@ -25,7 +28,12 @@ function MemberRow({ shopId, m }: { shopId: string; m: TeamMember }) {
         confirming ? (
           <div className="flex flex-wrap items-center gap-2" role="group" aria-label={`Confirm removing ${m.name}`}>
             <span className="text-sm text-ink-700">Remove {m.name}? They are signed out at once.</span>
-            <button type="button" className={buttonClass.danger} disabled={remove.isPending} onClick={() => remove.mutate(m.id)}>
+            <button
+              type="button"
+              className={buttonClass.danger}
+              disabled={remove.isPending}
+              onClick={() => remove.mutate(m.id)}
+            >
               {remove.isPending ? "Removing…" : "Remove"}
             </button>
             <button type="button" className={buttonClass.quiet} onClick={() => setConfirming(false)}>
@@ -38,7 +46,11 @@ function MemberRow({ shopId, m }: { shopId: string; m: TeamMember }) {
           </button>
         )
       ) : null}
-      {remove.isError ? <p role="alert" className="text-sm font-semibold text-alarm-600">{remove.error.message}</p> : null}
+      {remove.isError ? (
+        <p role="alert" className="text-sm font-semibold text-alarm-600">
+          {remove.error.message}
+        </p>
+      ) : null}
     </li>
   );
 }
@@ -48,7 +60,12 @@ export function TeamPanel({ shopId }: { shopId: string }) {
   const team = useTeam(shopId);
   const revoke = useRevokeInvite(shopId);
   if (team.isPending) return <p className="text-ink-500">Loading the team…</p>;
-  if (team.isError) return <Notice tone="error" title="The team could not be loaded">{team.error.message}</Notice>;
+  if (team.isError)
+    return (
+      <Notice tone="error" title="The team could not be loaded">
+        {team.error.message}
+      </Notice>
+    );
   const t = team.data;
   return (
     <div className="space-y-4">
@@ -76,7 +93,13 @@ export function TeamPanel({ shopId }: { shopId: string }) {
                     <p className="truncate font-semibold text-ink-900">{i.name ? `${i.name} · ${i.email}` : i.email}</p>
                     <p className="text-xs text-ink-500">Link valid until {date(i.expiresAt)}</p>
                   </div>
-                  <button type="button" className={buttonClass.secondary} disabled={revoke.isPending} onClick={() => revoke.mutate(i.id)} aria-label={`Withdraw the invitation to ${i.email}`}>
+                  <button
+                    type="button"
+                    className={buttonClass.secondary}
+                    disabled={revoke.isPending}
+                    onClick={() => revoke.mutate(i.id)}
+                    aria-label={`Withdraw the invitation to ${i.email}`}
+                  >
                     Withdraw
                   </button>
                 </li>

@@ -31,7 +31,12 @@ export async function getTraceWindow(p: TraceWindowParams, signal?: AbortSignal)
   const body = parseBody(await r.text());
   if (!r.ok || !body) {
     const e = (body as ErrorBody | null)?.error;
-    throw new ApiError(r.status, e?.code ?? "http_" + r.status, e?.message ?? "This part of the trace could not be loaded.", e?.details);
+    throw new ApiError(
+      r.status,
+      e?.code ?? "http_" + r.status,
+      e?.message ?? "This part of the trace could not be loaded.",
+      e?.details,
+    );
   }
   return body as TraceWindowData;
 }
@@ -45,18 +50,22 @@ const traceIdOf = (key: readonly unknown[] | undefined) => (key ? key[1] : undef
 export const traceWindowQuery = (p: TraceWindowParams | null, slot = 0) =>
   queryOptions({
     // a disabled slot gets its own key so that several idle slots are not duplicates
-    queryKey: (p ? ["traces", p.traceId, "window", p.t0, p.t1, p.width] : ["traces", "", "window", "idle", slot]) as readonly unknown[],
+    queryKey: (p
+      ? ["traces", p.traceId, "window", p.t0, p.t1, p.width]
+      : ["traces", "", "window", "idle", slot]) as readonly unknown[],
     queryFn: ({ signal }) => getTraceWindow(p!, signal),
     enabled: p != null,
     staleTime: Infinity,
     gcTime: 60_000,
-    placeholderData: (prev: TraceWindowData | undefined, prevQuery) => (p && traceIdOf(prevQuery?.queryKey) === p.traceId ? prev : undefined),
+    placeholderData: (prev: TraceWindowData | undefined, prevQuery) =>
+      p && traceIdOf(prevQuery?.queryKey) === p.traceId ? prev : undefined,
   });
 
 export const useTraceWindow = (p: TraceWindowParams | null) => useQuery(traceWindowQuery(p));
 
 /** Several windows at once (overlay mode), each keeping its previous data while the next loads. */
-export const useTraceWindows = (ps: (TraceWindowParams | null)[]) => useQueries({ queries: ps.map((p, i) => traceWindowQuery(p, i)) });
+export const useTraceWindows = (ps: (TraceWindowParams | null)[]) =>
+  useQueries({ queries: ps.map((p, i) => traceWindowQuery(p, i)) });
 
 export interface WindowResult {
   data: TraceWindowData | undefined;
@@ -64,8 +73,9 @@ export interface WindowResult {
   error: Error | null;
 }
 
-const combineWindows = (results: { data?: TraceWindowData; isFetching: boolean; error: Error | null }[]): WindowResult[] =>
-  results.map((r) => ({ data: r.data, loading: r.isFetching, error: r.error }));
+const combineWindows = (
+  results: { data?: TraceWindowData; isFetching: boolean; error: Error | null }[],
+): WindowResult[] => results.map((r) => ({ data: r.data, loading: r.isFetching, error: r.error }));
 
 /** Several windows, combined into one stable array (it changes only when a result does). */
 export const useTraceWindowResults = (ps: (TraceWindowParams | null)[]): WindowResult[] =>

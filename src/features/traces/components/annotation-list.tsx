@@ -1,5 +1,5 @@
 import type { Annotation, AnnotationKind } from "../types";
-import { formatLevel, formatTime, type ChannelUnits } from "../lib/units";
+import { formatLevel, formatTime, type ChannelUnits } from "../../../lib/trace-units";
 
 export interface AnnotationListProps {
   annotations: Annotation[];
@@ -37,16 +37,29 @@ export function sortMarks(annotations: Annotation[], traceOrder: string[] = []):
     const i = traceOrder.indexOf(id);
     return i < 0 ? traceOrder.length : i;
   };
-  return [...annotations].sort((a, b) => (a.traceId === b.traceId ? a.t0 - b.t0 : rank(a.traceId) - rank(b.traceId) || (a.traceId < b.traceId ? -1 : 1)));
+  return [...annotations].sort((a, b) =>
+    a.traceId === b.traceId ? a.t0 - b.t0 : rank(a.traceId) - rank(b.traceId) || (a.traceId < b.traceId ? -1 : 1),
+  );
 }
 
 /** Every mark on the case's traces; each item opens its trace at the mark. */
-export function AnnotationList({ annotations, onJump, selectedId, traceNames, traceOrder, units, className, maxHeightClass = "max-h-80" }: AnnotationListProps) {
+export function AnnotationList({
+  annotations,
+  onJump,
+  selectedId,
+  traceNames,
+  traceOrder,
+  units,
+  className,
+  maxHeightClass = "max-h-80",
+}: AnnotationListProps) {
   const several = new Set(annotations.map((a) => a.traceId)).size > 1;
   const sorted = sortMarks(annotations, traceOrder);
   return (
     <div className={className}>
-      <h3 className="mb-1 text-sm font-semibold text-ink-700">Marks{annotations.length ? ` (${annotations.length})` : ""}</h3>
+      <h3 className="mb-1 text-sm font-semibold text-ink-700">
+        Marks{annotations.length ? ` (${annotations.length})` : ""}
+      </h3>
       {sorted.length === 0 ? (
         <p className="text-sm text-ink-500">No marks yet.</p>
       ) : (
@@ -63,7 +76,11 @@ export function AnnotationList({ annotations, onJump, selectedId, traceNames, tr
                     selected ? "border-ink-500 bg-ink-50" : "border-ink-100 bg-white"
                   } ${a.pending ? "border-dashed" : ""}`}
                 >
-                  <span className="mt-1 inline-block h-3 w-3 shrink-0 rounded-sm" style={{ background: a.color }} aria-hidden="true" />
+                  <span
+                    className="mt-1 inline-block h-3 w-3 shrink-0 rounded-sm"
+                    style={{ background: a.color }}
+                    aria-hidden="true"
+                  />
                   <span className="min-w-0 flex-1">
                     <span className="block truncate text-ink-900">
                       <span className="font-semibold">{KIND_LABEL[a.kind]}</span>

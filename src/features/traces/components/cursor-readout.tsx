@@ -12,7 +12,10 @@ function Read({ k, v, strong }: { k: string; v: string; strong?: boolean }) {
 /** The cursors' readout: both times, Δt and 1/Δt; both levels and their difference in the channel's unit. */
 export function CursorReadout({ readout }: { readout: Readout }) {
   return (
-    <dl className="mt-2 grid grid-cols-2 gap-x-4 gap-y-1 rounded-lg bg-ink-50 p-2 text-sm tabular-nums @xl:grid-cols-4" aria-label="Cursor readout">
+    <dl
+      className="mt-2 grid grid-cols-2 gap-x-4 gap-y-1 rounded-lg bg-ink-50 p-2 text-sm tabular-nums @xl:grid-cols-4"
+      aria-label="Cursor readout"
+    >
       <Read k="1" v={readout.text.ta} />
       <Read k="2" v={readout.text.tb} />
       <Read k="Δt" v={readout.text.dt} strong />

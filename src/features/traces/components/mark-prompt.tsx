@@ -27,7 +27,11 @@ export function MarkPrompt(p: MarkPromptProps) {
   const narrow = p.boxWidth < WIDTH + 24;
   const style = narrow
     ? { left: 4, right: 4, top: Math.max(4, Math.min(p.y + 12, 9999)) }
-    : { left: Math.min(Math.max(4, p.x - WIDTH / 2), p.boxWidth - WIDTH - 4), top: Math.max(4, p.y + 12), width: WIDTH };
+    : {
+        left: Math.min(Math.max(4, p.x - WIDTH / 2), p.boxWidth - WIDTH - 4),
+        top: Math.max(4, p.y + 12),
+        width: WIDTH,
+      };
   const needsText = p.kind === "note";
   const kindName = { pin: "pin", span: "span", level: "level", note: "note" }[p.kind];
   return (
@@ -59,7 +63,11 @@ export function MarkPrompt(p: MarkPromptProps) {
       {p.traces && p.traces.length > 1 ? (
         <label className="mt-1 flex items-center gap-2 text-xs text-ink-600">
           On
-          <select value={p.traceId} onChange={(e) => p.onTraceChange?.(e.target.value)} className="min-h-10 flex-1 rounded-md border border-ink-300 px-1 text-sm">
+          <select
+            value={p.traceId}
+            onChange={(e) => p.onTraceChange?.(e.target.value)}
+            className="min-h-10 flex-1 rounded-md border border-ink-300 px-1 text-sm"
+          >
             {p.traces.map((t) => (
               <option key={t.id} value={t.id}>
                 {t.name}
@@ -69,7 +77,11 @@ export function MarkPrompt(p: MarkPromptProps) {
         </label>
       ) : null}
       <div className="mt-2 flex justify-end gap-2">
-        <button type="button" onClick={p.onCancel} className="min-h-10 rounded-md px-3 text-sm text-ink-700 hover:bg-ink-50">
+        <button
+          type="button"
+          onClick={p.onCancel}
+          className="min-h-10 rounded-md px-3 text-sm text-ink-700 hover:bg-ink-50"
+        >
           Cancel
         </button>
         <button

@@ -4,7 +4,7 @@ import "uplot/dist/uPlot.min.css";
 import type { AnnotationKind } from "../types";
 import type { CursorPositions } from "../lib/readout";
 import { gridLines, labelEvery } from "../lib/grid";
-import { formatTicks } from "../lib/units";
+import { formatTicks } from "../../../lib/trace-units";
 import type { Span } from "../lib/zoom";
 import { PLOT_COLORS } from "../lib/palette";
 import type { PlotModel, PlotTransient } from "../plot/model";
@@ -74,7 +74,12 @@ function plotOptions(latest: Latest, host: HTMLElement, transient: PlotTransient
   const p = latest.current;
   const reportArea = (u: uPlot) => {
     const pr = uPlot.pxRatio || 1;
-    latest.current.onPlotArea?.({ left: u.bbox.left / pr, top: u.bbox.top / pr, width: u.bbox.width / pr, height: u.bbox.height / pr });
+    latest.current.onPlotArea?.({
+      left: u.bbox.left / pr,
+      top: u.bbox.top / pr,
+      width: u.bbox.width / pr,
+      height: u.bbox.height / pr,
+    });
   };
   return {
     width: Math.max(p.width, MIN_PLOT_BOX),
@@ -110,7 +115,14 @@ export function PlotSurface(props: PlotSurfaceProps) {
     const host = hostRef.current!;
     const transient: PlotTransient = { selection: null, hover: null };
     const v = latest.current.view;
-    const u = new uPlot(plotOptions(latest, host, transient), [[v.t0, v.t1], [null, null]] as unknown as uPlot.AlignedData, host);
+    const u = new uPlot(
+      plotOptions(latest, host, transient),
+      [
+        [v.t0, v.t1],
+        [null, null],
+      ] as unknown as uPlot.AlignedData,
+      host,
+    );
     uRef.current = u;
     const detach = attachGestures(u, { props: () => latest.current, transient });
     return () => {

@@ -1,16 +1,5 @@
 import type { TraceChannelMeta } from "../../../../shared/trace/types";
-import { traceUnits, type ChannelUnits } from "../lib/units";
-
-/** What the units of a trace are and where they come from, in a sentence (the trace's details). */
-export function unitSentence(cu: ChannelUnits, channel?: Pick<TraceChannelMeta, "unitWritten" | "scaledFrom" | "unitFrom">): string {
-  const shown = cu.source === "file" && cu.quantity === "other" ? `Levels are shown in ${cu.unit}, as exported.` : `Levels are shown in ${cu.unit} ${cu.label}.`;
-  const parts = [shown];
-  if (cu.note) parts.push(cu.note);
-  if (channel?.unitWritten) parts.push(`The file writes the unit as “${channel.unitWritten}”.`);
-  if (channel?.unitFrom === "metadata") parts.push("The unit was read from the file's header lines.");
-  if (channel?.scaledFrom) parts.push(`Values: ${channel.scaledFrom}.`);
-  return parts.join(" ");
-}
+import { traceUnits, unitSentence } from "../../../lib/trace-units";
 
 /** The trace's unit line: the unit every view shows, the probe scale applied (or not), the file's own word. */
 export function TraceUnitsNote({ trace }: { trace: { channels: TraceChannelMeta[]; settings?: object } }) {

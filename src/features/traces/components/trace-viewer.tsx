@@ -4,7 +4,7 @@ import { useViewer, type ViewerState } from "../hooks/use-viewer";
 import { handleViewerKey } from "../hooks/viewer-keys";
 import { panBy, sameWindow, zoomCentre } from "../lib/zoom";
 import { cursorReadout, perDivText } from "../lib/readout";
-import { formatTime } from "../lib/units";
+import { formatTime } from "../../../lib/trace-units";
 import { PlotSurface } from "./plot-surface";
 import { AnnotationList } from "./annotation-list";
 import { MarkPrompt } from "./mark-prompt";
@@ -23,7 +23,17 @@ export interface TraceViewerHandle {
 type Area = { left: number; top: number; width: number; height: number };
 
 /** The plot with its loading note and, while a new mark waits for its label, the prompt. */
-function ViewerPlot({ v, props, height, measure }: { v: ViewerState; props: TraceViewerProps; height: number; measure: (el: HTMLElement | null) => void }) {
+function ViewerPlot({
+  v,
+  props,
+  height,
+  measure,
+}: {
+  v: ViewerState;
+  props: TraceViewerProps;
+  height: number;
+  measure: (el: HTMLElement | null) => void;
+}) {
   const { nav, marks, boxWidth, overlay } = v;
   const [area, setArea] = useState<Area | null>(null);
   const reference = nav.reference!;
@@ -48,12 +58,21 @@ function ViewerPlot({ v, props, height, measure }: { v: ViewerState; props: Trac
           onMarkGesture={(g) => marks.onGesture(g, reference.id)}
           onPick={(id) => id && props.onSelectAnnotation?.(id)}
           onHover={v.onHover}
-          onPlotArea={(a) => setArea((p) => (p && p.left === a.left && p.top === a.top && p.width === a.width && p.height === a.height ? p : a))}
+          onPlotArea={(a) =>
+            setArea((p) =>
+              p && p.left === a.left && p.top === a.top && p.width === a.width && p.height === a.height ? p : a,
+            )
+          }
           ariaLabel={`${overlay ? "Overlay" : reference.name}: ${formatTime(nav.view.t0)} to ${formatTime(nav.view.t1)}, ${perDivText(v.xGrid.step, null, "time")}`}
         />
       ) : null}
-      <div className="pointer-events-none absolute right-3 top-2 flex flex-col items-end gap-1 text-xs" aria-live="polite">
-        {states.some((s) => s?.loading) ? <span className="rounded bg-white/90 px-2 py-0.5 text-ink-600 shadow-sm">Loading…</span> : null}
+      <div
+        className="pointer-events-none absolute right-3 top-2 flex flex-col items-end gap-1 text-xs"
+        aria-live="polite"
+      >
+        {states.some((s) => s?.loading) ? (
+          <span className="rounded bg-white/90 px-2 py-0.5 text-ink-600 shadow-sm">Loading…</span>
+        ) : null}
         {error ? <span className="rounded bg-alarm-600 px-2 py-0.5 text-white">{error.message}</span> : null}
       </div>
       {marks.draft && area && boxWidth ? (
@@ -82,10 +101,17 @@ function ViewerControls({ v, flaggedId, inset }: { v: ViewerState; flaggedId?: s
   const view = nav.view;
   return (
     <div className={inset}>
-      {!v.overlay && v.traces.length > 1 ? <TraceTabs traces={v.traces} activeId={nav.active?.id} flaggedId={flaggedId} onSelect={(id) => {
+      {!v.overlay && v.traces.length > 1 ? (
+        <TraceTabs
+          traces={v.traces}
+          activeId={nav.active?.id}
+          flaggedId={flaggedId}
+          onSelect={(id) => {
             marks.cancel();
             nav.selectTrace(id);
-          }} /> : null}
+          }}
+        />
+      ) : null}
       <ViewToolbar
         touch={v.touch}
         s={{
@@ -105,8 +131,22 @@ function ViewerControls({ v, flaggedId, inset }: { v: ViewerState; flaggedId?: s
           ...v.actions,
         }}
       />
-      {v.overlay ? <OverlayToggles traces={v.traces} hidden={v.hiddenTraces} alignment={v.alignment} onChange={v.setHiddenTraces} /> : null}
-      {v.channelNames.length > 1 ? <ChannelToggles names={v.channelNames} hidden={v.hiddenChannels} overlay={v.overlay} onChange={v.setHiddenChannels} /> : null}
+      {v.overlay ? (
+        <OverlayToggles
+          traces={v.traces}
+          hidden={v.hiddenTraces}
+          alignment={v.alignment}
+          onChange={v.setHiddenTraces}
+        />
+      ) : null}
+      {v.channelNames.length > 1 ? (
+        <ChannelToggles
+          names={v.channelNames}
+          hidden={v.hiddenChannels}
+          overlay={v.overlay}
+          onChange={v.setHiddenChannels}
+        />
+      ) : null}
     </div>
   );
 }
@@ -123,7 +163,11 @@ export function TraceViewer({ ref, ...props }: TraceViewerProps & { ref?: Ref<Tr
   const { nav, marks, traces } = v;
   useImperativeHandle(ref, () => ({ jumpTo: nav.jumpTo }), [nav.jumpTo]);
   if (!traces.length || !nav.reference || !nav.cap) {
-    return <div className={`rounded-xl border border-ink-200 bg-white p-4 text-sm text-ink-600 ${props.className ?? ""}`}>No trace to show.</div>;
+    return (
+      <div className={`rounded-xl border border-ink-200 bg-white p-4 text-sm text-ink-600 ${props.className ?? ""}`}>
+        No trace to show.
+      </div>
+    );
   }
   const listShown = props.showAnnotationList ?? v.annotations.length > 0;
   const height = props.height ?? Math.round(Math.min(420, Math.max(240, (v.boxWidth ?? 600) * 0.55)));
@@ -154,7 +198,15 @@ export function TraceViewer({ ref, ...props }: TraceViewerProps & { ref?: Ref<Tr
         <div className="min-w-0">
           <ViewerPlot v={v} props={props} height={height} measure={measure} />
           <div className={inset}>
-            <ViewStatus xStep={v.xGrid.step} yStep={v.yGrid.step} levelUnit={v.refCu.unit} view={view} overlay={v.overlay} tool={marks.tool} hoverRef={hoverRef} />
+            <ViewStatus
+              xStep={v.xGrid.step}
+              yStep={v.yGrid.step}
+              levelUnit={v.refCu.unit}
+              view={view}
+              overlay={v.overlay}
+              tool={marks.tool}
+              hoverRef={hoverRef}
+            />
             {v.cursors ? <CursorReadout readout={cursorReadout(v.cursors, v.refCu)} /> : null}
             <GestureHints touch={v.touch} canMark={v.canMark} />
           </div>

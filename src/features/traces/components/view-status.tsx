@@ -1,7 +1,7 @@
 import type { Ref } from "react";
 import type { AnnotationKind } from "../types";
 import { perDivText } from "../lib/readout";
-import { formatTime } from "../lib/units";
+import { formatTime } from "../../../lib/trace-units";
 
 const TOOL_HINT: Record<AnnotationKind, string> = {
   pin: "Tap or click on the trace to pin it.",
@@ -47,7 +47,8 @@ export function GestureHints({ touch, canMark }: { touch: boolean; canMark: bool
   }
   return (
     <p className="mt-2 text-xs text-ink-500">
-      Drag to zoom, wheel or pinch to zoom, Shift-drag or Pan to move. Keys: + − zoom, ← → pan, 0 capture view, c cursors
+      Drag to zoom, wheel or pinch to zoom, Shift-drag or Pan to move. Keys: + − zoom, ← → pan, 0 capture view, c
+      cursors
       {canMark ? ", p s l n marks (Shift keeps a tool armed), Esc cancel" : ""}.
     </p>
   );

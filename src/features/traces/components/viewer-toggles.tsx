@@ -2,7 +2,11 @@ import type { TraceInfo } from "../types";
 import type { Alignment } from "../hooks/use-alignment";
 import { PLOT_COLORS, traceColor } from "../lib/palette";
 
-const ALIGN_TEXT = { event: "aligned on its first firing", crossing: "aligned on its trigger crossing", start: "not aligned (no event or crossing found)" } as const;
+const ALIGN_TEXT = {
+  event: "aligned on its first firing",
+  crossing: "aligned on its trigger crossing",
+  start: "not aligned (no event or crossing found)",
+} as const;
 
 const chipClass = (on: boolean) =>
   `min-h-10 flex items-center gap-2 rounded-md border px-2 text-sm ${on ? "border-ink-300 bg-white text-ink-900" : "border-ink-100 bg-ink-50 text-ink-400 line-through"}`;
@@ -16,7 +20,17 @@ export function toggleKept<T>(set: Set<T>, x: T, all: number): Set<T> {
 }
 
 /** The trace selector of single mode: one tab per trace; `flaggedId` is marked as the one to look at. */
-export function TraceTabs({ traces, activeId, flaggedId, onSelect }: { traces: TraceInfo[]; activeId?: string; flaggedId?: string; onSelect: (id: string) => void }) {
+export function TraceTabs({
+  traces,
+  activeId,
+  flaggedId,
+  onSelect,
+}: {
+  traces: TraceInfo[];
+  activeId?: string;
+  flaggedId?: string;
+  onSelect: (id: string) => void;
+}) {
   return (
     <div role="tablist" aria-label="Traces" className="mb-2 flex gap-1 overflow-x-auto">
       {traces.map((t) => (
@@ -31,7 +45,11 @@ export function TraceTabs({ traces, activeId, flaggedId, onSelect }: { traces: T
           {t.name}
           {t.id === flaggedId ? (
             <>
-              <span className="ml-1.5 inline-block h-2 w-2 rounded-full bg-alarm-500 align-middle" title="Flagged: the one to look at" aria-hidden="true" />
+              <span
+                className="ml-1.5 inline-block h-2 w-2 rounded-full bg-alarm-500 align-middle"
+                title="Flagged: the one to look at"
+                aria-hidden="true"
+              />
               <span className="sr-only"> (flagged)</span>
             </>
           ) : null}
@@ -42,14 +60,30 @@ export function TraceTabs({ traces, activeId, flaggedId, onSelect }: { traces: T
 }
 
 /** Which traces the overlay shows, each with its colour and how it was aligned. */
-export function OverlayToggles({ traces, hidden, alignment, onChange }: { traces: TraceInfo[]; hidden: Set<string>; alignment: Alignment; onChange: (s: Set<string>) => void }) {
+export function OverlayToggles({
+  traces,
+  hidden,
+  alignment,
+  onChange,
+}: {
+  traces: TraceInfo[];
+  hidden: Set<string>;
+  alignment: Alignment;
+  onChange: (s: Set<string>) => void;
+}) {
   return (
     <ul className="mb-2 flex flex-wrap gap-1" aria-label="Traces in the overlay">
       {traces.map((t, i) => {
         const on = !hidden.has(t.id);
         return (
           <li key={t.id}>
-            <button type="button" aria-pressed={on} title={ALIGN_TEXT[alignment[t.id]?.source ?? "start"]} onClick={() => onChange(toggleKept(hidden, t.id, traces.length))} className={chipClass(on)}>
+            <button
+              type="button"
+              aria-pressed={on}
+              title={ALIGN_TEXT[alignment[t.id]?.source ?? "start"]}
+              onClick={() => onChange(toggleKept(hidden, t.id, traces.length))}
+              className={chipClass(on)}
+            >
               <span className="inline-block h-1 w-5 rounded" style={{ background: traceColor(i) }} aria-hidden="true" />
               {t.name}
               {alignment[t.id]?.source === "start" ? <span className="text-xs text-alarm-600">not aligned</span> : null}
@@ -62,14 +96,34 @@ export function OverlayToggles({ traces, hidden, alignment, onChange }: { traces
 }
 
 /** Which channels are drawn, for traces with several. */
-export function ChannelToggles({ names, hidden, overlay, onChange }: { names: string[]; hidden: Set<string>; overlay: boolean; onChange: (s: Set<string>) => void }) {
+export function ChannelToggles({
+  names,
+  hidden,
+  overlay,
+  onChange,
+}: {
+  names: string[];
+  hidden: Set<string>;
+  overlay: boolean;
+  onChange: (s: Set<string>) => void;
+}) {
   return (
     <div className="mb-2 flex flex-wrap gap-1" role="group" aria-label="Channels">
       {names.map((name, i) => {
         const on = !hidden.has(name);
         return (
-          <button key={name} type="button" aria-pressed={on} onClick={() => onChange(toggleKept(hidden, name, names.length))} className={chipClass(on)}>
-            <span className="inline-block h-1 w-5 rounded" style={{ background: overlay ? PLOT_COLORS.axis : traceColor(i) }} aria-hidden="true" />
+          <button
+            key={name}
+            type="button"
+            aria-pressed={on}
+            onClick={() => onChange(toggleKept(hidden, name, names.length))}
+            className={chipClass(on)}
+          >
+            <span
+              className="inline-block h-1 w-5 rounded"
+              style={{ background: overlay ? PLOT_COLORS.axis : traceColor(i) }}
+              aria-hidden="true"
+            />
             Channel {name}
           </button>
         );

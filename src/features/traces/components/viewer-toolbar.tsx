@@ -1,6 +1,18 @@
 import type { ReactNode } from "react";
 import type { AnnotationKind } from "../types";
-import { IconCaptureView, IconCursors, IconEvents, IconFitLevels, IconLevel, IconNote, IconPan, IconPin, IconSpan, IconZoomIn, IconZoomOut } from "./icons";
+import {
+  IconCaptureView,
+  IconCursors,
+  IconEvents,
+  IconFitLevels,
+  IconLevel,
+  IconNote,
+  IconPan,
+  IconPin,
+  IconSpan,
+  IconZoomIn,
+  IconZoomOut,
+} from "./icons";
 
 export const MARK_TOOLS: { kind: AnnotationKind; key: string; label: string; icon: ReactNode }[] = [
   { kind: "pin", key: "p", label: "Pin", icon: <IconPin /> },
@@ -40,18 +52,54 @@ export function ViewToolbar({ s, on, touch }: { s: ToolbarState; on: ToolbarActi
     <div className="mb-2 flex flex-wrap items-center gap-1" role="toolbar" aria-label="View">
       <ToolButton label={named("Zoom in", "+", touch)} onClick={on.zoomIn} icon={<IconZoomIn />} />
       <ToolButton label={named("Zoom out", "−", touch)} onClick={on.zoomOut} icon={<IconZoomOut />} />
-      <ToolButton label={named("Back to capture view", "0", touch)} text="Capture view" onClick={on.toCapture} icon={<IconCaptureView />} disabled={s.atCapture} />
-      <ToolButton label="Pan mode: drag to move along the trace" text="Pan" pressed={s.panMode} onClick={on.togglePan} icon={<IconPan />} />
-      <ToolButton label={named("Cursors", "c", touch)} text="Cursors" pressed={s.cursors} onClick={on.toggleCursors} icon={<IconCursors />} />
-      <ToolButton label="Fit levels to the data" text="Fit" pressed={s.fitLevels} onClick={on.toggleFit} icon={<IconFitLevels />} />
-      {s.hasEvents ? <ToolButton label="Show analysis events" text="Events" pressed={s.showEvents} onClick={on.toggleEvents} icon={<IconEvents />} /> : null}
+      <ToolButton
+        label={named("Back to capture view", "0", touch)}
+        text="Capture view"
+        onClick={on.toCapture}
+        icon={<IconCaptureView />}
+        disabled={s.atCapture}
+      />
+      <ToolButton
+        label="Pan mode: drag to move along the trace"
+        text="Pan"
+        pressed={s.panMode}
+        onClick={on.togglePan}
+        icon={<IconPan />}
+      />
+      <ToolButton
+        label={named("Cursors", "c", touch)}
+        text="Cursors"
+        pressed={s.cursors}
+        onClick={on.toggleCursors}
+        icon={<IconCursors />}
+      />
+      <ToolButton
+        label="Fit levels to the data"
+        text="Fit"
+        pressed={s.fitLevels}
+        onClick={on.toggleFit}
+        icon={<IconFitLevels />}
+      />
+      {s.hasEvents ? (
+        <ToolButton
+          label="Show analysis events"
+          text="Events"
+          pressed={s.showEvents}
+          onClick={on.toggleEvents}
+          icon={<IconEvents />}
+        />
+      ) : null}
       {s.canMark ? (
         <div className="ml-auto flex flex-wrap gap-1" role="group" aria-label="Mark tools">
           {MARK_TOOLS.map((t) => (
             <ToolButton
               key={t.kind}
               label={named(t.label, t.key, touch)}
-              title={touch ? `${t.label}: one mark, then a drag zooms again` : `${t.label} (${t.key}): one mark, then a drag zooms again; hold Shift to keep the tool`}
+              title={
+                touch
+                  ? `${t.label}: one mark, then a drag zooms again`
+                  : `${t.label} (${t.key}): one mark, then a drag zooms again; hold Shift to keep the tool`
+              }
               text={t.label}
               pressed={s.tool === t.kind}
               onClick={() => on.chooseTool(t.kind)}
@@ -78,7 +126,11 @@ export interface ToolButtonProps {
 
 export function ToolButton(p: ToolButtonProps) {
   const on = p.pressed === true;
-  const tone = on ? (p.accent ? "border-kiln-600 bg-kiln-600 text-white" : "border-ink-700 bg-ink-700 text-white") : "border-ink-200 bg-white text-ink-800 hover:bg-ink-50";
+  const tone = on
+    ? p.accent
+      ? "border-kiln-600 bg-kiln-600 text-white"
+      : "border-ink-700 bg-ink-700 text-white"
+    : "border-ink-200 bg-white text-ink-800 hover:bg-ink-50";
   return (
     <button
       type="button"

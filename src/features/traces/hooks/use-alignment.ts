@@ -4,7 +4,7 @@ import type { TraceInfo, TraceWindowData } from "../types";
 import { traceBounds } from "../lib/capture-view";
 import { bucketsFor } from "../lib/buckets";
 import { alignmentLevel, alignmentTime, refineWindow } from "../lib/alignment";
-import type { ChannelUnits } from "../lib/units";
+import type { ChannelUnits } from "../../../lib/trace-units";
 
 export type AlignSource = "event" | "crossing" | "start";
 export type Alignment = Record<string, { time: number; source: AlignSource }>;
@@ -35,10 +35,17 @@ function coarseFind(t: TraceInfo, data: TraceWindowData | undefined, units: Chan
  * of its trigger level found in coarse buckets over the whole trace and then refined in a fine
  * window around it, else at its start. In single mode every trace keeps its own time (offset 0).
  */
-export function useAlignment(traces: TraceInfo[], overlay: boolean, unitsById: Map<string, ChannelUnits[]>): { alignment: Alignment; offsets: Record<string, number> } {
+export function useAlignment(
+  traces: TraceInfo[],
+  overlay: boolean,
+  unitsById: Map<string, ChannelUnits[]>,
+): { alignment: Alignment; offsets: Record<string, number> } {
   const coarseP = traces.map((t) => coarseParams(t, overlay));
   const coarse = useTraceWindowResults(coarseP);
-  const found = useMemo(() => traces.map((t, i) => coarseFind(t, coarse[i]?.data, unitsById.get(t.id))), [traces, coarse, unitsById]);
+  const found = useMemo(
+    () => traces.map((t, i) => coarseFind(t, coarse[i]?.data, unitsById.get(t.id))),
+    [traces, coarse, unitsById],
+  );
   const fineP = traces.map((t, i) => {
     const p = coarseP[i];
     const c = found[i];
@@ -58,6 +65,9 @@ export function useAlignment(traces: TraceInfo[], overlay: boolean, unitsById: M
     });
     return out;
   }, [traces, overlay, found, fine]);
-  const offsets = useMemo(() => Object.fromEntries(Object.entries(alignment).map(([k, v]) => [k, v.time])), [alignment]);
+  const offsets = useMemo(
+    () => Object.fromEntries(Object.entries(alignment).map(([k, v]) => [k, v.time])),
+    [alignment],
+  );
   return { alignment, offsets };
 }

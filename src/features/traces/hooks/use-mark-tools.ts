@@ -4,7 +4,7 @@ import type { MarkGesture } from "../plot/gestures";
 import type { MarkPreview, TraceLayer } from "../plot/model";
 import { layerOf } from "../plot/pin-level";
 import { traceLevelAt } from "../lib/snap";
-import { formatLevel, formatTime, type ChannelUnits } from "../lib/units";
+import { formatLevel, formatTime, type ChannelUnits } from "../../../lib/trace-units";
 
 export interface MarkToolsInput {
   canMark: boolean;
@@ -57,7 +57,11 @@ export function useMarkTools(inp: MarkToolsInput): MarkTools {
   const tool = canMark ? toolState : null;
   const draft = canMark ? draftState : null;
 
-  const channelOf = (traceId: string) => visibleChannel(traces.find((t) => t.id === traceId), hiddenChannels);
+  const channelOf = (traceId: string) =>
+    visibleChannel(
+      traces.find((t) => t.id === traceId),
+      hiddenChannels,
+    );
   /** a pin's level on its trace (display unit), else where it was clicked */
   const snapped = (d: Draft): number | undefined => {
     if (d.g.kind !== "pin" || d.g.level == null) return d.g.level;
@@ -65,7 +69,10 @@ export function useMarkTools(inp: MarkToolsInput): MarkTools {
     return (layer ? traceLevelAt(layer, d.g.t0, d.g.level) : null) ?? d.g.level;
   };
   const level = draft ? snapped(draft) : undefined;
-  const preview = useMemo<MarkPreview | null>(() => (draft ? { kind: draft.g.kind, t0: draft.g.t0, t1: draft.g.t1, level } : null), [draft, level]);
+  const preview = useMemo<MarkPreview | null>(
+    () => (draft ? { kind: draft.g.kind, t0: draft.g.t0, t1: draft.g.t1, level } : null),
+    [draft, level],
+  );
   const unit = draft ? cuOf(draft.traceId, channelOf(draft.traceId)).unit : "V";
   const where = !draft
     ? ""

@@ -4,7 +4,7 @@ import { captureView, PRE_TRIGGER_FRACTION, traceBounds, unionRange, type Captur
 import { clampWindow, sameWindow, zoomLimits, type Span, type ZoomLimits } from "../lib/zoom";
 import { jumpWindow } from "../lib/overlay-geometry";
 import { firingFocus, firstEventLength } from "../lib/overlay-focus";
-import type { ChannelUnits } from "../lib/units";
+import type { ChannelUnits } from "../../../lib/trace-units";
 import type { Alignment } from "./use-alignment";
 import { useFrameThrottle } from "./use-frame-throttle";
 
@@ -39,7 +39,13 @@ export interface Navigation {
 }
 
 /** The capture view in display time: an overlay shares one level axis and puts its alignment at 0. */
-function displayCapture(reference: TraceInfo | undefined, overlay: boolean, shown: TraceInfo[], alignment: Alignment, cuOf: NavigationInput["cuOf"]): CaptureView | null {
+function displayCapture(
+  reference: TraceInfo | undefined,
+  overlay: boolean,
+  shown: TraceInfo[],
+  alignment: Alignment,
+  cuOf: NavigationInput["cuOf"],
+): CaptureView | null {
   if (!reference) return null;
   const c = captureView(reference, cuOf(reference.id));
   if (!overlay) return c;
@@ -50,7 +56,12 @@ function displayCapture(reference: TraceInfo | undefined, overlay: boolean, show
   return { ...c, t0, t1: t0 + span, vMin: y.vMin, vMax: y.vMax, triggerTimeS: aligned ? 0 : null };
 }
 
-function limitsOf(list: TraceInfo[], offsets: Record<string, number>, overlay: boolean, cap: CaptureView | null): ZoomLimits {
+function limitsOf(
+  list: TraceInfo[],
+  offsets: Record<string, number>,
+  overlay: boolean,
+  cap: CaptureView | null,
+): ZoomLimits {
   let start = Infinity;
   let end = -Infinity;
   let sr = 0;
@@ -68,7 +79,13 @@ function limitsOf(list: TraceInfo[], offsets: Record<string, number>, overlay: b
 /** What the viewer opens at: the capture view, or an overlay zoomed on the firing events. */
 function openingOf(cap: CaptureView | null, overlay: boolean, shown: TraceInfo[]): Span | null {
   if (!cap) return null;
-  const focus = overlay && cap.triggerTimeS === 0 ? firingFocus(shown.map((t) => firstEventLength(t.analysis)), cap.t1 - cap.t0) : null;
+  const focus =
+    overlay && cap.triggerTimeS === 0
+      ? firingFocus(
+          shown.map((t) => firstEventLength(t.analysis)),
+          cap.t1 - cap.t0,
+        )
+      : null;
   return focus ?? { t0: cap.t0, t1: cap.t1 };
 }
 
@@ -82,10 +99,19 @@ export function useNavigation(inp: NavigationInput): Navigation {
   const { traces, overlay, hidden, alignment, offsets, cuOf, viewWindow: vw } = inp;
   const [chosen, setChosen] = useState<string | undefined>(inp.defaultTraceId ?? traces[0]?.id);
   const active = traces.find((t) => t.id === chosen) ?? traces[0];
-  const shown = useMemo(() => (overlay ? traces.filter((t) => !hidden.has(t.id)) : active ? [active] : []), [overlay, traces, hidden, active]);
+  const shown = useMemo(
+    () => (overlay ? traces.filter((t) => !hidden.has(t.id)) : active ? [active] : []),
+    [overlay, traces, hidden, active],
+  );
   const reference = overlay ? (shown[0] ?? traces[0]) : active;
-  const cap = useMemo(() => displayCapture(reference, overlay, shown, alignment, cuOf), [reference, overlay, shown, alignment, cuOf]);
-  const limits = useMemo(() => limitsOf(shown.length ? shown : reference ? [reference] : [], offsets, overlay, cap), [shown, reference, offsets, overlay, cap]);
+  const cap = useMemo(
+    () => displayCapture(reference, overlay, shown, alignment, cuOf),
+    [reference, overlay, shown, alignment, cuOf],
+  );
+  const limits = useMemo(
+    () => limitsOf(shown.length ? shown : reference ? [reference] : [], offsets, overlay, cap),
+    [shown, reference, offsets, overlay, cap],
+  );
   const opening = openingOf(cap, overlay, shown);
 
   const [view, setView] = useState<Span>(() => opening ?? { t0: 0, t1: 1 });
@@ -148,7 +174,9 @@ export function useNavigation(inp: NavigationInput): Navigation {
       return open(a.traceId, jumpWindow(a, span.t1 - span.t0, span.t1 - span.t0));
     }
     const s = overlay ? (offsets[a.traceId] ?? 0) : 0;
-    applyView(jumpWindow({ kind: a.kind, t0: a.t0 - s, t1: a.t1 == null ? a.t1 : a.t1 - s }, view.t1 - view.t0, capSpan));
+    applyView(
+      jumpWindow({ kind: a.kind, t0: a.t0 - s, t1: a.t1 == null ? a.t1 : a.t1 - s }, view.t1 - view.t0, capSpan),
+    );
   };
 
   return {

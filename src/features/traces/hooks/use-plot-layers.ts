@@ -7,7 +7,7 @@ import { fitRange, type CaptureView } from "../lib/capture-view";
 import { divisionStep } from "../lib/grid";
 import { traceColor } from "../lib/palette";
 import type { Span } from "../lib/zoom";
-import type { ChannelUnits } from "../lib/units";
+import type { ChannelUnits } from "../../../lib/trace-units";
 
 export interface LayersInput {
   traces: TraceInfo[];
@@ -52,7 +52,12 @@ export function usePlotLayers(inp: LayersInput): TraceLayer[] {
 }
 
 /** The level range: the capture's screen, or fitted to the data in view ("Fit"). */
-export function levelRange(cap: CaptureView | null, fit: boolean, layers: TraceLayer[], view: Span): { vMin: number; vMax: number } {
+export function levelRange(
+  cap: CaptureView | null,
+  fit: boolean,
+  layers: TraceLayer[],
+  view: Span,
+): { vMin: number; vMax: number } {
   if (!cap) return { vMin: -1, vMax: 1 };
   if (!fit) return { vMin: cap.vMin, vMax: cap.vMax };
   let lo = Infinity;

@@ -5,7 +5,7 @@ import type { CaptureView } from "../lib/capture-view";
 import type { CursorPositions } from "../lib/readout";
 import { eventMarkers } from "../lib/overlay-geometry";
 import { PLOT_COLORS, traceColor } from "../lib/palette";
-import type { ChannelUnits } from "../lib/units";
+import type { ChannelUnits } from "../../../lib/trace-units";
 
 export interface PlotModelInput {
   traces: TraceInfo[];
@@ -32,7 +32,21 @@ function displayMark(a: Annotation, shift: number, cu: ChannelUnits): Annotation
 
 /** Everything the plot's layers draw, in display time and each channel's physical unit. */
 export function usePlotModel(inp: PlotModelInput): PlotModel {
-  const { traces, shown, overlay, layers, cap, showEvents, offsets, cuOf, annotations, pointers, selectedId, cursors, draft } = inp;
+  const {
+    traces,
+    shown,
+    overlay,
+    layers,
+    cap,
+    showEvents,
+    offsets,
+    cuOf,
+    annotations,
+    pointers,
+    selectedId,
+    cursors,
+    draft,
+  } = inp;
   const shownIds = useMemo(() => new Set(shown.map((t) => t.id)), [shown]);
   const events = useMemo(
     () =>
@@ -45,11 +59,17 @@ export function usePlotModel(inp: PlotModelInput): PlotModel {
     [showEvents, shown, overlay, traces, cuOf, offsets],
   );
   const marks = useMemo(
-    () => annotations.filter((a) => shownIds.has(a.traceId)).map((a) => displayMark(a, overlay ? (offsets[a.traceId] ?? 0) : 0, cuOf(a.traceId, a.channel))),
+    () =>
+      annotations
+        .filter((a) => shownIds.has(a.traceId))
+        .map((a) => displayMark(a, overlay ? (offsets[a.traceId] ?? 0) : 0, cuOf(a.traceId, a.channel))),
     [annotations, shownIds, overlay, offsets, cuOf],
   );
   const shownPointers = useMemo(
-    () => pointers.filter((p) => shownIds.has(p.traceId)).map((p) => ({ ...p, t: p.t - (overlay ? (offsets[p.traceId] ?? 0) : 0), v: p.v * cuOf(p.traceId).fromFile })),
+    () =>
+      pointers
+        .filter((p) => shownIds.has(p.traceId))
+        .map((p) => ({ ...p, t: p.t - (overlay ? (offsets[p.traceId] ?? 0) : 0), v: p.v * cuOf(p.traceId).fromFile })),
     [pointers, shownIds, overlay, offsets, cuOf],
   );
   return useMemo(

@@ -1,6 +1,6 @@
 import { useCallback, useMemo } from "react";
 import type { TraceInfo } from "../types";
-import { channelUnits, traceUnits, type ChannelUnits } from "../lib/units";
+import { channelUnits, traceUnits, type ChannelUnits } from "../../../lib/trace-units";
 
 export interface TraceUnits {
   /** each trace's channels' unit models (shared/trace/units), by trace id */
@@ -14,11 +14,20 @@ export interface TraceUnits {
  * levels and pointers travel in the file's unit and are scaled by `fromFile` for display.
  */
 export function useTraceUnits(traces: TraceInfo[]): TraceUnits {
-  const unitsById = useMemo(() => new Map(traces.map((t) => [t.id, t.channels.map((_, j) => traceUnits(t, j))])), [traces]);
+  const unitsById = useMemo(
+    () => new Map(traces.map((t) => [t.id, t.channels.map((_, j) => traceUnits(t, j))])),
+    [traces],
+  );
   const cuOf = useCallback(
     (id: string | undefined, channel?: string | null): ChannelUnits => {
       const t = traces.find((x) => x.id === id);
-      const j = channel && t ? Math.max(0, t.channels.findIndex((c) => c.name === channel)) : 0;
+      const j =
+        channel && t
+          ? Math.max(
+              0,
+              t.channels.findIndex((c) => c.name === channel),
+            )
+          : 0;
       return (id ? unitsById.get(id)?.[j] : undefined) ?? channelUnits(null);
     },
     [traces, unitsById],

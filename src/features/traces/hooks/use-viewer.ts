@@ -13,7 +13,7 @@ import { usePlotModel } from "./use-plot-model";
 import { useFrameThrottle } from "./use-frame-throttle";
 import { sameWindow } from "../lib/zoom";
 import { defaultCursors, type CursorPositions } from "../lib/readout";
-import { formatLevel, formatTime } from "../lib/units";
+import { formatLevel, formatTime } from "../../../lib/trace-units";
 import { plotAreaWidth } from "../plot/layout";
 
 const NONE: never[] = [];
@@ -63,7 +63,12 @@ export function useViewer(props: TraceViewerProps, hoverRef: RefObject<HTMLSpanE
   const [boxRef, measured] = useElementWidth();
   const boxWidth = measured ? measured : null;
   const fetchView = useDebouncedValue(view, 120, sameWindow);
-  const windows = useWindowData(shown, overlay ? offsets : NO_OFFSETS, fetchView, boxWidth == null ? null : plotAreaWidth(boxWidth));
+  const windows = useWindowData(
+    shown,
+    overlay ? offsets : NO_OFFSETS,
+    fetchView,
+    boxWidth == null ? null : plotAreaWidth(boxWidth),
+  );
   const channelNames = useMemo(() => channelNamesOf(shown), [shown]);
   const layers = usePlotLayers({ traces, shown, overlay, windows, offsets, hiddenChannels, channelNames, unitsById });
 
@@ -72,7 +77,16 @@ export function useViewer(props: TraceViewerProps, hoverRef: RefObject<HTMLSpanE
   const [panMode, setPanMode] = useState(false);
   const [showEvents, toggleEvents] = useEventsToggle(props.highlightEvents);
   const offsetOf = useCallback((id: string) => (overlay ? (offsets[id] ?? 0) : 0), [overlay, offsets]);
-  const marks = useMarkTools({ canMark, traces, referenceId: reference?.id, layers, hiddenChannels, offsetOf, cuOf, onCreateMark });
+  const marks = useMarkTools({
+    canMark,
+    traces,
+    referenceId: reference?.id,
+    layers,
+    hiddenChannels,
+    offsetOf,
+    cuOf,
+    onCreateMark,
+  });
 
   const yRange = useMemo(() => levelRange(cap, fitLevels, layers, view), [cap, fitLevels, layers, view]);
   const grids = gridsFor(cap, view, yRange, fitLevels);
@@ -94,8 +108,10 @@ export function useViewer(props: TraceViewerProps, hoverRef: RefObject<HTMLSpanE
 
   const emitPointer = useFrameThrottle<LocalPointer>(props.onPointerMove);
   const onHover = (p: { t: number; v: number } | null) => {
-    if (hoverRef.current) hoverRef.current.textContent = p ? `${formatTime(p.t)} · ${formatLevel(p.v, refCu.unit)}` : "";
-    if (reference) emitPointer(p ? { traceId: reference.id, t: p.t + offsetOf(reference.id), v: p.v / refCu.fromFile } : null);
+    if (hoverRef.current)
+      hoverRef.current.textContent = p ? `${formatTime(p.t)} · ${formatLevel(p.v, refCu.unit)}` : "";
+    if (reference)
+      emitPointer(p ? { traceId: reference.id, t: p.t + offsetOf(reference.id), v: p.v / refCu.fromFile } : null);
   };
 
   const actions = {
@@ -110,10 +126,33 @@ export function useViewer(props: TraceViewerProps, hoverRef: RefObject<HTMLSpanE
   };
 
   const state = {
-    traces, annotations, overlay, canMark, touch, cuOf, alignment, nav, refCu,
-    hiddenTraces, setHiddenTraces, hiddenChannels, setHiddenChannels, channelNames,
-    boxWidth, windows, fitLevels, cursors, setCursors, panMode, showEvents, marks,
-    yRange, ...grids, model, onHover, actions,
+    traces,
+    annotations,
+    overlay,
+    canMark,
+    touch,
+    cuOf,
+    alignment,
+    nav,
+    refCu,
+    hiddenTraces,
+    setHiddenTraces,
+    hiddenChannels,
+    setHiddenChannels,
+    channelNames,
+    boxWidth,
+    windows,
+    fitLevels,
+    cursors,
+    setCursors,
+    panMode,
+    showEvents,
+    marks,
+    yRange,
+    ...grids,
+    model,
+    onHover,
+    actions,
   };
   // the element whose width sizes the plot: given apart, as the `ref` of that element
   return [state, boxRef] as const;

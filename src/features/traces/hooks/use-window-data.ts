@@ -20,7 +20,9 @@ export function useWindowData(
   view: { t0: number; t1: number } | null,
   plotWidthPx: number | null,
 ): Record<string, TraceWindowState> {
-  const params = traces.map((tr) => (view && plotWidthPx && plotWidthPx > 0 ? windowParams(tr, offsets[tr.id] ?? 0, view, plotWidthPx) : null));
+  const params = traces.map((tr) =>
+    view && plotWidthPx && plotWidthPx > 0 ? windowParams(tr, offsets[tr.id] ?? 0, view, plotWidthPx) : null,
+  );
   const results = useTraceWindowResults(params);
   return useMemo(() => {
     const out: Record<string, TraceWindowState> = {};

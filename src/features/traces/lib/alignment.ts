@@ -8,7 +8,13 @@ export type Slope = "rising" | "falling";
  * below the level (some bucket's min < level) and then at or above it (a bucket's max ≥ level);
  * a bucket that holds both counts as the crossing. Returns the bucket's time, or null.
  */
-export function firstCrossing(t: ArrayLike<number>, min: ArrayLike<number>, max: ArrayLike<number>, level: number, slope: Slope = "rising"): number | null {
+export function firstCrossing(
+  t: ArrayLike<number>,
+  min: ArrayLike<number>,
+  max: ArrayLike<number>,
+  level: number,
+  slope: Slope = "rising",
+): number | null {
   let armed = false;
   const n = Math.min(t.length, min.length, max.length);
   for (let k = 0; k < n; k++) {
@@ -71,7 +77,11 @@ export function alignmentTime(
  * finely, spans two coarse buckets either side of it (the bucket before the crossing lies wholly on
  * the far side of the level, so the fine data starts armed).
  */
-export function refineWindow(crossing: number, coarse: { t0: number; t1: number; width: number }, bounds: { start: number; end: number }): { t0: number; t1: number } {
+export function refineWindow(
+  crossing: number,
+  coarse: { t0: number; t1: number; width: number },
+  bounds: { start: number; end: number },
+): { t0: number; t1: number } {
   const bw = (coarse.t1 - coarse.t0) / Math.max(1, coarse.width);
   return { t0: Math.max(bounds.start, crossing - 2 * bw), t1: Math.min(bounds.end, crossing + 2 * bw) };
 }

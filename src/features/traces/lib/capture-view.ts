@@ -1,7 +1,11 @@
 /** The capture view: the screen the technician saw, from the trace's capture settings. */
-import { SCREEN_DIVISIONS_X, SCREEN_DIVISIONS_Y, screenVoltageRange } from "../../../../shared/schemas/capture-settings";
+import {
+  SCREEN_DIVISIONS_X,
+  SCREEN_DIVISIONS_Y,
+  screenVoltageRange,
+} from "../../../../shared/schemas/capture-settings";
 import type { TraceInfo } from "../types";
-import { traceUnits, type ChannelUnits } from "./units";
+import { traceUnits, type ChannelUnits } from "../../../lib/trace-units";
 
 /** Where the trigger sits on the screen when the trigger point is known (10–20 % pre-trigger). */
 export const PRE_TRIGGER_FRACTION = 0.15;
@@ -64,7 +68,9 @@ export function captureView(trace: TraceInfo, cu: ChannelUnits = traceUnits(trac
   const first = trace.analysis?.events?.[0]?.timeS;
   const triggerTimeS = typeof first === "number" && Number.isFinite(first) ? first : null;
 
-  const timePerDivS = positive(s.timePerDivS) ? s.timePerDivS : Math.max(bounds.end - bounds.start, 1e-9) / SCREEN_DIVISIONS_X;
+  const timePerDivS = positive(s.timePerDivS)
+    ? s.timePerDivS
+    : Math.max(bounds.end - bounds.start, 1e-9) / SCREEN_DIVISIONS_X;
   const { t0, t1 } = captureTimeWindow(timePerDivS, bounds, triggerTimeS);
 
   let vMin: number;
@@ -81,7 +87,8 @@ export function captureView(trace: TraceInfo, cu: ChannelUnits = traceUnits(trac
     vMin = lo;
     vMax = lo + voltsPerDiv * SCREEN_DIVISIONS_Y;
   }
-  const triggerLevel = typeof s.triggerLevel === "number" && Number.isFinite(s.triggerLevel) ? s.triggerLevel * cu.perScope : null;
+  const triggerLevel =
+    typeof s.triggerLevel === "number" && Number.isFinite(s.triggerLevel) ? s.triggerLevel * cu.perScope : null;
   return { t0, t1, vMin, vMax, timePerDivS, voltsPerDiv, triggerTimeS, triggerLevel };
 }
 

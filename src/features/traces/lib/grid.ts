@@ -18,7 +18,7 @@ export function niceStepNear(x: number): number {
   const exp = Math.floor(Math.log10(x));
   const base = 10 ** exp;
   let best = base;
-  for (const m of [1, 2, 5, 10]) if (Math.abs(Math.log(m * base / x)) < Math.abs(Math.log(best / x))) best = m * base;
+  for (const m of [1, 2, 5, 10]) if (Math.abs(Math.log((m * base) / x)) < Math.abs(Math.log(best / x))) best = m * base;
   return best;
 }
 

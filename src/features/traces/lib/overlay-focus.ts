@@ -33,7 +33,7 @@ export function firstEventLength(analysis: Pick<TraceAnalysis, "events"> | null 
 export function firingFocus(lengths: (number | null)[], captureSpan: number): { t0: number; t1: number } | null {
   const longest = Math.max(0, ...lengths.filter(finite));
   if (!(longest > 0)) return null;
-  const wanted = longest * 2 / (1 - PRE_TRIGGER_FRACTION);
+  const wanted = (longest * 2) / (1 - PRE_TRIGGER_FRACTION);
   const span = niceStep(wanted / SCREEN_DIVISIONS_X) * SCREEN_DIVISIONS_X;
   if (!(span < captureSpan)) return null;
   const t0 = -PRE_TRIGGER_FRACTION * span;

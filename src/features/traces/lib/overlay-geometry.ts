@@ -1,7 +1,7 @@
 /** Geometry of what the viewer draws over the plot (events, annotations, cursors), and hit tests. Pure. */
 import type { Annotation, TraceAnalysis } from "../types";
 import type { CursorPositions } from "./readout";
-import { toPhysical, type ChannelUnits } from "./units";
+import { toPhysical, type ChannelUnits } from "../../../lib/trace-units";
 
 /**
  * A value of the analysis, in `analysis.unit`, in the channel's physical unit on the plot (shared
@@ -40,7 +40,11 @@ const finite = (x: unknown): x is number => typeof x === "number" && Number.isFi
 export function eventMarkers(analysis: TraceAnalysis | null | undefined, cu: ChannelUnits, offset = 0): EventMarker[] {
   if (!analysis?.events?.length) return [];
   const ignition = analysis.kind === "secondary-ignition";
-  const baseValue = finite(analysis.baseline) ? analysis.baseline : finite(analysis.summary?.baseline) ? analysis.summary.baseline : 0;
+  const baseValue = finite(analysis.baseline)
+    ? analysis.baseline
+    : finite(analysis.summary?.baseline)
+      ? analysis.summary.baseline
+      : 0;
   const baseline = analysisToPlot(baseValue, analysis, cu);
   const sign = isInverted(analysis) ? -1 : 1;
   const level = (v: unknown) => (ignition && finite(v) ? baseline + sign * analysisToPlot(v, analysis, cu) : null);
@@ -49,7 +53,13 @@ export function eventMarkers(analysis: TraceAnalysis | null | undefined, cu: Cha
     .map((e) => {
       const burnMs = ignition && finite(e.burnTimeMs) && e.burnTimeMs > 0 ? e.burnTimeMs : null;
       const start = ignition ? (finite(e.sparkStartS) ? e.sparkStartS : burnMs != null ? e.timeS : null) : null;
-      const end = ignition ? (finite(e.sparkEndS) ? e.sparkEndS : burnMs != null ? e.timeS + burnMs / 1000 : null) : null;
+      const end = ignition
+        ? finite(e.sparkEndS)
+          ? e.sparkEndS
+          : burnMs != null
+            ? e.timeS + burnMs / 1000
+            : null
+        : null;
       return {
         tFire: e.timeS - offset,
         peakLevel: level(e.peak),
@@ -100,7 +110,13 @@ export function annotationShapes(annotations: Annotation[], f: PlotFrame, scale 
  * The annotation under a pixel, nearest first: a level's line, a pin's line or dot, a note's flag
  * (all within `tol`), then a span's range. Returns its id or null.
  */
-export function hitTestAnnotations(shapes: AnnotationShape[], px: number, py: number, f: PlotFrame, tol: number): string | null {
+export function hitTestAnnotations(
+  shapes: AnnotationShape[],
+  px: number,
+  py: number,
+  f: PlotFrame,
+  tol: number,
+): string | null {
   let best: { id: string; d: number } | null = null;
   const consider = (id: string, d: number) => {
     if (d <= tol && (!best || d < best.d)) best = { id, d };
@@ -130,7 +146,13 @@ export function hitTestAnnotations(shapes: AnnotationShape[], px: number, py: nu
 export type CursorHandle = "ta" | "tb" | "va" | "vb";
 
 /** Which cursor line is under a pixel (time cursors first), within `tol`. */
-export function hitTestCursors(c: CursorPositions, px: number, py: number, f: PlotFrame, tol: number): CursorHandle | null {
+export function hitTestCursors(
+  c: CursorPositions,
+  px: number,
+  py: number,
+  f: PlotFrame,
+  tol: number,
+): CursorHandle | null {
   const cands: { h: CursorHandle; d: number }[] = [
     { h: "ta", d: Math.abs(px - f.x(c.ta)) },
     { h: "tb", d: Math.abs(px - f.x(c.tb)) },
@@ -145,7 +167,11 @@ export function hitTestCursors(c: CursorPositions, px: number, py: number, f: Pl
  * The window that shows an annotation: a span with a quarter of its length either side; a point
  * mark (pin, note, level) centred, at the current zoom or the capture view's span if narrower.
  */
-export function jumpWindow(a: Pick<Annotation, "kind" | "t0" | "t1">, currentSpan: number, captureSpan: number): { t0: number; t1: number } {
+export function jumpWindow(
+  a: Pick<Annotation, "kind" | "t0" | "t1">,
+  currentSpan: number,
+  captureSpan: number,
+): { t0: number; t1: number } {
   if (a.kind === "span" && a.t1 != null && a.t1 !== a.t0) {
     const lo = Math.min(a.t0, a.t1);
     const hi = Math.max(a.t0, a.t1);

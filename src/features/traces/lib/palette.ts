@@ -13,7 +13,8 @@ export const TRACE_PALETTE = [
   "#0f6b8f", // harbour blue
 ] as const;
 
-export const traceColor = (i: number) => TRACE_PALETTE[((i % TRACE_PALETTE.length) + TRACE_PALETTE.length) % TRACE_PALETTE.length];
+export const traceColor = (i: number) =>
+  TRACE_PALETTE[((i % TRACE_PALETTE.length) + TRACE_PALETTE.length) % TRACE_PALETTE.length];
 
 /** Plot chrome, from the app palette (styles.css). */
 export const PLOT_COLORS = {

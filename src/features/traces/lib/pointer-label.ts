@@ -32,7 +32,15 @@ const overlapY = (b: Box, band: { top: number; bottom: number } | null) =>
   band ? Math.max(0, Math.min(b.y + b.h, band.bottom) - Math.max(b.y, band.top)) : 0;
 
 /** Position of a w × h label for a pointer at (px, py) inside `plot`, clear of the band if possible. */
-export function placePointerLabel(px: number, py: number, w: number, h: number, plot: PlotRect, band: BandPx, gap = 4): LabelPlacement {
+export function placePointerLabel(
+  px: number,
+  py: number,
+  w: number,
+  h: number,
+  plot: PlotRect,
+  band: BandPx,
+  gap = 4,
+): LabelPlacement {
   // beside the pointer, right or left, where the label fits without covering the pointer itself
   const fits = [px + 8, px - 8 - w].filter((x) => x >= plot.left + 1 && x + w <= plot.right - 1);
   const xs = fits.length ? fits : [Math.min(Math.max(px + 8, plot.left + 1), plot.right - w - 1)];
@@ -40,7 +48,13 @@ export function placePointerLabel(px: number, py: number, w: number, h: number, 
   let bestCost = Infinity;
   for (const x of xs) {
     const under = band(x, x + w);
-    const ys = [under ? under.top - gap - h : null, under ? under.bottom + gap : null, plot.top + 2, plot.bottom - h - 2, py + 6];
+    const ys = [
+      under ? under.top - gap - h : null,
+      under ? under.bottom + gap : null,
+      plot.top + 2,
+      plot.bottom - h - 2,
+      py + 6,
+    ];
     for (const y of ys) {
       if (y == null || y < plot.top || y + h > plot.bottom) continue;
       const box = { x, y, w, h };

@@ -1,5 +1,5 @@
 /** Cursor readouts: Δt, 1/Δt and the level difference in the channel's physical unit. Pure. */
-import { deltaLabel, formatFrequency, formatLevel, formatTime, type ChannelUnits } from "./units";
+import { deltaLabel, formatFrequency, formatLevel, formatTime, type ChannelUnits } from "../../../lib/trace-units";
 
 export interface CursorPositions {
   /** two time cursors, seconds */

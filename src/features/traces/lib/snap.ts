@@ -65,7 +65,9 @@ export function bucketRangeAt(e: Envelope, time: number): { lo: number; hi: numb
   if (k < 0 || k >= n) return null;
   const w = bucketWidth(e.t);
   if (k === n - 1 && !(time - e.t[k] <= (Number.isFinite(w) ? w : 0))) return null;
-  return finite(e.min[k]) && finite(e.max[k]) ? { lo: Math.min(e.min[k], e.max[k]), hi: Math.max(e.min[k], e.max[k]) } : null;
+  return finite(e.min[k]) && finite(e.max[k])
+    ? { lo: Math.min(e.min[k], e.max[k]), hi: Math.max(e.min[k], e.max[k]) }
+    : null;
 }
 
 /**

@@ -12,7 +12,8 @@ export function pixelRatio(): number {
 }
 
 /** Keeps far-off pixels finite and small so canvas paths stay well-behaved. */
-export const clampPx = (v: number, lo: number, hi: number) => (Number.isFinite(v) ? Math.min(Math.max(v, lo - 1e4), hi + 1e4) : NaN);
+export const clampPx = (v: number, lo: number, hi: number) =>
+  Number.isFinite(v) ? Math.min(Math.max(v, lo - 1e4), hi + 1e4) : NaN;
 
 /** The plot area in canvas px, its scales and value → canvas px maps. */
 export interface CanvasFrame {
@@ -113,7 +114,14 @@ export function chip(f: CanvasFrame, text: string, x: number, y: number, s: Chip
 }
 
 /** A small pennant pointing into the plot from x at height y; returns its width. */
-export function pennant(f: CanvasFrame, text: string, y: number, x: number, color: string, textColor = "#ffffff"): number {
+export function pennant(
+  f: CanvasFrame,
+  text: string,
+  y: number,
+  x: number,
+  color: string,
+  textColor = "#ffffff",
+): number {
   const { ctx, pr } = f;
   setFont(f, 10, 700);
   const h = 14 * pr;

@@ -8,7 +8,13 @@
 import uPlot from "uplot";
 import type { AnnotationKind } from "../types";
 import type { CursorPositions } from "../lib/readout";
-import { annotationShapes, hitTestAnnotations, hitTestCursors, type CursorHandle, type PlotFrame } from "../lib/overlay-geometry";
+import {
+  annotationShapes,
+  hitTestAnnotations,
+  hitTestCursors,
+  type CursorHandle,
+  type PlotFrame,
+} from "../lib/overlay-geometry";
 import { panByPixels, pinchWindow, pxToTime, selectionToWindow, wheelFactor, zoomAround, type Span } from "../lib/zoom";
 import type { PlotModel, PlotTransient } from "./model";
 import { pinLevel } from "./pin-level";
@@ -74,7 +80,14 @@ function local(c: Ctx, e: { clientX: number; clientY: number }): Pt {
 }
 
 function frame(c: Ctx): PlotFrame {
-  return { left: 0, top: 0, width: plotW(c), height: plotH(c), x: (t) => c.u.valToPos(t, "x"), y: (v) => c.u.valToPos(v, "y") };
+  return {
+    left: 0,
+    top: 0,
+    width: plotW(c),
+    height: plotH(c),
+    x: (t) => c.u.valToPos(t, "x"),
+    y: (v) => c.u.valToPos(v, "y"),
+  };
 }
 
 function redraw(c: Ctx): void {
@@ -101,7 +114,13 @@ function down(c: Ctx, e: PointerEvent): void {
   if (e.pointerType === "touch") c.touches.set(e.pointerId, pt);
   if (c.touches.size === 2) {
     const [a, b] = [...c.touches.entries()];
-    c.gesture = { type: "pinch", ids: [a[0], b[0]], d0: Math.hypot(a[1].x - b[1].x, a[1].y - b[1].y), c0: (a[1].x + b[1].x) / 2, start: c.host.props().view };
+    c.gesture = {
+      type: "pinch",
+      ids: [a[0], b[0]],
+      d0: Math.hypot(a[1].x - b[1].x, a[1].y - b[1].y),
+      c0: (a[1].x + b[1].x) / 2,
+      start: c.host.props().view,
+    };
     return redraw(c);
   }
   if (c.touches.size > 2) return;
@@ -109,8 +128,19 @@ function down(c: Ctx, e: PointerEvent): void {
   const p = c.host.props();
   const handle = cursorHit(c, pt, touch);
   if (handle) c.gesture = { type: "cursor", id: e.pointerId, handle };
-  else if (p.tool) c.gesture = { type: "mark", id: e.pointerId, kind: p.tool, x0: pt.x, y0: pt.y, x1: pt.x, y1: pt.y, shift: e.shiftKey };
-  else if (p.panMode || e.shiftKey || e.altKey || e.ctrlKey || e.metaKey || e.button === 1) c.gesture = { type: "pan", id: e.pointerId, x0: pt.x, start: p.view };
+  else if (p.tool)
+    c.gesture = {
+      type: "mark",
+      id: e.pointerId,
+      kind: p.tool,
+      x0: pt.x,
+      y0: pt.y,
+      x1: pt.x,
+      y1: pt.y,
+      shift: e.shiftKey,
+    };
+  else if (p.panMode || e.shiftKey || e.altKey || e.ctrlKey || e.metaKey || e.button === 1)
+    c.gesture = { type: "pan", id: e.pointerId, x0: pt.x, start: p.view };
   else c.gesture = { type: "select", id: e.pointerId, x0: pt.x, x1: pt.x, y0: pt.y, touch };
   if (c.gesture.type === "pan") c.u.over.style.cursor = "grabbing";
 }
@@ -238,6 +268,7 @@ export function attachGestures(u: uPlot, host: GestureHost): () => void {
 /** The range being dragged, as the selection layer draws it. */
 function selectionOf(g: Gesture | null): PlotTransient["selection"] {
   if (g?.type === "select" && Math.abs(g.x1 - g.x0) >= 2) return { x0: g.x0, x1: g.x1, kind: "zoom" };
-  if (g?.type === "mark" && g.kind === "span" && Math.abs(g.x1 - g.x0) >= 2) return { x0: g.x0, x1: g.x1, kind: "mark" };
+  if (g?.type === "mark" && g.kind === "span" && Math.abs(g.x1 - g.x0) >= 2)
+    return { x0: g.x0, x1: g.x1, kind: "mark" };
   return null;
 }

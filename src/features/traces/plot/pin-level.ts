@@ -13,9 +13,11 @@ export function layerOf(layers: TraceLayer[], traceId: string, channel?: string 
 }
 
 /** The level a pin's dot is drawn at (display unit): on the trace at its time, else its stored level. */
-export function pinLevel(a: Pick<Annotation, "traceId" | "channel" | "t0" | "level">, layers: TraceLayer[]): number | null {
+export function pinLevel(
+  a: Pick<Annotation, "traceId" | "channel" | "t0" | "level">,
+  layers: TraceLayer[],
+): number | null {
   const layer = layerOf(layers, a.traceId, a.channel);
   const onTrace = layer ? traceLevelAt(layer, a.t0, a.level ?? NaN) : null;
   return onTrace ?? a.level ?? null;
 }
-

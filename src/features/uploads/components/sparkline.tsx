@@ -5,7 +5,17 @@ import { minMaxBuckets } from "../lib/preview";
 const COLOURS = ["#d4831f", "#2f8f83", "#566b77", "#924a14"];
 
 /** A small min/max envelope of each channel (up to four), drawn as SVG. */
-export function Sparkline({ trace, width = 320, height = 64, label }: { trace: ParsedTrace; width?: number; height?: number; label: string }) {
+export function Sparkline({
+  trace,
+  width = 320,
+  height = 64,
+  label,
+}: {
+  trace: ParsedTrace;
+  width?: number;
+  height?: number;
+  label: string;
+}) {
   const paths = useMemo(() => {
     const chans = trace.channels.slice(0, 4);
     let lo = Infinity;
@@ -40,7 +50,14 @@ export function Sparkline({ trace, width = 320, height = 64, label }: { trace: P
       aria-label={label}
     >
       {paths.map((d, i) => (
-        <path key={i} d={d} fill="none" stroke={COLOURS[i % COLOURS.length]} strokeWidth="1" vectorEffect="non-scaling-stroke" />
+        <path
+          key={i}
+          d={d}
+          fill="none"
+          stroke={COLOURS[i % COLOURS.length]}
+          strokeWidth="1"
+          vectorEffect="non-scaling-stroke"
+        />
       ))}
     </svg>
   );

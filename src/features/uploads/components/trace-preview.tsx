@@ -6,7 +6,10 @@ import { Sparkline } from "./sparkline";
 export function TracePreviewPanel({ preview, fileName }: { preview: TracePreview; fileName: string }) {
   if (!preview.ok) {
     return (
-      <div role="alert" className={`rounded-lg border px-3 py-2 text-sm ${preview.needsRate ? "border-kiln-300 bg-kiln-50 text-ink-800" : "border-alarm-500 bg-white text-alarm-600"}`}>
+      <div
+        role="alert"
+        className={`rounded-lg border px-3 py-2 text-sm ${preview.needsRate ? "border-kiln-300 bg-kiln-50 text-ink-800" : "border-alarm-500 bg-white text-alarm-600"}`}
+      >
         <p className="font-semibold">
           {preview.needsRate ? "Sample rate needed" : "This file cannot be read"}
           {preview.line !== null ? ` (line ${preview.line})` : ""}
@@ -53,7 +56,9 @@ export function TracePreviewPanel({ preview, fileName }: { preview: TracePreview
           </li>
         ))}
       </ul>
-      {preview.partial ? <p className="text-xs text-ink-500">Preview of the first 2 MB; the server reads the whole file.</p> : null}
+      {preview.partial ? (
+        <p className="text-xs text-ink-500">Preview of the first 2 MB; the server reads the whole file.</p>
+      ) : null}
       {t.warnings.length ? (
         <ul className="space-y-0.5 text-xs text-kiln-700">
           {t.warnings.slice(0, 4).map((w) => (
@@ -65,6 +70,7 @@ export function TracePreviewPanel({ preview, fileName }: { preview: TracePreview
   );
 }
 
-const fmt = (x: number) => (Math.abs(x) >= 1000 || (Math.abs(x) < 0.01 && x !== 0) ? x.toExponential(2) : Number(x.toPrecision(4)).toString());
+const fmt = (x: number) =>
+  Math.abs(x) >= 1000 || (Math.abs(x) < 0.01 && x !== 0) ? x.toExponential(2) : Number(x.toPrecision(4)).toString();
 const capital = (s: string) => s.charAt(0).toUpperCase() + s.slice(1);
 const stripLine = (s: string) => s.replace(/^line \d+:\s*/i, "");

@@ -50,34 +50,7 @@ export function TraceUploadCard({
   const unit = p?.ok ? channelUnits(p.trace.channels[0]?.unit ?? null).scopeUnit : "V";
   const titleId = `${item.key}-title`;
 
-  if (item.status === "done") {
-    const r = item.result;
-    return (
-      <li
-        className="flex flex-wrap items-center gap-3 rounded-xl border border-verdigris-500 bg-white px-4 py-3"
-        aria-labelledby={titleId}
-      >
-        <span
-          aria-hidden="true"
-          className="flex h-7 w-7 items-center justify-center rounded-full bg-verdigris-500 text-sm font-bold text-white"
-        >
-          ✓
-        </span>
-        <div className="min-w-0 flex-1">
-          <p id={titleId} className="truncate font-semibold">
-            {item.fileName}
-          </p>
-          <p className="text-sm text-ink-600">
-            Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}
-            . It is listed with the case's traces.
-          </p>
-        </div>
-        <button type="button" className={btn.secondary} onClick={onRemove}>
-          Dismiss
-        </button>
-      </li>
-    );
-  }
+  if (item.status === "done") return <UploadedCard item={item} titleId={titleId} onRemove={onRemove} />;
 
   return (
     <li className="rounded-xl border border-ink-200 bg-white shadow-sm" aria-labelledby={titleId}>
@@ -175,21 +148,7 @@ export function TraceUploadCard({
             Waiting its turn: captures go one after another.
           </p>
         ) : null}
-        {item.status === "uploading" ? (
-          <div className="space-y-1">
-            <progress
-              className="h-3 w-full accent-kiln-500"
-              max={1}
-              value={
-                item.upload?.phase === "server" || item.upload?.phase === "compressing" ? undefined : item.progress
-              }
-              aria-label={`Uploading ${item.fileName}`}
-            />
-            <p className="text-sm text-ink-600" aria-live="polite" data-testid="upload-progress">
-              {item.upload ? localProgressText(item.upload) : "Starting…"}
-            </p>
-          </div>
-        ) : null}
+        {item.status === "uploading" ? <UploadProgress item={item} /> : null}
 
         <div className="flex flex-wrap gap-2">
           {busy ? (
@@ -204,5 +163,52 @@ export function TraceUploadCard({
         </div>
       </div>
     </li>
+  );
+}
+
+/** A trace that arrived: what the server read, and a dismiss. */
+function UploadedCard({ item, titleId, onRemove }: { item: UploadItem; titleId: string; onRemove: () => void }) {
+  const r = item.result;
+  return (
+    <li
+      className="flex flex-wrap items-center gap-3 rounded-xl border border-verdigris-500 bg-white px-4 py-3"
+      aria-labelledby={titleId}
+    >
+      <span
+        aria-hidden="true"
+        className="flex h-7 w-7 items-center justify-center rounded-full bg-verdigris-500 text-sm font-bold text-white"
+      >
+        ✓
+      </span>
+      <div className="min-w-0 flex-1">
+        <p id={titleId} className="truncate font-semibold">
+          {item.fileName}
+        </p>
+        <p className="text-sm text-ink-600">
+          Uploaded{r ? ` — ${count(r.samples)} samples at ${si(r.sampleRateHz, "S/s")}, ${si(r.durationS, "s")}` : ""}.
+          It is listed with the case's traces.
+        </p>
+      </div>
+      <button type="button" className={btn.secondary} onClick={onRemove}>
+        Dismiss
+      </button>
+    </li>
+  );
+}
+
+/** The upload under way: its share sent (indeterminate while compressing or on the server) and its stage. */
+function UploadProgress({ item }: { item: UploadItem }) {
+  return (
+    <div className="space-y-1">
+      <progress
+        className="h-3 w-full accent-kiln-500"
+        max={1}
+        value={item.upload?.phase === "server" || item.upload?.phase === "compressing" ? undefined : item.progress}
+        aria-label={`Uploading ${item.fileName}`}
+      />
+      <p className="text-sm text-ink-600" aria-live="polite" data-testid="upload-progress">
+        {item.upload ? localProgressText(item.upload) : "Starting…"}
+      </p>
+    </div>
   );
 }

@@ -1,4 +1,4 @@
-import { useCallback, useEffect, useRef, useState } from "react";
+import { useCallback, useEffect, useLayoutEffect, useRef, useState } from "react";
 import { Upload } from "tus-js-client";
 import { MAX_TRACE_FILE_BYTES } from "../../../../shared/trace/parse";
 import type { CaptureSettings } from "../../../../shared/schemas/capture-settings";
@@ -14,8 +14,7 @@ import {
   type SettingsDraft,
   type SettingsErrors,
 } from "../lib/settings";
-import type { UploadState } from "../lib/capture-upload";
-import { forgetUpload, savedPieces, savedUploads, type SavedUpload } from "../lib/upload-store";
+import { forgetUpload, savedPieces, savedUploads } from "../lib/upload-store";
 import { restoredItem, useUploadLine } from "./use-upload-line";
 import { serverMessage, type UploadItem, type UploadStatus } from "../lib/upload-item";
 
@@ -49,11 +48,13 @@ export function useTraceUploads(opts: {
 }) {
   const [items, setItems] = useState<UploadItem[]>([]);
   const itemsRef = useRef(items);
-  itemsRef.current = items;
-  const aborts = useRef(new Map<string, AbortController>());
   const seq = useRef(0);
   const optsRef = useRef(opts);
-  optsRef.current = opts;
+  // the latest items and options for the callbacks, set once the render is committed
+  useLayoutEffect(() => {
+    itemsRef.current = items;
+    optsRef.current = opts;
+  });
 
   const patch = useCallback((key: string, p: Partial<UploadItem> | ((it: UploadItem) => Partial<UploadItem>)) => {
     setItems((xs) => xs.map((x) => (x.key === key ? { ...x, ...(typeof p === "function" ? p(x) : p) } : x)));
@@ -232,7 +233,7 @@ function useRatePreview(
       }
     }, 300);
     return () => clearTimeout(t);
-  }, [rateKey, patch]);
+  }, [rateKey, patch, itemsRef]);
 }
 
 /** A chosen file as an item: being read (or refused at once when over the size limit). */
@@ -291,4 +292,3 @@ function recheck(draft: SettingsDraft, it: UploadItem): SettingsErrors {
   for (const k of Object.keys(it.errors) as (keyof SettingsErrors)[]) if (r.errors[k]) out[k] = r.errors[k];
   return out;
 }
-

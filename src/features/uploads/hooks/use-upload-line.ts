@@ -1,4 +1,4 @@
-import { useCallback, useEffect, useMemo, useRef } from "react";
+import { useCallback, useEffect, useLayoutEffect, useMemo, useRef } from "react";
 import type { CaptureSettings } from "../../../../shared/schemas/capture-settings";
 import type { UploadedTrace } from "../api/upload-trace";
 import { CaptureUpload, warmCompressor, type UploadState } from "../lib/capture-upload";
@@ -65,6 +65,47 @@ function outcome(u: UploadState, it: UploadItem): Partial<UploadItem> {
   };
 }
 
+/** The line's state, kept in refs by the hook. */
+interface LineRefs {
+  waiting: { current: string[] };
+  current: { current: { key: string; upload: CaptureUpload } | null };
+  jobs: { current: Map<string, LineJob> };
+  done: { current: (t: UploadedTrace) => void };
+}
+
+/** Starts the next waiting upload unless one is under way (skipping keys whose item or job is gone). */
+function startNext(line: LineRefs, itemsRef: { current: UploadItem[] }, patch: Patch): void {
+  if (line.current.current) return;
+  const key = line.waiting.current.shift();
+  if (!key) return;
+  const it = itemsRef.current.find((x) => x.key === key);
+  const job = line.jobs.current.get(key);
+  if (!it || !job) return startNext(line, itemsRef, patch);
+  const r = it.restored;
+  const upload = new CaptureUpload({
+    key: r?.saved.key ?? `${job.caseId}:${key}:${Date.now()}`,
+    caseId: job.caseId,
+    file: it.file,
+    fileName: it.fileName,
+    fileBytes: it.fileBytes,
+    lastModified: it.lastModified,
+    settings: job.settings,
+    traceName: r?.saved.traceName,
+    restored: r ? { pieces: r.pieces, done: r.saved.compressedDone, uploadUrl: r.saved.uploadUrl } : undefined,
+    onState: (u) => patch(key, { upload: u, progress: sentShare(u) }),
+  });
+  line.current.current = { key, upload };
+  patch(key, { status: "uploading", serverError: undefined, errors: {} });
+  void upload.start();
+  void upload.finished.then((u) => {
+    line.current.current = null;
+    line.jobs.current.delete(key);
+    patch(key, outcome(u, it));
+    if (u.phase === "done" && u.result) line.done.current(u.result);
+    startNext(line, itemsRef, patch);
+  });
+}
+
 /**
  * The page's uploads go one at a time, in the order they were started (a shop's uplink does
  * better with one capture at full rate than several sharing it). Leaving the page pauses the one
@@ -79,39 +120,11 @@ export function useUploadLine(
   const current = useRef<{ key: string; upload: CaptureUpload } | null>(null);
   const jobs = useRef(new Map<string, LineJob>());
   const done = useRef(onUploaded);
-  done.current = onUploaded;
+  useLayoutEffect(() => {
+    done.current = onUploaded;
+  });
 
-  const runNext = useCallback(() => {
-    if (current.current) return;
-    const key = waiting.current.shift();
-    if (!key) return;
-    const it = itemsRef.current.find((x) => x.key === key);
-    const job = jobs.current.get(key);
-    if (!it || !job) return runNext();
-    const r = it.restored;
-    const upload = new CaptureUpload({
-      key: r?.saved.key ?? `${job.caseId}:${key}:${Date.now()}`,
-      caseId: job.caseId,
-      file: it.file,
-      fileName: it.fileName,
-      fileBytes: it.fileBytes,
-      lastModified: it.lastModified,
-      settings: job.settings,
-      traceName: r?.saved.traceName,
-      restored: r ? { pieces: r.pieces, done: r.saved.compressedDone, uploadUrl: r.saved.uploadUrl } : undefined,
-      onState: (u) => patch(key, { upload: u, progress: sentShare(u) }),
-    });
-    current.current = { key, upload };
-    patch(key, { status: "uploading", serverError: undefined, errors: {} });
-    void upload.start();
-    void upload.finished.then((u) => {
-      current.current = null;
-      jobs.current.delete(key);
-      patch(key, outcome(u, it));
-      if (u.phase === "done" && u.result) done.current(u.result);
-      runNext();
-    });
-  }, [itemsRef, patch]);
+  const runNext = useCallback(() => startNext({ waiting, current, jobs, done }, itemsRef, patch), [itemsRef, patch]);
 
   // The compressor is loaded now, while online: a capture chosen offline is compressed all the same.
   useEffect(() => warmCompressor(), []);

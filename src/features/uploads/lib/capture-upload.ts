@@ -324,7 +324,7 @@ export class CaptureUpload {
   }
 
   private async succeeded(body: string): Promise<void> {
-    let trace: UploadedTrace | null = null;
+    let trace: UploadedTrace | null;
     try {
       trace = body ? (JSON.parse(body).trace as UploadedTrace) : null;
     } catch {

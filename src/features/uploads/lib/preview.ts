@@ -29,7 +29,10 @@ export type TracePreview =
     };
 
 /** The start of a file as text, cut at the last complete line when the file is longer. */
-export async function readHead(file: File, bytes = PREVIEW_BYTES): Promise<{ text: string; partial: boolean; bytesRead: number }> {
+export async function readHead(
+  file: File,
+  bytes = PREVIEW_BYTES,
+): Promise<{ text: string; partial: boolean; bytesRead: number }> {
   const partial = file.size > bytes;
   const blob = partial ? file.slice(0, bytes) : file;
   let text = await blob.text();
@@ -48,9 +51,18 @@ export async function readHead(file: File, bytes = PREVIEW_BYTES): Promise<{ tex
  * Parse the head of a file with the shared parser, the same rules as the server's. A file with no
  * time column is parsed again at the stated rate (or at 1 S/s just to show its shape).
  */
-export function previewText(head: { text: string; partial: boolean; bytesRead: number }, fileSize: number, statedRateHz?: number): TracePreview {
+export function previewText(
+  head: { text: string; partial: boolean; bytesRead: number },
+  fileSize: number,
+  statedRateHz?: number,
+): TracePreview {
   const ratio = head.partial && head.bytesRead > 0 ? fileSize / head.bytesRead : 1;
-  const finish = (trace: ParsedTrace, noTimeColumn: boolean, rateFromFile: boolean, placeholderRate = false): TracePreview => ({
+  const finish = (
+    trace: ParsedTrace,
+    noTimeColumn: boolean,
+    rateFromFile: boolean,
+    placeholderRate = false,
+  ): TracePreview => ({
     ok: true,
     trace,
     partial: head.partial,
@@ -64,15 +76,29 @@ export function previewText(head: { text: string; partial: boolean; bytesRead: n
     const fromMetadata = t.warnings.some((w) => /no time column/i.test(w));
     return finish(t, fromMetadata, true);
   } catch (e) {
-    if (!(e instanceof TraceParseError)) return { ok: false, code: "unknown", line: null, message: e instanceof Error ? e.message : String(e), needsRate: false };
-    if (e.code !== "no-sample-rate") return { ok: false, code: e.code, line: e.line, message: e.message, needsRate: false };
+    if (!(e instanceof TraceParseError))
+      return {
+        ok: false,
+        code: "unknown",
+        line: null,
+        message: e instanceof Error ? e.message : String(e),
+        needsRate: false,
+      };
+    if (e.code !== "no-sample-rate")
+      return { ok: false, code: e.code, line: e.line, message: e.message, needsRate: false };
     try {
       const stated = statedRateHz !== undefined && statedRateHz > 0;
       const t = parseTraceText(head.text, { sampleRateHz: stated ? statedRateHz : 1 });
       return finish(t, true, false, !stated);
     } catch (e2) {
       const pe = e2 instanceof TraceParseError ? e2 : null;
-      return { ok: false, code: pe?.code ?? "unknown", line: pe?.line ?? null, message: e2 instanceof Error ? e2.message : String(e2), needsRate: true };
+      return {
+        ok: false,
+        code: pe?.code ?? "unknown",
+        line: pe?.line ?? null,
+        message: e2 instanceof Error ? e2.message : String(e2),
+        needsRate: true,
+      };
     }
   }
 }

@@ -1,4 +1,9 @@
-import { captureSettingsSchema, type CaptureSettings, type ProbeKind, type TraceKind } from "../../../../shared/schemas/capture-settings";
+import {
+  captureSettingsSchema,
+  type CaptureSettings,
+  type ProbeKind,
+  type TraceKind,
+} from "../../../../shared/schemas/capture-settings";
 import type { ParsedTrace } from "../../../../shared/trace/types";
 import { step125 } from "./format";
 
@@ -160,7 +165,8 @@ export function initialSettings(trace: ParsedTrace | null, guessedKind: TraceKin
 /** After a kind change: move the probe along when it still had the previous kind's usual probe. */
 export function withKind(d: SettingsDraft, kind: TraceKind): SettingsDraft {
   const probe = d.probe === probeForKind[d.kind] ? probeForKind[kind] : d.probe;
-  const mvPerAmp = probe === "current-clamp" && d.mvPerAmp === "" ? (kind === "relative-compression" ? "1" : "100") : d.mvPerAmp;
+  const mvPerAmp =
+    probe === "current-clamp" && d.mvPerAmp === "" ? (kind === "relative-compression" ? "1" : "100") : d.mvPerAmp;
   return { ...d, kind, probe, mvPerAmp };
 }
 
@@ -171,14 +177,19 @@ export function withKind(d: SettingsDraft, kind: TraceKind): SettingsDraft {
  * with a thousands comma and as 1.000 with a decimal comma. Hexadecimal and other non-decimal
  * forms that Number() would take ("0x10") are refused.
  */
-export function parseNumberInput(raw: string): { ok: true; value: number | undefined } | { ok: false; message: string } {
+export function parseNumberInput(
+  raw: string,
+): { ok: true; value: number | undefined } | { ok: false; message: string } {
   const s = raw.trim();
   if (s === "") return { ok: true, value: undefined };
   const notNumber = { ok: false as const, message: "Enter a number." };
   let text: string;
   if (/^[-+]?[1-9]\d{0,2},\d{3}$/.test(s)) {
     const [whole, frac] = s.replace(/^[-+]/, "").split(",");
-    return { ok: false, message: `“${s}” could be ${whole}${frac} or ${whole}.${frac}: write it without the comma (${whole}${frac}) or with a decimal point (${whole}.${frac}).` };
+    return {
+      ok: false,
+      message: `“${s}” could be ${whole}${frac} or ${whole}.${frac}: write it without the comma (${whole}${frac}) or with a decimal point (${whole}.${frac}).`,
+    };
   } else if (/^[-+]?[1-9]\d{0,2}(,\d{3})+(\.\d+)?$/.test(s)) {
     text = s.replace(/,/g, ""); // thousands commas: "1,000,000", "1,000.5"
   } else if (/^[-+]?\d*,\d+([eE][-+]?\d+)?$/.test(s)) {
@@ -197,7 +208,10 @@ export type SettingsErrors = Partial<Record<SettingsField | "form", string>>;
  * The settings as the API wants them (shared captureSettingsSchema), or the messages to show
  * beside each field. `needsRate`: the file has no time column, so the sample rate is required.
  */
-export function toCaptureSettings(d: SettingsDraft, needsRate: boolean): { ok: true; settings: CaptureSettings } | { ok: false; errors: SettingsErrors } {
+export function toCaptureSettings(
+  d: SettingsDraft,
+  needsRate: boolean,
+): { ok: true; settings: CaptureSettings } | { ok: false; errors: SettingsErrors } {
   const errors: SettingsErrors = {};
   const numbers: Partial<Record<SettingsField, number | undefined>> = {};
   const read = (field: SettingsField, raw: string, scale = 1) => {
@@ -220,8 +234,10 @@ export function toCaptureSettings(d: SettingsDraft, needsRate: boolean): { ok: t
   read("coil", d.coil);
   read("cylinders", d.cylinders);
 
-  if (numbers.voltsPerDiv === undefined && !errors.voltsPerDiv) errors.voltsPerDiv = "Enter the volts per division the scope was set to.";
-  if (numbers.timePerDivS === undefined && !errors.timePerDivS) errors.timePerDivS = "Enter the time per division the scope was set to.";
+  if (numbers.voltsPerDiv === undefined && !errors.voltsPerDiv)
+    errors.voltsPerDiv = "Enter the volts per division the scope was set to.";
+  if (numbers.timePerDivS === undefined && !errors.timePerDivS)
+    errors.timePerDivS = "Enter the time per division the scope was set to.";
   if (needsRate && numbers.sampleRateHz === undefined && !errors.sampleRateHz)
     errors.sampleRateHz = "This file has no time column: enter the sample rate it was recorded at.";
   if (d.probe === "current-clamp" && numbers.mvPerAmp === undefined && !errors.mvPerAmp)
@@ -249,7 +265,8 @@ export function toCaptureSettings(d: SettingsDraft, needsRate: boolean): { ok: t
     everyCylinder: d.kind === "secondary-ignition" ? d.everyCylinder : false,
     cylinders: numbers.cylinders,
   };
-  for (const k of Object.keys(candidate) as (keyof typeof candidate)[]) if (candidate[k] === undefined) delete candidate[k];
+  for (const k of Object.keys(candidate) as (keyof typeof candidate)[])
+    if (candidate[k] === undefined) delete candidate[k];
 
   const r = captureSettingsSchema.safeParse(candidate);
   if (!r.success) {

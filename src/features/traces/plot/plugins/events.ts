@@ -1,7 +1,7 @@
 /** Layer plugin: the analysis's events — a firing tick with a ring at the peak, a bracket over each burn. */
 import type uPlot from "uplot";
 import type { EventMarker } from "../../lib/overlay-geometry";
-import { formatTime } from "../../lib/units";
+import { formatTime } from "../../../../lib/trace-units";
 import { inPlotArea, setFont, type CanvasFrame } from "../canvas";
 import type { GetPlotState } from "../model";
 

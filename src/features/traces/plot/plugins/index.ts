@@ -15,7 +15,16 @@ import { selectionPlugin } from "./selection";
 import { pointersPlugin } from "./pointers";
 
 export function layerPlugins(get: GetPlotState): uPlot.Plugin[] {
-  return [tracesPlugin, levelsPlugin, eventsPlugin, marksPlugin, pinsPlugin, cursorsPlugin, selectionPlugin, pointersPlugin].map((p) => p(get));
+  return [
+    tracesPlugin,
+    levelsPlugin,
+    eventsPlugin,
+    marksPlugin,
+    pinsPlugin,
+    cursorsPlugin,
+    selectionPlugin,
+    pointersPlugin,
+  ].map((p) => p(get));
 }
 
 export { pinLevel, layerOf } from "../pin-level";

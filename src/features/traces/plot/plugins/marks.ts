@@ -53,7 +53,11 @@ function drawLevel(f: CanvasFrame, a: Annotation, selected: boolean): void {
   markLine(f, a, selected);
   hline(f, y);
   f.ctx.setLineDash([]);
-  chip(f, markLabel(a) + offscreen(f, a.level), f.right - 24 * f.pr, y - 20 * f.pr, { color: a.color, align: "right", dashed: a.pending });
+  chip(f, markLabel(a) + offscreen(f, a.level), f.right - 24 * f.pr, y - 20 * f.pr, {
+    color: a.color,
+    align: "right",
+    dashed: a.pending,
+  });
 }
 
 /** A note: a flag on a short pole at the top edge. */
@@ -103,7 +107,9 @@ export function marksPlugin(get: GetPlotState): uPlot.Plugin {
     hooks: {
       drawClear: (u) => {
         const m = get();
-        inPlotArea(u, (f) => m.annotations.forEach((a) => a.kind === "span" && drawSpanFill(f, a, a.id === m.selectedId)));
+        inPlotArea(u, (f) =>
+          m.annotations.forEach((a) => a.kind === "span" && drawSpanFill(f, a, a.id === m.selectedId)),
+        );
       },
       draw: (u) => {
         const m = get();

@@ -54,7 +54,8 @@ export function pinsPlugin(get: GetPlotState): uPlot.Plugin {
       draw: (u) => {
         const m = get();
         inPlotArea(u, (f) => {
-          for (const a of m.annotations) if (a.kind === "pin") drawPin(f, a, pinLevel(a, m.layers), a.id === m.selectedId);
+          for (const a of m.annotations)
+            if (a.kind === "pin") drawPin(f, a, pinLevel(a, m.layers), a.id === m.selectedId);
           if (m.draft?.kind === "pin") drawPinPreview(f, m.draft);
         });
       },

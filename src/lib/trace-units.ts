@@ -1,5 +1,6 @@
 /**
- * Units in the viewer: the shared unit model (shared/trace/units: the file unit, the scope unit the
+ * Units in the trace views (the viewer, the report's figures, the settings summary; client-wide so no
+ * feature imports another): the shared unit model (shared/trace/units: the file unit, the scope unit the
  * tech typed the settings in, the physical unit every view shows) and the formatting of time and
  * levels. The viewer shows levels in the channel's physical unit and nothing else: kV at the plug
  * for a pickup with a kV/V scale or a file in kV, amperes through a clamp, volts at the scope
@@ -7,9 +8,23 @@
  * "500 V", so it cannot be mistaken for pickup volts); time and frequency take SI prefixes.
  * No React, no DOM.
  */
-import { channelUnits, formatQuantity, parseUnit, type ChannelUnits, type UnitSettings } from "../../../../shared/trace/units";
+import type { TraceChannelMeta } from "../../shared/trace/types";
+import {
+  channelUnits,
+  formatQuantity,
+  parseUnit,
+  type ChannelUnits,
+  type UnitSettings,
+} from "../../shared/trace/units";
 
-export { channelUnits, formatQuantity, normaliseUnit, parseUnit, scopeSetting, type ChannelUnits } from "../../../../shared/trace/units";
+export {
+  channelUnits,
+  formatQuantity,
+  normaliseUnit,
+  parseUnit,
+  scopeSetting,
+  type ChannelUnits,
+} from "../../shared/trace/units";
 
 const PREFIXES: { p: string; f: number }[] = [
   { p: "G", f: 1e9 },
@@ -124,7 +139,8 @@ export function formatTicks(values: number[], step: number, unit: string | null 
 }
 
 function plainTick(x: number, step: number, unit: string): string {
-  for (let d = 0; d <= 9; d++) if (Math.abs(Number(x.toFixed(d)) - x) <= step * 1e-3) return `${trimZeros(x.toFixed(d))} ${unit}`;
+  for (let d = 0; d <= 9; d++)
+    if (Math.abs(Number(x.toFixed(d)) - x) <= step * 1e-3) return `${trimZeros(x.toFixed(d))} ${unit}`;
   return `${x} ${unit}`;
 }
 
@@ -137,11 +153,18 @@ function fixedTicks(values: number[], step: number, unit: string): string[] {
 function unitSettings(settings: object | undefined): UnitSettings {
   const s = (settings ?? {}) as Record<string, unknown>;
   const num = (x: unknown) => (typeof x === "number" ? x : undefined);
-  return { probe: typeof s.probe === "string" ? s.probe : undefined, kvPerVolt: num(s.kvPerVolt), mvPerAmp: num(s.mvPerAmp) };
+  return {
+    probe: typeof s.probe === "string" ? s.probe : undefined,
+    kvPerVolt: num(s.kvPerVolt),
+    mvPerAmp: num(s.mvPerAmp),
+  };
 }
 
 /** The unit model of a trace's channel (the first by default). */
-export function traceUnits(trace: { channels: { unit: string | null }[]; settings?: object }, channel = 0): ChannelUnits {
+export function traceUnits(
+  trace: { channels: { unit: string | null }[]; settings?: object },
+  channel = 0,
+): ChannelUnits {
   return channelUnits(trace.channels[channel]?.unit ?? null, unitSettings(trace.settings));
 }
 
@@ -151,7 +174,7 @@ export function sharedUnits(traces: { channels: { unit: string | null }[]; setti
   return all.length && all.every((u) => u.unit === all[0].unit) ? all[0] : null;
 }
 
-export { toPhysical } from "../../../lib/physical-units";
+export { toPhysical } from "./physical-units";
 
 /** "ΔV" for voltages, "ΔA" for currents, "Δ" for anything else. */
 export function deltaLabel(cu: Pick<ChannelUnits, "unit">): string {
@@ -165,3 +188,20 @@ export function formatPhysical(value: number, cu: ChannelUnits, digits = 3): str
 }
 
 export { formatQuantity as formatWithPrefix };
+
+/** What the units of a trace are and where they come from, in a sentence (the trace's details). */
+export function unitSentence(
+  cu: ChannelUnits,
+  channel?: Pick<TraceChannelMeta, "unitWritten" | "scaledFrom" | "unitFrom">,
+): string {
+  const shown =
+    cu.source === "file" && cu.quantity === "other"
+      ? `Levels are shown in ${cu.unit}, as exported.`
+      : `Levels are shown in ${cu.unit} ${cu.label}.`;
+  const parts = [shown];
+  if (cu.note) parts.push(cu.note);
+  if (channel?.unitWritten) parts.push(`The file writes the unit as “${channel.unitWritten}”.`);
+  if (channel?.unitFrom === "metadata") parts.push("The unit was read from the file's header lines.");
+  if (channel?.scaledFrom) parts.push(`Values: ${channel.scaledFrom}.`);
+  return parts.join(" ");
+}
