@@ -43,6 +43,7 @@ import {
   type EngineReader,
   type EngineSource,
   type EntryRow,
+  type HitRow,
 } from "./casebook-search-source";
 import type { CasebookSearchHit, CasebookSearchResult, FacetCount, FacetDim } from "../../shared/schemas/casebook";
 
@@ -849,23 +850,7 @@ export class CasebookSearchEngine {
     snippetMatch: string | null,
     tokens: string[],
   ): Promise<CasebookSearchHit> {
-    const r = (await reader.row(doc)) as {
-      id: string;
-      title: string;
-      vehicle: string;
-      year: number | null;
-      make: string | null;
-      model: string | null;
-      engine: string | null;
-      code_list: string;
-      root_cause: string;
-      diagnosis: string;
-      complaint: string;
-      fix: string;
-      symptoms: string;
-      confirmed: number;
-      published_at: number;
-    };
+    const r = (await reader.row(doc)) as HitRow; // a ranked document always has its row
     let snippet = "";
     // snippet() of FTS5 with the words as complete words (cheap); a row that matched only through
     // the start of a longer word gets its snippet here instead

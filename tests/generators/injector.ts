@@ -1,2 +1,0 @@
-// The generator moved to demo/generators/injector.ts (the demo seed uses it too; the demo never imports tests/).
-export * from "../../demo/generators/injector";
