@@ -29,7 +29,7 @@ import { schema } from "../server/db/client";
 import { ingestCapture, type IngestJob } from "../server/uploads/ingest";
 import { runIngest, WorkPool, defaultThreads } from "../server/uploads/pool";
 import { CompressedSource } from "../src/features/uploads/lib/compressed-source";
-import { generateSecondary, renderCsv } from "../tests/generators";
+import { generateSecondary, renderCsv } from "../demo/generators";
 import { createShopTeam, signIn } from "../tests/factories";
 import { LinkProxy } from "../tests/e2e/helpers/link-proxy";
 

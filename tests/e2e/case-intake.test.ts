@@ -4,7 +4,7 @@ import os from "node:os";
 import path from "node:path";
 import type { BrowserContext, Locator, Page, Route } from "playwright-core";
 import { createShopTeam } from "../factories";
-import { generateSecondary, renderCsv, type SecondaryTruth } from "../generators";
+import { generateSecondary, renderCsv, type SecondaryTruth } from "../../demo/generators";
 import { SCREEN_DIVISIONS_X, screenVoltageRange } from "../../shared/schemas/capture-settings";
 import {
   launchBrowser,

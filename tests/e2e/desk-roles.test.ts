@@ -19,8 +19,8 @@ import { createAdmin, createExpert, createShopTeam, signIn, type ShopTeam, type 
 import { insertDraftCase, submitAndPay } from "../helpers/queue-flow";
 import type { TestServer } from "../helpers/test-app";
 import { ask, connected, insertLiveCase, liveClient, type LiveClient } from "../integration/realtime-helpers";
-import { generateSecondary } from "../generators/secondary";
-import { renderCsv } from "../generators/csv";
+import { generateSecondary } from "../../demo/generators/secondary";
+import { renderCsv } from "../../demo/generators/csv";
 import { launchBrowser, startE2EServer, watchErrors, type E2EServer, type LaunchedBrowser } from "./helpers/browser";
 
 const WIDTHS = [390, 820, 1440] as const;

@@ -5,8 +5,8 @@ import os from "node:os";
 import path from "node:path";
 import type { BrowserContext, Page } from "playwright-core";
 import { createExpert, createShopTeam } from "../factories";
-import { generateSecondary, type SecondaryTruth } from "../generators/secondary";
-import { renderCsv } from "../generators/csv";
+import { generateSecondary, type SecondaryTruth } from "../../demo/generators/secondary";
+import { renderCsv } from "../../demo/generators/csv";
 import { vinCheckDigit } from "../../shared/domain/vin";
 import {
   launchBrowser,

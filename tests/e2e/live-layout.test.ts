@@ -5,7 +5,7 @@ import type { BrowserContext, Page, Request } from "playwright-core";
 import { schema } from "../../server/db/client";
 import { insertCasebookEntries } from "../../server/services/casebook";
 import { createExpert, createShopTeam, signIn, syntheticPattern, type SignedInAgent } from "../factories";
-import { generateSecondary, renderCsv } from "../generators";
+import { generateSecondary, renderCsv } from "../../demo/generators";
 import { createRng } from "../helpers/prng";
 import type { CasebookTrace } from "../../shared/schemas/casebook";
 import {
@@ -27,7 +27,7 @@ import {
  * lands on the trace; casebook hits and similar cases show waveform thumbnails. Screenshots of
  * each state at each width: test-results/e2e/live-layout/.
  *
- * The captures come from the project's signal generator (tests/generators/secondary.ts) with these
+ * The captures come from the project's signal generator (demo/generators/secondary.ts) with these
  * stated parameters: secondary ignition at the pickup, 200 kS/s, 1500 rpm (a firing every 80 ms:
  * 120/1500 s), firing lines 0.8 V, spark lines 0.15 V; burn 1.5 ms on coils 1 and 3, 0.75 ms on
  * coil 2 (the odd one: half the others'). The screen: 10 ms/div, as the issue's report.

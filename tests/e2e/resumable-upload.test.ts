@@ -7,7 +7,7 @@ import type { Page } from "playwright-core";
 import { schema } from "../../server/db/client";
 import { createExpert, createShopTeam, signIn } from "../factories";
 import { FACTORY_PASSWORD } from "../../demo/builders/users";
-import { generateSecondary, renderCsv } from "../generators";
+import { generateSecondary, renderCsv } from "../../demo/generators";
 import {
   launchBrowser,
   screenshotDir,

@@ -20,7 +20,7 @@
  * Truth comes from the parameters: slope = (Vs1 − Vs0)/burn, level = (Vs0 + Vs1)/2, burn time, FL.
  */
 import { createRng, type Rng } from "../helpers/prng";
-import { makeTrace } from "./common";
+import { makeTrace } from "../../demo/generators/common";
 import type { ParsedTrace } from "../../shared/trace/types";
 
 export interface SparkLineOptions {

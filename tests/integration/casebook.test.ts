@@ -16,7 +16,7 @@
  *   Numbering Plan Administrator) and Ofcom's drama ranges 020 7946 0000–0999 and 07700 900000–900999.
  * - Porter (1980), "An algorithm for suffix stripping": "misfiring" and "misfire" share the stem "misfir".
  * - Similar-case truth: the generator's burn times (0.6 ms on coil 4 against 1.5 ms), see
- *   tests/generators/secondary.ts.
+ *   demo/generators/secondary.ts.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq, sql } from "drizzle-orm";
@@ -32,8 +32,8 @@ import {
   type SignedInAgent,
 } from "../factories";
 import { submitAndPay } from "../helpers/queue-flow";
-import { generateSecondary } from "../generators/secondary";
-import { renderCsv } from "../generators/csv";
+import { generateSecondary } from "../../demo/generators/secondary";
+import { renderCsv } from "../../demo/generators/csv";
 import { schema } from "../../server/db/client";
 import { stopCasebookSearch } from "../../server/services/casebook-search";
 import { SNIPPET_CLOSE, SNIPPET_OPEN } from "../../shared/schemas/casebook";

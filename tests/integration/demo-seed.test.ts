@@ -17,7 +17,7 @@ import type { DemoTrace } from "../../demo/traces";
  * The demo seed on a fresh server: every case state, captures stored and analysed by the trace
  * service with the planted faulty coil flagged as the odd one out, the demo sign-ins, the money
  * adding up, and a second call that changes nothing. What "right" means comes from outside the
- * seed: the generators' known truth (tests/generators, the physical models they document) and
+ * seed: the generators' known truth (demo/generators, the physical models they document) and
  * Stripe's published test card behaviour as the local fake implements it.
  */
 

@@ -4,7 +4,7 @@
  * admins; signed out 401), answered 304 to a matching ETag, and the picture shows the capture's
  * own shape — its highest point is the firing line, where the generator put it.
  *
- * The capture comes from the project's generator (tests/generators/secondary.ts) with stated
+ * The capture comes from the project's generator (demo/generators/secondary.ts) with stated
  * parameters: 200 kS/s, 1500 rpm, one firing of 0.8 V above the baseline, a 1.5 ms spark line of
  * 0.15 V. The thumbnail's window (server/services/thumbnails.ts): twice the first event's length
  * from 15 % of it before the firing, i.e. 2 × 1.5 ms / 0.85 = 3.53 ms from 0.53 ms before it.
@@ -14,8 +14,8 @@ import request from "supertest";
 import { eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createAdmin, createExpert, createShopTeam, signIn, type SignedInAgent } from "../factories";
-import { generateSecondary } from "../generators/secondary";
-import { renderCsv } from "../generators/csv";
+import { generateSecondary } from "../../demo/generators/secondary";
+import { renderCsv } from "../../demo/generators/csv";
 import { schema } from "../../server/db/client";
 import { insertCasebookEntries } from "../../server/services/casebook";
 import { THUMB, thumbnailWindow } from "../../server/services/thumbnails";

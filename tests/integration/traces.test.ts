@@ -8,8 +8,8 @@ import { eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createExpert, createShopTeam, signIn, type SignedInAgent, type ShopTeam } from "../factories";
 import { schema } from "../../server/db/client";
-import { generateSecondary } from "../generators/secondary";
-import { renderCsv } from "../generators/csv";
+import { generateSecondary } from "../../demo/generators/secondary";
+import { renderCsv } from "../../demo/generators/csv";
 
 /**
  * Traces API: upload, metadata, min/max windows, original download, removal, tenant isolation.

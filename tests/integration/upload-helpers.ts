@@ -9,7 +9,7 @@ import zlib from "node:zlib";
 import { Readable } from "node:stream";
 import { pipeline } from "node:stream/promises";
 import * as tus from "tus-js-client";
-import { generateSecondary, renderCsv } from "../generators";
+import { generateSecondary, renderCsv } from "../../demo/generators";
 import type { HasPort } from "../factories/sign-in";
 
 export const uploadSettings = { kind: "secondary-ignition", voltsPerDiv: 0.2, timePerDivS: 0.02 };

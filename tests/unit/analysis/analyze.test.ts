@@ -3,8 +3,8 @@ import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { compareTraces } from "../../../shared/analysis/compare";
 import type { SecondaryResult, TraceKind } from "../../../shared/analysis/types";
 import { traceKinds } from "../../../shared/schemas/capture-settings";
-import { makeTrace } from "../../generators/common";
-import { generateSecondary } from "../../generators/secondary";
+import { makeTrace } from "../../../demo/generators/common";
+import { generateSecondary } from "../../../demo/generators/secondary";
 import { createRng } from "../../helpers/prng";
 
 describe("analyzeTrace: one entry for every kind", () => {

@@ -5,9 +5,9 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { parseTraceText } from "../../../shared/trace/parse";
-import { renderCsv } from "../../generators/csv";
-import { generateSecondary } from "../../generators/secondary";
-import { generateStarter } from "../../generators/starter";
+import { renderCsv } from "../../../demo/generators/csv";
+import { generateSecondary } from "../../../demo/generators/secondary";
+import { generateStarter } from "../../../demo/generators/starter";
 
 // The CLI is a public contract (issue: command line): the shapes below are what outside tools rely on.
 const root = path.resolve(__dirname, "../../..");

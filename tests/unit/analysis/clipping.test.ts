@@ -2,7 +2,7 @@
  * `clipped` from a saturated plateau (issue 11): a converter driven past its range repeats its
  * largest code, so a cut-off firing line shows a run of identical extreme values, with or without
  * volts/division known. A natural apex recorded by a coarse converter can also repeat its top code,
- * but it flattens into it; it is not clipping. Captures: tests/generators/ignition.ts (model in
+ * but it flattens into it; it is not clipping. Captures: demo/generators/ignition.ts (model in
  * firing-events.test.ts); the clipping is applied to the file's values, as a scope's converter
  * would; the 8-bit case rounds the values to 1/128 of a 12 kV half range (an 8-bit converter has
  * 256 codes: common practice, no source).
@@ -10,8 +10,8 @@
 import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import type { SecondaryResult } from "../../../shared/analysis/types";
-import { makeTrace } from "../../generators/common";
-import { generateIgnition, type IgnitionOptions } from "../../generators/ignition";
+import { makeTrace } from "../../../demo/generators/common";
+import { generateIgnition, type IgnitionOptions } from "../../../demo/generators/ignition";
 
 const run = (opts: IgnitionOptions, settings: Record<string, number> = {}) => {
   const g = generateIgnition(opts);

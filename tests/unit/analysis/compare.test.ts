@@ -2,8 +2,8 @@ import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { compareEvents, compareTraces } from "../../../shared/analysis/compare";
 import type { AnalysisResult } from "../../../shared/analysis/types";
-import { generateInjector, type InjectorOptions } from "../../generators/injector";
-import { generateSecondary, type SecondaryFault } from "../../generators/secondary";
+import { generateInjector, type InjectorOptions } from "../../../demo/generators/injector";
+import { generateSecondary, type SecondaryFault } from "../../../demo/generators/secondary";
 
 // Outliers by the modified z-score of Iglewicz & Hoaglin (1993): M = 0.6745·(x − median)/MAD, |M| > 3.5.
 

@@ -3,8 +3,8 @@ import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { ENGINE_SAFETY } from "../../../shared/analysis/findings";
 import type { CompressionResult } from "../../../shared/analysis/types";
 import { parseTraceText } from "../../../shared/trace/parse";
-import { generateCompression, type CompressionOptions } from "../../generators/compression";
-import { renderCsv } from "../../generators/csv";
+import { generateCompression, type CompressionOptions } from "../../../demo/generators/compression";
+import { renderCsv } from "../../../demo/generators/csv";
 
 function run(opts: CompressionOptions, given = true) {
   const g = generateCompression(opts);
@@ -124,7 +124,7 @@ describe("relative compression from starter current", () => {
 });
 
 describe("strokes during the inrush: timed, counted and flagged, never the reference (issue 11)", () => {
-  // Model (tests/generators/compression.ts): the inrush decays as (I_peak − I_c)·e^(−t/τ) with τ the
+  // Model (demo/generators/compression.ts): the inrush decays as (I_peak − I_c)·e^(−t/τ) with τ the
   // motor's spin-up time, here as long as a stroke period or longer (a V8 at 300 rpm strokes every
   // 120/(300·8) = 50 ms, trade reference formula), so the first strokes ride on hundreds of amperes
   // and show no peak of their own in the raw current. docs/api.md: a stroke that comes while the

@@ -1,5 +1,5 @@
 /**
- * Crank wheels with missing teeth. Model (tests/generators/crank.ts): N tooth positions 360°/N apart,
+ * Crank wheels with missing teeth. Model (demo/generators/crank.ts): N tooth positions 360°/N apart,
  * k missing at one place, so the gap spans k + 1 pitches and N − k teeth pass between two gaps; a
  * variable-reluctance sensor follows Faraday's law (v = −N·dΦ/dt: amplitude and frequency rise with
  * speed), a Hall sensor switches between two levels while a tooth is under it. One revolution is N
@@ -10,7 +10,7 @@
 import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import type { CrankResult } from "../../../shared/analysis/types";
-import { generateCrank, type CrankOptions } from "../../generators/crank";
+import { generateCrank, type CrankOptions } from "../../../demo/generators/crank";
 
 const run = (opts: CrankOptions) => {
   const g = generateCrank(opts);

@@ -2,8 +2,8 @@ import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import type { CrankResult } from "../../../shared/analysis/types";
 import { parseTraceText } from "../../../shared/trace/parse";
-import { generateCrank, type CrankOptions } from "../../generators/crank";
-import { renderCsv } from "../../generators/csv";
+import { generateCrank, type CrankOptions } from "../../../demo/generators/crank";
+import { renderCsv } from "../../../demo/generators/csv";
 
 const run = (opts: CrankOptions) => {
   const g = generateCrank(opts);

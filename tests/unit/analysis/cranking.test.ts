@@ -1,6 +1,6 @@
 /**
  * Relative compression from starter current, on captures of an independent model
- * (tests/generators/starter.ts): the motor's back-EMF ties current and speed. At key-on the motor
+ * (demo/generators/starter.ts): the motor's back-EMF ties current and speed. At key-on the motor
  * stands still and draws its stall current; the engine's speed approaches the cranking speed as
  * ω(t) = ω_c·(1 − e^(−t/τm)) and the current falls as I_c + (I_stall − I_c)·e^(−t/τm); each
  * compression stroke adds a bump around its top dead centre (every 720°/N of crank angle: rising
@@ -11,7 +11,7 @@
 import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import type { CompressionResult } from "../../../shared/analysis/types";
-import { generateStarter, type StarterOptions } from "../../generators/starter";
+import { generateStarter, type StarterOptions } from "../../../demo/generators/starter";
 
 function run(opts: StarterOptions, settings: Record<string, unknown> = {}) {
   const g = generateStarter(opts);

@@ -1,7 +1,7 @@
 /**
  * A pickup on a distributor's coil wire sees every cylinder's firing: N firings per engine cycle
  * (720° on a four-stroke engine), so rpm = 120/(period × N) (trade reference: each cylinder fires once
- * per two revolutions). Model: tests/generators/ignition.ts with `firingsPerCycle` = N, the firings
+ * per two revolutions). Model: demo/generators/ignition.ts with `firingsPerCycle` = N, the firings
  * 120/(rpm·N) apart; truth rpm from the parameters. With the setting absent the same capture reads as
  * one cylinder's coil: 120/period, N times the engine's speed.
  */
@@ -13,8 +13,8 @@ import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { captureSettingsSchema } from "../../../shared/schemas/capture-settings";
 import type { SecondaryResult } from "../../../shared/analysis/types";
-import { renderCsv } from "../../generators/csv";
-import { generateIgnition } from "../../generators/ignition";
+import { renderCsv } from "../../../demo/generators/csv";
+import { generateIgnition } from "../../../demo/generators/ignition";
 
 describe("a pickup that sees every cylinder's firing (a distributor's coil wire)", () => {
   it.each([

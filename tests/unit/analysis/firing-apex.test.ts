@@ -1,7 +1,7 @@
 /**
  * The firing line's tip is a cusp: the secondary's LC charge rises until the gap breaks down, then
  * the voltage collapses into the spark line within a microsecond or two (common practice, no
- * source). Model (tests/generators/ignition.ts, `tip: "breakdown"`): V_open·sin(ω(t − t0)) with a
+ * source). Model (demo/generators/ignition.ts, `tip: "breakdown"`): V_open·sin(ω(t − t0)) with a
  * quarter period of `riseUs`, cut at the breakdown voltage (V_open = reserve × breakdown; reserve 1:
  * the breakdown comes at the rise's top), then (V_b − spark line)·e^(−t/τ), τ = `fallUs`. Truth: the
  * breakdown voltage, exactly (the model's apex); white noise 0.02 kV at the plug.
@@ -16,7 +16,7 @@
 import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import type { SecondaryResult } from "../../../shared/analysis/types";
-import { generateIgnition, type IgnitionOptions } from "../../generators/ignition";
+import { generateIgnition, type IgnitionOptions } from "../../../demo/generators/ignition";
 
 const RATES = [500e3, 1e6, 2e6, 5e6, 10e6];
 const NOISE_KV = 0.02;

@@ -1,5 +1,5 @@
 /**
- * Secondary ignition on a second, independently built model (tests/generators/ignition.ts), so the
+ * Secondary ignition on a second, independently built model (demo/generators/ignition.ts), so the
  * analysis is not tuned to one generator's shapes:
  * - dwell start: the coil's charge (M·di/dt of an RL circuit charging: a step decaying with τp) on
  *   either side of the baseline, plus a damped wobble of a set fraction of the firing line (0–20 %;
@@ -19,8 +19,8 @@ import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import type { CaptureSettings } from "../../../shared/schemas/capture-settings";
 import type { SecondaryResult } from "../../../shared/analysis/types";
-import { generateIgnition, type IgnitionOptions } from "../../generators/ignition";
-import { generateSecondary } from "../../generators/secondary";
+import { generateIgnition, type IgnitionOptions } from "../../../demo/generators/ignition";
+import { generateSecondary } from "../../../demo/generators/secondary";
 
 const RATES = [500e3, 1e6, 2e6, 5e6, 10e6];
 

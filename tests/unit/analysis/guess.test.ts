@@ -1,10 +1,10 @@
 import { describe, expect, it } from "vitest";
 import { guessKind } from "../../../shared/analysis/guess";
-import { makeTrace } from "../../generators/common";
-import { generateCompression } from "../../generators/compression";
-import { generateCrank } from "../../generators/crank";
-import { generateInjector } from "../../generators/injector";
-import { generateSecondary } from "../../generators/secondary";
+import { makeTrace } from "../../../demo/generators/common";
+import { generateCompression } from "../../../demo/generators/compression";
+import { generateCrank } from "../../../demo/generators/crank";
+import { generateInjector } from "../../../demo/generators/injector";
+import { generateSecondary } from "../../../demo/generators/secondary";
 
 describe("guessKind: a kind offered from the settings and the shape", () => {
   it.each([

@@ -2,8 +2,8 @@ import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import type { FindingCode, InjectorResult } from "../../../shared/analysis/types";
 import { parseTraceText } from "../../../shared/trace/parse";
-import { renderCsv, type CsvOptions } from "../../generators/csv";
-import { generateInjector, type InjectorOptions } from "../../generators/injector";
+import { renderCsv, type CsvOptions } from "../../../demo/generators/csv";
+import { generateInjector, type InjectorOptions } from "../../../demo/generators/injector";
 
 const cases: [string, InjectorOptions, FindingCode[], CsvOptions?][] = [
   ["unclamped, 1 MS/s", { seed: 1, sampleRateHz: 1e6, rpm: 2000 }, []],

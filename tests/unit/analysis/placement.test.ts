@@ -3,7 +3,7 @@
  * A capacitive pickup's coupling depends on how flat it lies on the coil and scales the whole
  * waveform: moving it changes the firing line's height with nothing wrong in the cylinder (common
  * practice, no source; trade reference: "kV is relative unless calibrated"). Captures: the second
- * secondary model (tests/generators/ignition.ts, model in firing-events.test.ts), one per coil, each
+ * secondary model (demo/generators/ignition.ts, model in firing-events.test.ts), one per coil, each
  * coil a little different (firing line and spark line ±3 %, burn ±2 %, seeded), one coil changed:
  * - `coupling` 0.75: every voltage 25 % lower, times unchanged (placement);
  * - a fault: firing line and burn time changed (public study material: a low firing line with a short
@@ -15,7 +15,7 @@ import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { compareTraces } from "../../../shared/analysis/compare";
 import type { SecondaryResult } from "../../../shared/analysis/types";
-import { generateIgnition, type IgnitionOptions } from "../../generators/ignition";
+import { generateIgnition, type IgnitionOptions } from "../../../demo/generators/ignition";
 import { createRng } from "../../helpers/prng";
 
 interface Coil {

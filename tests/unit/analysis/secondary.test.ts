@@ -4,8 +4,8 @@ import { SECONDARY_SAFETY } from "../../../shared/analysis/findings";
 import type { FindingCode, SecondaryResult } from "../../../shared/analysis/types";
 import type { CaptureSettings } from "../../../shared/schemas/capture-settings";
 import { parseTraceText } from "../../../shared/trace/parse";
-import { renderCsv, type CsvOptions } from "../../generators/csv";
-import { generateSecondary, type SecondaryOptions, type SecondaryTruth } from "../../generators/secondary";
+import { renderCsv, type CsvOptions } from "../../../demo/generators/csv";
+import { generateSecondary, type SecondaryOptions, type SecondaryTruth } from "../../../demo/generators/secondary";
 
 interface Case {
   name: string;

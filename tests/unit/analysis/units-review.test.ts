@@ -5,16 +5,16 @@
  * again; a clamp's mV/A divides volts into amperes (the clamp scale's definition). Settings
  * (volts/division, trigger level, ground offset) are in the scope's unit; every level in the result
  * is in the physical unit; advice gives the scope setting with the physical value beside it.
- * Captures: tests/generators/ignition.ts (see firing-events.test.ts for its model) and the injector
- * model of tests/generators/injector.ts. SI prefixes: BIPM SI Brochure (9th ed., 2019), table 7.
+ * Captures: demo/generators/ignition.ts (see firing-events.test.ts for its model) and the injector
+ * model of demo/generators/injector.ts. SI prefixes: BIPM SI Brochure (9th ed., 2019), table 7.
  */
 import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { SECONDARY_SAFETY } from "../../../shared/analysis/findings";
 import type { AnalysisResult, InjectorResult, SecondaryResult } from "../../../shared/analysis/types";
 import type { CaptureSettings } from "../../../shared/schemas/capture-settings";
-import { generateIgnition } from "../../generators/ignition";
-import { generateInjector } from "../../generators/injector";
+import { generateIgnition } from "../../../demo/generators/ignition";
+import { generateInjector } from "../../../demo/generators/injector";
 
 const kvFile = generateIgnition({ seed: 21, events: 3, peakKv: 9, sampleRateHz: 1e6 });
 const vFile = generateIgnition({ seed: 21, events: 3, peakKv: 9, sampleRateHz: 1e6, fileUnit: "V", kvPerVolt: 10 });

@@ -1,6 +1,6 @@
 /**
  * Similar cases by waveform pattern. The traces are generated with known truth
- * (tests/generators/secondary.ts: the burn time of each coil is the generator's parameter) and
+ * (demo/generators/secondary.ts: the burn time of each coil is the generator's parameter) and
  * measured by shared/analysis exactly as at upload; the pattern must name the odd coil and its
  * burn time, and the ranking must put a planted look-alike first among 2,000 other entries
  * (random patterns from a seeded PRNG, plus decoys: an odd coil burning long instead of short,
@@ -8,7 +8,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { analyzeTrace } from "../../../shared/analysis/analyze";
-import { generateSecondary } from "../../generators/secondary";
+import { generateSecondary } from "../../../demo/generators/secondary";
 import {
   casePattern,
   featureDistance,

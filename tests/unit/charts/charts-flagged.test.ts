@@ -3,14 +3,14 @@ import { analyzeTrace } from "../../../shared/analysis/analyze";
 import { compareTraces } from "../../../shared/analysis/compare";
 import { SECONDARY_SAFETY } from "../../../shared/analysis/findings";
 import type { AnalysisResult, Finding } from "../../../shared/analysis/types";
-import { generateSecondary } from "../../generators/secondary";
-import { generateCompression } from "../../generators/compression";
+import { generateSecondary } from "../../../demo/generators/secondary";
+import { generateCompression } from "../../../demo/generators/compression";
 import { flaggedTraceId } from "../../../src/features/analysis/lib/flagged";
 import { barLayout } from "../../../src/features/analysis/lib/bars";
 import { comparisonCharts, shortLabel } from "../../../src/features/analysis/lib/chart-data";
 import { withCautionsOnce } from "../../../src/features/analysis/lib/cautions";
 
-// Four coils from the project's generator (tests/generators/secondary.ts): 1 MS/s, 3000 rpm, two
+// Four coils from the project's generator (demo/generators/secondary.ts): 1 MS/s, 3000 rpm, two
 // firings each; burn 1.5 ms, and 0.75 ms on coil 3 (its stated parameter: half the others').
 function coils(oddIndex: number | null) {
   return [0, 1, 2, 3].map((i) => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { decimateMinMax } from "../../../shared/trace/decimate";
-import { generateSecondary } from "../../generators/secondary";
+import { generateSecondary } from "../../../demo/generators/secondary";
 import { bandAt, traceLevelAt } from "../../../src/features/traces/lib/snap";
 import { pinLevel } from "../../../src/features/traces/plot/pin-level";
 import { placePointerLabel } from "../../../src/features/traces/lib/pointer-label";
@@ -9,7 +9,7 @@ import { windowParams } from "../../../src/features/traces/lib/window-params";
 import { plotAreaWidth } from "../../../src/features/traces/plot/layout";
 import type { TraceLayer } from "../../../src/features/traces/plot/model";
 
-// A secondary-ignition capture from the project's generator (tests/generators/secondary.ts) with
+// A secondary-ignition capture from the project's generator (demo/generators/secondary.ts) with
 // stated parameters: 1 MS/s, one firing at 750 rpm, firing line 0.8 V above the baseline, spark
 // line 0.15 V for 1.5 ms, spark-line slope −0.01 V/ms, noise 2 mV RMS (generator defaults).
 const g = generateSecondary({
