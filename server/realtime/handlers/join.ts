@@ -1,7 +1,7 @@
 import { eq } from "drizzle-orm";
 import { schema } from "../../db/client";
 import { parseWith } from "../../http/validate";
-import { unauthorized } from "../../http/errors";
+import { HttpError, unauthorized } from "../../http/errors";
 import { assertCanJoinCase, liveAbilities } from "../../auth/policies/live";
 import type { CaseRow } from "../../workflow/records";
 import { annotationsQuery, presentAnnotation } from "../../services/annotations";
@@ -73,7 +73,9 @@ export function onJoin(live: Live, socket: LiveSocket): void {
           const [snap, view] = await Promise.all([presence.snapshot(c.id), presence.view(c.id)]);
           return { ...replay, reset, snap, view };
         };
+        let answered = false;
         await delivery.join(socket, c.id, read, (r) => {
+          answered = true;
           const ok: JoinOk = {
             ok: true,
             caseId: c.id,
@@ -89,6 +91,9 @@ export function onJoin(live: Live, socket: LiveSocket): void {
           };
           reply(ack, ok);
         });
+        // the socket left (or joined another case) while its replay was read: it still gets an answer
+        if (!answered)
+          throw new HttpError(409, "not_joined", "The connection left the case while joining; join again.");
       })().catch((err: unknown) => reply(ack, { ok: false, error: eventError(err, ctx, "case:join") })),
   );
 }
