@@ -18,22 +18,20 @@
  *   node also disconnects sockets whose session or access has gone even if they stay silent.
  */
 import type http from "node:http";
-import { inArray } from "drizzle-orm";
 import { Server, type ServerOptions } from "socket.io";
 import { createAdapter } from "@socket.io/redis-streams-adapter";
 import type { AppContext, Realtime } from "../context";
 import type { Auth } from "../auth/auth";
 import { allowedOrigins } from "../app";
-import { schema } from "../db/client";
-import { canJoinCase } from "../auth/policies/live";
-import { getCaseRow, type CaseRow } from "../workflow/records";
+import { getCaseRow } from "../workflow/records";
 import type { SharedRedis } from "../cluster/redis";
 import { groupCommit } from "./group-commit";
 import { localPresence, redisPresence, type Presence } from "./presence";
 import { LiveDelivery, type LiveRecord } from "./delivery";
-import { actorOfSession, actorsOfSessions, sessionIdFromHandshake } from "./session";
+import { actorOfSession, sessionIdFromHandshake } from "./session";
+import { sweepSockets } from "./sweep";
 import { caseRoom, userRoom, type ServerToClientEvents } from "../../shared/realtime";
-import { createLive, type Live, type LiveServer, type LiveSocket } from "./live";
+import { createLive, type LiveServer, type LiveSocket } from "./live";
 import { onJoin, readReplay } from "./handlers/join";
 import { onAnnotations } from "./handlers/annotations";
 import { onChat } from "./handlers/chat";
@@ -84,36 +82,6 @@ function authenticateSockets(io: LiveServer, ctx: AppContext, auth: Auth, allowe
       fail("internal", "The server could not check the session.");
     }
   });
-}
-
-/** Disconnects this node's sockets whose session has ended or whose case is no longer theirs to read. */
-async function sweepSockets(live: Live): Promise<void> {
-  const { ctx, io } = live;
-  const sockets = [...io.of("/").sockets.values()] as LiveSocket[];
-  if (sockets.length === 0) return;
-  const sessionIds = [...new Set(sockets.map((s) => s.data.sessionId))];
-  const caseIds = [...new Set(sockets.map((s) => s.data.caseId).filter((x): x is string => !!x))];
-  const { actors, cases } = await ctx.db.read(async (tx) => {
-    const actors = await actorsOfSessions(tx, sessionIds, ctx.now());
-    const cases = new Map<string, CaseRow>();
-    for (let i = 0; i < caseIds.length; i += 500) {
-      const chunk = caseIds.slice(i, i + 500);
-      for (const c of await tx.select().from(schema.caseTable).where(inArray(schema.caseTable.id, chunk)).all())
-        cases.set(c.id, c);
-    }
-    return { actors, cases };
-  });
-  for (const s of sockets) {
-    const a = actors.get(s.data.sessionId);
-    if (!a || a.id !== s.data.userId) {
-      s.disconnect(true);
-      continue;
-    }
-    if (s.data.caseId) {
-      const c = cases.get(s.data.caseId);
-      if (!c || !canJoinCase(a, c)) s.disconnect(true);
-    }
-  }
 }
 
 /** socket.io's options: the Redis streams adapter when several nodes share a Redis. */
