@@ -119,9 +119,7 @@ export function ask<E extends keyof ClientToServerEvents>(
   s: LiveClient,
   event: E,
   payload: Parameters<ClientToServerEvents[E]>[0],
-  // a wait for the server's answer, not a speed check: on the libSQL server a join is several round
-  // trips, which a loaded 2-core machine has stretched past 10 s; under the tests' 30 s limit
-  timeoutMs = 25_000,
+  timeoutMs = 10_000,
 ): Promise<Parameters<Extract<Parameters<ClientToServerEvents[E]>[1], (...a: never[]) => void>>[0]> {
   return new Promise((resolve, reject) => {
     const timer = setTimeout(() => reject(new Error(`no acknowledgement of ${event}`)), timeoutMs);
