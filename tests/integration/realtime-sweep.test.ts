@@ -3,6 +3,7 @@ import { eq } from "drizzle-orm";
 import { startTestServer, type TestServer } from "../helpers/test-app";
 import { createExpert, createShopTeam, signIn, type ShopTeam, type SignedInAgent } from "../factories";
 import { schema, type Db } from "../../server/db/client";
+import type { UnitBody } from "../../server/db/unit-of-work";
 import type { RealtimeServer } from "../../server/realtime/index";
 import { sweepSockets } from "../../server/realtime/sweep";
 import { ask, connected, insertLiveCase, liveClient, sleep, type LiveClient } from "./realtime-helpers";
@@ -33,14 +34,12 @@ async function client(agent: SignedInAgent): Promise<LiveClient> {
 /** The sweep, with `during` run (and awaited) after its read and before it judges the sockets. */
 async function sweepWhile(during: () => Promise<void>): Promise<void> {
   const db: Db = server.ctx.db;
-  const slowDb: Db = {
-    ...db,
-    read: async (body) => {
-      const out = await db.read(body);
-      await during();
-      return out;
-    },
-  };
+  async function read<T>(body: UnitBody<T>): Promise<Awaited<T>> {
+    const out = await db.read(body);
+    await during();
+    return out;
+  }
+  const slowDb: Db = { ...db, read };
   await sweepSockets({ ctx: { ...server.ctx, db: slowDb }, io: io() });
 }
 
