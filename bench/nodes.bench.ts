@@ -17,6 +17,15 @@
  */
 import { sql, eq } from "drizzle-orm";
 import { median, percentile, type BenchResult } from "./types";
+import {
+  CLIENTS,
+  ROUND_TRIPS,
+  WARMUP,
+  roundTrips,
+  sustained as sustainedLoad,
+  type Rig as LoadRig,
+  type Sustained as Load,
+} from "./live-load";
 import { nodesMissing, startNodes, type NodeRig } from "../tests/helpers/nodes";
 import { startTestServer, type TestServer } from "../tests/helpers/test-app";
 import { createExpert, createShopTeam, signIn, type SignedInAgent } from "../tests/factories";
@@ -25,28 +34,15 @@ import {
   liveClient,
   connected,
   ask,
-  until,
   type LiveCase,
   type LiveClient,
 } from "../tests/integration/realtime-helpers";
 import { schema, type Db } from "../server/db/client";
 import type { AnnotationRecord } from "../shared/realtime";
 
-const CLIENTS = 50;
-const ROUND_TRIPS = 300;
-const WARMUP = 30;
-const SUSTAIN_MS = 3000;
-const IN_FLIGHT = 32;
-
-interface Rig {
-  /** sends item i from sender (i mod senders) and calls back with its id on acknowledgement */
-  send(i: number, onAck: (id: string) => void): void;
-  senders: number;
-  /** receivers: called with (receiver index, id, seq) */
-  onReceive(fn: (r: number, id: string, seq: number) => void): void;
-  /** marks stored for the rig's case */
+/** The app's live layer, one case: `count` is the marks the database holds for it. */
+interface Rig extends LoadRig {
   count(): Promise<number>;
-  close(): Promise<void>;
 }
 
 interface Place {
@@ -103,100 +99,13 @@ async function rigOn(place: Place, opts: { senders: number; spread: boolean }): 
   };
 }
 
-/** Sequential round trips: time until the ack and all CLIENTS deliveries of one item are in. */
-async function roundTrips(rig: Rig, n: number, offset: number): Promise<number[]> {
-  const times: number[] = [];
-  let pending: { id: string | null; got: number; acked: boolean; done: () => void } | null = null;
-  const early = new Map<string, number>();
-  rig.onReceive((_r, id) => {
-    if (pending && pending.id === id) {
-      pending.got += 1;
-      if (pending.got === CLIENTS && pending.acked) pending.done();
-    } else early.set(id, (early.get(id) ?? 0) + 1); // delivered before the ack came back
-  });
-  for (let i = 0; i < n; i++) {
-    await new Promise<void>((resolve) => {
-      const t0 = performance.now();
-      const done = () => {
-        times.push(performance.now() - t0);
-        pending = null;
-        resolve();
-      };
-      pending = { id: null, got: 0, acked: false, done };
-      // one sender for the round trips (the rig's first), so every item has the same path
-      rig.send((offset + i) * rig.senders, (id) => {
-        const p = pending!;
-        p.id = id;
-        p.acked = true;
-        p.got += early.get(id) ?? 0;
-        early.delete(id);
-        if (p.got === CLIENTS) p.done();
-      });
-    });
-  }
-  return times;
-}
-
-interface Sustained {
-  rate: number;
-  acked: number;
-  lost: number;
-  duplicates: number;
-  outOfOrder: number;
+interface Sustained extends Load {
   stored: number;
 }
 
-/** Keeps IN_FLIGHT sends outstanding (spread over the senders) for SUSTAIN_MS. */
 async function sustained(rig: Rig): Promise<Sustained> {
-  const perClient = Array.from({ length: CLIENTS }, () => ({
-    ids: new Set<string>(),
-    dup: 0,
-    lastSeq: 0,
-    disorder: 0,
-  }));
-  let delivered = 0;
-  let lastDelivery = 0;
-  rig.onReceive((r, id, seq) => {
-    const c = perClient[r];
-    if (c.ids.has(id)) c.dup += 1;
-    else c.ids.add(id);
-    if (seq <= c.lastSeq) c.disorder += 1;
-    c.lastSeq = seq;
-    delivered += 1;
-    lastDelivery = performance.now();
-  });
-  const ackedIds: string[] = [];
-  const start = performance.now();
-  let sent = 0;
-  await new Promise<void>((resolve) => {
-    let inFlight = 0;
-    const pump = () => {
-      while (inFlight < IN_FLIGHT && performance.now() - start < SUSTAIN_MS) {
-        inFlight += 1;
-        rig.send(sent++, (id) => {
-          inFlight -= 1;
-          ackedIds.push(id);
-          pump();
-        });
-      }
-      if (inFlight === 0) resolve();
-    };
-    pump();
-  });
-  await until(() => delivered >= ackedIds.length * CLIENTS, 60_000, "deliveries of the sustained run");
-  const elapsed = Math.max(lastDelivery, performance.now()) - start;
-  // late duplicates would come now
-  await new Promise((r) => setTimeout(r, 300));
-  let lost = 0;
-  let duplicates = 0;
-  let outOfOrder = 0;
-  for (const c of perClient) {
-    for (const id of ackedIds) if (!c.ids.has(id)) lost += 1;
-    duplicates += c.dup;
-    outOfOrder += c.disorder;
-  }
-  const stored = await rig.count();
-  return { rate: (ackedIds.length / elapsed) * 1000, acked: ackedIds.length, lost, duplicates, outOfOrder, stored };
+  const load = await sustainedLoad(rig);
+  return { ...load, stored: await rig.count() };
 }
 
 async function measure(place: Place, spread: boolean): Promise<{ times: number[]; sus: Sustained }> {

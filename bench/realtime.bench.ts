@@ -15,32 +15,12 @@ import { Server } from "socket.io";
 import { io as connectClient, type Socket } from "socket.io-client";
 import { sql, eq } from "drizzle-orm";
 import { median, percentile, type BenchResult } from "./types";
+import { CLIENTS, ROUND_TRIPS, WARMUP, roundTrips, sustained, type Rig } from "./live-load";
 import { startTestServer } from "../tests/helpers/test-app";
 import { createExpert, createShopTeam, signIn } from "../tests/factories";
-import {
-  insertLiveCase,
-  liveClient,
-  connected,
-  ask,
-  until,
-  type LiveClient,
-} from "../tests/integration/realtime-helpers";
+import { insertLiveCase, liveClient, connected, ask, type LiveClient } from "../tests/integration/realtime-helpers";
 import { schema } from "../server/db/client";
 import type { AnnotationRecord } from "../shared/realtime";
-
-const CLIENTS = 50;
-const ROUND_TRIPS = 300;
-const WARMUP = 30;
-const SUSTAIN_MS = 3000;
-const IN_FLIGHT = 32;
-
-interface Rig {
-  /** sends one item and calls back with its id on acknowledgement */
-  send(i: number, onAck: (id: string) => void): void;
-  /** receivers: called with (receiver index, id, seq or index) */
-  onReceive(fn: (r: number, id: string, seq: number) => void): void;
-  close(): Promise<void>;
-}
 
 async function liveRig(): Promise<Rig & { count(): Promise<number> }> {
   const server = await startTestServer();
@@ -138,105 +118,6 @@ async function bareRig(): Promise<Rig> {
   };
 }
 
-/** Sequential round trips: time until the ack and all CLIENTS deliveries of one item are in. */
-async function roundTrips(rig: Rig, n: number, offset: number): Promise<number[]> {
-  const times: number[] = [];
-  let pending: {
-    id: string | null;
-    got: number;
-    acked: boolean;
-    t0: number;
-    done: () => void;
-    early: Map<string, number>;
-  } | null = null;
-  const early = new Map<string, number>();
-  rig.onReceive((_r, id) => {
-    if (pending && pending.id === id) {
-      pending.got += 1;
-      if (pending.got === CLIENTS && pending.acked) pending.done();
-    } else early.set(id, (early.get(id) ?? 0) + 1); // delivered before the ack came back
-  });
-  for (let i = 0; i < n; i++) {
-    await new Promise<void>((resolve) => {
-      const t0 = performance.now();
-      pending = {
-        id: null,
-        got: 0,
-        acked: false,
-        t0,
-        early,
-        done: () => {
-          times.push(performance.now() - t0);
-          pending = null;
-          resolve();
-        },
-      };
-      rig.send(offset + i, (id) => {
-        const p = pending!;
-        p.id = id;
-        p.acked = true;
-        p.got += early.get(id) ?? 0;
-        early.delete(id);
-        if (p.got === CLIENTS) p.done();
-      });
-    });
-  }
-  return times;
-}
-
-/** Keeps IN_FLIGHT sends outstanding for SUSTAIN_MS; returns the delivered rate and the loss check. */
-async function sustained(
-  rig: Rig,
-  offset: number,
-): Promise<{ rate: number; acked: number; lost: number; duplicates: number; outOfOrder: number }> {
-  const perClient = Array.from({ length: CLIENTS }, () => ({
-    ids: new Set<string>(),
-    dup: 0,
-    lastSeq: 0,
-    disorder: 0,
-  }));
-  let delivered = 0;
-  let lastDelivery = 0;
-  rig.onReceive((r, id, seq) => {
-    const c = perClient[r];
-    if (c.ids.has(id)) c.dup += 1;
-    else c.ids.add(id);
-    if (seq <= c.lastSeq) c.disorder += 1;
-    c.lastSeq = seq;
-    delivered += 1;
-    lastDelivery = performance.now();
-  });
-  const ackedIds: string[] = [];
-  const start = performance.now();
-  let sent = 0;
-  await new Promise<void>((resolve) => {
-    let inFlight = 0;
-    const pump = () => {
-      while (inFlight < IN_FLIGHT && performance.now() - start < SUSTAIN_MS) {
-        inFlight += 1;
-        rig.send(offset + sent++, (id) => {
-          inFlight -= 1;
-          ackedIds.push(id);
-          pump();
-        });
-      }
-      if (inFlight === 0) resolve();
-    };
-    pump();
-  });
-  await until(() => delivered >= ackedIds.length * CLIENTS, 30_000, "deliveries of the sustained run");
-  const elapsed = Math.max(lastDelivery, performance.now()) - start;
-  let lost = 0;
-  let duplicates = 0;
-  let outOfOrder = 0;
-  for (const c of perClient) {
-    for (const id of ackedIds) if (!c.ids.has(id)) lost += 1;
-    duplicates += c.dup;
-    outOfOrder += c.disorder;
-  }
-  return { rate: (ackedIds.length / elapsed) * 1000, acked: ackedIds.length, lost, duplicates, outOfOrder };
-}
-
 export default async function bench(): Promise<BenchResult[]> {
   const bare = await bareRig();
   await roundTrips(bare, WARMUP, 0);
@@ -244,7 +125,7 @@ export default async function bench(): Promise<BenchResult[]> {
   await bare.close();
   const bareSus = await (async () => {
     const r = await bareRig();
-    const out = await sustained(r, 0);
+    const out = await sustained(r);
     await r.close();
     return out;
   })();
@@ -255,7 +136,7 @@ export default async function bench(): Promise<BenchResult[]> {
   await live.close();
 
   const liveSusRig = await liveRig();
-  const liveSus = await sustained(liveSusRig, 0);
+  const liveSus = await sustained(liveSusRig);
   const stored = await liveSusRig.count();
   await liveSusRig.close();
 
