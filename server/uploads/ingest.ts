@@ -210,6 +210,16 @@ class PlainCheck {
   }
 }
 
+/**
+ * Destroys a file write stream and calls `then` once it has closed (at once if it already has). A
+ * stream destroyed while its open is still on the way opens, then closes: the file exists until then.
+ */
+export function afterClose(out: fs.WriteStream, then: () => void): void {
+  if (out.closed) return then();
+  out.once("close", then);
+  out.destroy();
+}
+
 /** Writes the plain bytes gzip-compressed to `file`; `done()` waits for the last byte on disk. */
 function compressTo(file: string) {
   const gz = zlib.createGzip({ level: ORIGINAL_GZIP_LEVEL });
@@ -231,9 +241,10 @@ function compressTo(file: string) {
       });
       return out.bytesWritten;
     },
-    destroy(): void {
+    /** resolves once the file is closed, so that removing it then leaves nothing */
+    destroy(): Promise<void> {
       gz.destroy();
-      out.destroy();
+      return new Promise<void>((r) => afterClose(out, r));
     },
   };
 }
@@ -287,7 +298,7 @@ async function readAndParse(job: IngestJob, gzip: boolean, compressedCopy: strin
     const copyBytes = copy ? await copy.done() : consumed();
     return { trace, plainBytes: check.plain, sha256: hash.digest("hex"), copyBytes };
   } catch (err) {
-    copy?.destroy();
+    await copy?.destroy();
     throw err;
   } finally {
     input.destroy();

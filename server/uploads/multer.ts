@@ -8,7 +8,7 @@ import multer, { MulterError, type StorageEngine } from "multer";
 import { HttpError, unsupported } from "../http/errors";
 import { holdFile } from "../services/storage";
 import { checkTextStart, detectImageType, IMAGE_SNIFF_BYTES, TEXT_SNIFF_BYTES, type ImageMime } from "./magic";
-import { isGzipStart, MAX_COMPRESSION_RATIO, RATIO_SLACK_BYTES } from "./ingest";
+import { afterClose, isGzipStart, MAX_COMPRESSION_RATIO, RATIO_SLACK_BYTES } from "./ingest";
 
 /** What an upload became: a temp file inside the data directory, hashed while it was written. */
 export interface StoredUpload {
@@ -84,11 +84,14 @@ export class HashingDiskStorage implements StorageEngine {
       settled = true;
       stream.removeAllListeners("data");
       stream.resume(); // let busboy carry on past this part
-      out.destroy();
-      fs.rm(target, { force: true }, () => {
-        release();
-        cb(err as Error); // what was thrown or emitted, passed on as it is (multer hands it to the error handler)
-      });
+      // removed once the write stream has closed: its open may still be on the way, and a file
+      // removed before it would be created afterwards and left behind
+      afterClose(out, () =>
+        fs.rm(target, { force: true }, () => {
+          release();
+          cb(err as Error); // what was thrown or emitted, passed on as it is (multer hands it to the error handler)
+        }),
+      );
     };
     const runSniff = (): boolean => {
       sniffed = true;
