@@ -10,7 +10,7 @@ import { IMAGE_SNIFF_BYTES } from "../../../server/uploads/magic";
 
 /**
  * A refused upload leaves nothing behind (the brief: "clear errors with nothing half-saved";
- * docs/api.md, uploads: a refused body is not stored), also when the disk is slow. Node opens a
+ * docs/api.md, uploads: "a refused upload is removed"), also when the disk is slow. Node opens a
  * write stream's file asynchronously, and a stream destroyed before its open finishes still opens
  * (creating the file) and then closes (Node docs, fs.WriteStream and stream.destroy: 'close' comes
  * after the underlying resource is released). Here every open under the test's folder is held back
