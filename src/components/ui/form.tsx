@@ -81,6 +81,23 @@ export const TextField = forwardRef<HTMLInputElement, InputProps>(function TextF
   );
 });
 
+/** An e-mail address field: the e-mail keyboard on phones, no automatic capital. */
+export const EmailField = forwardRef<HTMLInputElement, Omit<InputProps, "type" | "label"> & { label?: ReactNode }>(
+  function EmailField({ label = "E-mail address", autoComplete = "email", ...rest }, ref) {
+    return (
+      <TextField
+        ref={ref}
+        label={label}
+        type="email"
+        autoComplete={autoComplete}
+        inputMode="email"
+        autoCapitalize="none"
+        {...rest}
+      />
+    );
+  },
+);
+
 /** A password input with a show/hide toggle (long passphrases are easier to type when visible). */
 export const PasswordField = forwardRef<HTMLInputElement, Omit<InputProps, "type">>(function PasswordField(
   { label, hint, error, id, ...rest },

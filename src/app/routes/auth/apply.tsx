@@ -12,7 +12,15 @@ import { applyServerErrors } from "../../../features/auth/lib/form-errors";
 import { PasswordStrength } from "../../../features/auth/components/password-strength";
 import { passwordHint } from "../../../features/auth/lib/password-hint";
 import { systemLabels } from "../../../features/auth/lib/labels";
-import { Notice, PasswordField, TextArea, TextField, buttonClass, inputClass } from "../../../components/ui/form";
+import {
+  Notice,
+  PasswordField,
+  TextArea,
+  TextField,
+  buttonClass,
+  inputClass,
+  EmailField,
+} from "../../../components/ui/form";
 
 type Values = z.input<typeof expertApplicationSchema>;
 
@@ -151,15 +159,7 @@ export function ApplyPage() {
       ) : null}
       <form onSubmit={submit} noValidate className="mt-4 grid gap-4 sm:grid-cols-2">
         <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
-        <TextField
-          label="E-mail address"
-          type="email"
-          autoComplete="email"
-          inputMode="email"
-          autoCapitalize="none"
-          error={errors.email?.message}
-          {...form.register("email")}
-        />
+        <EmailField error={errors.email?.message} {...form.register("email")} />
         <div className="sm:col-span-2">
           <PasswordField
             label="Password"

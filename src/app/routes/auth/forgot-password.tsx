@@ -9,7 +9,7 @@ import { authPages } from "../../../features/auth/api/paths";
 import { AuthLayout } from "../../../features/auth/components/auth-layout";
 import { DevMailHint } from "../../../features/auth/components/dev-mail-hint";
 import { applyServerErrors } from "../../../features/auth/lib/form-errors";
-import { Notice, TextField, buttonClass } from "../../../components/ui/form";
+import { Notice, buttonClass, EmailField } from "../../../components/ui/form";
 
 type Values = z.input<typeof requestPasswordResetSchema>;
 
@@ -48,15 +48,7 @@ export function ForgotPasswordPage() {
             </Notice>
           ) : null}
           <form onSubmit={submit} noValidate className="mt-4 space-y-4">
-            <TextField
-              label="E-mail address"
-              type="email"
-              autoComplete="email"
-              inputMode="email"
-              autoCapitalize="none"
-              error={form.formState.errors.email?.message}
-              {...form.register("email")}
-            />
+            <EmailField error={form.formState.errors.email?.message} {...form.register("email")} />
             <button type="submit" className={`${buttonClass.primary} w-full`} disabled={request.isPending}>
               {request.isPending ? "Sending…" : "Send the reset link"}
             </button>

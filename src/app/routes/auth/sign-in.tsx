@@ -11,7 +11,7 @@ import { AuthLayout } from "../../../features/auth/components/auth-layout";
 import { DemoSignIns } from "../../../features/auth/components/demo-sign-ins";
 import { DevMailHint } from "../../../features/auth/components/dev-mail-hint";
 import { applyServerErrors } from "../../../features/auth/lib/form-errors";
-import { Notice, PasswordField, TextField, buttonClass } from "../../../components/ui/form";
+import { Notice, PasswordField, buttonClass, EmailField } from "../../../components/ui/form";
 
 type Values = z.input<typeof signInSchema>;
 
@@ -69,15 +69,7 @@ export function SignInPage() {
         ) : null}
       </div>
       <form onSubmit={submit} noValidate className="mt-4 space-y-4">
-        <TextField
-          label="E-mail address"
-          type="email"
-          autoComplete="email"
-          inputMode="email"
-          autoCapitalize="none"
-          error={errors.email?.message}
-          {...form.register("email")}
-        />
+        <EmailField error={errors.email?.message} {...form.register("email")} />
         <PasswordField
           label="Password"
           autoComplete="current-password"

@@ -11,7 +11,7 @@ import { authPages } from "../../../features/auth/api/paths";
 import { AuthLayout } from "../../../features/auth/components/auth-layout";
 import { LinkSent } from "../../../features/auth/components/link-sent";
 import { applyServerErrors } from "../../../features/auth/lib/form-errors";
-import { Notice, PasswordField, TextField, buttonClass } from "../../../components/ui/form";
+import { Notice, PasswordField, TextField, buttonClass, EmailField } from "../../../components/ui/form";
 
 type Values = z.input<typeof shopSignUpSchema>;
 
@@ -65,15 +65,7 @@ export function SignUpPage() {
           {...form.register("shopName")}
         />
         <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
-        <TextField
-          label="E-mail address"
-          type="email"
-          autoComplete="email"
-          inputMode="email"
-          autoCapitalize="none"
-          error={errors.email?.message}
-          {...form.register("email")}
-        />
+        <EmailField error={errors.email?.message} {...form.register("email")} />
         <PasswordField
           label="Password"
           autoComplete="new-password"

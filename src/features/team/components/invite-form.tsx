@@ -4,7 +4,7 @@ import { zodResolver } from "@hookform/resolvers/zod";
 import type { z } from "zod";
 import { inviteTechnicianSchema } from "../../../../shared/schemas/auth";
 import { ApiError } from "../../../lib/api-client";
-import { Notice, TextField, buttonClass } from "../../../components/ui/form";
+import { Notice, TextField, buttonClass, EmailField } from "../../../components/ui/form";
 import { useInviteTechnician } from "../api/invite-technician";
 
 type Values = z.input<typeof inviteTechnicianSchema>;
@@ -48,12 +48,9 @@ export function InviteForm({ shopId }: { shopId: string }) {
         </Notice>
       ) : null}
       <div className="grid gap-3 md:grid-cols-[1fr_1fr_auto] md:items-start">
-        <TextField
+        <EmailField
           label="Technician's e-mail"
-          type="email"
           autoComplete="off"
-          inputMode="email"
-          autoCapitalize="none"
           error={errors.email?.message}
           {...form.register("email")}
         />
