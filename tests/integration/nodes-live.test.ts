@@ -170,12 +170,18 @@ describe.skipIf(!!missing)("live review on two nodes", { timeout: 120_000 }, () 
     expect(first.presence.participants.map((p) => p.userId)).toEqual([team.technicians[0].id]);
     const updates: PresencePayload[] = [];
     a.on("presence", (p) => updates.push(p));
+    // if the update never comes, the failure says whether node 1 dropped the socket or stayed silent
+    const dropped: string[] = [];
+    a.on("disconnect", (reason) => dropped.push(reason));
     const second = await join(b, c.caseId);
     const ids = (p: PresencePayload) => p.participants.map((x) => x.userId).sort();
     const both = [team.technicians[0].id, expertId].sort();
     expect(ids(second.presence)).toEqual(both);
     const heard = () => updates.some((p) => ids(p).join() === both.join());
-    await until(heard, SLOW_MS, "node 1 hears of the expert on node 2");
+    await until(heard, SLOW_MS, "node 1 hears of the expert on node 2").catch((err: Error) => {
+      const seen = updates.map((p) => ids(p).join("+")).join(" | ") || "none";
+      throw new Error(`${err.message} (presence updates seen: ${seen}; disconnects: ${dropped.join(", ") || "none"})`);
+    });
     // a second socket of the same person on the other node: still two people, three connections
     const a2 = await socketOn(1, tech);
     await join(a2, c.caseId);
